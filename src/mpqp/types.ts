@@ -1,0 +1,106 @@
+/**
+ * The condensed multi-parametric QP, built once from a problem file:
+ *
+ *   J(z, θ) = ½ zᵀ H z + zᵀ F θ + ½ θᵀ Y θ   (Y makes J equal the MPC cost exactly)
+ *   subject to  G z ≤ w + E θ,   θ ∈ box
+ *
+ * z stacks the free moves u(0)…u(Nu−1) (m entries each, u(0) first); θ = [x(0); u_prev].
+ * Matrices are dense row-major Float64Array. Constraint rows are scaled so that the row
+ * [G_i, −E_i] has unit Euclidean norm (labels keep the physical meaning), and rows that are
+ * positive multiples of another row of [G −E w] are merged into one (see `mergedFrom`).
+ */
+export interface MpqpProblem {
+  nz: number; // number of decision variables (Nu·m)
+  ntheta: number; // number of parameters
+  nu: number; // inputs per move (m): u(0) = z[0..nu)
+  nc: number; // number of constraint rows after merging
+  H: Float64Array; // nz×nz, symmetric positive definite
+  F: Float64Array; // nz×ntheta
+  Y: Float64Array; // ntheta×ntheta, symmetric
+  G: Float64Array; // nc×nz
+  w: Float64Array; // nc
+  E: Float64Array; // nc×ntheta
+  box: { lower: Float64Array; upper: Float64Array }; // ntheta each
+  /** human meaning of each row, e.g. "u1(k=0) ≤ 1", "x2(k=3) ≥ −2"; merged rows joined by " = " */
+  labels: string[];
+  /** for each row, the indices of the original (unmerged) rows it stands for */
+  mergedFrom: number[][];
+  thetaNames: string[];
+  inputNames: string[];
+}
+
+/** An affine map θ ↦ F θ + g with F rows×ntheta (row-major nested arrays, for JSON). */
+export interface AffineMap {
+  F: number[][];
+  g: number[];
+}
+
+/** A quadratic θ ↦ θᵀ Q θ + qᵀ θ + r. */
+export interface QuadraticForm {
+  Q: number[][];
+  q: number[];
+  r: number;
+}
+
+/** A critical region: polyhedron {θ : A θ ≤ b} with a single optimal active set. */
+export interface CriticalRegion {
+  id: number;
+  /** indices into the mpQP constraint rows, ascending; linearly independent (LICQ holds) */
+  activeSet: number[];
+  /** non-redundant half-spaces, each row of A with unit norm; box facets included when they bound */
+  A: number[][];
+  b: number[];
+  /** for each half-space row: where it comes from */
+  facets: FacetInfo[];
+  chebyshev: { center: number[]; radius: number };
+  /** u(0) = law.F θ + law.g  (nu rows) */
+  law: AffineMap;
+  /** all free moves z = moves.F θ + moves.g  (nz rows) */
+  moves: AffineMap;
+  /** optimal cost J*(θ) on this region */
+  value: QuadraticForm;
+}
+
+export interface FacetInfo {
+  /** 'primal': constraint row `row` would be violated beyond; 'dual': multiplier of `row` turns negative; 'box': parameter bound */
+  kind: 'primal' | 'dual' | 'box';
+  /** constraint row (primal/dual) or parameter index (box) */
+  row: number;
+  /** ids of regions across this facet (filled by the exploration; empty when the far side is infeasible or outside the box) */
+  neighbours: number[];
+}
+
+export interface SolveOptions {
+  /** stop after this many regions (table marked incomplete) */
+  maxRegions?: number;
+  /** stop after this many seconds (table marked incomplete) */
+  timeLimit?: number;
+  /** LP engine for the hot path: the typed-array kernel (default) or the javascript-lp-solver reference */
+  lp?: 'kernel' | 'reference';
+  /** progress callback, called at most every ~100 ms */
+  onProgress?: (p: Progress) => void;
+  /** cooperative cancellation (Ctrl-C): checked between candidates */
+  shouldStop?: () => boolean;
+}
+
+export interface Progress {
+  candidates: number;
+  regions: number;
+  lps: number;
+  elapsedSeconds: number;
+}
+
+export interface PartitionStats {
+  regions: number;
+  candidates: number; // active sets / seed points examined
+  lps: number; // LPs solved
+  qps: number; // point QPs solved
+  complete: boolean;
+  /** why the exploration stopped: 'done' | 'max-regions' | 'time-limit' | 'interrupted' */
+  stopReason: 'done' | 'max-regions' | 'time-limit' | 'interrupted';
+}
+
+export interface Partition {
+  regions: CriticalRegion[];
+  stats: PartitionStats;
+}

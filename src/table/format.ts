@@ -1,0 +1,33 @@
+import type { CriticalRegion, PartitionStats } from '../mpqp/types.js';
+
+/** Tag and version of the table file; bump the version on any change of meaning. */
+export const TABLE_FORMAT = 'tessera-table';
+export const TABLE_VERSION = 1;
+
+/**
+ * The table file: deterministic JSON (same problem → byte-identical file). Run-dependent figures
+ * (seconds, host) are never stored here; they go to the printed summary.
+ */
+export interface TableFile {
+  format: typeof TABLE_FORMAT;
+  version: number;
+  /** problem name from the problem file (or the file's base name) */
+  name: string;
+  /** the problem as read (parsed JSON/YAML object, echoed verbatim) */
+  problem: unknown;
+  /** "sha256:<hex>" of the canonical JSON of `problem` */
+  problemHash: string;
+  thetaNames: string[];
+  inputNames: string[];
+  /** parameter box the partition covers */
+  box: { lower: number[]; upper: number[] };
+  /** nominal input limits (null = unbounded), for generated code and plots */
+  inputLimits: { lower: (number | null)[]; upper: (number | null)[] };
+  /** meaning of each mpQP constraint row that an active set refers to */
+  constraints: string[];
+  /** the mpQP dimensions */
+  dims: { ntheta: number; nu: number; nz: number; nc: number };
+  tolerances: Record<string, number>;
+  regions: CriticalRegion[];
+  stats: PartitionStats;
+}

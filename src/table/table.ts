@@ -1,0 +1,102 @@
+import { readFileSync } from 'node:fs';
+import { InputError } from '../io/errors.js';
+import { writeFileAtomic } from '../io/atomic.js';
+import { tol } from '../tol.js';
+import type { CriticalRegion } from '../mpqp/types.js';
+import { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './format.js';
+
+/** Serialise a table deterministically: fixed key order (as built), no run-dependent fields. */
+export function tableToJson(table: TableFile): string {
+  return JSON.stringify(table, null, 1) + '\n';
+}
+
+export function writeTableFile(path: string, table: TableFile): void {
+  writeFileAtomic(path, tableToJson(table));
+}
+
+/** Read and check a table file; every failure is an InputError naming the file and key. */
+export function readTableFile(path: string): TableFile {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    throw new InputError(path, '', `cannot read table file (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
+  }
+  let raw: unknown;
+  try {
+    raw = JSON.parse(text);
+  } catch (e) {
+    throw new InputError(path, '', `not valid JSON (${(e as Error).message})`);
+  }
+  return checkTable(raw, path);
+}
+
+/** Validate the structure of a parsed table object (dimensions of every region). */
+export function checkTable(raw: unknown, file: string): TableFile {
+  if (typeof raw !== 'object' || raw === null) throw new InputError(file, '', 'a table file must be a JSON object');
+  const t = raw as Record<string, unknown>;
+  if (t.format !== TABLE_FORMAT) throw new InputError(file, 'format', `expected "${TABLE_FORMAT}", got ${JSON.stringify(t.format)}`);
+  if (t.version !== TABLE_VERSION) throw new InputError(file, 'version', `unsupported table version ${JSON.stringify(t.version)} (this build reads ${TABLE_VERSION})`);
+  const dims = t.dims as TableFile['dims'] | undefined;
+  if (!dims || !Number.isInteger(dims.ntheta) || !Number.isInteger(dims.nu)) throw new InputError(file, 'dims', 'missing or malformed dimensions');
+  if (!Array.isArray(t.regions)) throw new InputError(file, 'regions', 'must be an array');
+  const nt = dims.ntheta;
+  const nu = dims.nu;
+  (t.regions as unknown[]).forEach((r, i) => {
+    const key = `regions[${i}]`;
+    const reg = r as CriticalRegion;
+    if (!reg || !Array.isArray(reg.A) || !Array.isArray(reg.b) || reg.A.length !== reg.b.length)
+      throw new InputError(file, key, 'half-spaces A, b missing or of different lengths');
+    reg.A.forEach((row, j) => {
+      if (!Array.isArray(row) || row.length !== nt) throw new InputError(file, `${key}.A[${j}]`, `must have ${nt} entries`);
+    });
+    if (!reg.law || !Array.isArray(reg.law.F) || reg.law.F.length !== nu || !Array.isArray(reg.law.g) || reg.law.g.length !== nu)
+      throw new InputError(file, `${key}.law`, `must map ${nt} parameters to ${nu} inputs`);
+    reg.law.F.forEach((row, j) => {
+      if (!Array.isArray(row) || row.length !== nt) throw new InputError(file, `${key}.law.F[${j}]`, `must have ${nt} entries`);
+    });
+  });
+  return raw as TableFile;
+}
+
+/** True when θ satisfies every half-space of the region within `slack`. */
+export function regionContains(region: Pick<CriticalRegion, 'A' | 'b'>, theta: ArrayLike<number>, slack: number = tol.inside): boolean {
+  const { A, b } = region;
+  for (let i = 0; i < A.length; i++) {
+    const row = A[i];
+    let s = 0;
+    for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
+    if (s > b[i] + slack) return false;
+  }
+  return true;
+}
+
+/** Evaluate an affine map at θ. */
+export function applyAffine(map: { F: number[][]; g: number[] }, theta: ArrayLike<number>): number[] {
+  return map.F.map((row, i) => {
+    let s = map.g[i];
+    for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
+    return s;
+  });
+}
+
+/**
+ * Sequential point location: index of the first region that holds θ, or −1 when none does
+ * (outside the box, infeasible, or a hole). On shared facets the lowest index wins; the law is
+ * continuous there, so the value of u(0) does not depend on that choice.
+ */
+export function locateSequential(regions: CriticalRegion[], theta: ArrayLike<number>, slack: number = tol.inside): number {
+  for (let i = 0; i < regions.length; i++) if (regionContains(regions[i], theta, slack)) return i;
+  return -1;
+}
+
+export interface Evaluation {
+  region: number; // index into table.regions, −1 when none holds θ
+  u: number[] | null; // u(0), null when region = −1
+}
+
+export function evaluateTable(table: TableFile, theta: ArrayLike<number>): Evaluation {
+  if (theta.length !== table.dims.ntheta) throw new Error(`θ has ${theta.length} entries, the table expects ${table.dims.ntheta}`);
+  const region = locateSequential(table.regions, theta);
+  return { region, u: region < 0 ? null : applyAffine(table.regions[region].law, theta) };
+}

@@ -85,7 +85,8 @@ export class Checker {
   integer(v: unknown, key: string, min: number, max: number, what: string): number {
     const x = this.number(v, key);
     if (!Number.isInteger(x)) this.fail(key, `expected an integer (${what}), got ${x}`);
-    if (x < min || x > max) this.fail(key, `${what} must satisfy ${min} ≤ value ≤ ${max}, got ${x}`);
+    if (x < min || x > max)
+      this.fail(key, `${what} must satisfy ${max === Infinity ? `value ≥ ${min}` : `${min} ≤ value ≤ ${max}`}, got ${x}`);
     return x;
   }
 

@@ -65,7 +65,8 @@ function parseJson(text: string, file: string): unknown {
       }
       pos = lo - 1;
     }
-    const what = msg.split(/, "|\n/)[0].replace(/ in JSON at position \d+.*$/, '');
+    const tok = /^Unexpected token '(.*?)', /.exec(msg);
+    const what = tok ? `unexpected token '${tok[1]}'` : msg.split('\n')[0].replace(/ in JSON at position \d+.*$/, '');
     throw new InputError(file, '(file)', `invalid JSON at ${lineColumn(text, pos)}: ${what}`);
   }
 }
@@ -125,7 +126,7 @@ export function parseProblem(raw: unknown, file: string): LoadedProblem {
   } else if (timeDomain === 'continuous')
     c.fail('plant.sampleTime', 'missing required key: a continuous-time plant needs sampleTime > 0 (seconds) for the zero-order hold');
 
-  const N = c.integer(top.horizon, 'horizon', 1, Number.MAX_SAFE_INTEGER, 'prediction horizon N');
+  const N = c.integer(top.horizon, 'horizon', 1, Infinity, 'prediction horizon N');
   const Nu = top.controlHorizon === undefined ? N : c.integer(top.controlHorizon, 'controlHorizon', 1, N, 'control horizon Nu (1 ≤ Nu ≤ horizon)');
 
   const hasState = weights.state !== undefined;

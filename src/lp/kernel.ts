@@ -1,0 +1,237 @@
+import { tol } from '../tol.js';
+
+/**
+ * Dense LP kernel for the hot path: maximise cᵀx subject to A x ≤ b (A m×n row-major), by the
+ * primal active-set (simplex-like) method started from a feasible point. Steps follow the
+ * projection of c on the null space of the working rows; Bland's smallest-index rule breaks ties
+ * in both the entering and the leaving choice, which prevents cycling at degenerate vertices.
+ * Checked against javascript-lp-solver in test/lp.
+ */
+export type LpStatus = 'optimal' | 'infeasible' | 'unbounded' | 'iteration-limit';
+export interface LpResult {
+  status: LpStatus;
+  x: Float64Array;
+  value: number;
+  iterations: number;
+}
+
+/** Counts kernel calls (for the statistics in the table and the benchmark). */
+export const lpCounter = { calls: 0 };
+
+/**
+ * Maximise from a feasible start x0 (A x0 ≤ b + tol.primal). The caller guarantees
+ * feasibility of x0; `infeasible` is never returned by this entry.
+ */
+export function lpMaximizeFrom(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, x0: Float64Array): LpResult {
+  lpCounter.calls++;
+  const x = Float64Array.from(x0);
+  const work: number[] = []; // working rows, linearly independent
+  const inWork = new Uint8Array(m);
+  const rowNorm = new Float64Array(m);
+  for (let i = 0; i < m; i++) {
+    let s = 0;
+    for (let j = 0; j < n; j++) s += A[i * n + j] * A[i * n + j];
+    rowNorm[i] = Math.sqrt(s);
+  }
+  let cNorm = 0;
+  for (let j = 0; j < n; j++) cNorm += c[j] * c[j];
+  cNorm = Math.sqrt(cNorm);
+  const d = new Float64Array(n);
+  const maxIter = 20 * (m + n) + 50;
+  const eps = tol.lpPivot;
+  let it = 0;
+  for (; it < maxIter; it++) {
+    // multipliers μ of c on the working rows (least squares) and the projected direction d = c − A_Wᵀμ
+    const k = work.length;
+    const mu = projectOnRows(A, n, work, c, d);
+    let dn = 0;
+    for (let j = 0; j < n; j++) dn += d[j] * d[j];
+    dn = Math.sqrt(dn);
+    if (k < n && dn > eps * (1 + cNorm)) {
+      // ratio test along d
+      let tBest = Infinity;
+      let iBest = -1;
+      for (let i = 0; i < m; i++) {
+        if (inWork[i] || rowNorm[i] === 0) continue;
+        let ad = 0;
+        let ax = 0;
+        for (let j = 0; j < n; j++) {
+          ad += A[i * n + j] * d[j];
+          ax += A[i * n + j] * x[j];
+        }
+        if (ad <= eps * rowNorm[i] * dn) continue;
+        const t = Math.max(0, (b[i] - ax) / ad);
+        if (iBest < 0 || t < tBest - 1e-15 * (1 + tBest)) {
+          tBest = t;
+          iBest = i;
+        }
+      }
+      if (iBest < 0) return { status: 'unbounded', x, value: dot(c, x, n), iterations: it };
+      for (let j = 0; j < n; j++) x[j] += tBest * d[j];
+      work.push(iBest);
+      inWork[iBest] = 1;
+      continue;
+    }
+    // c lies in the span of the working rows: optimal when every multiplier is ≥ 0
+    let leave = -1;
+    let leaveRow = Infinity;
+    for (let p = 0; p < k; p++) {
+      if (mu[p] < -eps * (1 + cNorm) && work[p] < leaveRow) {
+        leaveRow = work[p];
+        leave = p;
+      }
+    }
+    if (leave < 0) return { status: 'optimal', x, value: dot(c, x, n), iterations: it };
+    inWork[work[leave]] = 0;
+    work.splice(leave, 1);
+  }
+  return { status: 'iteration-limit', x, value: dot(c, x, n), iterations: it };
+}
+
+/**
+ * Maximise cᵀx s.t. A x ≤ b with no known start: phase 1 maximises a common slack s
+ * (A x + s·1 ≤ b, s ≤ 1) from x = start (default 0); infeasible when the best s < −tol.primal.
+ */
+export function lpMaximize(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, start?: Float64Array): LpResult {
+  const x0 = start ? Float64Array.from(start) : new Float64Array(n);
+  let feasible = true;
+  for (let i = 0; i < m && feasible; i++) {
+    let s = 0;
+    for (let j = 0; j < n; j++) s += A[i * n + j] * x0[j];
+    if (s > b[i] + tol.primal) feasible = false;
+  }
+  if (!feasible) {
+    const p1 = findFeasiblePoint(A, b, m, n, x0);
+    if (!p1) return { status: 'infeasible', x: x0, value: NaN, iterations: 0 };
+    return lpMaximizeFrom(c, A, b, m, n, p1);
+  }
+  return lpMaximizeFrom(c, A, b, m, n, x0);
+}
+
+/** Phase 1: a point with A x ≤ b (+tol.primal), or null when none exists. */
+export function findFeasiblePoint(A: Float64Array, b: Float64Array, m: number, n: number, start?: Float64Array): Float64Array | null {
+  const n1 = n + 1;
+  const A1 = new Float64Array((m + 1) * n1);
+  const b1 = new Float64Array(m + 1);
+  const x0 = new Float64Array(n1);
+  if (start) x0.set(start);
+  let sMin = 1;
+  for (let i = 0; i < m; i++) {
+    let rowN = 0;
+    let ax = 0;
+    for (let j = 0; j < n; j++) {
+      A1[i * n1 + j] = A[i * n + j];
+      rowN += A[i * n + j] * A[i * n + j];
+      ax += A[i * n + j] * x0[j];
+    }
+    // scale the slack by the row norm so s reads as a distance
+    A1[i * n1 + n] = Math.sqrt(rowN) || 1;
+    b1[i] = b[i];
+    sMin = Math.min(sMin, (b[i] - ax) / A1[i * n1 + n]);
+  }
+  A1[m * n1 + n] = 1;
+  b1[m] = 1;
+  x0[n] = sMin - 1;
+  const c1 = new Float64Array(n1);
+  c1[n] = 1;
+  const r = lpMaximizeFrom(c1, A1, b1, m + 1, n1, x0);
+  if (r.status === 'iteration-limit' || r.x[n] < -tol.primal) return null;
+  return r.x.slice(0, n);
+}
+
+export interface ChebyshevBall {
+  center: Float64Array;
+  radius: number;
+}
+
+/**
+ * Chebyshev ball of {x : A x ≤ b}: max r s.t. a_i x + ‖a_i‖ r ≤ b_i, r ≤ rCap. Starts from
+ * `start` (any point; r is set low enough to be feasible). Radius ≤ 0 means empty or flat.
+ */
+export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: number, start: Float64Array, rCap: number): ChebyshevBall {
+  const n1 = n + 1;
+  const A1 = new Float64Array((m + 1) * n1);
+  const b1 = new Float64Array(m + 1);
+  const x0 = new Float64Array(n1);
+  x0.set(start.subarray(0, n));
+  let rMin = rCap;
+  for (let i = 0; i < m; i++) {
+    let rowN = 0;
+    let ax = 0;
+    for (let j = 0; j < n; j++) {
+      A1[i * n1 + j] = A[i * n + j];
+      rowN += A[i * n + j] * A[i * n + j];
+      ax += A[i * n + j] * x0[j];
+    }
+    rowN = Math.sqrt(rowN);
+    A1[i * n1 + n] = rowN;
+    b1[i] = b[i];
+    if (rowN > 0) rMin = Math.min(rMin, (b[i] - ax) / rowN);
+    else if (b[i] < -tol.primal) return { center: Float64Array.from(start), radius: -Infinity };
+  }
+  A1[m * n1 + n] = 1;
+  b1[m] = rCap;
+  x0[n] = rMin - Math.abs(rMin) * 1e-12 - 1e-300;
+  const c1 = new Float64Array(n1);
+  c1[n] = 1;
+  const r = lpMaximizeFrom(c1, A1, b1, m + 1, n1, x0);
+  return { center: r.x.slice(0, n), radius: r.status === 'optimal' ? r.x[n] : -Infinity };
+}
+
+function dot(a: ArrayLike<number>, b: ArrayLike<number>, n: number): number {
+  let s = 0;
+  for (let j = 0; j < n; j++) s += a[j] * b[j];
+  return s;
+}
+
+/**
+ * Least-squares multipliers μ with c ≈ A_Wᵀ μ (normal equations, W small and independent) and the
+ * residual direction d = c − A_Wᵀ μ written into `d`.
+ */
+function projectOnRows(A: Float64Array, n: number, work: number[], c: Float64Array, d: Float64Array): Float64Array {
+  const k = work.length;
+  const mu = new Float64Array(k);
+  if (k > 0) {
+    const g = new Float64Array(k * k);
+    for (let p = 0; p < k; p++)
+      for (let q = 0; q <= p; q++) {
+        let s = 0;
+        for (let j = 0; j < n; j++) s += A[work[p] * n + j] * A[work[q] * n + j];
+        g[p * k + q] = s;
+        g[q * k + p] = s;
+      }
+    for (let p = 0; p < k; p++) {
+      let s = 0;
+      for (let j = 0; j < n; j++) s += A[work[p] * n + j] * c[j];
+      mu[p] = s;
+    }
+    // Cholesky solve of the Gram matrix (rows are independent by construction)
+    for (let j = 0; j < k; j++) {
+      let dd = g[j * k + j];
+      for (let q = 0; q < j; q++) dd -= g[j * k + q] * g[j * k + q];
+      const ljj = Math.sqrt(Math.max(dd, 1e-300));
+      g[j * k + j] = ljj;
+      for (let i = j + 1; i < k; i++) {
+        let s = g[i * k + j];
+        for (let q = 0; q < j; q++) s -= g[i * k + q] * g[j * k + q];
+        g[i * k + j] = s / ljj;
+      }
+    }
+    for (let i = 0; i < k; i++) {
+      let s = mu[i];
+      for (let q = 0; q < i; q++) s -= g[i * k + q] * mu[q];
+      mu[i] = s / g[i * k + i];
+    }
+    for (let i = k - 1; i >= 0; i--) {
+      let s = mu[i];
+      for (let q = i + 1; q < k; q++) s -= g[q * k + i] * mu[q];
+      mu[i] = s / g[i * k + i];
+    }
+  }
+  for (let j = 0; j < n; j++) {
+    let s = c[j];
+    for (let p = 0; p < k; p++) s -= A[work[p] * n + j] * mu[p];
+    d[j] = s;
+  }
+  return mu;
+}

@@ -1,0 +1,184 @@
+import type { MpqpProblem } from './types.js';
+import { spdInverse, matMul, transpose } from '../linalg/dense.js';
+import { tol } from '../tol.js';
+
+/**
+ * θ-independent data of the mpQP, computed once: H⁻¹, K = H⁻¹Gᵀ, M = G H⁻¹ Gᵀ,
+ * H⁻¹F and S = E + G H⁻¹ F. Both the point QP and the critical-region builder work on these.
+ */
+export interface QpWorkspace {
+  problem: MpqpProblem;
+  Hinv: Float64Array; // nz×nz
+  K: Float64Array; // nz×nc
+  M: Float64Array; // nc×nc
+  HinvF: Float64Array; // nz×nt
+  S: Float64Array; // nc×nt
+}
+
+const workspaces = new WeakMap<MpqpProblem, QpWorkspace>();
+
+export function qpWorkspace(problem: MpqpProblem): QpWorkspace {
+  const hit = workspaces.get(problem);
+  if (hit) return hit;
+  const { nz, nc, ntheta: nt } = problem;
+  const Hinv = spdInverse(problem.H, nz, tol.pd);
+  if (!Hinv) throw new Error('the condensed Hessian H is not positive definite');
+  const Gt = transpose(problem.G, nc, nz);
+  const K = matMul(Hinv, Gt, nz, nz, nc);
+  const M = matMul(problem.G, K, nc, nz, nc);
+  const HinvF = matMul(Hinv, problem.F, nz, nz, nt);
+  const GHF = matMul(problem.G, HinvF, nc, nz, nt);
+  const S = new Float64Array(nc * nt);
+  for (let i = 0; i < nc * nt; i++) S[i] = problem.E[i] + GHF[i];
+  const ws = { problem, Hinv, K, M, HinvF, S };
+  workspaces.set(problem, ws);
+  return ws;
+}
+
+export interface PointQpResult {
+  feasible: boolean;
+  z: Float64Array;
+  /** the final working set of the dual method: ascending, linearly independent rows */
+  activeSet: number[];
+  /** multipliers, one per constraint row (0 off the active set) */
+  lambda: Float64Array;
+  iterations: number;
+}
+
+/**
+ * Solve the QP at one θ by a dual active-set method in the manner of Goldfarb & Idnani (1983):
+ * start at the unconstrained minimiser, add the most violated row, take full or partial steps
+ * (dropping rows whose multiplier would turn negative), until no row is violated. The working
+ * set stays linearly independent, so the result satisfies LICQ. Each step solves the small
+ * system M_AA dλ = −M_Ap on the precomputed M = G H⁻¹ Gᵀ.
+ */
+export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>): PointQpResult {
+  const ws = qpWorkspace(problem);
+  const { nz, nc, ntheta: nt } = problem;
+  const { K, M, HinvF } = ws;
+  const z = new Float64Array(nz);
+  for (let i = 0; i < nz; i++) {
+    let s = 0;
+    for (let j = 0; j < nt; j++) s -= HinvF[i * nt + j] * theta[j];
+    z[i] = s;
+  }
+  // rhs_i = w_i + E_i θ
+  const rhs = new Float64Array(nc);
+  for (let i = 0; i < nc; i++) {
+    let s = problem.w[i];
+    for (let j = 0; j < nt; j++) s += problem.E[i * nt + j] * theta[j];
+    rhs[i] = s;
+  }
+  const lambda = new Float64Array(nc);
+  const active: number[] = [];
+  const isActive = new Uint8Array(nc);
+  const maxIter = 10 * (nc + nz) + 20;
+  const dlam = new Float64Array(nz + 1);
+  const dz = new Float64Array(nz);
+  const chol = new Float64Array((nz + 1) * (nz + 1));
+  let it = 0;
+  const slack = (i: number): number => {
+    let s = -rhs[i];
+    for (let j = 0; j < nz; j++) s += problem.G[i * nz + j] * z[j];
+    return s;
+  };
+  for (; it < maxIter; it++) {
+    // most violated row
+    let p = -1;
+    let worst: number = tol.primal;
+    for (let i = 0; i < nc; i++) {
+      if (isActive[i]) continue;
+      const s = slack(i);
+      if (s > worst) {
+        worst = s;
+        p = i;
+      }
+    }
+    if (p < 0) return { feasible: true, z, activeSet: [...active].sort((a, b) => a - b), lambda, iterations: it };
+    // inner loop: bring row p to equality
+    let guard = 0;
+    for (;;) {
+      if (++guard > maxIter) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+      const k = active.length;
+      // dλ solves M_AA dλ = −M_Ap
+      for (let a = 0; a < k; a++) {
+        for (let b = 0; b < k; b++) chol[a * k + b] = M[active[a] * nc + active[b]];
+        dlam[a] = -M[active[a] * nc + p];
+      }
+      if (k > 0 && !factorSolve(chol, k, dlam)) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+      // q = M_pp + M_pA dλ = −G_p dz (≥ 0)
+      let q = M[p * nc + p];
+      for (let a = 0; a < k; a++) q += M[p * nc + active[a]] * dlam[a];
+      for (let i = 0; i < nz; i++) {
+        let s = -K[i * nc + p];
+        for (let a = 0; a < k; a++) s -= K[i * nc + active[a]] * dlam[a];
+        dz[i] = s;
+      }
+      const dependent = q <= tol.rank * (1 + M[p * nc + p]);
+      // partial step: the first active multiplier to reach zero
+      let t2 = Infinity;
+      let drop = -1;
+      for (let a = 0; a < k; a++) {
+        if (dlam[a] < 0) {
+          const t = lambda[active[a]] / -dlam[a];
+          if (t < t2) {
+            t2 = t;
+            drop = a;
+          }
+        }
+      }
+      const sp = slack(p);
+      const t1 = dependent ? Infinity : sp / q;
+      if (!Number.isFinite(t1) && drop < 0) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+      const t = Math.min(t1, t2);
+      if (Number.isFinite(t1)) for (let i = 0; i < nz; i++) z[i] += t * dz[i];
+      for (let a = 0; a < k; a++) lambda[active[a]] += t * dlam[a];
+      lambda[p] += t;
+      if (t1 <= t2) {
+        active.push(p);
+        isActive[p] = 1;
+        break;
+      }
+      // drop the blocking row and go on with p
+      const r = active[drop];
+      lambda[r] = 0;
+      isActive[r] = 0;
+      active.splice(drop, 1);
+    }
+  }
+  return { feasible: false, z, activeSet: [], lambda, iterations: it };
+}
+
+export function isFeasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): boolean {
+  return solvePointQp(problem, theta).feasible;
+}
+
+/** Cholesky factor-and-solve of a k×k SPD block in place; false when it is singular. */
+function factorSolve(a: Float64Array, k: number, b: Float64Array): boolean {
+  let scale = 0;
+  for (let i = 0; i < k; i++) scale = Math.max(scale, a[i * k + i]);
+  const thr = tol.rank * (1 + scale);
+  for (let j = 0; j < k; j++) {
+    let d = a[j * k + j];
+    for (let q = 0; q < j; q++) d -= a[j * k + q] * a[j * k + q];
+    if (!(d > thr)) return false;
+    const l = Math.sqrt(d);
+    a[j * k + j] = l;
+    for (let i = j + 1; i < k; i++) {
+      let s = a[i * k + j];
+      for (let q = 0; q < j; q++) s -= a[i * k + q] * a[j * k + q];
+      a[i * k + j] = s / l;
+    }
+  }
+  for (let i = 0; i < k; i++) {
+    let s = b[i];
+    for (let q = 0; q < i; q++) s -= a[i * k + q] * b[q];
+    b[i] = s / a[i * k + i];
+  }
+  for (let i = k - 1; i >= 0; i--) {
+    let s = b[i];
+    for (let q = i + 1; q < k; q++) s -= a[q * k + i] * b[q];
+    b[i] = s / a[i * k + i];
+  }
+  return true;
+}

@@ -1,0 +1,216 @@
+import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
+import { qpWorkspace } from './pointqp.js';
+import { spdInverse } from '../linalg/dense.js';
+import { chebyshevBall, lpMaximizeFrom } from '../lp/kernel.js';
+import { lpMaximizeReference } from '../lp/reference.js';
+import { tol } from '../tol.js';
+
+export type RegionFailure = 'licq' | 'empty' | 'flat';
+export type RegionResult = { ok: true; region: Omit<CriticalRegion, 'id'> } | { ok: false; reason: RegionFailure };
+
+export interface LpEngine {
+  lps: number;
+  reference: boolean;
+}
+
+/**
+ * Critical region of one active set A (Bemporad, Morari, Dua & Pistikopoulos 2002):
+ * λ_A(θ) = −M_AA⁻¹ (w_A + S_A θ), z(θ) = −H⁻¹Fθ − K_A λ_A(θ); the region is where every
+ * row off A is primal feasible and every multiplier on A is ≥ 0, inside the box. Rows are then
+ * normalised, thinned (box-implied rows analytically, the rest by LP) and the Chebyshev ball found.
+ */
+export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEngine): RegionResult {
+  const ws = qpWorkspace(problem);
+  const { nz, nc, ntheta: nt, nu } = problem;
+  const { K, M, HinvF, S } = ws;
+  const k = activeSet.length;
+  const inA = new Uint8Array(nc);
+  for (const i of activeSet) inA[i] = 1;
+  // λ(θ) = Lθ θ + lc
+  const Lth = new Float64Array(k * nt);
+  const lc = new Float64Array(k);
+  if (k > 0) {
+    const MAA = new Float64Array(k * k);
+    for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) MAA[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
+    const inv = spdInverse(MAA, k, tol.rank);
+    if (!inv) return { ok: false, reason: 'licq' };
+    for (let a = 0; a < k; a++) {
+      for (let j = 0; j < nt; j++) {
+        let s = 0;
+        for (let b = 0; b < k; b++) s -= inv[a * k + b] * S[activeSet[b] * nt + j];
+        Lth[a * nt + j] = s;
+      }
+      let s = 0;
+      for (let b = 0; b < k; b++) s -= inv[a * k + b] * problem.w[activeSet[b]];
+      lc[a] = s;
+    }
+  }
+  // z(θ) = Zth θ + zc
+  const Zth = new Float64Array(nz * nt);
+  const zc = new Float64Array(nz);
+  for (let i = 0; i < nz; i++) {
+    for (let j = 0; j < nt; j++) {
+      let s = -HinvF[i * nt + j];
+      for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * Lth[a * nt + j];
+      Zth[i * nt + j] = s;
+    }
+    let s = 0;
+    for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * lc[a];
+    zc[i] = s;
+  }
+  // half-spaces
+  const rowsA: number[][] = [];
+  const rowsB: number[] = [];
+  const info: { kind: FacetInfo['kind']; row: number }[] = [];
+  const push = (a: number[], b: number, kind: FacetInfo['kind'], row: number): boolean => {
+    let n = 0;
+    for (const v of a) n += v * v;
+    n = Math.sqrt(n);
+    if (n <= 1e-12) return b >= -tol.primal; // constant row: fine or empty
+    rowsA.push(a.map((v) => v / n));
+    rowsB.push(b / n);
+    info.push({ kind, row });
+    return true;
+  };
+  const a = new Array<number>(nt);
+  for (let i = 0; i < nc; i++) {
+    if (inA[i]) continue;
+    // G_i z(θ) − w_i − E_i θ ≤ 0
+    for (let j = 0; j < nt; j++) {
+      let s = -problem.E[i * nt + j];
+      for (let q = 0; q < nz; q++) s += problem.G[i * nz + q] * Zth[q * nt + j];
+      a[j] = s;
+    }
+    let c = -problem.w[i];
+    for (let q = 0; q < nz; q++) c += problem.G[i * nz + q] * zc[q];
+    if (!push(a.slice(), -c, 'primal', i)) return { ok: false, reason: 'empty' };
+  }
+  for (let p = 0; p < k; p++) {
+    // −λ_p(θ) ≤ 0
+    for (let j = 0; j < nt; j++) a[j] = -Lth[p * nt + j];
+    if (!push(a.slice(), lc[p], 'dual', activeSet[p])) return { ok: false, reason: 'empty' };
+  }
+  const lo = problem.box.lower;
+  const up = problem.box.upper;
+  // drop rows implied by the box alone (no LP needed)
+  const keepA: number[][] = [];
+  const keepB: number[] = [];
+  const keepInfo: typeof info = [];
+  for (let r = 0; r < rowsA.length; r++) {
+    let mx = 0;
+    for (let j = 0; j < nt; j++) mx += Math.max(rowsA[r][j] * lo[j], rowsA[r][j] * up[j]);
+    if (mx <= rowsB[r] + tol.redundancy) continue;
+    keepA.push(rowsA[r]);
+    keepB.push(rowsB[r]);
+    keepInfo.push(info[r]);
+  }
+  for (let j = 0; j < nt; j++) {
+    const e = new Array<number>(nt).fill(0);
+    e[j] = 1;
+    keepA.push(e);
+    keepB.push(up[j]);
+    keepInfo.push({ kind: 'box', row: j });
+    const f = new Array<number>(nt).fill(0);
+    f[j] = -1;
+    keepA.push(f);
+    keepB.push(-lo[j]);
+    keepInfo.push({ kind: 'box', row: j });
+  }
+  const m = keepA.length;
+  const Af = new Float64Array(m * nt);
+  const bf = Float64Array.from(keepB);
+  keepA.forEach((row, r) => row.forEach((v, j) => (Af[r * nt + j] = v)));
+  const start = new Float64Array(nt);
+  let width = 0;
+  for (let j = 0; j < nt; j++) {
+    start[j] = 0.5 * (lo[j] + up[j]);
+    width = Math.max(width, up[j] - lo[j]);
+  }
+  lp.lps++;
+  const ball = chebyshevBall(Af, bf, m, nt, start, width);
+  if (!(ball.radius > tol.radius)) return { ok: false, reason: 'flat' };
+  // redundancy: row r is redundant when max a_r θ over the other kept rows ≤ b_r
+  const alive = new Uint8Array(m).fill(1);
+  const sub = new Float64Array(m * nt);
+  const subB = new Float64Array(m);
+  const c = new Float64Array(nt);
+  for (let r = 0; r < m; r++) {
+    let cnt = 0;
+    for (let q = 0; q < m; q++) {
+      if (q === r || !alive[q]) continue;
+      for (let j = 0; j < nt; j++) sub[cnt * nt + j] = Af[q * nt + j];
+      subB[cnt] = bf[q];
+      cnt++;
+    }
+    for (let j = 0; j < nt; j++) c[j] = Af[r * nt + j];
+    lp.lps++;
+    const res = lp.reference
+      ? lpMaximizeReference(c, sub, subB, cnt, nt)
+      : lpMaximizeFrom(c, sub.subarray(0, cnt * nt), subB.subarray(0, cnt), cnt, nt, ball.center);
+    if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
+  }
+  const A: number[][] = [];
+  const b: number[] = [];
+  const facets: FacetInfo[] = [];
+  for (let r = 0; r < m; r++) {
+    if (!alive[r]) continue;
+    A.push(keepA[r]);
+    b.push(keepB[r]);
+    facets.push({ kind: keepInfo[r].kind, row: keepInfo[r].row, neighbours: [] });
+  }
+  // affine law, moves and value function
+  const movesF: number[][] = [];
+  for (let i = 0; i < nz; i++) movesF.push(Array.from(Zth.subarray(i * nt, (i + 1) * nt)));
+  const movesG = Array.from(zc);
+  const value = valueFunction(problem, Zth, zc);
+  return {
+    ok: true,
+    region: {
+      activeSet: [...activeSet].sort((x, y) => x - y),
+      A,
+      b,
+      facets,
+      chebyshev: { center: Array.from(ball.center), radius: ball.radius },
+      law: { F: movesF.slice(0, nu), g: movesG.slice(0, nu) },
+      moves: { F: movesF, g: movesG },
+      value,
+    },
+  };
+}
+
+/** J*(θ) = ½zᵀHz + zᵀFθ + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */
+function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array): CriticalRegion['value'] {
+  const { nz, ntheta: nt, H, F, Y } = problem;
+  const HZ = new Float64Array(nz * nt);
+  for (let i = 0; i < nz; i++)
+    for (let j = 0; j < nt; j++) {
+      let s = 0;
+      for (let q = 0; q < nz; q++) s += H[i * nz + q] * Z[q * nt + j];
+      HZ[i * nt + j] = s;
+    }
+  const Q: number[][] = [];
+  for (let i = 0; i < nt; i++) {
+    const row: number[] = [];
+    for (let j = 0; j < nt; j++) {
+      let zhz = 0;
+      let zf = 0;
+      let fz = 0;
+      for (let q = 0; q < nz; q++) {
+        zhz += Z[q * nt + i] * HZ[q * nt + j];
+        zf += Z[q * nt + i] * F[q * nt + j];
+        fz += Z[q * nt + j] * F[q * nt + i];
+      }
+      row.push(0.5 * zhz + 0.5 * (zf + fz) + 0.5 * Y[i * nt + j]);
+    }
+    Q.push(row);
+  }
+  const q: number[] = [];
+  for (let j = 0; j < nt; j++) {
+    let s = 0;
+    for (let i = 0; i < nz; i++) s += zc[i] * (HZ[i * nt + j] + F[i * nt + j]);
+    q.push(s);
+  }
+  let r = 0;
+  for (let i = 0; i < nz; i++) for (let p = 0; p < nz; p++) r += 0.5 * zc[i] * H[i * nz + p] * zc[p];
+  return { Q, q, r };
+}

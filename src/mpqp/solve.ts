@@ -1,0 +1,329 @@
+import type { CriticalRegion, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
+import { solvePointQp } from './pointqp.js';
+import { buildRegion, type LpEngine } from './region.js';
+import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
+import { regionContains } from '../table/table.js';
+import { tol } from '../tol.js';
+
+/**
+ * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
+ * Bemporad 2003), with the optimal active set at each new point taken from a point QP (dual
+ * active-set method, LICQ-preserving working set) rather than guessed from the facet type.
+ *
+ * Completeness: every non-box facet of every region is covered exactly. Within the facet's
+ * hyperplane we keep the slices of the neighbours found so far and search the facet minus their
+ * union for an uncovered piece (polytope difference by reversed half-spaces); a piece's Chebyshev
+ * centre, stepped just across, seeds the next region. A facet whose far side is infeasible lies
+ * wholly on the boundary of the (convex) feasible parameter set. The adjacency graph of a
+ * partition of a convex set is connected, so this reaches every full-dimensional region.
+ */
+export function solvePartition(problem: MpqpProblem, options: SolveOptions = {}): Partition {
+  const t0 = performance.now();
+  const nt = problem.ntheta;
+  const lo = problem.box.lower;
+  const up = problem.box.upper;
+  let scale = 0;
+  for (let j = 0; j < nt; j++) scale = Math.max(scale, up[j] - lo[j]);
+  const step = Math.max(tol.facetStep * scale, 100 * tol.inside);
+  const minPiece = 10 * step;
+  const lp: LpEngine = { lps: 0, reference: options.lp === 'reference' };
+  const regions: CriticalRegion[] = [];
+  const byActiveSet = new Map<string, number>();
+  const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done' };
+  let rng = 0x2545f491;
+  const rand = (): number => {
+    rng ^= rng << 13;
+    rng ^= rng >>> 17;
+    rng ^= rng << 5;
+    return ((rng >>> 0) % 1_000_000) / 1_000_000;
+  };
+  let lastReport = 0;
+  const report = (force = false): void => {
+    if (!options.onProgress) return;
+    const now = performance.now();
+    if (!force && now - lastReport < 100) return;
+    lastReport = now;
+    options.onProgress({ candidates: stats.candidates, regions: regions.length, lps: lp.lps, elapsedSeconds: (now - t0) / 1000 });
+  };
+  const stopNow = (): boolean => {
+    if (options.maxRegions !== undefined && regions.length >= options.maxRegions) return mark('max-regions');
+    if (options.timeLimit !== undefined && (performance.now() - t0) / 1000 >= options.timeLimit) return mark('time-limit');
+    if (options.shouldStop?.()) return mark('interrupted');
+    return false;
+  };
+  const mark = (why: PartitionStats['stopReason']): boolean => {
+    stats.complete = false;
+    stats.stopReason = why;
+    return true;
+  };
+  const locate = (theta: ArrayLike<number>, slack: number): number => {
+    for (let i = regions.length - 1; i >= 0; i--) if (regionContains(regions[i], theta, slack)) return i;
+    return -1;
+  };
+  const inBox = (theta: ArrayLike<number>): boolean => {
+    for (let j = 0; j < nt; j++) if (theta[j] < lo[j] - tol.inside || theta[j] > up[j] + tol.inside) return false;
+    return true;
+  };
+
+  /** Region holding θ: an existing one, a new one, or −1 when θ is infeasible; −2 when no full-dimensional region could be built. */
+  const regionAt = (theta: Float64Array): number => {
+    const hit = locate(theta, tol.inside);
+    if (hit >= 0) return hit;
+    stats.candidates++;
+    stats.qps++;
+    const qp = solvePointQp(problem, theta);
+    if (!qp.feasible) return -1;
+    const key = qp.activeSet.join(',');
+    const known = byActiveSet.get(key);
+    if (known !== undefined) return known;
+    const res = buildRegion(problem, qp.activeSet, lp);
+    if (!res.ok) return -2;
+    // a copy of an existing region under another (degenerate) active set is not added twice
+    const dup = locate(res.region.chebyshev.center, -0.5 * res.region.chebyshev.radius);
+    if (dup >= 0) {
+      byActiveSet.set(key, dup);
+      return dup;
+    }
+    const id = regions.length;
+    regions.push({ id, ...res.region });
+    byActiveSet.set(key, id);
+    report();
+    return id;
+  };
+
+  // first region: the box centre if feasible, else the max-margin point of {(θ, z) : G z − E θ ≤ w, θ ∈ box}
+  const seed = firstSeed(problem, lp);
+  if (seed) {
+    let first = regionAt(seed);
+    for (let tries = 0; first === -2 && tries < 20; tries++) {
+      const p = Float64Array.from(seed);
+      for (let j = 0; j < nt; j++) p[j] = Math.min(up[j], Math.max(lo[j], p[j] + (rand() - 0.5) * 1e-3 * (up[j] - lo[j])));
+      first = regionAt(p);
+    }
+  }
+  // breadth-first over regions and their facets
+  for (let r = 0; r < regions.length; r++) {
+    if (stopNow()) break;
+    const R = regions[r];
+    for (let f = 0; f < R.facets.length; f++) {
+      if (R.facets[f].kind === 'box') continue;
+      exploreFacet(R, f);
+      if (stats.stopReason !== 'done') break;
+    }
+  }
+
+  function exploreFacet(R: CriticalRegion, f: number): void {
+    const facet = slicePolytope(R.A, R.b, R.A[f], R.b[f], f);
+    if (!facet) return;
+    const neighbours = R.facets[f].neighbours;
+    const slices: Slice[] = [];
+    for (let guard = 0; guard < 200; guard++) {
+      if (stopNow()) return;
+      const piece = uncoveredPoint(facet, slices, minPiece, lp);
+      if (!piece) return;
+      let landed = -2;
+      let stepNow = Math.min(step, 0.1 * piece.radius);
+      for (let attempt = 0; attempt < 6 && landed === -2; attempt++) {
+        const y = Float64Array.from(piece.point);
+        if (attempt > 0) {
+          // nudge inside the piece: a structured point may sit exactly where regions meet
+          for (let j = 0; j < y.length; j++) y[j] += (rand() - 0.5) * 0.5 * piece.radius;
+        }
+        const theta = facet.lift(y);
+        for (let j = 0; j < nt; j++) theta[j] += stepNow * R.A[f][j];
+        if (!inBox(theta)) break;
+        landed = regionAt(theta);
+        if (landed === -2) stepNow *= 3;
+      }
+      if (landed === -1) return; // far side infeasible: the facet lies on the feasibility boundary
+      if (landed < 0) {
+        slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece, counted below
+        stats.candidates++;
+        continue;
+      }
+      if (!neighbours.includes(landed)) neighbours.push(landed);
+      const s = facet.sliceOf(regions[landed]);
+      if (!s || containsY(s, piece.point) === false) {
+        // the region found does not reach the facet piece numerically: cover the piece's ball to make progress
+        slices.push(facet.ballSlice(piece.point, piece.radius));
+      } else slices.push(s);
+    }
+  }
+
+  stats.regions = regions.length;
+  stats.lps = lp.lps;
+  report(true);
+  return { regions, stats };
+}
+
+function firstSeed(problem: MpqpProblem, lp: LpEngine): Float64Array | null {
+  const { ntheta: nt, nz, nc } = problem;
+  const center = new Float64Array(nt);
+  for (let j = 0; j < nt; j++) center[j] = 0.5 * (problem.box.lower[j] + problem.box.upper[j]);
+  if (solvePointQp(problem, center).feasible) return center;
+  // rows over (θ, z): −E θ + G z ≤ w, and the box on θ
+  const n = nt + nz;
+  const m = nc + 2 * nt;
+  const A = new Float64Array(m * n);
+  const b = new Float64Array(m);
+  for (let i = 0; i < nc; i++) {
+    for (let j = 0; j < nt; j++) A[i * n + j] = -problem.E[i * nt + j];
+    for (let j = 0; j < nz; j++) A[i * n + nt + j] = problem.G[i * nz + j];
+    b[i] = problem.w[i];
+  }
+  for (let j = 0; j < nt; j++) {
+    A[(nc + 2 * j) * n + j] = 1;
+    b[nc + 2 * j] = problem.box.upper[j];
+    A[(nc + 2 * j + 1) * n + j] = -1;
+    b[nc + 2 * j + 1] = -problem.box.lower[j];
+  }
+  lp.lps++;
+  const start = new Float64Array(n);
+  start.set(center);
+  const p = findFeasiblePoint(A, b, m, n, start);
+  if (!p) return null;
+  const theta = p.slice(0, nt);
+  return solvePointQp(problem, theta).feasible ? theta : null;
+}
+
+/** A polytope {y : A y ≤ b} in the coordinates of a facet hyperplane. */
+interface Slice {
+  A: Float64Array;
+  b: Float64Array;
+  m: number;
+}
+
+interface FacetFrame extends Slice {
+  dim: number; // d − 1
+  lift: (y: ArrayLike<number>) => Float64Array;
+  sliceOf: (region: CriticalRegion) => Slice | null;
+  ballSlice: (y: ArrayLike<number>, r: number) => Slice;
+}
+
+/**
+ * Coordinates on the hyperplane a·θ = β: θ = a β + N y with N an orthonormal basis of a⊥
+ * (Gram–Schmidt on the unit vectors). In 1-D the hyperplane is a point and y is empty.
+ */
+function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number): FacetFrame | null {
+  const d = a.length;
+  const basis: number[][] = [];
+  for (let e = 0; e < d && basis.length < d - 1; e++) {
+    const v = new Array<number>(d).fill(0);
+    v[e] = 1;
+    for (const u of [a, ...basis]) {
+      let s = 0;
+      for (let j = 0; j < d; j++) s += u[j] * v[j];
+      for (let j = 0; j < d; j++) v[j] -= s * u[j];
+    }
+    let n = 0;
+    for (const x of v) n += x * x;
+    n = Math.sqrt(n);
+    if (n < 1e-8) continue;
+    basis.push(v.map((x) => x / n));
+  }
+  const dim = d - 1;
+  const origin = a.map((x) => x * beta);
+  const project = (rows: number[][], rhs: number[], skipRow: number): Slice | null => {
+    const outA: number[] = [];
+    const outB: number[] = [];
+    for (let i = 0; i < rows.length; i++) {
+      if (i === skipRow) continue;
+      const row = rows[i];
+      let r0 = rhs[i];
+      for (let j = 0; j < d; j++) r0 -= row[j] * origin[j];
+      const pr = new Array<number>(dim);
+      let n = 0;
+      for (let k = 0; k < dim; k++) {
+        let s = 0;
+        for (let j = 0; j < d; j++) s += row[j] * basis[k][j];
+        pr[k] = s;
+        n += s * s;
+      }
+      n = Math.sqrt(n);
+      if (n < 1e-9) {
+        if (r0 < -tol.inside * 10) return null; // this row excludes the whole hyperplane
+        continue;
+      }
+      outA.push(...pr.map((x) => x / n));
+      outB.push(r0 / n);
+    }
+    return { A: Float64Array.from(outA), b: Float64Array.from(outB), m: outB.length };
+  };
+  const own = project(A, b, skip);
+  if (!own) return null;
+  return {
+    ...own,
+    dim,
+    lift: (y) => {
+      const th = Float64Array.from(origin);
+      for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k][j] * y[k];
+      return th;
+    },
+    sliceOf: (region) => project(region.A, region.b, -1),
+    ballSlice: (y, r) => {
+      // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
+      const Ab = new Float64Array(2 * dim * dim);
+      const bb = new Float64Array(2 * dim);
+      const h = r / Math.sqrt(Math.max(dim, 1));
+      for (let k = 0; k < dim; k++) {
+        Ab[2 * k * dim + k] = 1;
+        bb[2 * k] = y[k] + h;
+        Ab[(2 * k + 1) * dim + k] = -1;
+        bb[2 * k + 1] = -(y[k] - h);
+      }
+      return { A: Ab, b: bb, m: 2 * dim };
+    },
+  };
+}
+
+function containsY(s: Slice, y: ArrayLike<number>): boolean {
+  const dim = s.m > 0 ? s.A.length / s.m : 0;
+  for (let i = 0; i < s.m; i++) {
+    let v = 0;
+    for (let k = 0; k < dim; k++) v += s.A[i * dim + k] * y[k];
+    if (v > s.b[i] + 1e3 * tol.inside) return false;
+  }
+  return true;
+}
+
+/**
+ * A point of `base` not covered by the union of `cover`, with the radius of the uncovered piece it
+ * is the Chebyshev centre of; null when every piece left is thinner than minRadius.
+ * base \ S = ∪_i (base ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}), applied recursively over the cover.
+ */
+function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine): { point: Float64Array; radius: number } | null {
+  const dim = base.dim;
+  if (dim === 0) {
+    // 1-D θ: the facet is a point, covered when any neighbour holds it
+    if (base.m > 0 && !containsY(base, [])) return null;
+    for (const s of cover) if (containsY(s, [])) return null;
+    return { point: new Float64Array(0), radius: Infinity };
+  }
+  const rows: { A: number[]; b: number }[] = [];
+  for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
+  const rec = (pieceRows: { A: number[]; b: number }[], idx: number): { point: Float64Array; radius: number } | null => {
+    const m = pieceRows.length;
+    const A = new Float64Array(m * dim);
+    const b = new Float64Array(m);
+    pieceRows.forEach((r, i) => {
+      A.set(r.A, i * dim);
+      b[i] = r.b;
+    });
+    lp.lps++;
+    const ball = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
+    if (!(ball.radius > minRadius)) return null;
+    if (idx === cover.length) return { point: ball.center, radius: ball.radius };
+    const S = cover[idx];
+    // quick accept: the piece's ball lies wholly outside S → S does not cut the piece's centre area
+    const prefix: { A: number[]; b: number }[] = [];
+    for (let i = 0; i < S.m; i++) {
+      const s = Array.from(S.A.subarray(i * dim, (i + 1) * dim));
+      const flipped = { A: s.map((x) => -x), b: -S.b[i] };
+      const res = rec([...pieceRows, ...prefix, flipped], idx + 1);
+      if (res) return res;
+      prefix.push({ A: s, b: S.b[i] });
+    }
+    return null;
+  };
+  return rec(rows, 0);
+}

@@ -1,0 +1,263 @@
+/**
+ * The flat arrays behind the generated code, built once from a table (and its search tree), with an
+ * evaluator that repeats the generated C's arithmetic exactly: in double it is the C double build;
+ * in float every product and sum is rounded with Math.fround, which is exact IEEE single precision
+ * (a product of two floats is exact in double, and a double-rounded float sum is correctly rounded).
+ */
+import { tol } from '../tol.js';
+import type { TableFile } from '../table/format.js';
+import { leafDepths, type SearchTree } from '../partition/tree.js';
+
+export type Precision = 'float' | 'double';
+export type SearchKind = 'tree' | 'sequential';
+
+/**
+ * The region test in float cannot resolve tol.inside (1e-8 is below single-precision resolution of
+ * θ of order 1), so the float build widens it to this many units in the last place of the data scale.
+ */
+export const FLOAT_SLACK_ULPS = 16;
+const FLOAT_EPS = 2 ** -23; // machine constant of IEEE single precision, not a tolerance
+
+export interface EmitArrays {
+  precision: Precision;
+  search: SearchKind;
+  ntheta: number;
+  nu: number;
+  regionCount: number;
+  /** slack added to every region bound before rounding (regionB = round(b + slack)) */
+  slack: number;
+  /** real arrays, every entry already rounded to `precision` */
+  hpA: number[];
+  hpB: number[];
+  regionA: number[];
+  regionB: number[];
+  lawF: number[];
+  lawG: number[];
+  /** index arrays (tree ones empty for sequential search) */
+  nodeHp: number[];
+  nodeLeft: number[];
+  nodeRight: number[];
+  leafStart: number[];
+  leafRegion: number[];
+  regionRowStart: number[];
+  root: number;
+  /** loop bound of the tree descent: the worst depth */
+  maxDepth: number;
+}
+
+/** Region-test slack of a build: tol.inside in double; in float, a few ulps of the largest |θ|·‖a‖₁ + |b|. */
+export function regionSlack(table: TableFile, precision: Precision): number {
+  if (precision === 'double') return tol.inside;
+  let thetaMax = 0;
+  for (let j = 0; j < table.dims.ntheta; j++) thetaMax = Math.max(thetaMax, Math.abs(table.box.lower[j]), Math.abs(table.box.upper[j]));
+  let scale = 0;
+  for (const r of table.regions)
+    r.A.forEach((row, i) => {
+      const l1 = row.reduce((s, v) => s + Math.abs(v), 0);
+      scale = Math.max(scale, l1 * thetaMax + Math.abs(r.b[i]));
+    });
+  return Math.max(tol.inside, FLOAT_SLACK_ULPS * FLOAT_EPS * (table.dims.ntheta + 1) * scale);
+}
+
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null): EmitArrays {
+  const round = precision === 'float' ? Math.fround : (x: number) => x;
+  const n = table.dims.ntheta;
+  const slack = regionSlack(table, precision);
+  const regionA: number[] = [];
+  const regionB: number[] = [];
+  const regionRowStart = [0];
+  const lawF: number[] = [];
+  const lawG: number[] = [];
+  for (const r of table.regions) {
+    r.A.forEach((row, i) => {
+      for (let j = 0; j < n; j++) regionA.push(round(row[j]));
+      regionB.push(round(r.b[i] + slack));
+    });
+    regionRowStart.push(regionB.length);
+    r.law.F.forEach((row, i) => {
+      for (let j = 0; j < n; j++) lawF.push(round(row[j]));
+      lawG.push(round(r.law.g[i]));
+    });
+  }
+  const out: EmitArrays = {
+    precision,
+    search,
+    ntheta: n,
+    nu: table.dims.nu,
+    regionCount: table.regions.length,
+    slack,
+    hpA: [],
+    hpB: [],
+    regionA,
+    regionB,
+    lawF,
+    lawG,
+    nodeHp: [],
+    nodeLeft: [],
+    nodeRight: [],
+    leafStart: [],
+    leafRegion: [],
+    regionRowStart,
+    root: -1,
+    maxDepth: 0,
+  };
+  if (search === 'tree') {
+    if (!tree) throw new Error('tree search needs a search tree');
+    if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
+    for (const a of tree.hyperplanes.a) for (let j = 0; j < n; j++) out.hpA.push(round(a[j]));
+    out.hpB = tree.hyperplanes.b.map(round);
+    out.nodeHp = [...tree.nodeHyperplane];
+    out.nodeLeft = [...tree.nodeLeft];
+    out.nodeRight = [...tree.nodeRight];
+    out.leafStart = [...tree.leafStart];
+    out.leafRegion = [...tree.leafRegions];
+    out.root = tree.root;
+    out.maxDepth = tree.stats.maxDepth;
+  }
+  return out;
+}
+
+export interface ArrayEvaluation {
+  region: number;
+  u: number[] | null;
+}
+
+/** Evaluate the build at θ exactly as the generated C does (θ is rounded to the build's precision first). */
+export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): ArrayEvaluation {
+  const n = ar.ntheta;
+  const f = ar.precision === 'float';
+  const theta = f ? Array.from(thetaIn, Math.fround) : thetaIn;
+  const inside = (r: number): boolean => {
+    for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
+      let s = 0;
+      if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.regionA[i * n + j] * theta[j]));
+      else for (let j = 0; j < n; j++) s += ar.regionA[i * n + j] * theta[j];
+      if (s > ar.regionB[i]) return false;
+    }
+    return true;
+  };
+  const law = (r: number): number[] => {
+    const u = new Array<number>(ar.nu);
+    for (let i = 0; i < ar.nu; i++) {
+      const row = r * ar.nu + i;
+      let s = ar.lawG[row];
+      if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
+      else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * theta[j];
+      u[i] = s;
+    }
+    return u;
+  };
+  if (ar.search === 'sequential') {
+    for (let r = 0; r < ar.regionCount; r++) if (inside(r)) return { region: r, u: law(r) };
+    return { region: -1, u: null };
+  }
+  let ref = ar.root;
+  for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
+    const k = ar.nodeHp[ref];
+    let s = 0;
+    if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.hpA[k * n + j] * theta[j]));
+    else for (let j = 0; j < n; j++) s += ar.hpA[k * n + j] * theta[j];
+    ref = s <= ar.hpB[k] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
+  }
+  if (ref >= 0) return { region: -1, u: null };
+  const leaf = -ref - 1;
+  for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) {
+    const r = ar.leafRegion[k];
+    if (inside(r)) return { region: r, u: law(r) };
+  }
+  return { region: -1, u: null };
+}
+
+/** C element type of an index array: the narrowest fixed-width type that holds every entry. */
+export function indexType(values: number[], signed: boolean): 'int16_t' | 'int32_t' | 'uint16_t' | 'uint32_t' {
+  let lo = 0;
+  let hi = 0;
+  for (const v of values) {
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
+  if (signed) return lo >= -32768 && hi <= 32767 ? 'int16_t' : 'int32_t';
+  return hi <= 65535 ? 'uint16_t' : 'uint32_t';
+}
+
+export const TYPE_BYTES: Record<string, number> = { float: 4, double: 8, int16_t: 2, int32_t: 4, uint16_t: 2, uint32_t: 4 };
+
+export interface ArraySpec {
+  name: string;
+  ctype: string;
+  values: number[];
+  real: boolean;
+}
+
+/** The arrays the generated C declares, in order; C forbids empty arrays, so an empty one gets one zero. */
+export function arraySpecs(ar: EmitArrays): ArraySpec[] {
+  const real = ar.precision;
+  const specs: ArraySpec[] = [];
+  const add = (name: string, values: number[], ctype: string, isReal: boolean) =>
+    specs.push({ name, ctype, values: values.length > 0 ? values : [0], real: isReal });
+  // a one-region tree has no nodes: its arrays are left out (an unused static const would not compile with -Werror)
+  if (ar.search === 'tree' && ar.nodeHp.length > 0) {
+    add('hp_a', ar.hpA, real, true);
+    add('hp_b', ar.hpB, real, true);
+    add('node_hp', ar.nodeHp, indexType(ar.nodeHp, false), false);
+    add('node_left', ar.nodeLeft, indexType([...ar.nodeLeft, ...ar.nodeRight, ar.root], true), false);
+    add('node_right', ar.nodeRight, indexType([...ar.nodeLeft, ...ar.nodeRight, ar.root], true), false);
+  }
+  if (ar.search === 'tree') {
+    add('leaf_start', ar.leafStart, indexType(ar.leafStart, false), false);
+    add('leaf_region', ar.leafRegion, indexType(ar.leafRegion, false), false);
+  }
+  add('region_row_start', ar.regionRowStart, indexType(ar.regionRowStart, false), false);
+  add('region_a', ar.regionA, real, true);
+  add('region_b', ar.regionB, real, true);
+  add('law_f', ar.lawF, real, true);
+  add('law_g', ar.lawG, real, true);
+  return specs;
+}
+
+export interface CostFigures {
+  search: SearchKind;
+  regions: number;
+  /** worst-case hyperplane tests on the way to a leaf (0 for sequential search) */
+  worstDepth: number;
+  /** worst case over every path: multiply-adds and comparisons of one evaluation */
+  worstMultiplyAdds: number;
+  worstComparisons: number;
+  /** bytes of every array and the total, per precision */
+  bytes: Record<Precision, { arrays: { name: string; ctype: string; count: number; bytes: number }[]; total: number }>;
+}
+
+/**
+ * Worst-case cost of one evaluation: descent to the deepest-costing leaf (nθ multiply-adds and one
+ * comparison per node), then every candidate region's rows tested in full, then the law (nu·nθ).
+ */
+export function costFigures(ar: EmitArrays): CostFigures {
+  const n = ar.ntheta;
+  const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
+  const lawMacs = ar.nu * n;
+  let worstDepth = 0;
+  let worstMacs = 0;
+  let worstCmp = 0;
+  if (ar.search === 'sequential') {
+    let all = 0;
+    for (let r = 0; r < ar.regionCount; r++) all += rows(r);
+    worstMacs = all * n + lawMacs;
+    worstCmp = all;
+  } else {
+    const depths = leafDepths({ root: ar.root, nodeLeft: ar.nodeLeft, nodeRight: ar.nodeRight, leafStart: ar.leafStart });
+    depths.forEach((d, leaf) => {
+      let rr = 0;
+      for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
+      worstDepth = Math.max(worstDepth, d);
+      worstMacs = Math.max(worstMacs, d * n + rr * n + lawMacs);
+      worstCmp = Math.max(worstCmp, d + rr);
+    });
+  }
+  const bytes = {} as CostFigures['bytes'];
+  for (const p of ['float', 'double'] as Precision[]) {
+    const specs = arraySpecs({ ...ar, precision: p });
+    const arrays = specs.map((s) => ({ name: s.name, ctype: s.ctype, count: s.values.length, bytes: s.values.length * TYPE_BYTES[s.ctype] }));
+    bytes[p] = { arrays, total: arrays.reduce((s, a) => s + a.bytes, 0) };
+  }
+  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, bytes };
+}

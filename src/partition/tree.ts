@@ -1,0 +1,285 @@
+/**
+ * Binary search tree for point location in a partition (Tøndel, Johansen & Bemporad 2003,
+ * "Evaluation of piecewise affine control via binary search tree"): each internal node tests one
+ * facet hyperplane a·θ ≤ b of some region, each leaf lists the few regions left, checked in full.
+ *
+ * The tree is plain data (arrays) so that it serialises to JSON and maps one to one onto the
+ * const arrays of the generated C. Child references: r ≥ 0 is an internal node, r < 0 is the
+ * leaf −r−1. The left child holds the side a·θ ≤ b.
+ */
+import { tol } from '../tol.js';
+import type { CriticalRegion } from '../mpqp/types.js';
+import { hyperplaneKey, linearRange, polytopeVertices, polyLpCounter, type HalfSpaces } from './tree-poly.js';
+
+export const TREE_FORMAT = 'tessera-search-tree';
+export const TREE_VERSION = 1;
+
+export interface SearchTree {
+  format: typeof TREE_FORMAT;
+  version: number;
+  /** hash of the table the tree was built for ("sha256:…"), checked when a side file is read */
+  tableHash: string;
+  ntheta: number;
+  /** number of regions of that table */
+  regionCount: number;
+  /** the distinct hyperplanes used by nodes: a[k]·θ ≤ b[k] sends θ left */
+  hyperplanes: { a: number[][]; b: number[] };
+  nodeHyperplane: number[];
+  nodeLeft: number[];
+  nodeRight: number[];
+  /** child reference of the root (a leaf when the table has one region) */
+  root: number;
+  /** leaf k holds regions leafRegions[leafStart[k] .. leafStart[k+1]) in ascending index */
+  leafStart: number[];
+  leafRegions: number[];
+  stats: TreeStats;
+}
+
+export interface TreeStats {
+  nodes: number;
+  leaves: number;
+  /** longest root-to-leaf path, in hyperplane tests */
+  maxDepth: number;
+  meanLeafDepth: number;
+  maxLeafSize: number;
+  /** LPs solved while building (regions whose vertices were too many to enumerate) */
+  lps: number;
+  buildSeconds: number;
+}
+
+export interface TreeOptions {
+  /** stop splitting when a node holds at most this many regions (default 1) */
+  leafSize?: number;
+  /** hard bound on the depth (default 64) */
+  maxDepth?: number;
+  /** at most this many hyperplane×region tests per node before candidates are thinned (default 4e6) */
+  nodeBudget?: number;
+  tableHash?: string;
+  onProgress?: (p: { nodes: number; leaves: number; elapsedSeconds: number }) => void;
+}
+
+type RegionLike = Pick<CriticalRegion, 'A' | 'b'> & Partial<Pick<CriticalRegion, 'facets'>>;
+
+/** Which side(s) of a·θ ≤ b a region reaches with positive depth (a region touching only at a facet goes to one side). */
+function classify(
+  h: HalfSpaces,
+  n: number,
+  vertices: Float64Array | null,
+  a: number[],
+  b: number,
+  openBoundary: boolean,
+): { left: boolean; right: boolean } {
+  const [lo, hi] = linearRange(h, n, a, vertices);
+  let left = lo < b - tol.radius;
+  let right = hi > b + tol.radius;
+  // A facet on the outer boundary of the partition: θ just outside it (within tol.inside) is
+  // still located by sequential search, so the region must be found from both sides.
+  if (openBoundary) left = right = true;
+  if (!left && !right) left = right = true; // thinner than tol.radius across: keep it reachable
+  return { left, right };
+}
+
+/** Build the search tree over `regions` (greedy: each node takes the hyperplane that minimises the larger child, then the sum). */
+export function buildSearchTree(regions: RegionLike[], ntheta: number, options: TreeOptions = {}): SearchTree {
+  const t0 = Date.now();
+  const leafSize = options.leafSize ?? 1;
+  const maxDepth = options.maxDepth ?? 64;
+  const nodeBudget = options.nodeBudget ?? 4e6;
+  const lps0 = polyLpCounter.calls;
+  const n = ntheta;
+
+  // distinct facet hyperplanes, and per region which of them are its own outer-boundary facets
+  const hpIndex = new Map<string, number>();
+  const hpA: number[][] = [];
+  const hpB: number[] = [];
+  const regionHps: number[][] = [];
+  const openBoundary: Set<number>[] = [];
+  regions.forEach((r) => {
+    const own: number[] = [];
+    const open = new Set<number>();
+    r.A.forEach((row, i) => {
+      const { key, sign } = hyperplaneKey(row, r.b[i]);
+      let k = hpIndex.get(key);
+      if (k === undefined) {
+        k = hpA.length;
+        hpIndex.set(key, k);
+        hpA.push(row.map((v) => sign * v));
+        hpB.push(sign * r.b[i]);
+      }
+      own.push(k);
+      const f = r.facets?.[i];
+      if (!f || f.kind === 'box' || f.neighbours.length === 0) open.add(k);
+    });
+    regionHps.push(own);
+    openBoundary.push(open);
+  });
+  const vertices = regions.map((r) => polytopeVertices(r, n));
+
+  const cache = new Map<number, { left: boolean; right: boolean }>();
+  const side = (ri: number, k: number) => {
+    const key = ri * hpA.length + k;
+    let c = cache.get(key);
+    if (!c) {
+      c = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k));
+      cache.set(key, c);
+    }
+    return c;
+  };
+
+  const tree: SearchTree = {
+    format: TREE_FORMAT,
+    version: TREE_VERSION,
+    tableHash: options.tableHash ?? '',
+    ntheta: n,
+    regionCount: regions.length,
+    hyperplanes: { a: [], b: [] },
+    nodeHyperplane: [],
+    nodeLeft: [],
+    nodeRight: [],
+    root: -1,
+    leafStart: [0],
+    leafRegions: [],
+    stats: { nodes: 0, leaves: 0, maxDepth: 0, meanLeafDepth: 0, maxLeafSize: 0, lps: 0, buildSeconds: 0 },
+  };
+  const usedHp = new Map<number, number>(); // global hyperplane → index in tree.hyperplanes
+  let depthSum = 0;
+  let lastProgress = Date.now();
+
+  const makeLeaf = (set: number[], depth: number): number => {
+    const k = tree.leafStart.length - 1;
+    tree.leafRegions.push(...set);
+    tree.leafStart.push(tree.leafRegions.length);
+    tree.stats.maxDepth = Math.max(tree.stats.maxDepth, depth);
+    tree.stats.maxLeafSize = Math.max(tree.stats.maxLeafSize, set.length);
+    depthSum += depth;
+    return -k - 1;
+  };
+
+  // explicit stack instead of recursion: (set, depth, path hyperplanes, where to store the reference)
+  interface Task {
+    set: number[];
+    depth: number;
+    path: Set<number>;
+    store: (ref: number) => void;
+  }
+  const stack: Task[] = [{ set: regions.map((_, i) => i), depth: 0, path: new Set(), store: (r) => (tree.root = r) }];
+  while (stack.length > 0) {
+    const task = stack.pop()!;
+    const { set, depth, path } = task;
+    if (options.onProgress && Date.now() - lastProgress > 100) {
+      lastProgress = Date.now();
+      options.onProgress({ nodes: tree.nodeHyperplane.length, leaves: tree.leafStart.length - 1, elapsedSeconds: (Date.now() - t0) / 1000 });
+    }
+    if (set.length <= leafSize || depth >= maxDepth) {
+      task.store(makeLeaf(set, depth));
+      continue;
+    }
+    const candSet = new Set<number>();
+    for (const ri of set) for (const k of regionHps[ri]) if (!path.has(k)) candSet.add(k);
+    let cands = [...candSet].sort((x, y) => x - y);
+    const maxCands = Math.max(8, Math.floor(nodeBudget / set.length));
+    if (cands.length > maxCands) {
+      const step = cands.length / maxCands;
+      cands = Array.from({ length: maxCands }, (_, i) => cands[Math.floor(i * step)]);
+    }
+    let best = -1;
+    let bestMax = set.length;
+    let bestSum = Infinity;
+    for (const k of cands) {
+      let nl = 0;
+      let nr = 0;
+      for (const ri of set) {
+        const s = side(ri, k);
+        if (s.left) nl++;
+        if (s.right) nr++;
+        if (nl >= bestMax && nr >= bestMax) break;
+      }
+      const mx = Math.max(nl, nr);
+      if (mx < bestMax || (mx === bestMax && best >= 0 && nl + nr < bestSum)) {
+        if (mx < set.length) {
+          best = k;
+          bestMax = mx;
+          bestSum = nl + nr;
+        }
+      }
+    }
+    if (best < 0) {
+      task.store(makeLeaf(set, depth));
+      continue;
+    }
+    let hi = usedHp.get(best);
+    if (hi === undefined) {
+      hi = tree.hyperplanes.a.length;
+      usedHp.set(best, hi);
+      tree.hyperplanes.a.push(hpA[best]);
+      tree.hyperplanes.b.push(hpB[best]);
+    }
+    const node = tree.nodeHyperplane.length;
+    tree.nodeHyperplane.push(hi);
+    tree.nodeLeft.push(0);
+    tree.nodeRight.push(0);
+    task.store(node);
+    const leftSet = set.filter((ri) => side(ri, best).left);
+    const rightSet = set.filter((ri) => side(ri, best).right);
+    const childPath = new Set(path).add(best);
+    // push right first so the left subtree is numbered first (deterministic layout)
+    stack.push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
+    stack.push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+  }
+  const leaves = tree.leafStart.length - 1;
+  tree.stats.nodes = tree.nodeHyperplane.length;
+  tree.stats.leaves = leaves;
+  tree.stats.meanLeafDepth = leaves > 0 ? depthSum / leaves : 0;
+  tree.stats.lps = polyLpCounter.calls - lps0;
+  tree.stats.buildSeconds = (Date.now() - t0) / 1000;
+  return tree;
+}
+
+/** Depth of every leaf, found by walking the node arrays from the root. */
+export function leafDepths(tree: Pick<SearchTree, 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart'>): number[] {
+  const depth = new Array<number>(tree.leafStart.length - 1).fill(-1);
+  const stack: [number, number][] = [[tree.root, 0]];
+  while (stack.length) {
+    const [ref, d] = stack.pop()!;
+    if (ref < 0) depth[-ref - 1] = d;
+    else {
+      stack.push([tree.nodeLeft[ref], d + 1]);
+      stack.push([tree.nodeRight[ref], d + 1]);
+    }
+  }
+  return depth;
+}
+
+/** The leaf that θ falls into (same arithmetic order as the generated C). */
+export function locateLeaf(tree: SearchTree, theta: ArrayLike<number>): number {
+  let ref = tree.root;
+  const n = tree.ntheta;
+  for (let d = 0; d < tree.stats.maxDepth && ref >= 0; d++) {
+    const k = tree.nodeHyperplane[ref];
+    const a = tree.hyperplanes.a[k];
+    let s = 0;
+    for (let j = 0; j < n; j++) s += a[j] * theta[j];
+    ref = s <= tree.hyperplanes.b[k] ? tree.nodeLeft[ref] : tree.nodeRight[ref];
+  }
+  return -ref - 1;
+}
+
+/**
+ * Point location through the tree: index of the first region of θ's leaf that holds θ within
+ * `slack`, or −1. Same result as the generated double-precision C, bit for bit.
+ */
+export function locateTree(tree: SearchTree, theta: ArrayLike<number>, regions: Pick<CriticalRegion, 'A' | 'b'>[], slack: number = tol.inside): number {
+  const leaf = locateLeaf(tree, theta);
+  const n = tree.ntheta;
+  for (let k = tree.leafStart[leaf]; k < tree.leafStart[leaf + 1]; k++) {
+    const r = regions[tree.leafRegions[k]];
+    let inside = true;
+    for (let i = 0; i < r.A.length && inside; i++) {
+      let s = 0;
+      for (let j = 0; j < n; j++) s += r.A[i][j] * theta[j];
+      if (s > r.b[i] + slack) inside = false;
+    }
+    if (inside) return tree.leafRegions[k];
+  }
+  return -1;
+}

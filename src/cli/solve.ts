@@ -1,4 +1,68 @@
 import type { Command } from 'commander';
+import { basename, dirname, join } from 'node:path';
+import { loadProblem } from '../problem/index.js';
+import { buildMpqp } from '../mpqp/condition.js';
+import { solvePartition } from '../mpqp/solve.js';
+import { makeTable } from '../table/build.js';
+import { writeTableFile } from '../table/table.js';
+import { InputError } from '../io/errors.js';
 
-// Placeholder until the command lands; replaced by its own implementation.
-export function register(_program: Command): void {}
+export function defaultTablePath(problemPath: string): string {
+  const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
+  return join(dirname(problemPath), `${base}.table.json`);
+}
+
+function positive(flag: string, integer: boolean) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isFinite(x) || x <= 0 || (integer && !Number.isInteger(x)))
+      throw new InputError('(command line)', flag, `expected a positive ${integer ? 'integer' : 'number'}, got "${v}"`);
+    return x;
+  };
+}
+
+export function register(program: Command): void {
+  program
+    .command('solve')
+    .description('compute the critical-region partition of a problem file and write the table')
+    .argument('<problem>', 'problem file (.json, .yaml or .yml)')
+    .option('-o, --output <table>', 'table file to write (default: <problem>.table.json beside the problem)')
+    .option('--max-regions <n>', 'stop after n regions; the table is marked incomplete', positive('--max-regions', true))
+    .option('--time-limit <seconds>', 'stop after this many seconds; the table is marked incomplete', positive('--time-limit', false))
+    .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
+    .option('-q, --quiet', 'print nothing but errors')
+    .action((problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean }) => {
+      if (opts.lp !== 'kernel' && opts.lp !== 'reference')
+        throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
+      const out = opts.output ?? defaultTablePath(problemPath);
+      const loaded = loadProblem(problemPath);
+      const mpqp = buildMpqp(loaded.model);
+      const live = process.stderr.isTTY && !opts.quiet;
+      const t0 = performance.now();
+      const partition = solvePartition(mpqp, {
+        maxRegions: opts.maxRegions,
+        timeLimit: opts.timeLimit,
+        lp: opts.lp,
+        onProgress: live
+          ? (p) =>
+              process.stderr.write(
+                `\r  candidates ${p.candidates}  regions ${p.regions}  LPs ${p.lps}  ${p.elapsedSeconds.toFixed(1)} s `,
+              )
+          : undefined,
+      });
+      const seconds = (performance.now() - t0) / 1000;
+      if (live) process.stderr.write('\r\x1b[K');
+      const table = makeTable(loaded, mpqp, partition);
+      writeTableFile(out, table);
+      if (opts.quiet) return;
+      const s = partition.stats;
+      const lines = [
+        `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
+        `  θ = [${table.thetaNames.join(', ')}], u = [${table.inputNames.join(', ')}], ${mpqp.nz} free moves, ${mpqp.nc} constraint rows`,
+        s.complete
+          ? `  complete: yes — table written to ${out}`
+          : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
+      ];
+      process.stdout.write(lines.join('\n') + '\n');
+    });
+}

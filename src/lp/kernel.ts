@@ -22,11 +22,20 @@ export const lpCounter = { calls: 0 };
  * Maximise from a feasible start x0 (A x0 ≤ b + tol.primal). The caller guarantees
  * feasibility of x0; `infeasible` is never returned by this entry.
  */
-export function lpMaximizeFrom(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, x0: Float64Array): LpResult {
+export function lpMaximizeFrom(
+  c: Float64Array,
+  A: Float64Array,
+  b: Float64Array,
+  m: number,
+  n: number,
+  x0: Float64Array,
+  skip?: Uint8Array,
+): LpResult {
   lpCounter.calls++;
   const x = Float64Array.from(x0);
   const work: number[] = []; // working rows, linearly independent
   const inWork = new Uint8Array(m);
+  if (skip) inWork.set(skip.subarray(0, m)); // rows left out of this LP are never entered
   const rowNorm = new Float64Array(m);
   for (let i = 0; i < m; i++) {
     let s = 0;

@@ -129,26 +129,8 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   lp.lps++;
   const ball = chebyshevBall(Af, bf, m, nt, start, width);
   if (!(ball.radius > tol.radius)) return { ok: false, reason: 'flat' };
-  // redundancy: row r is redundant when max a_r θ over the other kept rows ≤ b_r
-  const alive = new Uint8Array(m).fill(1);
-  const sub = new Float64Array(m * nt);
-  const subB = new Float64Array(m);
-  const c = new Float64Array(nt);
-  for (let r = 0; r < m; r++) {
-    let cnt = 0;
-    for (let q = 0; q < m; q++) {
-      if (q === r || !alive[q]) continue;
-      for (let j = 0; j < nt; j++) sub[cnt * nt + j] = Af[q * nt + j];
-      subB[cnt] = bf[q];
-      cnt++;
-    }
-    for (let j = 0; j < nt; j++) c[j] = Af[r * nt + j];
-    lp.lps++;
-    const res = lp.reference
-      ? lpMaximizeReference(c, sub, subB, cnt, nt)
-      : lpMaximizeFrom(c, sub.subarray(0, cnt * nt), subB.subarray(0, cnt), cnt, nt, ball.center);
-    if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
-  }
+  const alive = nt === 2 ? facetRows2d(Af, bf, m, lo, up) : facetRowsByLp(Af, bf, m, nt, ball.center, lp);
+  if (!alive) return { ok: false, reason: 'flat' };
   const A: number[][] = [];
   const b: number[] = [];
   const facets: FacetInfo[] = [];
@@ -213,4 +195,117 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
   let r = 0;
   for (let i = 0; i < nz; i++) for (let p = 0; p < nz; p++) r += 0.5 * zc[i] * H[i * nz + p] * zc[p];
   return { Q, q, r };
+}
+
+/**
+ * Non-redundant rows by LP: row r is redundant when max a_r θ over the other live rows ≤ b_r.
+ * Rays shot from the interior centre along every row normal first mark rows that are hit first
+ * (certainly facets), which spares their LPs.
+ */
+function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine): Uint8Array {
+  const alive = new Uint8Array(m).fill(1);
+  const sure = new Uint8Array(m);
+  const slack = new Float64Array(m);
+  for (let q = 0; q < m; q++) {
+    let s = bf[q];
+    for (let j = 0; j < nt; j++) s -= Af[q * nt + j] * center[j];
+    slack[q] = s;
+  }
+  for (let r = 0; r < m; r++) {
+    let best = Infinity;
+    let hit = -1;
+    let tie = false;
+    for (let q = 0; q < m; q++) {
+      let ad = 0;
+      for (let j = 0; j < nt; j++) ad += Af[q * nt + j] * Af[r * nt + j];
+      if (ad <= 1e-12) continue;
+      const t = slack[q] / ad;
+      if (t < best - 1e-12 * (1 + best)) {
+        best = t;
+        hit = q;
+        tie = false;
+      } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
+    }
+    if (hit >= 0 && !tie) sure[hit] = 1;
+  }
+  const skip = new Uint8Array(m);
+  const c = new Float64Array(nt);
+  for (let r = 0; r < m; r++) {
+    if (sure[r]) continue;
+    for (let q = 0; q < m; q++) skip[q] = alive[q] ? 0 : 1;
+    skip[r] = 1;
+    for (let j = 0; j < nt; j++) c[j] = Af[r * nt + j];
+    lp.lps++;
+    const res = lp.reference
+      ? lpReferenceMasked(c, Af, bf, m, nt, skip)
+      : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
+    if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
+  }
+  return alive;
+}
+
+function lpReferenceMasked(c: Float64Array, Af: Float64Array, bf: Float64Array, m: number, nt: number, skip: Uint8Array) {
+  const rows: number[] = [];
+  for (let q = 0; q < m; q++) if (!skip[q]) rows.push(q);
+  const sub = new Float64Array(rows.length * nt);
+  const subB = new Float64Array(rows.length);
+  rows.forEach((q, i) => {
+    for (let j = 0; j < nt; j++) sub[i * nt + j] = Af[q * nt + j];
+    subB[i] = bf[q];
+  });
+  return lpMaximizeReference(c, sub, subB, rows.length, nt);
+}
+
+/**
+ * Exact non-redundant rows in 2-D: clip the box polygon by every half-plane (Sutherland–Hodgman,
+ * exact for convex polygons); a row is a facet when it supports an edge longer than tol.radius.
+ * Duplicate rows supporting the same edge keep the first one. Null when the polygon is flat.
+ */
+function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): Uint8Array | null {
+  // vertices with the row that made the edge leaving each vertex (−1: not from a row yet)
+  let poly: { x: number; y: number; edge: number }[] = [];
+  const boxRows = findBoxRows(Af, bf, m, lo, up);
+  poly = [
+    { x: lo[0], y: lo[1], edge: boxRows[3] }, // bottom edge: −y ≤ −lo1
+    { x: up[0], y: lo[1], edge: boxRows[0] }, // right edge:  x ≤ up0
+    { x: up[0], y: up[1], edge: boxRows[2] }, // top edge:    y ≤ up1
+    { x: lo[0], y: up[1], edge: boxRows[1] }, // left edge:  −x ≤ −lo0
+  ];
+  for (let r = 0; r < m; r++) {
+    if (boxRows.includes(r)) continue;
+    const a0 = Af[2 * r];
+    const a1 = Af[2 * r + 1];
+    const br = bf[r];
+    const next: typeof poly = [];
+    const k = poly.length;
+    for (let i = 0; i < k; i++) {
+      const P = poly[i];
+      const Q = poly[(i + 1) % k];
+      const sp = a0 * P.x + a1 * P.y - br;
+      const sq = a0 * Q.x + a1 * Q.y - br;
+      const pin = sp <= tol.redundancy;
+      const qin = sq <= tol.redundancy;
+      if (pin) next.push(P);
+      if (pin !== qin) {
+        const t = sp / (sp - sq);
+        // entering the half-plane: the new vertex starts the edge P→Q's remainder; leaving: it starts an edge on row r
+        next.push({ x: P.x + t * (Q.x - P.x), y: P.y + t * (Q.y - P.y), edge: pin ? r : P.edge });
+      }
+    }
+    poly = next;
+    if (poly.length < 3) return null;
+  }
+  const alive = new Uint8Array(m);
+  const k = poly.length;
+  for (let i = 0; i < k; i++) {
+    const P = poly[i];
+    const Q = poly[(i + 1) % k];
+    if (Math.hypot(Q.x - P.x, Q.y - P.y) > tol.radius && P.edge >= 0) alive[P.edge] = 1;
+  }
+  return alive;
+}
+
+/** Indices of the four box rows (x ≤ up0, −x ≤ −lo0, y ≤ up1, −y ≤ −lo1), appended last by buildRegion. */
+function findBoxRows(_Af: Float64Array, _bf: Float64Array, m: number, _lo: Float64Array, _up: Float64Array): number[] {
+  return [m - 4, m - 3, m - 2, m - 1];
 }

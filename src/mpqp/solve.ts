@@ -299,6 +299,7 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
     for (const s of cover) if (containsY(s, [])) return null;
     return { point: new Float64Array(0), radius: Infinity };
   }
+  if (dim === 1) return uncoveredInterval(base, cover, minRadius);
   const rows: { A: number[]; b: number }[] = [];
   for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
   const rec = (pieceRows: { A: number[]; b: number }[], idx: number): { point: Float64Array; radius: number } | null => {
@@ -314,7 +315,6 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
     if (!(ball.radius > minRadius)) return null;
     if (idx === cover.length) return { point: ball.center, radius: ball.radius };
     const S = cover[idx];
-    // quick accept: the piece's ball lies wholly outside S → S does not cut the piece's centre area
     const prefix: { A: number[]; b: number }[] = [];
     for (let i = 0; i < S.m; i++) {
       const s = Array.from(S.A.subarray(i * dim, (i + 1) * dim));
@@ -326,4 +326,37 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
     return null;
   };
   return rec(rows, 0);
+}
+
+/** 1-D facets (2-D θ): intervals, so the difference is exact interval arithmetic with no LP. */
+function interval(s: Slice): [number, number] {
+  let L = -Infinity;
+  let U = Infinity;
+  for (let i = 0; i < s.m; i++) {
+    const a = s.A[i];
+    if (a > 0) U = Math.min(U, s.b[i] / a);
+    else if (a < 0) L = Math.max(L, s.b[i] / a);
+  }
+  return [L, U];
+}
+
+function uncoveredInterval(base: Slice, cover: Slice[], minRadius: number): { point: Float64Array; radius: number } | null {
+  let pieces: [number, number][] = [interval(base)];
+  for (const s of cover) {
+    const [cl, cu] = interval(s);
+    const next: [number, number][] = [];
+    for (const [l, u] of pieces) {
+      if (cu <= l || cl >= u) {
+        next.push([l, u]);
+        continue;
+      }
+      if (cl > l) next.push([l, cl]);
+      if (cu < u) next.push([cu, u]);
+    }
+    pieces = next;
+  }
+  let best: [number, number] | null = null;
+  for (const p of pieces) if (!best || p[1] - p[0] > best[1] - best[0]) best = p;
+  if (!best || !(0.5 * (best[1] - best[0]) > minRadius)) return null;
+  return { point: Float64Array.of(0.5 * (best[0] + best[1])), radius: 0.5 * (best[1] - best[0]) };
 }

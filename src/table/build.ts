@@ -1,0 +1,49 @@
+import { createHash } from 'node:crypto';
+import type { LoadedProblem } from '../problem/types.js';
+import type { MpqpProblem, Partition } from '../mpqp/types.js';
+import { tol } from '../tol.js';
+import { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './format.js';
+
+/** JSON with object keys sorted at every level: the canonical form that is hashed. */
+export function canonicalJson(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
+  if (value && typeof value === 'object') {
+    const o = value as Record<string, unknown>;
+    return `{${Object.keys(o)
+      .sort()
+      .filter((k) => o[k] !== undefined)
+      .map((k) => `${JSON.stringify(k)}:${canonicalJson(o[k])}`)
+      .join(',')}}`;
+  }
+  return JSON.stringify(value);
+}
+
+export function problemHash(raw: unknown): string {
+  return `sha256:${createHash('sha256').update(canonicalJson(raw)).digest('hex')}`;
+}
+
+/** Assemble the table file from the problem as read, its mpQP and the computed partition. */
+export function makeTable(loaded: LoadedProblem, mpqp: MpqpProblem, partition: Partition): TableFile {
+  const { model } = loaded;
+  const input = model.constraints.input;
+  const m = model.m;
+  return {
+    format: TABLE_FORMAT,
+    version: TABLE_VERSION,
+    name: model.name,
+    problem: loaded.raw,
+    problemHash: problemHash(loaded.raw),
+    thetaNames: [...mpqp.thetaNames],
+    inputNames: [...mpqp.inputNames],
+    box: { lower: Array.from(mpqp.box.lower), upper: Array.from(mpqp.box.upper) },
+    inputLimits: {
+      lower: input ? [...input.lower] : new Array<null>(m).fill(null),
+      upper: input ? [...input.upper] : new Array<null>(m).fill(null),
+    },
+    constraints: [...mpqp.labels],
+    dims: { ntheta: mpqp.ntheta, nu: mpqp.nu, nz: mpqp.nz, nc: mpqp.nc },
+    tolerances: { ...tol },
+    regions: partition.regions,
+    stats: { ...partition.stats },
+  };
+}

@@ -14,17 +14,10 @@ import type { CriticalRegion, MpqpProblem } from '../mpqp/types.js';
 import type { TableFile } from '../table/format.js';
 import { locateSequential } from '../table/table.js';
 import { lpMaximize, findFeasiblePoint } from '../lp/kernel.js';
-import { loadProblem, parseProblem, buildRawMpqp } from '../problem/index.js';
 import { tol } from '../tol.js';
 import { area, centroid, ccw, simplifyConvex, type Point, type Polygon } from '../partition/polygon.js';
 import { makeSliceSpec, sliceGaps, sliceRegions, type SliceGaps, type SlicePolygon, type SliceSpec } from '../partition/slice.js';
 import { polygonHull } from 'd3';
-
-/** The mpQP whose feasible set decides infeasible vs hole: from PROBLEM when given, else the table's echo. */
-export function problemForTable(table: TableFile, tableFile: string, problemFile?: string): MpqpProblem {
-  const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (problem echo)`);
-  return buildRawMpqp(loaded.model);
-}
 
 /** θ is feasible when some z has G z ≤ w + E θ (phase-1 LP of the dense kernel). */
 export function feasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): boolean {

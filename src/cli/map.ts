@@ -1,4 +1,170 @@
 import type { Command } from 'commander';
+import { readFileSync } from 'node:fs';
+import { InputError } from '../io/errors.js';
+import { writeFileAtomic } from '../io/atomic.js';
+import { readTableFile, evaluateTable } from '../table/table.js';
+import type { TableFile } from '../table/format.js';
+import { loadProblem, parseProblem } from '../problem/index.js';
+import { buildMpqp } from '../mpqp/condition.js';
+import type { MpqpProblem } from '../mpqp/types.js';
+import type { LoadedProblem } from '../problem/index.js';
+import { analyseSlice } from '../check/gaps.js';
+import { liftPoint, makeSliceSpec } from '../partition/slice.js';
+import { renderMapSvg, type ColourBy, type HeatLayer, type Trajectory } from '../plot/svg.js';
+import { simulateClosedLoop } from '../plot/trajectory.js';
 
-// Placeholder until the command lands; replaced by its own implementation.
-export function register(_program: Command): void {}
+const CLI = '(command line)';
+
+/** The problem behind a table: PROBLEM when given, else the table's own echo of it. */
+export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): { loaded: LoadedProblem; mpqp: MpqpProblem } {
+  const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (key problem)`);
+  const mpqp = buildMpqp(loaded.model);
+  if (mpqp.ntheta !== table.dims.ntheta)
+    throw new InputError(problemFile ?? tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
+  return { loaded, mpqp };
+}
+
+/** A θ entry by name or by 0-based index. */
+export function thetaIndex(table: TableFile, s: string, flag: string): number {
+  const t = s.trim();
+  const byName = table.thetaNames.indexOf(t);
+  if (byName >= 0) return byName;
+  if (/^\d+$/.test(t) && Number(t) < table.dims.ntheta) return Number(t);
+  throw new InputError(CLI, flag, `unknown parameter "${t}" (expected one of ${table.thetaNames.join(', ')} or an index 0…${table.dims.ntheta - 1})`);
+}
+
+export function parseAxes(table: TableFile, v: string | undefined): [number, number] {
+  if (table.dims.ntheta < 2) throw new InputError(CLI, '--axes', 'the table has a single parameter; a 2-D map needs two');
+  if (v === undefined) return [0, 1];
+  const parts = v.split(',');
+  if (parts.length !== 2) throw new InputError(CLI, '--axes', `expected two parameters "I,J", got "${v}"`);
+  const ax: [number, number] = [thetaIndex(table, parts[0], '--axes'), thetaIndex(table, parts[1], '--axes')];
+  if (ax[0] === ax[1]) throw new InputError(CLI, '--axes', 'the two axes must differ');
+  return ax;
+}
+
+export function parseFix(table: TableFile, v: string | undefined, axes: [number, number]): Map<number, number> {
+  const out = new Map<number, number>();
+  if (!v) return out;
+  for (const part of v.split(',')) {
+    const m = /^\s*([^=]+?)\s*=\s*(\S+)\s*$/.exec(part);
+    if (!m) throw new InputError(CLI, '--fix', `expected NAME=VALUE, got "${part}"`);
+    const k = thetaIndex(table, m[1], '--fix');
+    if (axes.includes(k)) throw new InputError(CLI, '--fix', `"${m[1]}" is an axis of the map and cannot be fixed`);
+    const x = Number(m[2]);
+    if (!Number.isFinite(x)) throw new InputError(CLI, '--fix', `value of ${m[1]} is not a number: "${m[2]}"`);
+    const lo = table.box.lower[k];
+    const hi = table.box.upper[k];
+    if (x < lo || x > hi) throw new InputError(CLI, '--fix', `${m[1]} = ${x} lies outside the parameter box [${lo}, ${hi}]`);
+    out.set(k, x);
+  }
+  return out;
+}
+
+/** Initial states: CSV, one per line, either a full θ or (axis₁, axis₂) of the slice; optional header line. */
+export function readInitialStates(file: string, ntheta: number): number[][] {
+  let text: string;
+  try {
+    text = readFileSync(file, 'utf8');
+  } catch (e) {
+    throw new InputError(file, '', `cannot read initial states (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
+  }
+  const rows: number[][] = [];
+  text.split(/\r?\n/).forEach((line, i) => {
+    const s = line.trim();
+    if (!s || s.startsWith('#')) return;
+    const cells = s.split(',').map((c) => c.trim());
+    const nums = cells.map(Number);
+    if (nums.some((x) => !Number.isFinite(x))) {
+      if (rows.length === 0 && i === 0) return; // header
+      throw new InputError(file, `line ${i + 1}`, `not a list of numbers: "${s}"`);
+    }
+    if (nums.length !== ntheta && nums.length !== 2)
+      throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (a full θ) or 2 (a point of the slice), got ${nums.length}`);
+    rows.push(nums);
+  });
+  if (!rows.length) throw new InputError(file, '', 'no initial states found');
+  return rows;
+}
+
+export function positiveInt(flag: string) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isInteger(x) || x <= 0) throw new InputError(CLI, flag, `expected a positive integer, got "${v}"`);
+    return x;
+  };
+}
+
+interface MapCliOptions {
+  axes?: string;
+  fix?: string;
+  color: string;
+  trajectories?: string;
+  steps: number;
+  heat?: string;
+  problem?: string;
+  output?: string;
+}
+
+export function register(program: Command): void {
+  program
+    .command('map')
+    .description('draw an exact 2-D slice of the partition as SVG: regions, infeasible parts, holes')
+    .argument('<table>', 'table file written by tessera solve')
+    .option('--axes <i,j>', 'the two parameters on the axes, by name or 0-based index (default: the first two)')
+    .option('--fix <k=v,...>', 'values of the other parameters (default: the middle of the box)')
+    .option('--color <scheme>', 'colour regions by law | active | region', 'law')
+    .option('--trajectories <file>', 'CSV of initial states: draw the closed loop under the table law from each')
+    .option('--steps <n>', 'closed-loop steps per trajectory', positiveInt('--steps'), 40)
+    .option('--heat <what>', 'heat map under the borders: an input name (u(0)) or "cost" (optimal cost)')
+    .option('--problem <file>', 'problem file deciding feasibility (default: the problem stored in the table)')
+    .requiredOption('-o, --output <svg>', 'SVG file to write')
+    .action((tableFile: string, o: MapCliOptions) => {
+      const table = readTableFile(tableFile);
+      if (!['law', 'active', 'region'].includes(o.color)) throw new InputError(CLI, '--color', `expected law, active or region, got "${o.color}"`);
+      const axes = parseAxes(table, o.axes);
+      const spec = makeSliceSpec(table.box, axes, parseFix(table, o.fix, axes));
+      const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
+      const slice = analyseSlice(table, mpqp, spec);
+
+      let heat: HeatLayer | undefined;
+      if (o.heat) {
+        const ui = table.inputNames.indexOf(o.heat);
+        if (o.heat !== 'cost' && ui < 0) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
+        heat = {
+          label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
+          value: (x, y) => {
+            const th = liftPoint(spec, x, y);
+            const ev = evaluateTable(table, th);
+            if (ev.region < 0 || !ev.u) return null;
+            if (ui >= 0) return ev.u[ui];
+            const v = table.regions[ev.region].value;
+            let s = v.r;
+            th.forEach((a, i) => {
+              s += v.q[i] * a;
+              th.forEach((b, j) => (s += a * v.Q[i][j] * b));
+            });
+            return s;
+          },
+        };
+      }
+      let trajectories: Trajectory[] | undefined;
+      if (o.trajectories) {
+        const m = loaded.model;
+        trajectories = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => {
+          const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
+          return simulateClosedLoop(table, { A: m.A, B: m.B, hasRate: m.hasRate }, th0, o.steps);
+        });
+      }
+      const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });
+      writeFileAtomic(o.output!, res.svg);
+      const a = slice.gaps.areas;
+      const p = (v: number) => ((100 * v) / a.rect).toFixed(2) + ' %';
+      process.stdout.write(
+        `${table.name}: slice ${table.thetaNames[axes[0]]} × ${table.thetaNames[axes[1]]}, ${slice.polygons.length} regions cut the plane\n` +
+          `  covered ${p(a.covered)} · infeasible ${p(a.infeasible)} · holes ${p(a.holes)} (${res.holeCount} hole${res.holeCount === 1 ? '' : 's'}; exact polygon areas)\n` +
+          (table.stats.complete === false ? `  INCOMPLETE TABLE (${table.stats.stopReason}): uncovered parts may be unexplored\n` : '') +
+          `  written ${o.output}\n`,
+      );
+    });
+}

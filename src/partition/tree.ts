@@ -54,6 +54,8 @@ export interface TreeOptions {
   maxDepth?: number;
   /** at most this many hyperplane×region tests per node before candidates are thinned (default 4e6) */
   nodeBudget?: number;
+  /** weight of regions duplicated onto both children in the split score (default 0: pure balance, which gave the shallowest trees on our examples) */
+  duplicationWeight?: number;
   tableHash?: string;
   onProgress?: (p: { nodes: number; leaves: number; elapsedSeconds: number }) => void;
 }
@@ -85,6 +87,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
   const leafSize = options.leafSize ?? 1;
   const maxDepth = options.maxDepth ?? 64;
   const nodeBudget = options.nodeBudget ?? 4e6;
+  const dupWeight = options.duplicationWeight ?? 0;
   const lps0 = polyLpCounter.calls;
   const n = ntheta;
 
@@ -115,13 +118,16 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
   });
   const vertices = regions.map((r) => polytopeVertices(r, n));
 
-  const cache = new Map<number, { left: boolean; right: boolean }>();
-  const side = (ri: number, k: number) => {
-    const key = ri * hpA.length + k;
-    let c = cache.get(key);
-    if (!c) {
-      c = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k));
-      cache.set(key, c);
+  // side of every (region, hyperplane) pair, computed on first use: 0 unknown, bit 1 left, bit 2 right
+  const H = hpA.length;
+  const sideCache = new Uint8Array(regions.length * H);
+  const side = (ri: number, k: number): number => {
+    const key = ri * H + k;
+    let c = sideCache[key];
+    if (c === 0) {
+      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k));
+      c = (s.left ? 1 : 0) | (s.right ? 2 : 0);
+      sideCache[key] = c;
     }
     return c;
   };
@@ -182,25 +188,25 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       const step = cands.length / maxCands;
       cands = Array.from({ length: maxCands }, (_, i) => cands[Math.floor(i * step)]);
     }
+    // score: the larger child, plus the regions duplicated onto both sides weighted by `duplicationWeight`
     let best = -1;
-    let bestMax = set.length;
+    let bestScore = Infinity;
     let bestSum = Infinity;
     for (const k of cands) {
       let nl = 0;
       let nr = 0;
       for (const ri of set) {
         const s = side(ri, k);
-        if (s.left) nl++;
-        if (s.right) nr++;
-        if (nl >= bestMax && nr >= bestMax) break;
+        nl += s & 1;
+        nr += s >> 1;
       }
       const mx = Math.max(nl, nr);
-      if (mx < bestMax || (mx === bestMax && best >= 0 && nl + nr < bestSum)) {
-        if (mx < set.length) {
-          best = k;
-          bestMax = mx;
-          bestSum = nl + nr;
-        }
+      if (mx >= set.length) continue;
+      const score = mx + dupWeight * (nl + nr - set.length);
+      if (score < bestScore || (score === bestScore && nl + nr < bestSum)) {
+        best = k;
+        bestScore = score;
+        bestSum = nl + nr;
       }
     }
     if (best < 0) {
@@ -219,8 +225,8 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     tree.nodeLeft.push(0);
     tree.nodeRight.push(0);
     task.store(node);
-    const leftSet = set.filter((ri) => side(ri, best).left);
-    const rightSet = set.filter((ri) => side(ri, best).right);
+    const leftSet = set.filter((ri) => (side(ri, best) & 1) !== 0);
+    const rightSet = set.filter((ri) => (side(ri, best) & 2) !== 0);
     const childPath = new Set(path).add(best);
     // push right first so the left subtree is numbered first (deterministic layout)
     stack.push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });

@@ -1,8 +1,7 @@
 /**
- * Region colours: a graph colouring of the slice's adjacency graph, so that two polygons that
- * share an edge and differ in the chosen key (law, active set or region) never share a colour.
- * Neighbours with the same key are merged first and get one colour, so a law that spans several
- * regions reads as one patch.
+ * Region colours: two polygons that share an edge and differ in the chosen key (law, active set
+ * or region) never share a colour; polygons with the same key always share one, so a law that
+ * spans several regions reads as one patch.
  */
 import { hsl } from 'd3';
 import { bbox, bboxOverlap, sharedEdgeLength, type Polygon } from '../partition/polygon.js';
@@ -60,12 +59,15 @@ export function adjacency(polys: Polygon[], eps: number): number[][] {
 
 /**
  * DSatur (Brélaz 1979): repeatedly colour the vertex whose neighbours already use the most
- * distinct colours (ties: most uncoloured neighbours, then lowest index), with the smallest free colour.
+ * distinct colours (ties: most uncoloured neighbours, then lowest index). The colour given is the
+ * least used one that no neighbour has among the first `spread` colours (so the palette is used
+ * evenly instead of one hue flooding the map), else the smallest free colour beyond.
  */
-export function dsatur(neighbours: number[][]): number[] {
+export function dsatur(neighbours: number[][], spread = REGION_PALETTE.length): number[] {
   const n = neighbours.length;
   const colour = new Array<number>(n).fill(-1);
   const sat: Set<number>[] = neighbours.map(() => new Set());
+  const used: number[] = new Array(spread).fill(0);
   for (let step = 0; step < n; step++) {
     let best = -1;
     let bestSat = -1;
@@ -80,49 +82,59 @@ export function dsatur(neighbours: number[][]): number[] {
         bestDeg = d;
       }
     }
-    let c = 0;
-    while (sat[best].has(c)) c++;
+    let c = -1;
+    for (let q = 0; q < spread; q++) if (!sat[best].has(q) && (c < 0 || used[q] < used[c])) c = q;
+    if (c < 0) {
+      c = spread;
+      while (sat[best].has(c)) c++;
+    }
     colour[best] = c;
+    used[c] = (used[c] ?? 0) + 1;
     for (const u of neighbours[best]) sat[u].add(c);
   }
   return colour;
 }
 
 /**
- * Colour index per polygon. Polygons adjacent with equal keys are merged into one vertex; the
- * merged graph is coloured by DSatur, so adjacent polygons with different keys always differ.
+ * Colour index per polygon, one colour per key (equal laws look equal everywhere). When the
+ * keys fit the palette each gets its own colour (largest total area first); otherwise the graph
+ * of keys — two keys joined when some of their polygons share an edge — is coloured by DSatur.
+ * Either way adjacent polygons with different keys never share a colour.
  */
-export function colourByKey(polys: Polygon[], keys: string[], eps: number): { colour: number[]; neighbours: number[][] } {
+export function colourByKey(
+  polys: Polygon[],
+  keys: string[],
+  eps: number,
+  weights?: number[],
+): { colour: number[]; neighbours: number[][]; distinct: boolean } {
   const nb = adjacency(polys, eps);
-  const parent = polys.map((_, i) => i);
-  const find = (i: number): number => {
-    while (parent[i] !== i) i = parent[i] = parent[parent[i]];
-    return i;
-  };
-  nb.forEach((list, i) =>
-    list.forEach((j) => {
-      if (keys[i] === keys[j]) {
-        const a = find(i);
-        const b = find(j);
-        if (a !== b) parent[a] = b;
-      }
-    }),
-  );
-  const roots = [...new Set(polys.map((_, i) => find(i)))];
-  const gi = new Map(roots.map((r, k) => [r, k]));
-  const gnb: Set<number>[] = roots.map(() => new Set());
-  nb.forEach((list, i) =>
-    list.forEach((j) => {
-      const a = gi.get(find(i))!;
-      const b = gi.get(find(j))!;
-      if (a !== b) {
-        gnb[a].add(b);
-        gnb[b].add(a);
-      }
-    }),
-  );
-  const gc = dsatur(gnb.map((s) => [...s]));
-  return { colour: polys.map((_, i) => gc[gi.get(find(i))!]), neighbours: nb };
+  const keyList = [...new Set(keys)];
+  const ki = new Map(keyList.map((k, i) => [k, i]));
+  let keyColour: number[];
+  let distinct: boolean;
+  if (keyList.length <= REGION_PALETTE.length) {
+    const w = keyList.map(() => 0);
+    keys.forEach((k, i) => (w[ki.get(k)!] += weights?.[i] ?? 1));
+    const order = keyList.map((_, i) => i).sort((a, b) => w[b] - w[a] || a - b);
+    keyColour = new Array<number>(keyList.length);
+    order.forEach((k, rank) => (keyColour[k] = rank));
+    distinct = true;
+  } else {
+    const gnb: Set<number>[] = keyList.map(() => new Set());
+    nb.forEach((list, i) =>
+      list.forEach((j) => {
+        const a = ki.get(keys[i])!;
+        const b = ki.get(keys[j])!;
+        if (a !== b) {
+          gnb[a].add(b);
+          gnb[b].add(a);
+        }
+      }),
+    );
+    keyColour = dsatur(gnb.map((x) => [...x]));
+    distinct = false;
+  }
+  return { colour: keys.map((k) => keyColour[ki.get(k)!]), neighbours: nb, distinct };
 }
 
 /** A key that is equal for equal laws (rounded to 9 significant digits, far below plotting precision). */

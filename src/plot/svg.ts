@@ -5,7 +5,7 @@
 import { format, interpolateRgbBasis, line, path, scaleLinear, scaleSequential } from 'd3';
 import type { TableFile } from '../table/format.js';
 import type { AnalysedSlice } from '../check/gaps.js';
-import { area, centroid, thickness, type Polygon } from '../partition/polygon.js';
+import { area, ccw as ccwPoly, centroid, thickness, type Polygon } from '../partition/polygon.js';
 import { tol } from '../tol.js';
 import { colourByKey, lawKey, paletteColour, HOLE_FILL, HOLE_STROKE, INFEASIBLE_FILL, INFEASIBLE_HATCH } from './colour.js';
 
@@ -81,7 +81,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   const colourBy = opts.colourBy ?? 'law';
   const W = opts.width ?? 940;
   const H = opts.height ?? 680;
-  const m = { left: 78, top: 96, right: 300, bottom: 74 };
+  const m = { left: 78, top: 96, right: 310, bottom: 74 };
   const pw = W - m.left - m.right;
   const ph = H - m.top - m.bottom;
   const { spec, polygons, gaps } = slice;
@@ -97,10 +97,11 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
     return colourBy === 'law' ? lawKey(r.law) : colourBy === 'active' ? r.activeSet.join(',') : String(r.id);
   });
   const scale = Math.max(spec.rect.x1 - spec.rect.x0, spec.rect.y1 - spec.rect.y0);
-  const { colour, neighbours } = colourByKey(
+  const { colour, neighbours, distinct } = colourByKey(
     polygons.map((p) => p.polygon),
     keys,
     tol.inside * 100 * Math.max(1, scale),
+    polygons.map((p) => p.area),
   );
   const holeCount = gaps.holeGroups.length;
   const holeArea = gaps.areas.holes;
@@ -194,12 +195,16 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       `<path class="region" data-region="${r.id}" data-colour="${colour[k]}" d="${polyPath(p.polygon, sx, sy)}" fill="${fill}" stroke="#3c3c3c" stroke-width="0.6" stroke-linejoin="round"><title>${esc(describeRegion(table, p.index))}</title></path>`,
     );
   });
-  for (const q of gaps.infeasible)
-    push(`<path class="infeasible" d="${polyPath(q, sx, sy)}" fill="url(#hatch)" stroke="none"><title>infeasible: no input sequence meets the constraints</title></path>`);
-  for (const q of gaps.holes)
+  // one path per kind so that adjacent pieces render without anti-aliasing seams
+  if (gaps.infeasible.length)
     push(
-      `<path class="hole-piece" d="${polyPath(q, sx, sy)}" fill="${HOLE_FILL}" stroke="${HOLE_FILL}" stroke-width="1"><title>HOLE: feasible, but no region covers this</title></path>`,
+      `<path class="infeasible" d="${gaps.infeasible.map((q) => polyPath(ccwPoly(q), sx, sy)).join('')}" fill="url(#hatch)" stroke="none"><title>infeasible: no input sequence meets the constraints</title></path>`,
     );
+  gaps.holeGroups.forEach((g, k) =>
+    push(
+      `<path class="hole" data-hole="${k + 1}" d="${g.map((q) => polyPath(ccwPoly(gaps.holes[q]), sx, sy)).join('')}" fill="${HOLE_FILL}" stroke="${HOLE_FILL}" stroke-width="1"><title>HOLE ${k + 1}: feasible, but no region covers this (area ${num(g.reduce((a, q) => a + area(gaps.holes[q]), 0))})</title></path>`,
+    ),
+  );
   // region ids where they fit
   if (polygons.length <= 400)
     polygons.forEach((p) => {
@@ -280,17 +285,42 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   };
   if (!opts.heat) {
     const what = colourBy === 'law' ? 'law' : colourBy === 'active' ? 'active set' : 'region';
-    push(`<rect x="${lx}" y="${ly - 11}" width="7" height="14" fill="${paletteColour(0)}" stroke="#3c3c3c" stroke-width="0.6"/>`);
-    push(`<rect x="${lx + 7.5}" y="${ly - 11}" width="7" height="14" fill="${paletteColour(1)}" stroke="#3c3c3c" stroke-width="0.6"/>`);
-    push(`<rect x="${lx + 15}" y="${ly - 11}" width="7" height="14" fill="${paletteColour(2)}" stroke="#3c3c3c" stroke-width="0.6"/>`);
-    push(`<text x="${lx + 30}" y="${ly}">critical region (number = id)</text>`);
-    ly += 15;
-    push(`<text x="${lx + 30}" y="${ly}" fill="#555" font-size="11">colours tell neighbouring ${esc(what)}s apart;</text>`);
-    ly += 14;
-    push(`<text x="${lx + 30}" y="${ly}" fill="#555" font-size="11">a colour is reused far away, so read</text>`);
-    ly += 14;
-    push(`<text x="${lx + 30}" y="${ly}" fill="#555" font-size="11">the law from the tooltip, not the hue</text>`);
-    ly += 22;
+    if (distinct && polygons.length > 0) {
+      push(`<text x="${lx}" y="${ly}" fill="#333">colour = ${esc(what)}; number = region id</text>`);
+      ly += 18;
+      const seen = new Map<number, number>();
+      colour.forEach((c, k) => (seen.has(c) ? null : seen.set(c, k)));
+      for (const [c, k] of [...seen.entries()].sort((a, b) => a[0] - b[0])) {
+        const r = table.regions[polygons[k].index];
+        const full =
+          colourBy === 'law'
+            ? r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], names)}`).join('; ')
+            : colourBy === 'active'
+              ? r.activeSet.length
+                ? r.activeSet.map((q) => table.constraints[q] ?? `row ${q}`).join(', ')
+                : 'none active'
+              : `region ${r.id}`;
+        const short = full.length > 37 ? full.slice(0, 36) + '…' : full;
+        push(
+          `<g class="legend-key"><rect x="${lx}" y="${ly - 11}" width="22" height="14" fill="${paletteColour(c)}" stroke="#3c3c3c" stroke-width="0.6"/><text x="${lx + 30}" y="${ly}" font-size="11">${esc(short)}<title>${esc(full)}</title></text></g>`,
+        );
+        ly += 18;
+      }
+      ly += 6;
+    } else {
+      push(`<rect x="${lx}" y="${ly - 11}" width="7" height="14" fill="${paletteColour(0)}" stroke="#3c3c3c" stroke-width="0.6"/>`);
+      push(`<rect x="${lx + 7.5}" y="${ly - 11}" width="7" height="14" fill="${paletteColour(1)}" stroke="#3c3c3c" stroke-width="0.6"/>`);
+      push(`<rect x="${lx + 15}" y="${ly - 11}" width="7" height="14" fill="${paletteColour(2)}" stroke="#3c3c3c" stroke-width="0.6"/>`);
+      push(`<text x="${lx + 30}" y="${ly}">critical region (number = id)</text>`);
+      ly += 15;
+      const distinctCount = new Set(keys).size;
+      push(`<text x="${lx + 30}" y="${ly}" fill="#555" font-size="11">${distinctCount} ${esc(what)}s; neighbours always differ,</text>`);
+      ly += 14;
+      push(`<text x="${lx + 30}" y="${ly}" fill="#555" font-size="11">colours repeat far apart: read the</text>`);
+      ly += 14;
+      push(`<text x="${lx + 30}" y="${ly}" fill="#555" font-size="11">${esc(what)} from the tooltip, not the hue</text>`);
+      ly += 22;
+    }
   } else {
     sw('none', '#3c3c3c', 0.8, 'critical region border');
   }

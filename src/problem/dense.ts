@@ -2,7 +2,7 @@
  * Small dense-matrix helpers on nested arrays for the problem layer (model sizes are tiny and
  * this code runs once per problem file, off the hot path).
  */
-import { eigs } from 'mathjs';
+import { mathjs } from './mathjs.js';
 import { tol } from '../tol.js';
 
 export type Mat = number[][];
@@ -143,7 +143,7 @@ export function isPositiveDefinite(M: Mat): boolean {
 /** Smallest eigenvalue of a symmetric matrix (mathjs eigs on the symmetrised matrix). */
 export function minEigenvalueSymmetric(M: Mat): number {
   if (M.length === 0) return 0;
-  const { values } = eigs(symmetrise(M), { eigenvectors: false });
+  const { values } = mathjs().eigs(symmetrise(M), { eigenvectors: false });
   return Math.min(...(values as unknown as number[]));
 }
 
@@ -155,7 +155,7 @@ export interface Eigenvalue {
 /** Eigenvalues of a general real square matrix (mathjs eigs), as {re, im}. */
 export function eigenvalues(M: Mat): Eigenvalue[] {
   if (M.length === 0) return [];
-  const { values } = eigs(M.map((r) => [...r]), { eigenvectors: false });
+  const { values } = mathjs().eigs(M.map((r) => [...r]), { eigenvectors: false });
   return (values as unknown as (number | { re: number; im: number })[]).map((v) =>
     typeof v === 'number' ? { re: v, im: 0 } : { re: v.re, im: v.im },
   );

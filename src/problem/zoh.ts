@@ -1,4 +1,4 @@
-import { expm, matrix } from 'mathjs';
+import { mathjs } from './mathjs.js';
 import type { Mat } from './dense.js';
 
 /**
@@ -14,6 +14,7 @@ export function discretiseZoh(A: number[][], B: number[][], T: number): { A: num
     for (let j = 0; j < n; j++) M[i][j] = A[i][j] * T;
     for (let j = 0; j < m; j++) M[i][n + j] = B[i][j] * T;
   }
+  const { expm, matrix } = mathjs();
   const E = expm(matrix(M)).toArray() as number[][];
   return {
     A: E.slice(0, n).map((row) => row.slice(0, n)),

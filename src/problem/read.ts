@@ -189,6 +189,8 @@ export function parseProblem(raw: unknown, file: string): LoadedProblem {
   const inputNames = names(c, top.names, 'inputs', m, defaultNames('u', m));
   const outputNames = names(c, top.names, 'outputs', p, defaultNames('y', p));
   const thetaNames = [...stateNames, ...(hasRate ? inputNames.map((s) => `${s}_prev`) : [])];
+  const clash = thetaNames.findIndex((s, i) => thetaNames.indexOf(s) !== i);
+  if (clash >= 0) c.fail(`names.states[${thetaNames.indexOf(thetaNames[clash])}]`, `state name ${JSON.stringify(thetaNames[clash])} clashes with the previous-input parameter of the same name`);
 
   const what = `dim θ = ${ntheta}: ${thetaNames.join(', ')}`;
   const lower = c.array(c.require(params, 'parameters', 'lower', 'lower corner of the θ box'), 'parameters.lower', ntheta, what).map((v, i) => c.number(v, `parameters.lower[${i}]`));

@@ -65,6 +65,8 @@ export const badCases: BadCase[] = [
   { title: 'unbounded box slot', ext: '.json', text: json((p) => { p.parameters.upper[1] = null; }), key: 'parameters.upper[1]', reason: /expected a number, got null/ },
   { title: 'empty box slot', ext: '.json', text: json((p) => { p.parameters.lower[2] = 2; }), key: 'parameters.lower[2]', reason: /lower < upper.*u1_prev/ },
   { title: 'input name not an identifier', ext: '.json', text: json((p) => { p.names = { inputs: ['duty cycle'] }; }), key: 'names.inputs[0]', reason: /must be an identifier/ },
+  { title: 'state name clashes with a u_prev parameter', ext: '.json', text: json((p) => { p.names = { states: ['pos', 'u1_prev'] }; }), key: 'names.states[1]', reason: /clashes with the previous-input parameter/ },
+  { title: 'duplicate input names', ext: '.json', text: json((p) => { p.plant.B = [[0.02, 0], [0.2, 0.1]]; p.weights.input = [[1, 0], [0, 1]]; p.weights.inputRate = [[0.1, 0], [0, 0.1]]; p.constraints.input = { upper: [1, 1] }; p.parameters = { lower: [-1, -1, -1, -1], upper: [1, 1, 1, 1] }; p.names = { inputs: ['u', 'u'] }; }), key: 'names.inputs[1]', reason: /duplicate name "u"/ },
   { title: 'top level is an array', ext: '.json', text: '[1, 2, 3]', key: '(top level)', reason: /expected an object, got an array of length 3/ },
   { title: 'unparsable JSON', ext: '.json', text: '{\n  "horizon": 3,\n  "plant": }\n', key: '(file)', reason: /invalid JSON at line 3 column 12: unexpected token '}'/ },
   { title: 'unparsable YAML', ext: '.yaml', text: 'horizon: 3\nplant:\n  A: [[1, 0.2], [0, 0.9]\nweights: {}\n', key: '(file)', reason: /invalid YAML at line \d+ column \d+/ },

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { tol } from '../../src/tol.js';
 import { dareResidual, parseProblem, solveDare, solveLyapunovGain, lyapunovResidual } from '../../src/problem/index.js';
-import { add, mul, norm, solve, spectralRadius, transpose } from '../../src/problem/dense.js';
+import { add, eye, mul, norm, solve, spectralRadius, transpose, unstabilisableMode } from '../../src/problem/dense.js';
 import { randMat, randSpd, rng } from './rng.js';
 
 /**
@@ -103,5 +103,34 @@ describe('Lyapunov equation for a given gain', () => {
       // with the optimal gain the Lyapunov solution is the Riccati solution (common practice)
       expect(norm(add(P, Pdare, -1))).toBeLessThan(1e-8 * (1 + norm(P)));
     }
+  });
+});
+
+describe('stabilisability (PBH test: rank [A − λI, B] = n for every |λ| ≥ 1; common practice)', () => {
+  const T = [[1, 0.3, -0.2], [0.5, 1, 0.1], [0.2, -0.4, 1]];
+  const similar = (J: number[][], B: number[][]) => ({ A: mul(T, mul(J, solve(T, eye(3)))), B: mul(T, B) });
+
+  it('finds an uncontrollable Jordan block at λ = 1 hidden by a similarity transform', () => {
+    const { A, B } = similar([[1, 1, 0], [0, 1, 0], [0, 0, 0.5]], [[0], [0], [1]]);
+    const bad = unstabilisableMode(A, B);
+    expect(bad).not.toBeNull();
+    expect(bad!.re).toBeCloseTo(1, 6);
+  });
+
+  it('finds an uncontrollable complex pair on the unit circle', () => {
+    const c = Math.cos(0.7);
+    const s = Math.sin(0.7);
+    const { A, B } = similar([[c, -s, 0], [s, c, 0], [0, 0, 0.5]], [[0], [0], [1]]);
+    const bad = unstabilisableMode(A, B);
+    expect(bad).not.toBeNull();
+    expect(Math.abs(bad!.im)).toBeCloseTo(s, 8);
+  });
+
+  it('accepts an uncontrollable mode that is stable, and the same plant solves the DARE', () => {
+    const { A, B } = similar([[1.2, 0, 0], [0, 0.5, 0], [0, 0, 0.9]], [[1], [0], [1]]);
+    expect(unstabilisableMode(A, B)).toBeNull();
+    const Q = eye(3);
+    const { P, residual } = solveDare(A, B, Q, [[1]]);
+    expect(residual).toBeLessThanOrEqual(tol.riccatiResidual * (1 + norm(P)));
   });
 });

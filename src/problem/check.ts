@@ -148,7 +148,7 @@ export class Checker {
     if (!isPositiveDefinite(M))
       this.fail(
         key,
-        `matrix is not positive definite: a Cholesky pivot is ≤ tol.pd·(1+max|M|) = ${(tol.pd * (1 + maxAbs(M))).toExponential(2)} (smallest eigenvalue ${minEigenvalueSymmetric(M).toPrecision(6)})`,
+        `matrix is not positive definite: a Cholesky pivot is ≤ tol.pd·(1+max|M_ii|) = ${(tol.pd * (1 + Math.max(...M.map((r, i) => Math.abs(r[i]))))).toExponential(2)} (smallest eigenvalue ${minEigenvalueSymmetric(M).toPrecision(6)})`,
       );
   }
 }

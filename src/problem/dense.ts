@@ -2,6 +2,7 @@
  * Small dense-matrix helpers on nested arrays for the problem layer (model sizes are tiny and
  * this code runs once per problem file, off the hot path).
  */
+import { choleskyInPlace, fromRows, luSolve } from '../linalg/dense.js';
 import { mathjs } from './mathjs.js';
 import { tol } from '../tol.js';
 
@@ -64,30 +65,17 @@ export function symmetrise(A: Mat): Mat {
   return A.map((row, i) => row.map((v, j) => 0.5 * (v + A[j][i])));
 }
 
-/** Solve A X = B by Gaussian elimination with partial pivoting; throws when A is singular. */
+/** Solve A X = B column by column with the shared LU kernel; throws when A is singular. */
 export function solve(A: Mat, B: Mat): Mat {
   const n = A.length;
   const c = B[0].length;
-  const M = A.map((row, i) => [...row, ...B[i]]);
-  const scaleA = 1 + maxAbs(A);
-  for (let col = 0; col < n; col++) {
-    let p = col;
-    for (let i = col + 1; i < n; i++) if (Math.abs(M[i][col]) > Math.abs(M[p][col])) p = i;
-    if (Math.abs(M[p][col]) <= tol.rank * scaleA) throw new Error('singular matrix');
-    [M[col], M[p]] = [M[p], M[col]];
-    for (let i = col + 1; i < n; i++) {
-      const f = M[i][col] / M[col][col];
-      if (f === 0) continue;
-      for (let j = col; j < n + c; j++) M[i][j] -= f * M[col][j];
-    }
-  }
+  const a = fromRows(A, n);
   const X = zeros(n, c);
-  for (let i = n - 1; i >= 0; i--)
-    for (let j = 0; j < c; j++) {
-      let s = M[i][n + j];
-      for (let l = i + 1; l < n; l++) s -= M[i][l] * X[l][j];
-      X[i][j] = s / M[i][i];
-    }
+  for (let j = 0; j < c; j++) {
+    const x = luSolve(a, n, Float64Array.from(B, (row) => row[j]), tol.rank);
+    if (!x) throw new Error('singular matrix');
+    for (let i = 0; i < n; i++) X[i][j] = x[i];
+  }
   return X;
 }
 
@@ -121,23 +109,9 @@ export function rank(A: Mat): number {
   return r;
 }
 
-/** Cholesky factor test: true when every pivot exceeds tol.pd·(1 + max|M|). */
+/** PD test by the shared Cholesky kernel: every pivot must exceed tol.pd·(1 + max diagonal). */
 export function isPositiveDefinite(M: Mat): boolean {
-  const n = M.length;
-  const L = zeros(n, n);
-  const floor = tol.pd * (1 + maxAbs(M));
-  for (let j = 0; j < n; j++) {
-    let d = M[j][j];
-    for (let k = 0; k < j; k++) d -= L[j][k] * L[j][k];
-    if (!(d > floor)) return false;
-    L[j][j] = Math.sqrt(d);
-    for (let i = j + 1; i < n; i++) {
-      let s = M[i][j];
-      for (let k = 0; k < j; k++) s -= L[i][k] * L[j][k];
-      L[i][j] = s / L[j][j];
-    }
-  }
-  return true;
+  return choleskyInPlace(fromRows(M, M.length), M.length, tol.pd);
 }
 
 /** Smallest eigenvalue of a symmetric matrix (mathjs eigs on the symmetrised matrix). */

@@ -1,4 +1,178 @@
 import type { Command } from 'commander';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { InputError } from '../io/errors.js';
+import { writeFileAtomic } from '../io/atomic.js';
+import { readTableFile, tableToJson } from '../table/table.js';
+import type { TableFile } from '../table/format.js';
+import { emitC, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import { buildArrays, evaluateArrays, type CostFigures } from '../emit/arrays.js';
+import { checkPrefix, emitSelfTest } from '../emit/c.js';
+import { arraysToCsv, arraysToJson } from '../emit/export.js';
+import { sampleBox } from '../emit/sample.js';
+import { certifyFloat, type Certificate } from '../check/certify.js';
+import { mergeRegions } from '../partition/merge.js';
+import { TREE_FORMAT, TREE_VERSION, type SearchTree } from '../partition/tree.js';
 
-// Placeholder until the command lands; replaced by its own implementation.
-export function register(_program: Command): void {}
+const CLI = '(command line)';
+
+function choice<T extends string>(flag: string, values: readonly T[]) {
+  return (v: string): T => {
+    if (!(values as readonly string[]).includes(v)) throw new InputError(CLI, flag, `expected one of ${values.join(', ')}, got "${v}"`);
+    return v as T;
+  };
+}
+
+function positive(flag: string, integer: boolean) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isFinite(x) || x <= 0 || (integer && !Number.isInteger(x)))
+      throw new InputError(CLI, flag, `expected a positive ${integer ? 'integer' : 'number'}, got "${v}"`);
+    return x;
+  };
+}
+
+/** Read a tree side file and check that it was built for this table. */
+export function readTreeFile(path: string, table: TableFile, hash: string): SearchTree {
+  let raw: unknown;
+  try {
+    raw = JSON.parse(readFileSync(path, 'utf8'));
+  } catch (e) {
+    throw new InputError(path, '', `cannot read the search tree (${(e as Error).message})`);
+  }
+  const t = raw as SearchTree;
+  if (!t || t.format !== TREE_FORMAT) throw new InputError(path, 'format', `expected "${TREE_FORMAT}"`);
+  if (t.version !== TREE_VERSION) throw new InputError(path, 'version', `unsupported version ${JSON.stringify(t.version)}`);
+  if (t.tableHash !== hash) throw new InputError(path, 'tableHash', `built for table ${t.tableHash}, not for this table (${hash})`);
+  if (t.regionCount !== table.regions.length || t.ntheta !== table.dims.ntheta) throw new InputError(path, 'regionCount', 'does not match the table');
+  return t;
+}
+
+interface EmitCliOptions {
+  lang: 'c';
+  precision: 'float' | 'double';
+  search: 'tree' | 'sequential';
+  prefix: string;
+  output: string;
+  merge?: boolean;
+  mergedTable?: string;
+  report?: string;
+  certify?: boolean;
+  tolerance?: number;
+  samples: number;
+  seed: number;
+  arrays?: 'json' | 'csv';
+  selftest?: number;
+  tree?: string;
+  leafSize: number;
+}
+
+function bytesLine(cost: CostFigures): string {
+  return `float ${cost.bytes.float.total} B, double ${cost.bytes.double.total} B`;
+}
+
+export function register(program: Command): void {
+  program
+    .command('emit')
+    .description('generate embedded C (header + source) that evaluates the table, with a cost report and a float certificate')
+    .argument('<table>', 'table file written by tessera solve')
+    .option('--lang <lang>', 'target language (c)', choice('--lang', ['c'] as const), 'c')
+    .option('--precision <p>', 'float or double', choice('--precision', ['float', 'double'] as const), 'float')
+    .option('--search <s>', 'point location: tree (binary search tree) or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
+    .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')
+    .requiredOption('-o, --output <dir>', 'directory for the generated files')
+    .option('--merge', 'merge regions with the same law whose union is convex before emitting')
+    .option('--merged-table <file>', 'also write the merged table (implies --merge)')
+    .option('--report <file>', 'write the cost report (and certificate) as JSON')
+    .option('--certify', 'certify the float build against the double law')
+    .option('--tolerance <x>', 'accepted max |u_float - u_double| for the certificate', positive('--tolerance', false))
+    .option('--samples <n>', 'uniform sample size of the certificate', positive('--samples', true), 20000)
+    .option('--seed <n>', 'seed of the certificate and self-test points', positive('--seed', true), 1)
+    .option('--arrays <fmt>', 'also write the raw arrays as json or csv', choice('--arrays', ['json', 'csv'] as const))
+    .option('--selftest <n>', 'also write NAME_selftest.c, a host program checking n seeded points', positive('--selftest', true))
+    .option('--tree <file>', 'reuse a search tree side file (must match the table)')
+    .option('--leaf-size <n>', 'stop splitting the tree at this many regions per leaf', positive('--leaf-size', true), 1)
+    .action((tablePath: string, o: EmitCliOptions) => {
+      const bad = checkPrefix(o.prefix);
+      if (bad) throw new InputError(CLI, '--prefix', `"${o.prefix}" ${bad}`);
+      let table = readTableFile(tablePath);
+      if (table.regions.length === 0) throw new InputError(tablePath, 'regions', 'the table has no region: nothing to emit');
+      const incomplete = table.stats?.complete === false;
+      const before = table.regions.length;
+      let merged = false;
+      const writes: [string, string][] = [];
+      if (o.merge || o.mergedTable) {
+        const m = mergeRegions(table);
+        table = m.table;
+        merged = true;
+        process.stderr.write(`merge: ${m.stats.before} regions -> ${m.stats.after} (${m.stats.tests} union tests${m.stats.undecided ? `, ${m.stats.undecided} undecided, left apart` : ''})\n`);
+        if (o.mergedTable) writes.push([o.mergedTable, tableToJson(table)]);
+      }
+      const hash = tableHash(table);
+      let tree: SearchTree | undefined;
+      if (o.search === 'tree') {
+        let shown = false;
+        tree = o.tree
+          ? readTreeFile(o.tree, table, hash)
+          : treeForTable(table, {
+              tableHash: hash,
+              leafSize: o.leafSize,
+              onProgress: (p) => {
+                shown = true;
+                process.stderr.write(`\rtree: ${p.nodes} nodes, ${p.leaves} leaves, ${p.elapsedSeconds.toFixed(1)} s`);
+              },
+            });
+        if (shown) process.stderr.write('\n');
+      }
+      const res: EmitResult = emitC(table, { precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
+      writes.push([join(o.output, `${o.prefix}.h`), res.header], [join(o.output, `${o.prefix}.c`), res.source]);
+      if (res.tree && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
+      let cert: Certificate | null = null;
+      if (o.certify) {
+        const floatBuild = o.precision === 'float' ? res.arrays : buildArrays(table, 'float', o.search, res.tree);
+        cert = certifyFloat(table, floatBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
+      }
+      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays)]);
+      if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(res.arrays)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
+      if (o.selftest) {
+        const pts = sampleBox(table.box, o.selftest, o.seed);
+        writes.push([join(o.output, `${o.prefix}_selftest.c`), emitSelfTest(res.arrays, o.prefix, pts, pts.map((p) => evaluateArrays(res.arrays, p)))]);
+      }
+      const report = {
+        table: tablePath,
+        tableHash: hash,
+        complete: !incomplete,
+        stopReason: table.stats?.stopReason,
+        regions: { before, after: table.regions.length, merged },
+        precision: o.precision,
+        search: o.search,
+        slack: res.arrays.slack,
+        tree: res.tree ? res.tree.stats : null,
+        cost: res.cost,
+        certificate: cert,
+      };
+      if (o.report) writes.push([o.report, JSON.stringify(report, null, 1) + '\n']);
+      // everything is computed before the first write, so a failure leaves no partial output
+      for (const [p, text] of writes) writeFileAtomic(p, text);
+
+      const c = res.cost;
+      const lines = [
+        `emit: ${o.prefix}.h, ${o.prefix}.c in ${o.output} (C99, ${o.precision}, ${o.search} search)`,
+        `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
+        o.search === 'tree'
+          ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, at most ${res.tree!.stats.maxLeafSize} regions per leaf`
+          : '  sequential search over every region',
+        `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons`,
+        `  memory: ${bytesLine(c)}`,
+      ];
+      if (cert) {
+        lines.push(
+          `  float certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_float - u_double| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
+            `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in float`,
+          `  ${cert.verdict}`,
+        );
+      }
+      lines.push('  caution: validate in simulation and hardware-in-the-loop, keep an independent safety layer, and handle the -1 (no region) return.');
+      process.stdout.write(lines.join('\n') + '\n');
+    });
+}

@@ -22,9 +22,9 @@ function binomial(m: number, k: number): number {
 }
 
 /** Solve the n×n system M x = r (row-major, copied) by Gaussian elimination with partial pivoting. */
-function solveSmall(M: Float64Array, r: Float64Array, n: number): Float64Array | null {
-  const a = Float64Array.from(M);
-  const x = Float64Array.from(r);
+function solveSmall(M: Float64Array, r: Float64Array, n: number, a: Float64Array, x: Float64Array): Float64Array | null {
+  a.set(M);
+  x.set(r);
   for (let c = 0; c < n; c++) {
     let p = c;
     for (let i = c + 1; i < n; i++) if (Math.abs(a[i * n + c]) > Math.abs(a[p * n + c])) p = i;
@@ -60,13 +60,15 @@ export function polytopeVertices(h: HalfSpaces, n: number, budget: number = VERT
   const idx = Array.from({ length: n }, (_, i) => i);
   const M = new Float64Array(n * n);
   const r = new Float64Array(n);
+  const sa = new Float64Array(n * n);
+  const sx = new Float64Array(n);
   if (m < n) return new Float64Array(0);
   for (;;) {
     for (let i = 0; i < n; i++) {
       for (let j = 0; j < n; j++) M[i * n + j] = h.A[idx[i]][j];
       r[i] = h.b[idx[i]];
     }
-    const x = solveSmall(M, r, n);
+    const x = solveSmall(M, r, n, sa, sx);
     if (x) {
       let ok = true;
       for (let i = 0; i < m && ok; i++) {

@@ -138,6 +138,8 @@ export interface HoleWitness {
   source: 'monte-carlo' | 'facet-probe' | 'exact-2d';
   /** region whose facet was crossed (facet probes) */
   fromRegion?: number;
+  /** Chebyshev radius of that facet within its hyperplane: a small value marks a small hole */
+  facetRadius?: number;
 }
 
 export interface CoverageReport {
@@ -288,7 +290,7 @@ function facetProbes(table: TableFile, problem: MpqpProblem, add: (w: HoleWitnes
       if (locateSequential(table.regions, p) >= 0) return;
       if (!feasibleAt(problem, p)) return;
       holes++;
-      add({ theta: p, source: 'facet-probe', fromRegion: reg.id });
+      add({ theta: p, source: 'facet-probe', fromRegion: reg.id, facetRadius: c.radius });
     });
   });
   void nt;

@@ -2,7 +2,7 @@ import type { Command } from 'commander';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
-import { readTableFile, evaluateTable } from '../table/table.js';
+import { readTableFile, applyAffine, locateSequential } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { loadProblem, parseProblem } from '../problem/index.js';
 import { buildMpqp } from '../mpqp/condition.js';
@@ -133,12 +133,12 @@ export function register(program: Command): void {
         if (o.heat !== 'cost' && ui < 0) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
         heat = {
           label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
-          value: (x, y) => {
+          value: (x, y, slack) => {
             const th = liftPoint(spec, x, y);
-            const ev = evaluateTable(table, th);
-            if (ev.region < 0 || !ev.u) return null;
-            if (ui >= 0) return ev.u[ui];
-            const v = table.regions[ev.region].value;
+            const ri = locateSequential(table.regions, th, slack);
+            if (ri < 0) return null;
+            if (ui >= 0) return applyAffine(table.regions[ri].law, th)[ui];
+            const v = table.regions[ri].value;
             let s = v.r;
             th.forEach((a, i) => {
               s += v.q[i] * a;

@@ -20,8 +20,8 @@ export interface Trajectory {
 
 export interface HeatLayer {
   label: string;
-  /** value at a slice point, null where no region holds it */
-  value: (x: number, y: number) => number | null;
+  /** value at a slice point, null where no region holds it; `slack` widens the region test (θ units) */
+  value: (x: number, y: number, slack?: number) => number | null;
   /** cells per axis */
   cells?: number;
 }
@@ -144,7 +144,10 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   let heatRange: [number, number] | null = null;
   const heatInterp = interpolateRgbBasis(['#fbf3dc', '#f0b45d', '#c8584a', '#6d2b6e', '#22184a']);
   if (opts.heat) {
-    const cells = opts.heat.cells ?? 120;
+    const cells = opts.heat.cells ?? 160;
+    // cells straddling a region border take the law of a region within a cell diagonal, and
+    // the layer is clipped to the covered polygons, so the edge follows the exact boundary
+    const diag = Math.hypot((spec.rect.x1 - spec.rect.x0) / cells, (spec.rect.y1 - spec.rect.y0) / cells);
     const vals: (number | null)[] = [];
     let lo = Infinity;
     let hi = -Infinity;
@@ -152,7 +155,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       for (let c = 0; c < cells; c++) {
         const x = spec.rect.x0 + ((c + 0.5) / cells) * (spec.rect.x1 - spec.rect.x0);
         const y = spec.rect.y0 + ((r + 0.5) / cells) * (spec.rect.y1 - spec.rect.y0);
-        const v = opts.heat.value(x, y);
+        const v = opts.heat.value(x, y) ?? opts.heat.value(x, y, diag);
         vals.push(v);
         if (v !== null) {
           lo = Math.min(lo, v);
@@ -166,7 +169,8 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       const bin = (v: number) => Math.min(bins - 1, Math.floor(((v - heatRange![0]) / (heatRange![1] - heatRange![0])) * bins));
       const cw = pw / cells;
       const ch = ph / cells;
-      push(`<g class="heat" shape-rendering="crispEdges">`);
+      push(`<clipPath id="covered">${polygons.map((p) => `<path d="${polyPath(p.polygon, sx, sy)}"/>`).join('')}</clipPath>`);
+      push(`<g class="heat" shape-rendering="crispEdges" clip-path="url(#covered)">`);
       for (let r = 0; r < cells; r++) {
         let c = 0;
         while (c < cells) {
@@ -190,9 +194,10 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   }
   polygons.forEach((p, k) => {
     const fill = opts.heat ? 'none' : paletteColour(colour[k]);
+    const stroke = opts.heat ? 'stroke="#8a8a8a" stroke-width="0.7"' : 'stroke="#3c3c3c" stroke-width="0.6"';
     const r = table.regions[p.index];
     push(
-      `<path class="region" data-region="${r.id}" data-colour="${colour[k]}" d="${polyPath(p.polygon, sx, sy)}" fill="${fill}" stroke="#3c3c3c" stroke-width="0.6" stroke-linejoin="round"><title>${esc(describeRegion(table, p.index))}</title></path>`,
+      `<path class="region" data-region="${r.id}" data-colour="${colour[k]}" d="${polyPath(p.polygon, sx, sy)}" fill="${fill}" ${stroke} stroke-linejoin="round"><title>${esc(describeRegion(table, p.index))}</title></path>`,
     );
   });
   // one path per kind so that adjacent pieces render without anti-aliasing seams
@@ -213,7 +218,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       const [cx, cy] = centroid(pix);
       const id = String(table.regions[p.index].id);
       if (thickness(pix) < 4 + 3.2 * id.length) return;
-      push(`<text class="region-label" x="${cx.toFixed(1)}" y="${(cy + 3.5).toFixed(1)}" text-anchor="middle" font-size="10" fill="#1e1e1e" pointer-events="none">${id}</text>`);
+      push(`<text class="region-label" x="${cx.toFixed(1)}" y="${(cy + 3.5).toFixed(1)}" text-anchor="middle" font-size="10" fill="#1e1e1e"${opts.heat ? ' stroke="#ffffff" stroke-width="2.5" paint-order="stroke"' : ''} pointer-events="none">${id}</text>`);
     });
   push(`</g>`);
 
@@ -322,7 +327,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       ly += 22;
     }
   } else {
-    sw('none', '#3c3c3c', 0.8, 'critical region border');
+    sw('#ffffff', '#8a8a8a', 1.2, 'critical region border');
   }
   sw('url(#hatch)', '#888', 0.6, 'infeasible', 'no input sequence meets the limits');
   sw(HOLE_FILL, HOLE_STROKE, 2, 'HOLE (ringed)', 'feasible, but no region: no law');

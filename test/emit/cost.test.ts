@@ -1,0 +1,110 @@
+/**
+ * Cost report recomputed independently: array sizes from gcc's own sizeof on the generated file
+ * and element counts parsed from its text; worst depth, multiply-adds and comparisons from the
+ * parsed arrays by a separate walk. Element sizes of float/double (IEEE binary32/64) and of the
+ * <stdint.h> fixed-width types are fixed by the C99 standard and IEEE 754 (common practice).
+ */
+import { describe, expect, it } from 'vitest';
+import { emitC } from '../../src/emit/index.js';
+import type { TableFile } from '../../src/table/format.js';
+import { compile, exampleTable, run } from './helpers.js';
+import { arrangementTable, gridTable } from './synthetic.js';
+
+const SIZE: Record<string, number> = { float: 4, double: 8, int16_t: 2, int32_t: 4, uint16_t: 2, uint32_t: 4 };
+
+/** Parse every `static const TYPE P_name[N] = { … };` of the source. */
+function parseArrays(source: string, prefix: string): Map<string, { ctype: string; declared: number; values: number[] }> {
+  const out = new Map<string, { ctype: string; declared: number; values: number[] }>();
+  const re = new RegExp(`static const (\\w+) ${prefix}_(\\w+)\\[(\\d+)\\] = \\{([^}]*)\\};`, 'g');
+  for (const m of source.matchAll(re)) {
+    const values = m[4].split(',').map((s) => parseFloat(s.trim().replace(/f$/, '')));
+    out.set(m[2], { ctype: m[1], declared: Number(m[3]), values });
+  }
+  return out;
+}
+
+function checkCost(name: string, table: TableFile): void {
+  describe(name, () => {
+    for (const search of ['tree', 'sequential'] as const)
+      for (const precision of ['float', 'double'] as const)
+        it(`${search}, ${precision}: bytes, depth, multiply-adds and comparisons`, () => {
+          const r = emitC(table, { precision, search, prefix: 'law' });
+          const arrays = parseArrays(r.source, 'law');
+          const rep = r.cost.bytes[precision];
+          expect([...arrays.keys()].sort()).toEqual(rep.arrays.map((a) => a.name).sort());
+          // sizeof as gcc sees it, on the generated file itself
+          const probe = `#include <stdio.h>\n#include "law.c"\nint main(void)\n{\n${[...arrays.keys()]
+            .map((k) => `    printf("${k} %lu\\n", (unsigned long)sizeof law_${k});`)
+            .join('\n')}\n    (void)law_eval;\n    return 0;\n}\n`;
+          const { exe } = compile('cost', { 'law.h': r.header, 'law.c': r.source, 'probe.c': probe }, ['probe.c']);
+          const sizes = new Map(run(exe).stdout.trim().split('\n').map((l) => [l.split(' ')[0], Number(l.split(' ')[1])] as [string, number]));
+          let total = 0;
+          for (const a of rep.arrays) {
+            const parsed = arrays.get(a.name)!;
+            expect(parsed.values.length).toBe(parsed.declared);
+            expect(a.count).toBe(parsed.declared);
+            expect(a.bytes).toBe(parsed.declared * SIZE[parsed.ctype]);
+            expect(sizes.get(a.name)).toBe(a.bytes);
+            total += sizes.get(a.name)!;
+          }
+          expect(rep.total).toBe(total);
+
+          // worst case from the parsed arrays
+          const nt = table.dims.ntheta;
+          const nu = table.dims.nu;
+          const rowStart = arrays.get('region_row_start')!.values;
+          const rows = (k: number) => rowStart[k + 1] - rowStart[k];
+          let depth = 0;
+          let macs = 0;
+          let cmps = 0;
+          if (search === 'sequential') {
+            const all = rowStart[rowStart.length - 1];
+            macs = all * nt + nu * nt;
+            cmps = all;
+          } else {
+            const left = arrays.get('node_left')?.values ?? [];
+            const right = arrays.get('node_right')?.values ?? [];
+            const leafStart = arrays.get('leaf_start')!.values;
+            const leafRegion = arrays.get('leaf_region')!.values;
+            const rootMatch = /#define LAW_ROOT \((-?\d+)\)/.exec(r.source)!;
+            const stack: [number, number][] = [[Number(rootMatch[1]), 0]];
+            while (stack.length) {
+              const [ref, d] = stack.pop()!;
+              if (ref >= 0) {
+                stack.push([left[ref], d + 1], [right[ref], d + 1]);
+                continue;
+              }
+              const leaf = -ref - 1;
+              let rr = 0;
+              for (let k = leafStart[leaf]; k < leafStart[leaf + 1]; k++) rr += rows(leafRegion[k]);
+              depth = Math.max(depth, d);
+              macs = Math.max(macs, d * nt + rr * nt + nu * nt);
+              cmps = Math.max(cmps, d + rr);
+            }
+            expect(r.source).toContain(`#define LAW_DEPTH ${depth}u`);
+          }
+          expect(r.cost.worstDepth).toBe(depth);
+          expect(r.cost.worstMultiplyAdds).toBe(macs);
+          expect(r.cost.worstComparisons).toBe(cmps);
+        }, 30000);
+  });
+}
+
+checkCost('example buck-duty-cycle', exampleTable('buck-duty-cycle.json').table);
+checkCost('synthetic 3-D arrangement, 2 inputs', arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 6, seed: 9, nu: 2 }));
+checkCost('one region (the tree is a single leaf)', gridTable(1, () => ({ F: [[0.5, -0.25]], g: [0.1] })));
+
+describe('one-region table', () => {
+  it('emits a tree of depth 0 that compiles and evaluates', () => {
+    const table = gridTable(1, () => ({ F: [[0.5, -0.25]], g: [0.1] }));
+    const r = emitC(table, { precision: 'double', search: 'tree', prefix: 'law' });
+    expect(r.tree!.stats.maxDepth).toBe(0);
+    const main = `#include <stdio.h>\n#include "law.h"\nint main(void)\n{\n    double t[2] = {0.5, 0.5};\n    double u[1] = {7.0};\n    int r = law_eval(t, u);\n    double o[2] = {1.5, 0.5};\n    int r2 = law_eval(o, u);\n    printf("%d %.17g %d\\n", r, u[0], r2);\n    return 0;\n}\n`;
+    const { exe } = compile('one', { 'law.h': r.header, 'law.c': r.source, 'main.c': main }, ['law.c', 'main.c']);
+    // hand computation: 0.1 + 0.5·0.5 − 0.25·0.5 = 0.225; (1.5, 0.5) is outside [0,1]², u untouched
+    const [r1, u, r2] = run(exe).stdout.trim().split(' ');
+    expect(Number(r1)).toBe(0);
+    expect(Number(u)).toBeCloseTo(0.225, 15);
+    expect(Number(r2)).toBe(-1);
+  });
+});

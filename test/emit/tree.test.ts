@@ -1,0 +1,90 @@
+/**
+ * Search tree: point location against sequential search (the table's own locateSequential), the
+ * reported depth against an independent walk of the node arrays, and an analytic case.
+ */
+import { describe, expect, it } from 'vitest';
+import { locateSequential, regionContains } from '../../src/table/table.js';
+import { buildSearchTree, locateTree, type SearchTree } from '../../src/partition/tree.js';
+import { sampleBox } from '../../src/emit/sample.js';
+import { facetPoints } from '../../src/check/certify.js';
+import { tol } from '../../src/tol.js';
+import type { TableFile } from '../../src/table/format.js';
+import { EXAMPLES, exampleTable } from './helpers.js';
+import { arrangementTable, gridTable } from './synthetic.js';
+
+/** Independent walk: depth of every leaf and how often each leaf is reached. */
+function walk(tree: SearchTree): { depths: Map<number, number>; visits: Map<number, number> } {
+  const depths = new Map<number, number>();
+  const visits = new Map<number, number>();
+  const go = (ref: number, d: number): void => {
+    if (ref < 0) {
+      const leaf = -ref - 1;
+      depths.set(leaf, d);
+      visits.set(leaf, (visits.get(leaf) ?? 0) + 1);
+      return;
+    }
+    go(tree.nodeLeft[ref], d + 1);
+    go(tree.nodeRight[ref], d + 1);
+  };
+  go(tree.root, 0);
+  return { depths, visits };
+}
+
+function checkTree(name: string, table: TableFile): void {
+  describe(name, () => {
+    const tree = buildSearchTree(table.regions, table.dims.ntheta);
+    it('returns the same region as sequential search on 20 000 seeded points', () => {
+      let located = 0;
+      for (const p of sampleBox(table.box, 20000, 21)) {
+        const s = locateSequential(table.regions, p);
+        expect(locateTree(tree, p, table.regions)).toBe(s);
+        if (s >= 0) located++;
+      }
+      expect(located).toBeGreaterThan(5000);
+    });
+    it('on points just inside/outside every facet: found exactly when sequential search finds a region, and the region holds θ', () => {
+      for (const p of facetPoints(table)) {
+        const s = locateSequential(table.regions, p);
+        const t = locateTree(tree, p, table.regions);
+        expect(t >= 0).toBe(s >= 0);
+        if (t >= 0) expect(regionContains(table.regions[t], p, tol.inside)).toBe(true);
+      }
+    });
+    it('reports the true worst depth over all leaves; every leaf reached once, every region in some leaf', () => {
+      const { depths, visits } = walk(tree);
+      expect(depths.size).toBe(tree.leafStart.length - 1);
+      expect([...visits.values()].every((v) => v === 1)).toBe(true);
+      expect(tree.stats.maxDepth).toBe(Math.max(...depths.values()));
+      expect(tree.stats.leaves).toBe(depths.size);
+      const inLeaf = new Set(tree.leafRegions);
+      for (let r = 0; r < table.regions.length; r++) expect(inLeaf.has(r)).toBe(true);
+    });
+  });
+}
+
+describe('analytic: an 8×8 grid of unit squares', () => {
+  // Halving lines x = 4, y = 4, … split 2^k×2^k cells without cutting any: a perfectly balanced
+  // tree of depth log2(64) = 6 with one square per leaf exists, and the min-max rule finds it.
+  const table = gridTable(8, (i, j) => ({ F: [[i, j]], g: [i * 8 + j] }));
+  const tree = buildSearchTree(table.regions, 2);
+  it('has depth 6, 64 leaves of one region, 63 nodes', () => {
+    expect(tree.stats.maxDepth).toBe(6);
+    expect(tree.stats.leaves).toBe(64);
+    expect(tree.stats.nodes).toBe(63);
+    expect(tree.stats.maxLeafSize).toBe(1);
+  });
+  it('locates the centre of cell (i, j) in that cell', () => {
+    for (let i = 0; i < 8; i++)
+      for (let j = 0; j < 8; j++) {
+        const r = locateTree(tree, [i + 0.5, j + 0.5], table.regions);
+        expect(table.regions[r].law.g[0]).toBe(i * 8 + j);
+      }
+  });
+  it('returns −1 outside the box', () => {
+    expect(locateTree(tree, [-0.1, 3], table.regions)).toBe(-1);
+    expect(locateTree(tree, [3, 8.001], table.regions)).toBe(-1);
+  });
+});
+
+for (const ex of EXAMPLES) checkTree(`example ${ex}`, exampleTable(ex).table);
+checkTree('synthetic arrangement of 30 lines in 2-D', arrangementTable({ lower: [-3, -2], upper: [3, 2], planes: 30, seed: 3 }));

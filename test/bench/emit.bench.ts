@@ -1,0 +1,187 @@
+/**
+ * Benchmark of the generated C against the online QP it replaces, on the same seeded points:
+ * ns per evaluation of the compiled C (tree and sequential search, float and double, gcc -O2)
+ * and of quadprog (Goldfarb–Idnani dual method) in Node on the same condensed QP, with the ratio.
+ * The table is our own scenario (a winch drum position loop, invented numbers) with ≈1000 regions.
+ */
+import { execFileSync } from 'node:child_process';
+import { createRequire } from 'node:module';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { parseProblem } from '../../src/problem/index.js';
+import { buildMpqp } from '../../src/mpqp/condition.js';
+import { solvePartition } from '../../src/mpqp/solve.js';
+import { makeTable } from '../../src/table/build.js';
+import { locateSequential } from '../../src/table/table.js';
+import { emitC, treeForTable } from '../../src/emit/index.js';
+import { locateTree } from '../../src/partition/tree.js';
+import { sampleBox } from '../../src/emit/sample.js';
+import { formatReal } from '../../src/emit/c.js';
+import type { MpqpProblem } from '../../src/mpqp/types.js';
+
+const require = createRequire(import.meta.url);
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+const quadprog: any = require('quadprog');
+
+const POINTS = 20000;
+const REPS = 31;
+const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
+
+export const WINCH = {
+  name: 'winch-drum',
+  plant: { A: [[1, 0.04], [0, 0.97]], B: [[0.0012], [0.055]], timeDomain: 'discrete', sampleTime: 0.04 },
+  horizon: 25,
+  weights: { state: [[4, 0], [0, 0.3]], input: [[0.05]], terminal: 'riccati' },
+  constraints: { input: { lower: [-1.2], upper: [1.2] }, state: { lower: [-2.2, -0.5], upper: [2.2, 0.5] } },
+  parameters: { lower: [-2.5, -0.7], upper: [2.5, 0.7] },
+};
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)];
+}
+
+/** C timing harness: REPS passes over the points, prints the median ns per evaluation. */
+function benchMain(prefix: string, real: 'float' | 'double', points: number[][]): string {
+  const flat = points.flatMap((p) => p.map((v) => (real === 'float' ? Math.fround(v) : v)));
+  const NT = `${prefix.toUpperCase()}_NT`;
+  return `#include <stdio.h>
+#include <time.h>
+#include "${prefix}.h"
+static const ${real} pts[${flat.length}] = {${flat.map((v) => formatReal(v, real)).join(',')}};
+static int cmp(const void *a, const void *b) { double x = *(const double *)a, y = *(const double *)b; return (x > y) - (x < y); }
+#include <stdlib.h>
+int main(void)
+{
+    double ns[${REPS}];
+    volatile double sink = 0.0;
+    unsigned r, i;
+    long found = 0;
+    for (r = 0u; r < ${REPS}u; ++r) {
+        struct timespec t0, t1;
+        ${real} u[1] = {0};
+        double acc = 0.0;
+        clock_gettime(CLOCK_MONOTONIC, &t0);
+        for (i = 0u; i < ${points.length}u; ++i) {
+            int k = ${prefix}_eval(&pts[i * ${NT}], u);
+            acc += (double)u[0] + (double)k;
+            if (r == 0u && k >= 0) ++found;
+        }
+        clock_gettime(CLOCK_MONOTONIC, &t1);
+        sink += acc;
+        ns[r] = ((double)(t1.tv_sec - t0.tv_sec) * 1e9 + (double)(t1.tv_nsec - t0.tv_nsec)) / ${points.length}.0;
+    }
+    qsort(ns, ${REPS}u, sizeof ns[0], cmp);
+    printf("%.2f %.2f %.2f %ld\\n", ns[${REPS} / 2], ns[0], ns[${REPS} - 1], found);
+    (void)sink;
+    return 0;
+}
+`;
+}
+
+/** quadprog on the condensed QP at θ; D is copied per call because quadprog factorises it in place. */
+function makeQp(problem: MpqpProblem) {
+  const { nz, nc, ntheta: nt } = problem;
+  const Amat: number[][] = [[]];
+  for (let j = 0; j < nz; j++) {
+    const col = [0];
+    for (let i = 0; i < nc; i++) col.push(-problem.G[i * nz + j]);
+    Amat.push(col);
+  }
+  const D0: number[][] = [[]];
+  for (let i = 0; i < nz; i++) {
+    const row = [0];
+    for (let j = 0; j < nz; j++) row.push(problem.H[i * nz + j]);
+    D0.push(row);
+  }
+  return (theta: number[]): number => {
+    const D = D0.map((r) => r.slice());
+    const d = [0];
+    for (let i = 0; i < nz; i++) {
+      let s = 0;
+      for (let j = 0; j < nt; j++) s += problem.F[i * nt + j] * theta[j];
+      d.push(-s);
+    }
+    const b0 = [0];
+    for (let i = 0; i < nc; i++) {
+      let s = problem.w[i];
+      for (let j = 0; j < nt; j++) s += problem.E[i * nt + j] * theta[j];
+      b0.push(-s);
+    }
+    const res = quadprog.solveQP(D, d, Amat, b0, 0);
+    return res.message ? NaN : res.solution[1];
+  };
+}
+
+export async function run(): Promise<void> {
+  const t0 = Date.now();
+  const loaded = parseProblem(WINCH, 'winch-drum (bench)');
+  const mpqp = buildMpqp(loaded.model);
+  const table = makeTable(loaded, mpqp, solvePartition(mpqp, { timeLimit: 300 }));
+  const R = table.regions.length;
+  const solveS = (Date.now() - t0) / 1000;
+  const t1 = Date.now();
+  const tree = treeForTable(table);
+  const treeS = (Date.now() - t1) / 1000;
+  const points = sampleBox(table.box, POINTS, 2026);
+  const out: string[] = [];
+  out.push(`emit benchmark: table "${table.name}", ${R} regions, θ in ${table.dims.ntheta}-D, nz = ${mpqp.nz}, ${mpqp.nc} constraint rows${table.stats.complete ? '' : ' [INCOMPLETE]'}`);
+  out.push(`  solve ${solveS.toFixed(1)} s, tree build ${treeS.toFixed(2)} s: depth ${tree.stats.maxDepth} (target ≤ 2·log2(${R}) = ${(2 * Math.log2(R)).toFixed(1)}), ${tree.stats.nodes} nodes, ${tree.stats.leaves} leaves`);
+
+  const dir = mkdtempSync(join(tmpdir(), 'tessera-bench-'));
+  const cNs: Record<string, number> = {};
+  for (const search of ['tree', 'sequential'] as const)
+    for (const precision of ['float', 'double'] as const) {
+      const r = emitC(table, { precision, search, prefix: 'law', tree });
+      const sub = join(dir, `${search}-${precision}`);
+      execFileSync('mkdir', ['-p', sub]);
+      writeFileSync(join(sub, 'law.h'), r.header);
+      writeFileSync(join(sub, 'law.c'), r.source);
+      writeFileSync(join(sub, 'bench.c'), benchMain('law', precision, points));
+      // the library with the issue's strict flags; the harness needs POSIX clock_gettime
+      execFileSync('gcc', [...STRICT, '-c', '-o', join(sub, 'law.o'), join(sub, 'law.c')]);
+      execFileSync('gcc', ['-std=c99', '-D_POSIX_C_SOURCE=199309L', '-O2', '-o', join(sub, 'bench'), join(sub, 'bench.c'), join(sub, 'law.o')]);
+      const [med, lo, hi, found] = execFileSync(join(sub, 'bench'), { encoding: 'utf8' }).trim().split(' ').map(Number);
+      cNs[`${search}-${precision}`] = med;
+      out.push(
+        `  C ${search.padEnd(10)} ${precision.padEnd(6)}: ${med.toFixed(1).padStart(8)} ns/eval median of ${REPS} passes (min ${lo.toFixed(1)}, max ${hi.toFixed(1)}), ` +
+          `${found}/${POINTS} located, worst case ${r.cost.worstMultiplyAdds} MACs, ${r.cost.bytes[precision].total} B`,
+      );
+    }
+
+  // TypeScript evaluators on the same points, for reference
+  const timeTs = (f: (p: number[]) => number, pts: number[][], reps: number): number => {
+    const ns: number[] = [];
+    let sink = 0;
+    for (let r = 0; r < reps; r++) {
+      const s = process.hrtime.bigint();
+      for (const p of pts) sink += f(p);
+      ns.push(Number(process.hrtime.bigint() - s) / pts.length);
+    }
+    if (sink === 0.5) out.push('');
+    return median(ns);
+  };
+  const tsTree = timeTs((p) => locateTree(tree, p, table.regions), points, 7);
+  const tsSeq = timeTs((p) => locateSequential(table.regions, p), points.slice(0, 4000), 5);
+  out.push(`  TS locateTree ${tsTree.toFixed(0)} ns/eval, locateSequential ${tsSeq.toFixed(0)} ns/eval`);
+
+  // online QP on the same points (a subset: one QP costs tens of microseconds)
+  const qp = makeQp(mpqp);
+  const qpPts = points.slice(0, 4000);
+  const qpNs = timeTs((p) => {
+    const u = qp(p);
+    return Number.isNaN(u) ? 0 : u;
+  }, qpPts, 5);
+  out.push(`  online QP (quadprog, Node, nz = ${mpqp.nz}): ${(qpNs / 1000).toFixed(1)} µs/solve median of 5 passes over ${qpPts.length} of the same points`);
+  for (const k of Object.keys(cNs)) out.push(`  ratio QP / C ${k}: ${(qpNs / cNs[k]).toFixed(0)}×`);
+  const treeFloat = cNs['tree-float'];
+  out.push(
+    `  targets: tree (float) ${treeFloat.toFixed(1)} ns ${treeFloat <= 100 ? '≤' : '>'} 100 ns; ${(qpNs / treeFloat).toFixed(0)}× ${qpNs / treeFloat >= 500 ? '≥' : '<'} 500×; ` +
+      `depth ${tree.stats.maxDepth} ${tree.stats.maxDepth <= 2 * Math.log2(R) ? '≤' : '>'} ${(2 * Math.log2(R)).toFixed(1)}`,
+  );
+  console.log(out.join('\n'));
+}
+
+if (import.meta.url === pathToFileURL(process.argv[1] ?? '').href) await run();

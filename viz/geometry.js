@@ -257,7 +257,14 @@
     return map.F.map(function (row, i) { return row.reduce(function (s, v, j) { return s + v * th[j]; }, map.g[i]); });
   }
 
+  function convexContains(p, pt, eps) {
+    var hs = edgeHalfPlanes(ccw(p));
+    for (var i = 0; i < hs.length; i++) if (hs[i].a[0] * pt[0] + hs[i].a[1] * pt[1] > hs[i].c + eps) return false;
+    return true;
+  }
+
   global.tesseraGeometry = {
+    convexContains: convexContains,
     area: area, ccw: ccw, thickness: thickness, sliceRegions: sliceRegions, sliceGaps: sliceGaps,
     feasibleSlice: feasibleSlice, adjacency: adjacency, locate: locate, affine: affine, rect: rect,
   };

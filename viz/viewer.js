@@ -218,12 +218,15 @@
     svg.selectAll('path.region').classed('hover', function (p) { return hit.region !== null && p.id === hit.region.id; });
     svg.selectAll('path.region.hover').raise();
     if (!hit.region) {
-      info.attr('data-region', -1).html('');
-      info.append('div').attr('class', 'head').text('no region here');
-      info.append('div').text('infeasible, a hole, or outside the box: the controller needs a fallback here.');
+      var pt = [th[state.axes[0]], th[state.axes[1]]], g = state.slice.gaps, R = state.slice.spec.rect, e = 1e-9 * Math.max(1, R.x1 - R.x0, R.y1 - R.y0);
+      var inHole = g.holes.some(function (q) { return G.convexContains(q, pt, e); });
+      var inInf = !inHole && g.infeasible.some(function (q) { return G.convexContains(q, pt, e); });
+      info.attr('data-region', -1).attr('data-gap', inHole ? 'hole' : inInf ? 'infeasible' : 'unclassified').html('');
+      info.append('div').attr('class', 'head' + (inHole ? ' warn' : '')).text(inHole ? 'HOLE: no region, yet the problem is feasible here' : inInf ? 'infeasible here' : 'no region here');
+      info.append('div').text(inHole ? 'the controller has no law at this θ: a solver gap, needs a fallback.' : inInf ? 'no input sequence meets the constraints at this θ.' : 'not classified (no problem data loaded).');
       return;
     }
-    info.attr('data-region', hit.region.id).html('');
+    info.attr('data-region', hit.region.id).attr('data-gap', null).html('');
     info.append('div').attr('class', 'head').text('region ' + hit.region.id);
     info.append('div').text('active set: ' + activeText(t, hit.region));
     info.append('div').attr('class', 'law').text(lawText(t, hit.region));

@@ -240,7 +240,9 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       .y((t) => sy(t[iy]));
     push(`<g class="trajectories" clip-path="url(#plot)">`);
     for (const tr of opts.trajectories) {
-      push(`<path class="trajectory" d="${ln(tr.points)}" fill="none" stroke="#111111" stroke-width="1.6"/>`);
+      // white casing under the black line keeps it visible on dark heat colours too
+      push(`<path d="${ln(tr.points)}" fill="none" stroke="#ffffff" stroke-width="4" stroke-opacity="0.85" stroke-linejoin="round"/>`);
+      push(`<path class="trajectory" d="${ln(tr.points)}" fill="none" stroke="#111111" stroke-width="1.6" stroke-linejoin="round"/>`);
       for (const t of tr.points.slice(1)) push(`<circle cx="${sx(t[ix]).toFixed(1)}" cy="${sy(t[iy]).toFixed(1)}" r="1.8" fill="#111111"/>`);
       const s0 = tr.points[0];
       push(`<circle class="trajectory-start" cx="${sx(s0[ix]).toFixed(1)}" cy="${sy(s0[iy]).toFixed(1)}" r="4.5" fill="#ffffff" stroke="#111111" stroke-width="1.8"/>`);

@@ -13,7 +13,7 @@
   var pct = d3.format('.1%');
   var W = 640, H = 560, M = { left: 64, right: 16, top: 16, bottom: 52 };
 
-  var state = { data: null, axes: [0, 1], fixed: [], colourBy: 'law', showGaps: true, redraws: 0, slice: null };
+  var state = { pick: null, data: null, axes: [0, 1], fixed: [], colourBy: 'law', showGaps: true, redraws: 0, slice: null };
   var svg = d3.select('#map').attr('width', W).attr('height', H).attr('viewBox', '0 0 ' + W + ' ' + H);
   var sx = d3.scaleLinear(), sy = d3.scaleLinear();
 
@@ -88,6 +88,7 @@
     var t = data.table;
     state.axes = [0, Math.min(1, t.dims.ntheta - 1)];
     state.fixed = t.box.lower.map(function (lo, k) { return (lo + t.box.upper[k]) / 2; });
+    state.pick = null;
     d3.select('#title').text(t.name);
     d3.select('#subtitle').text(t.regions.length + ' regions · θ = [' + t.thetaNames.join(', ') + '] · u = [' + t.inputNames.join(', ') + ']' +
       (t.stats && t.stats.complete === false ? ' · INCOMPLETE TABLE (' + t.stats.stopReason + ')' : ''));
@@ -197,6 +198,7 @@
     var g3 = leg.append('div').attr('class', 'key');
     g3.append('span').attr('class', 'swatch hole');
     g3.append('span').text('HOLE (ringed): feasible, but no region — no law');
+    showReadout();
     state.redraws++;
   }
 
@@ -232,9 +234,19 @@
     info.append('div').attr('class', 'law').text(lawText(t, hit.region));
   });
   svg.on('mouseleave', function () { svg.selectAll('path.region').classed('hover', false); });
-  svg.on('click', function (ev) {
-    if (!state.data) return;
-    var t = state.data.table, th = eventTheta(ev), hit = describeAt(th), ro = d3.select('#readout').html('').attr('data-theta', JSON.stringify(th));
+  /** Readout of u(0) at a slice point; kept in step with the sliders (recomputed on every redraw). */
+  function showReadout() {
+    var ro = d3.select('#readout');
+    if (!state.pick) {
+      ro.attr('data-theta', null).attr('data-region', null).attr('data-u', null).html('').text('click the map to read u(0) there');
+      svg.select('circle.pick').style('display', 'none');
+      return;
+    }
+    var t = state.data.table, th = state.fixed.slice();
+    th[state.axes[0]] = state.pick[0];
+    th[state.axes[1]] = state.pick[1];
+    var hit = describeAt(th);
+    ro.html('').attr('data-theta', JSON.stringify(th));
     ro.append('div').attr('class', 'head').text('θ = (' + th.map(function (v, k) { return t.thetaNames[k] + ' ' + fmt(v); }).join(', ') + ')');
     if (hit.region) {
       var u = G.affine(hit.region.law, th);
@@ -244,7 +256,13 @@
       ro.attr('data-region', -1).attr('data-u', 'null');
       ro.append('div').attr('class', 'u warn').text('no region holds this θ: no law (fallback needed)');
     }
-    svg.select('circle.pick').attr('cx', sx(th[state.axes[0]])).attr('cy', sy(th[state.axes[1]])).style('display', null);
+    svg.select('circle.pick').attr('cx', sx(state.pick[0])).attr('cy', sy(state.pick[1])).style('display', null);
+  }
+  svg.on('click', function (ev) {
+    if (!state.data) return;
+    var th = eventTheta(ev);
+    state.pick = [th[state.axes[0]], th[state.axes[1]]];
+    showReadout();
   });
 
   function changeAxis(a, v) {
@@ -254,7 +272,7 @@
     d3.select('#axis-x').property('value', state.axes[0]);
     d3.select('#axis-y').property('value', state.axes[1]);
     buildSliders();
-    svg.select('circle.pick').style('display', 'none');
+    state.pick = null;
     render();
   }
   d3.select('#axis-x').on('change', function () { changeAxis(0, +this.value); });

@@ -109,6 +109,12 @@ describe.skipIf(skip)('viewer in headless Chromium', { timeout: 60000 }, () => {
     const expected = valve.table.regions[locateSequential(valve.table.regions, liftPoint(spec, x, y))].id;
     expect(await page.locator('#info').getAttribute('data-region')).toBe(String(expected));
     expect(await page.locator('path.region').first().getAttribute('d')).not.toBe(dBefore);
+    // the clicked-point readout follows the slider: its θ carries the new fixed value
+    const th = JSON.parse((await page.locator('#readout').getAttribute('data-theta'))!) as number[];
+    expect(th[2]).toBeCloseTo(actual, 12);
+    const ri = locateSequential(valve.table.regions, th);
+    const u = JSON.parse((await page.locator('#readout').getAttribute('data-u'))!) as number[];
+    applyAffine(valve.table.regions[ri].law, th).forEach((v, i) => expect(u[i]).toBeCloseTo(v, 9));
     await page.screenshot({ path: join(outDir, 'viewer-fixed.png') });
   });
 

@@ -15,7 +15,7 @@ export type SearchKind = 'tree' | 'sequential';
  * The region test in float cannot resolve tol.inside (1e-8 is below single-precision resolution of
  * θ of order 1), so the float build widens it to this many units in the last place of the data scale.
  */
-export const FLOAT_SLACK_ULPS = 16;
+export const FLOAT_SLACK_ULPS = 4;
 const FLOAT_EPS = 2 ** -23; // machine constant of IEEE single precision, not a tolerance
 
 export interface EmitArrays {

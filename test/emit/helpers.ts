@@ -1,6 +1,8 @@
 /** Shared helpers of the emit tests: example tables solved in-process, and gcc in a temp dir. */
 import { execFileSync, spawnSync } from 'node:child_process';
-import { mkdtempSync, readdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { writeFileAtomic } from '../../src/io/atomic.js';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { loadProblem } from '../../src/problem/index.js';
@@ -17,13 +19,39 @@ export const EXAMPLES = readdirSync(join(import.meta.dirname, '../../examples'))
 
 const cache = new Map<string, { table: TableFile; mpqp: MpqpProblem }>();
 
-/** Table of examples/<file>, solved with the engine (the same path as `tessera solve`). */
+/** sha256 of every engine source file: a cached table is reused only while the engine is unchanged. */
+function engineHash(): string {
+  const h = createHash('sha256');
+  const walk = (dir: string): void => {
+    for (const e of readdirSync(dir, { withFileTypes: true }).sort((a, b) => a.name.localeCompare(b.name))) {
+      const p = join(dir, e.name);
+      if (e.isDirectory()) walk(p);
+      else if (e.name.endsWith('.ts')) h.update(p).update(readFileSync(p));
+    }
+  };
+  walk(join(import.meta.dirname, '../../src'));
+  return h.digest('hex');
+}
+
+/**
+ * Table of examples/<file>, solved with the engine (the same path as `tessera solve`). The test
+ * files run in separate workers, so the solved table is kept in os.tmpdir() keyed by the problem
+ * text and the engine sources, and solved again whenever either changes.
+ */
 export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProblem } {
   let hit = cache.get(file);
   if (!hit) {
-    const loaded = loadProblem(join(import.meta.dirname, '../../examples', file));
+    const path = join(import.meta.dirname, '../../examples', file);
+    const loaded = loadProblem(path);
     const mpqp = buildMpqp(loaded.model);
-    const table = makeTable(loaded, mpqp, solvePartition(mpqp, {}));
+    const key = createHash('sha256').update(readFileSync(path)).update(engineHash()).digest('hex').slice(0, 24);
+    const cached = join(tmpdir(), `tessera-emit-test-${key}.table.json`);
+    let table: TableFile;
+    if (existsSync(cached)) table = JSON.parse(readFileSync(cached, 'utf8')) as TableFile;
+    else {
+      table = makeTable(loaded, mpqp, solvePartition(mpqp, {}));
+      writeFileAtomic(cached, JSON.stringify(table));
+    }
     hit = { table, mpqp };
     cache.set(file, hit);
   }

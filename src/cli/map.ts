@@ -6,6 +6,7 @@ import { readTableFile, applyAffine, locateSequential } from '../table/table.js'
 import type { TableFile } from '../table/format.js';
 import { loadProblem, parseProblem } from '../problem/index.js';
 import { buildMpqp } from '../mpqp/condition.js';
+import { problemHash } from '../table/build.js';
 import type { MpqpProblem } from '../mpqp/types.js';
 import type { LoadedProblem } from '../problem/index.js';
 import { analyseSlice } from '../check/gaps.js';
@@ -19,6 +20,8 @@ const CLI = '(command line)';
 export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): { loaded: LoadedProblem; mpqp: MpqpProblem } {
   const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (key problem)`);
   const mpqp = buildMpqp(loaded.model);
+  if (problemFile && table.problemHash && problemHash(loaded.raw) !== table.problemHash)
+    process.stderr.write(`tessera: warning: ${problemFile} is not the problem ${tableFile} was built from (hash differs); feasibility is judged by ${problemFile}\n`);
   if (mpqp.ntheta !== table.dims.ntheta)
     throw new InputError(problemFile ?? tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
   return { loaded, mpqp };

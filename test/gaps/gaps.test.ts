@@ -133,3 +133,18 @@ describe('a deliberately deleted region', () => {
     });
   }
 });
+
+describe('bounded coverage run', () => {
+  it('a time limit stops the Monte Carlo early and marks the result incomplete, with the error for the N actually drawn', async () => {
+    const { formatReport } = await import('../../src/cli/gaps.js');
+    const table = syntheticTable(default2d);
+    const rep = analyseCoverage(table, syntheticProblem(default2d), { samples: 1_000_000, seed: 2, timeLimit: 0, noProbes: true });
+    expect(rep.monteCarlo.complete).toBe(false);
+    expect(rep.monteCarlo.samples).toBe(256);
+    const p = rep.monteCarlo.infeasible.fraction;
+    expect(rep.monteCarlo.infeasible.stderr).toBeCloseTo(Math.sqrt((p * (1 - p)) / 256), 12);
+    expect(formatReport(rep)).toMatch(/stopped early by the time limit; 1000000 requested/);
+    const inc = { ...table, stats: { ...table.stats, complete: false, stopReason: 'max-regions' as const } };
+    expect(formatReport(analyseCoverage(inc, syntheticProblem(default2d), { samples: 500 }))).toMatch(/INCOMPLETE TABLE/);
+  });
+});

@@ -1,18 +1,17 @@
 import type { Command } from 'commander';
-import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTableFile, tableToJson } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
-import { emitC, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import { emitC, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
 import { buildArrays, evaluateArrays, type CostFigures } from '../emit/arrays.js';
 import { checkPrefix, emitSelfTest } from '../emit/c.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
 import { certifyFloat, type Certificate } from '../check/certify.js';
 import { mergeRegions } from '../partition/merge.js';
-import { TREE_FORMAT, TREE_VERSION, type SearchTree } from '../partition/tree.js';
+import type { SearchTree } from '../partition/tree.js';
 
 const CLI = '(command line)';
 
@@ -30,22 +29,6 @@ function positive(flag: string, integer: boolean) {
       throw new InputError(CLI, flag, `expected a positive ${integer ? 'integer' : 'number'}, got "${v}"`);
     return x;
   };
-}
-
-/** Read a tree side file and check that it was built for this table. */
-export function readTreeFile(path: string, table: TableFile, hash: string): SearchTree {
-  let raw: unknown;
-  try {
-    raw = JSON.parse(readFileSync(path, 'utf8'));
-  } catch (e) {
-    throw new InputError(path, '', `cannot read the search tree (${(e as Error).message})`);
-  }
-  const t = raw as SearchTree;
-  if (!t || t.format !== TREE_FORMAT) throw new InputError(path, 'format', `expected "${TREE_FORMAT}"`);
-  if (t.version !== TREE_VERSION) throw new InputError(path, 'version', `unsupported version ${JSON.stringify(t.version)}`);
-  if (t.tableHash !== hash) throw new InputError(path, 'tableHash', `built for table ${t.tableHash}, not for this table (${hash})`);
-  if (t.regionCount !== table.regions.length || t.ntheta !== table.dims.ntheta) throw new InputError(path, 'regionCount', 'does not match the table');
-  return t;
 }
 
 interface EmitCliOptions {
@@ -102,7 +85,12 @@ export function register(program: Command): void {
       let merged = false;
       const writes: [string, string][] = [];
       if (o.merge || o.mergedTable) {
-        const m = mergeRegions(table);
+        let mshown = false;
+        const m = mergeRegions(table, (p) => {
+          mshown = true;
+          process.stderr.write(`\rmerge: ${p.groupsDone}/${p.groups} law groups, ${p.tests} union tests, ${p.elapsedSeconds.toFixed(1)} s`);
+        });
+        if (mshown) process.stderr.write('\n');
         table = m.table;
         merged = true;
         process.stderr.write(`merge: ${m.stats.before} regions -> ${m.stats.after} (${m.stats.tests} union tests${m.stats.undecided ? `, ${m.stats.undecided} undecided, left apart` : ''})\n`);

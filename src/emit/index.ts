@@ -4,9 +4,11 @@
  * DIR/NAME.tree.json); `locateTree` in src/partition/tree.ts evaluates it from TypeScript.
  */
 import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
+import { InputError } from '../io/errors.js';
 import { tableToJson } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
-import { buildSearchTree, type SearchTree, type TreeOptions } from '../partition/tree.js';
+import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { buildArrays, costFigures, type CostFigures, type EmitArrays, type Precision, type SearchKind } from './arrays.js';
 import { emitHeader, emitSource } from './c.js';
 
@@ -48,3 +50,20 @@ export function emitC(table: TableFile, opts: EmitOptions): EmitResult {
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom };
   return { header: emitHeader(arrays, meta), source: emitSource(arrays, meta), arrays, tree, cost: costFigures(arrays), hash };
 }
+
+/** Read a tree side file and check that it was built for this table. */
+export function readTreeFile(path: string, table: TableFile, hash: string): SearchTree {
+  let raw: unknown;
+  try {
+    raw = JSON.parse(readFileSync(path, 'utf8'));
+  } catch (e) {
+    throw new InputError(path, '', `cannot read the search tree (${(e as Error).message})`);
+  }
+  const t = raw as SearchTree;
+  if (!t || t.format !== TREE_FORMAT) throw new InputError(path, 'format', `expected "${TREE_FORMAT}"`);
+  if (t.version !== TREE_VERSION) throw new InputError(path, 'version', `unsupported version ${JSON.stringify(t.version)}`);
+  if (t.tableHash !== hash) throw new InputError(path, 'tableHash', `built for table ${t.tableHash}, not for this table (${hash})`);
+  if (t.regionCount !== table.regions.length || t.ntheta !== table.dims.ntheta) throw new InputError(path, 'regionCount', 'does not match the table');
+  return t;
+}
+

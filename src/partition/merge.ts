@@ -159,7 +159,12 @@ function boxRows(lower: number[], upper: number[]): HalfSpaces {
 }
 
 /** Merge regions of a table with the same law whose union is convex; returns the new table and counts. */
-export function mergeRegions(table: TableFile): { table: TableFile; stats: MergeStats } {
+export function mergeRegions(
+  table: TableFile,
+  onProgress?: (p: { groupsDone: number; groups: number; tests: number; elapsedSeconds: number }) => void,
+): { table: TableFile; stats: MergeStats } {
+  const t0 = Date.now();
+  let lastProgress = t0;
   const n = table.dims.ntheta;
   const regions = table.regions;
   const box = boxRows(table.box.lower, table.box.upper);
@@ -176,7 +181,11 @@ export function mergeRegions(table: TableFile): { table: TableFile; stats: Merge
   }
   const pieces: Piece[] = [];
   let nextUid = 0;
-  for (const group of groups) {
+  for (const [gi, group] of groups.entries()) {
+    if (onProgress && Date.now() - lastProgress > 100) {
+      lastProgress = Date.now();
+      onProgress({ groupsDone: gi, groups: groups.length, tests: stats.tests, elapsedSeconds: (Date.now() - t0) / 1000 });
+    }
     const work: Piece[] = [];
     for (const i of group) {
       const v = polytopeVertices(regions[i], n);

@@ -6,6 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { emitC } from '../../src/emit/index.js';
+import { arraysToJson } from '../../src/emit/export.js';
 import type { TableFile } from '../../src/table/format.js';
 import { compile, exampleTable, run } from './helpers.js';
 import { arrangementTable, gridTable } from './synthetic.js';
@@ -48,6 +49,13 @@ function checkCost(name: string, table: TableFile): void {
             total += sizes.get(a.name)!;
           }
           expect(rep.total).toBe(total);
+          // the JSON export carries the same numbers as the C arrays (C literals read back as numbers)
+          const exported = JSON.parse(arraysToJson(r.arrays)).arrays as Record<string, { ctype: string; values: number[] }>;
+          for (const [name, a] of arrays) {
+            expect(exported[name].ctype).toBe(a.ctype);
+            const back = precision === 'float' ? a.values.map(Math.fround) : a.values;
+            expect(exported[name].values).toEqual(back);
+          }
 
           // worst case from the parsed arrays
           const nt = table.dims.ntheta;

@@ -50,6 +50,22 @@ function checkTree(name: string, table: TableFile): void {
         if (t >= 0) expect(regionContains(table.regions[t], p, tol.inside)).toBe(true);
       }
     });
+    it('points exactly on shared facets (Chebyshev centre projected onto the facet) find a region holding them', () => {
+      let tested = 0;
+      for (const r of table.regions)
+        r.A.forEach((a, i) => {
+          if (r.facets[i].neighbours.length === 0) return;
+          let ac = 0;
+          for (let j = 0; j < a.length; j++) ac += a[j] * r.chebyshev.center[j];
+          const p = r.chebyshev.center.map((c, j) => c + (r.b[i] - ac) * a[j]);
+          if (!regionContains(r, p, tol.inside)) return; // the projection can leave the region past another facet
+          tested++;
+          const t = locateTree(tree, p, table.regions);
+          expect(t).toBeGreaterThanOrEqual(0);
+          expect(regionContains(table.regions[t], p, tol.inside)).toBe(true);
+        });
+      expect(tested).toBeGreaterThan(table.regions.length / 2);
+    });
     it('reports the true worst depth over all leaves; every leaf reached once, every region in some leaf', () => {
       const { depths, visits } = walk(tree);
       expect(depths.size).toBe(tree.leafStart.length - 1);

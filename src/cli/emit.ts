@@ -152,6 +152,9 @@ export function register(program: Command): void {
           : '  sequential search over every region',
         `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons`,
         `  memory: ${bytesLine(c)}`,
+        ...c.bytes.float.arrays.map(
+          (a, k) => `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ${(a.ctype === 'float' ? 'real' : a.ctype).padEnd(8)} float ${String(a.bytes).padStart(8)} B  double ${String(c.bytes.double.arrays[k].bytes).padStart(8)} B`,
+        ),
       ];
       if (cert) {
         lines.push(

@@ -4,7 +4,7 @@ import { existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } fro
 import { createHash } from 'node:crypto';
 import { writeFileAtomic } from '../../src/io/atomic.js';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { isAbsolute, join } from 'node:path';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/mpqp/condition.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
@@ -41,7 +41,7 @@ function engineHash(): string {
 export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProblem } {
   let hit = cache.get(file);
   if (!hit) {
-    const path = join(import.meta.dirname, '../../examples', file);
+    const path = isAbsolute(file) ? file : join(import.meta.dirname, '../../examples', file);
     const loaded = loadProblem(path);
     const mpqp = buildMpqp(loaded.model);
     const key = createHash('sha256').update(readFileSync(path)).update(engineHash()).digest('hex').slice(0, 24);
@@ -57,6 +57,12 @@ export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProble
   }
   return hit;
 }
+
+/** Every problem file in test/fixtures/problems, as absolute paths. */
+export const FIXTURES = readdirSync(join(import.meta.dirname, '../fixtures/problems'))
+  .filter((f) => /\.(json|ya?ml)$/i.test(f))
+  .sort()
+  .map((f) => join(import.meta.dirname, '../fixtures/problems', f));
 
 /** The strict flags the generated code must pass (the issue's own list). */
 export const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];

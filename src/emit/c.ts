@@ -98,7 +98,8 @@ extern "C" {
 #endif
 
 /* Evaluate the law at theta: writes u and returns the region index (0-based), or returns -1 and
- * leaves u untouched when theta is in no region. Constant time bound, no allocation, reentrant. */
+ * leaves u untouched when theta is in no region. Bounded loops (worst case in the cost report),
+ * no allocation, no global state: reentrant. */
 int ${P}_eval(const ${real} theta[${P.toUpperCase()}_NT], ${real} u[${P.toUpperCase()}_NU]);
 
 #ifdef __cplusplus

@@ -56,6 +56,8 @@ export interface TreeOptions {
   nodeBudget?: number;
   /** weight of regions duplicated onto both children in the split score (default 0: pure balance, which gave the shallowest trees on our examples) */
   duplicationWeight?: number;
+  /** subset count above which a region's sides are decided by LP instead of its vertices (default VERTEX_BUDGET) */
+  vertexBudget?: number;
   tableHash?: string;
   onProgress?: (p: { nodes: number; leaves: number; elapsedSeconds: number }) => void;
 }
@@ -116,7 +118,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     regionHps.push(own);
     openBoundary.push(open);
   });
-  const vertices = regions.map((r) => polytopeVertices(r, n));
+  const vertices = regions.map((r) => polytopeVertices(r, n, options.vertexBudget));
 
   // side of every (region, hyperplane) pair, computed on first use: 0 unknown, bit 1 left, bit 2 right
   const H = hpA.length;

@@ -78,6 +78,20 @@ function checkTree(name: string, table: TableFile): void {
   });
 }
 
+describe('sides decided by LP (lpMaximize) instead of vertices', () => {
+  // same table, vertex enumeration disabled: every (region, hyperplane) side comes from two LPs;
+  // the vertex route (exact enumeration) is the reference
+  const table = arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 5, seed: 8 });
+  const byVertices = buildSearchTree(table.regions, 3);
+  const byLp = buildSearchTree(table.regions, 3, { vertexBudget: 0 });
+  it('builds the same tree', () => {
+    expect(byVertices.stats.lps).toBe(0);
+    expect(byLp.stats.lps).toBeGreaterThan(0);
+    expect(byLp.nodeHyperplane).toEqual(byVertices.nodeHyperplane);
+    expect(byLp.leafRegions).toEqual(byVertices.leafRegions);
+  });
+});
+
 describe('analytic: an 8×8 grid of unit squares', () => {
   // Halving lines x = 4, y = 4, … split 2^k×2^k cells without cutting any: a perfectly balanced
   // tree of depth log2(64) = 6 with one square per leaf exists, and the min-max rule finds it.

@@ -63,6 +63,8 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
+      if (s.unresolvedPieces > 0)
+        lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');
     });
 }

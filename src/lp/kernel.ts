@@ -1,4 +1,5 @@
 import { tol } from '../tol.js';
+import { lpMaximizeReference } from './reference.js';
 
 /**
  * Dense LP kernel for the hot path: maximise cᵀx subject to A x ≤ b (A m×n row-major), by the
@@ -16,7 +17,7 @@ export interface LpResult {
 }
 
 /** Counts kernel calls (for the statistics in the table and the benchmark). */
-export const lpCounter = { calls: 0 };
+export const lpCounter = { calls: 0, fallbacks: 0 };
 
 /**
  * Maximise from a feasible start x0 (A x0 ≤ b + tol.primal). The caller guarantees
@@ -35,7 +36,7 @@ export function lpMaximizeFrom(
   const x = Float64Array.from(x0);
   const work: number[] = []; // working rows, linearly independent
   const inWork = new Uint8Array(m);
-  if (skip) inWork.set(skip.subarray(0, m)); // rows left out of this LP are never entered
+  const excluded = skip ?? new Uint8Array(m); // rows left out of this LP are never entered
   const rowNorm = new Float64Array(m);
   for (let i = 0; i < m; i++) {
     let s = 0;
@@ -53,6 +54,11 @@ export function lpMaximizeFrom(
     // multipliers μ of c on the working rows (least squares) and the projected direction d = c − A_Wᵀμ
     const k = work.length;
     const mu = projectOnRows(A, n, work, c, d);
+    if (k > 0) {
+      // one refinement pass keeps d orthogonal to the working rows despite round-off
+      const corr = projectOnRows(A, n, work, d, d);
+      for (let p = 0; p < k; p++) mu[p] += corr[p];
+    }
     let dn = 0;
     for (let j = 0; j < n; j++) dn += d[j] * d[j];
     dn = Math.sqrt(dn);
@@ -61,14 +67,14 @@ export function lpMaximizeFrom(
       let tBest = Infinity;
       let iBest = -1;
       for (let i = 0; i < m; i++) {
-        if (inWork[i] || rowNorm[i] === 0) continue;
+        if (inWork[i] || excluded[i] || rowNorm[i] === 0) continue;
         let ad = 0;
         let ax = 0;
         for (let j = 0; j < n; j++) {
           ad += A[i * n + j] * d[j];
           ax += A[i * n + j] * x[j];
         }
-        if (ad <= eps * rowNorm[i] * dn) continue;
+        if (ad <= 1e-9 * rowNorm[i] * dn) continue;
         const t = Math.max(0, (b[i] - ax) / ad);
         if (iBest < 0 || t < tBest - 1e-15 * (1 + tBest)) {
           tBest = t;
@@ -90,11 +96,40 @@ export function lpMaximizeFrom(
         leave = p;
       }
     }
-    if (leave < 0) return { status: 'optimal', x, value: dot(c, x, n), iterations: it };
+    if (leave < 0) {
+      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal) return { status: 'optimal', x, value: dot(c, x, n), iterations: it };
+      break; // round-off drove the iterate out of the polytope: let the reference decide
+    }
     inWork[work[leave]] = 0;
     work.splice(leave, 1);
   }
-  return { status: 'iteration-limit', x, value: dot(c, x, n), iterations: it };
+  lpCounter.fallbacks++;
+  return referenceFallback(c, A, b, m, n, excluded, it);
+}
+
+function maxViolation(A: Float64Array, b: Float64Array, m: number, n: number, x: Float64Array, excluded: Uint8Array): number {
+  let worst = 0;
+  for (let i = 0; i < m; i++) {
+    if (excluded[i]) continue;
+    let s = -b[i];
+    for (let j = 0; j < n; j++) s += A[i * n + j] * x[j];
+    if (s > worst) worst = s;
+  }
+  return worst;
+}
+
+/** The javascript-lp-solver reference on the rows not excluded (rare: iteration limit or round-off). */
+function referenceFallback(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, excluded: Uint8Array, it: number): LpResult {
+  const rows: number[] = [];
+  for (let i = 0; i < m; i++) if (!excluded[i]) rows.push(i);
+  const sub = new Float64Array(rows.length * n);
+  const subB = new Float64Array(rows.length);
+  rows.forEach((q, i) => {
+    for (let j = 0; j < n; j++) sub[i * n + j] = A[q * n + j];
+    subB[i] = b[q];
+  });
+  const r = lpMaximizeReference(c, sub, subB, rows.length, n);
+  return { ...r, iterations: it };
 }
 
 /**

@@ -25,11 +25,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   let scale = 0;
   for (let j = 0; j < nt; j++) scale = Math.max(scale, up[j] - lo[j]);
   const step = Math.max(tol.facetStep * scale, 100 * tol.inside);
-  const minPiece = 10 * step;
+  // facet pieces thinner than this are taken as covered: the bound on any hole the table can have
+  const minPiece = 10 * tol.radius;
   const lp: LpEngine = { lps: 0, reference: options.lp === 'reference' };
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
-  const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done' };
+  const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 };
   let rng = 0x2545f491;
   const rand = (): number => {
     rng ^= rng << 13;
@@ -137,8 +138,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       }
       if (landed === -1) return; // far side infeasible: the facet lies on the feasibility boundary
       if (landed < 0) {
-        slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece, counted below
-        stats.candidates++;
+        slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece: counted, never silent
+        stats.unresolvedPieces++;
         continue;
       }
       if (!neighbours.includes(landed)) neighbours.push(landed);
@@ -146,6 +147,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (!s || containsY(s, piece.point) === false) {
         // the region found does not reach the facet piece numerically: cover the piece's ball to make progress
         slices.push(facet.ballSlice(piece.point, piece.radius));
+        stats.unresolvedPieces++;
       } else slices.push(s);
     }
   }

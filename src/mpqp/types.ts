@@ -98,6 +98,8 @@ export interface PartitionStats {
   complete: boolean;
   /** why the exploration stopped: 'done' | 'max-regions' | 'time-limit' | 'interrupted' */
   stopReason: 'done' | 'max-regions' | 'time-limit' | 'interrupted';
+  /** facet pieces (radius > 10·tol.radius) across which no full-dimensional region could be built; 0 in a sound table */
+  unresolvedPieces: number;
 }
 
 export interface Partition {

@@ -1,0 +1,54 @@
+import { readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { loadProblem } from '../../src/problem/index.js';
+import { buildMpqp } from '../../src/mpqp/condition.js';
+import { solvePartition } from '../../src/mpqp/solve.js';
+import { makeTable } from '../../src/table/build.js';
+import { checkTable, tableToJson } from '../../src/table/table.js';
+import type { TableFile } from '../../src/table/format.js';
+import type { MpqpProblem, Partition } from '../../src/mpqp/types.js';
+import type { LoadedProblem } from '../../src/problem/types.js';
+
+export const root = join(import.meta.dirname, '..', '..');
+export const exampleFiles = readdirSync(join(root, 'examples'))
+  .filter((f) => /\.(json|ya?ml)$/.test(f))
+  .map((f) => join(root, 'examples', f));
+export const fixtureFiles = readdirSync(join(root, 'test', 'fixtures', 'problems'))
+  .filter((f) => /\.(json|ya?ml)$/.test(f))
+  .map((f) => join(root, 'test', 'fixtures', 'problems', f));
+
+export interface Solved {
+  loaded: LoadedProblem;
+  mpqp: MpqpProblem;
+  partition: Partition;
+  /** the table after a full write/read round trip */
+  table: TableFile;
+}
+
+const cache = new Map<string, Solved>();
+
+/** Solve a problem file once per test process and round-trip its table through JSON. */
+export function solved(file: string): Solved {
+  const hit = cache.get(file);
+  if (hit) return hit;
+  const loaded = loadProblem(file);
+  const mpqp = buildMpqp(loaded.model);
+  const partition = solvePartition(mpqp);
+  const table = checkTable(JSON.parse(tableToJson(makeTable(loaded, mpqp, partition))), file);
+  const s = { loaded, mpqp, partition, table };
+  cache.set(file, s);
+  return s;
+}
+
+/** Seeded uniform generator (Park–Miller minimal standard). */
+export function rng(seed: number): () => number {
+  let s = seed % 2147483647 || 1;
+  return () => {
+    s = (s * 16807) % 2147483647;
+    return s / 2147483647;
+  };
+}
+
+export function randomInBox(box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, rnd: () => number): number[] {
+  return Array.from(box.lower, (l, j) => l + rnd() * (box.upper[j] - l));
+}

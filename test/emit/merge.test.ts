@@ -29,7 +29,7 @@ describe('analytic grid cases', () => {
       for (let x = 0.25; x < 4; x += 0.5) {
         expect(locateSequential(m.regions, [x, j + 0.5])).toBe(m.regions.indexOf(r));
       }
-      expect((r as { mergedFrom: number[] }).mergedFrom.length).toBe(4);
+      expect((r as unknown as { mergedFrom: number[] }).mergedFrom.length).toBe(4);
       expect(r.chebyshev.radius).toBeCloseTo(0.5, 9);
     }
   });

@@ -115,7 +115,7 @@ function finishTable(name: string, cells: Cell[], lower: number[], upper: number
     dims: { ntheta: n, nu, nz: nu, nc: 0 },
     tolerances: { ...tol },
     regions,
-    stats: { regions: regions.length, candidates: regions.length, lps: 0, qps: 0, complete: true, stopReason: 'done' },
+    stats: { regions: regions.length, candidates: regions.length, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 },
   };
 }
 

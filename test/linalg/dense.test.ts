@@ -1,0 +1,195 @@
+import { describe, it, expect } from 'vitest';
+import { mathjs } from '../../src/problem/mathjs.js';
+import { tol } from '../../src/tol.js';
+import {
+  choleskyInPlace,
+  choleskySolveInPlace,
+  spdInverse,
+  matMul,
+  transpose,
+  luSolve,
+  fromRows,
+  toRows,
+} from '../../src/linalg/dense.js';
+import { rng, randMat, randSpd } from '../problem/rng.js';
+
+// Reference for every check in this file: mathjs (general-purpose math library, loaded the same way
+// the problem layer loads it) — multiply, transpose, inv, lusolve, det, eigs.
+const math = mathjs();
+
+/** agreement of two results computed by different round-off paths, relative to the data scale */
+const AGREE = 1e-9;
+const sizes = Array.from({ length: 12 }, (_, i) => i + 1);
+
+function maxAbs(a: ArrayLike<number>): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s = Math.max(s, Math.abs(a[i]));
+  return s;
+}
+function maxDiff(a: number[][], b: number[][]): number {
+  let s = 0;
+  a.forEach((row, i) => row.forEach((v, j) => (s = Math.max(s, Math.abs(v - b[i][j])))));
+  return s;
+}
+const asRows = (m: unknown): number[][] => (math.matrix(m as number[][]).toArray() as number[][]).map((r) => (Array.isArray(r) ? r : [r]));
+function lowerOf(l: Float64Array, n: number): number[][] {
+  return Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (j <= i ? l[i * n + j] : 0)));
+}
+
+describe('matMul and transpose = mathjs multiply / transpose (seeded, sizes 1..12)', () => {
+  for (const n of sizes) {
+    it(`r=${n}, k=${((n * 7) % 12) + 1}, c=${((n * 5) % 12) + 1}`, () => {
+      const r = rng(1000 + n);
+      const k = ((n * 7) % 12) + 1;
+      const c = ((n * 5) % 12) + 1;
+      const A = randMat(r, n, k, 3);
+      const B = randMat(r, k, c, 2);
+      // sprinkle exact zeros: the kernel skips zero entries of A
+      A.forEach((row) => row.forEach((_, j) => r() < 0.3 && (row[j] = 0)));
+      const got = toRows(matMul(fromRows(A, k), fromRows(B, c), n, k, c), n, c);
+      const ref = asRows(math.multiply(A, B));
+      expect(maxDiff(got, ref)).toBeLessThanOrEqual(AGREE * (1 + 6 * k));
+      const At = toRows(transpose(fromRows(A, k), n, k), k, n);
+      expect(At).toEqual(asRows(math.transpose(A))); // transpose moves values exactly
+    });
+  }
+});
+
+describe('choleskyInPlace: L Lᵀ = A, L lower with positive diagonal, det A = Π L_ii² (mathjs)', () => {
+  for (const n of sizes) {
+    it(`n=${n}`, () => {
+      const r = rng(2000 + n);
+      const A = randSpd(r, n, 0.5);
+      const a = fromRows(A, n);
+      const upperBefore = toRows(a, n, n);
+      expect(choleskyInPlace(a, n, tol.pd)).toBe(true);
+      const L = lowerOf(a, n);
+      for (let i = 0; i < n; i++) expect(L[i][i]).toBeGreaterThan(0);
+      const LLt = asRows(math.multiply(L, math.transpose(L)));
+      expect(maxDiff(LLt, A)).toBeLessThanOrEqual(AGREE * (1 + maxAbs(a)));
+      // the strict upper triangle is documented as left as is
+      for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) expect(a[i * n + j]).toBe(upperBefore[i][j]);
+      let prod = 1;
+      for (let i = 0; i < n; i++) prod *= L[i][i] * L[i][i];
+      const det = math.det(A) as number;
+      expect(Math.abs(prod - det)).toBeLessThanOrEqual(1e-8 * Math.abs(det));
+    });
+  }
+});
+
+describe('choleskySolveInPlace = mathjs lusolve on SPD systems', () => {
+  for (const n of sizes) {
+    it(`n=${n}, Float64Array and number[] right-hand sides`, () => {
+      const r = rng(3000 + n);
+      const A = randSpd(r, n, 1);
+      const rhs = Array.from({ length: n }, () => 4 * r() - 2);
+      const l = fromRows(A, n);
+      expect(choleskyInPlace(l, n, tol.pd)).toBe(true);
+      const x = Float64Array.from(rhs);
+      choleskySolveInPlace(l, n, x);
+      const xs = rhs.slice();
+      choleskySolveInPlace(l, n, xs);
+      const ref = (math.lusolve(A, rhs) as number[][]).map((row) => row[0]);
+      const scale = 1 + maxAbs(ref);
+      for (let i = 0; i < n; i++) {
+        expect(Math.abs(x[i] - ref[i])).toBeLessThanOrEqual(1e-8 * scale);
+        expect(xs[i]).toBe(x[i]);
+      }
+    });
+  }
+});
+
+describe('spdInverse = mathjs inv, exactly symmetric', () => {
+  for (const n of sizes) {
+    it(`n=${n}`, () => {
+      const r = rng(4000 + n);
+      const A = randSpd(r, n, 0.8);
+      const a = fromRows(A, n);
+      const copy = Float64Array.from(a);
+      const inv = spdInverse(a, n, tol.pd);
+      expect(inv).not.toBeNull();
+      expect(a).toEqual(copy); // input untouched
+      const got = toRows(inv!, n, n);
+      const ref = asRows(math.inv(A));
+      const scale = 1 + Math.max(...ref.map((row) => maxAbs(row)));
+      expect(maxDiff(got, ref)).toBeLessThanOrEqual(1e-8 * scale);
+      for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) expect(got[i][j]).toBe(got[j][i]);
+    });
+  }
+});
+
+describe('luSolve = mathjs lusolve on general (non-symmetric) systems', () => {
+  for (const n of sizes) {
+    it(`n=${n}`, () => {
+      const r = rng(5000 + n);
+      // random matrix with a shrunken diagonal, so partial pivoting has to swap rows
+      const A = randMat(r, n, n, 1);
+      for (let i = 0; i < n; i++) A[i][i] *= 0.01;
+      if (n === 1) A[0][0] = 0.37;
+      // 1-norm condition number by mathjs scales the accepted forward error
+      const cond = (math.norm(A, 1) as number) * (math.norm(math.inv(A), 1) as number);
+      const rhs = Array.from({ length: n }, () => 2 * r() - 1);
+      const m = fromRows(A, n);
+      const b = Float64Array.from(rhs);
+      const x = luSolve(m, n, b, tol.rank);
+      expect(x).not.toBeNull();
+      expect(Array.from(b)).toEqual(rhs); // b untouched
+      const ref = (math.lusolve(A, rhs) as number[][]).map((row) => row[0]);
+      const scale = 1 + maxAbs(ref);
+      for (let i = 0; i < n; i++) expect(Math.abs(x![i] - ref[i])).toBeLessThanOrEqual(1e-13 * cond * scale);
+      // residual of the kernel's own answer, computed by mathjs
+      const res = (math.subtract(math.multiply(A, Array.from(x!)), rhs) as number[]).map(Math.abs);
+      expect(Math.max(...res)).toBeLessThanOrEqual(1e-10 * (1 + maxAbs(m)) * scale * n);
+    });
+  }
+
+  it('a zero leading entry needs a row swap (2×2 worked by hand: [[0,1],[1,0]] x = [3,4] → x = [4,3])', () => {
+    const x = luSolve(fromRows([[0, 1], [1, 0]]), 2, Float64Array.from([3, 4]), tol.rank);
+    expect(Array.from(x!)).toEqual([4, 3]);
+  });
+});
+
+describe('failure cases', () => {
+  for (const n of [2, 3, 5, 8, 12]) {
+    it(`n=${n}: symmetric indefinite → choleskyInPlace false, spdInverse null (mathjs eigs confirms a negative eigenvalue)`, () => {
+      const r = rng(6000 + n);
+      const A = randSpd(r, n, 0.2);
+      // subtract a multiple of a unit vector's outer product large enough to flip one eigenvalue
+      const v = Array.from({ length: n }, () => 2 * r() - 1);
+      const vn = Math.hypot(...v);
+      const big = 10 * (1 + n);
+      const B = A.map((row, i) => row.map((x, j) => x - (big * v[i] * v[j]) / (vn * vn)));
+      const eig = math.eigs(B).values as unknown as number[] | { toArray(): number[] };
+      const values = Array.isArray(eig) ? eig : eig.toArray();
+      expect(Math.min(...values)).toBeLessThan(0);
+      expect(choleskyInPlace(fromRows(B, n), n, tol.pd)).toBe(false);
+      expect(spdInverse(fromRows(B, n), n, tol.pd)).toBeNull();
+    });
+
+    it(`n=${n}: PSD but singular (rank n−1) → not PD`, () => {
+      const r = rng(6100 + n);
+      const M = randMat(r, n, n - 1);
+      const S = asRows(math.multiply(M, math.transpose(M)));
+      expect(Math.abs(math.det(S) as number)).toBeLessThan(1e-9 * Math.max(1, ...S.map((row) => maxAbs(row))) ** n);
+      expect(choleskyInPlace(fromRows(S, n), n, tol.pd)).toBe(false);
+      expect(spdInverse(fromRows(S, n), n, tol.pd)).toBeNull();
+    });
+
+    it(`n=${n}: singular square system (one row a combination of two others) → luSolve null`, () => {
+      const r = rng(6200 + n);
+      const A = randMat(r, n, n, 1);
+      const i = n - 1;
+      A[i] = n >= 3 ? A[0].map((v, j) => 2 * v - 0.5 * A[1][j]) : A[0].map((v) => -3 * v);
+      expect(Math.abs(math.det(A) as number)).toBeLessThan(1e-9);
+      expect(luSolve(fromRows(A, n), n, new Float64Array(n).fill(1), tol.rank)).toBeNull();
+    });
+  }
+
+  it('1×1: zero and negative pivots are rejected, a positive one is not', () => {
+    expect(choleskyInPlace(Float64Array.of(0), 1, tol.pd)).toBe(false);
+    expect(choleskyInPlace(Float64Array.of(-1), 1, tol.pd)).toBe(false);
+    expect(spdInverse(Float64Array.of(4), 1, tol.pd)![0]).toBe(0.25);
+    expect(luSolve(Float64Array.of(0), 1, Float64Array.of(1), tol.rank)).toBeNull();
+    expect(choleskyInPlace(Float64Array.of(Number.NaN), 1, tol.pd)).toBe(false);
+  });
+});

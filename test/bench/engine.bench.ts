@@ -1,0 +1,124 @@
+/**
+ * Engine benchmark: per shipped example and for a scaling series (a positioning axis, invented
+ * numbers, N = 2…12): regions, candidates, LPs, seconds, regions/s, and the per-region cost as a
+ * multiple of one LP plus one KKT solve of the same size, both measured in this run.
+ */
+import { readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { loadProblem, parseProblem } from '../../src/problem/index.js';
+import { buildMpqp } from '../../src/mpqp/condition.js';
+import { solvePartition } from '../../src/mpqp/solve.js';
+import { chebyshevBall } from '../../src/lp/kernel.js';
+import { luSolve } from '../../src/linalg/dense.js';
+import { lpMaximizeReference } from '../../src/lp/reference.js';
+import type { MpqpProblem } from '../../src/mpqp/types.js';
+
+const root = join(import.meta.dirname, '..', '..');
+
+function rng(seed: number): () => number {
+  let s = seed;
+  return () => {
+    s = (s * 16807) % 2147483647;
+    return s / 2147483647;
+  };
+}
+
+/** Median seconds of f over reps runs. */
+function timeIt(f: () => void, reps: number): number {
+  const t: number[] = [];
+  for (let i = 0; i < reps; i++) {
+    const t0 = performance.now();
+    f();
+    t.push((performance.now() - t0) / 1000);
+  }
+  return t.sort((a, b) => a - b)[Math.floor(reps / 2)];
+}
+
+/** One Chebyshev-ball LP in θ-space with as many rows as a region starts with, and one KKT solve of size nz + nθ. */
+function unitCosts(p: MpqpProblem): { lp: number; kkt: number; lpReference: number } {
+  const nt = p.ntheta;
+  const m = p.nc + 2 * nt;
+  const rnd = rng(11);
+  const A = new Float64Array(m * nt);
+  const b = new Float64Array(m);
+  for (let i = 0; i < m; i++) {
+    let n = 0;
+    for (let j = 0; j < nt; j++) {
+      A[i * nt + j] = rnd() - 0.5;
+      n += A[i * nt + j] ** 2;
+    }
+    n = Math.sqrt(n);
+    for (let j = 0; j < nt; j++) A[i * nt + j] /= n;
+    b[i] = 0.5 + rnd();
+  }
+  const start = new Float64Array(nt);
+  const batch = 200;
+  const lp = timeIt(() => {
+    for (let k = 0; k < batch; k++) chebyshevBall(A, b, m, nt, start, 10);
+  }, 9) / batch;
+  const lpReference = timeIt(() => {
+    const n1 = nt + 1;
+    const A1 = new Float64Array((m + 1) * n1);
+    for (let i = 0; i < m; i++) {
+      for (let j = 0; j < nt; j++) A1[i * n1 + j] = A[i * nt + j];
+      A1[i * n1 + nt] = 1;
+    }
+    A1[m * n1 + nt] = 1;
+    const b1 = Float64Array.from([...b, 10]);
+    const c = new Float64Array(n1);
+    c[nt] = 1;
+    for (let k = 0; k < 20; k++) lpMaximizeReference(c, A1, b1, m + 1, n1);
+  }, 5) / 20;
+  const n = p.nz + nt;
+  const M = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) M[i * n + j] = (i === j ? n : 0) + rnd() - 0.5;
+  const rhs = new Float64Array(n).fill(1);
+  const kkt = timeIt(() => {
+    for (let k = 0; k < batch; k++) luSolve(M, n, rhs, 1e-12);
+  }, 9) / batch;
+  return { lp, kkt, lpReference };
+}
+
+function row(name: string, p: MpqpProblem): string {
+  solvePartition(p); // warm-up: let the JIT compile the hot path before timing
+  const t0 = performance.now();
+  const part = solvePartition(p);
+  const sec = (performance.now() - t0) / 1000;
+  const s = part.stats;
+  const u = unitCosts(p);
+  const perRegion = sec / Math.max(1, s.regions);
+  return [
+    name.padEnd(26),
+    `θ ${String(p.ntheta).padStart(1)}`,
+    `nz ${String(p.nz).padStart(2)}`,
+    `regions ${String(s.regions).padStart(5)}`,
+    `cand ${String(s.candidates).padStart(5)} (${(s.candidates / Math.max(1, s.regions)).toFixed(2)}×)`,
+    `LPs ${String(s.lps).padStart(6)}`,
+    `${sec.toFixed(3).padStart(7)} s`,
+    `${(s.regions / sec).toFixed(0).padStart(6)} regions/s`,
+    `LP ${(u.lp * 1e6).toFixed(1)} µs (ref ${(u.lpReference * 1e6).toFixed(0)} µs)`,
+    `KKT ${(u.kkt * 1e6).toFixed(2)} µs`,
+    `region = ${(perRegion / (u.lp + u.kkt)).toFixed(1)}×(LP+KKT)`,
+  ].join('  ');
+}
+
+export async function run(): Promise<void> {
+  console.log('engine: warm timings (second solve of each problem), medians for the unit costs');
+  const ex = readdirSync(join(root, 'examples')).filter((f) => /\.(json|ya?ml)$/.test(f)).sort();
+  for (const f of ex) {
+    const loaded = loadProblem(join(root, 'examples', f));
+    console.log(row(f, buildMpqp(loaded.model)));
+  }
+  console.log('scaling series: positioning axis (double integrator, T = 0.05 s, |u| ≤ 2, |v| ≤ 1), N = 2…12');
+  for (let N = 2; N <= 12; N += 2) {
+    const raw = {
+      name: `axis-N${N}`,
+      plant: { A: [[1, 0.05], [0, 1]], B: [[0.00125], [0.05]] },
+      horizon: N,
+      weights: { state: [[4, 0], [0, 0.2]], input: [[0.05]] },
+      constraints: { input: { lower: [-2], upper: [2] }, state: { lower: [null, -1], upper: [null, 1] } },
+      parameters: { lower: [-2, -1.2], upper: [2, 1.2] },
+    };
+    console.log(row(`axis N=${N}`, buildMpqp(parseProblem(raw, `axis-N${N}.json`).model)));
+  }
+}

@@ -132,7 +132,7 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
       let s = 0;
       if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.regionA[i * n + j] * theta[j]));
       else for (let j = 0; j < n; j++) s += ar.regionA[i * n + j] * theta[j];
-      if (s > ar.regionB[i]) return false;
+      if (!(s <= ar.regionB[i])) return false; // written so that NaN fails the test
     }
     return true;
   };

@@ -125,7 +125,7 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
         for (j = 0u; j < ${NT}; ++j) {
             s += ${P}_region_a[i * (uint32_t)${NT} + j] * theta[j];
         }
-        if (s > ${P}_region_b[i]) {
+        if (!(s <= ${P}_region_b[i])) { /* also rejects NaN */
             return 0;
         }
     }

@@ -285,7 +285,7 @@ export function locateTree(tree: SearchTree, theta: ArrayLike<number>, regions: 
     for (let i = 0; i < r.A.length && inside; i++) {
       let s = 0;
       for (let j = 0; j < n; j++) s += r.A[i][j] * theta[j];
-      if (s > r.b[i] + slack) inside = false;
+      if (!(s <= r.b[i] + slack)) inside = false; // NaN θ lies in no region
     }
     if (inside) return tree.leafRegions[k];
   }

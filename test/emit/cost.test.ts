@@ -116,3 +116,18 @@ describe('one-region table', () => {
     expect(Number(r2)).toBe(-1);
   });
 });
+
+describe('non-finite θ (a failed sensor reading)', () => {
+  // IEEE 754: every ordered comparison with NaN is false (common practice); the region test is
+  // written as !(a·θ <= b) so that NaN and ±∞ that make a·θ NaN land in no region
+  const table = gridTable(2, (i, j) => ({ F: [[1, 2]], g: [i + j] }));
+  for (const search of ['tree', 'sequential'] as const)
+    for (const precision of ['float', 'double'] as const)
+      it(`${search}, ${precision}: returns −1 and leaves u untouched`, () => {
+        const r = emitC(table, { precision, search, prefix: 'law' });
+        const T = precision;
+        const main = `#include <stdio.h>\n#include "law.h"\nint main(void)\n{\n    volatile ${T} zero = 0;\n    ${T} nan = zero / zero, inf = 1 / zero;\n    ${T} cases[4][2];\n    int k;\n    cases[0][0] = nan; cases[0][1] = 0.5;\n    cases[1][0] = 0.5; cases[1][1] = nan;\n    cases[2][0] = inf; cases[2][1] = 0.5;\n    cases[3][0] = -inf; cases[3][1] = inf;\n    for (k = 0; k < 4; ++k) {\n        ${T} u[1] = {7};\n        int reg = law_eval(cases[k], u);\n        printf("%d %g\\n", reg, (double)u[0]);\n    }\n    return 0;\n}\n`;
+        const { exe } = compile('nan', { 'law.h': r.header, 'law.c': r.source, 'main.c': main }, ['law.c', 'main.c']);
+        expect(run(exe).stdout.trim().split('\n')).toEqual(['-1 7', '-1 7', '-1 7', '-1 7']);
+      });
+});

@@ -6,7 +6,7 @@
  */
 import { execFileSync } from 'node:child_process';
 import { createRequire } from 'node:module';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -151,6 +151,32 @@ export async function run(): Promise<void> {
       );
     }
 
+  // closed-loop-like input: a slow seeded random walk through the box, where successive θ are close
+  // and the descent's branches are mostly predicted (the uniform sample above is the hard case)
+  {
+    const rnd = sampleBox({ lower: [-1, -1], upper: [1, 1] }, POINTS, 7);
+    const walk: number[][] = [];
+    let th = table.box.lower.map((l, j) => (l + table.box.upper[j]) / 2);
+    for (const step of rnd) {
+      th = th.map((v, j) => {
+        const w = table.box.upper[j] - table.box.lower[j];
+        const nv = v + 0.002 * w * step[j];
+        return Math.min(table.box.upper[j], Math.max(table.box.lower[j], nv));
+      });
+      walk.push(th);
+    }
+    const sub = join(dir, 'walk');
+    execFileSync('mkdir', ['-p', sub]);
+    const r = emitC(table, { precision: 'float', search: 'tree', prefix: 'law', tree });
+    writeFileSync(join(sub, 'law.h'), r.header);
+    writeFileSync(join(sub, 'law.c'), r.source);
+    writeFileSync(join(sub, 'bench.c'), benchMain('law', 'float', walk));
+    execFileSync('gcc', [...STRICT, '-c', '-o', join(sub, 'law.o'), join(sub, 'law.c')]);
+    execFileSync('gcc', ['-std=c99', '-D_POSIX_C_SOURCE=199309L', '-O2', '-o', join(sub, 'bench'), join(sub, 'bench.c'), join(sub, 'law.o')]);
+    const [med] = execFileSync(join(sub, 'bench'), { encoding: 'utf8' }).trim().split(' ').map(Number);
+    out.push(`  C tree       float  on a slow random walk (closed-loop-like): ${med.toFixed(1)} ns/eval median`);
+  }
+
   // TypeScript evaluators on the same points, for reference
   const timeTs = (f: (p: number[]) => number, pts: number[][], reps: number): number => {
     const ns: number[] = [];
@@ -181,6 +207,7 @@ export async function run(): Promise<void> {
     `  targets: tree (float) ${treeFloat.toFixed(1)} ns ${treeFloat <= 100 ? '≤' : '>'} 100 ns; ${(qpNs / treeFloat).toFixed(0)}× ${qpNs / treeFloat >= 500 ? '≥' : '<'} 500×; ` +
       `depth ${tree.stats.maxDepth} ${tree.stats.maxDepth <= 2 * Math.log2(R) ? '≤' : '>'} ${(2 * Math.log2(R)).toFixed(1)}`,
   );
+  rmSync(dir, { recursive: true, force: true });
   console.log(out.join('\n'));
 }
 

@@ -1,6 +1,7 @@
 /** Shared helpers of the emit tests: example tables solved in-process, and gcc in a temp dir. */
 import { execFileSync, spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { afterAll } from 'vitest';
 import { createHash } from 'node:crypto';
 import { writeFileAtomic } from '../../src/io/atomic.js';
 import { tmpdir } from 'node:os';
@@ -44,12 +45,15 @@ export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProble
     const path = isAbsolute(file) ? file : join(import.meta.dirname, '../../examples', file);
     const loaded = loadProblem(path);
     const mpqp = buildMpqp(loaded.model);
-    const key = createHash('sha256').update(readFileSync(path)).update(engineHash()).digest('hex').slice(0, 24);
-    const cached = join(tmpdir(), `tessera-emit-test-${key}.table.json`);
+    const problemKey = createHash('sha256').update(path).update(readFileSync(path)).digest('hex').slice(0, 16);
+    const stem = `tessera-emit-test-${problemKey}-`;
+    const cached = join(tmpdir(), `${stem}${engineHash().slice(0, 16)}.table.json`);
     let table: TableFile;
     if (existsSync(cached)) table = JSON.parse(readFileSync(cached, 'utf8')) as TableFile;
     else {
       table = makeTable(loaded, mpqp, solvePartition(mpqp, {}));
+      // drop tables of this problem solved by an older engine
+      for (const f of readdirSync(tmpdir())) if (f.startsWith(stem) && f.endsWith('.table.json')) rmSync(join(tmpdir(), f), { force: true });
       writeFileAtomic(cached, JSON.stringify(table));
     }
     hit = { table, mpqp };
@@ -67,8 +71,17 @@ export const FIXTURES = readdirSync(join(import.meta.dirname, '../fixtures/probl
 /** The strict flags the generated code must pass (the issue's own list). */
 export const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
 
+const madeDirs: string[] = [];
+// temp dirs of this test file are removed when it ends (set TESSERA_KEEP_TMP=1 to inspect them)
+afterAll(() => {
+  if (process.env.TESSERA_KEEP_TMP) return;
+  for (const d of madeDirs.splice(0)) rmSync(d, { recursive: true, force: true });
+});
+
 export function tempDir(tag: string): string {
-  return mkdtempSync(join(tmpdir(), `tessera-${tag}-`));
+  const d = mkdtempSync(join(tmpdir(), `tessera-${tag}-`));
+  madeDirs.push(d);
+  return d;
 }
 
 /** Write files into a fresh temp dir and compile the listed sources into an executable; returns its path. */

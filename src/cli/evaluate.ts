@@ -14,12 +14,19 @@ export function readPointsCsv(path: string, ntheta: number): number[][] {
   }
   const lines = text.split(/\r?\n/).map((l) => l.trim());
   const points: number[][] = [];
+  let first = true;
   lines.forEach((line, i) => {
     if (line === '' || line.startsWith('#')) return;
     const cells = line.split(',').map((c) => c.trim());
     const nums = cells.map(Number);
-    if (points.length === 0 && i === lines.findIndex((l) => l !== '' && !l.startsWith('#')) && nums.some((v, k) => cells[k] === '' || Number.isNaN(v)))
-      return; // header line
+    if (first) {
+      first = false;
+      // a header is a line of names: no cell of it reads as a number
+      if (cells.every((c, k) => c === '' || Number.isNaN(nums[k]))) {
+        if (cells.length !== ntheta) throw new InputError(path, `line ${i + 1}`, `header has ${cells.length} names, θ has ${ntheta} entries`);
+        return;
+      }
+    }
     if (cells.length !== ntheta) throw new InputError(path, `line ${i + 1}`, `expected ${ntheta} values (θ has ${ntheta} entries), got ${cells.length}`);
     nums.forEach((v, k) => {
       if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(path, `line ${i + 1}, column ${k + 1}`, `"${cells[k]}" is not a finite number`);

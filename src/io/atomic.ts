@@ -1,5 +1,7 @@
 import { writeFileSync, renameSync, unlinkSync, existsSync, mkdirSync } from 'node:fs';
 import { dirname, basename, join } from 'node:path';
+import { statSync } from 'node:fs';
+import { InputError } from './errors.js';
 
 const pending = new Set<string>();
 let hooked = false;
@@ -27,6 +29,13 @@ function hookSignals(): void {
  */
 export function writeFileAtomic(path: string, data: string | Uint8Array): void {
   hookSignals();
+  let isDir = false;
+  try {
+    isDir = statSync(path).isDirectory();
+  } catch {
+    /* does not exist yet: fine */
+  }
+  if (isDir) throw new InputError(path, '', 'is a directory; give a file name to write');
   const dir = dirname(path);
   if (!existsSync(dir)) mkdirSync(dir, { recursive: true });
   const tmp = join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.tmp`);

@@ -70,10 +70,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const regionAt = (theta: Float64Array): number => {
     const hit = locate(theta, tol.inside);
     if (hit >= 0) return hit;
-    stats.candidates++;
     stats.qps++;
     const qp = solvePointQp(problem, theta);
     if (!qp.feasible) return -1;
+    stats.candidates++; // a candidate is an optimal active set examined; infeasibility probes count only as QPs
     const key = qp.activeSet.join(',');
     const known = byActiveSet.get(key);
     if (known !== undefined) return known;
@@ -114,42 +114,58 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   }
 
   function exploreFacet(R: CriticalRegion, f: number): void {
-    const facet = slicePolytope(R.A, R.b, R.A[f], R.b[f], f);
+    const facet = slicePolytope(R.A, R.b, R.A[f], R.b[f], f, minPiece);
     if (!facet) return;
     const neighbours = R.facets[f].neighbours;
     const slices: Slice[] = [];
-    for (let guard = 0; guard < 200; guard++) {
+    for (let guard = 0; guard < 1000; guard++) {
       if (stopNow()) return;
       const piece = uncoveredPoint(facet, slices, minPiece, lp);
       if (!piece) return;
-      let landed = -2;
-      let stepNow = Math.min(step, 0.1 * piece.radius);
-      for (let attempt = 0; attempt < 6 && landed === -2; attempt++) {
-        const y = Float64Array.from(piece.point);
-        if (attempt > 0) {
-          // nudge inside the piece: a structured point may sit exactly where regions meet
-          for (let j = 0; j < y.length; j++) y[j] += (rand() - 0.5) * 0.5 * piece.radius;
-        }
-        const theta = facet.lift(y);
-        for (let j = 0; j < nt; j++) theta[j] += stepNow * R.A[f][j];
-        if (!inBox(theta)) break;
-        landed = regionAt(theta);
-        if (landed === -2) stepNow *= 3;
-      }
-      if (landed === -1) return; // far side infeasible: the facet lies on the feasibility boundary
-      if (landed < 0) {
+      const landing = landAcross(R, f, facet, piece);
+      if (landing === 'infeasible') return; // far side infeasible: the facet lies on the feasibility boundary
+      if (landing === null) {
         slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece: counted, never silent
         stats.unresolvedPieces++;
         continue;
       }
-      if (!neighbours.includes(landed)) neighbours.push(landed);
-      const s = facet.sliceOf(regions[landed]);
-      if (!s || containsY(s, piece.point) === false) {
-        // the region found does not reach the facet piece numerically: cover the piece's ball to make progress
-        slices.push(facet.ballSlice(piece.point, piece.radius));
-        stats.unresolvedPieces++;
-      } else slices.push(s);
+      if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
+      slices.push(landing.slice);
     }
+    stats.unresolvedPieces++; // guard exhausted: the rest of this facet is unresolved
+  }
+
+  /**
+   * The region just across facet f at the uncovered piece: try the piece centre, then nudged points
+   * inside the piece; for each, steps from the nominal one down to 10·tol.inside, so that a region
+   * thinner than the step is not jumped over. Accept a region whose facet slice holds the point.
+   */
+  function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
+    const h0 = Math.min(step, 0.1 * piece.radius);
+    let sawFeasible = false;
+    for (let attempt = 0; attempt < 6; attempt++) {
+      const y = Float64Array.from(piece.point);
+      // nudge inside the piece: a structured point may sit exactly where regions meet
+      if (attempt > 0) for (let j = 0; j < y.length; j++) y[j] += (rand() - 0.5) * 0.5 * piece.radius;
+      const base = facet.lift(y);
+      let infeasibleSteps = 0;
+      for (let h = h0; h >= 10 * tol.inside; h /= 10) {
+        const theta = Float64Array.from(base);
+        for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
+        if (!inBox(theta)) break;
+        const id = regionAt(theta);
+        if (id === -1) {
+          if (++infeasibleSteps >= 2 && !sawFeasible) break; // two steps, both infeasible: the boundary
+          continue;
+        }
+        sawFeasible = true;
+        if (id < 0) continue;
+        const slice = facet.sliceOf(regions[id]);
+        if (slice && containsY(slice, y)) return { id, slice };
+      }
+      if (attempt === 0 && !sawFeasible) return 'infeasible';
+    }
+    return null;
   }
 
   stats.regions = regions.length;
@@ -206,7 +222,7 @@ interface FacetFrame extends Slice {
  * Coordinates on the hyperplane a·θ = β: θ = a β + N y with N an orthonormal basis of a⊥
  * (Gram–Schmidt on the unit vectors). In 1-D the hyperplane is a point and y is empty.
  */
-function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number): FacetFrame | null {
+function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number): FacetFrame | null {
   const d = a.length;
   const basis: number[][] = [];
   for (let e = 0; e < d && basis.length < d - 1; e++) {
@@ -225,13 +241,13 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
   }
   const dim = d - 1;
   const origin = a.map((x) => x * beta);
-  const project = (rows: number[][], rhs: number[], skipRow: number): Slice | null => {
+  const project = (rows: number[][], rhs: number[], skipRow: number, slack: number): Slice | null => {
     const outA: number[] = [];
     const outB: number[] = [];
     for (let i = 0; i < rows.length; i++) {
       if (i === skipRow) continue;
       const row = rows[i];
-      let r0 = rhs[i];
+      let r0 = rhs[i] + slack;
       for (let j = 0; j < d; j++) r0 -= row[j] * origin[j];
       const pr = new Array<number>(dim);
       let n = 0;
@@ -251,7 +267,7 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
     }
     return { A: Float64Array.from(outA), b: Float64Array.from(outB), m: outB.length };
   };
-  const own = project(A, b, skip);
+  const own = project(A, b, skip, 0);
   if (!own) return null;
   return {
     ...own,
@@ -261,7 +277,8 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
       for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k][j] * y[k];
       return th;
     },
-    sliceOf: (region) => project(region.A, region.b, -1),
+    // a neighbour covers the facet up to coverSlack: slivers thinner than that between two regions count as covered
+    sliceOf: (region) => project(region.A, region.b, -1, coverSlack),
     ballSlice: (y, r) => {
       // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
       const Ab = new Float64Array(2 * dim * dim);

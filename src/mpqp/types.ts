@@ -92,9 +92,9 @@ export interface Progress {
 
 export interface PartitionStats {
   regions: number;
-  candidates: number; // active sets / seed points examined
+  candidates: number; // optimal active sets examined (feasible point QPs whose point lay in no known region)
   lps: number; // LPs solved
-  qps: number; // point QPs solved
+  qps: number; // point QPs solved, infeasibility probes across boundary facets included
   complete: boolean;
   /** why the exploration stopped: 'done' | 'max-regions' | 'time-limit' | 'interrupted' */
   stopReason: 'done' | 'max-regions' | 'time-limit' | 'interrupted';

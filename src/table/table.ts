@@ -66,7 +66,7 @@ export function regionContains(region: Pick<CriticalRegion, 'A' | 'b'>, theta: A
     const row = A[i];
     let s = 0;
     for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
-    if (s > b[i] + slack) return false;
+    if (!(s <= b[i] + slack)) return false; // NaN θ lies in no region
   }
   return true;
 }

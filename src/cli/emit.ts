@@ -86,11 +86,16 @@ export function register(program: Command): void {
       const writes: [string, string][] = [];
       if (o.merge || o.mergedTable) {
         let mshown = false;
-        const m = mergeRegions(table, (p) => {
-          mshown = true;
-          process.stderr.write(`\rmerge: ${p.groupsDone}/${p.groups} law groups, ${p.tests} union tests, ${p.elapsedSeconds.toFixed(1)} s`);
-        });
-        if (mshown) process.stderr.write('\n');
+        const m = mergeRegions(
+          table,
+          process.stderr.isTTY
+            ? (p) => {
+                mshown = true;
+                process.stderr.write(`\r  merging: ${p.groupsDone}/${p.groups} law groups, ${p.tests} union tests, ${p.elapsedSeconds.toFixed(1)} s`);
+              }
+            : undefined,
+        );
+        if (mshown) process.stderr.write('\r\x1b[K');
         table = m.table;
         merged = true;
         process.stderr.write(`merge: ${m.stats.before} regions -> ${m.stats.after} (${m.stats.tests} union tests${m.stats.undecided ? `, ${m.stats.undecided} undecided, left apart` : ''})\n`);
@@ -105,12 +110,15 @@ export function register(program: Command): void {
           : treeForTable(table, {
               tableHash: hash,
               leafSize: o.leafSize,
-              onProgress: (p) => {
-                shown = true;
-                process.stderr.write(`\rtree: ${p.nodes} nodes, ${p.leaves} leaves, ${p.elapsedSeconds.toFixed(1)} s`);
-              },
+              // live progress on a terminal only; the summary below gives the final figures
+              onProgress: process.stderr.isTTY
+                ? (p) => {
+                    shown = true;
+                    process.stderr.write(`\r  building tree: ${p.nodes} nodes, ${p.leaves} leaves so far, ${p.elapsedSeconds.toFixed(1)} s`);
+                  }
+                : undefined,
             });
-        if (shown) process.stderr.write('\n');
+        if (shown) process.stderr.write('\r\x1b[K');
       }
       const res: EmitResult = emitC(table, { precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
       writes.push([join(o.output, `${o.prefix}.h`), res.header], [join(o.output, `${o.prefix}.c`), res.source]);

@@ -134,6 +134,9 @@ export function register(program: Command): void {
       if (o.heat) {
         const ui = table.inputNames.indexOf(o.heat);
         if (o.heat !== 'cost' && ui < 0) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
+        // a merged region keeps one member's value function, which is exact only on that member
+        if (o.heat === 'cost' && table.regions.some((r) => ((r as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1))
+          throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
         heat = {
           label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
           value: (x, y, slack) => {

@@ -43,3 +43,17 @@ describe('table law = online QP (quadprog) at 1000 seeded points per problem', (
     });
   }
 });
+
+describe('hot-path LP kernel vs javascript-lp-solver on the whole exploration', () => {
+  // the same partition (same active sets, same facets) whichever LP engine thins the regions
+  for (const file of fixtureFiles.filter((f) => !f.includes('two-carts'))) {
+    it(basename(file), async () => {
+      const { solvePartition } = await import('../../src/mpqp/solve.js');
+      const { mpqp, partition } = solved(file);
+      const ref = solvePartition(mpqp, { lp: 'reference' });
+      const key = (p: typeof partition) => p.regions.map((r) => `${r.activeSet.join(',')}|${r.A.length}`).sort();
+      expect(ref.stats.complete).toBe(true);
+      expect(key(ref)).toEqual(key(partition));
+    });
+  }
+});

@@ -104,7 +104,7 @@ export function lpMaximizeFrom(
     work.splice(leave, 1);
   }
   lpCounter.fallbacks++;
-  return referenceFallback(c, A, b, m, n, excluded, it);
+  return lpReferenceMasked(c, A, b, m, n, excluded, it);
 }
 
 function maxViolation(A: Float64Array, b: Float64Array, m: number, n: number, x: Float64Array, excluded: Uint8Array): number {
@@ -118,8 +118,8 @@ function maxViolation(A: Float64Array, b: Float64Array, m: number, n: number, x:
   return worst;
 }
 
-/** The javascript-lp-solver reference on the rows not excluded (rare: iteration limit or round-off). */
-function referenceFallback(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, excluded: Uint8Array, it: number): LpResult {
+/** The javascript-lp-solver reference on the rows not excluded (the kernel's fallback, and the `lp: 'reference'` engine). */
+export function lpReferenceMasked(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, excluded: Uint8Array, it: number): LpResult {
   const rows: number[] = [];
   for (let i = 0; i < m; i++) if (!excluded[i]) rows.push(i);
   const sub = new Float64Array(rows.length * n);
@@ -133,7 +133,7 @@ function referenceFallback(c: Float64Array, A: Float64Array, b: Float64Array, m:
 }
 
 /**
- * Maximise cᵀx s.t. A x ≤ b with no known start: phase 1 maximises a common slack s
+ * Maximise cᵀx s.t. A x ≤ b with no known start: phase 1 maximises a common slack s (scaled by each row norm)
  * (A x + s·1 ≤ b, s ≤ 1) from x = start (default 0); infeasible when the best s < −tol.primal.
  */
 export function lpMaximize(c: Float64Array, A: Float64Array, b: Float64Array, m: number, n: number, start?: Float64Array): LpResult {
@@ -154,33 +154,9 @@ export function lpMaximize(c: Float64Array, A: Float64Array, b: Float64Array, m:
 
 /** Phase 1: a point with A x ≤ b (+tol.primal), or null when none exists. */
 export function findFeasiblePoint(A: Float64Array, b: Float64Array, m: number, n: number, start?: Float64Array): Float64Array | null {
-  const n1 = n + 1;
-  const A1 = new Float64Array((m + 1) * n1);
-  const b1 = new Float64Array(m + 1);
-  const x0 = new Float64Array(n1);
-  if (start) x0.set(start);
-  let sMin = 1;
-  for (let i = 0; i < m; i++) {
-    let rowN = 0;
-    let ax = 0;
-    for (let j = 0; j < n; j++) {
-      A1[i * n1 + j] = A[i * n + j];
-      rowN += A[i * n + j] * A[i * n + j];
-      ax += A[i * n + j] * x0[j];
-    }
-    // scale the slack by the row norm so s reads as a distance
-    A1[i * n1 + n] = Math.sqrt(rowN) || 1;
-    b1[i] = b[i];
-    sMin = Math.min(sMin, (b[i] - ax) / A1[i * n1 + n]);
-  }
-  A1[m * n1 + n] = 1;
-  b1[m] = 1;
-  x0[n] = sMin - 1;
-  const c1 = new Float64Array(n1);
-  c1[n] = 1;
-  const r = lpMaximizeFrom(c1, A1, b1, m + 1, n1, x0);
-  if (r.status === 'iteration-limit' || r.x[n] < -tol.primal) return null;
-  return r.x.slice(0, n);
+  // the Chebyshev LP with its radius free to go negative is a phase 1: radius ≥ 0 ⇔ feasible
+  const ball = chebyshevBall(A, b, m, n, start ?? new Float64Array(n), 1);
+  return ball.radius >= -tol.primal ? ball.center : null;
 }
 
 export interface ChebyshevBall {

@@ -1,5 +1,5 @@
 import type { MpqpProblem } from './types.js';
-import { spdInverse, matMul, transpose } from '../linalg/dense.js';
+import { spdInverse, matMul, transpose, choleskyInPlace, choleskySolveInPlace } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 
 /**
@@ -153,32 +153,9 @@ export function isFeasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): bo
   return solvePointQp(problem, theta).feasible;
 }
 
-/** Cholesky factor-and-solve of a k×k SPD block in place; false when it is singular. */
+/** Cholesky factor-and-solve of a k×k SPD block in place; false when it is singular (LICQ lost). */
 function factorSolve(a: Float64Array, k: number, b: Float64Array): boolean {
-  let scale = 0;
-  for (let i = 0; i < k; i++) scale = Math.max(scale, a[i * k + i]);
-  const thr = tol.rank * (1 + scale);
-  for (let j = 0; j < k; j++) {
-    let d = a[j * k + j];
-    for (let q = 0; q < j; q++) d -= a[j * k + q] * a[j * k + q];
-    if (!(d > thr)) return false;
-    const l = Math.sqrt(d);
-    a[j * k + j] = l;
-    for (let i = j + 1; i < k; i++) {
-      let s = a[i * k + j];
-      for (let q = 0; q < j; q++) s -= a[i * k + q] * a[j * k + q];
-      a[i * k + j] = s / l;
-    }
-  }
-  for (let i = 0; i < k; i++) {
-    let s = b[i];
-    for (let q = 0; q < i; q++) s -= a[i * k + q] * b[q];
-    b[i] = s / a[i * k + i];
-  }
-  for (let i = k - 1; i >= 0; i--) {
-    let s = b[i];
-    for (let q = i + 1; q < k; q++) s -= a[q * k + i] * b[q];
-    b[i] = s / a[i * k + i];
-  }
+  if (!choleskyInPlace(a, k, tol.rank)) return false;
+  choleskySolveInPlace(a, k, b);
   return true;
 }

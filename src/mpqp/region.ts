@@ -1,8 +1,7 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
 import { qpWorkspace } from './pointqp.js';
 import { spdInverse } from '../linalg/dense.js';
-import { chebyshevBall, lpMaximizeFrom } from '../lp/kernel.js';
-import { lpMaximizeReference } from '../lp/reference.js';
+import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 
 export type RegionFailure = 'licq' | 'empty' | 'flat';
@@ -237,23 +236,11 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     for (let j = 0; j < nt; j++) c[j] = Af[r * nt + j];
     lp.lps++;
     const res = lp.reference
-      ? lpReferenceMasked(c, Af, bf, m, nt, skip)
+      ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0)
       : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
     if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
   }
   return alive;
-}
-
-function lpReferenceMasked(c: Float64Array, Af: Float64Array, bf: Float64Array, m: number, nt: number, skip: Uint8Array) {
-  const rows: number[] = [];
-  for (let q = 0; q < m; q++) if (!skip[q]) rows.push(q);
-  const sub = new Float64Array(rows.length * nt);
-  const subB = new Float64Array(rows.length);
-  rows.forEach((q, i) => {
-    for (let j = 0; j < nt; j++) sub[i * nt + j] = Af[q * nt + j];
-    subB[i] = bf[q];
-  });
-  return lpMaximizeReference(c, sub, subB, rows.length, nt);
 }
 
 /**

@@ -1,14 +1,7 @@
-/** Seeded generator (mulberry32) for reproducible random test data. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { seededRandom } from '../../src/emit/sample.js';
+
+/** Seeded generator (mulberry32, the one the certificate uses) for reproducible random test data. */
+export const rng = seededRandom;
 
 export function randMat(r: () => number, rows: number, cols: number, s = 1): number[][] {
   return Array.from({ length: rows }, () => Array.from({ length: cols }, () => s * (2 * r() - 1)));

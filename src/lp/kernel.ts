@@ -54,11 +54,6 @@ export function lpMaximizeFrom(
     // multipliers μ of c on the working rows (least squares) and the projected direction d = c − A_Wᵀμ
     const k = work.length;
     const mu = projectOnRows(A, n, work, c, d);
-    if (k > 0) {
-      // one refinement pass keeps d orthogonal to the working rows despite round-off
-      const corr = projectOnRows(A, n, work, d, d);
-      for (let p = 0; p < k; p++) mu[p] += corr[p];
-    }
     let dn = 0;
     for (let j = 0; j < n; j++) dn += d[j] * d[j];
     dn = Math.sqrt(dn);
@@ -204,54 +199,63 @@ function dot(a: ArrayLike<number>, b: ArrayLike<number>, n: number): number {
   return s;
 }
 
+/** Scratch for projectOnRows (grown on demand; the kernel is single-threaded). */
+let gram = new Float64Array(64);
+let rhs = new Float64Array(8);
+
 /**
  * Least-squares multipliers μ with c ≈ A_Wᵀ μ (normal equations, W small and independent) and the
- * residual direction d = c − A_Wᵀ μ written into `d`.
+ * residual direction d = c − A_Wᵀ μ written into `d`; one refinement pass with the same factor
+ * keeps d orthogonal to the working rows despite round-off.
  */
 function projectOnRows(A: Float64Array, n: number, work: number[], c: Float64Array, d: Float64Array): Float64Array {
   const k = work.length;
   const mu = new Float64Array(k);
-  if (k > 0) {
-    const g = new Float64Array(k * k);
-    for (let p = 0; p < k; p++)
-      for (let q = 0; q <= p; q++) {
-        let s = 0;
-        for (let j = 0; j < n; j++) s += A[work[p] * n + j] * A[work[q] * n + j];
-        g[p * k + q] = s;
-        g[q * k + p] = s;
-      }
-    for (let p = 0; p < k; p++) {
+  for (let j = 0; j < n; j++) d[j] = c[j];
+  if (k === 0) return mu;
+  if (gram.length < k * k) gram = new Float64Array(k * k * 2);
+  if (rhs.length < k) rhs = new Float64Array(k * 2);
+  const g = gram;
+  for (let p = 0; p < k; p++)
+    for (let q = 0; q <= p; q++) {
       let s = 0;
-      for (let j = 0; j < n; j++) s += A[work[p] * n + j] * c[j];
-      mu[p] = s;
+      for (let j = 0; j < n; j++) s += A[work[p] * n + j] * A[work[q] * n + j];
+      g[p * k + q] = s;
     }
-    // Cholesky solve of the Gram matrix (rows are independent by construction)
-    for (let j = 0; j < k; j++) {
-      let dd = g[j * k + j];
-      for (let q = 0; q < j; q++) dd -= g[j * k + q] * g[j * k + q];
-      const ljj = Math.sqrt(Math.max(dd, 1e-300));
-      g[j * k + j] = ljj;
-      for (let i = j + 1; i < k; i++) {
-        let s = g[i * k + j];
-        for (let q = 0; q < j; q++) s -= g[i * k + q] * g[j * k + q];
-        g[i * k + j] = s / ljj;
-      }
-    }
-    for (let i = 0; i < k; i++) {
-      let s = mu[i];
-      for (let q = 0; q < i; q++) s -= g[i * k + q] * mu[q];
-      mu[i] = s / g[i * k + i];
-    }
-    for (let i = k - 1; i >= 0; i--) {
-      let s = mu[i];
-      for (let q = i + 1; q < k; q++) s -= g[q * k + i] * mu[q];
-      mu[i] = s / g[i * k + i];
+  // Cholesky of the Gram matrix in its lower triangle (rows are independent by construction)
+  for (let j = 0; j < k; j++) {
+    let dd = g[j * k + j];
+    for (let q = 0; q < j; q++) dd -= g[j * k + q] * g[j * k + q];
+    const ljj = Math.sqrt(Math.max(dd, 1e-300));
+    g[j * k + j] = ljj;
+    for (let i = j + 1; i < k; i++) {
+      let s = g[i * k + j];
+      for (let q = 0; q < j; q++) s -= g[i * k + q] * g[j * k + q];
+      g[i * k + j] = s / ljj;
     }
   }
-  for (let j = 0; j < n; j++) {
-    let s = c[j];
-    for (let p = 0; p < k; p++) s -= A[work[p] * n + j] * mu[p];
-    d[j] = s;
+  for (let pass = 0; pass < 2; pass++) {
+    for (let p = 0; p < k; p++) {
+      let s = 0;
+      for (let j = 0; j < n; j++) s += A[work[p] * n + j] * d[j];
+      rhs[p] = s;
+    }
+    for (let i = 0; i < k; i++) {
+      let s = rhs[i];
+      for (let q = 0; q < i; q++) s -= g[i * k + q] * rhs[q];
+      rhs[i] = s / g[i * k + i];
+    }
+    for (let i = k - 1; i >= 0; i--) {
+      let s = rhs[i];
+      for (let q = i + 1; q < k; q++) s -= g[q * k + i] * rhs[q];
+      rhs[i] = s / g[i * k + i];
+    }
+    for (let p = 0; p < k; p++) mu[p] += rhs[p];
+    for (let j = 0; j < n; j++) {
+      let s = d[j];
+      for (let p = 0; p < k; p++) s -= A[work[p] * n + j] * rhs[p];
+      d[j] = s;
+    }
   }
   return mu;
 }

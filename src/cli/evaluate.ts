@@ -1,17 +1,11 @@
 import type { Command } from 'commander';
-import { readFileSync } from 'node:fs';
 import { readTableFile, evaluateTable } from '../table/table.js';
-import { InputError } from '../io/errors.js';
+import { InputError, readTextInput } from '../io/errors.js';
 import type { TableFile } from '../table/format.js';
 
 /** Parse the points CSV: one θ per line, comma-separated, an optional header line of names. */
 export function readPointsCsv(path: string, ntheta: number): number[][] {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    throw new InputError(path, '', `cannot read points file (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
-  }
+  const text = readTextInput(path, 'points file');
   const lines = text.split(/\r?\n/).map((l) => l.trim());
   const points: number[][] = [];
   let first = true;

@@ -1,6 +1,5 @@
 import type { Command } from 'commander';
-import { readFileSync } from 'node:fs';
-import { InputError } from '../io/errors.js';
+import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTableFile, applyAffine, locateSequential } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
@@ -66,12 +65,7 @@ export function parseFix(table: TableFile, v: string | undefined, axes: [number,
 
 /** Initial states: CSV, one per line, either a full θ or (axis₁, axis₂) of the slice; optional header line. */
 export function readInitialStates(file: string, ntheta: number): number[][] {
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (e) {
-    throw new InputError(file, '', `cannot read initial states (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
-  }
+  const text = readTextInput(file, 'initial states');
   const rows: number[][] = [];
   text.split(/\r?\n/).forEach((line, i) => {
     const s = line.trim();

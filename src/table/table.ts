@@ -1,5 +1,4 @@
-import { readFileSync } from 'node:fs';
-import { InputError } from '../io/errors.js';
+import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
@@ -16,12 +15,7 @@ export function writeTableFile(path: string, table: TableFile): void {
 
 /** Read and check a table file; every failure is an InputError naming the file and key. */
 export function readTableFile(path: string): TableFile {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    throw new InputError(path, '', `cannot read table file (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
-  }
+  const text = readTextInput(path, 'table file');
   let raw: unknown;
   try {
     raw = JSON.parse(text);

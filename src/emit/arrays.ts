@@ -26,15 +26,17 @@ export interface EmitArrays {
   regionCount: number;
   /** slack added to every region bound before rounding (regionB = round(b + slack)) */
   slack: number;
-  /** real arrays, every entry already rounded to `precision` */
-  hpA: number[];
-  hpB: number[];
+  /**
+   * real arrays, every entry already rounded to `precision`. nodePlane holds each tree node's own
+   * hyperplane inline, nθ coefficients then b (stride nθ + 1), so that the descent's coefficient
+   * loads depend only on the node reference (a shared hyperplane is stored once per node using it)
+   */
+  nodePlane: number[];
   regionA: number[];
   regionB: number[];
   lawF: number[];
   lawG: number[];
   /** index arrays (tree ones empty for sequential search) */
-  nodeHp: number[];
   nodeLeft: number[];
   nodeRight: number[];
   leafStart: number[];
@@ -62,6 +64,7 @@ export function regionSlack(table: TableFile, precision: Precision): number {
 export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const n = table.dims.ntheta;
+  if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
   const slack = regionSlack(table, precision);
   const regionA: number[] = [];
   const regionB: number[] = [];
@@ -86,13 +89,11 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     nu: table.dims.nu,
     regionCount: table.regions.length,
     slack,
-    hpA: [],
-    hpB: [],
+    nodePlane: [],
     regionA,
     regionB,
     lawF,
     lawG,
-    nodeHp: [],
     nodeLeft: [],
     nodeRight: [],
     leafStart: [],
@@ -104,9 +105,10 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
   if (search === 'tree') {
     if (!tree) throw new Error('tree search needs a search tree');
     if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
-    for (const a of tree.hyperplanes.a) for (let j = 0; j < n; j++) out.hpA.push(round(a[j]));
-    out.hpB = tree.hyperplanes.b.map(round);
-    out.nodeHp = [...tree.nodeHyperplane];
+    for (const k of tree.nodeHyperplane) {
+      for (let j = 0; j < n; j++) out.nodePlane.push(round(tree.hyperplanes.a[k][j]));
+      out.nodePlane.push(round(tree.hyperplanes.b[k]));
+    }
     out.nodeLeft = [...tree.nodeLeft];
     out.nodeRight = [...tree.nodeRight];
     out.leafStart = [...tree.leafStart];
@@ -127,12 +129,17 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
   const n = ar.ntheta;
   const f = ar.precision === 'float';
   const theta = f ? Array.from(thetaIn, Math.fround) : thetaIn;
+  // a·θ summed from the first product (nθ ≥ 1), as the C does; against a sum seeded with 0 it can
+  // differ only in the sign of a zero result, which no comparison sees (IEEE 754: −0 == +0)
+  const dot = (a: number[], at: number): number => {
+    let s = f ? Math.fround(a[at] * theta[0]) : a[at] * theta[0];
+    if (f) for (let j = 1; j < n; j++) s = Math.fround(s + Math.fround(a[at + j] * theta[j]));
+    else for (let j = 1; j < n; j++) s += a[at + j] * theta[j];
+    return s;
+  };
   const inside = (r: number): boolean => {
     for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
-      let s = 0;
-      if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.regionA[i * n + j] * theta[j]));
-      else for (let j = 0; j < n; j++) s += ar.regionA[i * n + j] * theta[j];
-      if (!(s <= ar.regionB[i])) return false; // written so that NaN fails the test
+      if (!(dot(ar.regionA, i * n) <= ar.regionB[i])) return false; // written so that NaN fails the test
     }
     return true;
   };
@@ -153,11 +160,8 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
   }
   let ref = ar.root;
   for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
-    const k = ar.nodeHp[ref];
-    let s = 0;
-    if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.hpA[k * n + j] * theta[j]));
-    else for (let j = 0; j < n; j++) s += ar.hpA[k * n + j] * theta[j];
-    ref = s <= ar.hpB[k] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
+    const at = ref * (n + 1);
+    ref = dot(ar.nodePlane, at) <= ar.nodePlane[at + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
   }
   if (ref >= 0) return { region: -1, u: null };
   const leaf = -ref - 1;
@@ -196,10 +200,8 @@ export function arraySpecs(ar: EmitArrays): ArraySpec[] {
   const add = (name: string, values: number[], ctype: string, isReal: boolean) =>
     specs.push({ name, ctype, values: values.length > 0 ? values : [0], real: isReal });
   // a one-region tree has no nodes: its arrays are left out (an unused static const would not compile with -Werror)
-  if (ar.search === 'tree' && ar.nodeHp.length > 0) {
-    add('hp_a', ar.hpA, real, true);
-    add('hp_b', ar.hpB, real, true);
-    add('node_hp', ar.nodeHp, indexType(ar.nodeHp, false), false);
+  if (ar.search === 'tree' && ar.nodeLeft.length > 0) {
+    add('node_plane', ar.nodePlane, real, true);
     add('node_left', ar.nodeLeft, indexType([...ar.nodeLeft, ...ar.nodeRight, ar.root], true), false);
     add('node_right', ar.nodeRight, indexType([...ar.nodeLeft, ...ar.nodeRight, ar.root], true), false);
   }

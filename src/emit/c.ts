@@ -4,6 +4,9 @@
  * internals and a single public function NAME_eval. Numbers are printed with 17 significant
  * digits, so the double build reproduces the TypeScript evaluator bit for bit; the float build
  * prints the float nearest to each double (suffix f), which is what evaluateArrays rounds to.
+ * Every a·θ is summed from its first product rather than from 0: the two can differ only in the
+ * sign of a zero sum, which no comparison distinguishes (IEEE 754, common practice), and it takes
+ * one addition off the dependency chain of each test.
  */
 import type { TableFile } from '../table/format.js';
 import { arraySpecs, type EmitArrays } from './arrays.js';
@@ -115,15 +118,15 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
   const NT = `${P.toUpperCase()}_NT`;
   const NU = `${P.toUpperCase()}_NU`;
   const real = ar.precision;
-  const zero = real === 'float' ? '0.0f' : '0.0';
   const blocks = arraySpecs(ar).map((s) => arrayBlock(P, s.name, s.ctype, s.values, s.real ? real : null));
   const inside = `static int ${P}_inside(uint32_t r, const ${real} theta[${NT}])
 {
     uint32_t i, j;
     for (i = ${P}_region_row_start[r]; i < ${P}_region_row_start[r + 1u]; ++i) {
-        ${real} s = ${zero};
-        for (j = 0u; j < ${NT}; ++j) {
-            s += ${P}_region_a[i * (uint32_t)${NT} + j] * theta[j];
+        const ${real} *a = &${P}_region_a[i * (uint32_t)${NT}];
+        ${real} s = a[0] * theta[0];
+        for (j = 1u; j < ${NT}; ++j) {
+            s += a[j] * theta[j];
         }
         if (!(s <= ${P}_region_b[i])) { /* also rejects NaN */
             return 0;
@@ -157,14 +160,15 @@ static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
     return -1;
 }
 `;
-  const descent = `    /* descent: at most DEPTH hyperplane tests, left when a.theta <= b */
+  const descent = `    /* descent: at most DEPTH hyperplane tests, left when a.theta <= b; each node's plane is
+     * stored inline (NT coefficients, then b), so its loads depend on ref alone */
     for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
-        uint32_t h = ${P}_node_hp[ref];
-        ${real} s = ${zero};
-        for (j = 0u; j < ${NT}; ++j) {
-            s += ${P}_hp_a[h * (uint32_t)${NT} + j] * theta[j];
+        const ${real} *a = &${P}_node_plane[(uint32_t)ref * (uint32_t)(${NT} + 1)];
+        ${real} s = a[0] * theta[0];
+        for (j = 1u; j < ${NT}; ++j) {
+            s += a[j] * theta[j];
         }
-        ref = (s <= ${P}_hp_b[h]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
+        ref = (s <= a[${NT}]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
     }
 `;
   const evalTree = `#define ${P.toUpperCase()}_ROOT (${ar.root})

@@ -14,7 +14,7 @@ export function arraysToJson(ar: EmitArrays): string {
     maxDepth: ar.maxDepth,
     slack: ar.slack,
     layout:
-      'node child r >= 0 is a node, r < 0 is leaf -r-1; left when hp_a[h]·θ <= hp_b[h]; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ',
+      'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ',
   };
   return JSON.stringify({ ...meta, arrays }) + '\n';
 }

@@ -74,6 +74,15 @@ function checkCost(name: string, table: TableFile): void {
             const right = arrays.get('node_right')?.values ?? [];
             const leafStart = arrays.get('leaf_start')!.values;
             const leafRegion = arrays.get('leaf_region')!.values;
+            // one inline plane (nθ coefficients and b) per node, and it is the tree's own hyperplane
+            const plane = arrays.get('node_plane')?.values ?? [];
+            expect(plane.length).toBe(left.length * (nt + 1));
+            const tree = r.tree!;
+            const round = precision === 'float' ? Math.fround : (x: number) => x;
+            tree.nodeHyperplane.forEach((k, node) => {
+              const got = plane.slice(node * (nt + 1), (node + 1) * (nt + 1)).map(round);
+              expect(got).toEqual([...tree.hyperplanes.a[k], tree.hyperplanes.b[k]].map(round));
+            });
             const rootMatch = /#define LAW_ROOT \((-?\d+)\)/.exec(r.source)!;
             const stack: [number, number][] = [[Number(rootMatch[1]), 0]];
             while (stack.length) {

@@ -81,11 +81,20 @@ export function transpose(a: Float64Array, r: number, c: number): Float64Array {
 
 /**
  * Solve the square system M x = b (n×n, row-major) by LU with partial pivoting; returns null when
- * a pivot is below rankTol·max|M|. M and b are not modified.
+ * a pivot is below rankTol·max|M|. M and b are not modified; hot loops pass `scratch` (n² and n
+ * entries, the result is written into scratch.x) so that nothing is allocated.
  */
-export function luSolve(m: Float64Array, n: number, b: Float64Array, rankTol: number): Float64Array | null {
-  const a = Float64Array.from(m);
-  const x = Float64Array.from(b);
+export function luSolve(
+  m: Float64Array,
+  n: number,
+  b: Float64Array,
+  rankTol: number,
+  scratch?: { a: Float64Array; x: Float64Array },
+): Float64Array | null {
+  const a = scratch ? scratch.a : new Float64Array(n * n);
+  const x = scratch ? scratch.x : new Float64Array(n);
+  a.set(m.subarray(0, n * n));
+  x.set(b.subarray(0, n));
   let scale = 0;
   for (let i = 0; i < n * n; i++) scale = Math.max(scale, Math.abs(a[i]));
   const thr = rankTol * Math.max(scale, 1e-300);

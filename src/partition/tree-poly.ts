@@ -4,6 +4,7 @@
  */
 import { tol } from '../tol.js';
 import { lpMaximize } from '../lp/kernel.js';
+import { luSolve } from '../linalg/dense.js';
 
 /** Half-space description, rows of A unit-norm as in the table. */
 export interface HalfSpaces {
@@ -21,33 +22,6 @@ function binomial(m: number, k: number): number {
   return Math.round(r);
 }
 
-/** Solve the n×n system M x = r (row-major, copied) by Gaussian elimination with partial pivoting. */
-function solveSmall(M: Float64Array, r: Float64Array, n: number, a: Float64Array, x: Float64Array): Float64Array | null {
-  a.set(M);
-  x.set(r);
-  for (let c = 0; c < n; c++) {
-    let p = c;
-    for (let i = c + 1; i < n; i++) if (Math.abs(a[i * n + c]) > Math.abs(a[p * n + c])) p = i;
-    if (Math.abs(a[p * n + c]) < tol.rank) return null;
-    if (p !== c) {
-      for (let j = 0; j < n; j++) [a[c * n + j], a[p * n + j]] = [a[p * n + j], a[c * n + j]];
-      [x[c], x[p]] = [x[p], x[c]];
-    }
-    for (let i = c + 1; i < n; i++) {
-      const f = a[i * n + c] / a[c * n + c];
-      if (f === 0) continue;
-      for (let j = c; j < n; j++) a[i * n + j] -= f * a[c * n + j];
-      x[i] -= f * x[c];
-    }
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let s = x[i];
-    for (let j = i + 1; j < n; j++) s -= a[i * n + j] * x[j];
-    x[i] = s / a[i * n + i];
-  }
-  return x;
-}
-
 /**
  * Vertices of a bounded polyhedron by brute force over n-subsets of its rows (exact for the
  * small dimensions of θ), deduplicated; null when the subset count exceeds `budget`.
@@ -60,15 +34,14 @@ export function polytopeVertices(h: HalfSpaces, n: number, budget: number = VERT
   const idx = Array.from({ length: n }, (_, i) => i);
   const M = new Float64Array(n * n);
   const r = new Float64Array(n);
-  const sa = new Float64Array(n * n);
-  const sx = new Float64Array(n);
+  const scratch = { a: new Float64Array(n * n), x: new Float64Array(n) };
   if (m < n) return new Float64Array(0);
   for (;;) {
     for (let i = 0; i < n; i++) {
       for (let j = 0; j < n; j++) M[i * n + j] = h.A[idx[i]][j];
       r[i] = h.b[idx[i]];
     }
-    const x = solveSmall(M, r, n, sa, sx);
+    const x = luSolve(M, n, r, tol.rank, scratch);
     if (x) {
       let ok = true;
       for (let i = 0; i < m && ok; i++) {

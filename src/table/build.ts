@@ -2,6 +2,7 @@ import { createHash } from 'node:crypto';
 import type { LoadedProblem } from '../problem/types.js';
 import type { MpqpProblem, Partition } from '../mpqp/types.js';
 import { tol } from '../tol.js';
+import type { Layout } from '../formulation/layout.js';
 import { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './format.js';
 
 /** JSON with object keys sorted at every level: the canonical form that is hashed. */
@@ -33,6 +34,7 @@ export function makeTable(loaded: LoadedProblem, mpqp: MpqpProblem, partition: P
     name: model.name,
     problem: loaded.raw,
     problemHash: problemHash(loaded.raw),
+    layout: regulatorLayout(loaded, mpqp),
     thetaNames: [...mpqp.thetaNames],
     inputNames: [...mpqp.inputNames],
     box: { lower: Array.from(mpqp.box.lower), upper: Array.from(mpqp.box.upper) },
@@ -45,5 +47,22 @@ export function makeTable(loaded: LoadedProblem, mpqp: MpqpProblem, partition: P
     tolerances: { ...tol },
     regions: partition.regions,
     stats: { ...partition.stats },
+  };
+}
+
+/** θ = [x(0); u_prev], z = the free moves: the layout of the regulator formulation. */
+function regulatorLayout(loaded: LoadedProblem, mpqp: MpqpProblem): Layout {
+  const { model } = loaded;
+  const range = (k: number) => Array.from({ length: k }, (_, i) => i);
+  const theta: Layout['theta'] = [{ kind: 'state', offset: 0, size: model.n, names: mpqp.thetaNames.slice(0, model.n), refersTo: range(model.n) }];
+  if (model.hasRate) theta.push({ kind: 'inputPrev', offset: model.n, size: model.m, names: mpqp.thetaNames.slice(model.n), refersTo: range(model.m) });
+  const moveNames = range(mpqp.nz).map((i) => `${model.inputNames[i % model.m]}(${Math.floor(i / model.m)})`);
+  return {
+    formulation: 'regulation',
+    features: model.hasRate ? ['inputRate'] : [],
+    theta,
+    z: [{ kind: 'moves', offset: 0, size: mpqp.nz, names: moveNames, refersTo: range(mpqp.nz) }],
+    lawSize: model.m,
+    lawNames: [...model.inputNames],
   };
 }

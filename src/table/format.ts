@@ -1,8 +1,9 @@
 import type { CriticalRegion, PartitionStats } from '../mpqp/types.js';
+import type { Layout } from '../formulation/layout.js';
 
 /** Tag and version of the table file; bump the version on any change of meaning. */
 export const TABLE_FORMAT = 'tessera-table';
-export const TABLE_VERSION = 1;
+export const TABLE_VERSION = 2;
 
 /**
  * The table file: deterministic JSON (same problem → byte-identical file). Run-dependent figures
@@ -17,6 +18,8 @@ export interface TableFile {
   problem: unknown;
   /** "sha256:<hex>" of the canonical JSON of `problem` */
   problemHash: string;
+  /** θ and z blocks as the formulation describes them; downstream code reads θ's layout from here */
+  layout: Layout;
   thetaNames: string[];
   inputNames: string[];
   /** parameter box the partition covers */

@@ -111,7 +111,7 @@ describe('tessera solve', () => {
     expect(r.status).toBe(0);
     const t = JSON.parse(readFileSync(tablePath, 'utf8'));
     expect(t.format).toBe('tessera-table');
-    expect(t.version).toBe(1);
+    expect(t.version).toBe(2);
     expect(Array.isArray(t.regions)).toBe(true);
     expect(t.regions.length).toBeGreaterThan(1);
     expect(t.stats.complete).toBe(true);

@@ -1,3 +1,4 @@
+import { plainLayout } from '../../src/formulation/layout.js';
 /**
  * Synthetic tables for the emit tests: valid partitions of a box built without the mpQP engine.
  * - `arrangementTable`: the cells of an arrangement of seeded random hyperplanes (each cell is
@@ -107,6 +108,7 @@ function finishTable(name: string, cells: Cell[], lower: number[], upper: number
     name,
     problem: { synthetic: name },
     problemHash: 'sha256:synthetic-' + name,
+    layout: plainLayout(lower.map((_, j) => `x${j + 1}`), Array.from({ length: nu }, (_, j) => `u${j + 1}`)),
     thetaNames: lower.map((_, j) => `x${j + 1}`),
     inputNames: Array.from({ length: nu }, (_, j) => `u${j + 1}`),
     box: { lower, upper },

@@ -1,3 +1,5 @@
+import { TABLE_VERSION } from '../../src/table/format.js';
+import { plainLayout } from '../../src/formulation/layout.js';
 /**
  * A synthetic table whose exact answer is known in closed form, for geometry tests that must not
  * depend on the engine.
@@ -114,10 +116,11 @@ export function syntheticTable(o: SyntheticOptions, name = 'synthetic-ramp'): Ta
     }
   return {
     format: 'tessera-table',
-    version: 1,
+    version: TABLE_VERSION,
     name,
     problem: null,
     problemHash: 'sha256:synthetic',
+    layout: plainLayout(Array.from({ length: nt }, (_, k) => `x${k + 1}`), ['u1']),
     thetaNames: Array.from({ length: nt }, (_, k) => `x${k + 1}`),
     inputNames: ['u1'],
     box: { lower: o.lower.slice(), upper: o.upper.slice() },

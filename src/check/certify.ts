@@ -4,7 +4,9 @@
  * sample of the box plus points just inside and just outside every facet of every region.
  */
 import type { TableFile } from '../table/format.js';
-import { applyAffine, locateSequential } from '../table/table.js';
+import { applyAffine } from '../table/table.js';
+import { locateRegion } from '../table/locator.js';
+import { tol } from '../tol.js';
 import { evaluateArrays, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
@@ -92,7 +94,7 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
   let gained = 0;
   let worstTheta: number[] | null = null;
   for (const theta of [...sample, ...facet, ...extra]) {
-    const rd = locateSequential(table.regions, theta);
+    const rd = locateRegion(table.regions, theta, tol.inside, table.box);
     const ef = evaluateArrays(floatBuild, theta);
     if (rd < 0) {
       if (ef.region >= 0) gained++;

@@ -12,7 +12,7 @@
 import { randomLcg } from 'd3';
 import type { CriticalRegion, MpqpProblem } from '../mpqp/types.js';
 import type { TableFile } from '../table/format.js';
-import { locateSequential } from '../table/table.js';
+import { locateRegion } from '../table/locator.js';
 import { lpMaximize, findFeasiblePoint } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { area, centroid, ccw, simplifyConvex, type Point, type Polygon } from '../partition/polygon.js';
@@ -214,7 +214,7 @@ export function analyseCoverage(table: TableFile, problem: MpqpProblem, opts: Co
   const theta = new Float64Array(nt);
   for (; done < N; done++) {
     for (let k = 0; k < nt; k++) theta[k] = lower[k] + (upper[k] - lower[k]) * rng();
-    if (locateSequential(table.regions, theta) >= 0) covered++;
+    if (locateRegion(table.regions, theta, tol.inside, table.box) >= 0) covered++;
     else if (!feasibleAt(problem, theta)) infeasible++;
     else {
       holes++;
@@ -287,7 +287,7 @@ function facetProbes(table: TableFile, problem: MpqpProblem, add: (w: HoleWitnes
       const step = Math.min(c.radius / 2, tol.facetStep * (1 + diam));
       const p = c.center.map((v, k) => v + step * af[k]);
       if (p.some((v, k) => v < lower[k] || v > upper[k])) return;
-      if (locateSequential(table.regions, p) >= 0) return;
+      if (locateRegion(table.regions, p, tol.inside, table.box) >= 0) return;
       if (!feasibleAt(problem, p)) return;
       holes++;
       add({ theta: p, source: 'facet-probe', fromRegion: reg.id, facetRadius: c.radius });

@@ -1,7 +1,9 @@
 import type { Command } from 'commander';
 import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
-import { readTableFile, applyAffine, locateSequential } from '../table/table.js';
+import { readTableFile, applyAffine } from '../table/table.js';
+import { locateRegion } from '../table/locator.js';
+import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { loadProblem, parseProblem } from '../problem/index.js';
 import { buildMpqp } from '../mpqp/condition.js';
@@ -135,7 +137,7 @@ export function register(program: Command): void {
           label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
           value: (x, y, slack) => {
             const th = liftPoint(spec, x, y);
-            const ri = locateSequential(table.regions, th, slack);
+            const ri = locateRegion(table.regions, th, slack ?? tol.inside, table.box);
             if (ri < 0) return null;
             if (ui >= 0) return applyAffine(table.regions[ri].law, th)[ui];
             const v = table.regions[ri].value;

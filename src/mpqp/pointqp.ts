@@ -52,7 +52,7 @@ export interface PointQpResult {
  * set stays linearly independent, so the result satisfies LICQ. Each step solves the small
  * system M_AA dλ = −M_Ap on the precomputed M = G H⁻¹ Gᵀ.
  */
-export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>): PointQpResult {
+export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, start?: readonly number[]): PointQpResult {
   const ws = qpWorkspace(problem);
   const { nz, nc, ntheta: nt } = problem;
   const { K, M, HinvF } = ws;
@@ -82,6 +82,7 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>): Po
     for (let j = 0; j < nz; j++) s += problem.G[i * nz + j] * z[j];
     return s;
   };
+  if (start && start.length > 0) warmStart(ws, start, rhs, z, lambda, active, isActive);
   for (; it < maxIter; it++) {
     // most violated row
     let p = -1;
@@ -147,6 +148,50 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>): Po
     }
   }
   return { feasible: false, z, activeSet: [], lambda, iterations: it };
+}
+
+/**
+ * Warm start of the dual method from a working set W (a neighbour's active set): the pair
+ * z_W(θ), λ_W(θ) of the equality-constrained QP on W is dual feasible when λ_W ≥ 0. Rows are
+ * dropped, most negative multiplier first, until that holds (or W is empty); a W whose M_WW is
+ * singular is not used (cold start). From there the usual iterations add violated rows, so the
+ * result is the same optimum as from a cold start, in a few steps when θ is near W's region.
+ */
+function warmStart(ws: QpWorkspace, start: readonly number[], rhs: Float64Array, z: Float64Array, lambda: Float64Array, active: number[], isActive: Uint8Array): void {
+  const { nz, nc } = ws.problem;
+  const { K, M } = ws;
+  const W = [...start];
+  for (;;) {
+    const k = W.length;
+    if (k === 0) return;
+    const chol = new Float64Array(k * k);
+    const lam = new Float64Array(k);
+    for (let a = 0; a < k; a++) {
+      for (let b = 0; b < k; b++) chol[a * k + b] = M[W[a] * nc + W[b]];
+      // M_WW λ = −(rhs_W − G_W z0), z0 = −H⁻¹Fθ the unconstrained minimiser already in z
+      let s = -rhs[W[a]];
+      for (let j = 0; j < nz; j++) s += ws.problem.G[W[a] * nz + j] * z[j];
+      lam[a] = s;
+    }
+    if (!factorSolve(chol, k, lam)) return;
+    let worst = -1;
+    for (let a = 0; a < k; a++) if (lam[a] < 0 && (worst < 0 || lam[a] < lam[worst])) worst = a;
+    if (worst >= 0) {
+      W.splice(worst, 1);
+      continue;
+    }
+    for (let i = 0; i < nz; i++) {
+      let s = 0;
+      for (let a = 0; a < k; a++) s -= K[i * nc + W[a]] * lam[a];
+      z[i] += s;
+    }
+    for (let a = 0; a < k; a++) {
+      lambda[W[a]] = lam[a];
+      active.push(W[a]);
+      isActive[W[a]] = 1;
+    }
+    return;
+  }
 }
 
 export function isFeasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): boolean {

@@ -5,7 +5,12 @@ import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.j
 import { tol } from '../tol.js';
 
 export type RegionFailure = 'licq' | 'empty' | 'flat';
-export type RegionResult = { ok: true; region: Omit<CriticalRegion, 'id'> } | { ok: false; reason: RegionFailure };
+/** An axis-aligned box that holds the region (not stored in the table; feeds the exploration's spatial index). */
+export interface BoundingBox {
+  lo: Float64Array;
+  hi: Float64Array;
+}
+export type RegionResult = { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox } | { ok: false; reason: RegionFailure };
 
 export interface LpEngine {
   lps: number;
@@ -128,8 +133,9 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   lp.lps++;
   const ball = chebyshevBall(Af, bf, m, nt, start, width);
   if (!(ball.radius > tol.radius)) return { ok: false, reason: 'flat' };
-  const alive = nt === 2 ? facetRows2d(Af, bf, m, lo, up) : facetRowsByLp(Af, bf, m, nt, ball.center, lp);
-  if (!alive) return { ok: false, reason: 'flat' };
+  const thin = nt === 2 ? facetRows2d(Af, bf, m, lo, up) : facetRowsByLp(Af, bf, m, nt, ball.center, lp, lo, up);
+  if (!thin) return { ok: false, reason: 'flat' };
+  const alive = thin.alive;
   const A: number[][] = [];
   const b: number[] = [];
   const facets: FacetInfo[] = [];
@@ -156,6 +162,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
       moves: { F: movesF, g: movesG },
       value,
     },
+    bbox: thin.bbox,
   };
 }
 
@@ -198,10 +205,14 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
 
 /**
  * Non-redundant rows by LP: row r is redundant when max a_r θ over the other live rows ≤ b_r.
- * Rays shot from the interior centre along every row normal first mark rows that are hit first
- * (certainly facets), which spares their LPs.
+ * 1. Rays shot from the interior centre along every row normal and every axis mark the rows hit
+ *    first: certainly facets, no LP.
+ * 2. The bounding box of the polytope of those sure rows (and the box rows) by 2·nθ small LPs
+ *    holds the region; a row whose maximum over that box is within its bound is redundant, no LP.
+ *    The same box is the region's bounding box for the spatial index.
+ * 3. One LP over the live rows for each row left.
  */
-function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine): Uint8Array {
+function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } {
   const alive = new Uint8Array(m).fill(1);
   const sure = new Uint8Array(m);
   const slack = new Float64Array(m);
@@ -210,27 +221,97 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     for (let j = 0; j < nt; j++) s -= Af[q * nt + j] * center[j];
     slack[q] = s;
   }
-  for (let r = 0; r < m; r++) {
+  const dir = new Float64Array(nt);
+  const shoot = (): void => {
     let best = Infinity;
     let hit = -1;
     let tie = false;
     for (let q = 0; q < m; q++) {
       let ad = 0;
-      for (let j = 0; j < nt; j++) ad += Af[q * nt + j] * Af[r * nt + j];
+      for (let j = 0; j < nt; j++) ad += Af[q * nt + j] * dir[j];
       if (ad <= 1e-12) continue;
       const t = slack[q] / ad;
-      if (t < best - 1e-12 * (1 + best)) {
+      if (hit < 0 || t < best - 1e-12 * (1 + best)) {
         best = t;
         hit = q;
         tie = false;
       } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
     }
     if (hit >= 0 && !tie) sure[hit] = 1;
+  };
+  for (let r = 0; r < m; r++) {
+    for (let j = 0; j < nt; j++) dir[j] = Af[r * nt + j];
+    shoot();
   }
+  for (let j = 0; j < nt; j++)
+    for (const sgn of [1, -1]) {
+      dir.fill(0);
+      dir[j] = sgn;
+      shoot();
+    }
+  // and along fixed pseudo-random directions (a seeded generator: the same rays for every region)
+  let seed = 0x9e3779b9;
+  for (let k = 0; k < 8 * nt; k++) {
+    for (let j = 0; j < nt; j++) {
+      seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0;
+      dir[j] = seed / 4294967296 - 0.5;
+    }
+    shoot();
+  }
+  // Bounding box of the region, after Clarkson's outer-approximation idea: maximise ±θ_j over the
+  // sure rows (and the box rows, the last 2·nθ); when the maximiser breaks another row, the row
+  // first hit on the segment from the centre to it is a facet: mark it sure and solve again. Each
+  // box side ends exact, with one LP per side plus one per facet found this way.
   const skip = new Uint8Array(m);
+  for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
+  const bbLo = Float64Array.from(lo);
+  const bbHi = Float64Array.from(up);
   const c = new Float64Array(nt);
+  for (let j = 0; j < nt; j++)
+    for (const sgn of [1, -1]) {
+      c.fill(0);
+      c[j] = sgn;
+      let value = Infinity;
+      for (let round = 0; round <= m; round++) {
+        lp.lps++;
+        const res = lp.reference ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0) : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
+        if (res.status !== 'optimal') break;
+        value = res.value;
+        for (let q = 0; q < nt; q++) dir[q] = res.x[q] - center[q];
+        let first = -1;
+        let tFirst = 1 - 1e-12;
+        let tie = false;
+        for (let q = 0; q < m; q++) {
+          if (!skip[q]) continue;
+          let ad = 0;
+          for (let k = 0; k < nt; k++) ad += Af[q * nt + k] * dir[k];
+          if (ad <= 1e-12) continue;
+          const t = slack[q] / ad;
+          if (t < tFirst - 1e-12) {
+            tFirst = t;
+            first = q;
+            tie = false;
+          } else if (t <= tFirst + 1e-12) tie = true;
+        }
+        if (first < 0 || tie) break; // the maximiser keeps every row (this side is exact), or a tie: keep the outer bound
+        sure[first] = 1;
+        skip[first] = 0;
+      }
+      if (!Number.isFinite(value)) continue;
+      if (sgn > 0) bbHi[j] = Math.min(bbHi[j], value + tol.redundancy);
+      else bbLo[j] = Math.max(bbLo[j], -value - tol.redundancy);
+    }
   for (let r = 0; r < m; r++) {
     if (sure[r]) continue;
+    let mx = 0;
+    for (let j = 0; j < nt; j++) {
+      const a = Af[r * nt + j];
+      mx += a > 0 ? a * bbHi[j] : a * bbLo[j];
+    }
+    if (mx <= bf[r] - tol.redundancy) alive[r] = 0;
+  }
+  for (let r = 0; r < m; r++) {
+    if (sure[r] || !alive[r]) continue;
     for (let q = 0; q < m; q++) skip[q] = alive[q] ? 0 : 1;
     skip[r] = 1;
     for (let j = 0; j < nt; j++) c[j] = Af[r * nt + j];
@@ -240,7 +321,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
       : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
     if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
   }
-  return alive;
+  return { alive, bbox: { lo: bbLo, hi: bbHi } };
 }
 
 /**
@@ -248,7 +329,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
  * exact for convex polygons); a row is a facet when it supports an edge longer than tol.radius.
  * Duplicate rows supporting the same edge keep the first one. Null when the polygon is flat.
  */
-function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): Uint8Array | null {
+function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } | null {
   // vertices with the row that made the edge leaving each vertex (−1: not from a row yet)
   let poly: { x: number; y: number; edge: number }[] = [];
   const boxRows = findBoxRows(Af, bf, m, lo, up);
@@ -289,7 +370,15 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
     const Q = poly[(i + 1) % k];
     if (Math.hypot(Q.x - P.x, Q.y - P.y) > tol.radius && P.edge >= 0) alive[P.edge] = 1;
   }
-  return alive;
+  const bbLo = Float64Array.of(Infinity, Infinity);
+  const bbHi = Float64Array.of(-Infinity, -Infinity);
+  for (const P of poly) {
+    bbLo[0] = Math.min(bbLo[0], P.x - tol.redundancy);
+    bbLo[1] = Math.min(bbLo[1], P.y - tol.redundancy);
+    bbHi[0] = Math.max(bbHi[0], P.x + tol.redundancy);
+    bbHi[1] = Math.max(bbHi[1], P.y + tol.redundancy);
+  }
+  return { alive, bbox: { lo: bbLo, hi: bbHi } };
 }
 
 /** Indices of the four box rows (x ≤ up0, −x ≤ −lo0, y ≤ up1, −y ≤ −lo1), appended last by buildRegion. */

@@ -1,8 +1,8 @@
-import type { CriticalRegion, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
+import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
 import { solvePointQp } from './pointqp.js';
-import { buildRegion, type LpEngine } from './region.js';
+import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
-import { regionContains } from '../table/table.js';
+import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
 
 /**
@@ -31,6 +31,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
   const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 };
+  const guessSets = options.strategy?.guess ?? true;
+  const warmQp = options.strategy?.warmStart ?? true;
+  const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
   let rng = 0x2545f491;
   const rand = (): number => {
     rng ^= rng << 13;
@@ -57,27 +60,32 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     stats.stopReason = why;
     return true;
   };
-  const locate = (theta: ArrayLike<number>, slack: number): number => {
-    for (let i = regions.length - 1; i >= 0; i--) if (regionContains(regions[i], theta, slack)) return i;
-    return -1;
+  // point location: the regions a caller names first (adjacency), then the grid over bounding boxes
+  const grid = new GridLocator(lo, up);
+  const locate = (theta: ArrayLike<number>, slack: number, hints?: readonly number[]): number => {
+    if (hints) for (const h of hints) if (regionContains(regions[h], theta, slack)) return h;
+    return grid.locate(theta, slack);
   };
   const inBox = (theta: ArrayLike<number>): boolean => {
     for (let j = 0; j < nt; j++) if (theta[j] < lo[j] - tol.inside || theta[j] > up[j] + tol.inside) return false;
     return true;
   };
+  /** regions known to touch each region (landings in either direction): the first place to look */
+  const adjacent: number[][] = [];
+  const bboxes: BoundingBox[] = [];
+  const link = (a: number, b: number): void => {
+    if (a === b) return;
+    if (!adjacent[a].includes(b)) adjacent[a].push(b);
+    if (!adjacent[b].includes(a)) adjacent[b].push(a);
+  };
 
-  /** Region holding θ: an existing one, a new one, or −1 when θ is infeasible; −2 when no full-dimensional region could be built. */
-  const regionAt = (theta: Float64Array): number => {
-    const hit = locate(theta, tol.inside);
-    if (hit >= 0) return hit;
-    stats.qps++;
-    const qp = solvePointQp(problem, theta);
-    if (!qp.feasible) return -1;
-    stats.candidates++; // a candidate is an optimal active set examined; infeasibility probes count only as QPs
-    const key = qp.activeSet.join(',');
-    const known = byActiveSet.get(key);
-    if (known !== undefined) return known;
-    const res = buildRegion(problem, qp.activeSet, lp);
+  /** Build the region of an active set and add it unless it copies a known one; its id, or −2 when it is not full-dimensional. */
+  const addRegion = (activeSet: number[], key: string): number => {
+    const lp0 = lp.lps;
+    const res = buildRegion(problem, activeSet, lp);
+    work.regionLps += lp.lps - lp0;
+    // a candidate is an active set satisfying LICQ whose region is built (a guess failing LICQ costs one small factorisation)
+    if (res.ok || res.reason !== 'licq') stats.candidates++;
     if (!res.ok) return -2;
     // a copy of an existing region under another (degenerate) active set is not added twice
     const dup = locate(res.region.chebyshev.center, -0.5 * res.region.chebyshev.radius);
@@ -87,9 +95,41 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     }
     const id = regions.length;
     regions.push({ id, ...res.region });
+    adjacent.push([]);
+    bboxes.push(res.bbox);
+    grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
     report();
     return id;
+  };
+
+  /**
+   * Region holding θ: an existing one, a new one, or −1 when θ is infeasible; −2 when no
+   * full-dimensional region could be built. `hints` are regions to test first; `guess` an active set
+   * to try before the point QP (the combinatorial neighbour across a facet).
+   */
+  const regionAt = (theta: Float64Array, hints?: readonly number[], guess?: number[], warm?: readonly number[]): number => {
+    const hit = locate(theta, tol.inside, hints);
+    if (hit >= 0) return hit;
+    if (guess) {
+      const key = guess.join(',');
+      if (!byActiveSet.has(key)) {
+        work.guesses++;
+        const id = addRegion(guess, key);
+        if (id >= 0 && regionContains(regions[id], theta, tol.inside)) {
+          work.guessHits++;
+          return id;
+        }
+        if (id < 0) byActiveSet.set(key, -2); // never build it again
+      }
+    }
+    stats.qps++;
+    const qp = solvePointQp(problem, theta, warmQp ? warm : undefined);
+    if (!qp.feasible) return -1;
+    const key = qp.activeSet.join(',');
+    const known = byActiveSet.get(key);
+    if (known !== undefined) return known;
+    return addRegion(qp.activeSet, key);
   };
 
   // first region: the box centre if feasible, else the max-margin point of {(θ, z) : G z − E θ ≤ w, θ ∈ box}
@@ -114,34 +154,71 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   }
 
   function exploreFacet(R: CriticalRegion, f: number): void {
-    const facet = slicePolytope(R.A, R.b, R.A[f], R.b[f], f, minPiece);
+    const facet = slicePolytope(R.A, R.b, R.A[f], R.b[f], f, minPiece, bboxes[R.id]);
     if (!facet) return;
     const neighbours = R.facets[f].neighbours;
     const slices: Slice[] = [];
+    // known neighbours first: regions touching R that have the same hyperplane, reversed, as a facet
+    const seeded: { id: number; slice: Slice }[] = [];
+    for (const id of adjacent[R.id]) {
+      if (neighbours.includes(id) || !sharesHyperplane(regions[id], R.A[f], R.b[f])) continue;
+      const slice = facet.sliceOf(regions[id]);
+      if (!slice) continue;
+      seeded.push({ id, slice });
+      slices.push(slice);
+      work.seededSlices++;
+    }
+    for (const id of neighbours) {
+      const slice = facet.sliceOf(regions[id]);
+      if (slice) slices.push(slice);
+    }
+    let covered = false;
     for (let guard = 0; guard < 1000; guard++) {
       if (stopNow()) return;
+      const lp0 = lp.lps;
       const piece = uncoveredPoint(facet, slices, minPiece, lp);
-      if (!piece) return;
+      work.coverLps += lp.lps - lp0;
+      if (!piece) {
+        covered = true;
+        break;
+      }
       const landing = landAcross(R, f, facet, piece);
-      if (landing === 'infeasible') return; // far side infeasible: the facet lies on the feasibility boundary
+      if (landing === 'infeasible') {
+        covered = true; // far side infeasible: the facet lies on the feasibility boundary
+        break;
+      }
       if (landing === null) {
         slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece: counted, never silent
         stats.unresolvedPieces++;
         continue;
       }
       if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
+      link(R.id, landing.id);
       slices.push(landing.slice);
     }
-    stats.unresolvedPieces++; // guard exhausted: the rest of this facet is unresolved
+    if (!covered) stats.unresolvedPieces++; // guard exhausted: the rest of this facet is unresolved
+    // a seeded region is a neighbour across this facet when it meets the facet in a full piece
+    for (const s of seeded) {
+      if (neighbours.includes(s.id)) continue;
+      if (overlapsFacet(facet, s.slice, minPiece, lp)) neighbours.push(s.id);
+    }
   }
 
   /**
    * The region just across facet f at the uncovered piece: try the piece centre, then nudged points
    * inside the piece; for each, steps from the nominal one down to 10·tol.inside, so that a region
    * thinner than the step is not jumped over. Accept a region whose facet slice holds the point.
+   * The first try guesses the neighbour's active set from the facet (add the row across a primal
+   * facet, drop it across a dual one) before falling back to the point QP.
    */
   function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
+    work.landings++;
     const h0 = Math.min(step, 0.1 * piece.radius);
+    const fi = R.facets[f];
+    const guess = fi.kind === 'primal' ? [...R.activeSet, fi.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== fi.row);
+    const hints = [...fi.neighbours, ...adjacent[R.id]];
+    // the dual method warm-started from R's working set (minus the row across a dual facet) adds the row itself
+    const warm = fi.kind === 'primal' ? R.activeSet : guess;
     let sawFeasible = false;
     for (let attempt = 0; attempt < 6; attempt++) {
       const y = Float64Array.from(piece.point);
@@ -153,7 +230,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         const theta = Float64Array.from(base);
         for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
         if (!inBox(theta)) break;
-        const id = regionAt(theta);
+        const id = regionAt(theta, hints, guessSets && attempt === 0 && h === h0 ? guess : undefined, warm);
         if (id === -1) {
           if (++infeasibleSteps >= 2 && !sawFeasible) break; // two steps, both infeasible: the boundary
           continue;
@@ -171,7 +248,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   stats.regions = regions.length;
   stats.lps = lp.lps;
   report(true);
-  return { regions, stats };
+  return { regions, stats, work };
 }
 
 function firstSeed(problem: MpqpProblem, lp: LpEngine): Float64Array | null {
@@ -222,7 +299,7 @@ interface FacetFrame extends Slice {
  * Coordinates on the hyperplane a·θ = β: θ = a β + N y with N an orthonormal basis of a⊥
  * (Gram–Schmidt on the unit vectors). In 1-D the hyperplane is a point and y is empty.
  */
-function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number): FacetFrame | null {
+function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number, bbox?: BoundingBox): FacetFrame | null {
   const d = a.length;
   const basis: number[][] = [];
   for (let e = 0; e < d && basis.length < d - 1; e++) {
@@ -247,6 +324,12 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
     for (let i = 0; i < rows.length; i++) {
       if (i === skipRow) continue;
       const row = rows[i];
+      if (bbox && skipRow < 0) {
+        // a row that holds on all of the region's bounding box holds on the facet: it cannot cut it
+        let mx = 0;
+        for (let j = 0; j < d; j++) mx += row[j] > 0 ? row[j] * bbox.hi[j] : row[j] * bbox.lo[j];
+        if (mx <= rhs[i] + slack) continue;
+      }
       let r0 = rhs[i] + slack;
       for (let j = 0; j < d; j++) r0 -= row[j] * origin[j];
       const pr = new Array<number>(dim);
@@ -295,6 +378,38 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
   };
 }
 
+/** True when region S has a facet on the hyperplane a·θ = β with the opposite orientation (−a·θ ≤ −β). */
+function sharesHyperplane(S: CriticalRegion, a: number[], beta: number): boolean {
+  const nt = a.length;
+  for (let i = 0; i < S.A.length; i++) {
+    if (Math.abs(S.b[i] + beta) > 1e3 * tol.inside) continue;
+    let d = 0;
+    for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(S.A[i][j] + a[j]));
+    if (d <= 1e-7) return true;
+  }
+  return false;
+}
+
+/** True when the slice meets the facet in a piece of radius > minRadius. */
+function overlapsFacet(facet: FacetFrame, s: Slice, minRadius: number, lp: LpEngine): boolean {
+  const dim = facet.dim;
+  if (dim === 0) return containsY(s, []);
+  if (dim === 1) {
+    const [l0, u0] = interval(facet);
+    const [l1, u1] = interval(s);
+    return 0.5 * (Math.min(u0, u1) - Math.max(l0, l1)) > minRadius;
+  }
+  const m = facet.m + s.m;
+  const A = new Float64Array(m * dim);
+  A.set(facet.A);
+  A.set(s.A, facet.m * dim);
+  const b = new Float64Array(m);
+  b.set(facet.b);
+  b.set(s.b, facet.m);
+  lp.lps++;
+  return chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6).radius > minRadius;
+}
+
 function containsY(s: Slice, y: ArrayLike<number>): boolean {
   const dim = s.m > 0 ? s.A.length / s.m : 0;
   for (let i = 0; i < s.m; i++) {
@@ -330,13 +445,16 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
       b[i] = r.b;
     });
     lp.lps++;
-    const ball = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
-    if (!(ball.radius > minRadius)) return null;
-    if (idx === cover.length) return { point: ball.center, radius: ball.radius };
+    const cheb = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
+    if (!(cheb.radius > minRadius)) return null;
+    const ball = { point: cheb.center, radius: cheb.radius };
+    if (idx === cover.length) return ball;
     const S = cover[idx];
     const prefix: { A: number[]; b: number }[] = [];
     for (let i = 0; i < S.m; i++) {
       const s = Array.from(S.A.subarray(i * dim, (i + 1) * dim));
+      // a row of the piece with the same normal and a bound no looser implies s: the flipped side is empty, no LP
+      if (impliedBy(pieceRows, s, S.b[i])) continue;
       const flipped = { A: s.map((x) => -x), b: -S.b[i] };
       const res = rec([...pieceRows, ...prefix, flipped], idx + 1);
       if (res) return res;
@@ -345,6 +463,16 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
     return null;
   };
   return rec(rows, 0);
+}
+
+function impliedBy(rows: { A: number[]; b: number }[], s: number[], t: number): boolean {
+  for (const r of rows) {
+    if (r.b > t) continue;
+    let d = 0;
+    for (let j = 0; j < s.length; j++) d = Math.max(d, Math.abs(r.A[j] - s[j]));
+    if (d <= 1e-9) return true;
+  }
+  return false;
 }
 
 /** 1-D facets (2-D θ): intervals, so the difference is exact interval arithmetic with no LP. */

@@ -79,6 +79,12 @@ export interface SolveOptions {
   lp?: 'kernel' | 'reference';
   /** progress callback, called at most every ~100 ms */
   onProgress?: (p: Progress) => void;
+  /**
+   * How a facet is crossed (for measurement; defaults are best): `guess` tries the combinatorial
+   * neighbour (row added across a primal facet, dropped across a dual one) before any point QP;
+   * `warmStart` starts the point QP from the region's working set instead of the unconstrained point.
+   */
+  strategy?: { guess?: boolean; warmStart?: boolean };
   /** cooperative cancellation (Ctrl-C): checked between candidates */
   shouldStop?: () => boolean;
 }
@@ -102,7 +108,24 @@ export interface PartitionStats {
   unresolvedPieces: number;
 }
 
+/** How the exploration spent its work (printed and benchmarked; not stored in the table). */
+export interface ExplorationWork {
+  /** neighbour active sets guessed from a facet (row added across a primal facet, dropped across a dual one) */
+  guesses: number;
+  /** guesses whose region held the landing point (no point QP needed) */
+  guessHits: number;
+  /** facet coverings started from a known neighbour's slice instead of a landing */
+  seededSlices: number;
+  /** landings across a facet piece */
+  landings: number;
+  /** LPs spent building regions (Chebyshev ball, bounding box, redundancy) */
+  regionLps: number;
+  /** LPs spent finding uncovered facet pieces */
+  coverLps: number;
+}
+
 export interface Partition {
   regions: CriticalRegion[];
   stats: PartitionStats;
+  work?: ExplorationWork;
 }

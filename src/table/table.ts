@@ -3,6 +3,7 @@ import { writeFileAtomic } from '../io/atomic.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './format.js';
+import { locateRegion, regionContains } from './locator.js';
 
 /** Serialise a table deterministically: fixed key order (as built), no run-dependent fields. */
 export function tableToJson(table: TableFile): string {
@@ -53,17 +54,7 @@ export function checkTable(raw: unknown, file: string): TableFile {
   return raw as TableFile;
 }
 
-/** True when θ satisfies every half-space of the region within `slack`. */
-export function regionContains(region: Pick<CriticalRegion, 'A' | 'b'>, theta: ArrayLike<number>, slack: number = tol.inside): boolean {
-  const { A, b } = region;
-  for (let i = 0; i < A.length; i++) {
-    const row = A[i];
-    let s = 0;
-    for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
-    if (!(s <= b[i] + slack)) return false; // NaN θ lies in no region
-  }
-  return true;
-}
+export { regionContains } from './locator.js';
 
 /** Evaluate an affine map at θ. */
 export function applyAffine(map: { F: number[][]; g: number[] }, theta: ArrayLike<number>): number[] {
@@ -91,6 +82,6 @@ export interface Evaluation {
 
 export function evaluateTable(table: TableFile, theta: ArrayLike<number>): Evaluation {
   if (theta.length !== table.dims.ntheta) throw new Error(`θ has ${theta.length} entries, the table expects ${table.dims.ntheta}`);
-  const region = locateSequential(table.regions, theta);
+  const region = locateRegion(table.regions, theta, tol.inside, table.box);
   return { region, u: region < 0 ? null : applyAffine(table.regions[region].law, theta) };
 }

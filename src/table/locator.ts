@@ -1,0 +1,239 @@
+import { lpMaximizeFrom, chebyshevBall } from '../lp/kernel.js';
+import { tol } from '../tol.js';
+import type { CriticalRegion } from '../mpqp/types.js';
+
+/**
+ * Point location over polyhedral regions through a hierarchy of uniform grids over the parameter
+ * box (a loose multi-level grid).
+ *
+ * Level L splits every axis into 2^L cells. A region goes to the finest level whose cells are at
+ * least as wide as its bounding box on every axis, and is listed in the (at most 2^nθ) cells of that
+ * level its box meets; so inserting is O(2^nθ) whatever the table size, and a query looks at one
+ * cell per level. Lists are in ascending id and a query keeps the lowest id holding θ: the same
+ * answer as a sequential scan (`locateSequential`), with a number of tests independent of the
+ * number of regions. Regions are added one at a time in id order (the exploration does).
+ *
+ * Why our own and not an R-tree package: θ has 1 to ~6 dimensions here and the well-kept npm
+ * spatial indexes (rbush, flatbush, kdbush) are 2-D only; a grid hierarchy over a known box is a
+ * few dozen lines, needs no balancing, and answers the lowest id deterministically.
+ */
+export class GridLocator {
+  readonly n: number;
+  private readonly lo: Float64Array;
+  private readonly width: Float64Array;
+  private readonly maxLevel: number;
+  /** per level: cell key → region ids (ascending) */
+  private readonly levels: Map<number, number[]>[] = [];
+  private used = 0; // bit L set when level L holds a region
+  /** rows of every region, flattened: region r has rows rowStart[r] … rowStart[r+1]−1 */
+  private A: Float64Array;
+  private b: Float64Array;
+  private rowStart: number[] = [0];
+  private count = 0;
+
+  constructor(lower: ArrayLike<number>, upper: ArrayLike<number>) {
+    this.n = lower.length;
+    this.lo = Float64Array.from(lower);
+    this.width = new Float64Array(this.n);
+    for (let j = 0; j < this.n; j++) this.width[j] = Math.max(upper[j] - lower[j], 1e-300);
+    // cell keys stay exact integers below 2^52
+    this.maxLevel = Math.max(0, Math.min(20, Math.floor(52 / Math.max(this.n, 1))));
+    for (let L = 0; L <= this.maxLevel; L++) this.levels.push(new Map());
+    this.A = new Float64Array(64 * Math.max(this.n, 1));
+    this.b = new Float64Array(64);
+  }
+
+  get size(): number {
+    return this.count;
+  }
+
+  /** Add region `size` (ids are dense and ascending) with rows A θ ≤ b and a bounding box that holds it. */
+  add(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<number>, boxLo: ArrayLike<number>, boxHi: ArrayLike<number>): number {
+    const n = this.n;
+    const id = this.count++;
+    const start = this.rowStart[id];
+    const m = b.length;
+    while ((start + m) * n > this.A.length || start + m > this.b.length) {
+      const g = new Float64Array(this.A.length * 2);
+      g.set(this.A);
+      this.A = g;
+      const h = new Float64Array(this.b.length * 2);
+      h.set(this.b);
+      this.b = h;
+    }
+    for (let i = 0; i < m; i++) {
+      for (let j = 0; j < n; j++) this.A[(start + i) * n + j] = A[i][j];
+      this.b[start + i] = b[i];
+    }
+    this.rowStart.push(start + m);
+    // box in unit coordinates, padded so that a query within its slack still finds the region
+    const pad = 1e3 * tol.inside;
+    const u0: number[] = [];
+    const u1: number[] = [];
+    let ext = 0;
+    for (let j = 0; j < n; j++) {
+      const a = Math.max(0, Math.min(1, (boxLo[j] - pad - this.lo[j]) / this.width[j]));
+      const c = Math.max(0, Math.min(1, (boxHi[j] + pad - this.lo[j]) / this.width[j]));
+      u0.push(Number.isNaN(a) ? 0 : a);
+      u1.push(Number.isNaN(c) ? 1 : Math.max(c, a));
+      ext = Math.max(ext, u1[j] - u0[j]);
+    }
+    let L = ext > 0 ? Math.floor(-Math.log2(ext)) : this.maxLevel;
+    L = Math.max(0, Math.min(this.maxLevel, L));
+    const d = 2 ** L;
+    const first: number[] = [];
+    const last: number[] = [];
+    for (let j = 0; j < n; j++) {
+      first.push(Math.min(d - 1, Math.floor(u0[j] * d)));
+      last.push(Math.min(d - 1, Math.floor(u1[j] * d)));
+    }
+    const cells = this.levels[L];
+    this.used |= 1 << L;
+    const idx = first.slice();
+    for (;;) {
+      let key = 0;
+      for (let j = n - 1; j >= 0; j--) key = key * d + idx[j];
+      const list = cells.get(key);
+      if (list) list.push(id);
+      else cells.set(key, [id]);
+      let j = 0;
+      while (j < n && idx[j] === last[j]) {
+        idx[j] = first[j];
+        j++;
+      }
+      if (j === n) break;
+      idx[j]++;
+    }
+    return id;
+  }
+
+  /** True when region r holds θ within slack (every row ≤ b + slack; NaN θ is in no region). */
+  contains(r: number, theta: ArrayLike<number>, slack: number): boolean {
+    const n = this.n;
+    const A = this.A;
+    const b = this.b;
+    for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
+      let s = 0;
+      const o = i * n;
+      for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
+      if (!(s <= b[i] + slack)) return false;
+    }
+    return true;
+  }
+
+  /** Lowest id of a region holding θ within slack, or −1. */
+  locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
+    const n = this.n;
+    const u = this.unit;
+    for (let j = 0; j < n; j++) {
+      const t = (theta[j] - this.lo[j]) / this.width[j];
+      const padU = (1e3 * tol.inside) / this.width[j];
+      if (!(t >= -padU && t <= 1 + padU)) return -1; // outside the box by more than any region reaches, or NaN
+      u[j] = t < 0 ? 0 : t > 1 ? 1 : t;
+    }
+    let best = -1;
+    for (let L = 0; L <= this.maxLevel; L++) {
+      if (!(this.used & (1 << L))) continue;
+      const d = 2 ** L;
+      let key = 0;
+      for (let j = n - 1; j >= 0; j--) key = key * d + Math.min(d - 1, Math.floor(u[j] * d));
+      const list = this.levels[L].get(key);
+      if (!list) continue;
+      for (let k = 0; k < list.length; k++) {
+        const r = list[k];
+        if (best >= 0 && r >= best) break;
+        if (this.contains(r, theta, slack)) {
+          best = r;
+          break;
+        }
+      }
+    }
+    return best;
+  }
+
+  private unit = new Float64Array(64);
+}
+
+/**
+ * Axis-aligned bounding box of {θ : A θ ≤ b} by 2·nθ LPs from an interior point (the exact box,
+ * widened by `pad`). Used where regions come without one (tables read from a file).
+ */
+export function boundingBoxByLp(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<number>, interior: ArrayLike<number> | null, pad: number): { lo: Float64Array; hi: Float64Array } {
+  const m = b.length;
+  const n = A[0]?.length ?? interior?.length ?? 0;
+  const Af = new Float64Array(m * n);
+  const bf = Float64Array.from(b);
+  for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) Af[i * n + j] = A[i][j];
+  let x0: Float64Array;
+  if (interior) x0 = Float64Array.from(interior);
+  else x0 = chebyshevBall(Af, bf, m, n, new Float64Array(n), 1e6).center;
+  const lo = new Float64Array(n);
+  const hi = new Float64Array(n);
+  const c = new Float64Array(n);
+  for (let j = 0; j < n; j++) {
+    c.fill(0);
+    c[j] = 1;
+    const up = lpMaximizeFrom(c, Af, bf, m, n, x0);
+    c[j] = -1;
+    const dn = lpMaximizeFrom(c, Af, bf, m, n, x0);
+    hi[j] = (up.status === 'optimal' ? up.value : Infinity) + pad;
+    lo[j] = (dn.status === 'optimal' ? -dn.value : -Infinity) - pad;
+  }
+  return { lo, hi };
+}
+
+/**
+ * The shared locator of a table's regions: bounding boxes by LP (from each region's Chebyshev
+ * centre), then the grid. `locate` returns what `locateSequential` returns, in O(1) regions tested
+ * on average.
+ */
+export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): GridLocator {
+  const loc = new GridLocator(lower, upper);
+  const pad = 1e3 * tol.inside;
+  for (const r of regions) {
+    if (r.b.length === 0) {
+      loc.add(r.A, r.b, lower, upper);
+      continue;
+    }
+    const bb = boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad);
+    loc.add(r.A, r.b, bb.lo, bb.hi);
+  }
+  return loc;
+}
+
+interface CachedLocator {
+  calls: number;
+  locator: GridLocator | null;
+}
+const cache = new WeakMap<object, CachedLocator>();
+
+/**
+ * Index of the first region (lowest index) holding θ within slack, or −1: exactly what
+ * `locateSequential` returns. Repeated queries on the same regions array go through a grid
+ * locator built on first need (after a few queries, so that a single lookup does not pay for the
+ * bounding-box LPs); a slack wider than the grid's padding falls back to the sequential scan.
+ */
+export function locateRegion(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
+  let entry = cache.get(regions);
+  if (!entry) {
+    entry = { calls: 0, locator: null };
+    cache.set(regions, entry);
+  }
+  entry.calls++;
+  if (!entry.locator && regions.length >= 32 && entry.calls > 16) entry.locator = tableLocator(regions, box.lower, box.upper);
+  if (entry.locator && entry.locator.size === regions.length && Math.abs(slack) <= 100 * tol.inside) return entry.locator.locate(theta, slack);
+  for (let i = 0; i < regions.length; i++) if (regionContains(regions[i], theta, slack)) return i;
+  return -1;
+}
+
+/** True when θ satisfies every half-space of the region within `slack`. */
+export function regionContains(region: Pick<CriticalRegion, 'A' | 'b'>, theta: ArrayLike<number>, slack: number = tol.inside): boolean {
+  const { A, b } = region;
+  for (let i = 0; i < A.length; i++) {
+    const row = A[i];
+    let s = 0;
+    for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
+    if (!(s <= b[i] + slack)) return false; // NaN θ lies in no region
+  }
+  return true;
+}

@@ -23,6 +23,8 @@ export interface TimePlotOptions {
   width?: number;
   /** a line under the title, e.g. the source of the runs */
   subtitle?: string;
+  /** y = x (C = I, no disturbance): output panels without limits or reference would repeat the state panels */
+  outputsAreStates?: boolean;
 }
 
 interface Panel {
@@ -57,8 +59,7 @@ export function renderTimePlotSvg(runs: RunResult[], opts: TimePlotOptions): str
   names.outputs.forEach((o, i) => {
     const ti = opts.tracked.indexOf(i);
     const hasLimit = bound(limits.output, i, 'lower') !== null || bound(limits.output, i, 'upper') !== null;
-    // outputs equal to the states (C = I, no limits, no reference) would repeat the state panels
-    if (ti < 0 && !hasLimit && names.outputs.length === names.states.length && names.outputs.every((n, j) => n === names.states[j])) return;
+    if (ti < 0 && !hasLimit && opts.outputsAreStates) return;
     panels.push({
       label: `output ${o}`,
       series: (r) => [...r.records.map((q) => ({ k: q.k, v: q.y[i] })), { k: r.records.length, v: r.final.y[i] }],

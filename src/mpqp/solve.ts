@@ -47,7 +47,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const now = performance.now();
     if (!force && now - lastReport < 100) return;
     lastReport = now;
-    options.onProgress({ candidates: stats.candidates, regions: regions.length, lps: lp.lps, elapsedSeconds: (now - t0) / 1000 });
+    options.onProgress({ candidates: stats.candidates, regions: regions.length, lps: lp.lps, qps: stats.qps, elapsedSeconds: (now - t0) / 1000 });
   };
   const stopNow = (): boolean => {
     if (options.maxRegions !== undefined && regions.length >= options.maxRegions) return mark('max-regions');

@@ -93,6 +93,7 @@ export interface Progress {
   candidates: number;
   regions: number;
   lps: number;
+  qps: number;
   elapsedSeconds: number;
 }
 

@@ -24,21 +24,29 @@ export class GridLocator {
   private readonly maxLevel: number;
   /** per level: cell key → region ids (ascending) */
   private readonly levels: Map<number, number[]>[] = [];
-  private used = 0; // bit L set when level L holds a region
+  /** levels that hold a region, ascending */
+  private readonly usedLevels: number[] = [];
+  private readonly cellsPerAxis: number[] = [];
   /** rows of every region, flattened: region r has rows rowStart[r] … rowStart[r+1]−1 */
   private A: Float64Array;
   private b: Float64Array;
   private rowStart: number[] = [0];
   private count = 0;
+  /** cells of its level's grid a region's bounding box may meet (the level is the finest that keeps to this) */
+  private readonly cellBudget: number;
 
-  constructor(lower: ArrayLike<number>, upper: ArrayLike<number>) {
+  constructor(lower: ArrayLike<number>, upper: ArrayLike<number>, options: { cellBudget?: number } = {}) {
+    this.cellBudget = options.cellBudget ?? Math.min(4096, 4 ** lower.length);
     this.n = lower.length;
     this.lo = Float64Array.from(lower);
     this.width = new Float64Array(this.n);
     for (let j = 0; j < this.n; j++) this.width[j] = Math.max(upper[j] - lower[j], 1e-300);
     // cell keys stay exact integers below 2^52
     this.maxLevel = Math.max(0, Math.min(20, Math.floor(52 / Math.max(this.n, 1))));
-    for (let L = 0; L <= this.maxLevel; L++) this.levels.push(new Map());
+    for (let L = 0; L <= this.maxLevel; L++) {
+      this.levels.push(new Map());
+      this.cellsPerAxis.push(2 ** L);
+    }
     this.A = new Float64Array(64 * Math.max(this.n, 1));
     this.b = new Float64Array(64);
   }
@@ -78,8 +86,16 @@ export class GridLocator {
       u1.push(Number.isNaN(c) ? 1 : Math.max(c, a));
       ext = Math.max(ext, u1[j] - u0[j]);
     }
+    // the finest level at which the box meets at most `cellBudget` cells
     let L = ext > 0 ? Math.floor(-Math.log2(ext)) : this.maxLevel;
     L = Math.max(0, Math.min(this.maxLevel, L));
+    const span = (lev: number): number => {
+      const d = 2 ** lev;
+      let c = 1;
+      for (let j = 0; j < n; j++) c *= Math.min(d - 1, Math.floor(u1[j] * d)) - Math.min(d - 1, Math.floor(u0[j] * d)) + 1;
+      return c;
+    };
+    while (L < this.maxLevel && span(L + 1) <= this.cellBudget) L++;
     const d = 2 ** L;
     const first: number[] = [];
     const last: number[] = [];
@@ -88,14 +104,22 @@ export class GridLocator {
       last.push(Math.min(d - 1, Math.floor(u1[j] * d)));
     }
     const cells = this.levels[L];
-    this.used |= 1 << L;
+    if (!this.usedLevels.includes(L)) {
+      this.usedLevels.push(L);
+      this.usedLevels.sort((x, y) => x - y);
+    }
+    this.dense[L] = undefined; // a frozen level is thawed: the map stays the truth
     const idx = first.slice();
+    const single = span(L) === 1;
     for (;;) {
-      let key = 0;
-      for (let j = n - 1; j >= 0; j--) key = key * d + idx[j];
-      const list = cells.get(key);
-      if (list) list.push(id);
-      else cells.set(key, [id]);
+      // a cell that one of the region's rows separates from it is left out
+      if (single || !this.separated(start, m, idx, d, pad)) {
+        let key = 0;
+        for (let j = n - 1; j >= 0; j--) key = key * d + idx[j];
+        const list = cells.get(key);
+        if (list) list.push(id);
+        else cells.set(key, [id]);
+      }
       let j = 0;
       while (j < n && idx[j] === last[j]) {
         idx[j] = first[j];
@@ -105,6 +129,22 @@ export class GridLocator {
       idx[j]++;
     }
     return id;
+  }
+
+  /** True when a row of the region (rows start … start+m−1) holds nowhere in grid cell idx at d cells per axis. */
+  private separated(start: number, m: number, idx: number[], d: number, pad: number): boolean {
+    const n = this.n;
+    for (let i = start; i < start + m; i++) {
+      let mn = 0;
+      for (let j = 0; j < n; j++) {
+        const a = this.A[i * n + j];
+        const c0 = this.lo[j] + (idx[j] / d) * this.width[j] - pad;
+        const c1 = this.lo[j] + ((idx[j] + 1) / d) * this.width[j] + pad;
+        mn += a > 0 ? a * c0 : a * c1;
+      }
+      if (mn > this.b[i] + pad) return true;
+    }
+    return false;
   }
 
   /** True when region r holds θ within slack (every row ≤ b + slack; NaN θ is in no region). */
@@ -132,15 +172,32 @@ export class GridLocator {
       u[j] = t < 0 ? 0 : t > 1 ? 1 : t;
     }
     let best = -1;
-    for (let L = 0; L <= this.maxLevel; L++) {
-      if (!(this.used & (1 << L))) continue;
-      const d = 2 ** L;
+    const levels = this.usedLevels;
+    for (let q = 0; q < levels.length; q++) {
+      const L = levels[q];
+      const d = this.cellsPerAxis[L];
       let key = 0;
-      for (let j = n - 1; j >= 0; j--) key = key * d + Math.min(d - 1, Math.floor(u[j] * d));
-      const list = this.levels[L].get(key);
-      if (!list) continue;
-      for (let k = 0; k < list.length; k++) {
-        const r = list[k];
+      for (let j = n - 1; j >= 0; j--) {
+        const k = Math.floor(u[j] * d);
+        key = key * d + (k < d ? k : d - 1);
+      }
+      const dense = this.dense[L];
+      let ids: ArrayLike<number>;
+      let k0: number;
+      let k1: number;
+      if (dense) {
+        ids = dense.ids;
+        k0 = dense.start[key];
+        k1 = dense.start[key + 1];
+      } else {
+        const list = this.levels[L].get(key);
+        if (!list) continue;
+        ids = list;
+        k0 = 0;
+        k1 = list.length;
+      }
+      for (let k = k0; k < k1; k++) {
+        const r = ids[k];
         if (best >= 0 && r >= best) break;
         if (this.contains(r, theta, slack)) {
           best = r;
@@ -150,6 +207,38 @@ export class GridLocator {
     }
     return best;
   }
+
+  /**
+   * Compact the levels whose full grid has at most 2^20 cells into flat arrays (cell → range of
+   * ids): a lookup is then two array reads instead of a hash lookup. For a locator that is done
+   * growing (a table read from file); adding after freezing thaws the level added to.
+   */
+  freeze(): this {
+    for (let L = 0; L <= this.maxLevel; L++) {
+      const map = this.levels[L];
+      const total = (2 ** L) ** this.n;
+      if (map.size === 0 || total > 1 << 20) continue;
+      const start = new Int32Array(total + 1);
+      let count = 0;
+      for (const list of map.values()) count += list.length;
+      const ids = new Int32Array(count);
+      const keys = [...map.keys()].sort((a, b) => a - b);
+      let at = 0;
+      let k = 0;
+      for (let c = 0; c < total; c++) {
+        start[c] = at;
+        if (k < keys.length && keys[k] === c) {
+          for (const r of map.get(c)!) ids[at++] = r;
+          k++;
+        }
+      }
+      start[total] = at;
+      this.dense[L] = { start, ids };
+    }
+    return this;
+  }
+
+  private dense: ({ start: Int32Array; ids: Int32Array } | undefined)[] = [];
 
   private unit = new Float64Array(64);
 }
@@ -198,7 +287,7 @@ export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshe
     const bb = boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad);
     loc.add(r.A, r.b, bb.lo, bb.hi);
   }
-  return loc;
+  return loc.freeze();
 }
 
 interface CachedLocator {

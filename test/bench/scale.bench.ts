@@ -1,0 +1,141 @@
+/**
+ * Scaling benchmark (issue: cost per region flat as the table grows).
+ *
+ * 1. Growth curves: one long exploration per problem of test/fixtures/scale/, sampled as the table
+ *    grows (1k, 2k, 4k, … regions): cumulative regions, seconds, regions/s over the last doubling,
+ *    LPs/region, QPs/region, resident MB; then the log–log slope of time against regions (1 = the
+ *    cost per region does not grow with the table). Bounded by TESSERA_BENCH_MAX_REGIONS (default
+ *    100 000) and TESSERA_BENCH_SECONDS per problem (default 240).
+ * 2. Point location: the grid locator against the sequential scan on the largest table, points/s.
+ * 3. Crossing strategies, paired in this process: guess + warm-started QP (default), guess only,
+ *    warm QP only, cold point QP at every landing (the earlier method).
+ * The machine may be shared: compare the ratios printed here, not absolute numbers across runs.
+ */
+import { join } from 'node:path';
+import { loadProblem } from '../../src/problem/index.js';
+import { buildMpqp } from '../../src/mpqp/condition.js';
+import { solvePartition } from '../../src/mpqp/solve.js';
+import { tableLocator } from '../../src/table/locator.js';
+import { locateSequential } from '../../src/table/table.js';
+import type { MpqpProblem, Partition, SolveOptions } from '../../src/mpqp/types.js';
+
+const dir = join(import.meta.dirname, '..', 'fixtures', 'scale');
+const maxRegions = Number(process.env.TESSERA_BENCH_MAX_REGIONS ?? 100_000);
+const seconds = Number(process.env.TESSERA_BENCH_SECONDS ?? 240);
+
+function problem(name: string): MpqpProblem {
+  return buildMpqp(loadProblem(join(dir, `${name}.json`)).model);
+}
+
+function growth(name: string): Partition {
+  const mpqp = problem(name);
+  const marks: { regions: number; s: number; lps: number; qps: number; mb: number }[] = [];
+  let next = 1000;
+  const t0 = performance.now();
+  const p = solvePartition(mpqp, {
+    maxRegions,
+    timeLimit: seconds,
+    onProgress: (q) => {
+      if (q.regions < next) return;
+      marks.push({ regions: q.regions, s: q.elapsedSeconds, lps: q.lps, qps: q.qps, mb: process.memoryUsage().rss / 2 ** 20 });
+      while (next <= q.regions) next *= 2;
+    },
+  });
+  const total = (performance.now() - t0) / 1000;
+  marks.push({ regions: p.stats.regions, s: total, lps: p.stats.lps, qps: p.stats.qps, mb: process.memoryUsage().rss / 2 ** 20 });
+  console.log(`\n${name}: θ ${mpqp.ntheta}-D, ${mpqp.nc} rows, ${mpqp.nz} moves; stopped: ${p.stats.stopReason}, unresolved pieces ${p.stats.unresolvedPieces}`);
+  console.log('  regions        s   regions/s (last doubling)   LPs/region   QPs/region   RSS MB');
+  let prev = { regions: 0, s: 0 };
+  for (const m of marks) {
+    const rate = (m.regions - prev.regions) / Math.max(m.s - prev.s, 1e-9);
+    console.log(
+      `  ${String(m.regions).padStart(7)} ${m.s.toFixed(2).padStart(8)} ${rate.toFixed(0).padStart(11)}                 ${(m.lps / m.regions).toFixed(1).padStart(8)} ${(m.qps / m.regions).toFixed(2).padStart(12)} ${m.mb.toFixed(0).padStart(8)}`,
+    );
+    prev = m;
+  }
+  const pts = marks.filter((m) => m.regions >= 1000 && m.s > 0);
+  if (pts.length >= 2) {
+    const a = pts[0];
+    const b = pts[pts.length - 1];
+    const slope = Math.log(b.s / a.s) / Math.log(b.regions / a.regions);
+    const costA = a.s / a.regions;
+    const costB = (b.s - a.s) / (b.regions - a.regions);
+    console.log(`  log–log slope of time vs regions (${a.regions} → ${b.regions}): ${slope.toFixed(2)} (target ≤ 1.1); cost per region at the end / at ${a.regions}: ${(costB / costA).toFixed(2)}×`);
+  }
+  if (p.work) console.log(`  work: ${JSON.stringify(p.work)}`);
+  return p;
+}
+
+function locateBench(p: Partition, mpqp: MpqpProblem): void {
+  const regions = p.regions;
+  const t0 = performance.now();
+  const loc = tableLocator(regions, mpqp.box.lower, mpqp.box.upper);
+  const build = (performance.now() - t0) / 1000;
+  let s = 0x1234567;
+  const rnd = (): number => {
+    s = (Math.imul(s, 1103515245) + 12345) >>> 0;
+    return s / 4294967296;
+  };
+  const nt = mpqp.ntheta;
+  const N = 200_000;
+  const pts = new Float64Array(N * nt);
+  for (let i = 0; i < N * nt; i++) pts[i] = mpqp.box.lower[i % nt] + rnd() * (mpqp.box.upper[i % nt] - mpqp.box.lower[i % nt]);
+  const th = new Float64Array(nt);
+  let found = 0;
+  const t1 = performance.now();
+  for (let i = 0; i < N; i++) {
+    for (let j = 0; j < nt; j++) th[j] = pts[i * nt + j];
+    if (loc.locate(th) >= 0) found++;
+  }
+  const grid = N / ((performance.now() - t1) / 1000);
+  const M = 2000;
+  let same = 0;
+  const t2 = performance.now();
+  for (let i = 0; i < M; i++) {
+    for (let j = 0; j < nt; j++) th[j] = pts[i * nt + j];
+    if (locateSequential(regions, th) === loc.locate(th)) same++;
+  }
+  const seq = M / ((performance.now() - t2) / 1000);
+  console.log(
+    `\npoint location on ${regions.length} regions (${nt}-D): grid ${(grid / 1e6).toFixed(2)} M points/s (index built in ${build.toFixed(2)} s), sequential ${(seq / 1e3).toFixed(1)} k points/s, ratio ${(grid / seq).toFixed(0)}×; ${found} of ${N} points in a region; same answer on ${same}/${M}`,
+  );
+}
+
+function strategies(name: string, limit: number): void {
+  const mpqp = problem(name);
+  const variants: [string, SolveOptions['strategy']][] = [
+    ['guess + warm QP', { guess: true, warmStart: true }],
+    ['guess + cold QP', { guess: true, warmStart: false }],
+    ['warm QP only', { guess: false, warmStart: true }],
+    ['cold QP only', { guess: false, warmStart: false }],
+  ];
+  console.log(`\ncrossing strategies on ${name} (first ${limit} regions, two rounds, order reversed in the second):`);
+  const rows = new Map<string, number[]>();
+  for (const round of [0, 1]) {
+    const order = round === 0 ? variants : [...variants].reverse();
+    for (const [label, strategy] of order) {
+      const t0 = performance.now();
+      const p = solvePartition(mpqp, { maxRegions: limit, strategy });
+      const s = (performance.now() - t0) / 1000;
+      const r = p.stats.regions;
+      rows.set(label, [...(rows.get(label) ?? []), s]);
+      if (round === 1)
+        console.log(
+          `  ${label.padEnd(16)} ${r} regions  LPs/region ${(p.stats.lps / r).toFixed(1).padStart(5)}  QPs/region ${(p.stats.qps / r).toFixed(2)}  candidates/region ${(p.stats.candidates / r).toFixed(2)}  s ${rows.get(label)!.map((x) => x.toFixed(2)).join(' / ')}`,
+        );
+    }
+  }
+  const base = Math.min(...rows.get('cold QP only')!);
+  for (const [label, t] of rows) console.log(`  ${label.padEnd(16)} time vs cold QP only: ${(Math.min(...t) / base).toFixed(2)}`);
+}
+
+export async function run(): Promise<void> {
+  console.log(`max regions ${maxRegions}, ${seconds} s per problem; load average ${(await import('node:os')).loadavg().map((x) => x.toFixed(1)).join(' ')}`);
+  strategies('glider-2d-n40', 1500);
+  strategies('boom-4d-n8', 1500);
+  const big2 = growth('glider-2d-n40');
+  locateBench(big2, problem('glider-2d-n40'));
+  const big4 = growth('boom-4d-n20');
+  locateBench(big4, problem('boom-4d-n20'));
+  growth('mixer-5d-n10');
+}

@@ -80,8 +80,8 @@ function details(r: AuditReport, c: CheckResult<unknown>): string {
     const d = r.invariance.data;
     const head = rows([
       ['regions', String(d.regions)],
-      ['facets of the covered set', `${d.facets.total} (${d.facets.boundary} feasible-set boundary, ${d.facets.box} box faces; ${d.facets.skipped} on held entries skipped)`],
-      ['LPs solved', String(d.lps)],
+      ['facets of the covered set', `${d.facets.total} (${d.facets.boundary} feasible-set boundary, ${d.facets.box} box faces; ${d.facets.skipped} on held entries skipped; ${d.facets.unconfirmed} without neighbours but not bounding, dropped)`],
+      ['LPs solved', `${d.lps} (+ ${d.confirmLps} confirming the facets)`],
       ['regions that can leave', String(d.leaving.length)],
       ['verdict', d.proven ? 'PROVEN recursively feasible for the nominal model' : d.leaving.length ? 'NOT recursively feasible: witnesses below' : 'not proven (table incomplete)'],
     ]);

@@ -282,13 +282,13 @@ export function checkInvarianceStep(inp: AuditInputs): CheckResult<InvarianceRep
   const line = w
     ? `${rep.leaving.length} region(s) can leave the covered set (${rep.leaving.length - crossesBox} through a boundary of the feasible set, ${crossesBox} through a face of the parameter box); e.g. region ${w.region}: θ = ${fmtTheta(names, w.witness)} → θ⁺ = ${fmtTheta(names, w.successor)} crosses "${w.facet}" by ${fmt(w.excess)}`
     : rep.proven
-      ? `PROVEN recursively feasible on the nominal model: no region's successor leaves the covered set (${rep.lps} LPs over ${rep.regions} regions × ${rep.facets.total} facets)`
+      ? `PROVEN recursively feasible on the nominal model: no region's successor leaves the covered set (${rep.lps} LPs over ${rep.regions} regions × ${rep.facets.total} facets)${rep.facets.unconfirmed ? `; ${rep.facets.unconfirmed} facet(s) listed without neighbours had regions beyond them and were not used` : ''}`
       : `no region leaves the covered set, but the table is incomplete: not a proof`;
   return {
     name: 'Recursive feasibility (invariance)',
     verdict: rep.proven ? 'PASS' : 'FAIL',
     line,
-    method: `For each region R with law u = Fθ + g the nominal successor θ⁺ (x⁺ = Ax + Bu + Bd·d, u_prev⁺ = u, r and d held) is affine on R. The covered set C is the intersection of the half-spaces of the region facets with no neighbour (${rep.facets.boundary} boundary facets of the feasible set, ${rep.facets.box} faces of the parameter box that it touches; faces it does not touch are implied). For every region and facet (a, β) one LP maximises a·θ⁺ over R (the project's LP kernel); an excess above ${rep.margin} (the point-location slack) is a witness. ${rep.lps} LPs.`,
+    method: `For each region R with law u = Fθ + g the nominal successor θ⁺ (x⁺ = Ax + Bu + Bd·d, u_prev⁺ = u, r and d held) is affine on R. The covered set C is the intersection of the half-spaces of the region facets with no neighbour (${rep.facets.boundary} boundary facets of the feasible set, ${rep.facets.box} faces of the parameter box that it touches; faces it does not touch are implied), each confirmed by LP to bound every region (${rep.confirmLps} LPs; ${rep.facets.unconfirmed} listed facet(s) had regions beyond them and were dropped). For every region and facet (a, β) one LP maximises a·θ⁺ over R (the project's LP kernel); an excess above ${rep.margin} (the point-location slack) is a witness. ${rep.lps} LPs.`,
     witness: w ? w.witness : null,
     data: rep,
   };

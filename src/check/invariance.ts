@@ -53,9 +53,12 @@ export interface LeavingRegion {
 
 export interface InvarianceReport {
   regions: number;
-  /** facets of C found (after removing duplicates), split by kind */
-  facets: { total: number; boundary: number; box: number; skipped: number };
+  /** facets of C found (after removing duplicates), split by kind; `unconfirmed`: facets with no neighbour that other regions lie beyond (dropped) */
+  facets: { total: number; boundary: number; box: number; skipped: number; unconfirmed: number };
+  /** invariance LPs (regions × facets) */
   lps: number;
+  /** LPs that confirmed the facets of C */
+  confirmLps: number;
   leaving: LeavingRegion[];
   /** true when no region's image leaves C (and the table is complete) */
   proven: boolean;
@@ -68,8 +71,38 @@ function facetKey(a: ArrayLike<number>, b: number): string {
   return [...Array.from(a), b].map((v) => (Math.abs(v) < 1e-9 ? 0 : v).toFixed(7)).join(',');
 }
 
-/** The facets of the covered set C: region facets with no neighbour, duplicates removed. */
-export function boundaryFacets(table: TableFile): BoundaryFacet[] {
+/**
+ * The facets of the covered set C: region facets with no neighbour, duplicates removed, each
+ * confirmed by LP to bound every region (max a·θ over each region ≤ β + tol.inside). A facet that
+ * fails the confirmation has regions on its far side: its neighbour list was incomplete, and it is
+ * dropped (counted in `unconfirmed`), so a wrong list can never invent a boundary.
+ */
+export function boundaryFacets(table: TableFile): { facets: BoundaryFacet[]; unconfirmed: number; lps: number } {
+  const candidates = candidateFacets(table);
+  const nt = table.dims.ntheta;
+  const polys = table.regions.map((r) => {
+    const A = new Float64Array(r.A.length * nt);
+    r.A.forEach((row, i) => row.forEach((v, j) => (A[i * nt + j] = v)));
+    return { A, b: Float64Array.from(r.b), m: r.A.length, start: Float64Array.from(r.chebyshev.center), c: r.chebyshev.center, rad: r.chebyshev.radius, r };
+  });
+  let lps = 0;
+  const facets = candidates.filter((f) => {
+    const cvec = Float64Array.from(f.a);
+    for (const p of polys) {
+      // the Chebyshev centre beyond the plane refutes the facet without an LP
+      let ac = 0;
+      for (let j = 0; j < nt; j++) ac += f.a[j] * p.c[j];
+      if (ac > f.b + tol.inside) return false;
+      const res = lpMaximizeFrom(cvec, p.A, p.b, p.m, nt, p.start);
+      lps++;
+      if (res.status === 'optimal' && res.value > f.b + tol.inside) return false;
+    }
+    return true;
+  });
+  return { facets, unconfirmed: candidates.length - facets.length, lps };
+}
+
+function candidateFacets(table: TableFile): BoundaryFacet[] {
   const seen = new Map<string, BoundaryFacet>();
   table.regions.forEach((r, ri) =>
     r.facets.forEach((f, fi) => {
@@ -129,7 +162,8 @@ function heldOnly(table: TableFile, a: number[]): boolean {
 
 export function checkInvariance(table: TableFile, plant: PlantDynamics, onProgress?: (done: number, total: number) => void): InvarianceReport {
   const nt = table.dims.ntheta;
-  const all = boundaryFacets(table);
+  const found = boundaryFacets(table);
+  const all = found.facets;
   const facets = all.filter((f) => !heldOnly(table, f.a));
   const margin = tol.inside;
   let lps = 0;
@@ -172,8 +206,9 @@ export function checkInvariance(table: TableFile, plant: PlantDynamics, onProgre
   const box = facets.filter((f) => f.kind === 'box').length;
   return {
     regions: table.regions.length,
-    facets: { total: facets.length, boundary: facets.length - box, box, skipped: all.length - facets.length },
+    facets: { total: facets.length, boundary: facets.length - box, box, skipped: all.length - facets.length, unconfirmed: found.unconfirmed },
     lps,
+    confirmLps: found.lps,
     leaving,
     proven: leaving.length === 0 && table.stats.complete !== false,
     tableComplete: table.stats.complete !== false,

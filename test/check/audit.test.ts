@@ -86,6 +86,17 @@ describe("recursive feasibility by LP", { timeout: 60000 }, () => {
     expect(rep.facets.boundary).toBeGreaterThan(0);
   });
 
+  it('a facet listed without neighbours but with regions beyond it is dropped, not taken as a boundary', () => {
+    const s = solved(longFile);
+    const idx = s.table.regions.findIndex((r) => regionContains(r, [0, 0]));
+    // clear the neighbour lists of the region around the origin: its facets now look like boundaries
+    const broken = { ...s.table, regions: s.table.regions.map((r, i) => (i === idx ? { ...r, facets: r.facets.map((f) => ({ ...f, neighbours: [] })) } : r)) };
+    const rep = checkInvariance(broken, plantOf(s.loaded.model));
+    expect(rep.facets.unconfirmed).toBe(s.table.regions[idx].facets.filter((f) => f.neighbours.length).length);
+    expect(rep.proven).toBe(true);
+    expect(rep.facets.total).toBe(checkInvariance(s.table, plantOf(s.loaded.model)).facets.total);
+  });
+
   it('2-D: the LP verdict of every region equals the verdict from its exact polygon image', () => {
     for (const f of [shortFile, longFile, join(root, 'examples', 'positioning-axis.yaml')]) {
       const s = solved(f);

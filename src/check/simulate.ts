@@ -16,7 +16,9 @@
  */
 import { randomLcg, randomNormal } from 'd3';
 import type { TableFile } from '../table/format.js';
-import { applyAffine, locateSequential } from '../table/table.js';
+import { applyAffine } from '../table/table.js';
+import { locateRegion } from '../table/locator.js';
+import { tol } from '../tol.js';
 import { thetaBlock, type Layout } from '../formulation/layout.js';
 import type { Bounds, MpcModel } from '../problem/types.js';
 
@@ -231,7 +233,7 @@ export function simulateRun(setup: SimulationSetup, run: number, x0: number[], u
     inBand.push(bandOk(x, y, r));
     const xm = gauss ? x.map((v, i) => v + (noise!.std[i] ?? 0) * gauss()) : x;
     const theta = assembleTheta(layout, table.dims.ntheta, xm, uPrev, r, d);
-    const region = locateSequential(table.regions, theta);
+    const region = locateRegion(table.regions, theta, tol.inside, table.box);
     const uTable = region >= 0 ? applyAffine(table.regions[region].law, theta) : null;
     const uOnline = setup.online ? setup.online(theta) : null;
     if (setup.online && !uOnline) onlineInfeasible++;
@@ -431,7 +433,7 @@ export function sampleCoveredStarts(table: TableFile, count: number, seed: numbe
     const uPrev = pb ? new Array<number>(pb.size) : undefined;
     if (pb && uPrev) pb.refersTo.forEach((s, i) => (uPrev[s] = up[i]));
     const th = assembleTheta(layout, table.dims.ntheta, x, uPrev ?? [], r, d);
-    if (locateSequential(table.regions, th) >= 0) out.push({ x, uPrev });
+    if (locateRegion(table.regions, th, tol.inside, table.box) >= 0) out.push({ x, uPrev });
   }
   return out;
 }

@@ -6,6 +6,7 @@ import { solvePartition } from '../mpqp/solve.js';
 import { makeTable } from '../table/build.js';
 import { writeTableFile } from '../table/table.js';
 import { InputError } from '../io/errors.js';
+import { estimateCondensedSize, formatBytes } from '../problem/size.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -30,18 +31,32 @@ export function register(program: Command): void {
     .option('--max-regions <n>', 'stop after n regions; the table is marked incomplete', positive('--max-regions', true))
     .option('--time-limit <seconds>', 'stop after this many seconds; the table is marked incomplete', positive('--time-limit', false))
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
+    .option('--setup-limit <MiB>', 'refuse problems whose condensed set-up is estimated above this many MiB (default 2048)', positive('--setup-limit', false), 2048)
+    .option('--force', 'set up the problem even above --setup-limit')
     .option('-q, --quiet', 'print nothing but errors')
-    .action((problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean }) => {
+    .action((problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean }) => {
+      const tStart = performance.now();
       if (opts.lp !== 'kernel' && opts.lp !== 'reference')
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
       const out = opts.output ?? defaultTablePath(problemPath);
       const loaded = loadProblem(problemPath);
-      const mpqp = buildMpqp(loaded.model);
       const live = process.stderr.isTTY && !opts.quiet;
+      // guard: the condensed problem's size is known from the dimensions before anything is built
+      const size = estimateCondensedSize(loaded.model);
+      const sizeText = `n_z = ${size.nz}, ${size.rows} constraint rows, about ${formatBytes(size.bytes)} to set up`;
+      if (size.bytes > opts.setupLimit * 2 ** 20) {
+        if (!opts.force)
+          throw new InputError(problemPath, 'horizon', `the condensed problem would have ${sizeText}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
+        if (!opts.quiet) process.stderr.write(`tessera: warning: ${sizeText} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
+      }
+      if (live) process.stderr.write(`\r  setting up: ${sizeText} `);
+      const mpqp = buildMpqp(loaded.model);
       const t0 = performance.now();
+      const setupSeconds = (t0 - tStart) / 1000;
       const partition = solvePartition(mpqp, {
         maxRegions: opts.maxRegions,
-        timeLimit: opts.timeLimit,
+        // the time limit covers set-up as well: the exploration gets what is left
+        timeLimit: opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds),
         lp: opts.lp,
         onProgress: live
           ? (p) =>
@@ -50,7 +65,7 @@ export function register(program: Command): void {
               )
           : undefined,
       });
-      const seconds = (performance.now() - t0) / 1000;
+      const seconds = (performance.now() - t0) / 1000 + setupSeconds;
       if (live) process.stderr.write('\r\x1b[K');
       const table = makeTable(loaded, mpqp, partition);
       writeTableFile(out, table);

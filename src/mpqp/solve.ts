@@ -2,6 +2,7 @@ import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, Partition
 import { solvePointQp } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
+import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
 
@@ -173,10 +174,11 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (slice) slices.push(slice);
     }
     let covered = false;
+    const memo = new Map<string, { point: Float64Array; radius: number } | null>();
     for (let guard = 0; guard < 1000; guard++) {
       if (stopNow()) return;
       const lp0 = lp.lps;
-      const piece = uncoveredPoint(facet, slices, minPiece, lp);
+      const piece = uncoveredPoint(facet, slices, minPiece, lp, memo);
       work.coverLps += lp.lps - lp0;
       if (!piece) {
         covered = true;
@@ -290,6 +292,8 @@ interface Slice {
 
 interface FacetFrame extends Slice {
   dim: number; // d − 1
+  /** vertices of the facet in its own coordinates (null when there are too many row sets to try) */
+  vertices: () => Float64Array[] | null;
   lift: (y: ArrayLike<number>) => Float64Array;
   sliceOf: (region: CriticalRegion) => Slice | null;
   ballSlice: (y: ArrayLike<number>, r: number) => Slice;
@@ -352,9 +356,11 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
   };
   const own = project(A, b, skip, 0);
   if (!own) return null;
+  let verts: Float64Array[] | null | undefined;
   return {
     ...own,
     dim,
+    vertices: () => (verts === undefined ? (verts = dim >= 2 ? polytopeVertices(own.A, own.b, own.m, dim) : null) : verts),
     lift: (y) => {
       const th = Float64Array.from(origin);
       for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k][j] * y[k];
@@ -425,7 +431,12 @@ function containsY(s: Slice, y: ArrayLike<number>): boolean {
  * is the Chebyshev centre of; null when every piece left is thinner than minRadius.
  * base \ S = ∪_i (base ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}), applied recursively over the cover.
  */
-function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine): { point: Float64Array; radius: number } | null {
+/**
+ * `memo` (one per facet, slices only ever appended) keeps the Chebyshev ball of every piece already
+ * solved, keyed by its path in the difference tree: a piece's rows depend on its path alone, so a
+ * later call after a landing re-walks the tree without repeating those LPs.
+ */
+function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine, memo?: Map<string, { point: Float64Array; radius: number } | null>): { point: Float64Array; radius: number } | null {
   const dim = base.dim;
   if (dim === 0) {
     // 1-D θ: the facet is a point, covered when any neighbour holds it
@@ -436,18 +447,25 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
   if (dim === 1) return uncoveredInterval(base, cover, minRadius);
   const rows: { A: number[]; b: number }[] = [];
   for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
-  const rec = (pieceRows: { A: number[]; b: number }[], idx: number): { point: Float64Array; radius: number } | null => {
-    const m = pieceRows.length;
-    const A = new Float64Array(m * dim);
-    const b = new Float64Array(m);
-    pieceRows.forEach((r, i) => {
-      A.set(r.A, i * dim);
-      b[i] = r.b;
-    });
-    lp.lps++;
-    const cheb = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
-    if (!(cheb.radius > minRadius)) return null;
-    const ball = { point: cheb.center, radius: cheb.radius };
+  // the facet's vertices bound every linear function over every piece: a flipped row whose
+  // maximum over them is within minRadius of its bound leaves a piece too thin to matter, no LP
+  const verts = base.vertices();
+  const rec = (pieceRows: { A: number[]; b: number }[], idx: number, path: string): { point: Float64Array; radius: number } | null => {
+    let ball = memo?.get(path);
+    if (ball === undefined) {
+      const m = pieceRows.length;
+      const A = new Float64Array(m * dim);
+      const b = new Float64Array(m);
+      pieceRows.forEach((r, i) => {
+        A.set(r.A, i * dim);
+        b[i] = r.b;
+      });
+      lp.lps++;
+      const cheb = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
+      ball = cheb.radius > minRadius ? { point: cheb.center, radius: cheb.radius } : null;
+      memo?.set(path, ball);
+    }
+    if (!ball) return null;
     if (idx === cover.length) return ball;
     const S = cover[idx];
     const prefix: { A: number[]; b: number }[] = [];
@@ -455,14 +473,65 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
       const s = Array.from(S.A.subarray(i * dim, (i + 1) * dim));
       // a row of the piece with the same normal and a bound no looser implies s: the flipped side is empty, no LP
       if (impliedBy(pieceRows, s, S.b[i])) continue;
+      if (verts && maxOver(verts, s, dim) <= S.b[i] + minRadius) {
+        prefix.push({ A: s, b: S.b[i] });
+        continue;
+      }
       const flipped = { A: s.map((x) => -x), b: -S.b[i] };
-      const res = rec([...pieceRows, ...prefix, flipped], idx + 1);
+      const res = rec([...pieceRows, ...prefix, flipped], idx + 1, `${path}.${i}`);
       if (res) return res;
       prefix.push({ A: s, b: S.b[i] });
     }
     return null;
   };
-  return rec(rows, 0);
+  return rec(rows, 0, '');
+}
+
+function maxOver(verts: Float64Array[], s: number[], dim: number): number {
+  let mx = -Infinity;
+  for (const v of verts) {
+    let t = 0;
+    for (let k = 0; k < dim; k++) t += s[k] * v[k];
+    if (t > mx) mx = t;
+  }
+  return mx;
+}
+
+/**
+ * Vertices of {y : A y ≤ b} (dim ≥ 2) by trying every set of dim rows (LU solve, then every row
+ * within 1e-9): null when there would be more than 4 000 sets to try.
+ */
+function polytopeVertices(A: Float64Array, b: Float64Array, m: number, dim: number): Float64Array[] | null {
+  let combos = 1;
+  for (let k = 0; k < dim; k++) combos = (combos * (m - k)) / (k + 1);
+  if (!(combos <= 4000) || m < dim) return null;
+  const out: Float64Array[] = [];
+  const pick = Array.from({ length: dim }, (_, k) => k);
+  const M = new Float64Array(dim * dim);
+  const rhs = new Float64Array(dim);
+  const scratch = { a: new Float64Array(dim * dim), x: new Float64Array(dim) };
+  for (;;) {
+    for (let r = 0; r < dim; r++) {
+      for (let k = 0; k < dim; k++) M[r * dim + k] = A[pick[r] * dim + k];
+      rhs[r] = b[pick[r]];
+    }
+    const x = luSolve(M, dim, rhs, 1e-10, scratch);
+    if (x) {
+      let ok = true;
+      for (let i = 0; i < m && ok; i++) {
+        let t = -b[i];
+        for (let k = 0; k < dim; k++) t += A[i * dim + k] * x[k];
+        ok = t <= 1e-9;
+      }
+      if (ok) out.push(Float64Array.from(x));
+    }
+    let j = dim - 1;
+    while (j >= 0 && pick[j] === m - dim + j) j--;
+    if (j < 0) break;
+    pick[j]++;
+    for (let k = j + 1; k < dim; k++) pick[k] = pick[k - 1] + 1;
+  }
+  return out.length > dim ? out : null;
 }
 
 function impliedBy(rows: { A: number[]; b: number }[], s: number[], t: number): boolean {

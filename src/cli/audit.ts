@@ -17,7 +17,7 @@ import { renderTimePlotSvg } from '../plot/timeplot.js';
 import type { RunResult, SimulationSetup } from '../check/simulate.js';
 import type { TableFile } from '../table/format.js';
 import type { MpqpProblem } from '../mpqp/types.js';
-import { loadTableProblem, positiveInt } from './map.js';
+import { loadTableProblem, nonNegativeInt, positiveInt } from './map.js';
 
 const CLI = '(command line)';
 
@@ -78,11 +78,7 @@ export function register(program: Command): void {
     .option('--json', 'the report as JSON')
     .option('--md', 'the report as Markdown text')
     .option('--samples <n>', 'seeded sample size (agreement; coverage and stability use multiples of it)', positiveInt('--samples'), 2000)
-    .option('--seed <n>', 'seed of every sample', (v: string) => {
-      const x = Number(v);
-      if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, '--seed', `expected a non-negative integer, got "${v}"`);
-      return x;
-    }, 1)
+    .option('--seed <n>', 'seed of every sample', nonNegativeInt('--seed'), 1)
     .option('--steps <n>', 'steps of each closed-loop run', positiveInt('--steps'), 60)
     .option('--precision <p>', 'embedded build: float or double', choice('--precision', ['float', 'double'] as const), 'float')
     .option('--search <s>', 'embedded build: tree or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')

@@ -5,7 +5,7 @@
  * constructed cases (test/fixtures/audit); the recursive-feasibility verdicts are checked against
  * quadprog and javascript-lp-solver in test/check/audit.test.ts.
  */
-import { spawn } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -29,15 +29,9 @@ interface Run {
   stdout: string;
   stderr: string;
 }
-function run(args: string[]): Promise<Run> {
-  return new Promise((resolve) => {
-    const child = spawn(process.execPath, [cli, 'audit', ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
-    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-    child.on('close', (status) => resolve({ status, stdout, stderr }));
-  });
+async function run(args: string[]): Promise<Run> {
+  const r = spawnSync(process.execPath, [cli, 'audit', ...args], { encoding: 'utf8' });
+  return { status: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 
 const fast = ['--samples', '300'];

@@ -96,7 +96,7 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(r.stdout).toMatch(/## 3\. Coverage: FAIL/);
   });
 
-  it('--json, --samples, --seed, --steps, --precision, --search, --problem', async () => {
+  it('--json, --samples, --seed, --steps, --precision (double, q31, q15), --search, --problem', async () => {
     const a = await run([longTable, '--json', '--samples', '200', '--seed', '4', '--steps', '25', '--precision', 'double', '--search', 'sequential', '--problem', longFile]);
     expect(a.status, a.stderr).toBe(0);
     const j = JSON.parse(a.stdout);
@@ -115,6 +115,13 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(JSON.parse(c.stdout).closedLoop.data.starts).not.toEqual(j.closedLoop.data.starts);
     expect(JSON.parse(c.stdout).coverage.data.monteCarlo.seed).toBe(5);
     expect(JSON.parse(c.stdout).embedded.data.certificate.safe).toBe(true);
+    // fixed point: q31 is certified on this table, q15 is too coarse (the fixed-point certificate of the emit target says why)
+    const q31 = JSON.parse((await run([longTable, '--json', ...fast, '--precision', 'q31'])).stdout);
+    expect(q31.embedded.verdict).toBe('PASS');
+    expect(q31.embedded.data.certificate.verdict).toMatch(/^SAFE .* q31 build/);
+    const q15 = await run([longTable, '--md', ...fast, '--precision', 'q15']);
+    expect(q15.status).toBe(1);
+    expect(q15.stdout).toMatch(/\| 6\. Embedded build \| FAIL \| NOT SAFE .*q15/);
     // another problem file: identity fails (not the problem the table was built from)
     const d = await run([longTable, '--json', ...fast, '--problem', shortFile]);
     expect(d.status).toBe(1);
@@ -126,7 +133,7 @@ describe('tessera audit', { timeout: 180000 }, () => {
     const cases: [string[], RegExp][] = [
       [[longTable], /--output: give -o report\.html/],
       [[longTable, '--json', '--md'], /--json: give at most one of --json and --md/],
-      [[longTable, '-o', out, '--precision', 'half'], /--precision: expected float or double, got "half"/],
+      [[longTable, '-o', out, '--precision', 'half'], /--precision: expected float or double or q15 or q31, got "half"/],
       [[longTable, '-o', out, '--search', 'linear'], /--search: expected tree or sequential/],
       [[longTable, '-o', out, '--samples', '0'], /--samples: expected a positive integer/],
       [[longTable, '-o', out, '--steps', 'x'], /--steps: expected a positive integer/],

@@ -33,7 +33,7 @@ export interface ZBlock {
   offset: number;
   size: number;
   names: string[];
-  /** for 'moves': the move index k of each entry's block start is floor(i / nu); for slacks: the state/output index; for 'decision': the z index */
+  /** for 'moves': the index within the move block (move k = floor(i / lawSize), input i mod lawSize); for slacks: the state/output index; for 'decision': the z index */
   refersTo: number[];
 }
 
@@ -50,6 +50,8 @@ export interface Layout {
   lawSize: number;
   /** names of the law's entries (input names, or z1… for an mpQP) */
   lawNames: string[];
+  /** with the 'terminalSet' feature: rows of the terminal invariant set and its Gilbert–Tan determination index */
+  terminalSet?: { rows: number; index: number };
 }
 
 /** The block of the given kind, or undefined when the layout has none. */

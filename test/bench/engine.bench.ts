@@ -6,7 +6,7 @@
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadProblem, parseProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { buildMpqp } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { chebyshevBall } from '../../src/lp/kernel.js';
 import { luSolve } from '../../src/linalg/dense.js';
@@ -107,7 +107,7 @@ export async function run(): Promise<void> {
   const ex = readdirSync(join(root, 'examples')).filter((f) => /\.(json|ya?ml)$/.test(f)).sort();
   for (const f of ex) {
     const loaded = loadProblem(join(root, 'examples', f));
-    console.log(row(f, buildMpqp(loaded.model)));
+    console.log(row(f, buildMpqp(loaded)));
   }
   console.log('scaling series: positioning axis (double integrator, T = 0.05 s, |u| ≤ 2, |v| ≤ 1), N = 2…12');
   for (let N = 2; N <= 12; N += 2) {
@@ -119,6 +119,6 @@ export async function run(): Promise<void> {
       constraints: { input: { lower: [-2], upper: [2] }, state: { lower: [null, -1], upper: [null, 1] } },
       parameters: { lower: [-2, -1.2], upper: [2, 1.2] },
     };
-    console.log(row(`axis N=${N}`, buildMpqp(parseProblem(raw, `axis-N${N}.json`).model)));
+    console.log(row(`axis N=${N}`, buildMpqp(parseProblem(raw, `axis-N${N}.json`))));
   }
 }

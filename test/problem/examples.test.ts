@@ -1,7 +1,8 @@
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { buildRawMpqp, loadProblem } from '../../src/problem/index.js';
+import { loadProblem } from '../../src/problem/index.js';
+import { buildRawMpqp } from '../../src/formulation/index.js';
 import { qpReference } from '../helpers/reference.js';
 
 const root = join(import.meta.dirname, '..', '..');

@@ -1,0 +1,62 @@
+/** The formulation features end to end through the built CLI (dist/src/cli/main.js): solve, evaluate, gaps, map, emit. */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { steadyStateTarget } from '../../src/formulation/index.js';
+import { loadProblem } from '../../src/problem/index.js';
+
+const root = join(import.meta.dirname, '..', '..');
+const cli = join(root, 'dist', 'src', 'cli', 'main.js');
+const dir = mkdtempSync(join(tmpdir(), 'tessera-form-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+function tessera(args: string[]): { status: number | null; stdout: string; stderr: string } {
+  const r = spawnSync(process.execPath, [cli, ...args], { encoding: 'utf8' });
+  return { status: r.status, stdout: r.stdout, stderr: r.stderr };
+}
+
+describe('tracking + disturbance through the CLI', () => {
+  const problem = join(root, 'examples', 'greenhouse-offset-free.json');
+  const table = join(dir, 'gh.table.json');
+
+  it('solve prints the formulation and writes a table whose layout names every θ block', () => {
+    const r = tessera(['solve', problem, '-o', table]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/θ = \[air, soil, heat_prev, air_temp_ref, load\], u = \[heat\], tracking, 5 free moves/);
+    const t = JSON.parse(readFileSync(table, 'utf8'));
+    expect(t.layout.theta.map((b: { kind: string }) => b.kind)).toEqual(['state', 'inputPrev', 'reference', 'disturbance']);
+  });
+
+  it('evaluate --at: at the steady-state target the law returns u_s (the loop rests there; common practice)', () => {
+    const model = loadProblem(problem).model!;
+    const r = [1.2];
+    const d = [0.5];
+    const { xs, us } = steadyStateTarget(model, r, d);
+    const out = tessera(['evaluate', table, '--json', '--at', [...xs, ...us, ...r, ...d].join(',')]);
+    expect(out.status, out.stderr).toBe(0);
+    const j = JSON.parse(out.stdout);
+    expect(j.points[0].region).toBeGreaterThanOrEqual(0);
+    expect(j.points[0].u[0]).toBeCloseTo(us[0], 8);
+  });
+
+  it('map takes reference and disturbance entries by name; emit documents θ block by block', () => {
+    const svg = join(dir, 'gh.svg');
+    const m = tessera(['map', table, '--axes', 'air,air_temp_ref', '--fix', 'load=0.5', '-o', svg, '--trajectories', join(dir, 'none.csv')]);
+    expect(m.status).toBe(2); // missing trajectories file: input error, no SVG
+    expect(existsSync(svg)).toBe(false);
+    const m2 = tessera(['map', table, '--axes', 'air,air_temp_ref', '--fix', 'load=0.5', '-o', svg]);
+    expect(m2.status, m2.stderr).toBe(0);
+    expect(m2.stdout).toMatch(/slice air × air_temp_ref/);
+    const out = join(dir, 'gen');
+    const e = tessera(['emit', table, '-o', out, '--prefix', 'gh']);
+    expect(e.status, e.stderr).toBe(0);
+    const h = readFileSync(join(out, 'gh.h'), 'utf8');
+    expect(h).toMatch(/theta\[0\.\.1\]: measured \(or estimated\) state x\(0\)/);
+    expect(h).toMatch(/theta\[2\]: input applied at the previous step/);
+    expect(h).toMatch(/theta\[3\]: reference r of the tracked outputs/);
+    expect(h).toMatch(/theta\[4\]: disturbance d/);
+    expect(h).toMatch(/theta\[4\] = load, box \[-1, 1\]/);
+  });
+});

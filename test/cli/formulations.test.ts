@@ -24,9 +24,9 @@ describe('tracking + disturbance through the CLI', () => {
   it('solve prints the formulation and writes a table whose layout names every θ block', () => {
     const r = tessera(['solve', problem, '-o', table]);
     expect(r.status, r.stderr).toBe(0);
-    expect(r.stdout).toMatch(/θ = \[air, soil, heat_prev, air_temp_ref, load\], u = \[heat\], tracking, 5 free moves/);
+    expect(r.stdout).toMatch(/θ = \[air, soil, air_temp_ref, load\], u = \[heat\], tracking, 5 free moves/);
     const t = JSON.parse(readFileSync(table, 'utf8'));
-    expect(t.layout.theta.map((b: { kind: string }) => b.kind)).toEqual(['state', 'inputPrev', 'reference', 'disturbance']);
+    expect(t.layout.theta.map((b: { kind: string }) => b.kind)).toEqual(['state', 'reference', 'disturbance']);
   });
 
   it('evaluate --at: at the steady-state target the law returns u_s (the loop rests there; common practice)', () => {
@@ -34,7 +34,7 @@ describe('tracking + disturbance through the CLI', () => {
     const r = [1.2];
     const d = [0.5];
     const { xs, us } = steadyStateTarget(model, r, d);
-    const out = tessera(['evaluate', table, '--json', '--at', [...xs, ...us, ...r, ...d].join(',')]);
+    const out = tessera(['evaluate', table, '--json', '--at', [...xs, ...r, ...d].join(',')]);
     expect(out.status, out.stderr).toBe(0);
     const j = JSON.parse(out.stdout);
     expect(j.points[0].region).toBeGreaterThanOrEqual(0);
@@ -54,9 +54,8 @@ describe('tracking + disturbance through the CLI', () => {
     expect(e.status, e.stderr).toBe(0);
     const h = readFileSync(join(out, 'gh.h'), 'utf8');
     expect(h).toMatch(/theta\[0\.\.1\]: measured \(or estimated\) state x\(0\)/);
-    expect(h).toMatch(/theta\[2\]: input applied at the previous step/);
-    expect(h).toMatch(/theta\[3\]: reference r of the tracked outputs/);
-    expect(h).toMatch(/theta\[4\]: disturbance d/);
-    expect(h).toMatch(/theta\[4\] = load, box \[-1, 1\]/);
+    expect(h).toMatch(/theta\[2\]: reference r of the tracked outputs/);
+    expect(h).toMatch(/theta\[3\]: disturbance d/);
+    expect(h).toMatch(/theta\[3\] = load, box \[-1, 1\]/);
   });
 });

@@ -122,21 +122,27 @@ describe('offset-free tracking on the nominal plant (Muske & Rawlings 1993; Pann
 });
 
 describe('layout of a tracking + disturbance table', () => {
-  it('θ blocks state, inputPrev, reference, disturbance in contract order, with names', () => {
+  it('θ blocks state, reference, disturbance in contract order, with names (inputPrev: tracking-rate fixture)', () => {
     const { table } = solved(join(root, 'examples/greenhouse-offset-free.json'));
     const L = table.layout;
     expect(L.formulation).toBe('tracking');
-    expect(L.features).toEqual(['inputRate', 'disturbance']);
+    expect(L.features).toEqual(['disturbance']);
     expect(L.theta.map((b) => [b.kind, b.offset, b.size, b.names])).toEqual([
       ['state', 0, 2, ['air', 'soil']],
-      ['inputPrev', 2, 1, ['heat_prev']],
-      ['reference', 3, 1, ['air_temp_ref']],
-      ['disturbance', 4, 1, ['load']],
+      ['reference', 2, 1, ['air_temp_ref']],
+      ['disturbance', 3, 1, ['load']],
     ]);
-    expect(table.thetaNames).toEqual(['air', 'soil', 'heat_prev', 'air_temp_ref', 'load']);
+    expect(table.thetaNames).toEqual(['air', 'soil', 'air_temp_ref', 'load']);
     expect(L.lawSize).toBe(1);
     expect(L.lawNames).toEqual(['heat']);
     expect(L.z).toEqual([{ kind: 'moves', offset: 0, size: 5, names: ['heat(0)', 'heat(1)', 'heat(2)', 'heat(3)', 'heat(4)'], refersTo: [0, 1, 2, 3, 4] }]);
     expect(formulate(solved(join(root, 'examples/greenhouse-offset-free.json')).loaded).layout).toEqual(L);
+    const R = solved(join(root, 'test/fixtures/problems/tracking-rate.json')).table.layout;
+    expect(R.theta.map((b) => [b.kind, b.offset, b.size, b.names])).toEqual([
+      ['state', 0, 2, ['x1', 'x2']],
+      ['inputPrev', 2, 1, ['u1_prev']],
+      ['reference', 3, 1, ['y1_ref']],
+    ]);
+    expect(R.features).toEqual(['inputRate']);
   });
 });

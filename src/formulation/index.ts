@@ -43,7 +43,7 @@ export function formulateRaw(loaded: LoadedProblem): { raw: MpqpProblem; layout:
   if (loaded.model) return formulateMpc(loaded.model);
   const d = loaded.direct;
   if (!d) throw new Error('a loaded problem holds either a model or a direct mpQP');
-  return { raw: d, layout: plainLayout(d.thetaNames, d.lawNames, d.nz) };
+  return { raw: d, layout: plainLayout(d.thetaNames, d.lawNames, d.nz, loaded.decisionNames) };
 }
 
 /** The conditioned mpQP and its layout: what `tessera solve` explores and the table records. */

@@ -64,14 +64,14 @@ export function thetaNamesOf(layout: Layout): string[] {
   return layout.theta.flatMap((b) => b.names);
 }
 
-/** The layout of a plain parameter vector θ (names given) with a law of `lawNames.length` entries first in z. */
-export function plainLayout(thetaNames: string[], lawNames: string[], nz: number = lawNames.length): Layout {
+/** The layout of a plain parameter vector θ (names given) with a law of `lawNames.length` entries first in z (z names: `zNames`, else the law names then z<i>). */
+export function plainLayout(thetaNames: string[], lawNames: string[], nz: number = lawNames.length, zNames?: string[]): Layout {
   const range = (k: number) => Array.from({ length: k }, (_, i) => i);
   return {
     formulation: 'mpqp',
     features: [],
     theta: [{ kind: 'parameter', offset: 0, size: thetaNames.length, names: [...thetaNames], refersTo: range(thetaNames.length) }],
-    z: [{ kind: 'decision', offset: 0, size: nz, names: range(nz).map((i) => lawNames[i] ?? `z${i + 1}`), refersTo: range(nz) }],
+    z: [{ kind: 'decision', offset: 0, size: nz, names: range(nz).map((i) => zNames?.[i] ?? lawNames[i] ?? `z${i + 1}`), refersTo: range(nz) }],
     lawSize: lawNames.length,
     lawNames: [...lawNames],
   };

@@ -474,7 +474,7 @@ function parseDirectMpqp(c: Checker, top: Obj, file: string): LoadedProblem {
     thetaNames,
     lawNames: zNames.slice(0, k),
   };
-  return { file, raw: top, name, model: null, direct };
+  return { file, raw: top, name, model: null, direct, decisionNames: zNames };
 }
 
 function fmtEig(e: { re: number; im: number }): string {

@@ -83,4 +83,6 @@ export interface LoadedProblem {
   name: string;
   model: MpcModel | null;
   direct: MpqpProblem | null;
+  /** with `direct`: the names of all n_z decision entries (the law takes the first lawSize) */
+  decisionNames?: string[];
 }

@@ -27,7 +27,7 @@ describe('tracking + disturbance through the CLI', () => {
     expect(r.stdout).toMatch(/θ = \[air, soil, air_temp_ref, load\], u = \[heat\], tracking, 5 free moves/);
     const t = JSON.parse(readFileSync(table, 'utf8'));
     expect(t.layout.theta.map((b: { kind: string }) => b.kind)).toEqual(['state', 'reference', 'disturbance']);
-  });
+  }, 60_000);
 
   it('evaluate --at: at the steady-state target the law returns u_s (the loop rests there; common practice)', () => {
     const model = loadProblem(problem).model!;
@@ -39,7 +39,7 @@ describe('tracking + disturbance through the CLI', () => {
     const j = JSON.parse(out.stdout);
     expect(j.points[0].region).toBeGreaterThanOrEqual(0);
     expect(j.points[0].u[0]).toBeCloseTo(us[0], 8);
-  });
+  }, 60_000);
 
   it('map takes reference and disturbance entries by name; emit documents θ block by block', () => {
     const svg = join(dir, 'gh.svg');
@@ -57,5 +57,5 @@ describe('tracking + disturbance through the CLI', () => {
     expect(h).toMatch(/theta\[2\]: reference r of the tracked outputs/);
     expect(h).toMatch(/theta\[3\]: disturbance d/);
     expect(h).toMatch(/theta\[3\] = load, box \[-1, 1\]/);
-  });
+  }, 120_000);
 });

@@ -75,6 +75,8 @@ describe('Riccati terminal: the region holding the origin has u(0) = −K_LQR x 
   // weight (θ has no u_prev) and Nu = N
   const qualifies = (file: string): boolean => {
     const { loaded } = solved(file);
+    // an mpqp file has no model; soft limits with a linear weight keep ε ≥ 0 active at rest
+    if (!loaded.model || loaded.model.soft.state || loaded.model.soft.output) return false;
     const t = (loaded.raw as { weights: { terminal?: unknown } }).weights.terminal;
     return (t === undefined || t === 'riccati') && !loaded.model.hasRate && loaded.model.Nu === loaded.model.N;
   };

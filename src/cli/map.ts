@@ -154,7 +154,7 @@ export function register(program: Command): void {
         if (!m) throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
         trajectories = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => {
           const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
-          return simulateClosedLoop(table, { A: m.A, B: m.B, Bd: m.Bd }, th0, o.steps);
+          return simulateClosedLoop(table, m, th0, o.steps);
         });
       }
       const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });

@@ -110,12 +110,7 @@ export function parseProblem(raw: unknown, file: string): LoadedProblem {
   const weights = c.object(c.require(top, '', 'weights', 'stage weights {state|output, input}'), 'weights', WEIGHT_KEYS);
   const params = c.object(c.require(top, '', 'parameters', 'the parameter box {lower, upper}'), 'parameters', BOUND_KEYS);
 
-  let name = basename(file, extname(file));
-  if (top.name !== undefined) {
-    name = c.string(top.name, 'name');
-    if (name.trim() === '') c.fail('name', 'expected a non-empty string');
-  }
-  if (top.description !== undefined) c.string(top.description, 'description');
+  const name = problemName(c, top, file);
 
   const A0 = c.matrix(c.require(plant, 'plant', 'A', 'n×n state matrix'), 'plant.A');
   const n = A0.length;
@@ -256,12 +251,7 @@ export function parseProblem(raw: unknown, file: string): LoadedProblem {
     c.fail(key, `${kind} name ${JSON.stringify(thetaNames[clash])} clashes with the ${owner(clash)[1]} parameter of the same name`);
   }
 
-  const what = `dim θ = ${ntheta}: ${thetaNames.join(', ')}`;
-  const lower = c.array(c.require(params, 'parameters', 'lower', 'lower corner of the θ box'), 'parameters.lower', ntheta, what).map((v, i) => c.number(v, `parameters.lower[${i}]`));
-  const upper = c.array(c.require(params, 'parameters', 'upper', 'upper corner of the θ box'), 'parameters.upper', ntheta, what).map((v, i) => c.number(v, `parameters.upper[${i}]`));
-  for (let i = 0; i < ntheta; i++)
-    if (!(lower[i] < upper[i]))
-      c.fail(`parameters.lower[${i}]`, `box must have lower < upper in every slot, got lower ${lower[i]} ≥ upper ${upper[i]} (${thetaNames[i]})`);
+  const { lower, upper } = parameterBox(c, params, thetaNames, `dim θ = ${ntheta}: ${thetaNames.join(', ')}`);
 
   // ---- model building and system-theoretic checks ----
   let A = A0;
@@ -407,12 +397,7 @@ const MPQP_NAME_KEYS = ['parameters', 'decisions'] as const;
 function parseDirectMpqp(c: Checker, top: Obj, file: string): LoadedProblem {
   const q = c.object(top.mpqp, 'mpqp', MPQP_KEYS);
   const params = c.object(c.require(top, '', 'parameters', 'the parameter box {lower, upper}'), 'parameters', BOUND_KEYS);
-  let name = basename(file, extname(file));
-  if (top.name !== undefined) {
-    name = c.string(top.name, 'name');
-    if (name.trim() === '') c.fail('name', 'expected a non-empty string');
-  }
-  if (top.description !== undefined) c.string(top.description, 'description');
+  const name = problemName(c, top, file);
   const H = c.matrix(c.require(q, 'mpqp', 'H', 'n_z×n_z Hessian, symmetric positive definite'), 'mpqp.H');
   const nz = H.length;
   if (H[0].length !== nz) c.fail('mpqp.H', `expected a square matrix, got ${nz}×${H[0].length}`);
@@ -447,12 +432,7 @@ function parseDirectMpqp(c: Checker, top: Obj, file: string): LoadedProblem {
   const identifiers = (v: unknown, key: string, dim: number, fallback: string[]) => (v === undefined ? fallback : nameList(c, v, key, dim));
   const thetaNames = identifiers(nameObj.parameters, 'names.parameters', nt, defaultNames('t', nt));
   const zNames = identifiers(nameObj.decisions, 'names.decisions', nz, defaultNames('z', nz));
-  const what = `dim θ = ${nt}: columns of mpqp.F`;
-  const lower = c.array(c.require(params, 'parameters', 'lower', 'lower corner of the θ box'), 'parameters.lower', nt, what).map((v, i) => c.number(v, `parameters.lower[${i}]`));
-  const upper = c.array(c.require(params, 'parameters', 'upper', 'upper corner of the θ box'), 'parameters.upper', nt, what).map((v, i) => c.number(v, `parameters.upper[${i}]`));
-  for (let i = 0; i < nt; i++)
-    if (!(lower[i] < upper[i]))
-      c.fail(`parameters.lower[${i}]`, `box must have lower < upper in every slot, got lower ${lower[i]} ≥ upper ${upper[i]} (${thetaNames[i]})`);
+  const { lower, upper } = parameterBox(c, params, thetaNames, `dim θ = ${nt}: columns of mpqp.F`);
   const flat = (M: Mat) => Float64Array.from(M.flat());
   const nc = G.length;
   const labels = Array.from({ length: nc }, (_, i) => `row ${i + 1}`);
@@ -475,6 +455,30 @@ function parseDirectMpqp(c: Checker, top: Obj, file: string): LoadedProblem {
     lawNames: zNames.slice(0, k),
   };
   return { file, raw: top, name, model: null, direct, decisionNames: zNames };
+}
+
+/** The problem's `name` (else the file's base name); checks `description` too. */
+function problemName(c: Checker, top: Obj, file: string): string {
+  let name = basename(file, extname(file));
+  if (top.name !== undefined) {
+    name = c.string(top.name, 'name');
+    if (name.trim() === '') c.fail('name', 'expected a non-empty string');
+  }
+  if (top.description !== undefined) c.string(top.description, 'description');
+  return name;
+}
+
+/** `parameters.lower/upper`: one finite slot per θ entry, lower < upper in each. */
+function parameterBox(c: Checker, params: Obj, thetaNames: string[], what: string): { lower: number[]; upper: number[] } {
+  const nt = thetaNames.length;
+  const side = (s: 'lower' | 'upper') =>
+    c.array(c.require(params, 'parameters', s, `${s} corner of the θ box`), `parameters.${s}`, nt, what).map((v, i) => c.number(v, `parameters.${s}[${i}]`));
+  const lower = side('lower');
+  const upper = side('upper');
+  for (let i = 0; i < nt; i++)
+    if (!(lower[i] < upper[i]))
+      c.fail(`parameters.lower[${i}]`, `box must have lower < upper in every slot, got lower ${lower[i]} ≥ upper ${upper[i]} (${thetaNames[i]})`);
+  return { lower, upper };
 }
 
 function fmtEig(e: { re: number; im: number }): string {

@@ -1,6 +1,6 @@
 /** The formulation features end to end through the built CLI (dist/src/cli/main.js): solve, evaluate, gaps, map, emit. */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -58,4 +58,32 @@ describe('tracking + disturbance through the CLI', () => {
     expect(h).toMatch(/theta\[3\]: disturbance d/);
     expect(h).toMatch(/theta\[3\] = load, box \[-1, 1\]/);
   }, 120_000);
+});
+
+describe('soft limits and terminal set through the CLI', () => {
+  it('soft: gaps reports 0 % infeasible with only input limits hard; evaluate --json shows the slack values', () => {
+    const table = join(dir, 'motor.table.json');
+    const s = tessera(['solve', join(root, 'examples', 'motor-soft-speed.json'), '-o', table]);
+    expect(s.status, s.stderr).toBe(0);
+    expect(s.stdout).toMatch(/5 free moves, 2 state slacks/);
+    const g = tessera(['gaps', table]);
+    expect(g.status, g.stderr).toBe(0);
+    expect(g.stdout).toMatch(/infeasible\s+0\.000 %/);
+    expect(g.stdout).toMatch(/infeasible 0 \(0\.0000 %\)/); // exact polygon areas (2-D θ)
+    // inside the limits the slacks are 0; from a state far beyond the speed limit the prediction must violate it
+    const pts = join(dir, 'motor-points.csv');
+    writeFileSync(pts, '0.1,0\n1.6,1.5\n');
+    const e = tessera(['evaluate', table, '--json', '--points', pts]);
+    expect(e.status, e.stderr).toBe(0);
+    const j = JSON.parse(e.stdout);
+    expect(Object.keys(j.points[0].slacks)).toEqual(['speed_slack', 'current_slack']);
+    expect(Math.abs(j.points[0].slacks.speed_slack)).toBeLessThan(1e-9);
+    expect(j.points[1].slacks.speed_slack).toBeGreaterThan(0.1);
+  }, 120_000);
+
+  it('terminal set: solve prints its row count and determination index', () => {
+    const s = tessera(['solve', join(root, 'examples', 'sway-damper-terminal-set.json'), '-o', join(dir, 'sway.table.json')]);
+    expect(s.status, s.stderr).toBe(0);
+    expect(s.stdout).toMatch(/terminal set 16 rows \(determination index 7\)/);
+  }, 60_000);
 });

@@ -92,7 +92,7 @@ describe('partition properties', () => {
         }
       if (regs.length > 1) expect(checked).toBeGreaterThan(0);
       void crossChecked;
-    });
+    }, 60_000); // pairwise LPs: slow on a loaded machine
 
     it(`${name}: u(0) and J* continuous across every shared facet`, () => {
       const { table } = solved(file);

@@ -1,12 +1,13 @@
 import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
 import { loadProblem } from '../problem/index.js';
-import { buildMpqp } from '../mpqp/condition.js';
+import { formulate } from '../formulation/index.js';
 import { solvePartition } from '../mpqp/solve.js';
 import { makeTable } from '../table/build.js';
 import { writeTableFile } from '../table/table.js';
 import { InputError } from '../io/errors.js';
 import { estimateCondensedSize, formatBytes } from '../problem/size.js';
+import type { Layout } from '../formulation/layout.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -42,15 +43,19 @@ export function register(program: Command): void {
       const loaded = loadProblem(problemPath);
       const live = process.stderr.isTTY && !opts.quiet;
       // guard: the condensed problem's size is known from the dimensions before anything is built
-      const size = estimateCondensedSize(loaded.model);
-      const sizeText = `n_z = ${size.nz}, ${size.rows} constraint rows, about ${formatBytes(size.bytes)} to set up`;
-      if (size.bytes > opts.setupLimit * 2 ** 20) {
-        if (!opts.force)
-          throw new InputError(problemPath, 'horizon', `the condensed problem would have ${sizeText}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
-        if (!opts.quiet) process.stderr.write(`tessera: warning: ${sizeText} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
+      // (a problem given directly as an mpQP is already built: nothing to estimate)
+      if (loaded.model) {
+        const size = estimateCondensedSize(loaded.model);
+        const sizeText = `n_z = ${size.nz}, ${size.rows} constraint rows, about ${formatBytes(size.bytes)} to set up`;
+        if (size.bytes > opts.setupLimit * 2 ** 20) {
+          if (!opts.force)
+            throw new InputError(problemPath, 'horizon', `the condensed problem would have ${sizeText}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
+          if (!opts.quiet) process.stderr.write(`tessera: warning: ${sizeText} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
+        }
+        if (live) process.stderr.write(`\r  setting up: ${sizeText} `);
       }
-      if (live) process.stderr.write(`\r  setting up: ${sizeText} `);
-      const mpqp = buildMpqp(loaded.model);
+      const formulation = formulate(loaded);
+      const { mpqp } = formulation;
       const t0 = performance.now();
       const setupSeconds = (t0 - tStart) / 1000;
       const partition = solvePartition(mpqp, {
@@ -67,13 +72,13 @@ export function register(program: Command): void {
       });
       const seconds = (performance.now() - t0) / 1000 + setupSeconds;
       if (live) process.stderr.write('\r\x1b[K');
-      const table = makeTable(loaded, mpqp, partition);
+      const table = makeTable(loaded, formulation, partition);
       writeTableFile(out, table);
       if (opts.quiet) return;
       const s = partition.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
-        `  θ = [${table.thetaNames.join(', ')}], u = [${table.inputNames.join(', ')}], ${mpqp.nz} free moves, ${mpqp.nc} constraint rows`,
+        `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
@@ -82,4 +87,13 @@ export function register(program: Command): void {
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');
     });
+}
+
+/** "8 free moves, 2 state slacks" — the z blocks and the features, in words. */
+function layoutSummary(layout: Layout): string {
+  const words: Record<string, string> = { moves: 'free moves', stateSlack: 'state slacks', outputSlack: 'output slacks', decision: 'decision variables' };
+  const parts = layout.z.map((b) => `${b.size} ${words[b.kind]}`);
+  parts.unshift(layout.formulation);
+  if (layout.terminalSet) parts.push(`terminal set ${layout.terminalSet.rows} rows (determination index ${layout.terminalSet.index})`);
+  return parts.join(', ');
 }

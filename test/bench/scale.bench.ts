@@ -13,7 +13,7 @@
  */
 import { join } from 'node:path';
 import { loadProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { buildMpqp } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { tableLocator } from '../../src/table/locator.js';
 import { locateSequential } from '../../src/table/table.js';
@@ -24,7 +24,7 @@ const maxRegions = Number(process.env.TESSERA_BENCH_MAX_REGIONS ?? 100_000);
 const seconds = Number(process.env.TESSERA_BENCH_SECONDS ?? 240);
 
 function problem(name: string): MpqpProblem {
-  return buildMpqp(loadProblem(join(dir, `${name}.json`)).model);
+  return buildMpqp(loadProblem(join(dir, `${name}.json`)));
 }
 
 function growth(name: string): Partition {

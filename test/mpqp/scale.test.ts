@@ -9,7 +9,7 @@ import { GridLocator, boundingBoxByLp, locateRegion } from '../../src/table/loca
 import { solvePointQp } from '../../src/mpqp/pointqp.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { loadProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { buildMpqp } from '../../src/formulation/index.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 
 /** The definition, written out here: the lowest index whose every row holds within slack (common practice). */
@@ -110,7 +110,7 @@ describe('warm-started point QP', () => {
 describe('facet crossing strategies', () => {
   const file = fixtureFiles.find((f) => f.includes('two-carts'))!;
   it('the guessed-neighbour exploration finds the same regions as point QPs alone, with fewer QPs', () => {
-    const mpqp = buildMpqp(loadProblem(file).model);
+    const mpqp = buildMpqp(loadProblem(file));
     const plain = solvePartition(mpqp, { strategy: { guess: false, warmStart: false } });
     const fast = solvePartition(mpqp);
     expect(fast.stats.complete && plain.stats.complete).toBe(true);
@@ -137,7 +137,7 @@ describe('facet crossing strategies', () => {
   });
 
   it('a 4-D bench problem needs fewer than 40 LPs and at most 1.5 candidates per region', () => {
-    const mpqp = buildMpqp(loadProblem(join(root, 'test', 'fixtures', 'scale', 'boom-4d-n8.json')).model);
+    const mpqp = buildMpqp(loadProblem(join(root, 'test', 'fixtures', 'scale', 'boom-4d-n8.json')));
     const p = solvePartition(mpqp, { maxRegions: 600 });
     expect(p.stats.regions).toBe(600);
     expect(p.stats.lps / p.stats.regions).toBeLessThan(40);

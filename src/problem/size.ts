@@ -6,7 +6,7 @@ export interface CondensedSize {
   nz: number;
   /** parameters: n (+ m with input rates) */
   ntheta: number;
-  /** constraint rows before merging: N·(finite input, rate, state and output limits) */
+  /** constraint rows before merging: N·(finite input, rate, state and output limits) + terminal-set rows */
   rows: number;
   /** bytes of the dense arrays set-up holds at its peak (condensing, conditioning, QP workspace) */
   bytes: number;
@@ -26,7 +26,8 @@ export function estimateCondensedSize(model: MpcModel): CondensedSize {
   const ntheta = n + (model.hasRate ? m : 0);
   const nv = nz + ntheta;
   const c = model.constraints;
-  const rows = N * (finite(c.input) + finite(c.inputRate) + finite(c.state) + finite(c.output));
+  // terminal-set rows (x(N) ∈ {H x ≤ h}) are known from the model too; slack rows are not counted
+  const rows = N * (finite(c.input) + finite(c.inputRate) + finite(c.state) + finite(c.output)) + (model.terminalSet?.h.length ?? 0);
   const doubles =
     ((N + 1) * n + 2 * N * m) * nv + // predictions
     2 * rows * (nv + 1) + // constraint rows built, then conditioned

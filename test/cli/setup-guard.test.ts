@@ -38,7 +38,7 @@ describe('set-up size guard', () => {
       const est = estimateCondensedSize(model);
       const raw = buildRawMpqp(model);
       // limits on u, Δu, x, y are all there is without slacks, a terminal set or a target
-      const plain = !model.terminalSet && !model.soft.state && !model.soft.output && !model.tracking;
+      const plain = !model.soft.state && !model.soft.output && !model.tracking;
       if (plain) expect(est.nz, f).toBe(raw.nz);
       if (plain) expect(est.rows, f).toBe(raw.nc);
       expect(est.rows, f).toBeLessThanOrEqual(raw.nc);

@@ -94,6 +94,8 @@ export function register(program: Command): void {
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
       if (table.regions.length === 0) throw new InputError(tableFile, 'regions', 'the table has no region: nothing to audit');
       const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
+      const model = loaded.model;
+      if (!model) throw new InputError(o.problem ?? tableFile, 'mpqp', 'the problem is a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
       const tty = process.stderr.isTTY;
       const stage = (s: string) => tty && process.stderr.write(`\r\x1b[K  audit: ${s}…`);
 
@@ -110,7 +112,7 @@ export function register(program: Command): void {
       const report = runAudit(
         {
           table,
-          model: loaded.model,
+          model,
           mpqp,
           recomputedHash: problemHash(table.problem),
           problemFileHash: o.problem ? problemHash(loaded.raw) : null,
@@ -143,7 +145,7 @@ export function register(program: Command): void {
                   names: l.setup.names,
                   limits: l.setup.limits,
                   tracked: thetaBlock(table.layout, 'reference')?.refersTo ?? [],
-                  outputsAreStates: !thetaBlock(table.layout, 'disturbance') && loaded.model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))) && loaded.model.C.length === loaded.model.n,
+                  outputsAreStates: !thetaBlock(table.layout, 'disturbance') && model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))) && model.C.length === model.n,
                 }),
                 method: 'the simulate engine on the nominal model; the table law drives the plant, the online QP (quadprog) is solved beside it (dotted).',
                 source: 'the runs of check 7 (first 8 drawn).',

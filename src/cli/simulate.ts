@@ -114,7 +114,8 @@ function sameShape(a: number[][] | null | undefined, b: number[][] | null | unde
 
 /** The "true" plant of a mismatch study: the plant of another problem file, of the same dimensions. */
 function truePlant(file: string, nominal: MpcModel): ReturnType<typeof plantOf> {
-  const model = loadProblem(file).model as MpcModel & { Bd?: number[][] | null; Cd?: number[][] | null };
+  const model = loadProblem(file).model;
+  if (!model) throw new InputError(file, 'mpqp', 'the "true" plant must come from an MPC problem file, not a directly given mpQP');
   const nom = nominal as MpcModel & { Bd?: number[][] | null; Cd?: number[][] | null };
   if (model.n !== nominal.n || model.m !== nominal.m || model.p !== nominal.p)
     throw new InputError(file, 'plant', `has n=${model.n}, m=${model.m}, p=${model.p}; the table's plant has n=${nominal.n}, m=${nominal.m}, p=${nominal.p}`);
@@ -164,6 +165,7 @@ export function register(program: Command): void {
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant to simulate');
       const { loaded, mpqp } = loadTableProblem(table, tableFile);
       const model = loaded.model;
+      if (!model) throw new InputError(tableFile, 'problem', 'this table holds a directly given mpQP: it has no plant to simulate');
       const n = model.n;
       const m = model.m;
       const prevBlock = thetaBlock(table.layout, 'inputPrev');

@@ -92,6 +92,14 @@ export function positiveInt(flag: string) {
   };
 }
 
+export function nonNegativeInt(flag: string) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, flag, `expected a non-negative integer, got "${v}"`);
+    return x;
+  };
+}
+
 interface MapCliOptions {
   axes?: string;
   fix?: string;

@@ -1,14 +1,16 @@
 /**
- * Single-precision certificate of a generated build: the float arithmetic of the emitted C
- * (reproduced exactly by evaluateArrays) against the double law of the table, on a dense seeded
- * sample of the box plus points just inside and just outside every facet of every region.
+ * Certificate of a generated build: the arithmetic of the emitted C (reproduced exactly by
+ * evaluateArrays: float or double) against the double law of the table, on a dense seeded sample of
+ * the box plus points just inside and just outside every facet of every region. `emit --certify`
+ * certifies the build it emits, in its own precision.
  */
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
+import { clampInputs } from '../table/clamp.js';
 import { evaluateArrays, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
-/** Default accepted |u_float − u_double|: this fraction of the widest finite input range (or of 1). */
+/** Default accepted |u_build − u_double|: this fraction of the widest finite input range (or of 1). */
 export const CERTIFY_DEFAULT_RELATIVE = 1e-5;
 /** Offsets of the facet points from each facet: fractions of the region's Chebyshev radius, of the box width, and float ulps of |θ|max. */
 export const FACET_OFFSETS = { radiusFraction: 1e-3, boxFraction: 1e-6, floatUlps: 8 };
@@ -23,7 +25,7 @@ export interface CertifyOptions {
 }
 
 export interface Certificate {
-  precision: 'float';
+  precision: EmitArrays['precision'];
   search: EmitArrays['search'];
   points: { sample: number; facet: number; extra: number; total: number };
   /** largest |u_float − u_double| (∞-norm) over points that both builds locate */
@@ -44,7 +46,10 @@ export interface Certificate {
   worstTheta: number[] | null;
 }
 
-function defaultTolerance(table: TableFile): number {
+/** How the default tolerance is derived, for `--help` and the report. */
+export const CERTIFY_TOLERANCE_RULE = `${CERTIFY_DEFAULT_RELATIVE} × the widest finite input range (max over inputs of upper − lower limit), or ${CERTIFY_DEFAULT_RELATIVE} when no input has both limits`;
+
+export function defaultTolerance(table: TableFile): number {
   let w = 0;
   for (let i = 0; i < table.dims.nu; i++) {
     const lo = table.inputLimits?.lower?.[i];
@@ -80,6 +85,15 @@ export function facetPoints(table: TableFile): number[][] {
 
 export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
   if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
+  return certifyBuild(table, floatBuild, options);
+}
+
+/**
+ * Certify a build in its own precision. A build that clamps (`emit --clamp`) is compared with the
+ * double law saturated the same way.
+ */
+export function certifyBuild(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
+  const prec = floatBuild.precision;
   const sample = sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1);
   const facet = facetPoints(table);
   const extra = options.extraPoints ?? [];
@@ -102,7 +116,8 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
       lost++;
       continue;
     }
-    const ud = applyAffine(table.regions[rd].law, theta);
+    const law = applyAffine(table.regions[rd].law, theta);
+    const ud = floatBuild.clamp ? clampInputs(law, table.inputLimits) : law;
     let diff = 0;
     for (let i = 0; i < ud.length; i++) diff = Math.max(diff, Math.abs(ef.u![i] - ud[i]));
     if (diff > maxAbsDiff) {
@@ -119,15 +134,15 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
   const safe = lost === 0 && maxAbsDiff <= tolerance;
   const total = sample.length + facet.length + extra.length;
   const verdict = safe
-    ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the float build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in float` +
-      (gained > 0 ? ` (${gained} points just outside every region are located in float, within its slack ${floatBuild.slack.toPrecision(3)})` : '')
+    ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the ${prec} build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in ${prec}` +
+      (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '')
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
-      [maxAbsDiff > tolerance ? `max |u_float - u_double| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in float` : '']
+      [maxAbsDiff > tolerance ? `max |u_build - u_table| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in ${prec}` : '']
         .filter(Boolean)
         .join('; ') +
-      '; use the double build';
+      (prec === 'float' ? '; use the double build (--precision double) or a larger --tolerance' : '; check the table with tessera gaps, or give a larger --tolerance');
   return {
-    precision: 'float',
+    precision: prec,
     search: floatBuild.search,
     points: { sample: sample.length, facet: facet.length, extra: extra.length, total },
     maxAbsDiff,

@@ -2,34 +2,19 @@ import type { Command } from 'commander';
 import { join } from 'node:path';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { checkOutputPath } from '../io/output.js';
 import { readTableFile, tableToJson } from '../table/table.js';
-import type { TableFile } from '../table/format.js';
+import { clampComparisons, hasInputLimits } from '../table/clamp.js';
 import { emitC, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
-import { buildArrays, evaluateArrays, type CostFigures } from '../emit/arrays.js';
+import { evaluateArrays, type CostFigures } from '../emit/arrays.js';
 import { checkPrefix, emitSelfTest } from '../emit/c.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
-import { certifyFloat, type Certificate } from '../check/certify.js';
+import { certifyBuild, CERTIFY_TOLERANCE_RULE, type Certificate } from '../check/certify.js';
 import { mergeRegions } from '../partition/merge.js';
 import type { SearchTree } from '../partition/tree.js';
-
-const CLI = '(command line)';
-
-function choice<T extends string>(flag: string, values: readonly T[]) {
-  return (v: string): T => {
-    if (!(values as readonly string[]).includes(v)) throw new InputError(CLI, flag, `expected one of ${values.join(', ')}, got "${v}"`);
-    return v as T;
-  };
-}
-
-function positive(flag: string, integer: boolean) {
-  return (v: string): number => {
-    const x = Number(v);
-    if (!Number.isFinite(x) || x <= 0 || (integer && !Number.isInteger(x)))
-      throw new InputError(CLI, flag, `expected a positive ${integer ? 'integer' : 'number'}, got "${v}"`);
-    return x;
-  };
-}
+import { EXIT } from './exit.js';
+import { choice, CLI, createdNote, positive } from './common.js';
 
 interface EmitCliOptions {
   lang: 'c';
@@ -48,6 +33,16 @@ interface EmitCliOptions {
   selftest?: number;
   tree?: string;
   leafSize: number;
+  clamp?: boolean;
+  quiet?: boolean;
+}
+
+/** Leaf sizes in words: the split target (--leaf-size) and why a leaf may hold more. */
+function leafText(maxLeaf: number, target: number): string {
+  const most = `at most ${maxLeaf} region${maxLeaf === 1 ? '' : 's'} per leaf`;
+  return maxLeaf <= target
+    ? `${most} (--leaf-size ${target})`
+    : `${most} (--leaf-size ${target} is the split target; a leaf keeps more regions when no facet hyperplane separates them)`;
 }
 
 function bytesLine(cost: CostFigures): string {
@@ -67,17 +62,23 @@ export function register(program: Command): void {
     .option('--merge', 'merge regions with the same law whose union is convex before emitting')
     .option('--merged-table <file>', 'also write the merged table (implies --merge)')
     .option('--report <file>', 'write the cost report (and certificate) as JSON')
-    .option('--certify', 'certify the float build against the double law')
-    .option('--tolerance <x>', 'accepted max |u_float - u_double| for the certificate', positive('--tolerance', false))
+    .option('--clamp', "saturate u to the table's input limits (inputLimits) in the generated code; its comparisons count in the cost")
+    .option('--certify', 'certify the emitted build (in its --precision) against the double law of the table; exit code 1 when NOT SAFE')
+    .option('--tolerance <x>', `accepted max |u_build - u_double| for the certificate (default: ${CERTIFY_TOLERANCE_RULE})`, positive('--tolerance', false))
     .option('--samples <n>', 'uniform sample size of the certificate', positive('--samples', true), 20000)
     .option('--seed <n>', 'seed of the certificate and self-test points', positive('--seed', true), 1)
     .option('--arrays <fmt>', 'also write the raw arrays as json or csv', choice('--arrays', ['json', 'csv'] as const))
     .option('--selftest <n>', 'also write NAME_selftest.c, a host program checking n seeded points', positive('--selftest', true))
     .option('--tree <file>', 'reuse a search tree side file (must match the table)')
-    .option('--leaf-size <n>', 'stop splitting the tree at this many regions per leaf', positive('--leaf-size', true), 1)
+    .option('--leaf-size <n>', 'split tree leaves down to this many regions (a leaf keeps more when no facet hyperplane separates them)', positive('--leaf-size', true), 1)
+    .option('-q, --quiet', 'print nothing but errors and warnings')
     .action((tablePath: string, o: EmitCliOptions) => {
       const bad = checkPrefix(o.prefix);
       if (bad) throw new InputError(CLI, '--prefix', `"${o.prefix}" ${bad}`);
+      // every output path is checked before any work
+      const created = [checkOutputPath(o.output, '-o', { kind: 'directory' })];
+      if (o.report) created.push(checkOutputPath(o.report, '--report', { kind: 'file', extensions: ['.json'], what: 'a JSON report' }));
+      if (o.mergedTable) created.push(checkOutputPath(o.mergedTable, '--merged-table', { kind: 'file', extensions: ['.json'], what: 'a JSON table' }));
       let table = readTableFile(tablePath);
       if (table.regions.length === 0) throw new InputError(tablePath, 'regions', 'the table has no region: nothing to emit');
       const incomplete = table.stats?.complete === false;
@@ -120,14 +121,14 @@ export function register(program: Command): void {
             });
         if (shown) process.stderr.write('\r\x1b[K');
       }
-      const res: EmitResult = emitC(table, { precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
+      if (o.clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
+        process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
+      const res: EmitResult = emitC(table, { precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, clamp: o.clamp });
       writes.push([join(o.output, `${o.prefix}.h`), res.header], [join(o.output, `${o.prefix}.c`), res.source]);
-      if (res.tree && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
-      let cert: Certificate | null = null;
-      if (o.certify) {
-        const floatBuild = o.precision === 'float' ? res.arrays : buildArrays(table, 'float', o.search, res.tree);
-        cert = certifyFloat(table, floatBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
-      }
+      const treeFile = res.tree && !o.tree ? `${o.prefix}.tree.json` : null;
+      if (treeFile) writes.push([join(o.output, treeFile), JSON.stringify(res.tree) + '\n']);
+      // the certificate is of the build that is written, in its own precision
+      const cert: Certificate | null = o.certify ? certifyBuild(table, res.arrays, { samples: o.samples, seed: o.seed, tolerance: o.tolerance }) : null;
       if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays)]);
       if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(res.arrays)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
       if (o.selftest) {
@@ -144,21 +145,26 @@ export function register(program: Command): void {
         search: o.search,
         slack: res.arrays.slack,
         tree: res.tree ? res.tree.stats : null,
+        clamp: o.clamp ? { limits: table.inputLimits, comparisons: clampComparisons(table.inputLimits, table.dims.nu) } : null,
         cost: res.cost,
         certificate: cert,
       };
       if (o.report) writes.push([o.report, JSON.stringify(report, null, 1) + '\n']);
       // everything is computed before the first write, so a failure leaves no partial output
       for (const [p, text] of writes) writeFileAtomic(p, text);
+      if (cert && !cert.safe) process.exitCode = EXIT.found;
+      if (o.quiet) return;
+      for (const d of created) if (d) createdNote(d);
 
       const c = res.cost;
       const lines = [
-        `emit: ${o.prefix}.h, ${o.prefix}.c in ${o.output} (C99, ${o.precision}, ${o.search} search)`,
+        `emit: ${o.prefix}.h, ${o.prefix}.c in ${o.output} (C99, ${o.precision}, ${o.search} search${o.clamp ? ', u clamped to the input limits' : ''})`,
+        ...(treeFile ? [`  also ${treeFile} in ${o.output}: the search tree, for reuse with --tree (not needed by the C code)`] : []),
         `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
         o.search === 'tree'
-          ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, at most ${res.tree!.stats.maxLeafSize} regions per leaf`
+          ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, ${leafText(res.tree!.stats.maxLeafSize, o.leafSize)}`
           : '  sequential search over every region',
-        `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons`,
+        `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons${c.clampComparisons ? ` (${c.clampComparisons} of them for --clamp)` : ''}`,
         `  memory: ${bytesLine(c)}`,
         ...c.bytes.float.arrays.map(
           (a, k) => `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ${(a.ctype === 'float' ? 'real' : a.ctype).padEnd(8)} float ${String(a.bytes).padStart(8)} B  double ${String(c.bytes.double.arrays[k].bytes).padStart(8)} B`,
@@ -166,8 +172,8 @@ export function register(program: Command): void {
       ];
       if (cert) {
         lines.push(
-          `  float certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_float - u_double| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
-            `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in float`,
+          `  ${cert.precision} certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_build - u_table| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
+            `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in ${cert.precision}`,
           `  ${cert.verdict}`,
         );
       }

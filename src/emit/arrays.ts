@@ -7,6 +7,7 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { leafDepths, type SearchTree } from '../partition/tree.js';
+import { clampComparisons } from '../table/clamp.js';
 
 export type Precision = 'float' | 'double';
 export type SearchKind = 'tree' | 'sequential';
@@ -45,6 +46,11 @@ export interface EmitArrays {
   root: number;
   /** loop bound of the tree descent: the worst depth */
   maxDepth: number;
+  /**
+   * `emit --clamp`: u saturated to the table's input limits after the law (bounds rounded to the
+   * build's precision; null = that side open); null when the build does not clamp
+   */
+  clamp: { lower: (number | null)[]; upper: (number | null)[] } | null;
 }
 
 /** Region-test slack of a build: tol.inside in double; in float, a few ulps of the largest |θ|·‖a‖₁ + |b|. */
@@ -61,8 +67,9 @@ export function regionSlack(table: TableFile, precision: Precision): number {
   return Math.max(tol.inside, FLOAT_SLACK_ULPS * FLOAT_EPS * (table.dims.ntheta + 1) * scale);
 }
 
-export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null): EmitArrays {
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null, clamp = false): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
+  const bound = (v: number | null | undefined) => (v === null || v === undefined ? null : round(v));
   const n = table.dims.ntheta;
   if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
   const slack = regionSlack(table, precision);
@@ -101,6 +108,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     regionRowStart,
     root: -1,
     maxDepth: 0,
+    clamp: clamp
+      ? { lower: table.inputNames.map((_, i) => bound(table.inputLimits?.lower?.[i])), upper: table.inputNames.map((_, i) => bound(table.inputLimits?.upper?.[i])) }
+      : null,
   };
   if (search === 'tree') {
     if (!tree) throw new Error('tree search needs a search tree');
@@ -150,6 +160,10 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
       let s = ar.lawG[row];
       if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
       else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * theta[j];
+      const lo = ar.clamp?.lower[i];
+      const hi = ar.clamp?.upper[i];
+      if (lo !== null && lo !== undefined && s < lo) s = lo;
+      if (hi !== null && hi !== undefined && s > hi) s = hi;
       u[i] = s;
     }
     return u;
@@ -222,9 +236,11 @@ export interface CostFigures {
   regions: number;
   /** worst-case hyperplane tests on the way to a leaf (0 for sequential search) */
   worstDepth: number;
-  /** worst case over every path: multiply-adds and comparisons of one evaluation */
+  /** worst case over every path: multiply-adds and comparisons of one evaluation (with --clamp, its comparisons included) */
   worstMultiplyAdds: number;
   worstComparisons: number;
+  /** comparisons of the --clamp saturation (0 without it), part of worstComparisons */
+  clampComparisons: number;
   /** bytes of every array and the total, per precision */
   bytes: Record<Precision, { arrays: { name: string; ctype: string; count: number; bytes: number }[]; total: number }>;
 }
@@ -237,6 +253,8 @@ export function costFigures(ar: EmitArrays): CostFigures {
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;
+  // the saturation of --clamp: one comparison per finite input limit
+  const clampCmp = ar.clamp ? clampComparisons(ar.clamp, ar.nu) : 0;
   let worstDepth = 0;
   let worstMacs = 0;
   let worstCmp = 0;
@@ -244,7 +262,7 @@ export function costFigures(ar: EmitArrays): CostFigures {
     let all = 0;
     for (let r = 0; r < ar.regionCount; r++) all += rows(r);
     worstMacs = all * n + lawMacs;
-    worstCmp = all;
+    worstCmp = all + clampCmp;
   } else {
     const depths = leafDepths({ root: ar.root, nodeLeft: ar.nodeLeft, nodeRight: ar.nodeRight, leafStart: ar.leafStart });
     depths.forEach((d, leaf) => {
@@ -252,7 +270,7 @@ export function costFigures(ar: EmitArrays): CostFigures {
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
       worstMacs = Math.max(worstMacs, d * n + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, d + rr);
+      worstCmp = Math.max(worstCmp, d + rr + clampCmp);
     });
   }
   const bytes = {} as CostFigures['bytes'];
@@ -261,5 +279,5 @@ export function costFigures(ar: EmitArrays): CostFigures {
     const arrays = specs.map((s) => ({ name: s.name, ctype: s.ctype, count: s.values.length, bytes: s.values.length * TYPE_BYTES[s.ctype] }));
     bytes[p] = { arrays, total: arrays.reduce((s, a) => s + a.bytes, 0) };
   }
-  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, bytes };
+  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, clampComparisons: clampCmp, bytes };
 }

@@ -13,8 +13,9 @@ export function arraysToJson(ar: EmitArrays): string {
     root: ar.root,
     maxDepth: ar.maxDepth,
     slack: ar.slack,
+    clamp: ar.clamp,
     layout:
-      'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ',
+      'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ; with clamp, u_i then saturated to [clamp.lower[i], clamp.upper[i]] (null = open)',
   };
   return JSON.stringify({ ...meta, arrays }) + '\n';
 }

@@ -28,6 +28,8 @@ export interface EmitOptions {
   treeOptions?: TreeOptions;
   /** region count before a merge, noted in the header */
   mergedFrom?: number;
+  /** saturate u to the table's input limits in the generated code (`emit --clamp`) */
+  clamp?: boolean;
 }
 
 export interface EmitResult {
@@ -46,7 +48,7 @@ export function treeForTable(table: TableFile, options: TreeOptions = {}): Searc
 export function emitC(table: TableFile, opts: EmitOptions): EmitResult {
   const hash = tableHash(table);
   const tree = opts.search === 'tree' ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash })) : null;
-  const arrays = buildArrays(table, opts.precision, opts.search, tree);
+  const arrays = buildArrays(table, opts.precision, opts.search, tree, opts.clamp);
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom };
   return { header: emitHeader(arrays, meta), source: emitSource(arrays, meta), arrays, tree, cost: costFigures(arrays), hash };
 }

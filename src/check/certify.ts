@@ -7,7 +7,7 @@
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
 import { clampInputs } from '../table/clamp.js';
-import { evaluateArrays, type EmitArrays } from '../emit/arrays.js';
+import { evaluateArrays, type ArrayEvaluation, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
 /** Default accepted |u_build − u_double|: this fraction of the widest finite input range (or of 1). */
@@ -25,7 +25,7 @@ export interface CertifyOptions {
 }
 
 export interface Certificate {
-  precision: EmitArrays['precision'];
+  precision: string;
   search: EmitArrays['search'];
   points: { sample: number; facet: number; extra: number; total: number };
   /** largest |u_float − u_double| (∞-norm) over points that both builds locate */
@@ -85,14 +85,29 @@ export function facetPoints(table: TableFile): number[][] {
 
 export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
   if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
-  return certifyBuild(table, floatBuild, options);
+  return certifyBuild(table, floatBuild, (theta) => evaluateArrays(floatBuild, theta), options);
+}
+
+/** What the certificate needs to know of a build besides its evaluator. */
+export interface CertifiedBuild {
+  precision: string;
+  search: EmitArrays['search'];
+  /** slack of its region tests */
+  slack: number;
+  /** input limits the build saturates to (`emit --clamp`), or null/absent */
+  clamp?: EmitArrays['clamp'];
 }
 
 /**
  * Certify a build in its own precision. A build that clamps (`emit --clamp`) is compared with the
  * double law saturated the same way.
  */
-export function certifyBuild(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
+export function certifyBuild(
+  table: TableFile,
+  floatBuild: CertifiedBuild,
+  evaluate: (theta: ArrayLike<number>) => ArrayEvaluation,
+  options: CertifyOptions = {},
+): Certificate {
   const prec = floatBuild.precision;
   const sample = sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1);
   const facet = facetPoints(table);
@@ -107,7 +122,7 @@ export function certifyBuild(table: TableFile, floatBuild: EmitArrays, options: 
   let worstTheta: number[] | null = null;
   for (const theta of [...sample, ...facet, ...extra]) {
     const rd = locateSequential(table.regions, theta);
-    const ef = evaluateArrays(floatBuild, theta);
+    const ef = evaluate(theta);
     if (rd < 0) {
       if (ef.region >= 0) gained++;
       continue;

@@ -5,20 +5,21 @@ import { writeFileAtomic } from '../io/atomic.js';
 import { checkOutputPath } from '../io/output.js';
 import { readTableFile, tableToJson } from '../table/table.js';
 import { clampComparisons, hasInputLimits } from '../table/clamp.js';
-import { emitC, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
-import { evaluateArrays, type CostFigures } from '../emit/arrays.js';
-import { checkPrefix, emitSelfTest } from '../emit/c.js';
+import { emit, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import type { EmitArrays } from '../emit/arrays.js';
+import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
+import type { TargetCost } from '../emit/targets/target.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
-import { certifyBuild, CERTIFY_TOLERANCE_RULE, type Certificate } from '../check/certify.js';
+import { certifyBuild, CERTIFY_TOLERANCE_RULE, type CertifiedBuild, type Certificate } from '../check/certify.js';
 import { mergeRegions } from '../partition/merge.js';
 import type { SearchTree } from '../partition/tree.js';
 import { EXIT } from './exit.js';
 import { choice, CLI, createdNote, positive } from './common.js';
 
 interface EmitCliOptions {
-  lang: 'c';
-  precision: 'float' | 'double';
+  lang: string;
+  precision: string;
   search: 'tree' | 'sequential';
   prefix: string;
   output: string;
@@ -45,8 +46,23 @@ function leafText(maxLeaf: number, target: number): string {
     : `${most} (--leaf-size ${target} is the split target; a leaf keeps more regions when no facet hyperplane separates them)`;
 }
 
-function bytesLine(cost: CostFigures): string {
-  return `float ${cost.bytes.float.total} B, double ${cost.bytes.double.total} B`;
+function bytesLine(cost: TargetCost): string {
+  return Object.entries(cost.bytes)
+    .map(([p, b]) => `${p} ${b.total} B`)
+    .join(', ');
+}
+
+const LANGS = targetLanguages();
+const PRECISIONS = [...new Set(LANGS.flatMap(targetPrecisions))];
+
+/** One line per array: count and, per reported precision, element type and bytes. */
+function arrayLines(c: TargetCost): string[] {
+  const precs = Object.keys(c.bytes);
+  return c.bytes[precs[0]].arrays.map(
+    (a, k) =>
+      `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ` +
+      precs.map((p) => `${p} ${c.bytes[p].arrays[k].type.padEnd(8)} ${String(c.bytes[p].arrays[k].bytes).padStart(8)} B`).join('  '),
+  );
 }
 
 export function register(program: Command): void {
@@ -54,8 +70,8 @@ export function register(program: Command): void {
     .command('emit')
     .description('generate embedded C (header + source) that evaluates the table, with a cost report and a float certificate')
     .argument('<table>', 'table file written by tessera solve')
-    .option('--lang <lang>', 'target language (c)', choice('--lang', ['c'] as const), 'c')
-    .option('--precision <p>', 'float or double', choice('--precision', ['float', 'double'] as const), 'float')
+    .option('--lang <lang>', `target language: ${TARGETS.map((t) => `${t.lang} (${t.precisions.join('/')}: ${t.summary})`).join('; ')}`, choice('--lang', LANGS), 'c')
+    .option('--precision <p>', `arithmetic of the generated code: ${PRECISIONS.join(', ')}`, choice('--precision', PRECISIONS), 'float')
     .option('--search <s>', 'point location: tree (binary search tree) or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
     .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')
     .requiredOption('-o, --output <dir>', 'directory for the generated files')
@@ -64,7 +80,7 @@ export function register(program: Command): void {
     .option('--report <file>', 'write the cost report (and certificate) as JSON')
     .option('--clamp', "saturate u to the table's input limits (inputLimits) in the generated code; its comparisons count in the cost")
     .option('--certify', 'certify the emitted build (in its --precision) against the double law of the table; exit code 1 when NOT SAFE')
-    .option('--tolerance <x>', `accepted max |u_build - u_double| for the certificate (default: ${CERTIFY_TOLERANCE_RULE})`, positive('--tolerance', false))
+    .option('--tolerance <x>', `accepted max |u_build - u_table| for the certificate (default: ${CERTIFY_TOLERANCE_RULE})`, positive('--tolerance', false))
     .option('--samples <n>', 'uniform sample size of the certificate', positive('--samples', true), 20000)
     .option('--seed <n>', 'seed of the certificate and self-test points', positive('--seed', true), 1)
     .option('--arrays <fmt>', 'also write the raw arrays as json or csv', choice('--arrays', ['json', 'csv'] as const))
@@ -73,7 +89,9 @@ export function register(program: Command): void {
     .option('--leaf-size <n>', 'split tree leaves down to this many regions (a leaf keeps more when no facet hyperplane separates them)', positive('--leaf-size', true), 1)
     .option('-q, --quiet', 'print nothing but errors and warnings')
     .action((tablePath: string, o: EmitCliOptions) => {
-      const bad = checkPrefix(o.prefix);
+      const target = findTarget(o.lang, o.precision);
+      if (!target) throw new InputError(CLI, '--precision', `language ${o.lang} has no precision "${o.precision}" (expected one of ${targetPrecisions(o.lang).join(', ')})`);
+      const bad = target.checkPrefix(o.prefix);
       if (bad) throw new InputError(CLI, '--prefix', `"${o.prefix}" ${bad}`);
       // every output path is checked before any work
       const created = [checkOutputPath(o.output, '-o', { kind: 'directory' })];
@@ -123,17 +141,22 @@ export function register(program: Command): void {
       }
       if (o.clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
         process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
-      const res: EmitResult = emitC(table, { precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, clamp: o.clamp });
-      writes.push([join(o.output, `${o.prefix}.h`), res.header], [join(o.output, `${o.prefix}.c`), res.source]);
+      const res: EmitResult<unknown> = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, clamp: o.clamp });
+      for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
       const treeFile = res.tree && !o.tree ? `${o.prefix}.tree.json` : null;
       if (treeFile) writes.push([join(o.output, treeFile), JSON.stringify(res.tree) + '\n']);
-      // the certificate is of the build that is written, in its own precision
-      const cert: Certificate | null = o.certify ? certifyBuild(table, res.arrays, { samples: o.samples, seed: o.seed, tolerance: o.tolerance }) : null;
-      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays)]);
-      if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(res.arrays)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
+      // the certificate is of the build that is written, in its own arithmetic (the target's evaluator)
+      const cert: Certificate | null = o.certify
+        ? certifyBuild(table, res.arrays as CertifiedBuild, (th) => target.evaluate(res.arrays, th), { samples: o.samples, seed: o.seed, tolerance: o.tolerance })
+        : null;
+      const layout = target.layout(res.arrays);
+      const clampLimits = (res.arrays as { clamp?: EmitArrays['clamp'] }).clamp;
+      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, clampLimits ? { clamp: clampLimits } : {})]);
+      if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(layout)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
       if (o.selftest) {
         const pts = sampleBox(table.box, o.selftest, o.seed);
-        writes.push([join(o.output, `${o.prefix}_selftest.c`), emitSelfTest(res.arrays, o.prefix, pts, pts.map((p) => evaluateArrays(res.arrays, p)))]);
+        const st = target.selfTest(res.arrays, o.prefix, pts, pts.map((p) => target.evaluate(res.arrays, p)));
+        writes.push([join(o.output, st.name), st.text]);
       }
       const report = {
         table: tablePath,
@@ -141,9 +164,11 @@ export function register(program: Command): void {
         complete: !incomplete,
         stopReason: table.stats?.stopReason,
         regions: { before, after: table.regions.length, merged },
+        lang: o.lang,
+        target: target.id,
         precision: o.precision,
         search: o.search,
-        slack: res.arrays.slack,
+        slack: (res.arrays as { slack: number }).slack,
         tree: res.tree ? res.tree.stats : null,
         clamp: o.clamp ? { limits: table.inputLimits, comparisons: clampComparisons(table.inputLimits, table.dims.nu) } : null,
         cost: res.cost,
@@ -158,7 +183,7 @@ export function register(program: Command): void {
 
       const c = res.cost;
       const lines = [
-        `emit: ${o.prefix}.h, ${o.prefix}.c in ${o.output} (C99, ${o.precision}, ${o.search} search${o.clamp ? ', u clamped to the input limits' : ''})`,
+        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${o.search} search${o.clamp ? ', u clamped to the input limits' : ''})`,
         ...(treeFile ? [`  also ${treeFile} in ${o.output}: the search tree, for reuse with --tree (not needed by the C code)`] : []),
         `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
         o.search === 'tree'
@@ -166,9 +191,7 @@ export function register(program: Command): void {
           : '  sequential search over every region',
         `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons${c.clampComparisons ? ` (${c.clampComparisons} of them for --clamp)` : ''}`,
         `  memory: ${bytesLine(c)}`,
-        ...c.bytes.float.arrays.map(
-          (a, k) => `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ${(a.ctype === 'float' ? 'real' : a.ctype).padEnd(8)} float ${String(a.bytes).padStart(8)} B  double ${String(c.bytes.double.arrays[k].bytes).padStart(8)} B`,
-        ),
+        ...arrayLines(c),
       ];
       if (cert) {
         lines.push(

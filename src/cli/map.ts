@@ -198,7 +198,7 @@ export function register(program: Command): void {
         const m = loaded.model;
         const starts = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => (row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1])));
         for (const w of trajectoryStartWarnings(starts, spec, table.box, table.thetaNames)) process.stderr.write(`tessera: warning: ${o.trajectories}: ${w}\n`);
-        trajectories = starts.map((th0) => simulateClosedLoop(table, { A: m.A, B: m.B, hasRate: m.hasRate }, th0, o.steps));
+        trajectories = starts.map((th0) => simulateClosedLoop(table, m, th0, o.steps));
       }
       const slice = analyseSlice(table, mpqp, spec);
       const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });

@@ -9,6 +9,7 @@ import { register as registerMap } from './map.js';
 import { register as registerGaps } from './gaps.js';
 import { register as registerView } from './view.js';
 import { register as registerSimulate } from './simulate.js';
+import { register as registerAudit } from './audit.js';
 
 const program = new Command();
 program
@@ -24,7 +25,7 @@ program
   .showSuggestionAfterError(true)
   .addHelpText('after', `\n${EXIT_CODES_HELP}`);
 
-for (const reg of [registerSolve, registerEvaluate, registerEmit, registerMap, registerGaps, registerView, registerSimulate]) reg(program);
+for (const reg of [registerSolve, registerEvaluate, registerEmit, registerMap, registerGaps, registerView, registerSimulate, registerAudit]) reg(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {

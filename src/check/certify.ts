@@ -7,10 +7,10 @@
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
 import { clampInputs } from '../table/clamp.js';
-import { evaluateArrays, type ArrayEvaluation, type EmitArrays } from '../emit/arrays.js';
+import { evaluateArrays, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
-/** Default accepted |u_build − u_double|: this fraction of the widest finite input range (or of 1). */
+/** Default accepted |u_float − u_double|: this fraction of the widest finite input range (or of 1). */
 export const CERTIFY_DEFAULT_RELATIVE = 1e-5;
 /** Offsets of the facet points from each facet: fractions of the region's Chebyshev radius, of the box width, and float ulps of |θ|max. */
 export const FACET_OFFSETS = { radiusFraction: 1e-3, boxFraction: 1e-6, floatUlps: 8 };
@@ -83,9 +83,67 @@ export function facetPoints(table: TableFile): number[][] {
   return out;
 }
 
+/** What a build does at θ: the region it locates (−1 for none) and its u. */
+export type BuildEvaluator = (theta: number[]) => { region: number; u: number[] | null };
+
+export interface Comparison {
+  maxAbsDiff: number;
+  maxAbsDiffSameRegion: number;
+  relocated: number;
+  relocatedMaxLawDiff: number;
+  lost: number;
+  gained: number;
+  worstTheta: number[] | null;
+}
+
+/**
+ * A build against the table's double law on the given points (shared by the float and fixed-point
+ * certificates). `reference` post-processes the double law (the clamp of a clamping build).
+ */
+export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>, reference: (u: number[]) => number[] = (u) => u): Comparison {
+  let maxAbsDiff = 0;
+  let maxSame = 0;
+  let relocated = 0;
+  let relocatedMaxLawDiff = 0;
+  let lost = 0;
+  let gained = 0;
+  let worstTheta: number[] | null = null;
+  for (const theta of points) {
+    const rd = locateSequential(table.regions, theta);
+    const ef = evaluate(theta);
+    if (rd < 0) {
+      if (ef.region >= 0) gained++;
+      continue;
+    }
+    if (ef.region < 0) {
+      lost++;
+      continue;
+    }
+    const ud = reference(applyAffine(table.regions[rd].law, theta));
+    let diff = 0;
+    for (let i = 0; i < ud.length; i++) diff = Math.max(diff, Math.abs(ef.u![i] - ud[i]));
+    if (diff > maxAbsDiff) {
+      maxAbsDiff = diff;
+      worstTheta = [...theta];
+    }
+    if (ef.region === rd) maxSame = Math.max(maxSame, diff);
+    else {
+      relocated++;
+      const uo = reference(applyAffine(table.regions[ef.region].law, theta));
+      for (let i = 0; i < ud.length; i++) relocatedMaxLawDiff = Math.max(relocatedMaxLawDiff, Math.abs(uo[i] - ud[i]));
+    }
+  }
+  return { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta };
+}
+
+/** The certificate's point set: seeded uniform sample, facet points, extra points. */
+export function certificatePoints(table: TableFile, options: CertifyOptions): { sample: number[][]; facet: number[][]; extra: number[][] } {
+  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: facetPoints(table), extra: options.extraPoints ?? [] };
+}
+
 export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
   if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
-  return certifyBuild(table, floatBuild, (theta) => evaluateArrays(floatBuild, theta), options);
+  return certifyBuild(table, floatBuild, (t) => evaluateArrays(floatBuild, t), options);
 }
 
 /** What the certificate needs to know of a build besides its evaluator. */
@@ -99,53 +157,16 @@ export interface CertifiedBuild {
 }
 
 /**
- * Certify a build in its own precision. A build that clamps (`emit --clamp`) is compared with the
- * double law saturated the same way.
+ * Certify a float or double build in its own precision, through its own evaluator. A build that
+ * clamps (`emit --clamp`) is compared with the double law saturated the same way.
  */
-export function certifyBuild(
-  table: TableFile,
-  floatBuild: CertifiedBuild,
-  evaluate: (theta: ArrayLike<number>) => ArrayEvaluation,
-  options: CertifyOptions = {},
-): Certificate {
+export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evaluate: BuildEvaluator, options: CertifyOptions = {}): Certificate {
   const prec = floatBuild.precision;
-  const sample = sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1);
-  const facet = facetPoints(table);
-  const extra = options.extraPoints ?? [];
+  const { sample, facet, extra } = certificatePoints(table, options);
   const tolerance = options.tolerance ?? defaultTolerance(table);
-  let maxAbsDiff = 0;
-  let maxSame = 0;
-  let relocated = 0;
-  let relocatedMaxLawDiff = 0;
-  let lost = 0;
-  let gained = 0;
-  let worstTheta: number[] | null = null;
-  for (const theta of [...sample, ...facet, ...extra]) {
-    const rd = locateSequential(table.regions, theta);
-    const ef = evaluate(theta);
-    if (rd < 0) {
-      if (ef.region >= 0) gained++;
-      continue;
-    }
-    if (ef.region < 0) {
-      lost++;
-      continue;
-    }
-    const law = applyAffine(table.regions[rd].law, theta);
-    const ud = floatBuild.clamp ? clampInputs(law, table.inputLimits) : law;
-    let diff = 0;
-    for (let i = 0; i < ud.length; i++) diff = Math.max(diff, Math.abs(ef.u![i] - ud[i]));
-    if (diff > maxAbsDiff) {
-      maxAbsDiff = diff;
-      worstTheta = [...theta];
-    }
-    if (ef.region === rd) maxSame = Math.max(maxSame, diff);
-    else {
-      relocated++;
-      const uo = applyAffine(table.regions[ef.region].law, theta);
-      for (let i = 0; i < ud.length; i++) relocatedMaxLawDiff = Math.max(relocatedMaxLawDiff, Math.abs(uo[i] - ud[i]));
-    }
-  }
+  const reference = floatBuild.clamp ? (u: number[]) => clampInputs(u, table.inputLimits) : undefined;
+  const cmp = compareWithDouble(table, evaluate, [...sample, ...facet, ...extra], reference);
+  const { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta } = cmp;
   const safe = lost === 0 && maxAbsDiff <= tolerance;
   const total = sample.length + facet.length + extra.length;
   const verdict = safe

@@ -3,8 +3,11 @@ import { join } from 'node:path';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { checkOutputPath } from '../io/output.js';
-import { readTableFile, tableToJson } from '../table/table.js';
 import { clampComparisons, hasInputLimits } from '../table/clamp.js';
+import { EXIT } from './exit.js';
+import { createdNote } from './common.js';
+import { readTableFile, tableToJson } from '../table/table.js';
+import type { TableFile } from '../table/format.js';
 import { emit, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
 import type { EmitArrays } from '../emit/arrays.js';
 import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
@@ -12,10 +15,37 @@ import type { TargetCost } from '../emit/targets/target.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
 import { certifyBuild, CERTIFY_TOLERANCE_RULE, type CertifiedBuild, type Certificate } from '../check/certify.js';
+import { certifyFixed, type FixedCertificate } from '../check/certify-fixed.js';
+import { targetCheck, targetCheckLines } from './target-check.js';
+import { FIXED_LAYOUT_TEXT, FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
 import { mergeRegions } from '../partition/merge.js';
 import type { SearchTree } from '../partition/tree.js';
-import { EXIT } from './exit.js';
-import { choice, CLI, createdNote, positive } from './common.js';
+
+const CLI = '(command line)';
+
+function choice<T extends string>(flag: string, values: readonly T[]) {
+  return (v: string): T => {
+    if (!(values as readonly string[]).includes(v)) throw new InputError(CLI, flag, `expected one of ${values.join(', ')}, got "${v}"`);
+    return v as T;
+  };
+}
+
+function intList(flag: string) {
+  return (v: string): number[] => {
+    const xs = v.split(',').map((x) => Number(x.trim()));
+    if (!xs.length || xs.some((x) => !Number.isInteger(x))) throw new InputError(CLI, flag, `expected comma-separated integers, got "${v}"`);
+    return xs;
+  };
+}
+
+function positive(flag: string, integer: boolean) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isFinite(x) || x <= 0 || (integer && !Number.isInteger(x)))
+      throw new InputError(CLI, flag, `expected a positive ${integer ? 'integer' : 'number'}, got "${v}"`);
+    return x;
+  };
+}
 
 interface EmitCliOptions {
   lang: string;
@@ -27,6 +57,8 @@ interface EmitCliOptions {
   mergedTable?: string;
   report?: string;
   certify?: boolean;
+  thetaFrac?: number[];
+  targetCheck?: boolean;
   tolerance?: number;
   samples: number;
   seed: number;
@@ -38,14 +70,6 @@ interface EmitCliOptions {
   quiet?: boolean;
 }
 
-/** Leaf sizes in words: the split target (--leaf-size) and why a leaf may hold more. */
-function leafText(maxLeaf: number, target: number): string {
-  const most = `at most ${maxLeaf} region${maxLeaf === 1 ? '' : 's'} per leaf`;
-  return maxLeaf <= target
-    ? `${most} (--leaf-size ${target})`
-    : `${most} (--leaf-size ${target} is the split target; a leaf keeps more regions when no facet hyperplane separates them)`;
-}
-
 function bytesLine(cost: TargetCost): string {
   return Object.entries(cost.bytes)
     .map(([p, b]) => `${p} ${b.total} B`)
@@ -55,6 +79,19 @@ function bytesLine(cost: TargetCost): string {
 const LANGS = targetLanguages();
 const PRECISIONS = [...new Set(LANGS.flatMap(targetPrecisions))];
 
+/** The fixed-point scaling of a build, for the JSON report (bigints as decimal strings). */
+function fixedScaling(b: FixedBuild) {
+  return {
+    format: b.precision,
+    thetaFrac: b.thetaFrac,
+    thetaAccepted: b.thetaLo.map((l, j) => [String(l), String(b.thetaHi[j])]),
+    uFrac: b.uFrac,
+    shifts: { tree: b.nodeShift, regions: b.regionShift, laws: b.lawShift, output: b.outShift },
+    regionMargin: b.slack,
+    lawErrorBound: b.lawErrorBound,
+  };
+}
+
 /** One line per array: count and, per reported precision, element type and bytes. */
 function arrayLines(c: TargetCost): string[] {
   const precs = Object.keys(c.bytes);
@@ -63,6 +100,14 @@ function arrayLines(c: TargetCost): string[] {
       `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ` +
       precs.map((p) => `${p} ${c.bytes[p].arrays[k].type.padEnd(8)} ${String(c.bytes[p].arrays[k].bytes).padStart(8)} B`).join('  '),
   );
+}
+
+/** Leaf sizes in words: the split target (--leaf-size) and why a leaf may hold more. */
+function leafText(maxLeaf: number, target: number): string {
+  const most = `at most ${maxLeaf} region${maxLeaf === 1 ? '' : 's'} per leaf`;
+  return maxLeaf <= target
+    ? `${most} (--leaf-size ${target})`
+    : `${most} (--leaf-size ${target} is the split target; a leaf keeps more regions when no facet hyperplane separates them)`;
 }
 
 export function register(program: Command): void {
@@ -78,9 +123,11 @@ export function register(program: Command): void {
     .option('--merge', 'merge regions with the same law whose union is convex before emitting')
     .option('--merged-table <file>', 'also write the merged table (implies --merge)')
     .option('--report <file>', 'write the cost report (and certificate) as JSON')
-    .option('--clamp', "saturate u to the table's input limits (inputLimits) in the generated code; its comparisons count in the cost")
-    .option('--certify', 'certify the emitted build (in its --precision) against the double law of the table; exit code 1 when NOT SAFE')
-    .option('--tolerance <x>', `accepted max |u_build - u_table| for the certificate (default: ${CERTIFY_TOLERANCE_RULE})`, positive('--tolerance', false))
+    .option('--clamp', "saturate u to the table's input limits (inputLimits) in the generated code (float/double); its comparisons count in the cost")
+    .option('--certify', 'certify the emitted build against the double law of the table (float/double: that build in its precision; q15/q31: that build and its overflow proof); exit code 1 when NOT SAFE')
+    .option('--target-check', 'also cross-compile float, q15 and q31 for Cortex-M0 and Cortex-M4F (arm-none-eabi-gcc): sizes, soft-float check, worst-case instructions/cycles')
+    .option('--theta-frac <list>', 'fixed point: fraction bits of each θ, comma-separated (default: the most the box allows)', intList('--theta-frac'))
+    .option('--tolerance <x>', `accepted max |u_build - u_table| for the certificate (default for float/double: ${CERTIFY_TOLERANCE_RULE})`, positive('--tolerance', false))
     .option('--samples <n>', 'uniform sample size of the certificate', positive('--samples', true), 20000)
     .option('--seed <n>', 'seed of the certificate and self-test points', positive('--seed', true), 1)
     .option('--arrays <fmt>', 'also write the raw arrays as json or csv', choice('--arrays', ['json', 'csv'] as const))
@@ -93,6 +140,7 @@ export function register(program: Command): void {
       if (!target) throw new InputError(CLI, '--precision', `language ${o.lang} has no precision "${o.precision}" (expected one of ${targetPrecisions(o.lang).join(', ')})`);
       const bad = target.checkPrefix(o.prefix);
       if (bad) throw new InputError(CLI, '--prefix', `"${o.prefix}" ${bad}`);
+      if (o.clamp && target.id === 'c-fixed') throw new InputError(CLI, '--clamp', `applies to the float and double builds, not to ${o.precision}`);
       // every output path is checked before any work
       const created = [checkOutputPath(o.output, '-o', { kind: 'directory' })];
       if (o.report) created.push(checkOutputPath(o.report, '--report', { kind: 'file', extensions: ['.json'], what: 'a JSON report' }));
@@ -139,19 +187,30 @@ export function register(program: Command): void {
             });
         if (shown) process.stderr.write('\r\x1b[K');
       }
+      const fixed = target.id === 'c-fixed';
+      if (o.thetaFrac && !fixed) throw new InputError(CLI, '--theta-frac', `applies to the fixed-point precisions only (${targetPrecisions(o.lang).filter((p) => !['float', 'double'].includes(p)).join(', ')})`);
       if (o.clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
         process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
-      const res: EmitResult<unknown> = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, clamp: o.clamp });
+      let res: EmitResult<unknown>;
+      try {
+        res = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, thetaFrac: o.thetaFrac, clamp: o.clamp });
+      } catch (e) {
+        // a scaling that would overflow is refused like any other bad input: one line, exit 2, nothing written
+        if (e instanceof FixedOverflowError) throw new InputError(o.thetaFrac ? CLI : tablePath, o.thetaFrac ? '--theta-frac' : 'regions', e.message);
+        throw e;
+      }
       for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
       const treeFile = res.tree && !o.tree ? `${o.prefix}.tree.json` : null;
       if (treeFile) writes.push([join(o.output, treeFile), JSON.stringify(res.tree) + '\n']);
+      let cert: Certificate | null = null;
+      let fcert: FixedCertificate | null = null;
+      if (o.certify && fixed) fcert = certifyFixed(table, res.arrays as FixedBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
       // the certificate is of the build that is written, in its own arithmetic (the target's evaluator)
-      const cert: Certificate | null = o.certify
-        ? certifyBuild(table, res.arrays as CertifiedBuild, (th) => target.evaluate(res.arrays, th), { samples: o.samples, seed: o.seed, tolerance: o.tolerance })
-        : null;
+      else if (o.certify) cert = certifyBuild(table, res.arrays as CertifiedBuild, (th) => target.evaluate(res.arrays, th), { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
+      const tcheck = o.targetCheck ? targetCheck(table, o.search, res.tree, o.prefix) : null;
       const layout = target.layout(res.arrays);
-      const clampLimits = (res.arrays as { clamp?: EmitArrays['clamp'] }).clamp;
-      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, clampLimits ? { clamp: clampLimits } : {})]);
+      if (o.arrays === 'json')
+        writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, fixed ? { scaling: fixedScaling(res.arrays as FixedBuild), layout: FIXED_LAYOUT_TEXT } : o.clamp ? { clamp: (res.arrays as EmitArrays).clamp } : {})]);
       if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(layout)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
       if (o.selftest) {
         const pts = sampleBox(table.box, o.selftest, o.seed);
@@ -172,12 +231,15 @@ export function register(program: Command): void {
         tree: res.tree ? res.tree.stats : null,
         clamp: o.clamp ? { limits: table.inputLimits, comparisons: clampComparisons(table.inputLimits, table.dims.nu) } : null,
         cost: res.cost,
-        certificate: cert,
+        certificate: cert ?? fcert,
+        targetCheck: tcheck ?? undefined,
+        overflow: fixed ? (res.arrays as FixedBuild).proof : undefined,
+        scaling: fixed ? fixedScaling(res.arrays as FixedBuild) : undefined,
       };
-      if (o.report) writes.push([o.report, JSON.stringify(report, null, 1) + '\n']);
+      if (o.report) writes.push([o.report, JSON.stringify(report, (_k, v) => (typeof v === 'bigint' ? v.toString() : v), 1) + '\n']);
       // everything is computed before the first write, so a failure leaves no partial output
       for (const [p, text] of writes) writeFileAtomic(p, text);
-      if (cert && !cert.safe) process.exitCode = EXIT.found;
+      if ((cert && !cert.safe) || (fcert && !fcert.safe) || (tcheck && !tcheck.noSoftFloat)) process.exitCode = EXIT.found;
       if (o.quiet) return;
       for (const d of created) if (d) createdNote(d);
 
@@ -193,6 +255,20 @@ export function register(program: Command): void {
         `  memory: ${bytesLine(c)}`,
         ...arrayLines(c),
       ];
+      if (fixed) {
+        const b = res.arrays as FixedBuild;
+        lines.push(
+          `  scaling: theta_q[j] = round(theta[j] * 2^frac[j]), frac = [${b.thetaFrac.join(', ')}]; u = u_q * 2^-${b.uFrac}; shifts: tree ${b.nodeShift}, regions ${b.regionShift}, laws ${b.lawShift}`,
+          `  overflow proof: ${b.proof.text}`,
+        );
+      }
+      if (fcert) {
+        lines.push(
+          `  ${fcert.precision} certificate on ${fcert.points.total} points (${fcert.points.sample} uniform, ${fcert.points.facet} at facets): max |u_fixed - u_double| = ${fcert.maxAbsDiff.toPrecision(3)} ` +
+            `(same region ${fcert.maxAbsDiffSameRegion.toPrecision(3)}, proven bound ${fcert.lawErrorBound.toPrecision(3)}), ${fcert.relocated} relocated (largest law difference ${fcert.relocatedMaxLawDiff.toPrecision(3)}), ${fcert.lostInFixed} lost in fixed point`,
+          `  ${fcert.verdict}`,
+        );
+      }
       if (cert) {
         lines.push(
           `  ${cert.precision} certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_build - u_table| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
@@ -200,6 +276,7 @@ export function register(program: Command): void {
           `  ${cert.verdict}`,
         );
       }
+      if (tcheck) lines.push(...targetCheckLines(tcheck));
       lines.push('  caution: validate in simulation and hardware-in-the-loop, keep an independent safety layer, and handle the -1 (no region) return.');
       process.stdout.write(lines.join('\n') + '\n');
     });

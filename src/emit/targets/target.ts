@@ -25,6 +25,14 @@ export interface TargetCost extends CostFigures {
   bytes: Record<string, { arrays: ArrayBytes[]; total: number }>;
 }
 
+/** Target-specific build options (ignored by targets that have no use for them). */
+export interface TargetOptions {
+  /** fixed point: θ fraction bits per component, forced instead of chosen from the box */
+  thetaFrac?: number[];
+  /** saturate u to the table's input limits in the generated code (`emit --clamp`; float/double C) */
+  clamp?: boolean;
+}
+
 export interface TargetFile {
   name: string;
   text: string;
@@ -42,8 +50,7 @@ export interface EmitTarget<B = unknown> {
   lang: string;
   precisions: readonly string[];
   summary: string;
-  /** `clamp`: the code saturates u to the table's input limits (`emit --clamp`) */
-  build(table: TableFile, precision: string, search: SearchKind, tree: SearchTree | null, clamp?: boolean): B;
+  build(table: TableFile, precision: string, search: SearchKind, tree: SearchTree | null, options?: TargetOptions): B;
   evaluate(build: B, theta: ArrayLike<number>): ArrayEvaluation;
   layout(build: B): LayoutArray[];
   /** the generated files (e.g. NAME.h and NAME.c) */

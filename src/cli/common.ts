@@ -22,7 +22,10 @@ export function choice<T extends string>(flag: string, values: readonly T[]) {
   };
 }
 
-/** Tell the user that a missing output directory was created (stderr: stdout may carry data). */
-export function createdNote(dir: string): void {
-  process.stderr.write(`tessera: note: created the directory ${dir}\n`);
+/**
+ * Tell the user that a missing output directory was created: on stdout with the command's summary,
+ * or on stderr when stdout carries data (JSON).
+ */
+export function createdNote(dir: string, stream: 'stdout' | 'stderr' = 'stdout'): void {
+  process[stream].write(`tessera: note: created the directory ${dir}\n`);
 }

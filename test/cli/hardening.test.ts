@@ -131,6 +131,27 @@ describe('--clamp saturates to the input limits', () => {
   });
 });
 
+describe('simulate --clamp', () => {
+  it('the applied input stays within ±1 and equals the saturated table law', async () => {
+    const [plain, clamped] = await Promise.all(
+      ['plain', 'clamped'].map((k) => run(['simulate', T, '--x0', '2.5,0', '--steps', '30', '--csv', join(dir, `sim-${k}.csv`), '-q', ...(k === 'clamped' ? ['--clamp'] : [])])),
+    );
+    expect(plain.status).toBe(0);
+    expect(clamped.status).toBe(0);
+    const rows = (k: string) => {
+      const [head, ...lines] = readFileSync(join(dir, `sim-${k}.csv`), 'utf8').trim().split('\n');
+      const col = head.split(',').indexOf('volt');
+      return lines.map((l) => Number(l.split(',')[col]));
+    };
+    const u = rows('clamped');
+    expect(u.length).toBe(30); // steps 0…29
+    for (const v of u) expect(Math.abs(v)).toBeLessThanOrEqual(1);
+    expect(u.filter((v) => Math.abs(v) === 1).length, 'the run starts saturated').toBeGreaterThan(0);
+    // same loop without the clamp, to rounding (saturation moves u by at most a few ulps here)
+    rows('plain').forEach((v, k) => expect(u[k]).toBeCloseTo(Math.min(Math.max(v, -1), 1), 9));
+  });
+});
+
 describe('emit: what is written and what is certified', () => {
   it('says that NAME.tree.json is written and explains the leaf size', async () => {
     const r = await run(['emit', T, '-o', join(dir, 'c-tree')]);
@@ -147,7 +168,7 @@ describe('emit: what is written and what is certified', () => {
     expect(r.stdout).not.toMatch(/use the double build/);
     expect(JSON.parse(readFileSync(rep, 'utf8')).certificate.precision).toBe('double');
     const h = await run(['emit', '--help']);
-    expect(h.stdout.replace(/\s+/g, ' ')).toContain('default: 0.00001 × the widest finite input range (max over inputs of upper − lower limit), or 0.00001 when no input has both limits');
+    expect(h.stdout.replace(/\s+/g, ' ')).toContain('default for float/double: 0.00001 × the widest finite input range (max over inputs of upper − lower limit), or 0.00001 when no input has both limits');
   });
 });
 
@@ -215,12 +236,13 @@ describe('one vocabulary across commands', () => {
       run(['map', T, '-o', join(dir, 'q.svg'), '-q']),
       run(['gaps', T, '-q', '--samples', '500']),
       run(['view', T, '-o', join(dir, 'q.html'), '-q']),
+      run(['simulate', T, '--x0', '0.5,0', '--steps', '5', '-q']),
     ]);
     runs.forEach((r) => {
       expect(r.status).toBe(0);
       expect(r.stderr).toBe('');
     });
-    expect(runs.map((r) => r.stdout)).toEqual(['', expect.stringMatching(/^omega,current,region,volt\n0\.1,0\.2,\d+,-?[\d.e-]+\n$/), '', '', '', '']);
+    expect(runs.map((r) => r.stdout)).toEqual(['', expect.stringMatching(/^omega,current,region,volt\n0\.1,0\.2,\d+,-?[\d.e-]+\n$/), '', '', '', '', '']);
   });
   it('gaps takes the problem file as --problem, like map and view (the argument still works)', async () => {
     const [a, b] = await Promise.all([run(['gaps', T, '--problem', P, '--samples', '500']), run(['gaps', T, P, '--samples', '500'])]);

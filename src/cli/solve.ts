@@ -2,7 +2,8 @@ import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import { loadProblem } from '../problem/index.js';
-import { buildMpqp } from '../mpqp/condition.js';
+import { formulate } from '../formulation/index.js';
+import type { Layout } from '../formulation/layout.js';
 import { infeasibleCore } from '../mpqp/infeasible.js';
 import { mergedRowLabel } from '../mpqp/labels.js';
 import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
@@ -75,7 +76,8 @@ export function register(program: Command): void {
       const out = opts.output ?? defaultTablePath(problemPath);
       const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: 'a JSON table' });
       const loaded = loadProblem(problemPath);
-      const mpqp = buildMpqp(loaded.model);
+      const formulation = formulate(loaded);
+      const { mpqp } = formulation;
       const core = infeasibleCore(mpqp);
       if (core) {
         const limits = core.rows.map((i) => mpqp.labels[i]);
@@ -102,14 +104,14 @@ export function register(program: Command): void {
         process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped${where} (${seconds.toFixed(1)} s); no table was written${opts.output ? ` to ${out}` : ''}\n`);
         process.exit(EXIT.interrupted);
       }
-      const table = makeTable(loaded, mpqp, partition);
+      const table = makeTable(loaded, formulation, partition);
       writeTableFile(out, table);
       if (opts.quiet) return;
       if (created) createdNote(created);
       const s = partition.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
-        `  θ = [${table.thetaNames.join(', ')}], u = [${table.inputNames.join(', ')}], ${mpqp.nz} free moves, ${mpqp.nc} constraint rows`,
+        `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
@@ -118,4 +120,13 @@ export function register(program: Command): void {
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');
     });
+}
+
+/** "8 free moves, 2 state slacks" — the z blocks and the features, in words. */
+function layoutSummary(layout: Layout): string {
+  const words: Record<string, string> = { moves: 'free moves', stateSlack: 'state slacks', outputSlack: 'output slacks', decision: 'decision variables' };
+  const parts = layout.z.map((b) => `${b.size} ${words[b.kind]}`);
+  parts.unshift(layout.formulation);
+  if (layout.terminalSet) parts.push(`terminal set ${layout.terminalSet.rows} rows (determination index ${layout.terminalSet.index})`);
+  return parts.join(', ');
 }

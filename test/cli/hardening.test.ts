@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { parseProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { buildMpqp } from '../../src/formulation/index.js';
 import { mergedRowLabel } from '../../src/mpqp/labels.js';
 import { writeProbeReason } from '../../src/io/output.js';
 import { qpReference } from '../helpers/reference.js';
@@ -69,7 +69,7 @@ describe('evaluate: the header names the columns (contract, `tessera evaluate`)'
     const out = JSON.parse(r.stdout) as { points: { theta: number[]; u: number[] }[] };
     expect(out.points.map((p) => p.theta)).toEqual([[-1.2, 0.3], [2, -0.5]]);
     // u(0) at θ = (omega, current) from quadprog on the same mpQP
-    const mpqp = buildMpqp(parseProblem(motorProblem(), 'motor.json').model);
+    const mpqp = buildMpqp(parseProblem(motorProblem(), 'motor.json'));
     out.points.forEach((p) => {
       const ref = qpReference(mpqp, p.theta);
       expect(ref.feasible).toBe(true);

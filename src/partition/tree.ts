@@ -58,8 +58,45 @@ export interface TreeOptions {
   duplicationWeight?: number;
   /** subset count above which a region's sides are decided by LP instead of its vertices (default VERTEX_BUDGET) */
   vertexBudget?: number;
+  /**
+   * side overlap: a region goes to each side of a·θ ≤ b that it reaches within `margin` (a region
+   * touching the plane goes to both). Set it to the float rounding bound of the node test (see
+   * planeMargin) to make the descent safe in float; unset keeps the original rule (tol.radius)
+   */
+  margin?: number;
+  /** also stop splitting when the rows of a node's regions sum to at most this (depth-capped tree with short sequential leaves) */
+  leafRows?: number;
+  /** give up (throw TreeTooLargeError) once the tree has more than this many nodes */
+  maxNodes?: number;
   tableHash?: string;
   onProgress?: (p: { nodes: number; leaves: number; elapsedSeconds: number }) => void;
+}
+
+/** Thrown when a tree outgrows TreeOptions.maxNodes (the caller then picks another structure). */
+export class TreeTooLargeError extends Error {
+  constructor(public readonly maxNodes: number) {
+    super(`search tree exceeds ${maxNodes} nodes`);
+  }
+}
+
+/**
+ * Side overlap that makes a hyperplane descent safe in float: twice the rounding bound of
+ * fl(a·θ) ≤ fl(b) against a·θ ≤ b with a, b and θ rounded to float, summed from the first product
+ * ((nθ + 2)·u·‖a‖₁·|θ|max + u·|b|, u = 2⁻²⁴; DEVELOPERS.md, "Point location in float"), over the
+ * largest plane of the partition, plus tol.radius.
+ */
+export function planeMargin(regions: Pick<CriticalRegion, 'A' | 'b'>[], box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
+  const u = 2 ** -24;
+  let m = 0;
+  for (let j = 0; j < box.lower.length; j++) m = Math.max(m, Math.abs(box.lower[j]), Math.abs(box.upper[j]));
+  const n = box.lower.length;
+  let worst = 0;
+  for (const r of regions)
+    r.A.forEach((row, i) => {
+      const l1 = row.reduce((s, v) => s + Math.abs(v), 0);
+      worst = Math.max(worst, (n + 2) * u * l1 * m + u * Math.abs(r.b[i]));
+    });
+  return 2 * worst + tol.radius;
 }
 
 type RegionLike = Pick<CriticalRegion, 'A' | 'b'> & Partial<Pick<CriticalRegion, 'facets'>>;
@@ -72,8 +109,14 @@ function classify(
   a: number[],
   b: number,
   openBoundary: boolean,
+  margin: number | undefined,
 ): { left: boolean; right: boolean } {
   const [lo, hi] = linearRange(h, n, a, vertices);
+  if (margin !== undefined) {
+    const l = lo < b + margin;
+    const r = hi > b - margin;
+    return l || r ? { left: l, right: r } : { left: true, right: true };
+  }
   let left = lo < b - tol.radius;
   let right = hi > b + tol.radius;
   // A facet on the outer boundary of the partition: θ just outside it (within tol.inside) is
@@ -127,7 +170,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     const key = ri * H + k;
     let c = sideCache[key];
     if (c === 0) {
-      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k));
+      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k), options.margin);
       c = (s.left ? 1 : 0) | (s.right ? 2 : 0);
       sideCache[key] = c;
     }
@@ -178,7 +221,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       lastProgress = Date.now();
       options.onProgress({ nodes: tree.nodeHyperplane.length, leaves: tree.leafStart.length - 1, elapsedSeconds: (Date.now() - t0) / 1000 });
     }
-    if (set.length <= leafSize || depth >= maxDepth) {
+    if (set.length <= leafSize || depth >= maxDepth || (options.leafRows !== undefined && set.reduce((s, ri) => s + regions[ri].A.length, 0) <= options.leafRows)) {
       task.store(makeLeaf(set, depth));
       continue;
     }
@@ -223,6 +266,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       tree.hyperplanes.b.push(hpB[best]);
     }
     const node = tree.nodeHyperplane.length;
+    if (options.maxNodes !== undefined && node >= options.maxNodes) throw new TreeTooLargeError(options.maxNodes);
     tree.nodeHyperplane.push(hi);
     tree.nodeLeft.push(0);
     tree.nodeRight.push(0);

@@ -18,7 +18,7 @@ import { locateSequential } from '../../src/table/table.js';
 import { emitC, treeForTable } from '../../src/emit/index.js';
 import { locateTree } from '../../src/partition/tree.js';
 import { sampleBox } from '../../src/emit/sample.js';
-import { formatReal } from '../../src/emit/c.js';
+import { formatReal } from '../../src/emit/targets/c.js';
 import type { MpqpProblem } from '../../src/mpqp/types.js';
 
 const require = createRequire(import.meta.url);

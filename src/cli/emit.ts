@@ -4,7 +4,7 @@ import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTableFile, tableToJson } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
-import { emit, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import { emit, type SearchChoice, readTreeFile, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
 import { buildArrays, type EmitArrays } from '../emit/arrays.js';
 import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
 import type { TargetCost } from '../emit/targets/target.js';
@@ -35,7 +35,7 @@ function positive(flag: string, integer: boolean) {
 interface EmitCliOptions {
   lang: string;
   precision: string;
-  search: 'tree' | 'sequential';
+  search: SearchChoice;
   prefix: string;
   output: string;
   merge?: boolean;
@@ -77,7 +77,12 @@ export function register(program: Command): void {
     .argument('<table>', 'table file written by tessera solve')
     .option('--lang <lang>', `target language: ${TARGETS.map((t) => `${t.lang} (${t.precisions.join('/')}: ${t.summary})`).join('; ')}`, choice('--lang', LANGS), 'c')
     .option('--precision <p>', `arithmetic of the generated code: ${PRECISIONS.join(', ')}`, choice('--precision', PRECISIONS), 'float')
-    .option('--search <s>', 'point location: tree (binary search tree) or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
+    .option(
+      '--search <s>',
+      'point location: auto (the cost model picks; default), tree (hyperplane tree, one region per leaf), capped (depth-capped hyperplane tree with short leaves), boxtree (bounding-box tree) or sequential',
+      choice('--search', ['auto', 'tree', 'capped', 'boxtree', 'sequential'] as const),
+      'auto',
+    )
     .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')
     .requiredOption('-o, --output <dir>', 'directory for the generated files')
     .option('--merge', 'merge regions with the same law whose union is convex before emitting')
@@ -138,12 +143,13 @@ export function register(program: Command): void {
             });
         if (shown) process.stderr.write('\r\x1b[K');
       }
+      if (o.tree && o.search !== 'tree') throw new InputError(CLI, '--tree', 'a tree side file needs --search tree');
       const res: EmitResult<unknown> = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
       for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
-      if (res.tree && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
+      if (res.tree && res.search === 'tree' && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
       let cert: Certificate | null = null;
       if (o.certify) {
-        const floatBuild = o.precision === 'float' && o.lang === 'c' ? (res.arrays as EmitArrays) : buildArrays(table, 'float', o.search, res.tree);
+        const floatBuild = o.precision === 'float' && o.lang === 'c' ? (res.arrays as EmitArrays) : buildArrays(table, 'float', res.search, res.locator);
         cert = certifyFloat(table, floatBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
       }
       const layout = target.layout(res.arrays);
@@ -163,9 +169,21 @@ export function register(program: Command): void {
         lang: o.lang,
         target: target.id,
         precision: o.precision,
-        search: o.search,
+        search: res.search,
+        searchRequested: o.search,
+        searchReason: res.searchReason,
+        candidates: res.candidates.map((k) => ({
+          search: k.search,
+          worstMultiplyAdds: k.cost?.worstMultiplyAdds ?? null,
+          worstComparisons: k.cost?.worstComparisons ?? null,
+          locationBytes: Number.isFinite(k.location) ? k.location : null,
+          regionBytes: k.regions,
+          floatSafe: k.floatSafe,
+          rejected: k.rejected,
+          buildSeconds: k.buildSeconds,
+        })),
         slack: (res.arrays as { slack: number }).slack,
-        tree: res.tree ? res.tree.stats : null,
+        tree: res.locator ? res.locator.stats : null,
         cost: res.cost,
         certificate: cert,
       };
@@ -175,11 +193,12 @@ export function register(program: Command): void {
 
       const c = res.cost;
       const lines = [
-        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${o.search} search)`,
+        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${res.search} search${o.search === 'auto' ? ', chosen by the cost model' : ''})`,
         `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
-        o.search === 'tree'
-          ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, at most ${res.tree!.stats.maxLeafSize} regions per leaf`
+        res.locator
+          ? `  ${res.search}: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.locator.stats.nodes} nodes, ${res.locator.stats.leaves} leaves, at most ${res.locator.stats.maxLeafSize} regions per leaf`
           : '  sequential search over every region',
+        ...(o.search === 'auto' ? res.searchReason.slice(1).map((l) => `    ${l}`) : []),
         `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons`,
         `  memory: ${bytesLine(c)}`,
         ...arrayLines(c),

@@ -7,16 +7,62 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { leafDepths, type SearchTree } from '../partition/tree.js';
+import type { BoxTree } from '../partition/boxtree.js';
 
 export type Precision = 'float' | 'double';
-export type SearchKind = 'tree' | 'sequential';
+/**
+ * Point-location structures: `tree` the hyperplane search tree (one region per leaf), `capped` a
+ * hyperplane tree with a depth cap, short sequential leaves and float-safe side overlap, `boxtree`
+ * an axis-aligned bounding-box tree, `sequential` every region in turn.
+ */
+export type SearchKind = 'tree' | 'capped' | 'boxtree' | 'sequential';
+export const SEARCH_KINDS: readonly SearchKind[] = ['tree', 'capped', 'boxtree', 'sequential'];
+/** A built locator: a hyperplane tree (tree, capped) or a box tree. */
+export type Locator = SearchTree | BoxTree;
+
+/** True for the structures whose descent compares a·θ with b (node_plane arrays). */
+export function planeSearch(search: SearchKind): boolean {
+  return search === 'tree' || search === 'capped';
+}
+
+/** Unit roundoff of IEEE single precision, 2⁻²⁴ (a machine constant, not a tolerance). */
+export const FLOAT_U = 2 ** -24;
 
 /**
- * The region test in float cannot resolve tol.inside (1e-8 is below single-precision resolution of
- * θ of order 1), so the float build widens it to this many units in the last place of the data scale.
+ * Proven rounding bound of one float region test, fl(Σ fl(â_j θ̂_j)) ≤ fl(b + s), against the exact
+ * a·θ ≤ b + s, with a, θ and b + s rounded to float and the sum taken from the first product:
+ * (nθ + 2)·u·Σ_j |a_j|·M_j + u·|b|, M_j = max |θ_j| over the box (DEVELOPERS.md, "Point location in
+ * float"; Higham, Accuracy and Stability of Numerical Algorithms, §3.1, γ_n bound — from memory).
  */
-export const FLOAT_SLACK_ULPS = 4;
-const FLOAT_EPS = 2 ** -23; // machine constant of IEEE single precision, not a tolerance
+export function floatRowError(a: ArrayLike<number>, b: number, thetaMax: ArrayLike<number>): number {
+  let s = 0;
+  for (let j = 0; j < a.length; j++) s += Math.abs(a[j]) * thetaMax[j];
+  return ((a.length + 2) * s + Math.abs(b)) * FLOAT_U;
+}
+
+/** max |θ_j| over the box, per coordinate. */
+export function boxAbsMax(box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number[] {
+  return Array.from(box.lower, (l, j) => Math.max(Math.abs(l), Math.abs(box.upper[j])));
+}
+
+/**
+ * Slack of one region row: tol.inside in double; in float tol.inside plus the row's proven rounding
+ * bound, with 1 % to spare for the second-order terms (so that every θ inside a region in double,
+ * within tol.inside, passes the float test: no point is lost). It is also the overlap of
+ * neighbouring regions in float, and bounds the law error a relocated point can carry (see certify).
+ */
+export function rowSlack(a: ArrayLike<number>, b: number, thetaMax: ArrayLike<number>, precision: Precision): number {
+  if (precision === 'double') return tol.inside;
+  return 1.01 * (tol.inside + floatRowError(a, b, thetaMax));
+}
+
+/** Largest row slack of a build (tol.inside in double). */
+export function regionSlack(table: TableFile, precision: Precision): number {
+  const m = boxAbsMax(table.box);
+  let s: number = tol.inside;
+  for (const r of table.regions) r.A.forEach((row, i) => (s = Math.max(s, rowSlack(row, r.b[i], m, precision))));
+  return s;
+}
 
 export interface EmitArrays {
   precision: Precision;
@@ -24,7 +70,7 @@ export interface EmitArrays {
   ntheta: number;
   nu: number;
   regionCount: number;
-  /** slack added to every region bound before rounding (regionB = round(b + slack)) */
+  /** largest slack added to a region bound before rounding (regionB = round(b + rowSlack), per row in float) */
   slack: number;
   /**
    * real arrays, every entry already rounded to `precision`. nodePlane holds each tree node's own
@@ -35,7 +81,17 @@ export interface EmitArrays {
   regionA: number[];
   regionB: number[];
   lawF: number[];
+  /**
+   * law offsets. When lawC is not empty the law is evaluated around each region's centre c (its
+   * Chebyshev centre, rounded): u = F(θ − c) + g', with lawG holding g' = g + F c (computed in
+   * double, then rounded), which removes the cancellation of large F θ against g in float
+   */
   lawG: number[];
+  /** per region nθ centre coordinates (empty: plain law u = F θ + g) */
+  lawC: number[];
+  /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
+  nodeAxis: number[];
+  nodeSplit: number[];
   /** index arrays (tree ones empty for sequential search) */
   nodeLeft: number[];
   nodeRight: number[];
@@ -47,39 +103,40 @@ export interface EmitArrays {
   maxDepth: number;
 }
 
-/** Region-test slack of a build: tol.inside in double; in float, a few ulps of the largest |θ|·‖a‖₁ + |b|. */
-export function regionSlack(table: TableFile, precision: Precision): number {
-  if (precision === 'double') return tol.inside;
-  let thetaMax = 0;
-  for (let j = 0; j < table.dims.ntheta; j++) thetaMax = Math.max(thetaMax, Math.abs(table.box.lower[j]), Math.abs(table.box.upper[j]));
-  let scale = 0;
-  for (const r of table.regions)
-    r.A.forEach((row, i) => {
-      const l1 = row.reduce((s, v) => s + Math.abs(v), 0);
-      scale = Math.max(scale, l1 * thetaMax + Math.abs(r.b[i]));
-    });
-  return Math.max(tol.inside, FLOAT_SLACK_ULPS * FLOAT_EPS * (table.dims.ntheta + 1) * scale);
+/**
+ * Law form of a build: float builds evaluate each law around its region's centre (less
+ * cancellation), double builds keep u = F θ + g, bit for bit the table's own law.
+ */
+export function centredLaw(precision: Precision): boolean {
+  return precision === 'float';
 }
 
-export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null): EmitArrays {
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const n = table.dims.ntheta;
   if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
   const slack = regionSlack(table, precision);
+  const thetaMax = boxAbsMax(table.box);
   const regionA: number[] = [];
   const regionB: number[] = [];
   const regionRowStart = [0];
   const lawF: number[] = [];
   const lawG: number[] = [];
+  const lawC: number[] = [];
+  const centred = centredLaw(precision);
   for (const r of table.regions) {
     r.A.forEach((row, i) => {
       for (let j = 0; j < n; j++) regionA.push(round(row[j]));
-      regionB.push(round(r.b[i] + slack));
+      regionB.push(round(r.b[i] + rowSlack(row, r.b[i], thetaMax, precision)));
     });
     regionRowStart.push(regionB.length);
+    const c = r.chebyshev.center.map(round);
+    if (centred) lawC.push(...c);
     r.law.F.forEach((row, i) => {
       for (let j = 0; j < n; j++) lawF.push(round(row[j]));
-      lawG.push(round(r.law.g[i]));
+      let g = r.law.g[i];
+      if (centred) for (let j = 0; j < n; j++) g += row[j] * c[j];
+      lawG.push(round(g));
     });
   }
   const out: EmitArrays = {
@@ -94,6 +151,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     regionB,
     lawF,
     lawG,
+    lawC,
+    nodeAxis: [],
+    nodeSplit: [],
     nodeLeft: [],
     nodeRight: [],
     leafStart: [],
@@ -102,20 +162,27 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     root: -1,
     maxDepth: 0,
   };
-  if (search === 'tree') {
-    if (!tree) throw new Error('tree search needs a search tree');
-    if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
+  if (search === 'sequential') return out;
+  if (!tree) throw new Error(`${search} search needs a search tree`);
+  if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
+  if (search === 'boxtree') {
+    if (tree.format !== 'tessera-box-tree') throw new Error('box-tree search needs a box tree');
+    out.nodeAxis = [...tree.nodeAxis];
+    out.nodeSplit = tree.nodeSplit.map(round); // floats already: exact in both precisions
+    if (out.nodeSplit.some((v, k) => v !== tree.nodeSplit[k])) throw new Error('box-tree split values must be floats');
+  } else {
+    if (tree.format === 'tessera-box-tree') throw new Error(`${search} search needs a hyperplane tree`);
     for (const k of tree.nodeHyperplane) {
       for (let j = 0; j < n; j++) out.nodePlane.push(round(tree.hyperplanes.a[k][j]));
       out.nodePlane.push(round(tree.hyperplanes.b[k]));
     }
-    out.nodeLeft = [...tree.nodeLeft];
-    out.nodeRight = [...tree.nodeRight];
-    out.leafStart = [...tree.leafStart];
-    out.leafRegion = [...tree.leafRegions];
-    out.root = tree.root;
-    out.maxDepth = tree.stats.maxDepth;
   }
+  out.nodeLeft = [...tree.nodeLeft];
+  out.nodeRight = [...tree.nodeRight];
+  out.leafStart = [...tree.leafStart];
+  out.leafRegion = [...tree.leafRegions];
+  out.root = tree.root;
+  out.maxDepth = tree.stats.maxDepth;
   return out;
 }
 
@@ -148,7 +215,12 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     for (let i = 0; i < ar.nu; i++) {
       const row = r * ar.nu + i;
       let s = ar.lawG[row];
-      if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
+      if (ar.lawC.length > 0) {
+        // around the centre: d = θ − c first (one rounding), then F d
+        const c = r * n;
+        if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * Math.fround(theta[j] - ar.lawC[c + j])));
+        else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * (theta[j] - ar.lawC[c + j]);
+      } else if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
       else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * theta[j];
       u[i] = s;
     }
@@ -159,10 +231,13 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     return { region: -1, u: null };
   }
   let ref = ar.root;
-  for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
-    const at = ref * (n + 1);
-    ref = dot(ar.nodePlane, at) <= ar.nodePlane[at + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
-  }
+  if (ar.search === 'boxtree')
+    for (let d = 0; d < ar.maxDepth && ref >= 0; d++) ref = theta[ar.nodeAxis[ref]] <= ar.nodeSplit[ref] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
+  else
+    for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
+      const at = ref * (n + 1);
+      ref = dot(ar.nodePlane, at) <= ar.nodePlane[at + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
+    }
   if (ref >= 0) return { region: -1, u: null };
   const leaf = -ref - 1;
   for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) {
@@ -184,8 +259,10 @@ export interface CostFigures {
 }
 
 /**
- * Worst-case cost of one evaluation: descent to the deepest-costing leaf (nθ multiply-adds and one
- * comparison per node), then every candidate region's rows tested in full, then the law (nu·nθ).
+ * Worst-case cost of one evaluation, the maximum over every leaf of its path: the descent (per
+ * node nθ multiply-adds and one comparison for a hyperplane tree, one comparison and no
+ * multiplication for the box tree), then every candidate region's rows tested in full, then the
+ * law (nu·nθ multiply-adds; a centred law adds nθ subtractions per row, not counted as multiply-adds).
  */
 export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'>): CostFigures {
   const n = ar.ntheta;
@@ -205,7 +282,7 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
       let rr = 0;
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
-      worstMacs = Math.max(worstMacs, d * n + rr * n + lawMacs);
+      worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : d * n) + rr * n + lawMacs);
       worstCmp = Math.max(worstCmp, d + rr);
     });
   }

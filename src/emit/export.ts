@@ -3,7 +3,7 @@
  * carry the language-neutral layout (element kinds and value ranges), no target's types or rules.
  */
 import type { LayoutArray } from './layout.js';
-import { LAYOUT_TEXT } from './layout.js';
+import { LAYOUT_TEXT, LAYOUT_TEXT_BOXTREE, LAYOUT_TEXT_CENTRED } from './layout.js';
 
 export interface ExportMeta {
   precision: string;
@@ -29,7 +29,7 @@ export function arraysToJson(ar: ExportMeta, layout: LayoutArray[], extra: Recor
     maxDepth: ar.maxDepth,
     slack: ar.slack,
     ...extra,
-    layout: LAYOUT_TEXT,
+    layout: [LAYOUT_TEXT, ar.search === 'boxtree' ? LAYOUT_TEXT_BOXTREE : '', layout.some((a) => a.name === 'law_c') ? LAYOUT_TEXT_CENTRED : ''].filter(Boolean).join('; '),
   };
   return JSON.stringify({ ...meta, arrays }) + '\n';
 }

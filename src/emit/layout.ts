@@ -55,7 +55,17 @@ export function layoutArray(name: string, kind: ElementKind, values: number[], f
  */
 export function layoutOf(ar: EmitArrays): LayoutArray[] {
   const out: LayoutArray[] = [];
-  if (ar.search === 'tree') {
+  if (ar.search === 'boxtree') {
+    out.push(
+      layoutArray('node_axis', 'u-index', ar.nodeAxis),
+      layoutArray('node_split', 'f-real', ar.nodeSplit),
+      layoutArray('node_left', 'i-index', ar.nodeLeft),
+      layoutArray('node_right', 'i-index', ar.nodeRight),
+      layoutArray('leaf_start', 'u-count', ar.leafStart),
+      layoutArray('leaf_region', 'u-index', ar.leafRegion),
+    );
+  }
+  if (ar.search === 'tree' || ar.search === 'capped') {
     out.push(
       layoutArray('node_plane', 'f-real', ar.nodePlane),
       layoutArray('node_left', 'i-index', ar.nodeLeft),
@@ -71,9 +81,13 @@ export function layoutOf(ar: EmitArrays): LayoutArray[] {
     layoutArray('law_f', 'f-real', ar.lawF),
     layoutArray('law_g', 'f-real', ar.lawG),
   );
+  if (ar.lawC.length > 0) out.push(layoutArray('law_c', 'f-real', ar.lawC));
   return out;
 }
 
 /** How the arrays fit together, in words (written into the JSON export). */
 export const LAYOUT_TEXT =
   'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ';
+/** Additions of the box tree and of the centred law (written after LAYOUT_TEXT when they apply). */
+export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
+export const LAYOUT_TEXT_CENTRED = 'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first';

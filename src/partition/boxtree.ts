@@ -20,6 +20,10 @@
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { linearRange, polytopeVertices, type HalfSpaces } from './tree-poly.js';
+import { LargestFirst, locatorBytes } from './budget.js';
+
+/** Float-layout bytes of one box-tree node: split (4), axis (2), two children (4 each, conservatively). */
+export const BOX_NODE_BYTES = 14;
 
 export const BOXTREE_FORMAT = 'tessera-box-tree';
 
@@ -49,6 +53,11 @@ export interface BoxTreeOptions {
   duplicationWeight?: number;
   /** overlap of the sides (default: boxMargin of the box) */
   margin?: number;
+  /**
+   * memory budget of the location arrays in bytes (float layout, see locatorBytes): nodes are split
+   * largest first and the rest become leaves once the next split would exceed it
+   */
+  maxBytes?: number;
 }
 
 /** Unit roundoff of IEEE single precision (2⁻²⁴): a machine constant, not a tolerance. */
@@ -115,10 +124,17 @@ export function buildBoxTree(regions: RegionLike[], ntheta: number, box: { lower
     depth: number;
     store: (ref: number) => void;
   }
-  const stack: Task[] = [{ set: regions.map((_, i) => i), depth: 0, store: (r) => (tree.root = r) }];
-  while (stack.length > 0) {
-    const { set, depth, store } = stack.pop()!;
-    const total = set.reduce((s, r) => s + rows[r], 0);
+  const budget = options.maxBytes ?? Infinity;
+  const queue = new LargestFirst<Task>();
+  const rowsOf = (set: number[]) => set.reduce((s, r) => s + rows[r], 0);
+  queue.push(0, { set: regions.map((_, i) => i), depth: 0, store: (r) => (tree.root = r) });
+  // bytes if every pending node became a leaf now
+  let copies = regions.length;
+  let pendingLeaves = 1;
+  while (queue.size > 0) {
+    const { set, depth, store } = queue.pop();
+    const total = rowsOf(set);
+    pendingLeaves--;
     if (total <= leafRows || set.length <= 1 || depth >= maxDepth) {
       store(makeLeaf(set, depth));
       continue;
@@ -173,16 +189,23 @@ export function buildBoxTree(regions: RegionLike[], ntheta: number, box: { lower
       continue;
     }
     const { axis, split } = best;
+    const leftSet = set.filter((r) => bounds[r][2 * axis] < split + margin);
+    const rightSet = set.filter((r) => bounds[r][2 * axis + 1] > split - margin);
+    const grown = copies + leftSet.length + rightSet.length - set.length;
+    if (locatorBytes(tree.nodeAxis.length + 1, BOX_NODE_BYTES, tree.leafStart.length - 1 + pendingLeaves + 2, grown, regions.length) > budget) {
+      store(makeLeaf(set, depth));
+      continue;
+    }
+    copies = grown;
+    pendingLeaves += 2;
     const node = tree.nodeAxis.length;
     tree.nodeAxis.push(axis);
     tree.nodeSplit.push(split);
     tree.nodeLeft.push(0);
     tree.nodeRight.push(0);
     store(node);
-    const leftSet = set.filter((r) => bounds[r][2 * axis] < split + margin);
-    const rightSet = set.filter((r) => bounds[r][2 * axis + 1] > split - margin);
-    stack.push({ set: rightSet, depth: depth + 1, store: (r) => (tree.nodeRight[node] = r) });
-    stack.push({ set: leftSet, depth: depth + 1, store: (r) => (tree.nodeLeft[node] = r) });
+    queue.push(rowsOf(leftSet), { set: leftSet, depth: depth + 1, store: (r) => (tree.nodeLeft[node] = r) });
+    queue.push(rowsOf(rightSet), { set: rightSet, depth: depth + 1, store: (r) => (tree.nodeRight[node] = r) });
   }
   tree.stats.nodes = tree.nodeAxis.length;
   tree.stats.leaves = tree.leafStart.length - 1;

@@ -10,6 +10,7 @@
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { hyperplaneKey, linearRange, polytopeVertices, polyLpCounter, type HalfSpaces } from './tree-poly.js';
+import { LargestFirst, locatorBytes } from './budget.js';
 
 export const TREE_FORMAT = 'tessera-search-tree';
 export const TREE_VERSION = 1;
@@ -68,6 +69,11 @@ export interface TreeOptions {
   leafRows?: number;
   /** give up (throw TreeTooLargeError) once the tree has more than this many nodes */
   maxNodes?: number;
+  /**
+   * memory budget of the location arrays in bytes (float layout, see locatorBytes): nodes are then
+   * split largest first and the rest become leaves once the next split would exceed it
+   */
+  maxBytes?: number;
   tableHash?: string;
   onProgress?: (p: { nodes: number; leaves: number; elapsedSeconds: number }) => void;
 }
@@ -213,15 +219,24 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     path: Set<number>;
     store: (ref: number) => void;
   }
-  const stack: Task[] = [{ set: regions.map((_, i) => i), depth: 0, path: new Set(), store: (r) => (tree.root = r) }];
-  while (stack.length > 0) {
-    const task = stack.pop()!;
+  // depth first (the original layout), or largest first under a memory budget
+  const budget = options.maxBytes;
+  const rowsOf = (set: number[]) => set.reduce((s, ri) => s + regions[ri].A.length, 0);
+  const queue = new LargestFirst<Task>();
+  const stack: Task[] = [];
+  const push = (t: Task) => (budget === undefined ? stack.push(t) : queue.push(rowsOf(t.set), t));
+  const pending = () => (budget === undefined ? stack.length : queue.size);
+  push({ set: regions.map((_, i) => i), depth: 0, path: new Set(), store: (r) => (tree.root = r) });
+  let copies = regions.length;
+  const nodeBytes = (n + 1) * 4 + 8;
+  while (pending() > 0) {
+    const task = budget === undefined ? stack.pop()! : queue.pop();
     const { set, depth, path } = task;
     if (options.onProgress && Date.now() - lastProgress > 100) {
       lastProgress = Date.now();
       options.onProgress({ nodes: tree.nodeHyperplane.length, leaves: tree.leafStart.length - 1, elapsedSeconds: (Date.now() - t0) / 1000 });
     }
-    if (set.length <= leafSize || depth >= maxDepth || (options.leafRows !== undefined && set.reduce((s, ri) => s + regions[ri].A.length, 0) <= options.leafRows)) {
+    if (set.length <= leafSize || depth >= maxDepth || (options.leafRows !== undefined && rowsOf(set) <= options.leafRows)) {
       task.store(makeLeaf(set, depth));
       continue;
     }
@@ -258,6 +273,16 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       task.store(makeLeaf(set, depth));
       continue;
     }
+    const leftSet = set.filter((ri) => (side(ri, best) & 1) !== 0);
+    const rightSet = set.filter((ri) => (side(ri, best) & 2) !== 0);
+    if (budget !== undefined) {
+      const grown = copies + leftSet.length + rightSet.length - set.length;
+      if (locatorBytes(tree.nodeHyperplane.length + 1, nodeBytes, tree.leafStart.length - 1 + pending() + 2, grown, regions.length) > budget) {
+        task.store(makeLeaf(set, depth));
+        continue;
+      }
+      copies = grown;
+    }
     let hi = usedHp.get(best);
     if (hi === undefined) {
       hi = tree.hyperplanes.a.length;
@@ -271,12 +296,15 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     tree.nodeLeft.push(0);
     tree.nodeRight.push(0);
     task.store(node);
-    const leftSet = set.filter((ri) => (side(ri, best) & 1) !== 0);
-    const rightSet = set.filter((ri) => (side(ri, best) & 2) !== 0);
     const childPath = new Set(path).add(best);
     // push right first so the left subtree is numbered first (deterministic layout)
-    stack.push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
-    stack.push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+    if (budget === undefined) {
+      push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
+      push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+    } else {
+      push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+      push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
+    }
   }
   const leaves = tree.leafStart.length - 1;
   tree.stats.nodes = tree.nodeHyperplane.length;

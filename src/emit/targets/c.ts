@@ -55,7 +55,7 @@ export function cElementType(a: LayoutArray, layout: LayoutArray[], precision: P
 export function cArrays(ar: EmitArrays): CArray[] {
   const layout = layoutOf(ar);
   return layout
-    .filter((a) => !(ar.search === 'tree' && ar.nodeLeft.length === 0 && a.name.startsWith('node_')))
+    .filter((a) => !(ar.search !== 'sequential' && ar.nodeLeft.length === 0 && a.name.startsWith('node_')))
     .map((a) => ({ name: a.name, ctype: cElementType(a, layout, ar.precision, ar.root), values: a.values.length > 0 ? a.values : [0], real: a.kind === 'f-real' }));
 }
 
@@ -109,6 +109,12 @@ export function limitsText(t: TableFile): string[] {
   return out;
 }
 
+/** The header's account of the point-location structure: which one, and why (from the cost model). */
+function searchText(ar: EmitArrays, meta: EmitMeta): string {
+  const lines = meta.searchReason ? meta.searchReason : [`${ar.search} search, named on the command line.`];
+  return lines.map((l) => ` * ${commentText(l)}`).join('\n');
+}
+
 export function emitHeader(ar: EmitArrays, meta: EmitMeta): string {
   const P = meta.prefix;
   const real = ar.precision;
@@ -122,6 +128,9 @@ export function emitHeader(ar: EmitArrays, meta: EmitMeta): string {
  *
  * Parameter vector and outputs (order matters):
 ${limitsText(t).join('\n')}
+ *
+ * Point location:
+${searchText(ar, meta)}
  *
  * CAUTIONS - this code drives equipment that can hurt people:
  *  - Validate the controller in simulation and hardware-in-the-loop on the target before use.
@@ -195,7 +204,7 @@ static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
         uint32_t row = r * (uint32_t)${NU} + i;
         ${real} s = ${P}_law_g[row];
         for (j = 0u; j < ${NT}; ++j) {
-            s += ${P}_law_f[row * (uint32_t)${NT} + j] * theta[j];
+            ${ar.lawC.length > 0 ? `s += ${P}_law_f[row * (uint32_t)${NT} + j] * (theta[j] - ${P}_law_c[r * (uint32_t)${NT} + j]);` : `s += ${P}_law_f[row * (uint32_t)${NT} + j] * theta[j];`}
         }
         u[i] = s;
     }
@@ -224,14 +233,20 @@ static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
         ref = (s <= a[${NT}]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
     }
 `;
+  const boxDescent = `    /* descent: at most DEPTH coordinate tests, left when theta[axis] <= split (no multiplication) */
+    for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
+        ref = (theta[${P}_node_axis[ref]] <= ${P}_node_split[ref]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
+    }
+`;
+  const box = ar.search === 'boxtree';
   const evalTree = `#define ${P.toUpperCase()}_ROOT (${ar.root})
 #define ${P.toUpperCase()}_DEPTH ${ar.maxDepth}u
 
 int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     int32_t ref = ${P.toUpperCase()}_ROOT;
-    uint32_t ${ar.maxDepth > 0 ? 'd, j, ' : ''}k, leaf;
-${ar.maxDepth > 0 ? descent : ''}    if (ref >= 0) {
+    uint32_t ${ar.maxDepth > 0 ? (box ? 'd, ' : 'd, j, ') : ''}k, leaf;
+${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
         return -1;
     }
     leaf = (uint32_t)(-(ref + 1));
@@ -255,7 +270,7 @@ ${ar.maxDepth > 0 ? descent : ''}    if (ref >= 0) {
 
 ${blocks.join('\n')}
 ${inside}
-${ar.search === 'tree' ? evalTree : evalSeq}`;
+${ar.search === 'sequential' ? evalSeq : evalTree}`;
 }
 
 /**

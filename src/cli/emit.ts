@@ -208,6 +208,9 @@ export function register(program: Command): void {
           `  float certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_float - u_double| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
             `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in float`,
           `  ${cert.verdict}`,
+          `  a-priori float bounds: rounding theta ${cert.bounds.inputRounding.toPrecision(3)} (region ${cert.bounds.inputRoundingAt.region}, gain ${cert.bounds.inputRoundingAt.gain.toPrecision(4)}), region overlap ${cert.bounds.overlap.toPrecision(3)}` +
+            (cert.bounds.overlapAt ? ` (region ${cert.bounds.overlapAt.region} facet ${cert.bounds.overlapAt.facet} to ${cert.bounds.overlapAt.neighbour}, law jump ${cert.bounds.overlapAt.jump.toPrecision(4)} x 2 x slack ${cert.bounds.overlapAt.slack.toPrecision(3)})` : ''),
+          ...(cert.diagnosis ? [`  diagnosis: ${cert.diagnosis}`] : []),
         );
       }
       lines.push('  caution: validate in simulation and hardware-in-the-loop, keep an independent safety layer, and handle the -1 (no region) return.');

@@ -89,6 +89,14 @@ export interface EmitArrays {
   lawG: number[];
   /** per region nθ centre coordinates (empty: plain law u = F θ + g) */
   lawC: number[];
+  /**
+   * best-fit location (float builds): every candidate is tested in full and, among those that hold θ
+   * within their slack, the one with the smallest largest residual max_i (a_i·θ − b_i) wins, ties to
+   * the lowest index. A θ is then placed in the overlap's other region only when it lies within
+   * rounding of its own region's boundary, instead of whenever an earlier region's slack reaches it.
+   * Double builds keep first-fit (the lowest index), exactly sequential search.
+   */
+  bestFit: boolean;
   /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
   nodeAxis: number[];
   nodeSplit: number[];
@@ -152,6 +160,7 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     lawF,
     lawG,
     lawC,
+    bestFit: precision === 'float',
     nodeAxis: [],
     nodeSplit: [],
     nodeLeft: [],
@@ -210,6 +219,32 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
     return true;
   };
+  // best fit: largest residual a·θ − b of the region's rows (slack included), NaN when a row fails
+  const fit = (r: number): number => {
+    let worst = NaN;
+    for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
+      const d = f ? Math.fround(dot(ar.regionA, i * n) - ar.regionB[i]) : dot(ar.regionA, i * n) - ar.regionB[i];
+      if (!(d <= 0)) return NaN;
+      if (i === ar.regionRowStart[r] || d > worst) worst = d;
+    }
+    return worst;
+  };
+  const scan = (count: number, regionAt: (k: number) => number): ArrayEvaluation => {
+    if (!ar.bestFit) {
+      for (let k = 0; k < count; k++) if (inside(regionAt(k))) return { region: regionAt(k), u: law(regionAt(k)) };
+      return { region: -1, u: null };
+    }
+    let best = -1;
+    let bestRes = 0;
+    for (let k = 0; k < count; k++) {
+      const q = fit(regionAt(k));
+      if (q === q && (best < 0 || q < bestRes)) {
+        best = regionAt(k);
+        bestRes = q;
+      }
+    }
+    return best < 0 ? { region: -1, u: null } : { region: best, u: law(best) };
+  };
   const law = (r: number): number[] => {
     const u = new Array<number>(ar.nu);
     for (let i = 0; i < ar.nu; i++) {
@@ -226,10 +261,7 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
     return u;
   };
-  if (ar.search === 'sequential') {
-    for (let r = 0; r < ar.regionCount; r++) if (inside(r)) return { region: r, u: law(r) };
-    return { region: -1, u: null };
-  }
+  if (ar.search === 'sequential') return scan(ar.regionCount, (k) => k);
   let ref = ar.root;
   if (ar.search === 'boxtree')
     for (let d = 0; d < ar.maxDepth && ref >= 0; d++) ref = theta[ar.nodeAxis[ref]] <= ar.nodeSplit[ref] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
@@ -240,11 +272,7 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
   if (ref >= 0) return { region: -1, u: null };
   const leaf = -ref - 1;
-  for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) {
-    const r = ar.leafRegion[k];
-    if (inside(r)) return { region: r, u: law(r) };
-  }
-  return { region: -1, u: null };
+  return scan(ar.leafStart[leaf + 1] - ar.leafStart[leaf], (k) => ar.leafRegion[ar.leafStart[leaf] + k]);
 }
 
 /** Operation counts of one evaluation (language-neutral; each target adds its own memory report). */
@@ -264,7 +292,10 @@ export interface CostFigures {
  * multiplication for the box tree), then every candidate region's rows tested in full, then the
  * law (nu·nθ multiply-adds; a centred law adds nθ subtractions per row, not counted as multiply-adds).
  */
-export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'>): CostFigures {
+export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & Partial<Pick<EmitArrays, 'bestFit'>>): CostFigures {
+  // best fit: per row the test and the running maximum, per region the comparison with the best so far
+  const rowCmp = ar.bestFit ? 2 : 1;
+  const regionCmp = ar.bestFit ? 1 : 0;
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;
@@ -275,7 +306,7 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
     let all = 0;
     for (let r = 0; r < ar.regionCount; r++) all += rows(r);
     worstMacs = all * n + lawMacs;
-    worstCmp = all;
+    worstCmp = all * rowCmp + ar.regionCount * regionCmp;
   } else {
     const depths = leafDepths({ root: ar.root, nodeLeft: ar.nodeLeft, nodeRight: ar.nodeRight, leafStart: ar.leafStart });
     depths.forEach((d, leaf) => {
@@ -283,7 +314,7 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
       worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : d * n) + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, d + rr);
+      worstCmp = Math.max(worstCmp, d + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp);
     });
   }
   return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp };

@@ -153,7 +153,9 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
   let lost = 0;
   let gained = 0;
   let worstTheta: number[] | null = null;
-  for (const theta of [...sample, ...facet, ...extra]) {
+  // both builds see the same θ: the float a controller can receive (rounding a double θ to float is
+  // the sensor's/caller's quantisation, reported apart as bounds.inputRounding, not the build's error)
+  for (const theta of [...sample, ...facet, ...extra].map((p) => p.map(Math.fround))) {
     const rd = locateSequential(table.regions, theta);
     const ef = evaluateArrays(floatBuild, theta);
     if (rd < 0) {
@@ -179,7 +181,6 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
     }
   }
   const safe = lost === 0 && maxAbsDiff <= tolerance;
-  const bounds = floatBounds(table);
   let diagnosis: string | null = null;
   if (!safe && worstTheta) {
     const rd = locateSequential(table.regions, worstTheta);
@@ -224,9 +225,11 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
     diagnosis = parts.join('; ');
   }
   const total = sample.length + facet.length + extra.length;
+  const bounds = floatBounds(table);
   const verdict = safe
     ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the float build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in float` +
-      (gained > 0 ? ` (${gained} points just outside every region are located in float, within its slack ${floatBuild.slack.toPrecision(3)})` : '')
+      (gained > 0 ? ` (${gained} points just outside every region are located in float, within its slack ${floatBuild.slack.toPrecision(3)})` : '') +
+      `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}`
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
       [maxAbsDiff > tolerance ? `max |u_float - u_double| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in float` : '']
         .filter(Boolean)

@@ -15,7 +15,7 @@ import { evaluateArrays } from '../../src/emit/arrays.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { certifyFloat, facetPoints } from '../../src/check/certify.js';
 import type { TableFile } from '../../src/table/format.js';
-import { EXAMPLES, compile, exampleTable, run } from './helpers.js';
+import { TREE_EXAMPLES, compile, exampleTable, run } from './helpers.js';
 import { arrangementTable } from './synthetic.js';
 
 const N_POINTS = 10000;
@@ -90,6 +90,6 @@ export function checkTable(name: string, table: TableFile, precision: 'float' | 
 }
 
 export function checkAll(precision: 'float' | 'double'): void {
-  for (const ex of EXAMPLES) checkTable(`example ${ex}`, exampleTable(ex).table, precision);
+  for (const ex of TREE_EXAMPLES) checkTable(`example ${ex}`, exampleTable(ex).table, precision);
   checkTable('synthetic arrangement, 3-D θ, 2 inputs', arrangementTable({ lower: [-2, -1, -1], upper: [2, 1, 1], planes: 7, seed: 5, nu: 2 }), precision);
 }

@@ -5,7 +5,7 @@
  */
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
-import { boxAbsMax, evaluateArrays, FLOAT_U, rowSlack, type EmitArrays } from '../emit/arrays.js';
+import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
 /** Default accepted |u_float − u_double|: this fraction of the widest finite input range (or of 1). */
@@ -70,6 +70,7 @@ export function floatBounds(table: TableFile): FloatBounds {
   let overlapAt: FloatBounds['overlapAt'] = null;
   const byId = new Map<number, number>();
   table.regions.forEach((r, k) => byId.set(r.id, k));
+  const tests = regionTests(table, 'float');
   table.regions.forEach((r, k) => {
     r.law.F.forEach((row, i) => {
       let e = 0;
@@ -85,7 +86,7 @@ export function floatBounds(table: TableFile): FloatBounds {
       }
     });
     r.A.forEach((a, i) => {
-      const s = rowSlack(a, r.b[i], m, 'float');
+      const s = tests[k].slack[i];
       for (const id of r.facets?.[i]?.neighbours ?? []) {
         const nk = byId.get(id);
         if (nk === undefined) continue;
@@ -213,14 +214,13 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
       let jump = 0;
       R.law.F.forEach((row, q) => (jump = Math.max(jump, Math.sqrt(row.reduce((acc, v, j) => acc + (v - law.F[q][j]) ** 2, 0)))));
       parts.push(
-        `the float build located it in region ${rf}, ${worstViol.toExponential(2)} beyond its facet ${worstRow} (overlap slack ${rowSlack(R.A[worstRow], R.b[worstRow], m, 'float').toExponential(2)}); the laws of ${rf} and ${rd} differ by |δ| = ${jump.toPrecision(4)} across it`,
+        `the float build located it in region ${rf}, ${worstViol.toExponential(2)} beyond its facet ${worstRow} (overlap slack ${regionTests(table, 'float')[rf].slack[worstRow].toExponential(2)}); the laws of ${rf} and ${rd} differ by |δ| = ${jump.toPrecision(4)} across it`,
       );
     }
     parts.push(
-      quant > tolerance
-        ? 'what to change: no float build can meet this tolerance with this law (θ itself is not representable finely enough); use the double build, scale θ so that |θ|max·gain is smaller, raise the input weight to reduce the gain, or accept a tolerance above ' +
-            quant.toPrecision(2)
-        : 'what to change: use the double build, or merge/drop the thin region with the large law jump (a larger input weight reduces it), or accept a tolerance above ' + maxAbsDiff.toPrecision(2),
+      rf === rd
+        ? `the float evaluation of this law itself is off by ${maxAbsDiff.toPrecision(3)} (cancellation); what to change: use the double build, scale θ or raise the input weight to reduce the gain, or accept a tolerance above ${maxAbsDiff.toPrecision(2)}`
+        : `what to change: use the double build, merge or drop the thin region with the large law jump (a larger input weight reduces the jumps), or accept a tolerance above ${maxAbsDiff.toPrecision(2)}`,
     );
     diagnosis = parts.join('; ');
   }

@@ -7,7 +7,7 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { leafDepths, type SearchTree } from '../partition/tree.js';
-import type { BoxTree } from '../partition/boxtree.js';
+import { regionBounds, type BoxTree } from '../partition/boxtree.js';
 
 export type Precision = 'float' | 'double';
 /**
@@ -46,21 +46,34 @@ export function boxAbsMax(box: { lower: ArrayLike<number>; upper: ArrayLike<numb
 }
 
 /**
- * Slack of one region row: tol.inside in double; in float tol.inside plus the row's proven rounding
- * bound, with 1 % to spare for the second-order terms (so that every θ inside a region in double,
- * within tol.inside, passes the float test: no point is lost). It is also the overlap of
- * neighbouring regions in float, and bounds the law error a relocated point can carry (see certify).
+ * Region tests of a build, per region: the centre (float builds test a·(θ − c) ≤ b − a·c, c the
+ * rounded Chebyshev centre, the same centre as the law; double builds test a·θ ≤ b, c = 0), the
+ * bound b − a·c and every row's slack. In float the rounding bound then scales with the region's
+ * own extent W_j = max |θ_j − c_j| over it (bounding box, plus 10⁻⁶ of the box width) instead of
+ * |θ|max, so small regions — where the large gains live — overlap their neighbours by far less:
+ * e = (nθ + 3)·u·Σ_j |a_j|·W_j + u·|b − a·c| (one more u·|a_j|W_j for the rounding of θ − c).
  */
-export function rowSlack(a: ArrayLike<number>, b: number, thetaMax: ArrayLike<number>, precision: Precision): number {
-  if (precision === 'double') return tol.inside;
-  return 1.01 * (tol.inside + floatRowError(a, b, thetaMax));
+export function regionTests(table: TableFile, precision: Precision): { centre: number[]; bound: number[]; slack: number[] }[] {
+  const n = table.dims.ntheta;
+  if (precision === 'double') return table.regions.map((r) => ({ centre: new Array<number>(n).fill(0), bound: [...r.b], slack: r.b.map(() => tol.inside) }));
+  return table.regions.map((r) => {
+    const c = r.chebyshev.center.map(Math.fround);
+    const box = regionBounds(r, n);
+    const w = c.map((cj, j) => Math.max(Math.abs(box[2 * j] - cj), Math.abs(box[2 * j + 1] - cj)) + 1e-6 * (table.box.upper[j] - table.box.lower[j]));
+    const bound = r.A.map((a, i) => r.b[i] - a.reduce((acc, v, j) => acc + v * c[j], 0));
+    const slack = r.A.map((a, i) => {
+      let aw = 0;
+      for (let j = 0; j < n; j++) aw += Math.abs(a[j]) * w[j];
+      return 1.01 * (tol.inside + floatRowError(a, bound[i], w) + FLOAT_U * aw);
+    });
+    return { centre: c, bound, slack };
+  });
 }
 
 /** Largest row slack of a build (tol.inside in double). */
 export function regionSlack(table: TableFile, precision: Precision): number {
-  const m = boxAbsMax(table.box);
   let s: number = tol.inside;
-  for (const r of table.regions) r.A.forEach((row, i) => (s = Math.max(s, rowSlack(row, r.b[i], m, precision))));
+  for (const t of regionTests(table, precision)) for (const v of t.slack) s = Math.max(s, v);
   return s;
 }
 
@@ -70,7 +83,7 @@ export interface EmitArrays {
   ntheta: number;
   nu: number;
   regionCount: number;
-  /** largest slack added to a region bound before rounding (regionB = round(b + rowSlack), per row in float) */
+  /** largest slack added to a region bound before rounding (regionB = round(b − a·c + slack), per row, see regionTests) */
   slack: number;
   /**
    * real arrays, every entry already rounded to `precision`. nodePlane holds each tree node's own
@@ -123,8 +136,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const n = table.dims.ntheta;
   if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
-  const slack = regionSlack(table, precision);
-  const thetaMax = boxAbsMax(table.box);
+  const tests = regionTests(table, precision);
+  let slack: number = tol.inside;
+  for (const t of tests) for (const v of t.slack) slack = Math.max(slack, v);
   const regionA: number[] = [];
   const regionB: number[] = [];
   const regionRowStart = [0];
@@ -132,10 +146,11 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
   const lawG: number[] = [];
   const lawC: number[] = [];
   const centred = centredLaw(precision);
-  for (const r of table.regions) {
+  table.regions.forEach((r, k) => {
+    const t = tests[k];
     r.A.forEach((row, i) => {
       for (let j = 0; j < n; j++) regionA.push(round(row[j]));
-      regionB.push(round(r.b[i] + rowSlack(row, r.b[i], thetaMax, precision)));
+      regionB.push(round(t.bound[i] + t.slack[i]));
     });
     regionRowStart.push(regionB.length);
     const c = r.chebyshev.center.map(round);
@@ -146,7 +161,8 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
       if (centred) for (let j = 0; j < n; j++) g += row[j] * c[j];
       lawG.push(round(g));
     });
-  }
+  });
+  if (centred !== (precision === 'float')) throw new Error('the centred region test and law go together (float builds)');
   const out: EmitArrays = {
     precision,
     search,
@@ -219,11 +235,16 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
     return true;
   };
-  // best fit: largest residual a·θ − b of the region's rows (slack included), NaN when a row fails
+  // best fit: largest residual a·(θ − c) − b of the region's rows (slack included), NaN when a row fails
+  const t = new Array<number>(n);
   const fit = (r: number): number => {
     let worst = NaN;
+    for (let j = 0; j < n; j++) t[j] = f ? Math.fround(theta[j] - ar.lawC[r * n + j]) : theta[j] - ar.lawC[r * n + j];
     for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
-      const d = f ? Math.fround(dot(ar.regionA, i * n) - ar.regionB[i]) : dot(ar.regionA, i * n) - ar.regionB[i];
+      let s = f ? Math.fround(ar.regionA[i * n] * t[0]) : ar.regionA[i * n] * t[0];
+      if (f) for (let j = 1; j < n; j++) s = Math.fround(s + Math.fround(ar.regionA[i * n + j] * t[j]));
+      else for (let j = 1; j < n; j++) s += ar.regionA[i * n + j] * t[j];
+      const d = f ? Math.fround(s - ar.regionB[i]) : s - ar.regionB[i];
       if (!(d <= 0)) return NaN;
       if (i === ar.regionRowStart[r] || d > worst) worst = d;
     }
@@ -231,7 +252,9 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
   };
   const scan = (count: number, regionAt: (k: number) => number): ArrayEvaluation => {
     if (!ar.bestFit) {
-      for (let k = 0; k < count; k++) if (inside(regionAt(k))) return { region: regionAt(k), u: law(regionAt(k)) };
+      // first fit (double builds; a float build forced to first fit, as the tests do, tests around the centre)
+      const holds = ar.lawC.length > 0 ? (r: number) => !Number.isNaN(fit(r)) : inside;
+      for (let k = 0; k < count; k++) if (holds(regionAt(k))) return { region: regionAt(k), u: law(regionAt(k)) };
       return { region: -1, u: null };
     }
     let best = -1;

@@ -44,7 +44,7 @@ function median(xs: number[]): number {
 }
 
 /** C timing harness: REPS passes over the points, prints the median ns per evaluation. */
-function benchMain(prefix: string, real: 'float' | 'double', points: number[][]): string {
+export function benchMain(prefix: string, real: 'float' | 'double', points: number[][]): string {
   const flat = points.flatMap((p) => p.map((v) => (real === 'float' ? Math.fround(v) : v)));
   const NT = `${prefix.toUpperCase()}_NT`;
   return `#include <stdio.h>
@@ -82,7 +82,7 @@ int main(void)
 }
 
 /** quadprog on the condensed QP at θ; D is copied per call because quadprog factorises it in place. */
-function makeQp(problem: MpqpProblem) {
+export function makeQp(problem: MpqpProblem) {
   const { nz, nc, ntheta: nt } = problem;
   const Amat: number[][] = [[]];
   for (let j = 0; j < nz; j++) {
@@ -132,9 +132,9 @@ export async function run(): Promise<void> {
 
   const dir = mkdtempSync(join(tmpdir(), 'tessera-bench-'));
   const cNs: Record<string, number> = {};
-  for (const search of ['tree', 'sequential'] as const)
+  for (const search of ['tree', 'capped', 'boxtree', 'sequential'] as const)
     for (const precision of ['float', 'double'] as const) {
-      const r = emitC(table, { precision, search, prefix: 'law', tree });
+      const r = emitC(table, { precision, search, prefix: 'law', tree: search === 'tree' ? tree : undefined });
       const sub = join(dir, `${search}-${precision}`);
       execFileSync('mkdir', ['-p', sub]);
       writeFileSync(join(sub, 'law.h'), r.header);
@@ -202,6 +202,9 @@ export async function run(): Promise<void> {
   }, qpPts, 5);
   out.push(`  online QP (quadprog, Node, nz = ${mpqp.nz}): ${(qpNs / 1000).toFixed(1)} µs/solve median of 5 passes over ${qpPts.length} of the same points`);
   for (const k of Object.keys(cNs)) out.push(`  ratio QP / C ${k}: ${(qpNs / cNs[k]).toFixed(0)}×`);
+  const auto = emitC(table, { precision: 'float', search: 'auto', prefix: 'law' });
+  const autoNs = cNs[`${auto.search}-float`];
+  out.push(`  cost model picks ${auto.search} (float): ${autoNs.toFixed(1)} ns median ${autoNs <= 50 ? '≤' : '>'} 50 ns target; fastest float structure ${Object.entries(cNs).filter(([k]) => k.endsWith('-float')).sort((a, b) => a[1] - b[1])[0][0]}`);
   const treeFloat = cNs['tree-float'];
   out.push(
     `  targets: tree (float) ${treeFloat.toFixed(1)} ns ${treeFloat <= 100 ? '≤' : '>'} 100 ns; ${(qpNs / treeFloat).toFixed(0)}× ${qpNs / treeFloat >= 500 ? '≥' : '<'} 500×; ` +

@@ -197,18 +197,23 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
     return 1;
 }
 
-`) + `${ar.bestFit ? `/* best fit: writes the largest residual a.theta - b of region r (slack included) and returns 1
+`) + `${ar.bestFit ? `/* best fit: writes the largest residual a.(theta - c) - b of region r (slack included) and returns 1
  * when every row holds, else returns 0 */
 static int ${P}_fit(uint32_t r, const ${real} theta[${NT}], ${real} *res)
 {
     uint32_t i, j;
     ${real} worst = (${real})0;
+    ${real} t[${NT}];
+    /* rows are tested around the region's centre: a.(theta - c) <= b - a.c + slack */
+    for (j = 0u; j < ${NT}; ++j) {
+        t[j] = theta[j] - ${P}_law_c[r * (uint32_t)${NT} + j];
+    }
     for (i = ${P}_region_row_start[r]; i < ${P}_region_row_start[r + 1u]; ++i) {
         const ${real} *a = &${P}_region_a[i * (uint32_t)${NT}];
-        ${real} s = a[0] * theta[0];
+        ${real} s = a[0] * t[0];
         ${real} d;
         for (j = 1u; j < ${NT}; ++j) {
-            s += a[j] * theta[j];
+            s += a[j] * t[j];
         }
         d = s - ${P}_region_b[i];
         if (!(d <= (${real})0)) { /* also rejects NaN */

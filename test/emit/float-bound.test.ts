@@ -30,8 +30,8 @@ describe('float overlap on u = k·|θ₀ − 1| + 0.37·θ₁', () => {
     expect(b.overlapAt!.jump).toBeCloseTo(2 * K, 12);
     expect(b.overlapAt!.slack).toBeCloseTo(slack, 18);
     expect(b.overlap).toBeCloseTo(2 * slack * 2 * K, 15);
-    // θ's own rounding: u·Σ|F|·|θ|max = u·k·2
-    expect(b.inputRounding).toBeCloseTo(U * K * 2, 18);
+    // θ's own rounding: u·Σ_j |F_j|·|θ_j|max = u·(k + 0.37)·2
+    expect(b.inputRounding).toBeCloseTo(U * (K + Y) * 2, 18);
   });
 
   for (const search of ['sequential', 'boxtree', 'capped'] as const)

@@ -141,12 +141,21 @@ export function facetPoints(table: TableFile): number[][] {
   return out;
 }
 
-export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
-  if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
-  const sample = sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1);
-  const facet = facetPoints(table);
-  const extra = options.extraPoints ?? [];
-  const tolerance = options.tolerance ?? defaultTolerance(table);
+/** What a build does at θ: the region it locates (−1 for none) and its u. */
+export type BuildEvaluator = (theta: number[]) => { region: number; u: number[] | null };
+
+export interface Comparison {
+  maxAbsDiff: number;
+  maxAbsDiffSameRegion: number;
+  relocated: number;
+  relocatedMaxLawDiff: number;
+  lost: number;
+  gained: number;
+  worstTheta: number[] | null;
+}
+
+/** A build against the table's double law on the given points (shared by the float and fixed-point certificates). */
+export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>): Comparison {
   let maxAbsDiff = 0;
   let maxSame = 0;
   let relocated = 0;
@@ -154,11 +163,9 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
   let lost = 0;
   let gained = 0;
   let worstTheta: number[] | null = null;
-  // both builds see the same θ: the float a controller can receive (rounding a double θ to float is
-  // the sensor's/caller's quantisation, reported apart as bounds.inputRounding, not the build's error)
-  for (const theta of [...sample, ...facet, ...extra].map((p) => p.map(Math.fround))) {
+  for (const theta of points) {
     const rd = locateSequential(table.regions, theta);
-    const ef = evaluateArrays(floatBuild, theta);
+    const ef = evaluate(theta);
     if (rd < 0) {
       if (ef.region >= 0) gained++;
       continue;
@@ -181,6 +188,22 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
       for (let i = 0; i < ud.length; i++) relocatedMaxLawDiff = Math.max(relocatedMaxLawDiff, Math.abs(uo[i] - ud[i]));
     }
   }
+  return { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta };
+}
+
+/** The certificate's point set: seeded uniform sample, facet points, extra points. */
+export function certificatePoints(table: TableFile, options: CertifyOptions): { sample: number[][]; facet: number[][]; extra: number[][] } {
+  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: facetPoints(table), extra: options.extraPoints ?? [] };
+}
+
+export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
+  if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
+  const { sample, facet, extra } = certificatePoints(table, options);
+  const tolerance = options.tolerance ?? defaultTolerance(table);
+  // both builds see the same θ: the float a controller can receive (rounding a double θ to float is
+  // the sensor's/caller's quantisation, reported apart as bounds.inputRounding, not the build's error)
+  const cmp = compareWithDouble(table, (t) => evaluateArrays(floatBuild, t), [...sample, ...facet, ...extra].map((p) => p.map(Math.fround)));
+  const { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta } = cmp;
   const safe = lost === 0 && maxAbsDiff <= tolerance;
   let diagnosis: string | null = null;
   if (!safe && worstTheta) {

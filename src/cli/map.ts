@@ -153,7 +153,7 @@ export function register(program: Command): void {
         const m = loaded.model;
         trajectories = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => {
           const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
-          return simulateClosedLoop(table, { A: m.A, B: m.B, hasRate: m.hasRate }, th0, o.steps);
+          return simulateClosedLoop(table, m, th0, o.steps);
         });
       }
       const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });

@@ -9,7 +9,7 @@ import type { TableFile } from '../table/format.js';
 import { buildSearchTree, planeMargin, TreeTooLargeError, type TreeOptions } from '../partition/tree.js';
 import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
 import { buildArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
-import type { EmitTarget, TargetCost } from './targets/target.js';
+import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
 
 /** Location arrays may take at most this fraction of the region data (half-spaces plus laws). */
 export const LOCATION_BUDGET = 0.5;
@@ -24,6 +24,8 @@ export interface LocatorOptions {
   /** budget in bytes for the location arrays (capped and box tree; the plain tree gives up beyond it) */
   maxBytes?: number;
   tableHash?: string;
+  /** passed to the target's build (fixed point: θ fraction bits) */
+  targetOptions?: TargetOptions;
 }
 
 /** Float-layout bytes of the region data (rows of A and b, law F and g and centre): the builders' budget basis. */
@@ -104,7 +106,7 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
       out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000 });
       continue;
     }
-    const build = target.build(table, precision, search, locator);
+    const build = target.build(table, precision, search, locator, options.targetOptions);
     const cost = target.cost(build);
     const { location, regions } = splitBytes(cost, precision);
     const floatSafe = search !== 'tree';

@@ -38,6 +38,10 @@ export interface EmitOptions<P extends string = Precision> {
   locatorOptions?: LocatorOptions;
   /** region count before a merge, noted in the header */
   mergedFrom?: number;
+  /** fixed point: θ fraction bits per component instead of the ones chosen from the box */
+  thetaFrac?: number[];
+  /** `auto` only: consider just these structures (default: every one the target prints) */
+  searches?: readonly SearchKind[];
 }
 
 export interface EmitResult<B = EmitArrays> {
@@ -75,25 +79,32 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
     throw new Error(`language "${lang}" has no precision "${opts.precision}" (${targetPrecisions(lang).join(', ')})`);
   }
   const hash = tableHash(table);
+  const supported = (target.searches ?? (['tree', 'sequential'] as const)).filter((k) => opts.search !== 'auto' || !opts.searches || opts.searches.includes(k));
   let search: SearchKind;
   let locator: Locator | null;
   let candidates: Candidate[] = [];
   let searchReason: string[];
   if (opts.search === 'auto') {
-    candidates = measureCandidates(table, target, opts.precision, SEARCH_KINDS, { ...opts.locatorOptions, tree: { ...opts.treeOptions, ...opts.locatorOptions?.tree }, tableHash: hash });
+    candidates = measureCandidates(table, target, opts.precision, SEARCH_KINDS.filter((k) => supported.includes(k)), {
+      ...opts.locatorOptions,
+      tree: { ...opts.treeOptions, ...opts.locatorOptions?.tree },
+      tableHash: hash,
+      targetOptions: { thetaFrac: opts.thetaFrac },
+    });
     const pick = pickCandidate(candidates);
     search = pick.chosen.search;
     locator = pick.chosen.locator;
     searchReason = pick.reason;
   } else {
     search = opts.search;
+    if (!supported.includes(search)) throw new Error(`the ${target.id} target prints ${supported.join(' and ')} search, not ${search}`);
     locator =
       search === 'tree'
         ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash }))
         : (opts.locator ?? buildLocator(table, search, { ...opts.locatorOptions, tableHash: hash }));
     searchReason = [`${search} search, named by the caller (--search ${search}).`];
   }
-  const arrays = target.build(table, opts.precision, search, locator);
+  const arrays = target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac });
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom, searchReason };
   const files = target.files(arrays, meta);
   const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';

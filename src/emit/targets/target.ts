@@ -27,6 +27,12 @@ export interface TargetCost extends CostFigures {
   bytes: Record<string, { arrays: ArrayBytes[]; total: number }>;
 }
 
+/** Target-specific build options (ignored by targets that have no use for them). */
+export interface TargetOptions {
+  /** fixed point: θ fraction bits per component, forced instead of chosen from the box */
+  thetaFrac?: number[];
+}
+
 export interface TargetFile {
   name: string;
   text: string;
@@ -44,7 +50,9 @@ export interface EmitTarget<B = unknown> {
   lang: string;
   precisions: readonly string[];
   summary: string;
-  build(table: TableFile, precision: string, search: SearchKind, tree: Locator | null): B;
+  /** the point-location structures this target can print (default: tree and sequential) */
+  searches?: readonly SearchKind[];
+  build(table: TableFile, precision: string, search: SearchKind, tree: Locator | null, options?: TargetOptions): B;
   evaluate(build: B, theta: ArrayLike<number>): ArrayEvaluation;
   layout(build: B): LayoutArray[];
   /** the generated files (e.g. NAME.h and NAME.c) */

@@ -62,19 +62,11 @@ export function layoutArray(name: string, kind: ElementKind, values: LayoutValue
  */
 export function layoutOf(ar: EmitArrays): LayoutArray[] {
   const out: LayoutArray[] = [];
-  if (ar.search === 'boxtree') {
+  if (ar.search !== 'sequential') {
+    // the descent: a box-tree node compares one coordinate, a hyperplane node a plane stored inline
+    if (ar.search === 'boxtree') out.push(layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit));
+    else out.push(layoutArray('node_plane', 'f-real', ar.nodePlane));
     out.push(
-      layoutArray('node_axis', 'u-index', ar.nodeAxis),
-      layoutArray('node_split', 'f-real', ar.nodeSplit),
-      layoutArray('node_left', 'i-index', ar.nodeLeft),
-      layoutArray('node_right', 'i-index', ar.nodeRight),
-      layoutArray('leaf_start', 'u-count', ar.leafStart),
-      layoutArray('leaf_region', 'u-index', ar.leafRegion),
-    );
-  }
-  if (ar.search === 'tree' || ar.search === 'capped') {
-    out.push(
-      layoutArray('node_plane', 'f-real', ar.nodePlane),
       layoutArray('node_left', 'i-index', ar.nodeLeft),
       layoutArray('node_right', 'i-index', ar.nodeRight),
       layoutArray('leaf_start', 'u-count', ar.leafStart),

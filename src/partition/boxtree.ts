@@ -21,6 +21,7 @@ import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { linearRange, polytopeVertices, type HalfSpaces } from './tree-poly.js';
 import { LargestFirst, locatorBytes } from './budget.js';
+import { firstHolding } from './tree.js';
 
 /** Float-layout bytes of one box-tree node: split (4), axis (2), two children (4 each, conservatively). */
 export const BOX_NODE_BYTES = 14;
@@ -224,16 +225,5 @@ export function locateBoxLeaf(tree: Pick<BoxTree, 'root' | 'nodeAxis' | 'nodeSpl
 /** Point location through the box tree: first region of θ's leaf holding θ within `slack`, or −1. */
 export function locateBoxTree(tree: BoxTree, theta: ArrayLike<number>, regions: RegionLike[], slack: number = tol.inside): number {
   const leaf = locateBoxLeaf(tree, theta);
-  const n = tree.ntheta;
-  for (let k = tree.leafStart[leaf]; k < tree.leafStart[leaf + 1]; k++) {
-    const r = regions[tree.leafRegions[k]];
-    let inside = true;
-    for (let i = 0; i < r.A.length && inside; i++) {
-      let s = 0;
-      for (let j = 0; j < n; j++) s += r.A[i][j] * theta[j];
-      if (!(s <= r.b[i] + slack)) inside = false; // NaN θ lies in no region
-    }
-    if (inside) return tree.leafRegions[k];
-  }
-  return -1;
+  return firstHolding(tree.leafRegions, tree.leafStart[leaf], tree.leafStart[leaf + 1], theta, regions, tree.ntheta, slack);
 }

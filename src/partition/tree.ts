@@ -350,16 +350,20 @@ export function locateLeaf(tree: SearchTree, theta: ArrayLike<number>): number {
  */
 export function locateTree(tree: SearchTree, theta: ArrayLike<number>, regions: Pick<CriticalRegion, 'A' | 'b'>[], slack: number = tol.inside): number {
   const leaf = locateLeaf(tree, theta);
-  const n = tree.ntheta;
-  for (let k = tree.leafStart[leaf]; k < tree.leafStart[leaf + 1]; k++) {
-    const r = regions[tree.leafRegions[k]];
+  return firstHolding(tree.leafRegions, tree.leafStart[leaf], tree.leafStart[leaf + 1], theta, regions, tree.ntheta, slack);
+}
+
+/** The first region of list[from, to) that holds θ within `slack` (a leaf's final check), or −1. */
+export function firstHolding(list: number[], from: number, to: number, theta: ArrayLike<number>, regions: Pick<CriticalRegion, 'A' | 'b'>[], n: number, slack: number): number {
+  for (let k = from; k < to; k++) {
+    const r = regions[list[k]];
     let inside = true;
     for (let i = 0; i < r.A.length && inside; i++) {
       let s = 0;
       for (let j = 0; j < n; j++) s += r.A[i][j] * theta[j];
       if (!(s <= r.b[i] + slack)) inside = false; // NaN θ lies in no region
     }
-    if (inside) return tree.leafRegions[k];
+    if (inside) return list[k];
   }
   return -1;
 }

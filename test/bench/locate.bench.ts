@@ -1,7 +1,6 @@
 /**
  * Point-location structures swept over θ dimension 2…6 on one problem family of our own (an
- * n-th order integrator chain with light damping, |u| ≤ 1 and every state within ±2; invented
- * numbers), every structure in float: bytes (gcc sizeof, the cost report), worst-case operations,
+ * n-th order integrator chain with light damping, |u| ≤ 1, θ in [−2, 2]ⁿ; invented numbers), every structure in float: bytes (gcc sizeof, the cost report), worst-case operations,
  * median ns per evaluation of the compiled C on 20 000 seeded points, the ratio to the online QP
  * (quadprog, Goldfarb–Idnani, in Node on the same condensed QP and the same points, in this
  * process) and the float certificate. Then the 4-D crane example compiled for Cortex-M4F:
@@ -27,8 +26,8 @@ import { benchMain, makeQp } from './emit.bench.js';
 
 const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
 /** horizon per θ dimension, chosen so that each table solves in about a minute or less */
-const HORIZON: Record<number, number> = { 2: 14, 3: 8, 4: 6, 5: 4, 6: 3 };
-const SOLVE_SECONDS = 150;
+const HORIZON: Record<number, number> = { 2: 20, 3: 12, 4: 8, 5: 6, 6: 5 };
+const SOLVE_SECONDS = 90;
 
 /** n-th order integrator chain sampled at h = 0.2 (exact discretisation of the chain, light damping on the diagonal). */
 export function chainProblem(n: number, horizon: number): unknown {
@@ -42,7 +41,9 @@ export function chainProblem(n: number, horizon: number): unknown {
     plant: { A, B, sampleTime: h },
     horizon,
     weights: { state: Q, input: [[0.1]], terminal: 'riccati' },
-    constraints: { input: { lower: [-1], upper: [1] }, state: { lower: new Array(n).fill(-2), upper: new Array(n).fill(2) } },
+    // input limits only: state limits on a chain make thin corner regions with gains in the thousands,
+    // which no float build evaluates within 1e-5 (the certificate then says which law and facet)
+    constraints: { input: { lower: [-1], upper: [1] } },
     parameters: { lower: new Array(n).fill(-2), upper: new Array(n).fill(2) },
   };
 }

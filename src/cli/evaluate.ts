@@ -1,5 +1,5 @@
 import type { Command } from 'commander';
-import { readTableFile, evaluateTable } from '../table/table.js';
+import { readTableFile, evaluateTable, applyAffine } from '../table/table.js';
 import { InputError, readTextInput } from '../io/errors.js';
 import type { TableFile } from '../table/format.js';
 
@@ -70,9 +70,20 @@ export function register(program: Command): void {
       if (!table.stats.complete)
         process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
       if (opts.json) {
+        // slack values: the z entries of the layout's slack blocks, from the region's stored moves
+        const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
         const out = points.map((p) => {
           const e = evaluateTable(table, p);
-          return { theta: p, region: e.region, u: e.u };
+          if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
+          // a merged region keeps one member's moves, exact on that member only: no slack values there
+          const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
+          const slacks: Record<string, number> | null = e.region < 0 || merged ? null : {};
+          if (slacks) {
+            const moves = table.regions[e.region].moves;
+            for (const b of slackBlocks)
+              b.names.forEach((nm, i) => (slacks[nm] = applyAffine({ F: [moves.F[b.offset + i]], g: [moves.g[b.offset + i]] }, p)[0]));
+          }
+          return { theta: p, region: e.region, u: e.u, slacks };
         });
         process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, points: out }) + '\n');
         return;

@@ -4,7 +4,7 @@ import { writeFileAtomic } from '../io/atomic.js';
 import { readTableFile, applyAffine, locateSequential } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { loadProblem, parseProblem } from '../problem/index.js';
-import { buildMpqp } from '../mpqp/condition.js';
+import { buildMpqp } from '../formulation/index.js';
 import { problemHash } from '../table/build.js';
 import type { MpqpProblem } from '../mpqp/types.js';
 import type { LoadedProblem } from '../problem/index.js';
@@ -18,7 +18,7 @@ const CLI = '(command line)';
 /** The problem behind a table: PROBLEM when given, else the table's own echo of it. */
 export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): { loaded: LoadedProblem; mpqp: MpqpProblem } {
   const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (key problem)`);
-  const mpqp = buildMpqp(loaded.model);
+  const mpqp = buildMpqp(loaded);
   if (problemFile && table.problemHash && problemHash(loaded.raw) !== table.problemHash)
     process.stderr.write(`tessera: warning: ${problemFile} is not the problem ${tableFile} was built from (hash differs); feasibility is judged by ${problemFile}\n`);
   if (mpqp.ntheta !== table.dims.ntheta)
@@ -92,6 +92,14 @@ export function positiveInt(flag: string) {
   };
 }
 
+export function nonNegativeInt(flag: string) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, flag, `expected a non-negative integer, got "${v}"`);
+    return x;
+  };
+}
+
 interface MapCliOptions {
   axes?: string;
   fix?: string;
@@ -151,6 +159,7 @@ export function register(program: Command): void {
       let trajectories: Trajectory[] | undefined;
       if (o.trajectories) {
         const m = loaded.model;
+        if (!m) throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
         trajectories = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => {
           const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
           return simulateClosedLoop(table, m, th0, o.steps);

@@ -1,11 +1,12 @@
 import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
 import { loadProblem } from '../problem/index.js';
-import { buildMpqp } from '../mpqp/condition.js';
+import { formulate } from '../formulation/index.js';
 import { solvePartition } from '../mpqp/solve.js';
 import { makeTable } from '../table/build.js';
 import { writeTableFile } from '../table/table.js';
 import { InputError } from '../io/errors.js';
+import type { Layout } from '../formulation/layout.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -36,7 +37,8 @@ export function register(program: Command): void {
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
       const out = opts.output ?? defaultTablePath(problemPath);
       const loaded = loadProblem(problemPath);
-      const mpqp = buildMpqp(loaded.model);
+      const formulation = formulate(loaded);
+      const { mpqp } = formulation;
       const live = process.stderr.isTTY && !opts.quiet;
       const t0 = performance.now();
       const partition = solvePartition(mpqp, {
@@ -52,13 +54,13 @@ export function register(program: Command): void {
       });
       const seconds = (performance.now() - t0) / 1000;
       if (live) process.stderr.write('\r\x1b[K');
-      const table = makeTable(loaded, mpqp, partition);
+      const table = makeTable(loaded, formulation, partition);
       writeTableFile(out, table);
       if (opts.quiet) return;
       const s = partition.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
-        `  θ = [${table.thetaNames.join(', ')}], u = [${table.inputNames.join(', ')}], ${mpqp.nz} free moves, ${mpqp.nc} constraint rows`,
+        `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
@@ -67,4 +69,13 @@ export function register(program: Command): void {
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');
     });
+}
+
+/** "8 free moves, 2 state slacks" — the z blocks and the features, in words. */
+function layoutSummary(layout: Layout): string {
+  const words: Record<string, string> = { moves: 'free moves', stateSlack: 'state slacks', outputSlack: 'output slacks', decision: 'decision variables' };
+  const parts = layout.z.map((b) => `${b.size} ${words[b.kind]}`);
+  parts.unshift(layout.formulation);
+  if (layout.terminalSet) parts.push(`terminal set ${layout.terminalSet.rows} rows (determination index ${layout.terminalSet.index})`);
+  return parts.join(', ');
 }

@@ -77,7 +77,34 @@ export function regionSlack(table: TableFile, precision: Precision): number {
   return s;
 }
 
-export interface EmitArrays {
+/** The search structure's index arrays, shared by every build (tree ones empty for sequential search). */
+export interface SearchIndex {
+  nodeLeft: number[];
+  nodeRight: number[];
+  leafStart: number[];
+  leafRegion: number[];
+  regionRowStart: number[];
+  root: number;
+  /** loop bound of the tree descent: the worst depth */
+  maxDepth: number;
+}
+
+/** The index arrays of a build: copied from the tree for tree search, empty (root −1, depth 0) otherwise. */
+export function searchIndex(search: SearchKind, tree: Locator | null, regionRowStart: number[]): SearchIndex {
+  if (search === 'sequential') return { nodeLeft: [], nodeRight: [], leafStart: [], leafRegion: [], regionRowStart, root: -1, maxDepth: 0 };
+  if (!tree) throw new Error(`${search} search needs a search tree`);
+  return {
+    nodeLeft: [...tree.nodeLeft],
+    nodeRight: [...tree.nodeRight],
+    leafStart: [...tree.leafStart],
+    leafRegion: [...tree.leafRegions],
+    regionRowStart,
+    root: tree.root,
+    maxDepth: tree.stats.maxDepth,
+  };
+}
+
+export interface EmitArrays extends SearchIndex {
   precision: Precision;
   search: SearchKind;
   ntheta: number;
@@ -113,15 +140,6 @@ export interface EmitArrays {
   /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
   nodeAxis: number[];
   nodeSplit: number[];
-  /** index arrays (tree ones empty for sequential search) */
-  nodeLeft: number[];
-  nodeRight: number[];
-  leafStart: number[];
-  leafRegion: number[];
-  regionRowStart: number[];
-  root: number;
-  /** loop bound of the tree descent: the worst depth */
-  maxDepth: number;
 }
 
 /**
@@ -179,16 +197,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     bestFit: precision === 'float',
     nodeAxis: [],
     nodeSplit: [],
-    nodeLeft: [],
-    nodeRight: [],
-    leafStart: [],
-    leafRegion: [],
-    regionRowStart,
-    root: -1,
-    maxDepth: 0,
+    ...searchIndex(search, tree, regionRowStart),
   };
-  if (search === 'sequential') return out;
-  if (!tree) throw new Error(`${search} search needs a search tree`);
+  if (search === 'sequential' || !tree) return out;
   if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
   if (search === 'boxtree') {
     if (tree.format !== 'tessera-box-tree') throw new Error('box-tree search needs a box tree');
@@ -202,12 +213,6 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
       out.nodePlane.push(round(tree.hyperplanes.b[k]));
     }
   }
-  out.nodeLeft = [...tree.nodeLeft];
-  out.nodeRight = [...tree.nodeRight];
-  out.leafStart = [...tree.leafStart];
-  out.leafRegion = [...tree.leafRegions];
-  out.root = tree.root;
-  out.maxDepth = tree.stats.maxDepth;
   return out;
 }
 

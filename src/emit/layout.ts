@@ -5,7 +5,7 @@
  * own element types and applies its own rules (C, for instance, has no empty arrays); the JSON/CSV
  * exports write this layout as it is.
  */
-import type { EmitArrays } from './arrays.js';
+import type { EmitArrays, SearchIndex, SearchKind } from './arrays.js';
 
 /**
  * - `f-real`: a real number (stored at the build's precision)
@@ -61,27 +61,29 @@ export function layoutArray(name: string, kind: ElementKind, values: LayoutValue
  * exists, a printer decides what its language can declare).
  */
 export function layoutOf(ar: EmitArrays): LayoutArray[] {
-  const out: LayoutArray[] = [];
-  if (ar.search !== 'sequential') {
-    // the descent: a box-tree node compares one coordinate, a hyperplane node a plane stored inline
-    if (ar.search === 'boxtree') out.push(layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit));
-    else out.push(layoutArray('node_plane', 'f-real', ar.nodePlane));
-    out.push(
-      layoutArray('node_left', 'i-index', ar.nodeLeft),
-      layoutArray('node_right', 'i-index', ar.nodeRight),
-      layoutArray('leaf_start', 'u-count', ar.leafStart),
-      layoutArray('leaf_region', 'u-index', ar.leafRegion),
-    );
-  }
-  out.push(
-    layoutArray('region_row_start', 'u-count', ar.regionRowStart),
-    layoutArray('region_a', 'f-real', ar.regionA),
-    layoutArray('region_b', 'f-real', ar.regionB),
-    layoutArray('law_f', 'f-real', ar.lawF),
-    layoutArray('law_g', 'f-real', ar.lawG),
-  );
-  if (ar.lawC.length > 0) out.push(layoutArray('law_c', 'f-real', ar.lawC));
-  return out;
+  // the descent: a box-tree node compares one coordinate, a hyperplane node a plane stored inline
+  const planes = ar.search === 'boxtree' ? [layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit)] : [layoutArray('node_plane', 'f-real', ar.nodePlane)];
+  const data = [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)];
+  if (ar.lawC.length > 0) data.push(layoutArray('law_c', 'f-real', ar.lawC));
+  return structureLayout(ar, planes, data);
+}
+
+/**
+ * Arrays in declaration order for any build: the search structure's node and index arrays (every
+ * search but sequential), the region row offsets, then the region and law data.
+ */
+export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes: LayoutArray[], data: LayoutArray[]): LayoutArray[] {
+  const tree =
+    ix.search !== 'sequential'
+      ? [
+          ...planes,
+          layoutArray('node_left', 'i-index', ix.nodeLeft),
+          layoutArray('node_right', 'i-index', ix.nodeRight),
+          layoutArray('leaf_start', 'u-count', ix.leafStart),
+          layoutArray('leaf_region', 'u-index', ix.leafRegion),
+        ]
+      : [];
+  return [...tree, layoutArray('region_row_start', 'u-count', ix.regionRowStart), ...data];
 }
 
 /** How the arrays fit together, in words (written into the JSON export). */

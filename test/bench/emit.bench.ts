@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { parseProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { formulate } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { makeTable } from '../../src/table/build.js';
 import { locateSequential } from '../../src/table/table.js';
@@ -124,8 +124,9 @@ export function makeQp(problem: MpqpProblem) {
 export async function run(): Promise<void> {
   const t0 = Date.now();
   const loaded = parseProblem(WINCH, 'winch-drum (bench)');
-  const mpqp = buildMpqp(loaded.model);
-  const table = makeTable(loaded, mpqp, solvePartition(mpqp, { timeLimit: 300 }));
+  const formulation = formulate(loaded);
+  const { mpqp } = formulation;
+  const table = makeTable(loaded, formulation, solvePartition(mpqp, { timeLimit: 300 }));
   const R = table.regions.length;
   const solveS = (Date.now() - t0) / 1000;
   const t1 = Date.now();

@@ -7,7 +7,7 @@ import { writeFileAtomic } from '../../src/io/atomic.js';
 import { tmpdir } from 'node:os';
 import { isAbsolute, join } from 'node:path';
 import { loadProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { formulate } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { makeTable } from '../../src/table/build.js';
 import type { TableFile } from '../../src/table/format.js';
@@ -53,14 +53,15 @@ export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProble
   if (!hit) {
     const path = isAbsolute(file) ? file : join(import.meta.dirname, '../../examples', file);
     const loaded = loadProblem(path);
-    const mpqp = buildMpqp(loaded.model);
+    const formulation = formulate(loaded);
+    const { mpqp } = formulation;
     const problemKey = createHash('sha256').update(path).update(readFileSync(path)).digest('hex').slice(0, 16);
     const stem = `tessera-emit-test-${problemKey}-`;
     const cached = join(tmpdir(), `${stem}${engineHash().slice(0, 16)}.table.json`);
     let table: TableFile;
     if (existsSync(cached)) table = JSON.parse(readFileSync(cached, 'utf8')) as TableFile;
     else {
-      table = makeTable(loaded, mpqp, solvePartition(mpqp, {}));
+      table = makeTable(loaded, formulation, solvePartition(mpqp, {}));
       // drop tables of this problem solved by an older engine
       for (const f of readdirSync(tmpdir())) if (f.startsWith(stem) && f.endsWith('.table.json')) rmSync(join(tmpdir(), f), { force: true });
       writeFileAtomic(cached, JSON.stringify(table));

@@ -1,7 +1,7 @@
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { formulate } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { makeTable } from '../../src/table/build.js';
 import { checkTable, tableToJson } from '../../src/table/table.js';
@@ -37,9 +37,10 @@ export function solved(file: string): Solved {
   const hit = cache.get(file);
   if (hit) return hit;
   const loaded = loadProblem(file);
-  const mpqp = buildMpqp(loaded.model);
+  const formulation = formulate(loaded);
+  const { mpqp } = formulation;
   const partition = solvePartition(mpqp);
-  const table = checkTable(JSON.parse(tableToJson(makeTable(loaded, mpqp, partition))), file);
+  const table = checkTable(JSON.parse(tableToJson(makeTable(loaded, formulation, partition))), file);
   const s = { loaded, mpqp, partition, table };
   cache.set(file, s);
   return s;

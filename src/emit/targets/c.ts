@@ -53,7 +53,7 @@ export function cElementType(a: LayoutArray, layout: LayoutArray[], precision: P
  * static const would not compile with -Werror).
  */
 export function cArrays(ar: EmitArrays): CArray[] {
-  return cDeclared(layoutOf(ar), ar.precision, ar.search === 'tree' && ar.nodeLeft.length === 0, ar.root);
+  return cDeclared(layoutOf(ar), ar.precision, ar.search !== 'sequential' && ar.nodeLeft.length === 0, ar.root);
 }
 
 /** The C rules on a layout: element types, one-leaf trees without node arrays, no empty arrays. */
@@ -110,13 +110,29 @@ export function arrayBlock(prefix: string, name: string, ctype: string, values: 
   return `static const ${ctype} ${prefix}_${name}[${values.length}] = {\n${lines.join(',\n')}\n};\n`;
 }
 
+const BLOCK_TEXT: Record<string, string> = {
+  state: 'measured (or estimated) state x(0)',
+  inputPrev: 'input applied at the previous step, u(-1)',
+  reference: 'reference r of the tracked outputs, held over the horizon',
+  disturbance: 'disturbance d, held constant over the horizon',
+  parameter: 'parameters of the mpQP',
+};
+
+/** θ documented block by block from the table's layout, then the law's entries. */
 export function limitsText(t: TableFile): string[] {
   const out: string[] = [];
-  t.thetaNames.forEach((nm, j) => out.push(` *   theta[${j}] = ${commentText(nm)}, box [${t.box.lower[j]}, ${t.box.upper[j]}]`));
+  const blocks = t.layout?.theta ?? [{ kind: 'parameter', offset: 0, size: t.thetaNames.length }];
+  for (const b of blocks) {
+    const span = b.size === 1 ? `theta[${b.offset}]` : `theta[${b.offset}..${b.offset + b.size - 1}]`;
+    out.push(` *   ${span}: ${BLOCK_TEXT[b.kind] ?? b.kind}`);
+    for (let j = b.offset; j < b.offset + b.size; j++) out.push(` *     theta[${j}] = ${commentText(t.thetaNames[j])}, box [${t.box.lower[j]}, ${t.box.upper[j]}]`);
+  }
+  const direct = t.layout?.formulation === 'mpqp';
+  if (direct) out.push(` *   u[0..${t.inputNames.length - 1}]: the first ${t.inputNames.length} entries of the mpQP decision vector z`);
   t.inputNames.forEach((nm, j) => {
     const lo = t.inputLimits?.lower?.[j];
     const hi = t.inputLimits?.upper?.[j];
-    out.push(` *   u[${j}] = ${commentText(nm)}, limits [${lo ?? '-inf'}, ${hi ?? '+inf'}]`);
+    out.push(` *   u[${j}] = ${commentText(nm)}${direct ? '' : `, limits [${lo ?? '-inf'}, ${hi ?? '+inf'}]`}`);
   });
   return out;
 }
@@ -351,8 +367,6 @@ ${ar.search === 'sequential' ? evalSeq : evalTree}`;
 export function emitSelfTest(ar: EmitArrays, prefix: string, points: number[][], expected: { region: number; u: number[] | null }[]): string {
   const P = prefix;
   const real = ar.precision;
-  const NT = `${P.toUpperCase()}_NT`;
-  const NU = `${P.toUpperCase()}_NU`;
   const pts = points.flatMap((p) => p.map((v) => (real === 'float' ? Math.fround(v) : v)));
   const expU = expected.flatMap((e) => (e.u ? e.u : new Array(ar.nu).fill(0)));
   const fmt = real === 'float' ? '%.9g' : '%.17g';
@@ -365,15 +379,26 @@ export function emitSelfTest(ar: EmitArrays, prefix: string, points: number[][],
 ${arrayBlock(P, 'test_theta', real, pts, real)}
 ${arrayBlock(P, 'test_region', 'int32_t', expected.map((e) => e.region), null)}
 ${arrayBlock(P, 'test_u', real, expU, real)}
-int main(void)
+${selfTestMain(P, real, '12345.0', fmt, 'double')}`;
+}
+
+/**
+ * The main() of every C self-test: evaluates NPOINTS points of P_test_theta, prints "i region u..."
+ * per point and the summary line, and counts mismatches against P_test_region/P_test_u (u must stay
+ * at the sentinel when no region is found). `uType` is the output element type.
+ */
+export function selfTestMain(P: string, uType: string, sentinel: string, printFormat: string, printCast: string): string {
+  const NT = `${P.toUpperCase()}_NT`;
+  const NU = `${P.toUpperCase()}_NU`;
+  return `int main(void)
 {
     uint32_t i, j;
     unsigned long mismatches = 0ul;
     for (i = 0u; i < NPOINTS; ++i) {
-        ${real} u[${NU}];
+        ${uType} u[${NU}];
         int r;
         for (j = 0u; j < ${NU}; ++j) {
-            u[j] = (${real})12345.0;
+            u[j] = (${uType})${sentinel};
         }
         r = ${P}_eval(&${P}_test_theta[i * (uint32_t)${NT}], u);
         printf("%lu %d", (unsigned long)i, r);
@@ -381,11 +406,11 @@ int main(void)
             ++mismatches;
         }
         for (j = 0u; j < ${NU}; ++j) {
-            printf(" ${fmt}", (double)u[j]);
+            printf(" ${printFormat}", (${printCast})u[j]);
             if (r >= 0 && u[j] != ${P}_test_u[i * (uint32_t)${NU} + j]) {
                 ++mismatches;
             }
-            if (r < 0 && u[j] != (${real})12345.0) {
+            if (r < 0 && u[j] != (${uType})${sentinel}) {
                 ++mismatches;
             }
         }

@@ -46,10 +46,10 @@ function checkLocators(name: string, get: () => TableFile): void {
           if (s >= 0) located++;
         }
         expect(located).toBeGreaterThan(2000);
-      });
+      }, 300000);
       it(`${kind}: the same region as sequential search just inside/outside every facet (${facet.length} points)`, () => {
         for (const p of facet) expect(locate(p)).toBe(locateSequential(table.regions, p));
-      });
+      }, 300000);
     }
     it('every region is found at its own Chebyshev centre by both trees', () => {
       table.regions.forEach((r, k) => {
@@ -61,7 +61,7 @@ function checkLocators(name: string, get: () => TableFile): void {
           expect(bx).toBe(k);
         }
       });
-    });
+    }, 300000);
   });
 }
 

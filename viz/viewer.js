@@ -89,6 +89,7 @@
     state.axes = [0, Math.min(1, t.dims.ntheta - 1)];
     state.fixed = t.box.lower.map(function (lo, k) { return (lo + t.box.upper[k]) / 2; });
     state.pick = null;
+    clearPointer();
     d3.select('#title').text(t.name);
     d3.select('#subtitle').text(t.regions.length + ' regions · θ = [' + t.thetaNames.join(', ') + '] · u = [' + t.inputNames.join(', ') + ']' +
       (t.stats && t.stats.complete === false ? ' · INCOMPLETE TABLE (' + t.stats.stopReason + ')' : ''));
@@ -265,6 +266,12 @@
     showReadout();
   });
 
+  /** The pointer panel describes a point of the old slice after a change of axes: clear it. */
+  function clearPointer() {
+    svg.selectAll('path.region').classed('hover', false);
+    d3.select('#info').attr('data-region', null).attr('data-gap', null).html('').text('hover a region for its id, active set and law');
+  }
+
   function changeAxis(a, v) {
     var other = state.axes[1 - a];
     if (v === other) state.axes[1 - a] = state.axes[a];
@@ -273,6 +280,7 @@
     d3.select('#axis-y').property('value', state.axes[1]);
     buildSliders();
     state.pick = null;
+    clearPointer();
     render();
   }
   d3.select('#axis-x').on('change', function () { changeAxis(0, +this.value); });

@@ -1,10 +1,12 @@
 /**
- * Single-precision certificate of a generated build: the float arithmetic of the emitted C
- * (reproduced exactly by evaluateArrays) against the double law of the table, on a dense seeded
- * sample of the box plus points just inside and just outside every facet of every region.
+ * Certificate of a generated build: the arithmetic of the emitted C (reproduced exactly by
+ * evaluateArrays: float or double) against the double law of the table, on a dense seeded sample of
+ * the box plus points just inside and just outside every facet of every region. `emit --certify`
+ * certifies the build it emits, in its own precision.
  */
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
+import { clampInputs } from '../table/clamp.js';
 import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
@@ -23,7 +25,7 @@ export interface CertifyOptions {
 }
 
 export interface Certificate {
-  precision: 'float';
+  precision: string;
   search: EmitArrays['search'];
   points: { sample: number; facet: number; extra: number; total: number };
   /** largest |u_float − u_double| (∞-norm) over points that both builds locate */
@@ -107,7 +109,10 @@ export function floatBounds(table: TableFile): FloatBounds {
   return { inputRounding, inputRoundingAt, overlap, overlapAt };
 }
 
-function defaultTolerance(table: TableFile): number {
+/** How the default tolerance is derived, for `--help` and the report. */
+export const CERTIFY_TOLERANCE_RULE = `${CERTIFY_DEFAULT_RELATIVE} × the widest finite input range (max over inputs of upper − lower limit), or ${CERTIFY_DEFAULT_RELATIVE} when no input has both limits`;
+
+export function defaultTolerance(table: TableFile): number {
   let w = 0;
   for (let i = 0; i < table.dims.nu; i++) {
     const lo = table.inputLimits?.lower?.[i];
@@ -154,8 +159,11 @@ export interface Comparison {
   worstTheta: number[] | null;
 }
 
-/** A build against the table's double law on the given points (shared by the float and fixed-point certificates). */
-export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>): Comparison {
+/**
+ * A build against the table's double law on the given points (shared by the float and fixed-point
+ * certificates). `reference` post-processes the double law (the clamp of a clamping build).
+ */
+export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>, reference: (u: number[]) => number[] = (u) => u): Comparison {
   let maxAbsDiff = 0;
   let maxSame = 0;
   let relocated = 0;
@@ -174,7 +182,7 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
       lost++;
       continue;
     }
-    const ud = applyAffine(table.regions[rd].law, theta);
+    const ud = reference(applyAffine(table.regions[rd].law, theta));
     let diff = 0;
     for (let i = 0; i < ud.length; i++) diff = Math.max(diff, Math.abs(ef.u![i] - ud[i]));
     if (diff > maxAbsDiff) {
@@ -184,7 +192,7 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
     if (ef.region === rd) maxSame = Math.max(maxSame, diff);
     else {
       relocated++;
-      const uo = applyAffine(table.regions[ef.region].law, theta);
+      const uo = reference(applyAffine(table.regions[ef.region].law, theta));
       for (let i = 0; i < ud.length; i++) relocatedMaxLawDiff = Math.max(relocatedMaxLawDiff, Math.abs(uo[i] - ud[i]));
     }
   }
@@ -198,17 +206,38 @@ export function certificatePoints(table: TableFile, options: CertifyOptions): { 
 
 export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
   if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
+  return certifyBuild(table, floatBuild, (t) => evaluateArrays(floatBuild, t), options);
+}
+
+/** What the certificate needs to know of a build besides its evaluator. */
+export interface CertifiedBuild {
+  precision: string;
+  search: EmitArrays['search'];
+  /** slack of its region tests */
+  slack: number;
+  /** input limits the build saturates to (`emit --clamp`), or null/absent */
+  clamp?: EmitArrays['clamp'];
+}
+
+/**
+ * Certify a float or double build in its own precision, through its own evaluator. A build that
+ * clamps (`emit --clamp`) is compared with the double law saturated the same way.
+ */
+export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evaluate: BuildEvaluator, options: CertifyOptions = {}): Certificate {
+  const prec = floatBuild.precision;
   const { sample, facet, extra } = certificatePoints(table, options);
   const tolerance = options.tolerance ?? defaultTolerance(table);
-  // both builds see the same θ: the float a controller can receive (rounding a double θ to float is
-  // the sensor's/caller's quantisation, reported apart as bounds.inputRounding, not the build's error)
-  const cmp = compareWithDouble(table, (t) => evaluateArrays(floatBuild, t), [...sample, ...facet, ...extra].map((p) => p.map(Math.fround)));
+  const reference = floatBuild.clamp ? (u: number[]) => clampInputs(u, table.inputLimits) : undefined;
+  // a float build sees θ as float: the double law is taken at that θ too (rounding a double θ to float
+  // is the sensor's/caller's quantisation, reported apart as bounds.inputRounding, not the build's error)
+  const pts = [...sample, ...facet, ...extra];
+  const cmp = compareWithDouble(table, evaluate, prec === 'float' ? pts.map((p) => p.map(Math.fround)) : pts, reference);
   const { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta } = cmp;
   const safe = lost === 0 && maxAbsDiff <= tolerance;
   let diagnosis: string | null = null;
   if (!safe && worstTheta) {
     const rd = locateSequential(table.regions, worstTheta);
-    const rf = evaluateArrays(floatBuild, worstTheta).region;
+    const rf = evaluate(worstTheta).region;
     const m = boxAbsMax(table.box);
     const law = table.regions[rd].law;
     // condition number of the law at the worst point: Σ|F_ij θ_j| + |g_i| over |u_i| (cancellation ratio)
@@ -250,16 +279,16 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
   const total = sample.length + facet.length + extra.length;
   const bounds = floatBounds(table);
   const verdict = safe
-    ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the float build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in float` +
-      (gained > 0 ? ` (${gained} points just outside every region are located in float, within its slack ${floatBuild.slack.toPrecision(3)})` : '') +
-      `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}`
+    ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the ${prec} build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in ${prec}` +
+      (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '') +
+      (prec === 'float' ? `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}` : '')
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
-      [maxAbsDiff > tolerance ? `max |u_float - u_double| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in float` : '']
+      [maxAbsDiff > tolerance ? `max |u_build - u_table| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in ${prec}` : '']
         .filter(Boolean)
         .join('; ') +
-      '; use the double build (see the diagnosis)';
+      (prec === 'float' ? '; use the double build (--precision double) or a larger --tolerance (see the diagnosis)' : '; check the table with tessera gaps, or give a larger --tolerance');
   return {
-    precision: 'float',
+    precision: prec,
     search: floatBuild.search,
     points: { sample: sample.length, facet: facet.length, extra: extra.length, total },
     maxAbsDiff,

@@ -2,12 +2,16 @@ import type { Command } from 'commander';
 import { format } from 'd3';
 import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { checkOutputPath } from '../io/output.js';
+import { EXIT } from './exit.js';
+import { createdNote } from './common.js';
 import { readTableFile } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { loadProblem } from '../problem/index.js';
 import type { MpcModel } from '../problem/types.js';
 import { thetaBlock } from '../formulation/layout.js';
 import {
+  limitsOf,
   nominalFailure,
   plantOf,
   sampleCoveredStarts,
@@ -39,6 +43,8 @@ interface SimulateCliOptions {
   csv?: string;
   svg?: string;
   json?: boolean;
+  clamp?: boolean;
+  quiet?: boolean;
 }
 
 /** Comma-separated finite numbers, or null when some cell is not a number. */
@@ -129,6 +135,7 @@ export function formatSummary(table: TableFile, s: SimulationSummary, truePlantF
     `  table vs online QP (quadprog): max |Δu| = ${num(s.maxDu)}${s.maxDuAt ? ` (run ${s.maxDuAt.run}, step ${s.maxDuAt.k})` : ''}; online QP infeasible at ${s.onlineInfeasibleSteps} step(s)`,
     `  steps with no region: ${s.noRegionSteps}${s.noRegionSteps ? ` in ${s.runsOutside} run(s); the previous input was held there` : ''}`,
     `  hard-limit violations: ${s.violations}`,
+    ...(s.softViolations ? [`  soft-limit excursions (allowed, paid for in the cost): ${s.softViolations} step(s), worst ${num(s.softMaxExcess)}`] : []),
     ...s.violationsByLimit.map((v) => `    ${v.limit}: ${v.count} step(s), worst excess ${num(v.maxExcess)}, first at run ${v.first.run} step ${v.first.k}`),
     ...(s.offset.length ? [`  steady-state offset |y − r| at the end (max over runs): ${s.offset.map((o) => `${o.output} ${num(o.maxAbs)}`).join(', ')}`] : []),
     `  settling (within ${100 * s.settleFraction} % of the box width of each ${s.offset.length ? 'tracked output’s reference' : 'state'}, to the end): ${s.settled}/${s.runs} run(s)${s.maxSettlingStep !== null ? `, slowest at step ${s.maxSettlingStep}` : ''}`,
@@ -155,7 +162,13 @@ export function register(program: Command): void {
     .option('--csv <file>', 'write the time series as CSV')
     .option('--svg <file>', 'write time plots of states, outputs and inputs as SVG')
     .option('--json', 'print the summary as JSON')
+    .option('--clamp', "saturate the applied input to the table's input limits (as emit --clamp does in the C)")
+    .option('-q, --quiet', 'print nothing but errors and warnings; the exit code tells')
     .action((tableFile: string, o: SimulateCliOptions) => {
+      const created = [
+        o.csv ? checkOutputPath(o.csv, '--csv', { kind: 'file', extensions: ['.csv'], what: 'CSV' }) : null,
+        o.svg ? checkOutputPath(o.svg, '--svg', { kind: 'file', extensions: ['.svg'], what: 'an SVG plot' }) : null,
+      ];
       const table = readTableFile(tableFile);
       if (table.layout?.formulation === 'mpqp' || !thetaBlock(table.layout, 'state'))
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant to simulate');
@@ -215,7 +228,8 @@ export function register(program: Command): void {
         table,
         nominal: plantOf(model as MpcModel & { Bd?: number[][] | null }),
         plant,
-        limits: model.constraints,
+        limits: limitsOf(model).hard,
+        softLimits: limitsOf(model).soft,
         names: { states: model.stateNames, inputs: model.inputNames, outputs: model.outputNames },
         online: (th) => {
           const r = solveOnlineQp(mpqp, th);
@@ -225,6 +239,7 @@ export function register(program: Command): void {
         reference: reference ?? undefined,
         disturbance: disturbance ?? undefined,
         noise,
+        clamp: o.clamp,
       };
       const runs: RunResult[] = starts.map((s, i) => simulateRun(setup, i, s.x, s.uPrev));
       const summary = summarise(setup, runs);
@@ -236,6 +251,7 @@ export function register(program: Command): void {
             title: `${table.name}: closed loop under the table law`,
             names: setup.names,
             limits: setup.limits,
+            softLimits: setup.softLimits,
             tracked: refBlock?.refersTo ?? [],
             outputsAreStates: !distBlock && model.C.length === n && model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))),
           }),
@@ -244,9 +260,11 @@ export function register(program: Command): void {
       // exit 1 judges the table: the nominal plant with exact measurements; mismatch and noise runs are reported only
       const judged = !o.plant && !(noise && noise.std.some((v) => v > 0));
       const failed = judged && nominalFailure(summary);
+      if (failed) process.exitCode = EXIT.found;
+      if (o.quiet) return;
+      for (const d of created) if (d) createdNote(d, o.json ? 'stderr' : 'stdout');
       process.stdout.write(o.json ? JSON.stringify({ summary, judged, failed }) + '\n' : formatSummary(table, summary, o.plant, judged));
       if (o.csv && !o.json) process.stdout.write(`  written ${o.csv}\n`);
       if (o.svg && !o.json) process.stdout.write(`  written ${o.svg}\n`);
-      if (failed) process.exitCode = 1;
     });
 }

@@ -8,6 +8,7 @@ import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { leafDepths, type SearchTree } from '../partition/tree.js';
 import { regionBounds, type BoxTree } from '../partition/boxtree.js';
+import { clampComparisons } from '../table/clamp.js';
 
 export type Precision = 'float' | 'double';
 /**
@@ -156,6 +157,11 @@ export interface EmitArrays extends SearchIndex {
   /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
   nodeAxis: number[];
   nodeSplit: number[];
+  /**
+   * `emit --clamp`: u saturated to the table's input limits after the law (bounds rounded to the
+   * build's precision; null = that side open); null when the build does not clamp
+   */
+  clamp: { lower: (number | null)[]; upper: (number | null)[] } | null;
 }
 
 /**
@@ -166,8 +172,9 @@ export function centredLaw(precision: Precision): boolean {
   return precision === 'float';
 }
 
-export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null): EmitArrays {
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null, clamp = false): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
+  const bound = (v: number | null | undefined) => (v === null || v === undefined ? null : round(v));
   const n = table.dims.ntheta;
   if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
   const tests = regionTests(table, precision);
@@ -220,6 +227,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     nodeAxis: [],
     nodeSplit: [],
     ...searchIndex(search, tree, regionRowStart),
+    clamp: clamp
+      ? { lower: table.inputNames.map((_, i) => bound(table.inputLimits?.lower?.[i])), upper: table.inputNames.map((_, i) => bound(table.inputLimits?.upper?.[i])) }
+      : null,
   };
   if (search === 'sequential' || !tree) return out;
   if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
@@ -307,6 +317,10 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
         else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * (theta[j] - ar.lawC[c + j]);
       } else if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
       else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * theta[j];
+      const lo = ar.clamp?.lower[i];
+      const hi = ar.clamp?.upper[i];
+      if (lo !== null && lo !== undefined && s < lo) s = lo;
+      if (hi !== null && hi !== undefined && s > hi) s = hi;
       u[i] = s;
     }
     return u;
@@ -331,9 +345,11 @@ export interface CostFigures {
   regions: number;
   /** worst-case hyperplane tests on the way to a leaf (0 for sequential search) */
   worstDepth: number;
-  /** worst case over every path: multiply-adds and comparisons of one evaluation */
+  /** worst case over every path: multiply-adds and comparisons of one evaluation (with --clamp, its comparisons included) */
   worstMultiplyAdds: number;
   worstComparisons: number;
+  /** comparisons of the --clamp saturation (0 without it), part of worstComparisons */
+  clampComparisons: number;
 }
 
 /**
@@ -342,13 +358,17 @@ export interface CostFigures {
  * multiplication for the box tree), then every candidate region's rows tested in full, then the
  * law (nu·nθ multiply-adds; a centred law adds nθ subtractions per row, not counted as multiply-adds).
  */
-export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & Partial<Pick<EmitArrays, 'bestFit'>>): CostFigures {
+export function costFigures(
+  ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & Partial<Pick<EmitArrays, 'bestFit'>> & { clamp?: EmitArrays['clamp'] },
+): CostFigures {
   // best fit: per row the test and the running maximum, per region the comparison with the best so far
   const rowCmp = ar.bestFit ? 2 : 1;
   const regionCmp = ar.bestFit ? 1 : 0;
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;
+  // the saturation of --clamp: one comparison per finite input limit
+  const clampCmp = ar.clamp ? clampComparisons(ar.clamp, ar.nu) : 0;
   let worstDepth = 0;
   let worstMacs = 0;
   let worstCmp = 0;
@@ -356,7 +376,7 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
     let all = 0;
     for (let r = 0; r < ar.regionCount; r++) all += rows(r);
     worstMacs = all * n + lawMacs;
-    worstCmp = all * rowCmp + ar.regionCount * regionCmp;
+    worstCmp = all * rowCmp + ar.regionCount * regionCmp + clampCmp;
   } else {
     const depths = leafDepths({ root: ar.root, nodeLeft: ar.nodeLeft, nodeRight: ar.nodeRight, leafStart: ar.leafStart });
     depths.forEach((d, leaf) => {
@@ -364,8 +384,8 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
       worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : d * n) + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, d + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp);
+      worstCmp = Math.max(worstCmp, d + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp + clampCmp);
     });
   }
-  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp };
+  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, clampComparisons: clampCmp };
 }

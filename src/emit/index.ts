@@ -42,6 +42,8 @@ export interface EmitOptions<P extends string = Precision> {
   thetaFrac?: number[];
   /** `auto` only: consider just these structures (default: every one the target prints) */
   searches?: readonly SearchKind[];
+  /** saturate u to the table's input limits in the generated code (`emit --clamp`) */
+  clamp?: boolean;
 }
 
 export interface EmitResult<B = EmitArrays> {
@@ -89,7 +91,7 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
       ...opts.locatorOptions,
       tree: { ...opts.treeOptions, ...opts.locatorOptions?.tree },
       tableHash: hash,
-      targetOptions: { thetaFrac: opts.thetaFrac },
+      targetOptions: { thetaFrac: opts.thetaFrac, clamp: opts.clamp },
     });
     const pick = pickCandidate(candidates);
     search = pick.chosen.search;
@@ -104,7 +106,7 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
         : (opts.locator ?? buildLocator(table, search, { ...opts.locatorOptions, tableHash: hash }));
     searchReason = [`${search} search, named by the caller (--search ${search}).`];
   }
-  const arrays = target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac });
+  const arrays = target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom, searchReason };
   const files = target.files(arrays, meta);
   const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';

@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { parseDocument } from 'yaml';
 import { InputError } from '../io/errors.js';
+import { findDuplicateKey } from '../io/duplicate-keys.js';
 import { tol } from '../tol.js';
 import { Checker, describe, join, type Obj } from './check.js';
 import { eye, mul, spectralRadius, symmetrise, transpose, unstabilisableMode, add, zeros, type Mat } from './dense.js';
@@ -37,6 +38,8 @@ export function loadProblem(path: string): LoadedProblem {
   }
   const ext = extname(path).toLowerCase();
   const raw = ext === '.yaml' || ext === '.yml' ? parseYaml(text, path) : parseJson(text, path);
+  const dup = findDuplicateKey(text);
+  if (dup) throw new InputError(path, dup.path, `key given twice (again at line ${dup.line} column ${dup.column}); remove one`);
   return parseProblem(raw, path);
 }
 
@@ -80,7 +83,7 @@ function parseJson(text: string, file: string): unknown {
 }
 
 function parseYaml(text: string, file: string): unknown {
-  const doc = parseDocument(text, { prettyErrors: true });
+  const doc = parseDocument(text, { prettyErrors: true, uniqueKeys: false });
   const err = doc.errors[0];
   if (err) {
     const first = err.message.split('\n')[0].replace(/ at line \d+, column \d+:?$/, '');

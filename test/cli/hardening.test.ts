@@ -140,7 +140,7 @@ describe('simulate --clamp', () => {
 
 describe('emit: what is written and what is certified', () => {
   it('says that NAME.tree.json is written and explains the leaf size', async () => {
-    const r = await run(['emit', T, '-o', join(dir, 'c-tree')]);
+    const r = await run(['emit', T, '--search', 'tree', '-o', join(dir, 'c-tree')]); // tree named: the default is now auto (changed on purpose)
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/also tessera_law\.tree\.json in .*c-tree: the search tree, for reuse with --tree \(not needed by the C code\)/);
     expect(r.stdout).toMatch(/at most \d+ regions? per leaf \(--leaf-size 1( is the split target; a leaf keeps more regions when no facet hyperplane separates them)?\)/);

@@ -12,7 +12,7 @@ import { join } from 'node:path';
 import { tableToJson } from '../../src/table/table.js';
 import { emit } from '../../src/emit/index.js';
 import { CORES, parseObjdump, worstPath } from '../../src/emit/crossbuild.js';
-import { EXAMPLES, exampleTable, tempDir } from './helpers.js';
+import { TREE_EXAMPLES as EXAMPLES, exampleTable, tempDir } from './helpers.js';
 
 const MAIN = join(import.meta.dirname, '../../src/cli/main.ts');
 function tessera(args: string[]): { status: number | null; stdout: string; stderr: string } {
@@ -74,7 +74,8 @@ describe('emit --target-check on every example', () => {
   for (const ex of EXAMPLES)
     it(`${ex}: M0/M4F builds compile with -Werror, sizes, no soft float in fixed and M4F float, worst path counted`, () => {
       const { dir, path } = tableFile(ex);
-      const r = tessera(['emit', path, '--target-check', '-o', join(dir, 'g'), '--report', join(dir, 'r.json')]);
+      // --search tree named: the default is now auto, which --target-check restricts to tree or sequential (changed on purpose)
+      const r = tessera(['emit', path, '--target-check', '--search', 'tree', '-o', join(dir, 'g'), '--report', join(dir, 'r.json')]);
       expect(r.stderr).toBe('');
       expect(r.status).toBe(0);
       expect(r.stdout).toContain('nm: the q15/q31 builds (both cores) and the Cortex-M4F float build call no software floating-point helper');
@@ -101,6 +102,25 @@ describe('emit --target-check on every example', () => {
       const m0 = (build: string) => rep.builds.find((b: { core: string; build: string }) => b.core === 'Cortex-M0' && b.build === build).worst.cycles;
       expect(m0('float')).toBeGreaterThan(3 * m0('q15'));
     }, 120000);
+});
+
+describe('emit --target-check with sequential search', () => {
+  it('the worst path visits every region and costs at least nθ + 1 instructions per row', () => {
+    const ex = 'buck-duty-cycle.json';
+    const { dir, path } = tableFile(ex);
+    const r = tessera(['emit', path, '--search', 'sequential', '--target-check', '-o', join(dir, 'g'), '--report', join(dir, 'r.json')]);
+    expect(r.status).toBe(0);
+    const rep = JSON.parse(readFileSync(join(dir, 'r.json'), 'utf8')).targetCheck;
+    const table = exampleTable(ex).table;
+    const rows = table.regions.reduce((s, g) => s + g.b.length, 0);
+    for (const b of rep.builds) {
+      expect(b.countError).toBeUndefined();
+      expect(b.worst.leafRegions).toBe(table.regions.length);
+      expect(b.worst.leafDepth).toBe(0);
+      // every row costs at least its nθ multiply-adds and one comparison
+      expect(b.worst.instructions).toBeGreaterThanOrEqual(rows * (table.dims.ntheta + 1));
+    }
+  }, 120000);
 });
 
 describe('worst-path counter', () => {

@@ -1,33 +1,11 @@
 import type { Command } from 'commander';
-import { readTableFile, evaluateTable } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import { InputError, readTextInput } from '../io/errors.js';
-import type { TableFile } from '../table/format.js';
+import { evaluatePoints, evaluationCsv, parsePointsCsv } from '../table/points.js';
 
-/** Parse the points CSV: one θ per line, comma-separated, an optional header line of names. */
+/** Read a points CSV file (see parsePointsCsv). */
 export function readPointsCsv(path: string, ntheta: number): number[][] {
-  const text = readTextInput(path, 'points file');
-  const lines = text.split(/\r?\n/).map((l) => l.trim());
-  const points: number[][] = [];
-  let first = true;
-  lines.forEach((line, i) => {
-    if (line === '' || line.startsWith('#')) return;
-    const cells = line.split(',').map((c) => c.trim());
-    const nums = cells.map(Number);
-    if (first) {
-      first = false;
-      // a header is a line of names: no cell of it reads as a number
-      if (cells.every((c, k) => c === '' || Number.isNaN(nums[k]))) {
-        if (cells.length !== ntheta) throw new InputError(path, `line ${i + 1}`, `header has ${cells.length} names, θ has ${ntheta} entries`);
-        return;
-      }
-    }
-    if (cells.length !== ntheta) throw new InputError(path, `line ${i + 1}`, `expected ${ntheta} values (θ has ${ntheta} entries), got ${cells.length}`);
-    nums.forEach((v, k) => {
-      if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(path, `line ${i + 1}, column ${k + 1}`, `"${cells[k]}" is not a finite number`);
-    });
-    points.push(nums);
-  });
-  return points;
+  return parsePointsCsv(readTextInput(path, 'points file'), path, ntheta);
 }
 
 function parseAt(text: string, ntheta: number): number[] {
@@ -38,19 +16,6 @@ function parseAt(text: string, ntheta: number): number[] {
     if (cells[k] === '' || !Number.isFinite(v)) throw new InputError('(command line)', '--at', `"${cells[k]}" is not a finite number`);
   });
   return nums;
-}
-
-/** Shortest decimal that reads back as the same double. */
-const num = (v: number): string => String(v);
-
-export function evaluationCsv(table: TableFile, points: number[][]): string {
-  const header = [...table.thetaNames, 'region', ...table.inputNames].join(',');
-  const rows = points.map((p) => {
-    const e = evaluateTable(table, p);
-    const u = e.u ? e.u.map(num) : table.inputNames.map(() => '');
-    return [...p.map(num), String(e.region), ...u].join(',');
-  });
-  return [header, ...rows].join('\n') + '\n';
 }
 
 export function register(program: Command): void {
@@ -70,10 +35,7 @@ export function register(program: Command): void {
       if (!table.stats.complete)
         process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
       if (opts.json) {
-        const out = points.map((p) => {
-          const e = evaluateTable(table, p);
-          return { theta: p, region: e.region, u: e.u };
-        });
+        const out = evaluatePoints(table, points);
         process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, points: out }) + '\n');
         return;
       }

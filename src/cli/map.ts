@@ -1,29 +1,23 @@
 import type { Command } from 'commander';
 import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
-import { readTableFile, applyAffine, locateSequential } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
-import { loadProblem, parseProblem } from '../problem/index.js';
-import { buildMpqp } from '../mpqp/condition.js';
-import { problemHash } from '../table/build.js';
-import type { MpqpProblem } from '../mpqp/types.js';
-import type { LoadedProblem } from '../problem/index.js';
-import { analyseSlice } from '../check/gaps.js';
-import { liftPoint, makeSliceSpec } from '../partition/slice.js';
-import { renderMapSvg, type ColourBy, type HeatLayer, type Trajectory } from '../plot/svg.js';
-import { simulateClosedLoop } from '../plot/trajectory.js';
+import { loadProblem } from '../problem/load.js';
+import { tableProblem, type TableProblem } from '../table/solve.js';
+import type { ColourBy } from '../plot/svg.js';
+import { parseInitialStates } from '../plot/trajectory.js';
+import { isMergedTable } from '../plot/heat.js';
+import { drawMap } from '../plot/map.js';
 
 const CLI = '(command line)';
 
-/** The problem behind a table: PROBLEM when given, else the table's own echo of it. */
-export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): { loaded: LoadedProblem; mpqp: MpqpProblem } {
-  const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (key problem)`);
-  const mpqp = buildMpqp(loaded.model);
-  if (problemFile && table.problemHash && problemHash(loaded.raw) !== table.problemHash)
+/** The problem behind a table: PROBLEM when given, else the table's own echo of it (warns when it is not the table's). */
+export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): TableProblem {
+  const tp = tableProblem(table, { tableFile, problemFile, problem: problemFile ? loadProblem(problemFile) : undefined });
+  if (!tp.sameProblem)
     process.stderr.write(`tessera: warning: ${problemFile} is not the problem ${tableFile} was built from (hash differs); feasibility is judged by ${problemFile}\n`);
-  if (mpqp.ntheta !== table.dims.ntheta)
-    throw new InputError(problemFile ?? tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
-  return { loaded, mpqp };
+  return tp;
 }
 
 /** A θ entry by name or by 0-based index. */
@@ -63,25 +57,9 @@ export function parseFix(table: TableFile, v: string | undefined, axes: [number,
   return out;
 }
 
-/** Initial states: CSV, one per line, either a full θ or (axis₁, axis₂) of the slice; optional header line. */
+/** Initial states file (see parseInitialStates). */
 export function readInitialStates(file: string, ntheta: number): number[][] {
-  const text = readTextInput(file, 'initial states');
-  const rows: number[][] = [];
-  text.split(/\r?\n/).forEach((line, i) => {
-    const s = line.trim();
-    if (!s || s.startsWith('#')) return;
-    const cells = s.split(',').map((c) => c.trim());
-    const nums = cells.map(Number);
-    if (nums.some((x) => !Number.isFinite(x))) {
-      if (rows.length === 0 && i === 0) return; // header
-      throw new InputError(file, `line ${i + 1}`, `not a list of numbers: "${s}"`);
-    }
-    if (nums.length !== ntheta && nums.length !== 2)
-      throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (a full θ) or 2 (a point of the slice), got ${nums.length}`);
-    rows.push(nums);
-  });
-  if (!rows.length) throw new InputError(file, '', 'no initial states found');
-  return rows;
+  return parseInitialStates(readTextInput(file, 'initial states'), file, ntheta);
 }
 
 export function positiveInt(flag: string) {
@@ -120,43 +98,21 @@ export function register(program: Command): void {
       const table = readTableFile(tableFile);
       if (!['law', 'active', 'region'].includes(o.color)) throw new InputError(CLI, '--color', `expected law, active or region, got "${o.color}"`);
       const axes = parseAxes(table, o.axes);
-      const spec = makeSliceSpec(table.box, axes, parseFix(table, o.fix, axes));
-      const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
-      const slice = analyseSlice(table, mpqp, spec);
-
-      let heat: HeatLayer | undefined;
-      if (o.heat) {
-        const ui = table.inputNames.indexOf(o.heat);
-        if (o.heat !== 'cost' && ui < 0) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
-        // a merged region keeps one member's value function, which is exact only on that member
-        if (o.heat === 'cost' && table.regions.some((r) => ((r as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1))
-          throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
-        heat = {
-          label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
-          value: (x, y, slack) => {
-            const th = liftPoint(spec, x, y);
-            const ri = locateSequential(table.regions, th, slack);
-            if (ri < 0) return null;
-            if (ui >= 0) return applyAffine(table.regions[ri].law, th)[ui];
-            const v = table.regions[ri].value;
-            let s = v.r;
-            th.forEach((a, i) => {
-              s += v.q[i] * a;
-              th.forEach((b, j) => (s += a * v.Q[i][j] * b));
-            });
-            return s;
-          },
-        };
-      }
-      let trajectories: Trajectory[] | undefined;
-      if (o.trajectories) {
-        const m = loaded.model;
-        trajectories = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => {
-          const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
-          return simulateClosedLoop(table, { A: m.A, B: m.B, hasRate: m.hasRate }, th0, o.steps);
-        });
-      }
-      const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });
+      const fixed = parseFix(table, o.fix, axes);
+      if (o.heat && o.heat !== 'cost' && !table.inputNames.includes(o.heat))
+        throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
+      if (o.heat === 'cost' && isMergedTable(table))
+        throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
+      const problem = loadTableProblem(table, tableFile, o.problem);
+      const starts = o.trajectories ? readInitialStates(o.trajectories, table.dims.ntheta) : undefined;
+      const res = drawMap(table, problem, {
+        axes,
+        fixed,
+        colourBy: o.color as ColourBy,
+        heat: o.heat,
+        trajectories: starts && { starts, steps: o.steps },
+      });
+      const slice = res.slice;
       writeFileAtomic(o.output!, res.svg);
       const a = slice.gaps.areas;
       const p = (v: number) => ((100 * v) / a.rect).toFixed(2) + ' %';

@@ -1,10 +1,8 @@
 import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
-import { loadProblem } from '../problem/index.js';
-import { buildMpqp } from '../mpqp/condition.js';
-import { solvePartition } from '../mpqp/solve.js';
-import { makeTable } from '../table/build.js';
-import { writeTableFile } from '../table/table.js';
+import { loadProblem } from '../problem/load.js';
+import { solveProblem } from '../table/solve.js';
+import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
 
 export function defaultTablePath(problemPath: string): string {
@@ -36,10 +34,8 @@ export function register(program: Command): void {
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
       const out = opts.output ?? defaultTablePath(problemPath);
       const loaded = loadProblem(problemPath);
-      const mpqp = buildMpqp(loaded.model);
       const live = process.stderr.isTTY && !opts.quiet;
-      const t0 = performance.now();
-      const partition = solvePartition(mpqp, {
+      const { mpqp, partition, table, seconds } = solveProblem(loaded, {
         maxRegions: opts.maxRegions,
         timeLimit: opts.timeLimit,
         lp: opts.lp,
@@ -50,9 +46,7 @@ export function register(program: Command): void {
               )
           : undefined,
       });
-      const seconds = (performance.now() - t0) / 1000;
       if (live) process.stderr.write('\r\x1b[K');
-      const table = makeTable(loaded, mpqp, partition);
       writeTableFile(out, table);
       if (opts.quiet) return;
       const s = partition.stats;

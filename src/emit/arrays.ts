@@ -61,6 +61,11 @@ export function regionSlack(table: TableFile, precision: Precision): number {
   return Math.max(tol.inside, FLOAT_SLACK_ULPS * FLOAT_EPS * (table.dims.ntheta + 1) * scale);
 }
 
+/**
+ * Flatten a table (and its search tree, for `search: 'tree'`) into the arrays the generated code
+ * holds: real arrays already rounded to `precision`, index arrays, region bounds widened by the
+ * precision's slack. θ and u in the table's units. Returns new arrays owned by the caller.
+ */
 export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const n = table.dims.ntheta;

@@ -1,6 +1,7 @@
 /** The raw arrays of a build for other toolchains: one JSON object, or one CSV file per array. */
 import { arraySpecs, type EmitArrays } from './arrays.js';
 
+/** All arrays of a build as one JSON document: name, element type, count and values per array. */
 export function arraysToJson(ar: EmitArrays): string {
   const arrays: Record<string, { ctype: string; values: number[] }> = {};
   for (const s of arraySpecs(ar)) arrays[s.name] = { ctype: s.ctype, values: s.values };

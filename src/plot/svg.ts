@@ -62,6 +62,7 @@ export function formatAffine(F: number[], g: number, names: string[]): string {
   return terms.join(' ');
 }
 
+/** One line about region `index` of the table: its id, active constraints by meaning, and u(0) as affine formulas in θ names. */
 export function describeRegion(table: TableFile, index: number): string {
   const r = table.regions[index];
   const act = r.activeSet.length ? r.activeSet.map((k) => table.constraints[k] ?? `row ${k}`).join(', ') : 'none (unconstrained optimum)';

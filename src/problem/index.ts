@@ -1,5 +1,6 @@
 export type { Bounds, MpcModel, LoadedProblem, TerminalKind } from './types.js';
-export { loadProblem, parseProblem } from './read.js';
+export { parseProblem, parseProblemText } from './read.js';
+export { loadProblem } from './load.js';
 export { buildRawMpqp } from './condense.js';
 export { discretiseZoh } from './zoh.js';
 export { solveDare, solveLyapunovGain, dareResidual, lyapunovResidual } from './riccati.js';

@@ -10,16 +10,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { parseProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
-import { solvePartition } from '../../src/mpqp/solve.js';
-import { makeTable } from '../../src/table/build.js';
-import { locateSequential } from '../../src/table/table.js';
-import { emitC, treeForTable } from '../../src/emit/index.js';
-import { locateTree } from '../../src/partition/tree.js';
-import { sampleBox } from '../../src/emit/sample.js';
+import { emitC, locateSequential, locateTree, parseProblem, sampleBox, solveProblem, treeForTable, type MpqpProblem } from '../../src/index.js';
 import { formatReal } from '../../src/emit/c.js';
-import type { MpqpProblem } from '../../src/mpqp/types.js';
 
 const require = createRequire(import.meta.url);
 // eslint-disable-next-line @typescript-eslint/no-explicit-any
@@ -117,9 +109,7 @@ function makeQp(problem: MpqpProblem) {
 
 export async function run(): Promise<void> {
   const t0 = Date.now();
-  const loaded = parseProblem(WINCH, 'winch-drum (bench)');
-  const mpqp = buildMpqp(loaded.model);
-  const table = makeTable(loaded, mpqp, solvePartition(mpqp, { timeLimit: 300 }));
+  const { mpqp, table } = solveProblem(parseProblem(WINCH, 'winch-drum (bench)'), { timeLimit: 300 });
   const R = table.regions.length;
   const solveS = (Date.now() - t0) / 1000;
   const t1 = Date.now();

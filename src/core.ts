@@ -55,9 +55,12 @@ export { colourByKey, lawKey, paletteColour, REGION_PALETTE, HOLE_FILL, HOLE_STR
 export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/trajectory.js';
 
 // emit: search tree, arrays, C, certificate, merging
-export { emitC, treeForTable, tableHash, parseTreeJson, type EmitOptions, type EmitResult } from './emit/index.js';
+export { emit, emitC, treeForTable, tableHash, parseTreeJson, type EmitOptions, type EmitResult } from './emit/index.js';
+export { TARGETS, targetLanguages, targetPrecisions, findTarget } from './emit/targets/index.js';
+export type { EmitTarget, TargetCost, TargetFile } from './emit/targets/target.js';
+export { layoutOf, type LayoutArray, type ElementKind } from './emit/layout.js';
 export { buildArrays, evaluateArrays, costFigures, type EmitArrays, type ArrayEvaluation, type CostFigures, type Precision, type SearchKind } from './emit/arrays.js';
-export { emitSelfTest, checkPrefix } from './emit/c.js';
+export { emitSelfTest, checkPrefix } from './emit/targets/c.js';
 export { arraysToJson, arraysToCsv } from './emit/export.js';
 export { sampleBox } from './emit/sample.js';
 export { certifyFloat, type Certificate, type CertifyOptions } from './check/certify.js';

@@ -5,10 +5,11 @@ import { writeFileAtomic } from '../io/atomic.js';
 import { tableToJson } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
-import { emitC, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import { emit, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
 import { readTreeFile } from '../emit/tree-file.js';
-import { buildArrays, evaluateArrays, type CostFigures } from '../emit/arrays.js';
-import { checkPrefix, emitSelfTest } from '../emit/c.js';
+import { buildArrays, type EmitArrays } from '../emit/arrays.js';
+import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
+import type { TargetCost } from '../emit/targets/target.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
 import { certifyFloat, type Certificate } from '../check/certify.js';
@@ -34,8 +35,8 @@ function positive(flag: string, integer: boolean) {
 }
 
 interface EmitCliOptions {
-  lang: 'c';
-  precision: 'float' | 'double';
+  lang: string;
+  precision: string;
   search: 'tree' | 'sequential';
   prefix: string;
   output: string;
@@ -52,8 +53,23 @@ interface EmitCliOptions {
   leafSize: number;
 }
 
-function bytesLine(cost: CostFigures): string {
-  return `float ${cost.bytes.float.total} B, double ${cost.bytes.double.total} B`;
+function bytesLine(cost: TargetCost): string {
+  return Object.entries(cost.bytes)
+    .map(([p, b]) => `${p} ${b.total} B`)
+    .join(', ');
+}
+
+const LANGS = targetLanguages();
+const PRECISIONS = [...new Set(LANGS.flatMap(targetPrecisions))];
+
+/** One line per array: count and, per reported precision, element type and bytes. */
+function arrayLines(c: TargetCost): string[] {
+  const precs = Object.keys(c.bytes);
+  return c.bytes[precs[0]].arrays.map(
+    (a, k) =>
+      `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ` +
+      precs.map((p) => `${p} ${c.bytes[p].arrays[k].type.padEnd(8)} ${String(c.bytes[p].arrays[k].bytes).padStart(8)} B`).join('  '),
+  );
 }
 
 export function register(program: Command): void {
@@ -61,8 +77,8 @@ export function register(program: Command): void {
     .command('emit')
     .description('generate embedded C (header + source) that evaluates the table, with a cost report and a float certificate')
     .argument('<table>', 'table file written by tessera solve')
-    .option('--lang <lang>', 'target language (c)', choice('--lang', ['c'] as const), 'c')
-    .option('--precision <p>', 'float or double', choice('--precision', ['float', 'double'] as const), 'float')
+    .option('--lang <lang>', `target language: ${TARGETS.map((t) => `${t.lang} (${t.precisions.join('/')}: ${t.summary})`).join('; ')}`, choice('--lang', LANGS), 'c')
+    .option('--precision <p>', `arithmetic of the generated code: ${PRECISIONS.join(', ')}`, choice('--precision', PRECISIONS), 'float')
     .option('--search <s>', 'point location: tree (binary search tree) or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
     .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')
     .requiredOption('-o, --output <dir>', 'directory for the generated files')
@@ -78,7 +94,9 @@ export function register(program: Command): void {
     .option('--tree <file>', 'reuse a search tree side file (must match the table)')
     .option('--leaf-size <n>', 'stop splitting the tree at this many regions per leaf', positive('--leaf-size', true), 1)
     .action((tablePath: string, o: EmitCliOptions) => {
-      const bad = checkPrefix(o.prefix);
+      const target = findTarget(o.lang, o.precision);
+      if (!target) throw new InputError(CLI, '--precision', `language ${o.lang} has no precision "${o.precision}" (expected one of ${targetPrecisions(o.lang).join(', ')})`);
+      const bad = target.checkPrefix(o.prefix);
       if (bad) throw new InputError(CLI, '--prefix', `"${o.prefix}" ${bad}`);
       let table = readTableFile(tablePath);
       if (table.regions.length === 0) throw new InputError(tablePath, 'regions', 'the table has no region: nothing to emit');
@@ -122,19 +140,21 @@ export function register(program: Command): void {
             });
         if (shown) process.stderr.write('\r\x1b[K');
       }
-      const res: EmitResult = emitC(table, { precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
-      writes.push([join(o.output, `${o.prefix}.h`), res.header], [join(o.output, `${o.prefix}.c`), res.source]);
+      const res: EmitResult<unknown> = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
+      for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
       if (res.tree && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
       let cert: Certificate | null = null;
       if (o.certify) {
-        const floatBuild = o.precision === 'float' ? res.arrays : buildArrays(table, 'float', o.search, res.tree);
+        const floatBuild = o.precision === 'float' && o.lang === 'c' ? (res.arrays as EmitArrays) : buildArrays(table, 'float', o.search, res.tree);
         cert = certifyFloat(table, floatBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
       }
-      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays)]);
-      if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(res.arrays)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
+      const layout = target.layout(res.arrays);
+      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout)]);
+      if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(layout)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
       if (o.selftest) {
         const pts = sampleBox(table.box, o.selftest, o.seed);
-        writes.push([join(o.output, `${o.prefix}_selftest.c`), emitSelfTest(res.arrays, o.prefix, pts, pts.map((p) => evaluateArrays(res.arrays, p)))]);
+        const st = target.selfTest(res.arrays, o.prefix, pts, pts.map((p) => target.evaluate(res.arrays, p)));
+        writes.push([join(o.output, st.name), st.text]);
       }
       const report = {
         table: tablePath,
@@ -142,9 +162,11 @@ export function register(program: Command): void {
         complete: !incomplete,
         stopReason: table.stats?.stopReason,
         regions: { before, after: table.regions.length, merged },
+        lang: o.lang,
+        target: target.id,
         precision: o.precision,
         search: o.search,
-        slack: res.arrays.slack,
+        slack: (res.arrays as { slack: number }).slack,
         tree: res.tree ? res.tree.stats : null,
         cost: res.cost,
         certificate: cert,
@@ -155,16 +177,14 @@ export function register(program: Command): void {
 
       const c = res.cost;
       const lines = [
-        `emit: ${o.prefix}.h, ${o.prefix}.c in ${o.output} (C99, ${o.precision}, ${o.search} search)`,
+        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${o.search} search)`,
         `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
         o.search === 'tree'
           ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, at most ${res.tree!.stats.maxLeafSize} regions per leaf`
           : '  sequential search over every region',
         `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons`,
         `  memory: ${bytesLine(c)}`,
-        ...c.bytes.float.arrays.map(
-          (a, k) => `    ${a.name.padEnd(17)} ${String(a.count).padStart(7)} x ${(a.ctype === 'float' ? 'real' : a.ctype).padEnd(8)} float ${String(a.bytes).padStart(8)} B  double ${String(c.bytes.double.arrays[k].bytes).padStart(8)} B`,
-        ),
+        ...arrayLines(c),
       ];
       if (cert) {
         lines.push(

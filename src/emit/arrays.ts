@@ -177,51 +177,7 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
   return { region: -1, u: null };
 }
 
-/** C element type of an index array: the narrowest fixed-width type that holds every entry. */
-export function indexType(values: number[], signed: boolean): 'int16_t' | 'int32_t' | 'uint16_t' | 'uint32_t' {
-  let lo = 0;
-  let hi = 0;
-  for (const v of values) {
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
-  }
-  if (signed) return lo >= -32768 && hi <= 32767 ? 'int16_t' : 'int32_t';
-  return hi <= 65535 ? 'uint16_t' : 'uint32_t';
-}
-
-export const TYPE_BYTES: Record<string, number> = { float: 4, double: 8, int16_t: 2, int32_t: 4, uint16_t: 2, uint32_t: 4 };
-
-export interface ArraySpec {
-  name: string;
-  ctype: string;
-  values: number[];
-  real: boolean;
-}
-
-/** The arrays the generated C declares, in order; C forbids empty arrays, so an empty one gets one zero. */
-export function arraySpecs(ar: EmitArrays): ArraySpec[] {
-  const real = ar.precision;
-  const specs: ArraySpec[] = [];
-  const add = (name: string, values: number[], ctype: string, isReal: boolean) =>
-    specs.push({ name, ctype, values: values.length > 0 ? values : [0], real: isReal });
-  // a one-region tree has no nodes: its arrays are left out (an unused static const would not compile with -Werror)
-  if (ar.search === 'tree' && ar.nodeLeft.length > 0) {
-    add('node_plane', ar.nodePlane, real, true);
-    add('node_left', ar.nodeLeft, indexType([...ar.nodeLeft, ...ar.nodeRight, ar.root], true), false);
-    add('node_right', ar.nodeRight, indexType([...ar.nodeLeft, ...ar.nodeRight, ar.root], true), false);
-  }
-  if (ar.search === 'tree') {
-    add('leaf_start', ar.leafStart, indexType(ar.leafStart, false), false);
-    add('leaf_region', ar.leafRegion, indexType(ar.leafRegion, false), false);
-  }
-  add('region_row_start', ar.regionRowStart, indexType(ar.regionRowStart, false), false);
-  add('region_a', ar.regionA, real, true);
-  add('region_b', ar.regionB, real, true);
-  add('law_f', ar.lawF, real, true);
-  add('law_g', ar.lawG, real, true);
-  return specs;
-}
-
+/** Operation counts of one evaluation (language-neutral; each target adds its own memory report). */
 export interface CostFigures {
   search: SearchKind;
   regions: number;
@@ -230,15 +186,13 @@ export interface CostFigures {
   /** worst case over every path: multiply-adds and comparisons of one evaluation */
   worstMultiplyAdds: number;
   worstComparisons: number;
-  /** bytes of every array and the total, per precision */
-  bytes: Record<Precision, { arrays: { name: string; ctype: string; count: number; bytes: number }[]; total: number }>;
 }
 
 /**
  * Worst-case cost of one evaluation: descent to the deepest-costing leaf (nθ multiply-adds and one
  * comparison per node), then every candidate region's rows tested in full, then the law (nu·nθ).
  */
-export function costFigures(ar: EmitArrays): CostFigures {
+export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'>): CostFigures {
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;
@@ -260,11 +214,5 @@ export function costFigures(ar: EmitArrays): CostFigures {
       worstCmp = Math.max(worstCmp, d + rr);
     });
   }
-  const bytes = {} as CostFigures['bytes'];
-  for (const p of ['float', 'double'] as Precision[]) {
-    const specs = arraySpecs({ ...ar, precision: p });
-    const arrays = specs.map((s) => ({ name: s.name, ctype: s.ctype, count: s.values.length, bytes: s.values.length * TYPE_BYTES[s.ctype] }));
-    bytes[p] = { arrays, total: arrays.reduce((s, a) => s + a.bytes, 0) };
-  }
-  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, bytes };
+  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp };
 }

@@ -1,10 +1,28 @@
-/** The raw arrays of a build for other toolchains: one JSON object, or one CSV file per array. */
-import { arraySpecs, type EmitArrays } from './arrays.js';
+/**
+ * The raw arrays of a build for other toolchains: one JSON object, or one CSV file per array. They
+ * carry the language-neutral layout (element kinds and value ranges), no target's types or rules.
+ */
+import type { LayoutArray } from './layout.js';
+import { LAYOUT_TEXT } from './layout.js';
 
-/** All arrays of a build as one JSON document: name, element type, count and values per array. */
-export function arraysToJson(ar: EmitArrays): string {
-  const arrays: Record<string, { ctype: string; values: number[] }> = {};
-  for (const s of arraySpecs(ar)) arrays[s.name] = { ctype: s.ctype, values: s.values };
+export interface ExportMeta {
+  precision: string;
+  search: string;
+  ntheta: number;
+  nu: number;
+  regionCount: number;
+  root: number;
+  maxDepth: number;
+  slack: number;
+}
+
+/**
+ * All arrays of a build as one JSON document: the build's dimensions, then per array its element
+ * kind, value range, count and values (language-neutral; no target's types or padding).
+ */
+export function arraysToJson(ar: ExportMeta, layout: LayoutArray[], extra: Record<string, unknown> = {}): string {
+  const arrays: Record<string, Omit<LayoutArray, 'name'>> = {};
+  for (const { name, ...rest } of layout) arrays[name] = rest;
   const meta = {
     precision: ar.precision,
     search: ar.search,
@@ -14,13 +32,13 @@ export function arraysToJson(ar: EmitArrays): string {
     root: ar.root,
     maxDepth: ar.maxDepth,
     slack: ar.slack,
-    layout:
-      'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ',
+    ...extra,
+    layout: LAYOUT_TEXT,
   };
   return JSON.stringify({ ...meta, arrays }) + '\n';
 }
 
-/** [name, csv text] per array: header "index,value", numbers with 17 significant digits. */
-export function arraysToCsv(ar: EmitArrays): [string, string][] {
-  return arraySpecs(ar).map((s) => [s.name, 'index,value\n' + s.values.map((v, i) => `${i},${s.real ? v.toPrecision(17) : v}`).join('\n') + '\n']);
+/** [name, csv text] per array: header "index,value", reals with 17 significant digits; an empty array is a header alone. */
+export function arraysToCsv(layout: LayoutArray[]): [string, string][] {
+  return layout.map((s) => [s.name, 'index,value\n' + s.values.map((v, i) => `${i},${s.kind === 'f-real' ? v.toPrecision(17) : v}\n`).join('')]);
 }

@@ -1,5 +1,6 @@
 /**
- * Library entry of the code generator: table (+ optional search tree) → C files, arrays, cost figures.
+ * Library entry of the code generator: table (+ optional search tree) → the target's files, its
+ * build (the arrays), cost figures. Targets live in ./targets (one printer per language/arithmetic).
  * The search tree is returned to the caller (and written by the CLI as the side file
  * DIR/NAME.tree.json); `locateTree` in src/partition/tree.ts evaluates it from TypeScript.
  */
@@ -8,8 +9,9 @@ import { sha256Hex } from '../util/sha256.js';
 import { tableToJson } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeOptions } from '../partition/tree.js';
-import { buildArrays, costFigures, type CostFigures, type EmitArrays, type Precision, type SearchKind } from './arrays.js';
-import { emitHeader, emitSource } from './c.js';
+import type { EmitArrays, Precision, SearchKind } from './arrays.js';
+import { findTarget, targetLanguages, targetPrecisions } from './targets/index.js';
+import type { EmitTarget, TargetCost, TargetFile } from './targets/target.js';
 
 export type { Precision, SearchKind } from './arrays.js';
 
@@ -18,8 +20,10 @@ export function tableHash(table: TableFile): string {
   return 'sha256:' + sha256Hex(tableToJson(table));
 }
 
-export interface EmitOptions {
-  precision: Precision;
+export interface EmitOptions<P extends string = Precision> {
+  /** target language (default "c") */
+  lang?: string;
+  precision: P;
   search: SearchKind;
   prefix: string;
   /** reuse a tree built before (must match the table) */
@@ -29,12 +33,17 @@ export interface EmitOptions {
   mergedFrom?: number;
 }
 
-export interface EmitResult {
+export interface EmitResult<B = EmitArrays> {
+  target: EmitTarget<B>;
+  /** the generated files, in the order written */
+  files: TargetFile[];
+  /** C targets: the header and source text (also in `files`) */
   header: string;
   source: string;
-  arrays: EmitArrays;
+  /** the target's build: the numbers its code holds */
+  arrays: B;
   tree: SearchTree | null;
-  cost: CostFigures;
+  cost: TargetCost;
   hash: string;
 }
 
@@ -47,17 +56,30 @@ export function treeForTable(table: TableFile, options: TreeOptions = {}): Searc
   return buildSearchTree(table.regions, table.dims.ntheta, { ...options, tableHash: options.tableHash ?? tableHash(table) });
 }
 
-/**
- * Generate the C99 header and source that evaluate the table law u(0) = Fθ + g (−1 / no output
- * outside every region), with the flat arrays, the tree used and the cost figures (bytes,
- * worst-case multiply-adds and comparisons). Strings and arrays are new and owned by the caller.
- */
-export function emitC(table: TableFile, opts: EmitOptions): EmitResult {
+/** Generate code for any registered target (language `opts.lang`, default c, and `opts.precision`). */
+export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): EmitResult<B> {
+  const lang = opts.lang ?? 'c';
+  const target = findTarget(lang, opts.precision) as EmitTarget<B> | null;
+  if (!target) {
+    if (!targetLanguages().includes(lang)) throw new Error(`no emit target for language "${lang}" (targets: ${targetLanguages().join(', ')})`);
+    throw new Error(`language "${lang}" has no precision "${opts.precision}" (${targetPrecisions(lang).join(', ')})`);
+  }
   const hash = tableHash(table);
   const tree = opts.search === 'tree' ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash })) : null;
-  const arrays = buildArrays(table, opts.precision, opts.search, tree);
+  const arrays = target.build(table, opts.precision, opts.search, tree);
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom };
-  return { header: emitHeader(arrays, meta), source: emitSource(arrays, meta), arrays, tree, cost: costFigures(arrays), hash };
+  const files = target.files(arrays, meta);
+  const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';
+  return { target, files, header: text('.h'), source: text('.c'), arrays, tree, cost: target.cost(arrays), hash };
+}
+
+/**
+ * C99 in float or double (the `c` target): header and source that evaluate the table law
+ * u(0) = Fθ + g (−1 / no output outside every region), with the flat arrays, the tree used and the
+ * cost figures (bytes, worst-case multiply-adds and comparisons). All new and owned by the caller.
+ */
+export function emitC(table: TableFile, opts: EmitOptions): EmitResult<EmitArrays> {
+  return emit<EmitArrays>(table, { ...opts, lang: 'c' });
 }
 
 /** Parse a tree side file's text and check that it was built for this table (`path` names it in errors). */

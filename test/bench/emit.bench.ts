@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { emitC, locateSequential, locateTree, parseProblem, sampleBox, solveProblem, treeForTable, type MpqpProblem } from '../../src/index.js';
-import { formatReal } from '../../src/emit/c.js';
+import { formatReal } from '../../src/emit/targets/c.js';
 
 const require = createRequire(import.meta.url);
 // eslint-disable-next-line @typescript-eslint/no-explicit-any

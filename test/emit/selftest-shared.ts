@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import { applyAffine, locateSequential } from '../../src/table/table.js';
 import { locateTree } from '../../src/partition/tree.js';
 import { emitC, treeForTable } from '../../src/emit/index.js';
-import { emitSelfTest } from '../../src/emit/c.js';
+import { emitSelfTest } from '../../src/emit/targets/c.js';
 import { evaluateArrays } from '../../src/emit/arrays.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { certifyFloat, facetPoints } from '../../src/check/certify.js';

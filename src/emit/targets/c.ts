@@ -8,16 +8,69 @@
  * sign of a zero sum, which no comparison distinguishes (IEEE 754, common practice), and it takes
  * one addition off the dependency chain of each test.
  */
-import type { TableFile } from '../table/format.js';
-import { arraySpecs, type EmitArrays } from './arrays.js';
+import type { TableFile } from '../../table/format.js';
+import { buildArrays, costFigures, evaluateArrays, type EmitArrays, type Precision } from '../arrays.js';
+import type { ArrayBytes, EmitMeta, EmitTarget } from './target.js';
+import { layoutOf, type LayoutArray } from '../layout.js';
 
-export interface EmitMeta {
-  prefix: string;
-  table: TableFile;
-  tableHash: string;
-  /** regions before merging, when the table was merged first */
-  mergedFrom?: number;
+/** C element type of an index array: the narrowest fixed-width type that holds every entry. */
+export function indexType(range: [number, number], signed: boolean): 'int16_t' | 'int32_t' | 'uint16_t' | 'uint32_t' {
+  const [lo, hi] = [Math.min(0, range[0]), Math.max(0, range[1])];
+  if (signed) return lo >= -32768 && hi <= 32767 ? 'int16_t' : 'int32_t';
+  return hi <= 65535 ? 'uint16_t' : 'uint32_t';
 }
+
+/** Bytes of the C element types used here (C99 <stdint.h> widths, IEEE 754 binary32/64). */
+export const C_TYPE_BYTES: Record<string, number> = { float: 4, double: 8, int16_t: 2, int32_t: 4, int64_t: 8, uint16_t: 2, uint32_t: 4 };
+
+export interface CArray {
+  name: string;
+  ctype: string;
+  values: number[];
+  real: boolean;
+}
+
+/** C type of each kind of the layout; node children share one type (the root reference included). */
+export function cElementType(a: LayoutArray, layout: LayoutArray[], precision: Precision, root: number): string {
+  switch (a.kind) {
+    case 'f-real':
+      return precision;
+    case 'i-index': {
+      const refs = layout.filter((x) => x.kind === 'i-index');
+      return indexType([Math.min(root, ...refs.map((x) => x.range[0])), Math.max(root, ...refs.map((x) => x.range[1]))], true);
+    }
+    case 'u-index':
+    case 'u-count':
+      return indexType(a.range, false);
+    case 'q-fixed':
+      return `int${a.fixed!.bits}_t`;
+  }
+}
+
+/**
+ * The arrays the C declares, in order. C rules applied here, not in the layout: C forbids empty
+ * arrays (an empty one gets one zero), and a one-region tree's node arrays are left out (an unused
+ * static const would not compile with -Werror).
+ */
+export function cArrays(ar: EmitArrays): CArray[] {
+  const layout = layoutOf(ar);
+  return layout
+    .filter((a) => !(ar.search === 'tree' && ar.nodeLeft.length === 0 && a.name.startsWith('node_')))
+    .map((a) => ({ name: a.name, ctype: cElementType(a, layout, ar.precision, ar.root), values: a.values.length > 0 ? a.values : [0], real: a.kind === 'f-real' }));
+}
+
+
+/** Bytes of every declared array and the total, as gcc's sizeof gives them. */
+export function cArrayBytes(arrays: { name: string; ctype: string; values: number[] }[]): { arrays: ArrayBytes[]; total: number } {
+  const out = arrays.map((s) => ({ name: s.name, type: s.ctype, count: s.values.length, bytes: s.values.length * C_TYPE_BYTES[s.ctype] }));
+  return { arrays: out, total: out.reduce((s, a) => s + a.bytes, 0) };
+}
+
+/** The C target's memory report of a float/double build: the same arrays in both precisions. */
+export function cCost(ar: EmitArrays): Record<Precision, { arrays: ArrayBytes[]; total: number }> {
+  return { float: cArrayBytes(cArrays({ ...ar, precision: 'float' })), double: cArrayBytes(cArrays({ ...ar, precision: 'double' })) };
+}
+
 
 /** A valid C identifier for the prefix, or an explanation why not. */
 export function checkPrefix(prefix: string): string | null {
@@ -27,7 +80,7 @@ export function checkPrefix(prefix: string): string | null {
 }
 
 /** Text safe inside a C block comment. */
-function commentText(s: string): string {
+export function commentText(s: string): string {
   return s.replace(/\*\//g, '* /').replace(/[^\x20-\x7e]/g, '?');
 }
 
@@ -37,7 +90,7 @@ export function formatReal(v: number, precision: 'float' | 'double'): string {
   return precision === 'float' ? s + 'f' : s;
 }
 
-function arrayBlock(prefix: string, name: string, ctype: string, values: number[], real: 'float' | 'double' | null): string {
+export function arrayBlock(prefix: string, name: string, ctype: string, values: number[], real: 'float' | 'double' | null): string {
   const items = values.map((v) => (real ? formatReal(v, real) : String(v)));
   const perLine = real ? 4 : 12;
   const lines: string[] = [];
@@ -45,7 +98,7 @@ function arrayBlock(prefix: string, name: string, ctype: string, values: number[
   return `static const ${ctype} ${prefix}_${name}[${values.length}] = {\n${lines.join(',\n')}\n};\n`;
 }
 
-function limitsText(t: TableFile): string[] {
+export function limitsText(t: TableFile): string[] {
   const out: string[] = [];
   t.thetaNames.forEach((nm, j) => out.push(` *   theta[${j}] = ${commentText(nm)}, box [${t.box.lower[j]}, ${t.box.upper[j]}]`));
   t.inputNames.forEach((nm, j) => {
@@ -118,7 +171,7 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
   const NT = `${P.toUpperCase()}_NT`;
   const NU = `${P.toUpperCase()}_NU`;
   const real = ar.precision;
-  const blocks = arraySpecs(ar).map((s) => arrayBlock(P, s.name, s.ctype, s.values, s.real ? real : null));
+  const blocks = cArrays(ar).map((s) => arrayBlock(P, s.name, s.ctype, s.values, s.real ? real : null));
   const inside = `static int ${P}_inside(uint32_t r, const ${real} theta[${NT}])
 {
     uint32_t i, j;
@@ -258,3 +311,21 @@ int main(void)
 }
 `;
 }
+
+/** C99, IEEE float or double: the target behind `--lang c --precision float|double`. */
+export const cTarget: EmitTarget<EmitArrays> = {
+  id: 'c',
+  lang: 'c',
+  precisions: ['float', 'double'],
+  summary: 'C99, IEEE float or double arithmetic',
+  build: (table, precision, search, tree) => buildArrays(table, precision as Precision, search, tree),
+  evaluate: evaluateArrays,
+  layout: layoutOf,
+  files: (ar, meta) => [
+    { name: `${meta.prefix}.h`, text: emitHeader(ar, meta) },
+    { name: `${meta.prefix}.c`, text: emitSource(ar, meta) },
+  ],
+  selfTest: (ar, prefix, points, expected) => ({ name: `${prefix}_selftest.c`, text: emitSelfTest(ar, prefix, points, expected) }),
+  cost: (ar) => ({ ...costFigures(ar), bytes: cCost(ar) }),
+  checkPrefix,
+};

@@ -1,0 +1,79 @@
+/**
+ * The language-neutral description of a build's arrays: what each element is (a real number, a
+ * signed reference, an unsigned index or an offset) and the range of its values, never a type name
+ * of some language or a byte count. Each target's printer (src/emit/targets/) maps the kinds to its
+ * own element types and applies its own rules (C, for instance, has no empty arrays); the JSON/CSV
+ * exports write this layout as it is.
+ */
+import type { EmitArrays } from './arrays.js';
+
+/**
+ * - `f-real`: a real number (stored at the build's precision)
+ * - `q-fixed`: an integer standing for a real scaled by a power of two (fixed-point builds; the
+ *   array's `fixed` entry says how many bits and which scaling)
+ * - `i-index`: a signed reference (tree children: r ≥ 0 a node, r < 0 the leaf −r−1)
+ * - `u-index`: an unsigned index into another array (a region number)
+ * - `u-count`: an unsigned offset/count (row and leaf start offsets, nondecreasing)
+ */
+export type ElementKind = 'f-real' | 'q-fixed' | 'i-index' | 'u-index' | 'u-count';
+
+/** Scaling of a `q-fixed` array: value = integer · 2^−frac (per θ column, see the fixed-point build). */
+export interface FixedScaling {
+  /** signed integer width the values need (16, 32 or 64) */
+  bits: 16 | 32 | 64;
+  /** fraction bits of the array (one shift for the whole array) */
+  frac: number;
+}
+
+export interface LayoutArray {
+  name: string;
+  kind: ElementKind;
+  values: number[];
+  /** smallest and largest value ([0, 0] for an empty array) */
+  range: [number, number];
+  fixed?: FixedScaling;
+}
+
+function range(values: number[]): [number, number] {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const v of values) {
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
+  return values.length ? [lo, hi] : [0, 0];
+}
+
+export function layoutArray(name: string, kind: ElementKind, values: number[], fixed?: FixedScaling): LayoutArray {
+  return fixed ? { name, kind, values, range: range(values), fixed } : { name, kind, values, range: range(values) };
+}
+
+/**
+ * The arrays of a float/double build, in the order the targets declare them. Tree arrays appear
+ * only for tree search; a tree of one leaf has empty node arrays (kept: the layout states what
+ * exists, a printer decides what its language can declare).
+ */
+export function layoutOf(ar: EmitArrays): LayoutArray[] {
+  const out: LayoutArray[] = [];
+  if (ar.search === 'tree') {
+    out.push(
+      layoutArray('node_plane', 'f-real', ar.nodePlane),
+      layoutArray('node_left', 'i-index', ar.nodeLeft),
+      layoutArray('node_right', 'i-index', ar.nodeRight),
+      layoutArray('leaf_start', 'u-count', ar.leafStart),
+      layoutArray('leaf_region', 'u-index', ar.leafRegion),
+    );
+  }
+  out.push(
+    layoutArray('region_row_start', 'u-count', ar.regionRowStart),
+    layoutArray('region_a', 'f-real', ar.regionA),
+    layoutArray('region_b', 'f-real', ar.regionB),
+    layoutArray('law_f', 'f-real', ar.lawF),
+    layoutArray('law_g', 'f-real', ar.lawG),
+  );
+  return out;
+}
+
+/** How the arrays fit together, in words (written into the JSON export). */
+export const LAYOUT_TEXT =
+  'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ';

@@ -66,3 +66,21 @@ export { sampleBox } from './emit/sample.js';
 export { certifyFloat, type Certificate, type CertifyOptions } from './check/certify.js';
 export { mergeRegions, type MergeStats } from './partition/merge.js';
 export { buildSearchTree, locateTree, type SearchTree, type TreeOptions, type TreeStats } from './partition/tree.js';
+
+// closed-loop simulation and the online-QP reference
+export {
+  simulateRun,
+  simulateFromTheta,
+  summarise,
+  nominalFailure,
+  simulationCsv,
+  plantOf,
+  sampleCoveredStarts,
+  splitTheta,
+  stepPlant,
+  outputOf,
+  LIMIT_MARGIN,
+} from './check/simulate.js';
+export type { PlantDynamics, Limits, SignalNames, Schedule, OnlineLaw, SimulationSetup, StepRecord, Violation, RunResult, SimulationSummary } from './check/simulate.js';
+export { solveOnlineQp } from './check/onlineqp.js';
+export { renderTimePlotSvg, type TimePlotOptions } from './plot/timeplot.js';

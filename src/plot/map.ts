@@ -47,7 +47,7 @@ export function drawMap(table: TableFile, problem: { loaded: LoadedProblem; mpqp
   const m = problem.loaded.model;
   const trajectories = (request.trajectories?.starts ?? []).map((row) => {
     const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
-    return simulateClosedLoop(table, { A: m.A, B: m.B, hasRate: m.hasRate }, th0, request.trajectories!.steps);
+    return simulateClosedLoop(table, m, th0, request.trajectories!.steps);
   });
   const res = renderMapSvg(table, slice, { colourBy: request.colourBy, heat, trajectories: trajectories.length ? trajectories : undefined, width: request.width, height: request.height });
   return { ...res, slice, trajectories };

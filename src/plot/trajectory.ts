@@ -1,17 +1,20 @@
 /**
- * Closed loop of the plant under the table law: θ = [x; u_prev], u = table law at θ,
- * x⁺ = A x + B u, u_prev⁺ = u. Stops when θ leaves every region (the controller would have no law).
+ * Closed loop of the plant under the table law for map trajectories: the simulate engine
+ * (src/check/simulate.ts) started from a full θ, r and d held, stopping when θ leaves every
+ * region (the controller would have no law).
  */
 import type { TableFile } from '../table/format.js';
-import { evaluateTable } from '../table/table.js';
 import { InputError } from '../io/input-error.js';
+import { plantOf, simulateFromTheta } from '../check/simulate.js';
 import type { Trajectory } from './svg.js';
 
+/** The plant of a problem: A, B (C, Bd, Cd when it has them; C defaults to the identity). */
 export interface PlantModel {
   A: number[][];
   B: number[][];
-  /** θ carries u_prev after x */
-  hasRate: boolean;
+  C?: number[][];
+  Bd?: number[][] | null;
+  Cd?: number[][] | null;
 }
 
 /**
@@ -19,19 +22,28 @@ export interface PlantModel {
  * table law; stops early when θ leaves every region. Returns new θ vectors, first the start.
  */
 export function simulateClosedLoop(table: TableFile, plant: PlantModel, theta0: number[], steps: number): Trajectory {
-  const n = plant.A.length;
-  const m = plant.B[0]?.length ?? 0;
-  const points = [theta0.slice()];
-  let th = theta0.slice();
-  for (let k = 0; k < steps; k++) {
-    const ev = evaluateTable(table, th);
-    if (ev.region < 0 || !ev.u) return { points, end: 'outside' };
-    const x = th.slice(0, n);
-    const xn = plant.A.map((row, i) => row.reduce((s, a, j) => s + a * x[j], 0) + plant.B[i].reduce((s, b, j) => s + b * ev.u![j], 0));
-    th = plant.hasRate ? xn.concat(ev.u.slice(0, m)) : xn;
-    points.push(th.slice());
+  const C = plant.C ?? plant.A.map((row, i) => row.map((_, j) => (i === j ? 1 : 0)));
+  const run = simulateFromTheta(
+    { table, nominal: plantOf({ ...plant, C }), limits: {}, names: { states: [], inputs: [], outputs: [] }, steps, outside: 'stop' },
+    0,
+    theta0,
+  );
+  const points = run.records.map((r) => r.theta);
+  if (run.ended === 'steps') points.push(nextTheta(run, table));
+  return { points, end: run.ended };
+}
+
+/** θ after the last step: the final state, the last input as u_prev, r and d as held. */
+function nextTheta(run: ReturnType<typeof simulateFromTheta>, table: TableFile): number[] {
+  const last = run.records[run.records.length - 1];
+  const th = last ? last.theta.slice() : [];
+  for (const b of table.layout.theta) {
+    for (let i = 0; i < b.size; i++) {
+      if (b.kind === 'state') th[b.offset + i] = run.final.x[b.refersTo[i]];
+      else if (b.kind === 'inputPrev') th[b.offset + i] = last.u[b.refersTo[i]];
+    }
   }
-  return { points, end: evaluateTable(table, th).region < 0 ? 'outside' : 'steps' };
+  return th;
 }
 
 /**

@@ -8,6 +8,7 @@ import { register as registerMap } from './map.js';
 import { register as registerGaps } from './gaps.js';
 import { register as registerView } from './view.js';
 import { register as registerSimulate } from './simulate.js';
+import { register as registerAudit } from './audit.js';
 
 const program = new Command();
 program
@@ -17,7 +18,7 @@ program
   )
   .version('0.1.0');
 
-for (const reg of [registerSolve, registerEvaluate, registerEmit, registerMap, registerGaps, registerView, registerSimulate]) reg(program);
+for (const reg of [registerSolve, registerEvaluate, registerEmit, registerMap, registerGaps, registerView, registerSimulate, registerAudit]) reg(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof InputError) {

@@ -1,0 +1,162 @@
+import type { Command } from 'commander';
+import { readFileSync } from 'node:fs';
+import { InputError } from '../io/errors.js';
+import { writeFileAtomic } from '../io/atomic.js';
+import { readTableFile } from '../table/table.js';
+import { problemHash } from '../table/build.js';
+import { thetaBlock } from '../formulation/layout.js';
+import { runAudit, type EmbeddedData } from '../check/audit.js';
+import { consoleSummary, renderAuditHtml, renderAuditMarkdown, type AuditFigure } from '../check/audit-report.js';
+import { solveOnlineQp } from '../check/onlineqp.js';
+import { certifyFloat } from '../check/certify.js';
+import { emitC } from '../emit/index.js';
+import { analyseSlice } from '../check/gaps.js';
+import { makeSliceSpec } from '../partition/slice.js';
+import { renderMapSvg } from '../plot/svg.js';
+import { renderTimePlotSvg } from '../plot/timeplot.js';
+import type { RunResult, SimulationSetup } from '../check/simulate.js';
+import type { TableFile } from '../table/format.js';
+import type { MpqpProblem } from '../mpqp/types.js';
+import { loadTableProblem, positiveInt } from './map.js';
+
+const CLI = '(command line)';
+
+interface AuditCliOptions {
+  problem?: string;
+  output?: string;
+  json?: boolean;
+  md?: boolean;
+  samples: number;
+  seed: number;
+  steps: number;
+  precision: 'float' | 'double';
+  search: 'tree' | 'sequential';
+}
+
+function toolVersion(): string {
+  try {
+    return JSON.parse(readFileSync(new URL('../../../package.json', import.meta.url), 'utf8')).version ?? 'unknown';
+  } catch {
+    return 'unknown';
+  }
+}
+
+/** Principal slices: consecutive pairs of θ entries (first three pairs), the other entries at the box centre. */
+function coverageMaps(table: TableFile, mpqp: MpqpProblem): AuditFigure[] {
+  const nt = table.dims.ntheta;
+  if (nt < 2) return [];
+  const pairs: [number, number][] = [];
+  for (let i = 0; i + 1 < nt && pairs.length < 3; i += 2) pairs.push([i, i + 1]);
+  if (nt % 2 === 1 && pairs.length < 3 && nt > 2) pairs.push([nt - 2, nt - 1]);
+  return pairs.map((axes) => {
+    const spec = makeSliceSpec(table.box, axes);
+    const slice = analyseSlice(table, mpqp, spec);
+    const names = table.thetaNames;
+    return {
+      title: `Slice ${names[axes[0]]} × ${names[axes[1]]}`,
+      svg: renderMapSvg(table, slice).svg,
+      method: 'exact polygons of every region cut by the plane (half-plane clipping); the feasible part of the plane from support LPs; holes are the feasible part no polygon covers (polygon difference).',
+      source: `the table's regions; feasibility from the mpQP of the problem${nt > 2 ? '; other entries fixed at the box centre' : ''}.`,
+    };
+  });
+}
+
+function choice<T extends string>(flag: string, allowed: readonly T[]) {
+  return (v: string): T => {
+    if (!(allowed as readonly string[]).includes(v)) throw new InputError(CLI, flag, `expected ${allowed.join(' or ')}, got "${v}"`);
+    return v as T;
+  };
+}
+
+export function register(program: Command): void {
+  program
+    .command('audit')
+    .description('one report per table: identity, agreement with the online QP, coverage, recursive feasibility by LP, stability evidence, embedded build, closed-loop runs (exit 1 when a check fails)')
+    .argument('<table>', 'table file written by tessera solve')
+    .option('--problem <file>', 'problem file (default: the problem stored in the table)')
+    .option('-o, --output <file>', 'report file (HTML by default; Markdown with --md, JSON with --json); without it --md/--json print to stdout')
+    .option('--json', 'the report as JSON')
+    .option('--md', 'the report as Markdown text')
+    .option('--samples <n>', 'seeded sample size (agreement; coverage and stability use multiples of it)', positiveInt('--samples'), 2000)
+    .option('--seed <n>', 'seed of every sample', (v: string) => {
+      const x = Number(v);
+      if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, '--seed', `expected a non-negative integer, got "${v}"`);
+      return x;
+    }, 1)
+    .option('--steps <n>', 'steps of each closed-loop run', positiveInt('--steps'), 60)
+    .option('--precision <p>', 'embedded build: float or double', choice('--precision', ['float', 'double'] as const), 'float')
+    .option('--search <s>', 'embedded build: tree or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
+    .action((tableFile: string, o: AuditCliOptions) => {
+      if (o.json && o.md) throw new InputError(CLI, '--json', 'give at most one of --json and --md');
+      if (!o.output && !o.json && !o.md) throw new InputError(CLI, '--output', 'give -o report.html (or --json / --md to print the report)');
+      const table = readTableFile(tableFile);
+      if (table.layout?.formulation === 'mpqp' || !thetaBlock(table.layout, 'state'))
+        throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
+      if (table.regions.length === 0) throw new InputError(tableFile, 'regions', 'the table has no region: nothing to audit');
+      const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
+      const tty = process.stderr.isTTY;
+      const stage = (s: string) => tty && process.stderr.write(`\r\x1b[K  audit: ${s}…`);
+
+      stage('embedded build');
+      const build = emitC(table, { precision: o.precision, search: o.search, prefix: 'audit_law' });
+      const cert = o.precision === 'float' ? certifyFloat(table, build.arrays, { seed: o.seed }) : null;
+      const embedded: EmbeddedData = {
+        precision: o.precision,
+        search: o.search,
+        certificate: cert && { safe: cert.safe, verdict: cert.verdict, maxAbsDiff: cert.maxAbsDiff, tolerance: cert.tolerance, points: cert.points.total, lostInFloat: cert.lostInFloat, worstTheta: cert.worstTheta },
+        cost: { worstMultiplyAdds: build.cost.worstMultiplyAdds, worstComparisons: build.cost.worstComparisons, worstDepth: build.cost.worstDepth, bytes: build.cost.bytes[o.precision].total },
+      };
+      let loop: { runs: RunResult[]; setup: SimulationSetup } | null = null;
+      const report = runAudit(
+        {
+          table,
+          model: loaded.model,
+          mpqp,
+          recomputedHash: problemHash(table.problem),
+          problemFileHash: o.problem ? problemHash(loaded.raw) : null,
+          toolVersion: toolVersion(),
+          online: (th) => {
+            const r = solveOnlineQp(mpqp, th);
+            return r.feasible ? r.z.slice(0, table.layout.lawSize) : null;
+          },
+          embedded,
+          samples: o.samples,
+          seed: o.seed,
+          steps: o.steps,
+          onStage: stage,
+          onRuns: (runs, setup) => (loop = { runs, setup }),
+        },
+        tableFile,
+      );
+      let text: string;
+      if (o.json) text = JSON.stringify(report, null, 1) + '\n';
+      else if (o.md) text = renderAuditMarkdown(report);
+      else {
+        stage('figures');
+        const l = loop as { runs: RunResult[]; setup: SimulationSetup } | null;
+        const closedLoop: AuditFigure[] = l
+          ? [
+              {
+                title: 'Closed-loop runs',
+                svg: renderTimePlotSvg(l.runs, {
+                  title: `${table.name}: closed-loop runs of the audit`,
+                  names: l.setup.names,
+                  limits: l.setup.limits,
+                  tracked: thetaBlock(table.layout, 'reference')?.refersTo ?? [],
+                  outputsAreStates: !thetaBlock(table.layout, 'disturbance') && loaded.model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))) && loaded.model.C.length === loaded.model.n,
+                }),
+                method: 'the simulate engine on the nominal model; the table law drives the plant, the online QP (quadprog) is solved beside it (dotted).',
+                source: 'the runs of check 7 (first 8 drawn).',
+              },
+            ]
+          : [];
+        text = renderAuditHtml(report, { coverage: coverageMaps(table, mpqp), closedLoop });
+      }
+      if (tty) process.stderr.write('\r\x1b[K');
+      if (o.output) {
+        writeFileAtomic(o.output, text);
+        process.stdout.write(`${table.name}: audit\n${consoleSummary(report)}  written ${o.output}\n`);
+      } else process.stdout.write(text);
+      if (!report.passed) process.exitCode = 1;
+    });
+}

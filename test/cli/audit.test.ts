@@ -1,0 +1,152 @@
+/**
+ * `tessera audit` end to end through the built CLI (dist/src/cli/main.js): exit codes 0/1/2, every
+ * option, and the HTML report in headless Chromium (Debian's /usr/bin/chromium through
+ * playwright-core, as test/viz/viewer.test.ts does) with no console error. The cart tables are
+ * constructed cases (test/fixtures/audit); the recursive-feasibility verdicts are checked against
+ * quadprog and javascript-lp-solver in test/check/audit.test.ts.
+ */
+import { spawn } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { chromium, type Browser } from 'playwright-core';
+import { root, solved } from '../helpers/solved.js';
+import { tableToJson, regionContains } from '../../src/table/table.js';
+
+const cli = join(root, 'dist', 'src', 'cli', 'main.js');
+const dir = mkdtempSync(join(tmpdir(), 'tessera-audit-'));
+const shortFile = join(root, 'test', 'fixtures', 'audit', 'cart-short.json');
+const longFile = join(root, 'test', 'fixtures', 'audit', 'cart-long.json');
+const shortTable = join(dir, 'short.json');
+const longTable = join(dir, 'long.json');
+const holedTable = join(dir, 'holed.json');
+const mpqpTable = join(dir, 'mpqp.json');
+const CHROMIUM = '/usr/bin/chromium';
+
+interface Run {
+  status: number | null;
+  stdout: string;
+  stderr: string;
+}
+function run(args: string[]): Promise<Run> {
+  return new Promise((resolve) => {
+    const child = spawn(process.execPath, [cli, 'audit', ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
+    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+    child.on('close', (status) => resolve({ status, stdout, stderr }));
+  });
+}
+
+const fast = ['--samples', '300'];
+
+beforeAll(() => {
+  expect(existsSync(cli), 'build first: npx tsc -p tsconfig.json').toBe(true);
+  const long = solved(longFile).table;
+  writeFileSync(shortTable, tableToJson(solved(shortFile).table));
+  writeFileSync(longTable, tableToJson(long));
+  const idx = long.regions.findIndex((r) => regionContains(r, [0, 0]));
+  writeFileSync(holedTable, tableToJson({ ...long, regions: long.regions.filter((_, i) => i !== idx) }));
+  writeFileSync(mpqpTable, tableToJson({ ...long, layout: { ...long.layout, formulation: 'mpqp', theta: [{ kind: 'parameter', offset: 0, size: 2, names: long.thetaNames, refersTo: [0, 1] }] } }));
+}, 120000);
+
+describe('tessera audit', { timeout: 180000 }, () => {
+  let browser: Browser | null = null;
+  afterAll(async () => {
+    await browser?.close();
+  });
+
+  it('exit 0 on the recursively feasible table; the HTML opens in Chromium with no console error', async () => {
+    const out = join(dir, 'long.html');
+    const r = await run([longTable, '-o', out, ...fast]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/PASS {2}Recursive feasibility \(invariance\): PROVEN recursively feasible/);
+    expect(r.stdout).toMatch(/overall: PASS/);
+    const html = readFileSync(out, 'utf8');
+    expect(html).not.toMatch(/<script|src="http|href="http/);
+    expect(html).toMatch(/Safety\./);
+    browser = await chromium.launch({
+      executablePath: CHROMIUM,
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    });
+    const page = await browser.newPage({ viewport: { width: 1100, height: 900 } });
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(String(e)));
+    page.on('console', (m) => m.type() === 'error' && errors.push(m.text()));
+    await page.goto('file://' + out);
+    expect(await page.locator('#verdicts tr').count()).toBe(8);
+    expect(await page.locator('section h2').count()).toBe(7);
+    // every figure (a slice map and the closed-loop plot) decodes as an image
+    const widths = await page.$$eval('figure img', (imgs) => imgs.map((i) => (i as HTMLImageElement).naturalWidth));
+    expect(widths.length).toBe(2);
+    widths.forEach((w) => expect(w).toBeGreaterThan(100));
+    expect(await page.locator('figcaption').first().textContent()).toMatch(/Method: .* Source: /);
+    expect(errors).toEqual([]);
+  });
+
+  it('exit 1 on the short-horizon table, with a θ witness for the failed check', async () => {
+    const out = join(dir, 'short.html');
+    const r = await run([shortTable, '-o', out, ...fast]);
+    expect(r.status, r.stderr).toBe(1);
+    expect(r.stdout).toMatch(/FAIL {2}Recursive feasibility \(invariance\): \d+ region\(s\) can leave .* θ = pos=-?[\d.]+, vel=-?[\d.]+ → θ⁺ = pos=/);
+    expect(r.stdout).toMatch(/overall: FAIL/);
+    expect(readFileSync(out, 'utf8')).toMatch(/θ witness: pos=/);
+  });
+
+  it('exit 1 on a table with one region deleted: coverage names the hole', async () => {
+    const r = await run([holedTable, '--md', ...fast]);
+    expect(r.status, r.stderr).toBe(1);
+    expect(r.stdout).toMatch(/\| 3\. Coverage \| FAIL \| HOLE: feasible θ in no region, e\.g\. pos=/);
+    expect(r.stdout).toMatch(/## 3\. Coverage: FAIL/);
+  });
+
+  it('--json, --samples, --seed, --steps, --precision, --search, --problem', async () => {
+    const a = await run([longTable, '--json', '--samples', '200', '--seed', '4', '--steps', '25', '--precision', 'double', '--search', 'sequential', '--problem', longFile]);
+    expect(a.status, a.stderr).toBe(0);
+    const j = JSON.parse(a.stdout);
+    expect(j.agreement.data.samples).toBe(200);
+    expect(j.agreement.data.seed).toBe(4);
+    expect(j.closedLoop.data.steps).toBe(25);
+    expect(j.embedded.data.precision).toBe('double');
+    expect(j.embedded.data.search).toBe('sequential');
+    expect(j.embedded.data.certificate).toBeNull();
+    expect(j.identity.data.problemFileHash).toBe(j.identity.data.problemHash);
+    expect(j.invariance.data.lps).toBe(j.invariance.data.regions * j.invariance.data.facets.total);
+    // the same seed gives the same report; another seed another sample
+    const b = await run([longTable, '--json', '--samples', '200', '--seed', '4', '--steps', '25', '--precision', 'double', '--search', 'sequential', '--problem', longFile]);
+    expect(b.stdout).toBe(a.stdout);
+    const c = await run([longTable, '--json', '--samples', '200', '--seed', '5', '--steps', '25']);
+    expect(JSON.parse(c.stdout).closedLoop.data.starts).not.toEqual(j.closedLoop.data.starts);
+    expect(JSON.parse(c.stdout).coverage.data.monteCarlo.seed).toBe(5);
+    expect(JSON.parse(c.stdout).embedded.data.certificate.safe).toBe(true);
+    // another problem file: identity fails (not the problem the table was built from)
+    const d = await run([longTable, '--json', ...fast, '--problem', shortFile]);
+    expect(d.status).toBe(1);
+    expect(JSON.parse(d.stdout).identity.verdict).toBe('FAIL');
+  });
+
+  it('bad input: one line naming file, key and reason, exit 2, no report', async () => {
+    const out = join(dir, 'never.html');
+    const cases: [string[], RegExp][] = [
+      [[longTable], /--output: give -o report\.html/],
+      [[longTable, '--json', '--md'], /--json: give at most one of --json and --md/],
+      [[longTable, '-o', out, '--precision', 'half'], /--precision: expected float or double, got "half"/],
+      [[longTable, '-o', out, '--search', 'linear'], /--search: expected tree or sequential/],
+      [[longTable, '-o', out, '--samples', '0'], /--samples: expected a positive integer/],
+      [[longTable, '-o', out, '--steps', 'x'], /--steps: expected a positive integer/],
+      [[longTable, '-o', out, '--seed', '-1'], /--seed: expected a non-negative integer/],
+      [[longTable, '-o', out, '--problem', join(dir, 'none.json')], /none\.json: cannot read the problem file/],
+      [[mpqpTable, '-o', out], /mpqp\.json: layout: this table holds a directly given mpQP/],
+      [[join(dir, 'missing.json'), '-o', out], /missing\.json: cannot read table file/],
+    ];
+    for (const [args, re] of cases) {
+      const r = await run(args);
+      expect(r.status, `${args.join(' ')}: ${r.stderr}`).toBe(2);
+      expect(r.stderr.trim().split('\n').length).toBe(1);
+      expect(r.stderr).toMatch(re);
+      expect(existsSync(out)).toBe(false);
+    }
+  });
+});

@@ -84,3 +84,9 @@ export {
 export type { PlantDynamics, Limits, SignalNames, Schedule, OnlineLaw, SimulationSetup, StepRecord, Violation, RunResult, SimulationSummary } from './check/simulate.js';
 export { solveOnlineQp } from './check/onlineqp.js';
 export { renderTimePlotSvg, type TimePlotOptions } from './plot/timeplot.js';
+
+// audit: identity, agreement, coverage, recursive feasibility, stability evidence, embedded build, closed loop
+export { runAudit, auditChecks } from './check/audit.js';
+export type { AuditReport, AuditInputs, CheckResult, Verdict, IdentityData, AgreementData, StabilityData, EmbeddedData, ClosedLoopData } from './check/audit.js';
+export { renderAuditHtml, renderAuditMarkdown, SAFETY_CAUTION, type AuditFigure } from './check/audit-report.js';
+export { checkInvariance, type InvarianceReport, type BoundaryFacet, type AffineSuccessor, type LeavingRegion } from './check/invariance.js';

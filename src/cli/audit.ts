@@ -2,7 +2,7 @@ import type { Command } from 'commander';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
-import { readTableFile } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import { problemHash } from '../table/build.js';
 import { thetaBlock } from '../formulation/layout.js';
 import { runAudit, type EmbeddedData } from '../check/audit.js';

@@ -64,6 +64,8 @@ export { emitSelfTest, checkPrefix } from './emit/targets/c.js';
 export { arraysToJson, arraysToCsv } from './emit/export.js';
 export { sampleBox } from './emit/sample.js';
 export { certifyFloat, type Certificate, type CertifyOptions } from './check/certify.js';
+export { buildFixed, evaluateFixed, quantizeTheta, overflowProof, FixedOverflowError, FIXED_FORMATS, type FixedBuild, type FixedFormat, type FixedOptions, type FixedEvaluation, type OverflowProof } from './emit/fixed.js';
+export { certifyFixed, type FixedCertificate } from './check/certify-fixed.js';
 export { mergeRegions, type MergeStats } from './partition/merge.js';
 export { buildSearchTree, locateTree, type SearchTree, type TreeOptions, type TreeStats } from './partition/tree.js';
 

@@ -78,17 +78,21 @@ export function facetPoints(table: TableFile): number[][] {
   return out;
 }
 
-/**
- * Certificate of a float build (`buildArrays(table, 'float', …)`) against the double law of the
- * table on a seeded uniform sample and on points just inside/outside every facet: max |Δu| in input
- * units, relocated and lost points, and a SAFE / NOT SAFE verdict at `options.tolerance`.
- */
-export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
-  if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
-  const sample = sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1);
-  const facet = facetPoints(table);
-  const extra = options.extraPoints ?? [];
-  const tolerance = options.tolerance ?? defaultTolerance(table);
+/** What a build does at θ: the region it locates (−1 for none) and its u. */
+export type BuildEvaluator = (theta: number[]) => { region: number; u: number[] | null };
+
+export interface Comparison {
+  maxAbsDiff: number;
+  maxAbsDiffSameRegion: number;
+  relocated: number;
+  relocatedMaxLawDiff: number;
+  lost: number;
+  gained: number;
+  worstTheta: number[] | null;
+}
+
+/** A build against the table's double law on the given points (shared by the float and fixed-point certificates). */
+export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>): Comparison {
   let maxAbsDiff = 0;
   let maxSame = 0;
   let relocated = 0;
@@ -96,9 +100,9 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
   let lost = 0;
   let gained = 0;
   let worstTheta: number[] | null = null;
-  for (const theta of [...sample, ...facet, ...extra]) {
+  for (const theta of points) {
     const rd = locateSequential(table.regions, theta);
-    const ef = evaluateArrays(floatBuild, theta);
+    const ef = evaluate(theta);
     if (rd < 0) {
       if (ef.region >= 0) gained++;
       continue;
@@ -121,6 +125,25 @@ export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: 
       for (let i = 0; i < ud.length; i++) relocatedMaxLawDiff = Math.max(relocatedMaxLawDiff, Math.abs(uo[i] - ud[i]));
     }
   }
+  return { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta };
+}
+
+/** The certificate's point set: seeded uniform sample, facet points, extra points. */
+export function certificatePoints(table: TableFile, options: CertifyOptions): { sample: number[][]; facet: number[][]; extra: number[][] } {
+  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: facetPoints(table), extra: options.extraPoints ?? [] };
+}
+
+/**
+ * Certificate of a float build (`buildArrays(table, 'float', …)`) against the double law of the
+ * table on a seeded uniform sample and on points just inside/outside every facet: max |Δu| in input
+ * units, relocated and lost points, and a SAFE / NOT SAFE verdict at `options.tolerance`.
+ */
+export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
+  if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
+  const { sample, facet, extra } = certificatePoints(table, options);
+  const tolerance = options.tolerance ?? defaultTolerance(table);
+  const cmp = compareWithDouble(table, (t) => evaluateArrays(floatBuild, t), [...sample, ...facet, ...extra]);
+  const { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta } = cmp;
   const safe = lost === 0 && maxAbsDiff <= tolerance;
   const total = sample.length + facet.length + extra.length;
   const verdict = safe

@@ -13,6 +13,9 @@ import type { TargetCost } from '../emit/targets/target.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
 import { certifyFloat, type Certificate } from '../check/certify.js';
+import { certifyFixed, type FixedCertificate } from '../check/certify-fixed.js';
+import { targetCheck, targetCheckLines } from './target-check.js';
+import { FIXED_LAYOUT_TEXT, FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
 import { mergeRegions } from '../partition/merge.js';
 import type { SearchTree } from '../partition/tree.js';
 
@@ -22,6 +25,14 @@ function choice<T extends string>(flag: string, values: readonly T[]) {
   return (v: string): T => {
     if (!(values as readonly string[]).includes(v)) throw new InputError(CLI, flag, `expected one of ${values.join(', ')}, got "${v}"`);
     return v as T;
+  };
+}
+
+function intList(flag: string) {
+  return (v: string): number[] => {
+    const xs = v.split(',').map((x) => Number(x.trim()));
+    if (!xs.length || xs.some((x) => !Number.isInteger(x))) throw new InputError(CLI, flag, `expected comma-separated integers, got "${v}"`);
+    return xs;
   };
 }
 
@@ -44,6 +55,8 @@ interface EmitCliOptions {
   mergedTable?: string;
   report?: string;
   certify?: boolean;
+  thetaFrac?: number[];
+  targetCheck?: boolean;
   tolerance?: number;
   samples: number;
   seed: number;
@@ -61,6 +74,19 @@ function bytesLine(cost: TargetCost): string {
 
 const LANGS = targetLanguages();
 const PRECISIONS = [...new Set(LANGS.flatMap(targetPrecisions))];
+
+/** The fixed-point scaling of a build, for the JSON report (bigints as decimal strings). */
+function fixedScaling(b: FixedBuild) {
+  return {
+    format: b.precision,
+    thetaFrac: b.thetaFrac,
+    thetaAccepted: b.thetaLo.map((l, j) => [String(l), String(b.thetaHi[j])]),
+    uFrac: b.uFrac,
+    shifts: { tree: b.nodeShift, regions: b.regionShift, laws: b.lawShift, output: b.outShift },
+    regionMargin: b.slack,
+    lawErrorBound: b.lawErrorBound,
+  };
+}
 
 /** One line per array: count and, per reported precision, element type and bytes. */
 function arrayLines(c: TargetCost): string[] {
@@ -85,7 +111,9 @@ export function register(program: Command): void {
     .option('--merge', 'merge regions with the same law whose union is convex before emitting')
     .option('--merged-table <file>', 'also write the merged table (implies --merge)')
     .option('--report <file>', 'write the cost report (and certificate) as JSON')
-    .option('--certify', 'certify the float build against the double law')
+    .option('--certify', 'certify the build against the double law (float: the float build; q15/q31: that build and its overflow proof); exit code 1 when NOT SAFE')
+    .option('--target-check', 'also cross-compile float, q15 and q31 for Cortex-M0 and Cortex-M4F (arm-none-eabi-gcc): sizes, soft-float check, worst-case instructions/cycles')
+    .option('--theta-frac <list>', 'fixed point: fraction bits of each θ, comma-separated (default: the most the box allows)', intList('--theta-frac'))
     .option('--tolerance <x>', 'accepted max |u_float - u_double| for the certificate', positive('--tolerance', false))
     .option('--samples <n>', 'uniform sample size of the certificate', positive('--samples', true), 20000)
     .option('--seed <n>', 'seed of the certificate and self-test points', positive('--seed', true), 1)
@@ -140,16 +168,29 @@ export function register(program: Command): void {
             });
         if (shown) process.stderr.write('\r\x1b[K');
       }
-      const res: EmitResult<unknown> = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined });
+      const fixed = target.id === 'c-fixed';
+      if (o.thetaFrac && !fixed) throw new InputError(CLI, '--theta-frac', `applies to the fixed-point precisions only (${targetPrecisions(o.lang).filter((p) => !['float', 'double'].includes(p)).join(', ')})`);
+      let res: EmitResult<unknown>;
+      try {
+        res = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, thetaFrac: o.thetaFrac });
+      } catch (e) {
+        // a scaling that would overflow is refused like any other bad input: one line, exit 2, nothing written
+        if (e instanceof FixedOverflowError) throw new InputError(o.thetaFrac ? CLI : tablePath, o.thetaFrac ? '--theta-frac' : 'regions', e.message);
+        throw e;
+      }
       for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
       if (res.tree && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
       let cert: Certificate | null = null;
-      if (o.certify) {
+      let fcert: FixedCertificate | null = null;
+      if (o.certify && fixed) fcert = certifyFixed(table, res.arrays as FixedBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
+      else if (o.certify) {
         const floatBuild = o.precision === 'float' && o.lang === 'c' ? (res.arrays as EmitArrays) : buildArrays(table, 'float', o.search, res.tree);
         cert = certifyFloat(table, floatBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
       }
+      const tcheck = o.targetCheck ? targetCheck(table, o.search, res.tree, o.prefix) : null;
       const layout = target.layout(res.arrays);
-      if (o.arrays === 'json') writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout)]);
+      if (o.arrays === 'json')
+        writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, fixed ? { scaling: fixedScaling(res.arrays as FixedBuild), layout: FIXED_LAYOUT_TEXT } : {})]);
       if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(layout)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
       if (o.selftest) {
         const pts = sampleBox(table.box, o.selftest, o.seed);
@@ -169,9 +210,12 @@ export function register(program: Command): void {
         slack: (res.arrays as { slack: number }).slack,
         tree: res.tree ? res.tree.stats : null,
         cost: res.cost,
-        certificate: cert,
+        certificate: cert ?? fcert,
+        targetCheck: tcheck ?? undefined,
+        overflow: fixed ? (res.arrays as FixedBuild).proof : undefined,
+        scaling: fixed ? fixedScaling(res.arrays as FixedBuild) : undefined,
       };
-      if (o.report) writes.push([o.report, JSON.stringify(report, null, 1) + '\n']);
+      if (o.report) writes.push([o.report, JSON.stringify(report, (_k, v) => (typeof v === 'bigint' ? v.toString() : v), 1) + '\n']);
       // everything is computed before the first write, so a failure leaves no partial output
       for (const [p, text] of writes) writeFileAtomic(p, text);
 
@@ -186,6 +230,20 @@ export function register(program: Command): void {
         `  memory: ${bytesLine(c)}`,
         ...arrayLines(c),
       ];
+      if (fixed) {
+        const b = res.arrays as FixedBuild;
+        lines.push(
+          `  scaling: theta_q[j] = round(theta[j] * 2^frac[j]), frac = [${b.thetaFrac.join(', ')}]; u = u_q * 2^-${b.uFrac}; shifts: tree ${b.nodeShift}, regions ${b.regionShift}, laws ${b.lawShift}`,
+          `  overflow proof: ${b.proof.text}`,
+        );
+      }
+      if (fcert) {
+        lines.push(
+          `  ${fcert.precision} certificate on ${fcert.points.total} points (${fcert.points.sample} uniform, ${fcert.points.facet} at facets): max |u_fixed - u_double| = ${fcert.maxAbsDiff.toPrecision(3)} ` +
+            `(same region ${fcert.maxAbsDiffSameRegion.toPrecision(3)}, proven bound ${fcert.lawErrorBound.toPrecision(3)}), ${fcert.relocated} relocated (largest law difference ${fcert.relocatedMaxLawDiff.toPrecision(3)}), ${fcert.lostInFixed} lost in fixed point`,
+          `  ${fcert.verdict}`,
+        );
+      }
       if (cert) {
         lines.push(
           `  float certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_float - u_double| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
@@ -193,7 +251,9 @@ export function register(program: Command): void {
           `  ${cert.verdict}`,
         );
       }
+      if (tcheck) lines.push(...targetCheckLines(tcheck));
       lines.push('  caution: validate in simulation and hardware-in-the-loop, keep an independent safety layer, and handle the -1 (no region) return.');
       process.stdout.write(lines.join('\n') + '\n');
+      if ((cert && !cert.safe) || (fcert && !fcert.safe) || (tcheck && !tcheck.noSoftFloat)) process.exitCode = 1;
     });
 }

@@ -32,13 +32,14 @@ export function arraysToJson(ar: ExportMeta, layout: LayoutArray[], extra: Recor
     root: ar.root,
     maxDepth: ar.maxDepth,
     slack: ar.slack,
-    ...extra,
     layout: LAYOUT_TEXT,
+    ...extra,
   };
-  return JSON.stringify({ ...meta, arrays }) + '\n';
+  // 64-bit fixed-point constants exceed 2^53: written as decimal strings so that they stay exact
+  return JSON.stringify({ ...meta, arrays }, (_k, v) => (typeof v === 'bigint' ? (Number.isSafeInteger(Number(v)) ? Number(v) : v.toString()) : v)) + '\n';
 }
 
 /** [name, csv text] per array: header "index,value", reals with 17 significant digits; an empty array is a header alone. */
 export function arraysToCsv(layout: LayoutArray[]): [string, string][] {
-  return layout.map((s) => [s.name, 'index,value\n' + s.values.map((v, i) => `${i},${s.kind === 'f-real' ? v.toPrecision(17) : v}\n`).join('')]);
+  return layout.map((s) => [s.name, 'index,value\n' + s.values.map((v, i) => `${i},${s.kind === 'f-real' ? Number(v).toPrecision(17) : String(v)}\n`).join('')]);
 }

@@ -31,6 +31,8 @@ export interface EmitOptions<P extends string = Precision> {
   treeOptions?: TreeOptions;
   /** region count before a merge, noted in the header */
   mergedFrom?: number;
+  /** fixed point: θ fraction bits per component instead of the ones chosen from the box */
+  thetaFrac?: number[];
 }
 
 export interface EmitResult<B = EmitArrays> {
@@ -66,7 +68,7 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
   }
   const hash = tableHash(table);
   const tree = opts.search === 'tree' ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash })) : null;
-  const arrays = target.build(table, opts.precision, opts.search, tree);
+  const arrays = target.build(table, opts.precision, opts.search, tree, { thetaFrac: opts.thetaFrac });
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom };
   const files = target.files(arrays, meta);
   const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';

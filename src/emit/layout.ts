@@ -17,34 +17,41 @@ import type { EmitArrays } from './arrays.js';
  */
 export type ElementKind = 'f-real' | 'q-fixed' | 'i-index' | 'u-index' | 'u-count';
 
-/** Scaling of a `q-fixed` array: value = integer · 2^−frac (per θ column, see the fixed-point build). */
+/**
+ * Scaling of a `q-fixed` array: element k stands for integer · 2^−frac[k mod frac.length]. Row-major
+ * coefficient arrays have one entry per θ column (the array's shift minus that θ's fraction bits),
+ * θ bounds one per θ, constants a single entry.
+ */
 export interface FixedScaling {
   /** signed integer width the values need (16, 32 or 64) */
   bits: 16 | 32 | 64;
-  /** fraction bits of the array (one shift for the whole array) */
-  frac: number;
+  frac: number[];
 }
+
+/** Integers wider than 2^53 (64-bit fixed-point constants) stay exact as bigint. */
+export type LayoutValue = number | bigint;
 
 export interface LayoutArray {
   name: string;
   kind: ElementKind;
-  values: number[];
+  values: LayoutValue[];
   /** smallest and largest value ([0, 0] for an empty array) */
-  range: [number, number];
+  range: [LayoutValue, LayoutValue];
   fixed?: FixedScaling;
 }
 
-function range(values: number[]): [number, number] {
-  let lo = Infinity;
-  let hi = -Infinity;
+function range(values: LayoutValue[]): [LayoutValue, LayoutValue] {
+  if (!values.length) return [0, 0];
+  let lo = values[0];
+  let hi = values[0];
   for (const v of values) {
     if (v < lo) lo = v;
     if (v > hi) hi = v;
   }
-  return values.length ? [lo, hi] : [0, 0];
+  return [lo, hi];
 }
 
-export function layoutArray(name: string, kind: ElementKind, values: number[], fixed?: FixedScaling): LayoutArray {
+export function layoutArray(name: string, kind: ElementKind, values: LayoutValue[], fixed?: FixedScaling): LayoutArray {
   return fixed ? { name, kind, values, range: range(values), fixed } : { name, kind, values, range: range(values) };
 }
 

@@ -10,7 +10,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { emitC, locateSequential, locateTree, parseProblem, sampleBox, solveProblem, treeForTable, type MpqpProblem } from '../../src/index.js';
+import { emit, emitC, locateSequential, locateTree, parseProblem, sampleBox, solveProblem, treeForTable, type MpqpProblem } from '../../src/index.js';
+import { quantizeTheta, type FixedBuild } from '../../src/emit/fixed.js';
 import { formatReal } from '../../src/emit/targets/c.js';
 
 const require = createRequire(import.meta.url);
@@ -35,14 +36,19 @@ function median(xs: number[]): number {
   return s[Math.floor(s.length / 2)];
 }
 
-/** C timing harness: REPS passes over the points, prints the median ns per evaluation. */
-function benchMain(prefix: string, real: 'float' | 'double', points: number[][]): string {
-  const flat = points.flatMap((p) => p.map((v) => (real === 'float' ? Math.fround(v) : v)));
+/**
+ * C timing harness: REPS passes over the points, prints the median ns per evaluation. Fixed-point
+ * builds get the same points scaled to integers as their header tells the caller (quantizeTheta).
+ */
+function benchMain(prefix: string, real: 'float' | 'double' | 'int16_t' | 'int32_t', points: number[][], fixed?: FixedBuild): string {
+  const flat = fixed
+    ? points.flatMap((p) => quantizeTheta(fixed, p)!.map(String))
+    : points.flatMap((p) => p.map((v) => formatReal(real === 'float' ? Math.fround(v) : v, real as 'float' | 'double')));
   const NT = `${prefix.toUpperCase()}_NT`;
   return `#include <stdio.h>
 #include <time.h>
 #include "${prefix}.h"
-static const ${real} pts[${flat.length}] = {${flat.map((v) => formatReal(v, real)).join(',')}};
+static const ${real} pts[${flat.length}] = {${flat.join(',')}};
 static int cmp(const void *a, const void *b) { double x = *(const double *)a, y = *(const double *)b; return (x > y) - (x < y); }
 #include <stdlib.h>
 int main(void)
@@ -123,13 +129,15 @@ export async function run(): Promise<void> {
   const dir = mkdtempSync(join(tmpdir(), 'tessera-bench-'));
   const cNs: Record<string, number> = {};
   for (const search of ['tree', 'sequential'] as const)
-    for (const precision of ['float', 'double'] as const) {
-      const r = emitC(table, { precision, search, prefix: 'law', tree });
+    for (const precision of ['float', 'double', 'q15', 'q31'] as const) {
+      const r = emit(table, { lang: 'c', precision, search, prefix: 'law', tree });
+      const fixed = precision === 'q15' || precision === 'q31' ? (r.arrays as FixedBuild) : undefined;
+      const ctype = precision === 'q15' ? 'int16_t' : precision === 'q31' ? 'int32_t' : precision;
       const sub = join(dir, `${search}-${precision}`);
       execFileSync('mkdir', ['-p', sub]);
       writeFileSync(join(sub, 'law.h'), r.header);
       writeFileSync(join(sub, 'law.c'), r.source);
-      writeFileSync(join(sub, 'bench.c'), benchMain('law', precision, points));
+      writeFileSync(join(sub, 'bench.c'), benchMain('law', ctype, points, fixed));
       // the library with the issue's strict flags; the harness needs POSIX clock_gettime
       execFileSync('gcc', [...STRICT, '-c', '-o', join(sub, 'law.o'), join(sub, 'law.c')]);
       execFileSync('gcc', ['-std=c99', '-D_POSIX_C_SOURCE=199309L', '-O2', '-o', join(sub, 'bench'), join(sub, 'bench.c'), join(sub, 'law.o')]);
@@ -192,6 +200,11 @@ export async function run(): Promise<void> {
   }, qpPts, 5);
   out.push(`  online QP (quadprog, Node, nz = ${mpqp.nz}): ${(qpNs / 1000).toFixed(1)} µs/solve median of 5 passes over ${qpPts.length} of the same points`);
   for (const k of Object.keys(cNs)) out.push(`  ratio QP / C ${k}: ${(qpNs / cNs[k]).toFixed(0)}×`);
+  for (const search of ['tree', 'sequential'])
+    out.push(
+      `  fixed point vs float/double on the same points (${search}): q15 ${(cNs[`${search}-q15`] / cNs[`${search}-float`]).toFixed(2)}× float, q31 ${(cNs[`${search}-q31`] / cNs[`${search}-float`]).toFixed(2)}× float, ` +
+        `double ${(cNs[`${search}-double`] / cNs[`${search}-float`]).toFixed(2)}× float (host x86-64; a core without FPU is where fixed point pays, see emit --target-check)`,
+    );
   const treeFloat = cNs['tree-float'];
   out.push(
     `  targets: tree (float) ${treeFloat.toFixed(1)} ns ${treeFloat <= 100 ? '≤' : '>'} 100 ns; ${(qpNs / treeFloat).toFixed(0)}× ${qpNs / treeFloat >= 500 ? '≥' : '<'} 500×; ` +

@@ -11,7 +11,7 @@
 import type { TableFile } from '../../table/format.js';
 import { buildArrays, costFigures, evaluateArrays, type EmitArrays, type Precision } from '../arrays.js';
 import type { ArrayBytes, EmitMeta, EmitTarget } from './target.js';
-import { layoutOf, type LayoutArray } from '../layout.js';
+import { layoutOf, type LayoutArray, type LayoutValue } from '../layout.js';
 
 /** C element type of an index array: the narrowest fixed-width type that holds every entry. */
 export function indexType(range: [number, number], signed: boolean): 'int16_t' | 'int32_t' | 'uint16_t' | 'uint32_t' {
@@ -26,7 +26,7 @@ export const C_TYPE_BYTES: Record<string, number> = { float: 4, double: 8, int16
 export interface CArray {
   name: string;
   ctype: string;
-  values: number[];
+  values: LayoutValue[];
   real: boolean;
 }
 
@@ -37,11 +37,11 @@ export function cElementType(a: LayoutArray, layout: LayoutArray[], precision: P
       return precision;
     case 'i-index': {
       const refs = layout.filter((x) => x.kind === 'i-index');
-      return indexType([Math.min(root, ...refs.map((x) => x.range[0])), Math.max(root, ...refs.map((x) => x.range[1]))], true);
+      return indexType([Math.min(root, ...refs.map((x) => Number(x.range[0]))), Math.max(root, ...refs.map((x) => Number(x.range[1])))], true);
     }
     case 'u-index':
     case 'u-count':
-      return indexType(a.range, false);
+      return indexType([Number(a.range[0]), Number(a.range[1])], false);
     case 'q-fixed':
       return `int${a.fixed!.bits}_t`;
   }
@@ -53,15 +53,19 @@ export function cElementType(a: LayoutArray, layout: LayoutArray[], precision: P
  * static const would not compile with -Werror).
  */
 export function cArrays(ar: EmitArrays): CArray[] {
-  const layout = layoutOf(ar);
+  return cDeclared(layoutOf(ar), ar.precision, ar.search === 'tree' && ar.nodeLeft.length === 0, ar.root);
+}
+
+/** The C rules on a layout: element types, one-leaf trees without node arrays, no empty arrays. */
+export function cDeclared(layout: LayoutArray[], precision: Precision, noNodes: boolean, root: number): CArray[] {
   return layout
-    .filter((a) => !(ar.search === 'tree' && ar.nodeLeft.length === 0 && a.name.startsWith('node_')))
-    .map((a) => ({ name: a.name, ctype: cElementType(a, layout, ar.precision, ar.root), values: a.values.length > 0 ? a.values : [0], real: a.kind === 'f-real' }));
+    .filter((a) => !(noNodes && a.name.startsWith('node_')))
+    .map((a) => ({ name: a.name, ctype: cElementType(a, layout, precision, root), values: a.values.length > 0 ? a.values : [0], real: a.kind === 'f-real' }));
 }
 
 
 /** Bytes of every declared array and the total, as gcc's sizeof gives them. */
-export function cArrayBytes(arrays: { name: string; ctype: string; values: number[] }[]): { arrays: ArrayBytes[]; total: number } {
+export function cArrayBytes(arrays: { name: string; ctype: string; values: unknown[] }[]): { arrays: ArrayBytes[]; total: number } {
   const out = arrays.map((s) => ({ name: s.name, type: s.ctype, count: s.values.length, bytes: s.values.length * C_TYPE_BYTES[s.ctype] }));
   return { arrays: out, total: out.reduce((s, a) => s + a.bytes, 0) };
 }
@@ -84,14 +88,22 @@ export function commentText(s: string): string {
   return s.replace(/\*\//g, '* /').replace(/[^\x20-\x7e]/g, '?');
 }
 
+/** An integer literal; int64_t ones carry INT64_C (C99 <stdint.h>) so that they are 64-bit on every target, and the most negative value of a type is written as (−max − 1). */
+export function cInteger(v: LayoutValue, ctype: string): string {
+  const x = BigInt(v);
+  if (ctype === 'int64_t') return x === -(1n << 63n) ? '(-INT64_C(9223372036854775807) - 1)' : `INT64_C(${x})`;
+  if (ctype === 'int32_t' && x === -(1n << 31n)) return '(-2147483647 - 1)';
+  return String(x);
+}
+
 export function formatReal(v: number, precision: 'float' | 'double'): string {
   if (!Number.isFinite(v)) throw new Error(`cannot emit non-finite number ${v}`);
   const s = v.toPrecision(17);
   return precision === 'float' ? s + 'f' : s;
 }
 
-export function arrayBlock(prefix: string, name: string, ctype: string, values: number[], real: 'float' | 'double' | null): string {
-  const items = values.map((v) => (real ? formatReal(v, real) : String(v)));
+export function arrayBlock(prefix: string, name: string, ctype: string, values: LayoutValue[], real: 'float' | 'double' | null): string {
+  const items = values.map((v) => (real ? formatReal(Number(v), real) : cInteger(v, ctype)));
   const perLine = real ? 4 : 12;
   const lines: string[] = [];
   for (let i = 0; i < items.length; i += perLine) lines.push('    ' + items.slice(i, i + perLine).join(', '));

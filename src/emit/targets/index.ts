@@ -4,8 +4,9 @@
  */
 import type { EmitTarget } from './target.js';
 import { cTarget } from './c.js';
+import { cFixedTarget } from './c-fixed.js';
 
-export const TARGETS: readonly EmitTarget<any>[] = [cTarget]; // eslint-disable-line @typescript-eslint/no-explicit-any
+export const TARGETS: readonly EmitTarget<any>[] = [cTarget, cFixedTarget]; // eslint-disable-line @typescript-eslint/no-explicit-any
 
 /** Languages that have at least one target, in registry order. */
 export function targetLanguages(): string[] {

@@ -25,6 +25,12 @@ export interface TargetCost extends CostFigures {
   bytes: Record<string, { arrays: ArrayBytes[]; total: number }>;
 }
 
+/** Target-specific build options (ignored by targets that have no use for them). */
+export interface TargetOptions {
+  /** fixed point: θ fraction bits per component, forced instead of chosen from the box */
+  thetaFrac?: number[];
+}
+
 export interface TargetFile {
   name: string;
   text: string;
@@ -42,7 +48,7 @@ export interface EmitTarget<B = unknown> {
   lang: string;
   precisions: readonly string[];
   summary: string;
-  build(table: TableFile, precision: string, search: SearchKind, tree: SearchTree | null): B;
+  build(table: TableFile, precision: string, search: SearchKind, tree: SearchTree | null, options?: TargetOptions): B;
   evaluate(build: B, theta: ArrayLike<number>): ArrayEvaluation;
   layout(build: B): LayoutArray[];
   /** the generated files (e.g. NAME.h and NAME.c) */

@@ -46,7 +46,7 @@ function install(tarball: string, project: string): 'npm install --offline' | 'u
 }
 
 describe('npm pack → install → README example', () => {
-  it('the tarball holds only dist (.js, .d.ts), README, LICENSE and package.json', () => {
+  it('the tarball holds only dist (.js, .d.ts), README, LICENSE and package.json', { timeout: 120000 }, () => {
     const { files } = pack();
     expect(files).toContain('dist/src/index.js');
     expect(files).toContain('dist/src/index.d.ts');

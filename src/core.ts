@@ -21,8 +21,8 @@ export { tol, type Tolerances } from './tol.js';
 
 // problems: parse and validate problem documents, build the mpQP
 export { parseProblem, parseProblemText } from './problem/read.js';
-export type { Bounds, LoadedProblem, MpcModel, TerminalKind } from './problem/types.js';
-export { buildMpqp } from './mpqp/condition.js';
+export type { Bounds, LoadedProblem, MpcModel, TerminalKind, SoftLimits, TerminalSet } from './problem/types.js';
+export { formulate, buildMpqp, type Formulation } from './formulation/index.js';
 export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition } from './mpqp/types.js';
 
 // solving

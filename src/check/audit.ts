@@ -95,9 +95,11 @@ export interface StabilityData {
 }
 
 export interface EmbeddedData {
-  precision: 'float' | 'double';
+  /** float, double, or a fixed-point format (q15, q31) of the C target */
+  precision: string;
   search: 'tree' | 'sequential';
-  certificate: null | { safe: boolean; verdict: string; maxAbsDiff: number; tolerance: number; points: number; lostInFloat: number; worstTheta: number[] | null };
+  /** the float or fixed-point certificate; null for the double build */
+  certificate: null | { safe: boolean; verdict: string; maxAbsDiff: number; tolerance: number; points: number; lost: number; worstTheta: number[] | null };
   cost: { worstMultiplyAdds: number; worstComparisons: number; worstDepth: number; bytes: number };
 }
 
@@ -406,7 +408,7 @@ export function checkEmbedded(inp: AuditInputs): CheckResult<EmbeddedData> {
     name: 'Embedded build',
     verdict: ok ? 'PASS' : 'FAIL',
     line: e.certificate ? `${e.certificate.verdict}; ${cost}` : `double build: the C evaluates the table in the same double arithmetic; ${cost}`,
-    method: `tessera's C generator for ${e.precision}, ${e.search} search. The float certificate replays the float arithmetic of the generated C (Math.fround after every operation) against the double law on a seeded uniform sample plus facet points; cost figures count the worst path through the search and the bytes of every const array.`,
+    method: `tessera's C generator for ${e.precision}, ${e.search} search. The ${e.precision === 'float' ? 'float certificate replays the float arithmetic of the generated C (Math.fround after every operation)' : e.precision === 'double' ? 'double build needs no certificate; a certificate would replay its arithmetic' : 'fixed-point certificate replays the exact integer arithmetic of the generated C, with its overflow proof,'} against the double law on a seeded uniform sample plus facet points; cost figures count the worst path through the search and the bytes of every const array.`,
     witness: ok ? null : (e.certificate?.worstTheta ?? null),
     data: e,
   };

@@ -9,7 +9,11 @@ import { runAudit, type EmbeddedData } from '../check/audit.js';
 import { consoleSummary, renderAuditHtml, renderAuditMarkdown, type AuditFigure } from '../check/audit-report.js';
 import { solveOnlineQp } from '../check/onlineqp.js';
 import { certifyFloat } from '../check/certify.js';
-import { emitC } from '../emit/index.js';
+import { emit } from '../emit/index.js';
+import { targetPrecisions } from '../emit/targets/index.js';
+import { FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
+import type { EmitArrays } from '../emit/arrays.js';
+import { certifyFixed } from '../check/certify-fixed.js';
 import { analyseSlice } from '../check/gaps.js';
 import { makeSliceSpec } from '../partition/slice.js';
 import { renderMapSvg } from '../plot/svg.js';
@@ -17,7 +21,7 @@ import { renderTimePlotSvg } from '../plot/timeplot.js';
 import type { RunResult, SimulationSetup } from '../check/simulate.js';
 import type { TableFile } from '../table/format.js';
 import type { MpqpProblem } from '../mpqp/types.js';
-import { loadTableProblem, positiveInt } from './map.js';
+import { loadTableProblem, nonNegativeInt, positiveInt } from './map.js';
 
 const CLI = '(command line)';
 
@@ -29,7 +33,7 @@ interface AuditCliOptions {
   samples: number;
   seed: number;
   steps: number;
-  precision: 'float' | 'double';
+  precision: string;
   search: 'tree' | 'sequential';
 }
 
@@ -61,6 +65,26 @@ function coverageMaps(table: TableFile, mpqp: MpqpProblem): AuditFigure[] {
   });
 }
 
+/** The C build for the options given, its certificate (float or fixed point) and its cost. */
+function embeddedBuild(table: TableFile, precision: string, search: 'tree' | 'sequential', seed: number): EmbeddedData {
+  const none = { worstMultiplyAdds: 0, worstComparisons: 0, worstDepth: 0, bytes: 0 };
+  try {
+    const build = emit<EmitArrays | FixedBuild>(table, { lang: 'c', precision, search, prefix: 'audit_law' });
+    const cost = { worstMultiplyAdds: build.cost.worstMultiplyAdds, worstComparisons: build.cost.worstComparisons, worstDepth: build.cost.worstDepth, bytes: build.cost.bytes[precision]?.total ?? 0 };
+    if (precision === 'double') return { precision, search, certificate: null, cost };
+    if (precision === 'float') {
+      const c = certifyFloat(table, build.arrays as EmitArrays, { seed });
+      return { precision, search, cost, certificate: { safe: c.safe, verdict: c.verdict, maxAbsDiff: c.maxAbsDiff, tolerance: c.tolerance, points: c.points.total, lost: c.lostInFloat, worstTheta: c.worstTheta } };
+    }
+    const c = certifyFixed(table, build.arrays as FixedBuild, { seed });
+    return { precision, search, cost, certificate: { safe: c.safe, verdict: c.verdict, maxAbsDiff: c.maxAbsDiff, tolerance: c.tolerance, points: c.points.total, lost: c.lostInFixed, worstTheta: c.worstTheta } };
+  } catch (e) {
+    // a fixed-point format too narrow for the table cannot be built at all: the check fails with the reason
+    if (!(e instanceof FixedOverflowError)) throw e;
+    return { precision, search, cost: none, certificate: { safe: false, verdict: `NOT SAFE: no ${precision} build (${e.message})`, maxAbsDiff: Infinity, tolerance: 0, points: 0, lost: 0, worstTheta: null } };
+  }
+}
+
 function choice<T extends string>(flag: string, allowed: readonly T[]) {
   return (v: string): T => {
     if (!(allowed as readonly string[]).includes(v)) throw new InputError(CLI, flag, `expected ${allowed.join(' or ')}, got "${v}"`);
@@ -78,13 +102,9 @@ export function register(program: Command): void {
     .option('--json', 'the report as JSON')
     .option('--md', 'the report as Markdown text')
     .option('--samples <n>', 'seeded sample size (agreement; coverage and stability use multiples of it)', positiveInt('--samples'), 2000)
-    .option('--seed <n>', 'seed of every sample', (v: string) => {
-      const x = Number(v);
-      if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, '--seed', `expected a non-negative integer, got "${v}"`);
-      return x;
-    }, 1)
+    .option('--seed <n>', 'seed of every sample', nonNegativeInt('--seed'), 1)
     .option('--steps <n>', 'steps of each closed-loop run', positiveInt('--steps'), 60)
-    .option('--precision <p>', 'embedded build: float or double', choice('--precision', ['float', 'double'] as const), 'float')
+    .option('--precision <p>', `embedded build: ${targetPrecisions('c').join(', ')}`, choice('--precision', targetPrecisions('c')), 'float')
     .option('--search <s>', 'embedded build: tree or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
     .action((tableFile: string, o: AuditCliOptions) => {
       if (o.json && o.md) throw new InputError(CLI, '--json', 'give at most one of --json and --md');
@@ -94,23 +114,18 @@ export function register(program: Command): void {
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
       if (table.regions.length === 0) throw new InputError(tableFile, 'regions', 'the table has no region: nothing to audit');
       const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
+      const model = loaded.model;
+      if (!model) throw new InputError(o.problem ?? tableFile, 'mpqp', 'the problem is a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
       const tty = process.stderr.isTTY;
       const stage = (s: string) => tty && process.stderr.write(`\r\x1b[K  audit: ${s}…`);
 
       stage('embedded build');
-      const build = emitC(table, { precision: o.precision, search: o.search, prefix: 'audit_law' });
-      const cert = o.precision === 'float' ? certifyFloat(table, build.arrays, { seed: o.seed }) : null;
-      const embedded: EmbeddedData = {
-        precision: o.precision,
-        search: o.search,
-        certificate: cert && { safe: cert.safe, verdict: cert.verdict, maxAbsDiff: cert.maxAbsDiff, tolerance: cert.tolerance, points: cert.points.total, lostInFloat: cert.lostInFloat, worstTheta: cert.worstTheta },
-        cost: { worstMultiplyAdds: build.cost.worstMultiplyAdds, worstComparisons: build.cost.worstComparisons, worstDepth: build.cost.worstDepth, bytes: build.cost.bytes[o.precision].total },
-      };
+      const embedded = embeddedBuild(table, o.precision, o.search, o.seed);
       let loop: { runs: RunResult[]; setup: SimulationSetup } | null = null;
       const report = runAudit(
         {
           table,
-          model: loaded.model,
+          model,
           mpqp,
           recomputedHash: problemHash(table.problem),
           problemFileHash: o.problem ? problemHash(loaded.raw) : null,
@@ -143,7 +158,7 @@ export function register(program: Command): void {
                   names: l.setup.names,
                   limits: l.setup.limits,
                   tracked: thetaBlock(table.layout, 'reference')?.refersTo ?? [],
-                  outputsAreStates: !thetaBlock(table.layout, 'disturbance') && loaded.model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))) && loaded.model.C.length === loaded.model.n,
+                  outputsAreStates: !thetaBlock(table.layout, 'disturbance') && model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))) && model.C.length === model.n,
                 }),
                 method: 'the simulate engine on the nominal model; the table law drives the plant, the online QP (quadprog) is solved beside it (dotted).',
                 source: 'the runs of check 7 (first 8 drawn).',

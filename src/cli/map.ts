@@ -70,6 +70,14 @@ export function positiveInt(flag: string) {
   };
 }
 
+export function nonNegativeInt(flag: string) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, flag, `expected a non-negative integer, got "${v}"`);
+    return x;
+  };
+}
+
 interface MapCliOptions {
   axes?: string;
   fix?: string;
@@ -104,6 +112,8 @@ export function register(program: Command): void {
       if (o.heat === 'cost' && isMergedTable(table))
         throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
       const problem = loadTableProblem(table, tableFile, o.problem);
+      if (o.trajectories && !problem.loaded.model)
+        throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
       const starts = o.trajectories ? readInitialStates(o.trajectories, table.dims.ntheta) : undefined;
       const res = drawMap(table, problem, {
         axes,

@@ -21,7 +21,7 @@ import {
 } from '../check/simulate.js';
 import { solveOnlineQp } from '../check/onlineqp.js';
 import { renderTimePlotSvg } from '../plot/timeplot.js';
-import { loadTableProblem, positiveInt } from './map.js';
+import { loadTableProblem, nonNegativeInt, positiveInt } from './map.js';
 
 const CLI = '(command line)';
 const num = format('.4~g');
@@ -114,7 +114,8 @@ function sameShape(a: number[][] | null | undefined, b: number[][] | null | unde
 
 /** The "true" plant of a mismatch study: the plant of another problem file, of the same dimensions. */
 function truePlant(file: string, nominal: MpcModel): ReturnType<typeof plantOf> {
-  const model = loadProblem(file).model as MpcModel & { Bd?: number[][] | null; Cd?: number[][] | null };
+  const model = loadProblem(file).model;
+  if (!model) throw new InputError(file, 'mpqp', 'the "true" plant must come from an MPC problem file, not a directly given mpQP');
   const nom = nominal as MpcModel & { Bd?: number[][] | null; Cd?: number[][] | null };
   if (model.n !== nominal.n || model.m !== nominal.m || model.p !== nominal.p)
     throw new InputError(file, 'plant', `has n=${model.n}, m=${model.m}, p=${model.p}; the table's plant has n=${nominal.n}, m=${nominal.m}, p=${nominal.p}`);
@@ -145,11 +146,7 @@ export function register(program: Command): void {
     .option('--x0 <values>', 'one initial state x(0) (n values; n+m with u_prev(0) when θ holds the previous input)')
     .option('--initial <csv>', 'initial states, one per line, same values as --x0; optional header line')
     .option('--samples <n>', 'seeded initial states the table covers, uniform in the box (default 8 when no --x0/--initial)', positiveInt('--samples'))
-    .option('--seed <n>', 'seed of the sampled initial states and of the noise', (v: string) => {
-      const x = Number(v);
-      if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, '--seed', `expected a non-negative integer, got "${v}"`);
-      return x;
-    }, 1)
+    .option('--seed <n>', 'seed of the sampled initial states and of the noise', nonNegativeInt('--seed'), 1)
     .option('--reference <values|csv>', 'reference r: constant "v1,…" or a CSV schedule "step,v1,…" (values hold from that step)')
     .option('--disturbance <values|csv>', 'disturbance d: constant or CSV schedule as for --reference (default 0)')
     .option('--plant <file>', 'problem file whose plant is the "true" plant (model mismatch); the table still uses its own model')
@@ -164,6 +161,7 @@ export function register(program: Command): void {
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant to simulate');
       const { loaded, mpqp } = loadTableProblem(table, tableFile);
       const model = loaded.model;
+      if (!model) throw new InputError(tableFile, 'problem', 'this table holds a directly given mpQP: it has no plant to simulate');
       const n = model.n;
       const m = model.m;
       const prevBlock = thetaBlock(table.layout, 'inputPrev');

@@ -4,6 +4,7 @@ import { loadProblem } from '../problem/load.js';
 import { solveProblem } from '../table/solve.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
+import type { Layout } from '../formulation/layout.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -52,7 +53,7 @@ export function register(program: Command): void {
       const s = partition.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
-        `  θ = [${table.thetaNames.join(', ')}], u = [${table.inputNames.join(', ')}], ${mpqp.nz} free moves, ${mpqp.nc} constraint rows`,
+        `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
@@ -61,4 +62,13 @@ export function register(program: Command): void {
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');
     });
+}
+
+/** "8 free moves, 2 state slacks" — the z blocks and the features, in words. */
+function layoutSummary(layout: Layout): string {
+  const words: Record<string, string> = { moves: 'free moves', stateSlack: 'state slacks', outputSlack: 'output slacks', decision: 'decision variables' };
+  const parts = layout.z.map((b) => `${b.size} ${words[b.kind]}`);
+  parts.unshift(layout.formulation);
+  if (layout.terminalSet) parts.push(`terminal set ${layout.terminalSet.rows} rows (determination index ${layout.terminalSet.index})`);
+  return parts.join(', ');
 }

@@ -33,7 +33,7 @@ export interface ZBlock {
   offset: number;
   size: number;
   names: string[];
-  /** for 'moves': the move index k of each entry's block start is floor(i / nu); for slacks: the state/output index; for 'decision': the z index */
+  /** for 'moves': the index within the move block (move k = floor(i / lawSize), input i mod lawSize); for slacks: the state/output index; for 'decision': the z index */
   refersTo: number[];
 }
 
@@ -50,6 +50,8 @@ export interface Layout {
   lawSize: number;
   /** names of the law's entries (input names, or z1… for an mpQP) */
   lawNames: string[];
+  /** with the 'terminalSet' feature: rows of the terminal invariant set and its Gilbert–Tan determination index */
+  terminalSet?: { rows: number; index: number };
 }
 
 /** The block of the given kind, or undefined when the layout has none. */
@@ -62,14 +64,14 @@ export function thetaNamesOf(layout: Layout): string[] {
   return layout.theta.flatMap((b) => b.names);
 }
 
-/** The layout of a plain parameter vector θ (names given) with a law of `lawNames.length` entries first in z. */
-export function plainLayout(thetaNames: string[], lawNames: string[], nz: number = lawNames.length): Layout {
+/** The layout of a plain parameter vector θ (names given) with a law of `lawNames.length` entries first in z (z names: `zNames`, else the law names then z<i>). */
+export function plainLayout(thetaNames: string[], lawNames: string[], nz: number = lawNames.length, zNames?: string[]): Layout {
   const range = (k: number) => Array.from({ length: k }, (_, i) => i);
   return {
     formulation: 'mpqp',
     features: [],
     theta: [{ kind: 'parameter', offset: 0, size: thetaNames.length, names: [...thetaNames], refersTo: range(thetaNames.length) }],
-    z: [{ kind: 'decision', offset: 0, size: nz, names: range(nz).map((i) => lawNames[i] ?? `z${i + 1}`), refersTo: range(nz) }],
+    z: [{ kind: 'decision', offset: 0, size: nz, names: range(nz).map((i) => zNames?.[i] ?? lawNames[i] ?? `z${i + 1}`), refersTo: range(nz) }],
     lawSize: lawNames.length,
     lawNames: [...lawNames],
   };

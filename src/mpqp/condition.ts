@@ -1,6 +1,5 @@
 import type { MpqpProblem } from './types.js';
 import { tol } from '../tol.js';
-import { buildRawMpqp } from '../problem/condense.js';
 
 /**
  * Condition the raw condensed mpQP for the engine:
@@ -62,9 +61,4 @@ export function conditionMpqp(raw: MpqpProblem): MpqpProblem {
     labels,
     mergedFrom,
   };
-}
-
-/** The engine's mpQP of a validated model: the condensed problem, conditioned. */
-export function buildMpqp(model: import('../problem/types.js').MpcModel): MpqpProblem {
-  return conditionMpqp(buildRawMpqp(model));
 }

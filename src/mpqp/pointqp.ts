@@ -4,7 +4,8 @@ import { tol } from '../tol.js';
 
 /**
  * θ-independent data of the mpQP, computed once: H⁻¹, K = H⁻¹Gᵀ, M = G H⁻¹ Gᵀ,
- * H⁻¹F and S = E + G H⁻¹ F. Both the point QP and the critical-region builder work on these.
+ * H⁻¹F, S = E + G H⁻¹ F, H⁻¹c and wc = w + G H⁻¹ c (the right-hand side seen from the
+ * unconstrained minimiser). Both the point QP and the critical-region builder work on these.
  */
 export interface QpWorkspace {
   problem: MpqpProblem;
@@ -13,6 +14,8 @@ export interface QpWorkspace {
   M: Float64Array; // nc×nc
   HinvF: Float64Array; // nz×nt
   S: Float64Array; // nc×nt
+  Hinvc: Float64Array; // nz
+  wc: Float64Array; // nc
 }
 
 const workspaces = new WeakMap<MpqpProblem, QpWorkspace>();
@@ -30,7 +33,10 @@ export function qpWorkspace(problem: MpqpProblem): QpWorkspace {
   const GHF = matMul(problem.G, HinvF, nc, nz, nt);
   const S = new Float64Array(nc * nt);
   for (let i = 0; i < nc * nt; i++) S[i] = problem.E[i] + GHF[i];
-  const ws = { problem, Hinv, K, M, HinvF, S };
+  const Hinvc = matMul(Hinv, problem.c, nz, nz, 1);
+  const wc = matMul(problem.G, Hinvc, nc, nz, 1);
+  for (let i = 0; i < nc; i++) wc[i] += problem.w[i];
+  const ws = { problem, Hinv, K, M, HinvF, S, Hinvc, wc };
   workspaces.set(problem, ws);
   return ws;
 }
@@ -55,10 +61,10 @@ export interface PointQpResult {
 export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>): PointQpResult {
   const ws = qpWorkspace(problem);
   const { nz, nc, ntheta: nt } = problem;
-  const { K, M, HinvF } = ws;
+  const { K, M, HinvF, Hinvc } = ws;
   const z = new Float64Array(nz);
   for (let i = 0; i < nz; i++) {
-    let s = 0;
+    let s = -Hinvc[i];
     for (let j = 0; j < nt; j++) s -= HinvF[i * nt + j] * theta[j];
     z[i] = s;
   }

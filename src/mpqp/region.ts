@@ -14,14 +14,14 @@ export interface LpEngine {
 
 /**
  * Critical region of one active set A (Bemporad, Morari, Dua & Pistikopoulos 2002):
- * λ_A(θ) = −M_AA⁻¹ (w_A + S_A θ), z(θ) = −H⁻¹Fθ − K_A λ_A(θ); the region is where every
+ * λ_A(θ) = −M_AA⁻¹ (wc_A + S_A θ), z(θ) = −H⁻¹(Fθ + c) − K_A λ_A(θ); the region is where every
  * row off A is primal feasible and every multiplier on A is ≥ 0, inside the box. Rows are then
  * normalised, thinned (box-implied rows analytically, the rest by LP) and the Chebyshev ball found.
  */
 export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEngine): RegionResult {
   const ws = qpWorkspace(problem);
-  const { nz, nc, ntheta: nt, nu } = problem;
-  const { K, M, HinvF, S } = ws;
+  const { nz, nc, ntheta: nt, lawSize } = problem;
+  const { K, M, HinvF, S, Hinvc, wc } = ws;
   const k = activeSet.length;
   const inA = new Uint8Array(nc);
   for (const i of activeSet) inA[i] = 1;
@@ -40,7 +40,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
         Lth[a * nt + j] = s;
       }
       let s = 0;
-      for (let b = 0; b < k; b++) s -= inv[a * k + b] * problem.w[activeSet[b]];
+      for (let b = 0; b < k; b++) s -= inv[a * k + b] * wc[activeSet[b]];
       lc[a] = s;
     }
   }
@@ -53,7 +53,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
       for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * Lth[a * nt + j];
       Zth[i * nt + j] = s;
     }
-    let s = 0;
+    let s = -Hinvc[i];
     for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * lc[a];
     zc[i] = s;
   }
@@ -152,16 +152,16 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
       b,
       facets,
       chebyshev: { center: Array.from(ball.center), radius: ball.radius },
-      law: { F: movesF.slice(0, nu), g: movesG.slice(0, nu) },
+      law: { F: movesF.slice(0, lawSize), g: movesG.slice(0, lawSize) },
       moves: { F: movesF, g: movesG },
       value,
     },
   };
 }
 
-/** J*(θ) = ½zᵀHz + zᵀFθ + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */
+/** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */
 function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array): CriticalRegion['value'] {
-  const { nz, ntheta: nt, H, F, Y } = problem;
+  const { nz, ntheta: nt, H, F, Y, c } = problem;
   const HZ = new Float64Array(nz * nt);
   for (let i = 0; i < nz; i++)
     for (let j = 0; j < nt; j++) {
@@ -188,11 +188,14 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
   const q: number[] = [];
   for (let j = 0; j < nt; j++) {
     let s = 0;
-    for (let i = 0; i < nz; i++) s += zc[i] * (HZ[i * nt + j] + F[i * nt + j]);
+    for (let i = 0; i < nz; i++) s += zc[i] * (HZ[i * nt + j] + F[i * nt + j]) + c[i] * Z[i * nt + j];
     q.push(s);
   }
   let r = 0;
-  for (let i = 0; i < nz; i++) for (let p = 0; p < nz; p++) r += 0.5 * zc[i] * H[i * nz + p] * zc[p];
+  for (let i = 0; i < nz; i++) {
+    r += c[i] * zc[i];
+    for (let p = 0; p < nz; p++) r += 0.5 * zc[i] * H[i * nz + p] * zc[p];
+  }
   return { Q, q, r };
 }
 

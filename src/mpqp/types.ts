@@ -1,32 +1,35 @@
 /**
- * The condensed multi-parametric QP, built once from a problem file:
+ * The generic multi-parametric QP the engine solves:
  *
- *   J(z, θ) = ½ zᵀ H z + zᵀ F θ + ½ θᵀ Y θ   (Y makes J equal the MPC cost exactly)
+ *   J(z, θ) = ½ zᵀ H z + (F θ + c)ᵀ z + ½ θᵀ Y θ
  *   subject to  G z ≤ w + E θ,   θ ∈ box
  *
- * z stacks the free moves u(0)…u(Nu−1) (m entries each, u(0) first); θ = [x(0); u_prev].
+ * The engine knows nothing of what z and θ mean: a formulation (src/formulation/) builds the
+ * problem and describes its blocks; the law stored per region is z[0 .. lawSize).
  * Matrices are dense row-major Float64Array. Constraint rows are scaled so that the row
- * [G_i, −E_i] has unit Euclidean norm (labels keep the physical meaning), and rows that are
+ * [G_i, −E_i] has unit Euclidean norm (labels keep their meaning), and rows that are
  * positive multiples of another row of [G −E w] are merged into one (see `mergedFrom`).
  */
 export interface MpqpProblem {
-  nz: number; // number of decision variables (Nu·m)
+  nz: number; // number of decision variables
   ntheta: number; // number of parameters
-  nu: number; // inputs per move (m): u(0) = z[0..nu)
+  lawSize: number; // the law stored per region is z[0..lawSize)
   nc: number; // number of constraint rows after merging
   H: Float64Array; // nz×nz, symmetric positive definite
   F: Float64Array; // nz×ntheta
+  c: Float64Array; // nz, the constant linear term
   Y: Float64Array; // ntheta×ntheta, symmetric
   G: Float64Array; // nc×nz
   w: Float64Array; // nc
   E: Float64Array; // nc×ntheta
   box: { lower: Float64Array; upper: Float64Array }; // ntheta each
-  /** human meaning of each row, e.g. "u1(k=0) ≤ 1", "x2(k=3) ≥ −2"; merged rows joined by " = " */
+  /** human meaning of each row, e.g. "u1(0) <= 1", "x2(3) >= -2"; merged rows joined by " = " */
   labels: string[];
   /** for each row, the indices of the original (unmerged) rows it stands for */
   mergedFrom: number[][];
   thetaNames: string[];
-  inputNames: string[];
+  /** names of the law's entries z[0..lawSize) */
+  lawNames: string[];
 }
 
 /** An affine map θ ↦ F θ + g with F rows×ntheta (row-major nested arrays, for JSON). */
@@ -53,9 +56,9 @@ export interface CriticalRegion {
   /** for each half-space row: where it comes from */
   facets: FacetInfo[];
   chebyshev: { center: number[]; radius: number };
-  /** u(0) = law.F θ + law.g  (nu rows) */
+  /** the law z[0..lawSize) = law.F θ + law.g  (lawSize rows) */
   law: AffineMap;
-  /** all free moves z = moves.F θ + moves.g  (nz rows) */
+  /** the whole decision vector z = moves.F θ + moves.g  (nz rows) */
   moves: AffineMap;
   /** optimal cost J*(θ) on this region */
   value: QuadraticForm;

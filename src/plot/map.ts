@@ -45,9 +45,10 @@ export function drawMap(table: TableFile, problem: { loaded: LoadedProblem; mpqp
   const slice = analyseSlice(table, problem.mpqp, spec);
   const heat = request.heat ? heatLayer(table, spec, request.heat) : undefined;
   const m = problem.loaded.model;
+  if (request.trajectories?.starts.length && !m) throw new InputError(table.name, 'trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
   const trajectories = (request.trajectories?.starts ?? []).map((row) => {
     const th0 = row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1]);
-    return simulateClosedLoop(table, m, th0, request.trajectories!.steps);
+    return simulateClosedLoop(table, m!, th0, request.trajectories!.steps);
   });
   const res = renderMapSvg(table, slice, { colourBy: request.colourBy, heat, trajectories: trajectories.length ? trajectories : undefined, width: request.width, height: request.height });
   return { ...res, slice, trajectories };

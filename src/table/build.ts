@@ -24,46 +24,29 @@ export function problemHash(raw: unknown): string {
   return `sha256:${sha256Hex(canonicalJson(raw))}`;
 }
 
-/** Assemble the table file from the problem as read, its mpQP and the computed partition. */
-export function makeTable(loaded: LoadedProblem, mpqp: MpqpProblem, partition: Partition): TableFile {
-  const { model } = loaded;
-  const input = model.constraints.input;
-  const m = model.m;
+/** Assemble the table file from the problem as read, its formulation (mpQP and layout) and the computed partition. */
+export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProblem; layout: Layout }, partition: Partition): TableFile {
+  const { mpqp, layout } = formulation;
+  const input = loaded.model?.constraints.input;
+  const k = mpqp.lawSize;
   return {
     format: TABLE_FORMAT,
     version: TABLE_VERSION,
-    name: model.name,
+    name: loaded.name,
     problem: loaded.raw,
     problemHash: problemHash(loaded.raw),
-    layout: regulatorLayout(loaded, mpqp),
+    layout,
     thetaNames: [...mpqp.thetaNames],
-    inputNames: [...mpqp.inputNames],
+    inputNames: [...mpqp.lawNames],
     box: { lower: Array.from(mpqp.box.lower), upper: Array.from(mpqp.box.upper) },
     inputLimits: {
-      lower: input ? [...input.lower] : new Array<null>(m).fill(null),
-      upper: input ? [...input.upper] : new Array<null>(m).fill(null),
+      lower: input ? [...input.lower] : new Array<null>(k).fill(null),
+      upper: input ? [...input.upper] : new Array<null>(k).fill(null),
     },
     constraints: [...mpqp.labels],
-    dims: { ntheta: mpqp.ntheta, nu: mpqp.nu, nz: mpqp.nz, nc: mpqp.nc },
+    dims: { ntheta: mpqp.ntheta, nu: k, nz: mpqp.nz, nc: mpqp.nc },
     tolerances: { ...tol },
     regions: partition.regions,
     stats: { ...partition.stats },
-  };
-}
-
-/** θ = [x(0); u_prev], z = the free moves: the layout of the regulator formulation. */
-function regulatorLayout(loaded: LoadedProblem, mpqp: MpqpProblem): Layout {
-  const { model } = loaded;
-  const range = (k: number) => Array.from({ length: k }, (_, i) => i);
-  const theta: Layout['theta'] = [{ kind: 'state', offset: 0, size: model.n, names: mpqp.thetaNames.slice(0, model.n), refersTo: range(model.n) }];
-  if (model.hasRate) theta.push({ kind: 'inputPrev', offset: model.n, size: model.m, names: mpqp.thetaNames.slice(model.n), refersTo: range(model.m) });
-  const moveNames = range(mpqp.nz).map((i) => `${model.inputNames[i % model.m]}(${Math.floor(i / model.m)})`);
-  return {
-    formulation: 'regulation',
-    features: model.hasRate ? ['inputRate'] : [],
-    theta,
-    z: [{ kind: 'moves', offset: 0, size: mpqp.nz, names: moveNames, refersTo: range(mpqp.nz) }],
-    lawSize: model.m,
-    lawNames: [...model.inputNames],
   };
 }

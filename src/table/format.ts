@@ -21,14 +21,15 @@ export interface TableFile {
   /** θ and z blocks as the formulation describes them; downstream code reads θ's layout from here */
   layout: Layout;
   thetaNames: string[];
+  /** names of the law's entries (= layout.lawNames): the inputs of u(0), or z1… of an mpQP */
   inputNames: string[];
   /** parameter box the partition covers */
   box: { lower: number[]; upper: number[] };
-  /** nominal input limits (null = unbounded), for generated code and plots */
+  /** nominal input limits (null = unbounded; all null for an mpQP), for generated code and plots */
   inputLimits: { lower: (number | null)[]; upper: (number | null)[] };
   /** meaning of each mpQP constraint row that an active set refers to */
   constraints: string[];
-  /** the mpQP dimensions */
+  /** the mpQP dimensions; nu = layout.lawSize, the entries of the law */
   dims: { ntheta: number; nu: number; nz: number; nc: number };
   tolerances: Record<string, number>;
   regions: CriticalRegion[];

@@ -1,6 +1,6 @@
 /** Points in, evaluations out: the text formats of `tessera evaluate`, pure (the caller reads files). */
 import { InputError } from '../io/input-error.js';
-import { evaluateTable } from './table.js';
+import { applyAffine, evaluateTable } from './table.js';
 import type { TableFile } from './format.js';
 
 /**
@@ -38,13 +38,30 @@ export interface PointEvaluation {
   theta: number[];
   region: number;
   u: number[] | null;
+  /**
+   * only for tables with soft limits: the slack values at θ by name (null in no region, and in a
+   * merged region, whose stored moves are exact on one member only)
+   */
+  slacks?: Record<string, number> | null;
 }
 
-/** Evaluate the table law at each θ (sequential location, table tolerance). Each θ has nθ entries. */
+/**
+ * Evaluate the table law at each θ (sequential location, table tolerance). Each θ has nθ entries;
+ * `theta` of each result is the caller's array, `u` and `slacks` are new.
+ */
 export function evaluatePoints(table: TableFile, points: number[][]): PointEvaluation[] {
+  // slack values: the z entries of the layout's slack blocks, from the region's stored moves
+  const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
   return points.map((p) => {
     const e = evaluateTable(table, p);
-    return { theta: p, region: e.region, u: e.u };
+    if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
+    const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
+    const slacks: Record<string, number> | null = e.region < 0 || merged ? null : {};
+    if (slacks) {
+      const moves = table.regions[e.region].moves;
+      for (const b of slackBlocks) b.names.forEach((nm, i) => (slacks[nm] = applyAffine({ F: [moves.F[b.offset + i]], g: [moves.g[b.offset + i]] }, p)[0]));
+    }
+    return { theta: p, region: e.region, u: e.u, slacks };
   });
 }
 

@@ -2,7 +2,8 @@
  * Problem → table, and table → the mpQP behind it: the two steps every command and library user
  * repeats. Pure (no file I/O): the caller reads files and prints progress.
  */
-import { buildMpqp } from '../mpqp/condition.js';
+import { formulate } from '../formulation/index.js';
+import type { Layout } from '../formulation/layout.js';
 import { solvePartition } from '../mpqp/solve.js';
 import type { MpqpProblem, Partition, SolveOptions } from '../mpqp/types.js';
 import { parseProblem } from '../problem/read.js';
@@ -17,6 +18,8 @@ export interface SolvedProblem {
   loaded: LoadedProblem;
   /** its condensed, conditioned mpQP (dense row-major Float64Arrays, see MpqpProblem) */
   mpqp: MpqpProblem;
+  /** the θ/z layout of the formulation (also recorded in the table) */
+  layout: Layout;
   /** the critical regions and exploration statistics */
   partition: Partition;
   /** the table file object (`tableToJson` serialises it; it shares `regions` with `partition`) */
@@ -26,16 +29,17 @@ export interface SolvedProblem {
 }
 
 /**
- * Solve a validated problem: condense to the mpQP, explore its critical regions, assemble the table.
+ * Solve a validated problem (an MPC model or a directly given mpQP): formulate the mpQP, explore its critical regions, assemble the table.
  * θ, u and the box are in the problem's own units. Bounded runs (`maxRegions`, `timeLimit`,
  * `shouldStop`) return a table with `stats.complete = false`, never a silently shortened one.
  */
 export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}): SolvedProblem {
-  const mpqp = buildMpqp(loaded.model);
+  const formulation = formulate(loaded);
+  const { mpqp, layout } = formulation;
   const t0 = performance.now();
   const partition = solvePartition(mpqp, options);
   const seconds = (performance.now() - t0) / 1000;
-  return { loaded, mpqp, partition, table: makeTable(loaded, mpqp, partition), seconds };
+  return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition), seconds };
 }
 
 /** The problem behind a table, with its mpQP (what feasibility, gaps, maps and trajectories need). */
@@ -63,9 +67,9 @@ export interface TableProblemOptions {
 export function tableProblem(table: TableFile, options: TableProblemOptions = {}): TableProblem {
   const tableFile = options.tableFile ?? 'table';
   const loaded = options.problem ?? parseProblem(table.problem, `${tableFile} (key problem)`);
-  const mpqp = buildMpqp(loaded.model);
+  const { mpqp } = formulate(loaded);
   const sameProblem = !options.problem || !table.problemHash || problemHash(loaded.raw) === table.problemHash;
   if (mpqp.ntheta !== table.dims.ntheta)
-    throw new InputError(options.problem ? (options.problemFile ?? 'problem') : tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
+    throw new InputError(options.problem ? (options.problemFile ?? loaded.name) : tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
   return { loaded, mpqp, sameProblem };
 }

@@ -79,11 +79,11 @@ describe('npm pack → install → README example', () => {
     const ref = qpReference(mpqp, [0.3, -0.2]);
     expect(ref.feasible).toBe(true);
     const u = m![3].split(',').map(Number);
-    expect(u).toHaveLength(mpqp.nu);
+    expect(u).toHaveLength(mpqp.lawSize);
     u.forEach((v, i) => expect(Math.abs(v - ref.z[i])).toBeLessThan(1e-6));
     const svg = readFileSync(join(project, 'positioning-axis.svg'), 'utf8');
     expect(svg).toMatch(/^<\?xml/);
     expect(svg).toContain('class="heat"');
-    expect(loadProblem(join(project, 'positioning-axis.yaml')).model.name).toBeTruthy();
+    expect(loadProblem(join(project, 'positioning-axis.yaml')).name).toBe('positioning-axis');
   });
 });

@@ -5,7 +5,7 @@
  */
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { buildMpqp, loadProblem, parseProblem, solvePartition, type MpqpProblem } from '../../src/index.js';
+import { buildMpqp, formulate, loadProblem, parseProblem, solvePartition, type MpqpProblem } from '../../src/index.js';
 import { chebyshevBall } from '../../src/lp/kernel.js';
 import { luSolve } from '../../src/linalg/dense.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
@@ -104,8 +104,26 @@ export async function run(): Promise<void> {
   const ex = readdirSync(join(root, 'examples')).filter((f) => /\.(json|ya?ml)$/.test(f)).sort();
   for (const f of ex) {
     const loaded = loadProblem(join(root, 'examples', f));
-    console.log(row(f, buildMpqp(loaded.model)));
+    const { mpqp, layout } = formulate(loaded);
+    console.log(row(f, mpqp) + `  [${[layout.formulation, ...layout.features].join('+')}]`);
   }
+  console.log('formulation fixtures');
+  for (const f of ['tracking-rate.json', 'disturbance-feedforward.json']) console.log(row(f, buildMpqp(loadProblem(join(root, 'test', 'fixtures', 'problems', f)))));
+  console.log('paired in this run: the same plant with and without the feature');
+  const pair = (label: string, file: string, strip: (raw: any) => void) => {
+    const withIt = loadProblem(join(root, 'examples', file));
+    const raw = JSON.parse(JSON.stringify(withIt.raw));
+    strip(raw);
+    console.log(row(`${label} with`, buildMpqp(withIt)));
+    console.log(row(`${label} without`, buildMpqp(parseProblem(raw, `${file} (stripped)`))));
+  };
+  pair('soft limits', 'motor-soft-speed.json', (r) => delete r.constraints.state.soft);
+  pair('terminal set', 'sway-damper-terminal-set.json', (r) => delete r.constraints.terminal);
+  pair('tracking', 'hoist-setpoint.json', (r) => {
+    delete r.tracking;
+    r.parameters.lower.pop();
+    r.parameters.upper.pop();
+  });
   console.log('scaling series: positioning axis (double integrator, T = 0.05 s, |u| ≤ 2, |v| ≤ 1), N = 2…12');
   for (let N = 2; N <= 12; N += 2) {
     const raw = {
@@ -116,6 +134,6 @@ export async function run(): Promise<void> {
       constraints: { input: { lower: [-2], upper: [2] }, state: { lower: [null, -1], upper: [null, 1] } },
       parameters: { lower: [-2, -1.2], upper: [2, 1.2] },
     };
-    console.log(row(`axis N=${N}`, buildMpqp(parseProblem(raw, `axis-N${N}.json`).model)));
+    console.log(row(`axis N=${N}`, buildMpqp(parseProblem(raw, `axis-N${N}.json`))));
   }
 }

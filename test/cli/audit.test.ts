@@ -5,7 +5,7 @@
  * constructed cases (test/fixtures/audit); the recursive-feasibility verdicts are checked against
  * quadprog and javascript-lp-solver in test/check/audit.test.ts.
  */
-import { spawn } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -29,15 +29,9 @@ interface Run {
   stdout: string;
   stderr: string;
 }
-function run(args: string[]): Promise<Run> {
-  return new Promise((resolve) => {
-    const child = spawn(process.execPath, [cli, 'audit', ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
-    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-    child.on('close', (status) => resolve({ status, stdout, stderr }));
-  });
+async function run(args: string[]): Promise<Run> {
+  const r = spawnSync(process.execPath, [cli, 'audit', ...args], { encoding: 'utf8' });
+  return { status: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 
 const fast = ['--samples', '300'];
@@ -102,7 +96,7 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(r.stdout).toMatch(/## 3\. Coverage: FAIL/);
   });
 
-  it('--json, --samples, --seed, --steps, --precision, --search, --problem', async () => {
+  it('--json, --samples, --seed, --steps, --precision (double, q31, q15), --search, --problem', async () => {
     const a = await run([longTable, '--json', '--samples', '200', '--seed', '4', '--steps', '25', '--precision', 'double', '--search', 'sequential', '--problem', longFile]);
     expect(a.status, a.stderr).toBe(0);
     const j = JSON.parse(a.stdout);
@@ -121,6 +115,13 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(JSON.parse(c.stdout).closedLoop.data.starts).not.toEqual(j.closedLoop.data.starts);
     expect(JSON.parse(c.stdout).coverage.data.monteCarlo.seed).toBe(5);
     expect(JSON.parse(c.stdout).embedded.data.certificate.safe).toBe(true);
+    // fixed point: q31 is certified on this table, q15 is too coarse (the fixed-point certificate of the emit target says why)
+    const q31 = JSON.parse((await run([longTable, '--json', ...fast, '--precision', 'q31'])).stdout);
+    expect(q31.embedded.verdict).toBe('PASS');
+    expect(q31.embedded.data.certificate.verdict).toMatch(/^SAFE .* q31 build/);
+    const q15 = await run([longTable, '--md', ...fast, '--precision', 'q15']);
+    expect(q15.status).toBe(1);
+    expect(q15.stdout).toMatch(/\| 6\. Embedded build \| FAIL \| NOT SAFE .*q15/);
     // another problem file: identity fails (not the problem the table was built from)
     const d = await run([longTable, '--json', ...fast, '--problem', shortFile]);
     expect(d.status).toBe(1);
@@ -132,7 +133,7 @@ describe('tessera audit', { timeout: 180000 }, () => {
     const cases: [string[], RegExp][] = [
       [[longTable], /--output: give -o report\.html/],
       [[longTable, '--json', '--md'], /--json: give at most one of --json and --md/],
-      [[longTable, '-o', out, '--precision', 'half'], /--precision: expected float or double, got "half"/],
+      [[longTable, '-o', out, '--precision', 'half'], /--precision: expected float or double or q15 or q31, got "half"/],
       [[longTable, '-o', out, '--search', 'linear'], /--search: expected tree or sequential/],
       [[longTable, '-o', out, '--samples', '0'], /--samples: expected a positive integer/],
       [[longTable, '-o', out, '--steps', 'x'], /--steps: expected a positive integer/],

@@ -5,7 +5,7 @@ import { join, relative } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parse as parseYaml } from 'yaml';
 import { loadProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
+import { buildMpqp } from '../../src/formulation/index.js';
 import { tol } from '../../src/tol.js';
 import type { MpqpProblem } from '../../src/mpqp/types.js';
 import { qpReference, lpFeasibleReference } from '../helpers/reference.js';
@@ -97,7 +97,7 @@ beforeAll(async () => {
     occupied: ['solve', axisFile, '-o', occupied, '--max-regions', '3'],
     ...Object.fromEntries(badMax.map((v) => [`max ${v}`, ['solve', axisFile, '-o', join(dir, `bad-max-${v}.json`), '--max-regions', v]])),
   });
-  axis = buildMpqp(loadProblem(axisFile).model);
+  axis = buildMpqp(loadProblem(axisFile));
   // names as written in the example file (no input-rate terms, so θ = x(0))
   const doc = parseYaml(readFileSync(axisFile, 'utf8')) as { names: { states: string[]; inputs: string[] } };
   names = { theta: doc.names.states, inputs: doc.names.inputs };

@@ -5,7 +5,7 @@ import { afterAll } from 'vitest';
 import { createHash } from 'node:crypto';
 import { tmpdir } from 'node:os';
 import { isAbsolute, join } from 'node:path';
-import { buildMpqp, loadProblem, solveProblem, writeFileAtomic, type MpqpProblem, type TableFile } from '../../src/index.js';
+import { formulate, loadProblem, solveProblem, writeFileAtomic, type MpqpProblem, type TableFile } from '../../src/index.js';
 
 /** Every problem file in examples/ (the project's own scenarios). */
 export const EXAMPLES = readdirSync(join(import.meta.dirname, '../../examples'))
@@ -38,7 +38,8 @@ export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProble
   if (!hit) {
     const path = isAbsolute(file) ? file : join(import.meta.dirname, '../../examples', file);
     const loaded = loadProblem(path);
-    const mpqp = buildMpqp(loaded.model);
+    const formulation = formulate(loaded);
+    const { mpqp } = formulation;
     const problemKey = createHash('sha256').update(path).update(readFileSync(path)).digest('hex').slice(0, 16);
     const stem = `tessera-emit-test-${problemKey}-`;
     const cached = join(tmpdir(), `${stem}${engineHash().slice(0, 16)}.table.json`);

@@ -34,10 +34,11 @@ export function syntheticProblem(o: SyntheticOptions): MpqpProblem {
   return {
     nz: 1,
     ntheta: nt,
-    nu: 1,
+    lawSize: 1,
     nc: 3,
     H: Float64Array.of(1),
     F: Float64Array.from(o.c),
+    c: new Float64Array(1),
     Y: new Float64Array(nt * nt),
     G: Float64Array.of(1, -1, -1),
     w: Float64Array.of(1, 1, 2),
@@ -46,7 +47,7 @@ export function syntheticProblem(o: SyntheticOptions): MpqpProblem {
     labels: ['u1(0) <= 1', 'u1(0) >= -1', 'u1(0) >= s - 2'],
     mergedFrom: [[0], [1], [2]],
     thetaNames: Array.from({ length: nt }, (_, k) => `x${k + 1}`),
-    inputNames: ['u1'],
+    lawNames: ['u1'],
   };
 }
 

@@ -8,7 +8,7 @@ const require = createRequire(import.meta.url);
 // eslint-disable-next-line @typescript-eslint/no-explicit-any
 const quadprog: any = require('quadprog');
 
-/** Online QP at θ by quadprog: min ½zᵀHz + (Fθ)ᵀz s.t. G z ≤ w + Eθ. */
+/** Online QP at θ by quadprog: min ½zᵀHz + (Fθ + c)ᵀz s.t. G z ≤ w + Eθ. */
 export function qpReference(problem: MpqpProblem, theta: ArrayLike<number>): { feasible: boolean; z: number[] } {
   const { nz, nc, ntheta: nt } = problem;
   const D: number[][] = [[]];
@@ -17,7 +17,7 @@ export function qpReference(problem: MpqpProblem, theta: ArrayLike<number>): { f
     const row = [0];
     for (let j = 0; j < nz; j++) row.push(problem.H[i * nz + j]);
     D.push(row);
-    let s = 0;
+    let s = problem.c[i];
     for (let j = 0; j < nt; j++) s += problem.F[i * nt + j] * theta[j];
     d.push(-s);
   }

@@ -31,7 +31,7 @@ describe('table law = online QP (quadprog) at 1000 seeded points per problem', (
         feasible++;
         expect(e.region, `feasible θ=${theta} must lie in a region`).toBeGreaterThanOrEqual(0);
         const u = e.u!;
-        for (let i = 0; i < mpqp.nu; i++) {
+        for (let i = 0; i < mpqp.lawSize; i++) {
           const err = Math.abs(u[i] - ref.z[i]);
           worst = Math.max(worst, err / (1 + Math.abs(ref.z[i])));
           expect(err).toBeLessThanOrEqual(1e-6 * (1 + Math.abs(ref.z[i])));

@@ -92,7 +92,7 @@ describe('partition properties', () => {
         }
       if (regs.length > 1) expect(checked).toBeGreaterThan(0);
       void crossChecked;
-    });
+    }, 60_000); // pairwise LPs: slow on a loaded machine
 
     it(`${name}: u(0) and J* continuous across every shared facet`, () => {
       const { table } = solved(file);
@@ -141,11 +141,12 @@ describe('partition properties', () => {
         const ja = J(a);
         const jb = J(b);
         if (ja === null || jb === null) continue;
-        // the table's value function against the online QP's objective ½zᵀHz + zᵀFθ + ½θᵀYθ
+        // the table's value function against the online QP's objective ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ
         const ref = qpReference(mpqp, a);
-        const { nz, ntheta: nt, H, F, Y } = mpqp;
+        const { nz, ntheta: nt, H, F, Y, c } = mpqp;
         let jref = 0;
         for (let i = 0; i < nz; i++) {
+          jref += c[i] * ref.z[i];
           for (let j = 0; j < nz; j++) jref += 0.5 * ref.z[i] * H[i * nz + j] * ref.z[j];
           for (let j = 0; j < nt; j++) jref += ref.z[i] * F[i * nt + j] * a[j];
         }

@@ -120,7 +120,7 @@ describe('trajectory overlay', () => {
     const s = solved(join(root, 'examples', 'positioning-axis.yaml'));
     const m = s.loaded.model;
     const th0 = [1.5, 0.3];
-    const tr = simulateClosedLoop(s.table, { A: m.A, B: m.B, hasRate: m.hasRate }, th0, 25);
+    const tr = simulateClosedLoop(s.table, { A: m.A, B: m.B, Bd: m.Bd }, th0, 25);
     expect(tr.points.length).toBe(26);
     // Goldfarb–Idnani (quadprog) solves the MPC QP at θ0 independently of the table
     const u0 = qpReference(s.mpqp, th0).z.slice(0, m.m);

@@ -30,7 +30,7 @@ function json(edit: (p: Record<string, any>) => void): string {
   return JSON.stringify(p, null, 2);
 }
 
-export const badCases: BadCase[] = [
+export const coreBadCases: BadCase[] = [
   { title: 'misspelt top-level key', ext: '.json', text: json((p) => { p.horizn = p.horizon; delete p.horizon; }), key: 'horizn', reason: /unknown key "horizn"; did you mean "horizon"\?/ },
   { title: 'misspelt constraint kind', ext: '.json', text: json((p) => { p.constraints.inputs = p.constraints.input; delete p.constraints.input; }), key: 'constraints.inputs', reason: /did you mean "input"\?/ },
   { title: 'missing plant', ext: '.json', text: json((p) => { delete p.plant; }), key: 'plant', reason: /missing required key/ },
@@ -71,3 +71,60 @@ export const badCases: BadCase[] = [
   { title: 'unparsable JSON', ext: '.json', text: '{\n  "horizon": 3,\n  "plant": }\n', key: '(file)', reason: /invalid JSON at line 3 column 12: unexpected token '}'/ },
   { title: 'unparsable YAML', ext: '.yaml', text: 'horizon: 3\nplant:\n  A: [[1, 0.2], [0, 0.9]\nweights: {}\n', key: '(file)', reason: /invalid YAML at line \d+ column \d+/ },
 ];
+
+/** A valid direct mpQP file (2 decisions, 2 parameters). */
+export function baseMpqp(): Record<string, any> {
+  return {
+    name: 'bad-input-mpqp',
+    mpqp: { H: [[2, 0.5], [0.5, 1]], F: [[1, 0], [0, 1]], G: [[1, 0], [-1, 0]], w: [1, 1], E: [[0, 0], [0, 0]], outputs: 1 },
+    parameters: { lower: [-2, -2], upper: [2, 2] },
+  };
+}
+
+function mpqpJson(edit: (p: Record<string, any>) => void): string {
+  const p = baseMpqp();
+  edit(p);
+  return JSON.stringify(p, null, 2);
+}
+
+/** A slowly turning, barely contracting plant: its invariant set needs far more than 200 steps. */
+const slowRotation = (p: Record<string, any>) => {
+  const a = 0.004;
+  const r = 0.99999;
+  p.plant = { A: [[r * Math.cos(a), -r * Math.sin(a)], [r * Math.sin(a), r * Math.cos(a)]], B: [[0], [0.001]] };
+  p.weights = { state: [[1e-6, 0], [0, 1e-6]], input: [[1e6]] };
+  p.constraints = { state: { lower: [-1, null], upper: [1, null] }, terminal: 'invariant' };
+  p.parameters = { lower: [-1, -1], upper: [1, 1] };
+};
+
+export const formulationBadCases: BadCase[] = [
+  { title: 'more tracked outputs than inputs', ext: '.json', text: json((p) => { p.tracking = {}; p.parameters = { lower: [-4, -4, -2, -1, -1], upper: [4, 4, 2, 1, 1] }; }), key: 'tracking', reason: /2 tracked outputs exceed the 1 input: some references have no steady state/ },
+  { title: 'rank-deficient target system', ext: '.json', text: json((p) => { p.plant.A = [[1, 0.2], [0, 1]]; p.plant.B = [[0], [0.2]]; p.plant.C = [[0, 1]]; p.tracking = { outputs: [0] }; p.parameters = { lower: [-4, -4, -2, -1], upper: [4, 4, 2, 1] }; }), key: 'tracking.outputs', reason: /has rank 2 < n \+ p_t = 3: some references have no steady state/ },
+  { title: 'tracked output index out of range', ext: '.json', text: json((p) => { p.tracking = { outputs: [2] }; }), key: 'tracking.outputs[0]', reason: /output index \(0-based, p = 2\) must satisfy 0 ≤ value ≤ 1, got 2/ },
+  { title: 'tracked output listed twice', ext: '.json', text: json((p) => { p.plant.C = [[1, 0]]; p.tracking = { outputs: [0, 0] }; }), key: 'tracking.outputs[1]', reason: /output 0 is listed twice/ },
+  { title: 'box misses the reference slot', ext: '.json', text: json((p) => { p.plant.C = [[1, 0]]; p.tracking = {}; }), key: 'parameters.lower', reason: /expected 4 entries \(dim θ = 4: x1, x2, u1_prev, y1_ref\), got 3/ },
+  { title: 'box misses the disturbance slot', ext: '.json', text: json((p) => { p.plant.Bd = [[0.1], [0]]; }), key: 'parameters.lower', reason: /expected 4 entries \(dim θ = 4: x1, x2, u1_prev, d1\), got 3/ },
+  { title: 'Bd with the wrong row count', ext: '.json', text: json((p) => { p.plant.Bd = [[0.1]]; }), key: 'plant.Bd', reason: /expected 2 rows/ },
+  { title: 'Cd columns differ from Bd columns', ext: '.json', text: json((p) => { p.plant.Bd = [[0.1], [0]]; p.plant.Cd = [[1, 0], [0, 1]]; }), key: 'plant.Cd[0]', reason: /expected 1 columns/ },
+  { title: 'terminal set with tracking', ext: '.json', text: json((p) => { p.plant.C = [[1, 0]]; p.tracking = {}; p.constraints.terminal = 'invariant'; p.parameters = { lower: [-4, -4, -2, -1], upper: [4, 4, 2, 1] }; }), key: 'constraints.terminal', reason: /cannot be combined with tracking/ },
+  { title: 'terminal set with a disturbance', ext: '.json', text: json((p) => { p.plant.Bd = [[0.1], [0]]; p.constraints.terminal = 'invariant'; p.parameters = { lower: [-4, -4, -2, -1], upper: [4, 4, 2, 1] }; }), key: 'constraints.terminal', reason: /cannot be combined with a disturbance model/ },
+  { title: 'terminal set with soft limits', ext: '.json', text: json((p) => { p.constraints.state = { lower: [-3, -3], upper: [3, 3], soft: { quadratic: 10 } }; p.constraints.terminal = 'invariant'; }), key: 'constraints.terminal', reason: /cannot be combined with soft limits/ },
+  { title: 'terminal set not finitely determined in 200 steps', ext: '.json', text: json(slowRotation), key: 'constraints.terminal', reason: /not finitely determined within 200 steps/ },
+  { title: 'terminal set word misspelt', ext: '.json', text: json((p) => { p.constraints.terminal = 'invariant-set'; }), key: 'constraints.terminal', reason: /expected "invariant"/ },
+  { title: 'soft quadratic weight zero', ext: '.json', text: json((p) => { p.constraints.state = { lower: [-3, -3], upper: [3, 3], soft: { quadratic: 0 } }; }), key: 'constraints.state.soft.quadratic', reason: /must be > 0, got 0/ },
+  { title: 'soft linear weight negative (per component)', ext: '.json', text: json((p) => { p.constraints.output = { upper: [3, 3], soft: { quadratic: [1, 1], linear: [0, -2] } }; }), key: 'constraints.output.soft.linear[1]', reason: /must be ≥ 0, got -2/ },
+  { title: 'soft weights of the wrong length', ext: '.json', text: json((p) => { p.constraints.state = { upper: [3, 3], soft: { quadratic: [1, 1, 1] } }; }), key: 'constraints.state.soft.quadratic', reason: /expected 2 entries/ },
+  { title: 'soft input limits', ext: '.json', text: json((p) => { p.constraints.input.soft = { quadratic: 1 }; }), key: 'constraints.input.soft', reason: /unknown key "soft"/ },
+  { title: 'soft maxViolation zero', ext: '.json', text: json((p) => { p.constraints.state = { upper: [3, 3], soft: { quadratic: 1, maxViolation: 0 } }; }), key: 'constraints.state.soft.maxViolation', reason: /must be > 0, got 0/ },
+  { title: 'mpqp together with MPC keys', ext: '.json', text: mpqpJson((p) => { p.horizon = 3; }), key: 'horizon', reason: /cannot be combined with "mpqp"/ },
+  { title: 'mpqp H not positive definite', ext: '.json', text: mpqpJson((p) => { p.mpqp.H = [[1, 2], [2, 1]]; }), key: 'mpqp.H', reason: /not positive definite/ },
+  { title: 'mpqp F rows differ from H', ext: '.json', text: mpqpJson((p) => { p.mpqp.F = [[1, 0]]; }), key: 'mpqp.F', reason: /expected 2 rows/ },
+  { title: 'mpqp E columns differ from F', ext: '.json', text: mpqpJson((p) => { p.mpqp.E = [[0], [0]]; }), key: 'mpqp.E[0]', reason: /expected 2 columns/ },
+  { title: 'mpqp w length differs from G rows', ext: '.json', text: mpqpJson((p) => { p.mpqp.w = [1]; }), key: 'mpqp.w', reason: /expected 2 entries/ },
+  { title: 'mpqp c of the wrong length', ext: '.json', text: mpqpJson((p) => { p.mpqp.c = [1, 2, 3]; }), key: 'mpqp.c', reason: /expected 2 entries/ },
+  { title: 'mpqp G without w and E', ext: '.json', text: mpqpJson((p) => { delete p.mpqp.w; }), key: 'mpqp.w', reason: /come together/ },
+  { title: 'mpqp outputs beyond n_z', ext: '.json', text: mpqpJson((p) => { p.mpqp.outputs = 3; }), key: 'mpqp.outputs', reason: /1 ≤ value ≤ 2, got 3/ },
+  { title: 'mpqp box of the wrong length', ext: '.json', text: mpqpJson((p) => { p.parameters = { lower: [-1, -1, -1], upper: [1, 1, 1] }; }), key: 'parameters.lower', reason: /expected 2 entries \(dim θ = 2: columns of mpqp.F\), got 3/ },
+];
+
+export const badCases: BadCase[] = [...coreBadCases, ...formulationBadCases];

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { buildRawMpqp, parseProblem, type MpcModel } from '../../src/problem/index.js';
+import { parseProblem, type MpcModel } from '../../src/problem/index.js';
+import { buildRawMpqp } from '../../src/formulation/index.js';
 import { randMat, randSpd, rng } from './rng.js';
 
 /** Simulate the plant over the horizon: the direct definition of the MPC cost and trajectories. */

@@ -110,13 +110,29 @@ export function arrayBlock(prefix: string, name: string, ctype: string, values: 
   return `static const ${ctype} ${prefix}_${name}[${values.length}] = {\n${lines.join(',\n')}\n};\n`;
 }
 
+const BLOCK_TEXT: Record<string, string> = {
+  state: 'measured (or estimated) state x(0)',
+  inputPrev: 'input applied at the previous step, u(-1)',
+  reference: 'reference r of the tracked outputs, held over the horizon',
+  disturbance: 'disturbance d, held constant over the horizon',
+  parameter: 'parameters of the mpQP',
+};
+
+/** θ documented block by block from the table's layout, then the law's entries. */
 export function limitsText(t: TableFile): string[] {
   const out: string[] = [];
-  t.thetaNames.forEach((nm, j) => out.push(` *   theta[${j}] = ${commentText(nm)}, box [${t.box.lower[j]}, ${t.box.upper[j]}]`));
+  const blocks = t.layout?.theta ?? [{ kind: 'parameter', offset: 0, size: t.thetaNames.length }];
+  for (const b of blocks) {
+    const span = b.size === 1 ? `theta[${b.offset}]` : `theta[${b.offset}..${b.offset + b.size - 1}]`;
+    out.push(` *   ${span}: ${BLOCK_TEXT[b.kind] ?? b.kind}`);
+    for (let j = b.offset; j < b.offset + b.size; j++) out.push(` *     theta[${j}] = ${commentText(t.thetaNames[j])}, box [${t.box.lower[j]}, ${t.box.upper[j]}]`);
+  }
+  const direct = t.layout?.formulation === 'mpqp';
+  if (direct) out.push(` *   u[0..${t.inputNames.length - 1}]: the first ${t.inputNames.length} entries of the mpQP decision vector z`);
   t.inputNames.forEach((nm, j) => {
     const lo = t.inputLimits?.lower?.[j];
     const hi = t.inputLimits?.upper?.[j];
-    out.push(` *   u[${j}] = ${commentText(nm)}, limits [${lo ?? '-inf'}, ${hi ?? '+inf'}]`);
+    out.push(` *   u[${j}] = ${commentText(nm)}${direct ? '' : `, limits [${lo ?? '-inf'}, ${hi ?? '+inf'}]`}`);
   });
   return out;
 }

@@ -45,11 +45,12 @@ export type { AnalysedSlice, CoverageOptions, CoverageReport, Fraction, HoleWitn
 
 // slices and polygons
 export { makeSliceSpec, liftPoint, sliceRegion, sliceRegions, sliceGaps, type SliceSpec, type SlicePolygon, type SliceGaps } from './partition/slice.js';
-export { area, centroid, convexContains, type Point, type Polygon } from './partition/polygon.js';
+export { area, centroid, ccw, convexContains, type Point, type Polygon } from './partition/polygon.js';
 
 // maps (SVG strings), heat layers, closed-loop trajectories
 export { drawMap, type MapRequest, type DrawnMap } from './plot/map.js';
-export { renderMapSvg, describeRegion, formatAffine, type ColourBy, type HeatLayer, type MapOptions, type MapResult, type Trajectory } from './plot/svg.js';
+export { renderMapSvg, describeRegion, formatAffine, activeSetText, lawText, sliceColours, heatGrid, heatInterpolator } from './plot/svg.js';
+export type { ColourBy, HeatLayer, HeatGrid, MapOptions, MapResult, Trajectory } from './plot/svg.js';
 export { heatLayer, quadraticAt, isMergedTable } from './plot/heat.js';
 export { colourByKey, lawKey, paletteColour, REGION_PALETTE, HOLE_FILL, HOLE_STROKE, INFEASIBLE_FILL, INFEASIBLE_HATCH } from './plot/colour.js';
 export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/trajectory.js';

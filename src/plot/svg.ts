@@ -5,6 +5,8 @@
 import { format, interpolateRgbBasis, line, path, scaleLinear, scaleSequential } from 'd3';
 import type { TableFile } from '../table/format.js';
 import type { AnalysedSlice } from '../check/gaps.js';
+import type { CriticalRegion } from '../mpqp/types.js';
+import type { SliceSpec } from '../partition/slice.js';
 import { area, ccw as ccwPoly, centroid, thickness, type Polygon } from '../partition/polygon.js';
 import { tol } from '../tol.js';
 import { colourByKey, lawKey, paletteColour, HOLE_FILL, HOLE_STROKE, INFEASIBLE_FILL, INFEASIBLE_HATCH } from './colour.js';
@@ -65,9 +67,77 @@ export function formatAffine(F: number[], g: number, names: string[]): string {
 /** One line about region `index` of the table: its id, active constraints by meaning, and u(0) as affine formulas in θ names. */
 export function describeRegion(table: TableFile, index: number): string {
   const r = table.regions[index];
-  const act = r.activeSet.length ? r.activeSet.map((k) => table.constraints[k] ?? `row ${k}`).join(', ') : 'none (unconstrained optimum)';
-  const law = r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], table.thetaNames)}`).join('; ');
-  return `region ${r.id} · active set: ${act} · ${law}`;
+  return `region ${r.id} · active set: ${activeSetText(table, r)} · ${lawText(table, r)}`;
+}
+
+/** The active constraints of a region by their meaning, e.g. "u1(k=0) ≤ 1, x2(k=3) ≥ −2", or "none (unconstrained optimum)". */
+export function activeSetText(table: TableFile, r: Pick<CriticalRegion, 'activeSet'>): string {
+  return r.activeSet.length ? r.activeSet.map((k) => table.constraints[k] ?? `row ${k}`).join(', ') : 'none (unconstrained optimum)';
+}
+
+/** The law of a region as formulas in the θ names, e.g. "u(0) = −0.5·pos − 1.2·speed". */
+export function lawText(table: TableFile, r: Pick<CriticalRegion, 'law'>): string {
+  return r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], table.thetaNames)}`).join('; ');
+}
+
+/** Colour ramp of heat layers (light = low, dark = high), shared by the SVG maps and the viewer. */
+export const heatInterpolator = interpolateRgbBasis(['#fbf3dc', '#f0b45d', '#c8584a', '#6d2b6e', '#22184a']);
+
+/** A heat layer sampled on a grid over the slice rectangle, as runs of cells in the same colour bin. */
+export interface HeatGrid {
+  /** cells per axis */
+  cells: number;
+  /** colour bins over the range */
+  bins: number;
+  /** [lowest, highest] value met (high > low), or null when no cell is covered */
+  range: [number, number] | null;
+  /** per grid row (0 = bottom), columns c0 ≤ c < c1 share bin `bin`, drawn in the bin's mid value `value` */
+  runs: { row: number; c0: number; c1: number; bin: number; value: number }[];
+}
+
+/**
+ * Sample `heat` at the centres of a cells×cells grid over the slice rectangle. Cells straddling a
+ * region border take the law of a region within a cell diagonal, so that a layer clipped to the
+ * covered polygons follows the exact boundary. Values in the layer's units.
+ */
+export function heatGrid(spec: SliceSpec, heat: HeatLayer, bins = 48): HeatGrid {
+  const cells = heat.cells ?? 160;
+  const { x0, x1, y0, y1 } = spec.rect;
+  const diag = Math.hypot((x1 - x0) / cells, (y1 - y0) / cells);
+  const vals: (number | null)[] = [];
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let r = 0; r < cells; r++)
+    for (let c = 0; c < cells; c++) {
+      const x = x0 + ((c + 0.5) / cells) * (x1 - x0);
+      const y = y0 + ((r + 0.5) / cells) * (y1 - y0);
+      const v = heat.value(x, y) ?? heat.value(x, y, diag);
+      vals.push(v);
+      if (v !== null) {
+        lo = Math.min(lo, v);
+        hi = Math.max(hi, v);
+      }
+    }
+  if (!(lo <= hi)) return { cells, bins, range: null, runs: [] };
+  const range: [number, number] = [lo, hi === lo ? lo + 1 : hi];
+  const bin = (v: number) => Math.min(bins - 1, Math.floor(((v - range[0]) / (range[1] - range[0])) * bins));
+  const runs: HeatGrid['runs'] = [];
+  for (let r = 0; r < cells; r++) {
+    let c = 0;
+    while (c < cells) {
+      const v = vals[r * cells + c];
+      if (v === null) {
+        c++;
+        continue;
+      }
+      const b = bin(v);
+      let e = c + 1;
+      while (e < cells && vals[r * cells + e] !== null && bin(vals[r * cells + e]!) === b) e++;
+      runs.push({ row: r, c0: c, c1: e, bin: b, value: range[0] + ((b + 0.5) / bins) * (range[1] - range[0]) });
+      c = e;
+    }
+  }
+  return { cells, bins, range, runs };
 }
 
 function polyPath(p: Polygon, sx: (v: number) => number, sy: (v: number) => number): string {
@@ -75,6 +145,31 @@ function polyPath(p: Polygon, sx: (v: number) => number, sy: (v: number) => numb
   p.forEach(([x, y], k) => (k ? ctx.lineTo(sx(x), sy(y)) : ctx.moveTo(sx(x), sy(y))));
   ctx.closePath();
   return ctx.toString();
+}
+
+/**
+ * Palette index per slice polygon (same order as `slice.polygons`): one colour per law, active set
+ * or region, adjacent polygons with different keys never alike. `keys` are the colouring keys,
+ * `neighbours` the edge-adjacency lists, `distinct` whether every key got its own colour.
+ */
+export function sliceColours(
+  table: TableFile,
+  slice: Pick<AnalysedSlice, 'spec' | 'polygons'>,
+  colourBy: ColourBy,
+): { keys: string[]; colour: number[]; neighbours: number[][]; distinct: boolean } {
+  const { spec, polygons } = slice;
+  const keys = polygons.map((p) => {
+    const r = table.regions[p.index];
+    return colourBy === 'law' ? lawKey(r.law) : colourBy === 'active' ? r.activeSet.join(',') : String(r.id);
+  });
+  const scale = Math.max(spec.rect.x1 - spec.rect.x0, spec.rect.y1 - spec.rect.y0);
+  const c = colourByKey(
+    polygons.map((p) => p.polygon),
+    keys,
+    tol.inside * 100 * Math.max(1, scale),
+    polygons.map((p) => p.area),
+  );
+  return { keys, ...c };
 }
 
 /** Render the analysed slice as a standalone SVG document. */
@@ -93,17 +188,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   const out: string[] = [];
   const push = (s: string) => out.push(s);
 
-  const keys = polygons.map((p) => {
-    const r = table.regions[p.index];
-    return colourBy === 'law' ? lawKey(r.law) : colourBy === 'active' ? r.activeSet.join(',') : String(r.id);
-  });
-  const scale = Math.max(spec.rect.x1 - spec.rect.x0, spec.rect.y1 - spec.rect.y0);
-  const { colour, neighbours, distinct } = colourByKey(
-    polygons.map((p) => p.polygon),
-    keys,
-    tol.inside * 100 * Math.max(1, scale),
-    polygons.map((p) => p.area),
-  );
+  const { keys, colour, neighbours, distinct } = sliceColours(table, slice, colourBy);
   const holeCount = gaps.holeGroups.length;
   const holeArea = gaps.areas.holes;
 
@@ -143,53 +228,19 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   push(`<g clip-path="url(#plot)">`);
   push(`<rect x="${m.left}" y="${m.top}" width="${pw}" height="${ph}" fill="#ffffff"/>`);
   let heatRange: [number, number] | null = null;
-  const heatInterp = interpolateRgbBasis(['#fbf3dc', '#f0b45d', '#c8584a', '#6d2b6e', '#22184a']);
   if (opts.heat) {
-    const cells = opts.heat.cells ?? 160;
-    // cells straddling a region border take the law of a region within a cell diagonal, and
-    // the layer is clipped to the covered polygons, so the edge follows the exact boundary
-    const diag = Math.hypot((spec.rect.x1 - spec.rect.x0) / cells, (spec.rect.y1 - spec.rect.y0) / cells);
-    const vals: (number | null)[] = [];
-    let lo = Infinity;
-    let hi = -Infinity;
-    for (let r = 0; r < cells; r++)
-      for (let c = 0; c < cells; c++) {
-        const x = spec.rect.x0 + ((c + 0.5) / cells) * (spec.rect.x1 - spec.rect.x0);
-        const y = spec.rect.y0 + ((r + 0.5) / cells) * (spec.rect.y1 - spec.rect.y0);
-        const v = opts.heat.value(x, y) ?? opts.heat.value(x, y, diag);
-        vals.push(v);
-        if (v !== null) {
-          lo = Math.min(lo, v);
-          hi = Math.max(hi, v);
-        }
-      }
-    if (lo <= hi) {
-      heatRange = [lo, hi === lo ? lo + 1 : hi];
-      const cs = scaleSequential(heatInterp).domain(heatRange);
-      const bins = 48;
-      const bin = (v: number) => Math.min(bins - 1, Math.floor(((v - heatRange![0]) / (heatRange![1] - heatRange![0])) * bins));
-      const cw = pw / cells;
-      const ch = ph / cells;
+    const grid = heatGrid(spec, opts.heat);
+    if (grid.range) {
+      heatRange = grid.range;
+      const cs = scaleSequential(heatInterpolator).domain(heatRange);
+      const cw = pw / grid.cells;
+      const ch = ph / grid.cells;
       push(`<clipPath id="covered">${polygons.map((p) => `<path d="${polyPath(p.polygon, sx, sy)}"/>`).join('')}</clipPath>`);
       push(`<g class="heat" shape-rendering="crispEdges" clip-path="url(#covered)">`);
-      for (let r = 0; r < cells; r++) {
-        let c = 0;
-        while (c < cells) {
-          const v = vals[r * cells + c];
-          if (v === null) {
-            c++;
-            continue;
-          }
-          const b = bin(v);
-          let e = c + 1;
-          while (e < cells && vals[r * cells + e] !== null && bin(vals[r * cells + e]!) === b) e++;
-          const mid = heatRange[0] + ((b + 0.5) / bins) * (heatRange[1] - heatRange[0]);
-          push(
-            `<rect x="${(m.left + c * cw).toFixed(2)}" y="${(m.top + ph - (r + 1) * ch).toFixed(2)}" width="${((e - c) * cw + 0.3).toFixed(2)}" height="${(ch + 0.3).toFixed(2)}" fill="${cs(mid)}"/>`,
-          );
-          c = e;
-        }
-      }
+      for (const { row: r, c0: c, c1: e, value } of grid.runs)
+        push(
+          `<rect x="${(m.left + c * cw).toFixed(2)}" y="${(m.top + ph - (r + 1) * ch).toFixed(2)}" width="${((e - c) * cw + 0.3).toFixed(2)}" height="${(ch + 0.3).toFixed(2)}" fill="${cs(value)}"/>`,
+        );
       push(`</g>`);
     }
   }
@@ -300,14 +351,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       colour.forEach((c, k) => (seen.has(c) ? null : seen.set(c, k)));
       for (const [c, k] of [...seen.entries()].sort((a, b) => a[0] - b[0])) {
         const r = table.regions[polygons[k].index];
-        const full =
-          colourBy === 'law'
-            ? r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], names)}`).join('; ')
-            : colourBy === 'active'
-              ? r.activeSet.length
-                ? r.activeSet.map((q) => table.constraints[q] ?? `row ${q}`).join(', ')
-                : 'none active'
-              : `region ${r.id}`;
+        const full = colourBy === 'law' ? lawText(table, r) : colourBy === 'active' ? (r.activeSet.length ? activeSetText(table, r) : 'none active') : `region ${r.id}`;
         const short = full.length > 37 ? full.slice(0, 36) + '…' : full;
         push(
           `<g class="legend-key"><rect x="${lx}" y="${ly - 11}" width="22" height="14" fill="${paletteColour(c)}" stroke="#3c3c3c" stroke-width="0.6"/><text x="${lx + 30}" y="${ly}" font-size="11">${esc(short)}<title>${esc(full)}</title></text></g>`,
@@ -352,7 +396,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
     ly += 8;
     const bw = 180;
     const gid = 'heatbar';
-    const stops = Array.from({ length: 11 }, (_, k) => `<stop offset="${k * 10}%" stop-color="${heatInterp(k / 10)}"/>`).join('');
+    const stops = Array.from({ length: 11 }, (_, k) => `<stop offset="${k * 10}%" stop-color="${heatInterpolator(k / 10)}"/>`).join('');
     push(`<defs><linearGradient id="${gid}">${stops}</linearGradient></defs>`);
     push(`<rect x="${lx}" y="${ly}" width="${bw}" height="12" fill="url(#${gid})" stroke="#666" stroke-width="0.5"/>`);
     const hs = scaleLinear().domain(heatRange).range([lx, lx + bw]);

@@ -52,6 +52,9 @@ describe('npm pack → install → README example', () => {
     expect(files).toContain('dist/src/index.d.ts');
     expect(files).toContain('dist/src/core.d.ts');
     expect(files).toContain('LICENSE');
+    expect(files).toContain('dist/viz/viewer.js');
+    expect(files).toContain('dist/viz/index.html');
+    expect(files.some((f) => f.startsWith('viz/'))).toBe(false); // the sources of the viewer stay out
     expect(files).toContain('README.md');
     const stray = files.filter((f) => !/^(dist\/.*\.(js|d\.ts|html|css)|README\.md|LICENSE|package\.json)$/.test(f) || f.endsWith('.map') || f.startsWith('dist/test/'));
     expect(stray).toEqual([]);
@@ -85,5 +88,14 @@ describe('npm pack → install → README example', () => {
     expect(svg).toMatch(/^<\?xml/);
     expect(svg).toContain('class="heat"');
     expect(loadProblem(join(project, 'positioning-axis.yaml')).name).toBe('positioning-axis');
+    // the installed CLI writes the viewer from the packed bundle (dist/viz), nothing from this checkout
+    const cli = join(project, 'node_modules', 'tessera', 'dist', 'src', 'cli', 'main.js');
+    const v = spawnSync(process.execPath, [cli, 'view', 'positioning-axis.table.json', '-o', 'page.html'], { cwd: project, encoding: 'utf8' });
+    expect(v.stderr).toBe('');
+    expect(v.status).toBe(0);
+    const html = readFileSync(join(project, 'page.html'), 'utf8');
+    expect(html).toContain('window.TESSERA_DATA');
+    expect(html).toContain('tesseraViewer');
+    expect(html).not.toMatch(/<script src=|<link rel="stylesheet"/);
   });
 });

@@ -20,9 +20,10 @@ import { applyAffine, locateSequential, regionContains } from '../table/table.js
 import { facetPoints } from './certify.js';
 import { analyseCoverage, feasibleAt, type CoverageReport } from './gaps.js';
 import { checkInvariance, type InvarianceReport } from './invariance.js';
-import { plantOf, simulateFromTheta, splitTheta, stepPlant, summarise, type RunResult, type SimulationSetup, type SimulationSummary } from './simulate.js';
+import { limitsOf, plantOf, simulateFromTheta, splitTheta, stepPlant, summarise, type RunResult, type SimulationSetup, type SimulationSummary } from './simulate.js';
 import { polytopeVertices } from '../partition/tree-poly.js';
 import { thetaBlock } from '../formulation/layout.js';
+import { steadyStateTarget } from '../formulation/target.js';
 
 /** INFO: evidence reported where no pass/fail criterion applies (it never fails the audit). */
 export type Verdict = 'PASS' | 'FAIL' | 'INFO';
@@ -296,14 +297,21 @@ export function checkInvarianceStep(inp: AuditInputs): CheckResult<InvarianceRep
   };
 }
 
-/** Stage cost ℓ(θ, u) of the regulator: xᵀQx + uᵀRu + ΔuᵀSΔu (Δu = u − u_prev when θ holds u_prev). */
+/**
+ * Stage cost ℓ(θ, u) = (x − x_s)ᵀQ(x − x_s) + (u − u_s)ᵀR(u − u_s) + ΔuᵀSΔu, with (x_s, u_s) the
+ * steady-state target of (r, d) (the origin for regulation) and Δu = u − u_prev when θ holds u_prev.
+ * Slack penalties of soft limits are left out (ℓ is then a lower bound of the stage's cost).
+ */
 function stageCost(model: MpcModel, table: TableFile, th: number[], u: number[]): number {
   const sb = thetaBlock(table.layout, 'state')!;
   const pb = thetaBlock(table.layout, 'inputPrev');
+  const parts = splitTheta(table.layout, th);
+  const { xs, us } = steadyStateTarget(model, parts.r, parts.d);
   const x = new Array<number>(model.n).fill(0);
-  sb.refersTo.forEach((s, i) => (x[s] = th[sb.offset + i]));
+  sb.refersTo.forEach((s, i) => (x[s] = th[sb.offset + i] - xs[s]));
+  const du0 = u.map((v, i) => v - us[i]);
   const quad = (M: number[][], v: number[]) => v.reduce((s, a, i) => s + a * M[i].reduce((t, b, j) => t + b * v[j], 0), 0);
-  let l = quad(model.Q, x) + quad(model.R, u);
+  let l = quad(model.Q, x) + quad(model.R, du0);
   if (pb && model.S) {
     const du = u.map((v, i) => v - th[pb.offset + pb.refersTo.indexOf(i)]);
     l += quad(model.S, du);
@@ -323,18 +331,8 @@ function valueAt(v: { Q: number[][]; q: number[]; r: number }, th: number[]): nu
 export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   const { table, model } = inp;
   const tolerance = 1e-7;
-  const tracking = table.layout.formulation !== 'regulation';
   const terminalSet = table.layout.features.includes('terminalSet');
   const data: StabilityData = { points: 0, sample: 0, vertices: 0, successorOutside: 0, worst: -Infinity, worstTheta: null, violations: 0, tolerance, terminalWeight: model.terminal, terminalSet };
-  if (tracking) {
-    return {
-      name: 'Stability evidence',
-      verdict: 'INFO',
-      line: 'not evaluated for this formulation (the decrease test here uses the regulation stage cost)',
-      method: 'J* decrease along the closed loop; evaluated for regulation tables only.',
-      data,
-    };
-  }
   const plant = plantOf(model);
   const pts: { th: number[]; region: number }[] = [];
   for (const th of seededBox(table, 4 * (inp.samples ?? 2000), (inp.seed ?? 1) + 101)) {
@@ -383,7 +381,7 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
     name: 'Stability evidence',
     verdict: expected ? (ok ? 'PASS' : 'FAIL') : 'INFO',
     line: expected ? found : `${found} — evidence only: without a Riccati terminal weight and an invariant terminal set the decrease is not guaranteed`,
-    method: `J* from each region's stored value function, ℓ = xᵀQx + uᵀRu (+ ΔuᵀSΔu) the stage cost of the problem; ${data.sample} covered points of a uniform sample (seed ${(inp.seed ?? 1) + 101}) and ${data.vertices} region vertices; θ⁺ from the nominal model; points whose θ⁺ is in no region (${data.successorOutside}) are left to the invariance check. Tolerance ${tolerance} relative to 1 + J*(θ). The decrease is the textbook Lyapunov argument for MPC with a terminal weight from the Riccati equation and an invariant terminal set (e.g. Mayne, Rawlings, Rao & Scokaert 2000); terminal weight here: ${model.terminal}, terminal set: ${terminalSet ? 'yes' : 'no'}.`,
+    method: `J* from each region's stored value function, ℓ = (x − x_s)ᵀQ(x − x_s) + (u − u_s)ᵀR(u − u_s) (+ ΔuᵀSΔu) the stage cost of the problem around its steady-state target (the origin for regulation; slack penalties left out); ${data.sample} covered points of a uniform sample (seed ${(inp.seed ?? 1) + 101}) and ${data.vertices} region vertices; θ⁺ from the nominal model; points whose θ⁺ is in no region (${data.successorOutside}) are left to the invariance check. Tolerance ${tolerance} relative to 1 + J*(θ). The decrease is the textbook Lyapunov argument for MPC with a terminal weight from the Riccati equation and an invariant terminal set (e.g. Mayne, Rawlings, Rao & Scokaert 2000); terminal weight here: ${model.terminal}, terminal set: ${terminalSet ? 'yes' : 'no'}.`,
     witness: expected && !ok ? data.worstTheta : null,
     data: { ...data, worst: Number.isFinite(data.worst) ? data.worst : 0 },
   };
@@ -436,7 +434,8 @@ export function checkClosedLoop(inp: AuditInputs): CheckResult<ClosedLoopData> {
   const setup: SimulationSetup = {
     table,
     nominal: plantOf(model),
-    limits: model.constraints,
+    limits: limitsOf(model).hard,
+    softLimits: limitsOf(model).soft,
     names: { states: model.stateNames, inputs: model.inputNames, outputs: model.outputNames },
     online: inp.online,
     steps,

@@ -59,7 +59,10 @@ export interface SimulationSetup {
   nominal: PlantDynamics;
   /** the plant that actually moves (default: the nominal one) */
   plant?: PlantDynamics;
+  /** hard limits: a breach is a violation */
   limits: Limits;
+  /** soft state/output limits: a breach is allowed by the formulation, counted apart */
+  softLimits?: Pick<Limits, 'state' | 'output'>;
   names: SignalNames;
   /** the online QP, solved at every step beside the table (omit to skip) */
   online?: OnlineLaw;
@@ -108,6 +111,8 @@ export interface RunResult {
   /** x(steps) after the last step (or at the stop) */
   final: { x: number[]; y: number[] };
   violations: Violation[];
+  /** breaches of soft limits (allowed by the formulation, paid for in the cost) */
+  softViolations: Violation[];
   noRegionSteps: number;
   onlineInfeasibleSteps: number;
   /** max over steps and inputs of |u_table − u_online| where both exist */
@@ -208,6 +213,14 @@ export function simulateRun(setup: SimulationSetup, run: number, x0: number[], u
   let uPrev = uPrev0 ? uPrev0.slice() : new Array<number>(m).fill(0);
   const records: StepRecord[] = [];
   const violations: Violation[] = [];
+  const softViolations: Violation[] = [];
+  const soft = setup.softLimits ?? {};
+  const checkStateOutput = (xk: number[], yk: number[], kk: number) => {
+    checkBounds(limits.state, xk, names.states, '', run, kk, violations);
+    checkBounds(limits.output, yk, names.outputs, '', run, kk, violations);
+    checkBounds(soft.state, xk, names.states, '', run, kk, softViolations);
+    checkBounds(soft.output, yk, names.outputs, '', run, kk, softViolations);
+  };
   let noRegion = 0;
   let onlineInfeasible = 0;
   let maxDu = 0;
@@ -226,10 +239,7 @@ export function simulateRun(setup: SimulationSetup, run: number, x0: number[], u
     r = held ? held.r : scheduleAt(setup.reference, k, []);
     d = held ? held.d : scheduleAt(setup.disturbance, k, new Array<number>(nd).fill(0));
     const y = outputOf(plant, x, d);
-    if (k > 0) {
-      checkBounds(limits.state, x, names.states, '', run, k, violations);
-      checkBounds(limits.output, y, names.outputs, '', run, k, violations);
-    }
+    if (k > 0) checkStateOutput(x, y, k);
     inBand.push(bandOk(x, y, r));
     const xm = gauss ? x.map((v, i) => v + (noise!.std[i] ?? 0) * gauss()) : x;
     const theta = assembleTheta(layout, table.dims.ntheta, xm, uPrev, r, d);
@@ -271,8 +281,7 @@ export function simulateRun(setup: SimulationSetup, run: number, x0: number[], u
   }
   const yEnd = outputOf(plant, x, d);
   if (ended === 'steps') {
-    checkBounds(limits.state, x, names.states, '', run, k, violations);
-    checkBounds(limits.output, yEnd, names.outputs, '', run, k, violations);
+    checkStateOutput(x, yEnd, k);
     inBand.push(bandOk(x, yEnd, r));
   }
   let settlingStep: number | null = null;
@@ -286,6 +295,7 @@ export function simulateRun(setup: SimulationSetup, run: number, x0: number[], u
     records,
     final: { x, y: yEnd },
     violations,
+    softViolations,
     noRegionSteps: noRegion,
     onlineInfeasibleSteps: onlineInfeasible,
     maxDu,
@@ -314,6 +324,9 @@ export interface SimulationSummary {
   /** runs that left every region at least once */
   runsOutside: number;
   violations: number;
+  /** steps × limits where a soft limit was exceeded (allowed), and the worst excess */
+  softViolations: number;
+  softMaxExcess: number;
   /** per limit: count and worst excess */
   violationsByLimit: { limit: string; count: number; maxExcess: number; first: { run: number; k: number } }[];
   /** per tracked output: the largest |y − r| at the end over the runs */
@@ -360,6 +373,8 @@ export function summarise(setup: SimulationSetup, runs: RunResult[]): Simulation
     noRegionSteps: runs.reduce((s, r) => s + r.noRegionSteps, 0),
     runsOutside: runs.filter((r) => r.noRegionSteps > 0).length,
     violations: runs.reduce((s, r) => s + r.violations.length, 0),
+    softViolations: runs.reduce((s, r) => s + r.softViolations.length, 0),
+    softMaxExcess: Math.max(0, ...runs.flatMap((r) => r.softViolations.map((v) => v.excess))),
     violationsByLimit: [...byLimit.values()],
     offset,
     settled: settledRuns.length,
@@ -413,6 +428,17 @@ export function simulationCsv(setup: SimulationSetup, runs: RunResult[]): string
       );
     }
   return lines.join('\n') + '\n';
+}
+
+/** Hard and soft limits of a model: soft state/output limits are taken out of the hard ones. */
+export function limitsOf(model: Pick<MpcModel, 'constraints'> & { soft?: { state: unknown; output: unknown } }): { hard: Limits; soft: Pick<Limits, 'state' | 'output'> } {
+  const c = model.constraints;
+  const softState = !!model.soft?.state;
+  const softOutput = !!model.soft?.output;
+  return {
+    hard: { input: c.input, inputRate: c.inputRate, state: softState ? undefined : c.state, output: softOutput ? undefined : c.output },
+    soft: { state: softState ? c.state : undefined, output: softOutput ? c.output : undefined },
+  };
 }
 
 /** The plant of a validated model (disturbance matrices when the model has them). */

@@ -158,6 +158,7 @@ export function register(program: Command): void {
                   names: l.setup.names,
                   limits: l.setup.limits,
                   tracked: thetaBlock(table.layout, 'reference')?.refersTo ?? [],
+                  softLimits: l.setup.softLimits,
                   outputsAreStates: !thetaBlock(table.layout, 'disturbance') && model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))) && model.C.length === model.n,
                 }),
                 method: 'the simulate engine on the nominal model; the table law drives the plant, the online QP (quadprog) is solved beside it (dotted).',

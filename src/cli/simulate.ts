@@ -8,6 +8,7 @@ import { loadProblem } from '../problem/index.js';
 import type { MpcModel } from '../problem/types.js';
 import { thetaBlock } from '../formulation/layout.js';
 import {
+  limitsOf,
   nominalFailure,
   plantOf,
   sampleCoveredStarts,
@@ -129,6 +130,7 @@ export function formatSummary(table: TableFile, s: SimulationSummary, truePlantF
     `  table vs online QP (quadprog): max |Δu| = ${num(s.maxDu)}${s.maxDuAt ? ` (run ${s.maxDuAt.run}, step ${s.maxDuAt.k})` : ''}; online QP infeasible at ${s.onlineInfeasibleSteps} step(s)`,
     `  steps with no region: ${s.noRegionSteps}${s.noRegionSteps ? ` in ${s.runsOutside} run(s); the previous input was held there` : ''}`,
     `  hard-limit violations: ${s.violations}`,
+    ...(s.softViolations ? [`  soft-limit excursions (allowed, paid for in the cost): ${s.softViolations} step(s), worst ${num(s.softMaxExcess)}`] : []),
     ...s.violationsByLimit.map((v) => `    ${v.limit}: ${v.count} step(s), worst excess ${num(v.maxExcess)}, first at run ${v.first.run} step ${v.first.k}`),
     ...(s.offset.length ? [`  steady-state offset |y − r| at the end (max over runs): ${s.offset.map((o) => `${o.output} ${num(o.maxAbs)}`).join(', ')}`] : []),
     `  settling (within ${100 * s.settleFraction} % of the box width of each ${s.offset.length ? 'tracked output’s reference' : 'state'}, to the end): ${s.settled}/${s.runs} run(s)${s.maxSettlingStep !== null ? `, slowest at step ${s.maxSettlingStep}` : ''}`,
@@ -215,7 +217,8 @@ export function register(program: Command): void {
         table,
         nominal: plantOf(model as MpcModel & { Bd?: number[][] | null }),
         plant,
-        limits: model.constraints,
+        limits: limitsOf(model).hard,
+        softLimits: limitsOf(model).soft,
         names: { states: model.stateNames, inputs: model.inputNames, outputs: model.outputNames },
         online: (th) => {
           const r = solveOnlineQp(mpqp, th);
@@ -236,6 +239,7 @@ export function register(program: Command): void {
             title: `${table.name}: closed loop under the table law`,
             names: setup.names,
             limits: setup.limits,
+            softLimits: setup.softLimits,
             tracked: refBlock?.refersTo ?? [],
             outputsAreStates: !distBlock && model.C.length === n && model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))),
           }),

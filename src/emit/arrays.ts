@@ -18,7 +18,34 @@ export type SearchKind = 'tree' | 'sequential';
 export const FLOAT_SLACK_ULPS = 4;
 const FLOAT_EPS = 2 ** -23; // machine constant of IEEE single precision, not a tolerance
 
-export interface EmitArrays {
+/** The search structure's index arrays, shared by every build (tree ones empty for sequential search). */
+export interface SearchIndex {
+  nodeLeft: number[];
+  nodeRight: number[];
+  leafStart: number[];
+  leafRegion: number[];
+  regionRowStart: number[];
+  root: number;
+  /** loop bound of the tree descent: the worst depth */
+  maxDepth: number;
+}
+
+/** The index arrays of a build: copied from the tree for tree search, empty (root −1, depth 0) otherwise. */
+export function searchIndex(search: SearchKind, tree: SearchTree | null, regionRowStart: number[]): SearchIndex {
+  if (search !== 'tree') return { nodeLeft: [], nodeRight: [], leafStart: [], leafRegion: [], regionRowStart, root: -1, maxDepth: 0 };
+  if (!tree) throw new Error('tree search needs a search tree');
+  return {
+    nodeLeft: [...tree.nodeLeft],
+    nodeRight: [...tree.nodeRight],
+    leafStart: [...tree.leafStart],
+    leafRegion: [...tree.leafRegions],
+    regionRowStart,
+    root: tree.root,
+    maxDepth: tree.stats.maxDepth,
+  };
+}
+
+export interface EmitArrays extends SearchIndex {
   precision: Precision;
   search: SearchKind;
   ntheta: number;
@@ -36,15 +63,6 @@ export interface EmitArrays {
   regionB: number[];
   lawF: number[];
   lawG: number[];
-  /** index arrays (tree ones empty for sequential search) */
-  nodeLeft: number[];
-  nodeRight: number[];
-  leafStart: number[];
-  leafRegion: number[];
-  regionRowStart: number[];
-  root: number;
-  /** loop bound of the tree descent: the worst depth */
-  maxDepth: number;
 }
 
 /** Region-test slack of a build: tol.inside in double; in float, a few ulps of the largest |θ|·‖a‖₁ + |b|. */
@@ -99,27 +117,14 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     regionB,
     lawF,
     lawG,
-    nodeLeft: [],
-    nodeRight: [],
-    leafStart: [],
-    leafRegion: [],
-    regionRowStart,
-    root: -1,
-    maxDepth: 0,
+    ...searchIndex(search, tree, regionRowStart),
   };
-  if (search === 'tree') {
-    if (!tree) throw new Error('tree search needs a search tree');
+  if (search === 'tree' && tree) {
     if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
     for (const k of tree.nodeHyperplane) {
       for (let j = 0; j < n; j++) out.nodePlane.push(round(tree.hyperplanes.a[k][j]));
       out.nodePlane.push(round(tree.hyperplanes.b[k]));
     }
-    out.nodeLeft = [...tree.nodeLeft];
-    out.nodeRight = [...tree.nodeRight];
-    out.leafStart = [...tree.leafStart];
-    out.leafRegion = [...tree.leafRegions];
-    out.root = tree.root;
-    out.maxDepth = tree.stats.maxDepth;
   }
   return out;
 }

@@ -26,8 +26,8 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import type { SearchTree } from '../partition/tree.js';
-import { costFigures, type ArrayEvaluation, type SearchKind } from './arrays.js';
-import { layoutArray, type LayoutArray } from './layout.js';
+import { costFigures, searchIndex, type ArrayEvaluation, type SearchIndex, type SearchKind } from './arrays.js';
+import { layoutArray, structureLayout, type LayoutArray } from './layout.js';
 
 export type FixedFormat = 'q15' | 'q31';
 export const FIXED_FORMATS: readonly FixedFormat[] = ['q15', 'q31'];
@@ -70,7 +70,7 @@ export interface OverflowProof {
   text: string;
 }
 
-export interface FixedBuild {
+export interface FixedBuild extends SearchIndex {
   precision: FixedFormat;
   search: SearchKind;
   ntheta: number;
@@ -95,13 +95,6 @@ export interface FixedBuild {
   regionB: bigint[];
   lawF: bigint[];
   lawG: bigint[];
-  nodeLeft: number[];
-  nodeRight: number[];
-  leafStart: number[];
-  leafRegion: number[];
-  regionRowStart: number[];
-  root: number;
-  maxDepth: number;
   /** largest region-test widening, in θ·a units (real) */
   slack: number;
   /** proven bound of |u_fixed − u_exact| when the point is located in the same region (per build, in u units) */
@@ -303,13 +296,7 @@ export function buildFixed(table: TableFile, format: FixedFormat, search: Search
     regionB,
     lawF,
     lawG,
-    nodeLeft: tree && search === 'tree' ? [...tree.nodeLeft] : [],
-    nodeRight: tree && search === 'tree' ? [...tree.nodeRight] : [],
-    leafStart: tree && search === 'tree' ? [...tree.leafStart] : [],
-    leafRegion: tree && search === 'tree' ? [...tree.leafRegions] : [],
-    regionRowStart,
-    root: tree && search === 'tree' ? tree.root : -1,
-    maxDepth: tree && search === 'tree' ? tree.stats.maxDepth : 0,
+    ...searchIndex(search, tree, regionRowStart),
     slack,
     lawErrorBound: lawErr,
     proof: { format, accBits: acc, wordBits: word, checks: [], ok: false, text: '' },
@@ -441,24 +428,20 @@ export function fixedLayout(b: FixedBuild): LayoutArray[] {
   const w = b.wordBits;
   const a = b.accBits;
   const cols = (s: number) => b.thetaFrac.map((t) => s - t);
-  const out: LayoutArray[] = [layoutArray('theta_lo', 'q-fixed', b.thetaLo, { bits: w, frac: b.thetaFrac }), layoutArray('theta_hi', 'q-fixed', b.thetaHi, { bits: w, frac: b.thetaFrac })];
-  if (b.search === 'tree')
-    out.push(
-      layoutArray('node_a', 'q-fixed', b.nodeA, { bits: w, frac: cols(b.nodeShift) }),
-      layoutArray('node_b', 'q-fixed', b.nodeB, { bits: a, frac: [b.nodeShift] }),
-      layoutArray('node_left', 'i-index', b.nodeLeft),
-      layoutArray('node_right', 'i-index', b.nodeRight),
-      layoutArray('leaf_start', 'u-count', b.leafStart),
-      layoutArray('leaf_region', 'u-index', b.leafRegion),
-    );
-  out.push(
-    layoutArray('region_row_start', 'u-count', b.regionRowStart),
-    layoutArray('region_a', 'q-fixed', b.regionA, { bits: w, frac: cols(b.regionShift) }),
-    layoutArray('region_b', 'q-fixed', b.regionB, { bits: a, frac: [b.regionShift] }),
-    layoutArray('law_f', 'q-fixed', b.lawF, { bits: w, frac: cols(b.lawShift) }),
-    layoutArray('law_g', 'q-fixed', b.lawG, { bits: a, frac: [b.lawShift] }),
-  );
-  return out;
+  const bounds = [layoutArray('theta_lo', 'q-fixed', b.thetaLo, { bits: w, frac: b.thetaFrac }), layoutArray('theta_hi', 'q-fixed', b.thetaHi, { bits: w, frac: b.thetaFrac })];
+  return [
+    ...bounds,
+    ...structureLayout(
+      b,
+      [layoutArray('node_a', 'q-fixed', b.nodeA, { bits: w, frac: cols(b.nodeShift) }), layoutArray('node_b', 'q-fixed', b.nodeB, { bits: a, frac: [b.nodeShift] })],
+      [
+        layoutArray('region_a', 'q-fixed', b.regionA, { bits: w, frac: cols(b.regionShift) }),
+        layoutArray('region_b', 'q-fixed', b.regionB, { bits: a, frac: [b.regionShift] }),
+        layoutArray('law_f', 'q-fixed', b.lawF, { bits: w, frac: cols(b.lawShift) }),
+        layoutArray('law_g', 'q-fixed', b.lawG, { bits: a, frac: [b.lawShift] }),
+      ],
+    ),
+  ];
 }
 
 /** Operation counts of a fixed build (same structure as the float one). */

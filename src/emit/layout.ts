@@ -5,7 +5,7 @@
  * own element types and applies its own rules (C, for instance, has no empty arrays); the JSON/CSV
  * exports write this layout as it is.
  */
-import type { EmitArrays } from './arrays.js';
+import type { EmitArrays, SearchIndex, SearchKind } from './arrays.js';
 
 /**
  * - `f-real`: a real number (stored at the build's precision)
@@ -61,24 +61,29 @@ export function layoutArray(name: string, kind: ElementKind, values: LayoutValue
  * exists, a printer decides what its language can declare).
  */
 export function layoutOf(ar: EmitArrays): LayoutArray[] {
-  const out: LayoutArray[] = [];
-  if (ar.search === 'tree') {
-    out.push(
-      layoutArray('node_plane', 'f-real', ar.nodePlane),
-      layoutArray('node_left', 'i-index', ar.nodeLeft),
-      layoutArray('node_right', 'i-index', ar.nodeRight),
-      layoutArray('leaf_start', 'u-count', ar.leafStart),
-      layoutArray('leaf_region', 'u-index', ar.leafRegion),
-    );
-  }
-  out.push(
-    layoutArray('region_row_start', 'u-count', ar.regionRowStart),
-    layoutArray('region_a', 'f-real', ar.regionA),
-    layoutArray('region_b', 'f-real', ar.regionB),
-    layoutArray('law_f', 'f-real', ar.lawF),
-    layoutArray('law_g', 'f-real', ar.lawG),
+  return structureLayout(
+    ar,
+    [layoutArray('node_plane', 'f-real', ar.nodePlane)],
+    [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)],
   );
-  return out;
+}
+
+/**
+ * Arrays in declaration order for any build: the tree's planes and index arrays (tree search only),
+ * the region row offsets, then the region and law data.
+ */
+export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes: LayoutArray[], data: LayoutArray[]): LayoutArray[] {
+  const tree =
+    ix.search === 'tree'
+      ? [
+          ...planes,
+          layoutArray('node_left', 'i-index', ix.nodeLeft),
+          layoutArray('node_right', 'i-index', ix.nodeRight),
+          layoutArray('leaf_start', 'u-count', ix.leafStart),
+          layoutArray('leaf_region', 'u-index', ix.leafRegion),
+        ]
+      : [];
+  return [...tree, layoutArray('region_row_start', 'u-count', ix.regionRowStart), ...data];
 }
 
 /** How the arrays fit together, in words (written into the JSON export). */

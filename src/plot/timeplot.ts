@@ -10,12 +10,15 @@ import { esc } from './svg.js';
 import { HOLE_STROKE } from './colour.js';
 
 /** Run colours: darker than the region palette so that thin lines read on white. */
+const SOFT_LIMIT = '#c76a00';
 const RUN_COLOURS = ['#1f5f99', '#b8651b', '#2e7d32', '#6a3d9a', '#00838f', '#8d6e00', '#ad1457', '#455a64'];
 
 export interface TimePlotOptions {
   title: string;
   names: SignalNames;
   limits: Limits;
+  /** soft state/output limits (drawn dashed orange) */
+  softLimits?: Pick<Limits, 'state' | 'output'>;
   /** tracked output indices, in reference order (empty without tracking) */
   tracked: number[];
   /** at most this many runs are drawn (the first ones) */
@@ -34,6 +37,7 @@ interface Panel {
   reference?: (r: RunResult) => { k: number; v: number }[];
   lower: number | null;
   upper: number | null;
+  soft?: boolean;
 }
 
 /** Time plots of simulated runs (outputs/states, inputs with their limits, region index) as one standalone SVG string. */
@@ -44,6 +48,10 @@ export function renderTimePlotSvg(runs: RunResult[], opts: TimePlotOptions): str
   const gap = 46;
   const m = { left: 78, top: 84, right: 200, bottom: 40 };
   const shown = runs.slice(0, opts.maxRuns ?? 8);
+  const softBound = (kind: 'state' | 'output', i: number, side: 'lower' | 'upper') => {
+    const v = opts.softLimits?.[kind]?.[side]?.[i];
+    return v === undefined ? null : v;
+  };
   const bound = (b: Limits['state'], i: number, side: 'lower' | 'upper') => {
     const v = b?.[side]?.[i];
     return v === undefined ? null : v;
@@ -53,20 +61,24 @@ export function renderTimePlotSvg(runs: RunResult[], opts: TimePlotOptions): str
     panels.push({
       label: `state ${s}`,
       series: (r) => [...r.records.map((q) => ({ k: q.k, v: q.x[i] })), { k: r.records.length, v: r.final.x[i] }],
-      lower: bound(limits.state, i, 'lower'),
-      upper: bound(limits.state, i, 'upper'),
+      lower: bound(limits.state, i, 'lower') ?? softBound('state', i, 'lower'),
+      upper: bound(limits.state, i, 'upper') ?? softBound('state', i, 'upper'),
+      soft: !!opts.softLimits?.state,
     }),
   );
   names.outputs.forEach((o, i) => {
     const ti = opts.tracked.indexOf(i);
-    const hasLimit = bound(limits.output, i, 'lower') !== null || bound(limits.output, i, 'upper') !== null;
+    const lo = bound(limits.output, i, 'lower') ?? softBound('output', i, 'lower');
+    const hi = bound(limits.output, i, 'upper') ?? softBound('output', i, 'upper');
+    const hasLimit = lo !== null || hi !== null;
     if (ti < 0 && !hasLimit && opts.outputsAreStates) return;
     panels.push({
       label: `output ${o}`,
       series: (r) => [...r.records.map((q) => ({ k: q.k, v: q.y[i] })), { k: r.records.length, v: r.final.y[i] }],
       reference: ti >= 0 ? (r) => r.records.map((q) => ({ k: q.k, v: q.r[ti] })) : undefined,
-      lower: bound(limits.output, i, 'lower'),
-      upper: bound(limits.output, i, 'upper'),
+      lower: lo,
+      upper: hi,
+      soft: !!opts.softLimits?.output,
     });
   });
   names.inputs.forEach((u, i) =>
@@ -89,7 +101,7 @@ export function renderTimePlotSvg(runs: RunResult[], opts: TimePlotOptions): str
   push(`<rect width="${W}" height="${H}" fill="#ffffff"/>`);
   push(`<text x="${m.left}" y="28" font-size="18" font-weight="bold">${esc(opts.title)}</text>`);
   push(`<text x="${m.left}" y="48" fill="#333">${esc(opts.subtitle ?? `${runs.length} closed-loop run${runs.length === 1 ? '' : 's'}${runs.length > shown.length ? `, the first ${shown.length} drawn` : ''}`)}</text>`);
-  push(`<text x="${m.left}" y="66" fill="#555" font-size="11">solid: table law · dotted: online QP (quadprog) · dashed red: hard limit · dashed black: reference</text>`);
+  push(`<text x="${m.left}" y="66" fill="#555" font-size="11">solid: table law · dotted: online QP (quadprog) · dashed red: hard limit · dashed orange: soft limit · dashed black: reference</text>`);
 
   panels.forEach((p, pi) => {
     const top = m.top + pi * (ph + gap);
@@ -129,8 +141,9 @@ export function renderTimePlotSvg(runs: RunResult[], opts: TimePlotOptions): str
     ] as const) {
       if (b === null) continue;
       const y = sy(b).toFixed(1);
-      push(`<line class="limit" x1="${m.left}" x2="${m.left + pw}" y1="${y}" y2="${y}" stroke="${HOLE_STROKE}" stroke-width="1.3" stroke-dasharray="6 4"/>`);
-      push(`<text x="${m.left + pw + 14}" y="${ly}" fill="${HOLE_STROKE}" font-size="11">${side} limit ${esc(String(b))}</text>`);
+      const colour = p.soft ? SOFT_LIMIT : HOLE_STROKE;
+      push(`<line class="${p.soft ? 'soft-limit' : 'limit'}" x1="${m.left}" x2="${m.left + pw}" y1="${y}" y2="${y}" stroke="${colour}" stroke-width="1.3" stroke-dasharray="6 4"/>`);
+      push(`<text x="${m.left + pw + 14}" y="${ly}" fill="${colour}" font-size="11">${p.soft ? 'soft ' : ''}${side} limit ${esc(String(b))}</text>`);
       ly += 15;
     }
     const ln = line<{ k: number; v: number }>()

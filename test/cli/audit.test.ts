@@ -80,6 +80,15 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(errors).toEqual([]);
   });
 
+  it('exit 0 on the two-step table with a terminal invariant set, stability then a criterion that passes', async () => {
+    const t = join(dir, 'terminal.json');
+    writeFileSync(t, tableToJson(solved(join(root, 'test', 'fixtures', 'audit', 'cart-terminal.json')).table));
+    const r = await run([t, '--md', ...fast]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/\| 4\. Recursive feasibility \(invariance\) \| PASS \| PROVEN/);
+    expect(r.stdout).toMatch(/\| 5\. Stability evidence \| PASS \|/);
+  });
+
   it('exit 1 on the short-horizon table, with a θ witness for the failed check', async () => {
     const out = join(dir, 'short.html');
     const r = await run([shortTable, '-o', out, ...fast]);

@@ -22,6 +22,12 @@ const axisTable = join(dir, 'axis.json');
 const rateTable = join(dir, 'rate.json');
 const shiftedTable = join(dir, 'shifted.json');
 const mpqpTable = join(dir, 'mpqp.json');
+const hoistFile = join(root, 'examples', 'hoist-setpoint.json');
+const greenFile = join(root, 'examples', 'greenhouse-offset-free.json');
+const motorFile = join(root, 'examples', 'motor-soft-speed.json');
+const hoistTable = join(dir, 'hoist.json');
+const greenTable = join(dir, 'green.json');
+const motorTable = join(dir, 'motor.json');
 
 function run(args: string[]) {
   const r = spawnSync(process.execPath, [cli, 'simulate', ...args], { encoding: 'utf8' });
@@ -38,6 +44,9 @@ beforeAll(() => {
   const axis = solved(axisFile).table;
   writeFileSync(axisTable, tableToJson(axis));
   writeFileSync(rateTable, tableToJson(solved(rateFile).table));
+  writeFileSync(hoistTable, tableToJson(solved(hoistFile).table));
+  writeFileSync(greenTable, tableToJson(solved(greenFile).table));
+  writeFileSync(motorTable, tableToJson(solved(motorFile).table));
   // every law shifted by +0.4: the loop then pushes the force past its limit 1.5
   writeFileSync(shiftedTable, tableToJson({ ...axis, regions: axis.regions.map((r) => ({ ...r, law: { F: r.law.F, g: r.law.g.map((g) => g + 0.4) } })) }));
   writeFileSync(mpqpTable, tableToJson({ ...axis, layout: { ...axis.layout, formulation: 'mpqp', theta: [{ kind: 'parameter', offset: 0, size: 2, names: axis.thetaNames, refersTo: [0, 1] }] } }));
@@ -159,6 +168,71 @@ describe('tessera simulate', { timeout: 120000 }, () => {
     const mis = run([shiftedTable, '--x0', '-2.5,0', '--steps', '30', '--plant', rawFile]);
     expect(mis.status).toBe(0);
     expect(mis.stdout).toMatch(/force <= 1\.5/);
+  });
+
+  it('--reference constant and scheduled: the reference column follows it, y reaches r (tracking table)', () => {
+    const f = join(dir, 'hoist.csv');
+    const r = run([hoistTable, '--x0', '0,0', '--reference', '1.2', '--steps', '120', '--csv', f]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/steady-state offset \|y − r\| at the end \(max over runs\): height_m \d/);
+    const rows = csvRows(f);
+    expect(rows[0]).toEqual(['run', 'step', 'height', 'speed', 'y_height_m', 'region', 'torque', 'torque_online', 'du_max', 'height_m_ref']);
+    const last = rows[rows.length - 1];
+    expect(Math.abs(Number(last[4]) - 1.2)).toBeLessThan(1e-5);
+    const s = solved(hoistFile);
+    rows.slice(1, 20).forEach((row) => expect(Math.abs(Number(row[6]) - qpReference(s.mpqp, [Number(row[2]), Number(row[3]), 1.2]).z[0])).toBeLessThan(1e-7));
+    const sched = join(dir, 'ref.csv');
+    writeFileSync(sched, 'step,height_m_ref\n0,0.5\n40,-0.5\n');
+    const g = join(dir, 'hoist2.csv');
+    expect(run([hoistTable, '--x0', '0,0', '--reference', sched, '--steps', '80', '--csv', g]).status).toBe(0);
+    const rows2 = csvRows(g);
+    expect(rows2[40][9]).toBe('0.5');
+    expect(rows2[41][9]).toBe('-0.5');
+  });
+
+  it('--disturbance constant and scheduled (offset-free table): y reaches r under the load', () => {
+    const f = join(dir, 'green.csv');
+    const r = run([greenTable, '--x0', '0,0', '--reference', '1', '--disturbance', '0.5', '--steps', '100', '--csv', f]);
+    expect(r.status, r.stderr).toBe(0);
+    const rows = csvRows(f);
+    expect(rows[0].slice(-2)).toEqual(['air_temp_ref', 'load']);
+    expect(Math.abs(Number(rows[rows.length - 1][4]) - 1)).toBeLessThan(1e-5);
+    const sched = join(dir, 'load.csv');
+    writeFileSync(sched, '0,0\n10,0.8\n');
+    const g = join(dir, 'green2.csv');
+    expect(run([greenTable, '--x0', '0,0', '--reference', '1', '--disturbance', sched, '--steps', '150', '--csv', g]).status).toBe(0);
+    const rows2 = csvRows(g);
+    expect(rows2[10].at(-1)).toBe('0');
+    expect(rows2[11].at(-1)).toBe('0.8');
+    expect(Math.abs(Number(rows2[rows2.length - 1][4]) - 1)).toBeLessThan(1e-5);
+  });
+
+  it('soft limits: excursions are reported apart and do not fail the run', () => {
+    const r = run([motorTable, '--x0', '1.5,0', '--steps', '30']);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/hard-limit violations: 0/);
+    expect(r.stdout).toMatch(/soft-limit excursions \(allowed, paid for in the cost\): [1-9]/);
+  });
+
+  it('bad reference/disturbance input: exit 2, one line', () => {
+    const s0 = join(dir, 'late.csv');
+    writeFileSync(s0, '3,0.5\n');
+    const s1 = join(dir, 'back.csv');
+    writeFileSync(s1, '0,0.5\n10,0\n5,0.2\n');
+    const cases: [string, string[], RegExp][] = [
+      [hoistTable, [], /--reference: the table tracks 1 output\(s\) \(height_m_ref\); give --reference/],
+      [hoistTable, ['--reference', '5'], /--reference: height_m_ref = 5 lies outside the table's box \[-1\.5, 1\.5\]/],
+      [hoistTable, ['--reference', '1,2'], /--reference: expected 1 value\(s\) \(height_m_ref\), got 2/],
+      [hoistTable, ['--reference', s0], /late\.csv: line 1: the schedule must start at step 0, got 3/],
+      [hoistTable, ['--reference', s1], /back\.csv: line 3: steps must increase \(5 after 10\)/],
+      [greenTable, ['--reference', '1', '--disturbance', '2'], /--disturbance: load = 2 lies outside the table's box/],
+    ];
+    for (const [table, args, re] of cases) {
+      const r = run([table, '--x0', '0,0', ...args]);
+      expect(r.status, `${args.join(' ')}: ${r.stderr}`).toBe(2);
+      expect(r.stderr.trim().split('\n').length).toBe(1);
+      expect(r.stderr).toMatch(re);
+    }
   });
 
   it('bad input: one line naming file, key and reason, exit 2, no output file', () => {

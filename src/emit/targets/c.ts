@@ -294,8 +294,6 @@ ${ar.search === 'tree' ? evalTree : evalSeq}`;
 export function emitSelfTest(ar: EmitArrays, prefix: string, points: number[][], expected: { region: number; u: number[] | null }[]): string {
   const P = prefix;
   const real = ar.precision;
-  const NT = `${P.toUpperCase()}_NT`;
-  const NU = `${P.toUpperCase()}_NU`;
   const pts = points.flatMap((p) => p.map((v) => (real === 'float' ? Math.fround(v) : v)));
   const expU = expected.flatMap((e) => (e.u ? e.u : new Array(ar.nu).fill(0)));
   const fmt = real === 'float' ? '%.9g' : '%.17g';
@@ -308,15 +306,26 @@ export function emitSelfTest(ar: EmitArrays, prefix: string, points: number[][],
 ${arrayBlock(P, 'test_theta', real, pts, real)}
 ${arrayBlock(P, 'test_region', 'int32_t', expected.map((e) => e.region), null)}
 ${arrayBlock(P, 'test_u', real, expU, real)}
-int main(void)
+${selfTestMain(P, real, '12345.0', fmt, 'double')}`;
+}
+
+/**
+ * The main() of every C self-test: evaluates NPOINTS points of P_test_theta, prints "i region u..."
+ * per point and the summary line, and counts mismatches against P_test_region/P_test_u (u must stay
+ * at the sentinel when no region is found). `uType` is the output element type.
+ */
+export function selfTestMain(P: string, uType: string, sentinel: string, printFormat: string, printCast: string): string {
+  const NT = `${P.toUpperCase()}_NT`;
+  const NU = `${P.toUpperCase()}_NU`;
+  return `int main(void)
 {
     uint32_t i, j;
     unsigned long mismatches = 0ul;
     for (i = 0u; i < NPOINTS; ++i) {
-        ${real} u[${NU}];
+        ${uType} u[${NU}];
         int r;
         for (j = 0u; j < ${NU}; ++j) {
-            u[j] = (${real})12345.0;
+            u[j] = (${uType})${sentinel};
         }
         r = ${P}_eval(&${P}_test_theta[i * (uint32_t)${NT}], u);
         printf("%lu %d", (unsigned long)i, r);
@@ -324,11 +333,11 @@ int main(void)
             ++mismatches;
         }
         for (j = 0u; j < ${NU}; ++j) {
-            printf(" ${fmt}", (double)u[j]);
+            printf(" ${printFormat}", (${printCast})u[j]);
             if (r >= 0 && u[j] != ${P}_test_u[i * (uint32_t)${NU} + j]) {
                 ++mismatches;
             }
-            if (r < 0 && u[j] != (${real})12345.0) {
+            if (r < 0 && u[j] != (${uType})${sentinel}) {
                 ++mismatches;
             }
         }

@@ -1,10 +1,12 @@
 /**
- * Single-precision certificate of a generated build: the float arithmetic of the emitted C
- * (reproduced exactly by evaluateArrays) against the double law of the table, on a dense seeded
- * sample of the box plus points just inside and just outside every facet of every region.
+ * Certificate of a generated build: the arithmetic of the emitted C (reproduced exactly by
+ * evaluateArrays: float or double) against the double law of the table, on a dense seeded sample of
+ * the box plus points just inside and just outside every facet of every region. `emit --certify`
+ * certifies the build it emits, in its own precision.
  */
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
+import { clampInputs } from '../table/clamp.js';
 import { evaluateArrays, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
@@ -23,7 +25,7 @@ export interface CertifyOptions {
 }
 
 export interface Certificate {
-  precision: 'float';
+  precision: string;
   search: EmitArrays['search'];
   points: { sample: number; facet: number; extra: number; total: number };
   /** largest |u_float − u_double| (∞-norm) over points that both builds locate */
@@ -44,7 +46,10 @@ export interface Certificate {
   worstTheta: number[] | null;
 }
 
-function defaultTolerance(table: TableFile): number {
+/** How the default tolerance is derived, for `--help` and the report. */
+export const CERTIFY_TOLERANCE_RULE = `${CERTIFY_DEFAULT_RELATIVE} × the widest finite input range (max over inputs of upper − lower limit), or ${CERTIFY_DEFAULT_RELATIVE} when no input has both limits`;
+
+export function defaultTolerance(table: TableFile): number {
   let w = 0;
   for (let i = 0; i < table.dims.nu; i++) {
     const lo = table.inputLimits?.lower?.[i];
@@ -91,8 +96,11 @@ export interface Comparison {
   worstTheta: number[] | null;
 }
 
-/** A build against the table's double law on the given points (shared by the float and fixed-point certificates). */
-export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>): Comparison {
+/**
+ * A build against the table's double law on the given points (shared by the float and fixed-point
+ * certificates). `reference` post-processes the double law (the clamp of a clamping build).
+ */
+export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, points: Iterable<number[]>, reference: (u: number[]) => number[] = (u) => u): Comparison {
   let maxAbsDiff = 0;
   let maxSame = 0;
   let relocated = 0;
@@ -111,7 +119,7 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
       lost++;
       continue;
     }
-    const ud = applyAffine(table.regions[rd].law, theta);
+    const ud = reference(applyAffine(table.regions[rd].law, theta));
     let diff = 0;
     for (let i = 0; i < ud.length; i++) diff = Math.max(diff, Math.abs(ef.u![i] - ud[i]));
     if (diff > maxAbsDiff) {
@@ -121,7 +129,7 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
     if (ef.region === rd) maxSame = Math.max(maxSame, diff);
     else {
       relocated++;
-      const uo = applyAffine(table.regions[ef.region].law, theta);
+      const uo = reference(applyAffine(table.regions[ef.region].law, theta));
       for (let i = 0; i < ud.length; i++) relocatedMaxLawDiff = Math.max(relocatedMaxLawDiff, Math.abs(uo[i] - ud[i]));
     }
   }
@@ -140,22 +148,42 @@ export function certificatePoints(table: TableFile, options: CertifyOptions): { 
  */
 export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
   if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
+  return certifyBuild(table, floatBuild, (t) => evaluateArrays(floatBuild, t), options);
+}
+
+/** What the certificate needs to know of a build besides its evaluator. */
+export interface CertifiedBuild {
+  precision: string;
+  search: EmitArrays['search'];
+  /** slack of its region tests */
+  slack: number;
+  /** input limits the build saturates to (`emit --clamp`), or null/absent */
+  clamp?: EmitArrays['clamp'];
+}
+
+/**
+ * Certify a float or double build in its own precision, through its own evaluator. A build that
+ * clamps (`emit --clamp`) is compared with the double law saturated the same way.
+ */
+export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evaluate: BuildEvaluator, options: CertifyOptions = {}): Certificate {
+  const prec = floatBuild.precision;
   const { sample, facet, extra } = certificatePoints(table, options);
   const tolerance = options.tolerance ?? defaultTolerance(table);
-  const cmp = compareWithDouble(table, (t) => evaluateArrays(floatBuild, t), [...sample, ...facet, ...extra]);
+  const reference = floatBuild.clamp ? (u: number[]) => clampInputs(u, table.inputLimits) : undefined;
+  const cmp = compareWithDouble(table, evaluate, [...sample, ...facet, ...extra], reference);
   const { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta } = cmp;
   const safe = lost === 0 && maxAbsDiff <= tolerance;
   const total = sample.length + facet.length + extra.length;
   const verdict = safe
-    ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the float build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in float` +
-      (gained > 0 ? ` (${gained} points just outside every region are located in float, within its slack ${floatBuild.slack.toPrecision(3)})` : '')
+    ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the ${prec} build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in ${prec}` +
+      (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '')
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
-      [maxAbsDiff > tolerance ? `max |u_float - u_double| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in float` : '']
+      [maxAbsDiff > tolerance ? `max |u_build - u_table| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in ${prec}` : '']
         .filter(Boolean)
         .join('; ') +
-      '; use the double build';
+      (prec === 'float' ? '; use the double build (--precision double) or a larger --tolerance' : '; check the table with tessera gaps, or give a larger --tolerance');
   return {
-    precision: 'float',
+    precision: prec,
     search: floatBuild.search,
     points: { sample: sample.length, facet: facet.length, extra: extra.length, total },
     maxAbsDiff,

@@ -17,6 +17,7 @@
 import { randomLcg, randomNormal } from 'd3';
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
+import { clampInputs } from '../table/clamp.js';
 import { thetaBlock, type Layout } from '../formulation/layout.js';
 import type { Bounds, MpcModel } from '../problem/types.js';
 
@@ -77,6 +78,8 @@ export interface SimulationSetup {
   outside?: 'hold' | 'stop';
   /** settling band as a fraction of the parameter box width of the settling signal (default 0.02) */
   settleFraction?: number;
+  /** saturate the applied input to the table's input limits (`simulate --clamp`, as `emit --clamp` does in C) */
+  clamp?: boolean;
 }
 
 export interface StepRecord {
@@ -264,7 +267,7 @@ export function simulateRun(setup: SimulationSetup, run: number, x0: number[], u
         break;
       }
     }
-    const u = uTable ?? uPrev.slice();
+    const u = uTable ? (setup.clamp ? clampInputs(uTable, table.inputLimits) : uTable) : uPrev.slice();
     records.push({ k, x: x.slice(), y, theta, region, uTable, uOnline, u, r, d });
     checkBounds(limits.input, u, names.inputs, '', run, k, violations);
     checkBounds(

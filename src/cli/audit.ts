@@ -2,6 +2,9 @@ import type { Command } from 'commander';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { checkOutputPath } from '../io/output.js';
+import { EXIT } from './exit.js';
+import { createdNote } from './common.js';
 import { readTableFile } from '../table/file.js';
 import { problemHash } from '../table/build.js';
 import { thetaBlock } from '../formulation/layout.js';
@@ -26,6 +29,7 @@ import { loadTableProblem, nonNegativeInt, positiveInt } from './map.js';
 const CLI = '(command line)';
 
 interface AuditCliOptions {
+  quiet?: boolean;
   problem?: string;
   output?: string;
   json?: boolean;
@@ -106,9 +110,13 @@ export function register(program: Command): void {
     .option('--steps <n>', 'steps of each closed-loop run', positiveInt('--steps'), 60)
     .option('--precision <p>', `embedded build: ${targetPrecisions('c').join(', ')}`, choice('--precision', targetPrecisions('c')), 'float')
     .option('--search <s>', 'embedded build: tree or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
+    .option('-q, --quiet', 'print nothing but errors; the exit code tells (without -o the report is still printed)')
     .action((tableFile: string, o: AuditCliOptions) => {
       if (o.json && o.md) throw new InputError(CLI, '--json', 'give at most one of --json and --md');
       if (!o.output && !o.json && !o.md) throw new InputError(CLI, '--output', 'give -o report.html (or --json / --md to print the report)');
+      const created = o.output
+        ? checkOutputPath(o.output, '-o', o.json ? { kind: 'file', extensions: ['.json'], what: 'a JSON report' } : o.md ? { kind: 'file', extensions: ['.md'], what: 'a Markdown report' } : { kind: 'file', extensions: ['.html', '.htm'], what: 'an HTML report' })
+        : null;
       const table = readTableFile(tableFile);
       if (table.layout?.formulation === 'mpqp' || !thetaBlock(table.layout, 'state'))
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
@@ -171,8 +179,11 @@ export function register(program: Command): void {
       if (tty) process.stderr.write('\r\x1b[K');
       if (o.output) {
         writeFileAtomic(o.output, text);
-        process.stdout.write(`${table.name}: audit\n${consoleSummary(report)}  written ${o.output}\n`);
+        if (!o.quiet) {
+          if (created) createdNote(created);
+          process.stdout.write(`${table.name}: audit\n${consoleSummary(report)}  written ${o.output}\n`);
+        }
       } else process.stdout.write(text);
-      if (!report.passed) process.exitCode = 1;
+      if (!report.passed) process.exitCode = EXIT.found;
     });
 }

@@ -2,17 +2,21 @@ import type { Command } from 'commander';
 import { join } from 'node:path';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { checkOutputPath } from '../io/output.js';
+import { clampComparisons, hasInputLimits } from '../table/clamp.js';
+import { EXIT } from './exit.js';
+import { createdNote } from './common.js';
 import { tableToJson } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
 import { emit, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
 import { readTreeFile } from '../emit/tree-file.js';
-import { buildArrays, type EmitArrays } from '../emit/arrays.js';
+import type { EmitArrays } from '../emit/arrays.js';
 import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
 import type { TargetCost } from '../emit/targets/target.js';
 import { arraysToCsv, arraysToJson } from '../emit/export.js';
 import { sampleBox } from '../emit/sample.js';
-import { certifyFloat, type Certificate } from '../check/certify.js';
+import { certifyBuild, CERTIFY_TOLERANCE_RULE, type CertifiedBuild, type Certificate } from '../check/certify.js';
 import { certifyFixed, type FixedCertificate } from '../check/certify-fixed.js';
 import { targetCheck, targetCheckLines } from './target-check.js';
 import { FIXED_LAYOUT_TEXT, FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
@@ -64,6 +68,8 @@ interface EmitCliOptions {
   selftest?: number;
   tree?: string;
   leafSize: number;
+  clamp?: boolean;
+  quiet?: boolean;
 }
 
 function bytesLine(cost: TargetCost): string {
@@ -98,6 +104,14 @@ function arrayLines(c: TargetCost): string[] {
   );
 }
 
+/** Leaf sizes in words: the split target (--leaf-size) and why a leaf may hold more. */
+function leafText(maxLeaf: number, target: number): string {
+  const most = `at most ${maxLeaf} region${maxLeaf === 1 ? '' : 's'} per leaf`;
+  return maxLeaf <= target
+    ? `${most} (--leaf-size ${target})`
+    : `${most} (--leaf-size ${target} is the split target; a leaf keeps more regions when no facet hyperplane separates them)`;
+}
+
 export function register(program: Command): void {
   program
     .command('emit')
@@ -111,21 +125,28 @@ export function register(program: Command): void {
     .option('--merge', 'merge regions with the same law whose union is convex before emitting')
     .option('--merged-table <file>', 'also write the merged table (implies --merge)')
     .option('--report <file>', 'write the cost report (and certificate) as JSON')
-    .option('--certify', 'certify the build against the double law (float: the float build; q15/q31: that build and its overflow proof); exit code 1 when NOT SAFE')
+    .option('--clamp', "saturate u to the table's input limits (inputLimits) in the generated code (float/double); its comparisons count in the cost")
+    .option('--certify', 'certify the emitted build against the double law of the table (float/double: that build in its precision; q15/q31: that build and its overflow proof); exit code 1 when NOT SAFE')
     .option('--target-check', 'also cross-compile float, q15 and q31 for Cortex-M0 and Cortex-M4F (arm-none-eabi-gcc): sizes, soft-float check, worst-case instructions/cycles')
     .option('--theta-frac <list>', 'fixed point: fraction bits of each θ, comma-separated (default: the most the box allows)', intList('--theta-frac'))
-    .option('--tolerance <x>', 'accepted max |u_float - u_double| for the certificate', positive('--tolerance', false))
+    .option('--tolerance <x>', `accepted max |u_build - u_table| for the certificate (default for float/double: ${CERTIFY_TOLERANCE_RULE})`, positive('--tolerance', false))
     .option('--samples <n>', 'uniform sample size of the certificate', positive('--samples', true), 20000)
     .option('--seed <n>', 'seed of the certificate and self-test points', positive('--seed', true), 1)
     .option('--arrays <fmt>', 'also write the raw arrays as json or csv', choice('--arrays', ['json', 'csv'] as const))
     .option('--selftest <n>', 'also write NAME_selftest.c, a host program checking n seeded points', positive('--selftest', true))
     .option('--tree <file>', 'reuse a search tree side file (must match the table)')
-    .option('--leaf-size <n>', 'stop splitting the tree at this many regions per leaf', positive('--leaf-size', true), 1)
+    .option('--leaf-size <n>', 'split tree leaves down to this many regions (a leaf keeps more when no facet hyperplane separates them)', positive('--leaf-size', true), 1)
+    .option('-q, --quiet', 'print nothing but errors and warnings')
     .action((tablePath: string, o: EmitCliOptions) => {
       const target = findTarget(o.lang, o.precision);
       if (!target) throw new InputError(CLI, '--precision', `language ${o.lang} has no precision "${o.precision}" (expected one of ${targetPrecisions(o.lang).join(', ')})`);
       const bad = target.checkPrefix(o.prefix);
       if (bad) throw new InputError(CLI, '--prefix', `"${o.prefix}" ${bad}`);
+      if (o.clamp && target.id === 'c-fixed') throw new InputError(CLI, '--clamp', `applies to the float and double builds, not to ${o.precision}`);
+      // every output path is checked before any work
+      const created = [checkOutputPath(o.output, '-o', { kind: 'directory' })];
+      if (o.report) created.push(checkOutputPath(o.report, '--report', { kind: 'file', extensions: ['.json'], what: 'a JSON report' }));
+      if (o.mergedTable) created.push(checkOutputPath(o.mergedTable, '--merged-table', { kind: 'file', extensions: ['.json'], what: 'a JSON table' }));
       let table = readTableFile(tablePath);
       if (table.regions.length === 0) throw new InputError(tablePath, 'regions', 'the table has no region: nothing to emit');
       const incomplete = table.stats?.complete === false;
@@ -170,27 +191,28 @@ export function register(program: Command): void {
       }
       const fixed = target.id === 'c-fixed';
       if (o.thetaFrac && !fixed) throw new InputError(CLI, '--theta-frac', `applies to the fixed-point precisions only (${targetPrecisions(o.lang).filter((p) => !['float', 'double'].includes(p)).join(', ')})`);
+      if (o.clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
+        process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
       let res: EmitResult<unknown>;
       try {
-        res = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, thetaFrac: o.thetaFrac });
+        res = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, thetaFrac: o.thetaFrac, clamp: o.clamp });
       } catch (e) {
         // a scaling that would overflow is refused like any other bad input: one line, exit 2, nothing written
         if (e instanceof FixedOverflowError) throw new InputError(o.thetaFrac ? CLI : tablePath, o.thetaFrac ? '--theta-frac' : 'regions', e.message);
         throw e;
       }
       for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
-      if (res.tree && !o.tree) writes.push([join(o.output, `${o.prefix}.tree.json`), JSON.stringify(res.tree) + '\n']);
+      const treeFile = res.tree && !o.tree ? `${o.prefix}.tree.json` : null;
+      if (treeFile) writes.push([join(o.output, treeFile), JSON.stringify(res.tree) + '\n']);
       let cert: Certificate | null = null;
       let fcert: FixedCertificate | null = null;
       if (o.certify && fixed) fcert = certifyFixed(table, res.arrays as FixedBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
-      else if (o.certify) {
-        const floatBuild = o.precision === 'float' && o.lang === 'c' ? (res.arrays as EmitArrays) : buildArrays(table, 'float', o.search, res.tree);
-        cert = certifyFloat(table, floatBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
-      }
+      // the certificate is of the build that is written, in its own arithmetic (the target's evaluator)
+      else if (o.certify) cert = certifyBuild(table, res.arrays as CertifiedBuild, (th) => target.evaluate(res.arrays, th), { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
       const tcheck = o.targetCheck ? targetCheck(table, o.search, res.tree, o.prefix) : null;
       const layout = target.layout(res.arrays);
       if (o.arrays === 'json')
-        writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, fixed ? { scaling: fixedScaling(res.arrays as FixedBuild), layout: FIXED_LAYOUT_TEXT } : {})]);
+        writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, fixed ? { scaling: fixedScaling(res.arrays as FixedBuild), layout: FIXED_LAYOUT_TEXT } : o.clamp ? { clamp: (res.arrays as EmitArrays).clamp } : {})]);
       if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(layout)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
       if (o.selftest) {
         const pts = sampleBox(table.box, o.selftest, o.seed);
@@ -209,6 +231,7 @@ export function register(program: Command): void {
         search: o.search,
         slack: (res.arrays as { slack: number }).slack,
         tree: res.tree ? res.tree.stats : null,
+        clamp: o.clamp ? { limits: table.inputLimits, comparisons: clampComparisons(table.inputLimits, table.dims.nu) } : null,
         cost: res.cost,
         certificate: cert ?? fcert,
         targetCheck: tcheck ?? undefined,
@@ -218,15 +241,19 @@ export function register(program: Command): void {
       if (o.report) writes.push([o.report, JSON.stringify(report, (_k, v) => (typeof v === 'bigint' ? v.toString() : v), 1) + '\n']);
       // everything is computed before the first write, so a failure leaves no partial output
       for (const [p, text] of writes) writeFileAtomic(p, text);
+      if ((cert && !cert.safe) || (fcert && !fcert.safe) || (tcheck && !tcheck.noSoftFloat)) process.exitCode = EXIT.found;
+      if (o.quiet) return;
+      for (const d of created) if (d) createdNote(d);
 
       const c = res.cost;
       const lines = [
-        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${o.search} search)`,
+        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${o.search} search${o.clamp ? ', u clamped to the input limits' : ''})`,
+        ...(treeFile ? [`  also ${treeFile} in ${o.output}: the search tree, for reuse with --tree (not needed by the C code)`] : []),
         `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
         o.search === 'tree'
-          ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, at most ${res.tree!.stats.maxLeafSize} regions per leaf`
+          ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, ${leafText(res.tree!.stats.maxLeafSize, o.leafSize)}`
           : '  sequential search over every region',
-        `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons`,
+        `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons${c.clampComparisons ? ` (${c.clampComparisons} of them for --clamp)` : ''}`,
         `  memory: ${bytesLine(c)}`,
         ...arrayLines(c),
       ];
@@ -246,14 +273,13 @@ export function register(program: Command): void {
       }
       if (cert) {
         lines.push(
-          `  float certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_float - u_double| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
-            `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in float`,
+          `  ${cert.precision} certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_build - u_table| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
+            `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in ${cert.precision}`,
           `  ${cert.verdict}`,
         );
       }
       if (tcheck) lines.push(...targetCheckLines(tcheck));
       lines.push('  caution: validate in simulation and hardware-in-the-loop, keep an independent safety layer, and handle the -1 (no region) return.');
       process.stdout.write(lines.join('\n') + '\n');
-      if ((cert && !cert.safe) || (fcert && !fcert.safe) || (tcheck && !tcheck.noSoftFloat)) process.exitCode = 1;
     });
 }

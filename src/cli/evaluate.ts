@@ -1,21 +1,89 @@
 import type { Command } from 'commander';
+import { evaluateTable, applyAffine } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
 import { InputError, readTextInput } from '../io/errors.js';
-import { evaluatePoints, evaluationCsv, parsePointsCsv } from '../table/points.js';
+import type { TableFile } from '../table/format.js';
+import { clampInputs, hasInputLimits } from '../table/clamp.js';
+import { CLI } from './common.js';
 
-/** Read a points CSV file (see parsePointsCsv). */
-export function readPointsCsv(path: string, ntheta: number): number[][] {
-  return parsePointsCsv(readTextInput(path, 'points file'), path, ntheta);
+/**
+ * Match a header line to the θ names (contract, `tessera evaluate`): every θ entry named exactly
+ * once, in any order. Returns, for each θ entry, the column that holds it.
+ */
+function headerColumns(path: string, line: number, cells: string[], names: string[]): number[] {
+  const key = `line ${line}`;
+  const list = names.join(', ');
+  const seen = new Map<string, number>();
+  cells.forEach((c, k) => {
+    if (!names.includes(c)) throw new InputError(path, key, `unknown column "${c}" in the header (θ is ${list})`);
+    if (seen.has(c)) throw new InputError(path, key, `column "${c}" named twice in the header (columns ${seen.get(c)! + 1} and ${k + 1})`);
+    seen.set(c, k);
+  });
+  const missing = names.filter((n) => !seen.has(n));
+  if (missing.length) throw new InputError(path, key, `header lacks ${missing.map((n) => `"${n}"`).join(', ')} (θ is ${list})`);
+  return names.map((n) => seen.get(n)!);
+}
+
+/**
+ * Parse the points CSV: one θ per line, comma-separated, an optional header line of names. With a
+ * header the columns are matched by name (any order); without one they are θ in table order.
+ * Points are returned in θ order.
+ */
+export function readPointsCsv(path: string, thetaNames: string[]): number[][] {
+  const ntheta = thetaNames.length;
+  const text = readTextInput(path, 'points file');
+  const lines = text.split(/\r?\n/).map((l) => l.trim());
+  const points: number[][] = [];
+  let first = true;
+  let order: number[] | null = null;
+  lines.forEach((line, i) => {
+    if (line === '' || line.startsWith('#')) return;
+    const cells = line.split(',').map((c) => c.trim());
+    const nums = cells.map(Number);
+    if (first) {
+      first = false;
+      // a header is a line of names: no cell of it reads as a number
+      if (cells.every((c, k) => c === '' || Number.isNaN(nums[k]))) {
+        order = headerColumns(path, i + 1, cells, thetaNames);
+        return;
+      }
+    }
+    if (cells.length !== ntheta) throw new InputError(path, `line ${i + 1}`, `expected ${ntheta} values (θ has ${ntheta} entries), got ${cells.length}`);
+    nums.forEach((v, k) => {
+      if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(path, `line ${i + 1}, column ${k + 1}`, `"${cells[k]}" is not a finite number`);
+    });
+    points.push(order ? order.map((k) => nums[k]) : nums);
+  });
+  return points;
 }
 
 function parseAt(text: string, ntheta: number): number[] {
   const cells = text.split(',').map((c) => c.trim());
   const nums = cells.map(Number);
-  if (cells.length !== ntheta) throw new InputError('(command line)', '--at', `expected ${ntheta} comma-separated values, got ${cells.length}`);
+  if (cells.length !== ntheta) throw new InputError(CLI, '--at', `expected ${ntheta} comma-separated values, got ${cells.length}`);
   nums.forEach((v, k) => {
-    if (cells[k] === '' || !Number.isFinite(v)) throw new InputError('(command line)', '--at', `"${cells[k]}" is not a finite number`);
+    if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(CLI, '--at', `"${cells[k]}" is not a finite number`);
   });
   return nums;
+}
+
+/** Shortest decimal that reads back as the same double. */
+const num = (v: number): string => String(v);
+
+/** u(0) at θ, saturated to the table's input limits when `clamp` is set. */
+function evaluateAt(table: TableFile, theta: number[], clamp: boolean) {
+  const e = evaluateTable(table, theta);
+  return { region: e.region, u: e.u && clamp ? clampInputs(e.u, table.inputLimits) : e.u };
+}
+
+export function evaluationCsv(table: TableFile, points: number[][], clamp = false): string {
+  const header = [...table.thetaNames, 'region', ...table.inputNames].join(',');
+  const rows = points.map((p) => {
+    const e = evaluateAt(table, p, clamp);
+    const u = e.u ? e.u.map(num) : table.inputNames.map(() => '');
+    return [...p.map(num), String(e.region), ...u].join(',');
+  });
+  return [header, ...rows].join('\n') + '\n';
 }
 
 export function register(program: Command): void {
@@ -23,22 +91,41 @@ export function register(program: Command): void {
     .command('evaluate')
     .description('evaluate the table law u(0) at given parameter points')
     .argument('<table>', 'table file written by `tessera solve`')
-    .option('--points <csv>', 'CSV file: one θ per line, optional header line')
+    .option('--points <csv>', 'CSV file: one θ per line; an optional header line names every θ entry once, in any order')
     .option('--at <values>', 'one point, comma-separated, e.g. --at 1.2,-0.3')
+    .option('--clamp', "saturate u(0) to the table's input limits (inputLimits)")
     .option('--json', 'print JSON instead of CSV')
-    .action((tablePath: string, opts: { points?: string; at?: string; json?: boolean }) => {
+    .option('-q, --quiet', 'print the values only: no warnings')
+    .action((tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean }) => {
       const table = readTableFile(tablePath);
-      if (!opts.points && !opts.at) throw new InputError('(command line)', '--points', 'give --points FILE.csv or --at v1,v2,…');
+      if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
       const points: number[][] = [];
-      if (opts.points) points.push(...readPointsCsv(opts.points, table.dims.ntheta));
+      if (opts.points) points.push(...readPointsCsv(opts.points, table.thetaNames));
       if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
-      if (!table.stats.complete)
+      const clamp = !!opts.clamp;
+      if (!opts.quiet && !table.stats.complete)
         process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
+      if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
+        process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
       if (opts.json) {
-        const out = evaluatePoints(table, points);
-        process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, points: out }) + '\n');
+        // slack values: the z entries of the layout's slack blocks, from the region's stored moves
+        const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
+        const out = points.map((p) => {
+          const e = evaluateAt(table, p, clamp);
+          if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
+          // a merged region keeps one member's moves, exact on that member only: no slack values there
+          const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
+          const slacks: Record<string, number> | null = e.region < 0 || merged ? null : {};
+          if (slacks) {
+            const moves = table.regions[e.region].moves;
+            for (const b of slackBlocks)
+              b.names.forEach((nm, i) => (slacks[nm] = applyAffine({ F: [moves.F[b.offset + i]], g: [moves.g[b.offset + i]] }, p)[0]));
+          }
+          return { theta: p, region: e.region, u: e.u, slacks };
+        });
+        process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
         return;
       }
-      process.stdout.write(evaluationCsv(table, points));
+      process.stdout.write(evaluationCsv(table, points, clamp));
     });
 }

@@ -4,6 +4,8 @@ import { InputError } from '../io/errors.js';
 import { readTableFile } from '../table/file.js';
 import { analyseCoverage, type CoverageReport, type Fraction } from '../check/gaps.js';
 import { loadTableProblem, positiveInt } from './map.js';
+import { EXIT } from './exit.js';
+import { CLI, positive, SECONDS } from './common.js';
 
 interface GapsCliOptions {
   samples: number;
@@ -12,6 +14,8 @@ interface GapsCliOptions {
   witnesses: number;
   json?: boolean;
   progress: boolean;
+  problem?: string;
+  quiet?: boolean;
 }
 
 const pct = (f: Fraction) => `${(100 * f.fraction).toFixed(3)} % ± ${(100 * f.stderr).toFixed(3)} %`;
@@ -47,25 +51,26 @@ export function register(program: Command): void {
     .command('gaps')
     .description('coverage of the whole parameter box: infeasible parts vs holes (exit code 1 when holes are found)')
     .argument('<table>', 'table file written by tessera solve')
-    .argument('[problem]', 'problem file deciding feasibility (default: the problem stored in the table)')
+    .argument('[problem]', 'same as --problem (kept for old scripts)')
+    .option('--problem <file>', 'problem file deciding feasibility (default: the problem stored in the table)')
     .option('--samples <n>', 'Monte Carlo points', positiveInt('--samples'), 20000)
     .option('--seed <n>', 'seed of the Monte Carlo generator', (v: string) => {
       const x = Number(v);
-      if (!Number.isInteger(x) || x < 0) throw new InputError('(command line)', '--seed', `expected a non-negative integer, got "${v}"`);
+      if (!Number.isInteger(x) || x < 0) throw new InputError(CLI, '--seed', `expected a non-negative integer, got "${v}"`);
       return x;
     }, 1)
-    .option('--time-limit <s>', 'stop the Monte Carlo after s seconds (result marked incomplete)', (v: string) => {
-      const x = Number(v);
-      if (!(x > 0)) throw new InputError('(command line)', '--time-limit', `expected a positive number of seconds, got "${v}"`);
-      return x;
-    })
+    .option(`--time-limit ${SECONDS}`, 'stop the Monte Carlo after this many seconds (result marked incomplete)', positive('--time-limit', false))
     .option('--witnesses <n>', 'hole witness points listed per method', positiveInt('--witnesses'), 10)
     .option('--json', 'print the report as JSON')
     .option('--no-progress', 'no progress line on stderr')
-    .action((tableFile: string, problemFile: string | undefined, o: GapsCliOptions) => {
+    .option('-q, --quiet', 'print nothing; the exit code tells (0 no holes, 1 holes)')
+    .action((tableFile: string, problemArg: string | undefined, o: GapsCliOptions) => {
+      if (problemArg !== undefined && o.problem !== undefined && problemArg !== o.problem)
+        throw new InputError(CLI, '--problem', `two different problem files given ("${problemArg}" as an argument and "${o.problem}")`);
+      const problemFile = o.problem ?? problemArg;
       const table = readTableFile(tableFile);
       const { mpqp } = loadTableProblem(table, tableFile, problemFile);
-      const tty = o.progress && process.stderr.isTTY;
+      const tty = o.progress && !o.quiet && process.stderr.isTTY;
       const report = analyseCoverage(table, mpqp, {
         samples: o.samples,
         seed: o.seed,
@@ -74,7 +79,7 @@ export function register(program: Command): void {
         onProgress: tty ? (d, n) => process.stderr.write(`\r  sampling ${d}/${n}`) : undefined,
       });
       if (tty) process.stderr.write('\r\x1b[K');
-      process.stdout.write(o.json ? JSON.stringify(report, null, 1) + '\n' : formatReport(report));
-      if (report.hasHoles) process.exitCode = 1;
+      if (!o.quiet) process.stdout.write(o.json ? JSON.stringify(report, null, 1) + '\n' : formatReport(report));
+      if (report.hasHoles) process.exitCode = EXIT.found;
     });
 }

@@ -1,23 +1,33 @@
-import type { Command } from 'commander';
+import { Option, type Command } from 'commander';
+import type { Command as Cmd } from 'commander';
 import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { checkOutputPath } from '../io/output.js';
+import { createdNote } from './common.js';
+import { applyAffine, locateSequential } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
-import { loadProblem } from '../problem/load.js';
-import { tableProblem, type TableProblem } from '../table/solve.js';
-import type { ColourBy } from '../plot/svg.js';
-import { parseInitialStates } from '../plot/trajectory.js';
-import { isMergedTable } from '../plot/heat.js';
-import { drawMap } from '../plot/map.js';
+import { loadProblem, parseProblem } from '../problem/index.js';
+import { buildMpqp } from '../formulation/index.js';
+import { problemHash } from '../table/build.js';
+import type { MpqpProblem } from '../mpqp/types.js';
+import type { LoadedProblem } from '../problem/index.js';
+import { analyseSlice } from '../check/gaps.js';
+import { liftPoint, makeSliceSpec, type SliceSpec } from '../partition/slice.js';
+import { renderMapSvg, type ColourBy, type HeatLayer, type Trajectory } from '../plot/svg.js';
+import { simulateClosedLoop } from '../plot/trajectory.js';
 
 const CLI = '(command line)';
 
-/** The problem behind a table: PROBLEM when given, else the table's own echo of it (warns when it is not the table's). */
-export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): TableProblem {
-  const tp = tableProblem(table, { tableFile, problemFile, problem: problemFile ? loadProblem(problemFile) : undefined });
-  if (!tp.sameProblem)
+/** The problem behind a table: PROBLEM when given, else the table's own echo of it. */
+export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): { loaded: LoadedProblem; mpqp: MpqpProblem } {
+  const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (key problem)`);
+  const mpqp = buildMpqp(loaded);
+  if (problemFile && table.problemHash && problemHash(loaded.raw) !== table.problemHash)
     process.stderr.write(`tessera: warning: ${problemFile} is not the problem ${tableFile} was built from (hash differs); feasibility is judged by ${problemFile}\n`);
-  return tp;
+  if (mpqp.ntheta !== table.dims.ntheta)
+    throw new InputError(problemFile ?? tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
+  return { loaded, mpqp };
 }
 
 /** A θ entry by name or by 0-based index. */
@@ -57,9 +67,25 @@ export function parseFix(table: TableFile, v: string | undefined, axes: [number,
   return out;
 }
 
-/** Initial states file (see parseInitialStates). */
+/** Initial states: CSV, one per line, either a full θ or (axis₁, axis₂) of the slice; optional header line. */
 export function readInitialStates(file: string, ntheta: number): number[][] {
-  return parseInitialStates(readTextInput(file, 'initial states'), file, ntheta);
+  const text = readTextInput(file, 'initial states');
+  const rows: number[][] = [];
+  text.split(/\r?\n/).forEach((line, i) => {
+    const s = line.trim();
+    if (!s || s.startsWith('#')) return;
+    const cells = s.split(',').map((c) => c.trim());
+    const nums = cells.map(Number);
+    if (nums.some((x) => !Number.isFinite(x))) {
+      if (rows.length === 0 && i === 0) return; // header
+      throw new InputError(file, `line ${i + 1}`, `not a list of numbers: "${s}"`);
+    }
+    if (nums.length !== ntheta && nums.length !== 2)
+      throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (a full θ) or 2 (a point of the slice), got ${nums.length}`);
+    rows.push(nums);
+  });
+  if (!rows.length) throw new InputError(file, '', 'no initial states found');
+  return rows;
 }
 
 export function positiveInt(flag: string) {
@@ -81,12 +107,43 @@ export function nonNegativeInt(flag: string) {
 interface MapCliOptions {
   axes?: string;
   fix?: string;
+  window?: string;
   color: string;
+  colour?: string;
   trajectories?: string;
   steps: number;
   heat?: string;
   problem?: string;
   output?: string;
+  quiet?: boolean;
+}
+
+/** `--window x0:x1,y0:y1`: a part of the slice rectangle (within the box) to draw. */
+export function parseWindow(v: string, rect: SliceSpec['rect'], names: [string, string]): SliceSpec['rect'] {
+  const m = /^\s*([^:,]+):([^:,]+),([^:,]+):([^:,]+)\s*$/.exec(v);
+  if (!m) throw new InputError(CLI, '--window', `expected x0:x1,y0:y1, got "${v}"`);
+  const [x0, x1, y0, y1] = m.slice(1, 5).map(Number);
+  if (![x0, x1, y0, y1].every(Number.isFinite)) throw new InputError(CLI, '--window', `not four numbers: "${v}"`);
+  const axis = (lo: number, hi: number, blo: number, bhi: number, name: string) => {
+    if (!(lo < hi)) throw new InputError(CLI, '--window', `${name}: ${lo}:${hi} is empty (the first value must be below the second)`);
+    if (lo < blo || hi > bhi) throw new InputError(CLI, '--window', `${name}: ${lo}:${hi} leaves the parameter box [${blo}, ${bhi}]`);
+  };
+  axis(x0, x1, rect.x0, rect.x1, names[0]);
+  axis(y0, y1, rect.y0, rect.y1, names[1]);
+  return { x0, x1, y0, y1 };
+}
+
+/** Initial states outside the box (or the window) are drawn off the canvas: say which. */
+export function trajectoryStartWarnings(starts: number[][], spec: SliceSpec, box: TableFile['box'], names: string[]): string[] {
+  const out: string[] = [];
+  const [ix, iy] = spec.axes;
+  starts.forEach((th, k) => {
+    const outside = th.map((v, j) => (v < box.lower[j] || v > box.upper[j] ? `${names[j]} = ${v} not in [${box.lower[j]}, ${box.upper[j]}]` : null)).filter((s) => s !== null);
+    if (outside.length) out.push(`initial state ${k + 1} lies outside the parameter box (${outside.join('; ')}): its start is drawn off the map`);
+    else if (th[ix] < spec.rect.x0 || th[ix] > spec.rect.x1 || th[iy] < spec.rect.y0 || th[iy] > spec.rect.y1)
+      out.push(`initial state ${k + 1} lies outside the --window: its start is not on the map`);
+  });
+  return out;
 }
 
 export function register(program: Command): void {
@@ -96,38 +153,73 @@ export function register(program: Command): void {
     .argument('<table>', 'table file written by tessera solve')
     .option('--axes <i,j>', 'the two parameters on the axes, by name or 0-based index (default: the first two)')
     .option('--fix <k=v,...>', 'values of the other parameters (default: the middle of the box)')
-    .option('--color <scheme>', 'colour regions by law | active | region', 'law')
+    .option('--window <x0:x1,y0:y1>', 'draw only this part of the slice (within the box), e.g. --window -0.5:0.5,-0.2:0.2')
+    .option('--color <scheme>', 'colour regions by law | active | region (also spelt --colour)', 'law')
+    .addOption(new Option('--colour <scheme>').hideHelp())
     .option('--trajectories <file>', 'CSV of initial states: draw the closed loop under the table law from each')
     .option('--steps <n>', 'closed-loop steps per trajectory', positiveInt('--steps'), 40)
-    .option('--heat <what>', 'heat map under the borders: an input name (u(0)) or "cost" (optimal cost)')
+    .option('--heat <what>', 'heat map under the borders, instead of the --color fill: an input name (u(0)) or "cost" (optimal cost)')
     .option('--problem <file>', 'problem file deciding feasibility (default: the problem stored in the table)')
-    .requiredOption('-o, --output <svg>', 'SVG file to write')
-    .action((tableFile: string, o: MapCliOptions) => {
+    .requiredOption('-o, --output <svg>', 'SVG file to write (.svg)')
+    .option('-q, --quiet', 'print nothing but errors and warnings')
+    .action((tableFile: string, o: MapCliOptions, cmd: Cmd) => {
+      const created = checkOutputPath(o.output!, '-o', { kind: 'file', extensions: ['.svg'], what: 'an SVG map' });
       const table = readTableFile(tableFile);
-      if (!['law', 'active', 'region'].includes(o.color)) throw new InputError(CLI, '--color', `expected law, active or region, got "${o.color}"`);
+      if (o.colour !== undefined) {
+        if (cmd.getOptionValueSource('color') === 'cli' && o.colour !== o.color)
+          throw new InputError(CLI, '--colour', `given together with --color and different ("${o.colour}" vs "${o.color}")`);
+        o.color = o.colour;
+      }
+      const colorGiven = o.colour !== undefined || cmd.getOptionValueSource('color') === 'cli';
+      if (!['law', 'active', 'region'].includes(o.color)) throw new InputError(CLI, o.colour !== undefined ? '--colour' : '--color', `expected law, active or region, got "${o.color}"`);
       const axes = parseAxes(table, o.axes);
-      const fixed = parseFix(table, o.fix, axes);
-      if (o.heat && o.heat !== 'cost' && !table.inputNames.includes(o.heat))
-        throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
-      if (o.heat === 'cost' && isMergedTable(table))
-        throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
-      const problem = loadTableProblem(table, tableFile, o.problem);
-      if (o.trajectories && !problem.loaded.model)
-        throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
-      const starts = o.trajectories ? readInitialStates(o.trajectories, table.dims.ntheta) : undefined;
-      const res = drawMap(table, problem, {
-        axes,
-        fixed,
-        colourBy: o.color as ColourBy,
-        heat: o.heat,
-        trajectories: starts && { starts, steps: o.steps },
-      });
-      const slice = res.slice;
+      const spec = makeSliceSpec(table.box, axes, parseFix(table, o.fix, axes));
+      if (o.window) spec.rect = parseWindow(o.window, spec.rect, [table.thetaNames[axes[0]], table.thetaNames[axes[1]]]);
+      const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
+
+      let heat: HeatLayer | undefined;
+      if (o.heat) {
+        const ui = table.inputNames.indexOf(o.heat);
+        if (o.heat !== 'cost' && ui < 0) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
+        // a merged region keeps one member's value function, which is exact only on that member
+        if (o.heat === 'cost' && table.regions.some((r) => ((r as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1))
+          throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
+        if (colorGiven) process.stderr.write(`tessera: warning: --heat ${o.heat} fills the regions, so --color ${o.color} is not drawn\n`);
+        heat = {
+          label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
+          value: (x, y) => {
+            const th = liftPoint(spec, x, y);
+            const ri = locateSequential(table.regions, th);
+            if (ri < 0) return null;
+            if (ui >= 0) return applyAffine(table.regions[ri].law, th)[ui];
+            const v = table.regions[ri].value;
+            let s = v.r;
+            th.forEach((a, i) => {
+              s += v.q[i] * a;
+              th.forEach((b, j) => (s += a * v.Q[i][j] * b));
+            });
+            return s;
+          },
+        };
+      }
+      let trajectories: Trajectory[] | undefined;
+      if (o.trajectories) {
+        const m = loaded.model;
+        if (!m) throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
+        const starts = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => (row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1])));
+        for (const w of trajectoryStartWarnings(starts, spec, table.box, table.thetaNames)) process.stderr.write(`tessera: warning: ${o.trajectories}: ${w}\n`);
+        trajectories = starts.map((th0) => simulateClosedLoop(table, m, th0, o.steps));
+      }
+      const slice = analyseSlice(table, mpqp, spec);
+      const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });
       writeFileAtomic(o.output!, res.svg);
+      if (o.quiet) return;
+      if (created) createdNote(created);
       const a = slice.gaps.areas;
       const p = (v: number) => ((100 * v) / a.rect).toFixed(2) + ' %';
+      const win = o.window ? ` (window ${o.window})` : '';
       process.stdout.write(
-        `${table.name}: slice ${table.thetaNames[axes[0]]} × ${table.thetaNames[axes[1]]}, ${slice.polygons.length} regions cut the plane\n` +
+        `${table.name}: slice ${table.thetaNames[axes[0]]} × ${table.thetaNames[axes[1]]}${win}, ${slice.polygons.length} regions cut the plane\n` +
           `  covered ${p(a.covered)} · infeasible ${p(a.infeasible)} · holes ${p(a.holes)} (${res.holeCount} hole${res.holeCount === 1 ? '' : 's'}; exact polygon areas)\n` +
           (table.stats.complete === false ? `  INCOMPLETE TABLE (${table.stats.stopReason}): uncovered parts may be unexplored\n` : '') +
           `  written ${o.output}\n`,

@@ -2,6 +2,9 @@ import type { Command } from 'commander';
 import { format } from 'd3';
 import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { checkOutputPath } from '../io/output.js';
+import { EXIT } from './exit.js';
+import { createdNote } from './common.js';
 import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
 import { loadProblem } from '../problem/index.js';
@@ -40,6 +43,8 @@ interface SimulateCliOptions {
   csv?: string;
   svg?: string;
   json?: boolean;
+  clamp?: boolean;
+  quiet?: boolean;
 }
 
 /** Comma-separated finite numbers, or null when some cell is not a number. */
@@ -157,7 +162,13 @@ export function register(program: Command): void {
     .option('--csv <file>', 'write the time series as CSV')
     .option('--svg <file>', 'write time plots of states, outputs and inputs as SVG')
     .option('--json', 'print the summary as JSON')
+    .option('--clamp', "saturate the applied input to the table's input limits (as emit --clamp does in the C)")
+    .option('-q, --quiet', 'print nothing but errors and warnings; the exit code tells')
     .action((tableFile: string, o: SimulateCliOptions) => {
+      const created = [
+        o.csv ? checkOutputPath(o.csv, '--csv', { kind: 'file', extensions: ['.csv'], what: 'CSV' }) : null,
+        o.svg ? checkOutputPath(o.svg, '--svg', { kind: 'file', extensions: ['.svg'], what: 'an SVG plot' }) : null,
+      ];
       const table = readTableFile(tableFile);
       if (table.layout?.formulation === 'mpqp' || !thetaBlock(table.layout, 'state'))
         throw new InputError(tableFile, 'layout', 'this table holds a directly given mpQP: it has no plant to simulate');
@@ -228,6 +239,7 @@ export function register(program: Command): void {
         reference: reference ?? undefined,
         disturbance: disturbance ?? undefined,
         noise,
+        clamp: o.clamp,
       };
       const runs: RunResult[] = starts.map((s, i) => simulateRun(setup, i, s.x, s.uPrev));
       const summary = summarise(setup, runs);
@@ -248,9 +260,11 @@ export function register(program: Command): void {
       // exit 1 judges the table: the nominal plant with exact measurements; mismatch and noise runs are reported only
       const judged = !o.plant && !(noise && noise.std.some((v) => v > 0));
       const failed = judged && nominalFailure(summary);
+      if (failed) process.exitCode = EXIT.found;
+      if (o.quiet) return;
+      for (const d of created) if (d) createdNote(d, o.json ? 'stderr' : 'stdout');
       process.stdout.write(o.json ? JSON.stringify({ summary, judged, failed }) + '\n' : formatSummary(table, summary, o.plant, judged));
       if (o.csv && !o.json) process.stdout.write(`  written ${o.csv}\n`);
       if (o.svg && !o.json) process.stdout.write(`  written ${o.svg}\n`);
-      if (failed) process.exitCode = 1;
     });
 }

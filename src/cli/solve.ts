@@ -1,23 +1,63 @@
 import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
-import { loadProblem } from '../problem/load.js';
-import { solveProblem } from '../table/solve.js';
+import { Worker } from 'node:worker_threads';
+import { loadProblem } from '../problem/index.js';
+import { formulate } from '../formulation/index.js';
+import type { Layout } from '../formulation/layout.js';
+import { infeasibleCore } from '../mpqp/infeasible.js';
+import { mergedRowLabel } from '../mpqp/labels.js';
+import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
+import { makeTable } from '../table/build.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
-import type { Layout } from '../formulation/layout.js';
+import { checkOutputPath } from '../io/output.js';
+import { EXIT } from './exit.js';
+import type { SolveWorkerData } from './solve-worker.js';
+import { createdNote, positive, SECONDS } from './common.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
   return join(dirname(problemPath), `${base}.table.json`);
 }
 
-function positive(flag: string, integer: boolean) {
-  return (v: string): number => {
-    const x = Number(v);
-    if (!Number.isFinite(x) || x <= 0 || (integer && !Number.isInteger(x)))
-      throw new InputError('(command line)', flag, `expected a positive ${integer ? 'integer' : 'number'}, got "${v}"`);
-    return x;
-  };
+const progressLine = (p: Progress) => `\r  candidates ${p.candidates}  regions ${p.regions}  LPs ${p.lps}  ${p.elapsedSeconds.toFixed(1)} s `;
+
+/**
+ * The exploration in a worker thread; Ctrl-C on the main thread asks it to stop, and the promise
+ * then resolves with the partial partition (stopReason 'interrupted').
+ */
+function solveInWorker(mpqp: MpqpProblem, options: SolveWorkerData['options'], onProgress?: (p: Progress) => void): Promise<Partition> {
+  const stop = new Int32Array(new SharedArrayBuffer(4));
+  const ts = import.meta.url.endsWith('.ts'); // run from source under tsx (tests)
+  const worker = new Worker(new URL(ts ? './solve-worker.ts' : './solve-worker.js', import.meta.url), {
+    workerData: { mpqp, options, progress: !!onProgress, stop } satisfies SolveWorkerData,
+    execArgv: ts ? ['--import', 'tsx'] : undefined,
+  });
+  return new Promise((resolve, reject) => {
+    let interrupts = 0;
+    const onSigint = () => {
+      interrupts++;
+      Atomics.store(stop, 0, 1);
+      // a second Ctrl-C, or an exploration that does not reach its next check within 3 s, ends it at once
+      const hard = () => void worker.terminate().then(() => resolve(null as unknown as Partition));
+      if (interrupts > 1) hard();
+      else setTimeout(hard, 3000).unref();
+    };
+    process.on('SIGINT', onSigint);
+    const done = () => process.off('SIGINT', onSigint);
+    worker.on('message', (msg: { type: 'progress'; progress: Progress } | { type: 'done'; partition: Partition }) => {
+      if (msg.type === 'progress') onProgress?.(msg.progress);
+      else {
+        done();
+        resolve(msg.partition);
+        void worker.terminate();
+      }
+    });
+    worker.on('error', (e) => {
+      done();
+      reject(e);
+    });
+  });
 }
 
 export function register(program: Command): void {
@@ -25,31 +65,49 @@ export function register(program: Command): void {
     .command('solve')
     .description('compute the critical-region partition of a problem file and write the table')
     .argument('<problem>', 'problem file (.json, .yaml or .yml)')
-    .option('-o, --output <table>', 'table file to write (default: <problem>.table.json beside the problem)')
+    .option('-o, --output <table>', 'table file to write, .json (default: <problem>.table.json beside the problem)')
     .option('--max-regions <n>', 'stop after n regions; the table is marked incomplete', positive('--max-regions', true))
-    .option('--time-limit <seconds>', 'stop after this many seconds; the table is marked incomplete', positive('--time-limit', false))
+    .option(`--time-limit ${SECONDS}`, 'stop after this many seconds; the table is marked incomplete', positive('--time-limit', false))
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
     .option('-q, --quiet', 'print nothing but errors')
-    .action((problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean }) => {
+    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean }) => {
       if (opts.lp !== 'kernel' && opts.lp !== 'reference')
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
       const out = opts.output ?? defaultTablePath(problemPath);
+      const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: 'a JSON table' });
       const loaded = loadProblem(problemPath);
+      const formulation = formulate(loaded);
+      const { mpqp } = formulation;
+      const core = infeasibleCore(mpqp);
+      if (core) {
+        const limits = core.rows.map((i) => mpqp.labels[i]);
+        throw new InputError(
+          problemPath,
+          'constraints',
+          `the feasible set is empty: no θ in the parameter box admits inputs that meet the limits; these limits conflict${core.needsBox ? ' within the box' : ''}: ${mergedRowLabel(limits)}`,
+        );
+      }
       const live = process.stderr.isTTY && !opts.quiet;
-      const { mpqp, partition, table, seconds } = solveProblem(loaded, {
-        maxRegions: opts.maxRegions,
-        timeLimit: opts.timeLimit,
-        lp: opts.lp,
-        onProgress: live
-          ? (p) =>
-              process.stderr.write(
-                `\r  candidates ${p.candidates}  regions ${p.regions}  LPs ${p.lps}  ${p.elapsedSeconds.toFixed(1)} s `,
-              )
-          : undefined,
-      });
-      if (live) process.stderr.write('\r\x1b[K');
+      let shown = false;
+      const t0 = performance.now();
+      const partition = await solveInWorker(mpqp, { maxRegions: opts.maxRegions, timeLimit: opts.timeLimit, lp: opts.lp as 'kernel' | 'reference' }, live
+        ? (p) => {
+            shown = true;
+            process.stderr.write(progressLine(p));
+          }
+        : undefined);
+      const seconds = (performance.now() - t0) / 1000;
+      // the progress line ends with a newline when interrupted (it stays visible), else it is erased
+      if (shown) process.stderr.write(partition && partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : '\n');
+      if (!partition || partition.stats.stopReason === 'interrupted') {
+        const where = partition ? ` after ${partition.stats.regions} regions` : '';
+        process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped${where} (${seconds.toFixed(1)} s); no table was written${opts.output ? ` to ${out}` : ''}\n`);
+        process.exit(EXIT.interrupted);
+      }
+      const table = makeTable(loaded, formulation, partition);
       writeTableFile(out, table);
       if (opts.quiet) return;
+      if (created) createdNote(created);
       const s = partition.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,

@@ -7,6 +7,7 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { leafDepths, type SearchTree } from '../partition/tree.js';
+import { clampComparisons } from '../table/clamp.js';
 
 export type Precision = 'float' | 'double';
 export type SearchKind = 'tree' | 'sequential';
@@ -63,6 +64,11 @@ export interface EmitArrays extends SearchIndex {
   regionB: number[];
   lawF: number[];
   lawG: number[];
+  /**
+   * `emit --clamp`: u saturated to the table's input limits after the law (bounds rounded to the
+   * build's precision; null = that side open); null when the build does not clamp
+   */
+  clamp: { lower: (number | null)[]; upper: (number | null)[] } | null;
 }
 
 /** Region-test slack of a build: tol.inside in double; in float, a few ulps of the largest |θ|·‖a‖₁ + |b|. */
@@ -83,9 +89,11 @@ export function regionSlack(table: TableFile, precision: Precision): number {
  * Flatten a table (and its search tree, for `search: 'tree'`) into the arrays the generated code
  * holds: real arrays already rounded to `precision`, index arrays, region bounds widened by the
  * precision's slack. θ and u in the table's units. Returns new arrays owned by the caller.
+ * With `clamp`, u is saturated to the table's input limits as the generated code does.
  */
-export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null): EmitArrays {
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null, clamp = false): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
+  const bound = (v: number | null | undefined) => (v === null || v === undefined ? null : round(v));
   const n = table.dims.ntheta;
   if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
   const slack = regionSlack(table, precision);
@@ -118,6 +126,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     lawF,
     lawG,
     ...searchIndex(search, tree, regionRowStart),
+    clamp: clamp
+      ? { lower: table.inputNames.map((_, i) => bound(table.inputLimits?.lower?.[i])), upper: table.inputNames.map((_, i) => bound(table.inputLimits?.upper?.[i])) }
+      : null,
   };
   if (search === 'tree' && tree) {
     if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
@@ -160,6 +171,10 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
       let s = ar.lawG[row];
       if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
       else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * theta[j];
+      const lo = ar.clamp?.lower[i];
+      const hi = ar.clamp?.upper[i];
+      if (lo !== null && lo !== undefined && s < lo) s = lo;
+      if (hi !== null && hi !== undefined && s > hi) s = hi;
       u[i] = s;
     }
     return u;
@@ -188,19 +203,23 @@ export interface CostFigures {
   regions: number;
   /** worst-case hyperplane tests on the way to a leaf (0 for sequential search) */
   worstDepth: number;
-  /** worst case over every path: multiply-adds and comparisons of one evaluation */
+  /** worst case over every path: multiply-adds and comparisons of one evaluation (with --clamp, its comparisons included) */
   worstMultiplyAdds: number;
   worstComparisons: number;
+  /** comparisons of the --clamp saturation (0 without it), part of worstComparisons */
+  clampComparisons: number;
 }
 
 /**
  * Worst-case cost of one evaluation: descent to the deepest-costing leaf (nθ multiply-adds and one
  * comparison per node), then every candidate region's rows tested in full, then the law (nu·nθ).
  */
-export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'>): CostFigures {
+export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & { clamp?: EmitArrays['clamp'] }): CostFigures {
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;
+  // the saturation of --clamp: one comparison per finite input limit
+  const clampCmp = ar.clamp ? clampComparisons(ar.clamp, ar.nu) : 0;
   let worstDepth = 0;
   let worstMacs = 0;
   let worstCmp = 0;
@@ -208,7 +227,7 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
     let all = 0;
     for (let r = 0; r < ar.regionCount; r++) all += rows(r);
     worstMacs = all * n + lawMacs;
-    worstCmp = all;
+    worstCmp = all + clampCmp;
   } else {
     const depths = leafDepths({ root: ar.root, nodeLeft: ar.nodeLeft, nodeRight: ar.nodeRight, leafStart: ar.leafStart });
     depths.forEach((d, leaf) => {
@@ -216,8 +235,8 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
       worstMacs = Math.max(worstMacs, d * n + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, d + rr);
+      worstCmp = Math.max(worstCmp, d + rr + clampCmp);
     });
   }
-  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp };
+  return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, clampComparisons: clampCmp };
 }

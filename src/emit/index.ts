@@ -33,6 +33,8 @@ export interface EmitOptions<P extends string = Precision> {
   mergedFrom?: number;
   /** fixed point: θ fraction bits per component instead of the ones chosen from the box */
   thetaFrac?: number[];
+  /** saturate u to the table's input limits in the generated code (`emit --clamp`) */
+  clamp?: boolean;
 }
 
 export interface EmitResult<B = EmitArrays> {
@@ -68,7 +70,7 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
   }
   const hash = tableHash(table);
   const tree = opts.search === 'tree' ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash })) : null;
-  const arrays = target.build(table, opts.precision, opts.search, tree, { thetaFrac: opts.thetaFrac });
+  const arrays = target.build(table, opts.precision, opts.search, tree, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom };
   const files = target.files(arrays, meta);
   const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';

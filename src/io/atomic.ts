@@ -2,6 +2,7 @@ import { writeFileSync, renameSync, unlinkSync, existsSync, mkdirSync } from 'no
 import { dirname, basename, join } from 'node:path';
 import { statSync } from 'node:fs';
 import { InputError } from './errors.js';
+import { refusePseudoFs } from './output.js';
 
 const pending = new Set<string>();
 let hooked = false;
@@ -29,6 +30,7 @@ function hookSignals(): void {
  */
 export function writeFileAtomic(path: string, data: string | Uint8Array): void {
   hookSignals();
+  refusePseudoFs(path, '');
   let isDir = false;
   try {
     isDir = statSync(path).isDirectory();

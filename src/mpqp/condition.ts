@@ -1,5 +1,6 @@
 import type { MpqpProblem } from './types.js';
 import { tol } from '../tol.js';
+import { mergedRowLabel } from './labels.js';
 
 /**
  * Condition the raw condensed mpQP for the engine:
@@ -17,6 +18,7 @@ export function conditionMpqp(raw: MpqpProblem): MpqpProblem {
   const E: number[] = [];
   const w: number[] = [];
   const labels: string[] = [];
+  const labelGroups: string[][] = [];
   const mergedFrom: number[][] = [];
   const width = nz + nt;
   const rowsSeen: Float64Array[] = [];
@@ -41,7 +43,8 @@ export function conditionMpqp(raw: MpqpProblem): MpqpProblem {
     const origins = raw.mergedFrom[i] ?? [i];
     if (dup >= 0) {
       mergedFrom[dup].push(...origins);
-      labels[dup] = `${labels[dup]} = ${raw.labels[i]}`;
+      labelGroups[dup].push(raw.labels[i]);
+      labels[dup] = mergedRowLabel(labelGroups[dup]);
       continue;
     }
     rowsSeen.push(row);
@@ -50,6 +53,7 @@ export function conditionMpqp(raw: MpqpProblem): MpqpProblem {
     for (let j = 0; j < nt; j++) E.push(row[nz + j]);
     w.push(row[width]);
     labels.push(raw.labels[i]);
+    labelGroups.push([raw.labels[i]]);
     mergedFrom.push([...origins]);
   }
   return {

@@ -23,7 +23,7 @@ export interface MpqpProblem {
   w: Float64Array; // nc
   E: Float64Array; // nc×ntheta
   box: { lower: Float64Array; upper: Float64Array }; // ntheta each
-  /** human meaning of each row, e.g. "u1(0) <= 1", "x2(3) >= -2"; merged rows joined by " = " */
+  /** human meaning of each row, e.g. "u1(0) <= 1", "x2(3) >= -2"; merged rows labelled by mergedRowLabel (src/mpqp/labels.ts), e.g. "u1 <= 1 at k = 2, 3, 4" */
   labels: string[];
   /** for each row, the indices of the original (unmerged) rows it stands for */
   mergedFrom: number[][];

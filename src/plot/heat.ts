@@ -34,9 +34,9 @@ export function heatLayer(table: TableFile, spec: SliceSpec, what: string): Heat
     throw new InputError(table.name, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
   return {
     label: what === 'cost' ? 'optimal cost J*(θ)' : `${what}(0)`,
-    value: (x, y, slack) => {
+    value: (x, y) => {
       const th = liftPoint(spec, x, y);
-      const ri = locateSequential(table.regions, th, slack);
+      const ri = locateSequential(table.regions, th);
       if (ri < 0) return null;
       return ui >= 0 ? applyAffine(table.regions[ri].law, th)[ui] : quadraticAt(table.regions[ri].value, th);
     },

@@ -22,8 +22,8 @@ export interface Trajectory {
 
 export interface HeatLayer {
   label: string;
-  /** value at a slice point, null where no region holds it; `slack` widens the region test (θ units) */
-  value: (x: number, y: number, slack?: number) => number | null;
+  /** value at a slice point from the law of the region that holds it; null where no region does */
+  value: (x: number, y: number) => number | null;
   /** cells per axis */
   cells?: number;
 }
@@ -103,15 +103,29 @@ export interface HeatGrid {
 export function heatGrid(spec: SliceSpec, heat: HeatLayer, bins = 48): HeatGrid {
   const cells = heat.cells ?? 160;
   const { x0, x1, y0, y1 } = spec.rect;
-  const diag = Math.hypot((x1 - x0) / cells, (y1 - y0) / cells);
+  // A cell takes the value at its centre, from the law of the region holding the centre. A cell
+  // whose centre lies in no region but that straddles the covered set takes the value at the
+  // first of a 4×4 grid of points inside it that some region holds, from that region's law at
+  // that point: a law is never extrapolated outside its region (extrapolated laws of thin regions
+  // ran far past the input limits and stretched the scale).
+  const SUB = 4;
+  const cellValue = (c: number, r: number): number | null => {
+    const at = (fc: number, fr: number) => heat.value(x0 + ((c + fc) / cells) * (x1 - x0), y0 + ((r + fr) / cells) * (y1 - y0));
+    const v = at(0.5, 0.5);
+    if (v !== null) return v;
+    for (let a = 0; a < SUB; a++)
+      for (let b = 0; b < SUB; b++) {
+        const w = at((a + 0.5) / SUB, (b + 0.5) / SUB);
+        if (w !== null) return w;
+      }
+    return null;
+  };
   const vals: (number | null)[] = [];
   let lo = Infinity;
   let hi = -Infinity;
   for (let r = 0; r < cells; r++)
     for (let c = 0; c < cells; c++) {
-      const x = x0 + ((c + 0.5) / cells) * (x1 - x0);
-      const y = y0 + ((r + 0.5) / cells) * (y1 - y0);
-      const v = heat.value(x, y) ?? heat.value(x, y, diag);
+      const v = cellValue(c, r);
       vals.push(v);
       if (v !== null) {
         lo = Math.min(lo, v);
@@ -172,6 +186,16 @@ export function sliceColours(
   return { keys, ...c };
 }
 
+/**
+ * Border width of a region in px: the full width for regions at least 8 px thick, thinner in
+ * proportion below that (down to 0.05 px), so that a dense band of thin regions reads as a band of
+ * colour with fine lines instead of a black smear of overlapping strokes.
+ */
+export function borderWidth(pixelPolygon: Polygon, full: number): string {
+  const t = thickness(pixelPolygon);
+  return Math.max(0.05, Math.min(full, (full * t) / 8)).toFixed(2);
+}
+
 /** Render the analysed slice as a standalone SVG document. */
 export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOptions = {}): MapResult {
   const colourBy = opts.colourBy ?? 'law';
@@ -211,7 +235,11 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
     .filter((s) => s !== null)
     .join(', ');
   push(`<text x="${m.left}" y="28" font-size="18" font-weight="bold">${esc(table.name)}: slice ${esc(names[ix])} × ${esc(names[iy])}</text>`);
-  push(`<text x="${m.left}" y="48" fill="#333">${esc(fixedText ? `fixed: ${fixedText}` : 'both parameters on the axes (the whole box)')}</text>`);
+  const { x0, x1, y0, y1 } = spec.rect;
+  const windowed = x0 > table.box.lower[ix] || x1 < table.box.upper[ix] || y0 > table.box.lower[iy] || y1 < table.box.upper[iy];
+  const windowText = windowed ? `window ${names[ix]} ∈ [${num(x0)}, ${num(x1)}], ${names[iy]} ∈ [${num(y0)}, ${num(y1)}]` : '';
+  const subtitle = [fixedText ? `fixed: ${fixedText}` : windowed ? '' : 'both parameters on the axes (the whole box)', windowText].filter(Boolean).join(' · ');
+  push(`<text x="${m.left}" y="48" fill="#333">${esc(subtitle)}</text>`);
   const cov = gaps.areas.rect > 0 ? gaps.areas.covered / gaps.areas.rect : 0;
   const inf = gaps.areas.rect > 0 ? gaps.areas.infeasible / gaps.areas.rect : 0;
   let summary = `${polygons.length} regions in this slice · covered ${pct(cov)} · infeasible ${pct(inf)} · `;
@@ -246,7 +274,8 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   }
   polygons.forEach((p, k) => {
     const fill = opts.heat ? 'none' : paletteColour(colour[k]);
-    const stroke = opts.heat ? 'stroke="#8a8a8a" stroke-width="0.7"' : 'stroke="#3c3c3c" stroke-width="0.6"';
+    const width = borderWidth(p.polygon.map(([x, y]) => [sx(x), sy(y)] as [number, number]), opts.heat ? 0.7 : 0.6);
+    const stroke = opts.heat ? `stroke="#8a8a8a" stroke-width="${width}"` : `stroke="#3c3c3c" stroke-width="${width}"`;
     const r = table.regions[p.index];
     push(
       `<path class="region" data-region="${r.id}" data-colour="${colour[k]}" d="${polyPath(p.polygon, sx, sy)}" fill="${fill}" ${stroke} stroke-linejoin="round"><title>${esc(describeRegion(table, p.index))}</title></path>`,
@@ -398,7 +427,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
     const gid = 'heatbar';
     const stops = Array.from({ length: 11 }, (_, k) => `<stop offset="${k * 10}%" stop-color="${heatInterpolator(k / 10)}"/>`).join('');
     push(`<defs><linearGradient id="${gid}">${stops}</linearGradient></defs>`);
-    push(`<rect x="${lx}" y="${ly}" width="${bw}" height="12" fill="url(#${gid})" stroke="#666" stroke-width="0.5"/>`);
+    push(`<rect class="heat-scale" data-min="${heatRange[0]}" data-max="${heatRange[1]}" x="${lx}" y="${ly}" width="${bw}" height="12" fill="url(#${gid})" stroke="#666" stroke-width="0.5"/>`);
     const hs = scaleLinear().domain(heatRange).range([lx, lx + bw]);
     for (const t of hs.ticks(4)) {
       push(`<line x1="${hs(t).toFixed(1)}" x2="${hs(t).toFixed(1)}" y1="${ly + 12}" y2="${ly + 16}" stroke="#333"/>`);

@@ -1,5 +1,6 @@
 import { parseDocument } from 'yaml';
 import { InputError } from '../io/input-error.js';
+import { findDuplicateKey } from '../io/duplicate-keys.js';
 import { tol } from '../tol.js';
 import { Checker, describe, join, type Obj } from './check.js';
 import { eye, mul, spectralRadius, symmetrise, transpose, unstabilisableMode, add, zeros, type Mat } from './dense.js';
@@ -45,6 +46,8 @@ function fileStem(file: string): string {
 export function parseProblemText(text: string, file: string): LoadedProblem {
   const ext = fileExtension(file);
   const raw = ext === '.yaml' || ext === '.yml' ? parseYaml(text, file) : parseJson(text, file);
+  const dup = findDuplicateKey(text);
+  if (dup) throw new InputError(file, dup.path, `key given twice (again at line ${dup.line} column ${dup.column}); remove one`);
   return parseProblem(raw, file);
 }
 
@@ -88,7 +91,7 @@ function parseJson(text: string, file: string): unknown {
 }
 
 function parseYaml(text: string, file: string): unknown {
-  const doc = parseDocument(text, { prettyErrors: true });
+  const doc = parseDocument(text, { prettyErrors: true, uniqueKeys: false });
   const err = doc.errors[0];
   if (err) {
     const first = err.message.split('\n')[0].replace(/ at line \d+, column \d+:?$/, '');

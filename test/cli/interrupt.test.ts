@@ -1,28 +1,87 @@
 import { describe, it, expect } from 'vitest';
-import { spawn } from 'node:child_process';
-import { existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { root } from '../helpers/solved.js';
 
-// Ctrl-C during `tessera solve` must leave neither a table nor a temp file (writes are temp + rename).
+// Ctrl-C during `tessera solve` must leave neither a table nor a temp file (writes are temp + rename),
+// say what was stopped, end the progress line with a newline and exit 130 (128 + SIGINT, common practice).
+const cli = join(root, 'dist', 'src', 'cli', 'main.js');
+
+/** A problem that runs for many seconds: the 4-D two-cart fixture with a longer horizon (≈ 4400 regions in 20 s, still not done). */
+function longProblem(dir: string): string {
+  const p = JSON.parse(readFileSync(join(root, 'test', 'fixtures', 'problems', 'two-carts-4d.json'), 'utf8'));
+  p.horizon = 12;
+  p.controlHorizon = 8;
+  const file = join(dir, 'long.json');
+  writeFileSync(file, JSON.stringify(p));
+  return file;
+}
+
+interface Ended {
+  code: number | null;
+  stdout: string;
+  stderr: string;
+}
+
+/** Attach every listener before anything can happen, then resolve when the child has closed. */
+function watch(child: ChildProcess): Promise<Ended> {
+  let stdout = '';
+  let stderr = '';
+  child.stdout?.setEncoding('utf8').on('data', (d: string) => (stdout += d));
+  child.stderr?.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+  return new Promise((r) => child.on('close', (code, sig) => r({ code: code ?? (sig === 'SIGINT' ? 130 : null), stdout, stderr })));
+}
+
 describe('interrupting tessera solve', () => {
-  it('SIGINT mid-run leaves no output and no temp file', async () => {
+  it('SIGINT mid-run: exit 130, a message naming what was stopped, no table and no temp file', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'tessera-int-'));
-    const out = join(dir, 'table.json');
-    const cli = join(root, 'dist', 'src', 'cli', 'main.js');
-    const child = spawn(process.execPath, [cli, 'solve', join(root, 'test', 'fixtures', 'problems', 'two-carts-4d.json'), '-o', out, '--lp', 'reference']);
-    let stdout = '';
-    child.stdout.on('data', (d) => (stdout += d));
-    await new Promise((r) => setTimeout(r, 1500));
+    const problem = longProblem(dir);
+    const out = join(dir, 'out', 'table.json');
+    const child = spawn(process.execPath, [cli, 'solve', problem, '-o', out]);
+    const ended = watch(child);
+    // long enough for start-up on a loaded machine (the solve itself runs for well over 20 s)
+    await new Promise((r) => setTimeout(r, 6000));
     const stillRunning = child.exitCode === null;
     child.kill('SIGINT');
-    const code = await new Promise<number | null>((r) => child.on('close', (c, sig) => r(c ?? (sig ? 130 : null))));
-    expect(stillRunning, 'the solve (reference LP engine, several seconds) was still running when interrupted').toBe(true);
-    expect(code).not.toBe(0);
-    expect(stdout).not.toContain('table written');
+    const e = await ended;
+    expect(stillRunning, 'the solve was still running when interrupted').toBe(true);
+    expect(e.code).toBe(130);
+    expect(e.stdout).not.toContain('table written');
+    expect(e.stderr).toMatch(new RegExp(`^tessera: interrupted: the solve of ${problem.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')} was stopped after \\d+ regions \\(\\d+\\.\\d s\\); no table was written to ${out.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}\\n$`));
     expect(existsSync(out)).toBe(false);
-    expect(readdirSync(dir)).toEqual([]);
+    expect(readdirSync(dir)).toEqual(['long.json']);
     rmSync(dir, { recursive: true, force: true });
-  }, 30000);
+  }, 60000);
+
+  // a terminal is needed for the progress line: `script` (util-linux) runs the CLI on a pseudo-terminal,
+  // and Ctrl-C typed into it (byte 0x03) reaches the CLI as SIGINT through the terminal driver
+  const hasScript = spawnSync('script', ['--version'], { encoding: 'utf8' }).status === 0;
+  it('Ctrl-C on a terminal: the progress line ends with a newline before the message', async () => {
+    expect(hasScript, 'util-linux `script` is needed for this test').toBe(true);
+    const dir = mkdtempSync(join(tmpdir(), 'tessera-int-tty-'));
+    const problem = longProblem(dir);
+    const out = join(dir, 'table.json');
+    const child = spawn('script', ['-qec', `${process.execPath} ${cli} solve ${problem} -o ${out}`, '/dev/null'], { stdio: ['pipe', 'pipe', 'pipe'] });
+    const ended = watch(child);
+    // wait for the first progress line, then type Ctrl-C
+    await new Promise<void>((r) => {
+      const t = setInterval(() => {
+        if (child.exitCode !== null) return r(clearInterval(t));
+      }, 100);
+      child.stdout!.on('data', (d: string) => {
+        if (String(d).includes('regions')) {
+          clearInterval(t);
+          r();
+        }
+      });
+    });
+    child.stdin!.write('\x03');
+    const e = await ended;
+    const text = e.stdout; // the pseudo-terminal merges stderr into script's stdout
+    expect(text).toMatch(/candidates \d+ {2}regions \d+ {2}LPs \d+ {2}\d+\.\d s \r?\n(\r?\n)?tessera: interrupted: the solve of .* was stopped after \d+ regions/);
+    expect(existsSync(out)).toBe(false);
+    rmSync(dir, { recursive: true, force: true });
+  }, 60000);
 });

@@ -147,8 +147,16 @@ describe.skipIf(skip)('viewer in headless Chromium', { timeout: 60000 }, () => {
       await open(srv.url);
       const polys = sliceRegions(valve.table.regions, makeSliceSpec(valve.table.box, [0, 1]));
       expect(await page.locator('path.region').count()).toBe(polys.length);
+      // the "under the pointer" panel names a region of this slice…
+      const [hx, hy] = centroid(polys.slice().sort((a, b) => b.area - a.area)[0].polygon);
+      const [hpx, hpy] = await project(hx, hy);
+      await page.mouse.move(hpx, hpy);
+      expect(await page.locator('#info').getAttribute('data-region')).not.toBeNull();
       // switching the vertical axis to cmd_prev redraws with spool × cmd_prev
       await page.selectOption('#axis-y', '2');
+      // …and is cleared by the change of axes instead of keeping the old slice's region
+      expect(await page.locator('#info').getAttribute('data-region')).toBeNull();
+      expect(await page.locator('#info').textContent()).toBe('hover a region for its id, active set and law');
       const polys2 = sliceRegions(valve.table.regions, makeSliceSpec(valve.table.box, [0, 2]));
       expect(await page.locator('path.region').count()).toBe(polys2.length);
       expect(await page.locator('#fix-1').count()).toBe(1);

@@ -154,6 +154,7 @@ ${limitsText(t).join('\n')}
  * CAUTIONS - this code drives equipment that can hurt people:
  *  - Validate the controller in simulation and hardware-in-the-loop on the target before use.
  *  - Keep an independent safety layer (limits, watchdog, interlocks) outside this code.
+ *  - ${ar.clamp ? `u is saturated to the input limits listed above (emit --clamp).` : `u is the affine law as computed: it meets the input limits only up to rounding (emit --clamp saturates).`}
  *  - ${P}_eval returns -1 when theta lies in no region (outside the box, infeasible, or a gap);
  *    u is then left untouched and the caller must apply its own safe fallback.
  *  - The float build is only as good as its single-precision certificate (tessera emit --certify);
@@ -194,6 +195,18 @@ int ${P}_eval(const ${real} theta[${P.toUpperCase()}_NT], ${real} u[${P.toUpperC
 `;
 }
 
+/** `emit --clamp`: saturation of u to the input limits, one statement per finite bound (no libm). */
+function clampBlock(ar: EmitArrays): string {
+  if (!ar.clamp) return '';
+  const lines: string[] = [];
+  ar.clamp.lower.forEach((lo, i) => {
+    if (lo !== null) lines.push(`    if (u[${i}] < ${formatReal(lo, ar.precision)}) { u[${i}] = ${formatReal(lo, ar.precision)}; }`);
+    const hi = ar.clamp!.upper[i];
+    if (hi !== null) lines.push(`    if (u[${i}] > ${formatReal(hi, ar.precision)}) { u[${i}] = ${formatReal(hi, ar.precision)}; }`);
+  });
+  return lines.length ? `    /* --clamp: saturate to the input limits (a law meets them only up to rounding) */\n${lines.join('\n')}\n` : '';
+}
+
 export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
   const P = meta.prefix;
   const NT = `${P.toUpperCase()}_NT`;
@@ -227,7 +240,7 @@ static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
         }
         u[i] = s;
     }
-}
+${clampBlock(ar)}}
 `;
   const evalSeq = `int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
@@ -355,7 +368,7 @@ export const cTarget: EmitTarget<EmitArrays> = {
   lang: 'c',
   precisions: ['float', 'double'],
   summary: 'C99, IEEE float or double arithmetic',
-  build: (table, precision, search, tree) => buildArrays(table, precision as Precision, search, tree),
+  build: (table, precision, search, tree, options) => buildArrays(table, precision as Precision, search, tree, options?.clamp),
   evaluate: evaluateArrays,
   layout: layoutOf,
   files: (ar, meta) => [

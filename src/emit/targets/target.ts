@@ -29,6 +29,8 @@ export interface TargetCost extends CostFigures {
 export interface TargetOptions {
   /** fixed point: θ fraction bits per component, forced instead of chosen from the box */
   thetaFrac?: number[];
+  /** saturate u to the table's input limits in the generated code (`emit --clamp`; float/double C) */
+  clamp?: boolean;
 }
 
 export interface TargetFile {

@@ -7,7 +7,7 @@
 import type { TableFile } from '../table/format.js';
 import { applyAffine, locateSequential } from '../table/table.js';
 import { clampInputs } from '../table/clamp.js';
-import { evaluateArrays, type EmitArrays } from '../emit/arrays.js';
+import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
 /** Default accepted |u_float − u_double|: this fraction of the widest finite input range (or of 1). */
@@ -44,6 +44,69 @@ export interface Certificate {
   safe: boolean;
   verdict: string;
   worstTheta: number[] | null;
+  /** a-priori bounds of |u_float − u_double| (DEVELOPERS.md, "Point location in float") */
+  bounds: FloatBounds;
+  /** when NOT SAFE: the law and facet responsible at the worst point, the condition number and what to change */
+  diagnosis: string | null;
+}
+
+export interface FloatBounds {
+  /** rounding θ to float alone: max over regions and inputs of u·Σ_j |F_ij|·|θ_j|max */
+  inputRounding: number;
+  /** where: region and input of that maximum, and the law's gain Σ_j |F_ij| */
+  inputRoundingAt: { region: number; input: number; gain: number };
+  /**
+   * overlap: a θ of region N accepted by its neighbour R within R's slack s on the shared facet a·θ ≤ b
+   * carries |u_R(θ) − u_N(θ)| = |δ|·(a·θ − b) ≤ |δ|·2s (continuity: F_R − F_N = δ aᵀ); max over facets
+   */
+  overlap: number;
+  overlapAt: { region: number; facet: number; neighbour: number; jump: number; slack: number } | null;
+}
+
+/** The a-priori bounds of a float build of `table` (the region slack is the build's per-row slack). */
+export function floatBounds(table: TableFile): FloatBounds {
+  const m = boxAbsMax(table.box);
+  let inputRounding = 0;
+  let inputRoundingAt = { region: -1, input: -1, gain: 0 };
+  let overlap = 0;
+  let overlapAt: FloatBounds['overlapAt'] = null;
+  const byId = new Map<number, number>();
+  table.regions.forEach((r, k) => byId.set(r.id, k));
+  const tests = regionTests(table, 'float');
+  table.regions.forEach((r, k) => {
+    r.law.F.forEach((row, i) => {
+      let e = 0;
+      let gain = 0;
+      row.forEach((v, j) => {
+        e += Math.abs(v) * m[j];
+        gain += Math.abs(v);
+      });
+      e *= FLOAT_U;
+      if (e > inputRounding) {
+        inputRounding = e;
+        inputRoundingAt = { region: k, input: i, gain };
+      }
+    });
+    r.A.forEach((a, i) => {
+      const s = tests[k].slack[i];
+      for (const id of r.facets?.[i]?.neighbours ?? []) {
+        const nk = byId.get(id);
+        if (nk === undefined) continue;
+        const N = table.regions[nk];
+        let jump = 0;
+        r.law.F.forEach((row, q) => {
+          let d2 = 0;
+          row.forEach((v, j) => (d2 += (v - N.law.F[q][j]) ** 2));
+          jump = Math.max(jump, Math.sqrt(d2));
+        });
+        if (2 * s * jump > overlap) {
+          overlap = 2 * s * jump;
+          overlapAt = { region: k, facet: i, neighbour: nk, jump, slack: s };
+        }
+      }
+    });
+  });
+  return { inputRounding, inputRoundingAt, overlap, overlapAt };
 }
 
 /** How the default tolerance is derived, for `--help` and the report. */
@@ -170,18 +233,65 @@ export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evalu
   const { sample, facet, extra } = certificatePoints(table, options);
   const tolerance = options.tolerance ?? defaultTolerance(table);
   const reference = floatBuild.clamp ? (u: number[]) => clampInputs(u, table.inputLimits) : undefined;
-  const cmp = compareWithDouble(table, evaluate, [...sample, ...facet, ...extra], reference);
+  // a float build sees θ as float: the double law is taken at that θ too (rounding a double θ to float
+  // is the sensor's/caller's quantisation, reported apart as bounds.inputRounding, not the build's error)
+  const pts = [...sample, ...facet, ...extra];
+  const cmp = compareWithDouble(table, evaluate, prec === 'float' ? pts.map((p) => p.map(Math.fround)) : pts, reference);
   const { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta } = cmp;
   const safe = lost === 0 && maxAbsDiff <= tolerance;
+  let diagnosis: string | null = null;
+  if (!safe && worstTheta) {
+    const rd = locateSequential(table.regions, worstTheta);
+    const rf = evaluate(worstTheta).region;
+    const m = boxAbsMax(table.box);
+    const law = table.regions[rd].law;
+    // condition number of the law at the worst point: Σ|F_ij θ_j| + |g_i| over |u_i| (cancellation ratio)
+    let kappa = 0;
+    let gain = 0;
+    law.F.forEach((row, i) => {
+      const u = applyAffine(law, worstTheta)[i];
+      const mag = row.reduce((acc, v, j) => acc + Math.abs(v * worstTheta[j]), Math.abs(law.g[i]));
+      kappa = Math.max(kappa, mag / Math.max(Math.abs(u), Number.MIN_VALUE));
+      gain = Math.max(gain, row.reduce((acc, v) => acc + Math.abs(v), 0));
+    });
+    const quant = gain * FLOAT_U * Math.max(...m);
+    const parts = [`at θ = [${worstTheta.map((v) => v.toPrecision(6)).join(', ')}] the double law is region ${rd}'s (gain Σ|F| = ${gain.toPrecision(4)}, condition number Σ|F θ| + |g| over |u| = ${kappa.toPrecision(3)}); rounding θ to float alone moves u by up to ${quant.toPrecision(3)}`];
+    if (rf >= 0 && rf !== rd) {
+      // the facet of the float region that θ lies beyond (its largest violation)
+      const R = table.regions[rf];
+      let worstRow = 0;
+      let worstViol = -Infinity;
+      R.A.forEach((a, i) => {
+        const v = a.reduce((acc, x, j) => acc + x * worstTheta[j], 0) - R.b[i];
+        if (v > worstViol) {
+          worstViol = v;
+          worstRow = i;
+        }
+      });
+      let jump = 0;
+      R.law.F.forEach((row, q) => (jump = Math.max(jump, Math.sqrt(row.reduce((acc, v, j) => acc + (v - law.F[q][j]) ** 2, 0)))));
+      parts.push(
+        `the float build located it in region ${rf}, ${worstViol.toExponential(2)} beyond its facet ${worstRow} (overlap slack ${regionTests(table, 'float')[rf].slack[worstRow].toExponential(2)}); the laws of ${rf} and ${rd} differ by |δ| = ${jump.toPrecision(4)} across it`,
+      );
+    }
+    parts.push(
+      rf === rd
+        ? `the float evaluation of this law itself is off by ${maxAbsDiff.toPrecision(3)} (cancellation); what to change: use the double build, scale θ or raise the input weight to reduce the gain, or accept a tolerance above ${maxAbsDiff.toPrecision(2)}`
+        : `what to change: use the double build, merge or drop the thin region with the large law jump (a larger input weight reduces the jumps), or accept a tolerance above ${maxAbsDiff.toPrecision(2)}`,
+    );
+    diagnosis = parts.join('; ');
+  }
   const total = sample.length + facet.length + extra.length;
+  const bounds = floatBounds(table);
   const verdict = safe
     ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the ${prec} build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in ${prec}` +
-      (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '')
+      (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '') +
+      (prec === 'float' ? `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}` : '')
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
       [maxAbsDiff > tolerance ? `max |u_build - u_table| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in ${prec}` : '']
         .filter(Boolean)
         .join('; ') +
-      (prec === 'float' ? '; use the double build (--precision double) or a larger --tolerance' : '; check the table with tessera gaps, or give a larger --tolerance');
+      (prec === 'float' ? '; use the double build (--precision double) or a larger --tolerance (see the diagnosis)' : '; check the table with tessera gaps, or give a larger --tolerance');
   return {
     precision: prec,
     search: floatBuild.search,
@@ -196,5 +306,7 @@ export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evalu
     safe,
     verdict,
     worstTheta,
+    bounds,
+    diagnosis,
   };
 }

@@ -9,7 +9,7 @@ import { createdNote } from './common.js';
 import { tableToJson } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
-import { emit, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import { emit, type SearchChoice, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
 import { readTreeFile } from '../emit/tree-file.js';
 import type { EmitArrays } from '../emit/arrays.js';
 import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
@@ -52,7 +52,7 @@ function positive(flag: string, integer: boolean) {
 interface EmitCliOptions {
   lang: string;
   precision: string;
-  search: 'tree' | 'sequential';
+  search: SearchChoice;
   prefix: string;
   output: string;
   merge?: boolean;
@@ -119,7 +119,12 @@ export function register(program: Command): void {
     .argument('<table>', 'table file written by tessera solve')
     .option('--lang <lang>', `target language: ${TARGETS.map((t) => `${t.lang} (${t.precisions.join('/')}: ${t.summary})`).join('; ')}`, choice('--lang', LANGS), 'c')
     .option('--precision <p>', `arithmetic of the generated code: ${PRECISIONS.join(', ')}`, choice('--precision', PRECISIONS), 'float')
-    .option('--search <s>', 'point location: tree (binary search tree) or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
+    .option(
+      '--search <s>',
+      'point location: auto (the cost model picks; default), tree (hyperplane tree, one region per leaf), capped (depth-capped hyperplane tree with short leaves), boxtree (bounding-box tree) or sequential',
+      choice('--search', ['auto', 'tree', 'capped', 'boxtree', 'sequential'] as const),
+      'auto',
+    )
     .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')
     .requiredOption('-o, --output <dir>', 'directory for the generated files')
     .option('--merge', 'merge regions with the same law whose union is convex before emitting')
@@ -189,27 +194,41 @@ export function register(program: Command): void {
             });
         if (shown) process.stderr.write('\r\x1b[K');
       }
+      if (o.tree && o.search !== 'tree') throw new InputError(CLI, '--tree', 'a tree side file needs --search tree');
       const fixed = target.id === 'c-fixed';
       if (o.thetaFrac && !fixed) throw new InputError(CLI, '--theta-frac', `applies to the fixed-point precisions only (${targetPrecisions(o.lang).filter((p) => !['float', 'double'].includes(p)).join(', ')})`);
       if (o.clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
         process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
       let res: EmitResult<unknown>;
       try {
-        res = emit(table, { lang: o.lang, precision: o.precision, search: o.search, prefix: o.prefix, tree, mergedFrom: merged ? before : undefined, thetaFrac: o.thetaFrac, clamp: o.clamp });
+        // --target-check cross-builds every precision, fixed point included, which prints tree and sequential search only
+        if (o.targetCheck && o.search !== 'auto' && o.search !== 'tree' && o.search !== 'sequential')
+          throw new InputError(CLI, '--target-check', `cross-checks tree and sequential builds only, not --search ${o.search}`);
+        res = emit(table, {
+          lang: o.lang,
+          precision: o.precision,
+          search: o.search,
+          prefix: o.prefix,
+          tree,
+          mergedFrom: merged ? before : undefined,
+          thetaFrac: o.thetaFrac,
+          clamp: o.clamp,
+          searches: o.targetCheck ? ['tree', 'sequential'] : undefined,
+        });
       } catch (e) {
         // a scaling that would overflow is refused like any other bad input: one line, exit 2, nothing written
         if (e instanceof FixedOverflowError) throw new InputError(o.thetaFrac ? CLI : tablePath, o.thetaFrac ? '--theta-frac' : 'regions', e.message);
         throw e;
       }
       for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
-      const treeFile = res.tree && !o.tree ? `${o.prefix}.tree.json` : null;
+      const treeFile = res.tree && res.search === 'tree' && !o.tree ? `${o.prefix}.tree.json` : null;
       if (treeFile) writes.push([join(o.output, treeFile), JSON.stringify(res.tree) + '\n']);
       let cert: Certificate | null = null;
       let fcert: FixedCertificate | null = null;
       if (o.certify && fixed) fcert = certifyFixed(table, res.arrays as FixedBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
       // the certificate is of the build that is written, in its own arithmetic (the target's evaluator)
       else if (o.certify) cert = certifyBuild(table, res.arrays as CertifiedBuild, (th) => target.evaluate(res.arrays, th), { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
-      const tcheck = o.targetCheck ? targetCheck(table, o.search, res.tree, o.prefix) : null;
+      const tcheck = o.targetCheck ? targetCheck(table, res.search, res.tree, o.prefix) : null;
       const layout = target.layout(res.arrays);
       if (o.arrays === 'json')
         writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, fixed ? { scaling: fixedScaling(res.arrays as FixedBuild), layout: FIXED_LAYOUT_TEXT } : o.clamp ? { clamp: (res.arrays as EmitArrays).clamp } : {})]);
@@ -228,9 +247,21 @@ export function register(program: Command): void {
         lang: o.lang,
         target: target.id,
         precision: o.precision,
-        search: o.search,
+        search: res.search,
+        searchRequested: o.search,
+        searchReason: res.searchReason,
+        candidates: res.candidates.map((k) => ({
+          search: k.search,
+          worstMultiplyAdds: k.cost?.worstMultiplyAdds ?? null,
+          worstComparisons: k.cost?.worstComparisons ?? null,
+          locationBytes: Number.isFinite(k.location) ? k.location : null,
+          regionBytes: k.regions,
+          floatSafe: k.floatSafe,
+          rejected: k.rejected,
+          buildSeconds: k.buildSeconds,
+        })),
         slack: (res.arrays as { slack: number }).slack,
-        tree: res.tree ? res.tree.stats : null,
+        tree: res.locator ? res.locator.stats : null,
         clamp: o.clamp ? { limits: table.inputLimits, comparisons: clampComparisons(table.inputLimits, table.dims.nu) } : null,
         cost: res.cost,
         certificate: cert ?? fcert,
@@ -247,12 +278,15 @@ export function register(program: Command): void {
 
       const c = res.cost;
       const lines = [
-        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${o.search} search${o.clamp ? ', u clamped to the input limits' : ''})`,
+        `emit: ${res.files.map((f) => f.name).join(', ')} in ${o.output} (${target.summary}; ${o.precision}, ${res.search} search${o.search === 'auto' ? ', chosen by the cost model' : ''}${o.clamp ? ', u clamped to the input limits' : ''})`,
         ...(treeFile ? [`  also ${treeFile} in ${o.output}: the search tree, for reuse with --tree (not needed by the C code)`] : []),
         `  regions: ${merged ? `${before} -> ${table.regions.length} after merging` : before}${incomplete ? '  [INCOMPLETE TABLE: exploration stopped early]' : ''}`,
-        o.search === 'tree'
+        res.search === 'tree'
           ? `  tree: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.tree!.stats.nodes} nodes, ${res.tree!.stats.leaves} leaves, ${leafText(res.tree!.stats.maxLeafSize, o.leafSize)}`
-          : '  sequential search over every region',
+          : res.locator
+            ? `  ${res.search}: depth ${c.worstDepth} (2*log2(regions) = ${(2 * Math.log2(table.regions.length)).toFixed(1)}), ${res.locator.stats.nodes} nodes, ${res.locator.stats.leaves} leaves, at most ${res.locator.stats.maxLeafSize} regions per leaf`
+            : '  sequential search over every region',
+        ...(o.search === 'auto' ? res.searchReason.slice(1).map((l) => `    ${l}`) : []),
         `  worst case per evaluation: ${c.worstMultiplyAdds} multiply-adds, ${c.worstComparisons} comparisons${c.clampComparisons ? ` (${c.clampComparisons} of them for --clamp)` : ''}`,
         `  memory: ${bytesLine(c)}`,
         ...arrayLines(c),
@@ -276,6 +310,9 @@ export function register(program: Command): void {
           `  ${cert.precision} certificate on ${cert.points.total} points (${cert.points.sample} uniform, ${cert.points.facet} at facets): max |u_build - u_table| = ${cert.maxAbsDiff.toPrecision(3)}, ` +
             `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in ${cert.precision}`,
           `  ${cert.verdict}`,
+          `  a-priori float bounds: rounding theta ${cert.bounds.inputRounding.toPrecision(3)} (region ${cert.bounds.inputRoundingAt.region}, gain ${cert.bounds.inputRoundingAt.gain.toPrecision(4)}), region overlap ${cert.bounds.overlap.toPrecision(3)}` +
+            (cert.bounds.overlapAt ? ` (region ${cert.bounds.overlapAt.region} facet ${cert.bounds.overlapAt.facet} to ${cert.bounds.overlapAt.neighbour}, law jump ${cert.bounds.overlapAt.jump.toPrecision(4)} x 2 x slack ${cert.bounds.overlapAt.slack.toPrecision(3)})` : ''),
+          ...(cert.diagnosis ? [`  diagnosis: ${cert.diagnosis}`] : []),
         );
       }
       if (tcheck) lines.push(...targetCheckLines(tcheck));

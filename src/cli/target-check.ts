@@ -112,11 +112,14 @@ function countWorst(objdump: string, prefix: string, table: TableFile, search: S
         return l.depth === 1 ? nt : null;
       case 'inside': // rows of the region, then j = 1..nθ−1 (the first product starts the sum)
         return l.depth === 1 ? p.rows : l.depth === 2 ? nt - 1 : null;
+      case 'fit': // float best fit: θ − c over nθ (no inner loop), then the rows as in inside
+        if (l.depth === 1) return l.children > 0 ? p.rows : nt;
+        return l.depth === 2 ? nt - 1 : null;
       case 'law':
         if (l.depth === 1) return l.children > 0 ? nu : Math.max(nu, nt);
         return l.depth === 2 ? nt : null;
       case 'eval':
-        if (l.depth === 1 && l.calls.some((c) => c.startsWith(`${prefix}_inside`))) return p.regions;
+        if (l.depth === 1 && l.calls.some((c) => c.startsWith(`${prefix}_inside`) || c.startsWith(`${prefix}_fit`))) return p.regions;
         if (l.depth === 1 && search === 'tree') return p.depth;
         return l.depth === 2 && search === 'tree' ? nt - 1 : null;
       default:

@@ -7,17 +7,92 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { leafDepths, type SearchTree } from '../partition/tree.js';
+import { regionBounds, type BoxTree } from '../partition/boxtree.js';
 import { clampComparisons } from '../table/clamp.js';
 
 export type Precision = 'float' | 'double';
-export type SearchKind = 'tree' | 'sequential';
+/**
+ * Point-location structures: `tree` the hyperplane search tree (one region per leaf), `capped` a
+ * hyperplane tree with a depth cap, short sequential leaves and float-safe side overlap, `boxtree`
+ * an axis-aligned bounding-box tree, `sequential` every region in turn.
+ */
+export type SearchKind = 'tree' | 'capped' | 'boxtree' | 'sequential';
+export const SEARCH_KINDS: readonly SearchKind[] = ['tree', 'capped', 'boxtree', 'sequential'];
+/** A built locator: a hyperplane tree (tree, capped) or a box tree. */
+export type Locator = SearchTree | BoxTree;
+
+/** True for the structures whose descent compares a·θ with b (node_plane arrays). */
+export function planeSearch(search: SearchKind): boolean {
+  return search === 'tree' || search === 'capped';
+}
+
+/** Unit roundoff of IEEE single precision, 2⁻²⁴ (a machine constant, not a tolerance). */
+export const FLOAT_U = 2 ** -24;
 
 /**
- * The region test in float cannot resolve tol.inside (1e-8 is below single-precision resolution of
- * θ of order 1), so the float build widens it to this many units in the last place of the data scale.
+ * Proven rounding bound of one float region test, fl(Σ fl(â_j θ̂_j)) ≤ fl(b + s), against the exact
+ * a·θ ≤ b + s, with a, θ and b + s rounded to float and the sum taken from the first product:
+ * (nθ + 2)·u·Σ_j |a_j|·M_j + u·|b|, M_j = max |θ_j| over the box (DEVELOPERS.md, "Point location in
+ * float"; Higham, Accuracy and Stability of Numerical Algorithms, §3.1, γ_n bound — from memory).
  */
-export const FLOAT_SLACK_ULPS = 4;
-const FLOAT_EPS = 2 ** -23; // machine constant of IEEE single precision, not a tolerance
+export function floatRowError(a: ArrayLike<number>, b: number, thetaMax: ArrayLike<number>): number {
+  let s = 0;
+  for (let j = 0; j < a.length; j++) s += Math.abs(a[j]) * thetaMax[j];
+  return ((a.length + 2) * s + Math.abs(b)) * FLOAT_U;
+}
+
+/** max |θ_j| over the box, per coordinate. */
+export function boxAbsMax(box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number[] {
+  return Array.from(box.lower, (l, j) => Math.max(Math.abs(l), Math.abs(box.upper[j])));
+}
+
+/**
+ * Region tests of a build, per region: the centre (float builds test a·(θ − c) ≤ b − a·c, c the
+ * rounded Chebyshev centre, the same centre as the law; double builds test a·θ ≤ b, c = 0), the
+ * bound b − a·c and every row's slack. In float the rounding bound then scales with the region's
+ * own extent W_j = max |θ_j − c_j| over it (bounding box, plus 10⁻⁶ of the box width) instead of
+ * |θ|max, so small regions — where the large gains live — overlap their neighbours by far less:
+ * e = (nθ + 3)·u·Σ_j |a_j|·W_j + u·|b − a·c| (one more u·|a_j|W_j for the rounding of θ − c).
+ */
+export function regionTests(table: TableFile, precision: Precision): { centre: number[]; bound: number[]; slack: number[] }[] {
+  const n = table.dims.ntheta;
+  if (precision === 'double') return table.regions.map((r) => ({ centre: new Array<number>(n).fill(0), bound: [...r.b], slack: r.b.map(() => tol.inside) }));
+  return table.regions.map((r) => {
+    const c = r.chebyshev.center.map(Math.fround);
+    const box = regionBounds(r, n);
+    const w = c.map((cj, j) => Math.max(Math.abs(box[2 * j] - cj), Math.abs(box[2 * j + 1] - cj)) + 1e-6 * (table.box.upper[j] - table.box.lower[j]));
+    const bound = r.A.map((a, i) => r.b[i] - a.reduce((acc, v, j) => acc + v * c[j], 0));
+    const slack = r.A.map((a, i) => {
+      let aw = 0;
+      for (let j = 0; j < n; j++) aw += Math.abs(a[j]) * w[j];
+      return 1.01 * (tol.inside + floatRowError(a, bound[i], w) + FLOAT_U * aw);
+    });
+    return { centre: c, bound, slack };
+  });
+}
+
+/**
+ * Slack of the float build of the plain tree (`tree` search): 4 units in the last place of the
+ * largest ‖a‖₁·|θ|max + |b| times (nθ + 1), the blanket widening every float build used before
+ * the proven per-row slack; kept for the tree, whose descent is not float-safe by itself.
+ */
+export function treeFloatSlack(table: TableFile): number {
+  const m = boxAbsMax(table.box);
+  const thetaMax = Math.max(...m);
+  let scale = 0;
+  for (const r of table.regions)
+    r.A.forEach((row, i) => {
+      scale = Math.max(scale, row.reduce((acc, v) => acc + Math.abs(v), 0) * thetaMax + Math.abs(r.b[i]));
+    });
+  return Math.max(tol.inside, 4 * 2 ** -23 * (table.dims.ntheta + 1) * scale);
+}
+
+/** Largest row slack of a build (tol.inside in double). */
+export function regionSlack(table: TableFile, precision: Precision): number {
+  let s: number = tol.inside;
+  for (const t of regionTests(table, precision)) for (const v of t.slack) s = Math.max(s, v);
+  return s;
+}
 
 /** The search structure's index arrays, shared by every build (tree ones empty for sequential search). */
 export interface SearchIndex {
@@ -32,9 +107,9 @@ export interface SearchIndex {
 }
 
 /** The index arrays of a build: copied from the tree for tree search, empty (root −1, depth 0) otherwise. */
-export function searchIndex(search: SearchKind, tree: SearchTree | null, regionRowStart: number[]): SearchIndex {
-  if (search !== 'tree') return { nodeLeft: [], nodeRight: [], leafStart: [], leafRegion: [], regionRowStart, root: -1, maxDepth: 0 };
-  if (!tree) throw new Error('tree search needs a search tree');
+export function searchIndex(search: SearchKind, tree: Locator | null, regionRowStart: number[]): SearchIndex {
+  if (search === 'sequential') return { nodeLeft: [], nodeRight: [], leafStart: [], leafRegion: [], regionRowStart, root: -1, maxDepth: 0 };
+  if (!tree) throw new Error(`${search} search needs a search tree`);
   return {
     nodeLeft: [...tree.nodeLeft],
     nodeRight: [...tree.nodeRight],
@@ -52,7 +127,7 @@ export interface EmitArrays extends SearchIndex {
   ntheta: number;
   nu: number;
   regionCount: number;
-  /** slack added to every region bound before rounding (regionB = round(b + slack)) */
+  /** largest slack added to a region bound before rounding (regionB = round(b − a·c + slack), per row, see regionTests) */
   slack: number;
   /**
    * real arrays, every entry already rounded to `precision`. nodePlane holds each tree node's own
@@ -63,7 +138,25 @@ export interface EmitArrays extends SearchIndex {
   regionA: number[];
   regionB: number[];
   lawF: number[];
+  /**
+   * law offsets. When lawC is not empty the law is evaluated around each region's centre c (its
+   * Chebyshev centre, rounded): u = F(θ − c) + g', with lawG holding g' = g + F c (computed in
+   * double, then rounded), which removes the cancellation of large F θ against g in float
+   */
   lawG: number[];
+  /** per region nθ centre coordinates (empty: plain law u = F θ + g) */
+  lawC: number[];
+  /**
+   * best-fit location (float builds): every candidate is tested in full and, among those that hold θ
+   * within their slack, the one with the smallest largest residual max_i (a_i·θ − b_i) wins, ties to
+   * the lowest index. A θ is then placed in the overlap's other region only when it lies within
+   * rounding of its own region's boundary, instead of whenever an earlier region's slack reaches it.
+   * Double builds keep first-fit (the lowest index), exactly sequential search.
+   */
+  bestFit: boolean;
+  /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
+  nodeAxis: number[];
+  nodeSplit: number[];
   /**
    * `emit --clamp`: u saturated to the table's input limits after the law (bounds rounded to the
    * build's precision; null = that side open); null when the build does not clamp
@@ -71,48 +164,58 @@ export interface EmitArrays extends SearchIndex {
   clamp: { lower: (number | null)[]; upper: (number | null)[] } | null;
 }
 
-/** Region-test slack of a build: tol.inside in double; in float, a few ulps of the largest |θ|·‖a‖₁ + |b|. */
-export function regionSlack(table: TableFile, precision: Precision): number {
-  if (precision === 'double') return tol.inside;
-  let thetaMax = 0;
-  for (let j = 0; j < table.dims.ntheta; j++) thetaMax = Math.max(thetaMax, Math.abs(table.box.lower[j]), Math.abs(table.box.upper[j]));
-  let scale = 0;
-  for (const r of table.regions)
-    r.A.forEach((row, i) => {
-      const l1 = row.reduce((s, v) => s + Math.abs(v), 0);
-      scale = Math.max(scale, l1 * thetaMax + Math.abs(r.b[i]));
-    });
-  return Math.max(tol.inside, FLOAT_SLACK_ULPS * FLOAT_EPS * (table.dims.ntheta + 1) * scale);
+/**
+ * Law form of a build: float builds evaluate each law around its region's centre (less
+ * cancellation), double builds keep u = F θ + g, bit for bit the table's own law.
+ */
+export function centredLaw(precision: Precision): boolean {
+  return precision === 'float';
 }
 
 /**
- * Flatten a table (and its search tree, for `search: 'tree'`) into the arrays the generated code
+ * Flatten a table (and its point-location structure, for tree-like searches) into the arrays the generated code
  * holds: real arrays already rounded to `precision`, index arrays, region bounds widened by the
  * precision's slack. θ and u in the table's units. Returns new arrays owned by the caller.
  * With `clamp`, u is saturated to the table's input limits as the generated code does.
  */
-export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: SearchTree | null, clamp = false): EmitArrays {
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null, clamp = false): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const bound = (v: number | null | undefined) => (v === null || v === undefined ? null : round(v));
   const n = table.dims.ntheta;
   if (!(n >= 1)) throw new Error('the generated code needs at least one parameter');
-  const slack = regionSlack(table, precision);
+  const tests = regionTests(table, precision);
+  if (precision === 'float' && search === 'tree') {
+    // the plain tree's descent has no float side overlap: a θ sent across a node plane by rounding is
+    // caught only by the neighbour in the other leaf, so this build keeps the wide slack it always had
+    const wide = treeFloatSlack(table);
+    for (const t of tests) t.slack = t.slack.map((v) => Math.max(v, wide));
+  }
+  let slack: number = tol.inside;
+  for (const t of tests) for (const v of t.slack) slack = Math.max(slack, v);
   const regionA: number[] = [];
   const regionB: number[] = [];
   const regionRowStart = [0];
   const lawF: number[] = [];
   const lawG: number[] = [];
-  for (const r of table.regions) {
+  const lawC: number[] = [];
+  const centred = centredLaw(precision);
+  table.regions.forEach((r, k) => {
+    const t = tests[k];
     r.A.forEach((row, i) => {
       for (let j = 0; j < n; j++) regionA.push(round(row[j]));
-      regionB.push(round(r.b[i] + slack));
+      regionB.push(round(t.bound[i] + t.slack[i]));
     });
     regionRowStart.push(regionB.length);
+    const c = r.chebyshev.center.map(round);
+    if (centred) lawC.push(...c);
     r.law.F.forEach((row, i) => {
       for (let j = 0; j < n; j++) lawF.push(round(row[j]));
-      lawG.push(round(r.law.g[i]));
+      let g = r.law.g[i];
+      if (centred) for (let j = 0; j < n; j++) g += row[j] * c[j];
+      lawG.push(round(g));
     });
-  }
+  });
+  if (centred !== (precision === 'float')) throw new Error('the centred region test and law go together (float builds)');
   const out: EmitArrays = {
     precision,
     search,
@@ -125,13 +228,24 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     regionB,
     lawF,
     lawG,
+    lawC,
+    bestFit: precision === 'float',
+    nodeAxis: [],
+    nodeSplit: [],
     ...searchIndex(search, tree, regionRowStart),
     clamp: clamp
       ? { lower: table.inputNames.map((_, i) => bound(table.inputLimits?.lower?.[i])), upper: table.inputNames.map((_, i) => bound(table.inputLimits?.upper?.[i])) }
       : null,
   };
-  if (search === 'tree' && tree) {
-    if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
+  if (search === 'sequential' || !tree) return out;
+  if (tree.regionCount !== table.regions.length || tree.ntheta !== n) throw new Error('search tree does not match the table');
+  if (search === 'boxtree') {
+    if (tree.format !== 'tessera-box-tree') throw new Error('box-tree search needs a box tree');
+    out.nodeAxis = [...tree.nodeAxis];
+    out.nodeSplit = tree.nodeSplit.map(round); // floats already: exact in both precisions
+    if (out.nodeSplit.some((v, k) => v !== tree.nodeSplit[k])) throw new Error('box-tree split values must be floats');
+  } else {
+    if (tree.format === 'tessera-box-tree') throw new Error(`${search} search needs a hyperplane tree`);
     for (const k of tree.nodeHyperplane) {
       for (let j = 0; j < n; j++) out.nodePlane.push(round(tree.hyperplanes.a[k][j]));
       out.nodePlane.push(round(tree.hyperplanes.b[k]));
@@ -164,12 +278,50 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
     return true;
   };
+  // best fit: largest residual a·(θ − c) − b of the region's rows (slack included), NaN when a row fails
+  const t = new Array<number>(n);
+  const fit = (r: number): number => {
+    let worst = NaN;
+    for (let j = 0; j < n; j++) t[j] = f ? Math.fround(theta[j] - ar.lawC[r * n + j]) : theta[j] - ar.lawC[r * n + j];
+    for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
+      let s = f ? Math.fround(ar.regionA[i * n] * t[0]) : ar.regionA[i * n] * t[0];
+      if (f) for (let j = 1; j < n; j++) s = Math.fround(s + Math.fround(ar.regionA[i * n + j] * t[j]));
+      else for (let j = 1; j < n; j++) s += ar.regionA[i * n + j] * t[j];
+      const d = f ? Math.fround(s - ar.regionB[i]) : s - ar.regionB[i];
+      if (!(d <= 0)) return NaN;
+      if (i === ar.regionRowStart[r] || d > worst) worst = d;
+    }
+    return worst;
+  };
+  const scan = (count: number, regionAt: (k: number) => number): ArrayEvaluation => {
+    if (!ar.bestFit) {
+      // first fit (double builds; a float build forced to first fit, as the tests do, tests around the centre)
+      const holds = ar.lawC.length > 0 ? (r: number) => !Number.isNaN(fit(r)) : inside;
+      for (let k = 0; k < count; k++) if (holds(regionAt(k))) return { region: regionAt(k), u: law(regionAt(k)) };
+      return { region: -1, u: null };
+    }
+    let best = -1;
+    let bestRes = 0;
+    for (let k = 0; k < count; k++) {
+      const q = fit(regionAt(k));
+      if (q === q && (best < 0 || q < bestRes)) {
+        best = regionAt(k);
+        bestRes = q;
+      }
+    }
+    return best < 0 ? { region: -1, u: null } : { region: best, u: law(best) };
+  };
   const law = (r: number): number[] => {
     const u = new Array<number>(ar.nu);
     for (let i = 0; i < ar.nu; i++) {
       const row = r * ar.nu + i;
       let s = ar.lawG[row];
-      if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
+      if (ar.lawC.length > 0) {
+        // around the centre: d = θ − c first (one rounding), then F d
+        const c = r * n;
+        if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * Math.fround(theta[j] - ar.lawC[c + j])));
+        else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * (theta[j] - ar.lawC[c + j]);
+      } else if (f) for (let j = 0; j < n; j++) s = Math.fround(s + Math.fround(ar.lawF[row * n + j] * theta[j]));
       else for (let j = 0; j < n; j++) s += ar.lawF[row * n + j] * theta[j];
       const lo = ar.clamp?.lower[i];
       const hi = ar.clamp?.upper[i];
@@ -179,22 +331,18 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
     return u;
   };
-  if (ar.search === 'sequential') {
-    for (let r = 0; r < ar.regionCount; r++) if (inside(r)) return { region: r, u: law(r) };
-    return { region: -1, u: null };
-  }
+  if (ar.search === 'sequential') return scan(ar.regionCount, (k) => k);
   let ref = ar.root;
-  for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
-    const at = ref * (n + 1);
-    ref = dot(ar.nodePlane, at) <= ar.nodePlane[at + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
-  }
+  if (ar.search === 'boxtree')
+    for (let d = 0; d < ar.maxDepth && ref >= 0; d++) ref = theta[ar.nodeAxis[ref]] <= ar.nodeSplit[ref] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
+  else
+    for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
+      const at = ref * (n + 1);
+      ref = dot(ar.nodePlane, at) <= ar.nodePlane[at + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
+    }
   if (ref >= 0) return { region: -1, u: null };
   const leaf = -ref - 1;
-  for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) {
-    const r = ar.leafRegion[k];
-    if (inside(r)) return { region: r, u: law(r) };
-  }
-  return { region: -1, u: null };
+  return scan(ar.leafStart[leaf + 1] - ar.leafStart[leaf], (k) => ar.leafRegion[ar.leafStart[leaf] + k]);
 }
 
 /** Operation counts of one evaluation (language-neutral; each target adds its own memory report). */
@@ -211,10 +359,17 @@ export interface CostFigures {
 }
 
 /**
- * Worst-case cost of one evaluation: descent to the deepest-costing leaf (nθ multiply-adds and one
- * comparison per node), then every candidate region's rows tested in full, then the law (nu·nθ).
+ * Worst-case cost of one evaluation, the maximum over every leaf of its path: the descent (per
+ * node nθ multiply-adds and one comparison for a hyperplane tree, one comparison and no
+ * multiplication for the box tree), then every candidate region's rows tested in full, then the
+ * law (nu·nθ multiply-adds; a centred law adds nθ subtractions per row, not counted as multiply-adds).
  */
-export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & { clamp?: EmitArrays['clamp'] }): CostFigures {
+export function costFigures(
+  ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & Partial<Pick<EmitArrays, 'bestFit'>> & { clamp?: EmitArrays['clamp'] },
+): CostFigures {
+  // best fit: per row the test and the running maximum, per region the comparison with the best so far
+  const rowCmp = ar.bestFit ? 2 : 1;
+  const regionCmp = ar.bestFit ? 1 : 0;
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;
@@ -227,15 +382,15 @@ export function costFigures(ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'r
     let all = 0;
     for (let r = 0; r < ar.regionCount; r++) all += rows(r);
     worstMacs = all * n + lawMacs;
-    worstCmp = all + clampCmp;
+    worstCmp = all * rowCmp + ar.regionCount * regionCmp + clampCmp;
   } else {
     const depths = leafDepths({ root: ar.root, nodeLeft: ar.nodeLeft, nodeRight: ar.nodeRight, leafStart: ar.leafStart });
     depths.forEach((d, leaf) => {
       let rr = 0;
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
-      worstMacs = Math.max(worstMacs, d * n + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, d + rr + clampCmp);
+      worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : d * n) + rr * n + lawMacs);
+      worstCmp = Math.max(worstCmp, d + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp + clampCmp);
     });
   }
   return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, clampComparisons: clampCmp };

@@ -9,11 +9,14 @@ import { sha256Hex } from '../util/sha256.js';
 import { tableToJson } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeOptions } from '../partition/tree.js';
-import type { EmitArrays, Precision, SearchKind } from './arrays.js';
+import { SEARCH_KINDS, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import { buildLocator, measureCandidates, pickCandidate, type Candidate, type LocatorOptions } from './choose.js';
 import { findTarget, targetLanguages, targetPrecisions } from './targets/index.js';
 import type { EmitTarget, TargetCost, TargetFile } from './targets/target.js';
 
 export type { Precision, SearchKind } from './arrays.js';
+/** `auto`: every structure is built and the cost model picks one (src/emit/choose.ts). */
+export type SearchChoice = SearchKind | 'auto';
 
 /** "sha256:<hex>" of the table file's canonical JSON. */
 export function tableHash(table: TableFile): string {
@@ -24,15 +27,20 @@ export interface EmitOptions<P extends string = Precision> {
   /** target language (default "c") */
   lang?: string;
   precision: P;
-  search: SearchKind;
+  search: SearchChoice;
   prefix: string;
   /** reuse a tree built before (must match the table) */
   tree?: SearchTree;
   treeOptions?: TreeOptions;
+  /** reuse a locator built before for a capped or box-tree search (must match the table) */
+  locator?: Locator;
+  locatorOptions?: LocatorOptions;
   /** region count before a merge, noted in the header */
   mergedFrom?: number;
   /** fixed point: θ fraction bits per component instead of the ones chosen from the box */
   thetaFrac?: number[];
+  /** `auto` only: consider just these structures (default: every one the target prints) */
+  searches?: readonly SearchKind[];
   /** saturate u to the table's input limits in the generated code (`emit --clamp`) */
   clamp?: boolean;
 }
@@ -46,7 +54,15 @@ export interface EmitResult<B = EmitArrays> {
   source: string;
   /** the target's build: the numbers its code holds */
   arrays: B;
+  /** the structure used (the chosen one for `auto`) */
+  search: SearchKind;
+  /** the hyperplane tree of a tree/capped search, else null */
   tree: SearchTree | null;
+  locator: Locator | null;
+  /** every structure measured by `auto` (empty when the search was named) */
+  candidates: Candidate[];
+  /** why this structure (the header states it too) */
+  searchReason: string[];
   cost: TargetCost;
   hash: string;
 }
@@ -69,12 +85,37 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
     throw new Error(`language "${lang}" has no precision "${opts.precision}" (${targetPrecisions(lang).join(', ')})`);
   }
   const hash = tableHash(table);
-  const tree = opts.search === 'tree' ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash })) : null;
-  const arrays = target.build(table, opts.precision, opts.search, tree, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });
-  const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom };
+  const supported = (target.searches ?? (['tree', 'sequential'] as const)).filter((k) => opts.search !== 'auto' || !opts.searches || opts.searches.includes(k));
+  let search: SearchKind;
+  let locator: Locator | null;
+  let candidates: Candidate[] = [];
+  let searchReason: string[];
+  if (opts.search === 'auto') {
+    candidates = measureCandidates(table, target, opts.precision, SEARCH_KINDS.filter((k) => supported.includes(k)), {
+      ...opts.locatorOptions,
+      tree: { ...opts.treeOptions, ...opts.locatorOptions?.tree },
+      tableHash: hash,
+      targetOptions: { thetaFrac: opts.thetaFrac, clamp: opts.clamp },
+    });
+    const pick = pickCandidate(candidates);
+    search = pick.chosen.search;
+    locator = pick.chosen.locator;
+    searchReason = pick.reason;
+  } else {
+    search = opts.search;
+    if (!supported.includes(search)) throw new Error(`the ${target.id} target prints ${supported.join(' and ')} search, not ${search}`);
+    locator =
+      search === 'tree'
+        ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash }))
+        : (opts.locator ?? buildLocator(table, search, { ...opts.locatorOptions, tableHash: hash }));
+    searchReason = [`${search} search, named by the caller (--search ${search}).`];
+  }
+  const arrays = target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });
+  const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom, searchReason };
   const files = target.files(arrays, meta);
   const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';
-  return { target, files, header: text('.h'), source: text('.c'), arrays, tree, cost: target.cost(arrays), hash };
+  const tree = locator && locator.format === TREE_FORMAT ? locator : null;
+  return { target, files, header: text('.h'), source: text('.c'), arrays, search, tree, locator, candidates, searchReason, cost: target.cost(arrays), hash };
 }
 
 /**

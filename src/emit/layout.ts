@@ -61,20 +61,20 @@ export function layoutArray(name: string, kind: ElementKind, values: LayoutValue
  * exists, a printer decides what its language can declare).
  */
 export function layoutOf(ar: EmitArrays): LayoutArray[] {
-  return structureLayout(
-    ar,
-    [layoutArray('node_plane', 'f-real', ar.nodePlane)],
-    [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)],
-  );
+  // the descent: a box-tree node compares one coordinate, a hyperplane node a plane stored inline
+  const planes = ar.search === 'boxtree' ? [layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit)] : [layoutArray('node_plane', 'f-real', ar.nodePlane)];
+  const data = [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)];
+  if (ar.lawC.length > 0) data.push(layoutArray('law_c', 'f-real', ar.lawC));
+  return structureLayout(ar, planes, data);
 }
 
 /**
- * Arrays in declaration order for any build: the tree's planes and index arrays (tree search only),
- * the region row offsets, then the region and law data.
+ * Arrays in declaration order for any build: the search structure's node and index arrays (every
+ * search but sequential), the region row offsets, then the region and law data.
  */
 export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes: LayoutArray[], data: LayoutArray[]): LayoutArray[] {
   const tree =
-    ix.search === 'tree'
+    ix.search !== 'sequential'
       ? [
           ...planes,
           layoutArray('node_left', 'i-index', ix.nodeLeft),
@@ -89,3 +89,6 @@ export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes
 /** How the arrays fit together, in words (written into the JSON export). */
 export const LAYOUT_TEXT =
   'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ';
+/** Additions of the box tree and of the centred law (written after LAYOUT_TEXT when they apply). */
+export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
+export const LAYOUT_TEXT_CENTRED = 'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first';

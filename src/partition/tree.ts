@@ -10,6 +10,7 @@
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { hyperplaneKey, linearRange, polytopeVertices, polyLpCounter, type HalfSpaces } from './tree-poly.js';
+import { LargestFirst, locatorBytes } from './budget.js';
 
 export const TREE_FORMAT = 'tessera-search-tree';
 export const TREE_VERSION = 1;
@@ -58,8 +59,50 @@ export interface TreeOptions {
   duplicationWeight?: number;
   /** subset count above which a region's sides are decided by LP instead of its vertices (default VERTEX_BUDGET) */
   vertexBudget?: number;
+  /**
+   * side overlap: a region goes to each side of a·θ ≤ b that it reaches within `margin` (a region
+   * touching the plane goes to both). Set it to the float rounding bound of the node test (see
+   * planeMargin) to make the descent safe in float; unset keeps the original rule (tol.radius)
+   */
+  margin?: number;
+  /** also stop splitting when the rows of a node's regions sum to at most this (depth-capped tree with short sequential leaves) */
+  leafRows?: number;
+  /** give up (throw TreeTooLargeError) once the tree has more than this many nodes */
+  maxNodes?: number;
+  /**
+   * memory budget of the location arrays in bytes (float layout, see locatorBytes): nodes are then
+   * split largest first and the rest become leaves once the next split would exceed it
+   */
+  maxBytes?: number;
   tableHash?: string;
   onProgress?: (p: { nodes: number; leaves: number; elapsedSeconds: number }) => void;
+}
+
+/** Thrown when a tree outgrows TreeOptions.maxNodes (the caller then picks another structure). */
+export class TreeTooLargeError extends Error {
+  constructor(public readonly maxNodes: number) {
+    super(`search tree exceeds ${maxNodes} nodes`);
+  }
+}
+
+/**
+ * Side overlap that makes a hyperplane descent safe in float: twice the rounding bound of
+ * fl(a·θ) ≤ fl(b) against a·θ ≤ b with a, b and θ rounded to float, summed from the first product
+ * ((nθ + 2)·u·‖a‖₁·|θ|max + u·|b|, u = 2⁻²⁴; DEVELOPERS.md, "Point location in float"), over the
+ * largest plane of the partition, plus tol.radius.
+ */
+export function planeMargin(regions: Pick<CriticalRegion, 'A' | 'b'>[], box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
+  const u = 2 ** -24;
+  let m = 0;
+  for (let j = 0; j < box.lower.length; j++) m = Math.max(m, Math.abs(box.lower[j]), Math.abs(box.upper[j]));
+  const n = box.lower.length;
+  let worst = 0;
+  for (const r of regions)
+    r.A.forEach((row, i) => {
+      const l1 = row.reduce((s, v) => s + Math.abs(v), 0);
+      worst = Math.max(worst, (n + 2) * u * l1 * m + u * Math.abs(r.b[i]));
+    });
+  return 2 * worst + tol.radius;
 }
 
 type RegionLike = Pick<CriticalRegion, 'A' | 'b'> & Partial<Pick<CriticalRegion, 'facets'>>;
@@ -72,8 +115,14 @@ function classify(
   a: number[],
   b: number,
   openBoundary: boolean,
+  margin: number | undefined,
 ): { left: boolean; right: boolean } {
   const [lo, hi] = linearRange(h, n, a, vertices);
+  if (margin !== undefined) {
+    const l = lo < b + margin;
+    const r = hi > b - margin;
+    return l || r ? { left: l, right: r } : { left: true, right: true };
+  }
   let left = lo < b - tol.radius;
   let right = hi > b + tol.radius;
   // A facet on the outer boundary of the partition: θ just outside it (within tol.inside) is
@@ -127,7 +176,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     const key = ri * H + k;
     let c = sideCache[key];
     if (c === 0) {
-      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k));
+      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k), options.margin);
       c = (s.left ? 1 : 0) | (s.right ? 2 : 0);
       sideCache[key] = c;
     }
@@ -170,15 +219,24 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     path: Set<number>;
     store: (ref: number) => void;
   }
-  const stack: Task[] = [{ set: regions.map((_, i) => i), depth: 0, path: new Set(), store: (r) => (tree.root = r) }];
-  while (stack.length > 0) {
-    const task = stack.pop()!;
+  // depth first (the original layout), or largest first under a memory budget
+  const budget = options.maxBytes;
+  const rowsOf = (set: number[]) => set.reduce((s, ri) => s + regions[ri].A.length, 0);
+  const queue = new LargestFirst<Task>();
+  const stack: Task[] = [];
+  const push = (t: Task) => (budget === undefined ? stack.push(t) : queue.push(rowsOf(t.set), t));
+  const pending = () => (budget === undefined ? stack.length : queue.size);
+  push({ set: regions.map((_, i) => i), depth: 0, path: new Set(), store: (r) => (tree.root = r) });
+  let copies = regions.length;
+  const nodeBytes = (n + 1) * 4 + 8;
+  while (pending() > 0) {
+    const task = budget === undefined ? stack.pop()! : queue.pop();
     const { set, depth, path } = task;
     if (options.onProgress && Date.now() - lastProgress > 100) {
       lastProgress = Date.now();
       options.onProgress({ nodes: tree.nodeHyperplane.length, leaves: tree.leafStart.length - 1, elapsedSeconds: (Date.now() - t0) / 1000 });
     }
-    if (set.length <= leafSize || depth >= maxDepth) {
+    if (set.length <= leafSize || depth >= maxDepth || (options.leafRows !== undefined && rowsOf(set) <= options.leafRows)) {
       task.store(makeLeaf(set, depth));
       continue;
     }
@@ -215,6 +273,16 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       task.store(makeLeaf(set, depth));
       continue;
     }
+    const leftSet = set.filter((ri) => (side(ri, best) & 1) !== 0);
+    const rightSet = set.filter((ri) => (side(ri, best) & 2) !== 0);
+    if (budget !== undefined) {
+      const grown = copies + leftSet.length + rightSet.length - set.length;
+      if (locatorBytes(tree.nodeHyperplane.length + 1, nodeBytes, tree.leafStart.length - 1 + pending() + 2, grown, regions.length) > budget) {
+        task.store(makeLeaf(set, depth));
+        continue;
+      }
+      copies = grown;
+    }
     let hi = usedHp.get(best);
     if (hi === undefined) {
       hi = tree.hyperplanes.a.length;
@@ -223,16 +291,20 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       tree.hyperplanes.b.push(hpB[best]);
     }
     const node = tree.nodeHyperplane.length;
+    if (options.maxNodes !== undefined && node >= options.maxNodes) throw new TreeTooLargeError(options.maxNodes);
     tree.nodeHyperplane.push(hi);
     tree.nodeLeft.push(0);
     tree.nodeRight.push(0);
     task.store(node);
-    const leftSet = set.filter((ri) => (side(ri, best) & 1) !== 0);
-    const rightSet = set.filter((ri) => (side(ri, best) & 2) !== 0);
     const childPath = new Set(path).add(best);
     // push right first so the left subtree is numbered first (deterministic layout)
-    stack.push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
-    stack.push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+    if (budget === undefined) {
+      push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
+      push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+    } else {
+      push({ set: leftSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeLeft[node] = r) });
+      push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });
+    }
   }
   const leaves = tree.leafStart.length - 1;
   tree.stats.nodes = tree.nodeHyperplane.length;
@@ -278,16 +350,20 @@ export function locateLeaf(tree: SearchTree, theta: ArrayLike<number>): number {
  */
 export function locateTree(tree: SearchTree, theta: ArrayLike<number>, regions: Pick<CriticalRegion, 'A' | 'b'>[], slack: number = tol.inside): number {
   const leaf = locateLeaf(tree, theta);
-  const n = tree.ntheta;
-  for (let k = tree.leafStart[leaf]; k < tree.leafStart[leaf + 1]; k++) {
-    const r = regions[tree.leafRegions[k]];
+  return firstHolding(tree.leafRegions, tree.leafStart[leaf], tree.leafStart[leaf + 1], theta, regions, tree.ntheta, slack);
+}
+
+/** The first region of list[from, to) that holds θ within `slack` (a leaf's final check), or −1. */
+export function firstHolding(list: number[], from: number, to: number, theta: ArrayLike<number>, regions: Pick<CriticalRegion, 'A' | 'b'>[], n: number, slack: number): number {
+  for (let k = from; k < to; k++) {
+    const r = regions[list[k]];
     let inside = true;
     for (let i = 0; i < r.A.length && inside; i++) {
       let s = 0;
       for (let j = 0; j < n; j++) s += r.A[i][j] * theta[j];
       if (!(s <= r.b[i] + slack)) inside = false; // NaN θ lies in no region
     }
-    if (inside) return tree.leafRegions[k];
+    if (inside) return list[k];
   }
   return -1;
 }

@@ -40,7 +40,7 @@ function median(xs: number[]): number {
  * C timing harness: REPS passes over the points, prints the median ns per evaluation. Fixed-point
  * builds get the same points scaled to integers as their header tells the caller (quantizeTheta).
  */
-function benchMain(prefix: string, real: 'float' | 'double' | 'int16_t' | 'int32_t', points: number[][], fixed?: FixedBuild): string {
+export function benchMain(prefix: string, real: 'float' | 'double' | 'int16_t' | 'int32_t', points: number[][], fixed?: FixedBuild): string {
   const flat = fixed
     ? points.flatMap((p) => quantizeTheta(fixed, p)!.map(String))
     : points.flatMap((p) => p.map((v) => formatReal(real === 'float' ? Math.fround(v) : v, real as 'float' | 'double')));
@@ -80,7 +80,7 @@ int main(void)
 }
 
 /** quadprog on the condensed QP at θ; D is copied per call because quadprog factorises it in place. */
-function makeQp(problem: MpqpProblem) {
+export function makeQp(problem: MpqpProblem) {
   const { nz, nc, ntheta: nt } = problem;
   const Amat: number[][] = [[]];
   for (let j = 0; j < nz; j++) {
@@ -128,9 +128,10 @@ export async function run(): Promise<void> {
 
   const dir = mkdtempSync(join(tmpdir(), 'tessera-bench-'));
   const cNs: Record<string, number> = {};
-  for (const search of ['tree', 'sequential'] as const)
+  for (const search of ['tree', 'capped', 'boxtree', 'sequential'] as const)
     for (const precision of ['float', 'double', 'q15', 'q31'] as const) {
-      const r = emit(table, { lang: 'c', precision, search, prefix: 'law', tree });
+      if ((precision === 'q15' || precision === 'q31') && (search === 'capped' || search === 'boxtree')) continue; // the fixed-point target prints tree and sequential search
+      const r = emit(table, { lang: 'c', precision, search, prefix: 'law', tree: search === 'tree' ? tree : undefined });
       const fixed = precision === 'q15' || precision === 'q31' ? (r.arrays as FixedBuild) : undefined;
       const ctype = precision === 'q15' ? 'int16_t' : precision === 'q31' ? 'int32_t' : precision;
       const sub = join(dir, `${search}-${precision}`);
@@ -200,6 +201,9 @@ export async function run(): Promise<void> {
   }, qpPts, 5);
   out.push(`  online QP (quadprog, Node, nz = ${mpqp.nz}): ${(qpNs / 1000).toFixed(1)} µs/solve median of 5 passes over ${qpPts.length} of the same points`);
   for (const k of Object.keys(cNs)) out.push(`  ratio QP / C ${k}: ${(qpNs / cNs[k]).toFixed(0)}×`);
+  const auto = emitC(table, { precision: 'float', search: 'auto', prefix: 'law' });
+  const autoNs = cNs[`${auto.search}-float`];
+  out.push(`  cost model picks ${auto.search} (float): ${autoNs.toFixed(1)} ns median ${autoNs <= 50 ? '≤' : '>'} 50 ns target; fastest float structure ${Object.entries(cNs).filter(([k]) => k.endsWith('-float')).sort((a, b) => a[1] - b[1])[0][0]}`);
   for (const search of ['tree', 'sequential'])
     out.push(
       `  fixed point vs float/double on the same points (${search}): q15 ${(cNs[`${search}-q15`] / cNs[`${search}-float`]).toFixed(2)}× float, q31 ${(cNs[`${search}-q31`] / cNs[`${search}-float`]).toFixed(2)}× float, ` +

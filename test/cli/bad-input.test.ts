@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { badCases, baseProblem } from '../problem/bad-cases.js';
 import { motorEmptyProblem, motorProblem } from './scenarios.js';
+import { runCli } from '../helpers/cli.js';
 
 // Runs the built CLI: `npx tsc -p tsconfig.json` (or `npm test`, which builds first) must have run.
 const root = join(import.meta.dirname, '..', '..');
@@ -106,21 +107,7 @@ const PTS_TWICE = pts('twice.csv', 'omega,omega\n0.1,0.2\n');
 const PTS_MISSING = pts('missing.csv', 'current\n0.1\n');
 const INIT_OUT = pts('init-outside.csv', '0.5,0.1\n5,0.1\n');
 
-function runCli(args: string[], nobody = false): Promise<{ status: number | null; stdout: string; stderr: string }> {
-  return new Promise((resolve) => {
-    const child = spawn(process.execPath, [cli, ...args], { stdio: ['ignore', 'pipe', 'pipe'], cwd: cdir, ...(nobody ? { uid: 65534, gid: 65534 } : {}) });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
-    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-    // a hang (the /proc case used to spin at 100 % CPU) fails the case instead of the whole run
-    const timer = setTimeout(() => child.kill('SIGKILL'), 60000);
-    child.on('close', (status) => {
-      clearTimeout(timer);
-      resolve({ status, stdout, stderr });
-    });
-  });
-}
+const runAs = (args: string[], nobody = false) => runCli(args, { cwd: cdir, uid: nobody ? 65534 : undefined, killAfter: 60000 });
 
 const usage = (m: string) => `tessera: (command line): ${m}\n`;
 const cliCases: CliCase[] = [
@@ -179,13 +166,13 @@ beforeAll(async () => {
   writeFileSync(AFILE, 'not a directory\n');
   mkdirSync(RO);
   chmodSync(RO, 0o555);
-  const made = await runCli(['solve', P, '-o', T, '-q']);
+  const made = await runAs(['solve', P, '-o', T, '-q']);
   if (made.status !== 0) throw new Error(`could not solve the catalogue's table: ${made.stderr}`);
   let next = 0;
   const worker = async () => {
     while (next < cliCases.length) {
       const i = next++;
-      cliRuns[i] = await runCli(cliCases[i].args, cliCases[i].nobody);
+      cliRuns[i] = await runAs(cliCases[i].args, cliCases[i].nobody);
     }
   };
   await Promise.all([worker(), worker(), worker()]);

@@ -4,7 +4,7 @@
  * test/helpers/reference.ts) for u(0); the contract's `tessera evaluate` header rule; gcc for the
  * generated C; saturation min(max(u, lower), upper) (common practice).
  */
-import { spawn, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -16,12 +16,12 @@ import { writeProbeReason } from '../../src/io/output.js';
 import { qpReference } from '../helpers/reference.js';
 import { rng } from '../problem/rng.js';
 import { motorProblem, motorWideProblem } from './scenarios.js';
+import { builtCli as cli, runCli } from '../helpers/cli.js';
 
 // each case runs the CLI a few times on a shared 2-core machine
 vi.setConfig({ testTimeout: 60000 });
 
 const root = join(import.meta.dirname, '..', '..');
-const cli = join(root, 'dist', 'src', 'cli', 'main.js');
 const dir = mkdtempSync(join(tmpdir(), 'tessera-hardening-'));
 const P = join(dir, 'motor.json');
 const T = join(dir, 'motor.table.json');
@@ -30,21 +30,7 @@ const TW = join(dir, 'wide.table.json');
 const PS = join(dir, 'short.json');
 const TS = join(dir, 'short.table.json');
 
-interface Run {
-  status: number | null;
-  stdout: string;
-  stderr: string;
-}
-function run(args: string[]): Promise<Run> {
-  return new Promise((resolve) => {
-    const child = spawn(process.execPath, [cli, ...args], { stdio: ['ignore', 'pipe', 'pipe'], cwd: dir });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
-    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-    child.on('close', (status) => resolve({ status, stdout, stderr }));
-  });
-}
+const run = (args: string[]) => runCli(args, { cwd: dir });
 
 beforeAll(async () => {
   if (!existsSync(cli)) throw new Error(`${cli} is missing: run \`npx tsc -p tsconfig.json\` first`);
@@ -154,7 +140,7 @@ describe('simulate --clamp', () => {
 
 describe('emit: what is written and what is certified', () => {
   it('says that NAME.tree.json is written and explains the leaf size', async () => {
-    const r = await run(['emit', T, '-o', join(dir, 'c-tree')]);
+    const r = await run(['emit', T, '--search', 'tree', '-o', join(dir, 'c-tree')]); // tree named: the default is now auto (changed on purpose)
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/also tessera_law\.tree\.json in .*c-tree: the search tree, for reuse with --tree \(not needed by the C code\)/);
     expect(r.stdout).toMatch(/at most \d+ regions? per leaf \(--leaf-size 1( is the split target; a leaf keeps more regions when no facet hyperplane separates them)?\)/);

@@ -1,4 +1,4 @@
-import { spawn, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, relative } from 'node:path';
@@ -10,6 +10,7 @@ import { tol } from '../../src/tol.js';
 import type { MpqpProblem } from '../../src/mpqp/types.js';
 import { qpReference, lpFeasibleReference } from '../helpers/reference.js';
 import { rng } from '../problem/rng.js';
+import { runCli, type CliRun } from '../helpers/cli.js';
 
 // End to end through the built CLI. References: quadprog (Goldfarb–Idnani dual method, via
 // test/helpers/reference.ts qpReference) for u(0) and javascript-lp-solver (lpFeasibleReference)
@@ -25,22 +26,8 @@ const tablePath2 = join(dir, 'again', 't.json');
 const cappedPath = join(dir, 't5.json');
 const timedPath = join(dir, 'thermal-timed.json');
 
-interface Run {
-  status: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-function run(args: string[]): Promise<Run> {
-  return new Promise((resolve) => {
-    const child = spawn(process.execPath, [cli, ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
-    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-    child.on('close', (status) => resolve({ status, stdout, stderr }));
-  });
-}
+type Run = CliRun;
+const run = (args: string[]) => runCli(args);
 
 /** Run independent CLI invocations a few at a time (2-core machine; each is mostly start-up). */
 async function runAll(jobs: Record<string, string[]>, width = 3): Promise<Record<string, Run>> {

@@ -23,7 +23,8 @@ describe('tessera emit', () => {
     const tablePath = join(dir, 't.table.json');
     writeFileSync(tablePath, tableToJson(table));
     const out = join(dir, 'gen');
-    const r = tessera(['emit', tablePath, '--lang', 'c', '--precision', 'float', '--prefix', 'ctl', '-o', out, '--certify', '--report', join(dir, 'rep.json'), '--arrays', 'csv']);
+    // --search tree named: the default is now auto, which may pick another structure (changed on purpose)
+    const r = tessera(['emit', tablePath, '--lang', 'c', '--precision', 'float', '--search', 'tree', '--prefix', 'ctl', '-o', out, '--certify', '--report', join(dir, 'rep.json'), '--arrays', 'csv']);
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/float certificate on \d+ points/);
     expect(r.stdout).toMatch(/(SAFE|NOT SAFE) at tolerance/);
@@ -38,16 +39,53 @@ describe('tessera emit', () => {
     const gcc = spawnSync('gcc', [...STRICT, '-c', '-o', join(dir, 'ctl.o'), join(out, 'ctl.c')], { encoding: 'utf8' });
     expect(gcc.status).toBe(0);
     // the tree side file is reused when given back, and refused for another table
-    const again = tessera(['emit', tablePath, '--prefix', 'ctl', '-o', join(dir, 'gen2'), '--tree', join(out, 'ctl.tree.json')]);
+    const again = tessera(['emit', tablePath, '--search', 'tree', '--prefix', 'ctl', '-o', join(dir, 'gen2'), '--tree', join(out, 'ctl.tree.json')]);
     expect(again.status).toBe(0);
     expect(readFileSync(join(dir, 'gen2', 'ctl.c'), 'utf8')).toBe(lib.source);
     const other = join(dir, 'other.table.json');
     writeFileSync(other, tableToJson(arrangementTable({ lower: [-2, -1], upper: [2, 1], planes: 9, seed: 4 })));
-    const refused = tessera(['emit', other, '-o', join(dir, 'gen3'), '--tree', join(out, 'ctl.tree.json')]);
+    const refused = tessera(['emit', other, '--search', 'tree', '-o', join(dir, 'gen3'), '--tree', join(out, 'ctl.tree.json')]);
     expect(refused.status).toBe(2);
     expect(refused.stderr).toMatch(/ctl\.tree\.json: tableHash: built for table/);
     expect(existsSync(join(dir, 'gen3'))).toBe(false);
   }, 60000);
+
+  it('--search auto (the default) states the chosen structure and why; capped and boxtree by name; bad names and --tree without tree refused', () => {
+    const dir = tempDir('cli-search');
+    const tablePath = join(dir, 't.table.json');
+    writeFileSync(tablePath, tableToJson(table));
+    const auto = tessera(['emit', tablePath, '-o', join(dir, 'auto'), '--report', join(dir, 'auto.json')]);
+    expect(auto.status).toBe(0);
+    const rep = JSON.parse(readFileSync(join(dir, 'auto.json'), 'utf8'));
+    expect(rep.searchRequested).toBe('auto');
+    expect(rep.candidates.map((c: { search: string }) => c.search)).toEqual(['tree', 'capped', 'boxtree', 'sequential']);
+    const chosen = rep.candidates.find((c: { search: string }) => c.search === rep.search);
+    expect(chosen.rejected).toBeNull();
+    expect(chosen.locationBytes).toBeLessThanOrEqual(0.5 * chosen.regionBytes);
+    // fewest worst-case operations among the admissible ones
+    for (const c of rep.candidates) if (!c.rejected) expect(chosen.worstMultiplyAdds + chosen.worstComparisons).toBeLessThanOrEqual(c.worstMultiplyAdds + c.worstComparisons);
+    const header = readFileSync(join(dir, 'auto', 'tessera_law.h'), 'utf8');
+    expect(header).toContain(`${rep.search} search, chosen by the cost model`);
+    expect(auto.stdout).toContain(`${rep.search} search, chosen by the cost model`);
+    for (const search of ['capped', 'boxtree']) {
+      const r = tessera(['emit', tablePath, '--search', search, '-o', join(dir, search), '--report', join(dir, `${search}.json`)]);
+      expect(r.status).toBe(0);
+      expect(JSON.parse(readFileSync(join(dir, `${search}.json`), 'utf8')).search).toBe(search);
+      expect(readFileSync(join(dir, search, 'tessera_law.h'), 'utf8')).toContain(`${search} search, named by the caller`);
+      const gcc = spawnSync('gcc', [...STRICT, '-c', '-o', join(dir, `${search}.o`), join(dir, search, 'tessera_law.c')], { encoding: 'utf8' });
+      expect(gcc.status).toBe(0);
+    }
+    for (const [args, re] of [
+      [['--search', 'kd'], /^tessera: \(command line\): --search: expected one of auto, tree, capped, boxtree, sequential/],
+      [['--search', 'capped', '--tree', join(dir, 'x.tree.json')], /^tessera: \(command line\): --tree: a tree side file needs --search tree/],
+    ] as [string[], RegExp][]) {
+      const r = tessera(['emit', tablePath, ...args, '-o', join(dir, 'bad')]);
+      expect(r.status).toBe(2);
+      expect(r.stderr.trim().split('\n').length).toBe(1);
+      expect(r.stderr).toMatch(re);
+      expect(existsSync(join(dir, 'bad'))).toBe(false);
+    }
+  }, 120000);
 
   it('marks an incomplete table in the header and the report', () => {
     const dir = tempDir('cli-inc');

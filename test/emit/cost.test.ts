@@ -8,6 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { emitC } from '../../src/emit/index.js';
 import { arraysToJson } from '../../src/emit/export.js';
 import type { TableFile } from '../../src/table/format.js';
+import type { BoxTree } from '../../src/partition/boxtree.js';
 import { compile, exampleTable, run } from './helpers.js';
 import { arrangementTable, gridTable } from './synthetic.js';
 
@@ -26,7 +27,7 @@ function parseArrays(source: string, prefix: string): Map<string, { ctype: strin
 
 function checkCost(name: string, table: TableFile): void {
   describe(name, () => {
-    for (const search of ['tree', 'sequential'] as const)
+    for (const search of ['tree', 'capped', 'boxtree', 'sequential'] as const)
       for (const precision of ['float', 'double'] as const)
         it(`${search}, ${precision}: bytes, depth, multiply-adds and comparisons`, () => {
           const r = emitC(table, { precision, search, prefix: 'law' });
@@ -55,7 +56,7 @@ function checkCost(name: string, table: TableFile): void {
           const exported = JSON.parse(arraysToJson(r.arrays, r.target.layout(r.arrays))).arrays as Record<string, { kind: string; range: [number, number]; values: number[] }>;
           for (const [name, a] of arrays) {
             const kind = exported[name].kind;
-            expect(kind).toBe(a.ctype === precision ? 'f-real' : a.ctype.startsWith('u') ? (name === 'leaf_region' ? 'u-index' : 'u-count') : 'i-index');
+            expect(kind).toBe(a.ctype === precision ? 'f-real' : a.ctype.startsWith('u') ? (name === 'leaf_region' || name === 'node_axis' ? 'u-index' : 'u-count') : 'i-index');
             expect(JSON.stringify(exported[name])).not.toMatch(/int16|int32|uint|float"|double"|ctype/);
             const back = precision === 'float' ? a.values.map(Math.fround) : a.values;
             expect(exported[name].values).toEqual(back);
@@ -70,24 +71,37 @@ function checkCost(name: string, table: TableFile): void {
           let depth = 0;
           let macs = 0;
           let cmps = 0;
+          // float builds locate by best fit: per row the test and the running maximum, per region one
+          // comparison with the best so far (changed on purpose with best fit); double: first fit
+          const bestFit = precision === 'float';
+          const rowCmp = bestFit ? 2 : 1;
+          const regionCmp = bestFit ? 1 : 0;
+          expect(r.source.includes('_fit(')).toBe(bestFit);
           if (search === 'sequential') {
             const all = rowStart[rowStart.length - 1];
             macs = all * nt + nu * nt;
-            cmps = all;
+            cmps = all * rowCmp + (rowStart.length - 1) * regionCmp;
           } else {
             const left = arrays.get('node_left')?.values ?? [];
             const right = arrays.get('node_right')?.values ?? [];
             const leafStart = arrays.get('leaf_start')!.values;
             const leafRegion = arrays.get('leaf_region')!.values;
             // one inline plane (nθ coefficients and b) per node, and it is the tree's own hyperplane
-            const plane = arrays.get('node_plane')?.values ?? [];
-            expect(plane.length).toBe(left.length * (nt + 1));
-            const tree = r.tree!;
             const round = precision === 'float' ? Math.fround : (x: number) => x;
-            tree.nodeHyperplane.forEach((k, node) => {
-              const got = plane.slice(node * (nt + 1), (node + 1) * (nt + 1)).map(round);
-              expect(got).toEqual([...tree.hyperplanes.a[k], tree.hyperplanes.b[k]].map(round));
-            });
+            if (search === 'boxtree') {
+              // one axis and one float split per node, the box tree's own
+              const bt = r.locator as BoxTree;
+              expect(arrays.get('node_axis')?.values ?? []).toEqual(bt.nodeAxis.length ? bt.nodeAxis : []);
+              expect((arrays.get('node_split')?.values ?? []).map(round)).toEqual(bt.nodeSplit);
+            } else {
+              const plane = arrays.get('node_plane')?.values ?? [];
+              expect(plane.length).toBe(left.length * (nt + 1));
+              const tree = r.tree!;
+              tree.nodeHyperplane.forEach((k, node) => {
+                const got = plane.slice(node * (nt + 1), (node + 1) * (nt + 1)).map(round);
+                expect(got).toEqual([...tree.hyperplanes.a[k], tree.hyperplanes.b[k]].map(round));
+              });
+            }
             const rootMatch = /#define LAW_ROOT \((-?\d+)\)/.exec(r.source)!;
             const stack: [number, number][] = [[Number(rootMatch[1]), 0]];
             while (stack.length) {
@@ -100,8 +114,9 @@ function checkCost(name: string, table: TableFile): void {
               let rr = 0;
               for (let k = leafStart[leaf]; k < leafStart[leaf + 1]; k++) rr += rows(leafRegion[k]);
               depth = Math.max(depth, d);
-              macs = Math.max(macs, d * nt + rr * nt + nu * nt);
-              cmps = Math.max(cmps, d + rr);
+              // a box-tree node compares one coordinate (no multiplication), a plane node costs nθ
+              macs = Math.max(macs, (search === 'boxtree' ? 0 : d * nt) + rr * nt + nu * nt);
+              cmps = Math.max(cmps, d + rr * rowCmp + (leafStart[leaf + 1] - leafStart[leaf]) * regionCmp);
             }
             expect(r.source).toContain(`#define LAW_DEPTH ${depth}u`);
           }
@@ -135,7 +150,7 @@ describe('non-finite θ (a failed sensor reading)', () => {
   // IEEE 754: every ordered comparison with NaN is false (common practice); the region test is
   // written as !(a·θ <= b) so that NaN and ±∞ that make a·θ NaN land in no region
   const table = gridTable(2, (i, j) => ({ F: [[1, 2]], g: [i + j] }));
-  for (const search of ['tree', 'sequential'] as const)
+  for (const search of ['tree', 'capped', 'boxtree', 'sequential'] as const)
     for (const precision of ['float', 'double'] as const)
       it(`${search}, ${precision}: returns −1 and leaves u untouched`, () => {
         const r = emitC(table, { precision, search, prefix: 'law' });

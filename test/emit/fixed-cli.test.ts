@@ -12,7 +12,7 @@ import { join } from 'node:path';
 import { tableToJson } from '../../src/table/table.js';
 import { emit } from '../../src/emit/index.js';
 import { CORES, parseObjdump, worstPath } from '../../src/emit/crossbuild.js';
-import { EXAMPLES, exampleTable, tempDir } from './helpers.js';
+import { TREE_EXAMPLES as EXAMPLES, exampleTable, tempDir } from './helpers.js';
 
 const MAIN = join(import.meta.dirname, '../../src/cli/main.ts');
 function tessera(args: string[]): { status: number | null; stdout: string; stderr: string } {
@@ -74,7 +74,8 @@ describe('emit --target-check on every example', () => {
   for (const ex of EXAMPLES)
     it(`${ex}: M0/M4F builds compile with -Werror, sizes, no soft float in fixed and M4F float, worst path counted`, () => {
       const { dir, path } = tableFile(ex);
-      const r = tessera(['emit', path, '--target-check', '-o', join(dir, 'g'), '--report', join(dir, 'r.json')]);
+      // --search tree named: the default is now auto, which --target-check restricts to tree or sequential (changed on purpose)
+      const r = tessera(['emit', path, '--target-check', '--search', 'tree', '-o', join(dir, 'g'), '--report', join(dir, 'r.json')]);
       expect(r.stderr).toBe('');
       expect(r.status).toBe(0);
       expect(r.stdout).toContain('nm: the q15/q31 builds (both cores) and the Cortex-M4F float build call no software floating-point helper');

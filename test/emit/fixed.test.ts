@@ -17,7 +17,7 @@ import { facetPoints } from '../../src/check/certify.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { applyAffine, locateSequential } from '../../src/table/table.js';
 import type { TableFile } from '../../src/table/format.js';
-import { EXAMPLES, STRICT, compile, exampleTable, run } from './helpers.js';
+import { TREE_EXAMPLES as EXAMPLES, STRICT, compile, exampleTable, run } from './helpers.js';
 import { arrangementTable } from './synthetic.js';
 
 function stripComments(c: string): string {

@@ -10,7 +10,7 @@ import { sampleBox } from '../../src/emit/sample.js';
 import { emitC } from '../../src/emit/index.js';
 import { lpFeasibleReference, qpReference } from '../helpers/reference.js';
 import { compile } from './helpers.js';
-import { EXAMPLES, FIXTURES, exampleTable } from './helpers.js';
+import { TREE_EXAMPLES, FIXTURES, exampleTable } from './helpers.js';
 import { basename } from 'node:path';
 import { gridTable } from './synthetic.js';
 
@@ -50,7 +50,7 @@ describe('analytic grid cases', () => {
   });
 });
 
-for (const ex of [...EXAMPLES, ...FIXTURES])
+for (const ex of [...TREE_EXAMPLES, ...FIXTURES])
   describe(`problem ${basename(ex)}`, () => {
     const { table, mpqp } = exampleTable(ex);
     const { table: merged, stats } = mergeRegions(table);

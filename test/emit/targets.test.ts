@@ -57,11 +57,11 @@ describe('target registry', () => {
 
 describe('array exports are language-neutral', () => {
   it('JSON: kinds and ranges instead of C types; CSV: an empty array stays empty (no C padding)', () => {
-    // a one-region tree has no nodes: C leaves node arrays out, the exports keep them empty
+    // a one-region tree has no nodes: C leaves node arrays out, the exports keep them empty (--search tree named: the default is now auto, changed on purpose)
     const one = gridTable(1, () => ({ F: [[0.5, -0.25]], g: [0.1] }));
     const dir = tempDir('export');
     writeFileSync(join(dir, 'one.json'), tableToJson(one));
-    expect(tessera(['emit', join(dir, 'one.json'), '--precision', 'double', '-o', join(dir, 'j'), '--arrays', 'json']).status).toBe(0);
+    expect(tessera(['emit', join(dir, 'one.json'), '--precision', 'double', '--search', 'tree', '-o', join(dir, 'j'), '--arrays', 'json']).status).toBe(0);
     const j = JSON.parse(readFileSync(join(dir, 'j', 'tessera_law_arrays.json'), 'utf8'));
     expect(JSON.stringify(j)).not.toMatch(/ctype|int16_t|uint16_t|int32_t/);
     expect(j.arrays.node_left).toEqual({ kind: 'i-index', values: [], range: [0, 0] });
@@ -70,7 +70,7 @@ describe('array exports are language-neutral', () => {
     // the region of [0,1]² (grid of one cell): law 0.1 + 0.5θ₀ − 0.25θ₁, by construction
     expect(j.arrays.law_f).toEqual({ kind: 'f-real', values: [0.5, -0.25], range: [-0.25, 0.5] });
     expect(j.arrays.law_g.values).toEqual([0.1]);
-    expect(tessera(['emit', join(dir, 'one.json'), '-o', join(dir, 'c'), '--arrays', 'csv']).status).toBe(0);
+    expect(tessera(['emit', join(dir, 'one.json'), '--search', 'tree', '-o', join(dir, 'c'), '--arrays', 'csv']).status).toBe(0);
     expect(readFileSync(join(dir, 'c', 'tessera_law_node_plane.csv'), 'utf8')).toBe('index,value\n');
     expect(readFileSync(join(dir, 'c', 'tessera_law_leaf_start.csv'), 'utf8')).toBe('index,value\n0,0\n1,1\n');
     // while the C itself declares no node arrays

@@ -9,7 +9,7 @@ import { sampleBox } from '../../src/emit/sample.js';
 import { facetPoints } from '../../src/check/certify.js';
 import { tol } from '../../src/tol.js';
 import type { TableFile } from '../../src/table/format.js';
-import { EXAMPLES, exampleTable } from './helpers.js';
+import { TREE_EXAMPLES, exampleTable } from './helpers.js';
 import { arrangementTable, gridTable } from './synthetic.js';
 
 /** Independent walk: depth of every leaf and how often each leaf is reached. */
@@ -116,5 +116,5 @@ describe('analytic: an 8×8 grid of unit squares', () => {
   });
 });
 
-for (const ex of EXAMPLES) checkTree(`example ${ex}`, exampleTable(ex).table);
+for (const ex of TREE_EXAMPLES) checkTree(`example ${ex}`, exampleTable(ex).table);
 checkTree('synthetic arrangement of 30 lines in 2-D', arrangementTable({ lower: [-3, -2], upper: [3, 2], planes: 30, seed: 3 }));

@@ -1,3 +1,4 @@
+import type { SearchTree } from '../../partition/tree.js';
 /**
  * Fixed-point C99 (`--lang c --precision q15|q31`): integer-only arithmetic for cores without an
  * FPU. No float or double appears anywhere in the generated library: θ arrives scaled to integers
@@ -248,7 +249,8 @@ export const cFixedTarget: EmitTarget<FixedBuild> = {
   lang: 'c',
   precisions: ['q15', 'q31'],
   summary: 'C99, fixed-point integer arithmetic (no FPU needed)',
-  build: (table, precision, search, tree, options) => buildFixed(table, precision as FixedFormat, search, tree, { thetaFrac: options?.thetaFrac }),
+  searches: ['tree', 'sequential'],
+  build: (table, precision, search, tree, options) => buildFixed(table, precision as FixedFormat, search, tree as SearchTree | null, { thetaFrac: options?.thetaFrac }),
   evaluate: evaluateFixed,
   layout: fixedLayout,
   files: (b, meta) => [

@@ -53,7 +53,7 @@ export function cElementType(a: LayoutArray, layout: LayoutArray[], precision: P
  * static const would not compile with -Werror).
  */
 export function cArrays(ar: EmitArrays): CArray[] {
-  return cDeclared(layoutOf(ar), ar.precision, ar.search === 'tree' && ar.nodeLeft.length === 0, ar.root);
+  return cDeclared(layoutOf(ar), ar.precision, ar.search !== 'sequential' && ar.nodeLeft.length === 0, ar.root);
 }
 
 /** The C rules on a layout: element types, one-leaf trees without node arrays, no empty arrays. */
@@ -137,6 +137,12 @@ export function limitsText(t: TableFile): string[] {
   return out;
 }
 
+/** The header's account of the point-location structure: which one, and why (from the cost model). */
+function searchText(ar: EmitArrays, meta: EmitMeta): string {
+  const lines = meta.searchReason ? meta.searchReason : [`${ar.search} search, named on the command line.`];
+  return lines.map((l) => ` * ${commentText(l)}`).join('\n');
+}
+
 export function emitHeader(ar: EmitArrays, meta: EmitMeta): string {
   const P = meta.prefix;
   const real = ar.precision;
@@ -150,6 +156,9 @@ export function emitHeader(ar: EmitArrays, meta: EmitMeta): string {
  *
  * Parameter vector and outputs (order matters):
 ${limitsText(t).join('\n')}
+ *
+ * Point location:
+${searchText(ar, meta)}
  *
  * CAUTIONS - this code drives equipment that can hurt people:
  *  - Validate the controller in simulation and hardware-in-the-loop on the target before use.
@@ -213,7 +222,7 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
   const NU = `${P.toUpperCase()}_NU`;
   const real = ar.precision;
   const blocks = cArrays(ar).map((s) => arrayBlock(P, s.name, s.ctype, s.values, s.real ? real : null));
-  const inside = `static int ${P}_inside(uint32_t r, const ${real} theta[${NT}])
+  const inside = (ar.bestFit ? '' : `static int ${P}_inside(uint32_t r, const ${real} theta[${NT}])
 {
     uint32_t i, j;
     for (i = ${P}_region_row_start[r]; i < ${P}_region_row_start[r + 1u]; ++i) {
@@ -229,20 +238,73 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
     return 1;
 }
 
-static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
+`) + `${ar.bestFit ? `/* best fit: writes the largest residual a.(theta - c) - b of region r (slack included) and returns 1
+ * when every row holds, else returns 0 */
+static int ${P}_fit(uint32_t r, const ${real} theta[${NT}], ${real} *res)
+{
+    uint32_t i, j;
+    ${real} worst = (${real})0;
+    ${real} t[${NT}];
+    /* rows are tested around the region's centre: a.(theta - c) <= b - a.c + slack */
+    for (j = 0u; j < ${NT}; ++j) {
+        t[j] = theta[j] - ${P}_law_c[r * (uint32_t)${NT} + j];
+    }
+    for (i = ${P}_region_row_start[r]; i < ${P}_region_row_start[r + 1u]; ++i) {
+        const ${real} *a = &${P}_region_a[i * (uint32_t)${NT}];
+        ${real} s = a[0] * t[0];
+        ${real} d;
+        for (j = 1u; j < ${NT}; ++j) {
+            s += a[j] * t[j];
+        }
+        d = s - ${P}_region_b[i];
+        if (!(d <= (${real})0)) { /* also rejects NaN */
+            return 0;
+        }
+        if (i == ${P}_region_row_start[r] || d > worst) {
+            worst = d;
+        }
+    }
+    *res = worst;
+    return 1;
+}
+
+` : ''}static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
 {
     uint32_t i, j;
     for (i = 0u; i < ${NU}; ++i) {
         uint32_t row = r * (uint32_t)${NU} + i;
         ${real} s = ${P}_law_g[row];
         for (j = 0u; j < ${NT}; ++j) {
-            s += ${P}_law_f[row * (uint32_t)${NT} + j] * theta[j];
+            ${ar.lawC.length > 0 ? `s += ${P}_law_f[row * (uint32_t)${NT} + j] * (theta[j] - ${P}_law_c[r * (uint32_t)${NT} + j]);` : `s += ${P}_law_f[row * (uint32_t)${NT} + j] * theta[j];`}
         }
         u[i] = s;
     }
 ${clampBlock(ar)}}
 `;
-  const evalSeq = `int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
+  // best fit: every candidate tested, the smallest largest residual wins (ties: the first)
+  const bestLoop = (ind: string, from: string, to: string, region: string) => `${ind}for (k = ${from}; k < ${to}; ++k) {
+${ind}    uint32_t r = ${region};
+${ind}    ${real} res;
+${ind}    if (${P}_fit(r, theta, &res) && (best < 0 || res < best_res)) {
+${ind}        best = (int32_t)r;
+${ind}        best_res = res;
+${ind}    }
+${ind}}
+${ind}if (best < 0) {
+${ind}    return -1;
+${ind}}
+${ind}${P}_law((uint32_t)best, theta, u);
+${ind}return (int)best;
+`;
+  const evalSeq = ar.bestFit
+    ? `int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
+{
+    uint32_t k;
+    int32_t best = -1;
+    ${real} best_res = (${real})0;
+${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
+`
+    : `int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     uint32_t r;
     for (r = 0u; r < ${P.toUpperCase()}_REGIONS; ++r) {
@@ -265,18 +327,28 @@ ${clampBlock(ar)}}
         ref = (s <= a[${NT}]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
     }
 `;
+  const boxDescent = `    /* descent: at most DEPTH coordinate tests, left when theta[axis] <= split (no multiplication) */
+    for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
+        ref = (theta[${P}_node_axis[ref]] <= ${P}_node_split[ref]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
+    }
+`;
+  const box = ar.search === 'boxtree';
   const evalTree = `#define ${P.toUpperCase()}_ROOT (${ar.root})
 #define ${P.toUpperCase()}_DEPTH ${ar.maxDepth}u
 
 int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     int32_t ref = ${P.toUpperCase()}_ROOT;
-    uint32_t ${ar.maxDepth > 0 ? 'd, j, ' : ''}k, leaf;
-${ar.maxDepth > 0 ? descent : ''}    if (ref >= 0) {
+    uint32_t ${ar.maxDepth > 0 ? (box ? 'd, ' : 'd, j, ') : ''}k, leaf;${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
+${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
         return -1;
     }
     leaf = (uint32_t)(-(ref + 1));
-    /* final check of the few candidate regions of the leaf */
+${
+  ar.bestFit
+    ? `    /* best fit among the candidate regions of the leaf */
+${bestLoop('    ', `${P}_leaf_start[leaf]`, `${P}_leaf_start[leaf + 1u]`, `${P}_leaf_region[k]`)}`
+    : `    /* final check of the few candidate regions of the leaf */
     for (k = ${P}_leaf_start[leaf]; k < ${P}_leaf_start[leaf + 1u]; ++k) {
         uint32_t r = ${P}_leaf_region[k];
         if (${P}_inside(r, theta)) {
@@ -285,7 +357,8 @@ ${ar.maxDepth > 0 ? descent : ''}    if (ref >= 0) {
         }
     }
     return -1;
-}
+`
+}}
 `;
   return `/*
  * ${P}.c - generated by tessera emit from table "${commentText(meta.table.name)}" (${meta.tableHash}).
@@ -296,7 +369,7 @@ ${ar.maxDepth > 0 ? descent : ''}    if (ref >= 0) {
 
 ${blocks.join('\n')}
 ${inside}
-${ar.search === 'tree' ? evalTree : evalSeq}`;
+${ar.search === 'sequential' ? evalSeq : evalTree}`;
 }
 
 /**
@@ -368,6 +441,7 @@ export const cTarget: EmitTarget<EmitArrays> = {
   lang: 'c',
   precisions: ['float', 'double'],
   summary: 'C99, IEEE float or double arithmetic',
+  searches: ['tree', 'capped', 'boxtree', 'sequential'],
   build: (table, precision, search, tree, options) => buildArrays(table, precision as Precision, search, tree, options?.clamp),
   evaluate: evaluateArrays,
   layout: layoutOf,

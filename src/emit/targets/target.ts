@@ -1,7 +1,7 @@
 /** What every emit target provides: one printer per language/arithmetic, with its own self-test and cost report. */
 import type { TableFile } from '../../table/format.js';
 import type { SearchTree } from '../../partition/tree.js';
-import type { ArrayEvaluation, CostFigures, SearchKind } from '../arrays.js';
+import type { ArrayEvaluation, CostFigures, Locator, SearchKind } from '../arrays.js';
 import type { LayoutArray } from '../layout.js';
 
 export interface EmitMeta {
@@ -10,6 +10,8 @@ export interface EmitMeta {
   tableHash: string;
   /** regions before merging, when the table was merged first */
   mergedFrom?: number;
+  /** lines stating which point-location structure was chosen and why (written into the header) */
+  searchReason?: string[];
 }
 
 /** One array of a target's memory report: element type in the target's language, count, bytes. */
@@ -50,7 +52,9 @@ export interface EmitTarget<B = unknown> {
   lang: string;
   precisions: readonly string[];
   summary: string;
-  build(table: TableFile, precision: string, search: SearchKind, tree: SearchTree | null, options?: TargetOptions): B;
+  /** the point-location structures this target can print (default: tree and sequential) */
+  searches?: readonly SearchKind[];
+  build(table: TableFile, precision: string, search: SearchKind, tree: Locator | null, options?: TargetOptions): B;
   evaluate(build: B, theta: ArrayLike<number>): ArrayEvaluation;
   layout(build: B): LayoutArray[];
   /** the generated files (e.g. NAME.h and NAME.c) */

@@ -1,0 +1,141 @@
+/**
+ * Point-location structures of a build and the choice between them by a cost model: every
+ * candidate is built, its exact memory (the target's own byte count, gcc's sizeof for C) and its
+ * worst-case operations (the maximum over every leaf and path, costFigures) are measured, and the
+ * default is the cheapest one that is safe in float and whose location arrays stay within half of
+ * the region data. The reason is kept as text for the generated header and the report.
+ */
+import type { TableFile } from '../table/format.js';
+import { buildSearchTree, planeMargin, TreeTooLargeError, type TreeOptions } from '../partition/tree.js';
+import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
+import { buildArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
+
+/** Location arrays may take at most this fraction of the region data (half-spaces plus laws). */
+export const LOCATION_BUDGET = 0.5;
+/** The builders aim a little below the budget (their byte estimate is conservative, the check is exact). */
+const BUILD_BUDGET = 0.45;
+/** Worst-case multiply-adds a capped tree's leaves may cost, per θ dimension is leafRows·nθ. */
+export const CAPPED_LEAF_MACS = 512;
+
+export interface LocatorOptions {
+  tree?: TreeOptions;
+  boxTree?: BoxTreeOptions;
+  /** budget in bytes for the location arrays (capped and box tree; the plain tree gives up beyond it) */
+  maxBytes?: number;
+  tableHash?: string;
+  /** passed to the target's build (fixed point: θ fraction bits) */
+  targetOptions?: TargetOptions;
+}
+
+/** Float-layout bytes of the region data (rows of A and b, law F and g and centre): the builders' budget basis. */
+export function regionDataBytes(table: TableFile): number {
+  const n = table.dims.ntheta;
+  let rows = 0;
+  for (const r of table.regions) rows += r.A.length;
+  return 4 * (rows * (n + 1) + table.regions.length * (table.dims.nu * (n + 1) + n) + table.regions.length + 1);
+}
+
+/**
+ * Build the locator of one structure. `tree`: the hyperplane tree as before (one region per leaf);
+ * `capped`: hyperplane tree with float-safe side overlap, depth ≤ 3·log2(regions), leaves of at most
+ * CAPPED_LEAF_MACS/nθ rows, within the byte budget; `boxtree`: bounding-box tree within the budget.
+ */
+export function buildLocator(table: TableFile, search: SearchKind, options: LocatorOptions = {}): Locator | null {
+  const n = table.dims.ntheta;
+  const R = table.regions.length;
+  const maxBytes = options.maxBytes ?? BUILD_BUDGET * regionDataBytes(table);
+  switch (search) {
+    case 'sequential':
+      return null;
+    case 'tree':
+      return buildSearchTree(table.regions, n, { ...options.tree, tableHash: options.tableHash ?? options.tree?.tableHash });
+    case 'capped':
+      return buildSearchTree(table.regions, n, {
+        margin: planeMargin(table.regions, table.box),
+        leafRows: Math.max(2 * n + 2, Math.floor(CAPPED_LEAF_MACS / n)),
+        maxDepth: Math.max(8, Math.ceil(3 * Math.log2(Math.max(2, R)))),
+        duplicationWeight: 0.5,
+        nodeBudget: 2e5,
+        maxBytes,
+        ...options.tree,
+        tableHash: options.tableHash ?? options.tree?.tableHash,
+      });
+    case 'boxtree':
+      return buildBoxTree(table.regions, n, table.box, { leafRows: 4 * (n + 1), maxBytes, ...options.boxTree });
+  }
+}
+
+/** The part of a build's memory that locates θ (tree arrays) and the part that is the regions themselves. */
+export function splitBytes(cost: TargetCost, precision: string): { location: number; regions: number } {
+  let location = 0;
+  let regions = 0;
+  for (const a of cost.bytes[precision]?.arrays ?? []) {
+    if (a.name.startsWith('node_') || a.name.startsWith('leaf_')) location += a.bytes;
+    else regions += a.bytes;
+  }
+  return { location, regions };
+}
+
+export interface Candidate {
+  search: SearchKind;
+  locator: Locator | null;
+  /** null when the structure could not be built within the budget */
+  cost: TargetCost | null;
+  location: number;
+  regions: number;
+  /** the descent provably sends every float θ to a leaf holding each region that contains it (side overlap ≥ float rounding) */
+  floatSafe: boolean;
+  rejected: string | null;
+  buildSeconds: number;
+}
+
+/** Build every structure (or the given ones) and measure it with the target's cost report. */
+export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, precision: string, kinds: readonly SearchKind[], options: LocatorOptions = {}): Candidate[] {
+  const out: Candidate[] = [];
+  const dataBytes = regionDataBytes(table);
+  for (const search of kinds) {
+    const t0 = Date.now();
+    let locator: Locator | null = null;
+    try {
+      // the plain tree is abandoned once its node arrays alone would pass the budget
+      const tree = search === 'tree' ? { ...options.tree, maxNodes: options.tree?.maxNodes ?? Math.ceil((LOCATION_BUDGET * dataBytes) / (4 * (table.dims.ntheta + 1) + 4)) } : options.tree;
+      locator = buildLocator(table, search, { ...options, tree });
+    } catch (e) {
+      if (!(e instanceof TreeTooLargeError)) throw e;
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000 });
+      continue;
+    }
+    const build = target.build(table, precision, search, locator, options.targetOptions);
+    const cost = target.cost(build);
+    const { location, regions } = splitBytes(cost, precision);
+    const floatSafe = search !== 'tree';
+    let rejected: string | null = null;
+    if (location > LOCATION_BUDGET * regions) rejected = `location arrays ${location} B > ${LOCATION_BUDGET} x region data ${regions} B`;
+    else if (precision === 'float' && !floatSafe) rejected = 'descent not proven safe in float (no side overlap)';
+    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000 });
+  }
+  return out;
+}
+
+/** Worst-case operations of one evaluation: multiply-adds plus comparisons. */
+export function worstOps(c: Candidate): number {
+  return c.cost ? c.cost.worstMultiplyAdds + c.cost.worstComparisons : Infinity;
+}
+
+/** The cheapest admissible candidate (fewest worst-case operations, then fewest bytes); sequential search is always admissible. */
+export function pickCandidate(cands: Candidate[]): { chosen: Candidate; reason: string[] } {
+  const ok = cands.filter((c) => !c.rejected && c.cost);
+  ok.sort((a, b) => worstOps(a) - worstOps(b) || a.location - b.location);
+  const chosen = ok[0] ?? cands.find((c) => c.search === 'sequential');
+  if (!chosen) throw new Error('no point-location structure could be built');
+  const line = (c: Candidate) =>
+    c.cost
+      ? `${c.search}: ${c.cost.worstMultiplyAdds} multiply-adds + ${c.cost.worstComparisons} comparisons worst case, location ${c.location} B = ${(c.location / Math.max(1, c.regions)).toFixed(3)} x region data${c.rejected ? ` - rejected: ${c.rejected}` : ''}`
+      : `${c.search}: rejected: ${c.rejected}`;
+  const reason = [
+    `${chosen.search} search, chosen by the cost model: fewest worst-case operations among the structures that are safe in float and whose location arrays are at most ${LOCATION_BUDGET} x the region data.`,
+    ...cands.map(line),
+  ];
+  return { chosen, reason };
+}

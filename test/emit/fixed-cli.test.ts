@@ -104,6 +104,25 @@ describe('emit --target-check on every example', () => {
     }, 120000);
 });
 
+describe('emit --target-check with sequential search', () => {
+  it('the worst path visits every region and costs at least nθ + 1 instructions per row', () => {
+    const ex = 'buck-duty-cycle.json';
+    const { dir, path } = tableFile(ex);
+    const r = tessera(['emit', path, '--search', 'sequential', '--target-check', '-o', join(dir, 'g'), '--report', join(dir, 'r.json')]);
+    expect(r.status).toBe(0);
+    const rep = JSON.parse(readFileSync(join(dir, 'r.json'), 'utf8')).targetCheck;
+    const table = exampleTable(ex).table;
+    const rows = table.regions.reduce((s, g) => s + g.b.length, 0);
+    for (const b of rep.builds) {
+      expect(b.countError).toBeUndefined();
+      expect(b.worst.leafRegions).toBe(table.regions.length);
+      expect(b.worst.leafDepth).toBe(0);
+      // every row costs at least its nθ multiply-adds and one comparison
+      expect(b.worst.instructions).toBeGreaterThanOrEqual(rows * (table.dims.ntheta + 1));
+    }
+  }, 120000);
+});
+
 describe('worst-path counter', () => {
   // hand count: entry 2 instructions; loop header block (3) + body (2) run `bound` times, plus the
   // final pass to the exit (header 3 instructions); exit block 2 instructions ending in a return

@@ -133,6 +133,7 @@ function figureHtml(f: AuditFigure): string {
   return `<figure><img alt="${esc(f.title)}" src="${svgUri(f.svg)}"/><figcaption><b>${esc(f.title)}.</b> Method: ${esc(f.method)} Source: ${esc(f.source)}</figcaption></figure>`;
 }
 
+/** The audit report as one self-contained HTML page (figures inlined as SVG strings). */
 export function renderAuditHtml(r: AuditReport, figures: { coverage: AuditFigure[]; closedLoop: AuditFigure[] }): string {
   const checks = auditChecks(r);
   const badge = (v: string) => `<span class="v ${v === 'PASS' ? 'pass' : v === 'INFO' ? 'info' : 'fail'}">${v}</span>`;
@@ -166,6 +167,7 @@ ${checks.map(section).join('\n')}
 `;
 }
 
+/** The audit report as Markdown: one section per check with verdict, line, method and witness. */
 export function renderAuditMarkdown(r: AuditReport): string {
   const names = r.identity.data.theta.flatMap((b) => b.names);
   const checks = auditChecks(r);

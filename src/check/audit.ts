@@ -468,6 +468,11 @@ export function checkClosedLoop(inp: AuditInputs): CheckResult<ClosedLoopData> {
   };
 }
 
+/**
+ * Run the seven audit checks on a table (identity, agreement with the online QP, coverage, recursive
+ * feasibility, stability evidence, embedded build, closed loop) and collect their verdicts. Pure:
+ * the caller supplies the online QP, the embedded-build figures and the model; returns a new report.
+ */
 export function runAudit(inp: AuditInputs, tableName: string): AuditReport {
   const stage = (s: string) => inp.onStage?.(s);
   stage('identity');
@@ -487,6 +492,7 @@ export function runAudit(inp: AuditInputs, tableName: string): AuditReport {
   return { table: tableName, passed: all.every((c) => c.verdict !== 'FAIL'), identity, agreement, coverage, invariance, stability, embedded, closedLoop };
 }
 
+/** The seven check results of a report, in report order. */
 export function auditChecks(r: AuditReport): CheckResult<unknown>[] {
   return [r.identity, r.agreement, r.coverage, r.invariance, r.stability, r.embedded, r.closedLoop];
 }

@@ -42,6 +42,10 @@ export function fixedTolerance(b: FixedBuild): { tolerance: number; basis: strin
   return { tolerance: FIXED_TOLERANCE_LSB * lsb, basis: `${FIXED_TOLERANCE_LSB} output LSBs of ${b.precision} (u LSB 2^-${b.uFrac} = ${lsb.toPrecision(3)}, from the law magnitudes)` };
 }
 
+/**
+ * Certificate of a fixed-point build against the double law (seeded sample and facet points, as the
+ * float certificate) plus its overflow proof: max |Δu| in input units, relocated/lost points, SAFE / NOT SAFE.
+ */
 export function certifyFixed(table: TableFile, b: FixedBuild, options: CertifyOptions = {}): FixedCertificate {
   const { sample, facet, extra } = certificatePoints(table, options);
   const auto = fixedTolerance(b);

@@ -206,6 +206,11 @@ export function certificatePoints(table: TableFile, options: CertifyOptions): { 
   return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: facetPoints(table), extra: options.extraPoints ?? [] };
 }
 
+/**
+ * Certificate of a float build (`buildArrays(table, 'float', …)`) against the double law of the
+ * table on a seeded uniform sample and on points just inside/outside every facet: max |Δu| in input
+ * units, relocated and lost points, and a SAFE / NOT SAFE verdict at `options.tolerance`.
+ */
 export function certifyFloat(table: TableFile, floatBuild: EmitArrays, options: CertifyOptions = {}): Certificate {
   if (floatBuild.precision !== 'float') throw new Error('certifyFloat needs the float build');
   return certifyBuild(table, floatBuild, (t) => evaluateArrays(floatBuild, t), options);

@@ -116,6 +116,11 @@ export interface AnalysedSlice {
   gaps: SliceGaps;
 }
 
+/**
+ * Exact 2-D slice of the table on `spec`: region polygons, the feasible set of `problem` on the
+ * plane (LP support functions), and the uncovered part split into infeasible and holes, with exact
+ * areas in the product of the axis units. New data, owned by the caller.
+ */
 export function analyseSlice(table: TableFile, problem: MpqpProblem, spec: SliceSpec): AnalysedSlice {
   const polygons = sliceRegions(table.regions, spec);
   const feasible = feasibleSlice(problem, spec);

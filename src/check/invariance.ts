@@ -160,6 +160,11 @@ function heldOnly(table: TableFile, a: number[]): boolean {
   return a.every((v, j) => Math.abs(v) < 1e-12 || held.has(j));
 }
 
+/**
+ * Exact one-step recursive feasibility of the covered set, region by region, by LP: for each region
+ * the affine successor θ⁺ under its law and the plant must stay inside every boundary facet of the
+ * covered set. Returns the regions that can leave, with witnesses in θ units.
+ */
 export function checkInvariance(table: TableFile, plant: PlantDynamics, onProgress?: (done: number, total: number) => void): InvarianceReport {
   const nt = table.dims.ntheta;
   const found = boundaryFacets(table);

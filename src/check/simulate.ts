@@ -153,6 +153,7 @@ function assembleTheta(layout: Layout, ntheta: number, x: number[], uPrev: numbe
 const matVec = (M: number[][] | null | undefined, v: number[], rows: number): number[] =>
   Array.from({ length: rows }, (_, i) => (M && M[i] ? M[i].reduce((s, a, j) => s + a * (v[j] ?? 0), 0) : 0));
 
+/** Plant output y = C x + Cd d (p entries, the problem's output units); a new array. */
 export function outputOf(plant: PlantDynamics, x: number[], d: number[]): number[] {
   const p = plant.C.length;
   const y = matVec(plant.C, x, p);
@@ -160,6 +161,7 @@ export function outputOf(plant: PlantDynamics, x: number[], d: number[]): number
   return y;
 }
 
+/** One sampling period of the plant: x⁺ = A x + B u + Bd d (n entries, state units); a new array. */
 export function stepPlant(plant: PlantDynamics, x: number[], u: number[], d: number[]): number[] {
   const n = plant.A.length;
   const xn = matVec(plant.A, x, n);
@@ -340,6 +342,10 @@ export interface SimulationSummary {
   settleFraction: number;
 }
 
+/**
+ * Figures over a set of runs: max |u_table − u_online|, steps with no region or an infeasible online
+ * QP, limit violations per limit, final offsets of tracked outputs, settling. Plain numbers, new object.
+ */
 export function summarise(setup: SimulationSetup, runs: RunResult[]): SimulationSummary {
   let maxDu = 0;
   let maxDuAt: SimulationSummary['maxDuAt'] = null;

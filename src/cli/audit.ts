@@ -5,7 +5,7 @@ import { writeFileAtomic } from '../io/atomic.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
 import { createdNote } from './common.js';
-import { readTableFile } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import { problemHash } from '../table/build.js';
 import { thetaBlock } from '../formulation/layout.js';
 import { runAudit, type EmbeddedData } from '../check/audit.js';

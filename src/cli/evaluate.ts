@@ -1,5 +1,6 @@
 import type { Command } from 'commander';
-import { readTableFile, evaluateTable, applyAffine } from '../table/table.js';
+import { evaluateTable, applyAffine } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import { InputError, readTextInput } from '../io/errors.js';
 import type { TableFile } from '../table/format.js';
 import { clampInputs, hasInputLimits } from '../table/clamp.js';

@@ -1,7 +1,7 @@
 import type { Command } from 'commander';
 import { format } from 'd3';
 import { InputError } from '../io/errors.js';
-import { readTableFile } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import { analyseCoverage, type CoverageReport, type Fraction } from '../check/gaps.js';
 import { loadTableProblem, positiveInt } from './map.js';
 import { EXIT } from './exit.js';

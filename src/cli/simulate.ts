@@ -5,7 +5,7 @@ import { writeFileAtomic } from '../io/atomic.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
 import { createdNote } from './common.js';
-import { readTableFile } from '../table/table.js';
+import { readTableFile } from '../table/file.js';
 import type { TableFile } from '../table/format.js';
 import { loadProblem } from '../problem/index.js';
 import type { MpcModel } from '../problem/types.js';

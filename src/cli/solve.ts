@@ -8,7 +8,7 @@ import { infeasibleCore } from '../mpqp/infeasible.js';
 import { mergedRowLabel } from '../mpqp/labels.js';
 import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
 import { makeTable } from '../table/build.js';
-import { writeTableFile } from '../table/table.js';
+import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
 import { estimateCondensedSize, formatBytes } from '../problem/size.js';
 import { checkOutputPath } from '../io/output.js';

@@ -1,116 +1,69 @@
 import type { Command } from 'commander';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import { existsSync, readFileSync } from 'node:fs';
-import { dirname, join } from 'node:path';
+import { basename, dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { readTableFile } from '../table/file.js';
 import { checkOutputPath } from '../io/output.js';
 import { createdNote } from './common.js';
-import { checkTable, readTableFile } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
-import type { MpqpProblem } from '../mpqp/types.js';
-import { tol } from '../tol.js';
 import { loadTableProblem } from './map.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
 
-/** Walk up from this module to the first directory that holds `rel`. */
-function findUp(rel: string): string | null {
-  let d = here;
-  for (let k = 0; k < 8; k++) {
-    const p = join(d, rel);
-    if (existsSync(p)) return p;
-    const up = dirname(d);
-    if (up === d) break;
-    d = up;
-  }
-  return null;
+/**
+ * dist/viz, built by `npm run build` (scripts/build-viewer.mjs): from dist/src/cli (the installed
+ * CLI) it is ../../viz; from src/cli (tests running the sources) it is ../../dist/viz.
+ */
+function viewerDir(): string {
+  const up = join(here, '..', '..');
+  return basename(up) === 'dist' ? join(up, 'viz') : join(up, 'dist', 'viz');
 }
 
-function asset(rel: string): string {
-  const p = findUp(rel);
-  if (!p) throw new InputError(rel, '', 'viewer asset not found beside the installed tessera (reinstall or rebuild)');
+function asset(name: string): string {
+  const p = join(viewerDir(), name);
+  if (!existsSync(p)) throw new InputError(p, '', 'viewer asset not found: run `npm run build` (or reinstall tessera)');
   return readFileSync(p, 'utf8');
 }
 
 /**
- * The engine's LP kernel as a browser script: the compiled tol.js and lp/kernel.js with their
- * ES import/export lines removed, wrapped to define window.tesseraLp. The viewer computes the
- * feasible set of each slice with the very same kernel as `tessera map`.
+ * What the page receives: the table, and the raw problem document when feasibility is to be judged
+ * by a problem other than the one the table echoes. The page rebuilds the mpQP itself with the
+ * bundled core, exactly as `tessera map` does in Node.
  */
-export function browserLpScript(): string {
-  const strip = (s: string) =>
-    s
-      .replace(/^import .*?;\s*$/gm, '')
-      .replace(/^export /gm, '')
-      .replace(/^\/\/# sourceMappingURL=.*$/gm, '');
-  const tolJs = findUp(join('dist', 'src', 'tol.js')) ?? join(here, '..', 'tol.js');
-  const kernelJs = findUp(join('dist', 'src', 'lp', 'kernel.js')) ?? join(here, '..', 'lp', 'kernel.js');
-  if (!existsSync(tolJs) || !existsSync(kernelJs)) throw new InputError(kernelJs, '', 'compiled LP kernel not found: run `npm run build` first');
-  return `(function (g) {\n${strip(readFileSync(tolJs, 'utf8'))}\n${strip(readFileSync(kernelJs, 'utf8'))}\ng.tesseraLp = { lpMaximize: lpMaximize, findFeasiblePoint: findFeasiblePoint };\n})(typeof window !== 'undefined' ? window : globalThis);\n`;
-}
-
 export interface ViewerData {
   table: TableFile;
-  mpqp: { nc: number; nz: number; ntheta: number; G: number[]; w: number[]; E: number[] } | null;
-  tol: Record<string, number>;
+  problem: unknown | null;
+  problemFile?: string;
 }
 
-export function mpqpForBrowser(p: MpqpProblem): NonNullable<ViewerData['mpqp']> {
-  return { nc: p.nc, nz: p.nz, ntheta: p.ntheta, G: Array.from(p.G), w: Array.from(p.w), E: Array.from(p.E) };
-}
-
+/** Viewer data for a table; a separate problem file is read and checked against the table here. */
 export function viewerData(table: TableFile, tableFile: string, problemFile?: string): ViewerData {
-  const { mpqp } = loadTableProblem(table, tableFile, problemFile);
-  return { table, mpqp: mpqpForBrowser(mpqp), tol: { ...tol } };
+  const { loaded } = loadTableProblem(table, tableFile, problemFile);
+  return problemFile ? { table, problem: loaded.raw, problemFile } : { table, problem: null };
 }
 
 const scriptSafe = (s: string) => s.replace(/<\/(script)/gi, '<\\/$1');
 
-/** One self-contained HTML file: d3, the LP kernel, the viewer and the table inlined. */
+/** One self-contained HTML file: the stylesheet, the bundled viewer (engine core + d3) and the data inlined. */
 export function staticPage(data: ViewerData): string {
-  let html = asset(join('viz', 'index.html'));
-  html = html.replace('<link rel="stylesheet" href="viewer.css">', () => `<style>\n${asset(join('viz', 'viewer.css'))}</style>`);
-  const scripts: Record<string, () => string> = {
-    'd3.min.js': () => asset(join('node_modules', 'd3', 'dist', 'd3.min.js')),
-    'lp.js': browserLpScript,
-    'geometry.js': () => asset(join('viz', 'geometry.js')),
-    'viewer.js': () => asset(join('viz', 'viewer.js')),
-  };
-  for (const [name, src] of Object.entries(scripts)) html = html.replace(`<script src="${name}"></script>`, () => `<script>\n${scriptSafe(src())}\n</script>`);
+  let html = asset('index.html');
+  html = html.replace('<link rel="stylesheet" href="viewer.css">', () => `<style>\n${asset('viewer.css')}</style>`);
+  html = html.replace('<script src="viewer.js"></script>', () => `<script>\n${scriptSafe(asset('viewer.js'))}\n</script>`);
   const json = JSON.stringify(data).replace(/</g, '\\u003c');
   html = html.replace('<!--tessera:data-->', () => `<script>window.TESSERA_DATA = ${json};</script>`);
   return html;
 }
 
-function readBody(req: IncomingMessage, limit: number): Promise<string> {
-  return new Promise((resolve, reject) => {
-    let size = 0;
-    const chunks: Buffer[] = [];
-    req.on('data', (c: Buffer) => {
-      size += c.length;
-      if (size > limit) {
-        reject(new Error('request too large'));
-        req.destroy();
-      } else chunks.push(c);
-    });
-    req.on('end', () => resolve(Buffer.concat(chunks).toString('utf8')));
-    req.on('error', reject);
-  });
-}
-
 /** Serve the viewer on 127.0.0.1; resolves with the URL once listening. */
 export function serveViewer(data: ViewerData, port = 0): Promise<{ url: string; close: () => Promise<void> }> {
-  const types: Record<string, string> = { html: 'text/html; charset=utf-8', js: 'text/javascript; charset=utf-8', css: 'text/css; charset=utf-8', json: 'application/json' };
-  const files: Record<string, () => string> = {
-    '/': () => asset(join('viz', 'index.html')).replace('<!--tessera:data-->', ''),
-    '/viewer.js': () => asset(join('viz', 'viewer.js')),
-    '/geometry.js': () => asset(join('viz', 'geometry.js')),
-    '/viewer.css': () => asset(join('viz', 'viewer.css')),
-    '/d3.min.js': () => asset(join('node_modules', 'd3', 'dist', 'd3.min.js')),
-    '/lp.js': browserLpScript,
-    '/data.json': () => JSON.stringify(data),
+  const files: Record<string, [string, () => string]> = {
+    '/': ['text/html; charset=utf-8', () => asset('index.html').replace('<!--tessera:data-->', '')],
+    '/viewer.js': ['text/javascript; charset=utf-8', () => asset('viewer.js')],
+    '/viewer.css': ['text/css; charset=utf-8', () => asset('viewer.css')],
+    '/data.json': ['application/json', () => JSON.stringify(data)],
   };
   const server = createServer((req: IncomingMessage, res: ServerResponse) => {
     const path = (req.url ?? '/').split('?')[0];
@@ -118,21 +71,10 @@ export function serveViewer(data: ViewerData, port = 0): Promise<{ url: string; 
       res.writeHead(code, { 'content-type': type, 'cache-control': 'no-store' });
       res.end(body);
     };
-    if (req.method === 'POST' && path === '/api/mpqp') {
-      // a table loaded in the page: rebuild its mpQP from the problem it carries
-      readBody(req, 64 * 1024 * 1024)
-        .then((text) => {
-          const t = checkTable(JSON.parse(text), 'uploaded table');
-          send(200, types.json, JSON.stringify(mpqpForBrowser(loadTableProblem(t, 'uploaded table').mpqp)));
-        })
-        .catch((e: unknown) => send(400, 'text/plain; charset=utf-8', e instanceof Error ? e.message : String(e)));
-      return;
-    }
     const f = files[path === '/index.html' ? '/' : path];
     if (req.method !== 'GET' || !f) return send(404, 'text/plain; charset=utf-8', 'not found');
     try {
-      const ext = path === '/' || path === '/index.html' ? 'html' : path.split('.').pop()!;
-      send(200, types[ext] ?? 'application/octet-stream', f());
+      send(200, f[0], f[1]());
     } catch (e) {
       send(500, 'text/plain; charset=utf-8', e instanceof Error ? e.message : String(e));
     }

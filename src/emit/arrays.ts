@@ -172,6 +172,12 @@ export function centredLaw(precision: Precision): boolean {
   return precision === 'float';
 }
 
+/**
+ * Flatten a table (and its point-location structure, for tree-like searches) into the arrays the generated code
+ * holds: real arrays already rounded to `precision`, index arrays, region bounds widened by the
+ * precision's slack. θ and u in the table's units. Returns new arrays owned by the caller.
+ * With `clamp`, u is saturated to the table's input limits as the generated code does.
+ */
 export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null, clamp = false): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const bound = (v: number | null | undefined) => (v === null || v === undefined ? null : round(v));

@@ -16,6 +16,10 @@ export interface ExportMeta {
   slack: number;
 }
 
+/**
+ * All arrays of a build as one JSON document: the build's dimensions, then per array its element
+ * kind, value range, count and values (language-neutral; no target's types or padding).
+ */
 export function arraysToJson(ar: ExportMeta, layout: LayoutArray[], extra: Record<string, unknown> = {}): string {
   const arrays: Record<string, Omit<LayoutArray, 'name'>> = {};
   for (const { name, ...rest } of layout) arrays[name] = rest;

@@ -155,6 +155,11 @@ function floorSafe(x: number): bigint {
   return BigInt(Math.floor(x)) - BigInt(Math.ceil(ulp));
 }
 
+/**
+ * The fixed-point build of a table (`q15`/`q31`): per-array power-of-two scalings chosen from the
+ * data, integer arrays, θ fractions for the caller, and the overflow proof over the θ box. Throws
+ * FixedOverflowError when no scaling fits. New data, owned by the caller.
+ */
 export function buildFixed(table: TableFile, format: FixedFormat, search: SearchKind, tree: SearchTree | null, options: FixedOptions = {}): FixedBuild {
   const n = table.dims.ntheta;
   const nu = table.dims.nu;

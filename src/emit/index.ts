@@ -4,9 +4,8 @@
  * The search tree is returned to the caller (and written by the CLI as the side file
  * DIR/NAME.tree.json); `locateTree` in src/partition/tree.ts evaluates it from TypeScript.
  */
-import { createHash } from 'node:crypto';
-import { readFileSync } from 'node:fs';
-import { InputError } from '../io/errors.js';
+import { InputError } from '../io/input-error.js';
+import { sha256Hex } from '../util/sha256.js';
 import { tableToJson } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeOptions } from '../partition/tree.js';
@@ -21,7 +20,7 @@ export type SearchChoice = SearchKind | 'auto';
 
 /** "sha256:<hex>" of the table file's canonical JSON. */
 export function tableHash(table: TableFile): string {
-  return 'sha256:' + createHash('sha256').update(tableToJson(table)).digest('hex');
+  return 'sha256:' + sha256Hex(tableToJson(table));
 }
 
 export interface EmitOptions<P extends string = Precision> {
@@ -68,6 +67,11 @@ export interface EmitResult<B = EmitArrays> {
   hash: string;
 }
 
+/**
+ * Build the binary search tree over the table's regions (hyperplanes from region facets, leaves
+ * listing candidate regions), stamped with the table hash so a side file cannot be reused on
+ * another table. New data, owned by the caller.
+ */
 export function treeForTable(table: TableFile, options: TreeOptions = {}): SearchTree {
   return buildSearchTree(table.regions, table.dims.ntheta, { ...options, tableHash: options.tableHash ?? tableHash(table) });
 }
@@ -114,16 +118,20 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
   return { target, files, header: text('.h'), source: text('.c'), arrays, search, tree, locator, candidates, searchReason, cost: target.cost(arrays), hash };
 }
 
-/** C in float or double (the `c` target). */
+/**
+ * C99 in float or double (the `c` target): header and source that evaluate the table law
+ * u(0) = Fθ + g (−1 / no output outside every region), with the flat arrays, the tree used and the
+ * cost figures (bytes, worst-case multiply-adds and comparisons). All new and owned by the caller.
+ */
 export function emitC(table: TableFile, opts: EmitOptions): EmitResult<EmitArrays> {
   return emit<EmitArrays>(table, { ...opts, lang: 'c' });
 }
 
-/** Read a tree side file and check that it was built for this table. */
-export function readTreeFile(path: string, table: TableFile, hash: string): SearchTree {
+/** Parse a tree side file's text and check that it was built for this table (`path` names it in errors). */
+export function parseTreeJson(text: string, path: string, table: TableFile, hash: string): SearchTree {
   let raw: unknown;
   try {
-    raw = JSON.parse(readFileSync(path, 'utf8'));
+    raw = JSON.parse(text);
   } catch (e) {
     throw new InputError(path, '', `cannot read the search tree (${(e as Error).message})`);
   }

@@ -1,23 +1,8 @@
 import { readFileSync } from 'node:fs';
+import { InputError } from './input-error.js';
 
-/**
- * A user-facing input error: one line naming the file, the key path and the reason.
- * The CLI prints `message` and exits with `exitCode` (2 for bad input).
- */
-export class InputError extends Error {
-  readonly file: string;
-  readonly key: string;
-  readonly reason: string;
-  readonly exitCode: number;
-  constructor(file: string, key: string, reason: string, exitCode = 2) {
-    super(`${file}: ${key ? key + ': ' : ''}${reason}`);
-    this.name = 'InputError';
-    this.file = file;
-    this.key = key;
-    this.reason = reason;
-    this.exitCode = exitCode;
-  }
-}
+// InputError lives in a pure module so that the core (and the browser bundle) can throw it too.
+export { InputError } from './input-error.js';
 
 /** Read a text input file; a failure is an InputError naming the file and what it was for. */
 export function readTextInput(path: string, what: string): string {

@@ -1,10 +1,12 @@
-import { createRequire } from 'node:module';
+import solverModule from 'javascript-lp-solver';
 import type { LpResult } from './kernel.js';
 
-const require = createRequire(import.meta.url);
-// javascript-lp-solver ships CommonJS without types
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
-const solver: any = require('javascript-lp-solver');
+// The package's declarations are typed as CommonJS while Node and bundlers load its ES build, whose
+// default export is the solver itself; the small interface below is all this adapter uses.
+interface LpSolver {
+  Solve(model: unknown): Record<string, number> & { feasible: boolean; bounded?: boolean; result: number };
+}
+const solver = ((solverModule as unknown as { default?: LpSolver }).default ?? solverModule) as unknown as LpSolver;
 
 /**
  * The reference LP: the same contract as lpMaximize (maximise cᵀx, A x ≤ b, x free) solved by

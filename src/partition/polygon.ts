@@ -38,6 +38,7 @@ export function signedArea(p: Polygon): number {
   return s / 2;
 }
 
+/** Unsigned area of a simple polygon (vertices [x, y] in either orientation), in the product of the axis units. */
 export function area(p: Polygon): number {
   return Math.abs(signedArea(p));
 }
@@ -51,6 +52,7 @@ export function perimeter(p: Polygon): number {
   return s;
 }
 
+/** Area centroid [x, y] of a simple polygon (d3-polygon's formula), in the axis units. */
 export function centroid(p: Polygon): Point {
   return polygonCentroid(p) as Point;
 }

@@ -5,6 +5,8 @@
 import { format, interpolateRgbBasis, line, path, scaleLinear, scaleSequential } from 'd3';
 import type { TableFile } from '../table/format.js';
 import type { AnalysedSlice } from '../check/gaps.js';
+import type { CriticalRegion } from '../mpqp/types.js';
+import type { SliceSpec } from '../partition/slice.js';
 import { area, ccw as ccwPoly, centroid, thickness, type Polygon } from '../partition/polygon.js';
 import { tol } from '../tol.js';
 import { colourByKey, lawKey, paletteColour, HOLE_FILL, HOLE_STROKE, INFEASIBLE_FILL, INFEASIBLE_HATCH } from './colour.js';
@@ -62,11 +64,94 @@ export function formatAffine(F: number[], g: number, names: string[]): string {
   return terms.join(' ');
 }
 
+/** One line about region `index` of the table: its id, active constraints by meaning, and u(0) as affine formulas in θ names. */
 export function describeRegion(table: TableFile, index: number): string {
   const r = table.regions[index];
-  const act = r.activeSet.length ? r.activeSet.map((k) => table.constraints[k] ?? `row ${k}`).join(', ') : 'none (unconstrained optimum)';
-  const law = r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], table.thetaNames)}`).join('; ');
-  return `region ${r.id} · active set: ${act} · ${law}`;
+  return `region ${r.id} · active set: ${activeSetText(table, r)} · ${lawText(table, r)}`;
+}
+
+/** The active constraints of a region by their meaning, e.g. "u1(k=0) ≤ 1, x2(k=3) ≥ −2", or "none (unconstrained optimum)". */
+export function activeSetText(table: TableFile, r: Pick<CriticalRegion, 'activeSet'>): string {
+  return r.activeSet.length ? r.activeSet.map((k) => table.constraints[k] ?? `row ${k}`).join(', ') : 'none (unconstrained optimum)';
+}
+
+/** The law of a region as formulas in the θ names, e.g. "u(0) = −0.5·pos − 1.2·speed". */
+export function lawText(table: TableFile, r: Pick<CriticalRegion, 'law'>): string {
+  return r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], table.thetaNames)}`).join('; ');
+}
+
+/** Colour ramp of heat layers (light = low, dark = high), shared by the SVG maps and the viewer. */
+export const heatInterpolator = interpolateRgbBasis(['#fbf3dc', '#f0b45d', '#c8584a', '#6d2b6e', '#22184a']);
+
+/** A heat layer sampled on a grid over the slice rectangle, as runs of cells in the same colour bin. */
+export interface HeatGrid {
+  /** cells per axis */
+  cells: number;
+  /** colour bins over the range */
+  bins: number;
+  /** [lowest, highest] value met (high > low), or null when no cell is covered */
+  range: [number, number] | null;
+  /** per grid row (0 = bottom), columns c0 ≤ c < c1 share bin `bin`, drawn in the bin's mid value `value` */
+  runs: { row: number; c0: number; c1: number; bin: number; value: number }[];
+}
+
+/**
+ * Sample `heat` at the centres of a cells×cells grid over the slice rectangle. Cells straddling a
+ * region border take the law of a region within a cell diagonal, so that a layer clipped to the
+ * covered polygons follows the exact boundary. Values in the layer's units.
+ */
+export function heatGrid(spec: SliceSpec, heat: HeatLayer, bins = 48): HeatGrid {
+  const cells = heat.cells ?? 160;
+  const { x0, x1, y0, y1 } = spec.rect;
+  // A cell takes the value at its centre, from the law of the region holding the centre. A cell
+  // whose centre lies in no region but that straddles the covered set takes the value at the
+  // first of a 4×4 grid of points inside it that some region holds, from that region's law at
+  // that point: a law is never extrapolated outside its region (extrapolated laws of thin regions
+  // ran far past the input limits and stretched the scale).
+  const SUB = 4;
+  const cellValue = (c: number, r: number): number | null => {
+    const at = (fc: number, fr: number) => heat.value(x0 + ((c + fc) / cells) * (x1 - x0), y0 + ((r + fr) / cells) * (y1 - y0));
+    const v = at(0.5, 0.5);
+    if (v !== null) return v;
+    for (let a = 0; a < SUB; a++)
+      for (let b = 0; b < SUB; b++) {
+        const w = at((a + 0.5) / SUB, (b + 0.5) / SUB);
+        if (w !== null) return w;
+      }
+    return null;
+  };
+  const vals: (number | null)[] = [];
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let r = 0; r < cells; r++)
+    for (let c = 0; c < cells; c++) {
+      const v = cellValue(c, r);
+      vals.push(v);
+      if (v !== null) {
+        lo = Math.min(lo, v);
+        hi = Math.max(hi, v);
+      }
+    }
+  if (!(lo <= hi)) return { cells, bins, range: null, runs: [] };
+  const range: [number, number] = [lo, hi === lo ? lo + 1 : hi];
+  const bin = (v: number) => Math.min(bins - 1, Math.floor(((v - range[0]) / (range[1] - range[0])) * bins));
+  const runs: HeatGrid['runs'] = [];
+  for (let r = 0; r < cells; r++) {
+    let c = 0;
+    while (c < cells) {
+      const v = vals[r * cells + c];
+      if (v === null) {
+        c++;
+        continue;
+      }
+      const b = bin(v);
+      let e = c + 1;
+      while (e < cells && vals[r * cells + e] !== null && bin(vals[r * cells + e]!) === b) e++;
+      runs.push({ row: r, c0: c, c1: e, bin: b, value: range[0] + ((b + 0.5) / bins) * (range[1] - range[0]) });
+      c = e;
+    }
+  }
+  return { cells, bins, range, runs };
 }
 
 function polyPath(p: Polygon, sx: (v: number) => number, sy: (v: number) => number): string {
@@ -74,6 +159,31 @@ function polyPath(p: Polygon, sx: (v: number) => number, sy: (v: number) => numb
   p.forEach(([x, y], k) => (k ? ctx.lineTo(sx(x), sy(y)) : ctx.moveTo(sx(x), sy(y))));
   ctx.closePath();
   return ctx.toString();
+}
+
+/**
+ * Palette index per slice polygon (same order as `slice.polygons`): one colour per law, active set
+ * or region, adjacent polygons with different keys never alike. `keys` are the colouring keys,
+ * `neighbours` the edge-adjacency lists, `distinct` whether every key got its own colour.
+ */
+export function sliceColours(
+  table: TableFile,
+  slice: Pick<AnalysedSlice, 'spec' | 'polygons'>,
+  colourBy: ColourBy,
+): { keys: string[]; colour: number[]; neighbours: number[][]; distinct: boolean } {
+  const { spec, polygons } = slice;
+  const keys = polygons.map((p) => {
+    const r = table.regions[p.index];
+    return colourBy === 'law' ? lawKey(r.law) : colourBy === 'active' ? r.activeSet.join(',') : String(r.id);
+  });
+  const scale = Math.max(spec.rect.x1 - spec.rect.x0, spec.rect.y1 - spec.rect.y0);
+  const c = colourByKey(
+    polygons.map((p) => p.polygon),
+    keys,
+    tol.inside * 100 * Math.max(1, scale),
+    polygons.map((p) => p.area),
+  );
+  return { keys, ...c };
 }
 
 /**
@@ -102,17 +212,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   const out: string[] = [];
   const push = (s: string) => out.push(s);
 
-  const keys = polygons.map((p) => {
-    const r = table.regions[p.index];
-    return colourBy === 'law' ? lawKey(r.law) : colourBy === 'active' ? r.activeSet.join(',') : String(r.id);
-  });
-  const scale = Math.max(spec.rect.x1 - spec.rect.x0, spec.rect.y1 - spec.rect.y0);
-  const { colour, neighbours, distinct } = colourByKey(
-    polygons.map((p) => p.polygon),
-    keys,
-    tol.inside * 100 * Math.max(1, scale),
-    polygons.map((p) => p.area),
-  );
+  const { keys, colour, neighbours, distinct } = sliceColours(table, slice, colourBy);
   const holeCount = gaps.holeGroups.length;
   const holeArea = gaps.areas.holes;
 
@@ -156,67 +256,19 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
   push(`<g clip-path="url(#plot)">`);
   push(`<rect x="${m.left}" y="${m.top}" width="${pw}" height="${ph}" fill="#ffffff"/>`);
   let heatRange: [number, number] | null = null;
-  const heatInterp = interpolateRgbBasis(['#fbf3dc', '#f0b45d', '#c8584a', '#6d2b6e', '#22184a']);
   if (opts.heat) {
-    const cells = opts.heat.cells ?? 160;
-    // A cell takes the value at its centre, from the law of the region holding the centre. A cell
-    // whose centre lies in no region but that straddles the covered set takes the value at the
-    // first of a 4×4 grid of points inside it that some region holds, from that region's law at
-    // that point: a law is never extrapolated outside its region (extrapolated laws of thin regions
-    // ran far past the input limits and stretched the scale). The layer is clipped to the covered
-    // polygons, so the edge follows the exact boundary; the scale comes only from these values.
-    const SUB = 4;
-    const cellValue = (c: number, r: number): number | null => {
-      const at = (fc: number, fr: number) =>
-        opts.heat!.value(spec.rect.x0 + ((c + fc) / cells) * (spec.rect.x1 - spec.rect.x0), spec.rect.y0 + ((r + fr) / cells) * (spec.rect.y1 - spec.rect.y0));
-      const v = at(0.5, 0.5);
-      if (v !== null) return v;
-      for (let a = 0; a < SUB; a++)
-        for (let b = 0; b < SUB; b++) {
-          const w = at((a + 0.5) / SUB, (b + 0.5) / SUB);
-          if (w !== null) return w;
-        }
-      return null;
-    };
-    const vals: (number | null)[] = [];
-    let lo = Infinity;
-    let hi = -Infinity;
-    for (let r = 0; r < cells; r++)
-      for (let c = 0; c < cells; c++) {
-        const v = cellValue(c, r);
-        vals.push(v);
-        if (v !== null) {
-          lo = Math.min(lo, v);
-          hi = Math.max(hi, v);
-        }
-      }
-    if (lo <= hi) {
-      heatRange = [lo, hi === lo ? lo + 1 : hi];
-      const cs = scaleSequential(heatInterp).domain(heatRange);
-      const bins = 48;
-      const bin = (v: number) => Math.min(bins - 1, Math.floor(((v - heatRange![0]) / (heatRange![1] - heatRange![0])) * bins));
-      const cw = pw / cells;
-      const ch = ph / cells;
+    const grid = heatGrid(spec, opts.heat);
+    if (grid.range) {
+      heatRange = grid.range;
+      const cs = scaleSequential(heatInterpolator).domain(heatRange);
+      const cw = pw / grid.cells;
+      const ch = ph / grid.cells;
       push(`<clipPath id="covered">${polygons.map((p) => `<path d="${polyPath(p.polygon, sx, sy)}"/>`).join('')}</clipPath>`);
       push(`<g class="heat" shape-rendering="crispEdges" clip-path="url(#covered)">`);
-      for (let r = 0; r < cells; r++) {
-        let c = 0;
-        while (c < cells) {
-          const v = vals[r * cells + c];
-          if (v === null) {
-            c++;
-            continue;
-          }
-          const b = bin(v);
-          let e = c + 1;
-          while (e < cells && vals[r * cells + e] !== null && bin(vals[r * cells + e]!) === b) e++;
-          const mid = heatRange[0] + ((b + 0.5) / bins) * (heatRange[1] - heatRange[0]);
-          push(
-            `<rect x="${(m.left + c * cw).toFixed(2)}" y="${(m.top + ph - (r + 1) * ch).toFixed(2)}" width="${((e - c) * cw + 0.3).toFixed(2)}" height="${(ch + 0.3).toFixed(2)}" fill="${cs(mid)}"/>`,
-          );
-          c = e;
-        }
-      }
+      for (const { row: r, c0: c, c1: e, value } of grid.runs)
+        push(
+          `<rect x="${(m.left + c * cw).toFixed(2)}" y="${(m.top + ph - (r + 1) * ch).toFixed(2)}" width="${((e - c) * cw + 0.3).toFixed(2)}" height="${(ch + 0.3).toFixed(2)}" fill="${cs(value)}"/>`,
+        );
       push(`</g>`);
     }
   }
@@ -328,14 +380,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
       colour.forEach((c, k) => (seen.has(c) ? null : seen.set(c, k)));
       for (const [c, k] of [...seen.entries()].sort((a, b) => a[0] - b[0])) {
         const r = table.regions[polygons[k].index];
-        const full =
-          colourBy === 'law'
-            ? r.law.F.map((row, i) => `${table.inputNames[i] ?? `u${i + 1}`}(0) = ${formatAffine(row, r.law.g[i], names)}`).join('; ')
-            : colourBy === 'active'
-              ? r.activeSet.length
-                ? r.activeSet.map((q) => table.constraints[q] ?? `row ${q}`).join(', ')
-                : 'none active'
-              : `region ${r.id}`;
+        const full = colourBy === 'law' ? lawText(table, r) : colourBy === 'active' ? (r.activeSet.length ? activeSetText(table, r) : 'none active') : `region ${r.id}`;
         const short = full.length > 37 ? full.slice(0, 36) + '…' : full;
         push(
           `<g class="legend-key"><rect x="${lx}" y="${ly - 11}" width="22" height="14" fill="${paletteColour(c)}" stroke="#3c3c3c" stroke-width="0.6"/><text x="${lx + 30}" y="${ly}" font-size="11">${esc(short)}<title>${esc(full)}</title></text></g>`,
@@ -380,7 +425,7 @@ export function renderMapSvg(table: TableFile, slice: AnalysedSlice, opts: MapOp
     ly += 8;
     const bw = 180;
     const gid = 'heatbar';
-    const stops = Array.from({ length: 11 }, (_, k) => `<stop offset="${k * 10}%" stop-color="${heatInterp(k / 10)}"/>`).join('');
+    const stops = Array.from({ length: 11 }, (_, k) => `<stop offset="${k * 10}%" stop-color="${heatInterpolator(k / 10)}"/>`).join('');
     push(`<defs><linearGradient id="${gid}">${stops}</linearGradient></defs>`);
     push(`<rect class="heat-scale" data-min="${heatRange[0]}" data-max="${heatRange[1]}" x="${lx}" y="${ly}" width="${bw}" height="12" fill="url(#${gid})" stroke="#666" stroke-width="0.5"/>`);
     const hs = scaleLinear().domain(heatRange).range([lx, lx + bw]);

@@ -40,6 +40,7 @@ interface Panel {
   soft?: boolean;
 }
 
+/** Time plots of simulated runs (outputs/states, inputs with their limits, region index) as one standalone SVG string. */
 export function renderTimePlotSvg(runs: RunResult[], opts: TimePlotOptions): string {
   const { names, limits } = opts;
   const W = opts.width ?? 940;

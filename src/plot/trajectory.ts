@@ -4,6 +4,7 @@
  * region (the controller would have no law).
  */
 import type { TableFile } from '../table/format.js';
+import { InputError } from '../io/input-error.js';
 import { plantOf, simulateFromTheta } from '../check/simulate.js';
 import type { Trajectory } from './svg.js';
 
@@ -16,6 +17,10 @@ export interface PlantModel {
   Cd?: number[][] | null;
 }
 
+/**
+ * Closed loop from `theta0` (nθ entries, θ units) for at most `steps` sampling periods under the
+ * table law; stops early when θ leaves every region. Returns new θ vectors, first the start.
+ */
 export function simulateClosedLoop(table: TableFile, plant: PlantModel, theta0: number[], steps: number): Trajectory {
   const C = plant.C ?? plant.A.map((row, i) => row.map((_, j) => (i === j ? 1 : 0)));
   const run = simulateFromTheta(
@@ -39,4 +44,27 @@ function nextTheta(run: ReturnType<typeof simulateFromTheta>, table: TableFile):
     }
   }
   return th;
+}
+
+/**
+ * Parse initial states: CSV, one per line, either a full θ (nθ values) or (axis₁, axis₂) of a slice
+ * (2 values); blank lines and `#` comments skipped, an optional header line. `file` names the source in errors.
+ */
+export function parseInitialStates(text: string, file: string, ntheta: number): number[][] {
+  const rows: number[][] = [];
+  text.split(/\r?\n/).forEach((line, i) => {
+    const s = line.trim();
+    if (!s || s.startsWith('#')) return;
+    const cells = s.split(',').map((c) => c.trim());
+    const nums = cells.map(Number);
+    if (nums.some((x) => !Number.isFinite(x))) {
+      if (rows.length === 0 && i === 0) return; // header
+      throw new InputError(file, `line ${i + 1}`, `not a list of numbers: "${s}"`);
+    }
+    if (nums.length !== ntheta && nums.length !== 2)
+      throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (a full θ) or 2 (a point of the slice), got ${nums.length}`);
+    rows.push(nums);
+  });
+  if (!rows.length) throw new InputError(file, '', 'no initial states found');
+  return rows;
 }

@@ -2,7 +2,7 @@
  * Field-level checks for the problem file. Each failure throws an InputError naming the file,
  * the key path (e.g. `plant.A[1][0]`) and the reason, on one line.
  */
-import { InputError } from '../io/errors.js';
+import { InputError } from '../io/input-error.js';
 import { tol } from '../tol.js';
 import { isPositiveDefinite, maxAbs, minEigenvalueSymmetric, type Mat } from './dense.js';
 

@@ -1,7 +1,5 @@
-import { readFileSync } from 'node:fs';
-import { basename, extname } from 'node:path';
 import { parseDocument } from 'yaml';
-import { InputError } from '../io/errors.js';
+import { InputError } from '../io/input-error.js';
 import { findDuplicateKey } from '../io/duplicate-keys.js';
 import { tol } from '../tol.js';
 import { Checker, describe, join, type Obj } from './check.js';
@@ -27,20 +25,30 @@ const NAME_KEYS = ['states', 'inputs', 'outputs', 'disturbances'] as const;
 const TERMINAL_WORDS = ['riccati', 'stage', 'none'] as const;
 const NAME_PATTERN = /^[A-Za-z_][A-Za-z0-9_]*$/;
 
-/** Read a problem file (JSON; `.yaml`/`.yml` through the `yaml` package) and validate it. */
-export function loadProblem(path: string): LoadedProblem {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    const code = (e as NodeJS.ErrnoException).code ?? String(e);
-    throw new InputError(path, '', `cannot read the problem file (${code})`);
-  }
-  const ext = extname(path).toLowerCase();
-  const raw = ext === '.yaml' || ext === '.yml' ? parseYaml(text, path) : parseJson(text, path);
+/** Extension of a file name, lower case with the dot ("" when none); pure stand-in for path.extname. */
+function fileExtension(file: string): string {
+  const base = file.slice(file.lastIndexOf('/') + 1);
+  const dot = base.lastIndexOf('.');
+  return dot > 0 ? base.slice(dot).toLowerCase() : '';
+}
+
+/** Base name without its extension; pure stand-in for path.basename(file, path.extname(file)). */
+function fileStem(file: string): string {
+  const base = file.slice(file.lastIndexOf('/') + 1);
+  const dot = base.lastIndexOf('.');
+  return dot > 0 ? base.slice(0, dot) : base;
+}
+
+/**
+ * Parse and validate the text of a problem file: YAML when `file` ends in `.yaml`/`.yml`, JSON
+ * otherwise. `file` names the source in error messages and gives the default problem name.
+ */
+export function parseProblemText(text: string, file: string): LoadedProblem {
+  const ext = fileExtension(file);
+  const raw = ext === '.yaml' || ext === '.yml' ? parseYaml(text, file) : parseJson(text, file);
   const dup = findDuplicateKey(text);
-  if (dup) throw new InputError(path, dup.path, `key given twice (again at line ${dup.line} column ${dup.column}); remove one`);
-  return parseProblem(raw, path);
+  if (dup) throw new InputError(file, dup.path, `key given twice (again at line ${dup.line} column ${dup.column}); remove one`);
+  return parseProblem(raw, file);
 }
 
 function lineColumn(text: string, pos: number): string {
@@ -462,7 +470,7 @@ function parseDirectMpqp(c: Checker, top: Obj, file: string): LoadedProblem {
 
 /** The problem's `name` (else the file's base name); checks `description` too. */
 function problemName(c: Checker, top: Obj, file: string): string {
-  let name = basename(file, extname(file));
+  let name = fileStem(file);
   if (top.name !== undefined) {
     name = c.string(top.name, 'name');
     if (name.trim() === '') c.fail('name', 'expected a non-empty string');

@@ -1,4 +1,4 @@
-import { createHash } from 'node:crypto';
+import { sha256Hex } from '../util/sha256.js';
 import type { LoadedProblem } from '../problem/types.js';
 import type { MpqpProblem, Partition } from '../mpqp/types.js';
 import { tol } from '../tol.js';
@@ -19,8 +19,9 @@ export function canonicalJson(value: unknown): string {
   return JSON.stringify(value);
 }
 
+/** "sha256:<hex>" of the canonical JSON (keys sorted) of a problem document: what a table records as `problemHash`. */
 export function problemHash(raw: unknown): string {
-  return `sha256:${createHash('sha256').update(canonicalJson(raw)).digest('hex')}`;
+  return `sha256:${sha256Hex(canonicalJson(raw))}`;
 }
 
 /** Assemble the table file from the problem as read, its formulation (mpQP and layout) and the computed partition. */

@@ -1,5 +1,4 @@
-import { InputError, readTextInput } from '../io/errors.js';
-import { writeFileAtomic } from '../io/atomic.js';
+import { InputError } from '../io/input-error.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './format.js';
@@ -10,20 +9,18 @@ export function tableToJson(table: TableFile): string {
   return JSON.stringify(table, null, 1) + '\n';
 }
 
-export function writeTableFile(path: string, table: TableFile): void {
-  writeFileAtomic(path, tableToJson(table));
-}
-
-/** Read and check a table file; every failure is an InputError naming the file and key. */
-export function readTableFile(path: string): TableFile {
-  const text = readTextInput(path, 'table file');
+/**
+ * Parse and check the text of a table file (what `tableToJson` wrote). `file` only names the
+ * source in error messages. Every failure is an InputError naming the file and key.
+ */
+export function parseTableJson(text: string, file: string): TableFile {
   let raw: unknown;
   try {
     raw = JSON.parse(text);
   } catch (e) {
-    throw new InputError(path, '', `not valid JSON (${(e as Error).message})`);
+    throw new InputError(file, '', `not valid JSON (${(e as Error).message})`);
   }
-  return checkTable(raw, path);
+  return checkTable(raw, file);
 }
 
 /** Validate the structure of a parsed table object (dimensions of every region). */
@@ -80,6 +77,11 @@ export interface Evaluation {
   u: number[] | null; // u(0), null when region = −1
 }
 
+/**
+ * u(0) at one θ (nθ entries, the table's units and order) by sequential location at the table
+ * tolerance: `region` is the index into `table.regions`, −1 (and `u` null) when no region holds θ
+ * (outside the box, infeasible, a hole, or a NaN entry). `u` is a new array.
+ */
 export function evaluateTable(table: TableFile, theta: ArrayLike<number>): Evaluation {
   if (theta.length !== table.dims.ntheta) throw new Error(`θ has ${theta.length} entries, the table expects ${table.dims.ntheta}`);
   const region = locateRegion(table.regions, theta, tol.inside, table.box);

@@ -10,17 +10,9 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { parseProblem } from '../../src/problem/index.js';
-import { formulate } from '../../src/formulation/index.js';
-import { solvePartition } from '../../src/mpqp/solve.js';
-import { makeTable } from '../../src/table/build.js';
-import { locateSequential } from '../../src/table/table.js';
-import { emit, emitC, treeForTable } from '../../src/emit/index.js';
+import { emit, emitC, locateSequential, locateTree, parseProblem, sampleBox, solveProblem, treeForTable, type MpqpProblem } from '../../src/index.js';
 import { quantizeTheta, type FixedBuild } from '../../src/emit/fixed.js';
-import { locateTree } from '../../src/partition/tree.js';
-import { sampleBox } from '../../src/emit/sample.js';
 import { formatReal } from '../../src/emit/targets/c.js';
-import type { MpqpProblem } from '../../src/mpqp/types.js';
 
 const require = createRequire(import.meta.url);
 // eslint-disable-next-line @typescript-eslint/no-explicit-any
@@ -123,10 +115,7 @@ export function makeQp(problem: MpqpProblem) {
 
 export async function run(): Promise<void> {
   const t0 = Date.now();
-  const loaded = parseProblem(WINCH, 'winch-drum (bench)');
-  const formulation = formulate(loaded);
-  const { mpqp } = formulation;
-  const table = makeTable(loaded, formulation, solvePartition(mpqp, { timeLimit: 300 }));
+  const { mpqp, table } = solveProblem(parseProblem(WINCH, 'winch-drum (bench)'), { timeLimit: 300 });
   const R = table.regions.length;
   const solveS = (Date.now() - t0) / 1000;
   const t1 = Date.now();

@@ -5,13 +5,10 @@
  */
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { loadProblem, parseProblem } from '../../src/problem/index.js';
-import { buildMpqp, formulate } from '../../src/formulation/index.js';
-import { solvePartition } from '../../src/mpqp/solve.js';
+import { buildMpqp, formulate, loadProblem, parseProblem, solvePartition, type MpqpProblem } from '../../src/index.js';
 import { chebyshevBall } from '../../src/lp/kernel.js';
 import { luSolve } from '../../src/linalg/dense.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
-import type { MpqpProblem } from '../../src/mpqp/types.js';
 
 const root = join(import.meta.dirname, '..', '..');
 

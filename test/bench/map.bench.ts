@@ -2,9 +2,7 @@
  * Timing of the slice and coverage machinery on the example problems: slice + classify + SVG
  * for one map, and the whole-box coverage check (Monte Carlo N = 20000, seed 1, plus facet probes).
  */
-import { analyseCoverage, analyseSlice } from '../../src/check/gaps.js';
-import { makeSliceSpec } from '../../src/partition/slice.js';
-import { renderMapSvg } from '../../src/plot/svg.js';
+import { analyseCoverage, analyseSlice, makeSliceSpec, renderMapSvg } from '../../src/index.js';
 import { exampleFiles, solved } from '../helpers/solved.js';
 
 function time<T>(f: () => T, reps: number): { ms: number; out: T } {

@@ -3,15 +3,9 @@ import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { afterAll } from 'vitest';
 import { createHash } from 'node:crypto';
-import { writeFileAtomic } from '../../src/io/atomic.js';
 import { tmpdir } from 'node:os';
 import { isAbsolute, join } from 'node:path';
-import { loadProblem } from '../../src/problem/index.js';
-import { formulate } from '../../src/formulation/index.js';
-import { solvePartition } from '../../src/mpqp/solve.js';
-import { makeTable } from '../../src/table/build.js';
-import type { TableFile } from '../../src/table/format.js';
-import type { MpqpProblem } from '../../src/mpqp/types.js';
+import { formulate, loadProblem, solveProblem, writeFileAtomic, type MpqpProblem, type TableFile } from '../../src/index.js';
 
 /** Every problem file in examples/ (the project's own scenarios). */
 export const EXAMPLES = readdirSync(join(import.meta.dirname, '../../examples'))
@@ -61,7 +55,7 @@ export function exampleTable(file: string): { table: TableFile; mpqp: MpqpProble
     let table: TableFile;
     if (existsSync(cached)) table = JSON.parse(readFileSync(cached, 'utf8')) as TableFile;
     else {
-      table = makeTable(loaded, formulation, solvePartition(mpqp, {}));
+      table = solveProblem(loaded).table;
       // drop tables of this problem solved by an older engine
       for (const f of readdirSync(tmpdir())) if (f.startsWith(stem) && f.endsWith('.table.json')) rmSync(join(tmpdir(), f), { force: true });
       writeFileAtomic(cached, JSON.stringify(table));

@@ -1,13 +1,6 @@
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { loadProblem } from '../../src/problem/index.js';
-import { formulate } from '../../src/formulation/index.js';
-import { solvePartition } from '../../src/mpqp/solve.js';
-import { makeTable } from '../../src/table/build.js';
-import { checkTable, tableToJson } from '../../src/table/table.js';
-import type { TableFile } from '../../src/table/format.js';
-import type { MpqpProblem, Partition } from '../../src/mpqp/types.js';
-import type { LoadedProblem } from '../../src/problem/types.js';
+import { loadProblem, parseTableJson, solveProblem, tableToJson, type LoadedProblem, type MpqpProblem, type Partition, type TableFile } from '../../src/index.js';
 
 export const root = join(import.meta.dirname, '..', '..');
 /**
@@ -36,12 +29,8 @@ const cache = new Map<string, Solved>();
 export function solved(file: string): Solved {
   const hit = cache.get(file);
   if (hit) return hit;
-  const loaded = loadProblem(file);
-  const formulation = formulate(loaded);
-  const { mpqp } = formulation;
-  const partition = solvePartition(mpqp);
-  const table = checkTable(JSON.parse(tableToJson(makeTable(loaded, formulation, partition))), file);
-  const s = { loaded, mpqp, partition, table };
+  const { loaded, mpqp, partition, table: built } = solveProblem(loadProblem(file));
+  const s = { loaded, mpqp, partition, table: parseTableJson(tableToJson(built), file) };
   cache.set(file, s);
   return s;
 }

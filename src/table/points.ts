@@ -1,0 +1,79 @@
+/** Points in, evaluations out: the text formats of `tessera evaluate`, pure (the caller reads files). */
+import { InputError } from '../io/input-error.js';
+import { applyAffine, evaluateTable } from './table.js';
+import type { TableFile } from './format.js';
+
+/**
+ * Parse a points CSV: one θ per line (nθ comma-separated finite numbers, in the table's θ units and
+ * order), blank lines and `#` comments skipped, an optional first line of names. `file` names the
+ * source in errors. Returns fresh arrays the caller owns.
+ */
+export function parsePointsCsv(text: string, file: string, ntheta: number): number[][] {
+  const lines = text.split(/\r?\n/).map((l) => l.trim());
+  const points: number[][] = [];
+  let first = true;
+  lines.forEach((line, i) => {
+    if (line === '' || line.startsWith('#')) return;
+    const cells = line.split(',').map((c) => c.trim());
+    const nums = cells.map(Number);
+    if (first) {
+      first = false;
+      // a header is a line of names: no cell of it reads as a number
+      if (cells.every((c, k) => c === '' || Number.isNaN(nums[k]))) {
+        if (cells.length !== ntheta) throw new InputError(file, `line ${i + 1}`, `header has ${cells.length} names, θ has ${ntheta} entries`);
+        return;
+      }
+    }
+    if (cells.length !== ntheta) throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (θ has ${ntheta} entries), got ${cells.length}`);
+    nums.forEach((v, k) => {
+      if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(file, `line ${i + 1}, column ${k + 1}`, `"${cells[k]}" is not a finite number`);
+    });
+    points.push(nums);
+  });
+  return points;
+}
+
+/** One evaluated point: θ as given, the region index (−1 = none) and u(0) (null when none). */
+export interface PointEvaluation {
+  theta: number[];
+  region: number;
+  u: number[] | null;
+  /**
+   * only for tables with soft limits: the slack values at θ by name (null in no region, and in a
+   * merged region, whose stored moves are exact on one member only)
+   */
+  slacks?: Record<string, number> | null;
+}
+
+/**
+ * Evaluate the table law at each θ (sequential location, table tolerance). Each θ has nθ entries;
+ * `theta` of each result is the caller's array, `u` and `slacks` are new.
+ */
+export function evaluatePoints(table: TableFile, points: number[][]): PointEvaluation[] {
+  // slack values: the z entries of the layout's slack blocks, from the region's stored moves
+  const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
+  return points.map((p) => {
+    const e = evaluateTable(table, p);
+    if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
+    const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
+    const slacks: Record<string, number> | null = e.region < 0 || merged ? null : {};
+    if (slacks) {
+      const moves = table.regions[e.region].moves;
+      for (const b of slackBlocks) b.names.forEach((nm, i) => (slacks[nm] = applyAffine({ F: [moves.F[b.offset + i]], g: [moves.g[b.offset + i]] }, p)[0]));
+    }
+    return { theta: p, region: e.region, u: e.u, slacks };
+  });
+}
+
+/** Shortest decimal that reads back as the same double. */
+const num = (v: number): string => String(v);
+
+/** CSV of evaluations: header θ names, `region`, input names; empty u cells where no region holds θ. */
+export function evaluationCsv(table: TableFile, points: number[][]): string {
+  const header = [...table.thetaNames, 'region', ...table.inputNames].join(',');
+  const rows = evaluatePoints(table, points).map((e) => {
+    const u = e.u ? e.u.map(num) : table.inputNames.map(() => '');
+    return [...e.theta.map(num), String(e.region), ...u].join(',');
+  });
+  return [header, ...rows].join('\n') + '\n';
+}

@@ -1,0 +1,75 @@
+/**
+ * Problem → table, and table → the mpQP behind it: the two steps every command and library user
+ * repeats. Pure (no file I/O): the caller reads files and prints progress.
+ */
+import { formulate } from '../formulation/index.js';
+import type { Layout } from '../formulation/layout.js';
+import { solvePartition } from '../mpqp/solve.js';
+import type { MpqpProblem, Partition, SolveOptions } from '../mpqp/types.js';
+import { parseProblem } from '../problem/read.js';
+import type { LoadedProblem } from '../problem/types.js';
+import { InputError } from '../io/input-error.js';
+import { makeTable, problemHash } from './build.js';
+import type { TableFile } from './format.js';
+
+/** Everything one solve produces. The caller owns all of it; nothing is shared with later calls. */
+export interface SolvedProblem {
+  /** the problem as read and validated */
+  loaded: LoadedProblem;
+  /** its condensed, conditioned mpQP (dense row-major Float64Arrays, see MpqpProblem) */
+  mpqp: MpqpProblem;
+  /** the θ/z layout of the formulation (also recorded in the table) */
+  layout: Layout;
+  /** the critical regions and exploration statistics */
+  partition: Partition;
+  /** the table file object (`tableToJson` serialises it; it shares `regions` with `partition`) */
+  table: TableFile;
+  /** wall-clock seconds of the exploration (run-dependent, never stored in the table) */
+  seconds: number;
+}
+
+/**
+ * Solve a validated problem (an MPC model or a directly given mpQP): formulate the mpQP, explore its critical regions, assemble the table.
+ * θ, u and the box are in the problem's own units. Bounded runs (`maxRegions`, `timeLimit`,
+ * `shouldStop`) return a table with `stats.complete = false`, never a silently shortened one.
+ */
+export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}): SolvedProblem {
+  const formulation = formulate(loaded);
+  const { mpqp, layout } = formulation;
+  const t0 = performance.now();
+  const partition = solvePartition(mpqp, options);
+  const seconds = (performance.now() - t0) / 1000;
+  return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition), seconds };
+}
+
+/** The problem behind a table, with its mpQP (what feasibility, gaps, maps and trajectories need). */
+export interface TableProblem {
+  loaded: LoadedProblem;
+  mpqp: MpqpProblem;
+  /** false when a separately given problem is not the one the table was built from (hash differs) */
+  sameProblem: boolean;
+}
+
+/** Where the problem behind a table comes from; the names only label error messages. */
+export interface TableProblemOptions {
+  /** name of the table (a path) in messages; default "table" */
+  tableFile?: string;
+  /** a problem read separately (e.g. a revised problem file); default: the table's own echo */
+  problem?: LoadedProblem;
+  /** name of that problem's file in messages */
+  problemFile?: string;
+}
+
+/**
+ * The mpQP that decides feasibility for `table`: `options.problem` when given, else the table's own
+ * echo of the problem it was built from. Throws InputError when the parameter counts differ.
+ */
+export function tableProblem(table: TableFile, options: TableProblemOptions = {}): TableProblem {
+  const tableFile = options.tableFile ?? 'table';
+  const loaded = options.problem ?? parseProblem(table.problem, `${tableFile} (key problem)`);
+  const { mpqp } = formulate(loaded);
+  const sameProblem = !options.problem || !table.problemHash || problemHash(loaded.raw) === table.problemHash;
+  if (mpqp.ntheta !== table.dims.ntheta)
+    throw new InputError(options.problem ? (options.problemFile ?? loaded.name) : tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
+  return { loaded, mpqp, sameProblem };
+}

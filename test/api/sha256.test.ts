@@ -1,0 +1,23 @@
+import { createHash } from 'node:crypto';
+import { describe, expect, it } from 'vitest';
+import { sha256Hex } from '../../src/util/sha256.js';
+import { rng } from '../helpers/solved.js';
+
+describe('sha256Hex (pure, for the browser core)', () => {
+  it('matches the FIPS 180-2 appendix B examples', () => {
+    // FIPS 180-2, appendix B.1 and B.2 (published test vectors)
+    expect(sha256Hex('abc')).toBe('ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad');
+    expect(sha256Hex('abcdbcdecdefdefgefghfghighijhijkijkljklmklmnlmnomnopnopq')).toBe('248d6a61d20638b8e5c026930c3e6039a33ce45964ff2167f6ecedd419db06c1');
+    expect(sha256Hex('')).toBe('e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855');
+  });
+  it('matches node:crypto on seeded strings of every length 0…300 (padding edges) and non-ASCII text', () => {
+    // reference: node:crypto (OpenSSL's SHA-256)
+    const rnd = rng(17);
+    const alphabet = 'abcxyz019 ,.{}"θ∈±√ü\n';
+    for (let len = 0; len <= 300; len++) {
+      let s = '';
+      for (let i = 0; i < len; i++) s += alphabet[Math.floor(rnd() * alphabet.length)];
+      expect(sha256Hex(s), `length ${len}`).toBe(createHash('sha256').update(s).digest('hex'));
+    }
+  });
+});

@@ -4,14 +4,34 @@ import { applyAffine, evaluateTable } from './table.js';
 import type { TableFile } from './format.js';
 
 /**
- * Parse a points CSV: one θ per line (nθ comma-separated finite numbers, in the table's θ units and
- * order), blank lines and `#` comments skipped, an optional first line of names. `file` names the
- * source in errors. Returns fresh arrays the caller owns.
+ * Match a header line to the θ names (contract, `tessera evaluate`): every θ entry named exactly
+ * once, in any order. Returns, for each θ entry, the column that holds it.
  */
-export function parsePointsCsv(text: string, file: string, ntheta: number): number[][] {
+function headerColumns(path: string, line: number, cells: string[], names: string[]): number[] {
+  const key = `line ${line}`;
+  const list = names.join(', ');
+  const seen = new Map<string, number>();
+  cells.forEach((c, k) => {
+    if (!names.includes(c)) throw new InputError(path, key, `unknown column "${c}" in the header (θ is ${list})`);
+    if (seen.has(c)) throw new InputError(path, key, `column "${c}" named twice in the header (columns ${seen.get(c)! + 1} and ${k + 1})`);
+    seen.set(c, k);
+  });
+  const missing = names.filter((n) => !seen.has(n));
+  if (missing.length) throw new InputError(path, key, `header lacks ${missing.map((n) => `"${n}"`).join(', ')} (θ is ${list})`);
+  return names.map((n) => seen.get(n)!);
+}
+
+/**
+ * Parse the points CSV: one θ per line, comma-separated, an optional header line of names. With a
+ * header the columns are matched by name (any order); without one they are θ in table order.
+ * Points are returned in θ order, as fresh arrays the caller owns; `path` names the source in errors.
+ */
+export function parsePointsCsv(text: string, path: string, thetaNames: string[]): number[][] {
+  const ntheta = thetaNames.length;
   const lines = text.split(/\r?\n/).map((l) => l.trim());
   const points: number[][] = [];
   let first = true;
+  let order: number[] | null = null;
   lines.forEach((line, i) => {
     if (line === '' || line.startsWith('#')) return;
     const cells = line.split(',').map((c) => c.trim());
@@ -20,15 +40,15 @@ export function parsePointsCsv(text: string, file: string, ntheta: number): numb
       first = false;
       // a header is a line of names: no cell of it reads as a number
       if (cells.every((c, k) => c === '' || Number.isNaN(nums[k]))) {
-        if (cells.length !== ntheta) throw new InputError(file, `line ${i + 1}`, `header has ${cells.length} names, θ has ${ntheta} entries`);
+        order = headerColumns(path, i + 1, cells, thetaNames);
         return;
       }
     }
-    if (cells.length !== ntheta) throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (θ has ${ntheta} entries), got ${cells.length}`);
+    if (cells.length !== ntheta) throw new InputError(path, `line ${i + 1}`, `expected ${ntheta} values (θ has ${ntheta} entries), got ${cells.length}`);
     nums.forEach((v, k) => {
-      if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(file, `line ${i + 1}, column ${k + 1}`, `"${cells[k]}" is not a finite number`);
+      if (cells[k] === '' || !Number.isFinite(v)) throw new InputError(path, `line ${i + 1}, column ${k + 1}`, `"${cells[k]}" is not a finite number`);
     });
-    points.push(nums);
+    points.push(order ? order.map((k) => nums[k]) : nums);
   });
   return points;
 }

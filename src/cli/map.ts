@@ -17,7 +17,7 @@ import type { LoadedProblem } from '../problem/index.js';
 import { analyseSlice } from '../check/gaps.js';
 import { liftPoint, makeSliceSpec, type SliceSpec } from '../partition/slice.js';
 import { renderMapSvg, type ColourBy, type HeatLayer, type Trajectory } from '../plot/svg.js';
-import { simulateClosedLoop } from '../plot/trajectory.js';
+import { parseInitialStates, simulateClosedLoop } from '../plot/trajectory.js';
 
 const CLI = '(command line)';
 
@@ -69,25 +69,9 @@ export function parseFix(table: TableFile, v: string | undefined, axes: [number,
   return out;
 }
 
-/** Initial states: CSV, one per line, either a full θ or (axis₁, axis₂) of the slice; optional header line. */
+/** Initial states of the trajectories file, through the library's parser. */
 export function readInitialStates(file: string, ntheta: number): number[][] {
-  const text = readTextInput(file, 'initial states');
-  const rows: number[][] = [];
-  text.split(/\r?\n/).forEach((line, i) => {
-    const s = line.trim();
-    if (!s || s.startsWith('#')) return;
-    const cells = s.split(',').map((c) => c.trim());
-    const nums = cells.map(Number);
-    if (nums.some((x) => !Number.isFinite(x))) {
-      if (rows.length === 0 && i === 0) return; // header
-      throw new InputError(file, `line ${i + 1}`, `not a list of numbers: "${s}"`);
-    }
-    if (nums.length !== ntheta && nums.length !== 2)
-      throw new InputError(file, `line ${i + 1}`, `expected ${ntheta} values (a full θ) or 2 (a point of the slice), got ${nums.length}`);
-    rows.push(nums);
-  });
-  if (!rows.length) throw new InputError(file, '', 'no initial states found');
-  return rows;
+  return parseInitialStates(readTextInput(file, 'initial states'), file, ntheta);
 }
 
 export function positiveInt(flag: string) {

@@ -9,7 +9,7 @@ import { applyAffine } from '../table/table.js';
 import { clampInputs } from '../table/clamp.js';
 import { locateRegion } from '../table/locator.js';
 import { tol } from '../tol.js';
-import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, type EmitArrays } from '../emit/arrays.js';
+import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, roundUp, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
 /** Default accepted |u_float − u_double|: this fraction of the widest finite input range (or of 1). */
@@ -58,14 +58,25 @@ export interface FloatBounds {
   /** where: region and input of that maximum, and the law's gain Σ_j |F_ij| */
   inputRoundingAt: { region: number; input: number; gain: number };
   /**
-   * overlap: a θ of region N accepted by its neighbour R within R's slack s on the shared facet a·θ ≤ b
-   * carries |u_R(θ) − u_N(θ)| = |δ|·(a·θ − b) ≤ |δ|·2s (continuity: F_R − F_N = δ aᵀ); max over facets
+   * overlap: a θ of region N placed by best fit in its neighbour R across their shared facet a·θ ≤ b of
+   * R lies beyond it by at most the window η = S_R + S_N (the two regions' slacks, which bound the
+   * rounding of the residuals, see floatBounds), so it carries |u_R(θ) − u_N(θ)| = |δ|·(a·θ − b) ≤ |δ|·η
+   * (continuity: F_R − F_N = δ aᵀ); the largest |δ|·η over every facet with a neighbour
    */
   overlap: number;
-  overlapAt: { region: number; facet: number; neighbour: number; jump: number; slack: number } | null;
+  overlapAt: { region: number; facet: number; neighbour: number; jump: number; window: number } | null;
 }
 
-/** The a-priori bounds of a float build of `table` (the region slack is the build's per-row slack). */
+/**
+ * The a-priori bounds of a float build of `table` (best fit, regionSlack of buildArrays).
+ * Overlap: let θ lie in region N in double (every row a·θ − b ≤ tol.inside) and be placed by the
+ * float build in R ≠ N. ρ_X = max_i (a_i·θ − b_i) is the exact slack-free residual of region X and
+ * ρ̂_X its float value, |ρ̂_X − ρ_X| ≤ ε_X (the rounding of the row test, regionTests), and
+ * S_X ≥ 1.01·(tol.inside + ε_X) its slack. Best fit chose R, so ρ̂_R ≤ ρ̂_N, hence
+ * ρ_R ≤ ρ̂_N + ε_R ≤ ρ_N + ε_N + ε_R ≤ tol.inside + ε_N + ε_R ≤ S_N + S_R =: η. On R's facet shared
+ * with N (a unit), θ on N's side gives 0 ≤ a·θ − b ≤ ρ_R ≤ η, and continuity gives
+ * u_R(θ) − u_N(θ) = δ·(a·θ − b): |Δu| ≤ |δ|·η, |δ| the 2-norm of the jump of F's rows.
+ */
 export function floatBounds(table: TableFile): FloatBounds {
   const m = boxAbsMax(table.box);
   let inputRounding = 0;
@@ -75,6 +86,7 @@ export function floatBounds(table: TableFile): FloatBounds {
   const byId = new Map<number, number>();
   table.regions.forEach((r, k) => byId.set(r.id, k));
   const tests = regionTests(table, 'float');
+  const regionSlack = tests.map((t) => roundUp(Math.max(...t.slack)));
   table.regions.forEach((r, k) => {
     r.law.F.forEach((row, i) => {
       let e = 0;
@@ -89,8 +101,7 @@ export function floatBounds(table: TableFile): FloatBounds {
         inputRoundingAt = { region: k, input: i, gain };
       }
     });
-    r.A.forEach((a, i) => {
-      const s = tests[k].slack[i];
+    r.A.forEach((_, i) => {
       for (const id of r.facets?.[i]?.neighbours ?? []) {
         const nk = byId.get(id);
         if (nk === undefined) continue;
@@ -101,9 +112,10 @@ export function floatBounds(table: TableFile): FloatBounds {
           row.forEach((v, j) => (d2 += (v - N.law.F[q][j]) ** 2));
           jump = Math.max(jump, Math.sqrt(d2));
         });
-        if (2 * s * jump > overlap) {
-          overlap = 2 * s * jump;
-          overlapAt = { region: k, facet: i, neighbour: nk, jump, slack: s };
+        const window = regionSlack[k] + regionSlack[nk];
+        if (window * jump > overlap) {
+          overlap = window * jump;
+          overlapAt = { region: k, facet: i, neighbour: nk, jump, window };
         }
       }
     });
@@ -201,9 +213,33 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
   return { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta };
 }
 
-/** The certificate's point set: seeded uniform sample, facet points, extra points. */
+/**
+ * Points in the rounding window of every facet shared with a neighbour: the Chebyshev centre pushed
+ * exactly onto the facet's plane and to ± the float test's slack of that row (regionTests), where a
+ * float build decides between the two regions by rounding — the points that measure the relocation
+ * error which the overlap bound (floatBounds) covers.
+ */
+export function windowPoints(table: TableFile): number[][] {
+  const n = table.dims.ntheta;
+  const tests = regionTests(table, 'float');
+  const out: number[][] = [];
+  table.regions.forEach((r, k) => {
+    const c = r.chebyshev.center;
+    r.A.forEach((a, i) => {
+      if (!(r.facets?.[i]?.neighbours?.length)) return;
+      let ac = 0;
+      for (let j = 0; j < n; j++) ac += a[j] * c[j];
+      const dist = r.b[i] - ac;
+      const s = tests[k].slack[i];
+      for (const t of [dist - s, dist, dist + s]) out.push(c.map((cj, j) => cj + t * a[j]));
+    });
+  });
+  return out;
+}
+
+/** The certificate's point set: seeded uniform sample, facet points (with the rounding window of shared facets), extra points. */
 export function certificatePoints(table: TableFile, options: CertifyOptions): { sample: number[][]; facet: number[][]; extra: number[][] } {
-  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: facetPoints(table), extra: options.extraPoints ?? [] };
+  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: [...facetPoints(table), ...windowPoints(table)], extra: options.extraPoints ?? [] };
 }
 
 /**

@@ -65,6 +65,47 @@ export interface FloatBounds {
    */
   overlap: number;
   overlapAt: { region: number; facet: number; neighbour: number; jump: number; window: number } | null;
+  /**
+   * facets shared with a neighbour across which the law is not continuous (the two affine pieces
+   * differ on the facet by more than `threshold`, see facetGap): the overlap bound does not
+   * hold there, and a θ within rounding of such a facet may get either side's law in float (and,
+   * within tol.inside, in double). The optimiser of a strictly convex QP is continuous, so a solved
+   * table has such facets only where its laws are inaccurate (thin, nearly degenerate regions); a
+   * hand-made table may have many.
+   */
+  discontinuous: { count: number; maxGap: number; at: { region: number; facet: number; neighbour: number } | null; threshold: number };
+}
+
+/**
+ * The jump of the law across R's facet a·θ = b toward its neighbour N, at p: R's Chebyshev centre
+ * projected onto the facet's plane, max over inputs of |u_R(p) − u_N(p)|; 0 when p is not within
+ * `near` of N (the contact lies elsewhere, nothing to measure there). Zero up to rounding when the
+ * law is continuous across the facet.
+ */
+export function facetGap(R: TableFile['regions'][number], i: number, N: TableFile['regions'][number], near: number): number {
+  const c = R.chebyshev.center;
+  const a = R.A[i];
+  let ac = 0;
+  for (let j = 0; j < a.length; j++) ac += a[j] * c[j];
+  const t = R.b[i] - ac;
+  const p = c.map((cj, j) => cj + t * a[j]);
+  for (let q = 0; q < N.A.length; q++) {
+    let s = 0;
+    for (let j = 0; j < p.length; j++) s += N.A[q][j] * p[j];
+    if (s - N.b[q] > near) return 0;
+  }
+  const ur = applyAffine(R.law, p);
+  const un = applyAffine(N.law, p);
+  let gap = 0;
+  for (let k = 0; k < ur.length; k++) gap = Math.max(gap, Math.abs(ur[k] - un[k]));
+  return gap;
+}
+
+/** Distance within which a facet point counts as touching the neighbour (facetGap): 10⁻⁶ of the widest box side. */
+function nearFacet(table: TableFile): number {
+  let w = 0;
+  for (let j = 0; j < table.dims.ntheta; j++) w = Math.max(w, table.box.upper[j] - table.box.lower[j]);
+  return 1e-6 * w;
 }
 
 /**
@@ -77,12 +118,14 @@ export interface FloatBounds {
  * with N (a unit), θ on N's side gives 0 ≤ a·θ − b ≤ ρ_R ≤ η, and continuity gives
  * u_R(θ) − u_N(θ) = δ·(a·θ − b): |Δu| ≤ |δ|·η, |δ| the 2-norm of the jump of F's rows.
  */
-export function floatBounds(table: TableFile): FloatBounds {
+export function floatBounds(table: TableFile, threshold: number = defaultTolerance(table)): FloatBounds {
   const m = boxAbsMax(table.box);
   let inputRounding = 0;
   let inputRoundingAt = { region: -1, input: -1, gain: 0 };
   let overlap = 0;
   let overlapAt: FloatBounds['overlapAt'] = null;
+  const discontinuous: FloatBounds['discontinuous'] = { count: 0, maxGap: 0, at: null, threshold };
+  const near = nearFacet(table);
   const byId = new Map<number, number>();
   table.regions.forEach((r, k) => byId.set(r.id, k));
   const tests = regionTests(table, 'float');
@@ -106,6 +149,16 @@ export function floatBounds(table: TableFile): FloatBounds {
         const nk = byId.get(id);
         if (nk === undefined) continue;
         const N = table.regions[nk];
+        const gap = facetGap(r, i, N, near);
+        if (gap > threshold) {
+          // not continuous across this facet: no Lipschitz bound here (counted apart)
+          discontinuous.count++;
+          if (gap > discontinuous.maxGap) {
+            discontinuous.maxGap = gap;
+            discontinuous.at = { region: k, facet: i, neighbour: nk };
+          }
+          continue;
+        }
         let jump = 0;
         r.law.F.forEach((row, q) => {
           let d2 = 0;
@@ -120,7 +173,7 @@ export function floatBounds(table: TableFile): FloatBounds {
       }
     });
   });
-  return { inputRounding, inputRoundingAt, overlap, overlapAt };
+  return { inputRounding, inputRoundingAt, overlap, overlapAt, discontinuous };
 }
 
 /** How the default tolerance is derived, for `--help` and the report. */
@@ -219,14 +272,21 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
  * float build decides between the two regions by rounding — the points that measure the relocation
  * error which the overlap bound (floatBounds) covers.
  */
-export function windowPoints(table: TableFile): number[][] {
+export function windowPoints(table: TableFile, threshold: number = defaultTolerance(table)): number[][] {
   const n = table.dims.ntheta;
   const tests = regionTests(table, 'float');
+  const byId = new Map<number, number>();
+  table.regions.forEach((r, k) => byId.set(r.id, k));
+  const near = nearFacet(table);
   const out: number[][] = [];
   table.regions.forEach((r, k) => {
     const c = r.chebyshev.center;
     r.A.forEach((a, i) => {
-      if (!(r.facets?.[i]?.neighbours?.length)) return;
+      const nbs = (r.facets?.[i]?.neighbours ?? []).map((id) => byId.get(id)).filter((x): x is number => x !== undefined);
+      if (!nbs.length) return;
+      // only where the law is continuous: across a jump of the law itself, a θ within rounding of
+      // the facet has no float-safe answer (floatBounds counts those facets apart)
+      if (nbs.some((nk) => facetGap(r, i, table.regions[nk], near) > threshold)) return;
       let ac = 0;
       for (let j = 0; j < n; j++) ac += a[j] * c[j];
       const dist = r.b[i] - ac;
@@ -239,7 +299,11 @@ export function windowPoints(table: TableFile): number[][] {
 
 /** The certificate's point set: seeded uniform sample, facet points (with the rounding window of shared facets), extra points. */
 export function certificatePoints(table: TableFile, options: CertifyOptions): { sample: number[][]; facet: number[][]; extra: number[][] } {
-  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: [...facetPoints(table), ...windowPoints(table)], extra: options.extraPoints ?? [] };
+  return {
+    sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1),
+    facet: [...facetPoints(table), ...windowPoints(table, options.tolerance ?? defaultTolerance(table))],
+    extra: options.extraPoints ?? [],
+  };
 }
 
 /**
@@ -320,11 +384,14 @@ export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evalu
     diagnosis = parts.join('; ');
   }
   const total = sample.length + facet.length + extra.length;
-  const bounds = floatBounds(table);
+  const bounds = floatBounds(table, tolerance);
   const verdict = safe
     ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the ${prec} build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in ${prec}` +
       (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '') +
-      (prec === 'float' ? `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}` : '')
+      (prec === 'float' ? `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}` : '') +
+      (bounds.discontinuous.count > 0
+        ? `; note: the law jumps by up to ${bounds.discontinuous.maxGap.toPrecision(3)} across ${bounds.discontinuous.count} facets (region ${bounds.discontinuous.at!.region} facet ${bounds.discontinuous.at!.facet} to region ${bounds.discontinuous.at!.neighbour}), where a θ within rounding of the facet may get either side's law`
+        : '')
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
       [maxAbsDiff > tolerance ? `max |u_build - u_table| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in ${prec}` : '']
         .filter(Boolean)

@@ -78,11 +78,11 @@ export interface FloatBounds {
 
 /**
  * The jump of the law across R's facet a·θ = b toward its neighbour N, at p: R's Chebyshev centre
- * projected onto the facet's plane, max over inputs of |u_R(p) − u_N(p)|; 0 when p is not within
- * `near` of N (the contact lies elsewhere, nothing to measure there). Zero up to rounding when the
- * law is continuous across the facet.
+ * projected onto the facet's plane, max over inputs of |u_R(p) − u_N(p)|; null when p is not within
+ * `near` of N (the contact lies elsewhere: not measured). Zero up to rounding when the law is
+ * continuous across the facet.
  */
-export function facetGap(R: TableFile['regions'][number], i: number, N: TableFile['regions'][number], near: number): number {
+export function facetGap(R: TableFile['regions'][number], i: number, N: TableFile['regions'][number], near: number): number | null {
   const c = R.chebyshev.center;
   const a = R.A[i];
   let ac = 0;
@@ -92,7 +92,7 @@ export function facetGap(R: TableFile['regions'][number], i: number, N: TableFil
   for (let q = 0; q < N.A.length; q++) {
     let s = 0;
     for (let j = 0; j < p.length; j++) s += N.A[q][j] * p[j];
-    if (s - N.b[q] > near) return 0;
+    if (s - N.b[q] > near) return null;
   }
   const ur = applyAffine(R.law, p);
   const un = applyAffine(N.law, p);
@@ -150,7 +150,7 @@ export function floatBounds(table: TableFile, threshold: number = defaultToleran
         if (nk === undefined) continue;
         const N = table.regions[nk];
         const gap = facetGap(r, i, N, near);
-        if (gap > threshold) {
+        if (gap !== null && gap > threshold) {
           // not continuous across this facet: no Lipschitz bound here (counted apart)
           discontinuous.count++;
           if (gap > discontinuous.maxGap) {
@@ -286,7 +286,14 @@ export function windowPoints(table: TableFile, threshold: number = defaultTolera
       if (!nbs.length) return;
       // only where the law is continuous: across a jump of the law itself, a θ within rounding of
       // the facet has no float-safe answer (floatBounds counts those facets apart)
-      if (nbs.some((nk) => facetGap(r, i, table.regions[nk], near) > threshold)) return;
+      // (and only where that was checked: the facet point must touch the neighbour)
+      if (
+        nbs.some((nk) => {
+          const gap = facetGap(r, i, table.regions[nk], near);
+          return gap === null || gap > threshold;
+        })
+      )
+        return;
       let ac = 0;
       for (let j = 0; j < n; j++) ac += a[j] * c[j];
       const dist = r.b[i] - ac;

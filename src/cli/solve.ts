@@ -69,7 +69,7 @@ export function register(program: Command): void {
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
     .option('--setup-limit <MiB>', 'refuse problems whose condensed set-up is estimated above this many MiB (default 2048)', positive('--setup-limit', false), 2048)
     .option('--force', 'set up the problem even above --setup-limit')
-    .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about 3× smaller; map --heat cost and the audit stability check then need a full table)')
+    .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
     .option('-q, --quiet', 'print nothing but errors')
     .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; lean?: boolean }) => {
       const tStart = performance.now();

@@ -26,7 +26,7 @@ export { formulate, buildMpqp, type Formulation } from './formulation/index.js';
 export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition } from './mpqp/types.js';
 
 // solving
-export { solveProblem, tableProblem, type SolvedProblem, type TableProblem, type TableProblemOptions } from './table/solve.js';
+export { solveProblem, formulateFeasible, setupSize, tableProblem, type SolvedProblem, type SetupSize, type TableProblem, type TableProblemOptions } from './table/solve.js';
 export { solvePartition } from './mpqp/solve.js';
 export { makeTable, problemHash } from './table/build.js';
 
@@ -51,7 +51,7 @@ export { area, centroid, ccw, convexContains, type Point, type Polygon } from '.
 export { drawMap, type MapRequest, type DrawnMap } from './plot/map.js';
 export { renderMapSvg, describeRegion, formatAffine, activeSetText, lawText, sliceColours, heatGrid, heatInterpolator } from './plot/svg.js';
 export type { ColourBy, HeatLayer, HeatGrid, MapOptions, MapResult, Trajectory } from './plot/svg.js';
-export { heatLayer, quadraticAt, isMergedTable } from './plot/heat.js';
+export { heatLayer, quadraticAt, isMergedTable, LEAN_NO_COST } from './plot/heat.js';
 export { colourByKey, lawKey, paletteColour, REGION_PALETTE, HOLE_FILL, HOLE_STROKE, INFEASIBLE_FILL, INFEASIBLE_HATCH } from './plot/colour.js';
 export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/trajectory.js';
 

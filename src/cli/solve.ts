@@ -2,15 +2,12 @@ import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import { loadProblem } from '../problem/index.js';
-import { formulate } from '../formulation/index.js';
 import type { Layout } from '../formulation/layout.js';
-import { infeasibleCore } from '../mpqp/infeasible.js';
-import { mergedRowLabel } from '../mpqp/labels.js';
 import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
 import { makeTable } from '../table/build.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
-import { estimateCondensedSize, formatBytes } from '../problem/size.js';
+import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
 import type { SolveWorkerData } from './solve-worker.js';
@@ -72,8 +69,9 @@ export function register(program: Command): void {
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
     .option('--setup-limit <MiB>', 'refuse problems whose condensed set-up is estimated above this many MiB (default 2048)', positive('--setup-limit', false), 2048)
     .option('--force', 'set up the problem even above --setup-limit')
+    .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
     .option('-q, --quiet', 'print nothing but errors')
-    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean }) => {
+    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; lean?: boolean }) => {
       const tStart = performance.now();
       if (opts.lp !== 'kernel' && opts.lp !== 'reference')
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
@@ -81,35 +79,24 @@ export function register(program: Command): void {
       const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: 'a JSON table' });
       const loaded = loadProblem(problemPath);
       // guard: the condensed problem's size is known from the dimensions before anything is built
-      // (a problem given directly as an mpQP is already built: nothing to estimate)
-      if (loaded.model) {
-        const size = estimateCondensedSize(loaded.model);
-        const sizeText = `n_z = ${size.nz}, ${size.rows} constraint rows, about ${formatBytes(size.bytes)} to set up`;
+      const size = setupSize(loaded);
+      if (size) {
         if (size.bytes > opts.setupLimit * 2 ** 20) {
           if (!opts.force)
-            throw new InputError(problemPath, 'horizon', `the condensed problem would have ${sizeText}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
-          if (!opts.quiet) process.stderr.write(`tessera: warning: ${sizeText} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
+            throw new InputError(problemPath, 'horizon', `the condensed problem would have ${size.text}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
+          if (!opts.quiet) process.stderr.write(`tessera: warning: ${size.text} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
         }
-        if (process.stderr.isTTY && !opts.quiet) process.stderr.write(`\r  setting up: ${sizeText} \r`);
+        if (process.stderr.isTTY && !opts.quiet) process.stderr.write(`\r  setting up: ${size.text} \r`);
       }
-      const formulation = formulate(loaded);
+      const formulation = formulateFeasible(loaded, problemPath);
       const { mpqp } = formulation;
-      const core = infeasibleCore(mpqp);
-      if (core) {
-        const limits = core.rows.map((i) => mpqp.labels[i]);
-        throw new InputError(
-          problemPath,
-          'constraints',
-          `the feasible set is empty: no θ in the parameter box admits inputs that meet the limits; these limits conflict${core.needsBox ? ' within the box' : ''}: ${mergedRowLabel(limits)}`,
-        );
-      }
       const live = process.stderr.isTTY && !opts.quiet;
       let shown = false;
       const t0 = performance.now();
       const setupSeconds = (t0 - tStart) / 1000;
       // the time limit covers set-up as well: the exploration gets what is left
       const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
-      const partition = await solveInWorker(mpqp, { maxRegions: opts.maxRegions, timeLimit, lp: opts.lp as 'kernel' | 'reference' }, live
+      const partition = await solveInWorker(mpqp, { maxRegions: opts.maxRegions, timeLimit, lp: opts.lp as 'kernel' | 'reference', lean: !!opts.lean }, live
         ? (p) => {
             shown = true;
             process.stderr.write(progressLine(p));
@@ -123,7 +110,7 @@ export function register(program: Command): void {
         process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped${where} (${seconds.toFixed(1)} s); no table was written${opts.output ? ` to ${out}` : ''}\n`);
         process.exit(EXIT.interrupted);
       }
-      const table = makeTable(loaded, formulation, partition);
+      const table = makeTable(loaded, formulation, partition, { lean: !!opts.lean });
       writeTableFile(out, table);
       if (opts.quiet) return;
       if (created) createdNote(created);
@@ -131,6 +118,7 @@ export function register(program: Command): void {
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
         `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
+        ...(opts.lean ? [`  lean table: u(0) laws, half-spaces, active sets and neighbours only (no move sequence, no value function)`] : []),
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,

@@ -57,6 +57,7 @@ export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/
 
 // emit: search tree, arrays, C, certificate, merging
 export { emit, emitC, treeForTable, tableHash, parseTreeJson, type EmitOptions, type EmitResult } from './emit/index.js';
+export { emitBundle, fixedScaling, type EmitBundle, type EmitBundleOptions, type EmitReport } from './emit/bundle.js';
 export { TARGETS, targetLanguages, targetPrecisions, findTarget } from './emit/targets/index.js';
 export type { EmitTarget, TargetCost, TargetFile } from './emit/targets/target.js';
 export { layoutOf, type LayoutArray, type ElementKind } from './emit/layout.js';

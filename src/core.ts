@@ -94,3 +94,4 @@ export { runAudit, auditChecks } from './check/audit.js';
 export type { AuditReport, AuditInputs, CheckResult, Verdict, IdentityData, AgreementData, StabilityData, EmbeddedData, ClosedLoopData } from './check/audit.js';
 export { renderAuditHtml, renderAuditMarkdown, SAFETY_CAUTION, type AuditFigure } from './check/audit-report.js';
 export { checkInvariance, type InvarianceReport, type BoundaryFacet, type AffineSuccessor, type LeavingRegion } from './check/invariance.js';
+export { auditTable, auditHtml, checkAuditable, coverageMaps, embeddedBuild, closedLoopSetup, closedLoopPlot, type AuditOutcome, type AuditTableOptions, type ClosedLoopOptions } from './check/audit-table.js';

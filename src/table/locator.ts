@@ -193,6 +193,8 @@ export class GridLocator {
       if (!(t >= -padU && t <= 1 + padU)) return -1; // outside the box by more than any region reaches, or NaN
       u[j] = t < 0 ? 0 : t > 1 ? 1 : t;
     }
+    // "exact" is every row ≤ b, or ≤ b + slack when the slack is negative (a strict-interior query)
+    const exactLimit = Math.min(0, slack);
     let exact = -1;
     let exactV = 0;
     let near = -1;
@@ -225,7 +227,7 @@ export class GridLocator {
         const r = ids[k];
         if (exact >= 0 && r >= exact) break;
         const v = this.violation(r, theta, slack);
-        if (v <= 0) {
+        if (v <= exactLimit) {
           exact = r;
           exactV = v;
           break;
@@ -369,11 +371,12 @@ export function locatePoint(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev
  * index), else the least residual within `slack`.
  */
 export function locateScan(regions: Pick<CriticalRegion, 'A' | 'b'>[], theta: ArrayLike<number>, slack: number = tol.inside): Location {
+  const exactLimit = Math.min(0, slack); // a negative slack asks for the strict interior
   let near = -1;
   let nearV = Infinity;
   for (let i = 0; i < regions.length; i++) {
     const v = regionViolation(regions[i], theta, slack);
-    if (v <= 0) return { region: i, violation: v };
+    if (v <= exactLimit) return { region: i, violation: v };
     if (v <= slack && v < nearV) {
       near = i;
       nearV = v;

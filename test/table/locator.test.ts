@@ -72,3 +72,17 @@ describe('point location: exact containment before the slack', () => {
     }
   });
 });
+
+describe('point location with a negative slack (strict interior, as the exploration asks)', () => {
+  it('holds θ only when every row is at most b + slack', () => {
+    // worked by hand: θ1 = −0.1 is 0.1 inside B (θ1 ≤ 0) and 0.1 outside A
+    expect(locateScan(regions.slice(0, 2), [-0.1, 0], -0.05).region).toBe(0);
+    expect(locateScan(regions.slice(0, 2), [-0.01, 0], -0.05).region).toBe(-1);
+    const g = new GridLocator(box.lower, box.upper);
+    g.add([[1, 0]], [0], [-1, -1], [0, 1]);
+    g.add([[-1, 0]], [0], [0, -1], [1, 1]);
+    expect(g.locate([-0.1, 0], -0.05)).toBe(0);
+    expect(g.locate([-0.01, 0], -0.05)).toBe(-1);
+    expect(g.locate([0.01, 0], -0.05)).toBe(-1);
+  });
+});

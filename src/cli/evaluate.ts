@@ -42,6 +42,9 @@ export function register(program: Command): void {
       if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
         process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
       if (opts.json) {
+        const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
+        if (!opts.quiet && table.lean && slackBlocks.length > 0)
+          process.stderr.write(`tessera: warning: ${tablePath} is a lean table (no move sequence): slack values are null; solve without --lean to get them\n`);
         const out = evaluatePoints(table, points, { clamp });
         process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
         return;

@@ -12,7 +12,7 @@ import type { LoadedProblem } from '../problem/index.js';
 import { tableProblem } from '../table/solve.js';
 import { liftPoint, makeSliceSpec, type SliceSpec } from '../partition/slice.js';
 import type { ColourBy } from '../plot/svg.js';
-import { isMergedTable } from '../plot/heat.js';
+import { isMergedTable, LEAN_NO_COST } from '../plot/heat.js';
 import { drawMap } from '../plot/map.js';
 import { parseInitialStates } from '../plot/trajectory.js';
 
@@ -164,6 +164,7 @@ export function register(program: Command): void {
         if (o.heat !== 'cost' && !table.inputNames.includes(o.heat)) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
         if (o.heat === 'cost' && isMergedTable(table))
           throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
+        if (o.heat === 'cost' && table.lean) throw new InputError(tableFile, 'lean', LEAN_NO_COST);
         if (colorGiven) process.stderr.write(`tessera: warning: --heat ${o.heat} fills the regions, so --color ${o.color} is not drawn\n`);
       }
       let starts: number[][] | undefined;

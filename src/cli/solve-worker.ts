@@ -10,7 +10,7 @@ import type { MpqpProblem, SolveOptions } from '../mpqp/types.js';
 
 export interface SolveWorkerData {
   mpqp: MpqpProblem;
-  options: Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp'>;
+  options: Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp' | 'lean'>;
   progress: boolean;
   /** Int32Array over a SharedArrayBuffer: [0] = 1 asks the exploration to stop */
   stop: Int32Array;

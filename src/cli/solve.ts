@@ -69,8 +69,9 @@ export function register(program: Command): void {
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
     .option('--setup-limit <MiB>', 'refuse problems whose condensed set-up is estimated above this many MiB (default 2048)', positive('--setup-limit', false), 2048)
     .option('--force', 'set up the problem even above --setup-limit')
+    .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
     .option('-q, --quiet', 'print nothing but errors')
-    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean }) => {
+    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; lean?: boolean }) => {
       const tStart = performance.now();
       if (opts.lp !== 'kernel' && opts.lp !== 'reference')
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
@@ -95,7 +96,7 @@ export function register(program: Command): void {
       const setupSeconds = (t0 - tStart) / 1000;
       // the time limit covers set-up as well: the exploration gets what is left
       const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
-      const partition = await solveInWorker(mpqp, { maxRegions: opts.maxRegions, timeLimit, lp: opts.lp as 'kernel' | 'reference' }, live
+      const partition = await solveInWorker(mpqp, { maxRegions: opts.maxRegions, timeLimit, lp: opts.lp as 'kernel' | 'reference', lean: !!opts.lean }, live
         ? (p) => {
             shown = true;
             process.stderr.write(progressLine(p));
@@ -109,7 +110,7 @@ export function register(program: Command): void {
         process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped${where} (${seconds.toFixed(1)} s); no table was written${opts.output ? ` to ${out}` : ''}\n`);
         process.exit(EXIT.interrupted);
       }
-      const table = makeTable(loaded, formulation, partition);
+      const table = makeTable(loaded, formulation, partition, { lean: !!opts.lean });
       writeTableFile(out, table);
       if (opts.quiet) return;
       if (created) createdNote(created);
@@ -117,6 +118,7 @@ export function register(program: Command): void {
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
         `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
+        ...(opts.lean ? [`  lean table: u(0) laws, half-spaces, active sets and neighbours only (no move sequence, no value function)`] : []),
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,

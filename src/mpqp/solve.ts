@@ -83,7 +83,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   /** Build the region of an active set and add it unless it copies a known one; its id, or −2 when it is not full-dimensional. */
   const addRegion = (activeSet: number[], key: string): number => {
     const lp0 = lp.lps;
-    const res = buildRegion(problem, activeSet, lp);
+    const res = buildRegion(problem, activeSet, lp, options.lean);
     work.regionLps += lp.lps - lp0;
     // a candidate is an active set satisfying LICQ whose region is built (a guess failing LICQ costs one small factorisation)
     if (res.ok || res.reason !== 'licq') stats.candidates++;

@@ -81,7 +81,7 @@ export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}):
   const t0 = performance.now();
   const partition = solvePartition(mpqp, options);
   const seconds = (performance.now() - t0) / 1000;
-  return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition), seconds };
+  return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition, { lean: options.lean }), seconds };
 }
 
 /** The problem behind a table, with its mpQP (what feasibility, gaps, maps and trajectories need). */

@@ -8,11 +8,13 @@ import { infeasibleCore } from '../mpqp/infeasible.js';
 import { mergedRowLabel } from '../mpqp/labels.js';
 import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
 import { makeTable } from '../table/build.js';
+import { joinPartitions } from '../mpqp/canonical.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
 import { estimateCondensedSize, formatBytes } from '../problem/size.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
+import { tol } from '../tol.js';
 import type { SolveWorkerData } from './solve-worker.js';
 import { createdNote, positive, SECONDS } from './common.js';
 
@@ -123,11 +125,12 @@ export function register(program: Command): void {
         process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped${where} (${seconds.toFixed(1)} s); no table was written${opts.output ? ` to ${out}` : ''}\n`);
         process.exit(EXIT.interrupted);
       }
-      const table = makeTable(loaded, formulation, partition);
+      const canonical = joinPartitions(mpqp, [partition]);
+      const table = makeTable(loaded, formulation, canonical);
       writeTableFile(out, table);
       if (opts.quiet) return;
       if (created) createdNote(created);
-      const s = partition.stats;
+      const s = canonical.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
         `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
@@ -135,6 +138,8 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
+      if (s.thinDropped)
+        lines.push(`  note: ${s.thinDropped} region(s) of Chebyshev radius ≤ ${10 * tol.radius} met on the way are left out (thinner than the table's hole bound; the same in every run)`);
       if (s.unresolvedPieces > 0)
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');

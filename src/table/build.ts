@@ -24,7 +24,10 @@ export function problemHash(raw: unknown): string {
   return `sha256:${sha256Hex(canonicalJson(raw))}`;
 }
 
-/** Assemble the table file from the problem as read, its formulation (mpQP and layout) and the computed partition. */
+/**
+ * Assemble the table file from the problem as read, its formulation (mpQP and layout) and the
+ * computed partition (give it in canonical form, `joinPartitions`, for bytes independent of the run).
+ */
 export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProblem; layout: Layout }, partition: Partition): TableFile {
   const { mpqp, layout } = formulation;
   const input = loaded.model?.constraints.input;
@@ -47,6 +50,6 @@ export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProble
     dims: { ntheta: mpqp.ntheta, nu: k, nz: mpqp.nz, nc: mpqp.nc },
     tolerances: { ...tol },
     regions: partition.regions,
-    stats: { ...partition.stats },
+    stats: { regions: partition.stats.regions, complete: partition.stats.complete, stopReason: partition.stats.stopReason, unresolvedPieces: partition.stats.unresolvedPieces },
   };
 }

@@ -26,7 +26,7 @@ export { formulate, buildMpqp, type Formulation } from './formulation/index.js';
 export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition, ExplorationState, ExplorationWork } from './mpqp/types.js';
 
 // solving
-export { solveProblem, tableProblem, type SolvedProblem, type TableProblem, type TableProblemOptions } from './table/solve.js';
+export { solveProblem, formulateFeasible, setupSize, tableProblem, type SolvedProblem, type SetupSize, type TableProblem, type TableProblemOptions } from './table/solve.js';
 export { solvePartition } from './mpqp/solve.js';
 export { joinPartitions, canonicalNeighbours, compareActiveSets, subBox } from './mpqp/canonical.js';
 export { makeTable, problemHash } from './table/build.js';

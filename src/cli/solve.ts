@@ -2,16 +2,13 @@ import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import { loadProblem } from '../problem/index.js';
-import { formulate } from '../formulation/index.js';
 import type { Layout } from '../formulation/layout.js';
-import { infeasibleCore } from '../mpqp/infeasible.js';
-import { mergedRowLabel } from '../mpqp/labels.js';
 import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
 import { makeTable } from '../table/build.js';
 import { joinPartitions } from '../mpqp/canonical.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
-import { estimateCondensedSize, formatBytes } from '../problem/size.js';
+import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
 import { tol } from '../tol.js';
@@ -83,28 +80,17 @@ export function register(program: Command): void {
       const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: 'a JSON table' });
       const loaded = loadProblem(problemPath);
       // guard: the condensed problem's size is known from the dimensions before anything is built
-      // (a problem given directly as an mpQP is already built: nothing to estimate)
-      if (loaded.model) {
-        const size = estimateCondensedSize(loaded.model);
-        const sizeText = `n_z = ${size.nz}, ${size.rows} constraint rows, about ${formatBytes(size.bytes)} to set up`;
+      const size = setupSize(loaded);
+      if (size) {
         if (size.bytes > opts.setupLimit * 2 ** 20) {
           if (!opts.force)
-            throw new InputError(problemPath, 'horizon', `the condensed problem would have ${sizeText}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
-          if (!opts.quiet) process.stderr.write(`tessera: warning: ${sizeText} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
+            throw new InputError(problemPath, 'horizon', `the condensed problem would have ${size.text}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
+          if (!opts.quiet) process.stderr.write(`tessera: warning: ${size.text} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
         }
-        if (process.stderr.isTTY && !opts.quiet) process.stderr.write(`\r  setting up: ${sizeText} \r`);
+        if (process.stderr.isTTY && !opts.quiet) process.stderr.write(`\r  setting up: ${size.text} \r`);
       }
-      const formulation = formulate(loaded);
+      const formulation = formulateFeasible(loaded, problemPath);
       const { mpqp } = formulation;
-      const core = infeasibleCore(mpqp);
-      if (core) {
-        const limits = core.rows.map((i) => mpqp.labels[i]);
-        throw new InputError(
-          problemPath,
-          'constraints',
-          `the feasible set is empty: no θ in the parameter box admits inputs that meet the limits; these limits conflict${core.needsBox ? ' within the box' : ''}: ${mergedRowLabel(limits)}`,
-        );
-      }
       const live = process.stderr.isTTY && !opts.quiet;
       let shown = false;
       const t0 = performance.now();

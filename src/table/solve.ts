@@ -2,10 +2,13 @@
  * Problem → table, and table → the mpQP behind it: the two steps every command and library user
  * repeats. Pure (no file I/O): the caller reads files and prints progress.
  */
-import { formulate } from '../formulation/index.js';
+import { formulate, type Formulation } from '../formulation/index.js';
 import type { Layout } from '../formulation/layout.js';
+import { infeasibleCore } from '../mpqp/infeasible.js';
+import { mergedRowLabel } from '../mpqp/labels.js';
 import { solvePartition } from '../mpqp/solve.js';
 import { joinPartitions } from '../mpqp/canonical.js';
+import { estimateCondensedSize, formatBytes, type CondensedSize } from '../problem/size.js';
 import type { MpqpProblem, Partition, SolveOptions } from '../mpqp/types.js';
 import { parseProblem } from '../problem/read.js';
 import type { LoadedProblem } from '../problem/types.js';
@@ -29,13 +32,52 @@ export interface SolvedProblem {
   seconds: number;
 }
 
+/** What setting up a problem will cost, known from its dimensions before anything is built. */
+export interface SetupSize extends CondensedSize {
+  /** "n_z = 8, 120 constraint rows, about 1.2 MiB to set up" */
+  text: string;
+}
+
 /**
- * Solve a validated problem (an MPC model or a directly given mpQP): formulate the mpQP, explore its critical regions, assemble the table.
+ * The size of the condensed mpQP of an MPC problem, estimated from its dimensions alone (bytes =
+ * the peak of the dense set-up arrays). Null for a problem given directly as an mpQP (already
+ * built: nothing to estimate). Cheap; call it before `formulateFeasible` to refuse huge problems.
+ */
+export function setupSize(loaded: LoadedProblem): SetupSize | null {
+  if (!loaded.model) return null;
+  const size = estimateCondensedSize(loaded.model);
+  return { ...size, text: `n_z = ${size.nz}, ${size.rows} constraint rows, about ${formatBytes(size.bytes)} to set up` };
+}
+
+/**
+ * Formulate the conditioned mpQP of `loaded` and check that its feasible set is not empty. When no
+ * θ in the parameter box admits inputs that meet the limits, throws an InputError (file `file`,
+ * default the problem's name; key "constraints") that names a smallest set of conflicting limits
+ * (deletion filter over the rows, one LP each). The returned mpQP and layout are new and the caller's.
+ */
+export function formulateFeasible(loaded: LoadedProblem, file: string = loaded.name): Formulation {
+  const formulation = formulate(loaded);
+  const { mpqp } = formulation;
+  const core = infeasibleCore(mpqp);
+  if (core) {
+    const limits = core.rows.map((i) => mpqp.labels[i]);
+    throw new InputError(
+      file,
+      'constraints',
+      `the feasible set is empty: no θ in the parameter box admits inputs that meet the limits; these limits conflict${core.needsBox ? ' within the box' : ''}: ${mergedRowLabel(limits)}`,
+    );
+  }
+  return formulation;
+}
+
+/**
+ * Solve a validated problem (an MPC model or a directly given mpQP): formulate the mpQP, check its
+ * feasible set is not empty (`formulateFeasible`), explore its critical regions, assemble the table.
  * θ, u and the box are in the problem's own units. Bounded runs (`maxRegions`, `timeLimit`,
  * `shouldStop`) return a table with `stats.complete = false`, never a silently shortened one.
  */
 export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}): SolvedProblem {
-  const formulation = formulate(loaded);
+  const formulation = formulateFeasible(loaded);
   const { mpqp, layout } = formulation;
   const t0 = performance.now();
   // canonical form: regions sorted by active set, neighbours from the regions alone (same bytes however explored)

@@ -152,7 +152,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       count: W,
       port: port2,
       signal,
-      progress: !!options.onProgress,
+      progress: true, // counters for checkpoints as well as for the progress line
       resume,
     };
     // from source (tests, bench under tsx), the worker registers tsx's loader before importing the .ts file

@@ -112,6 +112,7 @@ export function register(program: Command): void {
       const { mpqp } = formulation;
       const live = process.stderr.isTTY && !opts.quiet;
       let shown = false;
+      let last: Progress | null = null;
       const t0 = performance.now();
       const setupSeconds = (t0 - tStart) / 1000;
       // the time limit covers set-up as well: the exploration gets what is left
@@ -130,6 +131,7 @@ export function register(program: Command): void {
           onProgress: live
             ? (p) => {
                 shown = true;
+                last = p;
                 process.stderr.write(progressLine(p));
               }
             : undefined,
@@ -145,7 +147,8 @@ export function register(program: Command): void {
         return `tessera: checkpoint written to ${checkpointPath}; continue with: tessera solve ${problemPath} --resume ${checkpointPath}${o}\n`;
       };
       // the progress line ends with a newline when interrupted (it stays visible), else it is erased
-      if (shown) process.stderr.write(partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : '\n');
+      // (redrawn first when interrupted: the terminal may have echoed ^C after it)
+      if (shown) process.stderr.write(partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : `${progressLine(last!)}\n`);
       if (partition.stats.stopReason === 'interrupted') {
         process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped after ${partition.stats.regions} regions (${seconds.toFixed(1)} s); no ${part ? 'part file' : 'table'} was written${opts.output ? ` to ${out}` : ''}\n`);
         process.stderr.write(resumeHint());

@@ -18,7 +18,9 @@ import { formulate } from '../formulation/index.js';
 import { makeTable, problemHash } from './build.js';
 import type { TableFile } from './format.js';
 
+/** Tag of a part file (`solve --part`). */
 export const PART_FORMAT = 'tessera-part';
+/** Tag of a checkpoint (`solve --checkpoint`). */
 export const CHECKPOINT_FORMAT = 'tessera-checkpoint';
 /** Version of both run-state formats; bump on any change of meaning. */
 export const RUN_STATE_VERSION = 1;

@@ -106,14 +106,18 @@ function segmentOf(R: CriticalRegion, q: number, _self: CriticalRegion): Seg | n
   return t1 > t0 ? { p, d, t0, t1 } : null;
 }
 
-/** Length of the part of the segment inside S (its rows with a slack of 1e-7, so a shared edge counts). */
+/**
+ * Length of the part of the segment inside S, S's rows with a slack of 1e-9 (rounding): a shared
+ * edge counts, a neighbour that only touches a vertex at a small angle does not (a larger slack
+ * would count the sliver within it, 1e-7 over an angle α is 1e-7/α long).
+ */
 function clipLength(seg: Seg, S: CriticalRegion): number {
   let t0 = seg.t0;
   let t1 = seg.t1;
   for (let i = 0; i < S.A.length; i++) {
     const row = S.A[i];
     const ad = row[0] * seg.d[0] + row[1] * seg.d[1];
-    const rest = S.b[i] + 1e-7 - (row[0] * seg.p[0] + row[1] * seg.p[1]);
+    const rest = S.b[i] + 1e-9 - (row[0] * seg.p[0] + row[1] * seg.p[1]);
     if (Math.abs(ad) < 1e-9) {
       if (rest < 0) return 0;
       continue;

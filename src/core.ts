@@ -53,7 +53,7 @@ export { area, centroid, ccw, convexContains, type Point, type Polygon } from '.
 export { drawMap, type MapRequest, type DrawnMap } from './plot/map.js';
 export { renderMapSvg, describeRegion, formatAffine, activeSetText, lawText, sliceColours, heatGrid, heatInterpolator } from './plot/svg.js';
 export type { ColourBy, HeatLayer, HeatGrid, MapOptions, MapResult, Trajectory } from './plot/svg.js';
-export { heatLayer, quadraticAt, isMergedTable } from './plot/heat.js';
+export { heatLayer, quadraticAt, isMergedTable, LEAN_NO_COST } from './plot/heat.js';
 export { colourByKey, lawKey, paletteColour, REGION_PALETTE, HOLE_FILL, HOLE_STROKE, INFEASIBLE_FILL, INFEASIBLE_HATCH } from './plot/colour.js';
 export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/trajectory.js';
 

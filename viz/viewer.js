@@ -117,7 +117,7 @@ function setup(data) {
     .join('option')
     .attr('value', (d) => d.v)
     .text((d) => d.label)
-    .property('disabled', (d) => d.v === 'cost' && isMergedTable(t));
+    .property('disabled', (d) => d.v === 'cost' && (isMergedTable(t) || t.lean === true));
   select('#heat').property('value', 'none');
   select('#traj-mode').property('disabled', !state.problem || !state.problem.loaded.model);
   buildSliders();

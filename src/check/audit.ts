@@ -335,6 +335,16 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   const tolerance = 1e-7;
   const terminalSet = table.layout.features.includes('terminalSet');
   const data: StabilityData = { points: 0, sample: 0, vertices: 0, successorOutside: 0, worst: -Infinity, worstTheta: null, violations: 0, tolerance, terminalWeight: model.terminal, terminalSet };
+  if (table.lean)
+    // a lean table keeps no value function: the check is not done, and the report says so
+    return {
+      name: 'Stability evidence',
+      verdict: 'INFO',
+      line: 'NOT CHECKED: the table is lean (solved with --lean) and keeps no value function J*; audit a table solved without --lean for this check',
+      method: 'J*(θ⁺) − J*(θ) ≤ −ℓ(θ, u) needs the value function stored per region, which a lean table leaves out.',
+      witness: null,
+      data: { ...data, worst: 0 },
+    };
   const plant = plantOf(model);
   const pts: { th: number[]; region: number }[] = [];
   for (const th of seededBox(table, 4 * (inp.samples ?? 2000), (inp.seed ?? 1) + 101)) {
@@ -354,7 +364,7 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   for (const { th, region } of pts) {
     if (!regionContains(table.regions[region], th)) continue;
     const u = applyAffine(table.regions[region].law, th);
-    const J = valueAt(table.regions[region].value, th);
+    const J = valueAt(table.regions[region].value!, th);
     const parts = splitTheta(table.layout, th);
     const next = nextThetaOf(table, stepPlant(plant, parts.x!, u, parts.d), u, th);
     const rn = locateRegion(table.regions, next, tol.inside, table.box);
@@ -363,7 +373,7 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
       data.successorOutside++;
       continue;
     }
-    const Jn = valueAt(table.regions[rn].value, next);
+    const Jn = valueAt(table.regions[rn].value!, next);
     const dec = (Jn - J + stageCost(model, table, th, u)) / (1 + Math.abs(J));
     if (dec > data.worst) {
       data.worst = dec;

@@ -65,14 +65,17 @@ export function register(program: Command): void {
       if (opts.json) {
         // slack values: the z entries of the layout's slack blocks, from the region's stored moves
         const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
+        if (!opts.quiet && table.lean && slackBlocks.length > 0)
+          process.stderr.write(`tessera: warning: ${tablePath} is a lean table (no move sequence): slack values are null; solve without --lean to get them\n`);
         const out = points.map((p) => {
           const e = evaluateAt(table, p, clamp);
           if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
           // a merged region keeps one member's moves, exact on that member only: no slack values there
           const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
-          const slacks: Record<string, number> | null = e.region < 0 || merged ? null : {};
-          if (slacks) {
-            const moves = table.regions[e.region].moves;
+          // a lean table keeps no moves: no slack values (said once on stderr)
+          const moves = e.region < 0 ? undefined : table.regions[e.region].moves;
+          const slacks: Record<string, number> | null = !moves || merged ? null : {};
+          if (slacks && moves) {
             for (const b of slackBlocks)
               b.names.forEach((nm, i) => (slacks[nm] = applyAffine({ F: [moves.F[b.offset + i]], g: [moves.g[b.offset + i]] }, p)[0]));
           }

@@ -17,6 +17,7 @@ import type { LoadedProblem } from '../problem/index.js';
 import { analyseSlice } from '../check/gaps.js';
 import { liftPoint, makeSliceSpec, type SliceSpec } from '../partition/slice.js';
 import { renderMapSvg, type ColourBy, type HeatLayer, type Trajectory } from '../plot/svg.js';
+import { LEAN_NO_COST } from '../plot/heat.js';
 import { parseInitialStates, simulateClosedLoop } from '../plot/trajectory.js';
 
 const CLI = '(command line)';
@@ -170,6 +171,7 @@ export function register(program: Command): void {
         // a merged region keeps one member's value function, which is exact only on that member
         if (o.heat === 'cost' && table.regions.some((r) => ((r as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1))
           throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
+        if (o.heat === 'cost' && table.lean) throw new InputError(tableFile, 'lean', LEAN_NO_COST);
         if (colorGiven) process.stderr.write(`tessera: warning: --heat ${o.heat} fills the regions, so --color ${o.color} is not drawn\n`);
         heat = {
           label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
@@ -178,7 +180,7 @@ export function register(program: Command): void {
             const ri = locateRegion(table.regions, th, tol.inside, table.box);
             if (ri < 0) return null;
             if (ui >= 0) return applyAffine(table.regions[ri].law, th)[ui];
-            const v = table.regions[ri].value;
+            const v = table.regions[ri].value!;
             let s = v.r;
             th.forEach((a, i) => {
               s += v.q[i] * a;

@@ -78,8 +78,9 @@ export function register(program: Command): void {
     .option('--checkpoint <file>', 'write the exploration state to this .json file every --checkpoint-every seconds, at a limit and at Ctrl-C')
     .option(`--checkpoint-every ${SECONDS}`, 'seconds between checkpoints (default 30)', positive('--checkpoint-every', false), 30)
     .option('--resume <file>', 'continue from a checkpoint of this problem (and go on writing it, unless --checkpoint names another file)')
+    .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
     .option('-q, --quiet', 'print nothing but errors')
-    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string }) => {
+    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean }) => {
       const tStart = performance.now();
       if (opts.lp !== 'kernel' && opts.lp !== 'reference')
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
@@ -90,13 +91,16 @@ export function register(program: Command): void {
       if (opts.checkpoint) checkOutputPath(opts.checkpoint, '--checkpoint', { kind: 'file', extensions: ['.json'], what: 'a JSON checkpoint' });
       const loaded = loadProblem(problemPath);
       let resume: ExplorationState | null = null;
+      let lean = !!opts.lean;
       if (opts.resume) {
         const cp = parseCheckpointJson(readTextInput(opts.resume, 'checkpoint'), opts.resume, loaded);
         const same = (a: PartIndex | null, b: PartIndex | null) => (a ? `${a.index}/${a.count}` : 'the whole box') === (b ? `${b.index}/${b.count}` : 'the whole box');
         if (opts.part !== undefined && !same(cp.part, part))
           throw new InputError(opts.resume, 'part', `the checkpoint explores ${cp.part ? `part ${cp.part.index}/${cp.part.count}` : 'the whole box'}, not ${part ? `part ${part.index}/${part.count}` : 'the whole box'}`);
+        if (opts.lean && !cp.lean) throw new InputError(opts.resume, 'lean', 'the checkpoint holds full regions; resume it without --lean (or start again with --lean)');
         part = cp.part;
         resume = cp.state;
+        lean = cp.lean;
       }
       // guard: the condensed problem's size is known from the dimensions before anything is built
       const size = setupSize(loaded);
@@ -118,7 +122,7 @@ export function register(program: Command): void {
       // the time limit covers set-up as well: the exploration gets what is left
       const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
       const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
-      const writeCheckpoint = (state: ExplorationState) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, state)));
+      const writeCheckpoint = (state: ExplorationState) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, state, lean)));
       const { partition, state } = await explore(
         mpqp,
         {
@@ -126,6 +130,7 @@ export function register(program: Command): void {
           maxRegions: opts.maxRegions,
           timeLimit,
           lp: opts.lp as 'kernel' | 'reference',
+          lean,
           within,
           resume,
           onProgress: live
@@ -157,7 +162,7 @@ export function register(program: Command): void {
       if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
       else if (!partition.stats.complete) resumeHint();
       if (part) {
-        writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition)));
+        writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
         if (opts.quiet) return;
         if (created) createdNote(created);
         const s = partition.stats;
@@ -168,7 +173,7 @@ export function register(program: Command): void {
         return;
       }
       const canonical = joinPartitions(mpqp, [partition]);
-      const table = makeTable(loaded, formulation, canonical);
+      const table = makeTable(loaded, formulation, canonical, { lean });
       writeTableFile(out, table);
       if (opts.quiet) return;
       if (created) createdNote(created);
@@ -176,6 +181,7 @@ export function register(program: Command): void {
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
         `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
+        ...(opts.lean ? [`  lean table: u(0) laws, half-spaces, active sets and neighbours only (no move sequence, no value function)`] : []),
         s.complete
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,

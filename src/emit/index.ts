@@ -5,8 +5,8 @@
  * DIR/NAME.tree.json); `locateTree` in src/partition/tree.ts evaluates it from TypeScript.
  */
 import { InputError } from '../io/input-error.js';
-import { sha256Hex } from '../util/sha256.js';
-import { tableToJson } from '../table/table.js';
+import { Sha256 } from '../util/sha256.js';
+import { tableChunks } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { SEARCH_KINDS, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
@@ -18,9 +18,11 @@ export type { Precision, SearchKind } from './arrays.js';
 /** `auto`: every structure is built and the cost model picks one (src/emit/choose.ts). */
 export type SearchChoice = SearchKind | 'auto';
 
-/** "sha256:<hex>" of the table file's canonical JSON. */
+/** "sha256:<hex>" of the table file's canonical JSON (hashed piece by piece: no string of the whole table). */
 export function tableHash(table: TableFile): string {
-  return 'sha256:' + sha256Hex(tableToJson(table));
+  const h = new Sha256();
+  for (const c of tableChunks(table)) h.update(c);
+  return 'sha256:' + h.hex();
 }
 
 export interface EmitOptions<P extends string = Precision> {

@@ -1,4 +1,4 @@
-import { writeFileSync, renameSync, unlinkSync, existsSync, mkdirSync } from 'node:fs';
+import { writeFileSync, renameSync, unlinkSync, existsSync, mkdirSync, openSync, writeSync, closeSync } from 'node:fs';
 import { dirname, basename, join } from 'node:path';
 import { statSync } from 'node:fs';
 import { InputError } from './errors.js';
@@ -29,6 +29,38 @@ function hookSignals(): void {
  * half-written file: write a temp file beside the target, then rename it over the target.
  */
 export function writeFileAtomic(path: string, data: string | Uint8Array): void {
+  writeAtomically(path, (tmp) => writeFileSync(tmp, data));
+}
+
+/**
+ * `writeFileAtomic` for text given in pieces (e.g. one line per region): the pieces are written
+ * in batches of about `batchChars` characters, so the whole text is never one string.
+ */
+export function writeFileAtomicChunks(path: string, chunks: Iterable<string>, batchChars = 1 << 22): void {
+  writeAtomically(path, (tmp) => {
+    const fd = openSync(tmp, 'w');
+    try {
+      let pending = '';
+      for (const c of chunks) {
+        pending += c;
+        if (pending.length >= batchChars) {
+          writeAll(fd, pending);
+          pending = '';
+        }
+      }
+      if (pending) writeAll(fd, pending);
+    } finally {
+      closeSync(fd);
+    }
+  });
+}
+
+function writeAll(fd: number, text: string): void {
+  const buf = Buffer.from(text, 'utf8');
+  for (let off = 0; off < buf.length; ) off += writeSync(fd, buf, off, buf.length - off);
+}
+
+function writeAtomically(path: string, write: (tmp: string) => void): void {
   hookSignals();
   refusePseudoFs(path, '');
   let isDir = false;
@@ -43,7 +75,7 @@ export function writeFileAtomic(path: string, data: string | Uint8Array): void {
   const tmp = join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.tmp`);
   pending.add(tmp);
   try {
-    writeFileSync(tmp, data);
+    write(tmp);
     renameSync(tmp, path);
   } finally {
     pending.delete(tmp);

@@ -23,7 +23,7 @@ export interface LpEngine {
  * row off A is primal feasible and every multiplier on A is ≥ 0, inside the box. Rows are then
  * normalised, thinned (box-implied rows analytically, the rest by LP) and the Chebyshev ball found.
  */
-export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEngine): RegionResult {
+export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEngine, lean = false): RegionResult {
   const ws = qpWorkspace(problem);
   const { nz, nc, ntheta: nt, lawSize } = problem;
   const { K, M, HinvF, S, Hinvc, wc } = ws;
@@ -145,25 +145,24 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     b.push(keepB[r]);
     facets.push({ kind: keepInfo[r].kind, row: keepInfo[r].row, neighbours: [] });
   }
-  // affine law, moves and value function
+  // affine law, and (unless lean) the whole move sequence and the value function
+  const rowsOut = lean ? lawSize : nz;
   const movesF: number[][] = [];
-  for (let i = 0; i < nz; i++) movesF.push(Array.from(Zth.subarray(i * nt, (i + 1) * nt)));
-  const movesG = Array.from(zc);
-  const value = valueFunction(problem, Zth, zc);
-  return {
-    ok: true,
-    region: {
-      activeSet: [...activeSet].sort((x, y) => x - y),
-      A,
-      b,
-      facets,
-      chebyshev: { center: Array.from(ball.center), radius: ball.radius },
-      law: { F: movesF.slice(0, lawSize), g: movesG.slice(0, lawSize) },
-      moves: { F: movesF, g: movesG },
-      value,
-    },
-    bbox: thin.bbox,
+  for (let i = 0; i < rowsOut; i++) movesF.push(Array.from(Zth.subarray(i * nt, (i + 1) * nt)));
+  const movesG = Array.from(zc.subarray(0, rowsOut));
+  const region: Omit<CriticalRegion, 'id'> = {
+    activeSet: [...activeSet].sort((x, y) => x - y),
+    A,
+    b,
+    facets,
+    chebyshev: { center: Array.from(ball.center), radius: ball.radius },
+    law: { F: movesF.slice(0, lawSize), g: movesG.slice(0, lawSize) },
   };
+  if (!lean) {
+    region.moves = { F: movesF, g: movesG };
+    region.value = valueFunction(problem, Zth, zc);
+  }
+  return { ok: true, region, bbox: thin.bbox };
 }
 
 /** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */

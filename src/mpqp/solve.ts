@@ -149,7 +149,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
 
   const addRegion = (activeSet: number[], key: string): number => {
     const lp0 = lp.lps;
-    const res = buildRegion(problem, activeSet, lp);
+    const res = buildRegion(problem, activeSet, lp, options.lean);
     work.regionLps += lp.lps - lp0;
     // a candidate is an active set satisfying LICQ whose region is built (a guess failing LICQ costs one small factorisation)
     if (res.ok || res.reason !== 'licq') stats.candidates++;

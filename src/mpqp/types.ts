@@ -58,10 +58,10 @@ export interface CriticalRegion {
   chebyshev: { center: number[]; radius: number };
   /** the law z[0..lawSize) = law.F θ + law.g  (lawSize rows) */
   law: AffineMap;
-  /** the whole decision vector z = moves.F θ + moves.g  (nz rows) */
-  moves: AffineMap;
-  /** optimal cost J*(θ) on this region */
-  value: QuadraticForm;
+  /** the whole decision vector z = moves.F θ + moves.g  (nz rows); absent in a lean table (`SolveOptions.lean`) */
+  moves?: AffineMap;
+  /** optimal cost J*(θ) on this region; absent in a lean table (`SolveOptions.lean`) */
+  value?: QuadraticForm;
 }
 
 export interface FacetInfo {
@@ -90,6 +90,12 @@ export interface SolveOptions {
   strategy?: { guess?: boolean; warmStart?: boolean };
   /** cooperative cancellation (Ctrl-C): checked between candidates */
   shouldStop?: () => boolean;
+  /**
+   * lean regions: keep the law of z[0..lawSize), the half-spaces, the active set and the
+   * neighbours, but not the whole move sequence (`moves`) nor the value function (`value`); the
+   * table then says `lean: true` and commands that need either refuse it or say what they leave out
+   */
+  lean?: boolean;
   /**
    * Explore only the part of the parameter box inside this sub-box (same units as the box). Regions
    * are still whole (built over the full box); a region meeting the sub-box in a full-dimensional

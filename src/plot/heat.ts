@@ -21,10 +21,13 @@ export function isMergedTable(table: TableFile): boolean {
   return table.regions.some((r) => ((r as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1);
 }
 
+/** Why a lean table has no cost heat map (one line, shared by `tessera map` and the viewer). */
+export const LEAN_NO_COST = 'a lean table keeps no value function J*(θ); draw the cost heat map from a table solved without --lean';
+
 /**
  * Heat layer over a slice: `what` is an input name (u(0) of that input) or "cost" (optimal cost
  * J*(θ)). Values are in the table's units; points in no region give null. Throws InputError
- * (key "heat") for an unknown name, and for "cost" on a merged table.
+ * (key "heat") for an unknown name, and for "cost" on a merged or a lean table.
  */
 export function heatLayer(table: TableFile, spec: SliceSpec, what: string): HeatLayer {
   const ui = table.inputNames.indexOf(what);
@@ -32,13 +35,14 @@ export function heatLayer(table: TableFile, spec: SliceSpec, what: string): Heat
   // a merged region keeps one member's value function, which is exact only on that member
   if (what === 'cost' && isMergedTable(table))
     throw new InputError(table.name, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
+  if (what === 'cost' && table.lean) throw new InputError(table.name, 'lean', LEAN_NO_COST);
   return {
     label: what === 'cost' ? 'optimal cost J*(θ)' : `${what}(0)`,
     value: (x, y) => {
       const th = liftPoint(spec, x, y);
       const ri = locateSequential(table.regions, th);
       if (ri < 0) return null;
-      return ui >= 0 ? applyAffine(table.regions[ri].law, th)[ui] : quadraticAt(table.regions[ri].value, th);
+      return ui >= 0 ? applyAffine(table.regions[ri].law, th)[ui] : quadraticAt(table.regions[ri].value!, th);
     },
   };
 }

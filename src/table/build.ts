@@ -26,15 +26,17 @@ export function problemHash(raw: unknown): string {
 
 /**
  * Assemble the table file from the problem as read, its formulation (mpQP and layout) and the
- * computed partition (give it in canonical form, `joinPartitions`, for bytes independent of the run).
+ * computed partition (give it in canonical form, `joinPartitions`, for bytes independent of the
+ * run). A lean table (`options.lean`, regions solved with `SolveOptions.lean`) says so.
  */
-export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProblem; layout: Layout }, partition: Partition): TableFile {
+export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProblem; layout: Layout }, partition: Partition, options: { lean?: boolean } = {}): TableFile {
   const { mpqp, layout } = formulation;
   const input = loaded.model?.constraints.input;
   const k = mpqp.lawSize;
   return {
     format: TABLE_FORMAT,
     version: TABLE_VERSION,
+    lean: !!options.lean,
     name: loaded.name,
     problem: loaded.raw,
     problemHash: problemHash(loaded.raw),

@@ -9,7 +9,13 @@ import type { Layout } from '../formulation/layout.js';
 
 /** Tag and version of the table file; bump the version on any change of meaning. */
 export const TABLE_FORMAT = 'tessera-table';
-export const TABLE_VERSION = 2;
+/**
+ * 3: the `lean` key (regions without `moves`/`value` when true) and one region per line.
+ * Version 2 files (always full, any JSON layout) are still read.
+ */
+export const TABLE_VERSION = 3;
+/** Versions this build reads. */
+export const TABLE_VERSIONS_READ: readonly number[] = [2, 3];
 
 /**
  * The table file: deterministic JSON (same problem → byte-identical file, whatever the thread count,
@@ -19,6 +25,13 @@ export const TABLE_VERSION = 2;
 export interface TableFile {
   format: typeof TABLE_FORMAT;
   version: number;
+  /**
+   * true: every region keeps the law of u(0) (z[0..lawSize)), its half-spaces, active set and
+   * neighbours, but not the whole move sequence (`moves`) nor the value function (`value`).
+   * Commands that need those refuse a lean table or say what they leave out. Read as false from a
+   * version 2 file.
+   */
+  lean: boolean;
   /** problem name from the problem file (or the file's base name) */
   name: string;
   /** the problem as read (parsed JSON/YAML object, echoed verbatim) */

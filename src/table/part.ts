@@ -39,6 +39,8 @@ export interface PartFile {
   problem: unknown;
   problemHash: string;
   part: PartIndex & { lower: number[]; upper: number[] };
+  /** lean regions (`solve --lean`): no move sequence, no value function */
+  lean: boolean;
   stats: PartitionStats;
   regions: Partition['regions'];
   boxes: { lo: number[]; hi: number[] }[];
@@ -51,6 +53,8 @@ export interface CheckpointFile {
   problemHash: string;
   /** the sub-box explored (`--part`), or null for the whole box */
   part: PartIndex | null;
+  /** lean regions (`solve --lean`) */
+  lean: boolean;
   state: ExplorationState;
 }
 
@@ -65,7 +69,7 @@ export function parsePartIndex(text: string, flag = '--part'): PartIndex {
 }
 
 /** The part file of an exploration of part `part` of `loaded` (regions and boxes shared, not copied). */
-export function makePart(loaded: LoadedProblem, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, part: PartIndex, partition: Partition): PartFile {
+export function makePart(loaded: LoadedProblem, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, part: PartIndex, partition: Partition, lean = false): PartFile {
   const sub = subBox(box, part.index - 1, part.count);
   return {
     format: PART_FORMAT,
@@ -74,6 +78,7 @@ export function makePart(loaded: LoadedProblem, box: { lower: ArrayLike<number>;
     problem: loaded.raw,
     problemHash: problemHash(loaded.raw),
     part: { ...part, ...sub },
+    lean,
     stats: partition.stats,
     regions: partition.regions,
     boxes: (partition.boxes ?? []).map((b) => ({ lo: Array.from(b.lo), hi: Array.from(b.hi) })),
@@ -119,8 +124,8 @@ export function parsePartJson(text: string, file: string): PartFile {
 }
 
 /** The checkpoint of an exploration state. */
-export function makeCheckpoint(loaded: LoadedProblem, part: PartIndex | null, state: ExplorationState): CheckpointFile {
-  return { format: CHECKPOINT_FORMAT, version: RUN_STATE_VERSION, problemHash: problemHash(loaded.raw), part, state };
+export function makeCheckpoint(loaded: LoadedProblem, part: PartIndex | null, state: ExplorationState, lean = false): CheckpointFile {
+  return { format: CHECKPOINT_FORMAT, version: RUN_STATE_VERSION, problemHash: problemHash(loaded.raw), part, lean, state };
 }
 
 /** Parse and check a checkpoint's text; `loaded` is the problem it must belong to. */
@@ -148,6 +153,7 @@ export function joinParts(parts: readonly PartFile[], files: readonly string[]):
   parts.forEach((p, i) => {
     if (p.problemHash !== first.problemHash) throw new InputError(files[i], 'problemHash', `a part of another problem than ${files[0]}`);
     if (p.part.count !== k) throw new InputError(files[i], 'part', `part ${p.part.index} of ${p.part.count}, but ${files[0]} is one of ${k}`);
+    if (!!p.lean !== !!first.lean) throw new InputError(files[i], 'lean', `${p.lean ? 'lean' : 'full'} regions, but ${files[0]} holds ${first.lean ? 'lean' : 'full'} ones (solve every part with or every part without --lean)`);
     const again = seen.get(p.part.index);
     if (again) throw new InputError(files[i], 'part', `part ${p.part.index} of ${k} is given twice (also ${again})`);
     seen.set(p.part.index, files[i]);
@@ -161,5 +167,5 @@ export function joinParts(parts: readonly PartFile[], files: readonly string[]):
     formulation.mpqp,
     parts.map((p) => ({ regions: p.regions, boxes: p.boxes, stats: p.stats })),
   );
-  return { table: makeTable(loaded, formulation, partition), partition, loaded };
+  return { table: makeTable(loaded, formulation, partition, { lean: !!first.lean }), partition, loaded };
 }

@@ -59,8 +59,9 @@ export interface PointEvaluation {
   region: number;
   u: number[] | null;
   /**
-   * only for tables with soft limits: the slack values at θ by name (null in no region, and in a
-   * merged region, whose stored moves are exact on one member only)
+   * only for tables with soft limits: the slack values at θ by name (null in no region, in a
+   * merged region, whose stored moves are exact on one member only, and everywhere in a lean
+   * table, which keeps no moves)
    */
   slacks?: Record<string, number> | null;
 }
@@ -76,9 +77,9 @@ export function evaluatePoints(table: TableFile, points: number[][]): PointEvalu
     const e = evaluateTable(table, p);
     if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
     const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
-    const slacks: Record<string, number> | null = e.region < 0 || merged ? null : {};
-    if (slacks) {
-      const moves = table.regions[e.region].moves;
+    const moves = e.region < 0 ? undefined : table.regions[e.region].moves;
+    const slacks: Record<string, number> | null = !moves || merged ? null : {};
+    if (slacks && moves) {
       for (const b of slackBlocks) b.names.forEach((nm, i) => (slacks[nm] = applyAffine({ F: [moves.F[b.offset + i]], g: [moves.g[b.offset + i]] }, p)[0]));
     }
     return { theta: p, region: e.region, u: e.u, slacks };

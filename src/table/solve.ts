@@ -83,7 +83,7 @@ export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}):
   // canonical form: regions sorted by active set, neighbours from the regions alone (same bytes however explored)
   const partition = joinPartitions(mpqp, [solvePartition(mpqp, options)]);
   const seconds = (performance.now() - t0) / 1000;
-  return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition), seconds };
+  return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition, { lean: options.lean }), seconds };
 }
 
 /** The problem behind a table, with its mpQP (what feasibility, gaps, maps and trajectories need). */

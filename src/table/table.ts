@@ -1,12 +1,33 @@
 import { InputError } from '../io/input-error.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
-import { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './format.js';
+import { TABLE_FORMAT, TABLE_VERSION, TABLE_VERSIONS_READ, type TableFile } from './format.js';
 import { locateRegion, regionContains } from './locator.js';
 
-/** Serialise a table deterministically: fixed key order (as built), no run-dependent fields. */
+const REGIONS_MARK = '\u0000regions\u0000';
+
+/**
+ * The text of a table in pieces, deterministically (fixed key order as built, no run-dependent
+ * fields): the header keys indented by one space, then `"regions": [`, then one region per line
+ * (compact JSON), then ` ]` and the keys after it. Joined, the pieces are `tableToJson`; a writer
+ * that streams them never holds the whole text (a 100k-region table can pass V8's string limit).
+ */
+export function* tableChunks(table: TableFile): Generator<string> {
+  const head = JSON.stringify({ ...table, regions: REGIONS_MARK }, null, 1);
+  const mark = JSON.stringify(REGIONS_MARK);
+  // the mark is the last string of its kind: only numbers, booleans and a stop reason follow it
+  const at = head.lastIndexOf(mark);
+  yield head.slice(0, at) + '[\n';
+  const n = table.regions.length;
+  for (let i = 0; i < n; i++) yield JSON.stringify(table.regions[i]) + (i + 1 < n ? ',\n' : '\n');
+  yield ' ]' + head.slice(at + mark.length) + '\n';
+}
+
+/** Serialise a table deterministically as one string (`tableChunks` joined): for tables that fit in a string. */
 export function tableToJson(table: TableFile): string {
-  return JSON.stringify(table, null, 1) + '\n';
+  let out = '';
+  for (const c of tableChunks(table)) out += c;
+  return out;
 }
 
 /**
@@ -28,7 +49,16 @@ export function checkTable(raw: unknown, file: string): TableFile {
   if (typeof raw !== 'object' || raw === null) throw new InputError(file, '', 'a table file must be a JSON object');
   const t = raw as Record<string, unknown>;
   if (t.format !== TABLE_FORMAT) throw new InputError(file, 'format', `expected "${TABLE_FORMAT}", got ${JSON.stringify(t.format)}`);
-  if (t.version !== TABLE_VERSION) throw new InputError(file, 'version', `unsupported table version ${JSON.stringify(t.version)} (this build reads ${TABLE_VERSION})`);
+  if (!TABLE_VERSIONS_READ.includes(t.version as number))
+    throw new InputError(file, 'version', `unsupported table version ${JSON.stringify(t.version)} (this build reads ${TABLE_VERSIONS_READ.join(' and ')})`);
+  if (t.version === 2) {
+    // a version 2 table is a full table; read it as version 3 with the same meaning
+    if ('lean' in t) throw new InputError(file, 'lean', 'a version 2 table has no "lean" key');
+    const { format, version: _v, ...rest } = t;
+    return checkTable({ format, version: TABLE_VERSION, lean: false, ...rest }, file);
+  }
+  if (typeof t.lean !== 'boolean') throw new InputError(file, 'lean', `must be true or false, got ${JSON.stringify(t.lean)}`);
+  const lean = t.lean;
   const dims = t.dims as TableFile['dims'] | undefined;
   if (!dims || !Number.isInteger(dims.ntheta) || !Number.isInteger(dims.nu)) throw new InputError(file, 'dims', 'missing or malformed dimensions');
   if (!Array.isArray(t.regions)) throw new InputError(file, 'regions', 'must be an array');
@@ -47,6 +77,10 @@ export function checkTable(raw: unknown, file: string): TableFile {
     reg.law.F.forEach((row, j) => {
       if (!Array.isArray(row) || row.length !== nt) throw new InputError(file, `${key}.law.F[${j}]`, `must have ${nt} entries`);
     });
+    if (!lean && (!reg.moves || !Array.isArray(reg.moves.F) || !reg.value || !Array.isArray(reg.value.Q)))
+      throw new InputError(file, `${key}`, 'moves or value missing, and the table does not say "lean": true');
+    if (lean && (reg.moves !== undefined || reg.value !== undefined))
+      throw new InputError(file, `${key}`, 'a lean table keeps no moves or value, but this region has them');
   });
   return raw as TableFile;
 }

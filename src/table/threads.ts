@@ -20,7 +20,7 @@ import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Pa
 /** What a worker is started with (src/table/explore-worker.ts). */
 export interface ExploreWorkerData {
   mpqp: MpqpProblem;
-  options: Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp' | 'within'>;
+  options: Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp' | 'within' | 'lean'>;
   index: number;
   count: number;
   /** regions sent by the other workers arrive here (read synchronously) */
@@ -52,7 +52,7 @@ export interface ThreadedExploration {
 }
 
 /** Options of `exploreThreaded`. */
-export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp' | 'within'> {
+export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp' | 'within' | 'lean'> {
   /** worker threads (≥ 1) */
   threads: number;
   /** continue from this state (a checkpoint) */
@@ -147,7 +147,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     const resume = options.resume ? { ...options.resume, stats: w === 0 ? options.resume.stats : zero(), work: w === 0 ? options.resume.work : { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 } } : null;
     const data: ExploreWorkerData = {
       mpqp,
-      options: { maxRegions: options.maxRegions, timeLimit: options.timeLimit, lp: options.lp, within: options.within },
+      options: { maxRegions: options.maxRegions, timeLimit: options.timeLimit, lp: options.lp, within: options.within, lean: options.lean },
       index: w,
       count: W,
       port: port2,

@@ -14,19 +14,67 @@ const K = new Uint32Array([
 
 /** Lowercase hex SHA-256 digest of `text` encoded as UTF-8. */
 export function sha256Hex(text: string): string {
-  const bytes = new TextEncoder().encode(text);
-  const bitLen = bytes.length * 8;
-  const blocks = Math.ceil((bytes.length + 9) / 64);
-  const msg = new Uint8Array(blocks * 64);
-  msg.set(bytes);
-  msg[bytes.length] = 0x80;
-  const dv = new DataView(msg.buffer);
-  dv.setUint32(msg.length - 8, Math.floor(bitLen / 2 ** 32));
-  dv.setUint32(msg.length - 4, bitLen >>> 0);
-  const h = new Uint32Array([0x6a09e667, 0xbb67ae85, 0x3c6ef372, 0xa54ff53a, 0x510e527f, 0x9b05688c, 0x1f83d9ab, 0x5be0cd19]);
-  const w = new Uint32Array(64);
-  const rotr = (x: number, n: number) => (x >>> n) | (x << (32 - n));
-  for (let off = 0; off < msg.length; off += 64) {
+  return new Sha256().update(text).hex();
+}
+
+/**
+ * Incremental SHA-256 over UTF-8 text given in pieces: `update` any number of times, then `hex`
+ * once. The digest equals `sha256Hex` of the concatenated text, so a large table can be hashed
+ * without building one string for it.
+ */
+export class Sha256 {
+  private readonly h = new Uint32Array([0x6a09e667, 0xbb67ae85, 0x3c6ef372, 0xa54ff53a, 0x510e527f, 0x9b05688c, 0x1f83d9ab, 0x5be0cd19]);
+  private readonly w = new Uint32Array(64);
+  /** a partial 64-byte block */
+  private readonly buf = new Uint8Array(64);
+  private readonly view = new DataView(this.buf.buffer);
+  private fill = 0;
+  private bytes = 0;
+  private readonly encoder = new TextEncoder();
+  private done = false;
+
+  /** Add the UTF-8 bytes of `text` (a string) or `bytes`; returns this. */
+  update(data: string | Uint8Array): this {
+    if (this.done) throw new Error('Sha256: update after hex()');
+    const bytes = typeof data === 'string' ? this.encoder.encode(data) : data;
+    this.bytes += bytes.length;
+    let i = 0;
+    if (this.fill > 0) {
+      const take = Math.min(64 - this.fill, bytes.length);
+      this.buf.set(bytes.subarray(0, take), this.fill);
+      this.fill += take;
+      i = take;
+      if (this.fill < 64) return this;
+      this.block(this.view, 0);
+      this.fill = 0;
+    }
+    if (bytes.length - i >= 64) {
+      const dv = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+      for (; i + 64 <= bytes.length; i += 64) this.block(dv, i);
+    }
+    this.buf.set(bytes.subarray(i), 0);
+    this.fill = bytes.length - i;
+    return this;
+  }
+
+  /** The digest as lowercase hex; the hasher is finished afterwards. */
+  hex(): string {
+    if (this.done) throw new Error('Sha256: hex() called twice');
+    const bitLen = this.bytes * 8;
+    const tail = new Uint8Array(this.fill + 9 <= 64 ? 64 : 128);
+    tail.set(this.buf.subarray(0, this.fill));
+    tail[this.fill] = 0x80;
+    const dv = new DataView(tail.buffer);
+    dv.setUint32(tail.length - 8, Math.floor(bitLen / 2 ** 32));
+    dv.setUint32(tail.length - 4, bitLen >>> 0);
+    for (let off = 0; off < tail.length; off += 64) this.block(dv, off);
+    this.done = true;
+    return Array.from(this.h, (x) => x.toString(16).padStart(8, '0')).join('');
+  }
+
+  private block(dv: DataView, off: number): void {
+    const { h, w } = this;
+    const rotr = (x: number, n: number) => (x >>> n) | (x << (32 - n));
     for (let t = 0; t < 16; t++) w[t] = dv.getUint32(off + 4 * t);
     for (let t = 16; t < 64; t++) {
       const s0 = rotr(w[t - 15], 7) ^ rotr(w[t - 15], 18) ^ (w[t - 15] >>> 3);
@@ -55,5 +103,4 @@ export function sha256Hex(text: string): string {
     h[6] += g;
     h[7] += k;
   }
-  return Array.from(h, (x) => x.toString(16).padStart(8, '0')).join('');
 }

@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
-import { sha256Hex } from '../../src/util/sha256.js';
+import { Sha256, sha256Hex } from '../../src/util/sha256.js';
 import { rng } from '../helpers/solved.js';
 
 describe('sha256Hex (pure, for the browser core)', () => {
@@ -18,6 +18,24 @@ describe('sha256Hex (pure, for the browser core)', () => {
       let s = '';
       for (let i = 0; i < len; i++) s += alphabet[Math.floor(rnd() * alphabet.length)];
       expect(sha256Hex(s), `length ${len}`).toBe(createHash('sha256').update(s).digest('hex'));
+    }
+  });
+  it('Sha256 fed in seeded random pieces (strings and bytes) matches node:crypto on the whole text', () => {
+    // reference: node:crypto (OpenSSL's SHA-256) on the concatenation
+    const rnd = rng(29);
+    const alphabet = 'abc019 ,.{}"θ∈±√ü\n';
+    for (let trial = 0; trial < 60; trial++) {
+      const pieces: string[] = [];
+      const n = Math.floor(rnd() * 12);
+      for (let p = 0; p < n; p++) {
+        let s = '';
+        const len = Math.floor(rnd() * (rnd() < 0.2 ? 300 : 70));
+        for (let i = 0; i < len; i++) s += alphabet[Math.floor(rnd() * alphabet.length)];
+        pieces.push(s);
+      }
+      const h = new Sha256();
+      pieces.forEach((p, k) => h.update(k % 2 ? new TextEncoder().encode(p) : p));
+      expect(h.hex(), `trial ${trial}`).toBe(createHash('sha256').update(pieces.join('')).digest('hex'));
     }
   });
 });

@@ -94,6 +94,7 @@ const cdir = mkdtempSync(join(tmpdir(), 'tessera-cli-catalogue-'));
 chmodSync(cdir, 0o755); // readable by the `nobody` runs
 const P = join(cdir, 'motor.json');
 const T = join(cdir, 'motor.table.json');
+const TL = join(cdir, 'motor.lean.json');
 const EMPTY = join(cdir, 'empty.json');
 const RO = join(cdir, 'read-only-dir');
 const AFILE = join(cdir, 'a-file.txt');
@@ -164,6 +165,8 @@ const cliCases: CliCase[] = [
   { title: 'map --window outside the box', args: ['map', T, '--window', '-1:1,-2:1', '-o', 'w.svg'], code: 2, stderr: usage('--window: current: -2:1 leaves the parameter box [-1, 1]') },
   { title: 'map --window malformed', args: ['map', T, '--window', '0-1,0-1', '-o', 'w.svg'], code: 2, stderr: usage('--window: expected x0:x1,y0:y1, got "0-1,0-1"') },
   { title: 'trajectory start outside the box: a warning', args: ['map', T, '--trajectories', INIT_OUT, '-o', 't.svg', '-q'], code: 0, stderr: `tessera: warning: ${INIT_OUT}: initial state 2 lies outside the parameter box (omega = 5 not in [-3, 3]): its start is drawn off the map\n` },
+  // lean tables keep no value function
+  { title: 'map --heat cost on a lean table', args: ['map', TL, '--heat', 'cost', '-o', 'lean-cost.svg'], code: 2, stderr: `tessera: ${TL}: lean: a lean table keeps no value function J*(θ); draw the cost heat map from a table solved without --lean\n`, absent: [join(cdir, 'lean-cost.svg')] },
   // exit code 1: the check found a problem
   { title: 'emit --certify NOT SAFE exits 1', args: ['emit', T, '-o', 'c-unsafe', '--certify', '--tolerance', '1e-300', '--samples', '200'], code: 1, stderr: '', stdout: /^tessera: note: created the directory c-unsafe\n[\s\S]*NOT SAFE at tolerance 1\.00e-300/ },
   { title: 'emit --certify of the double build', args: ['emit', T, '-o', 'c-double', '--precision', 'double', '--certify', '--samples', '200', '-q'], code: 0, stderr: '' },
@@ -181,6 +184,8 @@ beforeAll(async () => {
   if (made.status !== 0) throw new Error(`could not solve the catalogue's table: ${made.stderr}`);
   const part = await runAs(['solve', P, '--part', '1/2', '-o', PART1, '-q']);
   if (part.status !== 0) throw new Error(`could not solve the catalogue's part file: ${part.stderr}`);
+  const lean = await runAs(['solve', P, '--lean', '-o', TL, '-q']);
+  if (lean.status !== 0) throw new Error(`could not solve the catalogue's lean table: ${lean.stderr}`);
   let next = 0;
   const worker = async () => {
     while (next < cliCases.length) {

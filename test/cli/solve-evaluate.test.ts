@@ -98,7 +98,8 @@ describe('tessera solve', () => {
     expect(r.status).toBe(0);
     const t = JSON.parse(readFileSync(tablePath, 'utf8'));
     expect(t.format).toBe('tessera-table');
-    expect(t.version).toBe(2);
+    expect(t.version).toBe(3); // 3 since lean tables (a version 2 file is still read)
+    expect(t.lean).toBe(false);
     expect(Array.isArray(t.regions)).toBe(true);
     expect(t.regions.length).toBeGreaterThan(1);
     expect(t.stats.complete).toBe(true);

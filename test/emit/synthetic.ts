@@ -105,6 +105,7 @@ function finishTable(name: string, cells: Cell[], lower: number[], upper: number
   return {
     format: TABLE_FORMAT,
     version: TABLE_VERSION,
+    lean: false,
     name,
     problem: { synthetic: name },
     problemHash: 'sha256:synthetic-' + name,

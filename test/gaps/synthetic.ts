@@ -118,6 +118,7 @@ export function syntheticTable(o: SyntheticOptions, name = 'synthetic-ramp'): Ta
   return {
     format: 'tessera-table',
     version: TABLE_VERSION,
+    lean: false,
     name,
     problem: null,
     problemHash: 'sha256:synthetic',

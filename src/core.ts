@@ -23,15 +23,17 @@ export { tol, type Tolerances } from './tol.js';
 export { parseProblem, parseProblemText } from './problem/read.js';
 export type { Bounds, LoadedProblem, MpcModel, TerminalKind, SoftLimits, TerminalSet } from './problem/types.js';
 export { formulate, buildMpqp, type Formulation } from './formulation/index.js';
-export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition } from './mpqp/types.js';
+export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition, ExplorationState, ExplorationWork, ShareChannel } from './mpqp/types.js';
 
 // solving
 export { solveProblem, formulateFeasible, setupSize, tableProblem, type SolvedProblem, type SetupSize, type TableProblem, type TableProblemOptions } from './table/solve.js';
 export { solvePartition } from './mpqp/solve.js';
+export { joinPartitions, canonicalNeighbours, compareActiveSets, subBox } from './mpqp/canonical.js';
+export { makePart, parsePartJson, joinParts, makeCheckpoint, parseCheckpointJson, parsePartIndex, PART_FORMAT, CHECKPOINT_FORMAT, RUN_STATE_VERSION, type PartFile, type CheckpointFile, type PartIndex } from './table/part.js';
 export { makeTable, problemHash } from './table/build.js';
 
 // tables: parse, validate, serialise
-export { TABLE_FORMAT, TABLE_VERSION, type TableFile } from './table/format.js';
+export { TABLE_FORMAT, TABLE_VERSION, type TableFile, type TableStats } from './table/format.js';
 export { parseTableJson, checkTable, tableToJson } from './table/table.js';
 export type { Layout, ThetaBlock, ThetaBlockKind, ZBlock, ZBlockKind, FormulationKind } from './formulation/layout.js';
 
@@ -57,6 +59,7 @@ export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/
 
 // emit: search tree, arrays, C, certificate, merging
 export { emit, emitC, treeForTable, tableHash, parseTreeJson, type EmitOptions, type EmitResult } from './emit/index.js';
+export { emitBundle, fixedScaling, type EmitBundle, type EmitBundleOptions, type EmitReport } from './emit/bundle.js';
 export { TARGETS, targetLanguages, targetPrecisions, findTarget } from './emit/targets/index.js';
 export type { EmitTarget, TargetCost, TargetFile } from './emit/targets/target.js';
 export { layoutOf, type LayoutArray, type ElementKind } from './emit/layout.js';
@@ -93,3 +96,4 @@ export { runAudit, auditChecks } from './check/audit.js';
 export type { AuditReport, AuditInputs, CheckResult, Verdict, IdentityData, AgreementData, StabilityData, EmbeddedData, ClosedLoopData } from './check/audit.js';
 export { renderAuditHtml, renderAuditMarkdown, SAFETY_CAUTION, type AuditFigure } from './check/audit-report.js';
 export { checkInvariance, type InvarianceReport, type BoundaryFacet, type AffineSuccessor, type LeavingRegion } from './check/invariance.js';
+export { auditTable, auditHtml, checkAuditable, coverageMaps, embeddedBuild, closedLoopSetup, closedLoopPlot, type AuditOutcome, type AuditTableOptions, type ClosedLoopOptions } from './check/audit-table.js';

@@ -11,15 +11,13 @@ import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { loadProblem, parseProblem } from '../../src/problem/index.js';
-import { solveProblem, type MpqpProblem } from '../../src/index.js';
-import { emitC } from '../../src/emit/index.js';
+import { emitC, loadProblem, parseProblem, solveProblem } from '../../src/index.js';
 import { SEARCH_KINDS } from '../../src/emit/arrays.js';
 import { measureCandidates, pickCandidate } from '../../src/emit/choose.js';
 import { cTarget } from '../../src/emit/targets/c.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { certifyFloat } from '../../src/check/certify.js';
-import type { TableFile } from '../../src/table/format.js';
+import type { MpqpProblem } from '../../src/index.js';
 import { benchMain, makeQp } from './emit.bench.js';
 
 const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
@@ -100,9 +98,7 @@ export async function run(): Promise<void> {
   for (const n of [2, 3, 4, 5, 6]) {
     const loaded = parseProblem(chainProblem(n, HORIZON[n]), `chain-${n}d (bench)`);
     const t0 = Date.now();
-    const solved = solveProblem(loaded, { timeLimit: SOLVE_SECONDS });
-    const { mpqp } = solved;
-    const table: TableFile = solved.table;
+    const { mpqp, table } = solveProblem(loaded, { timeLimit: SOLVE_SECONDS });
     const solveS = (Date.now() - t0) / 1000;
     const points = sampleBox(table.box, 20000, 2026);
     const qpUs = qpMicroseconds(mpqp, points.slice(0, 2000));

@@ -1,6 +1,7 @@
 import { lpMaximizeFrom, chebyshevBall } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
+import { BoxIndex } from './boxindex.js';
 
 /**
  * Point location over polyhedral regions through a hierarchy of uniform grids over the parameter
@@ -272,27 +273,19 @@ export function boundingBoxByLp(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<nu
 }
 
 /**
- * The shared locator of a table's regions: bounding boxes by LP (from each region's Chebyshev
- * centre), then the grid. `locate` returns what `locateSequential` returns, in O(1) regions tested
- * on average.
+ * The shared locator of a finished table's regions: bounding boxes by LP (from each region's
+ * Chebyshev centre), then a k-d tree over them (`BoxIndex`). `locate` returns what
+ * `locateSequential` returns, with a few regions tested per query.
  */
-export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): GridLocator {
-  const loc = new GridLocator(lower, upper);
+export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): BoxIndex {
   const pad = 1e3 * tol.inside;
-  for (const r of regions) {
-    if (r.b.length === 0) {
-      loc.add(r.A, r.b, lower, upper);
-      continue;
-    }
-    const bb = boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad);
-    loc.add(r.A, r.b, bb.lo, bb.hi);
-  }
-  return loc.freeze();
+  const boxes = regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad)));
+  return new BoxIndex(regions, boxes, lower, upper);
 }
 
 interface CachedLocator {
   calls: number;
-  locator: GridLocator | null;
+  locator: BoxIndex | null;
 }
 const cache = new WeakMap<object, CachedLocator>();
 

@@ -15,6 +15,8 @@
 import { tol } from '../tol.js';
 import { LargestFirst } from '../partition/budget.js';
 
+const SPLITS = [0.25, 0.5, 0.75];
+
 /** Build options of a `BoxIndex` (defaults suit tables of 10 to 10⁶ regions). */
 export interface BoxIndexOptions {
   /** stop splitting a cell listing at most this many regions (default 3) */
@@ -144,17 +146,31 @@ export class BoxIndex {
           makeLeaf(job);
           continue;
         }
-        // split the widest side of the cell (relative to the box) at its middle
+        // the split (each axis at 1/4, 1/2, 3/4 of the cell) with the fewest expected tests:
+        // Σ over the sides of (side's share of the cell) × (boxes reaching it)
         let ax = 0;
-        let w = -1;
+        let s = 0.5 * (job.lo[0] + job.hi[0]);
+        let best = Infinity;
         for (let j = 0; j < n; j++) {
-          const wj = (job.hi[j] - job.lo[j]) / Math.max(upper[j] - lower[j], 1e-300);
-          if (wj > w) {
-            w = wj;
-            ax = j;
+          const c0 = job.lo[j];
+          const w = job.hi[j] - c0;
+          if (!(w > 0)) continue;
+          for (const f of SPLITS) {
+            const at = c0 + f * w;
+            let nl = 0;
+            let nr = 0;
+            for (const r of job.items) {
+              if (bl[r * n + j] <= at) nl++;
+              if (bh[r * n + j] >= at) nr++;
+            }
+            const cost = f * nl + (1 - f) * nr;
+            if (cost < best) {
+              best = cost;
+              ax = j;
+              s = at;
+            }
           }
         }
-        const s = 0.5 * (job.lo[ax] + job.hi[ax]);
         const lHi = Float64Array.from(job.hi);
         lHi[ax] = s;
         const rLo = Float64Array.from(job.lo);
@@ -209,25 +225,57 @@ export class BoxIndex {
 
   /** True when region r holds θ within slack (every row ≤ b + slack; NaN θ is in no region). */
   contains(r: number, theta: ArrayLike<number>, slack: number): boolean {
+    return this.violation(r, theta, slack) <= slack;
+  }
+
+  /**
+   * Largest residual max_i(a_i·θ − b_i) of region r at θ (≤ 0: inside exactly); the scan stops at
+   * the first row above `limit` and returns that row's residual. NaN θ gives +Infinity.
+   */
+  violation(r: number, theta: ArrayLike<number>, limit: number = Infinity): number {
     const n = this.n;
     const A = this.A;
     const b = this.b;
+    let worst = -Infinity;
     for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
-      let s = 0;
+      let s = -b[i];
       const o = i * n;
       for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
-      if (!(s <= b[i] + slack)) return false;
+      if (!(s <= limit)) return s === s ? s : Infinity;
+      if (s > worst) worst = s;
     }
-    return true;
+    return worst;
   }
 
-  /** Lowest id of a region holding θ within `slack` (|slack| ≤ 100·tol.inside), or −1. */
+  /** Largest residual of the region the last `locate` returned (−Infinity when it returned −1). */
+  lastViolation = -Infinity;
+
+  /**
+   * The region holding θ, or −1, by the rule of `locatePoint`: the lowest id holding θ exactly
+   * (every row ≤ b), else the region within `slack` (|slack| ≤ 100·tol.inside) with the least
+   * largest residual (ties: lowest id).
+   */
   locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
     const axis = this.axis;
     let k = 0;
     for (let a = axis[0]; a >= 0; a = axis[k]) k = theta[a] <= this.split[k] ? this.left[k] : this.right[k];
     const ids = this.leafIds;
-    for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) if (this.contains(ids[q], theta, slack)) return ids[q];
-    return -1;
+    const exactLimit = slack < 0 ? slack : 0;
+    let near = -1;
+    let nearV = Infinity;
+    for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
+      const r = ids[q];
+      const v = this.violation(r, theta, slack);
+      if (v <= exactLimit) {
+        this.lastViolation = v;
+        return r;
+      }
+      if (v <= slack && v < nearV) {
+        near = r;
+        nearV = v;
+      }
+    }
+    this.lastViolation = near < 0 ? -Infinity : nearV;
+    return near;
   }
 }

@@ -134,8 +134,8 @@ function arrangementProblem(m: number): unknown {
 }
 
 function bigTable(): void {
-  // cells of L lines in general position ≈ L²/2; about 0.45 of them fall in the box here (measured at m = 40)
-  const m = Math.max(20, Math.ceil(Math.sqrt(bigRegions / 0.45 / 2) / 2));
+  // cells of L lines in general position ≈ L²/2; about 0.6 of that count falls in the box here (measured at m = 24)
+  const m = Math.max(20, Math.ceil(Math.sqrt((2 * bigRegions) / 0.6) / 2));
   const raw = arrangementProblem(m);
   const loaded = parseProblem(raw, 'generated');
   const out = mkdtempSync(join(tmpdir(), 'tessera-bigtable-'));

@@ -1,0 +1,105 @@
+import { describe, expect, it } from 'vitest';
+import { join } from 'node:path';
+import { BoxIndex } from '../../src/table/boxindex.js';
+import { boundingBoxByLp, tableLocator } from '../../src/table/locator.js';
+import { loadProblem, solveProblem } from '../../src/index.js';
+import type { TableFile } from '../../src/table/format.js';
+import { arrangementTable } from '../emit/synthetic.js';
+import { gridTable } from '../emit/synthetic.js';
+import { rng } from '../helpers/solved.js';
+
+// Reference: the point-location rule applied literally by a scan written here (not the project's
+// code path): a region holding θ exactly (every row a·θ ≤ b) wins, the lowest index among several;
+// only when none does, the region with the least largest residual within the slack (ties: lowest).
+function reference(t: TableFile, th: ArrayLike<number>, slack: number): number {
+  let near = -1;
+  let nearV = Infinity;
+  for (let i = 0; i < t.regions.length; i++) {
+    const r = t.regions[i];
+    let worst = -Infinity;
+    for (let k = 0; k < r.b.length; k++) {
+      let s = -r.b[k];
+      for (let j = 0; j < th.length; j++) s += r.A[k][j] * th[j];
+      worst = Math.max(worst, Number.isNaN(s) ? Infinity : s);
+    }
+    if (worst <= Math.min(0, slack)) return i;
+    if (worst <= slack && worst < nearV) {
+      near = i;
+      nearV = worst;
+    }
+  }
+  return near;
+}
+
+/** Seeded points: uniform in the box (a little beyond it too), Chebyshev centres, and points on and just beside facets (where the rule matters). */
+function probePoints(t: TableFile, count: number, seed: number): number[][] {
+  const rnd = rng(seed);
+  const n = t.dims.ntheta;
+  const pts: number[][] = [];
+  for (let i = 0; i < count; i++) pts.push(Array.from({ length: n }, (_, j) => t.box.lower[j] + (1.1 * rnd() - 0.05) * (t.box.upper[j] - t.box.lower[j])));
+  for (const r of t.regions.slice(0, 200)) {
+    const c = r.chebyshev.center;
+    pts.push(c.slice());
+    // onto a facet from the centre, then 3e-9 beyond it (inside the slack of the neighbour's side)
+    const k = Math.floor(rnd() * r.b.length);
+    let s = r.b[k];
+    for (let j = 0; j < n; j++) s -= r.A[k][j] * c[j];
+    pts.push(c.map((x, j) => x + s * r.A[k][j]));
+    pts.push(c.map((x, j) => x + (s + 3e-9) * r.A[k][j]));
+  }
+  return pts;
+}
+
+function check(t: TableFile, index: { locate: (th: ArrayLike<number>, slack?: number) => number }, pts: number[][]): void {
+  for (const slack of [1e-8, 0, -1e-6]) for (const p of pts) expect(index.locate(p, slack), `θ = ${p}, slack ${slack}`).toBe(reference(t, p, slack));
+}
+
+describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () => {
+  it('answers exactly as the literal rule on arrangements of random planes (2-D to 5-D)', () => {
+    for (const [n, planes] of [
+      [2, 14],
+      [3, 9],
+      [4, 7],
+      [5, 6],
+    ] as const) {
+      const t = arrangementTable({ lower: Array(n).fill(-1), upper: Array(n).fill(1), planes, seed: 20 + n });
+      const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
+      expect(loc.size).toBe(t.regions.length);
+      check(t, loc, probePoints(t, 1500, 7 * n));
+    }
+  });
+
+  it('a grid of rectangles (many shared facets and corners) and tiny leaf/budget settings', () => {
+    const t = gridTable(9, (i, j) => ({ F: [[i, j]], g: [i - j] }));
+    const boxes = t.regions.map((r) => boundingBoxByLp(r.A, r.b, r.chebyshev.center, 0));
+    for (const options of [{}, { leafSize: 1, listingBudget: 2 }, { leafSize: 1, maxDepth: 3 }, { listingBudget: 1000 }]) {
+      const loc = new BoxIndex(t.regions, boxes, t.box.lower, t.box.upper, options);
+      check(t, loc, probePoints(t, 800, 3));
+    }
+  });
+
+  it('on a solved 4-D table (boom-4d-n8, first 400 regions, lean): same answers, far fewer region tests than a scan', () => {
+    const s = solveProblem(loadProblem(join(import.meta.dirname, '..', 'fixtures', 'scale', 'boom-4d-n8.json')), { maxRegions: 400, lean: true });
+    const t = s.table;
+    const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
+    const pts = probePoints(t, 2000, 11);
+    check(t, loc, pts);
+    let tests = 0;
+    const counting = Object.create(loc) as BoxIndex;
+    counting.violation = (r, th, lim) => {
+      tests++;
+      return loc.violation(r, th, lim);
+    };
+    for (const p of pts) counting.locate(p);
+    expect(tests / pts.length).toBeLessThan(0.1 * t.regions.length);
+  }, 300000);
+
+  it('NaN and far-away θ are in no region', () => {
+    const t = arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 6, seed: 5 });
+    const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
+    expect(loc.locate([Number.NaN, 0, 0])).toBe(-1);
+    expect(loc.locate([0, 0, Number.NaN])).toBe(-1);
+    expect(loc.locate([5, 0, 0])).toBe(-1);
+    expect(loc.locate([0, -7, 0])).toBe(-1);
+  });
+});

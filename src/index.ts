@@ -17,4 +17,5 @@ export { loadProblem } from './problem/load.js';
 export { readTableFile, writeTableFile } from './table/file.js';
 export { readTreeFile } from './emit/tree-file.js';
 export { writeFileAtomic } from './io/atomic.js';
+export { exploreThreaded, ownerOf, type ThreadedOptions, type ThreadedExploration } from './table/threads.js';
 export { readTextInput } from './io/errors.js';

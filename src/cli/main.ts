@@ -3,6 +3,7 @@ import { Command, CommanderError } from 'commander';
 import { InputError } from '../io/errors.js';
 import { EXIT, EXIT_CODES_HELP } from './exit.js';
 import { register as registerSolve } from './solve.js';
+import { register as registerJoin } from './join.js';
 import { register as registerEvaluate } from './evaluate.js';
 import { register as registerEmit } from './emit.js';
 import { register as registerMap } from './map.js';
@@ -25,7 +26,7 @@ program
   .showSuggestionAfterError(true)
   .addHelpText('after', `\n${EXIT_CODES_HELP}`);
 
-for (const reg of [registerSolve, registerEvaluate, registerEmit, registerMap, registerGaps, registerView, registerSimulate, registerAudit]) reg(program);
+for (const reg of [registerSolve, registerJoin, registerEvaluate, registerEmit, registerMap, registerGaps, registerView, registerSimulate, registerAudit]) reg(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {

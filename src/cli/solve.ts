@@ -1,16 +1,22 @@
 import type { Command } from 'commander';
 import { basename, dirname, join } from 'node:path';
-import { Worker } from 'node:worker_threads';
+import { availableParallelism } from 'node:os';
 import { loadProblem } from '../problem/index.js';
 import type { Layout } from '../formulation/layout.js';
-import type { MpqpProblem, Partition, Progress } from '../mpqp/types.js';
+import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
+import { exploreThreaded, type ThreadedOptions } from '../table/threads.js';
+import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex } from '../table/part.js';
+import { subBox } from '../mpqp/canonical.js';
+import { writeFileAtomic } from '../io/atomic.js';
+import { readTextInput } from '../io/errors.js';
 import { makeTable } from '../table/build.js';
+import { joinPartitions } from '../mpqp/canonical.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
 import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
-import type { SolveWorkerData } from './solve-worker.js';
+import { tol } from '../tol.js';
 import { createdNote, positive, SECONDS } from './common.js';
 
 export function defaultTablePath(problemPath: string): string {
@@ -21,41 +27,39 @@ export function defaultTablePath(problemPath: string): string {
 const progressLine = (p: Progress) => `\r  candidates ${p.candidates}  regions ${p.regions}  LPs ${p.lps}  ${p.elapsedSeconds.toFixed(1)} s `;
 
 /**
- * The exploration in a worker thread; Ctrl-C on the main thread asks it to stop, and the promise
- * then resolves with the partial partition (stopReason 'interrupted').
+ * The exploration on worker threads (`exploreThreaded`). Ctrl-C on the main thread asks the workers
+ * to stop; a second Ctrl-C, or workers that do not reach their next check within 3 s, end them at
+ * once. Either way the promise resolves with what was found (stopReason 'interrupted'). A checkpoint
+ * is written every `every` seconds while it runs, when asked for.
  */
-function solveInWorker(mpqp: MpqpProblem, options: SolveWorkerData['options'], onProgress?: (p: Progress) => void): Promise<Partition> {
-  const stop = new Int32Array(new SharedArrayBuffer(4));
-  const ts = import.meta.url.endsWith('.ts'); // run from source under tsx (tests)
-  const worker = new Worker(new URL(ts ? './solve-worker.ts' : './solve-worker.js', import.meta.url), {
-    workerData: { mpqp, options, progress: !!onProgress, stop } satisfies SolveWorkerData,
-    execArgv: ts ? ['--import', 'tsx'] : undefined,
-  });
-  return new Promise((resolve, reject) => {
-    let interrupts = 0;
-    const onSigint = () => {
-      interrupts++;
-      Atomics.store(stop, 0, 1);
-      // a second Ctrl-C, or an exploration that does not reach its next check within 3 s, ends it at once
-      const hard = () => void worker.terminate().then(() => resolve(null as unknown as Partition));
-      if (interrupts > 1) hard();
-      else setTimeout(hard, 3000).unref();
-    };
-    process.on('SIGINT', onSigint);
-    const done = () => process.off('SIGINT', onSigint);
-    worker.on('message', (msg: { type: 'progress'; progress: Progress } | { type: 'done'; partition: Partition }) => {
-      if (msg.type === 'progress') onProgress?.(msg.progress);
-      else {
-        done();
-        resolve(msg.partition);
-        void worker.terminate();
-      }
-    });
-    worker.on('error', (e) => {
-      done();
-      reject(e);
-    });
-  });
+async function explore(
+  mpqp: MpqpProblem,
+  options: ThreadedOptions,
+  checkpoint: { write: (state: ExplorationState) => void; every: number } | null,
+): Promise<{ partition: Partition; state: () => ExplorationState }> {
+  const run = exploreThreaded(mpqp, options);
+  let interrupts = 0;
+  const onSigint = () => {
+    interrupts++;
+    run.stop();
+    if (interrupts > 1) run.terminate();
+    else setTimeout(() => run.terminate(), 3000).unref();
+  };
+  process.on('SIGINT', onSigint);
+  const timer = checkpoint ? setInterval(() => checkpoint.write(run.snapshot()), 1000 * checkpoint.every) : null;
+  try {
+    const partition = await run.result;
+    return { partition, state: run.snapshot };
+  } finally {
+    if (timer) clearInterval(timer);
+    process.off('SIGINT', onSigint);
+  }
+}
+
+/** `<problem>.part-i-of-k.json` beside the problem. */
+export function defaultPartPath(problemPath: string, part: PartIndex): string {
+  const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
+  return join(dirname(problemPath), `${base}.part-${part.index}-of-${part.count}.json`);
 }
 
 export function register(program: Command): void {
@@ -69,15 +73,35 @@ export function register(program: Command): void {
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
     .option('--setup-limit <MiB>', 'refuse problems whose condensed set-up is estimated above this many MiB (default 2048)', positive('--setup-limit', false), 2048)
     .option('--force', 'set up the problem even above --setup-limit')
+    .option('--threads <n>', `worker threads (default: all cores, here ${availableParallelism()}); the table is the same bytes for every n`, positive('--threads', true))
+    .option('--part <i/k>', 'explore only the i-th of k sub-boxes of the parameter box and write a part file (join k of them with `tessera join`)')
+    .option('--checkpoint <file>', 'write the exploration state to this .json file every --checkpoint-every seconds, at a limit and at Ctrl-C')
+    .option(`--checkpoint-every ${SECONDS}`, 'seconds between checkpoints (default 30)', positive('--checkpoint-every', false), 30)
+    .option('--resume <file>', 'continue from a checkpoint of this problem (and go on writing it, unless --checkpoint names another file)')
     .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
     .option('-q, --quiet', 'print nothing but errors')
-    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; lean?: boolean }) => {
+    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean }) => {
       const tStart = performance.now();
       if (opts.lp !== 'kernel' && opts.lp !== 'reference')
         throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
-      const out = opts.output ?? defaultTablePath(problemPath);
-      const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: 'a JSON table' });
+      let part = opts.part === undefined ? null : parsePartIndex(opts.part);
+      const out = opts.output ?? (part ? defaultPartPath(problemPath, part) : defaultTablePath(problemPath));
+      const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: part ? 'a JSON part file' : 'a JSON table' });
+      const checkpointPath = opts.checkpoint ?? opts.resume;
+      if (opts.checkpoint) checkOutputPath(opts.checkpoint, '--checkpoint', { kind: 'file', extensions: ['.json'], what: 'a JSON checkpoint' });
       const loaded = loadProblem(problemPath);
+      let resume: ExplorationState | null = null;
+      let lean = !!opts.lean;
+      if (opts.resume) {
+        const cp = parseCheckpointJson(readTextInput(opts.resume, 'checkpoint'), opts.resume, loaded);
+        const same = (a: PartIndex | null, b: PartIndex | null) => (a ? `${a.index}/${a.count}` : 'the whole box') === (b ? `${b.index}/${b.count}` : 'the whole box');
+        if (opts.part !== undefined && !same(cp.part, part))
+          throw new InputError(opts.resume, 'part', `the checkpoint explores ${cp.part ? `part ${cp.part.index}/${cp.part.count}` : 'the whole box'}, not ${part ? `part ${part.index}/${part.count}` : 'the whole box'}`);
+        if (opts.lean && !cp.lean) throw new InputError(opts.resume, 'lean', 'the checkpoint holds full regions; resume it without --lean (or start again with --lean)');
+        part = cp.part;
+        resume = cp.state;
+        lean = cp.lean;
+      }
       // guard: the condensed problem's size is known from the dimensions before anything is built
       const size = setupSize(loaded);
       if (size) {
@@ -92,29 +116,68 @@ export function register(program: Command): void {
       const { mpqp } = formulation;
       const live = process.stderr.isTTY && !opts.quiet;
       let shown = false;
+      let last: Progress | null = null;
       const t0 = performance.now();
       const setupSeconds = (t0 - tStart) / 1000;
       // the time limit covers set-up as well: the exploration gets what is left
       const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
-      const partition = await solveInWorker(mpqp, { maxRegions: opts.maxRegions, timeLimit, lp: opts.lp as 'kernel' | 'reference', lean: !!opts.lean }, live
-        ? (p) => {
-            shown = true;
-            process.stderr.write(progressLine(p));
-          }
-        : undefined);
+      const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
+      const writeCheckpoint = (state: ExplorationState) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, state, lean)));
+      const { partition, state } = await explore(
+        mpqp,
+        {
+          threads: opts.threads ?? availableParallelism(),
+          maxRegions: opts.maxRegions,
+          timeLimit,
+          lp: opts.lp as 'kernel' | 'reference',
+          lean,
+          within,
+          resume,
+          onProgress: live
+            ? (p) => {
+                shown = true;
+                last = p;
+                process.stderr.write(progressLine(p));
+              }
+            : undefined,
+        },
+        checkpointPath ? { write: writeCheckpoint, every: opts.checkpointEvery } : null,
+      );
       const seconds = (performance.now() - t0) / 1000 + setupSeconds;
+      // a bounded or interrupted run leaves a last checkpoint, and says how to continue
+      const resumeHint = (): string => {
+        if (!checkpointPath) return '';
+        writeCheckpoint(state());
+        const o = opts.output ? ` -o ${out}` : '';
+        return `tessera: checkpoint written to ${checkpointPath}; continue with: tessera solve ${problemPath} --resume ${checkpointPath}${o}\n`;
+      };
       // the progress line ends with a newline when interrupted (it stays visible), else it is erased
-      if (shown) process.stderr.write(partition && partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : '\n');
-      if (!partition || partition.stats.stopReason === 'interrupted') {
-        const where = partition ? ` after ${partition.stats.regions} regions` : '';
-        process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped${where} (${seconds.toFixed(1)} s); no table was written${opts.output ? ` to ${out}` : ''}\n`);
+      // (redrawn first when interrupted: the terminal may have echoed ^C after it)
+      if (shown) process.stderr.write(partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : `${progressLine(last!)}\n`);
+      if (partition.stats.stopReason === 'interrupted') {
+        process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped after ${partition.stats.regions} regions (${seconds.toFixed(1)} s); no ${part ? 'part file' : 'table'} was written${opts.output ? ` to ${out}` : ''}\n`);
+        process.stderr.write(resumeHint());
         process.exit(EXIT.interrupted);
       }
-      const table = makeTable(loaded, formulation, partition, { lean: !!opts.lean });
+      if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
+      else if (!partition.stats.complete) resumeHint();
+      if (part) {
+        writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
+        if (opts.quiet) return;
+        if (created) createdNote(created);
+        const s = partition.stats;
+        process.stdout.write(
+          `${loaded.name}: part ${part.index} of ${part.count}: ${s.regions} regions meet its sub-box, ${s.lps} LPs, ${seconds.toFixed(3)} s\n` +
+            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`),
+        );
+        return;
+      }
+      const canonical = joinPartitions(mpqp, [partition]);
+      const table = makeTable(loaded, formulation, canonical, { lean });
       writeTableFile(out, table);
       if (opts.quiet) return;
       if (created) createdNote(created);
-      const s = partition.stats;
+      const s = canonical.stats;
       const lines = [
         `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
         `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
@@ -123,6 +186,8 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
+      if (s.thinDropped)
+        lines.push(`  note: ${s.thinDropped} region(s) of Chebyshev radius ≤ ${(10 * tol.radius).toExponential(0)} met on the way are left out (thinner than the table's hole bound; the same in every run)`);
       if (s.unresolvedPieces > 0)
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');

@@ -1,4 +1,4 @@
-import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
+import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
 import { solvePointQp } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
@@ -17,12 +17,37 @@ import { tol } from '../tol.js';
  * centre, stepped just across, seeds the next region. A facet whose far side is infeasible lies
  * wholly on the boundary of the (convex) feasible parameter set. The adjacency graph of a
  * partition of a convex set is connected, so this reaches every full-dimensional region.
+ *
+ * `options.within` restricts the exploration to a sub-box: regions are still built over the whole
+ * box (so a region is the same object whichever sub-box finds it), but only the parts of facets
+ * inside the sub-box are covered. The sub-box meets a convex set, so the same connectivity argument
+ * reaches every region meeting it in a full-dimensional piece. `options.resume` continues from the
+ * state a stopped run returned (`Partition.state`) or a checkpoint handed to `onCheckpoint`.
  */
 export function solvePartition(problem: MpqpProblem, options: SolveOptions = {}): Partition {
   const t0 = performance.now();
   const nt = problem.ntheta;
   const lo = problem.box.lower;
   const up = problem.box.upper;
+  const within = options.within ? { lower: Float64Array.from(options.within.lower), upper: Float64Array.from(options.within.upper) } : null;
+  // rows of the sub-box faces that lie inside the box (unit normals): added to every facet frame
+  const cutA: number[][] = [];
+  const cutB: number[] = [];
+  if (within)
+    for (let j = 0; j < nt; j++) {
+      if (within.upper[j] < up[j]) {
+        const e = new Array<number>(nt).fill(0);
+        e[j] = 1;
+        cutA.push(e);
+        cutB.push(within.upper[j]);
+      }
+      if (within.lower[j] > lo[j]) {
+        const e = new Array<number>(nt).fill(0);
+        e[j] = -1;
+        cutA.push(e);
+        cutB.push(-within.lower[j]);
+      }
+    }
   let scale = 0;
   for (let j = 0; j < nt; j++) scale = Math.max(scale, up[j] - lo[j]);
   const step = Math.max(tol.facetStep * scale, 100 * tol.inside);
@@ -50,7 +75,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     lastReport = now;
     options.onProgress({ candidates: stats.candidates, regions: regions.length, lps: lp.lps, qps: stats.qps, elapsedSeconds: (now - t0) / 1000 });
   };
+  const share = options.share;
   const stopNow = (): boolean => {
+    if (share) integrate(share.receive());
     if (options.maxRegions !== undefined && regions.length >= options.maxRegions) return mark('max-regions');
     if (options.timeLimit !== undefined && (performance.now() - t0) / 1000 >= options.timeLimit) return mark('time-limit');
     if (options.shouldStop?.()) return mark('interrupted');
@@ -81,6 +108,45 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   };
 
   /** Build the region of an active set and add it unless it copies a known one; its id, or −2 when it is not full-dimensional. */
+  /** regions whose facets this exploration is to cover (ids; each with the key it stands for), and where it stands */
+  const pending: { id: number; key: string }[] = [];
+  let head = 0;
+  const owns = (key: string): boolean => !share || share.owns(key);
+  const done = new Set<string>(options.resume?.done ?? []);
+  /** Everything needed to continue: the regions known, the keys whose facets are fully covered, the counters. */
+  const exportState = (): ExplorationState => {
+    const processed = new Set(done);
+    return {
+      regions,
+      boxes: bboxes.map((bb) => ({ lo: Array.from(bb.lo), hi: Array.from(bb.hi) })),
+      done: regions.map((R) => R.activeSet.join(',')).filter((k) => processed.has(k)),
+      stats: { ...stats, regions: regions.length, lps: lp.lps },
+      work: { ...work },
+    };
+  };
+  /**
+   * Take in regions found elsewhere (another thread, or a saved state): a key already known is
+   * skipped, a copy of a known region under another active set maps to it; the rest are added with
+   * empty neighbour lists (those held indices of the sender). Owned ones not yet covered are queued.
+   */
+  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[]): void {
+    for (const { region: R, box } of list) {
+      const key = R.activeSet.join(',');
+      if (byActiveSet.has(key)) continue;
+      let id = locate(R.chebyshev.center, -0.5 * R.chebyshev.radius);
+      if (id < 0) {
+        id = regions.length;
+        regions.push({ ...R, id, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) });
+        adjacent.push([]);
+        const bb = { lo: Float64Array.from(box.lo), hi: Float64Array.from(box.hi) };
+        bboxes.push(bb);
+        grid.add(R.A, R.b, bb.lo, bb.hi);
+      }
+      byActiveSet.set(key, id);
+      if (owns(key) && !done.has(key)) pending.push({ id, key });
+    }
+  }
+
   const addRegion = (activeSet: number[], key: string): number => {
     const lp0 = lp.lps;
     const res = buildRegion(problem, activeSet, lp, options.lean);
@@ -100,6 +166,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     bboxes.push(res.bbox);
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
+    if (owns(key)) pending.push({ id, key });
+    share?.found(regions[id], res.bbox);
     report();
     return id;
   };
@@ -133,29 +201,62 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     return addRegion(qp.activeSet, key);
   };
 
-  // first region: the box centre if feasible, else the max-margin point of {(θ, z) : G z − E θ ≤ w, θ ∈ box}
-  const seed = firstSeed(problem, lp);
-  if (seed) {
-    let first = regionAt(seed);
-    for (let tries = 0; first === -2 && tries < 20; tries++) {
-      const p = Float64Array.from(seed);
-      for (let j = 0; j < nt; j++) p[j] = Math.min(up[j], Math.max(lo[j], p[j] + (rand() - 0.5) * 1e-3 * (up[j] - lo[j])));
-      first = regionAt(p);
+  // first region: the (sub-)box centre if feasible, else the max-margin point of {(θ, z) : G z − E θ ≤ w, θ ∈ (sub-)box}
+  const slo = within ? within.lower : lo;
+  const sup = within ? within.upper : up;
+  if (options.resume) {
+    integrate(options.resume.regions.map((region, i) => ({ region, box: options.resume!.boxes[i] })));
+    Object.assign(stats, options.resume.stats, { complete: true, stopReason: 'done' });
+    Object.assign(work, options.resume.work);
+    lp.lps = options.resume.stats.lps;
+  } else if (!share || share.seeds) {
+    const seed = firstSeed(problem, lp, slo, sup);
+    if (seed) {
+      let first = regionAt(seed);
+      for (let tries = 0; first === -2 && tries < 20; tries++) {
+        const p = Float64Array.from(seed);
+        for (let j = 0; j < nt; j++) p[j] = Math.min(sup[j], Math.max(slo[j], p[j] + (rand() - 0.5) * 1e-3 * (sup[j] - slo[j])));
+        first = regionAt(p);
+      }
     }
   }
-  // breadth-first over regions and their facets
-  for (let r = 0; r < regions.length; r++) {
+  share?.seeded();
+  // breadth-first over the regions this exploration owns (all of them when it runs alone)
+  const every = 1000 * (options.checkpointEvery ?? 30);
+  let lastCheckpoint = performance.now();
+  for (;;) {
     if (stopNow()) break;
-    const R = regions[r];
+    if (head === pending.length) {
+      if (!share) break;
+      const got = share.wait();
+      if (!got) {
+        if (options.shouldStop?.()) mark('interrupted'); // stopped by another thread's limit or by Ctrl-C
+        break;
+      }
+      integrate(got);
+      continue;
+    }
+    if (options.onCheckpoint && performance.now() - lastCheckpoint >= every) {
+      options.onCheckpoint(exportState());
+      lastCheckpoint = performance.now();
+    }
+    const { id, key } = pending[head];
+    const R = regions[id];
     for (let f = 0; f < R.facets.length; f++) {
       if (R.facets[f].kind === 'box') continue;
       exploreFacet(R, f);
       if (stats.stopReason !== 'done') break;
     }
+    if (stats.stopReason !== 'done') break;
+    head++;
+    done.add(key);
+    share?.processed(key);
   }
 
   function exploreFacet(R: CriticalRegion, f: number): void {
-    const facet = slicePolytope(R.A, R.b, R.A[f], R.b[f], f, minPiece, bboxes[R.id]);
+    const rowsA = cutA.length ? [...R.A, ...cutA] : R.A;
+    const rowsB = cutA.length ? [...R.b, ...cutB] : R.b;
+    const facet = slicePolytope(rowsA, rowsB, R.A[f], R.b[f], f, minPiece, bboxes[R.id]);
     if (!facet) return;
     const neighbours = R.facets[f].neighbours;
     const slices: Slice[] = [];
@@ -250,13 +351,13 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   stats.regions = regions.length;
   stats.lps = lp.lps;
   report(true);
-  return { regions, stats, work };
+  return stats.complete ? { regions, stats, work, boxes: bboxes } : { regions, stats, work, boxes: bboxes, state: exportState() };
 }
 
-function firstSeed(problem: MpqpProblem, lp: LpEngine): Float64Array | null {
+function firstSeed(problem: MpqpProblem, lp: LpEngine, lower: Float64Array, upper: Float64Array): Float64Array | null {
   const { ntheta: nt, nz, nc } = problem;
   const center = new Float64Array(nt);
-  for (let j = 0; j < nt; j++) center[j] = 0.5 * (problem.box.lower[j] + problem.box.upper[j]);
+  for (let j = 0; j < nt; j++) center[j] = 0.5 * (lower[j] + upper[j]);
   if (solvePointQp(problem, center).feasible) return center;
   // rows over (θ, z): −E θ + G z ≤ w, and the box on θ
   const n = nt + nz;
@@ -270,9 +371,9 @@ function firstSeed(problem: MpqpProblem, lp: LpEngine): Float64Array | null {
   }
   for (let j = 0; j < nt; j++) {
     A[(nc + 2 * j) * n + j] = 1;
-    b[nc + 2 * j] = problem.box.upper[j];
+    b[nc + 2 * j] = upper[j];
     A[(nc + 2 * j + 1) * n + j] = -1;
-    b[nc + 2 * j + 1] = -problem.box.lower[j];
+    b[nc + 2 * j + 1] = -lower[j];
   }
   lp.lps++;
   const start = new Float64Array(n);
@@ -284,18 +385,20 @@ function firstSeed(problem: MpqpProblem, lp: LpEngine): Float64Array | null {
 }
 
 /** A polytope {y : A y ≤ b} in the coordinates of a facet hyperplane. */
-interface Slice {
+export interface Slice {
   A: Float64Array;
   b: Float64Array;
   m: number;
 }
 
-interface FacetFrame extends Slice {
+/** A facet in the coordinates of its hyperplane, with the maps in and out of them. */
+export interface FacetFrame extends Slice {
   dim: number; // d − 1
   /** vertices of the facet in its own coordinates (null when there are too many row sets to try) */
   vertices: () => Float64Array[] | null;
   lift: (y: ArrayLike<number>) => Float64Array;
-  sliceOf: (region: CriticalRegion) => Slice | null;
+  /** the region's rows on the hyperplane (row `skip`, if given, left out) */
+  sliceOf: (region: Pick<CriticalRegion, 'A' | 'b'>, skip?: number) => Slice | null;
   ballSlice: (y: ArrayLike<number>, r: number) => Slice;
 }
 
@@ -303,7 +406,7 @@ interface FacetFrame extends Slice {
  * Coordinates on the hyperplane a·θ = β: θ = a β + N y with N an orthonormal basis of a⊥
  * (Gram–Schmidt on the unit vectors). In 1-D the hyperplane is a point and y is empty.
  */
-function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number, bbox?: BoundingBox): FacetFrame | null {
+export function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number, bbox?: BoundingBox): FacetFrame | null {
   const d = a.length;
   const basis: number[][] = [];
   for (let e = 0; e < d && basis.length < d - 1; e++) {
@@ -367,7 +470,7 @@ function slicePolytope(A: number[][], b: number[], a: number[], beta: number, sk
       return th;
     },
     // a neighbour covers the facet up to coverSlack: slivers thinner than that between two regions count as covered
-    sliceOf: (region) => project(region.A, region.b, -1, coverSlack),
+    sliceOf: (region, skipRow = -1) => project(region.A, region.b, skipRow, coverSlack),
     ballSlice: (y, r) => {
       // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
       const Ab = new Float64Array(2 * dim * dim);
@@ -397,7 +500,7 @@ function sharesHyperplane(S: CriticalRegion, a: number[], beta: number): boolean
 }
 
 /** True when the slice meets the facet in a piece of radius > minRadius. */
-function overlapsFacet(facet: FacetFrame, s: Slice, minRadius: number, lp: LpEngine): boolean {
+export function overlapsFacet(facet: FacetFrame, s: Slice, minRadius: number, lp: LpEngine): boolean {
   const dim = facet.dim;
   if (dim === 0) return containsY(s, []);
   if (dim === 1) {

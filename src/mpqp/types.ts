@@ -96,6 +96,55 @@ export interface SolveOptions {
    * table then says `lean: true` and commands that need either refuse it or say what they leave out
    */
   lean?: boolean;
+  /**
+   * Explore only the part of the parameter box inside this sub-box (same units as the box). Regions
+   * are still whole (built over the full box); a region meeting the sub-box in a full-dimensional
+   * piece is found. Used to split one exploration into parts (`joinPartitions` puts them together).
+   */
+  within?: { lower: ArrayLike<number>; upper: ArrayLike<number> };
+  /** continue a stopped exploration from its state (`Partition.state` or a checkpoint); same problem and `within` */
+  resume?: ExplorationState;
+  /** explore together with other threads (each covers the facets of the regions it owns) */
+  share?: ShareChannel;
+  /** called between regions, at most every `checkpointEvery` seconds, with the state to resume from (shares the region objects) */
+  onCheckpoint?: (state: ExplorationState) => void;
+  /** seconds between checkpoints (default 30) */
+  checkpointEvery?: number;
+}
+
+/**
+ * Where an exploration stands, JSON-ready: the regions found (their neighbour lists are not used
+ * on resumption), a box holding each, and the active-set keys (`activeSet.join(',')`) of the regions
+ * whose facets are fully covered. Resuming covers the facets of every other region.
+ */
+export interface ExplorationState {
+  regions: CriticalRegion[];
+  boxes: { lo: number[]; hi: number[] }[];
+  done: string[];
+  stats: PartitionStats;
+  work: ExplorationWork;
+}
+
+/**
+ * Several explorations of one mpQP sharing their regions (threads; see src/table/threads.ts).
+ * Every exploration builds regions as it goes and announces them; each covers the facets only of
+ * the regions it owns (every key is owned by exactly one). Calls are synchronous.
+ */
+export interface ShareChannel {
+  /** true for the one exploration that looks for the first region */
+  seeds: boolean;
+  /** whether this exploration covers the facets of the region with this active-set key */
+  owns(key: string): boolean;
+  /** a region this exploration built (new to it), with a box holding it */
+  found(region: CriticalRegion, box: { lo: ArrayLike<number>; hi: ArrayLike<number> }): void;
+  /** the first region has been looked for (called once, by every exploration) */
+  seeded(): void;
+  /** the facets of the region with this key are covered */
+  processed(key: string): void;
+  /** regions the others found since the last call (often none) */
+  receive(): { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[];
+  /** block until the others found regions, or return null when every region of every exploration is processed */
+  wait(): { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[] | null;
 }
 
 export interface Progress {
@@ -116,6 +165,8 @@ export interface PartitionStats {
   stopReason: 'done' | 'max-regions' | 'time-limit' | 'interrupted';
   /** facet pieces (radius > 10·tol.radius) across which no full-dimensional region could be built; 0 in a sound table */
   unresolvedPieces: number;
+  /** regions of Chebyshev radius ≤ 10·tol.radius met by the exploration and left out of the canonical form (`joinPartitions`) */
+  thinDropped?: number;
 }
 
 /** How the exploration spent its work (printed and benchmarked; not stored in the table). */
@@ -138,4 +189,8 @@ export interface Partition {
   regions: CriticalRegion[];
   stats: PartitionStats;
   work?: ExplorationWork;
+  /** a box holding each region (by index; not stored in the table), when the exploration knows it */
+  boxes?: { lo: ArrayLike<number>; hi: ArrayLike<number> }[];
+  /** when the exploration stopped early: where it stands, to resume from */
+  state?: ExplorationState;
 }

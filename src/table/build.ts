@@ -26,7 +26,8 @@ export function problemHash(raw: unknown): string {
 
 /**
  * Assemble the table file from the problem as read, its formulation (mpQP and layout) and the
- * computed partition. A lean table (`options.lean`, regions solved with `SolveOptions.lean`) says so.
+ * computed partition (give it in canonical form, `joinPartitions`, for bytes independent of the
+ * run). A lean table (`options.lean`, regions solved with `SolveOptions.lean`) says so.
  */
 export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProblem; layout: Layout }, partition: Partition, options: { lean?: boolean } = {}): TableFile {
   const { mpqp, layout } = formulation;
@@ -51,6 +52,6 @@ export function makeTable(loaded: LoadedProblem, formulation: { mpqp: MpqpProble
     dims: { ntheta: mpqp.ntheta, nu: k, nz: mpqp.nz, nc: mpqp.nc },
     tolerances: { ...tol },
     regions: partition.regions,
-    stats: { ...partition.stats },
+    stats: { regions: partition.stats.regions, complete: partition.stats.complete, stopReason: partition.stats.stopReason, unresolvedPieces: partition.stats.unresolvedPieces },
   };
 }

@@ -1,4 +1,10 @@
 import type { CriticalRegion, PartitionStats } from '../mpqp/types.js';
+
+/**
+ * What a table says about its exploration: only what is the same however it was run (one thread or
+ * many, in parts, resumed). Work counters (LPs, QPs, candidates) depend on that and are printed instead.
+ */
+export type TableStats = Pick<PartitionStats, 'regions' | 'complete' | 'stopReason' | 'unresolvedPieces'>;
 import type { Layout } from '../formulation/layout.js';
 
 /** Tag and version of the table file; bump the version on any change of meaning. */
@@ -12,8 +18,9 @@ export const TABLE_VERSION = 3;
 export const TABLE_VERSIONS_READ: readonly number[] = [2, 3];
 
 /**
- * The table file: deterministic JSON (same problem → byte-identical file). Run-dependent figures
- * (seconds, host) are never stored here; they go to the printed summary.
+ * The table file: deterministic JSON (same problem → byte-identical file, whatever the thread count,
+ * parts or resumptions: regions in canonical order, see src/mpqp/canonical.ts). Run-dependent
+ * figures (seconds, host, work counters) are never stored here; they go to the printed summary.
  */
 export interface TableFile {
   format: typeof TABLE_FORMAT;
@@ -46,5 +53,5 @@ export interface TableFile {
   dims: { ntheta: number; nu: number; nz: number; nc: number };
   tolerances: Record<string, number>;
   regions: CriticalRegion[];
-  stats: PartitionStats;
+  stats: TableStats;
 }

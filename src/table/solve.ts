@@ -7,6 +7,7 @@ import type { Layout } from '../formulation/layout.js';
 import { infeasibleCore } from '../mpqp/infeasible.js';
 import { mergedRowLabel } from '../mpqp/labels.js';
 import { solvePartition } from '../mpqp/solve.js';
+import { joinPartitions } from '../mpqp/canonical.js';
 import { estimateCondensedSize, formatBytes, type CondensedSize } from '../problem/size.js';
 import type { MpqpProblem, Partition, SolveOptions } from '../mpqp/types.js';
 import { parseProblem } from '../problem/read.js';
@@ -23,7 +24,7 @@ export interface SolvedProblem {
   mpqp: MpqpProblem;
   /** the θ/z layout of the formulation (also recorded in the table) */
   layout: Layout;
-  /** the critical regions and exploration statistics */
+  /** the critical regions (canonical order, `joinPartitions`) and exploration statistics */
   partition: Partition;
   /** the table file object (`tableToJson` serialises it; it shares `regions` with `partition`) */
   table: TableFile;
@@ -79,7 +80,8 @@ export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}):
   const formulation = formulateFeasible(loaded);
   const { mpqp, layout } = formulation;
   const t0 = performance.now();
-  const partition = solvePartition(mpqp, options);
+  // canonical form: regions sorted by active set, neighbours from the regions alone (same bytes however explored)
+  const partition = joinPartitions(mpqp, [solvePartition(mpqp, options)]);
   const seconds = (performance.now() - t0) / 1000;
   return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition, { lean: options.lean }), seconds };
 }

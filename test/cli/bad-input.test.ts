@@ -107,6 +107,8 @@ const PTS_UNKNOWN = pts('unknown.csv', 'omega,curent\n0.1,0.2\n');
 const PTS_TWICE = pts('twice.csv', 'omega,omega\n0.1,0.2\n');
 const PTS_MISSING = pts('missing.csv', 'current\n0.1\n');
 const INIT_OUT = pts('init-outside.csv', '0.5,0.1\n5,0.1\n');
+const PART1 = join(cdir, 'motor.part-1-of-2.json');
+const CP_OTHER = pts('other.checkpoint.json', JSON.stringify({ format: 'tessera-checkpoint', version: 1, problemHash: 'sha256:00', part: null, state: { regions: [], boxes: [], done: [] } }));
 
 const runAs = (args: string[], nobody = false) => runCli(args, { cwd: cdir, uid: nobody ? 65534 : undefined, killAfter: 60000 });
 
@@ -143,6 +145,15 @@ const cliCases: CliCase[] = [
   { title: 'audit -o with a .pdf name', args: ['audit', T, '-o', 'report.pdf'], code: 2, stderr: 'tessera: report.pdf: -o: this writes an HTML report; give a file name ending in .html or .htm (not .pdf)\n' },
   { title: 'emit --clamp with a fixed-point build', args: ['emit', T, '-o', 'c-q15', '--precision', 'q15', '--clamp'], code: 2, stderr: usage('--clamp: applies to the float and double builds, not to q15'), absent: [join(cdir, 'c-q15')] },
   { title: 'a missing output directory is created, and said so', args: ['map', T, '-o', 'new/dir/m.svg'], code: 0, stderr: '', stdout: /^tessera: note: created the directory new\/dir\n[\s\S]*written new\/dir\/m\.svg/ },
+  // threads, parts, join and checkpoints
+  { title: 'solve --threads 0', args: ['solve', P, '--threads', '0'], code: 2, stderr: usage('--threads: expected a positive integer, got "0"') },
+  { title: 'solve --part outside 1..k', args: ['solve', P, '--part', '3/2'], code: 2, stderr: usage('--part: expected i/k with 1 ≤ i ≤ k (the i-th of k sub-boxes), got "3/2"') },
+  { title: 'solve --resume from a checkpoint of another problem', args: ['solve', P, '--resume', CP_OTHER, '-o', 'r.table.json'], code: 2, stderr: `tessera: ${CP_OTHER}: problemHash: the checkpoint belongs to another problem than ${P}\n`, absent: [join(cdir, 'r.table.json')] },
+  { title: 'solve --checkpoint without .json', args: ['solve', P, '--checkpoint', 'cp.txt'], code: 2, stderr: 'tessera: cp.txt: --checkpoint: this writes a JSON checkpoint; give a file name ending in .json (not .txt)\n' },
+  { title: 'join with a part missing', args: ['join', PART1, '-o', 'j.table.json'], code: 2, stderr: usage('PART: part 2 of 2 missing'), absent: [join(cdir, 'j.table.json')] },
+  { title: 'join with a part given twice', args: ['join', PART1, PART1, '-o', 'j.table.json'], code: 2, stderr: `tessera: ${PART1}: part: part 1 of 2 is given twice (also ${PART1})\n` },
+  { title: 'join of a table, not a part file', args: ['join', T, '-o', 'j.table.json'], code: 2, stderr: `tessera: ${T}: format: expected "tessera-part" (a part file written by \`tessera solve --part\`), got "tessera-table"\n` },
+  { title: 'join without -o of files not named NAME.part-i-of-k.json', args: ['join', T], code: 2, stderr: usage(`-o: give the table file to write (${T} is not named NAME.part-i-of-k.json)`) },
   // problem with no feasible θ
   { title: 'empty feasible set: the conflicting limits named', args: ['solve', EMPTY, '-o', 'e.table.json'], code: 2, stderr: `tessera: ${EMPTY}: constraints: the feasible set is empty: no θ in the parameter box admits inputs that meet the limits; these limits conflict within the box: volt >= -1 at k = 0 and omega <= 1 at k = 1\n`, absent: [join(cdir, 'e.table.json')] },
   // vocabulary
@@ -171,6 +182,8 @@ beforeAll(async () => {
   chmodSync(RO, 0o555);
   const made = await runAs(['solve', P, '-o', T, '-q']);
   if (made.status !== 0) throw new Error(`could not solve the catalogue's table: ${made.stderr}`);
+  const part = await runAs(['solve', P, '--part', '1/2', '-o', PART1, '-q']);
+  if (part.status !== 0) throw new Error(`could not solve the catalogue's part file: ${part.stderr}`);
   const lean = await runAs(['solve', P, '--lean', '-o', TL, '-q']);
   if (lean.status !== 0) throw new Error(`could not solve the catalogue's lean table: ${lean.stderr}`);
   let next = 0;

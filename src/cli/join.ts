@@ -1,0 +1,38 @@
+import type { Command } from 'commander';
+import { readTextInput, InputError } from '../io/errors.js';
+import { checkOutputPath } from '../io/output.js';
+import { joinParts, parsePartJson } from '../table/part.js';
+import { writeTableFile } from '../table/file.js';
+import { createdNote, CLI } from './common.js';
+
+/** `a/b/x.part-1-of-4.json` → `a/b/x.table.json`; null when the name does not follow that pattern. */
+export function defaultJoinPath(partPath: string): string | null {
+  return /\.part-\d+-of-\d+\.json$/i.test(partPath) ? partPath.replace(/\.part-\d+-of-\d+\.json$/i, '.table.json') : null;
+}
+
+export function register(program: Command): void {
+  program
+    .command('join')
+    .description('join the k part files of `tessera solve --part i/k` into the table one run over the whole box writes (the same bytes)')
+    .argument('<parts...>', 'the k part files (.json), in any order')
+    .option('-o, --output <table>', 'table file to write, .json (default: the first part\'s name with .part-i-of-k replaced by .table)')
+    .option('-q, --quiet', 'print nothing but errors')
+    .action((partPaths: string[], opts: { output?: string; quiet?: boolean }) => {
+      const out = opts.output ?? defaultJoinPath(partPaths[0]);
+      if (!out) throw new InputError(CLI, '-o', `give the table file to write (${partPaths[0]} is not named NAME.part-i-of-k.json)`);
+      const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: 'a JSON table' });
+      const parts = partPaths.map((p) => parsePartJson(readTextInput(p, 'part file'), p));
+      const { table, partition } = joinParts(parts, partPaths);
+      writeTableFile(out, table);
+      if (opts.quiet) return;
+      if (created) createdNote(created);
+      const s = partition.stats;
+      const found = parts.reduce((n, p) => n + p.regions.length, 0);
+      const lines = [
+        `${table.name}: ${s.regions} regions from ${parts.length} parts (${found} listed, a region cut by a sub-box face in every part it meets)`,
+        s.complete ? `  complete: yes — table written to ${out}` : `  complete: NO (a part stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
+      ];
+      if (s.unresolvedPieces > 0) lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
+      process.stdout.write(lines.join('\n') + '\n');
+    });
+}

@@ -1,0 +1,179 @@
+/**
+ * The canonical form of a partition: what makes a table independent of how the exploration was
+ * run (one thread or many, one machine or k parts, stopped and resumed).
+ *
+ * A region is a function of its active set alone (`buildRegion` over the whole box, with the
+ * active set sorted), so two explorations that found the same set of active sets hold the same
+ * regions, bit for bit. What differs is their order and numbering. The canonical form sorts the
+ * regions by active set (the sorted index list, compared entry by entry, a shorter prefix first),
+ * renumbers them, and lists each facet's neighbours in ascending new index, the union of the
+ * neighbours computed again from the regions alone.
+ *
+ * Thin regions: the exploration treats facet pieces of radius ≤ 10·tol.radius as covered (the bound
+ * on any hole of a table), so whether it meets a region that thin depends on where it happened to
+ * land. The canonical form therefore leaves out every region whose Chebyshev radius is ≤ 10·tol.radius:
+ * they are holes within the documented bound, the same in every run, and counted in `stats.thinDropped`.
+ */
+import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats } from './types.js';
+import type { LpEngine } from './region.js';
+import { overlapsFacet, slicePolytope } from './solve.js';
+import { boundingBoxByLp } from '../table/locator.js';
+import { tol } from '../tol.js';
+
+/** Order of two ascending index lists: entry by entry, then the shorter first. */
+export function compareActiveSets(a: readonly number[], b: readonly number[]): number {
+  const n = Math.min(a.length, b.length);
+  for (let i = 0; i < n; i++) if (a[i] !== b[i]) return a[i] - b[i];
+  return a.length - b.length;
+}
+
+/**
+ * Put partitions of the same mpQP together in canonical form: the union of their regions (a region
+ * found by several parts is kept once), sorted by active set, renumbered, and the neighbours of
+ * every facet computed again from the regions alone (`canonicalNeighbours`), so that they do not
+ * depend on the order the exploration happened to cross facets in. One partition in gives its
+ * canonical form. Counters are summed; `complete` only when every part is complete (`stopReason`
+ * the first part's that is not 'done'). The inputs are not modified; the result's regions are new
+ * objects sharing the numeric arrays.
+ */
+export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]): Partition {
+  const byKey = new Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>();
+  const thin = new Set<string>();
+  for (const part of parts)
+    part.regions.forEach((R, i) => {
+      const key = R.activeSet.join(',');
+      if (R.chebyshev.radius <= 10 * tol.radius) thin.add(key);
+      else if (!byKey.has(key)) byKey.set(key, { region: R, box: part.boxes?.[i] ?? null });
+    });
+  const entries = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet));
+  const lp: LpEngine = { lps: 0, reference: false };
+  const boxes = entries.map((e) => {
+    if (e.box) return e.box;
+    lp.lps += 2 * problem.ntheta;
+    return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
+  });
+  const sorted = entries.map((e) => e.region);
+  const neighbours = canonicalNeighbours(problem, sorted, boxes, lp);
+  const regions: CriticalRegion[] = sorted.map((R, id) => ({
+    ...R,
+    id,
+    facets: R.facets.map((f, q) => ({ kind: f.kind, row: f.row, neighbours: neighbours[id][q] })),
+  }));
+  const stats: PartitionStats = { regions: regions.length, candidates: 0, lps: lp.lps, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, thinDropped: thin.size };
+  const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
+  for (const p of parts) {
+    stats.candidates += p.stats.candidates;
+    stats.lps += p.stats.lps;
+    stats.qps += p.stats.qps;
+    stats.unresolvedPieces += p.stats.unresolvedPieces;
+    if (!p.stats.complete && stats.complete) {
+      stats.complete = false;
+      stats.stopReason = p.stats.stopReason;
+    }
+    if (p.work) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += p.work[k];
+  }
+  return { regions, stats, work, boxes };
+}
+
+/**
+ * Neighbours of every non-box facet, from the regions alone: region S is across facet f of R when
+ * S has a facet on the same hyperplane with the opposite orientation (normals within 1e-6, offsets
+ * within 1e-5 times the box scale) and the two facets overlap in a piece of radius > 10·tol.radius
+ * within the hyperplane (the exploration's thinnest piece; intervals in 2-D θ, one Chebyshev LP
+ * otherwise). Candidates are found by sorting every facet by a fixed linear function of its
+ * sign-normalised hyperplane and comparing only facets whose values are within the tolerance, then
+ * their boxes; so no step looks at all regions. Result: per region, per facet, ascending indices.
+ */
+export function canonicalNeighbours(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], lp: LpEngine): number[][][] {
+  const nt = problem.ntheta;
+  let scale = 1;
+  for (let j = 0; j < nt; j++) scale = Math.max(scale, problem.box.upper[j] - problem.box.lower[j]);
+  const aTol = 1e-6;
+  const bTol = 1e-5 * scale;
+  const minPiece = 10 * tol.radius;
+  const weights = Array.from({ length: nt }, (_, j) => 1 / (j + 1.5));
+  const bWeight = 1e-3 / scale;
+  let window = bWeight * bTol;
+  for (const w of weights) window += w * aTol;
+  const out: number[][][] = regions.map((R) => R.facets.map(() => []));
+  const list: { r: number; f: number; v: number; sign: number }[] = [];
+  regions.forEach((R, r) =>
+    R.facets.forEach((fi, f) => {
+      if (fi.kind === 'box') return;
+      const a = R.A[f];
+      let j0 = 0;
+      while (j0 < nt - 1 && Math.abs(a[j0]) <= 1e-3) j0++;
+      const sign = a[j0] < 0 ? -1 : 1;
+      let v = bWeight * sign * R.b[f];
+      for (let j = 0; j < nt; j++) v += weights[j] * sign * a[j];
+      list.push({ r, f, v, sign });
+    }),
+  );
+  list.sort((x, y) => x.v - y.v || x.r - y.r || x.f - y.f);
+  const meets = (x: number, y: number): boolean => {
+    const bx = boxes[x];
+    const by = boxes[y];
+    for (let j = 0; j < nt; j++) if (bx.lo[j] > by.hi[j] + minPiece || by.lo[j] > bx.hi[j] + minPiece) return false;
+    return true;
+  };
+  for (let i = 0; i < list.length; i++) {
+    const P = list[i];
+    const R = regions[P.r];
+    for (let k = i + 1; k < list.length && list[k].v - P.v <= window; k++) {
+      const Q = list[k];
+      if (Q.sign === P.sign || Q.r === P.r) continue;
+      const S = regions[Q.r];
+      // opposite orientation: S's row is −(R's row)
+      let d = Math.abs(R.b[P.f] + S.b[Q.f]);
+      if (d > bTol) continue;
+      d = 0;
+      for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
+      if (d > aTol || !meets(P.r, Q.r)) continue;
+      const frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
+      if (!frame) continue;
+      const slice = frame.sliceOf(S, Q.f);
+      if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) continue;
+      out[P.r][P.f].push(Q.r);
+      out[Q.r][Q.f].push(P.r);
+    }
+  }
+  for (const R of out) for (const f of R) f.sort((x, y) => x - y);
+  return out;
+}
+
+/**
+ * The i-th (0-based) of k sub-boxes of a box: recursive bisection, each time across the axis that
+ * is widest relative to the whole box (lowest index on ties), the k parts shared ⌊k/2⌋ : ⌈k/2⌉ and
+ * the cut placed in that proportion. The k sub-boxes tile the box; each face of a cut is shared by
+ * exactly the sub-boxes on either side. Arrays are new (caller owns them).
+ */
+export function subBox(box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, i: number, k: number): { lower: number[]; upper: number[] } {
+  if (!(Number.isInteger(k) && k >= 1 && Number.isInteger(i) && i >= 0 && i < k)) throw new RangeError(`part ${i} of ${k}`);
+  const lower = Array.from(box.lower);
+  const upper = Array.from(box.upper);
+  const width = lower.map((l, j) => upper[j] - l);
+  let n = k;
+  let at = i;
+  while (n > 1) {
+    let axis = 0;
+    let best = -Infinity;
+    for (let j = 0; j < lower.length; j++) {
+      const rel = width[j] > 0 ? (upper[j] - lower[j]) / width[j] : 0;
+      if (rel > best + 1e-12) {
+        best = rel;
+        axis = j;
+      }
+    }
+    const left = Math.floor(n / 2);
+    const cut = lower[axis] + ((upper[axis] - lower[axis]) * left) / n;
+    if (at < left) {
+      upper[axis] = cut;
+      n = left;
+    } else {
+      lower[axis] = cut;
+      at -= left;
+      n -= left;
+    }
+  }
+  return { lower, upper };
+}

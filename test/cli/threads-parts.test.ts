@@ -1,0 +1,140 @@
+import { describe, it, expect, beforeAll, afterAll } from 'vitest';
+import { spawn, type ChildProcess } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { root, rng, randomInBox } from '../helpers/solved.js';
+import { runCli, builtCli } from '../helpers/cli.js';
+import { qpReference } from '../helpers/reference.js';
+import { loadProblem } from '../../src/problem/index.js';
+import { buildMpqp } from '../../src/formulation/index.js';
+import { parseTableJson, evaluateTable } from '../../src/table/table.js';
+
+// Threads, parts and resumption must not change the table: every run below is compared byte for
+// byte with one uninterrupted single-thread run, and the tables are checked against quadprog
+// (Goldfarb–Idnani dual method, an independent QP solver) at seeded points.
+const problem = join(root, 'test', 'fixtures', 'problems', 'two-carts-4d.json');
+const dir = mkdtempSync(join(tmpdir(), 'tessera-threads-'));
+const at = (f: string) => join(dir, f);
+let reference = '';
+
+function agreesWithQuadprog(file: string): void {
+  const table = parseTableJson(readFileSync(file, 'utf8'), file);
+  const mpqp = buildMpqp(loadProblem(problem));
+  const rnd = rng(8080);
+  let feasible = 0;
+  for (let k = 0; k < 300; k++) {
+    const th = randomInBox(mpqp.box, rnd);
+    const ref = qpReference(mpqp, th);
+    const e = evaluateTable(table, th);
+    expect(e.region >= 0, `θ=${th}`).toBe(ref.feasible);
+    if (!ref.feasible) continue;
+    feasible++;
+    for (let i = 0; i < mpqp.lawSize; i++) expect(Math.abs(e.u![i] - ref.z[i])).toBeLessThan(1e-6 * (1 + Math.abs(ref.z[i])));
+  }
+  expect(feasible).toBeGreaterThan(30);
+}
+
+function watch(child: ChildProcess): Promise<{ code: number | null; signal: NodeJS.Signals | null; stderr: string; stdout: string }> {
+  let stderr = '';
+  let stdout = '';
+  child.stderr?.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+  child.stdout?.setEncoding('utf8').on('data', (d: string) => (stdout += d));
+  return new Promise((r) => child.on('close', (code, signal) => r({ code, signal, stderr, stdout })));
+}
+
+/** Resolve when the checkpoint exists and lists at least one covered region (or the child ended). */
+async function firstCheckpoint(file: string, child: ChildProcess): Promise<boolean> {
+  for (;;) {
+    if (child.exitCode !== null) return false;
+    if (existsSync(file) && statSync(file).size > 0) {
+      const cp = JSON.parse(readFileSync(file, 'utf8'));
+      if (cp.state.done.length > 0) return true;
+    }
+    await new Promise((r) => setTimeout(r, 50));
+  }
+}
+
+beforeAll(async () => {
+  const r = await runCli(['solve', problem, '-o', at('single.json'), '--threads', '1', '-q']);
+  expect(r.status).toBe(0);
+  reference = readFileSync(at('single.json'), 'utf8');
+}, 300_000);
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+describe('solve --threads', () => {
+  it('2 and 3 threads write the same bytes as 1, and the table agrees with quadprog', async () => {
+    for (const n of [2, 3]) {
+      const r = await runCli(['solve', problem, '-o', at(`t${n}.json`), '--threads', String(n)]);
+      expect(r.status, r.stderr).toBe(0);
+      expect(r.stdout).toMatch(/complete: yes/);
+      expect(readFileSync(at(`t${n}.json`), 'utf8') === reference, `${n} threads`).toBe(true);
+    }
+    agreesWithQuadprog(at('single.json'));
+  }, 300_000);
+});
+
+describe('solve --part i/k and join', () => {
+  it('3 parts run as separate processes, joined in any order: the same bytes as one run', async () => {
+    const runs = [1, 2, 3].map((i) => runCli(['solve', problem, '--part', `${i}/3`, '-o', at(`cart.part-${i}-of-3.json`), '--threads', '1']));
+    const ended = await Promise.all(runs);
+    ended.forEach((r, i) => {
+      expect(r.status, r.stderr).toBe(0);
+      expect(r.stdout).toContain(`part ${i + 1} of 3`);
+    });
+    const j = await runCli(['join', at('cart.part-3-of-3.json'), at('cart.part-1-of-3.json'), at('cart.part-2-of-3.json')]);
+    expect(j.status, j.stderr).toBe(0);
+    expect(j.stdout).toMatch(/regions from 3 parts[\s\S]*complete: yes — table written to .*cart\.table\.json/);
+    const joined = readFileSync(at('cart.table.json'), 'utf8');
+    expect(joined === reference).toBe(true);
+    agreesWithQuadprog(at('cart.table.json'));
+  }, 300_000);
+});
+
+describe('checkpoints', () => {
+  it('a run killed with SIGKILL and resumed from its checkpoint writes the same bytes', async () => {
+    const cp = at('kill.checkpoint.json');
+    const child = spawn(process.execPath, [builtCli, 'solve', problem, '-o', at('killed.json'), '--checkpoint', cp, '--checkpoint-every', '0.2', '-q']);
+    const ended = watch(child);
+    const written = await firstCheckpoint(cp, child);
+    expect(written, 'a checkpoint was written before the run ended').toBe(true);
+    child.kill('SIGKILL');
+    const e = await ended;
+    expect(e.signal).toBe('SIGKILL');
+    expect(existsSync(at('killed.json'))).toBe(false);
+    const r = await runCli(['solve', problem, '--resume', cp, '-o', at('killed.json'), '-q']);
+    expect(r.status, r.stderr).toBe(0);
+    expect(readFileSync(at('killed.json'), 'utf8') === reference).toBe(true);
+  }, 300_000);
+
+  it('Ctrl-C writes a last checkpoint, says how to resume (exit 130), and the resumed table is the same bytes', async () => {
+    const cp = at('int.checkpoint.json');
+    const out = at('int.json');
+    const child = spawn(process.execPath, [builtCli, 'solve', problem, '-o', out, '--checkpoint', cp, '--checkpoint-every', '0.2']);
+    const ended = watch(child);
+    const written = await firstCheckpoint(cp, child);
+    expect(written, 'a checkpoint was written before the run ended').toBe(true);
+    child.kill('SIGINT');
+    const e = await ended;
+    expect(e.code).toBe(130); // 128 + SIGINT (common practice)
+    const esc = (s: string) => s.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+    expect(e.stderr).toMatch(
+      new RegExp(`^tessera: interrupted: the solve of ${esc(problem)} was stopped after \\d+ regions \\(\\d+\\.\\d s\\); no table was written to ${esc(out)}\\ntessera: checkpoint written to ${esc(cp)}; continue with: tessera solve ${esc(problem)} --resume ${esc(cp)} -o ${esc(out)}\\n$`),
+    );
+    expect(existsSync(out)).toBe(false);
+    const r = await runCli(['solve', problem, '--resume', cp, '-o', out, '--threads', '2', '-q']);
+    expect(r.status, r.stderr).toBe(0);
+    expect(readFileSync(out, 'utf8') === reference).toBe(true);
+  }, 300_000);
+
+  it('a run stopped by --max-regions leaves a checkpoint that completes the same table', async () => {
+    const cp = at('max.checkpoint.json');
+    const r1 = await runCli(['solve', problem, '-o', at('max.json'), '--max-regions', '60', '--checkpoint', cp]);
+    expect(r1.status).toBe(0);
+    expect(r1.stdout).toMatch(/complete: NO \(stopped: max-regions\)/);
+    expect(r1.stderr).toContain(`tessera: checkpoint written to ${cp}; continue with: tessera solve ${problem} --resume ${cp} -o ${at('max.json')}`);
+    const r2 = await runCli(['solve', problem, '--resume', cp, '-o', at('max.json'), '-q']);
+    expect(r2.status, r2.stderr).toBe(0);
+    expect(readFileSync(at('max.json'), 'utf8') === reference).toBe(true);
+  }, 300_000);
+});

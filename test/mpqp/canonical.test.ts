@@ -1,0 +1,129 @@
+import { describe, it, expect } from 'vitest';
+import { basename } from 'node:path';
+import { exampleFiles, fixtureFiles, solved, rng, randomInBox } from '../helpers/solved.js';
+import { qpReference } from '../helpers/reference.js';
+import { solvePartition } from '../../src/mpqp/solve.js';
+import { joinPartitions, subBox } from '../../src/mpqp/canonical.js';
+import { makeTable } from '../../src/table/build.js';
+import { tableToJson } from '../../src/table/table.js';
+import { evaluateTable } from '../../src/table/table.js';
+import { formulate } from '../../src/formulation/index.js';
+import type { CriticalRegion } from '../../src/mpqp/types.js';
+
+const files = [...exampleFiles, ...fixtureFiles];
+
+describe('canonical form: the same bytes however the exploration is split', () => {
+  for (const file of files) {
+    it(`${basename(file)}: k sub-box parts joined = the single exploration, and the law agrees with quadprog`, () => {
+      const { loaded, table } = solved(file);
+      const formulation = formulate(loaded);
+      const { mpqp } = formulation;
+      const single = tableToJson(table);
+      for (const k of [2, 3]) {
+        const parts = Array.from({ length: k }, (_, i) => solvePartition(mpqp, { within: subBox(mpqp.box, i, k) }));
+        // every part is smaller than the whole and finds only regions meeting its sub-box
+        for (const p of parts) expect(p.stats.complete).toBe(true);
+        const joined = tableToJson(makeTable(loaded, formulation, joinPartitions(mpqp, parts)));
+        expect(joined === single, `${k} parts joined differ from the single exploration`).toBe(true);
+      }
+      // the joined (= canonical) table against quadprog (Goldfarb–Idnani, an independent QP solver)
+      const rnd = rng(777 + basename(file).length);
+      for (let n = 0; n < 300; n++) {
+        const th = randomInBox(mpqp.box, rnd);
+        const ref = qpReference(mpqp, th);
+        const e = evaluateTable(table, th);
+        expect(e.region >= 0, `θ=${th}`).toBe(ref.feasible);
+        if (ref.feasible) for (let i = 0; i < mpqp.lawSize; i++) expect(Math.abs(e.u![i] - ref.z[i])).toBeLessThan(1e-6 * (1 + Math.abs(ref.z[i])));
+      }
+    }, 300_000);
+  }
+});
+
+describe('canonical order and neighbours', () => {
+  it('regions are sorted by active set and numbered in that order', () => {
+    for (const file of files) {
+      const { table } = solved(file);
+      table.regions.forEach((R, i) => {
+        expect(R.id).toBe(i);
+        if (i === 0) return;
+        const a = table.regions[i - 1].activeSet;
+        const b = R.activeSet;
+        // lexicographic on the index lists, a prefix first (common practice for sorting tuples)
+        const cmp = a.map((x, j) => (j < b.length ? x - b[j] : 1)).find((d) => d !== 0) ?? a.length - b.length;
+        expect(cmp, `${basename(file)} regions ${i - 1}, ${i}`).toBeLessThan(0);
+      });
+    }
+  });
+
+  // Reference, written out here for 2-D θ: two cells of a polyhedral partition are neighbours across
+  // a facet when they share a 1-D piece of it (common practice). The facet's segment is clipped
+  // exactly by each other region's half-planes; pieces within a factor 2 of the 2·10⁻⁶ threshold
+  // are not judged.
+  it('2-D: the listed neighbours of every facet are exactly the regions sharing a piece of it', () => {
+    let judged = 0;
+    for (const file of files) {
+      const { table } = solved(file);
+      if (table.dims.ntheta !== 2) continue;
+      const regs = table.regions;
+      regs.forEach((R, r) =>
+        R.facets.forEach((f, q) => {
+          if (f.kind === 'box') return;
+          const seg = segmentOf(R, q, R);
+          if (!seg) return;
+          for (let s = 0; s < regs.length; s++) {
+            if (s === r) continue;
+            const len = clipLength(seg, regs[s]);
+            const listed = f.neighbours.includes(s);
+            if (len > 4e-6) {
+              judged++;
+              expect(listed, `${basename(file)} region ${r} facet ${q}: region ${s} shares ${len}`).toBe(true);
+            } else if (len < 1e-6) expect(listed, `${basename(file)} region ${r} facet ${q}: region ${s} shares only ${len}`).toBe(false);
+          }
+        }),
+      );
+    }
+    expect(judged).toBeGreaterThan(100);
+  });
+});
+
+type Seg = { p: [number, number]; d: [number, number]; t0: number; t1: number };
+
+/** The facet q of R as a segment p + t d, t ∈ [t0, t1], clipped by R's other rows. */
+function segmentOf(R: CriticalRegion, q: number, _self: CriticalRegion): Seg | null {
+  const [a0, a1] = R.A[q];
+  const p: [number, number] = [a0 * R.b[q], a1 * R.b[q]];
+  const d: [number, number] = [-a1, a0];
+  let t0 = -Infinity;
+  let t1 = Infinity;
+  R.A.forEach((row, i) => {
+    if (i === q) return;
+    const ad = row[0] * d[0] + row[1] * d[1];
+    const rest = R.b[i] - (row[0] * p[0] + row[1] * p[1]);
+    if (Math.abs(ad) < 1e-12) return;
+    if (ad > 0) t1 = Math.min(t1, rest / ad);
+    else t0 = Math.max(t0, rest / ad);
+  });
+  return t1 > t0 ? { p, d, t0, t1 } : null;
+}
+
+/**
+ * Length of the part of the segment inside S, S's rows with a slack of 1e-9 (rounding): a shared
+ * edge counts, a neighbour that only touches a vertex at a small angle does not (a larger slack
+ * would count the sliver within it, 1e-7 over an angle α is 1e-7/α long).
+ */
+function clipLength(seg: Seg, S: CriticalRegion): number {
+  let t0 = seg.t0;
+  let t1 = seg.t1;
+  for (let i = 0; i < S.A.length; i++) {
+    const row = S.A[i];
+    const ad = row[0] * seg.d[0] + row[1] * seg.d[1];
+    const rest = S.b[i] + 1e-9 - (row[0] * seg.p[0] + row[1] * seg.p[1]);
+    if (Math.abs(ad) < 1e-9) {
+      if (rest < 0) return 0;
+      continue;
+    }
+    if (ad > 0) t1 = Math.min(t1, rest / ad);
+    else t0 = Math.max(t0, rest / ad);
+  }
+  return Math.max(0, t1 - t0);
+}

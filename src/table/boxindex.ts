@@ -25,6 +25,12 @@ export interface BoxIndexOptions {
   maxDepth?: number;
   /** total leaf listings allowed, as a multiple of the region count (default 24) */
   listingBudget?: number;
+  /**
+   * which region answers when several hold θ: `first` = the lowest id holding θ within the slack
+   * (the rule of `GridLocator.locate` and `locateSequential`); `exact-first` = the lowest id holding
+   * θ exactly, else the least largest residual within the slack (ties: lowest id). Default `first`.
+   */
+  rule?: 'first' | 'exact-first';
 }
 
 /**
@@ -45,6 +51,7 @@ export class BoxIndex {
   private readonly leafFrom: Int32Array;
   private readonly leafTo: Int32Array;
   private readonly leafIds: Int32Array;
+  private readonly exactFirst: boolean;
   /** nodes, leaves, deepest leaf, longest leaf, listings */
   readonly stats: { nodes: number; leaves: number; depth: number; longestLeaf: number; listings: number };
 
@@ -61,6 +68,7 @@ export class BoxIndex {
   ) {
     const n = lower.length;
     this.n = n;
+    this.exactFirst = options.rule === 'exact-first';
     const R = regions.length;
     this.size = R;
     let rows = 0;
@@ -251,16 +259,17 @@ export class BoxIndex {
   lastViolation = -Infinity;
 
   /**
-   * The region holding θ, or −1, by the rule of `locatePoint`: the lowest id holding θ exactly
-   * (every row ≤ b), else the region within `slack` (|slack| ≤ 100·tol.inside) with the least
-   * largest residual (ties: lowest id).
+   * The region holding θ within `slack` (|slack| ≤ 100·tol.inside), or −1, by the index's `rule`:
+   * the lowest id holding θ within the slack (`first`), or the lowest id holding θ exactly (every
+   * row ≤ b) and else the least largest residual within the slack, ties to the lowest id
+   * (`exact-first`).
    */
   locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
     const axis = this.axis;
     let k = 0;
     for (let a = axis[0]; a >= 0; a = axis[k]) k = theta[a] <= this.split[k] ? this.left[k] : this.right[k];
     const ids = this.leafIds;
-    const exactLimit = slack < 0 ? slack : 0;
+    const exactLimit = this.exactFirst ? (slack < 0 ? slack : 0) : slack;
     let near = -1;
     let nearV = Infinity;
     for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {

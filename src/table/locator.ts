@@ -280,7 +280,8 @@ export function boundingBoxByLp(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<nu
 export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): BoxIndex {
   const pad = 1e3 * tol.inside;
   const boxes = regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad)));
-  return new BoxIndex(regions, boxes, lower, upper);
+  // the rule of locateRegion's scan and of GridLocator.locate: the lowest index within the slack
+  return new BoxIndex(regions, boxes, lower, upper, { rule: 'first' });
 }
 
 interface CachedLocator {

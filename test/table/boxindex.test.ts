@@ -8,10 +8,11 @@ import { arrangementTable } from '../emit/synthetic.js';
 import { gridTable } from '../emit/synthetic.js';
 import { rng } from '../helpers/solved.js';
 
-// Reference: the point-location rule applied literally by a scan written here (not the project's
-// code path): a region holding θ exactly (every row a·θ ≤ b) wins, the lowest index among several;
-// only when none does, the region with the least largest residual within the slack (ties: lowest).
-function reference(t: TableFile, th: ArrayLike<number>, slack: number): number {
+// Reference: the point-location rules applied literally by a scan written here (not the project's
+// code path). `exact-first`: a region holding θ exactly (every row a·θ ≤ b) wins, the lowest index
+// among several; only when none does, the region with the least largest residual within the slack
+// (ties: lowest). `first`: the lowest index holding θ within the slack.
+function reference(t: TableFile, th: ArrayLike<number>, slack: number, rule: Rule): number {
   let near = -1;
   let nearV = Infinity;
   for (let i = 0; i < t.regions.length; i++) {
@@ -22,7 +23,7 @@ function reference(t: TableFile, th: ArrayLike<number>, slack: number): number {
       for (let j = 0; j < th.length; j++) s += r.A[k][j] * th[j];
       worst = Math.max(worst, Number.isNaN(s) ? Infinity : s);
     }
-    if (worst <= Math.min(0, slack)) return i;
+    if (worst <= (rule === 'first' ? slack : Math.min(0, slack))) return i;
     if (worst <= slack && worst < nearV) {
       near = i;
       nearV = worst;
@@ -50,9 +51,13 @@ function probePoints(t: TableFile, count: number, seed: number): number[][] {
   return pts;
 }
 
-function check(t: TableFile, index: { locate: (th: ArrayLike<number>, slack?: number) => number }, pts: number[][]): void {
-  for (const slack of [1e-8, 0, -1e-6]) for (const p of pts) expect(index.locate(p, slack), `θ = ${p}, slack ${slack}`).toBe(reference(t, p, slack));
+type Rule = 'first' | 'exact-first';
+
+function check(t: TableFile, index: { locate: (th: ArrayLike<number>, slack?: number) => number }, pts: number[][], rule: Rule): void {
+  for (const slack of [1e-8, 0, -1e-6]) for (const p of pts) expect(index.locate(p, slack), `θ = ${p}, slack ${slack}, ${rule}`).toBe(reference(t, p, slack, rule));
 }
+
+const boxesOf = (t: TableFile) => t.regions.map((r) => boundingBoxByLp(r.A, r.b, r.chebyshev.center, 0));
 
 describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () => {
   it('answers exactly as the literal rule on arrangements of random planes (2-D to 5-D)', () => {
@@ -65,17 +70,21 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
       const t = arrangementTable({ lower: Array(n).fill(-1), upper: Array(n).fill(1), planes, seed: 20 + n });
       const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
       expect(loc.size).toBe(t.regions.length);
-      check(t, loc, probePoints(t, 1500, 7 * n));
+      const pts = probePoints(t, 1500, 7 * n);
+      check(t, loc, pts, 'first');
+      check(t, new BoxIndex(t.regions, boxesOf(t), t.box.lower, t.box.upper, { rule: 'exact-first' }), pts, 'exact-first');
     }
   });
 
   it('a grid of rectangles (many shared facets and corners) and tiny leaf/budget settings', () => {
     const t = gridTable(9, (i, j) => ({ F: [[i, j]], g: [i - j] }));
-    const boxes = t.regions.map((r) => boundingBoxByLp(r.A, r.b, r.chebyshev.center, 0));
-    for (const options of [{}, { leafSize: 1, listingBudget: 2 }, { leafSize: 1, maxDepth: 3 }, { listingBudget: 1000 }]) {
-      const loc = new BoxIndex(t.regions, boxes, t.box.lower, t.box.upper, options);
-      check(t, loc, probePoints(t, 800, 3));
-    }
+    const boxes = boxesOf(t);
+    const pts = probePoints(t, 800, 3);
+    for (const rule of ['first', 'exact-first'] as const)
+      for (const options of [{}, { leafSize: 1, listingBudget: 2 }, { leafSize: 1, maxDepth: 3 }, { listingBudget: 1000 }]) {
+        const loc = new BoxIndex(t.regions, boxes, t.box.lower, t.box.upper, { ...options, rule });
+        check(t, loc, pts, rule);
+      }
   });
 
   it('on a solved 4-D table (boom-4d-n8, first 400 regions, lean): same answers, far fewer region tests than a scan', () => {
@@ -83,7 +92,8 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
     const t = s.table;
     const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
     const pts = probePoints(t, 2000, 11);
-    check(t, loc, pts);
+    check(t, loc, pts, 'first');
+    check(t, new BoxIndex(t.regions, boxesOf(t), t.box.lower, t.box.upper, { rule: 'exact-first' }), pts, 'exact-first');
     let tests = 0;
     const counting = Object.create(loc) as BoxIndex;
     counting.violation = (r, th, lim) => {

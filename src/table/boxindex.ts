@@ -27,8 +27,9 @@ export interface BoxIndexOptions {
   listingBudget?: number;
   /**
    * which region answers when several hold θ: `first` = the lowest id holding θ within the slack
-   * (the rule of `GridLocator.locate` and `locateSequential`); `exact-first` = the lowest id holding
-   * θ exactly, else the least largest residual within the slack (ties: lowest id). Default `first`.
+   * (the rule of tables before exact containment was preferred); `exact-first` = the lowest id
+   * holding θ exactly, else the least largest residual within the slack, ties to the lowest id (the
+   * rule of `locateScan` and `GridLocator.locate`). Default `exact-first`.
    */
   rule?: 'first' | 'exact-first';
 }
@@ -68,7 +69,7 @@ export class BoxIndex {
   ) {
     const n = lower.length;
     this.n = n;
-    this.exactFirst = options.rule === 'exact-first';
+    this.exactFirst = options.rule !== 'first';
     const R = regions.length;
     this.size = R;
     let rows = 0;

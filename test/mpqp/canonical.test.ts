@@ -9,6 +9,7 @@ import { tableToJson } from '../../src/table/table.js';
 import { evaluateTable } from '../../src/table/table.js';
 import { formulate } from '../../src/formulation/index.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
+import { exploreThreaded } from '../../src/table/threads.js';
 
 const files = [...exampleFiles, ...fixtureFiles];
 
@@ -35,6 +36,20 @@ describe('canonical form: the same bytes however the exploration is split', () =
         expect(e.region >= 0, `θ=${th}`).toBe(ref.feasible);
         if (ref.feasible) for (let i = 0; i < mpqp.lawSize; i++) expect(Math.abs(e.u![i] - ref.z[i])).toBeLessThan(1e-6 * (1 + Math.abs(ref.z[i])));
       }
+    }, 300_000);
+  }
+});
+
+describe('canonical form: the same bytes on 2 threads', () => {
+  // the 2-thread table is the single-thread table byte for byte, which agrees with quadprog (above)
+  for (const file of files) {
+    it(`${basename(file)}: 2 worker threads sharing regions = 1 thread`, async () => {
+      const { loaded, table } = solved(file);
+      const formulation = formulate(loaded);
+      const p = await exploreThreaded(formulation.mpqp, { threads: 2 }).result;
+      expect(p.stats.complete).toBe(true);
+      const bytes = tableToJson(makeTable(loaded, formulation, joinPartitions(formulation.mpqp, [p])));
+      expect(bytes === tableToJson(table), '2 threads differ from 1').toBe(true);
     }, 300_000);
   }
 });

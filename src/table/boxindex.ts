@@ -247,11 +247,13 @@ export class BoxIndex {
     const b = this.b;
     let worst = -Infinity;
     for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
-      let s = -b[i];
+      // Σ a_j θ_j first, then − b: the same rounding as the scan (locateScan, regionViolation)
+      let s = 0;
       const o = i * n;
       for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
-      if (!(s <= limit)) return s === s ? s : Infinity;
-      if (s > worst) worst = s;
+      const v = s - b[i];
+      if (!(v <= limit)) return v === v ? v : Infinity;
+      if (v > worst) worst = v;
     }
     return worst;
   }

@@ -19,9 +19,10 @@ function reference(t: TableFile, th: ArrayLike<number>, slack: number, rule: Rul
     const r = t.regions[i];
     let worst = -Infinity;
     for (let k = 0; k < r.b.length; k++) {
-      let s = -r.b[k];
+      let s = 0;
       for (let j = 0; j < th.length; j++) s += r.A[k][j] * th[j];
-      worst = Math.max(worst, Number.isNaN(s) ? Infinity : s);
+      const v = s - r.b[k];
+      worst = Math.max(worst, Number.isNaN(v) ? Infinity : v);
     }
     if (worst <= (rule === 'first' ? slack : Math.min(0, slack))) return i;
     if (worst <= slack && worst < nearV) {

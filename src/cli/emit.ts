@@ -243,7 +243,7 @@ export function register(program: Command): void {
             `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in ${cert.precision}`,
           `  ${cert.verdict}`,
           `  a-priori float bounds: rounding theta ${cert.bounds.inputRounding.toPrecision(3)} (region ${cert.bounds.inputRoundingAt.region}, gain ${cert.bounds.inputRoundingAt.gain.toPrecision(4)}), region overlap ${cert.bounds.overlap.toPrecision(3)}` +
-            (cert.bounds.overlapAt ? ` (region ${cert.bounds.overlapAt.region} facet ${cert.bounds.overlapAt.facet} to ${cert.bounds.overlapAt.neighbour}, law jump ${cert.bounds.overlapAt.jump.toPrecision(4)} x 2 x slack ${cert.bounds.overlapAt.slack.toPrecision(3)})` : ''),
+            (cert.bounds.overlapAt ? ` (region ${cert.bounds.overlapAt.region} facet ${cert.bounds.overlapAt.facet} to ${cert.bounds.overlapAt.neighbour}, law jump ${cert.bounds.overlapAt.jump.toPrecision(4)} x rounding window ${cert.bounds.overlapAt.window.toPrecision(3)})` : ''),
           ...(cert.diagnosis ? [`  diagnosis: ${cert.diagnosis}`] : []),
         );
       }

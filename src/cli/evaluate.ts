@@ -34,7 +34,8 @@ export function register(program: Command): void {
       const table = readTableFile(tablePath);
       if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
       const points: number[][] = [];
-      if (opts.points) points.push(...readPointsCsv(opts.points, table.thetaNames));
+      // one push per point: a spread of 10⁶ points would overflow the call stack
+      if (opts.points) for (const p of readPointsCsv(opts.points, table.thetaNames)) points.push(p);
       if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
       const clamp = !!opts.clamp;
       if (!opts.quiet && !table.stats.complete)

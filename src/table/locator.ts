@@ -1,6 +1,7 @@
 import { lpMaximizeFrom, chebyshevBall } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
+import { BoxIndex } from './boxindex.js';
 
 /**
  * Point location over polyhedral regions through a hierarchy of uniform grids over the parameter
@@ -310,27 +311,20 @@ export function boundingBoxByLp(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<nu
 }
 
 /**
- * The shared locator of a table's regions: bounding boxes by LP (from each region's Chebyshev
- * centre), then the grid. `locate` returns what `locateScan` returns, in O(1) regions tested
- * on average.
+ * The shared locator of a finished table's regions: bounding boxes by LP (from each region's
+ * Chebyshev centre), then a k-d tree over them (`BoxIndex`). `locate` returns what `locateScan`
+ * returns, with a few regions tested per query.
  */
-export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): GridLocator {
-  const loc = new GridLocator(lower, upper);
+export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): BoxIndex {
   const pad = 1e3 * tol.inside;
-  for (const r of regions) {
-    if (r.b.length === 0) {
-      loc.add(r.A, r.b, lower, upper);
-      continue;
-    }
-    const bb = boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad);
-    loc.add(r.A, r.b, bb.lo, bb.hi);
-  }
-  return loc.freeze();
+  const boxes = regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad)));
+  // the rule of locateScan and of GridLocator.locate: exact containment first (lowest index), else the least residual
+  return new BoxIndex(regions, boxes, lower, upper, { rule: 'exact-first' });
 }
 
 interface CachedLocator {
   calls: number;
-  locator: GridLocator | null;
+  locator: BoxIndex | null;
 }
 const cache = new WeakMap<object, CachedLocator>();
 
@@ -347,9 +341,9 @@ export interface Location {
  * row ≤ b; the lowest index among several, as on a shared facet) and, only when none does, the
  * region within `slack` with the least largest residual (ties: lowest index). θ inside region A
  * but within slack of a neighbour B therefore gets A's law, whatever their order. Repeated queries
- * on the same regions array go through a grid locator built on first need (after a few queries, so
- * that a single lookup does not pay for the bounding-box LPs); a slack wider than the grid's
- * padding falls back to the sequential scan, which applies the same rule.
+ * on the same regions array go through a k-d tree (`tableLocator`) built on first need (after a few
+ * queries, so that a single lookup does not pay for the bounding-box LPs); a slack wider than the
+ * tree's padding falls back to the sequential scan, which applies the same rule.
  */
 export function locatePoint(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): Location {
   let entry = cache.get(regions);

@@ -82,8 +82,8 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
 /**
  * Close a complete set of regions under the combinatorial neighbour of every non-box facet (the row
  * added across a primal facet, dropped across a dual one): a guess that is not known yet, gives a
- * full-dimensional region and is no copy of a known one (its centre inside it) is added, and its
- * facets are tried in turn. The explorations are complete up to regions thinner than the covering
+ * full-dimensional region of Chebyshev radius ≤ 10·tol.radius and whose centre lies in no known
+ * region is added, and its facets are tried in turn. The explorations are complete up to regions thinner than the covering
  * slack (10·tol.radius), and whether they meet those depends on where they land; such a region is
  * the combinatorial neighbour of one they all found, so after closing, every run holds it. Visits
  * regions in key order, so the result depends only on the set it starts from. Returns how many
@@ -115,8 +115,9 @@ function closeUnderGuesses(problem: MpqpProblem, byKey: Map<string, { region: Cr
       if (byKey.has(key) || tried.has(key)) continue;
       tried.add(key);
       const res = buildRegion(problem, guess, lp, lean);
-      if (!res.ok) continue;
-      if (grid.locate(res.region.chebyshev.center, -0.5 * res.region.chebyshev.radius) >= 0) continue;
+      // only what the explorations may miss: a thin region whose centre no known region holds
+      if (!res.ok || res.region.chebyshev.radius > 10 * tol.radius) continue;
+      if (grid.locate(res.region.chebyshev.center, tol.inside) >= 0) continue;
       const region: CriticalRegion = { id: -1, ...res.region };
       byKey.set(key, { region, box: res.bbox });
       grid.add(region.A, region.b, res.bbox.lo, res.bbox.hi);

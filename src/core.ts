@@ -59,6 +59,7 @@ export { simulateClosedLoop, parseInitialStates, type PlantModel } from './plot/
 
 // emit: search tree, arrays, C, certificate, merging
 export { emit, emitC, treeForTable, tableHash, parseTreeJson, type EmitOptions, type EmitResult } from './emit/index.js';
+export { emitBundle, fixedScaling, type EmitBundle, type EmitBundleOptions, type EmitReport } from './emit/bundle.js';
 export { TARGETS, targetLanguages, targetPrecisions, findTarget } from './emit/targets/index.js';
 export type { EmitTarget, TargetCost, TargetFile } from './emit/targets/target.js';
 export { layoutOf, type LayoutArray, type ElementKind } from './emit/layout.js';
@@ -95,3 +96,4 @@ export { runAudit, auditChecks } from './check/audit.js';
 export type { AuditReport, AuditInputs, CheckResult, Verdict, IdentityData, AgreementData, StabilityData, EmbeddedData, ClosedLoopData } from './check/audit.js';
 export { renderAuditHtml, renderAuditMarkdown, SAFETY_CAUTION, type AuditFigure } from './check/audit-report.js';
 export { checkInvariance, type InvarianceReport, type BoundaryFacet, type AffineSuccessor, type LeavingRegion } from './check/invariance.js';
+export { auditTable, auditHtml, checkAuditable, coverageMaps, embeddedBuild, closedLoopSetup, closedLoopPlot, type AuditOutcome, type AuditTableOptions, type ClosedLoopOptions } from './check/audit-table.js';

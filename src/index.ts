@@ -19,3 +19,4 @@ export { readTreeFile } from './emit/tree-file.js';
 export { writeFileAtomic } from './io/atomic.js';
 export { exploreThreaded, ownerOf, type ThreadedOptions, type ThreadedExploration } from './table/threads.js';
 export { readTextInput } from './io/errors.js';
+export { staticPage, serveViewer, viewerPayload, viewerAsset, type ViewerData } from './io/viewer.js';

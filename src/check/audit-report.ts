@@ -56,6 +56,7 @@ function details(r: AuditReport, c: CheckResult<unknown>): string {
       ['tolerance', fmt(d.tolerance)],
       ['above the tolerance', String(d.overTolerance)],
       ['law given where the online QP is infeasible', String(d.tableOnly)],
+      ['just outside the feasible set, held by a region within the location slack', String(d.tableOnlyBoundary)],
       ['online QP and feasibility LP feasible, no region', `${d.onlineOnly}${d.firstOnlineOnly ? ` (first ${fmtTheta(names, d.firstOnlineOnly)})` : ''}`],
       ['just outside the feasible set, accepted by quadprog within its tolerance', String(d.onlineOnlyBoundary)],
       ['facet points outside the parameter box (skipped)', String(d.outsideBox)],

@@ -17,7 +17,7 @@ import type { TableFile } from '../table/format.js';
 import type { MpqpProblem } from '../mpqp/types.js';
 import type { MpcModel } from '../problem/types.js';
 import { applyAffine, regionContains } from '../table/table.js';
-import { locateRegion } from '../table/locator.js';
+import { locatePoint, locateRegion } from '../table/locator.js';
 import { tol } from '../tol.js';
 import { facetPoints } from './certify.js';
 import { analyseCoverage, feasibleAt, type CoverageReport } from './gaps.js';
@@ -69,8 +69,13 @@ export interface AgreementData {
   maxAbsDiff: number;
   maxTheta: number[] | null;
   overTolerance: number;
-  /** located by the table where the online QP is infeasible */
+  /** located by the table (inside a region exactly) where the online QP is infeasible */
   tableOnly: number;
+  /**
+   * held by a region only within the location slack (tol.inside; no region holds them exactly)
+   * where the online QP is infeasible: points just outside the feasible set, not a disagreement
+   */
+  tableOnlyBoundary: number;
   /** feasible for the online QP and for the feasibility LP, but in no region (holes) */
   onlineOnly: number;
   /** feasible for the online QP within its tolerance but infeasible for the feasibility LP: points just outside the feasible set */
@@ -210,14 +215,15 @@ export function checkAgreement(inp: AuditInputs): CheckResult<AgreementData> {
   const sample = seededBox(table, samples, seed);
   const facet = facetPoints(table);
   const tolerance = agreementTolerance(table);
-  const d: AgreementData = { samples, seed, facetPoints: facet.length, compared: 0, tolerance, maxAbsDiff: 0, maxTheta: null, overTolerance: 0, tableOnly: 0, onlineOnly: 0, onlineOnlyBoundary: 0, outsideBox: 0, firstOnlineOnly: null, firstTableOnly: null };
+  const d: AgreementData = { samples, seed, facetPoints: facet.length, compared: 0, tolerance, maxAbsDiff: 0, maxTheta: null, overTolerance: 0, tableOnly: 0, tableOnlyBoundary: 0, onlineOnly: 0, onlineOnlyBoundary: 0, outsideBox: 0, firstOnlineOnly: null, firstTableOnly: null };
   const inBox = (th: number[]) => th.every((v, j) => v >= table.box.lower[j] && v <= table.box.upper[j]);
   for (const th of [...sample, ...facet]) {
     if (!inBox(th)) {
       d.outsideBox++;
       continue;
     }
-    const ri = locateRegion(table.regions, th, tol.inside, table.box);
+    // a region holding θ exactly wins over a neighbour that holds it only within the slack
+    const { region: ri, violation } = locatePoint(table.regions, th, tol.inside, table.box);
     const uo = inp.online(th);
     if (ri < 0 && !uo) continue;
     if (ri < 0) {
@@ -230,6 +236,10 @@ export function checkAgreement(inp: AuditInputs): CheckResult<AgreementData> {
       continue;
     }
     if (!uo) {
+      if (violation > 0) {
+        d.tableOnlyBoundary++;
+        continue;
+      }
       d.tableOnly++;
       d.firstTableOnly ??= th;
       continue;
@@ -249,6 +259,7 @@ export function checkAgreement(inp: AuditInputs): CheckResult<AgreementData> {
   let line = `max |Δu| = ${fmt(d.maxAbsDiff)} at ${fmtTheta(names, d.maxTheta)} over ${d.compared} points; ${d.overTolerance} above the tolerance ${fmt(tolerance)}`;
   if (d.tableOnly) line += `; the table gives a law at ${d.tableOnly} point(s) where the online QP is infeasible (first: ${fmtTheta(names, d.firstTableOnly)})`;
   if (d.onlineOnly) line += `; ${d.onlineOnly} feasible point(s) in no region (see coverage)`;
+  if (d.tableOnlyBoundary) line += `; ${d.tableOnlyBoundary} point(s) just outside the feasible set held by a region within the location slack ${fmt(tol.inside)} (the online QP rejects them)`;
   if (d.onlineOnlyBoundary) line += `; ${d.onlineOnlyBoundary} point(s) just outside the feasible set accepted by quadprog within its tolerance (the feasibility LP rejects them)`;
   return {
     name: 'Agreement with the online MPC',

@@ -9,7 +9,7 @@ import { applyAffine } from '../table/table.js';
 import { clampInputs } from '../table/clamp.js';
 import { locateRegion } from '../table/locator.js';
 import { tol } from '../tol.js';
-import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, type EmitArrays } from '../emit/arrays.js';
+import { boxAbsMax, evaluateArrays, FLOAT_U, regionTests, roundUp, type EmitArrays } from '../emit/arrays.js';
 import { sampleBox } from '../emit/sample.js';
 
 /** Default accepted |u_float − u_double|: this fraction of the widest finite input range (or of 1). */
@@ -58,23 +58,78 @@ export interface FloatBounds {
   /** where: region and input of that maximum, and the law's gain Σ_j |F_ij| */
   inputRoundingAt: { region: number; input: number; gain: number };
   /**
-   * overlap: a θ of region N accepted by its neighbour R within R's slack s on the shared facet a·θ ≤ b
-   * carries |u_R(θ) − u_N(θ)| = |δ|·(a·θ − b) ≤ |δ|·2s (continuity: F_R − F_N = δ aᵀ); max over facets
+   * overlap: a θ of region N placed by best fit in its neighbour R across their shared facet a·θ ≤ b of
+   * R lies beyond it by at most the window η = S_R + S_N (the two regions' slacks, which bound the
+   * rounding of the residuals, see floatBounds), so it carries |u_R(θ) − u_N(θ)| = |δ|·(a·θ − b) ≤ |δ|·η
+   * (continuity: F_R − F_N = δ aᵀ); the largest |δ|·η over every facet with a neighbour
    */
   overlap: number;
-  overlapAt: { region: number; facet: number; neighbour: number; jump: number; slack: number } | null;
+  overlapAt: { region: number; facet: number; neighbour: number; jump: number; window: number } | null;
+  /**
+   * facets shared with a neighbour across which the law is not continuous (the two affine pieces
+   * differ on the facet by more than `threshold`, see facetGap): the overlap bound does not
+   * hold there, and a θ within rounding of such a facet may get either side's law in float (and,
+   * within tol.inside, in double). The optimiser of a strictly convex QP is continuous, so a solved
+   * table has such facets only where its laws are inaccurate (thin, nearly degenerate regions); a
+   * hand-made table may have many.
+   */
+  discontinuous: { count: number; maxGap: number; at: { region: number; facet: number; neighbour: number } | null; threshold: number };
 }
 
-/** The a-priori bounds of a float build of `table` (the region slack is the build's per-row slack). */
-export function floatBounds(table: TableFile): FloatBounds {
+/**
+ * The jump of the law across R's facet a·θ = b toward its neighbour N, at p: R's Chebyshev centre
+ * projected onto the facet's plane, max over inputs of |u_R(p) − u_N(p)|; null when p is not within
+ * `near` of N (the contact lies elsewhere: not measured). Zero up to rounding when the law is
+ * continuous across the facet.
+ */
+export function facetGap(R: TableFile['regions'][number], i: number, N: TableFile['regions'][number], near: number): number | null {
+  const c = R.chebyshev.center;
+  const a = R.A[i];
+  let ac = 0;
+  for (let j = 0; j < a.length; j++) ac += a[j] * c[j];
+  const t = R.b[i] - ac;
+  const p = c.map((cj, j) => cj + t * a[j]);
+  for (let q = 0; q < N.A.length; q++) {
+    let s = 0;
+    for (let j = 0; j < p.length; j++) s += N.A[q][j] * p[j];
+    if (s - N.b[q] > near) return null;
+  }
+  const ur = applyAffine(R.law, p);
+  const un = applyAffine(N.law, p);
+  let gap = 0;
+  for (let k = 0; k < ur.length; k++) gap = Math.max(gap, Math.abs(ur[k] - un[k]));
+  return gap;
+}
+
+/** Distance within which a facet point counts as touching the neighbour (facetGap): 10⁻⁶ of the widest box side. */
+function nearFacet(table: TableFile): number {
+  let w = 0;
+  for (let j = 0; j < table.dims.ntheta; j++) w = Math.max(w, table.box.upper[j] - table.box.lower[j]);
+  return 1e-6 * w;
+}
+
+/**
+ * The a-priori bounds of a float build of `table` (best fit, regionSlack of buildArrays).
+ * Overlap: let θ lie in region N in double (every row a·θ − b ≤ tol.inside) and be placed by the
+ * float build in R ≠ N. ρ_X = max_i (a_i·θ − b_i) is the exact slack-free residual of region X and
+ * ρ̂_X its float value, |ρ̂_X − ρ_X| ≤ ε_X (the rounding of the row test, regionTests), and
+ * S_X ≥ 1.01·(tol.inside + ε_X) its slack. Best fit chose R, so ρ̂_R ≤ ρ̂_N, hence
+ * ρ_R ≤ ρ̂_N + ε_R ≤ ρ_N + ε_N + ε_R ≤ tol.inside + ε_N + ε_R ≤ S_N + S_R =: η. On R's facet shared
+ * with N (a unit), θ on N's side gives 0 ≤ a·θ − b ≤ ρ_R ≤ η, and continuity gives
+ * u_R(θ) − u_N(θ) = δ·(a·θ − b): |Δu| ≤ |δ|·η, |δ| the 2-norm of the jump of F's rows.
+ */
+export function floatBounds(table: TableFile, threshold: number = defaultTolerance(table)): FloatBounds {
   const m = boxAbsMax(table.box);
   let inputRounding = 0;
   let inputRoundingAt = { region: -1, input: -1, gain: 0 };
   let overlap = 0;
   let overlapAt: FloatBounds['overlapAt'] = null;
+  const discontinuous: FloatBounds['discontinuous'] = { count: 0, maxGap: 0, at: null, threshold };
+  const near = nearFacet(table);
   const byId = new Map<number, number>();
   table.regions.forEach((r, k) => byId.set(r.id, k));
   const tests = regionTests(table, 'float');
+  const regionSlack = tests.map((t) => roundUp(Math.max(...t.slack)));
   table.regions.forEach((r, k) => {
     r.law.F.forEach((row, i) => {
       let e = 0;
@@ -89,26 +144,36 @@ export function floatBounds(table: TableFile): FloatBounds {
         inputRoundingAt = { region: k, input: i, gain };
       }
     });
-    r.A.forEach((a, i) => {
-      const s = tests[k].slack[i];
+    r.A.forEach((_, i) => {
       for (const id of r.facets?.[i]?.neighbours ?? []) {
         const nk = byId.get(id);
         if (nk === undefined) continue;
         const N = table.regions[nk];
+        const gap = facetGap(r, i, N, near);
+        if (gap !== null && gap > threshold) {
+          // not continuous across this facet: no Lipschitz bound here (counted apart)
+          discontinuous.count++;
+          if (gap > discontinuous.maxGap) {
+            discontinuous.maxGap = gap;
+            discontinuous.at = { region: k, facet: i, neighbour: nk };
+          }
+          continue;
+        }
         let jump = 0;
         r.law.F.forEach((row, q) => {
           let d2 = 0;
           row.forEach((v, j) => (d2 += (v - N.law.F[q][j]) ** 2));
           jump = Math.max(jump, Math.sqrt(d2));
         });
-        if (2 * s * jump > overlap) {
-          overlap = 2 * s * jump;
-          overlapAt = { region: k, facet: i, neighbour: nk, jump, slack: s };
+        const window = regionSlack[k] + regionSlack[nk];
+        if (window * jump > overlap) {
+          overlap = window * jump;
+          overlapAt = { region: k, facet: i, neighbour: nk, jump, window };
         }
       }
     });
   });
-  return { inputRounding, inputRoundingAt, overlap, overlapAt };
+  return { inputRounding, inputRoundingAt, overlap, overlapAt, discontinuous };
 }
 
 /** How the default tolerance is derived, for `--help` and the report. */
@@ -201,9 +266,51 @@ export function compareWithDouble(table: TableFile, evaluate: BuildEvaluator, po
   return { maxAbsDiff, maxAbsDiffSameRegion: maxSame, relocated, relocatedMaxLawDiff, lost, gained, worstTheta };
 }
 
-/** The certificate's point set: seeded uniform sample, facet points, extra points. */
+/**
+ * Points in the rounding window of every facet shared with a neighbour: the Chebyshev centre pushed
+ * exactly onto the facet's plane and to ± the float test's slack of that row (regionTests), where a
+ * float build decides between the two regions by rounding — the points that measure the relocation
+ * error which the overlap bound (floatBounds) covers.
+ */
+export function windowPoints(table: TableFile, threshold: number = defaultTolerance(table)): number[][] {
+  const n = table.dims.ntheta;
+  const tests = regionTests(table, 'float');
+  const byId = new Map<number, number>();
+  table.regions.forEach((r, k) => byId.set(r.id, k));
+  const near = nearFacet(table);
+  const out: number[][] = [];
+  table.regions.forEach((r, k) => {
+    const c = r.chebyshev.center;
+    r.A.forEach((a, i) => {
+      const nbs = (r.facets?.[i]?.neighbours ?? []).map((id) => byId.get(id)).filter((x): x is number => x !== undefined);
+      if (!nbs.length) return;
+      // only where the law is continuous: across a jump of the law itself, a θ within rounding of
+      // the facet has no float-safe answer (floatBounds counts those facets apart)
+      // (and only where that was checked: the facet point must touch the neighbour)
+      if (
+        nbs.some((nk) => {
+          const gap = facetGap(r, i, table.regions[nk], near);
+          return gap === null || gap > threshold;
+        })
+      )
+        return;
+      let ac = 0;
+      for (let j = 0; j < n; j++) ac += a[j] * c[j];
+      const dist = r.b[i] - ac;
+      const s = tests[k].slack[i];
+      for (const t of [dist - s, dist, dist + s]) out.push(c.map((cj, j) => cj + t * a[j]));
+    });
+  });
+  return out;
+}
+
+/** The certificate's point set: seeded uniform sample, facet points (with the rounding window of shared facets), extra points. */
 export function certificatePoints(table: TableFile, options: CertifyOptions): { sample: number[][]; facet: number[][]; extra: number[][] } {
-  return { sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1), facet: facetPoints(table), extra: options.extraPoints ?? [] };
+  return {
+    sample: sampleBox(table.box, options.samples ?? 20000, options.seed ?? 1),
+    facet: [...facetPoints(table), ...windowPoints(table, options.tolerance ?? defaultTolerance(table))],
+    extra: options.extraPoints ?? [],
+  };
 }
 
 /**
@@ -284,11 +391,14 @@ export function certifyBuild(table: TableFile, floatBuild: CertifiedBuild, evalu
     diagnosis = parts.join('; ');
   }
   const total = sample.length + facet.length + extra.length;
-  const bounds = floatBounds(table);
+  const bounds = floatBounds(table, tolerance);
   const verdict = safe
     ? `SAFE at tolerance ${tolerance.toPrecision(3)}: on ${total} points the ${prec} build differs from the double law by at most ${maxAbsDiff.toPrecision(3)}, and no point inside a region is lost in ${prec}` +
       (gained > 0 ? ` (${gained} points just outside every region are located in ${prec}, within its slack ${floatBuild.slack.toPrecision(3)})` : '') +
-      (prec === 'float' ? `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}` : '')
+      (prec === 'float' ? `; θ is taken as float, whose own rounding moves the law by up to ${bounds.inputRounding.toPrecision(3)}` : '') +
+      (bounds.discontinuous.count > 0
+        ? `; note: the law jumps by up to ${bounds.discontinuous.maxGap.toPrecision(3)} across ${bounds.discontinuous.count} facets (region ${bounds.discontinuous.at!.region} facet ${bounds.discontinuous.at!.facet} to region ${bounds.discontinuous.at!.neighbour}), where a θ within rounding of the facet may get either side's law`
+        : '')
     : `NOT SAFE at tolerance ${tolerance.toPrecision(3)}: ` +
       [maxAbsDiff > tolerance ? `max |u_build - u_table| = ${maxAbsDiff.toPrecision(3)} exceeds it` : '', lost > 0 ? `${lost} points inside a region fall outside every region in ${prec}` : '']
         .filter(Boolean)

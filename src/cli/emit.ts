@@ -3,25 +3,18 @@ import { join } from 'node:path';
 import { InputError } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { checkOutputPath } from '../io/output.js';
-import { clampComparisons, hasInputLimits } from '../table/clamp.js';
+import { hasInputLimits } from '../table/clamp.js';
 import { EXIT } from './exit.js';
 import { createdNote } from './common.js';
-import { tableToJson } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
-import type { TableFile } from '../table/format.js';
-import { emit, type SearchChoice, tableHash, treeForTable, type EmitResult } from '../emit/index.js';
+import type { SearchChoice } from '../emit/index.js';
+import { emitBundle, type EmitBundle } from '../emit/bundle.js';
 import { readTreeFile } from '../emit/tree-file.js';
-import type { EmitArrays } from '../emit/arrays.js';
 import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
 import type { TargetCost } from '../emit/targets/target.js';
-import { arraysToCsv, arraysToJson } from '../emit/export.js';
-import { sampleBox } from '../emit/sample.js';
-import { certifyBuild, CERTIFY_TOLERANCE_RULE, type CertifiedBuild, type Certificate } from '../check/certify.js';
-import { certifyFixed, type FixedCertificate } from '../check/certify-fixed.js';
+import { CERTIFY_TOLERANCE_RULE } from '../check/certify.js';
 import { targetCheck, targetCheckLines } from './target-check.js';
-import { FIXED_LAYOUT_TEXT, FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
-import { mergeRegions } from '../partition/merge.js';
-import type { SearchTree } from '../partition/tree.js';
+import { FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
 
 const CLI = '(command line)';
 
@@ -81,19 +74,6 @@ function bytesLine(cost: TargetCost): string {
 const LANGS = targetLanguages();
 const PRECISIONS = [...new Set(LANGS.flatMap(targetPrecisions))];
 
-/** The fixed-point scaling of a build, for the JSON report (bigints as decimal strings). */
-function fixedScaling(b: FixedBuild) {
-  return {
-    format: b.precision,
-    thetaFrac: b.thetaFrac,
-    thetaAccepted: b.thetaLo.map((l, j) => [String(l), String(b.thetaHi[j])]),
-    uFrac: b.uFrac,
-    shifts: { tree: b.nodeShift, regions: b.regionShift, laws: b.lawShift, output: b.outShift },
-    regionMargin: b.slack,
-    lawErrorBound: b.lawErrorBound,
-  };
-}
-
 /** One line per array: count and, per reported precision, element type and bytes. */
 function arrayLines(c: TargetCost): string[] {
   const precs = Object.keys(c.bytes);
@@ -152,124 +132,76 @@ export function register(program: Command): void {
       const created = [checkOutputPath(o.output, '-o', { kind: 'directory' })];
       if (o.report) created.push(checkOutputPath(o.report, '--report', { kind: 'file', extensions: ['.json'], what: 'a JSON report' }));
       if (o.mergedTable) created.push(checkOutputPath(o.mergedTable, '--merged-table', { kind: 'file', extensions: ['.json'], what: 'a JSON table' }));
-      let table = readTableFile(tablePath);
-      if (table.regions.length === 0) throw new InputError(tablePath, 'regions', 'the table has no region: nothing to emit');
-      const incomplete = table.stats?.complete === false;
-      const before = table.regions.length;
-      let merged = false;
-      const writes: [string, string][] = [];
-      if (o.merge || o.mergedTable) {
-        let mshown = false;
-        const m = mergeRegions(
-          table,
-          process.stderr.isTTY
-            ? (p) => {
-                mshown = true;
-                process.stderr.write(`\r  merging: ${p.groupsDone}/${p.groups} law groups, ${p.tests} union tests, ${p.elapsedSeconds.toFixed(1)} s`);
-              }
-            : undefined,
-        );
-        if (mshown) process.stderr.write('\r\x1b[K');
-        table = m.table;
-        merged = true;
-        process.stderr.write(`merge: ${m.stats.before} regions -> ${m.stats.after} (${m.stats.tests} union tests${m.stats.undecided ? `, ${m.stats.undecided} undecided, left apart` : ''})\n`);
-        if (o.mergedTable) writes.push([o.mergedTable, tableToJson(table)]);
-      }
-      const hash = tableHash(table);
-      let tree: SearchTree | undefined;
-      if (o.search === 'tree') {
-        let shown = false;
-        tree = o.tree
-          ? readTreeFile(o.tree, table, hash)
-          : treeForTable(table, {
-              tableHash: hash,
-              leafSize: o.leafSize,
-              // live progress on a terminal only; the summary below gives the final figures
-              onProgress: process.stderr.isTTY
-                ? (p) => {
-                    shown = true;
-                    process.stderr.write(`\r  building tree: ${p.nodes} nodes, ${p.leaves} leaves so far, ${p.elapsedSeconds.toFixed(1)} s`);
-                  }
-                : undefined,
-            });
-        if (shown) process.stderr.write('\r\x1b[K');
-      }
+      // option combinations are checked before any work
       if (o.tree && o.search !== 'tree') throw new InputError(CLI, '--tree', 'a tree side file needs --search tree');
       const fixed = target.id === 'c-fixed';
       if (o.thetaFrac && !fixed) throw new InputError(CLI, '--theta-frac', `applies to the fixed-point precisions only (${targetPrecisions(o.lang).filter((p) => !['float', 'double'].includes(p)).join(', ')})`);
-      if (o.clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
-        process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
-      let res: EmitResult<unknown>;
+      // --target-check cross-builds every precision, fixed point included, which prints tree and sequential search only
+      if (o.targetCheck && o.search !== 'auto' && o.search !== 'tree' && o.search !== 'sequential')
+        throw new InputError(CLI, '--target-check', `cross-checks tree and sequential builds only, not --search ${o.search}`);
+      const input = readTableFile(tablePath);
+      if (input.regions.length === 0) throw new InputError(tablePath, 'regions', 'the table has no region: nothing to emit');
+      // live progress on a terminal only; the summaries below give the final figures
+      let shown = false;
+      const live = (text: string) => {
+        shown = true;
+        process.stderr.write(text);
+      };
+      const endLive = () => {
+        if (shown) process.stderr.write('\r\x1b[K');
+        shown = false;
+      };
+      const tty = process.stderr.isTTY;
+      let bundle: EmitBundle;
       try {
-        // --target-check cross-builds every precision, fixed point included, which prints tree and sequential search only
-        if (o.targetCheck && o.search !== 'auto' && o.search !== 'tree' && o.search !== 'sequential')
-          throw new InputError(CLI, '--target-check', `cross-checks tree and sequential builds only, not --search ${o.search}`);
-        res = emit(table, {
+        bundle = emitBundle(input, {
           lang: o.lang,
           precision: o.precision,
           search: o.search,
           prefix: o.prefix,
-          tree,
-          mergedFrom: merged ? before : undefined,
+          merge: o.merge,
+          mergedTable: !!o.mergedTable,
+          onMergeProgress: tty ? (p) => live(`\r  merging: ${p.groupsDone}/${p.groups} law groups, ${p.tests} union tests, ${p.elapsedSeconds.toFixed(1)} s`) : undefined,
+          tree: o.tree
+            ? (t, hash) => {
+                endLive();
+                return readTreeFile(o.tree!, t, hash);
+              }
+            : undefined,
+          leafSize: o.leafSize,
+          onTreeProgress: tty ? (p) => live(`\r  building tree: ${p.nodes} nodes, ${p.leaves} leaves so far, ${p.elapsedSeconds.toFixed(1)} s`) : undefined,
           thetaFrac: o.thetaFrac,
           clamp: o.clamp,
           searches: o.targetCheck ? ['tree', 'sequential'] : undefined,
+          certify: o.certify ? { samples: o.samples, seed: o.seed, tolerance: o.tolerance } : undefined,
+          arrays: o.arrays,
+          selftest: o.selftest,
+          seed: o.seed,
+          tableFile: tablePath,
         });
       } catch (e) {
+        endLive();
         // a scaling that would overflow is refused like any other bad input: one line, exit 2, nothing written
         if (e instanceof FixedOverflowError) throw new InputError(o.thetaFrac ? CLI : tablePath, o.thetaFrac ? '--theta-frac' : 'regions', e.message);
         throw e;
       }
-      for (const f of res.files) writes.push([join(o.output, f.name), f.text]);
-      const treeFile = res.tree && res.search === 'tree' && !o.tree ? `${o.prefix}.tree.json` : null;
-      if (treeFile) writes.push([join(o.output, treeFile), JSON.stringify(res.tree) + '\n']);
-      let cert: Certificate | null = null;
-      let fcert: FixedCertificate | null = null;
-      if (o.certify && fixed) fcert = certifyFixed(table, res.arrays as FixedBuild, { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
-      // the certificate is of the build that is written, in its own arithmetic (the target's evaluator)
-      else if (o.certify) cert = certifyBuild(table, res.arrays as CertifiedBuild, (th) => target.evaluate(res.arrays, th), { samples: o.samples, seed: o.seed, tolerance: o.tolerance });
-      const tcheck = o.targetCheck ? targetCheck(table, res.search, res.tree, o.prefix) : null;
-      const layout = target.layout(res.arrays);
-      if (o.arrays === 'json')
-        writes.push([join(o.output, `${o.prefix}_arrays.json`), arraysToJson(res.arrays as EmitArrays, layout, fixed ? { scaling: fixedScaling(res.arrays as FixedBuild), layout: FIXED_LAYOUT_TEXT } : o.clamp ? { clamp: (res.arrays as EmitArrays).clamp } : {})]);
-      if (o.arrays === 'csv') for (const [name, text] of arraysToCsv(layout)) writes.push([join(o.output, `${o.prefix}_${name}.csv`), text]);
-      if (o.selftest) {
-        const pts = sampleBox(table.box, o.selftest, o.seed);
-        const st = target.selfTest(res.arrays, o.prefix, pts, pts.map((p) => target.evaluate(res.arrays, p)));
-        writes.push([join(o.output, st.name), st.text]);
+      endLive();
+      const { table, result: res, certificate: cert, fixedCertificate: fcert, treeFile } = bundle;
+      const before = bundle.regionsBefore;
+      const merged = bundle.merge !== null;
+      const incomplete = input.stats?.complete === false;
+      if (bundle.merge) {
+        const m = bundle.merge;
+        process.stderr.write(`merge: ${m.before} regions -> ${m.after} (${m.tests} union tests${m.undecided ? `, ${m.undecided} undecided, left apart` : ''})\n`);
       }
-      const report = {
-        table: tablePath,
-        tableHash: hash,
-        complete: !incomplete,
-        stopReason: table.stats?.stopReason,
-        regions: { before, after: table.regions.length, merged },
-        lang: o.lang,
-        target: target.id,
-        precision: o.precision,
-        search: res.search,
-        searchRequested: o.search,
-        searchReason: res.searchReason,
-        candidates: res.candidates.map((k) => ({
-          search: k.search,
-          worstMultiplyAdds: k.cost?.worstMultiplyAdds ?? null,
-          worstComparisons: k.cost?.worstComparisons ?? null,
-          locationBytes: Number.isFinite(k.location) ? k.location : null,
-          regionBytes: k.regions,
-          floatSafe: k.floatSafe,
-          rejected: k.rejected,
-          buildSeconds: k.buildSeconds,
-        })),
-        slack: (res.arrays as { slack: number }).slack,
-        tree: res.locator ? res.locator.stats : null,
-        clamp: o.clamp ? { limits: table.inputLimits, comparisons: clampComparisons(table.inputLimits, table.dims.nu) } : null,
-        cost: res.cost,
-        certificate: cert ?? fcert,
-        targetCheck: tcheck ?? undefined,
-        overflow: fixed ? (res.arrays as FixedBuild).proof : undefined,
-        scaling: fixed ? fixedScaling(res.arrays as FixedBuild) : undefined,
-      };
-      if (o.report) writes.push([o.report, JSON.stringify(report, (_k, v) => (typeof v === 'bigint' ? v.toString() : v), 1) + '\n']);
+      if (o.clamp && !hasInputLimits(input.inputLimits, input.dims.nu))
+        process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
+      const tcheck = o.targetCheck ? targetCheck(table, res.search, res.tree, o.prefix) : null;
+      if (tcheck) bundle.report.targetCheck = tcheck;
+      const writes: [string, string][] = [];
+      if (o.mergedTable) writes.push([o.mergedTable, bundle.mergedTableJson!]);
+      for (const f of bundle.files) writes.push([join(o.output, f.name), f.text]);
+      if (o.report) writes.push([o.report, JSON.stringify(bundle.report, (_k, v) => (typeof v === 'bigint' ? v.toString() : v), 1) + '\n']);
       // everything is computed before the first write, so a failure leaves no partial output
       for (const [p, text] of writes) writeFileAtomic(p, text);
       if ((cert && !cert.safe) || (fcert && !fcert.safe) || (tcheck && !tcheck.noSoftFloat)) process.exitCode = EXIT.found;
@@ -311,7 +243,7 @@ export function register(program: Command): void {
             `${cert.relocated} relocated (largest law difference ${cert.relocatedMaxLawDiff.toPrecision(3)}), ${cert.lostInFloat} lost in ${cert.precision}`,
           `  ${cert.verdict}`,
           `  a-priori float bounds: rounding theta ${cert.bounds.inputRounding.toPrecision(3)} (region ${cert.bounds.inputRoundingAt.region}, gain ${cert.bounds.inputRoundingAt.gain.toPrecision(4)}), region overlap ${cert.bounds.overlap.toPrecision(3)}` +
-            (cert.bounds.overlapAt ? ` (region ${cert.bounds.overlapAt.region} facet ${cert.bounds.overlapAt.facet} to ${cert.bounds.overlapAt.neighbour}, law jump ${cert.bounds.overlapAt.jump.toPrecision(4)} x 2 x slack ${cert.bounds.overlapAt.slack.toPrecision(3)})` : ''),
+            (cert.bounds.overlapAt ? ` (region ${cert.bounds.overlapAt.region} facet ${cert.bounds.overlapAt.facet} to ${cert.bounds.overlapAt.neighbour}, law jump ${cert.bounds.overlapAt.jump.toPrecision(4)} x rounding window ${cert.bounds.overlapAt.window.toPrecision(3)})` : ''),
           ...(cert.diagnosis ? [`  diagnosis: ${cert.diagnosis}`] : []),
         );
       }

@@ -4,33 +4,29 @@ import { InputError, readTextInput } from '../io/errors.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { checkOutputPath } from '../io/output.js';
 import { createdNote } from './common.js';
-import { applyAffine } from '../table/table.js';
 import { readTableFile } from '../table/file.js';
-import { locateRegion } from '../table/locator.js';
-import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
-import { loadProblem, parseProblem } from '../problem/index.js';
-import { buildMpqp } from '../formulation/index.js';
-import { problemHash } from '../table/build.js';
+import { loadProblem } from '../problem/index.js';
 import type { MpqpProblem } from '../mpqp/types.js';
 import type { LoadedProblem } from '../problem/index.js';
-import { analyseSlice } from '../check/gaps.js';
+import { tableProblem } from '../table/solve.js';
 import { liftPoint, makeSliceSpec, type SliceSpec } from '../partition/slice.js';
-import { renderMapSvg, type ColourBy, type HeatLayer, type Trajectory } from '../plot/svg.js';
-import { LEAN_NO_COST } from '../plot/heat.js';
-import { parseInitialStates, simulateClosedLoop } from '../plot/trajectory.js';
+import type { ColourBy } from '../plot/svg.js';
+import { isMergedTable, LEAN_NO_COST } from '../plot/heat.js';
+import { drawMap } from '../plot/map.js';
+import { parseInitialStates } from '../plot/trajectory.js';
 
 const CLI = '(command line)';
 
-/** The problem behind a table: PROBLEM when given, else the table's own echo of it. */
+/**
+ * The problem behind a table (the library's `tableProblem`): PROBLEM when given, else the table's
+ * own echo of it; warns on stderr when PROBLEM is not the one the table was built from.
+ */
 export function loadTableProblem(table: TableFile, tableFile: string, problemFile?: string): { loaded: LoadedProblem; mpqp: MpqpProblem } {
-  const loaded = problemFile ? loadProblem(problemFile) : parseProblem(table.problem, `${tableFile} (key problem)`);
-  const mpqp = buildMpqp(loaded);
-  if (problemFile && table.problemHash && problemHash(loaded.raw) !== table.problemHash)
+  const tp = tableProblem(table, { tableFile, problem: problemFile ? loadProblem(problemFile) : undefined, problemFile });
+  if (!tp.sameProblem)
     process.stderr.write(`tessera: warning: ${problemFile} is not the problem ${tableFile} was built from (hash differs); feasibility is judged by ${problemFile}\n`);
-  if (mpqp.ntheta !== table.dims.ntheta)
-    throw new InputError(problemFile ?? tableFile, 'parameters', `problem has ${mpqp.ntheta} parameters, the table ${table.dims.ntheta}`);
-  return { loaded, mpqp };
+  return { loaded: tp.loaded, mpqp: tp.mpqp };
 }
 
 /** A θ entry by name or by 0-based index. */
@@ -160,46 +156,27 @@ export function register(program: Command): void {
       const colorGiven = o.colour !== undefined || cmd.getOptionValueSource('color') === 'cli';
       if (!['law', 'active', 'region'].includes(o.color)) throw new InputError(CLI, o.colour !== undefined ? '--colour' : '--color', `expected law, active or region, got "${o.color}"`);
       const axes = parseAxes(table, o.axes);
-      const spec = makeSliceSpec(table.box, axes, parseFix(table, o.fix, axes));
-      if (o.window) spec.rect = parseWindow(o.window, spec.rect, [table.thetaNames[axes[0]], table.thetaNames[axes[1]]]);
-      const { loaded, mpqp } = loadTableProblem(table, tableFile, o.problem);
-
-      let heat: HeatLayer | undefined;
+      const fixed = parseFix(table, o.fix, axes);
+      const window = o.window ? parseWindow(o.window, makeSliceSpec(table.box, axes, fixed).rect, [table.thetaNames[axes[0]], table.thetaNames[axes[1]]]) : undefined;
+      const problem = loadTableProblem(table, tableFile, o.problem);
       if (o.heat) {
-        const ui = table.inputNames.indexOf(o.heat);
-        if (o.heat !== 'cost' && ui < 0) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
-        // a merged region keeps one member's value function, which is exact only on that member
-        if (o.heat === 'cost' && table.regions.some((r) => ((r as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1))
+        // the library refuses the same cases; checked here to name the command-line option
+        if (o.heat !== 'cost' && !table.inputNames.includes(o.heat)) throw new InputError(CLI, '--heat', `expected "cost" or an input name (${table.inputNames.join(', ')}), got "${o.heat}"`);
+        if (o.heat === 'cost' && isMergedTable(table))
           throw new InputError(tableFile, 'regions', 'a merged table holds u(0) laws only; draw the cost heat map from the unmerged table');
         if (o.heat === 'cost' && table.lean) throw new InputError(tableFile, 'lean', LEAN_NO_COST);
         if (colorGiven) process.stderr.write(`tessera: warning: --heat ${o.heat} fills the regions, so --color ${o.color} is not drawn\n`);
-        heat = {
-          label: o.heat === 'cost' ? 'optimal cost J*(θ)' : `${o.heat}(0)`,
-          value: (x, y) => {
-            const th = liftPoint(spec, x, y);
-            const ri = locateRegion(table.regions, th, tol.inside, table.box);
-            if (ri < 0) return null;
-            if (ui >= 0) return applyAffine(table.regions[ri].law, th)[ui];
-            const v = table.regions[ri].value!;
-            let s = v.r;
-            th.forEach((a, i) => {
-              s += v.q[i] * a;
-              th.forEach((b, j) => (s += a * v.Q[i][j] * b));
-            });
-            return s;
-          },
-        };
       }
-      let trajectories: Trajectory[] | undefined;
+      let starts: number[][] | undefined;
       if (o.trajectories) {
-        const m = loaded.model;
-        if (!m) throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
-        const starts = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => (row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1])));
+        if (!problem.loaded.model) throw new InputError(CLI, '--trajectories', 'closed-loop trajectories need an MPC table; this table holds a directly given mpQP');
+        const spec = makeSliceSpec(table.box, axes, fixed);
+        if (window) spec.rect = window;
+        starts = readInitialStates(o.trajectories, table.dims.ntheta).map((row) => (row.length === table.dims.ntheta ? row : liftPoint(spec, row[0], row[1])));
         for (const w of trajectoryStartWarnings(starts, spec, table.box, table.thetaNames)) process.stderr.write(`tessera: warning: ${o.trajectories}: ${w}\n`);
-        trajectories = starts.map((th0) => simulateClosedLoop(table, m, th0, o.steps));
       }
-      const slice = analyseSlice(table, mpqp, spec);
-      const res = renderMapSvg(table, slice, { colourBy: o.color as ColourBy, heat, trajectories });
+      const res = drawMap(table, problem, { axes, fixed, window, colourBy: o.color as ColourBy, heat: o.heat, trajectories: starts ? { starts, steps: o.steps } : undefined });
+      const slice = res.slice;
       writeFileAtomic(o.output!, res.svg);
       if (o.quiet) return;
       if (created) createdNote(created);

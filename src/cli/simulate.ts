@@ -11,7 +11,6 @@ import { loadProblem } from '../problem/index.js';
 import type { MpcModel } from '../problem/types.js';
 import { thetaBlock } from '../formulation/layout.js';
 import {
-  limitsOf,
   nominalFailure,
   plantOf,
   sampleCoveredStarts,
@@ -23,8 +22,7 @@ import {
   type SimulationSetup,
   type SimulationSummary,
 } from '../check/simulate.js';
-import { solveOnlineQp } from '../check/onlineqp.js';
-import { renderTimePlotSvg } from '../plot/timeplot.js';
+import { closedLoopPlot, closedLoopSetup } from '../check/audit-table.js';
 import { loadTableProblem, nonNegativeInt, positiveInt } from './map.js';
 
 const CLI = '(command line)';
@@ -224,38 +222,11 @@ export function register(program: Command): void {
       }
 
       const plant = o.plant ? truePlant(o.plant, model) : undefined;
-      const setup: SimulationSetup = {
-        table,
-        nominal: plantOf(model as MpcModel & { Bd?: number[][] | null }),
-        plant,
-        limits: limitsOf(model).hard,
-        softLimits: limitsOf(model).soft,
-        names: { states: model.stateNames, inputs: model.inputNames, outputs: model.outputNames },
-        online: (th) => {
-          const r = solveOnlineQp(mpqp, th);
-          return r.feasible ? r.z.slice(0, table.layout.lawSize) : null;
-        },
-        steps: o.steps,
-        reference: reference ?? undefined,
-        disturbance: disturbance ?? undefined,
-        noise,
-        clamp: o.clamp,
-      };
+      const setup = closedLoopSetup(table, model, mpqp, { steps: o.steps, reference: reference ?? undefined, disturbance: disturbance ?? undefined, noise, clamp: o.clamp, plant });
       const runs: RunResult[] = starts.map((s, i) => simulateRun(setup, i, s.x, s.uPrev));
       const summary = summarise(setup, runs);
       if (o.csv) writeFileAtomic(o.csv, simulationCsv(setup, runs));
-      if (o.svg)
-        writeFileAtomic(
-          o.svg,
-          renderTimePlotSvg(runs, {
-            title: `${table.name}: closed loop under the table law`,
-            names: setup.names,
-            limits: setup.limits,
-            softLimits: setup.softLimits,
-            tracked: refBlock?.refersTo ?? [],
-            outputsAreStates: !distBlock && model.C.length === n && model.C.every((row, i) => row.every((v, j) => v === (i === j ? 1 : 0))),
-          }),
-        );
+      if (o.svg) writeFileAtomic(o.svg, closedLoopPlot(table, model, setup, runs, `${table.name}: closed loop under the table law`));
       if (!table.stats.complete) process.stderr.write(`tessera: warning: ${tableFile} is INCOMPLETE (stopped: ${table.stats.stopReason}); steps with no region may be unexplored parts\n`);
       // exit 1 judges the table: the nominal plant with exact measurements; mismatch and noise runs are reported only
       const judged = !o.plant && !(noise && noise.std.some((v) => v > 0));

@@ -29,6 +29,12 @@ export function planeSearch(search: SearchKind): boolean {
 /** Unit roundoff of IEEE single precision, 2⁻²⁴ (a machine constant, not a tolerance). */
 export const FLOAT_U = 2 ** -24;
 
+/** The smallest float ≥ x (x ≥ 0 finite): a slack that rounding may not shrink. */
+export function roundUp(x: number): number {
+  const f = Math.fround(x);
+  return f >= x ? f : Math.fround(f + f * 2 ** -23 + Number.MIN_VALUE);
+}
+
 /**
  * Proven rounding bound of one float region test, fl(Σ fl(â_j θ̂_j)) ≤ fl(b + s), against the exact
  * a·θ ≤ b + s, with a, θ and b + s rounded to float and the sum taken from the first product:
@@ -127,7 +133,11 @@ export interface EmitArrays extends SearchIndex {
   ntheta: number;
   nu: number;
   regionCount: number;
-  /** largest slack added to a region bound before rounding (regionB = round(b − a·c + slack), per row, see regionTests) */
+  /**
+   * largest slack of a region test (see regionTests). Double builds add it to the bound
+   * (regionB = b + tol.inside); float builds keep regionB = round(b − a·c) without slack and
+   * compare each residual with the region's own slack regionSlack[r]
+   */
   slack: number;
   /**
    * real arrays, every entry already rounded to `precision`. nodePlane holds each tree node's own
@@ -147,10 +157,18 @@ export interface EmitArrays extends SearchIndex {
   /** per region nθ centre coordinates (empty: plain law u = F θ + g) */
   lawC: number[];
   /**
+   * float builds: per region the slack of its test, the largest of its rows' proven slacks (rounded
+   * up to a float); a row holds when fl(a·(θ − c) − b) ≤ regionSlack[r]. Keeping the slack out of
+   * regionB makes the best-fit residual slack-free, so regions are ranked by how far θ really lies
+   * beyond their facets, not by how wide their slack is. Empty in double builds.
+   */
+  regionSlack: number[];
+  /**
    * best-fit location (float builds): every candidate is tested in full and, among those that hold θ
-   * within their slack, the one with the smallest largest residual max_i (a_i·θ − b_i) wins, ties to
-   * the lowest index. A θ is then placed in the overlap's other region only when it lies within
-   * rounding of its own region's boundary, instead of whenever an earlier region's slack reaches it.
+   * within their slack, the one with the smallest largest slack-free residual max_i (a_i·(θ − c) − b_i)
+   * wins, ties to the lowest index. A θ is then placed in the overlap's other region only when it
+   * lies within the rounding of the residuals of its own region's boundary, instead of whenever a
+   * neighbour's slack reaches it.
    * Double builds keep first-fit (the lowest index), exactly sequential search.
    */
   bestFit: boolean;
@@ -198,12 +216,19 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
   const lawF: number[] = [];
   const lawG: number[] = [];
   const lawC: number[] = [];
+  const regionSlack: number[] = [];
   const centred = centredLaw(precision);
   table.regions.forEach((r, k) => {
     const t = tests[k];
+    if (centred) {
+      // the region's slack, rounded up to a float: fl is monotone, so fl(a·(θ − c) − b) ≤ fl(σ_i) ≤ this
+      // whenever the exact row test passes with its own slack σ_i (regionTests)
+      regionSlack.push(roundUp(Math.max(...t.slack)));
+      slack = Math.max(slack, regionSlack[k]);
+    }
     r.A.forEach((row, i) => {
       for (let j = 0; j < n; j++) regionA.push(round(row[j]));
-      regionB.push(round(t.bound[i] + t.slack[i]));
+      regionB.push(round(centred ? t.bound[i] : t.bound[i] + t.slack[i]));
     });
     regionRowStart.push(regionB.length);
     const c = r.chebyshev.center.map(round);
@@ -229,6 +254,7 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     lawF,
     lawG,
     lawC,
+    regionSlack,
     bestFit: precision === 'float',
     nodeAxis: [],
     nodeSplit: [],
@@ -278,17 +304,18 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
     }
     return true;
   };
-  // best fit: largest residual a·(θ − c) − b of the region's rows (slack included), NaN when a row fails
+  // best fit: largest slack-free residual a·(θ − c) − b of the region's rows, NaN when a row exceeds the region's slack
   const t = new Array<number>(n);
   const fit = (r: number): number => {
     let worst = NaN;
+    const sl = ar.regionSlack[r];
     for (let j = 0; j < n; j++) t[j] = f ? Math.fround(theta[j] - ar.lawC[r * n + j]) : theta[j] - ar.lawC[r * n + j];
     for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
       let s = f ? Math.fround(ar.regionA[i * n] * t[0]) : ar.regionA[i * n] * t[0];
       if (f) for (let j = 1; j < n; j++) s = Math.fround(s + Math.fround(ar.regionA[i * n + j] * t[j]));
       else for (let j = 1; j < n; j++) s += ar.regionA[i * n + j] * t[j];
       const d = f ? Math.fround(s - ar.regionB[i]) : s - ar.regionB[i];
-      if (!(d <= 0)) return NaN;
+      if (!(d <= sl)) return NaN;
       if (i === ar.regionRowStart[r] || d > worst) worst = d;
     }
     return worst;

@@ -65,6 +65,7 @@ export function layoutOf(ar: EmitArrays): LayoutArray[] {
   const planes = ar.search === 'boxtree' ? [layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit)] : [layoutArray('node_plane', 'f-real', ar.nodePlane)];
   const data = [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)];
   if (ar.lawC.length > 0) data.push(layoutArray('law_c', 'f-real', ar.lawC));
+  if (ar.regionSlack.length > 0) data.push(layoutArray('region_slack', 'f-real', ar.regionSlack));
   return structureLayout(ar, planes, data);
 }
 
@@ -91,4 +92,5 @@ export const LAYOUT_TEXT =
   'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ';
 /** Additions of the box tree and of the centred law (written after LAYOUT_TEXT when they apply). */
 export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
-export const LAYOUT_TEXT_CENTRED = 'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first';
+export const LAYOUT_TEXT_CENTRED =
+  'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first; region rows tested around the same centre, inside when region_a·(θ − law_c) − region_b <= region_slack[r] (region_b without slack), best fit: the smallest largest residual wins';

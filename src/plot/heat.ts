@@ -3,7 +3,9 @@ import { InputError } from '../io/input-error.js';
 import type { QuadraticForm } from '../mpqp/types.js';
 import { liftPoint, type SliceSpec } from '../partition/slice.js';
 import type { TableFile } from '../table/format.js';
-import { applyAffine, locateSequential } from '../table/table.js';
+import { applyAffine } from '../table/table.js';
+import { locateRegion } from '../table/locator.js';
+import { tol } from '../tol.js';
 import type { HeatLayer } from './svg.js';
 
 /** J*(θ) = θᵀQθ + qᵀθ + r of one region's value function (θ with nθ entries, the table's units). */
@@ -40,7 +42,7 @@ export function heatLayer(table: TableFile, spec: SliceSpec, what: string): Heat
     label: what === 'cost' ? 'optimal cost J*(θ)' : `${what}(0)`,
     value: (x, y) => {
       const th = liftPoint(spec, x, y);
-      const ri = locateSequential(table.regions, th);
+      const ri = locateRegion(table.regions, th, tol.inside, table.box);
       if (ri < 0) return null;
       return ui >= 0 ? applyAffine(table.regions[ri].law, th)[ui] : quadraticAt(table.regions[ri].value!, th);
     },

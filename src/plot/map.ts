@@ -14,6 +14,8 @@ export interface MapRequest {
   axes?: [number, number];
   /** values of the other θ entries by index, in θ units (default: the middle of the box) */
   fixed?: Map<number, number>;
+  /** draw only this part of the slice rectangle (axis units, within the box; default the whole box) */
+  window?: { x0: number; x1: number; y0: number; y1: number };
   /** region fill: by law (default), by active set, or one colour per region */
   colourBy?: ColourBy;
   /** heat layer under the borders: an input name (u(0)) or "cost" (optimal cost J*(θ)) */
@@ -35,13 +37,16 @@ export interface DrawnMap extends MapResult {
 }
 
 /**
- * Draw an exact 2-D slice of `table` as a standalone SVG string. `problem` decides feasibility
- * (`tableProblem(table)` gives the table's own); trajectories need its model. The result is new
- * data owned by the caller.
+ * Draw an exact 2-D slice of `table` as a standalone SVG string (`svg`), with the exact polygon
+ * areas of the slice (`slice.gaps.areas`, in axis units²). `problem` decides feasibility
+ * (`tableProblem(table)` gives the table's own); trajectories need its model. Throws InputError
+ * for a 1-parameter table, an unknown heat name, a cost heat map of a merged table, and
+ * trajectories of a directly given mpQP. The result is new data owned by the caller.
  */
 export function drawMap(table: TableFile, problem: { loaded: LoadedProblem; mpqp: MpqpProblem }, request: MapRequest = {}): DrawnMap {
   if (table.dims.ntheta < 2) throw new InputError(table.name, 'axes', 'the table has a single parameter; a 2-D map needs two');
   const spec = makeSliceSpec(table.box, request.axes ?? [0, 1], request.fixed);
+  if (request.window) spec.rect = { ...request.window };
   const slice = analyseSlice(table, problem.mpqp, spec);
   const heat = request.heat ? heatLayer(table, spec, request.heat) : undefined;
   const m = problem.loaded.model;

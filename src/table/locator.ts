@@ -1,6 +1,7 @@
 import { lpMaximizeFrom, chebyshevBall } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
+import { BoxIndex } from './boxindex.js';
 
 /**
  * Point location over polyhedral regions through a hierarchy of uniform grids over the parameter
@@ -9,8 +10,9 @@ import type { CriticalRegion } from '../mpqp/types.js';
  * Level L splits every axis into 2^L cells. A region goes to the finest level whose cells are at
  * least as wide as its bounding box on every axis, and is listed in the (at most 2^nθ) cells of that
  * level its box meets; so inserting is O(2^nθ) whatever the table size, and a query looks at one
- * cell per level. Lists are in ascending id and a query keeps the lowest id holding θ: the same
- * answer as a sequential scan (`locateSequential`), with a number of tests independent of the
+ * cell per level. Lists are in ascending id and a query keeps the lowest id holding θ exactly, else
+ * the least residual within the slack: the same answer as a sequential scan (`locateScan`,
+ * `locateSequential`), with a number of tests independent of the
  * number of regions. Regions are added one at a time in id order (the exploration does).
  *
  * Why our own and not an R-tree package: θ has 1 to ~6 dimensions here and the well-kept npm
@@ -149,29 +151,55 @@ export class GridLocator {
 
   /** True when region r holds θ within slack (every row ≤ b + slack; NaN θ is in no region). */
   contains(r: number, theta: ArrayLike<number>, slack: number): boolean {
+    return this.violation(r, theta, slack) <= slack;
+  }
+
+  /**
+   * Largest residual max_i(a_i·θ − b_i) of region r at θ (≤ 0: θ inside exactly); the scan stops
+   * at the first row above `limit` and returns that row's residual. NaN θ gives +Infinity; a region
+   * without rows gives −Infinity.
+   */
+  violation(r: number, theta: ArrayLike<number>, limit: number = Infinity): number {
     const n = this.n;
     const A = this.A;
     const b = this.b;
+    let worst = -Infinity;
     for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
       let s = 0;
       const o = i * n;
       for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
-      if (!(s <= b[i] + slack)) return false;
+      const v = s - b[i];
+      if (!(v <= limit)) return Number.isNaN(v) ? Infinity : v;
+      if (v > worst) worst = v;
     }
-    return true;
+    return worst;
   }
 
-  /** Lowest id of a region holding θ within slack, or −1. */
+  /** Largest residual of the region the last `locate` returned (−Infinity when it returned −1). */
+  lastViolation = -Infinity;
+
+  /**
+   * The region holding θ, or −1. A region that holds θ exactly (every row ≤ b) wins, the lowest id
+   * among them; only when none does, the region within `slack` with the least largest residual
+   * (ties: lowest id). So a θ inside region A but within slack of a lower-numbered neighbour B gets
+   * A's law, and the slack only catches points just outside every region (rounding on a facet).
+   */
   locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
     const n = this.n;
     const u = this.unit;
+    this.lastViolation = -Infinity;
     for (let j = 0; j < n; j++) {
       const t = (theta[j] - this.lo[j]) / this.width[j];
       const padU = (1e3 * tol.inside) / this.width[j];
       if (!(t >= -padU && t <= 1 + padU)) return -1; // outside the box by more than any region reaches, or NaN
       u[j] = t < 0 ? 0 : t > 1 ? 1 : t;
     }
-    let best = -1;
+    // "exact" is every row ≤ b, or ≤ b + slack when the slack is negative (a strict-interior query)
+    const exactLimit = Math.min(0, slack);
+    let exact = -1;
+    let exactV = 0;
+    let near = -1;
+    let nearV = Infinity;
     const levels = this.usedLevels;
     for (let q = 0; q < levels.length; q++) {
       const L = levels[q];
@@ -198,14 +226,25 @@ export class GridLocator {
       }
       for (let k = k0; k < k1; k++) {
         const r = ids[k];
-        if (best >= 0 && r >= best) break;
-        if (this.contains(r, theta, slack)) {
-          best = r;
+        if (exact >= 0 && r >= exact) break;
+        const v = this.violation(r, theta, slack);
+        if (v <= exactLimit) {
+          exact = r;
+          exactV = v;
           break;
+        }
+        if (v <= slack && (v < nearV || (v === nearV && r < near))) {
+          near = r;
+          nearV = v;
         }
       }
     }
-    return best;
+    if (exact >= 0) {
+      this.lastViolation = exactV;
+      return exact;
+    }
+    if (near >= 0) this.lastViolation = nearV;
+    return near;
   }
 
   /**
@@ -272,37 +311,41 @@ export function boundingBoxByLp(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<nu
 }
 
 /**
- * The shared locator of a table's regions: bounding boxes by LP (from each region's Chebyshev
- * centre), then the grid. `locate` returns what `locateSequential` returns, in O(1) regions tested
- * on average.
+ * The shared locator of a finished table's regions: bounding boxes by LP (from each region's
+ * Chebyshev centre), then a k-d tree over them (`BoxIndex`). `locate` returns what `locateScan`
+ * returns, with a few regions tested per query.
  */
-export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): GridLocator {
-  const loc = new GridLocator(lower, upper);
+export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): BoxIndex {
   const pad = 1e3 * tol.inside;
-  for (const r of regions) {
-    if (r.b.length === 0) {
-      loc.add(r.A, r.b, lower, upper);
-      continue;
-    }
-    const bb = boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad);
-    loc.add(r.A, r.b, bb.lo, bb.hi);
-  }
-  return loc.freeze();
+  const boxes = regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : boundingBoxByLp(r.A, r.b, r.chebyshev?.center ?? null, pad)));
+  // the rule of locateScan and of GridLocator.locate: exact containment first (lowest index), else the least residual
+  return new BoxIndex(regions, boxes, lower, upper, { rule: 'exact-first' });
 }
 
 interface CachedLocator {
   calls: number;
-  locator: GridLocator | null;
+  locator: BoxIndex | null;
 }
 const cache = new WeakMap<object, CachedLocator>();
 
+/** Where a point lies: the region and its largest residual there (≤ 0: inside exactly). */
+export interface Location {
+  /** index into the regions array, −1 when no region holds θ within the slack */
+  region: number;
+  /** max_i(a_i·θ − b_i) of that region (≤ 0 exactly inside, ≤ slack when held only by the slack); −Infinity when region = −1 */
+  violation: number;
+}
+
 /**
- * Index of the first region (lowest index) holding θ within slack, or −1: exactly what
- * `locateSequential` returns. Repeated queries on the same regions array go through a grid
- * locator built on first need (after a few queries, so that a single lookup does not pay for the
- * bounding-box LPs); a slack wider than the grid's padding falls back to the sequential scan.
+ * Locate θ (nθ entries, the table's units) among `regions`: the region holding θ exactly (every
+ * row ≤ b; the lowest index among several, as on a shared facet) and, only when none does, the
+ * region within `slack` with the least largest residual (ties: lowest index). θ inside region A
+ * but within slack of a neighbour B therefore gets A's law, whatever their order. Repeated queries
+ * on the same regions array go through a k-d tree (`tableLocator`) built on first need (after a few
+ * queries, so that a single lookup does not pay for the bounding-box LPs); a slack wider than the
+ * tree's padding falls back to the sequential scan, which applies the same rule.
  */
-export function locateRegion(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
+export function locatePoint(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): Location {
   let entry = cache.get(regions);
   if (!entry) {
     entry = { calls: 0, locator: null };
@@ -310,9 +353,57 @@ export function locateRegion(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshe
   }
   entry.calls++;
   if (!entry.locator && regions.length >= 32 && entry.calls > 16) entry.locator = tableLocator(regions, box.lower, box.upper);
-  if (entry.locator && entry.locator.size === regions.length && Math.abs(slack) <= 100 * tol.inside) return entry.locator.locate(theta, slack);
-  for (let i = 0; i < regions.length; i++) if (regionContains(regions[i], theta, slack)) return i;
-  return -1;
+  if (entry.locator && entry.locator.size === regions.length && Math.abs(slack) <= 100 * tol.inside) {
+    const region = entry.locator.locate(theta, slack);
+    return { region, violation: entry.locator.lastViolation };
+  }
+  return locateScan(regions, theta, slack);
+}
+
+/**
+ * The rule of `locatePoint` by a scan over every region (no index): exact containment first (lowest
+ * index), else the least residual within `slack`.
+ */
+export function locateScan(regions: Pick<CriticalRegion, 'A' | 'b'>[], theta: ArrayLike<number>, slack: number = tol.inside): Location {
+  const exactLimit = Math.min(0, slack); // a negative slack asks for the strict interior
+  let near = -1;
+  let nearV = Infinity;
+  for (let i = 0; i < regions.length; i++) {
+    const v = regionViolation(regions[i], theta, slack);
+    if (v <= exactLimit) return { region: i, violation: v };
+    if (v <= slack && v < nearV) {
+      near = i;
+      nearV = v;
+    }
+  }
+  return { region: near, violation: near < 0 ? -Infinity : nearV };
+}
+
+/**
+ * Index of the region holding θ (exactly if any does, else the least residual within slack; see
+ * `locatePoint`), or −1.
+ */
+export function locateRegion(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
+  return locatePoint(regions, theta, slack, box).region;
+}
+
+/**
+ * Largest residual max_i(a_i·θ − b_i) of the region's half-spaces at θ (≤ 0: θ inside exactly).
+ * The scan stops at the first row above `limit` and returns that residual; NaN θ gives +Infinity,
+ * a region without rows −Infinity.
+ */
+export function regionViolation(region: Pick<CriticalRegion, 'A' | 'b'>, theta: ArrayLike<number>, limit: number = Infinity): number {
+  const { A, b } = region;
+  let worst = -Infinity;
+  for (let i = 0; i < A.length; i++) {
+    const row = A[i];
+    let s = 0;
+    for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
+    const v = s - b[i];
+    if (!(v <= limit)) return Number.isNaN(v) ? Infinity : v;
+    if (v > worst) worst = v;
+  }
+  return worst;
 }
 
 /** True when θ satisfies every half-space of the region within `slack`. */

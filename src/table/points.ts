@@ -2,6 +2,7 @@
 import { InputError } from '../io/input-error.js';
 import { applyAffine, evaluateTable } from './table.js';
 import type { TableFile } from './format.js';
+import { clampInputs } from './clamp.js';
 
 /**
  * Match a header line to the θ names (contract, `tessera evaluate`): every θ entry named exactly
@@ -66,15 +67,23 @@ export interface PointEvaluation {
   slacks?: Record<string, number> | null;
 }
 
+/** How `evaluatePoints` treats u(0). */
+export interface EvaluateOptions {
+  /** saturate u(0) to the table's `inputLimits` (`clampInputs`); slack values are never clamped */
+  clamp?: boolean;
+}
+
 /**
- * Evaluate the table law at each θ (sequential location, table tolerance). Each θ has nθ entries;
- * `theta` of each result is the caller's array, `u` and `slacks` are new.
+ * Evaluate the table law at each θ (`evaluateTable`: table tolerance, a region holding θ exactly
+ * first). Each θ has nθ entries in the table's units and `thetaNames` order; `theta` of each
+ * result is the caller's array, `u` (nu entries, `inputNames` order) and `slacks` are new.
  */
-export function evaluatePoints(table: TableFile, points: number[][]): PointEvaluation[] {
+export function evaluatePoints(table: TableFile, points: number[][], options: EvaluateOptions = {}): PointEvaluation[] {
   // slack values: the z entries of the layout's slack blocks, from the region's stored moves
   const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
   return points.map((p) => {
     const e = evaluateTable(table, p);
+    if (e.u && options.clamp) e.u = clampInputs(e.u, table.inputLimits);
     if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
     const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
     const moves = e.region < 0 ? undefined : table.regions[e.region].moves;
@@ -89,10 +98,14 @@ export function evaluatePoints(table: TableFile, points: number[][]): PointEvalu
 /** Shortest decimal that reads back as the same double. */
 const num = (v: number): string => String(v);
 
-/** CSV of evaluations: header θ names, `region`, input names; empty u cells where no region holds θ. */
-export function evaluationCsv(table: TableFile, points: number[][]): string {
+/**
+ * CSV of evaluations (what `tessera evaluate` prints): header θ names, `region`, input names, one
+ * line per point with every number in its shortest round-trip decimal; empty u cells where no
+ * region holds θ. `options.clamp` as in `evaluatePoints`.
+ */
+export function evaluationCsv(table: TableFile, points: number[][], options: EvaluateOptions = {}): string {
   const header = [...table.thetaNames, 'region', ...table.inputNames].join(',');
-  const rows = evaluatePoints(table, points).map((e) => {
+  const rows = evaluatePoints(table, points, options).map((e) => {
     const u = e.u ? e.u.map(num) : table.inputNames.map(() => '');
     return [...e.theta.map(num), String(e.region), ...u].join(',');
   });

@@ -2,7 +2,7 @@ import { InputError } from '../io/input-error.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { TABLE_FORMAT, TABLE_VERSION, TABLE_VERSIONS_READ, type TableFile } from './format.js';
-import { locateRegion, regionContains } from './locator.js';
+import { locateRegion, locateScan } from './locator.js';
 
 const REGIONS_MARK = '\u0000regions\u0000';
 
@@ -97,13 +97,13 @@ export function applyAffine(map: { F: number[][]; g: number[] }, theta: ArrayLik
 }
 
 /**
- * Sequential point location: index of the first region that holds θ, or −1 when none does
- * (outside the box, infeasible, or a hole). On shared facets the lowest index wins; the law is
- * continuous there, so the value of u(0) does not depend on that choice.
+ * Sequential point location: index of the region that holds θ, or −1 when none does (outside the
+ * box, infeasible, or a hole). The first region holding θ exactly (every row ≤ b) wins; only when
+ * none does, the region within `slack` with the least largest residual. On shared facets the
+ * lowest index wins; the law is continuous there, so the value of u(0) does not depend on that choice.
  */
 export function locateSequential(regions: CriticalRegion[], theta: ArrayLike<number>, slack: number = tol.inside): number {
-  for (let i = 0; i < regions.length; i++) if (regionContains(regions[i], theta, slack)) return i;
-  return -1;
+  return locateScan(regions, theta, slack).region;
 }
 
 export interface Evaluation {
@@ -112,8 +112,9 @@ export interface Evaluation {
 }
 
 /**
- * u(0) at one θ (nθ entries, the table's units and order) by sequential location at the table
- * tolerance: `region` is the index into `table.regions`, −1 (and `u` null) when no region holds θ
+ * u(0) at one θ (nθ entries, the table's units and order), located at the table tolerance: a
+ * region holding θ exactly wins, else the least residual within tol.inside (`locatePoint`).
+ * `region` is the index into `table.regions`, −1 (and `u` null) when no region holds θ
  * (outside the box, infeasible, a hole, or a NaN entry). `u` is a new array.
  */
 export function evaluateTable(table: TableFile, theta: ArrayLike<number>): Evaluation {

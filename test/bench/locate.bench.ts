@@ -11,17 +11,13 @@ import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { loadProblem, parseProblem } from '../../src/problem/index.js';
-import { buildMpqp } from '../../src/mpqp/condition.js';
-import { solvePartition } from '../../src/mpqp/solve.js';
-import { makeTable } from '../../src/table/build.js';
-import { emitC } from '../../src/emit/index.js';
+import { emitC, loadProblem, parseProblem, solveProblem } from '../../src/index.js';
 import { SEARCH_KINDS } from '../../src/emit/arrays.js';
 import { measureCandidates, pickCandidate } from '../../src/emit/choose.js';
 import { cTarget } from '../../src/emit/targets/c.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { certifyFloat } from '../../src/check/certify.js';
-import type { TableFile } from '../../src/table/format.js';
+import type { MpqpProblem } from '../../src/index.js';
 import { benchMain, makeQp } from './emit.bench.js';
 
 const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
@@ -64,7 +60,7 @@ function cNanoseconds(dir: string, tag: string, r: ReturnType<typeof emitC>, poi
   return Number(execFileSync(join(sub, 'bench'), { encoding: 'utf8' }).trim().split(' ')[0]);
 }
 
-function qpMicroseconds(mpqp: ReturnType<typeof buildMpqp>, points: number[][]): number {
+function qpMicroseconds(mpqp: MpqpProblem, points: number[][]): number {
   const qp = makeQp(mpqp);
   const ns: number[] = [];
   let sink = 0;
@@ -101,9 +97,8 @@ export async function run(): Promise<void> {
   out.push('  dim regions | structure   bytes(total)  location/region-data  worst MACs  worst cmps  median ns  QP/C ratio  float certificate');
   for (const n of [2, 3, 4, 5, 6]) {
     const loaded = parseProblem(chainProblem(n, HORIZON[n]), `chain-${n}d (bench)`);
-    const mpqp = buildMpqp(loaded.model);
     const t0 = Date.now();
-    const table: TableFile = makeTable(loaded, mpqp, solvePartition(mpqp, { timeLimit: SOLVE_SECONDS }));
+    const { mpqp, table } = solveProblem(loaded, { timeLimit: SOLVE_SECONDS });
     const solveS = (Date.now() - t0) / 1000;
     const points = sampleBox(table.box, 20000, 2026);
     const qpUs = qpMicroseconds(mpqp, points.slice(0, 2000));
@@ -126,8 +121,7 @@ export async function run(): Promise<void> {
   // the 4-D example compiled for the usual single-precision target
   {
     const loaded = loadProblem(join(import.meta.dirname, '../../examples/crane-trolley-4d.json'));
-    const mpqp = buildMpqp(loaded.model);
-    const table = makeTable(loaded, mpqp, solvePartition(mpqp, { timeLimit: 300 }));
+    const { table } = solveProblem(loaded, { timeLimit: 300 });
     const auto = emitC(table, { precision: 'float', search: 'auto', prefix: 'law' });
     const seq = emitC(table, { precision: 'float', search: 'sequential', prefix: 'law' });
     const a = m4Bytes(dir, 'auto', auto);

@@ -12,6 +12,9 @@
  * The machine may be shared: compare the ratios printed here, not absolute numbers across runs.
  */
 import { join } from 'node:path';
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
@@ -63,7 +66,26 @@ function growth(name: string): Partition {
     console.log(`  log–log slope of time vs regions (${a.regions} → ${b.regions}): ${slope.toFixed(2)} (target ≤ 1.1); cost per region at the end / at ${a.regions}: ${(costB / costA).toFixed(2)}×`);
   }
   if (p.work) console.log(`  work: ${JSON.stringify(p.work)}`);
+  const warm = p.stats.regions / total;
+  const target = mpqp.ntheta <= 2 ? 5000 : 2000;
+  const cold = coldCli(name);
+  console.log(
+    `  throughput: warm (in this process) ${warm.toFixed(0)} regions/s, cold CLI ${cold} — target ≥ ${target} regions/s per core (${mpqp.ntheta}-D); peak RSS ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MB`,
+  );
   return p;
+}
+
+/** The CLI from a cold start on the same problem (built dist/, same region bound, 1/4 of the time bound): its printed regions/s. */
+function coldCli(name: string): string {
+  const cli = join(import.meta.dirname, '..', '..', 'dist', 'src', 'cli', 'main.js');
+  const out = mkdtempSync(join(tmpdir(), 'tessera-scale-'));
+  try {
+    const r = spawnSync(process.execPath, [cli, 'solve', join(dir, `${name}.json`), '--lean', '--max-regions', String(Math.min(maxRegions, 20000)), '--time-limit', String(Math.max(10, seconds / 4)), '-o', join(out, 't.json')], { encoding: 'utf8' });
+    const m = /(\d+) regions, .* ([\d.]+) s \((\d+) regions\/s\)/.exec(r.stdout);
+    return m ? `${m[3]} regions/s (${m[1]} regions in ${m[2]} s, --lean)` : `not measured (exit ${r.status}: ${r.stderr.trim().split('\n')[0] ?? ''})`;
+  } finally {
+    rmSync(out, { recursive: true, force: true });
+  }
 }
 
 function locateBench(p: Partition, mpqp: MpqpProblem): void {

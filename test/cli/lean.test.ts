@@ -31,8 +31,9 @@ let points: number[][] = [];
 
 beforeAll(async () => {
   const jobs: Record<string, string[]> = {
-    lean: ['solve', boom, '--lean', '--max-regions', String(N), '-o', L],
-    full: ['solve', boom, '--max-regions', String(N), '-o', F],
+    // one thread: a bounded run then stops at the same N regions, in the same order, lean or full
+    lean: ['solve', boom, '--lean', '--max-regions', String(N), '--threads', '1', '-o', L],
+    full: ['solve', boom, '--max-regions', String(N), '--threads', '1', '-o', F],
     softLean: ['solve', soft, '--lean', '-o', SL, '-q'],
     softFull: ['solve', soft, '-o', SF, '-q'],
   };

@@ -12,24 +12,26 @@ import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 
-/** The definition, written out here: the lowest index whose every row holds within slack (common practice). */
+/**
+ * The location rule, written out here: the lowest index whose every row holds exactly (residual ≤
+ * 0); when none, the least largest residual within slack, lowest index on ties (common practice:
+ * containment first, tolerance only as a fallback).
+ */
 function firstHolding(regions: Pick<CriticalRegion, 'A' | 'b'>[], th: ArrayLike<number>, slack: number): number {
-  for (let i = 0; i < regions.length; i++) {
-    let ok = true;
-    for (let r = 0; r < regions[i].A.length && ok; r++) {
-      let s = 0;
-      for (let j = 0; j < th.length; j++) s += regions[i].A[r][j] * th[j];
-      ok = s <= regions[i].b[r] + slack;
-    }
-    if (ok) return i;
-  }
-  return -1;
+  const worst = regions.map((R) => Math.max(-Infinity, ...R.A.map((a, r) => a.reduce((s, v, j) => s + v * th[j], 0) - R.b[r])));
+  const exact = worst.findIndex((v) => v <= 0);
+  if (exact >= 0) return exact;
+  let best = -1;
+  worst.forEach((v, i) => {
+    if (v <= slack && (best < 0 || v < worst[best])) best = i;
+  });
+  return best;
 }
 
 const files = [...exampleFiles, ...fixtureFiles];
 
 describe('grid locator', () => {
-  it('answers the lowest region index holding θ, as the definition does, on every example and fixture', () => {
+  it('answers the region the location rule names (exact containment first, then least residual within slack), on every example and fixture', () => {
     for (const file of files) {
       const { table, mpqp } = solved(file);
       const rnd = rng(7001 + basename(file).length);

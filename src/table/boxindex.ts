@@ -1,0 +1,293 @@
+/**
+ * Point location for a finished table (evaluate, gaps, certify, maps, simulation): a k-d tree of
+ * axis-aligned cells over the regions' bounding boxes. An internal node compares one coordinate
+ * with a split value; a leaf lists, in ascending id, every region whose (padded) bounding box
+ * reaches into its cell and that none of its own rows separates from the cell. A query walks down
+ * (about log2 of the regions comparisons) and tests the leaf's regions in order: the first that
+ * holds θ is the lowest id holding θ, because every region holding θ is listed in θ's leaf. So the
+ * answer is exactly the sequential scan's, with a handful of region tests per query.
+ *
+ * Why not the growing grid (GridLocator) for this: it must look at one cell on every level, and the
+ * coarse levels list the big regions of the whole table; a static tree knows every region up front
+ * and splits where regions are dense. Why not the emit box tree (src/partition/boxtree.ts): that one
+ * keeps float-safe splits and a C byte budget; here everything is double and in memory.
+ */
+import { tol } from '../tol.js';
+import { LargestFirst } from '../partition/budget.js';
+
+const SPLITS = [0.25, 0.5, 0.75];
+
+/** Build options of a `BoxIndex` (defaults suit tables of 10 to 10⁶ regions). */
+export interface BoxIndexOptions {
+  /** stop splitting a cell listing at most this many regions (default 3) */
+  leafSize?: number;
+  /** deepest node (default 48) */
+  maxDepth?: number;
+  /** total leaf listings allowed, as a multiple of the region count (default 24) */
+  listingBudget?: number;
+  /**
+   * which region answers when several hold θ: `first` = the lowest id holding θ within the slack
+   * (the rule of tables before exact containment was preferred); `exact-first` = the lowest id
+   * holding θ exactly, else the least largest residual within the slack, ties to the lowest id (the
+   * rule of `locateScan` and `GridLocator.locate`). Default `exact-first`.
+   */
+  rule?: 'first' | 'exact-first';
+}
+
+/**
+ * Static point locator over polyhedral regions {θ : A θ ≤ b}. Rows are copied into flat typed
+ * arrays at construction; the caller's arrays are not kept.
+ */
+export class BoxIndex {
+  readonly n: number;
+  readonly size: number;
+  private readonly A: Float64Array;
+  private readonly b: Float64Array;
+  private readonly rowStart: Int32Array;
+  /** per node: axis (−1 for a leaf), split, children; a leaf's ids are leafIds[first[k] … first[k+1]) */
+  private readonly axis: Int32Array;
+  private readonly split: Float64Array;
+  private readonly left: Int32Array;
+  private readonly right: Int32Array;
+  private readonly leafFrom: Int32Array;
+  private readonly leafTo: Int32Array;
+  private readonly leafIds: Int32Array;
+  private readonly exactFirst: boolean;
+  /** nodes, leaves, deepest leaf, longest leaf, listings */
+  readonly stats: { nodes: number; leaves: number; depth: number; longestLeaf: number; listings: number };
+
+  /**
+   * `regions[i]` has rows A θ ≤ b (nθ entries each) and a bounding box `lo`/`hi` (any box that
+   * holds it; it is padded here by the query slack the index serves, 100·tol.inside).
+   */
+  constructor(
+    regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>,
+    boxes: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>,
+    lower: ArrayLike<number>,
+    upper: ArrayLike<number>,
+    options: BoxIndexOptions = {},
+  ) {
+    const n = lower.length;
+    this.n = n;
+    this.exactFirst = options.rule !== 'first';
+    const R = regions.length;
+    this.size = R;
+    let rows = 0;
+    for (let r = 0; r < R; r++) rows += regions[r].b.length;
+    this.A = new Float64Array(rows * n);
+    this.b = new Float64Array(rows);
+    this.rowStart = new Int32Array(R + 1);
+    let at = 0;
+    for (let r = 0; r < R; r++) {
+      const { A, b } = regions[r];
+      this.rowStart[r] = at;
+      for (let i = 0; i < b.length; i++, at++) {
+        for (let j = 0; j < n; j++) this.A[at * n + j] = A[i][j];
+        this.b[at] = b[i];
+      }
+    }
+    this.rowStart[R] = at;
+    const pad = 1e3 * tol.inside;
+    const bl = new Float64Array(R * n);
+    const bh = new Float64Array(R * n);
+    for (let r = 0; r < R; r++)
+      for (let j = 0; j < n; j++) {
+        bl[r * n + j] = boxes[r].lo[j] - pad;
+        bh[r * n + j] = boxes[r].hi[j] + pad;
+      }
+    const leafSize = options.leafSize ?? 3;
+    const maxDepth = options.maxDepth ?? 48;
+    const budget = (options.listingBudget ?? 24) * Math.max(R, 1);
+
+    // the cell with the most expected tests first (regions listed × share of the box volume, for
+    // uniformly spread queries), so that the listing budget goes where queries spend time
+    const axis: number[] = [];
+    const split: number[] = [];
+    const left: number[] = [];
+    const right: number[] = [];
+    const leafFrom: number[] = [];
+    const leafTo: number[] = [];
+    const ids: number[] = [];
+    interface Job {
+      node: number;
+      lo: Float64Array;
+      hi: Float64Array;
+      items: Int32Array;
+      depth: number;
+    }
+    const all = new Int32Array(R);
+    for (let r = 0; r < R; r++) all[r] = r;
+    const rootLo = Float64Array.from(lower);
+    const rootHi = Float64Array.from(upper);
+    const newNode = (): number => {
+      axis.push(-1);
+      split.push(0);
+      left.push(-1);
+      right.push(-1);
+      leafFrom.push(0);
+      leafTo.push(0);
+      return axis.length - 1;
+    };
+    const queue = new LargestFirst<Job>();
+    const weight = (lo: Float64Array, hi: Float64Array, m: number): number => {
+      let v = m;
+      for (let j = 0; j < n; j++) v *= (hi[j] - lo[j]) / Math.max(upper[j] - lower[j], 1e-300);
+      return v;
+    };
+    queue.push(R, { node: newNode(), lo: rootLo, hi: rootHi, items: all, depth: 0 });
+    let listed = R; // listings if every job left now became a leaf
+    let depthMax = 0;
+    let longest = 0;
+    let leaves = 0;
+    const makeLeaf = (job: Job): void => {
+      leafFrom[job.node] = ids.length;
+      for (const r of job.items) ids.push(r);
+      leafTo[job.node] = ids.length;
+      leaves++;
+      depthMax = Math.max(depthMax, job.depth);
+      longest = Math.max(longest, job.items.length);
+    };
+    while (queue.size) {
+      {
+        const job = queue.pop();
+        const m = job.items.length;
+        if (m <= leafSize || job.depth >= maxDepth) {
+          makeLeaf(job);
+          continue;
+        }
+        // the split (each axis at 1/4, 1/2, 3/4 of the cell) with the fewest expected tests:
+        // Σ over the sides of (side's share of the cell) × (boxes reaching it)
+        let ax = 0;
+        let s = 0.5 * (job.lo[0] + job.hi[0]);
+        let best = Infinity;
+        for (let j = 0; j < n; j++) {
+          const c0 = job.lo[j];
+          const w = job.hi[j] - c0;
+          if (!(w > 0)) continue;
+          for (const f of SPLITS) {
+            const at = c0 + f * w;
+            let nl = 0;
+            let nr = 0;
+            for (const r of job.items) {
+              if (bl[r * n + j] <= at) nl++;
+              if (bh[r * n + j] >= at) nr++;
+            }
+            const cost = f * nl + (1 - f) * nr;
+            if (cost < best) {
+              best = cost;
+              ax = j;
+              s = at;
+            }
+          }
+        }
+        const lHi = Float64Array.from(job.hi);
+        lHi[ax] = s;
+        const rLo = Float64Array.from(job.lo);
+        rLo[ax] = s;
+        const li: number[] = [];
+        const ri: number[] = [];
+        for (const r of job.items) {
+          if (bl[r * n + ax] <= s && !this.separated(r, job.lo, lHi, pad)) li.push(r);
+          if (bh[r * n + ax] >= s && !this.separated(r, rLo, job.hi, pad)) ri.push(r);
+        }
+        const grow = li.length + ri.length - m;
+        // a split that separates nothing is not worth a node; the budget bounds the copies
+        if ((li.length === m && ri.length === m) || listed + grow > budget) {
+          makeLeaf(job);
+          continue;
+        }
+        listed += grow;
+        const node = job.node;
+        axis[node] = ax;
+        split[node] = s;
+        const L = newNode();
+        const Rn = newNode();
+        left[node] = L;
+        right[node] = Rn;
+        queue.push(weight(job.lo, lHi, li.length), { node: L, lo: job.lo, hi: lHi, items: Int32Array.from(li), depth: job.depth + 1 });
+        queue.push(weight(rLo, job.hi, ri.length), { node: Rn, lo: rLo, hi: job.hi, items: Int32Array.from(ri), depth: job.depth + 1 });
+      }
+    }
+    this.axis = Int32Array.from(axis);
+    this.split = Float64Array.from(split);
+    this.left = Int32Array.from(left);
+    this.right = Int32Array.from(right);
+    this.leafFrom = Int32Array.from(leafFrom);
+    this.leafTo = Int32Array.from(leafTo);
+    this.leafIds = Int32Array.from(ids);
+    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length };
+  }
+
+  /** True when one row of region r holds nowhere in the cell [lo, hi] (widened by pad). */
+  private separated(r: number, lo: Float64Array, hi: Float64Array, pad: number): boolean {
+    const n = this.n;
+    for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
+      let mn = 0;
+      for (let j = 0; j < n; j++) {
+        const a = this.A[i * n + j];
+        mn += a > 0 ? a * (lo[j] - pad) : a * (hi[j] + pad);
+      }
+      if (mn > this.b[i] + pad) return true;
+    }
+    return false;
+  }
+
+  /** True when region r holds θ within slack (every row ≤ b + slack; NaN θ is in no region). */
+  contains(r: number, theta: ArrayLike<number>, slack: number): boolean {
+    return this.violation(r, theta, slack) <= slack;
+  }
+
+  /**
+   * Largest residual max_i(a_i·θ − b_i) of region r at θ (≤ 0: inside exactly); the scan stops at
+   * the first row above `limit` and returns that row's residual. NaN θ gives +Infinity.
+   */
+  violation(r: number, theta: ArrayLike<number>, limit: number = Infinity): number {
+    const n = this.n;
+    const A = this.A;
+    const b = this.b;
+    let worst = -Infinity;
+    for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
+      // Σ a_j θ_j first, then − b: the same rounding as the scan (locateScan, regionViolation)
+      let s = 0;
+      const o = i * n;
+      for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
+      const v = s - b[i];
+      if (!(v <= limit)) return v === v ? v : Infinity;
+      if (v > worst) worst = v;
+    }
+    return worst;
+  }
+
+  /** Largest residual of the region the last `locate` returned (−Infinity when it returned −1). */
+  lastViolation = -Infinity;
+
+  /**
+   * The region holding θ within `slack` (|slack| ≤ 100·tol.inside), or −1, by the index's `rule`:
+   * the lowest id holding θ within the slack (`first`), or the lowest id holding θ exactly (every
+   * row ≤ b) and else the least largest residual within the slack, ties to the lowest id
+   * (`exact-first`).
+   */
+  locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
+    const axis = this.axis;
+    let k = 0;
+    for (let a = axis[0]; a >= 0; a = axis[k]) k = theta[a] <= this.split[k] ? this.left[k] : this.right[k];
+    const ids = this.leafIds;
+    const exactLimit = this.exactFirst ? (slack < 0 ? slack : 0) : slack;
+    let near = -1;
+    let nearV = Infinity;
+    for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
+      const r = ids[q];
+      const v = this.violation(r, theta, slack);
+      if (v <= exactLimit) {
+        this.lastViolation = v;
+        return r;
+      }
+      if (v <= slack && v < nearV) {
+        near = r;
+        nearV = v;
+      }
+    }
+    this.lastViolation = near < 0 ? -Infinity : nearV;
+    return near;
+  }
+}

@@ -1,0 +1,116 @@
+import { describe, expect, it } from 'vitest';
+import { join } from 'node:path';
+import { BoxIndex } from '../../src/table/boxindex.js';
+import { boundingBoxByLp, tableLocator } from '../../src/table/locator.js';
+import { loadProblem, solveProblem } from '../../src/index.js';
+import type { TableFile } from '../../src/table/format.js';
+import { arrangementTable } from '../emit/synthetic.js';
+import { gridTable } from '../emit/synthetic.js';
+import { rng } from '../helpers/solved.js';
+
+// Reference: the point-location rules applied literally by a scan written here (not the project's
+// code path). `exact-first`: a region holding θ exactly (every row a·θ ≤ b) wins, the lowest index
+// among several; only when none does, the region with the least largest residual within the slack
+// (ties: lowest). `first`: the lowest index holding θ within the slack.
+function reference(t: TableFile, th: ArrayLike<number>, slack: number, rule: Rule): number {
+  let near = -1;
+  let nearV = Infinity;
+  for (let i = 0; i < t.regions.length; i++) {
+    const r = t.regions[i];
+    let worst = -Infinity;
+    for (let k = 0; k < r.b.length; k++) {
+      let s = 0;
+      for (let j = 0; j < th.length; j++) s += r.A[k][j] * th[j];
+      const v = s - r.b[k];
+      worst = Math.max(worst, Number.isNaN(v) ? Infinity : v);
+    }
+    if (worst <= (rule === 'first' ? slack : Math.min(0, slack))) return i;
+    if (worst <= slack && worst < nearV) {
+      near = i;
+      nearV = worst;
+    }
+  }
+  return near;
+}
+
+/** Seeded points: uniform in the box (a little beyond it too), Chebyshev centres, and points on and just beside facets (where the rule matters). */
+function probePoints(t: TableFile, count: number, seed: number): number[][] {
+  const rnd = rng(seed);
+  const n = t.dims.ntheta;
+  const pts: number[][] = [];
+  for (let i = 0; i < count; i++) pts.push(Array.from({ length: n }, (_, j) => t.box.lower[j] + (1.1 * rnd() - 0.05) * (t.box.upper[j] - t.box.lower[j])));
+  for (const r of t.regions.slice(0, 200)) {
+    const c = r.chebyshev.center;
+    pts.push(c.slice());
+    // onto a facet from the centre, then 3e-9 beyond it (inside the slack of the neighbour's side)
+    const k = Math.floor(rnd() * r.b.length);
+    let s = r.b[k];
+    for (let j = 0; j < n; j++) s -= r.A[k][j] * c[j];
+    pts.push(c.map((x, j) => x + s * r.A[k][j]));
+    pts.push(c.map((x, j) => x + (s + 3e-9) * r.A[k][j]));
+  }
+  return pts;
+}
+
+type Rule = 'first' | 'exact-first';
+
+function check(t: TableFile, index: { locate: (th: ArrayLike<number>, slack?: number) => number }, pts: number[][], rule: Rule): void {
+  for (const slack of [1e-8, 0, -1e-6]) for (const p of pts) expect(index.locate(p, slack), `θ = ${p}, slack ${slack}, ${rule}`).toBe(reference(t, p, slack, rule));
+}
+
+const boxesOf = (t: TableFile) => t.regions.map((r) => boundingBoxByLp(r.A, r.b, r.chebyshev.center, 0));
+
+describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () => {
+  it('answers exactly as the literal rule on arrangements of random planes (2-D to 5-D)', () => {
+    for (const [n, planes] of [
+      [2, 14],
+      [3, 9],
+      [4, 7],
+      [5, 6],
+    ] as const) {
+      const t = arrangementTable({ lower: Array(n).fill(-1), upper: Array(n).fill(1), planes, seed: 20 + n });
+      const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
+      expect(loc.size).toBe(t.regions.length);
+      const pts = probePoints(t, 1500, 7 * n);
+      check(t, loc, pts, 'exact-first');
+      check(t, new BoxIndex(t.regions, boxesOf(t), t.box.lower, t.box.upper, { rule: 'first' }), pts, 'first');
+    }
+  });
+
+  it('a grid of rectangles (many shared facets and corners) and tiny leaf/budget settings', () => {
+    const t = gridTable(9, (i, j) => ({ F: [[i, j]], g: [i - j] }));
+    const boxes = boxesOf(t);
+    const pts = probePoints(t, 800, 3);
+    for (const rule of ['first', 'exact-first'] as const)
+      for (const options of [{}, { leafSize: 1, listingBudget: 2 }, { leafSize: 1, maxDepth: 3 }, { listingBudget: 1000 }]) {
+        const loc = new BoxIndex(t.regions, boxes, t.box.lower, t.box.upper, { ...options, rule });
+        check(t, loc, pts, rule);
+      }
+  });
+
+  it('on a solved 4-D table (boom-4d-n8, first 400 regions, lean): same answers, far fewer region tests than a scan', () => {
+    const s = solveProblem(loadProblem(join(import.meta.dirname, '..', 'fixtures', 'scale', 'boom-4d-n8.json')), { maxRegions: 400, lean: true });
+    const t = s.table;
+    const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
+    const pts = probePoints(t, 2000, 11);
+    check(t, loc, pts, 'exact-first');
+    check(t, new BoxIndex(t.regions, boxesOf(t), t.box.lower, t.box.upper, { rule: 'first' }), pts, 'first');
+    let tests = 0;
+    const counting = Object.create(loc) as BoxIndex;
+    counting.violation = (r, th, lim) => {
+      tests++;
+      return loc.violation(r, th, lim);
+    };
+    for (const p of pts) counting.locate(p);
+    expect(tests / pts.length).toBeLessThan(0.1 * t.regions.length);
+  }, 300000);
+
+  it('NaN and far-away θ are in no region', () => {
+    const t = arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 6, seed: 5 });
+    const loc = tableLocator(t.regions, t.box.lower, t.box.upper);
+    expect(loc.locate([Number.NaN, 0, 0])).toBe(-1);
+    expect(loc.locate([0, 0, Number.NaN])).toBe(-1);
+    expect(loc.locate([5, 0, 0])).toBe(-1);
+    expect(loc.locate([0, -7, 0])).toBe(-1);
+  });
+});

@@ -1,0 +1,88 @@
+/**
+ * The location rule shared by evaluate, gaps, certify, maps, simulate and audit: a region that holds
+ * θ exactly wins over one that holds it only within the slack tol.inside, and among slack-only
+ * candidates the least largest residual wins. Reference: the rule of strict containment before
+ * tolerance, worked out by hand on half-lines (common practice); the residuals below are exact
+ * arithmetic on the numbers written here.
+ */
+import { describe, expect, it } from 'vitest';
+import { GridLocator, locatePoint, locateRegion, locateScan } from '../../src/table/locator.js';
+import { evaluateTable, locateSequential } from '../../src/table/table.js';
+import type { CriticalRegion } from '../../src/mpqp/types.js';
+import type { TableFile } from '../../src/table/format.js';
+import { tol } from '../../src/tol.js';
+
+type Half = Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>;
+/** the half-plane {θ : s·θ1 ≤ c} of the box [−1, 1]², as a region */
+const half = (s: number, c: number): Half => ({ A: [[s, 0]], b: [c], chebyshev: { center: [s > 0 ? c - 0.5 : c + 0.5, 0], radius: 0.5 } });
+const box = { lower: [-1, -1], upper: [1, 1] };
+// region 0 = B: θ1 ≤ 0; region 1 = A: θ1 ≥ 0; region 2 = C: θ1 ≥ 1e-8 (a thin overlap/gap pattern)
+const regions: Half[] = [half(1, 0), half(-1, 0), half(-1, -1e-8)];
+
+describe('point location: exact containment before the slack', () => {
+  it('a point inside A but within slack of B (lower index) gets A', () => {
+    const th = [5e-9, 0.3]; // B's residual 5e-9 ≤ tol.inside = 1e-8; A's residual −5e-9 ≤ 0
+    expect(tol.inside).toBe(1e-8);
+    expect(locateScan(regions.slice(0, 2), th).region).toBe(1);
+    expect(locateSequential(regions.slice(0, 2) as CriticalRegion[], th)).toBe(1);
+    expect(locateRegion(regions.slice(0, 2), th, tol.inside, box)).toBe(1);
+    const g = new GridLocator(box.lower, box.upper);
+    g.add([[1, 0]], [0], [-1, -1], [0, 1]);
+    g.add([[-1, 0]], [0], [0, -1], [1, 1]);
+    expect(g.locate(th, tol.inside)).toBe(1);
+    expect(g.lastViolation).toBeCloseTo(-5e-9, 20);
+  });
+
+  it('on the shared facet itself (both exact) the lower index wins', () => {
+    expect(locateScan(regions.slice(0, 2), [0, 0.1]).region).toBe(0);
+  });
+
+  it('no exact holder: the least residual within the slack wins, whatever the order', () => {
+    // only B (θ1 ≤ 0) and C (θ1 ≥ 1e-8): the gap 0 < θ1 < 1e-8 is held by the slack only
+    const bc = [regions[0], regions[2]];
+    expect(locatePoint(bc, [3e-9, 0], tol.inside, box)).toEqual({ region: 0, violation: 3e-9 });
+    const r = locatePoint(bc, [7e-9, 0], tol.inside, box);
+    expect(r.region).toBe(1);
+    expect(r.violation).toBeCloseTo(3e-9, 20);
+    // beyond the slack of every region: none
+    expect(locateScan([regions[0]], [2e-8, 0]).region).toBe(-1);
+    expect(locateScan(regions, [NaN, 0]).region).toBe(-1);
+  });
+
+  it('the grid index (used after a few queries on ≥ 32 regions) follows the same rule as the scan', () => {
+    // 40 vertical strips of width 0.05 over θ1 ∈ [−1, 1], each with its own law u = k
+    const strips: CriticalRegion[] = [];
+    for (let k = 0; k < 40; k++) {
+      const lo = -1 + 0.05 * k;
+      const hi = lo + 0.05;
+      strips.push({ A: [[-1, 0], [1, 0]], b: [-lo, hi], chebyshev: { center: [(lo + hi) / 2, 0], radius: 0.025 } } as unknown as CriticalRegion);
+    }
+    const table = { dims: { ntheta: 2 }, box, regions: strips.map((r, k) => ({ ...r, law: { F: [[0, 0]], g: [k] } })) } as unknown as TableFile;
+    // warm the cache so the grid locator is built, then query just right of every inner strip border
+    for (let i = 0; i < 20; i++) evaluateTable(table, [0.01, 0]);
+    for (let k = 1; k < 40; k++) {
+      const border = -1 + 0.05 * k;
+      const th = [border + 4e-9, 0.2];
+      // strip k holds θ exactly (residual ≤ 0); strip k−1 only within the slack
+      const exactK = strips[k].A.every((a, i) => a[0] * th[0] - strips[k].b[i] <= 0);
+      const e = evaluateTable(table, th);
+      expect(exactK).toBe(true);
+      expect(e.u).toEqual([k]);
+      expect(e.region).toBe(locateScan(table.regions, th).region);
+    }
+  });
+});
+
+describe('point location with a negative slack (strict interior, as the exploration asks)', () => {
+  it('holds θ only when every row is at most b + slack', () => {
+    // worked by hand: θ1 = −0.1 is 0.1 inside B (θ1 ≤ 0) and 0.1 outside A
+    expect(locateScan(regions.slice(0, 2), [-0.1, 0], -0.05).region).toBe(0);
+    expect(locateScan(regions.slice(0, 2), [-0.01, 0], -0.05).region).toBe(-1);
+    const g = new GridLocator(box.lower, box.upper);
+    g.add([[1, 0]], [0], [-1, -1], [0, 1]);
+    g.add([[-1, 0]], [0], [0, -1], [1, 1]);
+    expect(g.locate([-0.1, 0], -0.05)).toBe(0);
+    expect(g.locate([-0.01, 0], -0.05)).toBe(-1);
+    expect(g.locate([0.01, 0], -0.05)).toBe(-1);
+  });
+});

@@ -39,7 +39,8 @@ export function regionDataBytes(table: TableFile): number {
 /**
  * Build the locator of one structure. `tree`: the hyperplane tree as before (one region per leaf);
  * `capped`: hyperplane tree with float-safe side overlap, depth ≤ 3·log2(regions), leaves of at most
- * CAPPED_LEAF_MACS/nθ rows, within the byte budget; `boxtree`: bounding-box tree within the budget.
+ * CAPPED_LEAF_MACS/nθ rows, within the byte budget, splitting on the regions' facet planes and on
+ * axis-aligned planes at the quartiles of the node's region centres; `boxtree`: bounding-box tree within the budget.
  */
 export function buildLocator(table: TableFile, search: SearchKind, options: LocatorOptions = {}): Locator | null {
   const n = table.dims.ntheta;
@@ -56,6 +57,7 @@ export function buildLocator(table: TableFile, search: SearchKind, options: Loca
         leafRows: Math.max(2 * n + 2, Math.floor(CAPPED_LEAF_MACS / n)),
         maxDepth: Math.max(8, Math.ceil(3 * Math.log2(Math.max(2, R)))),
         duplicationWeight: 0.5,
+        axisCandidates: true,
         nodeBudget: 2e5,
         maxBytes,
         ...options.tree,

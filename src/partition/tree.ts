@@ -67,6 +67,12 @@ export interface TreeOptions {
   margin?: number;
   /** also stop splitting when the rows of a node's regions sum to at most this (depth-capped tree with short sequential leaves) */
   leafRows?: number;
+  /**
+   * also try axis-aligned planes θ_j = q at the quartiles of the node's region centres (capped tree):
+   * a set of regions that all touch each other's facet planes (a fan around a common face) cannot be
+   * split by those planes once touching regions go to both sides, but often can by a plane across it
+   */
+  axisCandidates?: boolean;
   /** give up (throw TreeTooLargeError) once the tree has more than this many nodes */
   maxNodes?: number;
   /**
@@ -168,6 +174,16 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     openBoundary.push(open);
   });
   const vertices = regions.map((r) => polytopeVertices(r, n, options.vertexBudget));
+  // a point inside each region (the mean of its vertices, or of its rows' nearest points): axis candidates
+  const centres = regions.map((r, ri) => {
+    const v = vertices[ri];
+    const c = new Array<number>(n).fill(0);
+    if (v && v.length >= n) {
+      const m = v.length / n;
+      for (let k = 0; k < m; k++) for (let j = 0; j < n; j++) c[j] += v[k * n + j] / m;
+    } else if ((r as Partial<CriticalRegion>).chebyshev) return [...(r as CriticalRegion).chebyshev.center];
+    return c;
+  });
 
   // side of every (region, hyperplane) pair, computed on first use: 0 unknown, bit 1 left, bit 2 right
   const H = hpA.length;
@@ -252,11 +268,33 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     let best = -1;
     let bestScore = Infinity;
     let bestSum = Infinity;
-    for (const k of cands) {
+    // extra axis-aligned candidates: index H + e into extraA/extraB (sides computed per node, no cache)
+    const extraA: number[][] = [];
+    const extraB: number[] = [];
+    if (options.axisCandidates && set.length > 1) {
+      for (let j = 0; j < n; j++) {
+        const cs = set.map((ri) => centres[ri][j]).sort((x, y) => x - y);
+        for (const q of [0.25, 0.5, 0.75]) {
+          const v = cs[Math.min(cs.length - 1, Math.floor(q * cs.length))];
+          if (extraB.length > 0 && extraA[extraA.length - 1][j] === 1 && extraB[extraB.length - 1] === v) continue;
+          const a = new Array<number>(n).fill(0);
+          a[j] = 1;
+          extraA.push(a);
+          extraB.push(v);
+        }
+      }
+    }
+    const extraSides = extraA.map((a, e) => set.map((ri) => {
+      const c = classify(regions[ri], n, vertices[ri], a, extraB[e], false, options.margin);
+      return (c.left ? 1 : 0) | (c.right ? 2 : 0);
+    }));
+    const sideOf = (q: number, k: number): number => (k >= H ? extraSides[k - H][q] : side(set[q], k));
+    const allCands = [...cands, ...extraA.map((_, e) => H + e)];
+    for (const k of allCands) {
       let nl = 0;
       let nr = 0;
-      for (const ri of set) {
-        const s = side(ri, k);
+      for (let q = 0; q < set.length; q++) {
+        const s = sideOf(q, k);
         nl += s & 1;
         nr += s >> 1;
       }
@@ -273,8 +311,8 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       task.store(makeLeaf(set, depth));
       continue;
     }
-    const leftSet = set.filter((ri) => (side(ri, best) & 1) !== 0);
-    const rightSet = set.filter((ri) => (side(ri, best) & 2) !== 0);
+    const leftSet = set.filter((_, q) => (sideOf(q, best) & 1) !== 0);
+    const rightSet = set.filter((_, q) => (sideOf(q, best) & 2) !== 0);
     if (budget !== undefined) {
       const grown = copies + leftSet.length + rightSet.length - set.length;
       if (locatorBytes(tree.nodeHyperplane.length + 1, nodeBytes, tree.leafStart.length - 1 + pending() + 2, grown, regions.length) > budget) {
@@ -283,12 +321,12 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
       }
       copies = grown;
     }
-    let hi = usedHp.get(best);
+    let hi = best < H ? usedHp.get(best) : undefined;
     if (hi === undefined) {
       hi = tree.hyperplanes.a.length;
-      usedHp.set(best, hi);
-      tree.hyperplanes.a.push(hpA[best]);
-      tree.hyperplanes.b.push(hpB[best]);
+      if (best < H) usedHp.set(best, hi);
+      tree.hyperplanes.a.push(best < H ? hpA[best] : extraA[best - H]);
+      tree.hyperplanes.b.push(best < H ? hpB[best] : extraB[best - H]);
     }
     const node = tree.nodeHyperplane.length;
     if (options.maxNodes !== undefined && node >= options.maxNodes) throw new TreeTooLargeError(options.maxNodes);
@@ -296,7 +334,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     tree.nodeLeft.push(0);
     tree.nodeRight.push(0);
     task.store(node);
-    const childPath = new Set(path).add(best);
+    const childPath = best < H ? new Set(path).add(best) : path;
     // push right first so the left subtree is numbered first (deterministic layout)
     if (budget === undefined) {
       push({ set: rightSet, depth: depth + 1, path: childPath, store: (r) => (tree.nodeRight[node] = r) });

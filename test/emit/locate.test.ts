@@ -4,11 +4,22 @@
  * points and on points pushed just inside/outside every facet; the generated C of every structure
  * and precision compiled with gcc's strict C99 flags and checked bit for bit against the
  * TypeScript evaluator (in double also against the table's own law, applyAffine); the byte budget
- * and the float certificate. References: locateSequential/applyAffine of src/table (the table's
- * own double law), exact IEEE single precision emulated with Math.fround (IEEE 754, common practice).
+ * and the float certificate. References: sequential search by definition — every region in index
+ * order, the first holding θ within tol.inside (regionContains; common practice: what the
+ * sequential C does) — and applyAffine of src/table (the table's own double law), exact IEEE single precision emulated with Math.fround (IEEE 754, common practice).
  */
 import { describe, expect, it } from 'vitest';
-import { applyAffine, locateSequential, regionContains } from '../../src/table/table.js';
+import { applyAffine, regionContains } from '../../src/table/table.js';
+import type { CriticalRegion } from '../../src/mpqp/types.js';
+
+/**
+ * Sequential search as the generated code does it (first fit): the first region in index order that
+ * holds θ within tol.inside. (The table's own locator prefers exact containment, then the least
+ * residual; the structures here follow the sequential C instead.)
+ */
+function locateSequential(regions: CriticalRegion[], p: ArrayLike<number>): number {
+  return regions.findIndex((r) => regionContains(r, p));
+}
 import { buildSearchTree, locateTree } from '../../src/partition/tree.js';
 import { buildBoxTree, locateBoxTree } from '../../src/partition/boxtree.js';
 import { emitC } from '../../src/emit/index.js';

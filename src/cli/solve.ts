@@ -16,7 +16,6 @@ import { InputError } from '../io/errors.js';
 import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
-import { tol } from '../tol.js';
 import { createdNote, positive, SECONDS } from './common.js';
 
 export function defaultTablePath(problemPath: string): string {
@@ -186,8 +185,6 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
-      if (s.thinDropped)
-        lines.push(`  note: ${s.thinDropped} region(s) of Chebyshev radius ≤ ${(10 * tol.radius).toExponential(0)} met on the way are left out (thinner than the table's hole bound; the same in every run)`);
       if (s.unresolvedPieces > 0)
         lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
       process.stdout.write(lines.join('\n') + '\n');

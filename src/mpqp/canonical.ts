@@ -9,15 +9,18 @@
  * renumbers them, and lists each facet's neighbours in ascending new index, the union of the
  * neighbours computed again from the regions alone.
  *
- * Thin regions: the exploration treats facet pieces of radius ≤ 10·tol.radius as covered (the bound
- * on any hole of a table), so whether it meets a region that thin depends on where it happened to
- * land. The canonical form therefore leaves out every region whose Chebyshev radius is ≤ 10·tol.radius:
- * they are holes within the documented bound, the same in every run, and counted in `stats.thinDropped`.
+ * Thin regions: the exploration counts a neighbour within 10·tol.radius of a facet as covering it,
+ * so whether it meets a region thinner than that depends on where it lands (threads and parts land
+ * elsewhere). A complete union is therefore closed under the combinatorial neighbour of every
+ * facet (`closeUnderGuesses`): a thin region is the row-added or row-dropped neighbour of a region
+ * every run found, so every run ends with it. Leaving thin regions out instead opened holes that
+ * `gaps` found by its facet probes. `stats.thinRegions` counts them.
  */
 import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats } from './types.js';
 import type { LpEngine } from './region.js';
 import { overlapsFacet, slicePolytope } from './solve.js';
-import { boundingBoxByLp } from '../table/locator.js';
+import { boundingBoxByLp, GridLocator } from '../table/locator.js';
+import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
 
 /** Order of two ascending index lists: entry by entry, then the shorter first. */
@@ -38,15 +41,15 @@ export function compareActiveSets(a: readonly number[], b: readonly number[]): n
  */
 export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]): Partition {
   const byKey = new Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>();
-  const thin = new Set<string>();
   for (const part of parts)
     part.regions.forEach((R, i) => {
       const key = R.activeSet.join(',');
-      if (R.chebyshev.radius <= 10 * tol.radius) thin.add(key);
-      else if (!byKey.has(key)) byKey.set(key, { region: R, box: part.boxes?.[i] ?? null });
+      if (!byKey.has(key)) byKey.set(key, { region: R, box: part.boxes?.[i] ?? null });
     });
-  const entries = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet));
   const lp: LpEngine = { lps: 0, reference: false };
+  let closed = 0;
+  if (parts.every((p) => p.stats.complete)) closed = closeUnderGuesses(problem, byKey, lp);
+  const entries = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet));
   const boxes = entries.map((e) => {
     if (e.box) return e.box;
     lp.lps += 2 * problem.ntheta;
@@ -59,7 +62,7 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     id,
     facets: R.facets.map((f, q) => ({ kind: f.kind, row: f.row, neighbours: neighbours[id][q] })),
   }));
-  const stats: PartitionStats = { regions: regions.length, candidates: 0, lps: lp.lps, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, thinDropped: thin.size };
+  const stats: PartitionStats = { regions: regions.length, candidates: 0, lps: lp.lps, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, thinRegions: regions.filter((R) => R.chebyshev.radius <= 10 * tol.radius).length };
   const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
   for (const p of parts) {
     stats.candidates += p.stats.candidates;
@@ -72,7 +75,57 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     }
     if (p.work) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += p.work[k];
   }
+  stats.candidates += closed;
   return { regions, stats, work, boxes };
+}
+
+/**
+ * Close a complete set of regions under the combinatorial neighbour of every non-box facet (the row
+ * added across a primal facet, dropped across a dual one): a guess that is not known yet, gives a
+ * full-dimensional region of Chebyshev radius ≤ 10·tol.radius and whose centre lies in no known
+ * region is added, and its facets are tried in turn. The explorations are complete up to regions thinner than the covering
+ * slack (10·tol.radius), and whether they meet those depends on where they land; such a region is
+ * the combinatorial neighbour of one they all found, so after closing, every run holds it. Visits
+ * regions in key order, so the result depends only on the set it starts from. Returns how many
+ * regions were added.
+ */
+function closeUnderGuesses(problem: MpqpProblem, byKey: Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>, lp: LpEngine): number {
+  const queue = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet)).map((e) => e.region);
+  const grid = new GridLocator(problem.box.lower, problem.box.upper);
+  const boxOf = (e: { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }) => {
+    if (!e.box) {
+      lp.lps += 2 * problem.ntheta;
+      e.box = boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
+    }
+    return e.box;
+  };
+  for (const R of queue) {
+    const bb = boxOf(byKey.get(R.activeSet.join(','))!);
+    grid.add(R.A, R.b, bb.lo, bb.hi);
+  }
+  const tried = new Set<string>();
+  let added = 0;
+  const lean = queue.length > 0 && queue[0].moves === undefined; // lean regions (no move sequence) stay lean
+  for (let q = 0; q < queue.length; q++) {
+    const R = queue[q];
+    for (const f of R.facets) {
+      if (f.kind === 'box') continue;
+      const guess = f.kind === 'primal' ? [...R.activeSet, f.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== f.row);
+      const key = guess.join(',');
+      if (byKey.has(key) || tried.has(key)) continue;
+      tried.add(key);
+      const res = buildRegion(problem, guess, lp, lean);
+      // only what the explorations may miss: a thin region whose centre no known region holds
+      if (!res.ok || res.region.chebyshev.radius > 10 * tol.radius) continue;
+      if (grid.locate(res.region.chebyshev.center, tol.inside) >= 0) continue;
+      const region: CriticalRegion = { id: -1, ...res.region };
+      byKey.set(key, { region, box: res.bbox });
+      grid.add(region.A, region.b, res.bbox.lo, res.bbox.hi);
+      queue.push(region);
+      added++;
+    }
+  }
+  return added;
 }
 
 /**

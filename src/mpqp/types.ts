@@ -165,8 +165,8 @@ export interface PartitionStats {
   stopReason: 'done' | 'max-regions' | 'time-limit' | 'interrupted';
   /** facet pieces (radius > 10·tol.radius) across which no full-dimensional region could be built; 0 in a sound table */
   unresolvedPieces: number;
-  /** regions of Chebyshev radius ≤ 10·tol.radius met by the exploration and left out of the canonical form (`joinPartitions`) */
-  thinDropped?: number;
+  /** regions of Chebyshev radius ≤ 10·tol.radius (thinner than what the exploration must find; counted by `joinPartitions`) */
+  thinRegions?: number;
 }
 
 /** How the exploration spent its work (printed and benchmarked; not stored in the table). */

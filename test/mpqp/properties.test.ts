@@ -84,8 +84,10 @@ describe('partition properties', () => {
           checked++;
           const r = intersectionRadiusKernel(regs[i], regs[j]);
           expect(r, `regions ${i} and ${j} overlap`).toBeLessThan(1e-6);
-          // every 25th pair again with javascript-lp-solver, an outside LP implementation
-          if (checked % 25 === 0) {
+          // every 25th pair again with javascript-lp-solver, an outside LP implementation; only pairs
+          // of regions wider than 1e-4: on thinner ones it answered radii above the thinner region's
+          // own radius (8.6e-5 for a region of radius 2.3e-5, two-carts-4d), below its precision
+          if (checked % 25 === 0 && Math.min(regs[i].chebyshev.radius, regs[j].chebyshev.radius) > 1e-4) {
             crossChecked++;
             expect(intersectionRadius(regs[i], regs[j])).toBeLessThan(1e-6);
           }

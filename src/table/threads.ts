@@ -113,7 +113,11 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       stats.unresolvedPieces += s?.unresolvedPieces ?? 0;
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     });
-    const list = [...found.values()];
+    // Workers check the region bound on their own view of the shared set, so together they can pass
+    // it by a region or two; a table stopped by --max-regions keeps the first ones found (it is marked
+    // incomplete either way, and a checkpoint keeps them all).
+    const all = [...found.values()];
+    const list = reason === 'max-regions' && options.maxRegions !== undefined ? all.slice(0, options.maxRegions) : all;
     stats.regions = list.length;
     stats.complete = complete;
     stats.stopReason = reason;

@@ -18,6 +18,7 @@ import { arraysToCsv, arraysToJson } from './export.js';
 import { sampleBox } from './sample.js';
 import { findTarget } from './targets/index.js';
 import type { TargetFile } from './targets/target.js';
+import { fixedPlaneMargin } from './fixed.js';
 import { emit, tableHash, treeForTable, type EmitResult, type SearchChoice } from './index.js';
 
 /** What `emitBundle` builds; every field but `lang`, `precision`, `search` and `prefix` is optional. */
@@ -119,7 +120,16 @@ export function emitBundle(input: TableFile, o: EmitBundleOptions): EmitBundle {
   const merged = merge !== null;
   const hash = tableHash(table);
   let tree: SearchTree | undefined;
-  if (o.search === 'tree') tree = o.tree ? o.tree(table, hash) : treeForTable(table, { tableHash: hash, leafSize: o.leafSize ?? 1, onProgress: o.onTreeProgress });
+  if (o.search === 'tree')
+    tree = o.tree
+      ? o.tree(table, hash)
+      : treeForTable(table, {
+          tableHash: hash,
+          leafSize: o.leafSize ?? 1,
+          onProgress: o.onTreeProgress,
+          // a fixed-point descent rounds θ to its fraction bits: regions within that of a split go to both sides
+          ...(o.precision === 'q15' || o.precision === 'q31' ? { margin: fixedPlaneMargin(table, o.precision, o.thetaFrac) } : {}),
+        });
   const res = emit(table, {
     lang,
     precision: o.precision,

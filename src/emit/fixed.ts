@@ -452,3 +452,30 @@ export function fixedCostFigures(b: FixedBuild) {
 /** How a fixed build's arrays fit together, in words (the JSON export's `layout`). */
 export const FIXED_LAYOUT_TEXT =
   'integers; θq_j = round(θ_j·2^thetaFrac[j]) must lie in [theta_lo[j], theta_hi[j]] (else no region); node child r >= 0 is a node, r < 0 is leaf -r-1; node k: left when Σ_j node_a[k*nt+j]·θq_j <= node_b[k]; region r rows region_row_start[r]..[r+1], inside when Σ_j region_a[i*nt+j]·θq_j <= region_b[i]; acc = law_g[r*nu+i] + Σ_j law_f[(r*nu+i)*nt+j]·θq_j, u_q = floor((acc + 2^(k-1)) / 2^k) with k = scaling.shifts.output, u = u_q·2^-uFrac; sums need the accumulator width of the format (32 bits for q15, 64 for q31)';
+
+/**
+ * Side overlap that makes a hyperplane descent safe in fixed point (`q15`/`q31`), for
+ * `TreeOptions.margin`: twice a bound on |a_q·θ_q − b_q − (a·θ − b)| in θ units, from θ rounded to
+ * its fraction bits (≤ 1 LSB per component, counted in full), the plane coefficients and offset
+ * rounded to the node shift (≤ ½·2^−s each, with 2^−s bounded from the largest coefficient of any
+ * region row, the word size and log2(nθ + 2) bits of accumulator headroom), plus tol.radius.
+ * Conservative: a larger margin only copies more regions to both sides of a split.
+ */
+export function fixedPlaneMargin(table: TableFile, format: FixedFormat, thetaFracOverride?: readonly number[]): number {
+  const n = table.dims.ntheta;
+  const wordMax = 2 ** (formatBits(format).word - 1) - 1;
+  const thMax = table.box.lower.map((l, j) => Math.max(Math.abs(l - tol.inside), Math.abs(table.box.upper[j] + tol.inside)));
+  const frac = thMax.map((m, j) => thetaFracOverride?.[j] ?? fracFor(m, wordMax));
+  let aMax = 0;
+  for (const r of table.regions) for (const row of r.A) for (let j = 0; j < n; j++) aMax = Math.max(aMax, Math.abs(row[j]));
+  const stepS = (2 * aMax * 2 ** Math.ceil(Math.log2(n + 2))) / wordMax; // ≥ 2^−s
+  const thetaSum = thMax.reduce((s, m, j) => s + m + pow2(-frac[j]), 0);
+  let worst = 0;
+  for (const r of table.regions)
+    for (const row of r.A) {
+      let q = 0;
+      for (let j = 0; j < n; j++) q += Math.abs(row[j]) * pow2(-frac[j]);
+      worst = Math.max(worst, q + (stepS / 2) * thetaSum + stepS / 2);
+    }
+  return 2 * worst + tol.radius;
+}

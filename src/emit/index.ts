@@ -12,6 +12,7 @@ import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeO
 import { SEARCH_KINDS, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
 import { buildLocator, measureCandidates, pickCandidate, type Candidate, type LocatorOptions } from './choose.js';
 import { findTarget, targetLanguages, targetPrecisions } from './targets/index.js';
+import { fixedPlaneMargin } from './fixed.js';
 import type { EmitTarget, TargetCost, TargetFile } from './targets/target.js';
 
 export type { Precision, SearchKind } from './arrays.js';
@@ -108,7 +109,13 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
     if (!supported.includes(search)) throw new Error(`the ${target.id} target prints ${supported.join(' and ')} search, not ${search}`);
     locator =
       search === 'tree'
-        ? (opts.tree ?? treeForTable(table, { ...opts.treeOptions, tableHash: hash }))
+        ? (opts.tree ??
+          treeForTable(table, {
+            ...opts.treeOptions,
+            tableHash: hash,
+            // a fixed-point descent rounds θ to its fraction bits: regions within that of a split go to both sides
+            ...(opts.precision === 'q15' || opts.precision === 'q31' ? { margin: Math.max(opts.treeOptions?.margin ?? 0, fixedPlaneMargin(table, opts.precision, opts.thetaFrac)) } : {}),
+          }))
         : (opts.locator ?? buildLocator(table, search, { ...opts.locatorOptions, tableHash: hash }));
     searchReason = [`${search} search, named by the caller (--search ${search}).`];
   }

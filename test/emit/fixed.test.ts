@@ -11,7 +11,7 @@ import { describe, expect, it } from 'vitest';
 import { execFileSync } from 'node:child_process';
 import { join } from 'node:path';
 import { emit, treeForTable } from '../../src/emit/index.js';
-import { evaluateFixed, evaluateFixedQ, type FixedBuild } from '../../src/emit/fixed.js';
+import { evaluateFixed, evaluateFixedQ, fixedPlaneMargin, type FixedBuild } from '../../src/emit/fixed.js';
 import { certifyFixed } from '../../src/check/certify-fixed.js';
 import { facetPoints } from '../../src/check/certify.js';
 import { sampleBox } from '../../src/emit/sample.js';
@@ -27,7 +27,8 @@ function stripComments(c: string): string {
 /** `continuous`: an MPC table (continuous law); the synthetic arrangement has an unrelated random law per cell. */
 function check(name: string, table: TableFile, continuous = true): void {
   describe(name, () => {
-    const tree = treeForTable(table);
+    // the tree a fixed build gets from emit: regions within the q15 rounding of a split on both sides (q31 rounds less)
+    const tree = treeForTable(table, { margin: fixedPlaneMargin(table, 'q15') });
     const facet = facetPoints(table);
     const step = Math.max(1, Math.floor(facet.length / 2000));
     const points = [...sampleBox(table.box, 10000, 17), ...facet.filter((_, i) => i % step === 0)];

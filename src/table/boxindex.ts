@@ -13,6 +13,7 @@
  * keeps float-safe splits and a C byte budget; here everything is double and in memory.
  */
 import { tol } from '../tol.js';
+import { packedViolation } from './packed.js';
 import { LargestFirst } from '../partition/budget.js';
 
 const SPLITS = [0.25, 0.5, 0.75];
@@ -242,20 +243,7 @@ export class BoxIndex {
    * the first row above `limit` and returns that row's residual. NaN θ gives +Infinity.
    */
   violation(r: number, theta: ArrayLike<number>, limit: number = Infinity): number {
-    const n = this.n;
-    const A = this.A;
-    const b = this.b;
-    let worst = -Infinity;
-    for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
-      // Σ a_j θ_j first, then − b: the same rounding as the scan (locateScan, regionViolation)
-      let s = 0;
-      const o = i * n;
-      for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
-      const v = s - b[i];
-      if (!(v <= limit)) return v === v ? v : Infinity;
-      if (v > worst) worst = v;
-    }
-    return worst;
+    return packedViolation(this.A, this.b, this.rowStart, this.n, r, theta, limit);
   }
 
   /** Largest residual of the region the last `locate` returned (−Infinity when it returned −1). */

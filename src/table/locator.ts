@@ -2,6 +2,9 @@ import { lpMaximizeFrom, chebyshevBall } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { BoxIndex } from './boxindex.js';
+import { packedViolation } from './packed.js';
+
+export { packedViolation };
 
 /**
  * Point location over polyhedral regions through a hierarchy of uniform grids over the parameter
@@ -160,19 +163,7 @@ export class GridLocator {
    * without rows gives −Infinity.
    */
   violation(r: number, theta: ArrayLike<number>, limit: number = Infinity): number {
-    const n = this.n;
-    const A = this.A;
-    const b = this.b;
-    let worst = -Infinity;
-    for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
-      let s = 0;
-      const o = i * n;
-      for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
-      const v = s - b[i];
-      if (!(v <= limit)) return Number.isNaN(v) ? Infinity : v;
-      if (v > worst) worst = v;
-    }
-    return worst;
+    return packedViolation(this.A, this.b, this.rowStart, this.n, r, theta, limit);
   }
 
   /** Largest residual of the region the last `locate` returned (−Infinity when it returned −1). */
@@ -417,3 +408,4 @@ export function regionContains(region: Pick<CriticalRegion, 'A' | 'b'>, theta: A
   }
   return true;
 }
+

@@ -65,6 +65,12 @@ export interface TreeOptions {
    * planeMargin) to make the descent safe in float; unset keeps the original rule (tol.radius)
    */
   margin?: number;
+  /**
+   * with `margin`: a region whose facet on the outer boundary of the partition lies on the plane
+   * still goes to both sides (θ just outside the boundary is located within the test slack); the
+   * fixed-point trees set it, the float structures keep their own rule
+   */
+  boundaryBothSides?: boolean;
   /** also stop splitting when the rows of a node's regions sum to at most this (depth-capped tree with short sequential leaves) */
   leafRows?: number;
   /**
@@ -122,9 +128,11 @@ function classify(
   b: number,
   openBoundary: boolean,
   margin: number | undefined,
+  boundaryBothSides = false,
 ): { left: boolean; right: boolean } {
   const [lo, hi] = linearRange(h, n, a, vertices);
   if (margin !== undefined) {
+    if (openBoundary && boundaryBothSides) return { left: true, right: true };
     const l = lo < b + margin;
     const r = hi > b - margin;
     return l || r ? { left: l, right: r } : { left: true, right: true };
@@ -192,7 +200,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     const key = ri * H + k;
     let c = sideCache[key];
     if (c === 0) {
-      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k), options.margin);
+      const s = classify(regions[ri], n, vertices[ri], hpA[k], hpB[k], openBoundary[ri].has(k), options.margin, options.boundaryBothSides);
       c = (s.left ? 1 : 0) | (s.right ? 2 : 0);
       sideCache[key] = c;
     }

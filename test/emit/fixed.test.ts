@@ -27,15 +27,16 @@ function stripComments(c: string): string {
 /** `continuous`: an MPC table (continuous law); the synthetic arrangement has an unrelated random law per cell. */
 function check(name: string, table: TableFile, continuous = true): void {
   describe(name, () => {
-    // the tree a fixed build gets from emit: regions within the q15 rounding of a split on both sides (q31 rounds less)
-    const tree = treeForTable(table, { margin: fixedPlaneMargin(table, 'q15') });
+    // the trees a fixed build gets from emit: q15 puts regions within its θ rounding of a split on both sides; q31 keeps the double tree
+    const tree15 = treeForTable(table, { margin: fixedPlaneMargin(table, 'q15'), boundaryBothSides: true });
+    const tree31 = treeForTable(table);
     const facet = facetPoints(table);
     const step = Math.max(1, Math.floor(facet.length / 2000));
     const points = [...sampleBox(table.box, 10000, 17), ...facet.filter((_, i) => i % step === 0)];
     for (const precision of ['q15', 'q31'] as const)
       for (const search of ['tree', 'sequential'] as const)
         it(`${precision} ${search}: integer-only C, bit for bit with the emulation on ${points.length} points, no overflow at the box extremes`, () => {
-          const r = emit<FixedBuild>(table, { lang: 'c', precision, search, prefix: 'law', tree });
+          const r = emit<FixedBuild>(table, { lang: 'c', precision, search, prefix: 'law', tree: precision === 'q15' ? tree15 : tree31 });
           const b = r.arrays;
           for (const f of r.files) expect(stripComments(f.text)).not.toMatch(/\b(float|double)\b|[0-9]\.[0-9]|[0-9]e[+-]?[0-9]/);
           // the header states the scaling the caller must apply
@@ -81,7 +82,7 @@ function check(name: string, table: TableFile, continuous = true): void {
 
     for (const precision of ['q15', 'q31'] as const)
       it(`${precision} certificate: ${continuous ? 'SAFE at its stated tolerance, ' : ''}no point lost, same-region error within the proven bound`, () => {
-        const r = emit<FixedBuild>(table, { lang: 'c', precision, search: 'tree', prefix: 'law', tree });
+        const r = emit<FixedBuild>(table, { lang: 'c', precision, search: 'tree', prefix: 'law', tree: precision === 'q15' ? tree15 : tree31 });
         const cert = certifyFixed(table, r.arrays, { samples: 20000, seed: 1 });
         // a law that jumps across facets cannot be SAFE once the region-test margin relocates points;
         // the continuous MPC laws of the examples must be

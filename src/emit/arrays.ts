@@ -172,6 +172,16 @@ export interface EmitArrays extends SearchIndex {
    * Double builds keep first-fit (the lowest index), exactly sequential search.
    */
   bestFit: boolean;
+  /**
+   * best fit's early exit (float builds; 0 in double): a candidate whose largest slack-free residual
+   * is ≤ this (negative) number is deep inside its region, and no other region can fit better, so the
+   * scan stops there with the same answer as the full scan. Proof: the residuals are within ε_X < S_X
+   * of the exact ones (regionTests), the table's regions overlap by at most tol.inside, so a θ at
+   * depth > tol.inside + ε_R inside R has ρ_N ≥ −tol.inside in every other region N and
+   * ρ̂_N ≥ −tol.inside − ε_N > −S_N ≥ −max S; the threshold is −2·max S (rounded to a float, toward 0
+   * never: −roundUp(2·max S)), so ρ̂_R ≤ it < ρ̂_N strictly.
+   */
+  fitSure: number;
   /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
   nodeAxis: number[];
   nodeSplit: number[];
@@ -256,6 +266,7 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     lawC,
     regionSlack,
     bestFit: precision === 'float',
+    fitSure: precision === 'float' ? -roundUp(2 * slack) : 0,
     nodeAxis: [],
     nodeSplit: [],
     ...searchIndex(search, tree, regionRowStart),
@@ -334,6 +345,7 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
       if (q === q && (best < 0 || q < bestRes)) {
         best = regionAt(k);
         bestRes = q;
+        if (q <= ar.fitSure) break; // deep inside: no other candidate can fit better
       }
     }
     return best < 0 ? { region: -1, u: null } : { region: best, u: law(best) };
@@ -394,9 +406,10 @@ export interface CostFigures {
 export function costFigures(
   ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> & Partial<Pick<EmitArrays, 'bestFit'>> & { clamp?: EmitArrays['clamp'] },
 ): CostFigures {
-  // best fit: per row the test and the running maximum, per region the comparison with the best so far
+  // best fit: per row the test and the running maximum, per region the comparison with the best so
+  // far and the early-exit test (made when the region becomes the best: at most once per region)
   const rowCmp = ar.bestFit ? 2 : 1;
-  const regionCmp = ar.bestFit ? 1 : 0;
+  const regionCmp = ar.bestFit ? 2 : 0;
   const n = ar.ntheta;
   const rows = (r: number) => ar.regionRowStart[r + 1] - ar.regionRowStart[r];
   const lawMacs = ar.nu * n;

@@ -1,14 +1,16 @@
 /**
  * Point-location structures swept over θ dimension 2…6 on one problem family of our own (an
- * n-th order integrator chain with light damping, |u| ≤ 1, θ in [−2, 2]ⁿ; invented numbers), every structure in float: bytes (gcc sizeof, the cost report), worst-case operations,
- * median ns per evaluation of the compiled C on 20 000 seeded points, the ratio to the online QP
- * (quadprog, Goldfarb–Idnani, in Node on the same condensed QP and the same points, in this
- * process) and the float certificate. Then the 4-D crane example compiled for Cortex-M4F:
- * object size of the chosen structure against sequential search.
+ * n-th order integrator chain with light damping, |u| ≤ 1, θ in [−2, 2]ⁿ; invented numbers), every
+ * structure in float: bytes (gcc sizeof, the cost report), worst-case operations, latency of the
+ * compiled C (gcc -O2, each point timed on its own with clock_gettime, median over passes per point,
+ * then median and p99 over the points; latencyMain) and of the online QP (quadprog, Goldfarb–Idnani,
+ * in Node on the same condensed QP and the same points, each solve timed with hrtime, in this
+ * process), their ratio, and the float certificate. Then the 4-D crane example compiled for
+ * Cortex-M4F: object size of the chosen structure against sequential search.
  */
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { emitC, loadProblem, parseProblem, solveProblem } from '../../src/index.js';
@@ -18,7 +20,7 @@ import { cTarget } from '../../src/emit/targets/c.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { certifyFloat } from '../../src/check/certify.js';
 import type { MpqpProblem } from '../../src/index.js';
-import { benchMain, makeQp } from './emit.bench.js';
+import { benchMain, latencyMain, makeQp } from './emit.bench.js';
 
 const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
 /** horizon per θ dimension, chosen so that each table solves in about a minute or less */
@@ -49,31 +51,41 @@ function median(xs: number[]): number {
   return s[Math.floor(s.length / 2)];
 }
 
-function cNanoseconds(dir: string, tag: string, r: ReturnType<typeof emitC>, points: number[][]): number {
+/** Points of the latency runs (C and QP alike): the first LAT_POINTS of the seeded sample. */
+const LAT_POINTS = 2000;
+
+/** median and p99 ns of the compiled C lookup, per point (latencyMain), and the timer pair it subtracted. */
+function cLatency(dir: string, tag: string, r: ReturnType<typeof emitC>, points: number[][]): { median: number; p99: number; timer: number; pass: number } {
   const sub = join(dir, tag);
   mkdirSync(sub, { recursive: true });
   writeFileSync(join(sub, 'law.h'), r.header);
   writeFileSync(join(sub, 'law.c'), r.source);
-  writeFileSync(join(sub, 'bench.c'), benchMain('law', 'float', points));
+  writeFileSync(join(sub, 'lat.c'), latencyMain('law', 'float', points));
   execFileSync('gcc', [...STRICT, '-c', '-o', join(sub, 'law.o'), join(sub, 'law.c')]);
-  execFileSync('gcc', ['-std=c99', '-D_POSIX_C_SOURCE=199309L', '-O2', '-o', join(sub, 'bench'), join(sub, 'bench.c'), join(sub, 'law.o')]);
-  return Number(execFileSync(join(sub, 'bench'), { encoding: 'utf8' }).trim().split(' ')[0]);
+  execFileSync('gcc', ['-std=c99', '-D_POSIX_C_SOURCE=199309L', '-O2', '-o', join(sub, 'lat'), join(sub, 'lat.c'), join(sub, 'law.o')]);
+  const [median, p99, timer] = execFileSync(join(sub, 'lat'), { encoding: 'utf8' }).trim().split(' ').map(Number);
+  // throughput as the emit bench measures it: mean ns per evaluation of back-to-back calls, median of the passes
+  writeFileSync(join(sub, 'pass.c'), benchMain('law', 'float', points));
+  execFileSync('gcc', ['-std=c99', '-D_POSIX_C_SOURCE=199309L', '-O2', '-o', join(sub, 'pass'), join(sub, 'pass.c'), join(sub, 'law.o')]);
+  const pass = Number(execFileSync(join(sub, 'pass'), { encoding: 'utf8' }).trim().split(' ')[0]);
+  return { median, p99, timer, pass };
 }
 
-function qpMicroseconds(mpqp: MpqpProblem, points: number[][]): number {
+/** median and p99 µs of one online QP solve, per point (median of 3 passes per point). */
+function qpLatency(mpqp: MpqpProblem, points: number[][]): { median: number; p99: number } {
   const qp = makeQp(mpqp);
-  const ns: number[] = [];
+  const per = points.map(() => [] as number[]);
   let sink = 0;
-  for (let rep = 0; rep < 3; rep++) {
-    const t = process.hrtime.bigint();
-    for (const p of points) {
+  for (let rep = 0; rep < 3; rep++)
+    points.forEach((p, i) => {
+      const t = process.hrtime.bigint();
       const u = qp(p);
+      per[i].push(Number(process.hrtime.bigint() - t) / 1000);
       sink += Number.isNaN(u) ? 0 : u;
-    }
-    ns.push(Number(process.hrtime.bigint() - t) / points.length);
-  }
+    });
   if (sink === 0.5) console.log('');
-  return median(ns) / 1000;
+  const each = per.map(median).sort((a, b) => a - b);
+  return { median: each[Math.floor(each.length / 2)], p99: each[Math.floor(each.length * 0.99)] };
 }
 
 /** text + data bytes of an object compiled for Cortex-M4F (single-precision FPU, hard float ABI). */
@@ -93,31 +105,40 @@ function m4Bytes(dir: string, tag: string, r: ReturnType<typeof emitC>): number 
 
 export async function run(): Promise<void> {
   const dir = mkdtempSync(join(tmpdir(), 'tessera-locate-bench-'));
-  const out: string[] = ['point location swept over θ dimension (integrator chain family, float builds, gcc -O2 on this host; machine shared with other jobs)'];
-  out.push('  dim regions | structure   bytes(total)  location/region-data  worst MACs  worst cmps  median ns  QP/C ratio  float certificate');
+  const load = () => loadavg()[0].toFixed(1);
+  const out: string[] = [`point location swept over θ dimension (integrator chain family, float builds, gcc -O2 on this host; 2 cores shared with other jobs, load ${load()} at the start)`];
+  const summary: string[] = ['  summary: dim, regions, structure picked by the cost model, C lookup median/p99 ns vs online QP median/p99 µs on the same points, ratio of medians (target ≥ 1000x), load'];
+  out.push('  dim regions | structure   bytes(total)  location/region-data  worst MACs  worst cmps  C median/p99 ns  QP/C  float certificate');
   for (const n of [2, 3, 4, 5, 6]) {
     const loaded = parseProblem(chainProblem(n, HORIZON[n]), `chain-${n}d (bench)`);
     const t0 = Date.now();
     const { mpqp, table } = solveProblem(loaded, { timeLimit: SOLVE_SECONDS });
     const solveS = (Date.now() - t0) / 1000;
     const points = sampleBox(table.box, 20000, 2026);
-    const qpUs = qpMicroseconds(mpqp, points.slice(0, 2000));
+    const latPts = points.slice(0, LAT_POINTS);
+    const qp = qpLatency(mpqp, latPts);
     const cands = measureCandidates(table, cTarget, 'float', SEARCH_KINDS);
     const { chosen } = pickCandidate(cands);
-    out.push(`  ${n}-D: ${table.regions.length} regions (N = ${HORIZON[n]}, solved in ${solveS.toFixed(0)} s${table.stats.complete ? '' : ', INCOMPLETE'}), online QP ${qpUs.toFixed(1)} µs/solve; cost model picks ${chosen.search}`);
+    out.push(`  ${n}-D: ${table.regions.length} regions (N = ${HORIZON[n]}, nz = ${mpqp.nz}, ${mpqp.nc} rows, solved in ${solveS.toFixed(0)} s${table.stats.complete ? '' : ', INCOMPLETE'}), online QP median ${qp.median.toFixed(1)} µs, p99 ${qp.p99.toFixed(1)} µs per solve; cost model picks ${chosen.search}`);
     for (const c of cands) {
       if (!c.cost) {
         out.push(`      ${c.search.padEnd(10)} not built: ${c.rejected}`);
         continue;
       }
       const r = emitC(table, { precision: 'float', search: c.search, prefix: 'law', locator: c.locator ?? undefined, tree: c.search === 'tree' ? (c.locator as never) : undefined });
-      const ns = cNanoseconds(dir, `${n}-${c.search}`, r, points);
+      const lat = cLatency(dir, `${n}-${c.search}`, r, latPts);
       const cert = certifyFloat(table, r.arrays, { samples: 20000 });
+      const ratio = (qp.median * 1000) / lat.median;
       out.push(
-        `      ${c.search.padEnd(10)} ${String(r.cost.bytes.float.total).padStart(9)} B  ${(c.location / c.regions).toFixed(3).padStart(6)}  ${String(r.cost.worstMultiplyAdds).padStart(8)}  ${String(r.cost.worstComparisons).padStart(8)}  ${ns.toFixed(1).padStart(8)}  ${((qpUs * 1000) / ns).toFixed(0).padStart(7)}x  ${cert.safe ? 'SAFE' : 'NOT SAFE'} (max ${cert.maxAbsDiff.toPrecision(2)} at tol ${cert.tolerance.toPrecision(2)}, ${cert.lostInFloat} lost)${c.rejected ? `  [not eligible: ${c.rejected}]` : ''}${c.search === chosen.search ? '  <- chosen' : ''}`,
+        `      ${c.search.padEnd(10)} ${String(r.cost.bytes.float.total).padStart(9)} B  ${(c.location / c.regions).toFixed(3).padStart(6)}  ${String(r.cost.worstMultiplyAdds).padStart(8)}  ${String(r.cost.worstComparisons).padStart(8)}  ${lat.median.toFixed(0).padStart(6)}/${lat.p99.toFixed(0).padEnd(6)}  ${ratio.toFixed(0).padStart(6)}x  ${cert.safe ? 'SAFE' : 'NOT SAFE'} (max |du| ${cert.maxAbsDiff.toPrecision(2)} at tol ${cert.tolerance.toPrecision(2)}, ${cert.lostInFloat} lost)${c.rejected ? `  [not eligible: ${c.rejected}]` : ''}${c.search === chosen.search ? '  <- chosen' : ''}`,
       );
+      if (c.search === chosen.search)
+        summary.push(
+          `    ${n}-D ${String(table.regions.length).padStart(5)} regions  ${c.search.padEnd(10)} C ${lat.median.toFixed(0)}/${lat.p99.toFixed(0)} ns (timer pair ${lat.timer.toFixed(0)} ns subtracted; back-to-back mean ${lat.pass.toFixed(0)} ns)  QP ${qp.median.toFixed(1)}/${qp.p99.toFixed(1)} µs  ratio ${ratio.toFixed(0)}x ${ratio >= 1000 ? '≥' : '<'} 1000x  float ${cert.safe ? 'SAFE' : 'NOT SAFE'} ${cert.lostInFloat} lost  (load ${load()})`,
+        );
     }
   }
+  out.push(...summary);
   // the 4-D example compiled for the usual single-precision target
   {
     const loaded = loadProblem(join(import.meta.dirname, '../../examples/crane-trolley-4d.json'));

@@ -71,12 +71,15 @@ function checkCost(name: string, table: TableFile): void {
           let depth = 0;
           let macs = 0;
           let cmps = 0;
-          // float builds locate by best fit: per row the test and the running maximum, per region one
-          // comparison with the best so far (changed on purpose with best fit); double: first fit
+          // float builds locate by best fit: per row the test and the running maximum, per region the
+          // comparison with the best so far and the early-exit test (`res <= LAW_FIT_SURE`, made when the
+          // region becomes the best, so at most once per region; changed on purpose with the early
+          // exit); double: first fit
           const bestFit = precision === 'float';
           const rowCmp = bestFit ? 2 : 1;
-          const regionCmp = bestFit ? 1 : 0;
+          const regionCmp = bestFit ? 2 : 0;
           expect(r.source.includes('_fit(')).toBe(bestFit);
+          expect(r.source.includes('res <= LAW_FIT_SURE')).toBe(bestFit);
           if (search === 'sequential') {
             const all = rowStart[rowStart.length - 1];
             macs = all * nt + nu * nt;

@@ -240,6 +240,10 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
 
 `) + `${ar.bestFit ? `/* best fit: writes the largest residual a.(theta - c) - b of region r (without slack) and returns 1
  * when every row holds within the region's slack, else returns 0 */
+/* early exit of the best fit: a residual at or below this lies deeper inside its region than the
+ * rounding of any other region's test reaches (-2 x the largest slack), so that region is the best fit */
+#define ${P.toUpperCase()}_FIT_SURE (${formatReal(ar.fitSure, ar.precision)})
+
 static int ${P}_fit(uint32_t r, const ${real} theta[${NT}], ${real} *res)
 {
     uint32_t i, j;
@@ -289,6 +293,9 @@ ${ind}    ${real} res;
 ${ind}    if (${P}_fit(r, theta, &res) && (best < 0 || res < best_res)) {
 ${ind}        best = (int32_t)r;
 ${ind}        best_res = res;
+${ind}        if (res <= ${P.toUpperCase()}_FIT_SURE) {
+${ind}            break; /* deep inside r: no other region can fit better (see ${P.toUpperCase()}_FIT_SURE) */
+${ind}        }
 ${ind}    }
 ${ind}}
 ${ind}if (best < 0) {
@@ -325,12 +332,16 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
         for (j = 1u; j < ${NT}; ++j) {
             s += a[j] * theta[j];
         }
-        ref = (s <= a[${NT}]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
+        child[0] = ${P}_node_right[ref];
+        child[1] = ${P}_node_left[ref];
+        ref = child[s <= a[${NT}]]; /* both children loaded first: an index, not a branch */
     }
 `;
   const boxDescent = `    /* descent: at most DEPTH coordinate tests, left when theta[axis] <= split (no multiplication) */
     for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
-        ref = (theta[${P}_node_axis[ref]] <= ${P}_node_split[ref]) ? ${P}_node_left[ref] : ${P}_node_right[ref];
+        child[0] = ${P}_node_right[ref];
+        child[1] = ${P}_node_left[ref];
+        ref = child[theta[${P}_node_axis[ref]] <= ${P}_node_split[ref]];
     }
 `;
   const box = ar.search === 'boxtree';
@@ -340,7 +351,7 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
 int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     int32_t ref = ${P.toUpperCase()}_ROOT;
-    uint32_t ${ar.maxDepth > 0 ? (box ? 'd, ' : 'd, j, ') : ''}k, leaf;${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
+    uint32_t ${ar.maxDepth > 0 ? (box ? 'd, ' : 'd, j, ') : ''}k, leaf;${ar.maxDepth > 0 ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
 ${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
         return -1;
     }

@@ -175,8 +175,8 @@ export function targetCheck(table: TableFile, search: SearchKind, tree: SearchTr
   const builds: CoreBuildReport[] = [];
   try {
     for (const build of CROSS_BUILDS) {
-      // a q15 build gets its own tree (regions within θ's rounding of a split on both sides)
-      const fixed = build === 'q15';
+      // a fixed-point build gets its own tree (regions within θ's rounding of a split on both sides)
+      const fixed = build === 'q15' || build === 'q31';
       const r = emit(table, { lang: 'c', precision: build, search, prefix, tree: fixed ? undefined : (tree ?? undefined) });
       const sub = join(dir, build);
       execFileSync('mkdir', ['-p', sub]);

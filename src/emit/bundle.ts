@@ -127,10 +127,10 @@ export function emitBundle(input: TableFile, o: EmitBundleOptions): EmitBundle {
           tableHash: hash,
           leafSize: o.leafSize ?? 1,
           onProgress: o.onTreeProgress,
-          // a q15 descent rounds θ to 15 bits: regions within that of a split go to both sides (q31 keeps the
-          // double tree: its rounding is far below the location tolerance, and a side overlap there lets first
-          // fit relocate points by the region test's slack)
-          ...(o.precision === 'q15' ? { margin: fixedPlaneMargin(table, o.precision, o.thetaFrac), boundaryBothSides: true } : {}),
+          // a fixed-point descent rounds θ to its fraction bits: regions within that of a split go to both sides
+          // (fixedPlaneMargin); the leaf then takes the best fit by slack-free residuals, so the overlap relocates
+          // no point by the region test's slack
+          ...(o.precision === 'q15' || o.precision === 'q31' ? { margin: fixedPlaneMargin(table, o.precision, o.thetaFrac), boundaryBothSides: true } : {}),
         });
   const res = emit(table, {
     lang,

@@ -13,11 +13,15 @@
  * s is the largest shift for which every coefficient fits the coefficient type and the interval
  * bound of every accumulation fits the accumulator (the overflow proof, `overflowProof`).
  *
- * Region test. The bound of row i is widened by the worst rounding error of the integer dot
- * product, E_i = Σ_j (|2^(s−t_j) a_ij| + Θq_j) / 2 (coefficient rounding ≤ ½ unit times |θq| ≤ Θq,
- * θ rounding ≤ 1 unit — rounding or truncation by the caller — times the exact coefficient), so
- * that every θ with a·θ ≤ b + tol.inside passes in fixed point too: no point of a region is lost
- * to rounding. Tree planes get no widening (as in float); the certificate checks the result.
+ * Region test. The worst rounding error of the integer dot product of row i is
+ * E_i = Σ_j (|2^(s−t_j) a_ij| + Θq_j) / 2 (coefficient rounding ≤ ½ unit times |θq| ≤ Θq, θ rounding
+ * ≤ 1 unit — rounding or truncation by the caller — times the exact coefficient). The bound is
+ * stored without slack, bq = round(b·2^s), and each region has one slack S ≥ tol.inside·2^s + E_i
+ * + ½ + 1 over its rows: a row holds when Σ a_q θq − bq ≤ S, so every θ with a·θ ≤ b + tol.inside
+ * passes in fixed point too (no point of a region is lost to rounding). Among the candidates that
+ * hold θ the one with the smallest largest residual Σ a_q θq − bq wins (best fit, as the float
+ * build): the residual is within S of 2^s·(a·θ − b), so θ goes to a neighbour only within the
+ * rounding of the residuals, never by the width of a slack. Tree planes: `fixedPlaneMargin`.
  *
  * u. acc = g_q + Σ_j F_q θq_j ≈ 2^sF · u, then uq = floor((acc + 2^(k−1)) / 2^k), k = sF − uFrac,
  * computed on the unsigned type as ((acc + 2^(W−1) + 2^(k−1)) >> k) − 2^(W−1−k): well defined in
@@ -95,7 +99,19 @@ export interface FixedBuild extends SearchIndex {
   regionB: bigint[];
   lawF: bigint[];
   lawG: bigint[];
-  /** largest region-test widening, in θ·a units (real) */
+  /**
+   * per region the slack of its test in accumulator units: a row holds when
+   * Σ_j region_a·θq − region_b ≤ regionSlack[r], region_b = round(b·2^s) without slack (see buildFixed)
+   */
+  regionSlack: bigint[];
+  /**
+   * best fit over the candidates (as the float build): among the regions that hold θ within their
+   * slack the one with the smallest largest slack-free residual wins (ties: the first scanned, leaves
+   * list regions in ascending index); a residual ≤ fitSure (−2·max regionSlack) ends the scan early
+   */
+  bestFit: true;
+  fitSure: bigint;
+  /** largest region-test slack, in θ·a units (real) */
   slack: number;
   /** proven bound of |u_fixed − u_exact| when the point is located in the same region (per build, in u units) */
   lawErrorBound: number;
@@ -203,15 +219,30 @@ export function buildFixed(table: TableFile, format: FixedFormat, search: Search
     regionRowStart.push(regionRows.length);
   }
   const rowSlack = (s: number, i: number): number => (thetaMaxSum(regionRows[i], s) + thetaMaxQ.reduce((a, v) => a + Number(v), 0)) / 2;
-  const regionBound = (s: number, i: number): number => (regionBReal[i] + tol.inside) * pow2(s) + rowSlack(s, i);
+  // slack-free bounds bq = round(b·2^s) and per region one slack S = max over its rows of
+  // ceil(tol.inside·2^s + E_i + ½ + the double's error of b·2^s) + 1: a θ with a·θ ≤ b + tol.inside
+  // has Σ a_q θq ≤ 2^s·a·θ + E_i ≤ bq_i + S, so no point of a region is lost; and the residual
+  // Σ a_q θq − bq differs from 2^s·(a·θ − b) by less than S, which is what best fit ranks by
+  const rowResidualSlack = (s: number, i: number): bigint => BigInt(Math.ceil(tol.inside * pow2(s) + rowSlack(s, i) + 0.5 + Math.abs(regionBReal[i]) * pow2(s) * 2 ** -52)) + 1n;
   const reg = chooseShift({ coef: regionRows }, thetaFrac, thetaMaxQ, wordMax, accMax, (s, i) => {
-    const b = absB(floorSafe(regionBound(s, i)));
-    return b > accMax ? accMax + 1n : 0n; // the bound must be representable
+    // the residual Σ a_q θq − bq and the slack must fit the accumulator
+    const b = absB(big(regionBReal[i] * pow2(s))) + rowResidualSlack(s, i);
+    return b > accMax ? accMax + 1n : b;
   });
   const regionA = reg.q.flat();
-  const regionB = regionRows.map((_, i) => floorSafe(regionBound(reg.s, i)));
+  const regionB = regionBReal.map((v) => big(v * pow2(reg.s)));
+  const regionSlack: bigint[] = [];
+  for (let r = 0; r < table.regions.length; r++) {
+    let m = 0n;
+    for (let i = regionRowStart[r]; i < regionRowStart[r + 1]; i++) {
+      const v = rowResidualSlack(reg.s, i);
+      if (v > m) m = v;
+    }
+    regionSlack.push(m);
+  }
+  const maxRegionSlack = regionSlack.reduce((m, v) => (v > m ? v : m), 0n);
   let slack = 0;
-  regionRows.forEach((_, i) => (slack = Math.max(slack, rowSlack(reg.s, i) / pow2(reg.s))));
+  regionSlack.forEach((v) => (slack = Math.max(slack, Number(v) / pow2(reg.s))));
 
   // tree planes
   const nodeRows: number[][] = [];
@@ -297,6 +328,10 @@ export function buildFixed(table: TableFile, format: FixedFormat, search: Search
     lawF,
     lawG,
     ...searchIndex(search, tree, regionRowStart),
+    regionSlack,
+    bestFit: true,
+    // early exit: the same argument as the float build (arrays.ts, fitSure), with the residual error < S_X
+    fitSure: -2n * maxRegionSlack,
     slack,
     lawErrorBound: lawErr,
     proof: { format, accBits: acc, wordBits: word, checks: [], ok: false, text: '' },
@@ -348,6 +383,13 @@ export function overflowProof(b: FixedBuild): OverflowProof {
     check(`tree plane bounds (int${b.accBits}_t)`, b.nodeB.length, maxB(b.nodeB), accMax),
     check(`region row sums a·θ (int${b.accBits}_t)`, rowsOf(b.regionA), range(rowsOf(b.regionA), (i) => dotBound(b.regionA, i)), accMax),
     check(`region row bounds (int${b.accBits}_t)`, b.regionB.length, maxB(b.regionB), accMax),
+    check(
+      `region residuals a·θ − b and slacks (int${b.accBits}_t)`,
+      rowsOf(b.regionA),
+      range(rowsOf(b.regionA), (i) => dotBound(b.regionA, i) + absB(b.regionB[i])),
+      accMax,
+    ),
+    check(`early-exit bound -2 x region slack (int${b.accBits}_t)`, 1, absB(b.fitSure), accMax),
     check(`law sums g + F·θ + rounding half (int${b.accBits}_t)`, rowsOf(b.lawF), lawAcc, accMax),
     check(`output u after >> ${b.outShift} (int${b.wordBits}_t)`, b.nu, (lawAcc) >> BigInt(b.outShift), wordMax),
     check('output shift', 1, BigInt(b.outShift), BigInt(b.accBits - 1)),
@@ -389,9 +431,28 @@ export function evaluateFixedQ(b: FixedBuild, tq: bigint[]): FixedEvaluation {
     for (let j = 0; j < n; j++) s += c[at + j] * tq[j];
     return s;
   };
-  const inside = (r: number): boolean => {
-    for (let i = b.regionRowStart[r]; i < b.regionRowStart[r + 1]; i++) if (dot(b.regionA, i * n) > b.regionB[i]) return false;
-    return true;
+  // largest slack-free residual of region r, or null when a row exceeds the region's slack
+  const fit = (r: number): bigint | null => {
+    let worst = 0n;
+    for (let i = b.regionRowStart[r]; i < b.regionRowStart[r + 1]; i++) {
+      const d = dot(b.regionA, i * n) - b.regionB[i];
+      if (d > b.regionSlack[r]) return null;
+      if (i === b.regionRowStart[r] || d > worst) worst = d;
+    }
+    return worst;
+  };
+  const scan = (count: number, regionAt: (k: number) => number): FixedEvaluation => {
+    let best = -1;
+    let bestRes = 0n;
+    for (let k = 0; k < count; k++) {
+      const q = fit(regionAt(k));
+      if (q !== null && (best < 0 || q < bestRes)) {
+        best = regionAt(k);
+        bestRes = q;
+        if (q <= b.fitSure) break; // deep inside: no other candidate can fit better
+      }
+    }
+    return best < 0 ? none : law(best);
   };
   const bias = 1n << BigInt(b.accBits - 1);
   const half = b.outShift > 0 ? 1n << BigInt(b.outShift - 1) : 0n;
@@ -405,16 +466,12 @@ export function evaluateFixedQ(b: FixedBuild, tq: bigint[]): FixedEvaluation {
     }
     return { region: r, uq, u: uq.map((v) => Number(v) * pow2(-b.uFrac)) };
   };
-  if (b.search === 'sequential') {
-    for (let r = 0; r < b.regionCount; r++) if (inside(r)) return law(r);
-    return none;
-  }
+  if (b.search === 'sequential') return scan(b.regionCount, (r) => r);
   let ref = b.root;
   for (let d = 0; d < b.maxDepth && ref >= 0; d++) ref = dot(b.nodeA, ref * n) <= b.nodeB[ref] ? b.nodeLeft[ref] : b.nodeRight[ref];
   if (ref >= 0) return none;
   const leaf = -ref - 1;
-  for (let k = b.leafStart[leaf]; k < b.leafStart[leaf + 1]; k++) if (inside(b.leafRegion[k])) return law(b.leafRegion[k]);
-  return none;
+  return scan(b.leafStart[leaf + 1] - b.leafStart[leaf], (k) => b.leafRegion[b.leafStart[leaf] + k]);
 }
 
 /** Evaluate at a real θ: scale it as the caller is told to, then run the integer arithmetic. */
@@ -437,6 +494,7 @@ export function fixedLayout(b: FixedBuild): LayoutArray[] {
       [
         layoutArray('region_a', 'q-fixed', b.regionA, { bits: w, frac: cols(b.regionShift) }),
         layoutArray('region_b', 'q-fixed', b.regionB, { bits: a, frac: [b.regionShift] }),
+        layoutArray('region_slack', 'q-fixed', b.regionSlack, { bits: a, frac: [b.regionShift] }),
         layoutArray('law_f', 'q-fixed', b.lawF, { bits: w, frac: cols(b.lawShift) }),
         layoutArray('law_g', 'q-fixed', b.lawG, { bits: a, frac: [b.lawShift] }),
       ],
@@ -451,7 +509,7 @@ export function fixedCostFigures(b: FixedBuild) {
 
 /** How a fixed build's arrays fit together, in words (the JSON export's `layout`). */
 export const FIXED_LAYOUT_TEXT =
-  'integers; θq_j = round(θ_j·2^thetaFrac[j]) must lie in [theta_lo[j], theta_hi[j]] (else no region); node child r >= 0 is a node, r < 0 is leaf -r-1; node k: left when Σ_j node_a[k*nt+j]·θq_j <= node_b[k]; region r rows region_row_start[r]..[r+1], inside when Σ_j region_a[i*nt+j]·θq_j <= region_b[i]; acc = law_g[r*nu+i] + Σ_j law_f[(r*nu+i)*nt+j]·θq_j, u_q = floor((acc + 2^(k-1)) / 2^k) with k = scaling.shifts.output, u = u_q·2^-uFrac; sums need the accumulator width of the format (32 bits for q15, 64 for q31)';
+  'integers; θq_j = round(θ_j·2^thetaFrac[j]) must lie in [theta_lo[j], theta_hi[j]] (else no region); node child r >= 0 is a node, r < 0 is leaf -r-1; node k: left when Σ_j node_a[k*nt+j]·θq_j <= node_b[k]; region r rows region_row_start[r]..[r+1], inside when Σ_j region_a[i*nt+j]·θq_j − region_b[i] <= region_slack[r] (region_b without slack), best fit: among the candidates that hold θ the smallest largest residual wins (ties: the first in the leaf), a residual <= -2·max region_slack ends the scan; acc = law_g[r*nu+i] + Σ_j law_f[(r*nu+i)*nt+j]·θq_j, u_q = floor((acc + 2^(k-1)) / 2^k) with k = scaling.shifts.output, u = u_q·2^-uFrac; sums need the accumulator width of the format (32 bits for q15, 64 for q31)';
 
 /**
  * Side overlap that makes a hyperplane descent safe in fixed point (`q15`/`q31`), for

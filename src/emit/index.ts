@@ -113,10 +113,10 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
           treeForTable(table, {
             ...opts.treeOptions,
             tableHash: hash,
-            // a q15 descent rounds θ to 15 bits: regions within that of a split go to both sides (q31 keeps the
-          // double tree: its rounding is far below the location tolerance, and a side overlap there lets first
-          // fit relocate points by the region test's slack)
-            ...(opts.precision === 'q15' ? { margin: Math.max(opts.treeOptions?.margin ?? 0, fixedPlaneMargin(table, opts.precision, opts.thetaFrac)), boundaryBothSides: true } : {}),
+            // a fixed-point descent rounds θ to its fraction bits: regions within that of a split go to both sides
+          // (fixedPlaneMargin); the leaf then takes the best fit by slack-free residuals, so the overlap relocates
+          // no point by the region test's slack
+            ...(opts.precision === 'q15' || opts.precision === 'q31' ? { margin: Math.max(opts.treeOptions?.margin ?? 0, fixedPlaneMargin(table, opts.precision, opts.thetaFrac)), boundaryBothSides: true } : {}),
           }))
         : (opts.locator ?? buildLocator(table, search, { ...opts.locatorOptions, tableHash: hash }));
     searchReason = [`${search} search, named by the caller (--search ${search}).`];

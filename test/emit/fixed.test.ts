@@ -27,9 +27,9 @@ function stripComments(c: string): string {
 /** `continuous`: an MPC table (continuous law); the synthetic arrangement has an unrelated random law per cell. */
 function check(name: string, table: TableFile, continuous = true): void {
   describe(name, () => {
-    // the trees a fixed build gets from emit: q15 puts regions within its θ rounding of a split on both sides; q31 keeps the double tree
+    // the trees a fixed build gets from emit: regions within the format's θ rounding of a split go to both sides
     const tree15 = treeForTable(table, { margin: fixedPlaneMargin(table, 'q15'), boundaryBothSides: true });
-    const tree31 = treeForTable(table);
+    const tree31 = treeForTable(table, { margin: fixedPlaneMargin(table, 'q31'), boundaryBothSides: true });
     const facet = facetPoints(table);
     const step = Math.max(1, Math.floor(facet.length / 2000));
     const points = [...sampleBox(table.box, 10000, 17), ...facet.filter((_, i) => i % step === 0)];

@@ -24,7 +24,7 @@ import { benchMain, latencyMain, makeQp } from './emit.bench.js';
 
 const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
 /** horizon per θ dimension, chosen so that each table solves in about a minute or less */
-const HORIZON: Record<number, number> = { 2: 20, 3: 12, 4: 8, 5: 6, 6: 5 };
+export const HORIZON: Record<number, number> = { 2: 20, 3: 12, 4: 8, 5: 6, 6: 5 };
 const SOLVE_SECONDS = 90;
 
 /** n-th order integrator chain sampled at h = 0.2 (exact discretisation of the chain, light damping on the diagonal). */

@@ -195,6 +195,8 @@ export interface CoverWork {
   freeFacets: number;
   /** facets covered */
   facets: number;
+  /** landings whose point-QP working set gave no full-dimensional region, settled by a subset with one row fewer */
+  repairs: number;
 }
 
 export interface Partition {

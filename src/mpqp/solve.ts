@@ -65,8 +65,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const guessSets = options.strategy?.guess ?? true;
   const warmQp = options.strategy?.warmStart ?? true;
   const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
-  const cover: CoverWork = { thinPieces: 0, fallbacks: 0, freeFacets: 0, facets: 0, repairs: 0 };
-  let repairs = 0;
+  const cover: CoverWork = { thinPieces: 0, fallbacks: 0, freeFacets: 0, facets: 0 };
   let rng = 0x2545f491;
   const rand = (): number => {
     rng ^= rng << 13;
@@ -160,10 +159,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     work.regionLps += lp.lps - lp0;
     // a candidate is an active set satisfying LICQ whose region is built (a guess failing LICQ costs one small factorisation)
     if (res.ok || res.reason !== 'licq') stats.candidates++;
-    if (!res.ok) {
-      if (DBG) console.error('BUILDFAIL', key, res.reason);
-      return -2;
-    }
+    if (!res.ok) return -2;
     // a copy of an existing region under another (degenerate) active set is not added twice
     const dup = locate(res.region.chebyshev.center, -0.5 * res.region.chebyshev.radius);
     if (dup >= 0) {
@@ -207,36 +203,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     if (!qp.feasible) return -1;
     const key = qp.activeSet.join(',');
     const known = byActiveSet.get(key);
-    if (known !== undefined && known >= 0) return known;
-    if (known === undefined) {
-      const id = addRegion(qp.activeSet, key);
-      if (id >= 0) return id;
-      byActiveSet.set(key, -2); // never build it again
-    }
-    return repairAt(theta, qp.activeSet);
-  };
-  /**
-   * The point QP's working set passed its own independence test but not the region builder's (a
-   * row nearly dependent on the others: the two tests scale the pivot differently), or its region
-   * is flat. A subset with one row fewer gives the same optimum when the row dropped is implied:
-   * accept the first such region that holds θ (holding θ proves optimality there: the KKT
-   * conditions hold on the whole critical region). −2 when none does.
-   */
-  const repairAt = (theta: Float64Array, activeSet: readonly number[]): number => {
-    for (const drop of activeSet) {
-      const cand = activeSet.filter((i) => i !== drop);
-      const key = cand.join(',');
-      let id = byActiveSet.get(key);
-      if (id === undefined) {
-        id = addRegion(cand, key);
-        if (id < 0) byActiveSet.set(key, -2);
-      }
-      if (id >= 0 && regionContains(regions[id], theta, tol.inside)) {
-        repairs++;
-        return id;
-      }
-    }
-    return -2;
+    if (known !== undefined) return known;
+    const id = addRegion(qp.activeSet, key);
+    if (id < 0) byActiveSet.set(key, -2); // never build it again
+    return id;
   };
 
   // first region: the (sub-)box centre if feasible, else the max-margin point of {(θ, z) : G z − E θ ≤ w, θ ∈ (sub-)box}
@@ -466,7 +436,6 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     // the dual method warm-started from R's working set (minus the row across a dual facet) adds the row itself
     const warm = fi.kind === 'primal' ? R.activeSet : guess;
     let sawFeasible = false;
-    const dbg: string[] = [];
     for (let attempt = 0; attempt < 6; attempt++) {
       const y = Float64Array.from(piece.point);
       // nudge inside the piece: a structured point may sit exactly where regions meet
@@ -476,12 +445,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       for (let h = h0; h >= 10 * tol.inside; h /= 10) {
         const theta = Float64Array.from(base);
         for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
-        if (!inBox(theta)) {
-          if (DBG) dbg.push(`att${attempt} h=${h.toExponential(1)} outside box`);
-          break;
-        }
+        if (!inBox(theta)) break;
         const id = regionAt(theta, hints, guessSets && attempt === 0 && h === h0 ? guess : undefined, warm);
-        if (DBG && id < 0) dbg.push(`att${attempt} h=${h.toExponential(1)} id=${id} r=${piece.radius.toExponential(2)} R=${R.activeSet.join(',')} f=${f}/${fi.kind}/${fi.row}`);
         if (id === -1) {
           if (++infeasibleSteps >= 2 && !sawFeasible) break; // two steps, both infeasible: the boundary
           continue;
@@ -490,17 +455,14 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         if (id < 0) continue;
         const slice = facet.sliceOf(regions[id]);
         if (slice && containsY(slice, y)) return { id, slice };
-        if (DBG) dbg.push(`att${attempt} h=${h.toExponential(1)} id=${id} slice=${!!slice} r=${piece.radius.toExponential(2)} key=${regions[id].activeSet.join(',')} R=${R.activeSet.join(',')} f=${f}/${fi.kind}/${fi.row} res=${slice ? maxRes(slice, y).toExponential(2) : 'x'}`);
       }
       if (attempt === 0 && !sawFeasible) return 'infeasible';
     }
-    if (DBG && dbgCount++ < 40) console.error('LANDFAIL', dbg.join(' | '));
     return null;
   }
 
   stats.regions = regions.length;
   stats.lps = lp.lps;
-  cover.repairs = repairs;
   report(true);
   return stats.complete ? { regions, stats, work, cover, boxes: bboxes } : { regions, stats, work, cover, boxes: bboxes, state: exportState() };
 }
@@ -692,18 +654,6 @@ export function overlapsFacet(facet: FacetFrame, s: Slice, minRadius: number, lp
   return chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6).radius > minRadius;
 }
 
-const DBG = typeof process !== 'undefined' && !!process.env?.TESSERA_DEBUG_COVER;
-let dbgCount = 0;
-function maxRes(s: Slice, y: ArrayLike<number>): number {
-  const dim = s.m > 0 ? s.A.length / s.m : 0;
-  let mx = -Infinity;
-  for (let i = 0; i < s.m; i++) {
-    let v = -s.b[i];
-    for (let k = 0; k < dim; k++) v += s.A[i * dim + k] * y[k];
-    mx = Math.max(mx, v);
-  }
-  return mx;
-}
 function containsY(s: Slice, y: ArrayLike<number>): boolean {
   const dim = s.m > 0 ? s.A.length / s.m : 0;
   for (let i = 0; i < s.m; i++) {

@@ -195,8 +195,6 @@ export interface CoverWork {
   freeFacets: number;
   /** facets covered */
   facets: number;
-  /** landings whose point-QP working set gave no full-dimensional region, settled by a subset with one row fewer */
-  repairs: number;
 }
 
 export interface Partition {

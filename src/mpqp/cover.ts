@@ -86,7 +86,7 @@ function common(x: readonly number[], y: readonly number[]): number[] {
  * eps (the row is then not added), null when the cut leaves nothing full-dimensional (every vertex
  * on or beyond the plane), or 'fail' when the vertex list fails a check. New arrays; P untouched.
  */
-export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext): CoverPiece | null | 'fail' {
+export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
   const nv = P.verts.length;
   const s = new Float64Array(nv);
@@ -126,43 +126,35 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
       const x = new Float64Array(dim);
       for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);
       c.push(k);
+      // a crossing point within eps of one found before (numerical near-degeneracy): one vertex
+      let dup = -1;
+      for (let q = 0; q < verts.length && dup < 0; q++) {
+        let d = 0;
+        for (let j = 0; j < dim && d <= eps; j++) d = Math.max(d, Math.abs(verts[q][j] - x[j]));
+        if (d <= eps) dup = q;
+      }
+      if (dup >= 0) {
+        tight[dup] = [...new Set([...tight[dup], ...c])].sort((x1, y1) => x1 - y1);
+        continue;
+      }
       verts.push(x);
       tight.push(c);
       if (verts.length > ctx.maxVerts) return 'fail';
     }
   }
+  if (!tidy) return verts.length > dim ? { A, b, m: P.m + 1, verts, tight, widthBound: Infinity } : null;
   return finish(A, b, P.m + 1, verts, tight, ctx);
 }
 
 /**
  * Drop rows tight at fewer than dim vertices (not facets), renumber, check every vertex has tight
- * rows of rank dim, merge coincident vertices, and bound the Chebyshev radius by the least width.
+ * rows of rank dim, and bound the Chebyshev radius by the least width.
  */
 function finish(A: Float64Array, b: Float64Array, m: number, verts: Float64Array[], tight: number[][], ctx: CoverContext): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
   if (verts.length < dim + 1) return null;
-  // merge vertices closer than eps (a crossing point landing on a kept vertex)
-  const keepV: boolean[] = verts.map(() => true);
-  for (let i = 0; i < verts.length; i++) {
-    if (!keepV[i]) continue;
-    for (let j = i + 1; j < verts.length; j++) {
-      if (!keepV[j]) continue;
-      let d = 0;
-      for (let k = 0; k < dim; k++) d = Math.max(d, Math.abs(verts[i][k] - verts[j][k]));
-      if (d <= eps) {
-        keepV[j] = false;
-        const u = new Set([...tight[i], ...tight[j]]);
-        tight[i] = [...u].sort((x, y) => x - y);
-      }
-    }
-  }
-  const V: Float64Array[] = [];
-  const T: number[][] = [];
-  for (let i = 0; i < verts.length; i++)
-    if (keepV[i]) {
-      V.push(verts[i]);
-      T.push(tight[i]);
-    }
+  const V = verts;
+  const T = tight;
   if (V.length < dim + 1) return null;
   const count = new Int32Array(m);
   for (const t of T) for (const i of t) count[i]++;
@@ -229,10 +221,13 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   }
   let P: CoverPiece = { A: BA, b: Bb, m: 2 * dim, verts, tight, widthBound: Infinity };
   for (let i = 0; i < m; i++) {
-    const r = clipPiece(P, A.subarray(i * dim, (i + 1) * dim), b[i], ctx);
+    const r = clipPiece(P, A.subarray(i * dim, (i + 1) * dim), b[i], ctx, false);
     if (r === null || r === 'fail') return r;
     P = r;
   }
+  const done = finish(P.A, P.b, P.m, P.verts, P.tight, ctx);
+  if (done === null || done === 'fail') return done;
+  P = done;
   // a vertex on the box: the box did not hold the polytope with room to spare
   for (const x of P.verts) for (let k = 0; k < dim; k++) if (x[k] <= lo[k] + ctx.eps || x[k] >= hi[k] - ctx.eps) return 'fail';
   return P;
@@ -271,7 +266,9 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
     if (beyond === 'fail') return 'fail';
     if (beyond === cur) {
       // the rest lies beyond this row: it is not covered at all
-      if (cur.widthBound > minRadius) out.push(cur);
+      const rest = cur === P ? P : finish(cur.A, cur.b, cur.m, cur.verts, cur.tight, ctx);
+      if (rest === 'fail') return 'fail';
+      if (rest && rest.widthBound > minRadius) out.push(rest);
       else dropped.count++;
       return out;
     }
@@ -279,7 +276,7 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
       if (beyond.widthBound > minRadius) out.push(beyond);
       else dropped.count++;
     }
-    const inside = clipPiece(cur, row, Sb[i], ctx);
+    const inside = clipPiece(cur, row, Sb[i], ctx, false);
     if (inside === 'fail') return 'fail';
     if (inside === null) return out;
     cur = inside;

@@ -159,7 +159,7 @@ describe('random polytopes and slices, 2-D to 4-D, against javascript-lp-solver'
         }
       }
       expect(checks).toBeGreaterThan(100);
-    });
+    }, 120_000);
   }
   it('a cut that misses, contains or splits: clipPiece keeps the object, empties it, or splits by LP support', () => {
     const P = piece([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]], [1, 1, 1, 1, 1, 1]);

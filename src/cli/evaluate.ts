@@ -3,7 +3,7 @@ import { readTableFile } from '../table/file.js';
 import { InputError, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
 import { CLI } from './common.js';
-import { evaluatePoints, evaluationCsv, parsePointsCsv } from '../table/points.js';
+import { evaluateCsvChunks, evaluatePoints, parsePointsCsv, parsePointsFlat, type FlatPoints } from '../table/points.js';
 
 /** The points CSV of `path` in θ order (header columns matched by name: the contract's rule). */
 export function readPointsCsv(path: string, thetaNames: string[]): number[][] {
@@ -34,8 +34,9 @@ export function register(program: Command): void {
       const table = readTableFile(tablePath);
       if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
       const points: number[][] = [];
-      // one push per point: a spread of 10⁶ points would overflow the call stack
-      if (opts.points) for (const p of readPointsCsv(opts.points, table.thetaNames)) points.push(p);
+      const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
+      const text = opts.points ? readTextInput(opts.points, 'points file') : '';
+      const flat = opts.points ? parsePointsFlat(text, opts.points, table.thetaNames) : empty;
       if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
       const clamp = !!opts.clamp;
       if (!opts.quiet && !table.stats.complete)
@@ -46,10 +47,15 @@ export function register(program: Command): void {
         const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
         if (!opts.quiet && table.lean && slackBlocks.length > 0)
           process.stderr.write(`tessera: warning: ${tablePath} is a lean table (no move sequence): slack values are null; solve without --lean to get them\n`);
-        const out = evaluatePoints(table, points, { clamp });
+        const all: number[][] = [];
+        // one push per point: a spread of 10⁶ points would overflow the call stack
+        for (let k = 0; k < flat.count; k++) all.push(Array.from(flat.values.subarray(k * flat.ntheta, (k + 1) * flat.ntheta)));
+        for (const p of points) all.push(p);
+        const out = evaluatePoints(table, all, { clamp });
         process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
         return;
       }
-      process.stdout.write(evaluationCsv(table, points, { clamp }));
+      // streamed in chunks of lines: 10⁶ points are ~100 MB of text
+      for (const chunk of evaluateCsvChunks(table, text, flat, points, { clamp })) process.stdout.write(chunk);
     });
 }

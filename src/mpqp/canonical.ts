@@ -169,26 +169,74 @@ export function canonicalNeighbours(problem: MpqpProblem, regions: readonly Crit
     for (let j = 0; j < nt; j++) if (bx.lo[j] > by.hi[j] + minPiece || by.lo[j] > bx.hi[j] + minPiece) return false;
     return true;
   };
-  for (let i = 0; i < list.length; i++) {
+  // list[i] against list[k] (i < k: the frame is always the earlier facet's, whatever the order
+  // of enumeration, so the answer does not depend on it)
+  let frames = new Map<number, ReturnType<typeof slicePolytope>>();
+  const pair = (i: number, k: number): void => {
     const P = list[i];
+    const Q = list[k];
+    if (Q.sign === P.sign || Q.r === P.r || Math.abs(Q.v - P.v) > window) return;
     const R = regions[P.r];
-    for (let k = i + 1; k < list.length && list[k].v - P.v <= window; k++) {
-      const Q = list[k];
-      if (Q.sign === P.sign || Q.r === P.r) continue;
-      const S = regions[Q.r];
-      // opposite orientation: S's row is −(R's row)
-      let d = Math.abs(R.b[P.f] + S.b[Q.f]);
-      if (d > bTol) continue;
-      d = 0;
-      for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
-      if (d > aTol || !meets(P.r, Q.r)) continue;
-      const frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
-      if (!frame) continue;
-      const slice = frame.sliceOf(S, Q.f);
-      if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) continue;
-      out[P.r][P.f].push(Q.r);
-      out[Q.r][Q.f].push(P.r);
+    const S = regions[Q.r];
+    // opposite orientation: S's row is −(R's row)
+    let d = Math.abs(R.b[P.f] + S.b[Q.f]);
+    if (d > bTol) return;
+    d = 0;
+    for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
+    if (d > aTol || !meets(P.r, Q.r)) return;
+    let frame = frames.get(i);
+    if (frame === undefined) {
+      frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
+      frames.set(i, frame);
     }
+    if (!frame) return;
+    const slice = frame.sliceOf(S, Q.f);
+    if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) return;
+    out[P.r][P.f].push(Q.r);
+    out[Q.r][Q.f].push(P.r);
+  };
+  // clusters: runs of the sorted list with consecutive values within the window (no pair across
+  // two clusters is within it). Every facet on one hyperplane lands in one cluster — thousands in
+  // a table whose regions share long planes (saturation limits, arrangements) — so a large
+  // cluster is swept along one axis of the boxes (only pairs whose boxes meet on it) instead of
+  // comparing every pair: the same pairs are tested, without the quadratic count.
+  for (let c0 = 0; c0 < list.length; ) {
+    let c1 = c0 + 1;
+    while (c1 < list.length && list[c1].v - list[c1 - 1].v <= window) c1++;
+    frames = new Map();
+    if (c1 - c0 <= 64) {
+      for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) pair(i, k);
+    } else {
+      // the axis on which the boxes' lows spread most
+      let ax = 0;
+      let spread = -1;
+      for (let j = 0; j < nt; j++) {
+        let lo = Infinity;
+        let hi = -Infinity;
+        for (let i = c0; i < c1; i++) {
+          const x = boxes[list[i].r].lo[j];
+          lo = Math.min(lo, x);
+          hi = Math.max(hi, x);
+        }
+        if (hi - lo > spread) {
+          spread = hi - lo;
+          ax = j;
+        }
+      }
+      const order = Array.from({ length: c1 - c0 }, (_, q) => c0 + q);
+      const low = (i: number): number => boxes[list[i].r].lo[ax];
+      order.sort((x, y) => low(x) - low(y) || x - y);
+      for (let q = 0; q < order.length; q++) {
+        const i = order[q];
+        const reach = boxes[list[i].r].hi[ax] + minPiece;
+        for (let t = q + 1; t < order.length && low(order[t]) <= reach; t++) {
+          const k = order[t];
+          if (i < k) pair(i, k);
+          else pair(k, i);
+        }
+      }
+    }
+    c0 = c1;
   }
   for (const R of out) for (const f of R) f.sort((x, y) => x - y);
   return out;

@@ -352,6 +352,23 @@ export function locatePoint(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev
 }
 
 /**
+ * The k-d tree `locatePoint` keeps for this regions array (`tableLocator`), built now if it has not
+ * been yet; null for fewer than 32 regions, where `locatePoint` scans. For callers that locate many
+ * points at once (`evaluateCsvChunks`): `locate`/`locateAt` on it answer what `locatePoint` answers
+ * for |slack| ≤ 100·tol.inside.
+ */
+export function sharedTableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): BoxIndex | null {
+  if (regions.length < 32) return null;
+  let entry = cache.get(regions);
+  if (!entry) {
+    entry = { calls: 0, locator: null };
+    cache.set(regions, entry);
+  }
+  if (!entry.locator || entry.locator.size !== regions.length) entry.locator = tableLocator(regions, box.lower, box.upper);
+  return entry.locator;
+}
+
+/**
  * The rule of `locatePoint` by a scan over every region (no index): exact containment first (lowest
  * index), else the least residual within `slack`.
  */

@@ -3,6 +3,8 @@ import { InputError } from '../io/input-error.js';
 import { applyAffine, evaluateTable } from './table.js';
 import type { TableFile } from './format.js';
 import { clampInputs } from './clamp.js';
+import { locateScan, sharedTableLocator } from './locator.js';
+import { tol } from '../tol.js';
 
 /**
  * Match a header line to the θ names (contract, `tessera evaluate`): every θ entry named exactly
@@ -110,4 +112,338 @@ export function evaluationCsv(table: TableFile, points: number[][], options: Eva
     return [...e.theta.map(num), String(e.region), ...u].join(',');
   });
   return [header, ...rows].join('\n') + '\n';
+}
+
+/**
+ * Points parsed into one array (`parsePointsFlat`): point k is values[k·nθ … k·nθ + nθ − 1], θ
+ * order. For echoing the input: entry c of point k came from text[from[k·nθ + c], to[k·nθ + c])
+ * when that text is exactly what `String(value)` prints (so it can be copied instead of formatted),
+ * else from = −1. The arrays are new and owned by the caller.
+ */
+export interface FlatPoints {
+  count: number;
+  ntheta: number;
+  values: Float64Array;
+  from: Int32Array;
+  to: Int32Array;
+}
+
+/** 10⁰ … 10²², every one exact in double (Clinger's fast path). */
+const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
+
+/**
+ * One cell text[a, b) of the plain grammar [+-]digits[.digits][(e|E)[+-]digits]: its value (NaN when
+ * the cell is not of that grammar: the caller then takes the general path). Up to 15 significant
+ * digits and a decimal exponent within ±22 give the correctly rounded double by one exact
+ * multiplication or division (Clinger 1990, "How to read floating point numbers accurately");
+ * anything else goes to `Number`, which is what the general path calls. `canon[0]` is set to 1 when
+ * the text is exactly what `String` prints for the value (no sign '+', no exponent, no redundant
+ * zero, at most 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
+ */
+function plainNumber(text: string, a: number, b: number, canon: Uint8Array): number {
+  canon[0] = 0;
+  let i = a;
+  let neg = false;
+  let c = text.charCodeAt(i);
+  let plus = false;
+  if (c === 45 || c === 43) {
+    neg = c === 45;
+    plus = c === 43;
+    i++;
+  }
+  let mant = 0;
+  let digits = 0; // significant digits (from the first non-zero one)
+  let intDigits = 0;
+  let intLeadZero = false;
+  for (; i < b; i++) {
+    c = text.charCodeAt(i);
+    if (c < 48 || c > 57) break;
+    if (intDigits === 0 && c === 48) intLeadZero = true;
+    intDigits++;
+    if (digits > 0 || c !== 48) {
+      digits++;
+      mant = mant * 10 + (c - 48);
+    }
+  }
+  let fracDigits = 0;
+  let fracLeadZeros = 0;
+  let lastFrac = -1;
+  let dot = false;
+  if (i < b && c === 46) {
+    dot = true;
+    for (i++; i < b; i++) {
+      c = text.charCodeAt(i);
+      if (c < 48 || c > 57) break;
+      fracDigits++;
+      lastFrac = c;
+      if (digits > 0 || c !== 48) {
+        digits++;
+        mant = mant * 10 + (c - 48);
+      } else fracLeadZeros++;
+    }
+  }
+  if (intDigits + fracDigits === 0) return NaN;
+  let exp = 0;
+  let hasExp = false;
+  if (i < b && (c === 101 || c === 69)) {
+    hasExp = true;
+    i++;
+    let eneg = false;
+    c = text.charCodeAt(i);
+    if (i < b && (c === 45 || c === 43)) {
+      eneg = c === 45;
+      i++;
+    }
+    let ed = 0;
+    for (; i < b; i++) {
+      c = text.charCodeAt(i);
+      if (c < 48 || c > 57) return NaN;
+      if (++ed > 5) return Number(text.slice(a, b));
+      exp = exp * 10 + (c - 48);
+    }
+    if (ed === 0) return NaN;
+    if (eneg) exp = -exp;
+  }
+  if (i !== b) return NaN;
+  if (digits > 15) return Number(text.slice(a, b));
+  const e10 = exp - fracDigits;
+  let v: number;
+  if (mant === 0) v = 0;
+  else if (e10 >= 0 && e10 <= 22) v = mant * POW10[e10];
+  else if (e10 < 0 && e10 >= -22) v = mant / POW10[-e10];
+  else return Number(text.slice(a, b));
+  if (neg) v = -v;
+  const intOk = intDigits > 0 && (!intLeadZero || intDigits === 1);
+  const fracOk = !dot || (fracDigits > 0 && lastFrac !== 48);
+  const zeroInt = intDigits === 1 && intLeadZero;
+  if (!plus && !hasExp && intOk && fracOk && !(neg && v === 0) && !(zeroInt && dot && fracLeadZeros > 5)) canon[0] = 1;
+  return v;
+}
+
+/**
+ * `parsePointsCsv` into one typed array (same rules, same errors, same values bit for bit): lines
+ * of plain numbers are read by a character scan, any other line by the general path.
+ */
+export function parsePointsFlat(text: string, path: string, thetaNames: string[]): FlatPoints {
+  const n = thetaNames.length;
+  let cap = 1024;
+  let values = new Float64Array(cap * n);
+  let from = new Int32Array(cap * n);
+  let to = new Int32Array(cap * n);
+  let count = 0;
+  let first = true;
+  let order: number[] | null = null;
+  const cellA = new Int32Array(n);
+  const cellB = new Int32Array(n);
+  const cellV = new Float64Array(n);
+  const cellC = new Uint8Array(n);
+  const canon = new Uint8Array(1);
+  const L = text.length;
+  let pos = 0;
+  let lineNo = 0;
+  const grow = (): void => {
+    cap *= 2;
+    const v = new Float64Array(cap * n);
+    v.set(values);
+    values = v;
+    const f = new Int32Array(cap * n);
+    f.set(from);
+    from = f;
+    const t = new Int32Array(cap * n);
+    t.set(to);
+    to = t;
+  };
+  const push = (vals: ArrayLike<number>, a: Int32Array | null, b: Int32Array | null, ok: Uint8Array | null): void => {
+    if (count === cap) grow();
+    const o = count * n;
+    for (let j = 0; j < n; j++) {
+      const k = order ? order[j] : j;
+      values[o + j] = vals[k];
+      from[o + j] = a && ok && ok[k] ? a[k] : -1;
+      to[o + j] = b ? b[k] : -1;
+    }
+    count++;
+  };
+  while (pos <= L) {
+    let end = text.indexOf('\n', pos);
+    if (end < 0) end = L;
+    let le = end;
+    if (le > pos && text.charCodeAt(le - 1) === 13) le--;
+    lineNo++;
+    // the plain path: only digits, signs, dots, exponents and commas, exactly nθ cells, each a number
+    let cells = 0;
+    let a = pos;
+    let plain = le > pos && !first;
+    if (plain)
+      for (let i = pos; i <= le; i++) {
+        if (i < le) {
+          const c = text.charCodeAt(i);
+          if (c !== 44) {
+            if (!((c >= 48 && c <= 57) || c === 45 || c === 43 || c === 46 || c === 101 || c === 69)) {
+              plain = false;
+              break;
+            }
+            continue;
+          }
+        }
+        if (cells === n) {
+          plain = false;
+          break;
+        }
+        const v = plainNumber(text, a, i, canon);
+        if (!Number.isFinite(v)) {
+          plain = false;
+          break;
+        }
+        cellA[cells] = a;
+        cellB[cells] = i;
+        cellV[cells] = v;
+        cellC[cells] = canon[0];
+        cells++;
+        a = i + 1;
+      }
+    if (plain && cells === n) push(cellV, cellA, cellB, cellC);
+    else {
+      // the general path, exactly parsePointsCsv's rules for this line
+      const line = text.slice(pos, end).replace(/\r$/, '').trim();
+      if (!(line === '' || line.startsWith('#'))) {
+        const cs = line.split(',').map((x) => x.trim());
+        const nums = cs.map(Number);
+        let header = false;
+        if (first) {
+          first = false;
+          if (cs.every((x, k) => x === '' || Number.isNaN(nums[k]))) {
+            order = headerColumns(path, lineNo, cs, thetaNames);
+            header = true;
+          }
+        }
+        if (!header) {
+          if (cs.length !== n) throw new InputError(path, `line ${lineNo}`, `expected ${n} values (θ has ${n} entries), got ${cs.length}`);
+          nums.forEach((v, k) => {
+            if (cs[k] === '' || !Number.isFinite(v)) throw new InputError(path, `line ${lineNo}, column ${k + 1}`, `"${cs[k]}" is not a finite number`);
+          });
+          push(nums, null, null, null);
+        }
+      }
+    }
+    pos = end + 1;
+  }
+  return { count, ntheta: n, values: values.slice(0, count * n), from: from.slice(0, count * n), to: to.slice(0, count * n) };
+}
+
+/**
+ * The laws of every region packed for evaluation: region r's u(0) = F_r θ + g_r with F_r at
+ * F[r·nu·nθ …] (row-major) and g_r at g[r·nu …]. Cached per regions array; `applyAffine`'s order of
+ * operations (g first, then + F_ij θ_j in j order), so the values are the same bits.
+ */
+const lawCache = new WeakMap<object, { F: Float64Array; g: Float64Array }>();
+function packedLaws(table: TableFile): { F: Float64Array; g: Float64Array } {
+  const hit = lawCache.get(table.regions);
+  if (hit && hit.g.length === table.regions.length * table.dims.nu) return hit;
+  const n = table.dims.ntheta;
+  const nu = table.dims.nu;
+  const R = table.regions.length;
+  const F = new Float64Array(R * nu * n);
+  const g = new Float64Array(R * nu);
+  for (let r = 0; r < R; r++) {
+    const law = table.regions[r].law;
+    for (let i = 0; i < nu; i++) {
+      g[r * nu + i] = law.g[i];
+      for (let j = 0; j < n; j++) F[(r * nu + i) * n + j] = law.F[i][j];
+    }
+  }
+  const out = { F, g };
+  lawCache.set(table.regions, out);
+  return out;
+}
+
+/** Seconds spent by `evaluateCsvChunks` in its stages (filled as it runs). */
+export interface EvaluateTimes {
+  /** building the k-d tree and packing the laws (on first use per table) */
+  index: number;
+  /** locating the points and evaluating their laws */
+  locate: number;
+  /** formatting the CSV text */
+  format: number;
+}
+
+/**
+ * `evaluationCsv` for points given as parsed CSV (`parsePointsFlat`), plus `extra` points (θ order)
+ * after them, as text chunks of about `chunkPoints` lines each, the header in the first. Byte for
+ * byte the text `evaluationCsv` gives for the same points; θ cells that are already in their
+ * shortest round-trip form are copied from `text` instead of formatted again. Points are located
+ * by the table's shared k-d tree (`sharedTableLocator`, the rule of `evaluateTable`) and the laws
+ * evaluated from packed arrays, without an array per point. `times`, when given, receives the
+ * seconds spent per stage (`performance.now()`).
+ */
+export function* evaluateCsvChunks(
+  table: TableFile,
+  text: string,
+  points: FlatPoints,
+  extra: number[][] = [],
+  options: EvaluateOptions & { chunkPoints?: number; times?: EvaluateTimes } = {},
+): Generator<string> {
+  const n = table.dims.ntheta;
+  const nu = table.dims.nu;
+  if (points.ntheta !== n) throw new Error(`points have ${points.ntheta} entries, the table expects ${n}`);
+  const times = options.times ?? { index: 0, locate: 0, format: 0 };
+  const now = (): number => performance.now() / 1000;
+  let t0 = now();
+  const index = sharedTableLocator(table.regions, table.box);
+  const { F, g } = packedLaws(table);
+  times.index += now() - t0;
+  const total = points.count + extra.length;
+  const all = new Float64Array(total * n);
+  all.set(points.values);
+  for (let k = 0; k < extra.length; k++) for (let j = 0; j < n; j++) all[(points.count + k) * n + j] = extra[k][j];
+  const chunk = Math.max(1, options.chunkPoints ?? 65536);
+  const region = new Int32Array(chunk);
+  const u = new Float64Array(chunk * nu);
+  const th = new Float64Array(n);
+  const empty = ','.repeat(nu);
+  let head = [...table.thetaNames, 'region', ...table.inputNames].join(',') + '\n';
+  for (let k0 = 0; k0 < total; k0 += chunk) {
+    const k1 = Math.min(total, k0 + chunk);
+    t0 = now();
+    for (let k = k0; k < k1; k++) {
+      let r: number;
+      if (index) r = index.locateAt(all, k * n, tol.inside);
+      else {
+        for (let j = 0; j < n; j++) th[j] = all[k * n + j];
+        r = locateScan(table.regions, th, tol.inside).region;
+      }
+      region[k - k0] = r;
+      if (r < 0) continue;
+      for (let i = 0; i < nu; i++) {
+        let s = g[r * nu + i];
+        const o = (r * nu + i) * n;
+        for (let j = 0; j < n; j++) s += F[o + j] * all[k * n + j];
+        u[(k - k0) * nu + i] = s;
+      }
+      if (options.clamp) {
+        const c = clampInputs(u.subarray((k - k0) * nu, (k - k0 + 1) * nu), table.inputLimits);
+        for (let i = 0; i < nu; i++) u[(k - k0) * nu + i] = c[i];
+      }
+    }
+    const t1 = now();
+    times.locate += t1 - t0;
+    let out = head;
+    head = '';
+    for (let k = k0; k < k1; k++) {
+      let line = '';
+      for (let j = 0; j < n; j++) {
+        const q = k * n + j;
+        const f = k < points.count ? points.from[q] : -1;
+        line += (j ? ',' : '') + (f >= 0 ? text.slice(f, points.to[q]) : String(all[q]));
+      }
+      const r = region[k - k0];
+      line += ',' + r;
+      if (r < 0) line += empty;
+      else for (let i = 0; i < nu; i++) line += ',' + String(u[(k - k0) * nu + i]);
+      out += line + '\n';
+    }
+    times.format += now() - t1;
+    yield out;
+  }
+  if (total === 0) yield head;
 }

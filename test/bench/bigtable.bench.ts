@@ -4,36 +4,37 @@
  * 1. Table size per region, full against lean, on the 4-D and 5-D fixtures (first
  *    TESSERA_BENCH_SIZE_REGIONS regions, default 3 000; the first N regions do not depend on N).
  * 2. Evaluation speed on a ~6k-region table (boom-4d-n12, first TESSERA_BENCH_EVAL_REGIONS = 6 000
- *    regions, lean): index build
- *    seconds, then points/s of `evaluateTable` and of the bare locator on 10⁶ seeded points,
- *    against the sequential scan on a few thousand (target ≥ 10⁶ points/s).
- * 3. A big table end to end: a generated 2-D mpQP whose regions are the cells of an arrangement
- *    of lines (a bank of independent saturating channels, invented) is solved lean up to
- *    TESSERA_BENCH_BIG_REGIONS (default 100 000) or TESSERA_BENCH_BIG_SECONDS (default 900), then
- *    written (streamed), read back (streaming reader), evaluated on 10⁶ points, mapped and emitted
- *    (C, double, box tree), printing seconds and the peak resident MB after each stage (target:
- *    all within 2 GB).
+ *    regions, lean): index build seconds, points/s of the bare locator and of `evaluateTable` on
+ *    10⁶ seeded points, then the whole CSV path of `tessera evaluate` stage by stage (parse, index,
+ *    locate + law, format) on 10⁶ points written with 7 and with 17 significant digits, against
+ *    the sequential scan on a few thousand (target ≥ 10⁶ points/s).
+ * 3. A big table end to end, every stage a cold CLI process under /usr/bin/time (wall seconds,
+ *    peak resident MB): a generated mpQP over a 3-D θ whose regions are the cells of an
+ *    arrangement of planes (a bank of independent saturating channels, invented) is solved lean up
+ *    to TESSERA_BENCH_BIG_REGIONS (default 100 000) or TESSERA_BENCH_BIG_SECONDS (default 1 800)
+ *    and written; then `evaluate` reads it back and evaluates 10⁶ points, `map` draws a slice,
+ *    `emit` writes C (double, box tree). Target: every stage after the solve within 2 GB. Set
+ *    TESSERA_BENCH_BIG_REGIONS=20000 for a run of a few minutes.
  * CPU seconds are printed beside wall seconds: the machine is shared, and CPU time is the fairer
  * figure under load (still inflated by contention).
  */
-import { mkdtempSync, rmSync, statSync } from 'node:fs';
+import { closeSync, existsSync, mkdtempSync, openSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import { tmpdir, loadavg } from 'node:os';
 import { join } from 'node:path';
-import { loadProblem, parseProblem } from '../../src/problem/index.js';
+import { loadProblem } from '../../src/problem/index.js';
 import { solveProblem } from '../../src/table/solve.js';
-import { readTableFile, writeTableFile } from '../../src/table/file.js';
+import { readTableFile } from '../../src/table/file.js';
 import { evaluateTable, locateSequential } from '../../src/table/table.js';
 import { tableLocator } from '../../src/table/locator.js';
-import { tableToJson } from '../../src/table/table.js';
-import { drawMap } from '../../src/plot/map.js';
-import { emitC } from '../../src/emit/index.js';
-import { tableProblem } from '../../src/table/solve.js';
+import { parseTableJson, tableToJson } from '../../src/table/table.js';
+import { evaluateCsvChunks, parsePointsFlat } from '../../src/table/points.js';
 import type { TableFile } from '../../src/table/format.js';
 
 const dir = join(import.meta.dirname, '..', 'fixtures', 'scale');
 const sizeRegions = Number(process.env.TESSERA_BENCH_SIZE_REGIONS ?? 3000);
 const bigRegions = Number(process.env.TESSERA_BENCH_BIG_REGIONS ?? 100_000);
-const bigSeconds = Number(process.env.TESSERA_BENCH_BIG_SECONDS ?? 900);
+const bigSeconds = Number(process.env.TESSERA_BENCH_BIG_SECONDS ?? 1800);
 const evalRegions = Number(process.env.TESSERA_BENCH_EVAL_REGIONS ?? 6000);
 
 const peakMb = (): number => process.resourceUsage().maxRSS / 1024;
@@ -76,11 +77,19 @@ function sizes(): void {
   }
 }
 
+/** Seeded points as CSV text (header line of θ names), each entry with `digits` significant digits. */
+function pointsCsv(table: TableFile, pts: Float64Array[], digits: number): string {
+  const lines = [table.thetaNames.join(',')];
+  for (const p of pts) lines.push(Array.from(p, (v) => String(Number(v.toPrecision(digits)))).join(','));
+  return lines.join('\n') + '\n';
+}
+
 function evaluateBench(): void {
   const loaded = loadProblem(join(dir, 'boom-4d-n12.json'));
   const solved = timed(() => solveProblem(loaded, { maxRegions: evalRegions, lean: true }));
-  const table = solved.value.table;
-  console.log(`\nevaluate on boom-4d-n12, first ${table.regions.length} regions (lean; solved in ${solved.s.toFixed(1)} s):`);
+  // read back from text, as `tessera evaluate` does (the index is built per table object)
+  const table = parseTableJson(tableToJson(solved.value.table), 'boom-4d-n12');
+  console.log(`\nevaluate on boom-4d-n12, first ${table.regions.length} regions (lean; solved in ${solved.s.toFixed(1)} s); load average ${loadavg()[0].toFixed(1)}:`);
   const pts = seededPoints(table, 1_000_000, 0x5eed);
   const build = timed(() => tableLocator(table.regions, table.box.lower, table.box.upper));
   const loc = build.value;
@@ -99,8 +108,26 @@ function evaluateBench(): void {
       return f;
     });
     console.log(
-      `  round ${round}: locate ${(pts.length / a.s / 1e6).toFixed(2)} M points/s (${(pts.length / a.cpu / 1e6).toFixed(2)} per CPU s), evaluateTable (locate + law) ${(pts.length / b.s / 1e6).toFixed(2)} M points/s (${(pts.length / b.cpu / 1e6).toFixed(2)} per CPU s); ${a.value} of ${pts.length} in a region; target ≥ 1 M/s`,
+      `  round ${round}: locate ${(pts.length / a.s / 1e6).toFixed(2)} M points/s (${(pts.length / a.cpu / 1e6).toFixed(2)} per CPU s), evaluateTable (locate + law, an array per point) ${(pts.length / b.s / 1e6).toFixed(2)} M points/s (${(pts.length / b.cpu / 1e6).toFixed(2)} per CPU s); ${a.value} of ${pts.length} in a region`,
     );
+  }
+  // the whole CSV path of `tessera evaluate` (parse, index, locate + law, format), stage by stage
+  for (const digits of [7, 17]) {
+    const text = pointsCsv(table, pts, digits);
+    for (const round of [1, 2]) {
+      const fresh = parseTableJson(tableToJson(table), 'again'); // a new table object: the index is built again
+      const parse = timed(() => parsePointsFlat(text, 'points.csv', fresh.thetaNames));
+      const times = { index: 0, locate: 0, format: 0 };
+      const c0 = cpu();
+      let bytes = 0;
+      const all = timed(() => {
+        for (const chunk of evaluateCsvChunks(fresh, text, parse.value, [], { times })) bytes += chunk.length;
+      });
+      const n = parse.value.count;
+      console.log(
+        `  CSV path, ${digits} significant digits, round ${round}: parse ${parse.s.toFixed(2)} s (${(n / parse.s / 1e6).toFixed(2)} M/s), index ${times.index.toFixed(2)} s, locate + law ${times.locate.toFixed(2)} s (${(n / times.locate / 1e6).toFixed(2)} M points/s), format ${times.format.toFixed(2)} s (${(n / times.format / 1e6).toFixed(2)} M/s); total ${(parse.s + all.s).toFixed(2)} s = ${(n / (parse.s + all.s) / 1e6).toFixed(2)} M points/s (${(n / (parse.cpu + cpu() - c0) / 1e6).toFixed(2)} per CPU s), ${(bytes / 2 ** 20).toFixed(0)} MB of CSV; target ≥ 1 M points/s`,
+      );
+    }
   }
   const M = 3000;
   let same = 0;
@@ -110,8 +137,13 @@ function evaluateBench(): void {
   console.log(`  sequential scan: ${(M / seq.s / 1e3).toFixed(1)} k points/s; same region as the index on ${same}/${M}`);
 }
 
-/** A bank of m independent channels z_i = clamp(a_i·θ, l_i, u_i): the regions are the cells of 2m lines (invented). */
-function arrangementProblem(m: number): unknown {
+/**
+ * A bank of m independent saturating channels z_i = clamp(a_i·θ, l_i, u_i) over a 3-D θ (invented):
+ * the regions are the cells of an arrangement of 2m planes, ≈ 0.46·m³ of them inside the box
+ * (measured: m = 40 gives 29 169). Each region has few rows and one LP is enough per facet, so
+ * the count is reached in bounded time.
+ */
+function channelProblem(m: number, d: number): unknown {
   let s = 7;
   const rnd = (): number => ((s = (Math.imul(s, 1103515245) + 12345) >>> 0) / 4294967296);
   const eye = (i: number, v: number) => Array.from({ length: m }, (_, j) => (i === j ? v : 0));
@@ -122,49 +154,66 @@ function arrangementProblem(m: number): unknown {
   const E: number[][] = [];
   for (let i = 0; i < m; i++) {
     H.push(eye(i, 1));
-    const ang = Math.PI * rnd();
-    F.push([-Math.cos(ang), -Math.sin(ang)]);
+    const g = Array.from({ length: d }, () => rnd() * 2 - 1);
+    const norm = Math.hypot(...g);
+    F.push(g.map((x) => -x / norm));
     const c = (rnd() - 0.5) * 1.2;
     const half = 0.15 + 0.5 * rnd();
     G.push(eye(i, 1), eye(i, -1));
     w.push(c + half, -(c - half));
-    E.push([0, 0], [0, 0]);
+    E.push(Array(d).fill(0), Array(d).fill(0));
   }
-  return { name: `channels-${m}`, description: 'bank of independent saturating channels (invented; a scaling bench)', mpqp: { H, F, G, w, E, outputs: 1 }, parameters: { lower: [-1, -1], upper: [1, 1] } };
+  return { name: `channels-${m}-${d}d`, description: 'bank of independent saturating channels (invented; a scaling bench)', mpqp: { H, F, G, w, E, outputs: 1 }, parameters: { lower: Array(d).fill(-1), upper: Array(d).fill(1) } };
+}
+
+/** One cold CLI process under /usr/bin/time: wall seconds, peak resident MB, exit code, stdout to `stdoutFile` when given. */
+function cliStage(args: string[], stdoutFile?: string): { s: number; mb: number; status: number | null; out: string } {
+  const cliPath = join(import.meta.dirname, '..', '..', 'dist', 'src', 'cli', 'main.js');
+  const fd = stdoutFile ? openSync(stdoutFile, 'w') : 'pipe';
+  try {
+    const r = spawnSync('/usr/bin/time', ['-f', 'TIME %e %M', process.execPath, cliPath, ...args], { encoding: 'utf8', stdio: ['ignore', fd, 'pipe'], maxBuffer: 1 << 26 });
+    const m = /TIME ([\d.]+) (\d+)/.exec(r.stderr ?? '');
+    return { s: m ? Number(m[1]) : NaN, mb: m ? Number(m[2]) / 1024 : NaN, status: r.status, out: (r.stdout ?? '') + (r.stderr ?? '').replace(/TIME .*\n?/, '') };
+  } finally {
+    if (typeof fd === 'number') closeSync(fd);
+  }
 }
 
 function bigTable(): void {
-  // cells of L lines in general position ≈ L²/2; about 0.6 of that count falls in the box here (measured at m = 24)
-  const m = Math.max(20, Math.ceil(Math.sqrt((2 * bigRegions) / 0.6) / 2));
-  const raw = arrangementProblem(m);
-  const loaded = parseProblem(raw, 'generated');
+  if (!existsSync('/usr/bin/time')) {
+    console.log('\nbig table: skipped (/usr/bin/time, which measures each stage\'s peak memory, is not installed)');
+    return;
+  }
+  const m = Math.max(8, Math.ceil(Math.cbrt(bigRegions / 0.46)));
   const out = mkdtempSync(join(tmpdir(), 'tessera-bigtable-'));
+  const problemFile = join(out, 'channels.json');
+  writeFileSync(problemFile, JSON.stringify(channelProblem(m, 3)));
   const file = join(out, 'big.table.json');
-  console.log(`\nbig table: ${m} channels (2-D θ, ${2 * m} rows), target ${bigRegions} regions or ${bigSeconds} s; start peak ${peakMb().toFixed(0)} MB`);
+  console.log(`\nbig table, every stage a cold CLI process (peak resident MB by /usr/bin/time): ${m} channels over a 3-D θ (${2 * m} rows), target ${bigRegions} regions or ${bigSeconds} s; load average ${loadavg()[0].toFixed(1)}`);
   try {
-    const solved = timed(() => solveProblem(loaded, { lean: true, maxRegions: bigRegions, timeLimit: bigSeconds }));
-    let table: TableFile = solved.value.table;
+    const solve = cliStage(['solve', problemFile, '--lean', '--threads', '1', '--max-regions', String(bigRegions), '--time-limit', String(bigSeconds), '-o', file, '-q']);
+    if (!existsSync(file)) {
+      console.log(`  solve: no table (exit ${solve.status}): ${solve.out.trim().split('\n')[0]}`);
+      return;
+    }
+    const table = readTableFile(file);
     const R = table.regions.length;
-    console.log(`  solve (lean): ${R} regions, ${solved.s.toFixed(1)} s (${(R / solved.s).toFixed(0)} regions/s, ${solved.cpu.toFixed(1)} s CPU), stopped: ${table.stats.stopReason}; peak ${peakMb().toFixed(0)} MB`);
-    const w = timed(() => writeTableFile(file, table));
-    console.log(`  write (streamed): ${(statSync(file).size / 2 ** 20).toFixed(1)} MB, ${(statSync(file).size / R).toFixed(0)} B/region, ${w.s.toFixed(1)} s; peak ${peakMb().toFixed(0)} MB`);
-    solved.value.partition.regions.length = 0;
-    table = null as unknown as TableFile;
-    const r = timed(() => readTableFile(file, { streamAbove: 0 }));
-    table = r.value;
-    console.log(`  read (streaming reader): ${r.s.toFixed(1)} s; peak ${peakMb().toFixed(0)} MB`);
-    const pts = seededPoints(table, 1_000_000, 0xb16);
-    const e = timed(() => {
-      let f = 0;
-      for (const p of pts) if (evaluateTable(table, p).region >= 0) f++;
-      return f;
-    });
-    console.log(`  evaluate 10⁶ points (index built on the way): ${e.s.toFixed(1)} s, ${(pts.length / e.s / 1e6).toFixed(2)} M points/s, ${e.value} in a region; peak ${peakMb().toFixed(0)} MB`);
-    const map = timed(() => drawMap(table, tableProblem(table), {}));
-    console.log(`  map (SVG, whole box): ${(map.value.svg.length / 2 ** 20).toFixed(1)} MB of SVG, ${map.s.toFixed(1)} s; peak ${peakMb().toFixed(0)} MB`);
-    const em = timed(() => emitC(table, { precision: 'double', search: 'boxtree', prefix: 'big' }));
-    const bytes = em.value.files.reduce((s, f) => s + f.text.length, 0);
-    console.log(`  emit (C double, box tree): ${(bytes / 2 ** 20).toFixed(1)} MB of source, ${em.s.toFixed(1)} s; peak ${peakMb().toFixed(0)} MB (target: ≤ 2048 MB throughout)`);
+    console.log(`  solve --lean: ${R} regions (complete: ${table.stats.complete}, stopped: ${table.stats.stopReason}) in ${solve.s.toFixed(0)} s = ${(R / solve.s).toFixed(0)} regions/s; written ${(statSync(file).size / 2 ** 20).toFixed(0)} MB (${(statSync(file).size / R).toFixed(0)} B/region); peak ${solve.mb.toFixed(0)} MB`);
+    const ptsFile = join(out, 'points.csv');
+    writeFileSync(ptsFile, pointsCsv(table, seededPoints(table, 1_000_000, 0xb16), 7));
+    const stages: [string, string[], string?][] = [
+      ['evaluate 10⁶ points (read back, index, CSV out)', ['evaluate', file, '--points', ptsFile, '-q'], join(out, 'eval.csv')],
+      ['map (SVG, slice through the middle)', ['map', file, '-o', join(out, 'map.svg'), '-q']],
+      ['emit (C, double, box tree)', ['emit', file, '--lang', 'c', '--precision', 'double', '--search', 'boxtree', '-o', join(out, 'c'), '-q']],
+    ];
+    let worst = solve.mb;
+    for (const [label, args, to] of stages) {
+      const r = cliStage(args, to);
+      worst = Math.max(worst, r.mb);
+      const extra = to ? `, ${(statSync(to).size / 2 ** 20).toFixed(0)} MB out` : '';
+      console.log(`  ${label}: exit ${r.status}, ${r.s.toFixed(1)} s${extra}; peak ${r.mb.toFixed(0)} MB${r.status ? ` — ${r.out.trim().split('\n')[0]}` : ''}`);
+    }
+    console.log(`  largest peak over the stages: ${worst.toFixed(0)} MB (target ≤ 2048 MB for write, read, evaluate, map, emit)`);
   } finally {
     rmSync(out, { recursive: true, force: true });
   }

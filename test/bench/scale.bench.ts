@@ -3,7 +3,8 @@
  *
  * 1. Growth curves: one long exploration per problem of test/fixtures/scale/, sampled as the table
  *    grows (1k, 2k, 4k, … regions): cumulative regions, seconds, regions/s over the last doubling,
- *    LPs/region, QPs/region, resident MB; then the log–log slope of time against regions (1 = the
+ *    LPs/region, QPs/region, resident MB and the process's peak MB so far (the peak includes
+ *    earlier sections of this bench: compare growth within one problem); then the log–log slope of time against regions (1 = the
  *    cost per region does not grow with the table). Bounded by TESSERA_BENCH_MAX_REGIONS (default
  *    100 000) and TESSERA_BENCH_SECONDS per problem (default 240).
  * 2. Point location: the grid locator against the sequential scan on the largest table, points/s.
@@ -14,7 +15,7 @@
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
@@ -26,13 +27,16 @@ const dir = join(import.meta.dirname, '..', 'fixtures', 'scale');
 const maxRegions = Number(process.env.TESSERA_BENCH_MAX_REGIONS ?? 100_000);
 const seconds = Number(process.env.TESSERA_BENCH_SECONDS ?? 240);
 
+/** Peak resident MB of this process so far (getrusage). */
+const peakMb = (): number => process.resourceUsage().maxRSS / 1024;
+
 function problem(name: string): MpqpProblem {
   return buildMpqp(loadProblem(join(dir, `${name}.json`)));
 }
 
 function growth(name: string): Partition {
   const mpqp = problem(name);
-  const marks: { regions: number; s: number; lps: number; qps: number; mb: number }[] = [];
+  const marks: { regions: number; s: number; lps: number; qps: number; mb: number; peak: number }[] = [];
   let next = 1000;
   const t0 = performance.now();
   const p = solvePartition(mpqp, {
@@ -40,19 +44,20 @@ function growth(name: string): Partition {
     timeLimit: seconds,
     onProgress: (q) => {
       if (q.regions < next) return;
-      marks.push({ regions: q.regions, s: q.elapsedSeconds, lps: q.lps, qps: q.qps, mb: process.memoryUsage().rss / 2 ** 20 });
+      marks.push({ regions: q.regions, s: q.elapsedSeconds, lps: q.lps, qps: q.qps, mb: process.memoryUsage().rss / 2 ** 20, peak: peakMb() });
       while (next <= q.regions) next *= 2;
     },
   });
   const total = (performance.now() - t0) / 1000;
-  marks.push({ regions: p.stats.regions, s: total, lps: p.stats.lps, qps: p.stats.qps, mb: process.memoryUsage().rss / 2 ** 20 });
+  marks.push({ regions: p.stats.regions, s: total, lps: p.stats.lps, qps: p.stats.qps, mb: process.memoryUsage().rss / 2 ** 20, peak: peakMb() });
   console.log(`\n${name}: θ ${mpqp.ntheta}-D, ${mpqp.nc} rows, ${mpqp.nz} moves; stopped: ${p.stats.stopReason}, unresolved pieces ${p.stats.unresolvedPieces}`);
-  console.log('  regions        s   regions/s (last doubling)   LPs/region   QPs/region   RSS MB');
+  console.log(`  load average ${loadavg()[0].toFixed(1)} at the start`);
+  console.log('  regions        s   regions/s (last doubling)   LPs/region   QPs/region   RSS MB   peak MB (process)');
   let prev = { regions: 0, s: 0 };
   for (const m of marks) {
     const rate = (m.regions - prev.regions) / Math.max(m.s - prev.s, 1e-9);
     console.log(
-      `  ${String(m.regions).padStart(7)} ${m.s.toFixed(2).padStart(8)} ${rate.toFixed(0).padStart(11)}                 ${(m.lps / m.regions).toFixed(1).padStart(8)} ${(m.qps / m.regions).toFixed(2).padStart(12)} ${m.mb.toFixed(0).padStart(8)}`,
+      `  ${String(m.regions).padStart(7)} ${m.s.toFixed(2).padStart(8)} ${rate.toFixed(0).padStart(11)}                 ${(m.lps / m.regions).toFixed(1).padStart(8)} ${(m.qps / m.regions).toFixed(2).padStart(12)} ${m.mb.toFixed(0).padStart(8)} ${m.peak.toFixed(0).padStart(9)}`,
     );
     prev = m;
   }

@@ -1,0 +1,227 @@
+import { describe, expect, it } from 'vitest';
+import { join } from 'node:path';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { evaluateCsvChunks, evaluationCsv, parsePointsCsv, parsePointsFlat } from '../../src/table/points.js';
+import type { TableFile } from '../../src/table/format.js';
+import { qpReference } from '../helpers/reference.js';
+import { rng, root, solved } from '../helpers/solved.js';
+import { runCli } from '../helpers/cli.js';
+
+// References:
+// - reading a cell: ECMAScript's StringToNumber (`Number(cell)`), applied here literally to the
+//   trimmed cells of lines split at \r?\n (the points-CSV rule of the `tessera evaluate` contract);
+// - echoing a cell: ECMAScript's Number::toString (`String(v)`, the shortest decimal that reads back
+//   as v) — a cell is copied only where it equals that text;
+// - location: the rule applied literally by a sequential scan written out below ("common practice":
+//   the lowest index holding θ exactly, else the least largest residual within tol.inside = 1e-8);
+// - u(0): quadprog (Goldfarb–Idnani dual QP, test/helpers/reference.ts) at each point, within 1e-6.
+
+/** A cell in one of many spellings of a number (and, rarely, not a number at all). */
+function cellText(rnd: () => number): string {
+  const v = (rnd() - 0.5) * 10 ** Math.floor(rnd() * 10 - 5);
+  switch (Math.floor(rnd() * 12)) {
+    case 0:
+      return String(v);
+    case 1:
+      return v.toPrecision(1 + Math.floor(rnd() * 17));
+    case 2:
+      return v.toExponential(Math.floor(rnd() * 16));
+    case 3:
+      return v.toFixed(Math.floor(rnd() * 12));
+    case 4:
+      return `+${Math.abs(v).toFixed(3)}`;
+    case 5:
+      return `00${Math.abs(v).toFixed(4)}`;
+    case 6:
+      return ['-0', '0', '0.0', '-0.000', '.5', '5.', '1e-7', '1E+3', '0.000001', '0.0000001', '123456789012345', '1234567890123456', '1e21', '100', '-100.10'][Math.floor(rnd() * 15)];
+    case 7:
+      return ` ${v.toFixed(2)} `;
+    case 8:
+      return String(Math.round(v * 1000) / 1000);
+    case 9:
+      return v.toPrecision(15);
+    case 10:
+      return v.toPrecision(7);
+    default:
+      return String(Math.fround(v));
+  }
+}
+
+/** The contract's reading, literally: lines at \r?\n, trimmed, '' and '#' lines skipped, cells trimmed, Number. */
+function literalRead(text: string): { cells: string[]; values: number[] }[] {
+  return text
+    .split(/\r?\n/)
+    .map((l) => l.trim())
+    .filter((l) => l !== '' && !l.startsWith('#'))
+    .map((l) => {
+      const cells = l.split(',').map((c) => c.trim());
+      return { cells, values: cells.map(Number) };
+    });
+}
+
+/** The location rule applied literally (see the header). */
+function literalLocate(t: TableFile, th: ArrayLike<number>): number {
+  let near = -1;
+  let nearV = Infinity;
+  for (let i = 0; i < t.regions.length; i++) {
+    const r = t.regions[i];
+    let worst = -Infinity;
+    for (let k = 0; k < r.b.length; k++) {
+      let s = 0;
+      for (let j = 0; j < th.length; j++) s += r.A[k][j] * th[j];
+      worst = Math.max(worst, s - r.b[k]);
+    }
+    if (worst <= 0) return i;
+    if (worst <= 1e-8 && worst < nearV) {
+      near = i;
+      nearV = worst;
+    }
+  }
+  return near;
+}
+
+describe('points CSV into one typed array (parsePointsFlat)', () => {
+  it('reads every cell as Number does and copies only cells that String prints the same', () => {
+    const rnd = rng(4242);
+    const names = ['a', 'b', 'c'];
+    const lines: string[] = ['# seeded cells', 'c, a ,b'];
+    for (let k = 0; k < 4000; k++) {
+      if (rnd() < 0.02) lines.push(rnd() < 0.5 ? '' : '# note');
+      lines.push([cellText(rnd), cellText(rnd), cellText(rnd)].join(','));
+    }
+    const text = lines.join(rnd() < 2 ? '\r\n' : '\n') + '\n';
+    const ref = literalRead(text);
+    const got = parsePointsFlat(text, 'p.csv', names);
+    expect(got.count).toBe(ref.length - 1); // the header
+    let copied = 0;
+    for (let k = 0; k < got.count; k++) {
+      const { cells, values } = ref[k + 1];
+      // header "c, a ,b": θ = (a, b, c) is columns (2, 3, 1)
+      const cols = [1, 2, 0];
+      for (let j = 0; j < 3; j++) {
+        const q = k * 3 + j;
+        expect(Object.is(got.values[q], values[cols[j]]), `line ${k + 3} θ${j}: "${cells[cols[j]]}"`).toBe(true);
+        if (got.from[q] >= 0) {
+          copied++;
+          expect(text.slice(got.from[q], got.to[q])).toBe(String(values[cols[j]]));
+        }
+      }
+    }
+    expect(copied).toBeGreaterThan(2000);
+    // the general path agrees too, point by point
+    const general = parsePointsCsv(text, 'p.csv', names);
+    expect(general.length).toBe(got.count);
+  });
+
+  it('refuses what the general reading refuses, with the same message', () => {
+    const names = ['a', 'b'];
+    const cases = ['1,2\n3', '1,2\n1,2,3', '1,x', '1,', '1,-', '1,1e', '1,Infinity', '1,1e999', '1,.', '1,0x', 'a,b\n1,,2', 'a,c\n1,2'];
+    // after a good first line too, so that the bad line meets the character scan
+    for (const bad of [...cases, ...cases.map((c) => `0,0\n${c}`)]) {
+      let expected = '';
+      let got = '';
+      try {
+        parsePointsCsv(bad, 'p.csv', names);
+      } catch (e) {
+        expected = (e as Error).message;
+      }
+      try {
+        parsePointsFlat(bad, 'p.csv', names);
+      } catch (e) {
+        got = (e as Error).message;
+      }
+      expect(expected, bad).not.toBe('');
+      expect(got, bad).toBe(expected);
+    }
+  });
+});
+
+describe('evaluateCsvChunks (the CSV path of tessera evaluate)', () => {
+  const file = join(root, 'examples', 'positioning-axis.yaml');
+
+  it('region = the literal location rule, u(0) = quadprog, θ read back unchanged, in chunks', () => {
+    const { table, mpqp } = solved(file);
+    expect(table.regions.length).toBeGreaterThan(32); // the k-d tree path, not the small-table scan
+    const rnd = rng(77);
+    const n = table.dims.ntheta;
+    const rows: string[] = [];
+    for (let k = 0; k < 1500; k++) rows.push(Array.from({ length: n }, (_, j) => (table.box.lower[j] + (1.1 * rnd() - 0.05) * (table.box.upper[j] - table.box.lower[j])).toPrecision(k % 2 ? 17 : 6)).join(','));
+    // Chebyshev centres and points on a facet: where the rule between neighbours matters
+    for (const r of table.regions.slice(0, 100)) {
+      const c = r.chebyshev.center;
+      let s = r.b[0];
+      for (let j = 0; j < n; j++) s -= r.A[0][j] * c[j];
+      rows.push(c.join(','), c.map((x, j) => x + s * r.A[0][j]).join(','));
+    }
+    const text = rows.join('\n');
+    const flat = parsePointsFlat(text, 'p.csv', table.thetaNames);
+    const at = [[0.01, -0.02]];
+    const chunks = [...evaluateCsvChunks(table, text, flat, at, { chunkPoints: 97 })];
+    expect(chunks.length).toBe(Math.ceil((flat.count + 1) / 97));
+    const out = chunks.join('').split('\n');
+    expect(out[0]).toBe([...table.thetaNames, 'region', ...table.inputNames].join(','));
+    expect(out[out.length - 1]).toBe('');
+    const lines = out.slice(1, -1);
+    expect(lines.length).toBe(rows.length + 1);
+    let inRegion = 0;
+    lines.forEach((line, k) => {
+      const cells = line.split(',');
+      const th = k < rows.length ? rows[k].split(',').map(Number) : at[0];
+      cells.slice(0, n).forEach((c, j) => expect(Number(c)).toBe(th[j]));
+      const region = Number(cells[n]);
+      expect(region, `θ = ${th}`).toBe(literalLocate(table, th));
+      const u = cells.slice(n + 1);
+      expect(u.length).toBe(table.dims.nu);
+      if (region < 0) {
+        expect(u.every((x) => x === '')).toBe(true);
+        return;
+      }
+      const ref = qpReference(mpqp, th);
+      if (!ref.feasible) return; // held only by the slack, just outside the feasible set
+      inRegion++;
+      u.forEach((x, i) => expect(Math.abs(Number(x) - ref.z[i])).toBeLessThan(1e-6 * Math.max(1, Math.abs(ref.z[i]))));
+    });
+    expect(inRegion).toBeGreaterThan(800);
+    // and the same bytes as the per-point path of the library
+    expect(chunks.join('')).toBe(evaluationCsv(table, [...parsePointsCsv(text, 'p.csv', table.thetaNames), ...at]));
+  });
+
+  it('--clamp: u(0) = quadprog saturated to the input limits; --points and --at together through the CLI', async () => {
+    const { table, mpqp } = solved(file);
+    const dir = mkdtempSync(join(tmpdir(), 'tessera-points-'));
+    try {
+      const tablePath = join(dir, 't.json');
+      const { tableToJson } = await import('../../src/table/table.js');
+      writeFileSync(tablePath, tableToJson(table));
+      const rnd = rng(91);
+      const n = table.dims.ntheta;
+      const pts = Array.from({ length: 400 }, () => Array.from({ length: n }, (_, j) => Number((table.box.lower[j] + rnd() * (table.box.upper[j] - table.box.lower[j])).toPrecision(5))));
+      // header in reversed order: columns are matched by name
+      const names = [...table.thetaNames].reverse();
+      const csv = [names.join(','), ...pts.map((p) => [...p].reverse().join(','))].join('\n') + '\n';
+      writeFileSync(join(dir, 'p.csv'), csv);
+      const r = await runCli(['evaluate', tablePath, '--points', join(dir, 'p.csv'), '--at', '0.05,0.1', '--clamp', '-q']);
+      expect(r.stderr).toBe('');
+      expect(r.status).toBe(0);
+      const lines = r.stdout.trim().split('\n').slice(1);
+      expect(lines.length).toBe(pts.length + 1);
+      const lo = table.inputLimits.lower.map((v) => v ?? -Infinity);
+      const hi = table.inputLimits.upper.map((v) => v ?? Infinity);
+      let compared = 0;
+      lines.forEach((line, k) => {
+        const th = k < pts.length ? pts[k] : [0.05, 0.1];
+        const cells = line.split(',');
+        expect(cells.slice(0, n).join(',')).toBe(th.map(String).join(','));
+        expect(Number(cells[n])).toBe(literalLocate(table, th));
+        const ref = qpReference(mpqp, th);
+        if (Number(cells[n]) < 0 || !ref.feasible) return;
+        compared++;
+        cells.slice(n + 1).forEach((x, i) => expect(Math.abs(Number(x) - Math.min(hi[i], Math.max(lo[i], ref.z[i])))).toBeLessThan(1e-6));
+      });
+      expect(compared).toBeGreaterThan(100);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});

@@ -36,7 +36,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   if (k > 0) {
     const MAA = new Float64Array(k * k);
     for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) MAA[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
-    const inv = spdInverse(MAA, k, tol.rank);
+    const inv = spdInverse(MAA, k, tol.rank) ?? scaledInverse(MAA, k);
     if (!inv) return { ok: false, reason: 'licq' };
     for (let a = 0; a < k; a++) {
       for (let j = 0; j < nt; j++) {
@@ -386,4 +386,26 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
 /** Indices of the four box rows (x ≤ up0, −x ≤ −lo0, y ≤ up1, −y ≤ −lo1), appended last by buildRegion. */
 function findBoxRows(_Af: Float64Array, _bf: Float64Array, m: number, _lo: Float64Array, _up: Float64Array): number[] {
   return [m - 4, m - 3, m - 2, m - 1];
+}
+
+/**
+ * Inverse of an SPD block after scaling it to unit diagonal (Jacobi scaling, common practice), with
+ * the pivot test on the scaled block: rows are compared with their own length, as the point QP's
+ * independence test does (q ≤ tol.rank·(1 + M_pp)). Without it, a row of M-norm 1e-4 beside rows of
+ * norm 4 failed the unscaled test at a relative independence of 1e-6, so a working set the point QP
+ * returned was rejected and every landing there failed (boom-4d-n12). Tried only when the unscaled
+ * test fails, so regions it accepts keep their bits. Null when singular after scaling too.
+ */
+function scaledInverse(a: Float64Array, n: number): Float64Array | null {
+  const d = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    if (!(a[i * n + i] > 0)) return null;
+    d[i] = 1 / Math.sqrt(a[i * n + i]);
+  }
+  const s = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) s[i * n + j] = d[i] * a[i * n + j] * d[j];
+  const inv = spdInverse(s, n, tol.rank);
+  if (!inv) return null;
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) inv[i * n + j] *= d[i] * d[j];
+  return inv;
 }

@@ -185,10 +185,24 @@ export interface ExplorationWork {
   coverLps: number;
 }
 
+/** How the facets were covered (printed and benchmarked; not stored in the table). */
+export interface CoverWork {
+  /** facet pieces dropped as thinner than 10·tol.radius (a bound on their Chebyshev radius) while covering by vertex lists */
+  thinPieces: number;
+  /** facets whose vertex lists failed a numerical check, covered by the LP difference instead */
+  fallbacks: number;
+  /** facets covered by vertex lists with no LP at all */
+  freeFacets: number;
+  /** facets covered */
+  facets: number;
+}
+
 export interface Partition {
   regions: CriticalRegion[];
   stats: PartitionStats;
   work?: ExplorationWork;
+  /** how the facets were covered (single explorations; absent from joins of several) */
+  cover?: CoverWork;
   /** a box holding each region (by index; not stored in the table), when the exploration knows it */
   boxes?: { lo: ArrayLike<number>; hi: ArrayLike<number> }[];
   /** when the exploration stopped early: where it stands, to resume from */

@@ -1,10 +1,11 @@
-import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
+import type { CoverWork, CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
 import { solvePointQp } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
+import { clipPiece, pieceCentre, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from './cover.js';
 
 /**
  * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
@@ -53,6 +54,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const step = Math.max(tol.facetStep * scale, 100 * tol.inside);
   // facet pieces thinner than this are taken as covered: the bound on any hole the table can have
   const minPiece = 10 * tol.radius;
+  // vertices within this of a row's plane are on it (facet coordinates are θ-space distances)
+  const coverEps = 1e-9 * Math.max(1, scale);
+  /** the vertex list of the facet being covered (dim ≥ 2), null when it has none */
+  let facetPiece: CoverPiece | null = null;
   const lp: LpEngine = { lps: 0, reference: options.lp === 'reference' };
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
@@ -60,6 +65,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const guessSets = options.strategy?.guess ?? true;
   const warmQp = options.strategy?.warmStart ?? true;
   const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
+  const cover: CoverWork = { thinPieces: 0, fallbacks: 0, freeFacets: 0, facets: 0 };
   let rng = 0x2545f491;
   const rand = (): number => {
     rng ^= rng << 13;
@@ -129,8 +135,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    * skipped, a copy of a known region under another active set maps to it; the rest are added with
    * empty neighbour lists (those held indices of the sender). Owned ones not yet covered are queued.
    */
-  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[]): void {
-    for (const { region: R, box } of list) {
+  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> }; from?: string }[]): void {
+    for (const { region: R, box, from } of list) {
       const key = R.activeSet.join(',');
       if (byActiveSet.has(key)) continue;
       let id = locate(R.chebyshev.center, -0.5 * R.chebyshev.radius);
@@ -143,10 +149,15 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         grid.add(R.A, R.b, bb.lo, bb.hi);
       }
       byActiveSet.set(key, id);
+      // the region it was found from touches it: known neighbours seed the covering (as after a landing here)
+      const parent = from === undefined ? undefined : byActiveSet.get(from);
+      if (parent !== undefined && parent >= 0) link(parent, id);
       if (owns(key) && !done.has(key)) pending.push({ id, key });
     }
   }
 
+  /** the region whose facet is being crossed (announced with the regions found from it) */
+  let crossing: CriticalRegion | null = null;
   const addRegion = (activeSet: number[], key: string): number => {
     const lp0 = lp.lps;
     const res = buildRegion(problem, activeSet, lp, options.lean);
@@ -167,7 +178,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
     if (owns(key)) pending.push({ id, key });
-    share?.found(regions[id], res.bbox);
+    share?.found(regions[id], res.bbox, crossing?.activeSet.join(','));
     report();
     return id;
   };
@@ -198,7 +209,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const key = qp.activeSet.join(',');
     const known = byActiveSet.get(key);
     if (known !== undefined) return known;
-    return addRegion(qp.activeSet, key);
+    const id = addRegion(qp.activeSet, key);
+    if (id < 0) byActiveSet.set(key, -2); // never build it again
+    return id;
   };
 
   // first region: the (sub-)box centre if feasible, else the max-margin point of {(θ, z) : G z − E θ ≤ w, θ ∈ (sub-)box}
@@ -244,7 +257,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const R = regions[id];
     for (let f = 0; f < R.facets.length; f++) {
       if (R.facets[f].kind === 'box') continue;
+      const c0 = work.coverLps;
+      cover.facets++;
       exploreFacet(R, f);
+      if (work.coverLps === c0) cover.freeFacets++;
       if (stats.stopReason !== 'done') break;
     }
     if (stats.stopReason !== 'done') break;
@@ -275,8 +291,14 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (slice) slices.push(slice);
     }
     let covered = false;
+    if (facet.dim >= 2) {
+      const res = coverByVertices(R, f, facet, slices, neighbours);
+      if (res === 'stopped') return;
+      if (res === 'covered') covered = true;
+      else cover.fallbacks++;
+    }
     const memo = new Map<string, { point: Float64Array; radius: number } | null>();
-    for (let guard = 0; guard < 1000; guard++) {
+    for (let guard = 0; guard < 1000 && !covered; guard++) {
       if (stopNow()) return;
       const lp0 = lp.lps;
       const piece = uncoveredPoint(facet, slices, minPiece, lp, memo);
@@ -303,8 +325,104 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     // a seeded region is a neighbour across this facet when it meets the facet in a full piece
     for (const s of seeded) {
       if (neighbours.includes(s.id)) continue;
-      if (overlapsFacet(facet, s.slice, minPiece, lp)) neighbours.push(s.id);
+      const lp0 = lp.lps;
+      if (meetsFacet(facet, s.slice)) neighbours.push(s.id);
+      work.coverLps += lp.lps - lp0;
     }
+  }
+
+  /**
+   * True when the slice meets the facet in a piece of Chebyshev radius > minPiece: decided from the
+   * facet's vertex list when it can be (the overlap's width bound, or a ball about its vertex mean),
+   * one LP otherwise.
+   */
+  function meetsFacet(facet: FacetFrame, s: Slice): boolean {
+    if (facet.dim >= 2 && facetPiece) {
+      const ctx: CoverContext = { dim: facet.dim, eps: coverEps, maxVerts: 4000 };
+      let cur: CoverPiece | null | 'fail' = facetPiece;
+      for (let i = 0; i < s.m && cur && cur !== 'fail'; i++) cur = clipPiece(cur, s.A.subarray(i * facet.dim, (i + 1) * facet.dim), s.b[i], ctx);
+      if (cur === null) return false;
+      if (cur !== 'fail') {
+        if (cur.widthBound <= minPiece) return false;
+        if (pieceCentre(cur, facet.dim).radius > minPiece) return true;
+      }
+    }
+    return overlapsFacet(facet, s, minPiece, lp);
+  }
+
+  /**
+   * Cover facet f of R by vertex lists (src/mpqp/cover.ts): the uncovered part is a list of convex
+   * pieces; each slice (known neighbours first, then every landing) is taken off the pieces it
+   * cuts with no LP; a landing starts from a piece's vertex mean (one Chebyshev LP only when the
+   * ball about it is thin). 'fail' hands the facet, with the slices found so far, to the LP
+   * difference.
+   */
+  function coverByVertices(R: CriticalRegion, f: number, facet: FacetFrame, slices: Slice[], neighbours: number[]): 'covered' | 'stopped' | 'fail' {
+    facetPiece = null;
+    const dim = facet.dim;
+    const ctx: CoverContext = { dim, eps: coverEps, maxVerts: 4000 };
+    const box = facet.yBox(bboxes[R.id]);
+    const base = polytopePiece(facet.A, facet.b, facet.m, box.lo, box.hi, ctx);
+    if (base === 'fail') return 'fail';
+    if (base === null || base.widthBound <= minPiece) {
+      if (base) cover.thinPieces++;
+      return 'covered'; // the facet itself is thinner than any piece we cover
+    }
+    facetPiece = base;
+    let pieces: CoverPiece[] = [base];
+    const dropped = { count: 0 };
+    const take = (S: Slice): boolean => {
+      const next: CoverPiece[] = [];
+      for (const P of pieces) {
+        const r = subtractSlice(P, S.A, S.b, S.m, minPiece, ctx, dropped);
+        if (r === 'fail') return false;
+        if (Array.isArray(r)) next.push(...r);
+        else next.push(r);
+      }
+      pieces = next;
+      return true;
+    };
+    const settle = (): void => {
+      cover.thinPieces += dropped.count;
+      dropped.count = 0;
+    };
+    for (const S of slices) if (!take(S)) return 'fail';
+    settle();
+    for (let guard = 0; guard < 1000; guard++) {
+      if (stopNow()) return 'stopped';
+      if (pieces.length === 0) return 'covered';
+      // the widest piece first
+      let best = 0;
+      for (let q = 1; q < pieces.length; q++) if (pieces[q].widthBound > pieces[best].widthBound) best = q;
+      const P = pieces[best];
+      let centre = pieceCentre(P, dim);
+      if (!(centre.radius > 10 * minPiece)) {
+        lp.lps++;
+        work.coverLps++;
+        const ball = chebyshevBall(P.A, P.b, P.m, dim, centre.point, 1e6);
+        if (!(ball.radius > minPiece)) {
+          pieces.splice(best, 1);
+          cover.thinPieces++;
+          continue;
+        }
+        centre = { point: ball.center, radius: ball.radius };
+      }
+      const landing = landAcross(R, f, facet, centre);
+      if (landing === 'infeasible') return 'covered'; // far side infeasible: the facet lies on the feasibility boundary
+      let S: Slice;
+      if (landing === null) {
+        S = facet.ballSlice(centre.point, centre.radius); // give up on this piece: counted, never silent
+        stats.unresolvedPieces++;
+      } else {
+        if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
+        link(R.id, landing.id);
+        S = landing.slice;
+      }
+      slices.push(S);
+      if (!take(S)) return 'fail';
+      settle();
+    }
+    return 'fail';
   }
 
   /**
@@ -316,6 +434,15 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    */
   function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
     work.landings++;
+    crossing = R;
+    try {
+      return landFrom(R, f, facet, piece);
+    } finally {
+      crossing = null;
+    }
+  }
+
+  function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
     const guess = fi.kind === 'primal' ? [...R.activeSet, fi.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== fi.row);
@@ -351,7 +478,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   stats.regions = regions.length;
   stats.lps = lp.lps;
   report(true);
-  return stats.complete ? { regions, stats, work, boxes: bboxes } : { regions, stats, work, boxes: bboxes, state: exportState() };
+  return stats.complete ? { regions, stats, work, cover, boxes: bboxes } : { regions, stats, work, cover, boxes: bboxes, state: exportState() };
 }
 
 function firstSeed(problem: MpqpProblem, lp: LpEngine, lower: Float64Array, upper: Float64Array): Float64Array | null {
@@ -400,6 +527,8 @@ export interface FacetFrame extends Slice {
   /** the region's rows on the hyperplane (row `skip`, if given, left out) */
   sliceOf: (region: Pick<CriticalRegion, 'A' | 'b'>, skip?: number) => Slice | null;
   ballSlice: (y: ArrayLike<number>, r: number) => Slice;
+  /** a box in the facet's coordinates holding the image of the θ-box [lo, hi] on the hyperplane, padded by 1 % */
+  yBox: (bb: { lo: ArrayLike<number>; hi: ArrayLike<number> }) => { lo: Float64Array; hi: Float64Array };
 }
 
 /**
@@ -483,6 +612,26 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
         bb[2 * k + 1] = -(y[k] - h);
       }
       return { A: Ab, b: bb, m: 2 * dim };
+    },
+    yBox: (bb) => {
+      const ylo = new Float64Array(dim);
+      const yhi = new Float64Array(dim);
+      let w = 0;
+      for (let j = 0; j < d; j++) w = Math.max(w, bb.hi[j] - bb.lo[j]);
+      for (let k = 0; k < dim; k++) {
+        let l = 0;
+        let h = 0;
+        for (let j = 0; j < d; j++) {
+          const u = basis[k][j] * (bb.lo[j] - origin[j]);
+          const v = basis[k][j] * (bb.hi[j] - origin[j]);
+          l += Math.min(u, v);
+          h += Math.max(u, v);
+        }
+        const pad = 0.01 * (h - l) + 1e-3 * w + 1e-9;
+        ylo[k] = l - pad;
+        yhi[k] = h + pad;
+      }
+      return { lo: ylo, hi: yhi };
     },
   };
 }

@@ -1,0 +1,302 @@
+/**
+ * Facet covering by vertex lists: the part of a facet not yet covered by the slices of known
+ * neighbours, kept as a list of convex pieces, each held both as rows (A y ≤ b) and as its vertices
+ * with the rows tight at each vertex (a double description, after Motzkin et al. 1953).
+ *
+ * A new slice S = {y : s_i·y ≤ t_i} is taken off each piece P incrementally:
+ * P \ S = ∪_i P ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}, over the rows of S that cut P only, the rows
+ * cutting deepest first. Whether a row cuts, misses or contains P is read off P's vertices, so
+ * taking a slice costs no LP; a slice whose rows all hold at every vertex of P covers P, one with a
+ * row violated at every vertex misses it. Cutting a piece by a half-space keeps the vertices inside
+ * and adds, on every edge that crosses the plane, the crossing point; two vertices span an edge
+ * when the rows tight at both have rank dim − 1 (the smallest face holding both is then
+ * one-dimensional; common practice for polytopes, also under degeneracy).
+ *
+ * Pieces whose width across one of their own facets is ≤ 2·minRadius (so their Chebyshev radius is
+ * ≤ minRadius) are dropped and counted by the caller: the same bound on holes as before. Vertex
+ * lists are numerical: when one fails its checks (a vertex whose tight rows do not have rank dim,
+ * too many vertices) the builder returns null and the caller falls back to the LP difference.
+ */
+
+/** A convex piece of a facet in the facet's own coordinates (dim ≥ 2). Arrays owned by the piece. */
+export interface CoverPiece {
+  /** rows, m × dim, unit length */
+  A: Float64Array;
+  b: Float64Array;
+  m: number;
+  /** vertices (each dim long) and, per vertex, the ascending indices of the rows tight there */
+  verts: Float64Array[];
+  tight: number[][];
+  /** an upper bound on the Chebyshev radius: half the least width across one of the piece's rows */
+  widthBound: number;
+}
+
+/** Numbers shared by the pieces of one facet. */
+export interface CoverContext {
+  dim: number;
+  /** a vertex is on a row's plane within this (absolute, in the facet's coordinates) */
+  eps: number;
+  /** give up (return null) when a piece would have more vertices than this */
+  maxVerts: number;
+}
+
+const RANK_TOL = 1e-9;
+
+/** True when the rows `ids` of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
+function rankAtLeast(A: Float64Array, ids: readonly number[], dim: number, need: number): boolean {
+  if (need <= 0) return true;
+  const basis: Float64Array[] = [];
+  const take = (src: Float64Array, off: number): boolean => {
+    const v = new Float64Array(dim);
+    for (let k = 0; k < dim; k++) v[k] = src[off + k];
+    for (const u of basis) {
+      let s = 0;
+      for (let k = 0; k < dim; k++) s += u[k] * v[k];
+      for (let k = 0; k < dim; k++) v[k] -= s * u[k];
+    }
+    let n = 0;
+    for (let k = 0; k < dim; k++) n += v[k] * v[k];
+    n = Math.sqrt(n);
+    if (n <= RANK_TOL) return false;
+    for (let k = 0; k < dim; k++) v[k] /= n;
+    basis.push(v);
+    return basis.length >= need;
+  };
+  for (const i of ids) if (take(A, i * dim)) return true;
+  return false;
+}
+
+function common(x: readonly number[], y: readonly number[]): number[] {
+  const out: number[] = [];
+  let i = 0;
+  let j = 0;
+  while (i < x.length && j < y.length) {
+    if (x[i] === y[j]) {
+      out.push(x[i]);
+      i++;
+      j++;
+    } else if (x[i] < y[j]) i++;
+    else j++;
+  }
+  return out;
+}
+
+/**
+ * The piece P ∩ {a·y ≤ t} (a unit length): P itself when every vertex satisfies the row within
+ * eps (the row is then not added), null when the cut leaves nothing full-dimensional (every vertex
+ * on or beyond the plane), or 'fail' when the vertex list fails a check. New arrays; P untouched.
+ */
+export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true): CoverPiece | null | 'fail' {
+  const { dim, eps } = ctx;
+  const nv = P.verts.length;
+  const s = new Float64Array(nv);
+  let anyOut = false;
+  let anyIn = false;
+  for (let v = 0; v < nv; v++) {
+    const x = P.verts[v];
+    let d = -t;
+    for (let k = 0; k < dim; k++) d += a[k] * x[k];
+    s[v] = d;
+    if (d > eps) anyOut = true;
+    if (d < -eps) anyIn = true;
+  }
+  if (!anyOut) return P;
+  if (!anyIn) return null;
+  const k = P.m; // index of the new row
+  const A = new Float64Array((P.m + 1) * dim);
+  A.set(P.A);
+  for (let j = 0; j < dim; j++) A[k * dim + j] = a[j];
+  const b = new Float64Array(P.m + 1);
+  b.set(P.b);
+  b[k] = t;
+  const verts: Float64Array[] = [];
+  const tight: number[][] = [];
+  for (let v = 0; v < nv; v++) {
+    if (s[v] > eps) continue;
+    verts.push(P.verts[v]);
+    tight.push(s[v] >= -eps ? [...P.tight[v], k] : P.tight[v]);
+  }
+  for (let u = 0; u < nv; u++) {
+    if (s[u] >= -eps) continue;
+    for (let w = 0; w < nv; w++) {
+      if (s[w] <= eps) continue;
+      const c = common(P.tight[u], P.tight[w]);
+      if (c.length < dim - 1 || !rankAtLeast(A, c, dim, dim - 1)) continue;
+      const lam = s[u] / (s[u] - s[w]);
+      const x = new Float64Array(dim);
+      for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);
+      c.push(k);
+      // a crossing point within eps of one found before (numerical near-degeneracy): one vertex
+      let dup = -1;
+      for (let q = 0; q < verts.length && dup < 0; q++) {
+        let d = 0;
+        for (let j = 0; j < dim && d <= eps; j++) d = Math.max(d, Math.abs(verts[q][j] - x[j]));
+        if (d <= eps) dup = q;
+      }
+      if (dup >= 0) {
+        tight[dup] = [...new Set([...tight[dup], ...c])].sort((x1, y1) => x1 - y1);
+        continue;
+      }
+      verts.push(x);
+      tight.push(c);
+      if (verts.length > ctx.maxVerts) return 'fail';
+    }
+  }
+  if (!tidy) return verts.length > dim ? { A, b, m: P.m + 1, verts, tight, widthBound: Infinity } : null;
+  return finish(A, b, P.m + 1, verts, tight, ctx);
+}
+
+/**
+ * Drop rows tight at fewer than dim vertices (not facets), renumber, check every vertex has tight
+ * rows of rank dim, and bound the Chebyshev radius by the least width.
+ */
+function finish(A: Float64Array, b: Float64Array, m: number, verts: Float64Array[], tight: number[][], ctx: CoverContext): CoverPiece | null | 'fail' {
+  const { dim, eps } = ctx;
+  if (verts.length < dim + 1) return null;
+  const V = verts;
+  const T = tight;
+  if (V.length < dim + 1) return null;
+  const count = new Int32Array(m);
+  for (const t of T) for (const i of t) count[i]++;
+  const map = new Int32Array(m).fill(-1);
+  let mm = 0;
+  for (let i = 0; i < m; i++) if (count[i] >= dim) map[i] = mm++;
+  const A2 = new Float64Array(mm * dim);
+  const b2 = new Float64Array(mm);
+  for (let i = 0; i < m; i++) {
+    if (map[i] < 0) continue;
+    for (let k = 0; k < dim; k++) A2[map[i] * dim + k] = A[i * dim + k];
+    b2[map[i]] = b[i];
+  }
+  const T2: number[][] = [];
+  for (const t of T) {
+    const u: number[] = [];
+    for (const i of t) if (map[i] >= 0) u.push(map[i]);
+    if (u.length < dim || !rankAtLeast(A2, u, dim, dim)) return 'fail';
+    T2.push(u);
+  }
+  // Chebyshev radius ≤ half the width across any row: r ≤ (b_i − min_v a_i·v)/2
+  let wb = Infinity;
+  for (let i = 0; i < mm; i++) {
+    let mn = Infinity;
+    for (const x of V) {
+      let d = 0;
+      for (let k = 0; k < dim; k++) d += A2[i * dim + k] * x[k];
+      if (d < mn) mn = d;
+    }
+    wb = Math.min(wb, 0.5 * (b2[i] - mn));
+  }
+  if (!(wb > eps)) return null;
+  return { A: A2, b: b2, m: mm, verts: V, tight: T2, widthBound: wb };
+}
+
+/**
+ * The vertex description of {y : A y ≤ b} ⊂ the box [lo, hi] (the box must hold it with room to
+ * spare: its rows are dropped at the end): the box cut by each row in turn. Null when empty or
+ * flat, 'fail' when the vertex list fails a check.
+ */
+export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: ArrayLike<number>, hi: ArrayLike<number>, ctx: CoverContext): CoverPiece | null | 'fail' {
+  const { dim } = ctx;
+  // the box: rows 2k (y_k ≤ hi_k) and 2k+1 (−y_k ≤ −lo_k); vertex bits pick lo or hi
+  const BA = new Float64Array(2 * dim * dim);
+  const Bb = new Float64Array(2 * dim);
+  for (let k = 0; k < dim; k++) {
+    BA[2 * k * dim + k] = 1;
+    Bb[2 * k] = hi[k];
+    BA[(2 * k + 1) * dim + k] = -1;
+    Bb[2 * k + 1] = -lo[k];
+  }
+  const verts: Float64Array[] = [];
+  const tight: number[][] = [];
+  for (let mask = 0; mask < 1 << dim; mask++) {
+    const x = new Float64Array(dim);
+    const t: number[] = [];
+    for (let k = 0; k < dim; k++) {
+      const up = (mask >> k) & 1;
+      x[k] = up ? hi[k] : lo[k];
+      t.push(up ? 2 * k : 2 * k + 1);
+    }
+    verts.push(x);
+    tight.push(t);
+  }
+  let P: CoverPiece = { A: BA, b: Bb, m: 2 * dim, verts, tight, widthBound: Infinity };
+  for (let i = 0; i < m; i++) {
+    const r = clipPiece(P, A.subarray(i * dim, (i + 1) * dim), b[i], ctx, false);
+    if (r === null || r === 'fail') return r;
+    P = r;
+  }
+  const done = finish(P.A, P.b, P.m, P.verts, P.tight, ctx);
+  if (done === null || done === 'fail') return done;
+  P = done;
+  // a vertex on the box: the box did not hold the polytope with room to spare
+  for (const x of P.verts) for (let k = 0; k < dim; k++) if (x[k] <= lo[k] + ctx.eps || x[k] >= hi[k] - ctx.eps) return 'fail';
+  return P;
+}
+
+/**
+ * P minus the slice {y : S_A y ≤ S_b} (rows unit length): the pieces left, each cut off by one row
+ * of the slice (rows that cut P only, deepest first). `P` itself (same object) when the slice
+ * misses P, [] when it covers P, 'fail' when a vertex list fails its checks. Pieces with
+ * widthBound ≤ minRadius are not returned; their number is added to `dropped.count`.
+ */
+export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array, sm: number, minRadius: number, ctx: CoverContext, dropped: { count: number }): CoverPiece[] | CoverPiece | 'fail' {
+  const { dim, eps } = ctx;
+  const depth: { i: number; d: number }[] = [];
+  for (let i = 0; i < sm; i++) {
+    let mx = -Infinity;
+    let mn = Infinity;
+    for (const x of P.verts) {
+      let d = -Sb[i];
+      for (let k = 0; k < dim; k++) d += SA[i * dim + k] * x[k];
+      if (d > mx) mx = d;
+      if (d < mn) mn = d;
+    }
+    if (mn > -eps) return P; // P lies beyond this row (up to a face): the slice misses it
+    if (mx > eps) depth.push({ i, d: mx });
+  }
+  if (depth.length === 0) return []; // every row holds on P: covered
+  depth.sort((x, y) => y.d - x.d || x.i - y.i);
+  const out: CoverPiece[] = [];
+  let cur: CoverPiece = P;
+  for (const { i } of depth) {
+    const row = SA.subarray(i * dim, (i + 1) * dim);
+    const flipped = new Float64Array(dim);
+    for (let k = 0; k < dim; k++) flipped[k] = -row[k];
+    const beyond = clipPiece(cur, flipped, -Sb[i], ctx);
+    if (beyond === 'fail') return 'fail';
+    if (beyond === cur) {
+      // the rest lies beyond this row: it is not covered at all
+      const rest = cur === P ? P : finish(cur.A, cur.b, cur.m, cur.verts, cur.tight, ctx);
+      if (rest === 'fail') return 'fail';
+      if (rest && rest.widthBound > minRadius) out.push(rest);
+      else dropped.count++;
+      return out;
+    }
+    if (beyond) {
+      if (beyond.widthBound > minRadius) out.push(beyond);
+      else dropped.count++;
+    }
+    const inside = clipPiece(cur, row, Sb[i], ctx, false);
+    if (inside === 'fail') return 'fail';
+    if (inside === null) return out;
+    cur = inside;
+  }
+  return out;
+}
+
+/**
+ * A point inside P and the radius of a ball about it inside P, without an LP: the mean of the
+ * vertices and its least distance to P's rows (≤ the Chebyshev radius).
+ */
+export function pieceCentre(P: CoverPiece, dim: number): { point: Float64Array; radius: number } {
+  const c = new Float64Array(dim);
+  for (const x of P.verts) for (let k = 0; k < dim; k++) c[k] += x[k];
+  for (let k = 0; k < dim; k++) c[k] /= P.verts.length;
+  let r = Infinity;
+  for (let i = 0; i < P.m; i++) {
+    let d = P.b[i];
+    for (let k = 0; k < dim; k++) d -= P.A[i * dim + k] * c[k];
+    r = Math.min(r, d);
+  }
+  return { point: c, radius: r };
+}

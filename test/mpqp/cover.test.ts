@@ -1,0 +1,178 @@
+import { describe, it, expect } from 'vitest';
+import { clipPiece, pieceCentre, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
+import { lpMaximizeReference } from '../../src/lp/reference.js';
+import { rng } from '../problem/rng.js';
+
+// References: javascript-lp-solver (an npm simplex, through the thin adapter lpMaximizeReference)
+// for every LP fact below (support values, Chebyshev radii, emptiness); hand-worked polytopes are
+// marked "common practice". The code under test (src/mpqp/cover.ts) solves no LP at all.
+
+const ctx = (dim: number): CoverContext => ({ dim, eps: 1e-9, maxVerts: 4000 });
+const piece = (A: number[][], b: number[], box = 10): CoverPiece => {
+  const dim = A[0].length;
+  const r = polytopePiece(Float64Array.from(A.flat()), Float64Array.from(b), b.length, new Array(dim).fill(-box), new Array(dim).fill(box), ctx(dim));
+  if (!r || r === 'fail') throw new Error(`no piece: ${r}`);
+  return r;
+};
+const sortedVerts = (P: CoverPiece): number[][] => P.verts.map((v) => Array.from(v, (x) => Math.round(x * 1e9) / 1e9 + 0)).sort((x, y) => x[0] - y[0] || x[1] - y[1] || (x[2] ?? 0) - (y[2] ?? 0));
+const unit = (a: number[]): number[] => {
+  const n = Math.hypot(...a);
+  return a.map((x) => x / n);
+};
+
+/** max c·y over {A y ≤ b} by javascript-lp-solver; −Infinity when infeasible. */
+function support(A: number[][], b: number[], c: number[]): number {
+  const r = lpMaximizeReference(c, A.flat(), b, b.length, c.length);
+  return r.status === 'optimal' ? r.value : r.status === 'infeasible' ? -Infinity : Infinity;
+}
+/** Chebyshev radius of {A y ≤ b} by javascript-lp-solver (max ρ, a y + ‖a‖ρ ≤ b, ρ ≤ 1e3). */
+function chebRadius(A: number[][], b: number[]): number {
+  const dim = A[0].length;
+  const A1 = A.map((a) => [...a, Math.hypot(...a)]);
+  A1.push([...new Array(dim).fill(0), 1]);
+  const r = lpMaximizeReference([...new Array(dim).fill(0), 1], A1.flat(), [...b, 1e3], b.length + 1, dim + 1);
+  return r.status === 'optimal' ? r.value : -Infinity;
+}
+const rowsOf = (P: CoverPiece): { A: number[][]; b: number[] } => {
+  const d = P.verts[0].length;
+  return { A: Array.from({ length: P.m }, (_, i) => Array.from(P.A.subarray(i * d, (i + 1) * d))), b: Array.from(P.b) };
+};
+
+describe('vertex lists of hand-worked polytopes (common practice)', () => {
+  it('unit square cut by x + y ≤ 1 is the triangle (0,0), (1,0), (0,1)', () => {
+    const P = piece([[1, 0], [-1, 0], [0, 1], [0, -1], unit([1, 1])], [1, 0, 1, 0, 1 / Math.SQRT2]);
+    expect(sortedVerts(P)).toEqual([[0, 0], [0, 1], [1, 0]]);
+    expect(P.m).toBe(3); // x ≤ 1 and y ≤ 1 touch only at one vertex each: not facets
+  });
+  it('unit cube with the corner x + y + z ≥ 2.5 cut off has 7 + 3 vertices', () => {
+    const cube = [[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]];
+    const P = piece([...cube, unit([1, 1, 1])], [1, 0, 1, 0, 1, 0, 2.5 / Math.sqrt(3)]);
+    // the cut meets the three edges at (1,1,z) etc. with z = 0.5
+    expect(P.verts.length).toBe(10);
+    expect(sortedVerts(P)).toContainEqual([0.5, 1, 1]);
+    expect(sortedVerts(P)).toContainEqual([1, 1, 0.5]);
+    expect(sortedVerts(P)).not.toContainEqual([1, 1, 1]);
+  });
+  it('a square pyramid (degenerate apex: four facets meet) keeps its apex once', () => {
+    const A = [[0, 0, -1], unit([1, 0, 1]), unit([-1, 0, 1]), unit([0, 1, 1]), unit([0, -1, 1])];
+    const b = [0, 1 / Math.SQRT2, 1 / Math.SQRT2, 1 / Math.SQRT2, 1 / Math.SQRT2];
+    const P = piece(A, b);
+    expect(sortedVerts(P)).toEqual([[-1, -1, 0], [-1, 1, 0], [0, 0, 1], [1, -1, 0], [1, 1, 0]]);
+    expect(P.tight[P.verts.findIndex((v) => Math.abs(v[2] - 1) < 1e-9)].length).toBe(4);
+  });
+  it('the square minus the disc-free slice [0.5, 2] × [−1, 2] is the strip x ≤ 0.5 (common practice)', () => {
+    const sq = piece([[1, 0], [-1, 0], [0, 1], [0, -1]], [1, 0, 1, 0]);
+    const dropped = { count: 0 };
+    const r = subtractSlice(sq, Float64Array.from([-1, 0, 1, 0, 0, 1, 0, -1]), Float64Array.from([-0.5, 2, 2, 1]), 4, 1e-6, ctx(2), dropped);
+    expect(Array.isArray(r)).toBe(true);
+    const pieces = r as CoverPiece[];
+    expect(pieces.length).toBe(1);
+    expect(sortedVerts(pieces[0])).toEqual([[0, 0], [0, 1], [0.5, 0], [0.5, 1]]);
+    // covered entirely / missed entirely
+    expect(subtractSlice(sq, Float64Array.from([1, 0, -1, 0, 0, 1, 0, -1]), Float64Array.from([2, 1, 2, 1]), 4, 1e-6, ctx(2), dropped)).toEqual([]);
+    expect(subtractSlice(sq, Float64Array.from([-1, 0]), Float64Array.from([-3]), 1, 1e-6, ctx(2), dropped)).toBe(sq);
+  });
+  it('a sliver thinner than minRadius is dropped and counted', () => {
+    const sq = piece([[1, 0], [-1, 0], [0, 1], [0, -1]], [1, 0, 1, 0]);
+    const dropped = { count: 0 };
+    // the slice covers all but x ∈ [0.9999995, 1] (width 5e-7: Chebyshev radius 2.5e-7 ≤ 1e-6)
+    const r = subtractSlice(sq, Float64Array.from([1, 0]), Float64Array.from([0.9999995]), 1, 1e-6, ctx(2), dropped);
+    expect(r).toEqual([]);
+    expect(dropped.count).toBe(1);
+  });
+});
+
+describe('random polytopes and slices, 2-D to 4-D, against javascript-lp-solver', () => {
+  const r = rng(20261202);
+  const randomPolytope = (dim: number, m: number, centre: number[], rad: number): { A: number[][]; b: number[] } => {
+    const A: number[][] = [];
+    const b: number[] = [];
+    for (let i = 0; i < m; i++) {
+      const a = unit(Array.from({ length: dim }, () => 2 * r() - 1));
+      A.push(a);
+      b.push(a.reduce((s, x, k) => s + x * centre[k], 0) + rad * (0.3 + r()));
+    }
+    for (let k = 0; k < dim; k++) {
+      const e = new Array(dim).fill(0);
+      e[k] = 1;
+      A.push(e);
+      b.push(centre[k] + 2 * rad);
+      A.push(e.map((x) => -x));
+      b.push(-(centre[k] - 2 * rad));
+    }
+    return { A, b };
+  };
+  for (const dim of [2, 3, 4]) {
+    it(`${dim}-D: vertex lists give the LP support values; the difference is exact on sample points; pieces are disjoint`, () => {
+      let checks = 0;
+      for (let inst = 0; inst < (dim === 4 ? 6 : 10); inst++) {
+        const base = randomPolytope(dim, 4 + dim * 2, new Array(dim).fill(0), 1);
+        const P = piece(base.A, base.b);
+        // support values: a linear function attains its maximum over a polytope at a vertex (common practice)
+        for (let t = 0; t < 6; t++) {
+          const c = Array.from({ length: dim }, () => 2 * r() - 1);
+          const byVerts = Math.max(...P.verts.map((v) => v.reduce((s, x, k) => s + x * c[k], 0)));
+          expect(byVerts).toBeCloseTo(support(base.A, base.b, c), 6);
+          checks++;
+        }
+        // subtract a few random slices in turn
+        const slices = Array.from({ length: 3 }, () => randomPolytope(dim, 3 + dim, Array.from({ length: dim }, () => 1.2 * (2 * r() - 1)), 0.7));
+        let pieces: CoverPiece[] = [P];
+        const dropped = { count: 0 };
+        for (const S of slices) {
+          const next: CoverPiece[] = [];
+          for (const Q of pieces) {
+            const res = subtractSlice(Q, Float64Array.from(S.A.flat()), Float64Array.from(S.b), S.b.length, 1e-6, ctx(dim), dropped);
+            expect(res).not.toBe('fail');
+            if (Array.isArray(res)) next.push(...res);
+            else next.push(res as CoverPiece);
+          }
+          pieces = next;
+        }
+        const inside = (A: number[][], b: number[], y: number[], slack: number): boolean => A.every((a, i) => a.reduce((s, x, k) => s + x * y[k], 0) <= b[i] + slack);
+        // sample points: in some piece ⇔ in the base and in no slice (away from boundaries)
+        for (let t = 0; t < 300; t++) {
+          const y = Array.from({ length: dim }, () => 2.2 * (2 * r() - 1));
+          const margin = (A: number[][], b: number[]): number => Math.min(...A.map((a, i) => Math.abs(a.reduce((s, x, k) => s + x * y[k], 0) - b[i])));
+          if (Math.min(margin(base.A, base.b), ...slices.map((S) => margin(S.A, S.b))) < 1e-6) continue;
+          const want = inside(base.A, base.b, y, 0) && !slices.some((S) => inside(S.A, S.b, y, 0));
+          const got = pieces.some((Q) => {
+            const q = rowsOf(Q);
+            return inside(q.A, q.b, y, 1e-9);
+          });
+          expect(got, `${dim}-D instance ${inst}, point ${y}`).toBe(want);
+          checks++;
+        }
+        // each piece: its width bound is ≥ its Chebyshev radius (LP), its vertex-mean ball lies inside it;
+        // two pieces never share an interior point (Chebyshev radius of the intersection ≤ 0)
+        for (let p = 0; p < pieces.length; p++) {
+          const q = rowsOf(pieces[p]);
+          const rho = chebRadius(q.A, q.b);
+          expect(pieces[p].widthBound).toBeGreaterThanOrEqual(rho - 1e-7);
+          const c = pieceCentre(pieces[p], dim);
+          expect(c.radius).toBeLessThanOrEqual(rho + 1e-7);
+          for (let o = p + 1; o < pieces.length; o++) {
+            const u = rowsOf(pieces[o]);
+            expect(chebRadius([...q.A, ...u.A], [...q.b, ...u.b])).toBeLessThan(1e-7);
+          }
+          checks++;
+        }
+      }
+      expect(checks).toBeGreaterThan(100);
+    }, 120_000);
+  }
+  it('a cut that misses, contains or splits: clipPiece keeps the object, empties it, or splits by LP support', () => {
+    const P = piece([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]], [1, 1, 1, 1, 1, 1]);
+    expect(clipPiece(P, [1, 0, 0], 2, ctx(3))).toBe(P);
+    expect(clipPiece(P, [1, 0, 0], -1, ctx(3))).toBeNull();
+    const a = unit([1, 2, -1]);
+    const Q = clipPiece(P, a, 0.3, ctx(3));
+    if (!Q || Q === 'fail') throw new Error('split expected');
+    const q = rowsOf(Q);
+    for (const c of [[1, 0, 0], [0, 1, 0], a, [-1, -1, 1]]) {
+      const byVerts = Math.max(...Q.verts.map((v) => v.reduce((s, x, k) => s + x * c[k], 0)));
+      expect(byVerts).toBeCloseTo(support(q.A, q.b, c), 7);
+      expect(byVerts).toBeCloseTo(support([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1], a], [1, 1, 1, 1, 1, 1, 0.3], c), 7);
+    }
+  });
+});

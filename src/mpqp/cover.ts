@@ -41,28 +41,33 @@ export interface CoverContext {
 }
 
 const RANK_TOL = 1e-9;
+/** scratch of clipPiece (single-threaded per isolate) */
+let mark = new Int32Array(64);
+/** scratch of rankAtLeast: an orthonormal basis, row by row */
+let basisScratch = new Float64Array(64);
 
 /** True when the rows `ids` of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
 function rankAtLeast(A: Float64Array, ids: readonly number[], dim: number, need: number): boolean {
   if (need <= 0) return true;
-  const basis: Float64Array[] = [];
-  const take = (src: Float64Array, off: number): boolean => {
-    const v = new Float64Array(dim);
-    for (let k = 0; k < dim; k++) v[k] = src[off + k];
-    for (const u of basis) {
-      let s = 0;
-      for (let k = 0; k < dim; k++) s += u[k] * v[k];
-      for (let k = 0; k < dim; k++) v[k] -= s * u[k];
+  if (basisScratch.length < (dim + 1) * dim) basisScratch = new Float64Array(2 * (dim + 1) * dim);
+  const B = basisScratch;
+  let nb = 0;
+  for (const i of ids) {
+    const v = nb * dim;
+    for (let k = 0; k < dim; k++) B[v + k] = A[i * dim + k];
+    for (let q = 0; q < nb; q++) {
+      let d = 0;
+      for (let k = 0; k < dim; k++) d += B[q * dim + k] * B[v + k];
+      for (let k = 0; k < dim; k++) B[v + k] -= d * B[q * dim + k];
     }
     let n = 0;
-    for (let k = 0; k < dim; k++) n += v[k] * v[k];
+    for (let k = 0; k < dim; k++) n += B[v + k] * B[v + k];
     n = Math.sqrt(n);
-    if (n <= RANK_TOL) return false;
-    for (let k = 0; k < dim; k++) v[k] /= n;
-    basis.push(v);
-    return basis.length >= need;
-  };
-  for (const i of ids) if (take(A, i * dim)) return true;
+    if (n <= RANK_TOL) continue;
+    for (let k = 0; k < dim; k++) B[v + k] /= n;
+    if (++nb >= need) return true;
+    if (nb >= dim) return nb >= need;
+  }
   return false;
 }
 
@@ -116,12 +121,21 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
     verts.push(P.verts[v]);
     tight.push(s[v] >= -eps ? [...P.tight[v], k] : P.tight[v]);
   }
+  // rows tight at u marked in `mark` (stamp u + 1): counting the rows shared with w needs no list
+  if (mark.length < P.m) mark = new Int32Array(2 * P.m);
+  mark.fill(0, 0, P.m);
   for (let u = 0; u < nv; u++) {
     if (s[u] >= -eps) continue;
+    const tu = P.tight[u];
+    if (tu.length < dim - 1) continue;
+    for (const i of tu) mark[i] = u + 1;
     for (let w = 0; w < nv; w++) {
       if (s[w] <= eps) continue;
-      const c = common(P.tight[u], P.tight[w]);
-      if (c.length < dim - 1 || !rankAtLeast(A, c, dim, dim - 1)) continue;
+      let shared = 0;
+      for (const i of P.tight[w]) if (mark[i] === u + 1) shared++;
+      if (shared < dim - 1) continue;
+      const c = common(tu, P.tight[w]);
+      if (!rankAtLeast(A, c, dim, dim - 1)) continue;
       const lam = s[u] / (s[u] - s[w]);
       const x = new Float64Array(dim);
       for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);

@@ -14,6 +14,8 @@ export interface LpResult {
   x: Float64Array;
   value: number;
   iterations: number;
+  /** Rows of the final working set (indices into A) of an optimal `lpMaximizeFrom`; its optimal basis when it has n rows. Absent otherwise. */
+  working?: number[];
 }
 
 /** Counts kernel calls (for the statistics in the table and the benchmark). */
@@ -34,10 +36,17 @@ export function lpMaximizeFrom(
 ): LpResult {
   lpCounter.calls++;
   const x = Float64Array.from(x0);
-  const work: number[] = []; // working rows, linearly independent
-  const inWork = new Uint8Array(m);
-  const excluded = skip ?? new Uint8Array(m); // rows left out of this LP are never entered
-  const rowNorm = new Float64Array(m);
+  grow(m, n);
+  const work = scratch.work; // working rows, linearly independent: work[0..k)
+  let k = 0;
+  const inWork = scratch.inWork;
+  inWork.fill(0, 0, m);
+  let excluded = skip; // rows left out of this LP are never entered
+  if (!excluded) {
+    excluded = scratch.none;
+    excluded.fill(0, 0, m);
+  }
+  const rowNorm = scratch.rowNorm;
   for (let i = 0; i < m; i++) {
     let s = 0;
     for (let j = 0; j < n; j++) s += A[i * n + j] * A[i * n + j];
@@ -46,14 +55,13 @@ export function lpMaximizeFrom(
   let cNorm = 0;
   for (let j = 0; j < n; j++) cNorm += c[j] * c[j];
   cNorm = Math.sqrt(cNorm);
-  const d = new Float64Array(n);
+  const d = scratch.d;
   const maxIter = 20 * (m + n) + 50;
   const eps = tol.lpPivot;
   let it = 0;
   for (; it < maxIter; it++) {
     // multipliers μ of c on the working rows (least squares) and the projected direction d = c − A_Wᵀμ
-    const k = work.length;
-    const mu = projectOnRows(A, n, work, c, d);
+    const mu = projectOnRows(A, n, work, k, c, d);
     let dn = 0;
     for (let j = 0; j < n; j++) dn += d[j] * d[j];
     dn = Math.sqrt(dn);
@@ -78,7 +86,7 @@ export function lpMaximizeFrom(
       }
       if (iBest < 0) return { status: 'unbounded', x, value: dot(c, x, n), iterations: it };
       for (let j = 0; j < n; j++) x[j] += tBest * d[j];
-      work.push(iBest);
+      work[k++] = iBest;
       inWork[iBest] = 1;
       continue;
     }
@@ -92,11 +100,13 @@ export function lpMaximizeFrom(
       }
     }
     if (leave < 0) {
-      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal) return { status: 'optimal', x, value: dot(c, x, n), iterations: it };
+      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal)
+        return { status: 'optimal', x, value: dot(c, x, n), iterations: it, working: Array.from(work.subarray(0, k)) };
       break; // round-off drove the iterate out of the polytope: let the reference decide
     }
     inWork[work[leave]] = 0;
-    work.splice(leave, 1);
+    work.copyWithin(leave, leave + 1, k);
+    k--;
   }
   lpCounter.fallbacks++;
   return lpReferenceMasked(c, A, b, m, n, excluded, it);
@@ -165,9 +175,17 @@ export interface ChebyshevBall {
  */
 export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: number, start: Float64Array, rCap: number): ChebyshevBall {
   const n1 = n + 1;
-  const A1 = new Float64Array((m + 1) * n1);
-  const b1 = new Float64Array(m + 1);
-  const x0 = new Float64Array(n1);
+  if (scratch.cheb.length < (m + 1) * n1) scratch.cheb = new Float64Array(Math.max((m + 1) * n1, 2 * scratch.cheb.length));
+  if (scratch.chebB.length < m + 1) scratch.chebB = new Float64Array(Math.max(m + 1, 2 * scratch.chebB.length));
+  if (scratch.chebX.length < n1) {
+    scratch.chebX = new Float64Array(2 * n1);
+    scratch.chebC = new Float64Array(2 * n1);
+  }
+  // the lifted LP lives in the kernel's scratch: views of exactly its size (lpMaximizeFrom copies x0)
+  const A1 = scratch.cheb.subarray(0, (m + 1) * n1);
+  const b1 = scratch.chebB.subarray(0, m + 1);
+  const x0 = scratch.chebX.subarray(0, n1);
+  A1.fill(0);
   x0.set(start.subarray(0, n));
   let rMin = rCap;
   for (let i = 0; i < m; i++) {
@@ -187,7 +205,8 @@ export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: nu
   A1[m * n1 + n] = 1;
   b1[m] = rCap;
   x0[n] = rMin - Math.abs(rMin) * 1e-12 - 1e-300;
-  const c1 = new Float64Array(n1);
+  const c1 = scratch.chebC.subarray(0, n1);
+  c1.fill(0);
   c1[n] = 1;
   const r = lpMaximizeFrom(c1, A1, b1, m + 1, n1, x0);
   return { center: r.x.slice(0, n), radius: r.status === 'optimal' ? r.x[n] : -Infinity };
@@ -199,23 +218,60 @@ function dot(a: ArrayLike<number>, b: ArrayLike<number>, n: number): number {
   return s;
 }
 
-/** Scratch for projectOnRows (grown on demand; the kernel is single-threaded). */
-let gram = new Float64Array(64);
-let rhs = new Float64Array(8);
+/**
+ * Scratch of the kernel, grown on demand and reused by every call: one per module instance, so one
+ * per thread (each worker has its own), and never handed to a caller. Allocating these per call
+ * (and per iteration for μ) was most of the kernel's garbage.
+ */
+const scratch = {
+  m: 0,
+  n: 0,
+  work: new Int32Array(0),
+  inWork: new Uint8Array(0),
+  none: new Uint8Array(0),
+  rowNorm: new Float64Array(0),
+  d: new Float64Array(0),
+  mu: new Float64Array(0),
+  gram: new Float64Array(0),
+  rhs: new Float64Array(0),
+  // chebyshevBall's lifted LP
+  cheb: new Float64Array(0),
+  chebB: new Float64Array(0),
+  chebX: new Float64Array(0),
+  chebC: new Float64Array(0),
+};
+
+function grow(m: number, n: number): void {
+  if (m > scratch.m) {
+    const mm = Math.max(m, 2 * scratch.m, 64);
+    scratch.m = mm;
+    scratch.inWork = new Uint8Array(mm);
+    scratch.none = new Uint8Array(mm);
+    scratch.rowNorm = new Float64Array(mm);
+  }
+  if (n > scratch.n) {
+    const nn = Math.max(n, 2 * scratch.n, 8);
+    scratch.n = nn;
+    scratch.work = new Int32Array(nn);
+    scratch.d = new Float64Array(nn);
+    scratch.mu = new Float64Array(nn);
+    scratch.gram = new Float64Array(nn * nn);
+    scratch.rhs = new Float64Array(nn);
+  }
+}
 
 /**
  * Least-squares multipliers μ with c ≈ A_Wᵀ μ (normal equations, W small and independent) and the
  * residual direction d = c − A_Wᵀ μ written into `d`; one refinement pass with the same factor
- * keeps d orthogonal to the working rows despite round-off.
+ * keeps d orthogonal to the working rows despite round-off. μ is the kernel's scratch (k entries).
  */
-function projectOnRows(A: Float64Array, n: number, work: number[], c: Float64Array, d: Float64Array): Float64Array {
-  const k = work.length;
-  const mu = new Float64Array(k);
+function projectOnRows(A: Float64Array, n: number, work: Int32Array, k: number, c: Float64Array, d: Float64Array): Float64Array {
+  const mu = scratch.mu;
+  mu.fill(0, 0, k);
   for (let j = 0; j < n; j++) d[j] = c[j];
   if (k === 0) return mu;
-  if (gram.length < k * k) gram = new Float64Array(k * k * 2);
-  if (rhs.length < k) rhs = new Float64Array(k * 2);
-  const g = gram;
+  const g = scratch.gram;
+  const rhs = scratch.rhs;
   for (let p = 0; p < k; p++)
     for (let q = 0; q <= p; q++) {
       let s = 0;

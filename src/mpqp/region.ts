@@ -3,6 +3,7 @@ import { qpWorkspace } from './pointqp.js';
 import { spdInverse } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
+import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 
 export type RegionFailure = 'licq' | 'empty' | 'flat';
 /** An axis-aligned box that holds the region (not stored in the table; feeds the exploration's spatial index). */
@@ -212,7 +213,13 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
  * 2. The bounding box of the polytope of those sure rows (and the box rows) by 2·nθ small LPs
  *    holds the region; a row whose maximum over that box is within its bound is redundant, no LP.
  *    The same box is the region's bounding box for the spatial index.
- * 3. One LP over the live rows for each row left.
+ *    A box side whose objective lies in the normal cone of an earlier side's optimal basis (whose
+ *    vertex keeps every row of this LP) takes that vertex without an LP (LP duality).
+ * 3. For each row left, LP-free proofs first (prefilter.ts): a live row with nearly the same normal
+ *    bounds it over the box, or the optimal basis of an LP solved earlier for this region proves it
+ *    by weak duality; only rows no proof settles get one LP over the live rows, whose basis joins
+ *    the proofs. Proofs only ever drop a row, and only by a bound ≥ the LP's own value, so the rows
+ *    kept are those the LPs alone keep (the `lp: 'reference'` path runs without them).
  */
 function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } {
   const alive = new Uint8Array(m).fill(1);
@@ -266,19 +273,71 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // box side ends exact, with one LP per side plus one per facet found this way.
   const skip = new Uint8Array(m);
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
+  // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)
+  const bases: { W: Int32Array; x: Float64Array }[] = [];
+  const keepBasis = (res: { working?: number[]; x: Float64Array }): void => {
+    if (res.working && res.working.length === nt) bases.push({ W: Int32Array.from(res.working), x: res.x.slice(0, nt) });
+  };
+  const scratch = prefilterScratch(nt);
+  /** a proof without LP that row r is implied by the live rows other than r (prefilter.ts), or false */
+  const provenRedundant = (r: number): boolean => {
+    const ar = Af.subarray(r * nt, (r + 1) * nt);
+    const br = bf[r] + tol.redundancy;
+    for (let q = 0; q < m; q++) {
+      if (q === r || !alive[q]) continue;
+      let d = 0;
+      for (let j = 0; j < nt; j++) d += Math.abs(ar[j] - Af[q * nt + j]);
+      if (d < 1e-3 && parallelBound(ar, Af, bf, q, nt, bbLo, bbHi) <= br) return true;
+    }
+    for (let k = bases.length - 1; k >= 0; k--) {
+      const { W, x } = bases[k];
+      let ok = true;
+      for (let i = 0; i < nt && ok; i++) ok = alive[W[i]] === 1 && W[i] !== r;
+      if (!ok) continue;
+      let ax = 0;
+      for (let j = 0; j < nt; j++) ax += ar[j] * x[j];
+      if (ax > br) continue; // the basis's vertex breaks the row: this basis cannot prove it
+      if (farkasBound(ar, Af, bf, W, nt, bbLo, bbHi, scratch) <= br) return true;
+    }
+    return false;
+  };
   const bbLo = Float64Array.from(lo);
   const bbHi = Float64Array.from(up);
   const c = new Float64Array(nt);
+  /**
+   * A box side without LP: an earlier optimal basis W of rows kept in this LP whose vertex satisfies
+   * every kept row and whose normal cone holds c is optimal for c too (LP duality); its vertex is the
+   * maximiser and the certificate's bound the value.
+   */
+  const sideFromBases = (cv: Float64Array, skipped: Uint8Array): { status: 'optimal'; x: Float64Array; value: number } | null => {
+    for (let k = bases.length - 1; k >= 0; k--) {
+      const { W, x } = bases[k];
+      let ok = true;
+      for (let i = 0; i < nt && ok; i++) ok = skipped[W[i]] === 0;
+      for (let q = 0; q < m && ok; q++) {
+        if (skipped[q]) continue;
+        let s = -bf[q];
+        for (let j = 0; j < nt; j++) s += Af[q * nt + j] * x[j];
+        ok = s <= tol.primal;
+      }
+      if (!ok) continue;
+      const bound = farkasBound(cv, Af, bf, W, nt, bbLo, bbHi, scratch);
+      if (bound < Infinity) return { status: 'optimal', x, value: bound };
+    }
+    return null;
+  };
   for (let j = 0; j < nt; j++)
     for (const sgn of [1, -1]) {
       c.fill(0);
       c[j] = sgn;
       let value = Infinity;
       for (let round = 0; round <= m; round++) {
-        lp.lps++;
-        const res = lp.reference ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0) : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
+        const known = lp.reference ? null : sideFromBases(c, skip);
+        if (!known) lp.lps++;
+        const res = known ?? (lp.reference ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0) : lpMaximizeFrom(c, Af, bf, m, nt, center, skip));
         if (res.status !== 'optimal') break;
         value = res.value;
+        if (!known) keepBasis(res);
         for (let q = 0; q < nt; q++) dir[q] = res.x[q] - center[q];
         let first = -1;
         let tFirst = 1 - 1e-12;
@@ -314,6 +373,10 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   }
   for (let r = 0; r < m; r++) {
     if (sure[r] || !alive[r]) continue;
+    if (!lp.reference && provenRedundant(r)) {
+      alive[r] = 0;
+      continue;
+    }
     for (let q = 0; q < m; q++) skip[q] = alive[q] ? 0 : 1;
     skip[r] = 1;
     for (let j = 0; j < nt; j++) c[j] = Af[r * nt + j];
@@ -321,6 +384,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     const res = lp.reference
       ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0)
       : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
+    if (res.status === 'optimal') keepBasis(res);
     if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
   }
   return { alive, bbox: { lo: bbLo, hi: bbHi } };

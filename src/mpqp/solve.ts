@@ -135,8 +135,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    * skipped, a copy of a known region under another active set maps to it; the rest are added with
    * empty neighbour lists (those held indices of the sender). Owned ones not yet covered are queued.
    */
-  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[]): void {
-    for (const { region: R, box } of list) {
+  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> }; from?: string }[]): void {
+    for (const { region: R, box, from } of list) {
       const key = R.activeSet.join(',');
       if (byActiveSet.has(key)) continue;
       let id = locate(R.chebyshev.center, -0.5 * R.chebyshev.radius);
@@ -149,10 +149,15 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         grid.add(R.A, R.b, bb.lo, bb.hi);
       }
       byActiveSet.set(key, id);
+      // the region it was found from touches it: known neighbours seed the covering (as after a landing here)
+      const parent = from === undefined ? undefined : byActiveSet.get(from);
+      if (parent !== undefined && parent >= 0) link(parent, id);
       if (owns(key) && !done.has(key)) pending.push({ id, key });
     }
   }
 
+  /** the region whose facet is being crossed (announced with the regions found from it) */
+  let crossing: CriticalRegion | null = null;
   const addRegion = (activeSet: number[], key: string): number => {
     const lp0 = lp.lps;
     const res = buildRegion(problem, activeSet, lp, options.lean);
@@ -173,7 +178,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
     if (owns(key)) pending.push({ id, key });
-    share?.found(regions[id], res.bbox);
+    share?.found(regions[id], res.bbox, crossing?.activeSet.join(','));
     report();
     return id;
   };
@@ -429,6 +434,15 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    */
   function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
     work.landings++;
+    crossing = R;
+    try {
+      return landFrom(R, f, facet, piece);
+    } finally {
+      crossing = null;
+    }
+  }
+
+  function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
     const guess = fi.kind === 'primal' ? [...R.activeSet, fi.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== fi.row);

@@ -130,21 +130,34 @@ export interface ExplorationState {
  * Every exploration builds regions as it goes and announces them; each covers the facets only of
  * the regions it owns (every key is owned by exactly one). Calls are synchronous.
  */
+/** A region announced by another exploration (see `ShareChannel.receive`). */
+export interface SharedRegion {
+  region: CriticalRegion;
+  box: { lo: ArrayLike<number>; hi: ArrayLike<number> };
+  from?: string;
+}
+
 export interface ShareChannel {
   /** true for the one exploration that looks for the first region */
   seeds: boolean;
   /** whether this exploration covers the facets of the region with this active-set key */
   owns(key: string): boolean;
-  /** a region this exploration built (new to it), with a box holding it */
-  found(region: CriticalRegion, box: { lo: ArrayLike<number>; hi: ArrayLike<number> }): void;
+  /**
+   * a region this exploration built (new to it), with a box holding it, and the key of the region
+   * whose facet it was crossing when it landed there (the two touch), if any
+   */
+  found(region: CriticalRegion, box: { lo: ArrayLike<number>; hi: ArrayLike<number> }, from?: string): void;
   /** the first region has been looked for (called once, by every exploration) */
   seeded(): void;
   /** the facets of the region with this key are covered */
   processed(key: string): void;
-  /** regions the others found since the last call (often none) */
-  receive(): { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[];
+  /**
+   * regions the others found since the last call (often none); `from` as given to `found`. Only
+   * activeSet, A, b, facets (kind, row) and chebyshev are read from a received region.
+   */
+  receive(): SharedRegion[];
   /** block until the others found regions, or return null when every region of every exploration is processed */
-  wait(): { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[] | null;
+  wait(): SharedRegion[] | null;
 }
 
 export interface Progress {

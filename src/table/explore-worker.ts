@@ -5,30 +5,51 @@
  */
 import { parentPort, receiveMessageOnPort, workerData } from 'node:worker_threads';
 import { solvePartition } from '../mpqp/solve.js';
-import type { CriticalRegion, ShareChannel } from '../mpqp/types.js';
-import { ownerOf, type ExploreWorkerData, type ExploreWorkerMessage } from './threads.js';
+import type { ShareChannel } from '../mpqp/types.js';
+import { ownerOf, type ExploreRelay, type ExploreWorkerData, type ExploreWorkerEvent, type ExploreWorkerMessage } from './threads.js';
 
 const d = workerData as ExploreWorkerData;
 const W = d.count;
-const post = (m: ExploreWorkerMessage): void => parentPort!.postMessage(m);
-type Incoming = { region: CriticalRegion; box: { lo: number[]; hi: number[] } };
-const drain = (): Incoming[] => {
-  const out: Incoming[] = [];
+/**
+ * Events wait here until the next flush (one message instead of one per event): when a region is
+ * covered, before waiting, at the end, and at the latest 50 ms after the last flush.
+ */
+const outbox: ExploreWorkerEvent[] = [];
+let lastFlush = performance.now();
+const flush = (): void => {
+  lastFlush = performance.now();
+  if (outbox.length) parentPort!.postMessage({ type: 'batch', events: outbox.splice(0) } satisfies ExploreWorkerMessage);
+};
+const queue = (ev: ExploreWorkerEvent): void => {
+  outbox.push(ev);
+  if (performance.now() - lastFlush >= 50) flush();
+};
+const drain = (): ExploreRelay => {
+  const out: ExploreRelay = [];
   for (;;) {
     const m = receiveMessageOnPort(d.port);
     if (!m) return out;
-    out.push(m.message as Incoming);
+    for (const item of m.message as ExploreRelay) out.push(item);
   }
 };
 const stopped = (): boolean => Atomics.load(d.signal, W + 1) === 1;
 const share: ShareChannel = {
   seeds: d.index === 0 && !(d.resume && d.resume.regions.length > 0),
   owns: (key) => ownerOf(key, W) === d.index,
-  found: (region, box) => post({ type: 'found', region, box: { lo: Array.from(box.lo), hi: Array.from(box.hi) } }),
-  seeded: () => post({ type: 'seeded' }),
-  processed: (key) => post({ type: 'processed', key }),
+  found: (region, box, from) => {
+    queue({ type: 'found', region, box: { lo: Array.from(box.lo), hi: Array.from(box.hi) }, from });
+  },
+  seeded: () => {
+    outbox.push({ type: 'seeded' });
+    flush();
+  },
+  processed: (key) => {
+    outbox.push({ type: 'processed', key });
+    flush();
+  },
   receive: drain,
   wait: () => {
+    flush();
     for (;;) {
       const v = Atomics.load(d.signal, d.index);
       const got = drain();
@@ -43,6 +64,7 @@ const p = solvePartition(d.mpqp, {
   resume: d.resume ?? undefined,
   share,
   shouldStop: stopped,
-  onProgress: d.progress ? (progress) => post({ type: 'progress', progress }) : undefined,
+  onProgress: d.progress ? (progress) => queue({ type: 'progress', progress }) : undefined,
 });
-post({ type: 'done', stats: p.stats, work: p.work! });
+flush();
+parentPort!.postMessage({ type: 'done', stats: p.stats, work: p.work! } satisfies ExploreWorkerMessage);

@@ -31,13 +31,27 @@ export interface ExploreWorkerData {
   resume: ExplorationState | null;
 }
 
-/** Messages from a worker. */
-export type ExploreWorkerMessage =
-  | { type: 'found'; region: CriticalRegion; box: { lo: number[]; hi: number[] } }
+/** One event of a worker, in the order it happened. */
+export type ExploreWorkerEvent =
+  | { type: 'found'; region: CriticalRegion; box: { lo: number[]; hi: number[] }; from?: string }
   | { type: 'seeded' }
   | { type: 'processed'; key: string }
-  | { type: 'progress'; progress: Progress }
-  | { type: 'done'; stats: PartitionStats; work: ExplorationWork };
+  | { type: 'progress'; progress: Progress };
+
+/**
+ * Messages from a worker: events go in batches (a worker sends its events when it finishes
+ * covering a region, before it waits and before it ends, so a region is still announced before
+ * the region that led to it is reported covered), then one `done`.
+ */
+export type ExploreWorkerMessage = { type: 'batch'; events: ExploreWorkerEvent[] } | { type: 'done'; stats: PartitionStats; work: ExplorationWork };
+
+/** What the main thread relays to a worker: regions new to it, without the move sequence and value function (a worker only locates and covers). */
+export type ExploreRelay = { region: CriticalRegion; box: { lo: number[]; hi: number[] }; from?: string }[];
+
+/** The fields of a region a worker reads (see `ShareChannel.receive`). */
+function slim(R: CriticalRegion): CriticalRegion {
+  return { id: R.id, activeSet: R.activeSet, A: R.A, b: R.b, facets: R.facets, chebyshev: R.chebyshev, law: R.law };
+}
 
 /** A running exploration: its result, and the two things the caller may do meanwhile. */
 export interface ThreadedExploration {
@@ -166,37 +180,44 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       : new Worker(url, { workerData: data, transferList: [port2] });
     workers.push(worker);
     worker.on('message', (msg: ExploreWorkerMessage) => {
-      if (msg.type === 'found') {
-        const key = msg.region.activeSet.join(',');
-        if (found.has(key)) return;
-        found.set(key, { region: msg.region, box: msg.box });
-        for (let v = 0; v < W; v++) {
-          if (v === w) continue;
-          ports[v].postMessage({ region: msg.region, box: msg.box });
-          Atomics.add(signal, v, 1);
-          Atomics.notify(signal, v);
-        }
-      } else if (msg.type === 'seeded') {
-        seeded++;
-        maybeAllDone();
-      } else if (msg.type === 'processed') {
-        processed.add(msg.key);
-        maybeAllDone();
-      } else if (msg.type === 'progress') {
-        latest[w] = msg.progress;
-        const now = performance.now();
-        if (options.onProgress && now - lastReport >= 100) {
-          lastReport = now;
-          let candidates = 0;
-          let lps = 0;
-          let qps = 0;
-          for (const p of latest) {
-            candidates += p?.candidates ?? 0;
-            lps += p?.lps ?? 0;
-            qps += p?.qps ?? 0;
+      if (msg.type === 'batch') {
+        const relay: ExploreRelay = [];
+        for (const ev of msg.events) {
+          if (ev.type === 'found') {
+            const key = ev.region.activeSet.join(',');
+            if (found.has(key)) continue;
+            found.set(key, { region: ev.region, box: ev.box });
+            relay.push({ region: slim(ev.region), box: ev.box, from: ev.from });
+          } else if (ev.type === 'seeded') {
+            seeded++;
+          } else if (ev.type === 'processed') {
+            processed.add(ev.key);
+          } else if (ev.type === 'progress') {
+            latest[w] = ev.progress;
+            const now = performance.now();
+            if (options.onProgress && now - lastReport >= 100) {
+              lastReport = now;
+              let candidates = 0;
+              let lps = 0;
+              let qps = 0;
+              for (const p of latest) {
+                candidates += p?.candidates ?? 0;
+                lps += p?.lps ?? 0;
+                qps += p?.qps ?? 0;
+              }
+              options.onProgress({ candidates, regions: found.size, lps, qps, elapsedSeconds: (now - t0) / 1000 });
+            }
           }
-          options.onProgress({ candidates, regions: found.size, lps, qps, elapsedSeconds: (now - t0) / 1000 });
         }
+        // relay before checking for the end: a worker waiting for regions must get them first
+        if (relay.length)
+          for (let v = 0; v < W; v++) {
+            if (v === w) continue;
+            ports[v].postMessage(relay);
+            Atomics.add(signal, v, 1);
+            Atomics.notify(signal, v);
+          }
+        maybeAllDone();
       } else if (msg.type === 'done') {
         finished[w] = { stats: msg.stats, work: msg.work };
         if (!msg.stats.complete && firstStop === null) {

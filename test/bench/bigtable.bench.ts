@@ -15,6 +15,7 @@
  *    and written; then `evaluate` reads it back and evaluates 10⁶ points, `map` draws a slice,
  *    `emit` writes C (double, box tree). Target: every stage after the solve within 2 GB. Set
  *    TESSERA_BENCH_BIG_REGIONS=20000 for a run of a few minutes.
+ * TESSERA_BENCH_ONLY=evaluate (or sizes, big, comma-separated) runs only those sections.
  * CPU seconds are printed beside wall seconds: the machine is shared, and CPU time is the fairer
  * figure under load (still inflated by contention).
  */
@@ -220,8 +221,10 @@ function bigTable(): void {
 }
 
 export async function run(): Promise<void> {
+  // TESSERA_BENCH_ONLY=sizes,evaluate,big runs only those sections (default: all three)
+  const only = (process.env.TESSERA_BENCH_ONLY ?? 'sizes,evaluate,big').split(',');
   console.log(`load average ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);
-  sizes();
-  evaluateBench();
-  bigTable();
+  if (only.includes('sizes')) sizes();
+  if (only.includes('evaluate')) evaluateBench();
+  if (only.includes('big')) bigTable();
 }

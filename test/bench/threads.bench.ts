@@ -14,6 +14,7 @@
  * TESSERA_BENCH_THREADS_REGIONS bounds each run (default 1500), TESSERA_BENCH_REPS the pairs (default 3).
  */
 import { join } from 'node:path';
+import { loadavg } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
@@ -53,6 +54,7 @@ async function machine(kind: 'arithmetic' | 'allocation'): Promise<number> {
 async function paired(name: string, mpqp: MpqpProblem): Promise<void> {
   const times: Record<number, number[]> = { 1: [], 2: [] };
   const bytes: Record<number, string> = {};
+  const work: Record<number, string> = {};
   let regions = 0;
   for (let r = 0; r < reps; r++)
     for (const n of [1, 2]) {
@@ -60,6 +62,7 @@ async function paired(name: string, mpqp: MpqpProblem): Promise<void> {
       const p = await exploreThreaded(mpqp, { threads: n, maxRegions }).result;
       times[n].push((performance.now() - t) / 1000);
       regions = p.stats.regions;
+      work[n] = `cand/region ${(p.stats.candidates / regions).toFixed(2)} landings/region ${((p.work?.landings ?? 0) / regions).toFixed(2)}`;
       if (p.stats.complete) bytes[n] = JSON.stringify(joinPartitions(mpqp, [p]).regions);
     }
   const s1 = median(times[1]);
@@ -68,6 +71,7 @@ async function paired(name: string, mpqp: MpqpProblem): Promise<void> {
   console.log(
     `  ${name.padEnd(14)} ${String(regions).padStart(6)} regions  1 thread ${s1.toFixed(2).padStart(7)} s  2 threads ${s2.toFixed(2).padStart(7)} s  speed-up ${(s1 / s2).toFixed(2)}  same bytes: ${same}`,
   );
+  console.log(`  ${''.padEnd(14)} 1 thread: ${work[1]}; 2 threads: ${work[2]} (duplicated builds and extra landings are the threads' own overhead)`);
 }
 
 function parts(name: string, mpqp: MpqpProblem): void {
@@ -84,10 +88,13 @@ function parts(name: string, mpqp: MpqpProblem): void {
 }
 
 export async function run(): Promise<void> {
+  const load = (): string => loadavg().map((x) => x.toFixed(1)).join(' ');
   console.log('Threads bench. The machine has 2 cores shared with other jobs: compare the ratios, and read them against the machine check.');
+  console.log(`load average at the start: ${load()} (a speed-up means something only near idle: below ~1)`);
   console.log(`machine check, 2 workers vs 1 (same work): arithmetic ${(await machine('arithmetic')).toFixed(2)}×, typed-array allocation ${(await machine('allocation')).toFixed(2)}×`);
   console.log(`exploration, 1 vs 2 threads, paired and alternated, median of ${reps}, at most ${maxRegions} regions:`);
   for (const name of ['boom-4d-n8', 'glider-2d-n40', 'mixer-5d-n10']) await paired(name, buildMpqp(loadProblem(join(dir, `${name}.json`))));
+  console.log(`load average after the explorations: ${load()}`);
   console.log('parts (--part i/k), whole problems:');
   for (const name of ['boom-4d-n8']) parts(name, buildMpqp(loadProblem(join(dir, `${name}.json`))));
 }

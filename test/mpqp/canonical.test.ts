@@ -8,6 +8,7 @@ import { makeTable } from '../../src/table/build.js';
 import { tableToJson } from '../../src/table/table.js';
 import { evaluateTable } from '../../src/table/table.js';
 import { formulate } from '../../src/formulation/index.js';
+import { parseProblem, solveProblem } from '../../src/index.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 import { exploreThreaded } from '../../src/table/threads.js';
 
@@ -98,6 +99,65 @@ describe('canonical order and neighbours', () => {
       );
     }
     expect(judged).toBeGreaterThan(100);
+  });
+});
+
+describe('canonical neighbours where many facets share one line', () => {
+  // A bank of 22 independent saturating channels over a 2-D θ (invented): the regions are the
+  // cells of an arrangement of 44 lines, so up to ~70 facets lie on one line — the clusters that
+  // canonicalNeighbours sweeps along an axis instead of comparing pair by pair. Reference: exact
+  // clipping of facet segments, written out below (common practice).
+  it('2-D arrangement: the listed neighbours of every facet are exactly the regions sharing a piece of it', () => {
+    const m = 22;
+    const rnd = rng(515);
+    const eye = (i: number, v: number) => Array.from({ length: m }, (_, j) => (i === j ? v : 0));
+    const H: number[][] = [];
+    const F: number[][] = [];
+    const G: number[][] = [];
+    const w: number[] = [];
+    const E: number[][] = [];
+    for (let i = 0; i < m; i++) {
+      H.push(eye(i, 1));
+      const ang = Math.PI * rnd();
+      F.push([-Math.cos(ang), -Math.sin(ang)]);
+      const c = (rnd() - 0.5) * 1.2;
+      const half = 0.15 + 0.5 * rnd();
+      G.push(eye(i, 1), eye(i, -1));
+      w.push(c + half, -(c - half));
+      E.push([0, 0], [0, 0]);
+    }
+    const raw = { name: 'channels', mpqp: { H, F, G, w, E, outputs: 1 }, parameters: { lower: [-1, -1], upper: [1, 1] } };
+    const table = solveProblem(parseProblem(raw, 'channels.json')).table;
+    const regs = table.regions;
+    // facets per line (rows rounded, orientation removed): the largest clusters pass 64
+    const perLine = new Map<string, number>();
+    for (const R of regs)
+      R.facets.forEach((f, q) => {
+        if (f.kind === 'box') return;
+        const sg = R.A[q][0] < 0 || (R.A[q][0] === 0 && R.A[q][1] < 0) ? -1 : 1;
+        const key = [R.A[q][0] * sg, R.A[q][1] * sg, R.b[q] * sg].map((x) => x.toFixed(5)).join(',');
+        perLine.set(key, (perLine.get(key) ?? 0) + 1);
+      });
+    expect(Math.max(...perLine.values())).toBeGreaterThan(64);
+    let judged = 0;
+    // every third region's facets against every region (the literal check is quadratic)
+    regs.forEach((R, r) =>
+      R.facets.forEach((f, q) => {
+        if (f.kind === 'box' || r % 3 !== 0) return;
+        const seg = segmentOf(R, q, R);
+        if (!seg) return;
+        for (let s = 0; s < regs.length; s++) {
+          if (s === r) continue;
+          const len = clipLength(seg, regs[s]);
+          const listed = f.neighbours.includes(s);
+          if (len > 4e-6) {
+            judged++;
+            expect(listed, `region ${r} facet ${q}: region ${s} shares ${len}`).toBe(true);
+          } else if (len < 1e-6) expect(listed, `region ${r} facet ${q}: region ${s} shares only ${len}`).toBe(false);
+        }
+      }),
+    );
+    expect(judged).toBeGreaterThan(500);
   });
 });
 

@@ -58,7 +58,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const coverEps = 1e-9 * Math.max(1, scale);
   /** the vertex list of the facet being covered (dim ≥ 2), null when it has none */
   let facetPiece: CoverPiece | null = null;
-  const lp: LpEngine = { lps: 0, reference: options.lp === 'reference' };
+  const lp: LpEngine = { lps: 0, reference: options.lp === 'reference', proofs: options.strategy?.proofs ?? true };
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
   const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 };

@@ -340,7 +340,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     if (facet.dim >= 2 && facetPiece) {
       const ctx: CoverContext = { dim: facet.dim, eps: coverEps, maxVerts: 4000 };
       let cur: CoverPiece | null | 'fail' = facetPiece;
-      for (let i = 0; i < s.m && cur && cur !== 'fail'; i++) cur = clipPiece(cur, s.A.subarray(i * facet.dim, (i + 1) * facet.dim), s.b[i], ctx);
+      for (let i = 0; i < s.m && cur && cur !== 'fail'; i++) cur = clipPiece(cur, s.A, s.b[i], ctx, true, i * facet.dim);
       if (cur === null) return false;
       if (cur !== 'fail') {
         if (cur.widthBound <= minPiece) return false;
@@ -399,7 +399,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (!(centre.radius > 10 * minPiece)) {
         lp.lps++;
         work.coverLps++;
-        const ball = chebyshevBall(P.A, P.b, P.m, dim, centre.point, 1e6);
+        const ball = chebyshevBall(Float64Array.from(P.A), Float64Array.from(P.b), P.m, dim, centre.point, 1e6);
         if (!(ball.radius > minPiece)) {
           pieces.splice(best, 1);
           cover.thinPieces++;

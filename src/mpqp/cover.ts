@@ -21,11 +21,11 @@
 /** A convex piece of a facet in the facet's own coordinates (dim ≥ 2). Arrays owned by the piece. */
 export interface CoverPiece {
   /** rows, m × dim, unit length */
-  A: Float64Array;
-  b: Float64Array;
+  A: number[];
+  b: number[];
   m: number;
   /** vertices (each dim long) and, per vertex, the ascending indices of the rows tight there */
-  verts: Float64Array[];
+  verts: number[][];
   tight: number[][];
   /** an upper bound on the Chebyshev radius: half the least width across one of the piece's rows */
   widthBound: number;
@@ -41,28 +41,35 @@ export interface CoverContext {
 }
 
 const RANK_TOL = 1e-9;
+/** scratch of clipPiece (single-threaded per isolate) */
+let mark = new Int32Array(64);
+/** scratch of rankAtLeast: an orthonormal basis, row by row */
+let basisScratch = new Float64Array(64);
+/** scratch of clipPiece: each vertex's residual on the cutting row */
+let sScratch = new Float64Array(64);
 
 /** True when the rows `ids` of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
-function rankAtLeast(A: Float64Array, ids: readonly number[], dim: number, need: number): boolean {
+function rankAtLeast(A: ArrayLike<number>, ids: readonly number[], dim: number, need: number): boolean {
   if (need <= 0) return true;
-  const basis: Float64Array[] = [];
-  const take = (src: Float64Array, off: number): boolean => {
-    const v = new Float64Array(dim);
-    for (let k = 0; k < dim; k++) v[k] = src[off + k];
-    for (const u of basis) {
-      let s = 0;
-      for (let k = 0; k < dim; k++) s += u[k] * v[k];
-      for (let k = 0; k < dim; k++) v[k] -= s * u[k];
+  if (basisScratch.length < (dim + 1) * dim) basisScratch = new Float64Array(2 * (dim + 1) * dim);
+  const B = basisScratch;
+  let nb = 0;
+  for (const i of ids) {
+    const v = nb * dim;
+    for (let k = 0; k < dim; k++) B[v + k] = A[i * dim + k];
+    for (let q = 0; q < nb; q++) {
+      let d = 0;
+      for (let k = 0; k < dim; k++) d += B[q * dim + k] * B[v + k];
+      for (let k = 0; k < dim; k++) B[v + k] -= d * B[q * dim + k];
     }
     let n = 0;
-    for (let k = 0; k < dim; k++) n += v[k] * v[k];
+    for (let k = 0; k < dim; k++) n += B[v + k] * B[v + k];
     n = Math.sqrt(n);
-    if (n <= RANK_TOL) return false;
-    for (let k = 0; k < dim; k++) v[k] /= n;
-    basis.push(v);
-    return basis.length >= need;
-  };
-  for (const i of ids) if (take(A, i * dim)) return true;
+    if (n <= RANK_TOL) continue;
+    for (let k = 0; k < dim; k++) B[v + k] /= n;
+    if (++nb >= need) return true;
+    if (nb >= dim) return nb >= need;
+  }
   return false;
 }
 
@@ -82,20 +89,21 @@ function common(x: readonly number[], y: readonly number[]): number[] {
 }
 
 /**
- * The piece P ∩ {a·y ≤ t} (a unit length): P itself when every vertex satisfies the row within
+ * The piece P ∩ {a·y ≤ t} (a = a[off .. off + dim), unit length): P itself when every vertex satisfies the row within
  * eps (the row is then not added), null when the cut leaves nothing full-dimensional (every vertex
  * on or beyond the plane), or 'fail' when the vertex list fails a check. New arrays; P untouched.
  */
-export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true): CoverPiece | null | 'fail' {
+export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true, off = 0): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
   const nv = P.verts.length;
-  const s = new Float64Array(nv);
+  if (sScratch.length < nv) sScratch = new Float64Array(2 * nv);
+  const s = sScratch;
   let anyOut = false;
   let anyIn = false;
   for (let v = 0; v < nv; v++) {
     const x = P.verts[v];
     let d = -t;
-    for (let k = 0; k < dim; k++) d += a[k] * x[k];
+    for (let k = 0; k < dim; k++) d += a[off + k] * x[k];
     s[v] = d;
     if (d > eps) anyOut = true;
     if (d < -eps) anyIn = true;
@@ -103,27 +111,35 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
   if (!anyOut) return P;
   if (!anyIn) return null;
   const k = P.m; // index of the new row
-  const A = new Float64Array((P.m + 1) * dim);
-  A.set(P.A);
-  for (let j = 0; j < dim; j++) A[k * dim + j] = a[j];
-  const b = new Float64Array(P.m + 1);
-  b.set(P.b);
-  b[k] = t;
-  const verts: Float64Array[] = [];
+  // plain arrays: typed-array allocation dominated this function (rows and vertices are small)
+  const A = P.A.slice();
+  for (let j = 0; j < dim; j++) A.push(a[off + j]);
+  const b = P.b.slice();
+  b.push(t);
+  const verts: number[][] = [];
   const tight: number[][] = [];
   for (let v = 0; v < nv; v++) {
     if (s[v] > eps) continue;
     verts.push(P.verts[v]);
     tight.push(s[v] >= -eps ? [...P.tight[v], k] : P.tight[v]);
   }
+  // rows tight at u marked in `mark` (stamp u + 1): counting the rows shared with w needs no list
+  if (mark.length < P.m) mark = new Int32Array(2 * P.m);
+  mark.fill(0, 0, P.m);
   for (let u = 0; u < nv; u++) {
     if (s[u] >= -eps) continue;
+    const tu = P.tight[u];
+    if (tu.length < dim - 1) continue;
+    for (const i of tu) mark[i] = u + 1;
     for (let w = 0; w < nv; w++) {
       if (s[w] <= eps) continue;
-      const c = common(P.tight[u], P.tight[w]);
-      if (c.length < dim - 1 || !rankAtLeast(A, c, dim, dim - 1)) continue;
+      let shared = 0;
+      for (const i of P.tight[w]) if (mark[i] === u + 1) shared++;
+      if (shared < dim - 1) continue;
+      const c = common(tu, P.tight[w]);
+      if (!rankAtLeast(A, c, dim, dim - 1)) continue;
       const lam = s[u] / (s[u] - s[w]);
-      const x = new Float64Array(dim);
+      const x = new Array<number>(dim);
       for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);
       c.push(k);
       // a crossing point within eps of one found before (numerical near-degeneracy): one vertex
@@ -150,7 +166,7 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
  * Drop rows tight at fewer than dim vertices (not facets), renumber, check every vertex has tight
  * rows of rank dim, and bound the Chebyshev radius by the least width.
  */
-function finish(A: Float64Array, b: Float64Array, m: number, verts: Float64Array[], tight: number[][], ctx: CoverContext): CoverPiece | null | 'fail' {
+function finish(A: number[], b: number[], m: number, verts: number[][], tight: number[][], ctx: CoverContext): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
   if (verts.length < dim + 1) return null;
   const V = verts;
@@ -161,8 +177,8 @@ function finish(A: Float64Array, b: Float64Array, m: number, verts: Float64Array
   const map = new Int32Array(m).fill(-1);
   let mm = 0;
   for (let i = 0; i < m; i++) if (count[i] >= dim) map[i] = mm++;
-  const A2 = new Float64Array(mm * dim);
-  const b2 = new Float64Array(mm);
+  const A2 = new Array<number>(mm * dim);
+  const b2 = new Array<number>(mm);
   for (let i = 0; i < m; i++) {
     if (map[i] < 0) continue;
     for (let k = 0; k < dim; k++) A2[map[i] * dim + k] = A[i * dim + k];
@@ -198,18 +214,18 @@ function finish(A: Float64Array, b: Float64Array, m: number, verts: Float64Array
 export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: ArrayLike<number>, hi: ArrayLike<number>, ctx: CoverContext): CoverPiece | null | 'fail' {
   const { dim } = ctx;
   // the box: rows 2k (y_k ≤ hi_k) and 2k+1 (−y_k ≤ −lo_k); vertex bits pick lo or hi
-  const BA = new Float64Array(2 * dim * dim);
-  const Bb = new Float64Array(2 * dim);
+  const BA = new Array<number>(2 * dim * dim).fill(0);
+  const Bb = new Array<number>(2 * dim).fill(0);
   for (let k = 0; k < dim; k++) {
     BA[2 * k * dim + k] = 1;
     Bb[2 * k] = hi[k];
     BA[(2 * k + 1) * dim + k] = -1;
     Bb[2 * k + 1] = -lo[k];
   }
-  const verts: Float64Array[] = [];
+  const verts: number[][] = [];
   const tight: number[][] = [];
   for (let mask = 0; mask < 1 << dim; mask++) {
-    const x = new Float64Array(dim);
+    const x = new Array<number>(dim);
     const t: number[] = [];
     for (let k = 0; k < dim; k++) {
       const up = (mask >> k) & 1;
@@ -221,7 +237,7 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   }
   let P: CoverPiece = { A: BA, b: Bb, m: 2 * dim, verts, tight, widthBound: Infinity };
   for (let i = 0; i < m; i++) {
-    const r = clipPiece(P, A.subarray(i * dim, (i + 1) * dim), b[i], ctx, false);
+    const r = clipPiece(P, A, b[i], ctx, false, i * dim);
     if (r === null || r === 'fail') return r;
     P = r;
   }
@@ -259,9 +275,8 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
   const out: CoverPiece[] = [];
   let cur: CoverPiece = P;
   for (const { i } of depth) {
-    const row = SA.subarray(i * dim, (i + 1) * dim);
-    const flipped = new Float64Array(dim);
-    for (let k = 0; k < dim; k++) flipped[k] = -row[k];
+    const flipped = new Array<number>(dim);
+    for (let k = 0; k < dim; k++) flipped[k] = -SA[i * dim + k];
     const beyond = clipPiece(cur, flipped, -Sb[i], ctx);
     if (beyond === 'fail') return 'fail';
     if (beyond === cur) {
@@ -276,7 +291,7 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
       if (beyond.widthBound > minRadius) out.push(beyond);
       else dropped.count++;
     }
-    const inside = clipPiece(cur, row, Sb[i], ctx, false);
+    const inside = clipPiece(cur, SA, Sb[i], ctx, false, i * dim);
     if (inside === 'fail') return 'fail';
     if (inside === null) return out;
     cur = inside;

@@ -16,6 +16,8 @@ export type RegionResult = { ok: true; region: Omit<CriticalRegion, 'id'>; bbox:
 export interface LpEngine {
   lps: number;
   reference: boolean;
+  /** false: no LP-free redundancy proofs before the redundancy LPs (for measurement; off on the reference engine too) */
+  proofs?: boolean;
 }
 
 /**
@@ -224,6 +226,7 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
 function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } {
   const alive = new Uint8Array(m).fill(1);
   const sure = new Uint8Array(m);
+  const proofs = !lp.reference && lp.proofs !== false;
   const slack = new Float64Array(m);
   for (let q = 0; q < m; q++) {
     let s = bf[q];
@@ -332,7 +335,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
       c[j] = sgn;
       let value = Infinity;
       for (let round = 0; round <= m; round++) {
-        const known = lp.reference ? null : sideFromBases(c, skip);
+        const known = proofs ? sideFromBases(c, skip) : null;
         if (!known) lp.lps++;
         const res = known ?? (lp.reference ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0) : lpMaximizeFrom(c, Af, bf, m, nt, center, skip));
         if (res.status !== 'optimal') break;
@@ -373,7 +376,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   }
   for (let r = 0; r < m; r++) {
     if (sure[r] || !alive[r]) continue;
-    if (!lp.reference && provenRedundant(r)) {
+    if (proofs && provenRedundant(r)) {
       alive[r] = 0;
       continue;
     }

@@ -58,7 +58,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const coverEps = 1e-9 * Math.max(1, scale);
   /** the vertex list of the facet being covered (dim ≥ 2), null when it has none */
   let facetPiece: CoverPiece | null = null;
-  const lp: LpEngine = { lps: 0, reference: options.lp === 'reference' };
+  const lp: LpEngine = { lps: 0, reference: options.lp === 'reference', proofs: options.strategy?.proofs ?? true };
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
   const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 };
@@ -340,7 +340,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     if (facet.dim >= 2 && facetPiece) {
       const ctx: CoverContext = { dim: facet.dim, eps: coverEps, maxVerts: 4000 };
       let cur: CoverPiece | null | 'fail' = facetPiece;
-      for (let i = 0; i < s.m && cur && cur !== 'fail'; i++) cur = clipPiece(cur, s.A.subarray(i * facet.dim, (i + 1) * facet.dim), s.b[i], ctx);
+      for (let i = 0; i < s.m && cur && cur !== 'fail'; i++) cur = clipPiece(cur, s.A, s.b[i], ctx, true, i * facet.dim);
       if (cur === null) return false;
       if (cur !== 'fail') {
         if (cur.widthBound <= minPiece) return false;
@@ -399,7 +399,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (!(centre.radius > 10 * minPiece)) {
         lp.lps++;
         work.coverLps++;
-        const ball = chebyshevBall(P.A, P.b, P.m, dim, centre.point, 1e6);
+        const ball = chebyshevBall(Float64Array.from(P.A), Float64Array.from(P.b), P.m, dim, centre.point, 1e6);
         if (!(ball.radius > minPiece)) {
           pieces.splice(best, 1);
           cover.thinPieces++;

@@ -85,9 +85,11 @@ export interface SolveOptions {
   /**
    * How a facet is crossed (for measurement; defaults are best): `guess` tries the combinatorial
    * neighbour (row added across a primal facet, dropped across a dual one) before any point QP;
-   * `warmStart` starts the point QP from the region's working set instead of the unconstrained point.
+   * `warmStart` starts the point QP from the region's working set instead of the unconstrained point;
+   * `proofs` lets the region builder drop rows by LP-free redundancy proofs (src/mpqp/prefilter.ts)
+   * before its redundancy LPs (the same rows either way).
    */
-  strategy?: { guess?: boolean; warmStart?: boolean };
+  strategy?: { guess?: boolean; warmStart?: boolean; proofs?: boolean };
   /** cooperative cancellation (Ctrl-C): checked between candidates */
   shouldStop?: () => boolean;
   /**

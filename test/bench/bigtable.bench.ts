@@ -144,7 +144,7 @@ function evaluateBench(): void {
  * (measured: m = 40 gives 29 169). Each region has few rows and one LP is enough per facet, so
  * the count is reached in bounded time.
  */
-function channelProblem(m: number, d: number): unknown {
+export function channelProblem(m: number, d: number): unknown {
   let s = 7;
   const rnd = (): number => ((s = (Math.imul(s, 1103515245) + 12345) >>> 0) / 4294967296);
   const eye = (i: number, v: number) => Array.from({ length: m }, (_, j) => (i === j ? v : 0));
@@ -168,7 +168,7 @@ function channelProblem(m: number, d: number): unknown {
 }
 
 /** One cold CLI process under /usr/bin/time: wall seconds, peak resident MB, exit code, stdout to `stdoutFile` when given. */
-function cliStage(args: string[], stdoutFile?: string): { s: number; mb: number; status: number | null; out: string } {
+export function cliStage(args: string[], stdoutFile?: string): { s: number; mb: number; status: number | null; out: string } {
   const cliPath = join(import.meta.dirname, '..', '..', 'dist', 'src', 'cli', 'main.js');
   const fd = stdoutFile ? openSync(stdoutFile, 'w') : 'pipe';
   try {

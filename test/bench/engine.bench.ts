@@ -5,6 +5,7 @@
  */
 import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
+import { loadavg } from 'node:os';
 import { buildMpqp, formulate, loadProblem, parseProblem, solvePartition, type MpqpProblem } from '../../src/index.js';
 import { chebyshevBall } from '../../src/lp/kernel.js';
 import { luSolve } from '../../src/linalg/dense.js';
@@ -100,7 +101,10 @@ function row(name: string, p: MpqpProblem): string {
 }
 
 export async function run(): Promise<void> {
-  console.log('engine: warm timings (second solve of each problem), medians for the unit costs');
+  console.log(`engine: warm timings (second solve of each problem), medians for the unit costs; load average ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);
+  console.log('region-build proofs on/off, paired and alternated (median of 3):');
+  proofsPaired('boom-4d-n8', 1500);
+  proofsPaired('mixer-5d-n10', 1500);
   const ex = readdirSync(join(root, 'examples')).filter((f) => /\.(json|ya?ml)$/.test(f)).sort();
   for (const f of ex) {
     const loaded = loadProblem(join(root, 'examples', f));
@@ -136,4 +140,30 @@ export async function run(): Promise<void> {
     };
     console.log(row(`axis N=${N}`, buildMpqp(parseProblem(raw, `axis-N${N}.json`))));
   }
+}
+
+/**
+ * Region-build proofs (src/mpqp/prefilter.ts) on and off, paired and alternated in this process on
+ * the 4-D and 5-D scale fixtures: LPs per region (region build and facet cover apart) and warm
+ * regions/s, the first `limit` regions of each.
+ */
+function proofsPaired(name: string, limit: number): void {
+  const mpqp = buildMpqp(loadProblem(join(root, 'test', 'fixtures', 'scale', `${name}.json`)));
+  solvePartition(mpqp, { maxRegions: 200 }); // warm-up
+  const times: Record<string, number[]> = { on: [], off: [] };
+  const info: Record<string, string> = {};
+  let regions = 0;
+  for (let r = 0; r < 3; r++)
+    for (const k of r % 2 ? ['off', 'on'] : ['on', 'off']) {
+      const t0 = performance.now();
+      const p = solvePartition(mpqp, { maxRegions: limit, strategy: { proofs: k === 'on' } });
+      times[k].push((performance.now() - t0) / 1000);
+      regions = p.stats.regions;
+      const w = p.work!;
+      info[k] = `LPs/region ${(p.stats.lps / regions).toFixed(1)} (region build ${(w.regionLps / regions).toFixed(1)}, cover ${(w.coverLps / regions).toFixed(1)})`;
+    }
+  const med = (x: number[]) => [...x].sort((a, b) => a - b)[Math.floor(x.length / 2)];
+  const on = med(times.on);
+  const off = med(times.off);
+  console.log(`  ${name.padEnd(14)} ${regions} regions  proofs on: ${info.on}, ${(regions / on).toFixed(0)} regions/s  off: ${info.off}, ${(regions / off).toFixed(0)} regions/s  time off/on ${(off / on).toFixed(2)}`);
 }

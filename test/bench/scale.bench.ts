@@ -7,6 +7,8 @@
  *    earlier sections of this bench: compare growth within one problem); then the log–log slope of time against regions (1 = the
  *    cost per region does not grow with the table). Bounded by TESSERA_BENCH_MAX_REGIONS (default
  *    100 000) and TESSERA_BENCH_SECONDS per problem (default 240).
+ * 1b. A family sweep (`family`): one invented problem family solved at growing sizes by cold CLI
+ *    processes, per size regions, s, regions/s, LPs/region, QPs/region, peak MB, then the slope.
  * 2. Point location: the grid locator against the sequential scan on the largest table, points/s.
  * 3. Crossing strategies, paired in this process: guess + warm-started QP (default), guess only,
  *    warm QP only, cold point QP at every landing (the earlier method).
@@ -14,7 +16,8 @@
  */
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { channelProblem, cliStage } from './bigtable.bench.js';
 import { loadavg, tmpdir } from 'node:os';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
@@ -156,8 +159,62 @@ function strategies(name: string, limit: number): void {
   for (const [label, t] of rows) console.log(`  ${label.padEnd(16)} time vs cold QP only: ${(Math.min(...t) / base).toFixed(2)}`);
 }
 
+/**
+ * One problem family swept in size: the bank of m saturating channels over a 3-D θ (invented, see
+ * bigtable.bench.ts; ≈ 0.46·m³ regions), each size a cold `tessera solve --lean --threads 1` under
+ * /usr/bin/time: regions, seconds, regions/s, LPs/region, QPs/region (the CLI's summary line) and
+ * peak MB, then the log–log slope of time against regions. Sizes grow until the next would not fit
+ * in TESSERA_BENCH_FAMILY_SECONDS (default 1 200) or pass TESSERA_BENCH_MAX_REGIONS.
+ */
+function family(): void {
+  const budget = Number(process.env.TESSERA_BENCH_FAMILY_SECONDS ?? 1200);
+  if (!existsSync('/usr/bin/time')) {
+    console.log('\nfamily sweep: skipped (/usr/bin/time is not installed)');
+    return;
+  }
+  const out = mkdtempSync(join(tmpdir(), 'tessera-family-'));
+  console.log(`\nfamily sweep: channel bank over a 3-D θ, one cold CLI solve per size, ${budget} s in all; load average ${loadavg()[0].toFixed(1)}`);
+  console.log('  channels  regions        s  regions/s  LPs/region  QPs/region  peak MB');
+  const rows: { regions: number; s: number }[] = [];
+  let used = 0;
+  try {
+    for (const m of [13, 18, 25, 35, 48, 62, 80]) {
+      const expected = 0.46 * m ** 3;
+      if (expected > maxRegions * 1.2) break;
+      // the last size took rows[−1].s; assume time grows like the regions
+      const last = rows[rows.length - 1];
+      if (last && used + (last.s * expected) / last.regions > budget) break;
+      const file = join(out, `channels-${m}.json`);
+      writeFileSync(file, JSON.stringify(channelProblem(m, 3)));
+      const r = cliStage(['solve', file, '--lean', '--threads', '1', '--time-limit', String(Math.max(10, budget - used)), '-o', join(out, 't.json')]);
+      used += r.s;
+      const sm = /(\d+) regions, (\d+) candidates, (\d+) LPs, (\d+) point QPs, ([\d.]+) s/.exec(r.out);
+      if (!sm) {
+        console.log(`  ${String(m).padStart(8)}  not measured (exit ${r.status}): ${r.out.trim().split('\n')[0]}`);
+        break;
+      }
+      const [regions, , lps, qps] = sm.slice(1, 5).map(Number);
+      rows.push({ regions, s: r.s });
+      console.log(
+        `  ${String(m).padStart(8)} ${String(regions).padStart(8)} ${r.s.toFixed(1).padStart(8)} ${(regions / r.s).toFixed(0).padStart(10)} ${(lps / regions).toFixed(1).padStart(11)} ${(qps / regions).toFixed(2).padStart(11)} ${r.mb.toFixed(0).padStart(8)}${/complete: yes/.test(r.out) ? '' : '  (incomplete: time limit)'}`,
+      );
+    }
+  } finally {
+    rmSync(out, { recursive: true, force: true });
+  }
+  const big = rows.filter((x) => x.regions >= 800);
+  if (big.length >= 2) {
+    const a = big[0];
+    const b = big[big.length - 1];
+    console.log(`  log–log slope of time vs regions (${a.regions} → ${b.regions}, wall time of the whole CLI run): ${(Math.log(b.s / a.s) / Math.log(b.regions / a.regions)).toFixed(2)} (target ≤ 1.1)`);
+  }
+}
+
 export async function run(): Promise<void> {
   console.log(`max regions ${maxRegions}, ${seconds} s per problem; load average ${(await import('node:os')).loadavg().map((x) => x.toFixed(1)).join(' ')}`);
+  // TESSERA_BENCH_ONLY=family runs only the family sweep
+  if (process.env.TESSERA_BENCH_ONLY === 'family') return family();
+  family();
   strategies('glider-2d-n40', 1500);
   strategies('boom-4d-n8', 1500);
   const big2 = growth('glider-2d-n40');

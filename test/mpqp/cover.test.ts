@@ -35,7 +35,7 @@ function chebRadius(A: number[][], b: number[]): number {
 }
 const rowsOf = (P: CoverPiece): { A: number[][]; b: number[] } => {
   const d = P.verts[0].length;
-  return { A: Array.from({ length: P.m }, (_, i) => Array.from(P.A.subarray(i * d, (i + 1) * d))), b: Array.from(P.b) };
+  return { A: Array.from({ length: P.m }, (_, i) => Array.from(P.A.slice(i * d, (i + 1) * d))), b: Array.from(P.b) };
 };
 
 describe('vertex lists of hand-worked polytopes (common practice)', () => {

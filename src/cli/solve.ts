@@ -171,7 +171,12 @@ export function register(program: Command): void {
         );
         return;
       }
-      const canonical = joinPartitions(mpqp, [partition]);
+      // the canonical form: its closure step is bounded by the same time limit, and both steps show progress
+      const canonical = joinPartitions(mpqp, [partition], {
+        shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
+        onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? 'closing under neighbour guesses' : 'neighbours'} ${done}/${total} `) : undefined,
+      });
+      if (live) process.stderr.write('\r\x1b[K');
       const table = makeTable(loaded, formulation, canonical, { lean });
       writeTableFile(out, table);
       if (opts.quiet) return;

@@ -39,7 +39,14 @@ export function compareActiveSets(a: readonly number[], b: readonly number[]): n
  * the first part's that is not 'done'). The inputs are not modified; the result's regions are new
  * objects sharing the numeric arrays.
  */
-export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]): Partition {
+export interface JoinOptions {
+  /** asked between regions of the closure step: true ends it early, and the result is marked incomplete ('time-limit') */
+  shouldStop?: () => boolean;
+  /** called at most every 100 ms: which step, how far it is, out of how much */
+  onProgress?: (step: 'closing' | 'neighbours', done: number, total: number) => void;
+}
+
+export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): Partition {
   const byKey = new Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>();
   for (const part of parts)
     part.regions.forEach((R, i) => {
@@ -48,7 +55,16 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     });
   const lp: LpEngine = { lps: 0, reference: false };
   let closed = 0;
-  if (parts.every((p) => p.stats.complete)) closed = closeUnderGuesses(problem, byKey, lp);
+  let cut = false;
+  let shownAt = 0;
+  const progress = (step: 'closing' | 'neighbours', done: number, total: number): void => {
+    if (!options.onProgress) return;
+    const now = performance.now();
+    if (now - shownAt < 100) return;
+    shownAt = now;
+    options.onProgress(step, done, total);
+  };
+  if (parts.every((p) => p.stats.complete)) ({ added: closed, cut } = closeUnderGuesses(problem, byKey, lp, options.shouldStop, progress));
   const entries = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet));
   const boxes = entries.map((e) => {
     if (e.box) return e.box;
@@ -56,7 +72,7 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
   });
   const sorted = entries.map((e) => e.region);
-  const neighbours = canonicalNeighbours(problem, sorted, boxes, lp);
+  const neighbours = canonicalNeighbours(problem, sorted, boxes, lp, progress);
   const regions: CriticalRegion[] = sorted.map((R, id) => ({
     ...R,
     id,
@@ -76,6 +92,11 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     if (p.work) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += p.work[k];
   }
   stats.candidates += closed;
+  if (cut && stats.complete) {
+    // the closure was cut short: thin regions it would have added may be missing
+    stats.complete = false;
+    stats.stopReason = 'time-limit';
+  }
   return { regions, stats, work, boxes };
 }
 
@@ -87,9 +108,15 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
  * slack (10·tol.radius), and whether they meet those depends on where they land; such a region is
  * the combinatorial neighbour of one they all found, so after closing, every run holds it. Visits
  * regions in key order, so the result depends only on the set it starts from. Returns how many
- * regions were added.
+ * regions were added, and whether `shouldStop` cut the closure short.
  */
-function closeUnderGuesses(problem: MpqpProblem, byKey: Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>, lp: LpEngine): number {
+function closeUnderGuesses(
+  problem: MpqpProblem,
+  byKey: Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>,
+  lp: LpEngine,
+  shouldStop?: () => boolean,
+  progress?: (step: 'closing', done: number, total: number) => void,
+): { added: number; cut: boolean } {
   const queue = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet)).map((e) => e.region);
   const grid = new GridLocator(problem.box.lower, problem.box.upper);
   const boxOf = (e: { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }) => {
@@ -107,6 +134,8 @@ function closeUnderGuesses(problem: MpqpProblem, byKey: Map<string, { region: Cr
   let added = 0;
   const lean = queue.length > 0 && queue[0].moves === undefined; // lean regions (no move sequence) stay lean
   for (let q = 0; q < queue.length; q++) {
+    if (shouldStop?.()) return { added, cut: true };
+    progress?.('closing', q, queue.length);
     const R = queue[q];
     for (const f of R.facets) {
       if (f.kind === 'box') continue;
@@ -125,7 +154,7 @@ function closeUnderGuesses(problem: MpqpProblem, byKey: Map<string, { region: Cr
       added++;
     }
   }
-  return added;
+  return { added, cut: false };
 }
 
 /**
@@ -137,7 +166,13 @@ function closeUnderGuesses(problem: MpqpProblem, byKey: Map<string, { region: Cr
  * sign-normalised hyperplane and comparing only facets whose values are within the tolerance, then
  * their boxes; so no step looks at all regions. Result: per region, per facet, ascending indices.
  */
-export function canonicalNeighbours(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], lp: LpEngine): number[][][] {
+export function canonicalNeighbours(
+  problem: MpqpProblem,
+  regions: readonly CriticalRegion[],
+  boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
+  lp: LpEngine,
+  progress?: (step: 'neighbours', done: number, total: number) => void,
+): number[][][] {
   const nt = problem.ntheta;
   let scale = 1;
   for (let j = 0; j < nt; j++) scale = Math.max(scale, problem.box.upper[j] - problem.box.lower[j]);
@@ -204,6 +239,7 @@ export function canonicalNeighbours(problem: MpqpProblem, regions: readonly Crit
     let c1 = c0 + 1;
     while (c1 < list.length && list[c1].v - list[c1 - 1].v <= window) c1++;
     frames = new Map();
+    progress?.('neighbours', c0, list.length);
     if (c1 - c0 <= 64) {
       for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) pair(i, k);
     } else {

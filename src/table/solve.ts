@@ -81,7 +81,9 @@ export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}):
   const { mpqp, layout } = formulation;
   const t0 = performance.now();
   // canonical form: regions sorted by active set, neighbours from the regions alone (same bytes however explored)
-  const partition = joinPartitions(mpqp, [solvePartition(mpqp, options)]);
+  // the time limit and `shouldStop` also bound the closure step of the canonical form
+  const stopAt = options.timeLimit === undefined ? Infinity : t0 + 1000 * options.timeLimit;
+  const partition = joinPartitions(mpqp, [solvePartition(mpqp, options)], { shouldStop: () => performance.now() >= stopAt || (options.shouldStop?.() ?? false) });
   const seconds = (performance.now() - t0) / 1000;
   return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition, { lean: options.lean }), seconds };
 }

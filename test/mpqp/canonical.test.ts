@@ -202,3 +202,28 @@ function clipLength(seg: Seg, S: CriticalRegion): number {
   }
   return Math.max(0, t1 - t0);
 }
+
+describe('canonical form under a time limit', () => {
+  // a bounded result is marked incomplete everywhere it goes (common practice for bounded solvers:
+  // a stop is reported, never a silently shorter answer)
+  it('a closure step cut short by shouldStop marks the result incomplete (time-limit) and keeps every explored region; progress is reported', () => {
+    const file = exampleFiles.find((f) => basename(f).startsWith('positioning-axis'))!;
+    const { loaded } = solved(file);
+    const { mpqp } = formulate(loaded);
+    const p = solvePartition(mpqp);
+    expect(p.stats.complete).toBe(true);
+    const steps = new Set<string>();
+    const whole = joinPartitions(mpqp, [p], { onProgress: (step, done, total) => { expect(done).toBeLessThanOrEqual(total); steps.add(step); } });
+    expect(whole.stats.complete).toBe(true);
+    expect(steps.has('closing')).toBe(true); // the first call is never throttled
+    const cut = joinPartitions(mpqp, [p], { shouldStop: () => true });
+    expect(cut.stats.complete).toBe(false);
+    expect(cut.stats.stopReason).toBe('time-limit');
+    // nothing the exploration found is dropped: the cut result holds every explored active set
+    const keys = new Set(cut.regions.map((R) => R.activeSet.join(',')));
+    for (const R of p.regions) expect(keys.has(R.activeSet.join(','))).toBe(true);
+    // not stopped: the same regions as without options
+    const again = joinPartitions(mpqp, [p], { shouldStop: () => false });
+    expect(JSON.stringify(again.regions)).toBe(JSON.stringify(whole.regions));
+  }, 120_000);
+});

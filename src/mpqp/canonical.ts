@@ -30,6 +30,14 @@ export function compareActiveSets(a: readonly number[], b: readonly number[]): n
   return a.length - b.length;
 }
 
+/** Options of `joinPartitions`: a stop for its closure step, and progress. */
+export interface JoinOptions {
+  /** asked between regions of the closure step: true ends it early, and the result is marked incomplete ('time-limit') */
+  shouldStop?: () => boolean;
+  /** called at most every 100 ms: which step, how far it is, out of how much */
+  onProgress?: (step: 'closing' | 'neighbours', done: number, total: number) => void;
+}
+
 /**
  * Put partitions of the same mpQP together in canonical form: the union of their regions (a region
  * found by several parts is kept once), sorted by active set, renumbered, and the neighbours of
@@ -39,13 +47,6 @@ export function compareActiveSets(a: readonly number[], b: readonly number[]): n
  * the first part's that is not 'done'). The inputs are not modified; the result's regions are new
  * objects sharing the numeric arrays.
  */
-export interface JoinOptions {
-  /** asked between regions of the closure step: true ends it early, and the result is marked incomplete ('time-limit') */
-  shouldStop?: () => boolean;
-  /** called at most every 100 ms: which step, how far it is, out of how much */
-  onProgress?: (step: 'closing' | 'neighbours', done: number, total: number) => void;
-}
-
 export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): Partition {
   const byKey = new Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>();
   for (const part of parts)

@@ -16,7 +16,7 @@ import { InputError } from '../io/errors.js';
 import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
-import { createdNote, positive, SECONDS } from './common.js';
+import { coverLines, createdNote, positive, SECONDS } from './common.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -190,8 +190,7 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
-      if (s.unresolvedPieces > 0)
-        lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
+      lines.push(...coverLines(s));
       process.stdout.write(lines.join('\n') + '\n');
     });
 }

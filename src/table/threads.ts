@@ -16,6 +16,7 @@
  */
 import { Worker, MessageChannel } from 'node:worker_threads';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
+import { sumCauses } from '../mpqp/types.js';
 
 /** What a worker is started with (src/table/explore-worker.ts). */
 export interface ExploreWorkerData {
@@ -125,6 +126,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       stats.lps += s ? s.lps : (p?.lps ?? 0);
       stats.qps += s ? s.qps : (p?.qps ?? 0);
       stats.unresolvedPieces += s?.unresolvedPieces ?? 0;
+      stats.causes = sumCauses(stats.causes, s?.causes);
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     });
     // Workers check the region bound on their own view of the shared set, so together they can pass

@@ -491,6 +491,16 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     }
   }
 
+  /** {z : G z ≤ w + E θ} is non-empty, by a phase-1 LP (the Chebyshev LP with its radius free; counted). */
+  function feasibleByLp(theta: Float64Array): boolean {
+    const { nz, nc } = problem;
+    const b = Float64Array.from(problem.w);
+    for (let i = 0; i < nc; i++) for (let j = 0; j < nt; j++) b[i] += problem.E[i * nt + j] * theta[j];
+    lp.lps++;
+    work.coverLps++;
+    return findFeasiblePoint(problem.G, b, nc, nz) !== null;
+  }
+
   function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }, strict: boolean): { id: number; slice: Slice } | 'infeasible' | 'noRegion' | 'noSlice' {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
@@ -509,7 +519,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (!inBox(theta)) return 'out';
       // strict: the point QP from cold (a warm start on an ill-conditioned working set can stop short)
       const id = regionAt(theta, hints, useGuess ? guess : undefined, strict ? undefined : warm);
-      if (id === -1) return 'infeasible';
+      // no region from a feasible point QP: near the edge of the feasible set the dual method can
+      // report a nearly dependent working set (multipliers ~1e16) as feasible; a phase-1 LP decides
+      if (id === -1 || (id === -2 && !feasibleByLp(theta))) return 'infeasible';
       sawFeasible = true;
       if (id < 0) return null;
       sawRegion = true;

@@ -167,7 +167,8 @@ export function register(program: Command): void {
         const s = partition.stats;
         process.stdout.write(
           `${loaded.name}: part ${part.index} of ${part.count}: ${s.regions} regions meet its sub-box, ${s.lps} LPs, ${seconds.toFixed(3)} s\n` +
-            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`),
+            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`) +
+            coverLines(s).map((l) => `${l}\n`).join(''),
         );
         return;
       }

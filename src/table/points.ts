@@ -129,11 +129,21 @@ export interface FlatPoints {
   to: Int32Array;
 }
 
-/** The bytes [a, b) as a string, one character per byte (the plain grammar is ASCII). */
+/**
+ * The bytes [a, b) as a string, one character per byte (the plain grammar is ASCII): a slice of the
+ * whole input decoded once, one byte to one character, on the first need (cells beyond 15 digits go
+ * to `Number`; a slice of one long string costs less than a new string per cell).
+ */
+const wholeText = new WeakMap<Uint8Array, string>();
+const singleByte = new TextDecoder('latin1');
 function ascii(bytes: Uint8Array, a: number, b: number): string {
-  let t = '';
-  for (let i = a; i < b; i++) t += String.fromCharCode(bytes[i]);
-  return t;
+  let whole = wholeText.get(bytes);
+  if (whole === undefined) {
+    const native = (bytes as Uint8Array & { latin1Slice?: (a: number, b: number) => string }).latin1Slice;
+    whole = native ? native.call(bytes, 0, bytes.length) : singleByte.decode(bytes);
+    wholeText.set(bytes, whole);
+  }
+  return whole.slice(a, b);
 }
 
 const utf8 = new TextEncoder();
@@ -293,18 +303,10 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
     let cells = 0;
     let a = pos;
     let plain = le > pos && !first;
+    // (plainNumber turns away a cell with any other byte: the line then takes the general path)
     if (plain)
       for (let i = pos; i <= le; i++) {
-        if (i < le) {
-          const c = text[i];
-          if (c !== 44) {
-            if (!((c >= 48 && c <= 57) || c === 45 || c === 43 || c === 46 || c === 101 || c === 69)) {
-              plain = false;
-              break;
-            }
-            continue;
-          }
-        }
+        if (i < le && text[i] !== 44) continue;
         if (cells === n) {
           plain = false;
           break;
@@ -321,7 +323,17 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
         cells++;
         a = i + 1;
       }
-    if (plain && cells === n) push(cellV, cellA, cellB, cellC);
+    if (plain && cells === n) {
+      if (count === cap) grow();
+      const o = count * n;
+      for (let j = 0; j < n; j++) {
+        const k = order ? order[j] : j;
+        values[o + j] = cellV[k];
+        from[o + j] = cellC[k] ? cellA[k] : -1;
+        to[o + j] = cellB[k];
+      }
+      count++;
+    }
     else {
       // the general path, exactly parsePointsCsv's rules for this line
       const line = utf8Decoder.decode(text.subarray(pos, end)).replace(/\r$/, '').trim();

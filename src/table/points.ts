@@ -438,7 +438,7 @@ function putInt(out: Uint8Array, at: number, r: number): number {
  * of 4096 slots (a hash of the bits): inputs held at a limit, clamped u and grid points repeat the
  * same values constantly, and `String` is the larger part of the formatting cost.
  */
-class NumberText {
+export class NumberText {
   private readonly keys = new Float64Array(4096).fill(NaN);
   private readonly texts: string[] = new Array<string>(4096).fill('');
   private readonly f64 = new Float64Array(1);

@@ -4,7 +4,10 @@ import { spdInverse } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
+import { maxVertexDim, vertexPass } from './vertices.js';
 
+export const dbg: Record<string, number> = {};
+const D = (k: string, v = 1): void => { dbg[k] = (dbg[k] ?? 0) + v; };
 export type RegionFailure = 'licq' | 'empty' | 'flat';
 /** An axis-aligned box that holds the region (not stored in the table; feeds the exploration's spatial index). */
 export interface BoundingBox {
@@ -124,6 +127,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     keepInfo.push({ kind: 'box', row: j });
   }
   const m = keepA.length;
+  D('regions'); D('rowsAll', rowsA.length); D('rowsAfterBox', m - 2 * nt);
   const Af = new Float64Array(m * nt);
   const bf = Float64Array.from(keepB);
   keepA.forEach((row, r) => row.forEach((v, j) => (Af[r * nt + j] = v)));
@@ -274,6 +278,14 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // sure rows (and the box rows, the last 2·nθ); when the maximiser breaks another row, the row
   // first hit on the segment from the centre to it is a facet: mark it sure and solve again. Each
   // box side ends exact, with one LP per side plus one per facet found this way.
+  const bbLo = Float64Array.from(lo);
+  const bbHi = Float64Array.from(up);
+  const scratch = prefilterScratch(nt);
+  const c = new Float64Array(nt);
+  // LP-free pass over the vertices of the sure rows (vertices.ts): facets found by rays aimed at
+  // vertices that break a row, redundant rows and box sides proved by weak duality at a vertex
+  const sideKnown = new Uint8Array(2 * nt);
+  if (proofs && nt <= maxVertexDim) vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy);
   const skip = new Uint8Array(m);
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
   // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)
@@ -281,7 +293,6 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   const keepBasis = (res: { working?: number[]; x: Float64Array }): void => {
     if (res.working && res.working.length === nt) bases.push({ W: Int32Array.from(res.working), x: res.x.slice(0, nt) });
   };
-  const scratch = prefilterScratch(nt);
   /** a proof without LP that row r is implied by the live rows other than r (prefilter.ts), or false */
   const provenRedundant = (r: number): boolean => {
     const ar = Af.subarray(r * nt, (r + 1) * nt);
@@ -304,9 +315,6 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     }
     return false;
   };
-  const bbLo = Float64Array.from(lo);
-  const bbHi = Float64Array.from(up);
-  const c = new Float64Array(nt);
   /**
    * A box side without LP: an earlier optimal basis W of rows kept in this LP whose vertex satisfies
    * every kept row and whose normal cone holds c is optimal for c too (LP duality); its vertex is the
@@ -331,12 +339,13 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   };
   for (let j = 0; j < nt; j++)
     for (const sgn of [1, -1]) {
+      if (sideKnown[2 * j + (sgn > 0 ? 0 : 1)]) continue;
       c.fill(0);
       c[j] = sgn;
       let value = Infinity;
       for (let round = 0; round <= m; round++) {
         const known = proofs ? sideFromBases(c, skip) : null;
-        if (!known) lp.lps++;
+        if (!known) { lp.lps++; D(round ? 'lpSideRound' : 'lpSide'); } else D('sideFree');
         const res = known ?? (lp.reference ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0) : lpMaximizeFrom(c, Af, bf, m, nt, center, skip));
         if (res.status !== 'optimal') break;
         value = res.value;
@@ -365,6 +374,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
       if (sgn > 0) bbHi[j] = Math.min(bbHi[j], value + tol.redundancy);
       else bbLo[j] = Math.max(bbLo[j], -value - tol.redundancy);
     }
+  for (let r = 0; r < m; r++) D('sure', sure[r]);
   for (let r = 0; r < m; r++) {
     if (sure[r]) continue;
     let mx = 0;
@@ -372,12 +382,12 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
       const a = Af[r * nt + j];
       mx += a > 0 ? a * bbHi[j] : a * bbLo[j];
     }
-    if (mx <= bf[r] - tol.redundancy) alive[r] = 0;
+    if (mx <= bf[r] - tol.redundancy) { alive[r] = 0; D('bboxDrop'); }
   }
   for (let r = 0; r < m; r++) {
     if (sure[r] || !alive[r]) continue;
     if (proofs && provenRedundant(r)) {
-      alive[r] = 0;
+      alive[r] = 0; D('proofDrop');
       continue;
     }
     for (let q = 0; q < m; q++) skip[q] = alive[q] ? 0 : 1;
@@ -388,8 +398,9 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
       ? lpReferenceMasked(c, Af, bf, m, nt, skip, 0)
       : lpMaximizeFrom(c, Af, bf, m, nt, center, skip);
     if (res.status === 'optimal') keepBasis(res);
-    if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
+    if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) { alive[r] = 0; D('lpRowRed'); } else D('lpRowIrr');
   }
+  for (let r = 0; r < m; r++) D('final', alive[r]);
   return { alive, bbox: { lo: bbLo, hi: bbHi } };
 }
 

@@ -259,7 +259,8 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     for (let j = 0; j < nt; j++) dir[j] = Af[r * nt + j];
     shoot();
   }
-  for (let j = 0; j < nt; j++)
+  const useVertices = proofs && nt <= maxVertexDim;
+  for (let j = 0; j < nt && !useVertices; j++)
     for (const sgn of [1, -1]) {
       dir.fill(0);
       dir[j] = sgn;
@@ -267,7 +268,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     }
   // and along fixed pseudo-random directions (a seeded generator: the same rays for every region)
   let seed = 0x9e3779b9;
-  for (let k = 0; k < 8 * nt; k++) {
+  for (let k = 0; k < 8 * nt && !useVertices; k++) {
     for (let j = 0; j < nt; j++) {
       seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0;
       dir[j] = seed / 4294967296 - 0.5;
@@ -285,7 +286,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // LP-free pass over the vertices of the sure rows (vertices.ts): facets found by rays aimed at
   // vertices that break a row, redundant rows and box sides proved by weak duality at a vertex
   const sideKnown = new Uint8Array(2 * nt);
-  if (proofs && nt <= maxVertexDim) vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy);
+  if (useVertices) vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy);
   const skip = new Uint8Array(m);
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
   // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)

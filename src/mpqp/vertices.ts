@@ -95,6 +95,16 @@ function intersect(a: Int32Array, b: Int32Array, out: Int32Array): number {
   return k;
 }
 
+/** Hash of the sorted rows of T without T[omit] (collisions are checked by the caller). */
+function faceKey(T: Int32Array, omit: number): number {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < T.length; i++) {
+    if (i === omit) continue;
+    h = Math.imul(h ^ T[i], 0x01000193);
+  }
+  return h;
+}
+
 function withRow(t: ArrayLike<number>, k: number, r: number): Int32Array {
   const out = new Int32Array(k + 1);
   let p = 0;
@@ -117,9 +127,11 @@ function withRow(t: ArrayLike<number>, k: number, r: number): Int32Array {
  * gives its crossing point. False when the vertex count would pass `maxVertices` (the caller gives
  * up on the vertices; nothing is changed then).
  */
+export const vstat = { regions: 0, verts: 0, degen: 0, cuts: 0, pairs: 0, maxV: 0 };
 export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number): boolean {
   const { n } = V;
   const cnt = V.x.length;
+  vstat.cuts++; vstat.maxV = Math.max(vstat.maxV, cnt);
   const s = new Float64Array(cnt);
   let outside = 0;
   for (let v = 0; v < cnt; v++) {
@@ -139,24 +151,58 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     x.push(V.x[v]);
     tight.push(s[v] >= -eps ? withRow(V.tight[v], V.tight[v].length, r) : V.tight[v]);
   }
-  const common = new Int32Array(64);
-  let buf = common;
+  // edges between simple vertices (n tight rows): the two share n − 1 rows, found by a hash of
+  // each vertex's (n − 1)-row subsets; pairs with a degenerate vertex take the rank test
+  const byFace = new Map<number, number[]>();
+  const degenerateInside: number[] = [];
+  const insideAll: number[] = [];
+  for (let q = 0; q < cnt; q++) {
+    if (!(s[q] < -eps)) continue;
+    insideAll.push(q);
+    const Tq = V.tight[q];
+    if (Tq.length !== n) {
+      degenerateInside.push(q);
+      continue;
+    }
+    for (let omit = 0; omit < n; omit++) {
+      const key = faceKey(Tq, omit);
+      const list = byFace.get(key);
+      if (list) list.push(q);
+      else byFace.set(key, [q]);
+    }
+  }
+  let buf = new Int32Array(64);
+  const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
+    if (x.length >= maxVertices) return false;
+    const t = s[p] / (s[p] - s[q]);
+    const xv = new Float64Array(n);
+    for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
+    x.push(xv);
+    tight.push(withRow(common, k, r));
+    return true;
+  };
   for (let p = 0; p < cnt; p++) {
     if (!(s[p] > eps)) continue;
     const Tp = V.tight[p];
-    for (let q = 0; q < cnt; q++) {
-      if (!(s[q] < -eps)) continue;
+    if (buf.length < Tp.length) buf = new Int32Array(2 * Tp.length);
+    if (Tp.length === n) {
+      for (let omit = 0; omit < n; omit++) {
+        const list = byFace.get(faceKey(Tp, omit));
+        if (!list) continue;
+        for (const q of list) {
+          const k = intersect(Tp, V.tight[q], buf);
+          if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
+        }
+      }
+    }
+    const others = Tp.length === n ? degenerateInside : insideAll;
+    for (const q of others) {
       const Tq = V.tight[q];
       if (buf.length < Math.min(Tp.length, Tq.length)) buf = new Int32Array(2 * Math.min(Tp.length, Tq.length));
       const k = intersect(Tp, Tq, buf);
       if (k < n - 1) continue;
-      if (!(Tp.length === n && Tq.length === n) && rankOf(A, n, buf, k) !== n - 1) continue;
-      if (x.length >= maxVertices) return false;
-      const t = s[p] / (s[p] - s[q]);
-      const xv = new Float64Array(n);
-      for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
-      x.push(xv);
-      tight.push(withRow(buf, k, r));
+      if (rankOf(A, n, buf, k) !== n - 1) continue;
+      if (!addCrossing(p, q, buf, k)) return false;
     }
   }
   V.x = x;
@@ -289,6 +335,7 @@ export function vertexPass(
     sure[h] = 1;
     if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
   }
+  vstat.regions++; vstat.verts += V.x.length; for (const t of V.tight) if (t.length > n) vstat.degen++;
   const bound = (c: ArrayLike<number>, W: ArrayLike<number>): number => farkasBound(c, A, b, W, n, lo, up, scratch);
   // box sides first: rows the proven box keeps (the builder's own box test) need no certificate
   const e = new Float64Array(n);

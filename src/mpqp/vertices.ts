@@ -127,11 +127,9 @@ function withRow(t: ArrayLike<number>, k: number, r: number): Int32Array {
  * gives its crossing point. False when the vertex count would pass `maxVertices` (the caller gives
  * up on the vertices; nothing is changed then).
  */
-export const vstat = { regions: 0, verts: 0, degen: 0, cuts: 0, pairs: 0, maxV: 0 };
 export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number): boolean {
   const { n } = V;
   const cnt = V.x.length;
-  vstat.cuts++; vstat.maxV = Math.max(vstat.maxV, cnt);
   const s = new Float64Array(cnt);
   let outside = 0;
   for (let v = 0; v < cnt; v++) {
@@ -265,7 +263,8 @@ const witnessMargin = 1e-7;
  *    rows W: weak duality on W (farkasBound) bounds max a_r·θ over {A_W θ ≤ b_W} ⊇ the region
  *    without row r; a bound ≤ b_r + tol.redundancy drops it, as its LP would (the LP's value is
  *    below the bound).
- * 4. Each box side ±θ_j the same way at its best vertex: the proven bound (+ tol.redundancy) is the
+ * 4. Each box side ±θ_j the same way at its best vertex, when that vertex keeps every row left to
+ *    the LPs (else the side is not the region's and goes to its LP): the proven bound (+ tol.redundancy) is the
  *    bounding box's side, `sideKnown[2j]` (upper) / `[2j + 1]` (lower) set; other sides go to LPs.
  * Rows left (neither sure nor dropped) go to the caller's LPs.
  */
@@ -335,7 +334,6 @@ export function vertexPass(
     sure[h] = 1;
     if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
   }
-  vstat.regions++; vstat.verts += V.x.length; for (const t of V.tight) if (t.length > n) vstat.degen++;
   const bound = (c: ArrayLike<number>, W: ArrayLike<number>): number => farkasBound(c, A, b, W, n, lo, up, scratch);
   // box sides first: rows the proven box keeps (the builder's own box test) need no certificate
   const e = new Float64Array(n);
@@ -344,7 +342,7 @@ export function vertexPass(
       e.fill(0);
       e[j] = sgn;
       const v = argmaxVertex(V, e);
-      if (v < 0) continue;
+      if (v < 0 || breaksAny(A, b, n, V.x[v], toLp, boxRow)) continue; // not the region's own side: to its LP
       const value = vertexBound(e, V.tight[v], n, bound);
       if (!Number.isFinite(value)) continue;
       if (sgn > 0) bbHi[j] = Math.min(bbHi[j], value + redundancyTol);
@@ -364,6 +362,17 @@ export function vertexPass(
     if (v < 0) continue;
     if (vertexBound(c, V.tight[v], n, bound) <= b[r] + redundancyTol) alive[r] = 0;
   }
+}
+
+/** Whether x breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */
+function breaksAny(A: Float64Array, b: Float64Array, n: number, x: Float64Array, rows: Uint8Array, m: number): boolean {
+  for (let q = 0; q < m; q++) {
+    if (!rows[q]) continue;
+    let s = -b[q];
+    for (let j = 0; j < n; j++) s += A[q * n + j] * x[j];
+    if (s > breakMargin) return true;
+  }
+  return false;
 }
 
 function argmaxVertex(V: VertexSet, c: ArrayLike<number>): number {

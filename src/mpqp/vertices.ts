@@ -254,8 +254,8 @@ const witnessMargin = 1e-7;
  * `slack` = b − A·center, `sure` the rows already known to be facets.
  *
  * 1. Vertices of the polytope of the sure rows (cut from the box).
- * 2. While a vertex breaks a row that is not sure by more than breakMargin: aim a ray from the
- *    centre at it; the first row hit, when every other row keeps witnessMargin slack at the hit point
+ * 2. For each row in turn, while a vertex breaks it by more than breakMargin and it is not sure:
+ *    aim a ray from the centre at the vertex that breaks it most; the first row hit, when every other row keeps witnessMargin slack at the hit point
  *    p, is a facet: p + σ·a_h satisfies every other row and breaks h by σ ≥ witnessMargin, so the
  *    redundancy LP of h (max a_h·θ over the other rows) is > b_h + σ and keeps it. The row joins the
  *    sure rows and cuts the vertices. A ray without such a witness leaves the row to its LP.
@@ -293,8 +293,7 @@ export function vertexPass(
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
   const vHi = new Float64Array(n);
-  for (let iter = 0; iter < boxRow; iter++) {
-    // the vertices' box first: a row it keeps is broken by no vertex
+  const vertexBox = (): void => {
     vLo.fill(Infinity);
     vHi.fill(-Infinity);
     for (const x of V.x)
@@ -302,37 +301,40 @@ export function vertexPass(
         if (x[j] < vLo[j]) vLo[j] = x[j];
         if (x[j] > vHi[j]) vHi[j] = x[j];
       }
-    let worst = breakMargin;
-    let wr = -1;
-    let wv = -1;
-    for (let r = 0; r < boxRow; r++) {
-      if (sure[r] || toLp[r] || !alive[r]) continue;
+  };
+  vertexBox();
+  // one pass over the rows: a cut only shrinks the polytope, so a row no vertex breaks stays so
+  for (let r = 0; r < boxRow; r++) {
+    while (!sure[r] && !toLp[r] && alive[r]) {
+      // the vertices' box first: a row it keeps is broken by no vertex
       let mx = -b[r];
       for (let j = 0; j < n; j++) {
         const a = A[r * n + j];
         mx += a > 0 ? a * vHi[j] : a * vLo[j];
       }
-      if (mx <= worst) continue;
+      if (mx <= breakMargin) break;
+      let worst = breakMargin;
+      let wv = -1;
       for (let v = 0; v < V.x.length; v++) {
         let s = -b[r];
         const x = V.x[v];
         for (let j = 0; j < n; j++) s += A[r * n + j] * x[j];
         if (s > worst) {
           worst = s;
-          wr = r;
           wv = v;
         }
       }
+      if (wv < 0) break;
+      for (let j = 0; j < n; j++) d[j] = V.x[wv][j] - center[j];
+      const h = firstHitWitness(A, m, n, slack, d);
+      if (h < 0 || h >= boxRow || sure[h]) {
+        toLp[r] = 1;
+        break;
+      }
+      sure[h] = 1;
+      if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
+      vertexBox();
     }
-    if (wr < 0) break;
-    for (let j = 0; j < n; j++) d[j] = V.x[wv][j] - center[j];
-    const h = firstHitWitness(A, m, n, slack, d);
-    if (h < 0 || h >= boxRow || sure[h]) {
-      toLp[wr] = 1;
-      continue;
-    }
-    sure[h] = 1;
-    if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
   }
   const bound = (c: ArrayLike<number>, W: ArrayLike<number>): number => farkasBound(c, A, b, W, n, lo, up, scratch);
   // box sides first: rows the proven box keeps (the builder's own box test) need no certificate

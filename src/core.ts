@@ -23,7 +23,7 @@ export { tol, type Tolerances } from './tol.js';
 export { parseProblem, parseProblemText } from './problem/read.js';
 export type { Bounds, LoadedProblem, MpcModel, TerminalKind, SoftLimits, TerminalSet } from './problem/types.js';
 export { formulate, buildMpqp, type Formulation } from './formulation/index.js';
-export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition, ExplorationState, ExplorationWork, ShareChannel, SharedRegion } from './mpqp/types.js';
+export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition, ExplorationState, ExplorationWork, ExplorationListener } from './mpqp/types.js';
 
 // solving
 export { solveProblem, formulateFeasible, setupSize, tableProblem, type SolvedProblem, type SetupSize, type TableProblem, type TableProblemOptions } from './table/solve.js';

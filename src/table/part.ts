@@ -17,6 +17,7 @@ import { parseProblem } from '../problem/read.js';
 import { formulate } from '../formulation/index.js';
 import { makeTable, problemHash } from './build.js';
 import type { TableFile } from './format.js';
+import type { SubBoxProgress } from './threads.js';
 
 /** Tag of a part file (`solve --part`). */
 export const PART_FORMAT = 'tessera-part';
@@ -55,7 +56,13 @@ export interface CheckpointFile {
   part: PartIndex | null;
   /** lean regions (`solve --lean`) */
   lean: boolean;
+  /**
+   * the union of the regions the sub-boxes found (the state's `done` is then empty): where each
+   * sub-box of a run on several threads stands. Absent (older checkpoints, or one thread): the
+   * state's `done` lists the keys covered over the whole box explored.
+   */
   state: ExplorationState;
+  subBoxes?: SubBoxProgress;
 }
 
 /** Parse "i/k" (1 ≤ i ≤ k, integers) as given to `--part`; InputError otherwise. */
@@ -124,8 +131,10 @@ export function parsePartJson(text: string, file: string): PartFile {
 }
 
 /** The checkpoint of an exploration state. */
-export function makeCheckpoint(loaded: LoadedProblem, part: PartIndex | null, state: ExplorationState, lean = false): CheckpointFile {
-  return { format: CHECKPOINT_FORMAT, version: RUN_STATE_VERSION, problemHash: problemHash(loaded.raw), part, lean, state };
+export function makeCheckpoint(loaded: LoadedProblem, part: PartIndex | null, state: ExplorationState, lean = false, subBoxes?: SubBoxProgress): CheckpointFile {
+  // one sub-box is the whole box: its covered keys are the state's own
+  const split = subBoxes && subBoxes.count > 1 ? { subBoxes } : {};
+  return { format: CHECKPOINT_FORMAT, version: RUN_STATE_VERSION, problemHash: problemHash(loaded.raw), part, lean, state, ...split };
 }
 
 /** Parse and check a checkpoint's text; `loaded` is the problem it must belong to. */
@@ -137,6 +146,12 @@ export function parseCheckpointJson(text: string, file: string, loaded: LoadedPr
   if (!st || typeof st !== 'object') throw new InputError(file, 'state', 'missing');
   checkRegions(st.regions, st.boxes, file, 'state.');
   if (!Array.isArray(st.done)) throw new InputError(file, 'state.done', 'must be an array');
+  if (t.subBoxes !== undefined) {
+    const sb = t.subBoxes as SubBoxProgress;
+    if (!sb || !Number.isInteger(sb.count) || sb.count < 1) throw new InputError(file, 'subBoxes.count', 'must be a whole number ≥ 1');
+    if (!Array.isArray(sb.finished) || !sb.finished.every((s) => Number.isInteger(s) && s >= 0 && s < sb.count)) throw new InputError(file, 'subBoxes.finished', `must list sub-box indices 0…${sb.count - 1}`);
+    if (!Array.isArray(sb.done) || sb.done.length !== sb.count || !sb.done.every((d) => Array.isArray(d))) throw new InputError(file, 'subBoxes.done', `must hold ${sb.count} lists of keys`);
+  }
   return t as unknown as CheckpointFile;
 }
 

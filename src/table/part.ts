@@ -56,12 +56,12 @@ export interface CheckpointFile {
   part: PartIndex | null;
   /** lean regions (`solve --lean`) */
   lean: boolean;
-  /**
-   * the union of the regions the sub-boxes found (the state's `done` is then empty): where each
-   * sub-box of a run on several threads stands. Absent (older checkpoints, or one thread): the
-   * state's `done` lists the keys covered over the whole box explored.
-   */
+  /** regions found, and the keys whose facets are covered over the whole box explored */
   state: ExplorationState;
+  /**
+   * where each sub-box of a run on several threads stands (the keys covered in each; `state.done`
+   * holds those covered in every sub-box their region meets). Absent: one thread, or an older file.
+   */
   subBoxes?: SubBoxProgress;
 }
 

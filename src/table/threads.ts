@@ -164,9 +164,17 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     const p = partition(true, 'done');
     const finishedList: number[] = [];
     for (let s = 0; s < M; s++) if (finished[s]) finishedList.push(s);
-    // a whole-box run (one sub-box) also keeps its covered keys in the state itself, as a single run does
+    // the state on its own stays what a single run's is: a key is covered over the whole box explored
+    // when it is covered in every sub-box its region's box meets (a finished sub-box covered them all)
+    const whole: string[] = [];
+    p.regions.forEach((R, i) => {
+      const key = R.activeSet.join(',');
+      let all = true;
+      for (let s = 0; s < M && all; s++) if (!finished[s] && !done[s].has(key) && meets(p.boxes![i], boxes[s])) all = false;
+      if (all) whole.push(key);
+    });
     return {
-      state: { regions: p.regions, boxes: p.boxes as RegionBox[], done: M === 1 ? [...done[0]] : [], stats: p.stats, work: p.work! },
+      state: { regions: p.regions, boxes: p.boxes as RegionBox[], done: whole, stats: p.stats, work: p.work! },
       subBoxes: { count: M, finished: finishedList, done: done.map((d, s) => (finished[s] ? [] : [...d])) },
     };
   };

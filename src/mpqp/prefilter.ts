@@ -98,9 +98,16 @@ export function farkasBound(
     for (let j = i + 1; j < n; j++) t -= M[i * n + j] * y[j];
     y[i] = t / M[i * n + i];
   }
+  // a multiplier that is zero up to round-off is set to 0 (any y ≥ 0 is a valid certificate: the
+  // residual below pays for the change); a clearly negative one means W proves nothing about a
+  let yScale = 0;
+  for (let i = 0; i < n; i++) yScale = Math.max(yScale, Math.abs(y[i]));
   let bound = 0;
   for (let i = 0; i < n; i++) {
-    if (!(y[i] >= 0)) return Infinity;
+    if (!(y[i] >= 0)) {
+      if (!(y[i] >= -1e-12 * yScale)) return Infinity;
+      y[i] = 0;
+    }
     bound += y[i] * b[W[i]];
   }
   // residual e = a − A_Wᵀ y, paid for over the box

@@ -1,0 +1,417 @@
+import { farkasBound, type PrefilterScratch } from './prefilter.js';
+
+/**
+ * Vertices of a polytope {θ : A_S θ ≤ b_S} inside a box, by the double description method (Motzkin
+ * et al. 1953; the incremental form with the algebraic adjacency test of Fukuda & Prodon 1996):
+ * start from the box corners and cut by one row at a time; a cut keeps the vertices on its side and
+ * adds, on every edge it crosses, the crossing point. Each vertex carries the rows tight at it
+ * (combinatorially: the rows it was made on, never re-derived from rounded coordinates), so an edge
+ * is two vertices whose common tight rows have rank n − 1 (Fukuda & Prodon's test).
+ *
+ * The region builder uses the vertices only to *find* LP-free certificates (prefilter.ts): a row
+ * whose maximum over the vertices is at a vertex with tight rows W is checked by weak duality on W
+ * (farkasBound), which is valid whatever the vertex list is, and a vertex that breaks a row aims a
+ * ray whose first hit is a facet witness. A vertex list spoiled by round-off can therefore only make
+ * a certificate fail (the row goes to its LP), never drop a facet or keep a redundant row.
+ */
+
+/** The vertices of a polytope: coordinates (n per vertex) and the rows tight at each (sorted). */
+export interface VertexSet {
+  n: number;
+  x: Float64Array[];
+  tight: Int32Array[];
+}
+
+/**
+ * The 2ⁿ corners of the box lo ≤ θ ≤ hi, whose sides are rows boxRow + 2j (θ_j ≤ hi_j) and
+ * boxRow + 2j + 1 (−θ_j ≤ −lo_j) of the caller's A.
+ */
+export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<number>, boxRow: number): VertexSet {
+  const x: Float64Array[] = [];
+  const tight: Int32Array[] = [];
+  for (let mask = 0; mask < 1 << n; mask++) {
+    const v = new Float64Array(n);
+    const t = new Int32Array(n);
+    for (let j = 0; j < n; j++) {
+      const up = (mask >> j) & 1;
+      v[j] = up ? hi[j] : lo[j];
+      t[j] = boxRow + 2 * j + (up ? 0 : 1);
+    }
+    x.push(v);
+    tight.push(t);
+  }
+  return { n, x, tight };
+}
+
+/** Scratch for the rank test (n × n rows at most per call). */
+const rankScratch = { m: new Float64Array(0) };
+
+/** Rank of the rows `rows` of A (n columns), Gaussian elimination with a relative pivot threshold. */
+function rankOf(A: Float64Array, n: number, rows: ArrayLike<number>, k: number): number {
+  if (rankScratch.m.length < k * n) rankScratch.m = new Float64Array(2 * k * n);
+  const M = rankScratch.m;
+  for (let i = 0; i < k; i++) for (let j = 0; j < n; j++) M[i * n + j] = A[rows[i] * n + j];
+  let rank = 0;
+  for (let col = 0; col < n && rank < k; col++) {
+    let p = -1;
+    let best = 1e-9;
+    for (let i = rank; i < k; i++) {
+      const v = Math.abs(M[i * n + col]);
+      if (v > best) {
+        best = v;
+        p = i;
+      }
+    }
+    if (p < 0) continue;
+    if (p !== rank)
+      for (let j = 0; j < n; j++) {
+        const t = M[p * n + j];
+        M[p * n + j] = M[rank * n + j];
+        M[rank * n + j] = t;
+      }
+    for (let i = rank + 1; i < k; i++) {
+      const f = M[i * n + col] / M[rank * n + col];
+      if (f === 0) continue;
+      for (let j = col; j < n; j++) M[i * n + j] -= f * M[rank * n + j];
+    }
+    rank++;
+  }
+  return rank;
+}
+
+/** Sorted intersection of two sorted index lists into `out`; returns its length. */
+function intersect(a: Int32Array, b: Int32Array, out: Int32Array): number {
+  let i = 0;
+  let j = 0;
+  let k = 0;
+  while (i < a.length && j < b.length) {
+    if (a[i] === b[j]) {
+      out[k++] = a[i];
+      i++;
+      j++;
+    } else if (a[i] < b[j]) i++;
+    else j++;
+  }
+  return k;
+}
+
+/** Hash of the sorted rows of T without T[omit] (collisions are checked by the caller). */
+function faceKey(T: Int32Array, omit: number): number {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < T.length; i++) {
+    if (i === omit) continue;
+    h = Math.imul(h ^ T[i], 0x01000193);
+  }
+  return h;
+}
+
+function withRow(t: ArrayLike<number>, k: number, r: number): Int32Array {
+  const out = new Int32Array(k + 1);
+  let p = 0;
+  let placed = false;
+  for (let i = 0; i < k; i++) {
+    if (!placed && r < t[i]) {
+      out[p++] = r;
+      placed = true;
+    }
+    if (t[i] === r) placed = true;
+    out[p++] = t[i];
+  }
+  if (!placed) out[p++] = r;
+  return p === k + 1 ? out : out.subarray(0, p);
+}
+
+/**
+ * Cut the vertex set by row r (a_r θ ≤ b_r, unit normal): vertices more than `eps` outside go,
+ * vertices within `eps` gain r as a tight row, and each edge from an inside to an outside vertex
+ * gives its crossing point. False when the vertex count would pass `maxVertices` (the caller gives
+ * up on the vertices; nothing is changed then).
+ */
+export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number): boolean {
+  const { n } = V;
+  const cnt = V.x.length;
+  const s = new Float64Array(cnt);
+  let outside = 0;
+  for (let v = 0; v < cnt; v++) {
+    let t = -b[r];
+    for (let j = 0; j < n; j++) t += A[r * n + j] * V.x[v][j];
+    s[v] = t;
+    if (t > eps) outside++;
+  }
+  if (outside === 0) {
+    for (let v = 0; v < cnt; v++) if (s[v] >= -eps) V.tight[v] = withRow(V.tight[v], V.tight[v].length, r);
+    return true;
+  }
+  const x: Float64Array[] = [];
+  const tight: Int32Array[] = [];
+  for (let v = 0; v < cnt; v++) {
+    if (s[v] > eps) continue;
+    x.push(V.x[v]);
+    tight.push(s[v] >= -eps ? withRow(V.tight[v], V.tight[v].length, r) : V.tight[v]);
+  }
+  // edges between simple vertices (n tight rows): the two share n − 1 rows, found by a hash of
+  // each vertex's (n − 1)-row subsets; pairs with a degenerate vertex take the rank test
+  const byFace = new Map<number, number[]>();
+  const degenerateInside: number[] = [];
+  const insideAll: number[] = [];
+  for (let q = 0; q < cnt; q++) {
+    if (!(s[q] < -eps)) continue;
+    insideAll.push(q);
+    const Tq = V.tight[q];
+    if (Tq.length !== n) {
+      degenerateInside.push(q);
+      continue;
+    }
+    for (let omit = 0; omit < n; omit++) {
+      const key = faceKey(Tq, omit);
+      const list = byFace.get(key);
+      if (list) list.push(q);
+      else byFace.set(key, [q]);
+    }
+  }
+  let buf = new Int32Array(64);
+  const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
+    if (x.length >= maxVertices) return false;
+    const t = s[p] / (s[p] - s[q]);
+    const xv = new Float64Array(n);
+    for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
+    x.push(xv);
+    tight.push(withRow(common, k, r));
+    return true;
+  };
+  for (let p = 0; p < cnt; p++) {
+    if (!(s[p] > eps)) continue;
+    const Tp = V.tight[p];
+    if (buf.length < Tp.length) buf = new Int32Array(2 * Tp.length);
+    if (Tp.length === n) {
+      for (let omit = 0; omit < n; omit++) {
+        const list = byFace.get(faceKey(Tp, omit));
+        if (!list) continue;
+        for (const q of list) {
+          const k = intersect(Tp, V.tight[q], buf);
+          if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
+        }
+      }
+    }
+    const others = Tp.length === n ? degenerateInside : insideAll;
+    for (const q of others) {
+      const Tq = V.tight[q];
+      if (buf.length < Math.min(Tp.length, Tq.length)) buf = new Int32Array(2 * Math.min(Tp.length, Tq.length));
+      const k = intersect(Tp, Tq, buf);
+      if (k < n - 1) continue;
+      if (rankOf(A, n, buf, k) !== n - 1) continue;
+      if (!addCrossing(p, q, buf, k)) return false;
+    }
+  }
+  V.x = x;
+  V.tight = tight;
+  return true;
+}
+
+/**
+ * The least of `bound(c, W)` (a weak-duality bound on c·θ, farkasBound) over W an n-row subset of the rows tight at a vertex (all of them when there are n; at a degenerate vertex
+ * up to `maxTries` subsets in lexicographic order); +∞ when none proves anything.
+ */
+export function vertexBound(
+  c: ArrayLike<number>,
+  T: Int32Array,
+  n: number,
+  bound: (c: ArrayLike<number>, W: ArrayLike<number>) => number,
+  maxTries = 32,
+): number {
+  const k = T.length;
+  if (k < n) return Infinity;
+  if (k === n) return bound(c, T);
+  const idx = new Int32Array(n);
+  for (let i = 0; i < n; i++) idx[i] = i;
+  const W = new Int32Array(n);
+  let best = Infinity;
+  for (let tries = 0; tries < maxTries; tries++) {
+    for (let i = 0; i < n; i++) W[i] = T[idx[i]];
+    best = Math.min(best, bound(c, W));
+    // next n-subset of 0..k−1
+    let i = n - 1;
+    while (i >= 0 && idx[i] === k - n + i) i--;
+    if (i < 0) break;
+    idx[i]++;
+    for (let j = i + 1; j < n; j++) idx[j] = idx[j - 1] + 1;
+  }
+  return best;
+}
+
+/** Highest dimension where the vertex pass is tried (2ⁿ box corners to start from). */
+export const maxVertexDim = 8;
+/** A vertex pass giving up past this many vertices leaves everything to the LPs. */
+const maxVertices = 4000;
+/** A row broken by a vertex by more than this aims a ray (unit rows; round-off is far below). */
+const breakMargin = 1e-7;
+/** A ray's first hit is a facet witness when every other row keeps at least this slack there. */
+const witnessMargin = 1e-7;
+
+/**
+ * LP-free decisions for the rows of a region {θ : A θ ≤ b} (unit rows; the last 2n are the box
+ * sides, row m − 2n + 2j is θ_j ≤ up_j and the next −θ_j ≤ −lo_j), `center` strictly inside with
+ * `slack` = b − A·center, `sure` the rows already known to be facets.
+ *
+ * 1. Vertices of the polytope of the sure rows (cut from the box).
+ * 2. While a vertex breaks a row that is not sure by more than breakMargin: aim a ray from the
+ *    centre at it; the first row hit, when every other row keeps witnessMargin slack at the hit point
+ *    p, is a facet: p + σ·a_h satisfies every other row and breaks h by σ ≥ witnessMargin, so the
+ *    redundancy LP of h (max a_h·θ over the other rows) is > b_h + σ and keeps it. The row joins the
+ *    sure rows and cuts the vertices. A ray without such a witness leaves the row to its LP.
+ * 3. A row that is not sure, whose maximum over the vertices is at a vertex with tight (sure or box)
+ *    rows W: weak duality on W (farkasBound) bounds max a_r·θ over {A_W θ ≤ b_W} ⊇ the region
+ *    without row r; a bound ≤ b_r + tol.redundancy drops it, as its LP would (the LP's value is
+ *    below the bound).
+ * 4. Each box side ±θ_j the same way at its best vertex, when that vertex keeps every row left to
+ *    the LPs (else the side is not the region's and goes to its LP): the proven bound (+ tol.redundancy) is the
+ *    bounding box's side, `sideKnown[2j]` (upper) / `[2j + 1]` (lower) set; other sides go to LPs.
+ * Rows left (neither sure nor dropped) go to the caller's LPs.
+ */
+export function vertexPass(
+  A: Float64Array,
+  b: Float64Array,
+  m: number,
+  n: number,
+  lo: ArrayLike<number>,
+  up: ArrayLike<number>,
+  center: Float64Array,
+  slack: Float64Array,
+  sure: Uint8Array,
+  alive: Uint8Array,
+  sideKnown: Uint8Array,
+  bbLo: Float64Array,
+  bbHi: Float64Array,
+  scratch: PrefilterScratch,
+  redundancyTol: number,
+): void {
+  const boxRow = m - 2 * n;
+  const V = boxVertices(n, lo, up, boxRow);
+  const eps = 1e-10;
+  for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return;
+  const toLp = new Uint8Array(m);
+  const d = new Float64Array(n);
+  const vLo = new Float64Array(n);
+  const vHi = new Float64Array(n);
+  for (let iter = 0; iter < boxRow; iter++) {
+    // the vertices' box first: a row it keeps is broken by no vertex
+    vLo.fill(Infinity);
+    vHi.fill(-Infinity);
+    for (const x of V.x)
+      for (let j = 0; j < n; j++) {
+        if (x[j] < vLo[j]) vLo[j] = x[j];
+        if (x[j] > vHi[j]) vHi[j] = x[j];
+      }
+    let worst = breakMargin;
+    let wr = -1;
+    let wv = -1;
+    for (let r = 0; r < boxRow; r++) {
+      if (sure[r] || toLp[r] || !alive[r]) continue;
+      let mx = -b[r];
+      for (let j = 0; j < n; j++) {
+        const a = A[r * n + j];
+        mx += a > 0 ? a * vHi[j] : a * vLo[j];
+      }
+      if (mx <= worst) continue;
+      for (let v = 0; v < V.x.length; v++) {
+        let s = -b[r];
+        const x = V.x[v];
+        for (let j = 0; j < n; j++) s += A[r * n + j] * x[j];
+        if (s > worst) {
+          worst = s;
+          wr = r;
+          wv = v;
+        }
+      }
+    }
+    if (wr < 0) break;
+    for (let j = 0; j < n; j++) d[j] = V.x[wv][j] - center[j];
+    const h = firstHitWitness(A, m, n, slack, d);
+    if (h < 0 || h >= boxRow || sure[h]) {
+      toLp[wr] = 1;
+      continue;
+    }
+    sure[h] = 1;
+    if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
+  }
+  const bound = (c: ArrayLike<number>, W: ArrayLike<number>): number => farkasBound(c, A, b, W, n, lo, up, scratch);
+  // box sides first: rows the proven box keeps (the builder's own box test) need no certificate
+  const e = new Float64Array(n);
+  for (let j = 0; j < n; j++)
+    for (const sgn of [1, -1]) {
+      e.fill(0);
+      e[j] = sgn;
+      const v = argmaxVertex(V, e);
+      if (v < 0 || breaksAny(A, b, n, V.x[v], toLp, boxRow)) continue; // not the region's own side: to its LP
+      const value = vertexBound(e, V.tight[v], n, bound);
+      if (!Number.isFinite(value)) continue;
+      if (sgn > 0) bbHi[j] = Math.min(bbHi[j], value + redundancyTol);
+      else bbLo[j] = Math.max(bbLo[j], -value - redundancyTol);
+      sideKnown[2 * j + (sgn > 0 ? 0 : 1)] = 1;
+    }
+  for (let r = 0; r < boxRow; r++) {
+    if (sure[r] || toLp[r] || !alive[r]) continue;
+    let mx = -b[r];
+    for (let j = 0; j < n; j++) {
+      const a = A[r * n + j];
+      mx += a > 0 ? a * bbHi[j] : a * bbLo[j];
+    }
+    if (mx <= -redundancyTol) continue; // the caller's box test drops it
+    const c = A.subarray(r * n, (r + 1) * n);
+    const v = argmaxVertex(V, c);
+    if (v < 0) continue;
+    if (vertexBound(c, V.tight[v], n, bound) <= b[r] + redundancyTol) alive[r] = 0;
+  }
+}
+
+/** Whether x breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */
+function breaksAny(A: Float64Array, b: Float64Array, n: number, x: Float64Array, rows: Uint8Array, m: number): boolean {
+  for (let q = 0; q < m; q++) {
+    if (!rows[q]) continue;
+    let s = -b[q];
+    for (let j = 0; j < n; j++) s += A[q * n + j] * x[j];
+    if (s > breakMargin) return true;
+  }
+  return false;
+}
+
+function argmaxVertex(V: VertexSet, c: ArrayLike<number>): number {
+  let best = -Infinity;
+  let arg = -1;
+  for (let v = 0; v < V.x.length; v++) {
+    let s = 0;
+    for (let j = 0; j < V.n; j++) s += c[j] * V.x[v][j];
+    if (s > best) {
+      best = s;
+      arg = v;
+    }
+  }
+  return arg;
+}
+
+/**
+ * The row first hit by the ray centre + t·d (t > 0), when every other row keeps at least
+ * witnessMargin slack at the hit point (a facet witness, see vertexPass); −1 otherwise.
+ */
+export function firstHitWitness(A: Float64Array, m: number, n: number, slack: Float64Array, d: Float64Array): number {
+  let best = Infinity;
+  let hit = -1;
+  for (let q = 0; q < m; q++) {
+    let ad = 0;
+    for (let j = 0; j < n; j++) ad += A[q * n + j] * d[j];
+    if (ad <= 1e-12) continue;
+    const t = slack[q] / ad;
+    if (t < best) {
+      best = t;
+      hit = q;
+    }
+  }
+  if (hit < 0) return -1;
+  for (let q = 0; q < m; q++) {
+    if (q === hit) continue;
+    let ad = 0;
+    for (let j = 0; j < n; j++) ad += A[q * n + j] * d[j];
+    if (slack[q] - best * ad < witnessMargin) return -1;
+  }
+  return hit;
+}

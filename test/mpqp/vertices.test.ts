@@ -1,0 +1,206 @@
+import { describe, it, expect } from 'vitest';
+import { boxVertices, cutVertices, firstHitWitness, vertexBound, vertexPass } from '../../src/mpqp/vertices.js';
+import { farkasBound, prefilterScratch } from '../../src/mpqp/prefilter.js';
+import { lpMaximizeReference } from '../../src/lp/reference.js';
+import { rng } from '../problem/rng.js';
+
+// The vertex pass of the region builder (LP-free facet witnesses, redundancy and box-side
+// certificates). References: hand-counted vertices of cut cubes (elementary geometry, common
+// practice) and javascript-lp-solver (an independent simplex from npm, through
+// lpMaximizeReference, which rounds to about 1e-8) for every decision the pass takes.
+
+const F = (xs: number[]) => Float64Array.from(xs);
+
+describe('cutVertices on the unit cube (hand-counted)', () => {
+  // rows 0..5: the box sides (θ_j ≤ 1 at 2j, −θ_j ≤ 0 at 2j + 1); row 6 the cut
+  const n = 3;
+  const box = (): { A: number[]; b: number[] } => {
+    const A: number[] = [];
+    const b: number[] = [];
+    for (let j = 0; j < n; j++) {
+      A.push(...[0, 1, 2].map((k) => (k === j ? 1 : 0)));
+      b.push(1);
+      A.push(...[0, 1, 2].map((k) => (k === j ? -1 : 0)));
+      b.push(0);
+    }
+    return { A, b };
+  };
+  it('x + y + z ≤ 1.5 leaves the 4 corners with sum ≤ 1 and 6 points on the cut edges: 10 vertices', () => {
+    const { A, b } = box();
+    const s = 1 / Math.sqrt(3);
+    A.push(s, s, s);
+    b.push(1.5 * s);
+    const V = boxVertices(n, [0, 0, 0], [1, 1, 1], 0);
+    expect(V.x.length).toBe(8);
+    expect(cutVertices(V, F(A), F(b), 6, 1e-10, 100)).toBe(true);
+    expect(V.x.length).toBe(10);
+    const sums = V.x.map((x) => x[0] + x[1] + x[2]).sort();
+    expect(sums.filter((t) => Math.abs(t - 1.5) < 1e-12).length).toBe(6);
+    for (let v = 0; v < V.x.length; v++) if (Math.abs(sums[v] - 1.5) < 1e-12) expect(V.tight[v].length).toBe(n);
+  });
+  it('x + y + z ≤ 1 passes through three corners: they gain the row, 4 vertices stay (a tetrahedron)', () => {
+    const { A, b } = box();
+    const s = 1 / Math.sqrt(3);
+    A.push(s, s, s);
+    b.push(s);
+    const V = boxVertices(n, [0, 0, 0], [1, 1, 1], 0);
+    expect(cutVertices(V, F(A), F(b), 6, 1e-10, 100)).toBe(true);
+    expect(V.x.length).toBe(4);
+    expect(V.tight.filter((t) => t.includes(6)).length).toBe(3);
+    // each of the three is degenerate now (4 rows through it in 3-D)
+    expect(V.tight.filter((t) => t.length === 4).length).toBe(3);
+  });
+  it('a cut past the vertex limit gives up and leaves the set as it was', () => {
+    const { A, b } = box();
+    const s = 1 / Math.sqrt(3);
+    A.push(s, s, s);
+    b.push(1.5 * s);
+    const V = boxVertices(n, [0, 0, 0], [1, 1, 1], 0);
+    expect(cutVertices(V, F(A), F(b), 6, 1e-10, 9)).toBe(false);
+    expect(V.x.length).toBe(8);
+  });
+});
+
+/**
+ * A random region in n-D: m rows with θ = 0 strictly inside, unit normals, plus the box rows last
+ * (row m0 + 2j: θ_j ≤ 3, m0 + 2j + 1: −θ_j ≤ 3), with near-degenerate extras that a wrong proof
+ * would trip over: a duplicate row, a row 1e-9 outside another, a row touching a vertex of the
+ * others, a row 1e-6 past a vertex.
+ */
+function randomRegion(r: () => number, n: number): { A: Float64Array; b: Float64Array; m: number; lo: Float64Array; hi: Float64Array } {
+  const rows: number[][] = [];
+  const rhs: number[] = [];
+  const m0 = 2 * n + 6;
+  for (let i = 0; i < m0; i++) {
+    const a = Array.from({ length: n }, () => 2 * r() - 1);
+    const nn = Math.hypot(...a);
+    rows.push(a.map((v) => v / nn));
+    rhs.push(0.3 + r());
+  }
+  rows.push([...rows[1]]);
+  rhs.push(rhs[1]); // duplicate
+  rows.push([...rows[2]]);
+  rhs.push(rhs[2] + 1e-9); // a hair outside another
+  // a vertex of the polytope of the random rows (the reference's maximiser of a random objective)
+  const c = Float64Array.from({ length: n }, () => 2 * r() - 1);
+  const flat = (k: number) => F(rows.slice(0, k).flat());
+  const v = lpMaximizeReference(c, flat(m0), F(rhs.slice(0, m0)), m0, n).x;
+  const a = Array.from({ length: n }, (_, j) => c[j] + 0.05 * (2 * r() - 1));
+  const na = Math.hypot(...a);
+  const au = a.map((t) => t / na);
+  const av = au.reduce((s, t, j) => s + t * v[j], 0);
+  if (av > 0.05) {
+    // (θ = 0 stays strictly inside)
+    rows.push(au);
+    rhs.push(av); // touches the polytope at (about) that vertex
+    rows.push([...au]);
+    rhs.push(av - 1e-6); // the same normal, 1e-6 inside: cuts the vertex off by 1e-6
+  }
+  const lo = new Float64Array(n).fill(-3);
+  const hi = new Float64Array(n).fill(3);
+  const m = rows.length + 2 * n;
+  const A = new Float64Array(m * n);
+  const b = new Float64Array(m);
+  rows.forEach((row, i) => {
+    row.forEach((t, j) => (A[i * n + j] = t));
+    b[i] = rhs[i];
+  });
+  for (let j = 0; j < n; j++) {
+    const k = rows.length + 2 * j;
+    A[k * n + j] = 1;
+    b[k] = hi[j];
+    A[(k + 1) * n + j] = -1;
+    b[k + 1] = -lo[j];
+  }
+  return { A, b, m, lo, hi };
+}
+
+/** javascript-lp-solver's max c·θ over the rows of A other than `skip`. */
+function refMax(c: ArrayLike<number>, A: Float64Array, b: Float64Array, m: number, n: number, skip: number): number {
+  const rows: number[] = [];
+  const rhs: number[] = [];
+  for (let q = 0; q < m; q++) {
+    if (q === skip) continue;
+    for (let j = 0; j < n; j++) rows.push(A[q * n + j]);
+    rhs.push(b[q]);
+  }
+  const res = lpMaximizeReference(c, F(rows), F(rhs), m - (skip >= 0 ? 1 : 0), n);
+  expect(res.status).toBe('optimal');
+  return res.value;
+}
+
+describe('vertexPass vs javascript-lp-solver on seeded random regions in 3-D to 5-D', () => {
+  it('every row it drops is redundant, every row it makes a facet is one, every box side it proves holds', () => {
+    const r = rng(20261203);
+    const tolRed = 1e-9;
+    const counts = { dropped: 0, facets: 0, sides: 0, trials: 0 };
+    for (let trial = 0; trial < 90; trial++) {
+      const n = 3 + (trial % 3);
+      const { A, b, m, lo, hi } = randomRegion(r, n);
+      const center = new Float64Array(n); // θ = 0 is strictly inside
+      const slack = Float64Array.from(b);
+      const sure = new Uint8Array(m);
+      // a few sure rows to start from, as the builder's normal rays give them: the first hit
+      for (let k = 0; k < m - 2 * n; k += 3) {
+        const h = firstHitWitness(A, m, n, slack, A.subarray(k * n, (k + 1) * n));
+        if (h >= 0 && h < m - 2 * n) sure[h] = 1;
+      }
+      const before = Uint8Array.from(sure);
+      const alive = new Uint8Array(m).fill(1);
+      const sideKnown = new Uint8Array(2 * n);
+      const bbLo = Float64Array.from(lo);
+      const bbHi = Float64Array.from(hi);
+      vertexPass(A, b, m, n, lo, hi, center, slack, sure, alive, sideKnown, bbLo, bbHi, prefilterScratch(n), tolRed);
+      counts.trials++;
+      for (let q = 0; q < m - 2 * n; q++) {
+        const value = refMax(A.subarray(q * n, (q + 1) * n), A, b, m, n, q);
+        if (!alive[q]) {
+          // dropped: its LP over the other rows stays within the redundancy tolerance (the reference rounds to ~1e-8)
+          expect(value, `row ${q} dropped (trial ${trial})`).toBeLessThanOrEqual(b[q] + tolRed + 2e-8);
+          counts.dropped++;
+        }
+        if (sure[q] && !before[q]) {
+          // a facet by witness: its LP breaks it by more than the witness margin
+          expect(value, `row ${q} made a facet (trial ${trial})`).toBeGreaterThan(b[q] + 5e-8);
+          counts.facets++;
+        }
+      }
+      for (let j = 0; j < n; j++) {
+        const e = new Float64Array(n);
+        e[j] = 1;
+        if (sideKnown[2 * j]) {
+          const v = refMax(e, A, b, m, n, -1);
+          expect(bbHi[j]).toBeGreaterThanOrEqual(v - 2e-8);
+          expect(bbHi[j]).toBeLessThanOrEqual(v + 1e-6);
+          counts.sides++;
+        }
+        e[j] = -1;
+        if (sideKnown[2 * j + 1]) {
+          const v = refMax(e, A, b, m, n, -1);
+          expect(bbLo[j]).toBeLessThanOrEqual(-v + 2e-8);
+          expect(bbLo[j]).toBeGreaterThanOrEqual(-v - 1e-6);
+          counts.sides++;
+        }
+      }
+    }
+    // the pass decides most of it (else this test proves little)
+    console.log(`vertexPass on ${counts.trials} random regions: ${counts.dropped} rows dropped, ${counts.facets} facets by witness, ${counts.sides} box sides, all confirmed by javascript-lp-solver`);
+    expect(counts.dropped).toBeGreaterThan(counts.trials);
+    expect(counts.facets).toBeGreaterThan(counts.trials);
+    expect(counts.sides).toBeGreaterThan(2 * counts.trials);
+  });
+});
+
+describe('vertexBound (weak duality at a vertex, common practice) on the unit square', () => {
+  // rows x ≤ 1, −x ≤ 0, y ≤ 1, −y ≤ 0, and x + y ≤ 2 (through the corner (1, 1): degenerate there)
+  const s = Math.SQRT1_2;
+  const A = F([1, 0, -1, 0, 0, 1, 0, -1, s, s]);
+  const b = F([1, 0, 1, 0, 2 * s]);
+  const bound = (c: ArrayLike<number>, W: ArrayLike<number>) => farkasBound(c, A, b, W, 2, [0, 0], [1, 1], prefilterScratch(2));
+  it('x + 2y at the degenerate corner: one of the 2-row subsets proves 3', () => {
+    expect(vertexBound(F([1, 2]), Int32Array.from([0, 2, 4]), 2, bound)).toBeCloseTo(3, 12);
+  });
+  it('x − y at (1, 1) is not in its normal cone: no proof', () => {
+    expect(vertexBound(F([1, -1]), Int32Array.from([0, 2, 4]), 2, bound)).toBe(Infinity);
+  });
+});

@@ -29,7 +29,7 @@ export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, 
 export { solveProblem, formulateFeasible, setupSize, tableProblem, type SolvedProblem, type SetupSize, type TableProblem, type TableProblemOptions } from './table/solve.js';
 export { solvePartition } from './mpqp/solve.js';
 export { joinPartitions, canonicalNeighbours, compareActiveSets, subBox } from './mpqp/canonical.js';
-export { makePart, parsePartJson, joinParts, makeCheckpoint, parseCheckpointJson, parsePartIndex, PART_FORMAT, CHECKPOINT_FORMAT, RUN_STATE_VERSION, type PartFile, type CheckpointFile, type PartIndex } from './table/part.js';
+export { makePart, parsePartJson, joinParts, makeCheckpoint, parseCheckpointJson, parsePartIndex, PART_FORMAT, CHECKPOINT_FORMAT, RUN_STATE_VERSION, type PartFile, type CheckpointFile, type PartIndex, type SubBoxProgress } from './table/part.js';
 export { makeTable, problemHash } from './table/build.js';
 
 // tables: parse, validate, serialise

@@ -17,7 +17,6 @@ import { parseProblem } from '../problem/read.js';
 import { formulate } from '../formulation/index.js';
 import { makeTable, problemHash } from './build.js';
 import type { TableFile } from './format.js';
-import type { SubBoxProgress } from './threads.js';
 
 /** Tag of a part file (`solve --part`). */
 export const PART_FORMAT = 'tessera-part';
@@ -25,6 +24,17 @@ export const PART_FORMAT = 'tessera-part';
 export const CHECKPOINT_FORMAT = 'tessera-checkpoint';
 /** Version of both run-state formats; bump on any change of meaning. */
 export const RUN_STATE_VERSION = 1;
+
+/**
+ * Where the sub-boxes of a threaded exploration stand (stored in a checkpoint beside the union of
+ * the regions): how many sub-boxes, which are finished, and per sub-box the active-set keys of the
+ * regions whose facets are covered inside it.
+ */
+export interface SubBoxProgress {
+  count: number;
+  finished: number[];
+  done: string[][];
+}
 
 /** Which of k sub-boxes (1-based i, as on the command line). */
 export interface PartIndex {

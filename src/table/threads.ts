@@ -24,6 +24,7 @@ import { Worker } from 'node:worker_threads';
 import { subBox } from '../mpqp/canonical.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { tol } from '../tol.js';
+import type { SubBoxProgress } from './part.js';
 
 type Box = { lower: number[]; upper: number[] };
 type RegionBox = { lo: number[]; hi: number[] };
@@ -54,17 +55,6 @@ export type ExploreWorkerEvent =
 
 /** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
 export type ExploreWorkerMessage = { type: 'batch'; job: number; events: ExploreWorkerEvent[] } | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork };
-
-/**
- * Where the sub-boxes of a threaded exploration stand (stored in a checkpoint beside the union of
- * the regions): how many sub-boxes, which are finished, and per sub-box the active-set keys of the
- * regions whose facets are covered inside it.
- */
-export interface SubBoxProgress {
-  count: number;
-  finished: number[];
-  done: string[][];
-}
 
 /** A running exploration: its result, and what the caller may do meanwhile. */
 export interface ThreadedExploration {

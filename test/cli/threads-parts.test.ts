@@ -96,6 +96,12 @@ describe('solve --threads: every worker explores its own sub-box', () => {
         bytes.push(readFileSync(out, 'utf8'));
         agreesWithQuadprog(out, file);
       }
+      // and no holes in the 3-thread table (`gaps`: Monte Carlo points and facet probes; exit 0 = none
+      // found). A sanity check of the CLI path; the outside reference for the laws is quadprog above
+      const g = await runCli(['gaps', at(`${name}-t3.json`)]);
+      expect(g.status, g.stdout + g.stderr).toBe(0);
+      expect(g.stdout).toMatch(/0 landed in a hole/);
+      expect(g.stdout).toMatch(/no holes found/);
       expect(bytes[1] === bytes[0], '2 threads differ from 1').toBe(true);
       expect(bytes[2] === bytes[0], '3 threads differ from 1').toBe(true);
     }, 300_000);

@@ -1,9 +1,9 @@
 import type { Command } from 'commander';
 import { readTableFile } from '../table/file.js';
-import { InputError, readTextInput } from '../io/errors.js';
+import { InputError, readBytesInput, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
 import { CLI } from './common.js';
-import { evaluateCsvChunks, evaluatePoints, parsePointsCsv, parsePointsFlat, type FlatPoints } from '../table/points.js';
+import { evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, type FlatPoints } from '../table/points.js';
 
 /** The points CSV of `path` in θ order (header columns matched by name: the contract's rule). */
 export function readPointsCsv(path: string, thetaNames: string[]): number[][] {
@@ -35,8 +35,9 @@ export function register(program: Command): void {
       if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
       const points: number[][] = [];
       const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
-      const text = opts.points ? readTextInput(opts.points, 'points file') : '';
-      const flat = opts.points ? parsePointsFlat(text, opts.points, table.thetaNames) : empty;
+      // the file's bytes: read by a byte scan, plain cells copied to the output as they are
+      const bytes = opts.points ? readBytesInput(opts.points, 'points file') : new Uint8Array(0);
+      const flat = opts.points ? parsePointsFlat(bytes, opts.points, table.thetaNames) : empty;
       if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
       const clamp = !!opts.clamp;
       if (!opts.quiet && !table.stats.complete)
@@ -55,7 +56,7 @@ export function register(program: Command): void {
         process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
         return;
       }
-      // streamed in chunks of lines: 10⁶ points are ~100 MB of text
-      for (const chunk of evaluateCsvChunks(table, text, flat, points, { clamp })) process.stdout.write(chunk);
+      // streamed in chunks of lines (10⁶ points are ~60 MB of text), each chunk a new byte array
+      for (const chunk of evaluateCsvBytes(table, bytes, flat, points, { clamp })) process.stdout.write(chunk);
     });
 }

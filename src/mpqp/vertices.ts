@@ -15,11 +15,11 @@ import { farkasBound, type PrefilterScratch } from './prefilter.js';
  * a certificate fail (the row goes to its LP), never drop a facet or keep a redundant row.
  */
 
-/** The vertices of a polytope: coordinates (n per vertex) and the rows tight at each (sorted). */
+/** The vertices of a polytope: coordinates (n per vertex) and the rows tight at each (sorted); plain arrays, since V8 allocates many small typed arrays slowly. */
 export interface VertexSet {
   n: number;
-  x: Float64Array[];
-  tight: Int32Array[];
+  x: number[][];
+  tight: number[][];
 }
 
 /**
@@ -27,11 +27,11 @@ export interface VertexSet {
  * boxRow + 2j + 1 (−θ_j ≤ −lo_j) of the caller's A.
  */
 export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<number>, boxRow: number): VertexSet {
-  const x: Float64Array[] = [];
-  const tight: Int32Array[] = [];
+  const x: number[][] = [];
+  const tight: number[][] = [];
   for (let mask = 0; mask < 1 << n; mask++) {
-    const v = new Float64Array(n);
-    const t = new Int32Array(n);
+    const v = new Array<number>(n);
+    const t = new Array<number>(n);
     for (let j = 0; j < n; j++) {
       const up = (mask >> j) & 1;
       v[j] = up ? hi[j] : lo[j];
@@ -80,7 +80,7 @@ function rankOf(A: Float64Array, n: number, rows: ArrayLike<number>, k: number):
 }
 
 /** Sorted intersection of two sorted index lists into `out`; returns its length. */
-function intersect(a: Int32Array, b: Int32Array, out: Int32Array): number {
+function intersect(a: readonly number[], b: readonly number[], out: Int32Array): number {
   let i = 0;
   let j = 0;
   let k = 0;
@@ -96,7 +96,7 @@ function intersect(a: Int32Array, b: Int32Array, out: Int32Array): number {
 }
 
 /** Hash of the sorted rows of T without T[omit] (collisions are checked by the caller). */
-function faceKey(T: Int32Array, omit: number): number {
+function faceKey(T: readonly number[], omit: number): number {
   let h = 0x811c9dc5;
   for (let i = 0; i < T.length; i++) {
     if (i === omit) continue;
@@ -105,20 +105,19 @@ function faceKey(T: Int32Array, omit: number): number {
   return h;
 }
 
-function withRow(t: ArrayLike<number>, k: number, r: number): Int32Array {
-  const out = new Int32Array(k + 1);
-  let p = 0;
+function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
+  const out: number[] = [];
   let placed = false;
   for (let i = 0; i < k; i++) {
     if (!placed && r < t[i]) {
-      out[p++] = r;
+      out.push(r);
       placed = true;
     }
     if (t[i] === r) placed = true;
-    out[p++] = t[i];
+    out.push(t[i]);
   }
-  if (!placed) out[p++] = r;
-  return p === k + 1 ? out : out.subarray(0, p);
+  if (!placed) out.push(r);
+  return out;
 }
 
 /**
@@ -142,8 +141,8 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     for (let v = 0; v < cnt; v++) if (s[v] >= -eps) V.tight[v] = withRow(V.tight[v], V.tight[v].length, r);
     return true;
   }
-  const x: Float64Array[] = [];
-  const tight: Int32Array[] = [];
+  const x: number[][] = [];
+  const tight: number[][] = [];
   for (let v = 0; v < cnt; v++) {
     if (s[v] > eps) continue;
     x.push(V.x[v]);
@@ -173,7 +172,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
   const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
     if (x.length >= maxVertices) return false;
     const t = s[p] / (s[p] - s[q]);
-    const xv = new Float64Array(n);
+    const xv = new Array<number>(n);
     for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
     x.push(xv);
     tight.push(withRow(common, k, r));
@@ -214,7 +213,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
  */
 export function vertexBound(
   c: ArrayLike<number>,
-  T: Int32Array,
+  T: readonly number[],
   n: number,
   bound: (c: ArrayLike<number>, W: ArrayLike<number>) => number,
   maxTries = 32,
@@ -254,8 +253,8 @@ const witnessMargin = 1e-7;
  * `slack` = b − A·center, `sure` the rows already known to be facets.
  *
  * 1. Vertices of the polytope of the sure rows (cut from the box).
- * 2. While a vertex breaks a row that is not sure by more than breakMargin: aim a ray from the
- *    centre at it; the first row hit, when every other row keeps witnessMargin slack at the hit point
+ * 2. For each row in turn, while a vertex breaks it by more than breakMargin and it is not sure:
+ *    aim a ray from the centre at the vertex that breaks it most; the first row hit, when every other row keeps witnessMargin slack at the hit point
  *    p, is a facet: p + σ·a_h satisfies every other row and breaks h by σ ≥ witnessMargin, so the
  *    redundancy LP of h (max a_h·θ over the other rows) is > b_h + σ and keeps it. The row joins the
  *    sure rows and cuts the vertices. A ray without such a witness leaves the row to its LP.
@@ -293,8 +292,7 @@ export function vertexPass(
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
   const vHi = new Float64Array(n);
-  for (let iter = 0; iter < boxRow; iter++) {
-    // the vertices' box first: a row it keeps is broken by no vertex
+  const vertexBox = (): void => {
     vLo.fill(Infinity);
     vHi.fill(-Infinity);
     for (const x of V.x)
@@ -302,37 +300,40 @@ export function vertexPass(
         if (x[j] < vLo[j]) vLo[j] = x[j];
         if (x[j] > vHi[j]) vHi[j] = x[j];
       }
-    let worst = breakMargin;
-    let wr = -1;
-    let wv = -1;
-    for (let r = 0; r < boxRow; r++) {
-      if (sure[r] || toLp[r] || !alive[r]) continue;
+  };
+  vertexBox();
+  // one pass over the rows: a cut only shrinks the polytope, so a row no vertex breaks stays so
+  for (let r = 0; r < boxRow; r++) {
+    while (!sure[r] && !toLp[r] && alive[r]) {
+      // the vertices' box first: a row it keeps is broken by no vertex
       let mx = -b[r];
       for (let j = 0; j < n; j++) {
         const a = A[r * n + j];
         mx += a > 0 ? a * vHi[j] : a * vLo[j];
       }
-      if (mx <= worst) continue;
+      if (mx <= breakMargin) break;
+      let worst = breakMargin;
+      let wv = -1;
       for (let v = 0; v < V.x.length; v++) {
         let s = -b[r];
         const x = V.x[v];
         for (let j = 0; j < n; j++) s += A[r * n + j] * x[j];
         if (s > worst) {
           worst = s;
-          wr = r;
           wv = v;
         }
       }
+      if (wv < 0) break;
+      for (let j = 0; j < n; j++) d[j] = V.x[wv][j] - center[j];
+      const h = firstHitWitness(A, m, n, slack, d);
+      if (h < 0 || h >= boxRow || sure[h]) {
+        toLp[r] = 1;
+        break;
+      }
+      sure[h] = 1;
+      if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
+      vertexBox();
     }
-    if (wr < 0) break;
-    for (let j = 0; j < n; j++) d[j] = V.x[wv][j] - center[j];
-    const h = firstHitWitness(A, m, n, slack, d);
-    if (h < 0 || h >= boxRow || sure[h]) {
-      toLp[wr] = 1;
-      continue;
-    }
-    sure[h] = 1;
-    if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
   }
   const bound = (c: ArrayLike<number>, W: ArrayLike<number>): number => farkasBound(c, A, b, W, n, lo, up, scratch);
   // box sides first: rows the proven box keeps (the builder's own box test) need no certificate
@@ -365,7 +366,7 @@ export function vertexPass(
 }
 
 /** Whether x breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */
-function breaksAny(A: Float64Array, b: Float64Array, n: number, x: Float64Array, rows: Uint8Array, m: number): boolean {
+function breaksAny(A: Float64Array, b: Float64Array, n: number, x: readonly number[], rows: Uint8Array, m: number): boolean {
   for (let q = 0; q < m; q++) {
     if (!rows[q]) continue;
     let s = -b[q];

@@ -116,9 +116,10 @@ export function evaluationCsv(table: TableFile, points: number[][], options: Eva
 
 /**
  * Points parsed into one array (`parsePointsFlat`): point k is values[k·nθ … k·nθ + nθ − 1], θ
- * order. For echoing the input: entry c of point k came from text[from[k·nθ + c], to[k·nθ + c])
- * when that text is exactly what `String(value)` prints (so it can be copied instead of formatted),
- * else from = −1. The arrays are new and owned by the caller.
+ * order. For echoing the input: entry c of point k came from bytes [from[k·nθ + c], to[k·nθ + c])
+ * of the input's UTF-8 encoding (the file's bytes) when that text is exactly what `String(value)`
+ * prints (so it can be copied instead of formatted), else from = −1. The arrays are new and owned by
+ * the caller.
  */
 export interface FlatPoints {
   count: number;
@@ -128,11 +129,36 @@ export interface FlatPoints {
   to: Int32Array;
 }
 
+/**
+ * The bytes [a, b) as a string, one character per byte (the plain grammar is ASCII): a slice of the
+ * whole input decoded once, one byte to one character, on the first need (cells beyond 15 digits go
+ * to `Number`; a slice of one long string costs less than a new string per cell).
+ */
+const wholeText = new WeakMap<Uint8Array, string>();
+const singleByte = new TextDecoder('latin1');
+function ascii(bytes: Uint8Array, a: number, b: number): string {
+  let whole = wholeText.get(bytes);
+  if (whole === undefined) {
+    const native = (bytes as Uint8Array & { latin1Slice?: (a: number, b: number) => string }).latin1Slice;
+    whole = native ? native.call(bytes, 0, bytes.length) : singleByte.decode(bytes);
+    wholeText.set(bytes, whole);
+  }
+  return whole.slice(a, b);
+}
+
+const utf8 = new TextEncoder();
+const utf8Decoder = new TextDecoder();
+
+/** The input as UTF-8 bytes (a string is encoded, bytes are taken as they are). */
+function asBytes(input: string | Uint8Array): Uint8Array {
+  return typeof input === 'string' ? utf8.encode(input) : input;
+}
+
 /** 10⁰ … 10²², every one exact in double (Clinger's fast path). */
 const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
 
 /**
- * One cell text[a, b) of the plain grammar [+-]digits[.digits][(e|E)[+-]digits]: its value (NaN when
+ * One cell text[a, b) (bytes) of the plain grammar [+-]digits[.digits][(e|E)[+-]digits]: its value (NaN when
  * the cell is not of that grammar: the caller then takes the general path). Up to 15 significant
  * digits and a decimal exponent within ±22 give the correctly rounded double by one exact
  * multiplication or division (Clinger 1990, "How to read floating point numbers accurately");
@@ -140,11 +166,11 @@ const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
  * the text is exactly what `String` prints for the value (no sign '+', no exponent, no redundant
  * zero, at most 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
  */
-function plainNumber(text: string, a: number, b: number, canon: Uint8Array): number {
+function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array): number {
   canon[0] = 0;
   let i = a;
   let neg = false;
-  let c = text.charCodeAt(i);
+  let c = text[i];
   let plus = false;
   if (c === 45 || c === 43) {
     neg = c === 45;
@@ -156,7 +182,7 @@ function plainNumber(text: string, a: number, b: number, canon: Uint8Array): num
   let intDigits = 0;
   let intLeadZero = false;
   for (; i < b; i++) {
-    c = text.charCodeAt(i);
+    c = text[i];
     if (c < 48 || c > 57) break;
     if (intDigits === 0 && c === 48) intLeadZero = true;
     intDigits++;
@@ -172,7 +198,7 @@ function plainNumber(text: string, a: number, b: number, canon: Uint8Array): num
   if (i < b && c === 46) {
     dot = true;
     for (i++; i < b; i++) {
-      c = text.charCodeAt(i);
+      c = text[i];
       if (c < 48 || c > 57) break;
       fracDigits++;
       lastFrac = c;
@@ -189,29 +215,29 @@ function plainNumber(text: string, a: number, b: number, canon: Uint8Array): num
     hasExp = true;
     i++;
     let eneg = false;
-    c = text.charCodeAt(i);
+    c = text[i];
     if (i < b && (c === 45 || c === 43)) {
       eneg = c === 45;
       i++;
     }
     let ed = 0;
     for (; i < b; i++) {
-      c = text.charCodeAt(i);
+      c = text[i];
       if (c < 48 || c > 57) return NaN;
-      if (++ed > 5) return Number(text.slice(a, b));
+      if (++ed > 5) return Number(ascii(text, a, b));
       exp = exp * 10 + (c - 48);
     }
     if (ed === 0) return NaN;
     if (eneg) exp = -exp;
   }
   if (i !== b) return NaN;
-  if (digits > 15) return Number(text.slice(a, b));
+  if (digits > 15) return Number(ascii(text, a, b));
   const e10 = exp - fracDigits;
   let v: number;
   if (mant === 0) v = 0;
   else if (e10 >= 0 && e10 <= 22) v = mant * POW10[e10];
   else if (e10 < 0 && e10 >= -22) v = mant / POW10[-e10];
-  else return Number(text.slice(a, b));
+  else return Number(ascii(text, a, b));
   if (neg) v = -v;
   const intOk = intDigits > 0 && (!intLeadZero || intDigits === 1);
   const fracOk = !dot || (fracDigits > 0 && lastFrac !== 48);
@@ -222,9 +248,12 @@ function plainNumber(text: string, a: number, b: number, canon: Uint8Array): num
 
 /**
  * `parsePointsCsv` into one typed array (same rules, same errors, same values bit for bit): lines
- * of plain numbers are read by a character scan, any other line by the general path.
+ * of plain numbers are read by a scan over the bytes, any other line is decoded and takes the
+ * general path. Give the file's bytes (a string is encoded to UTF-8 first); `from`/`to` are offsets
+ * into those bytes.
  */
-export function parsePointsFlat(text: string, path: string, thetaNames: string[]): FlatPoints {
+export function parsePointsFlat(input: string | Uint8Array, path: string, thetaNames: string[]): FlatPoints {
+  const text = asBytes(input);
   const n = thetaNames.length;
   let cap = 1024;
   let values = new Float64Array(cap * n);
@@ -265,27 +294,19 @@ export function parsePointsFlat(text: string, path: string, thetaNames: string[]
     count++;
   };
   while (pos <= L) {
-    let end = text.indexOf('\n', pos);
+    let end = text.indexOf(10, pos);
     if (end < 0) end = L;
     let le = end;
-    if (le > pos && text.charCodeAt(le - 1) === 13) le--;
+    if (le > pos && text[le - 1] === 13) le--;
     lineNo++;
     // the plain path: only digits, signs, dots, exponents and commas, exactly nθ cells, each a number
     let cells = 0;
     let a = pos;
     let plain = le > pos && !first;
+    // (plainNumber turns away a cell with any other byte: the line then takes the general path)
     if (plain)
       for (let i = pos; i <= le; i++) {
-        if (i < le) {
-          const c = text.charCodeAt(i);
-          if (c !== 44) {
-            if (!((c >= 48 && c <= 57) || c === 45 || c === 43 || c === 46 || c === 101 || c === 69)) {
-              plain = false;
-              break;
-            }
-            continue;
-          }
-        }
+        if (i < le && text[i] !== 44) continue;
         if (cells === n) {
           plain = false;
           break;
@@ -302,10 +323,20 @@ export function parsePointsFlat(text: string, path: string, thetaNames: string[]
         cells++;
         a = i + 1;
       }
-    if (plain && cells === n) push(cellV, cellA, cellB, cellC);
+    if (plain && cells === n) {
+      if (count === cap) grow();
+      const o = count * n;
+      for (let j = 0; j < n; j++) {
+        const k = order ? order[j] : j;
+        values[o + j] = cellV[k];
+        from[o + j] = cellC[k] ? cellA[k] : -1;
+        to[o + j] = cellB[k];
+      }
+      count++;
+    }
     else {
       // the general path, exactly parsePointsCsv's rules for this line
-      const line = text.slice(pos, end).replace(/\r$/, '').trim();
+      const line = utf8Decoder.decode(text.subarray(pos, end)).replace(/\r$/, '').trim();
       if (!(line === '' || line.startsWith('#'))) {
         const cs = line.split(',').map((x) => x.trim());
         const nums = cs.map(Number);
@@ -334,10 +365,13 @@ export function parsePointsFlat(text: string, path: string, thetaNames: string[]
 /**
  * The laws of every region packed for evaluation: region r's u(0) = F_r θ + g_r with F_r at
  * F[r·nu·nθ …] (row-major) and g_r at g[r·nu …]. Cached per regions array; `applyAffine`'s order of
- * operations (g first, then + F_ij θ_j in j order), so the values are the same bits.
+ * operations (g first, then + F_ij θ_j in j order), so the values are the same bits. `constant[r·nu
+ * + i]` is 1 when row i of F_r is all zeros (a saturated input): then u_i = g_ri at every θ (g + 0·θ_j
+ * is g, or ±0 when g is ±0, which prints as "0" either way), so the multiply is skipped and the text
+ * of the value is made once per region.
  */
-const lawCache = new WeakMap<object, { F: Float64Array; g: Float64Array }>();
-function packedLaws(table: TableFile): { F: Float64Array; g: Float64Array } {
+const lawCache = new WeakMap<object, { F: Float64Array; g: Float64Array; constant: Uint8Array }>();
+function packedLaws(table: TableFile): { F: Float64Array; g: Float64Array; constant: Uint8Array } {
   const hit = lawCache.get(table.regions);
   if (hit && hit.g.length === table.regions.length * table.dims.nu) return hit;
   const n = table.dims.ntheta;
@@ -345,63 +379,174 @@ function packedLaws(table: TableFile): { F: Float64Array; g: Float64Array } {
   const R = table.regions.length;
   const F = new Float64Array(R * nu * n);
   const g = new Float64Array(R * nu);
+  const constant = new Uint8Array(R * nu);
   for (let r = 0; r < R; r++) {
     const law = table.regions[r].law;
     for (let i = 0; i < nu; i++) {
       g[r * nu + i] = law.g[i];
-      for (let j = 0; j < n; j++) F[(r * nu + i) * n + j] = law.F[i][j];
+      let zero = 1;
+      for (let j = 0; j < n; j++) {
+        const f = law.F[i][j];
+        F[(r * nu + i) * n + j] = f;
+        if (f !== 0) zero = 0;
+      }
+      constant[r * nu + i] = zero;
     }
   }
-  const out = { F, g };
+  const out = { F, g, constant };
   lawCache.set(table.regions, out);
   return out;
 }
 
-/** Seconds spent by `evaluateCsvChunks` in its stages (filled as it runs). */
+/** Seconds spent by `evaluateCsvChunks` / `evaluateCsvBytes` in their stages (added to as they run). */
 export interface EvaluateTimes {
   /** building the k-d tree and packing the laws (on first use per table) */
   index: number;
-  /** locating the points and evaluating their laws */
+  /** locating the points */
   locate: number;
-  /** formatting the CSV text */
+  /** evaluating the laws (and the clamp) at the located points */
+  law: number;
+  /** formatting the CSV bytes */
   format: number;
 }
 
+/** Writes the ASCII string s into out at `at`; returns the end. */
+function put(out: Uint8Array, at: number, s: string): number {
+  for (let i = 0; i < s.length; i++) out[at + i] = s.charCodeAt(i);
+  return at + s.length;
+}
+
+/** Writes the decimal digits of the integer r ≥ −1 into out at `at`; returns the end. */
+function putInt(out: Uint8Array, at: number, r: number): number {
+  if (r < 0) {
+    out[at] = 45;
+    out[at + 1] = 49;
+    return at + 2;
+  }
+  let d = 1;
+  while (d * 10 <= r) d *= 10;
+  for (; d >= 1; d = (d / 10) | 0) {
+    const q = (r / d) | 0;
+    out[at++] = 48 + q;
+    r -= q * d;
+  }
+  return at;
+}
+
 /**
- * `evaluationCsv` for points given as parsed CSV (`parsePointsFlat`), plus `extra` points (θ order)
- * after them, as text chunks of about `chunkPoints` lines each, the header in the first. Byte for
- * byte the text `evaluationCsv` gives for the same points; θ cells that are already in their
- * shortest round-trip form are copied from `text` instead of formatted again. Points are located
- * by the table's shared k-d tree (`sharedTableLocator`, the rule of `evaluateTable`) and the laws
- * evaluated from packed arrays, without an array per point. `times`, when given, receives the
- * seconds spent per stage (`performance.now()`).
+ * The shortest round-trip text of doubles (`String(v)`), remembered for the last value seen in each
+ * of 4096 slots (a hash of the bits): inputs held at a limit, clamped u and grid points repeat the
+ * same values constantly, and `String` is the larger part of the formatting cost.
  */
-export function* evaluateCsvChunks(
+export class NumberText {
+  private readonly keys = new Float64Array(4096).fill(NaN);
+  private readonly texts: string[] = new Array<string>(4096).fill('');
+  private readonly f64 = new Float64Array(1);
+  private readonly u32 = new Uint32Array(this.f64.buffer);
+  text(v: number): string {
+    this.f64[0] = v;
+    const h = (Math.imul(this.u32[0] ^ this.u32[1], 0x9e3779b1) >>> 20) & 4095;
+    // NaN never equals a key; ±0 share a slot's text ("0")
+    if (this.keys[h] === v) return this.texts[h];
+    const t = String(v);
+    this.keys[h] = v;
+    this.texts[h] = t;
+    return t;
+  }
+}
+
+/**
+ * `evaluationCsv` for points given as parsed CSV (`parsePointsFlat`, with the same `input`), plus
+ * `extra` points (θ order) after them, as UTF-8 byte chunks of about `chunkPoints` lines each, the
+ * header in the first. Byte for byte the text `evaluationCsv` gives for the same points:
+ * - θ cells already in their shortest round-trip form are copied from `input` (a whole line at
+ *   once when its cells are all such and in θ order), the others formatted by `String`;
+ * - points are located by the table's shared k-d tree (`sharedTableLocator`, the rule of
+ *   `evaluateTable`) and the laws evaluated from packed arrays, without an array per point;
+ * - a region whose law is constant in every input (saturated) has its whole `,region,u…` tail
+ *   formatted once; other values go through a small cache of `String` results.
+ * Each chunk is a new array the caller may keep. `times`, when given, receives the seconds spent per
+ * stage (`performance.now()`).
+ */
+export function* evaluateCsvBytes(
   table: TableFile,
-  text: string,
+  input: string | Uint8Array,
   points: FlatPoints,
   extra: number[][] = [],
   options: EvaluateOptions & { chunkPoints?: number; times?: EvaluateTimes } = {},
-): Generator<string> {
+): Generator<Uint8Array> {
   const n = table.dims.ntheta;
   const nu = table.dims.nu;
   if (points.ntheta !== n) throw new Error(`points have ${points.ntheta} entries, the table expects ${n}`);
-  const times = options.times ?? { index: 0, locate: 0, format: 0 };
+  const text = points.count > 0 ? asBytes(input) : new Uint8Array(0);
+  const times = options.times ?? { index: 0, locate: 0, law: 0, format: 0 };
   const now = (): number => performance.now() / 1000;
   let t0 = now();
   const index = sharedTableLocator(table.regions, table.box);
-  const { F, g } = packedLaws(table);
+  const { F, g, constant } = packedLaws(table);
   times.index += now() - t0;
+  const R = table.regions.length;
   const total = points.count + extra.length;
   const all = new Float64Array(total * n);
   all.set(points.values);
   for (let k = 0; k < extra.length; k++) for (let j = 0; j < n; j++) all[(points.count + k) * n + j] = extra[k][j];
-  const chunk = Math.max(1, options.chunkPoints ?? 65536);
+  // the clamp of clampInputs, per input: a missing bound is ±∞ (never compares true), NaN stays NaN
+  const clamp = !!options.clamp;
+  const lo = new Float64Array(nu).fill(-Infinity);
+  const hi = new Float64Array(nu).fill(Infinity);
+  for (let i = 0; i < nu; i++) {
+    const a = table.inputLimits.lower[i];
+    const b = table.inputLimits.upper[i];
+    if (a !== null && a !== undefined) lo[i] = a;
+    if (b !== null && b !== undefined) hi[i] = b;
+  }
+  // a constant row gives g only at a finite θ (0·∞ is NaN): points with another entry take the product
+  const finite = (k: number): boolean => {
+    for (let j = 0; j < n; j++) if (!Number.isFinite(all[k * n + j])) return false;
+    return true;
+  };
+  const lawAt = (r: number, i: number, k: number, skipConstant: boolean): number => {
+    let s = g[r * nu + i];
+    if (!(skipConstant && constant[r * nu + i])) {
+      const o = (r * nu + i) * n;
+      for (let j = 0; j < n; j++) s += F[o + j] * all[k * n + j];
+    }
+    if (clamp) {
+      if (s < lo[i]) s = lo[i];
+      if (s > hi[i]) s = hi[i];
+    }
+    return s;
+  };
+  // per region, made on first use: ",r" and, when every input is constant there, ",r,u…\n"
+  const allConstant = new Uint8Array(R);
+  for (let r = 0; r < R; r++) {
+    let c = 1;
+    for (let i = 0; i < nu; i++) if (!constant[r * nu + i]) c = 0;
+    allConstant[r] = c;
+  }
+  const prefixes: (string | undefined)[] = new Array<string | undefined>(R);
+  const prefixOf = (r: number): string => (prefixes[r] ??= `,${r}`);
+  const tails: (string | undefined)[] = new Array<string | undefined>(R);
+  const constantTail = (r: number): string => {
+    let t = tails[r];
+    if (t === undefined) {
+      t = prefixOf(r);
+      for (let i = 0; i < nu; i++) t += `,${String(lawAt(r, i, 0, true))}`;
+      tails[r] = t += '\n';
+    }
+    return t;
+  };
+  const noRegion = ',-1' + ','.repeat(nu) + '\n';
+  const numbers = new NumberText();
+  const chunk = Math.max(1, options.chunkPoints ?? 32768);
   const region = new Int32Array(chunk);
   const u = new Float64Array(chunk * nu);
   const th = new Float64Array(n);
-  const empty = ','.repeat(nu);
-  let head = [...table.thetaNames, 'region', ...table.inputNames].join(',') + '\n';
+  // bytes per line at most: a double prints in ≤ 25 characters, a copied cell is such a text
+  const lineMax = 26 * (n + nu) + 16;
+  let head: Uint8Array | null = utf8.encode([...table.thetaNames, 'region', ...table.inputNames].join(',') + '\n');
+  const from = points.from;
+  const to = points.to;
   for (let k0 = 0; k0 < total; k0 += chunk) {
     const k1 = Math.min(total, k0 + chunk);
     t0 = now();
@@ -413,37 +558,70 @@ export function* evaluateCsvChunks(
         r = locateScan(table.regions, th, tol.inside).region;
       }
       region[k - k0] = r;
-      if (r < 0) continue;
-      for (let i = 0; i < nu; i++) {
-        let s = g[r * nu + i];
-        const o = (r * nu + i) * n;
-        for (let j = 0; j < n; j++) s += F[o + j] * all[k * n + j];
-        u[(k - k0) * nu + i] = s;
-      }
-      if (options.clamp) {
-        const c = clampInputs(u.subarray((k - k0) * nu, (k - k0 + 1) * nu), table.inputLimits);
-        for (let i = 0; i < nu; i++) u[(k - k0) * nu + i] = c[i];
-      }
     }
     const t1 = now();
     times.locate += t1 - t0;
-    let out = head;
-    head = '';
     for (let k = k0; k < k1; k++) {
-      let line = '';
-      for (let j = 0; j < n; j++) {
-        const q = k * n + j;
-        const f = k < points.count ? points.from[q] : -1;
-        line += (j ? ',' : '') + (f >= 0 ? text.slice(f, points.to[q]) : String(all[q]));
-      }
       const r = region[k - k0];
-      line += ',' + r;
-      if (r < 0) line += empty;
-      else for (let i = 0; i < nu; i++) line += ',' + String(u[(k - k0) * nu + i]);
-      out += line + '\n';
+      if (r < 0) continue;
+      const fin = finite(k);
+      if (allConstant[r] && fin) continue;
+      for (let i = 0; i < nu; i++) u[(k - k0) * nu + i] = lawAt(r, i, k, fin);
     }
-    times.format += now() - t1;
-    yield out;
+    const t2 = now();
+    times.law += t2 - t1;
+    const out = new Uint8Array((head ? head.length : 0) + (k1 - k0) * lineMax);
+    let at = 0;
+    if (head) {
+      out.set(head);
+      at = head.length;
+      head = null;
+    }
+    for (let k = k0; k < k1; k++) {
+      const q0 = k * n;
+      // θ: the input line's bytes when its cells are all copies, adjacent and in θ order
+      let whole = k < points.count && from[q0] >= 0;
+      for (let j = 1; whole && j < n; j++) whole = from[q0 + j] >= 0 && from[q0 + j] === to[q0 + j - 1] + 1;
+      if (whole) {
+        for (let i = from[q0], e = to[q0 + n - 1]; i < e; i++) out[at++] = text[i];
+      } else
+        for (let j = 0; j < n; j++) {
+          if (j) out[at++] = 44;
+          const f = k < points.count ? from[q0 + j] : -1;
+          if (f >= 0) for (let i = f, e = to[q0 + j]; i < e; i++) out[at++] = text[i];
+          else at = put(out, at, numbers.text(all[q0 + j]));
+        }
+      const r = region[k - k0];
+      if (r < 0) {
+        at = put(out, at, noRegion);
+        continue;
+      }
+      if (allConstant[r] && finite(k)) {
+        at = put(out, at, constantTail(r));
+        continue;
+      }
+      at = put(out, at, prefixOf(r));
+      for (let i = 0; i < nu; i++) {
+        out[at++] = 44;
+        at = put(out, at, numbers.text(u[(k - k0) * nu + i]));
+      }
+      out[at++] = 10;
+    }
+    times.format += now() - t2;
+    yield out.subarray(0, at);
   }
-  if (total === 0) yield head;
+  if (head) yield head;
+}
+
+/**
+ * `evaluateCsvBytes` as text chunks (the same lines, decoded): for callers that want strings.
+ */
+export function* evaluateCsvChunks(
+  table: TableFile,
+  input: string | Uint8Array,
+  points: FlatPoints,
+  extra: number[][] = [],
+  options: EvaluateOptions & { chunkPoints?: number; times?: EvaluateTimes } = {},
+): Generator<string> {
+  for (const c of evaluateCsvBytes(table, input, points, extra, options)) yield utf8Decoder.decode(c);
 }

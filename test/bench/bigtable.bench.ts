@@ -5,9 +5,11 @@
  *    TESSERA_BENCH_SIZE_REGIONS regions, default 3 000; the first N regions do not depend on N).
  * 2. Evaluation speed on a ~6k-region table (boom-4d-n12, first TESSERA_BENCH_EVAL_REGIONS = 6 000
  *    regions, lean): index build seconds, points/s of the bare locator and of `evaluateTable` on
- *    10⁶ seeded points, then the whole CSV path of `tessera evaluate` stage by stage (parse, index,
- *    locate + law, format) on 10⁶ points written with 7 and with 17 significant digits, against
- *    the sequential scan on a few thousand (target ≥ 10⁶ points/s).
+ *    10⁶ seeded points; then the whole CSV path of `tessera evaluate` on 10⁶ points written with 7
+ *    and with 17 significant digits, in this process stage by stage (read, parse, index, locate,
+ *    law, format, write) and as a cold CLI process (wall points/s, peak MB), and one cold process
+ *    under `node --cpu-prof` summarised as self time per function; the locator against the
+ *    sequential scan on a few thousand (target ≥ 10⁶ points/s wall).
  * 3. A big table end to end, every stage a cold CLI process under /usr/bin/time (wall seconds,
  *    peak resident MB): a generated mpQP over a 3-D θ whose regions are the cells of an
  *    arrangement of planes (a bank of independent saturating channels, invented) is solved lean up
@@ -19,7 +21,7 @@
  * CPU seconds are printed beside wall seconds: the machine is shared, and CPU time is the fairer
  * figure under load (still inflated by contention).
  */
-import { closeSync, existsSync, mkdtempSync, openSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { closeSync, existsSync, mkdtempSync, openSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync, writeSync } from 'node:fs';
 import { spawnSync } from 'node:child_process';
 import { tmpdir, loadavg } from 'node:os';
 import { join } from 'node:path';
@@ -29,7 +31,7 @@ import { readTableFile } from '../../src/table/file.js';
 import { evaluateTable, locateSequential } from '../../src/table/table.js';
 import { tableLocator } from '../../src/table/locator.js';
 import { parseTableJson, tableToJson } from '../../src/table/table.js';
-import { evaluateCsvChunks, parsePointsFlat } from '../../src/table/points.js';
+import { evaluateCsvBytes, parsePointsFlat } from '../../src/table/points.js';
 import type { TableFile } from '../../src/table/format.js';
 
 const dir = join(import.meta.dirname, '..', 'fixtures', 'scale');
@@ -112,23 +114,59 @@ function evaluateBench(): void {
       `  round ${round}: locate ${(pts.length / a.s / 1e6).toFixed(2)} M points/s (${(pts.length / a.cpu / 1e6).toFixed(2)} per CPU s), evaluateTable (locate + law, an array per point) ${(pts.length / b.s / 1e6).toFixed(2)} M points/s (${(pts.length / b.cpu / 1e6).toFixed(2)} per CPU s); ${a.value} of ${pts.length} in a region`,
     );
   }
-  // the whole CSV path of `tessera evaluate` (parse, index, locate + law, format), stage by stage
-  for (const digits of [7, 17]) {
-    const text = pointsCsv(table, pts, digits);
-    for (const round of [1, 2]) {
-      const fresh = parseTableJson(tableToJson(table), 'again'); // a new table object: the index is built again
-      const parse = timed(() => parsePointsFlat(text, 'points.csv', fresh.thetaNames));
-      const times = { index: 0, locate: 0, format: 0 };
-      const c0 = cpu();
-      let bytes = 0;
-      const all = timed(() => {
-        for (const chunk of evaluateCsvChunks(fresh, text, parse.value, [], { times })) bytes += chunk.length;
-      });
-      const n = parse.value.count;
-      console.log(
-        `  CSV path, ${digits} significant digits, round ${round}: parse ${parse.s.toFixed(2)} s (${(n / parse.s / 1e6).toFixed(2)} M/s), index ${times.index.toFixed(2)} s, locate + law ${times.locate.toFixed(2)} s (${(n / times.locate / 1e6).toFixed(2)} M points/s), format ${times.format.toFixed(2)} s (${(n / times.format / 1e6).toFixed(2)} M/s); total ${(parse.s + all.s).toFixed(2)} s = ${(n / (parse.s + all.s) / 1e6).toFixed(2)} M points/s (${(n / (parse.cpu + cpu() - c0) / 1e6).toFixed(2)} per CPU s), ${(bytes / 2 ** 20).toFixed(0)} MB of CSV; target ≥ 1 M points/s`,
-      );
+  // the whole CSV path of `tessera evaluate` in this process, stage by stage: read the points file,
+  // parse, index (bounding-box LPs + k-d tree + packed laws), locate, law, format, write
+  const tmp = mkdtempSync(join(tmpdir(), 'tessera-evalbench-'));
+  try {
+    const tableFile = join(tmp, 'boom.table.json');
+    writeFileSync(tableFile, tableToJson(table));
+    for (const digits of [7, 17]) {
+      const ptsFile = join(tmp, `points-${digits}.csv`);
+      writeFileSync(ptsFile, pointsCsv(table, pts, digits));
+      for (const round of [1, 2]) {
+        const fresh = parseTableJson(tableToJson(table), 'again'); // a new table object: the index is built again
+        const c0 = cpu();
+        const t0 = performance.now();
+        const read = timed(() => readFileSync(ptsFile));
+        const parse = timed(() => parsePointsFlat(read.value, 'points.csv', fresh.thetaNames));
+        const times = { index: 0, locate: 0, law: 0, format: 0 };
+        let bytes = 0;
+        let write = 0;
+        const fd = openSync(join(tmp, 'out.csv'), 'w');
+        try {
+          for (const chunk of evaluateCsvBytes(fresh, read.value, parse.value, [], { times })) {
+            const w0 = performance.now();
+            writeSync(fd, chunk);
+            write += (performance.now() - w0) / 1000;
+            bytes += chunk.length;
+          }
+        } finally {
+          closeSync(fd);
+        }
+        const wall = (performance.now() - t0) / 1000;
+        const n = parse.value.count;
+        const f = (x: number): string => x.toFixed(2);
+        console.log(
+          `  in process, ${digits} significant digits, round ${round}: read ${f(read.s)} s, parse ${f(parse.s)} s, index ${f(times.index)} s, locate ${f(times.locate)} s, law ${f(times.law)} s, format ${f(times.format)} s, write ${f(write)} s; total ${f(wall)} s = ${(n / wall / 1e6).toFixed(2)} M points/s (${(n / (cpu() - c0) / 1e6).toFixed(2)} per CPU s), ${(bytes / 2 ** 20).toFixed(0)} MB of CSV; load ${loadavg()[0].toFixed(1)}`,
+        );
+      }
+      // a cold `tessera evaluate` process (start-up, table read, everything), twice
+      for (const round of [1, 2]) {
+        const r = cliStage(['evaluate', tableFile, '--points', ptsFile, '-q'], join(tmp, 'out.csv'));
+        console.log(`  cold CLI, ${digits} significant digits, round ${round}: exit ${r.status}, ${r.s.toFixed(2)} s wall = ${(pts.length / r.s / 1e6).toFixed(2)} M points/s, peak ${r.mb.toFixed(0)} MB; load ${loadavg()[0].toFixed(1)}; target ≥ 1 M points/s`);
+      }
     }
+    // where a cold process spends its time: node --cpu-prof, self time by function
+    const profDir = join(tmp, 'prof');
+    const r = cliStage(['evaluate', tableFile, '--points', join(tmp, 'points-7.csv'), '-q'], join(tmp, 'out.csv'), ['--cpu-prof', `--cpu-prof-dir=${profDir}`]);
+    const prof = readdirSync(profDir).find((x) => x.endsWith('.cpuprofile'));
+    if (r.status === 0 && prof) {
+      const top = profileSelfTimes(JSON.parse(readFileSync(join(profDir, prof), 'utf8')) as CpuProfile).slice(0, 10);
+      console.log(`  cold CLI under --cpu-prof (7 digits; ${r.s.toFixed(2)} s wall), self time by function:`);
+      for (const [name, ms] of top) console.log(`    ${ms.toFixed(0).padStart(6)} ms  ${name}`);
+    }
+  } finally {
+    rmSync(tmp, { recursive: true, force: true });
   }
   const M = 3000;
   let same = 0;
@@ -167,12 +205,34 @@ export function channelProblem(m: number, d: number): unknown {
   return { name: `channels-${m}-${d}d`, description: 'bank of independent saturating channels (invented; a scaling bench)', mpqp: { H, F, G, w, E, outputs: 1 }, parameters: { lower: Array(d).fill(-1), upper: Array(d).fill(1) } };
 }
 
+/** The parts of a V8 .cpuprofile (node --cpu-prof) that the summary reads. */
+interface CpuProfile {
+  nodes: { id: number; callFrame: { functionName: string; url: string; lineNumber: number } }[];
+  samples: number[];
+  timeDeltas: number[];
+}
+
+/** Self time per function (ms), largest first, from a V8 CPU profile. */
+function profileSelfTimes(p: CpuProfile): [string, number][] {
+  const byNode = new Map<number, number>();
+  p.samples.forEach((id, i) => byNode.set(id, (byNode.get(id) ?? 0) + (p.timeDeltas[i] ?? 0) / 1000));
+  const byName = new Map<string, number>();
+  for (const node of p.nodes) {
+    const ms = byNode.get(node.id) ?? 0;
+    const f = node.callFrame;
+    const where = f.url ? `${f.url.split('/').slice(-2).join('/')}:${f.lineNumber + 1}` : '';
+    const name = `${f.functionName || '(anonymous)'} ${where}`.trim();
+    byName.set(name, (byName.get(name) ?? 0) + ms);
+  }
+  return [...byName].sort((a, b) => b[1] - a[1]);
+}
+
 /** One cold CLI process under /usr/bin/time: wall seconds, peak resident MB, exit code, stdout to `stdoutFile` when given. */
-export function cliStage(args: string[], stdoutFile?: string): { s: number; mb: number; status: number | null; out: string } {
+export function cliStage(args: string[], stdoutFile?: string, nodeArgs: string[] = []): { s: number; mb: number; status: number | null; out: string } {
   const cliPath = join(import.meta.dirname, '..', '..', 'dist', 'src', 'cli', 'main.js');
   const fd = stdoutFile ? openSync(stdoutFile, 'w') : 'pipe';
   try {
-    const r = spawnSync('/usr/bin/time', ['-f', 'TIME %e %M', process.execPath, cliPath, ...args], { encoding: 'utf8', stdio: ['ignore', fd, 'pipe'], maxBuffer: 1 << 26 });
+    const r = spawnSync('/usr/bin/time', ['-f', 'TIME %e %M', process.execPath, ...nodeArgs, cliPath, ...args], { encoding: 'utf8', stdio: ['ignore', fd, 'pipe'], maxBuffer: 1 << 26 });
     const m = /TIME ([\d.]+) (\d+)/.exec(r.stderr ?? '');
     return { s: m ? Number(m[1]) : NaN, mb: m ? Number(m[2]) / 1024 : NaN, status: r.status, out: (r.stdout ?? '') + (r.stderr ?? '').replace(/TIME .*\n?/, '') };
   } finally {

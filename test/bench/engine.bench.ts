@@ -105,6 +105,7 @@ export async function run(): Promise<void> {
   console.log('region-build proofs on/off, paired and alternated (median of 3):');
   proofsPaired('boom-4d-n8', 1500);
   proofsPaired('mixer-5d-n10', 1500);
+  proofsPaired('glider-2d-n40', 1500);
   const ex = readdirSync(join(root, 'examples')).filter((f) => /\.(json|ya?ml)$/.test(f)).sort();
   for (const f of ex) {
     const loaded = loadProblem(join(root, 'examples', f));
@@ -143,27 +144,39 @@ export async function run(): Promise<void> {
 }
 
 /**
- * Region-build proofs (src/mpqp/prefilter.ts) on and off, paired and alternated in this process on
- * the 4-D and 5-D scale fixtures: LPs per region (region build and facet cover apart) and warm
- * regions/s, the first `limit` regions of each.
+ * Region-build proofs (the vertex pass of src/mpqp/vertices.ts and the certificates of
+ * src/mpqp/prefilter.ts) on and off, paired and alternated in this process on the 4-D, 5-D and 2-D
+ * scale fixtures: LPs per region (region build and facet cover apart), QPs and candidates per
+ * region, and warm regions/s by the wall clock and per CPU second, the first `limit` regions of each.
  */
 function proofsPaired(name: string, limit: number): void {
   const mpqp = buildMpqp(loadProblem(join(root, 'test', 'fixtures', 'scale', `${name}.json`)));
   solvePartition(mpqp, { maxRegions: 200 }); // warm-up
   const times: Record<string, number[]> = { on: [], off: [] };
+  const cpu: Record<string, number[]> = { on: [], off: [] };
   const info: Record<string, string> = {};
   let regions = 0;
+  let counts = '';
   for (let r = 0; r < 3; r++)
     for (const k of r % 2 ? ['off', 'on'] : ['on', 'off']) {
       const t0 = performance.now();
+      const c0 = process.cpuUsage();
       const p = solvePartition(mpqp, { maxRegions: limit, strategy: { proofs: k === 'on' } });
+      const cu = process.cpuUsage(c0);
       times[k].push((performance.now() - t0) / 1000);
+      cpu[k].push((cu.user + cu.system) / 1e6);
       regions = p.stats.regions;
       const w = p.work!;
-      info[k] = `LPs/region ${(p.stats.lps / regions).toFixed(1)} (region build ${(w.regionLps / regions).toFixed(1)}, cover ${(w.coverLps / regions).toFixed(1)})`;
+      info[k] = `LPs/region ${(p.stats.lps / regions).toFixed(2)} (region build ${(w.regionLps / regions).toFixed(2)}, cover ${(w.coverLps / regions).toFixed(2)})`;
+      counts = `QPs/region ${(p.stats.qps / regions).toFixed(2)}, candidates/region ${(p.stats.candidates / regions).toFixed(2)}`;
     }
   const med = (x: number[]) => [...x].sort((a, b) => a - b)[Math.floor(x.length / 2)];
   const on = med(times.on);
   const off = med(times.off);
-  console.log(`  ${name.padEnd(14)} ${regions} regions  proofs on: ${info.on}, ${(regions / on).toFixed(0)} regions/s  off: ${info.off}, ${(regions / off).toFixed(0)} regions/s  time off/on ${(off / on).toFixed(2)}`);
+  // CPU seconds of this process beside the wall clock: on a shared machine the wall clock carries the other jobs' load
+  const cOn = med(cpu.on);
+  const cOff = med(cpu.off);
+  console.log(
+    `  ${name.padEnd(14)} ${regions} regions, ${counts}  proofs on: ${info.on}, ${(regions / on).toFixed(0)} regions/s (${(regions / cOn).toFixed(0)} per CPU s)  off: ${info.off}, ${(regions / off).toFixed(0)} regions/s (${(regions / cOff).toFixed(0)} per CPU s)  time off/on ${(off / on).toFixed(2)}, CPU ${(cOff / cOn).toFixed(2)}; load ${loadavg()[0].toFixed(1)}`,
+  );
 }

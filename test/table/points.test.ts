@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { evaluateCsvChunks, evaluationCsv, parsePointsCsv, parsePointsFlat } from '../../src/table/points.js';
+import { evaluateCsvBytes, evaluateCsvChunks, evaluationCsv, NumberText, parsePointsCsv, parsePointsFlat } from '../../src/table/points.js';
 import type { TableFile } from '../../src/table/format.js';
 import { qpReference } from '../helpers/reference.js';
 import { rng, root, solved } from '../helpers/solved.js';
@@ -15,7 +15,9 @@ import { runCli } from '../helpers/cli.js';
 //   as v) — a cell is copied only where it equals that text;
 // - location: the rule applied literally by a sequential scan written out below ("common practice":
 //   the lowest index holding θ exactly, else the least largest residual within tol.inside = 1e-8);
-// - u(0): quadprog (Goldfarb–Idnani dual QP, test/helpers/reference.ts) at each point, within 1e-6.
+// - u(0): quadprog (Goldfarb–Idnani dual QP, test/helpers/reference.ts) at each point, within 1e-6;
+//   and, for the exact text, the region's law applied literally (g_i + F_i1 θ_1 + … in that order,
+//   then the clamp to the input limits) printed by ECMAScript's Number::toString (`String`).
 
 /** A cell in one of many spellings of a number (and, rarely, not a number at all). */
 function cellText(rnd: () => number): string {
@@ -85,14 +87,20 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
   it('reads every cell as Number does and copies only cells that String prints the same', () => {
     const rnd = rng(4242);
     const names = ['a', 'b', 'c'];
-    const lines: string[] = ['# seeded cells', 'c, a ,b'];
+    // a comment beyond ASCII first: copied cells are located by byte offsets into the UTF-8 text
+    const lines: string[] = ['# seeded cells, θ in º — ü', 'c, a ,b'];
     for (let k = 0; k < 4000; k++) {
       if (rnd() < 0.02) lines.push(rnd() < 0.5 ? '' : '# note');
       lines.push([cellText(rnd), cellText(rnd), cellText(rnd)].join(','));
     }
     const text = lines.join(rnd() < 2 ? '\r\n' : '\n') + '\n';
     const ref = literalRead(text);
+    const bytes = new TextEncoder().encode(text);
     const got = parsePointsFlat(text, 'p.csv', names);
+    // the same from the bytes as from the string
+    const fromBytes = parsePointsFlat(bytes, 'p.csv', names);
+    expect(fromBytes.values).toEqual(got.values);
+    expect(fromBytes.from).toEqual(got.from);
     expect(got.count).toBe(ref.length - 1); // the header
     let copied = 0;
     for (let k = 0; k < got.count; k++) {
@@ -104,7 +112,7 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
         expect(Object.is(got.values[q], values[cols[j]]), `line ${k + 3} θ${j}: "${cells[cols[j]]}"`).toBe(true);
         if (got.from[q] >= 0) {
           copied++;
-          expect(text.slice(got.from[q], got.to[q])).toBe(String(values[cols[j]]));
+          expect(new TextDecoder().decode(bytes.subarray(got.from[q], got.to[q]))).toBe(String(values[cols[j]]));
         }
       }
     }
@@ -220,6 +228,144 @@ describe('evaluateCsvChunks (the CSV path of tessera evaluate)', () => {
         cells.slice(n + 1).forEach((x, i) => expect(Math.abs(Number(x) - Math.min(hi[i], Math.max(lo[i], ref.z[i])))).toBeLessThan(1e-6));
       });
       expect(compared).toBeGreaterThan(100);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});
+
+/** u(0) of region r at θ applied literally (g first, then + F_ij θ_j in j order), clamped when asked. */
+function literalLaw(t: TableFile, r: number, th: number[], clamp: boolean): number[] {
+  const { F, g } = t.regions[r].law;
+  return g.map((gi, i) => {
+    let s = gi;
+    for (let j = 0; j < th.length; j++) s += F[i][j] * th[j];
+    const lo = t.inputLimits.lower[i];
+    const hi = t.inputLimits.upper[i];
+    if (clamp && lo !== null && lo !== undefined && s < lo) s = lo;
+    if (clamp && hi !== null && hi !== undefined && s > hi) s = hi;
+    return s;
+  });
+}
+
+/** Every line of an evaluate CSV against the literal rules: θ as String prints it, the literal scan's region, String of the literal law. */
+function checkCsvLiterally(t: TableFile, csv: string, thetas: number[][], clamp: boolean): { constant: number; inRegion: number } {
+  const lines = csv.split('\n');
+  expect(lines[0]).toBe([...t.thetaNames, 'region', ...t.inputNames].join(','));
+  expect(lines[lines.length - 1]).toBe('');
+  expect(lines.length - 2).toBe(thetas.length);
+  const n = t.dims.ntheta;
+  let constant = 0;
+  let inRegion = 0;
+  thetas.forEach((th, k) => {
+    const cells = lines[k + 1].split(',');
+    expect(cells.slice(0, n)).toEqual(th.map((v) => String(v)));
+    const r = literalLocate(t, th);
+    expect(Number(cells[n]), `θ = ${th}`).toBe(r);
+    if (r < 0) {
+      expect(cells.slice(n + 1)).toEqual(t.inputNames.map(() => ''));
+      return;
+    }
+    inRegion++;
+    if (t.regions[r].law.F.every((row) => row.every((f) => f === 0))) constant++;
+    expect(cells.slice(n + 1), `θ = ${th}, region ${r}`).toEqual(literalLaw(t, r, th, clamp).map((v) => String(v)));
+  });
+  return { constant, inRegion };
+}
+
+describe('the formatting of tessera evaluate against String and the literal rules', () => {
+  it('NumberText (the String cache) prints what String prints, on repeated, random and edge doubles', () => {
+    // reference: ECMAScript Number::toString (String(v)); 2·10⁶ values, a third of them repeats
+    const cache = new NumberText();
+    const f64 = new Float64Array(1);
+    const u32 = new Uint32Array(f64.buffer);
+    const rnd = rng(2026);
+    const edge = [0, -0, 1, -1, 5e-324, -5e-324, 2.2250738585072014e-308, 1.7976931348623157e308, 1e21, 999999999999999900000, 1e-6, 1e-7, 0.1, 0.3, 2 ** 53, 2 ** 53 + 2, 123e-20, 1.9999999999999993, -2, NaN, Infinity, -Infinity];
+    const recent: number[] = [];
+    let checked = 0;
+    for (let k = 0; k < 2_000_000; k++) {
+      let v: number;
+      const pick = rnd();
+      if (pick < 0.05) v = edge[Math.floor(rnd() * edge.length)];
+      else if (pick < 0.35 && recent.length) v = recent[Math.floor(rnd() * recent.length)];
+      else if (pick < 0.65) {
+        // any bit pattern: subnormals, huge and tiny exponents
+        u32[0] = Math.floor(rnd() * 2 ** 32);
+        u32[1] = Math.floor(rnd() * 2 ** 32);
+        v = f64[0];
+      } else v = (rnd() - 0.5) * 10 ** Math.floor(rnd() * 40 - 20);
+      if (recent.length < 64) recent.push(v);
+      else recent[k % 64] = v;
+      const got = cache.text(v);
+      if (got !== String(v)) expect(got, `bits ${u32[1].toString(16)} ${u32[0].toString(16)}`).toBe(String(v));
+      checked++;
+    }
+    expect(checked).toBe(2_000_000);
+  });
+
+  it('saturated (constant-law) regions, the clamp, random and facet points: every cell as the literal rules print it', () => {
+    // the saturated laws of a solved table have F rows of ~1e-17, not 0: rows below 1e-12 are set to
+    // exactly 0 here (a table may hold such laws), so that the constant-law path is taken
+    const solvedTable = solved(join(root, 'examples', 'positioning-axis.yaml')).table;
+    const table: TableFile = structuredClone(solvedTable);
+    for (const r of table.regions) r.law.F = r.law.F.map((row) => (row.every((f) => Math.abs(f) < 1e-12) ? row.map(() => 0) : row));
+    const n = table.dims.ntheta;
+    const rnd = rng(515);
+    const thetas: number[][] = [];
+    for (let k = 0; k < 3000; k++) thetas.push(Array.from({ length: n }, (_, j) => table.box.lower[j] + (1.2 * rnd() - 0.1) * (table.box.upper[j] - table.box.lower[j])));
+    // on a facet of each region (its Chebyshev centre moved onto a row), and the centres themselves
+    for (const r of table.regions) {
+      const c = r.chebyshev.center;
+      thetas.push([...c]);
+      r.A.forEach((a, i) => {
+        let s = r.b[i];
+        let nn = 0;
+        for (let j = 0; j < n; j++) {
+          s -= a[j] * c[j];
+          nn += a[j] * a[j];
+        }
+        if (i % 3 === 0) thetas.push(c.map((x, j) => x + (s * a[j]) / nn));
+      });
+    }
+    // written in a mix of spellings (the 7-digit ones are copied, 17-digit ones formatted again)
+    const text = thetas.map((th, k) => th.map((v) => (k % 2 ? String(v) : String(Number(v.toPrecision(7))))).join(',')).join('\n') + '\n';
+    const read = thetas.map((th, k) => (k % 2 ? th : th.map((v) => Number(v.toPrecision(7)))));
+    const flat = parsePointsFlat(text, 'p.csv', table.thetaNames);
+    for (const clamp of [false, true]) {
+      const chunks = [...evaluateCsvBytes(table, new TextEncoder().encode(text), flat, [], { clamp, chunkPoints: 501 })];
+      const csv = chunks.map((c) => new TextDecoder().decode(c)).join('');
+      const { constant, inRegion } = checkCsvLiterally(table, csv, read, clamp);
+      expect(inRegion).toBeGreaterThan(1500);
+      expect(constant).toBeGreaterThan(100); // the saturated shortcut was taken
+      // the string chunks carry the same text
+      expect([...evaluateCsvChunks(table, text, flat, [], { clamp, chunkPoints: 501 })].join('')).toBe(csv);
+    }
+  });
+
+  it('through the CLI: a byte-order mark, CRLF, a non-ASCII comment and a reordered header', async () => {
+    const { table } = solved(join(root, 'examples', 'positioning-axis.yaml'));
+    const dir = mkdtempSync(join(tmpdir(), 'tessera-points-'));
+    try {
+      const tablePath = join(dir, 't.json');
+      const { tableToJson } = await import('../../src/table/table.js');
+      writeFileSync(tablePath, tableToJson(table));
+      const n = table.dims.ntheta;
+      const rnd = rng(616);
+      const thetas = Array.from({ length: 2000 }, (_, k) => Array.from({ length: n }, (_, j) => {
+        const v = table.box.lower[j] + rnd() * (table.box.upper[j] - table.box.lower[j]);
+        return k % 3 === 0 ? v : Number(v.toPrecision(4));
+      }));
+      const names = [...table.thetaNames].reverse();
+      const rows = thetas.map((th, k) => [...th].reverse().map((v) => (k % 5 === 1 ? `+${v}`.replace('+-', '-') : String(v))).join(','));
+      const csv = '\ufeff# θ drawn uniformly — ±\r\n' + names.join(',') + '\r\n' + rows.join('\r\n') + '\r\n';
+      writeFileSync(join(dir, 'p.csv'), csv);
+      for (const clamp of [false, true]) {
+        const r = await runCli(['evaluate', tablePath, '--points', join(dir, 'p.csv'), '-q', ...(clamp ? ['--clamp'] : [])]);
+        expect(r.stderr).toBe('');
+        expect(r.status).toBe(0);
+        const { inRegion } = checkCsvLiterally(table, r.stdout, thetas, clamp);
+        expect(inRegion).toBeGreaterThan(1000);
+      }
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }

@@ -81,16 +81,40 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     return true;
   };
   const a = new Array<number>(nt);
+  const { G, E, w } = problem;
+  const { ptr, idx } = nonzerosOf(problem);
+  // the sums run over G_i's nonzeros in column order: the same partial sums as over every column,
+  // since adding a zero product changes nothing but, at most, the sign of a zero sum; a sum that
+  // ends at zero is redone over every column, so the rows keep their bits (zero signs included)
+  let finite = true;
+  for (let q = 0; q < nz * nt && finite; q++) finite = Number.isFinite(Zth[q]);
+  for (let q = 0; q < nz && finite; q++) finite = Number.isFinite(zc[q]);
   for (let i = 0; i < nc; i++) {
     if (inA[i]) continue;
     // G_i z(θ) − w_i − E_i θ ≤ 0
+    const p0 = finite ? ptr[i] : 0;
+    const p1 = finite ? ptr[i + 1] : 0;
     for (let j = 0; j < nt; j++) {
-      let s = -problem.E[i * nt + j];
-      for (let q = 0; q < nz; q++) s += problem.G[i * nz + q] * Zth[q * nt + j];
+      let s = -E[i * nt + j];
+      for (let p = p0; p < p1; p++) {
+        const q = idx[p];
+        s += G[i * nz + q] * Zth[q * nt + j];
+      }
+      if (s === 0 || !finite) {
+        s = -E[i * nt + j];
+        for (let q = 0; q < nz; q++) s += G[i * nz + q] * Zth[q * nt + j];
+      }
       a[j] = s;
     }
-    let c = -problem.w[i];
-    for (let q = 0; q < nz; q++) c += problem.G[i * nz + q] * zc[q];
+    let c = -w[i];
+    for (let p = p0; p < p1; p++) {
+      const q = idx[p];
+      c += G[i * nz + q] * zc[q];
+    }
+    if (c === 0 || !finite) {
+      c = -w[i];
+      for (let q = 0; q < nz; q++) c += G[i * nz + q] * zc[q];
+    }
     if (!push(a.slice(), -c, 'primal', i)) return { ok: false, reason: 'empty' };
   }
   for (let p = 0; p < k; p++) {
@@ -152,7 +176,11 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   // affine law, and (unless lean) the whole move sequence and the value function
   const rowsOut = lean ? lawSize : nz;
   const movesF: number[][] = [];
-  for (let i = 0; i < rowsOut; i++) movesF.push(Array.from(Zth.subarray(i * nt, (i + 1) * nt)));
+  for (let i = 0; i < rowsOut; i++) {
+    const row = new Array<number>(nt);
+    for (let j = 0; j < nt; j++) row[j] = Zth[i * nt + j];
+    movesF.push(row);
+  }
   const movesG = Array.from(zc.subarray(0, rowsOut));
   const region: Omit<CriticalRegion, 'id'> = {
     activeSet: [...activeSet].sort((x, y) => x - y),
@@ -167,6 +195,23 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     region.value = valueFunction(problem, Zth, zc);
   }
   return { ok: true, region, bbox: thin.bbox };
+}
+
+/** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), per problem. */
+const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
+function nonzerosOf(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array } {
+  const hit = gNonzeros.get(problem);
+  if (hit) return hit;
+  const { G, nc, nz } = problem;
+  const ptr = new Int32Array(nc + 1);
+  const cols: number[] = [];
+  for (let i = 0; i < nc; i++) {
+    for (let q = 0; q < nz; q++) if (G[i * nz + q] !== 0) cols.push(q);
+    ptr[i + 1] = cols.length;
+  }
+  const out = { ptr, idx: Int32Array.from(cols) };
+  gNonzeros.set(problem, out);
+  return out;
 }
 
 /** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */

@@ -23,13 +23,13 @@ export { tol, type Tolerances } from './tol.js';
 export { parseProblem, parseProblemText } from './problem/read.js';
 export type { Bounds, LoadedProblem, MpcModel, TerminalKind, SoftLimits, TerminalSet } from './problem/types.js';
 export { formulate, buildMpqp, type Formulation } from './formulation/index.js';
-export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition, ExplorationState, ExplorationWork, ShareChannel, SharedRegion } from './mpqp/types.js';
+export type { MpqpProblem, CriticalRegion, AffineMap, QuadraticForm, FacetInfo, SolveOptions, Progress, PartitionStats, Partition, ExplorationState, ExplorationWork, ExplorationListener } from './mpqp/types.js';
 
 // solving
 export { solveProblem, formulateFeasible, setupSize, tableProblem, type SolvedProblem, type SetupSize, type TableProblem, type TableProblemOptions } from './table/solve.js';
 export { solvePartition } from './mpqp/solve.js';
 export { joinPartitions, canonicalNeighbours, compareActiveSets, subBox } from './mpqp/canonical.js';
-export { makePart, parsePartJson, joinParts, makeCheckpoint, parseCheckpointJson, parsePartIndex, PART_FORMAT, CHECKPOINT_FORMAT, RUN_STATE_VERSION, type PartFile, type CheckpointFile, type PartIndex } from './table/part.js';
+export { makePart, parsePartJson, joinParts, makeCheckpoint, parseCheckpointJson, parsePartIndex, PART_FORMAT, CHECKPOINT_FORMAT, RUN_STATE_VERSION, type PartFile, type CheckpointFile, type PartIndex, type SubBoxProgress } from './table/part.js';
 export { makeTable, problemHash } from './table/build.js';
 
 // tables: parse, validate, serialise

@@ -5,7 +5,7 @@ import { loadProblem } from '../problem/index.js';
 import type { Layout } from '../formulation/layout.js';
 import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
 import { exploreThreaded, type ThreadedOptions } from '../table/threads.js';
-import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex } from '../table/part.js';
+import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex, type SubBoxProgress } from '../table/part.js';
 import { subBox } from '../mpqp/canonical.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTextInput } from '../io/errors.js';
@@ -34,8 +34,8 @@ const progressLine = (p: Progress) => `\r  candidates ${p.candidates}  regions $
 async function explore(
   mpqp: MpqpProblem,
   options: ThreadedOptions,
-  checkpoint: { write: (state: ExplorationState) => void; every: number } | null,
-): Promise<{ partition: Partition; state: () => ExplorationState }> {
+  checkpoint: { write: (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => void; every: number } | null,
+): Promise<{ partition: Partition; state: () => { state: ExplorationState; subBoxes: SubBoxProgress } }> {
   const run = exploreThreaded(mpqp, options);
   let interrupts = 0;
   const onSigint = () => {
@@ -72,7 +72,7 @@ export function register(program: Command): void {
     .option('--lp <engine>', 'LP engine: kernel (typed-array, default) or reference (javascript-lp-solver)', 'kernel')
     .option('--setup-limit <MiB>', 'refuse problems whose condensed set-up is estimated above this many MiB (default 2048)', positive('--setup-limit', false), 2048)
     .option('--force', 'set up the problem even above --setup-limit')
-    .option('--threads <n>', `worker threads (default: all cores, here ${availableParallelism()}); the table is the same bytes for every n`, positive('--threads', true))
+    .option('--threads <n>', `worker threads, each exploring its own sub-box of the parameter box (default: all cores, here ${availableParallelism()}); the table is the same bytes for every n`, positive('--threads', true))
     .option('--part <i/k>', 'explore only the i-th of k sub-boxes of the parameter box and write a part file (join k of them with `tessera join`)')
     .option('--checkpoint <file>', 'write the exploration state to this .json file every --checkpoint-every seconds, at a limit and at Ctrl-C')
     .option(`--checkpoint-every ${SECONDS}`, 'seconds between checkpoints (default 30)', positive('--checkpoint-every', false), 30)
@@ -90,6 +90,7 @@ export function register(program: Command): void {
       if (opts.checkpoint) checkOutputPath(opts.checkpoint, '--checkpoint', { kind: 'file', extensions: ['.json'], what: 'a JSON checkpoint' });
       const loaded = loadProblem(problemPath);
       let resume: ExplorationState | null = null;
+      let resumeSubBoxes: SubBoxProgress | null = null;
       let lean = !!opts.lean;
       if (opts.resume) {
         const cp = parseCheckpointJson(readTextInput(opts.resume, 'checkpoint'), opts.resume, loaded);
@@ -99,6 +100,7 @@ export function register(program: Command): void {
         if (opts.lean && !cp.lean) throw new InputError(opts.resume, 'lean', 'the checkpoint holds full regions; resume it without --lean (or start again with --lean)');
         part = cp.part;
         resume = cp.state;
+        resumeSubBoxes = cp.subBoxes ?? null;
         lean = cp.lean;
       }
       // guard: the condensed problem's size is known from the dimensions before anything is built
@@ -121,7 +123,7 @@ export function register(program: Command): void {
       // the time limit covers set-up as well: the exploration gets what is left
       const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
       const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
-      const writeCheckpoint = (state: ExplorationState) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, state, lean)));
+      const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
       const { partition, state } = await explore(
         mpqp,
         {
@@ -132,6 +134,7 @@ export function register(program: Command): void {
           lean,
           within,
           resume,
+          resumeSubBoxes,
           onProgress: live
             ? (p) => {
                 shown = true;

@@ -81,9 +81,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     lastReport = now;
     options.onProgress({ candidates: stats.candidates, regions: regions.length, lps: lp.lps, qps: stats.qps, elapsedSeconds: (now - t0) / 1000 });
   };
-  const share = options.share;
+  const listener = options.listener;
   const stopNow = (): boolean => {
-    if (share) integrate(share.receive());
     if (options.maxRegions !== undefined && regions.length >= options.maxRegions) return mark('max-regions');
     if (options.timeLimit !== undefined && (performance.now() - t0) / 1000 >= options.timeLimit) return mark('time-limit');
     if (options.shouldStop?.()) return mark('interrupted');
@@ -117,7 +116,6 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   /** regions whose facets this exploration is to cover (ids; each with the key it stands for), and where it stands */
   const pending: { id: number; key: string }[] = [];
   let head = 0;
-  const owns = (key: string): boolean => !share || share.owns(key);
   const done = new Set<string>(options.resume?.done ?? []);
   /** Everything needed to continue: the regions known, the keys whose facets are fully covered, the counters. */
   const exportState = (): ExplorationState => {
@@ -131,12 +129,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     };
   };
   /**
-   * Take in regions found elsewhere (another thread, or a saved state): a key already known is
-   * skipped, a copy of a known region under another active set maps to it; the rest are added with
-   * empty neighbour lists (those held indices of the sender). Owned ones not yet covered are queued.
+   * Take in the regions of a saved state: a key already known is skipped, a copy of a known region
+   * under another active set maps to it; the rest are added with empty neighbour lists (those held
+   * indices of the saved run). The ones not yet covered are queued.
    */
-  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> }; from?: string }[]): void {
-    for (const { region: R, box, from } of list) {
+  function integrate(list: readonly { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }[]): void {
+    for (const { region: R, box } of list) {
       const key = R.activeSet.join(',');
       if (byActiveSet.has(key)) continue;
       let id = locate(R.chebyshev.center, -0.5 * R.chebyshev.radius);
@@ -149,15 +147,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         grid.add(R.A, R.b, bb.lo, bb.hi);
       }
       byActiveSet.set(key, id);
-      // the region it was found from touches it: known neighbours seed the covering (as after a landing here)
-      const parent = from === undefined ? undefined : byActiveSet.get(from);
-      if (parent !== undefined && parent >= 0) link(parent, id);
-      if (owns(key) && !done.has(key)) pending.push({ id, key });
+      if (!done.has(key)) pending.push({ id, key });
     }
   }
 
-  /** the region whose facet is being crossed (announced with the regions found from it) */
-  let crossing: CriticalRegion | null = null;
   const addRegion = (activeSet: number[], key: string): number => {
     const lp0 = lp.lps;
     const res = buildRegion(problem, activeSet, lp, options.lean);
@@ -177,8 +170,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     bboxes.push(res.bbox);
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
-    if (owns(key)) pending.push({ id, key });
-    share?.found(regions[id], res.bbox, crossing?.activeSet.join(','));
+    pending.push({ id, key });
+    listener?.found(regions[id], res.bbox);
     report();
     return id;
   };
@@ -222,7 +215,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     Object.assign(stats, options.resume.stats, { complete: true, stopReason: 'done' });
     Object.assign(work, options.resume.work);
     lp.lps = options.resume.stats.lps;
-  } else if (!share || share.seeds) {
+  } else {
     const seed = firstSeed(problem, lp, slo, sup);
     if (seed) {
       let first = regionAt(seed);
@@ -233,22 +226,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       }
     }
   }
-  share?.seeded();
-  // breadth-first over the regions this exploration owns (all of them when it runs alone)
+  // breadth-first over the regions
   const every = 1000 * (options.checkpointEvery ?? 30);
   let lastCheckpoint = performance.now();
   for (;;) {
     if (stopNow()) break;
-    if (head === pending.length) {
-      if (!share) break;
-      const got = share.wait();
-      if (!got) {
-        if (options.shouldStop?.()) mark('interrupted'); // stopped by another thread's limit or by Ctrl-C
-        break;
-      }
-      integrate(got);
-      continue;
-    }
+    if (head === pending.length) break;
     if (options.onCheckpoint && performance.now() - lastCheckpoint >= every) {
       options.onCheckpoint(exportState());
       lastCheckpoint = performance.now();
@@ -266,7 +249,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     if (stats.stopReason !== 'done') break;
     head++;
     done.add(key);
-    share?.processed(key);
+    listener?.covered(key);
   }
 
   function exploreFacet(R: CriticalRegion, f: number): void {
@@ -434,12 +417,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    */
   function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
     work.landings++;
-    crossing = R;
-    try {
-      return landFrom(R, f, facet, piece);
-    } finally {
-      crossing = null;
-    }
+    return landFrom(R, f, facet, piece);
   }
 
   function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {

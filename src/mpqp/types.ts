@@ -106,8 +106,8 @@ export interface SolveOptions {
   within?: { lower: ArrayLike<number>; upper: ArrayLike<number> };
   /** continue a stopped exploration from its state (`Partition.state` or a checkpoint); same problem and `within` */
   resume?: ExplorationState;
-  /** explore together with other threads (each covers the facets of the regions it owns) */
-  share?: ShareChannel;
+  /** told of every region built and every region whose facets are covered (threads report them to the main thread) */
+  listener?: ExplorationListener;
   /** called between regions, at most every `checkpointEvery` seconds, with the state to resume from (shares the region objects) */
   onCheckpoint?: (state: ExplorationState) => void;
   /** seconds between checkpoints (default 30) */
@@ -127,39 +127,12 @@ export interface ExplorationState {
   work: ExplorationWork;
 }
 
-/**
- * Several explorations of one mpQP sharing their regions (threads; see src/table/threads.ts).
- * Every exploration builds regions as it goes and announces them; each covers the facets only of
- * the regions it owns (every key is owned by exactly one). Calls are synchronous.
- */
-/** A region announced by another exploration (see `ShareChannel.receive`). */
-export interface SharedRegion {
-  region: CriticalRegion;
-  box: { lo: ArrayLike<number>; hi: ArrayLike<number> };
-  from?: string;
-}
-
-export interface ShareChannel {
-  /** true for the one exploration that looks for the first region */
-  seeds: boolean;
-  /** whether this exploration covers the facets of the region with this active-set key */
-  owns(key: string): boolean;
-  /**
-   * a region this exploration built (new to it), with a box holding it, and the key of the region
-   * whose facet it was crossing when it landed there (the two touch), if any
-   */
-  found(region: CriticalRegion, box: { lo: ArrayLike<number>; hi: ArrayLike<number> }, from?: string): void;
-  /** the first region has been looked for (called once, by every exploration) */
-  seeded(): void;
-  /** the facets of the region with this key are covered */
-  processed(key: string): void;
-  /**
-   * regions the others found since the last call (often none); `from` as given to `found`. Only
-   * activeSet, A, b, facets (kind, row) and chebyshev are read from a received region.
-   */
-  receive(): SharedRegion[];
-  /** block until the others found regions, or return null when every region of every exploration is processed */
-  wait(): SharedRegion[] | null;
+/** What an exploration tells its caller as it goes (see `SolveOptions.listener`). Calls are synchronous. */
+export interface ExplorationListener {
+  /** a region this exploration built (new to it), with a box holding it */
+  found(region: CriticalRegion, box: { lo: ArrayLike<number>; hi: ArrayLike<number> }): void;
+  /** the facets of the region with this active-set key are covered (inside `within`, when given) */
+  covered(key: string): void;
 }
 
 export interface Progress {

@@ -25,6 +25,17 @@ export const CHECKPOINT_FORMAT = 'tessera-checkpoint';
 /** Version of both run-state formats; bump on any change of meaning. */
 export const RUN_STATE_VERSION = 1;
 
+/**
+ * Where the sub-boxes of a threaded exploration stand (stored in a checkpoint beside the union of
+ * the regions): how many sub-boxes, which are finished, and per sub-box the active-set keys of the
+ * regions whose facets are covered inside it.
+ */
+export interface SubBoxProgress {
+  count: number;
+  finished: number[];
+  done: string[][];
+}
+
 /** Which of k sub-boxes (1-based i, as on the command line). */
 export interface PartIndex {
   index: number;
@@ -55,7 +66,13 @@ export interface CheckpointFile {
   part: PartIndex | null;
   /** lean regions (`solve --lean`) */
   lean: boolean;
+  /** regions found, and the keys whose facets are covered over the whole box explored */
   state: ExplorationState;
+  /**
+   * where each sub-box of a run on several threads stands (the keys covered in each; `state.done`
+   * holds those covered in every sub-box their region meets). Absent: one thread, or an older file.
+   */
+  subBoxes?: SubBoxProgress;
 }
 
 /** Parse "i/k" (1 ≤ i ≤ k, integers) as given to `--part`; InputError otherwise. */
@@ -124,8 +141,10 @@ export function parsePartJson(text: string, file: string): PartFile {
 }
 
 /** The checkpoint of an exploration state. */
-export function makeCheckpoint(loaded: LoadedProblem, part: PartIndex | null, state: ExplorationState, lean = false): CheckpointFile {
-  return { format: CHECKPOINT_FORMAT, version: RUN_STATE_VERSION, problemHash: problemHash(loaded.raw), part, lean, state };
+export function makeCheckpoint(loaded: LoadedProblem, part: PartIndex | null, state: ExplorationState, lean = false, subBoxes?: SubBoxProgress): CheckpointFile {
+  // one sub-box is the whole box: its covered keys are the state's own
+  const split = subBoxes && subBoxes.count > 1 ? { subBoxes } : {};
+  return { format: CHECKPOINT_FORMAT, version: RUN_STATE_VERSION, problemHash: problemHash(loaded.raw), part, lean, state, ...split };
 }
 
 /** Parse and check a checkpoint's text; `loaded` is the problem it must belong to. */
@@ -137,6 +156,12 @@ export function parseCheckpointJson(text: string, file: string, loaded: LoadedPr
   if (!st || typeof st !== 'object') throw new InputError(file, 'state', 'missing');
   checkRegions(st.regions, st.boxes, file, 'state.');
   if (!Array.isArray(st.done)) throw new InputError(file, 'state.done', 'must be an array');
+  if (t.subBoxes !== undefined) {
+    const sb = t.subBoxes as SubBoxProgress;
+    if (!sb || !Number.isInteger(sb.count) || sb.count < 1) throw new InputError(file, 'subBoxes.count', 'must be a whole number ≥ 1');
+    if (!Array.isArray(sb.finished) || !sb.finished.every((s) => Number.isInteger(s) && s >= 0 && s < sb.count)) throw new InputError(file, 'subBoxes.finished', `must list sub-box indices 0…${sb.count - 1}`);
+    if (!Array.isArray(sb.done) || sb.done.length !== sb.count || !sb.done.every((d) => Array.isArray(d))) throw new InputError(file, 'subBoxes.done', `must hold ${sb.count} lists of keys`);
+  }
   return t as unknown as CheckpointFile;
 }
 

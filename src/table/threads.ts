@@ -1,68 +1,73 @@
 /**
- * The exploration on several threads (Node only: worker_threads).
+ * The exploration on several threads (Node only: worker_threads), by sub-boxes.
  *
- * Every worker runs `solvePartition` on the same mpQP with a `ShareChannel`: it builds regions as
- * it lands on them and announces each one; this thread relays a region to the other workers the
- * first time its active set is seen, so every worker locates points among all regions known. The
- * facets of a region are covered by one worker only, the owner of its active set (a hash of the
- * key modulo the thread count). The exploration is over when every worker has looked for the
- * first region and every region announced has been covered by its owner. A region two workers build
- * at the same moment is the same region (built from its active set alone), so the set of regions
- * does not depend on the timing, and the canonical form (`joinPartitions`) makes the table the same
- * bytes for every thread count.
+ * The box explored (the whole parameter box, or the sub-box of `--part`) is cut into as many
+ * sub-boxes as there are threads (`subBox`: recursive bisection across the widest axis), and every
+ * worker explores sub-boxes on its own (`solvePartition` with `within`), with no communication
+ * between workers: a sub-box exploration builds every region meeting it, over the whole box, so a
+ * region found by two sub-boxes is the same region, and the union of the sub-boxes' regions is the
+ * set one run over the whole box finds. The canonical form (`joinPartitions`: union by active set,
+ * canonical order, neighbours recomputed) then makes the table the same bytes for every thread
+ * count, as it does for `solve --part` + `join`. One thread is one sub-box (the whole box) on one
+ * worker: the exploration runs off the main thread, which stays free to answer Ctrl-C and to write
+ * checkpoints.
  *
- * One thread is the same mechanism with one worker: the exploration runs off the main thread,
- * which stays free to answer Ctrl-C and to write checkpoints.
+ * The price of the split: a region that straddles a cut is built (and partly covered) by every
+ * sub-box it meets. `built()` counts the regions built, duplicates included.
+ *
+ * Workers send each region they build and each region whose facets they have covered to this
+ * thread, which keeps the union (the first copy of each active set) and, per sub-box, the keys
+ * covered in it: that is the state a checkpoint holds (`SubBoxProgress`), and a resumed run gives
+ * each unfinished sub-box the regions meeting it and the keys already covered in it.
  */
-import { Worker, MessageChannel } from 'node:worker_threads';
+import { Worker } from 'node:worker_threads';
+import { subBox } from '../mpqp/canonical.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
+import { tol } from '../tol.js';
+import type { SubBoxProgress } from './part.js';
+
+type Box = { lower: number[]; upper: number[] };
+type RegionBox = { lo: number[]; hi: number[] };
 
 /** What a worker is started with (src/table/explore-worker.ts). */
 export interface ExploreWorkerData {
   mpqp: MpqpProblem;
-  options: Pick<SolveOptions, 'maxRegions' | 'timeLimit' | 'lp' | 'within' | 'lean'>;
-  index: number;
-  count: number;
-  /** regions sent by the other workers arrive here (read synchronously) */
-  port: import('node:worker_threads').MessagePort;
-  /** Int32Array on a SharedArrayBuffer: [w] counts messages sent to worker w; [count] = 1: all done; [count + 1] = 1: stop */
+  options: Pick<SolveOptions, 'lp' | 'lean'>;
+  /** Int32Array on a SharedArrayBuffer: [0] = 1 asks every worker to stop at its next check */
   signal: Int32Array;
-  progress: boolean;
+}
+
+/** One sub-box to explore (main thread → worker). */
+export interface ExploreJob {
+  job: number;
+  within: Box | undefined;
+  maxRegions: number | undefined;
+  /** seconds left of the time limit when the job starts */
+  timeLimit: number | undefined;
   resume: ExplorationState | null;
 }
 
-/** One event of a worker, in the order it happened. */
+/** One event of a worker's job, in the order it happened. */
 export type ExploreWorkerEvent =
-  | { type: 'found'; region: CriticalRegion; box: { lo: number[]; hi: number[] }; from?: string }
-  | { type: 'seeded' }
+  | { type: 'found'; region: CriticalRegion; box: RegionBox }
   | { type: 'processed'; key: string }
   | { type: 'progress'; progress: Progress };
 
-/**
- * Messages from a worker: events go in batches (a worker sends its events when it finishes
- * covering a region, before it waits and before it ends, so a region is still announced before
- * the region that led to it is reported covered), then one `done`.
- */
-export type ExploreWorkerMessage = { type: 'batch'; events: ExploreWorkerEvent[] } | { type: 'done'; stats: PartitionStats; work: ExplorationWork };
+/** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
+export type ExploreWorkerMessage = { type: 'batch'; job: number; events: ExploreWorkerEvent[] } | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork };
 
-/** What the main thread relays to a worker: regions new to it, without the move sequence and value function (a worker only locates and covers). */
-export type ExploreRelay = { region: CriticalRegion; box: { lo: number[]; hi: number[] }; from?: string }[];
-
-/** The fields of a region a worker reads (see `ShareChannel.receive`). */
-function slim(R: CriticalRegion): CriticalRegion {
-  return { id: R.id, activeSet: R.activeSet, A: R.A, b: R.b, facets: R.facets, chebyshev: R.chebyshev, law: R.law };
-}
-
-/** A running exploration: its result, and the two things the caller may do meanwhile. */
+/** A running exploration: its result, and what the caller may do meanwhile. */
 export interface ThreadedExploration {
-  /** the partition (not yet canonical: regions in the order they were announced) */
+  /** the partition (not yet canonical: the union of the sub-boxes' regions, first copy of each) */
   result: Promise<Partition>;
   /** ask every worker to stop at its next check (the result is then marked 'interrupted') */
   stop(): void;
-  /** end the workers at once (a second Ctrl-C); the result resolves with what was announced so far */
+  /** end the workers at once (a second Ctrl-C); the result resolves with what was found so far */
   terminate(): void;
-  /** the state to resume from, as of now: regions announced and keys covered */
-  snapshot(): ExplorationState;
+  /** the state to resume from, as of now: the union of regions found, and where every sub-box stands */
+  snapshot(): { state: ExplorationState; subBoxes: SubBoxProgress };
+  /** regions built so far by all sub-boxes, a region straddling a cut once per sub-box that built it */
+  built(): number;
 }
 
 /** Options of `exploreThreaded`. */
@@ -71,40 +76,48 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
   threads: number;
   /** continue from this state (a checkpoint) */
   resume?: ExplorationState | null;
+  /** where the sub-boxes of the resumed run stood (a checkpoint of a threaded run); absent: the state covers the whole box explored */
+  resumeSubBoxes?: SubBoxProgress | null;
   /** progress of all workers together, at most every ~100 ms */
   onProgress?: (p: Progress) => void;
 }
 
-/** FNV-1a of the key: which worker owns a region. */
-export function ownerOf(key: string, count: number): number {
-  let h = 0x811c9dc5;
-  for (let i = 0; i < key.length; i++) {
-    h ^= key.charCodeAt(i);
-    h = Math.imul(h, 0x01000193) >>> 0;
-  }
-  return h % count;
+const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
+const zeroWork = (): ExplorationWork => ({ guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 });
+
+/** Whether a region's box meets a sub-box (within tol.inside). */
+function meets(b: { lo: ArrayLike<number>; hi: ArrayLike<number> }, s: Box): boolean {
+  for (let j = 0; j < s.lower.length; j++) if (b.hi[j] < s.lower[j] - tol.inside || b.lo[j] > s.upper[j] + tol.inside) return false;
+  return true;
 }
 
-/** Start the exploration of `mpqp` on `options.threads` workers. */
+/** Start the exploration of `mpqp` (or of `options.within`) on `options.threads` workers, one sub-box per thread. */
 export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): ThreadedExploration {
   const W = Math.max(1, Math.floor(options.threads));
-  const signal = new Int32Array(new SharedArrayBuffer(4 * (W + 2)));
+  const outer: Box = options.within ? { lower: Array.from(options.within.lower), upper: Array.from(options.within.upper) } : { lower: Array.from(mpqp.box.lower), upper: Array.from(mpqp.box.upper) };
+  // a checkpoint of a split run keeps its split; a whole-box state is split anew (keys covered over
+  // the whole box are covered in every sub-box)
+  const resumed = options.resume ?? null;
+  const rs = resumed ? options.resumeSubBoxes ?? null : null;
+  const M = rs ? rs.count : W;
+  const boxes: Box[] = Array.from({ length: M }, (_, s) => (M === 1 ? outer : subBox(outer, s, M)));
+  const signal = new Int32Array(new SharedArrayBuffer(4));
   const t0 = performance.now();
-  const found = new Map<string, { region: CriticalRegion; box: { lo: number[]; hi: number[] } }>();
-  const processed = new Set<string>();
-  if (options.resume) {
-    options.resume.regions.forEach((region, i) => {
+  const found = new Map<string, { region: CriticalRegion; box: RegionBox }>();
+  const done: Set<string>[] = Array.from({ length: M }, (_, s) => new Set(rs ? rs.done[s] ?? [] : (resumed?.done ?? [])));
+  const finished: ({ stats: PartitionStats; work: ExplorationWork } | null)[] = new Array(M).fill(null);
+  const latest: (Progress | null)[] = new Array(M).fill(null);
+  // counters carried over from the resumed run, counted once
+  const base = { stats: resumed ? { ...resumed.stats } : zeroStats(), work: resumed ? { ...resumed.work } : zeroWork() };
+  if (resumed)
+    resumed.regions.forEach((region, i) => {
       const key = region.activeSet.join(',');
-      if (!found.has(key)) found.set(key, { region, box: options.resume!.boxes[i] });
+      if (!found.has(key)) found.set(key, { region, box: resumed.boxes[i] });
     });
-    for (const k of options.resume.done) if (found.has(k)) processed.add(k);
-  }
-  const ts = import.meta.url.endsWith('.ts'); // run from source under tsx (tests, bench)
-  const ports: import('node:worker_threads').MessagePort[] = [];
-  const workers: Worker[] = [];
-  const latest: Progress[] = [];
-  const finished: ({ stats: PartitionStats; work: ExplorationWork } | null)[] = new Array(W).fill(null);
-  let seeded = 0;
+  if (rs) for (const s of rs.finished) finished[s] = { stats: zeroStats(), work: zeroWork() };
+  const queue: number[] = [];
+  for (let s = 0; s < M; s++) if (!finished[s]) queue.push(s);
+  let built = 0;
   let lastReport = 0;
   let firstStop: PartitionStats['stopReason'] | null = null;
   let resolve!: (p: Partition) => void;
@@ -114,22 +127,22 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     reject = rej;
   });
   let settled = false;
-  const zero = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
+  const workers: Worker[] = [];
   const partition = (complete: boolean, reason: PartitionStats['stopReason']): Partition => {
-    const stats = zero();
-    const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
-    finished.forEach((f, w) => {
-      const s = f?.stats;
-      const p = latest[w];
-      stats.candidates += s ? s.candidates : (p?.candidates ?? 0);
-      stats.lps += s ? s.lps : (p?.lps ?? 0);
-      stats.qps += s ? s.qps : (p?.qps ?? 0);
-      stats.unresolvedPieces += s?.unresolvedPieces ?? 0;
+    const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces };
+    const work = { ...base.work };
+    for (let s = 0; s < M; s++) {
+      const f = finished[s];
+      const p = latest[s];
+      stats.candidates += f ? f.stats.candidates : (p?.candidates ?? 0);
+      stats.lps += f ? f.stats.lps : (p?.lps ?? 0);
+      stats.qps += f ? f.stats.qps : (p?.qps ?? 0);
+      stats.unresolvedPieces += f?.stats.unresolvedPieces ?? 0;
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
-    });
-    // Workers check the region bound on their own view of the shared set, so together they can pass
-    // it by a region or two; a table stopped by --max-regions keeps the first ones found (it is marked
-    // incomplete either way, and a checkpoint keeps them all).
+    }
+    // the main thread counts the union against the region bound, so the sub-boxes together pass it
+    // by a few regions; a table stopped by --max-regions keeps the first ones found (it is marked
+    // incomplete either way, and a checkpoint keeps them all)
     const all = [...found.values()];
     const list = reason === 'max-regions' && options.maxRegions !== undefined ? all.slice(0, options.maxRegions) : all;
     stats.regions = list.length;
@@ -137,9 +150,23 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     stats.stopReason = reason;
     return { regions: list.map((e) => e.region), boxes: list.map((e) => e.box), stats, work };
   };
-  const snapshot = (): ExplorationState => {
+  const snapshot = (): { state: ExplorationState; subBoxes: SubBoxProgress } => {
     const p = partition(true, 'done');
-    return { regions: p.regions, boxes: p.boxes as { lo: number[]; hi: number[] }[], done: [...processed], stats: p.stats, work: p.work! };
+    const finishedList: number[] = [];
+    for (let s = 0; s < M; s++) if (finished[s]) finishedList.push(s);
+    // the state on its own stays what a single run's is: a key is covered over the whole box explored
+    // when it is covered in every sub-box its region's box meets (a finished sub-box covered them all)
+    const whole: string[] = [];
+    p.regions.forEach((R, i) => {
+      const key = R.activeSet.join(',');
+      let all = true;
+      for (let s = 0; s < M && all; s++) if (!finished[s] && !done[s].has(key) && meets(p.boxes![i], boxes[s])) all = false;
+      if (all) whole.push(key);
+    });
+    return {
+      state: { regions: p.regions, boxes: p.boxes as RegionBox[], done: whole, stats: p.stats, work: p.work! },
+      subBoxes: { count: M, finished: finishedList, done: done.map((d, s) => (finished[s] ? [] : [...d])) },
+    };
   };
   const settle = (p: Partition | null, error?: unknown): void => {
     if (settled) return;
@@ -148,97 +175,100 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     if (p) resolve(p);
     else reject(error);
   };
-  const maybeAllDone = (): void => {
-    if (seeded === W && processed.size >= found.size && Atomics.load(signal, W) === 0) {
-      Atomics.store(signal, W, 1);
-      for (let w = 0; w < W; w++) Atomics.notify(signal, w);
+  const stopAll = (why: PartitionStats['stopReason']): void => {
+    if (firstStop === null) firstStop = why;
+    Atomics.store(signal, 0, 1);
+  };
+  const report = (): void => {
+    const now = performance.now();
+    if (!options.onProgress || now - lastReport < 100) return;
+    lastReport = now;
+    const p = partition(true, 'done').stats;
+    options.onProgress({ candidates: p.candidates, regions: found.size, lps: p.lps, qps: p.qps, elapsedSeconds: (now - t0) / 1000 });
+  };
+  /** the next sub-box for a worker, or false when there is none (or the run is stopping) */
+  const next = (worker: Worker): boolean => {
+    if (firstStop !== null || queue.length === 0) return false;
+    const s = queue.shift()!;
+    let resume: ExplorationState | null = null;
+    if (resumed) {
+      // the regions known that meet this sub-box, and the keys already covered in it
+      const regions: CriticalRegion[] = [];
+      const bs: RegionBox[] = [];
+      for (const e of found.values())
+        if (meets(e.box, boxes[s])) {
+          regions.push(e.region);
+          bs.push(e.box);
+        }
+      resume = { regions, boxes: bs, done: [...done[s]], stats: zeroStats(), work: zeroWork() };
     }
-  };
-  const stopAll = (): void => {
-    Atomics.store(signal, W + 1, 1);
-    for (let w = 0; w < W; w++) Atomics.notify(signal, w);
-  };
-  for (let w = 0; w < W; w++) {
-    const { port1, port2 } = new MessageChannel();
-    ports.push(port1);
-    // counters of a resumed run go to the first worker only (the others would count them again)
-    const resume = options.resume ? { ...options.resume, stats: w === 0 ? options.resume.stats : zero(), work: w === 0 ? options.resume.work : { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 } } : null;
-    const data: ExploreWorkerData = {
-      mpqp,
-      options: { maxRegions: options.maxRegions, timeLimit: options.timeLimit, lp: options.lp, within: options.within, lean: options.lean },
-      index: w,
-      count: W,
-      port: port2,
-      signal,
-      progress: true, // counters for checkpoints as well as for the progress line
+    const elapsed = (performance.now() - t0) / 1000;
+    const job: ExploreJob = {
+      job: s,
+      within: M === 1 && !options.within ? undefined : boxes[s],
+      maxRegions: options.maxRegions,
+      timeLimit: options.timeLimit === undefined ? undefined : Math.max(0, options.timeLimit - elapsed),
       resume,
     };
+    worker.postMessage(job);
+    return true;
+  };
+  let running = 0;
+  const ts = import.meta.url.endsWith('.ts'); // run from source under tsx (tests, bench)
+  const data: ExploreWorkerData = { mpqp, options: { lp: options.lp, lean: options.lean }, signal };
+  const end = (): void => {
+    const complete = firstStop === null && finished.every((f) => f);
+    settle(partition(complete, firstStop ?? (complete ? 'done' : 'interrupted')));
+  };
+  for (let w = 0; w < Math.min(W, queue.length); w++) {
     // from source (tests, bench under tsx), the worker registers tsx's loader before importing the .ts file
     const url = new URL(ts ? './explore-worker.ts' : './explore-worker.js', import.meta.url);
     const worker = ts
-      ? new Worker(`import('tsx/esm/api').then((api) => { api.register(); return import(${JSON.stringify(url.href)}); })`, { eval: true, workerData: data, transferList: [port2] })
-      : new Worker(url, { workerData: data, transferList: [port2] });
+      ? new Worker(`import('tsx/esm/api').then((api) => { api.register(); return import(${JSON.stringify(url.href)}); })`, { eval: true, workerData: data })
+      : new Worker(url, { workerData: data });
     workers.push(worker);
     worker.on('message', (msg: ExploreWorkerMessage) => {
+      if (settled) return;
       if (msg.type === 'batch') {
-        const relay: ExploreRelay = [];
         for (const ev of msg.events) {
           if (ev.type === 'found') {
+            built++;
             const key = ev.region.activeSet.join(',');
-            if (found.has(key)) continue;
-            found.set(key, { region: ev.region, box: ev.box });
-            relay.push({ region: slim(ev.region), box: ev.box, from: ev.from });
-          } else if (ev.type === 'seeded') {
-            seeded++;
-          } else if (ev.type === 'processed') {
-            processed.add(ev.key);
-          } else if (ev.type === 'progress') {
-            latest[w] = ev.progress;
-            const now = performance.now();
-            if (options.onProgress && now - lastReport >= 100) {
-              lastReport = now;
-              let candidates = 0;
-              let lps = 0;
-              let qps = 0;
-              for (const p of latest) {
-                candidates += p?.candidates ?? 0;
-                lps += p?.lps ?? 0;
-                qps += p?.qps ?? 0;
-              }
-              options.onProgress({ candidates, regions: found.size, lps, qps, elapsedSeconds: (now - t0) / 1000 });
-            }
-          }
+            if (!found.has(key)) found.set(key, { region: ev.region, box: ev.box });
+          } else if (ev.type === 'processed') done[msg.job].add(ev.key);
+          else latest[msg.job] = ev.progress;
         }
-        // relay before checking for the end: a worker waiting for regions must get them first
-        if (relay.length)
-          for (let v = 0; v < W; v++) {
-            if (v === w) continue;
-            ports[v].postMessage(relay);
-            Atomics.add(signal, v, 1);
-            Atomics.notify(signal, v);
-          }
-        maybeAllDone();
-      } else if (msg.type === 'done') {
-        finished[w] = { stats: msg.stats, work: msg.work };
-        if (!msg.stats.complete && firstStop === null) {
-          firstStop = msg.stats.stopReason;
-          stopAll(); // one worker stopped (limit or Ctrl-C): the others stop too
+        if (options.maxRegions !== undefined && found.size >= options.maxRegions) stopAll('max-regions');
+        report();
+      } else {
+        running--;
+        latest[msg.job] = null;
+        if (msg.stats.complete) finished[msg.job] = { stats: msg.stats, work: msg.work };
+        else {
+          // a stopped sub-box keeps its counters (its regions and covered keys are already here)
+          base.stats.candidates += msg.stats.candidates;
+          base.stats.lps += msg.stats.lps;
+          base.stats.qps += msg.stats.qps;
+          base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
+          for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
+          stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
         }
-        if (finished.every((f) => f)) {
-          const complete = firstStop === null && processed.size >= found.size;
-          settle(partition(complete, firstStop ?? (complete ? 'done' : 'interrupted')));
-        }
+        if (next(worker)) running++;
+        else if (running === 0) end();
       }
     });
     worker.on('error', (e) => settle(null, e));
+    if (next(worker)) running++;
   }
+  if (running === 0) queueMicrotask(end); // every sub-box of a resumed run was finished
   return {
     result,
-    stop: () => {
+    stop: () => stopAll('interrupted'),
+    terminate: () => {
       if (firstStop === null) firstStop = 'interrupted';
-      stopAll();
+      settle(partition(false, firstStop));
     },
-    terminate: () => settle(partition(false, firstStop ?? 'interrupted')),
     snapshot,
+    built: () => built,
   };
 }

@@ -44,7 +44,7 @@ describe('canonical form: the same bytes however the exploration is split', () =
 describe('canonical form: the same bytes on 2 threads', () => {
   // the 2-thread table is the single-thread table byte for byte, which agrees with quadprog (above)
   for (const file of files) {
-    it(`${basename(file)}: 2 worker threads sharing regions = 1 thread`, async () => {
+    it(`${basename(file)}: 2 worker threads on 2 sub-boxes = 1 thread`, async () => {
       const { loaded, table } = solved(file);
       const formulation = formulate(loaded);
       const p = await exploreThreaded(formulation.mpqp, { threads: 2 }).result;

@@ -184,6 +184,7 @@ export function emitBundle(input: TableFile, o: EmitBundleOptions): EmitBundle {
       floatSafe: k.floatSafe,
       rejected: k.rejected,
       buildSeconds: k.buildSeconds,
+      meanOperations: k.meanOps,
     })),
     slack: (res.arrays as { slack: number }).slack,
     tree: res.locator ? res.locator.stats : null,

@@ -8,7 +8,8 @@
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, planeMargin, TreeTooLargeError, type TreeOptions } from '../partition/tree.js';
 import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
-import { buildArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import { buildArrays, meanOperations, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import { buildGrid } from './grid.js';
 import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
 
 /** Location arrays may take at most this fraction of the region data (half-spaces plus laws). */
@@ -40,7 +41,8 @@ export function regionDataBytes(table: TableFile): number {
  * Build the locator of one structure. `tree`: the hyperplane tree as before (one region per leaf);
  * `capped`: hyperplane tree with float-safe side overlap, depth ≤ 4·log2(regions), leaves of at most
  * CAPPED_LEAF_MACS/nθ rows, within the byte budget, splitting on the regions' facet planes and on
- * axis-aligned planes at the quartiles of the node's region centres; `boxtree`: bounding-box tree within the budget.
+ * axis-aligned planes at the quartiles of the node's region centres; `boxtree`: bounding-box tree within the budget;
+ * `grid`: the finest uniform cell grid within the budget (null when none fits).
  */
 export function buildLocator(table: TableFile, search: SearchKind, options: LocatorOptions = {}): Locator | null {
   const n = table.dims.ntheta;
@@ -66,6 +68,8 @@ export function buildLocator(table: TableFile, search: SearchKind, options: Loca
       });
     case 'boxtree':
       return buildBoxTree(table.regions, n, table.box, { leafRows: 4 * (n + 1), maxBytes, ...options.boxTree });
+    case 'grid':
+      return buildGrid(table, { maxBytes });
   }
 }
 
@@ -74,7 +78,7 @@ export function splitBytes(cost: TargetCost, precision: string): { location: num
   let location = 0;
   let regions = 0;
   for (const a of cost.bytes[precision]?.arrays ?? []) {
-    if (a.name.startsWith('node_') || a.name.startsWith('leaf_')) location += a.bytes;
+    if (a.name.startsWith('node_') || a.name.startsWith('leaf_') || a.name.startsWith('grid_')) location += a.bytes;
     else regions += a.bytes;
   }
   return { location, regions };
@@ -91,7 +95,12 @@ export interface Candidate {
   floatSafe: boolean;
   rejected: string | null;
   buildSeconds: number;
+  /** mean multiply-adds plus comparisons per evaluation on seeded points of the box (float/double C builds; null for other builds) */
+  meanOps: number | null;
 }
+
+/** Candidates whose worst case is within this factor of the least worst case compete on their mean operations. */
+export const WORST_CASE_FACTOR = 1.5;
 
 /** Build every structure (or the given ones) and measure it with the target's cost report. */
 export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, precision: string, kinds: readonly SearchKind[], options: LocatorOptions = {}): Candidate[] {
@@ -106,7 +115,11 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
       locator = buildLocator(table, search, { ...options, tree });
     } catch (e) {
       if (!(e instanceof TreeTooLargeError)) throw e;
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000 });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000, meanOps: null });
+      continue;
+    }
+    if (search === 'grid' && !locator) {
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null });
       continue;
     }
     const build = target.build(table, precision, search, locator, options.targetOptions);
@@ -116,7 +129,9 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
     let rejected: string | null = null;
     if (location > LOCATION_BUDGET * regions) rejected = `location arrays ${location} B > ${LOCATION_BUDGET} x region data ${regions} B`;
     else if (precision === 'float' && !floatSafe) rejected = 'descent not proven safe in float (no side overlap)';
-    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000 });
+    const ar = build as unknown as EmitArrays;
+    const meanOps = (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanOperations(ar, table.box) : null;
+    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps });
   }
   return out;
 }
@@ -126,18 +141,27 @@ export function worstOps(c: Candidate): number {
   return c.cost ? c.cost.worstMultiplyAdds + c.cost.worstComparisons : Infinity;
 }
 
-/** The cheapest admissible candidate (fewest worst-case operations, then fewest bytes); sequential search is always admissible. */
+/**
+ * The cheapest admissible candidate; sequential search is always admissible. Cheapest: among the
+ * admissible candidates whose worst-case operations are within WORST_CASE_FACTOR of the least, the
+ * fewest mean operations on seeded points (when every one of them has that measure), then the fewest
+ * worst-case operations, then the fewest location bytes.
+ */
 export function pickCandidate(cands: Candidate[]): { chosen: Candidate; reason: string[] } {
   const ok = cands.filter((c) => !c.rejected && c.cost);
   ok.sort((a, b) => worstOps(a) - worstOps(b) || a.location - b.location);
-  const chosen = ok[0] ?? cands.find((c) => c.search === 'sequential');
+  const least = ok.length ? worstOps(ok[0]) : Infinity;
+  const near = ok.filter((c) => worstOps(c) <= WORST_CASE_FACTOR * least);
+  const byMean = near.length > 1 && near.every((c) => c.meanOps !== null);
+  if (byMean) near.sort((a, b) => a.meanOps! - b.meanOps! || worstOps(a) - worstOps(b) || a.location - b.location);
+  const chosen = near[0] ?? cands.find((c) => c.search === 'sequential');
   if (!chosen) throw new Error('no point-location structure could be built');
   const line = (c: Candidate) =>
     c.cost
-      ? `${c.search}: ${c.cost.worstMultiplyAdds} multiply-adds + ${c.cost.worstComparisons} comparisons worst case, location ${c.location} B = ${(c.location / Math.max(1, c.regions)).toFixed(3)} x region data${c.rejected ? ` - rejected: ${c.rejected}` : ''}`
+      ? `${c.search}: ${c.cost.worstMultiplyAdds} multiply-adds + ${c.cost.worstComparisons} comparisons worst case${c.meanOps !== null ? `, ${c.meanOps.toFixed(1)} operations on average` : ''}, location ${c.location} B = ${(c.location / Math.max(1, c.regions)).toFixed(3)} x region data${c.rejected ? ` - rejected: ${c.rejected}` : ''}`
       : `${c.search}: rejected: ${c.rejected}`;
   const reason = [
-    `${chosen.search} search, chosen by the cost model: fewest worst-case operations among the structures that are safe in float and whose location arrays are at most ${LOCATION_BUDGET} x the region data.`,
+    `${chosen.search} search, chosen by the cost model: among the structures that are safe in float, whose location arrays are at most ${LOCATION_BUDGET} x the region data and whose worst-case operations are within ${WORST_CASE_FACTOR} x the least, the fewest operations on average over seeded points of the box (then the fewest worst-case operations).`,
     ...cands.map(line),
   ];
   return { chosen, reason };

@@ -3,7 +3,7 @@
  * carry the language-neutral layout (element kinds and value ranges), no target's types or rules.
  */
 import type { LayoutArray } from './layout.js';
-import { LAYOUT_TEXT, LAYOUT_TEXT_BOXTREE, LAYOUT_TEXT_CENTRED } from './layout.js';
+import { LAYOUT_TEXT, LAYOUT_TEXT_BOXTREE, LAYOUT_TEXT_CENTRED, LAYOUT_TEXT_GRID } from './layout.js';
 
 export interface ExportMeta {
   precision: string;
@@ -32,7 +32,7 @@ export function arraysToJson(ar: ExportMeta, layout: LayoutArray[], extra: Recor
     root: ar.root,
     maxDepth: ar.maxDepth,
     slack: ar.slack,
-    layout: [LAYOUT_TEXT, ar.search === 'boxtree' ? LAYOUT_TEXT_BOXTREE : '', layout.some((a) => a.name === 'law_c') ? LAYOUT_TEXT_CENTRED : ''].filter(Boolean).join('; '),
+    layout: [LAYOUT_TEXT, ar.search === 'boxtree' ? LAYOUT_TEXT_BOXTREE : ar.search === 'grid' ? LAYOUT_TEXT_GRID : '', layout.some((a) => a.name === 'law_c') ? LAYOUT_TEXT_CENTRED : ''].filter(Boolean).join('; '),
     ...extra,
   };
   // 64-bit fixed-point constants exceed 2^53: written as decimal strings so that they stay exact

@@ -118,7 +118,10 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
           // no point by the region test's slack
             ...(opts.precision === 'q15' || opts.precision === 'q31' ? { margin: Math.max(opts.treeOptions?.margin ?? 0, fixedPlaneMargin(table, opts.precision, opts.thetaFrac)), boundaryBothSides: true } : {}),
           }))
-        : (opts.locator ?? buildLocator(table, search, { ...opts.locatorOptions, tableHash: hash }));
+        : (opts.locator ??
+          // a grid named by the caller is not held to the cost model's byte budget (as the plain tree)
+          buildLocator(table, search, { ...opts.locatorOptions, ...(search === 'grid' ? { maxBytes: opts.locatorOptions?.maxBytes ?? Infinity } : {}), tableHash: hash }));
+    if (search === 'grid' && !locator) throw new Error('no grid of 2 or more cells per coordinate fits the given byte budget');
     searchReason = [`${search} search, named by the caller (--search ${search}).`];
   }
   const arrays = target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });

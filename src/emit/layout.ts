@@ -62,7 +62,12 @@ export function layoutArray(name: string, kind: ElementKind, values: LayoutValue
  */
 export function layoutOf(ar: EmitArrays): LayoutArray[] {
   // the descent: a box-tree node compares one coordinate, a hyperplane node a plane stored inline
-  const planes = ar.search === 'boxtree' ? [layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit)] : [layoutArray('node_plane', 'f-real', ar.nodePlane)];
+  const planes =
+    ar.search === 'boxtree'
+      ? [layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit)]
+      : ar.search === 'grid'
+        ? [layoutArray('grid_cells', 'u-count', ar.gridCells), layoutArray('grid_lo', 'f-real', ar.gridLower), layoutArray('grid_scale', 'f-real', ar.gridScale)]
+        : [layoutArray('node_plane', 'f-real', ar.nodePlane)];
   const data = [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)];
   if (ar.lawC.length > 0) data.push(layoutArray('law_c', 'f-real', ar.lawC));
   if (ar.regionSlack.length > 0) data.push(layoutArray('region_slack', 'f-real', ar.regionSlack));
@@ -90,7 +95,9 @@ export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes
 /** How the arrays fit together, in words (written into the JSON export). */
 export const LAYOUT_TEXT =
   'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ';
-/** Additions of the box tree and of the centred law (written after LAYOUT_TEXT when they apply). */
+/** Additions of the box tree, the grid and of the centred law (written after LAYOUT_TEXT when they apply). */
 export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
+export const LAYOUT_TEXT_GRID =
+  'grid: no nodes; per coordinate q = (θ[j] − grid_lo[j])·grid_scale[j] (each step rounded), cell c_j = 0 when q < 0 or NaN, grid_cells[j] − 1 when q >= grid_cells[j], else trunc(q); leaf = the row-major cell index (last coordinate fastest)';
 export const LAYOUT_TEXT_CENTRED =
   'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first; region rows tested around the same centre, inside when region_a·(θ − law_c) − region_b <= region_slack[r] (region_b without slack), best fit: the smallest largest residual wins';

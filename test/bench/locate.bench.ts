@@ -1,12 +1,21 @@
 /**
  * Point-location structures swept over θ dimension 2…6 on one problem family of our own (an
- * n-th order integrator chain with light damping, |u| ≤ 1, θ in [−2, 2]ⁿ; invented numbers), every
- * structure in float: bytes (gcc sizeof, the cost report), worst-case operations, latency of the
- * compiled C (gcc -O2, each point timed on its own with clock_gettime, median over passes per point,
- * then median and p99 over the points; latencyMain) and of the online QP (quadprog, Goldfarb–Idnani,
- * in Node on the same condensed QP and the same points, each solve timed with hrtime, in this
+ * n-th order integrator chain with light damping, |u| ≤ 1; invented numbers), every structure in
+ * float: bytes (gcc sizeof, the cost report), worst-case operations, latency of the compiled C
+ * (gcc -O2, each point timed on its own with clock_gettime, median over passes per point, then
+ * median and p99 over the points; latencyMain) and of the online QP (quadprog, Goldfarb–Idnani, in
+ * Node on the same condensed QP and the same points, each solve timed with hrtime, in this
  * process), their ratio, and the float certificate. Then the 4-D crane example compiled for
  * Cortex-M4F: object size of the chosen structure against sequential search.
+ *
+ * The family (FAMILY): the same horizon N = 20 in every dimension, covering the settling time of
+ * the plant under its unconstrained LQR loop — the sample time h of each dimension is that settling
+ * time (2 % band, computed here by lqrSettlingSteps) divided by N, so the loop settles within N steps
+ * in every dimension (a common sizing rule: horizon ≈ settling time, 10–30 samples per settling) —
+ * and the parameter box, the operating envelope, is [−b, b]ⁿ with b chosen so that each table
+ * solves in well under a minute here. The family used before (LEGACY_HORIZON: h = 0.2, θ in
+ * [−2, 2]ⁿ, N shrinking from 20 to 5 with the dimension, so the online QP shrank too) is measured
+ * beside it for the summary line only (chosen structure, C vs QP), so both ratios are on record.
  */
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
@@ -23,27 +32,92 @@ import type { MpqpProblem } from '../../src/index.js';
 import { benchMain, latencyMain, makeQp } from './emit.bench.js';
 
 const STRICT = ['-std=c99', '-Wall', '-Wextra', '-Wpedantic', '-Werror', '-O2'];
-/** horizon per θ dimension, chosen so that each table solves in about a minute or less */
-export const HORIZON: Record<number, number> = { 2: 20, 3: 12, 4: 8, 5: 6, 6: 5 };
+/** the earlier family's horizon per θ dimension (sample time 0.2, box [−2, 2]ⁿ), kept for its summary line */
+export const LEGACY_HORIZON: Record<number, number> = { 2: 20, 3: 12, 4: 8, 5: 6, 6: 5 };
+/** @deprecated the earlier family's horizons (LEGACY_HORIZON) */
+export const HORIZON = LEGACY_HORIZON;
 const SOLVE_SECONDS = 90;
 
-/** n-th order integrator chain sampled at h = 0.2 (exact discretisation of the chain, light damping on the diagonal). */
-export function chainProblem(n: number, horizon: number): unknown {
-  const h = 0.2;
+/** The bench family per θ dimension: horizon, sample time (s) and half-width of the parameter box. */
+export interface FamilyMember {
+  horizon: number;
+  sampleTime: number;
+  box: number;
+}
+/** Horizon of the family in every dimension. */
+export const FAMILY_HORIZON = 20;
+/**
+ * Sample time: the largest step on a 0.01 s grid near LQR settling time / N at which the loop settles
+ * within N steps (settling times ≈ 3.0, 5.6, 7.6, 9.6, 11.0 s for n = 2…6; lqrSettlingSteps, the
+ * bench prints the steps); box half-widths chosen for solve times well under a minute per dimension
+ * on this 2-core host.
+ */
+export const FAMILY: Record<number, FamilyMember> = {
+  2: { horizon: FAMILY_HORIZON, sampleTime: 0.16, box: 4 },
+  3: { horizon: FAMILY_HORIZON, sampleTime: 0.29, box: 2 },
+  4: { horizon: FAMILY_HORIZON, sampleTime: 0.4, box: 1 },
+  5: { horizon: FAMILY_HORIZON, sampleTime: 0.51, box: 0.7 },
+  6: { horizon: FAMILY_HORIZON, sampleTime: 0.58, box: 0.5 },
+};
+
+/** The chain's matrices: n-th order integrator chain sampled at h (exact discretisation, light damping 0.98 on the diagonal). */
+function chainMatrices(n: number, h: number): { A: number[][]; B: number[][]; Q: number[][]; R: number } {
   const fact = (k: number): number => (k <= 1 ? 1 : k * fact(k - 1));
   const A = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (j >= i ? h ** (j - i) / fact(j - i) : 0) * (i === j ? 0.98 : 1)));
   const B = Array.from({ length: n }, (_, i) => [h ** (n - i) / fact(n - i)]);
   const Q = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? (i === 0 ? 1 : 0.1) : 0)));
+  return { A, B, Q, R: 0.1 };
+}
+
+/** n-th order integrator chain: horizon N, sample time h (default 0.2), θ in [−b, b]ⁿ (default b = 2). */
+export function chainProblem(n: number, horizon: number, h = 0.2, b = 2): unknown {
+  const { A, B, Q, R } = chainMatrices(n, h);
   return {
     name: `chain-${n}d`,
     plant: { A, B, sampleTime: h },
     horizon,
-    weights: { state: Q, input: [[0.1]], terminal: 'riccati' },
+    weights: { state: Q, input: [[R]], terminal: 'riccati' },
     // input limits only: state limits on a chain make thin corner regions with gains in the thousands,
     // which no float build evaluates within 1e-5 (the certificate then says which law and facet)
     constraints: { input: { lower: [-1], upper: [1] } },
-    parameters: { lower: new Array(n).fill(-2), upper: new Array(n).fill(2) },
+    parameters: { lower: new Array(n).fill(-b), upper: new Array(n).fill(b) },
   };
+}
+
+/** The bench family's problem in n dimensions (FAMILY). */
+export function familyProblem(n: number): unknown {
+  const m = FAMILY[n];
+  return chainProblem(n, m.horizon, m.sampleTime, m.box);
+}
+
+/**
+ * Steps until the unconstrained LQR loop of the chain (Riccati iteration to convergence; the
+ * discrete algebraic Riccati equation, common practice) brings x(0) = e₁ within 2 % of its start
+ * in every state, for good.
+ */
+export function lqrSettlingSteps(n: number, h: number): number {
+  const { A, B, Q, R } = chainMatrices(n, h);
+  let P = Q.map((r) => r.slice());
+  let K = new Array<number>(n).fill(0);
+  for (let it = 0; it < 5000; it++) {
+    // K = (R + BᵀPB)⁻¹ BᵀPA, P = Q + Aᵀ P (A − B K)
+    const BtP = Array.from({ length: n }, (_, j) => B.reduce((s, bi, i) => s + bi[0] * P[i][j], 0));
+    const s = R + BtP.reduce((acc, v, i) => acc + v * B[i][0], 0);
+    K = Array.from({ length: n }, (_, j) => BtP.reduce((acc, v, i) => acc + v * A[i][j], 0) / s);
+    const Acl = A.map((r, i) => r.map((v, j) => v - B[i][0] * K[j]));
+    const PAcl = P.map((_, i) => Acl[0].map((__, j) => P[i].reduce((acc, v, k) => acc + v * Acl[k][j], 0)));
+    P = Q.map((r, i) => r.map((q, j) => q + A.reduce((acc, ak, k) => acc + ak[i] * PAcl[k][j], 0)));
+  }
+  const Acl = A.map((r, i) => r.map((v, j) => v - B[i][0] * K[j]));
+  let x = new Array<number>(n).fill(0);
+  x[0] = 1;
+  // x(0) lies outside the band; the answer is the first step after the last one outside it
+  let last = 0;
+  for (let k = 1; k <= 2000; k++) {
+    x = Acl.map((r) => r.reduce((acc, v, j) => acc + v * x[j], 0));
+    if (Math.max(...x.map(Math.abs)) > 0.02) last = k;
+  }
+  return last + 1;
 }
 
 function median(xs: number[]): number {
@@ -107,10 +181,13 @@ export async function run(): Promise<void> {
   const dir = mkdtempSync(join(tmpdir(), 'tessera-locate-bench-'));
   const load = () => loadavg()[0].toFixed(1);
   const out: string[] = [`point location swept over θ dimension (integrator chain family, float builds, gcc -O2 on this host; 2 cores shared with other jobs, load ${load()} at the start)`];
-  const summary: string[] = ['  summary: dim, regions, structure picked by the cost model, C lookup median/p99 ns vs online QP median/p99 µs on the same points, ratio of medians (target ≥ 1000x), load'];
+  out.push(`  family: N = ${FAMILY_HORIZON} in every dimension (covers the unconstrained LQR loop's 2 % settling), |u| <= 1, sample time h = settling time / N, θ box [-b, b]^n as the operating envelope`);
+  const summary: string[] = ['  summary (this family): dim, regions, structure picked by the cost model, C lookup median/p99 ns vs online QP median/p99 µs on the same points, ratio of medians (target ≥ 1000x), load'];
+  const legacy: string[] = [`  summary (earlier family, h = 0.2, θ in [-2, 2]^n, N = ${Object.values(LEGACY_HORIZON).join(', ')} for n = 2…6: the online QP shrinks with n): same columns, chosen structure only`];
   out.push('  dim regions | structure   bytes(total)  location/region-data  worst MACs  worst cmps  C median/p99 ns  QP/C  float certificate');
   for (const n of [2, 3, 4, 5, 6]) {
-    const loaded = parseProblem(chainProblem(n, HORIZON[n]), `chain-${n}d (bench)`);
+    const m = FAMILY[n];
+    const loaded = parseProblem(familyProblem(n), `chain-${n}d (bench)`);
     const t0 = Date.now();
     const { mpqp, table } = solveProblem(loaded, { timeLimit: SOLVE_SECONDS });
     const solveS = (Date.now() - t0) / 1000;
@@ -119,7 +196,10 @@ export async function run(): Promise<void> {
     const qp = qpLatency(mpqp, latPts);
     const cands = measureCandidates(table, cTarget, 'float', SEARCH_KINDS);
     const { chosen } = pickCandidate(cands);
-    out.push(`  ${n}-D: ${table.regions.length} regions (N = ${HORIZON[n]}, nz = ${mpqp.nz}, ${mpqp.nc} rows, solved in ${solveS.toFixed(0)} s${table.stats.complete ? '' : ', INCOMPLETE'}), online QP median ${qp.median.toFixed(1)} µs, p99 ${qp.p99.toFixed(1)} µs per solve; cost model picks ${chosen.search}`);
+    out.push(
+      `  ${n}-D: N = ${m.horizon}, h = ${m.sampleTime} s (LQR settles in ${lqrSettlingSteps(n, m.sampleTime)} steps), θ in [-${m.box}, ${m.box}]^${n}, nz = ${mpqp.nz}, ${mpqp.nc} constraint rows: ` +
+        `${table.regions.length} regions (solved in ${solveS.toFixed(0)} s${table.stats.complete ? '' : ', INCOMPLETE'}), online QP median ${qp.median.toFixed(1)} µs, p99 ${qp.p99.toFixed(1)} µs per solve; cost model picks ${chosen.search}`,
+    );
     for (const c of cands) {
       if (!c.cost) {
         out.push(`      ${c.search.padEnd(10)} not built: ${c.rejected}`);
@@ -134,11 +214,25 @@ export async function run(): Promise<void> {
       );
       if (c.search === chosen.search)
         summary.push(
-          `    ${n}-D ${String(table.regions.length).padStart(5)} regions  ${c.search.padEnd(10)} C ${lat.median.toFixed(0)}/${lat.p99.toFixed(0)} ns (timer pair ${lat.timer.toFixed(0)} ns subtracted; back-to-back mean ${lat.pass.toFixed(0)} ns)  QP ${qp.median.toFixed(1)}/${qp.p99.toFixed(1)} µs  ratio ${ratio.toFixed(0)}x ${ratio >= 1000 ? '≥' : '<'} 1000x  float ${cert.safe ? 'SAFE' : 'NOT SAFE'} ${cert.lostInFloat} lost  (load ${load()})`,
+          `    ${n}-D ${String(table.regions.length).padStart(5)} regions  N = ${m.horizon}, nz = ${mpqp.nz}  ${c.search.padEnd(10)} C ${lat.median.toFixed(0)}/${lat.p99.toFixed(0)} ns (timer pair ${lat.timer.toFixed(0)} ns subtracted; back-to-back mean ${lat.pass.toFixed(0)} ns)  QP ${qp.median.toFixed(1)}/${qp.p99.toFixed(1)} µs  ratio ${ratio.toFixed(0)}x ${ratio >= 1000 ? '≥' : '<'} 1000x  float ${cert.safe ? 'SAFE' : 'NOT SAFE'} ${cert.lostInFloat} lost  (load ${load()})`,
         );
     }
+    // the earlier family in the same dimension: chosen structure only, same harnesses, same process
+    {
+      const lt0 = Date.now();
+      const old = solveProblem(parseProblem(chainProblem(n, LEGACY_HORIZON[n]), `chain-${n}d (earlier bench family)`), { timeLimit: SOLVE_SECONDS });
+      const oldS = (Date.now() - lt0) / 1000;
+      const oldPts = sampleBox(old.table.box, LAT_POINTS, 2026);
+      const oqp = qpLatency(old.mpqp, oldPts);
+      const r = emitC(old.table, { precision: 'float', search: 'auto', prefix: 'law' });
+      const lat = cLatency(dir, `${n}-legacy`, r, oldPts);
+      const ratio = (oqp.median * 1000) / lat.median;
+      legacy.push(
+        `    ${n}-D ${String(old.table.regions.length).padStart(5)} regions  N = ${LEGACY_HORIZON[n]}, nz = ${old.mpqp.nz}  ${r.search.padEnd(10)} C ${lat.median.toFixed(0)}/${lat.p99.toFixed(0)} ns (back-to-back mean ${lat.pass.toFixed(0)} ns)  QP ${oqp.median.toFixed(1)}/${oqp.p99.toFixed(1)} µs  ratio ${ratio.toFixed(0)}x ${ratio >= 1000 ? '≥' : '<'} 1000x  (solved in ${oldS.toFixed(0)} s${old.table.stats.complete ? '' : ', INCOMPLETE'}; load ${load()})`,
+      );
+    }
   }
-  out.push(...summary);
+  out.push(...summary, ...legacy);
   // the 4-D example compiled for the usual single-precision target
   {
     const loaded = loadProblem(join(import.meta.dirname, '../../examples/crane-trolley-4d.json'));

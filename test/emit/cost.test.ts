@@ -9,6 +9,7 @@ import { emitC } from '../../src/emit/index.js';
 import { arraysToJson } from '../../src/emit/export.js';
 import type { TableFile } from '../../src/table/format.js';
 import type { BoxTree } from '../../src/partition/boxtree.js';
+import type { GridIndex } from '../../src/emit/grid.js';
 import { compile, exampleTable, run } from './helpers.js';
 import { arrangementTable, gridTable } from './synthetic.js';
 
@@ -25,9 +26,14 @@ function parseArrays(source: string, prefix: string): Map<string, { ctype: strin
   return out;
 }
 
+/** Rounding of a parsed C literal back to the build's precision. */
+function round0(precision: 'float' | 'double'): (x: number) => number {
+  return precision === 'float' ? Math.fround : (x: number) => x;
+}
+
 function checkCost(name: string, table: TableFile): void {
   describe(name, () => {
-    for (const search of ['tree', 'capped', 'boxtree', 'sequential'] as const)
+    for (const search of ['tree', 'capped', 'boxtree', 'grid', 'sequential'] as const)
       for (const precision of ['float', 'double'] as const)
         it(`${search}, ${precision}: bytes, depth, multiply-adds and comparisons`, () => {
           const r = emitC(table, { precision, search, prefix: 'law' });
@@ -84,6 +90,25 @@ function checkCost(name: string, table: TableFile): void {
             const all = rowStart[rowStart.length - 1];
             macs = all * nt + nu * nt;
             cmps = all * rowCmp + (rowStart.length - 1) * regionCmp;
+          } else if (search === 'grid') {
+            // no nodes: the grid's own cell counts, origin and scale; per cell one subtraction and one
+            // multiplication per coordinate (counted as a multiply-add) and two comparisons, then every
+            // candidate of the cell in full
+            const g = r.locator as GridIndex;
+            expect(arrays.has('node_left')).toBe(false);
+            expect(arrays.get('grid_cells')!.values).toEqual(g.cells);
+            expect(arrays.get('grid_lo')!.values.map(round0(precision))).toEqual(g.lower);
+            expect(arrays.get('grid_scale')!.values.map(round0(precision))).toEqual(g.scale);
+            const leafStart = arrays.get('leaf_start')!.values;
+            const leafRegion = arrays.get('leaf_region')!.values;
+            expect(leafStart.length).toBe(g.cells.reduce((a, b) => a * b, 1) + 1);
+            for (let leaf = 0; leaf + 1 < leafStart.length; leaf++) {
+              let rr = 0;
+              for (let k = leafStart[leaf]; k < leafStart[leaf + 1]; k++) rr += rows(leafRegion[k]);
+              macs = Math.max(macs, nt + rr * nt + nu * nt);
+              cmps = Math.max(cmps, 2 * nt + rr * rowCmp + (leafStart[leaf + 1] - leafStart[leaf]) * regionCmp);
+            }
+            expect(r.source).not.toContain('LAW_DEPTH');
           } else {
             const left = arrays.get('node_left')?.values ?? [];
             const right = arrays.get('node_right')?.values ?? [];
@@ -153,7 +178,7 @@ describe('non-finite θ (a failed sensor reading)', () => {
   // IEEE 754: every ordered comparison with NaN is false (common practice); the region test is
   // written as !(a·θ <= b) so that NaN and ±∞ that make a·θ NaN land in no region
   const table = gridTable(2, (i, j) => ({ F: [[1, 2]], g: [i + j] }));
-  for (const search of ['tree', 'capped', 'boxtree', 'sequential'] as const)
+  for (const search of ['tree', 'capped', 'boxtree', 'grid', 'sequential'] as const)
     for (const precision of ['float', 'double'] as const)
       it(`${search}, ${precision}: returns −1 and leaves u untouched`, () => {
         const r = emitC(table, { precision, search, prefix: 'law' });

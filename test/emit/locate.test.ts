@@ -1,6 +1,6 @@
 /**
- * The point-location structures (capped hyperplane tree, bounding-box tree, hyperplane tree,
- * sequential) against sequential search, 2-D to 6-D: the TypeScript locators on 20 000 seeded
+ * The point-location structures (capped hyperplane tree, bounding-box tree, cell grid, hyperplane
+ * tree, sequential) against sequential search, 2-D to 6-D: the TypeScript locators on 20 000 seeded
  * points and on points pushed just inside/outside every facet; the generated C of every structure
  * and precision compiled with gcc's strict C99 flags and checked bit for bit against the
  * TypeScript evaluator (in double also against the table's own law, applyAffine); the byte budget
@@ -9,6 +9,7 @@
  * sequential C does) — and applyAffine of src/table (the table's own double law), exact IEEE single precision emulated with Math.fround (IEEE 754, common practice).
  */
 import { describe, expect, it } from 'vitest';
+import { tol } from '../../src/tol.js';
 import { applyAffine, regionContains } from '../../src/table/table.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 
@@ -20,7 +21,8 @@ import type { CriticalRegion } from '../../src/mpqp/types.js';
 function locateSequential(regions: CriticalRegion[], p: ArrayLike<number>): number {
   return regions.findIndex((r) => regionContains(r, p));
 }
-import { buildSearchTree, locateTree } from '../../src/partition/tree.js';
+import { buildSearchTree, firstHolding, locateTree } from '../../src/partition/tree.js';
+import { gridCell, type GridIndex } from '../../src/emit/grid.js';
 import { buildBoxTree, locateBoxTree } from '../../src/partition/boxtree.js';
 import { emitC } from '../../src/emit/index.js';
 import { emitSelfTest } from '../../src/emit/targets/c.js';
@@ -45,9 +47,17 @@ function checkLocators(name: string, get: () => TableFile): void {
     const sample = sampleBox(table.box, 20000, 77);
     const capped = buildLocator(table, 'capped') as ReturnType<typeof buildSearchTree>;
     const box = buildLocator(table, 'boxtree') as ReturnType<typeof buildBoxTree>;
+    // the grid within a budget large enough for every table here (the cost model's budget may reject it)
+    const grid = buildLocator(table, 'grid', { maxBytes: 1e6 }) as GridIndex;
+    // first fit over the cell's candidates, in ascending index as the builder lists them
+    const locateGrid = (p: number[]) => {
+      const c = gridCell(grid, p, false);
+      return firstHolding(grid.leafRegions, grid.leafStart[c], grid.leafStart[c + 1], p, table.regions, table.dims.ntheta, tol.inside);
+    };
     for (const [kind, locate] of [
       ['capped', (p: number[]) => locateTree(capped, p, table.regions)],
       ['boxtree', (p: number[]) => locateBoxTree(box, p, table.regions)],
+      ['grid', locateGrid],
     ] as const) {
       it(`${kind}: the same region as sequential search on 20 000 seeded points`, () => {
         let located = 0;
@@ -82,10 +92,11 @@ function checkC(name: string, get: () => TableFile): void {
     const facet = facetPoints(table);
     const step = Math.max(1, Math.floor(facet.length / 1500));
     const points = [...sampleBox(table.box, 3000, 5), ...facet.filter((_, i) => i % step === 0)];
-    for (const search of ['capped', 'boxtree', 'sequential'] as const)
+    for (const search of ['capped', 'boxtree', 'grid', 'sequential'] as const)
       for (const precision of ['double', 'float'] as const)
         it(`${search}, ${precision}: strict C99 compiles and equals the TypeScript evaluator bit for bit`, () => {
-          const r = emitC(table, { precision, search, prefix: 'loc' });
+          // the grid within a budget large enough for every table here
+          const r = emitC(table, { precision, search, prefix: 'loc', locatorOptions: search === 'grid' ? { maxBytes: 1e6 } : undefined });
           const expected = points.map((p) => evaluateArrays(r.arrays, p));
           const { exe } = compile('locate', { 'loc.h': r.header, 'loc.c': r.source, 'loc_selftest.c': emitSelfTest(r.arrays, 'loc', points, expected) }, ['loc.c', 'loc_selftest.c']);
           const res = run(exe);
@@ -118,7 +129,7 @@ describe('examples: the cost model and the float certificate', () => {
   for (const ex of EXAMPLES)
     it(`${ex}: the chosen structure fits the byte budget, is safe in float, and the certificate is SAFE with 0 points lost`, () => {
       const table = exampleTable(ex).table;
-      const cands = measureCandidates(table, cTarget, 'float', ['capped', 'boxtree', 'sequential']);
+      const cands = measureCandidates(table, cTarget, 'float', ['capped', 'boxtree', 'grid', 'sequential']);
       const { chosen, reason } = pickCandidate(cands);
       expect(chosen.rejected).toBeNull();
       expect(chosen.location).toBeLessThanOrEqual(LOCATION_BUDGET * chosen.regions);

@@ -216,22 +216,52 @@ function clampBlock(ar: EmitArrays): string {
   return lines.length ? `    /* --clamp: saturate to the input limits (a law meets them only up to rounding) */\n${lines.join('\n')}\n` : '';
 }
 
+/**
+ * Largest θ dimension whose sums are written out term by term (straight-line code, no loop
+ * counter); beyond it the generated code keeps the loop. Either way the sum is taken from its first
+ * product left to right, so the arithmetic (and every rounding) is the same.
+ */
+export const UNROLL_MAX = 12;
+
+/** `term(0) + term(1) + …` (C's + is left-associative: the loop's order of additions). */
+export function unrolledSum(n: number, term: (j: number) => string, first?: string): string {
+  const parts = Array.from({ length: n }, (_, j) => term(j));
+  return first !== undefined ? [first, ...parts].join(' + ') : parts.join(' + ');
+}
+
 export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
   const P = meta.prefix;
   const NT = `${P.toUpperCase()}_NT`;
   const NU = `${P.toUpperCase()}_NU`;
   const real = ar.precision;
   const blocks = cArrays(ar).map((s) => arrayBlock(P, s.name, s.ctype, s.values, s.real ? real : null));
+  const n = ar.ntheta;
+  const unroll = n <= UNROLL_MAX;
+  // a·x summed from its first product, written out term by term for small nθ (P_dot's loop otherwise)
+  const dot = (a: string, x: string) => (unroll ? unrolledSum(n, (j) => `${a}[${j}] * ${x}[${j}]`) : `${P}_dot(${a}, ${x})`);
+  const dotHelper = unroll
+    ? ''
+    : `static ${real} ${P}_dot(const ${real} *a, const ${real} *x)
+{
+    uint32_t j;
+    ${real} s = a[0] * x[0];
+    for (j = 1u; j < ${NT}; ++j) {
+        s += a[j] * x[j];
+    }
+    return s;
+}
+
+`;
+  // t[j] = expr(j) for every j, written out for small nθ
+  const fill = (ind: string, t: string, expr: (j: string) => string) =>
+    unroll ? Array.from({ length: n }, (_, j) => `${ind}${t}[${j}] = ${expr(String(j))};`).join('\n') : `${ind}for (j = 0u; j < ${NT}; ++j) {\n${ind}    ${t}[j] = ${expr('j')};\n${ind}}`;
   const inside = (ar.bestFit ? '' : `static int ${P}_inside(uint32_t r, const ${real} theta[${NT}])
 {
-    uint32_t i, j;
-    for (i = ${P}_region_row_start[r]; i < ${P}_region_row_start[r + 1u]; ++i) {
+    uint32_t i;
+    const uint32_t end = ${P}_region_row_start[r + 1u];
+    for (i = ${P}_region_row_start[r]; i < end; ++i) {
         const ${real} *a = &${P}_region_a[i * (uint32_t)${NT}];
-        ${real} s = a[0] * theta[0];
-        for (j = 1u; j < ${NT}; ++j) {
-            s += a[j] * theta[j];
-        }
-        if (!(s <= ${P}_region_b[i])) { /* also rejects NaN */
+        if (!(${dot('a', 'theta')} <= ${P}_region_b[i])) { /* also rejects NaN */
             return 0;
         }
     }
@@ -246,26 +276,22 @@ export function emitSource(ar: EmitArrays, meta: EmitMeta): string {
 
 static int ${P}_fit(uint32_t r, const ${real} theta[${NT}], ${real} *res)
 {
-    uint32_t i, j;
+    uint32_t i${unroll ? '' : ', j'};
     const ${real} slack = ${P}_region_slack[r];
+    const ${real} *c = &${P}_law_c[r * (uint32_t)${NT}];
+    const uint32_t first = ${P}_region_row_start[r];
+    const uint32_t end = ${P}_region_row_start[r + 1u];
     ${real} worst = (${real})0;
     ${real} t[${NT}];
     /* rows are tested around the region's centre: a.(theta - c) - (b - a.c) <= slack */
-    for (j = 0u; j < ${NT}; ++j) {
-        t[j] = theta[j] - ${P}_law_c[r * (uint32_t)${NT} + j];
-    }
-    for (i = ${P}_region_row_start[r]; i < ${P}_region_row_start[r + 1u]; ++i) {
+${fill('    ', 't', (j) => `theta[${j}] - c[${j}]`)}
+    for (i = first; i < end; ++i) {
         const ${real} *a = &${P}_region_a[i * (uint32_t)${NT}];
-        ${real} s = a[0] * t[0];
-        ${real} d;
-        for (j = 1u; j < ${NT}; ++j) {
-            s += a[j] * t[j];
-        }
-        d = s - ${P}_region_b[i];
+        const ${real} d = ${unroll && n > 1 ? `(${dot('a', 't')})` : dot('a', 't')} - ${P}_region_b[i];
         if (!(d <= slack)) { /* also rejects NaN */
             return 0;
         }
-        if (i == ${P}_region_row_start[r] || d > worst) {
+        if (i == first || d > worst) {
             worst = d;
         }
     }
@@ -275,22 +301,35 @@ static int ${P}_fit(uint32_t r, const ${real} theta[${NT}], ${real} *res)
 
 ` : ''}static void ${P}_law(uint32_t r, const ${real} theta[${NT}], ${real} u[${NU}])
 {
-    uint32_t i, j;
-    for (i = 0u; i < ${NU}; ++i) {
-        uint32_t row = r * (uint32_t)${NU} + i;
-        ${real} s = ${P}_law_g[row];
+    uint32_t i${unroll ? '' : ', j'};
+${
+  ar.lawC.length > 0
+    ? `    const ${real} *c = &${P}_law_c[r * (uint32_t)${NT}];
+    ${real} t[${NT}];
+${fill('    ', 't', (j) => `theta[${j}] - c[${j}]`)}
+`
+    : ''
+}    for (i = 0u; i < ${NU}; ++i) {
+        const uint32_t row = r * (uint32_t)${NU} + i;
+        const ${real} *f = &${P}_law_f[row * (uint32_t)${NT}];
+${
+  unroll
+    ? `        u[i] = ${unrolledSum(n, (j) => `f[${j}] * ${ar.lawC.length > 0 ? 't' : 'theta'}[${j}]`, `${P}_law_g[row]`)};`
+    : `        ${real} s = ${P}_law_g[row];
         for (j = 0u; j < ${NT}; ++j) {
-            ${ar.lawC.length > 0 ? `s += ${P}_law_f[row * (uint32_t)${NT} + j] * (theta[j] - ${P}_law_c[r * (uint32_t)${NT} + j]);` : `s += ${P}_law_f[row * (uint32_t)${NT} + j] * theta[j];`}
+            s += f[j] * ${ar.lawC.length > 0 ? 't' : 'theta'}[j];
         }
-        u[i] = s;
+        u[i] = s;`
+}
     }
 ${clampBlock(ar)}}
 `;
-  // best fit: every candidate tested, the smallest largest residual wins (ties: the first)
+  // best fit: every candidate tested, the smallest largest residual wins, ties to the lowest region
+  // index (so the answer does not depend on the order of the candidates)
   const bestLoop = (ind: string, from: string, to: string, region: string) => `${ind}for (k = ${from}; k < ${to}; ++k) {
 ${ind}    uint32_t r = ${region};
 ${ind}    ${real} res;
-${ind}    if (${P}_fit(r, theta, &res) && (best < 0 || res < best_res)) {
+${ind}    if (${P}_fit(r, theta, &res) && (best < 0 || res < best_res || (res == best_res && (int32_t)r < best))) {
 ${ind}        best = (int32_t)r;
 ${ind}        best_res = res;
 ${ind}        if (res <= ${P.toUpperCase()}_FIT_SURE) {
@@ -328,10 +367,7 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
      * stored inline (NT coefficients, then b), so its loads depend on ref alone */
     for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
         const ${real} *a = &${P}_node_plane[(uint32_t)ref * (uint32_t)(${NT} + 1)];
-        ${real} s = a[0] * theta[0];
-        for (j = 1u; j < ${NT}; ++j) {
-            s += a[j] * theta[j];
-        }
+        const ${real} s = ${dot('a', 'theta')};
         child[0] = ${P}_node_right[ref];
         child[1] = ${P}_node_left[ref];
         ref = child[s <= a[${NT}]]; /* both children loaded first: an index, not a branch */
@@ -345,18 +381,42 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
     }
 `;
   const box = ar.search === 'boxtree';
-  const evalTree = `#define ${P.toUpperCase()}_ROOT (${ar.root})
+  const grid = ar.search === 'grid';
+  // grid: the cell per coordinate, written out for small nθ (c_j: 0 below the grid or NaN, the last cell at or above it)
+  const cellOf = (j: string) => `        const ${real} q = (theta[${j}] - ${P}_grid_lo[${j}]) * ${P}_grid_scale[${j}];
+        uint32_t c;
+        if (!(q >= (${real})0)) { /* below the grid, or NaN */
+            c = 0u;
+        } else if (q >= (${real})${P}_grid_cells[${j}]) {
+            c = ${P}_grid_cells[${j}] - 1u;
+        } else {
+            c = (uint32_t)q; /* 0 <= q < cells: truncation is defined */
+        }
+        leaf = leaf * ${P}_grid_cells[${j}] + c;`;
+  const gridCell = `    /* the cell of theta: one subtraction, one multiplication and two comparisons per coordinate
+     * (no descent); each cell lists every region that can hold a theta mapped into it, the rounding
+     * of this computation included */
+    leaf = 0u;
+${unroll ? Array.from({ length: n }, (_, j) => `    {\n${cellOf(String(j))}\n    }`).join('\n') : `    for (j = 0u; j < ${NT}; ++j) {\n${cellOf('j')}\n    }`}
+`;
+  const evalTree = grid
+    ? `int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
+{
+    uint32_t ${unroll ? '' : 'j, '}k, leaf;${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
+${gridCell}`
+    : `#define ${P.toUpperCase()}_ROOT (${ar.root})
 #define ${P.toUpperCase()}_DEPTH ${ar.maxDepth}u
 
 int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     int32_t ref = ${P.toUpperCase()}_ROOT;
-    uint32_t ${ar.maxDepth > 0 ? (box ? 'd, ' : 'd, j, ') : ''}k, leaf;${ar.maxDepth > 0 ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
+    uint32_t ${ar.maxDepth > 0 ? 'd, ' : ''}k, leaf;${ar.maxDepth > 0 ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
 ${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
         return -1;
     }
     leaf = (uint32_t)(-(ref + 1));
-${
+`;
+  const evalLeaf = `${
   ar.bestFit
     ? `    /* best fit among the candidate regions of the leaf */
 ${bestLoop('    ', `${P}_leaf_start[leaf]`, `${P}_leaf_start[leaf + 1u]`, `${P}_leaf_region[k]`)}`
@@ -380,8 +440,8 @@ ${bestLoop('    ', `${P}_leaf_start[leaf]`, `${P}_leaf_start[leaf + 1u]`, `${P}_
 #include "${P}.h"
 
 ${blocks.join('\n')}
-${inside}
-${ar.search === 'sequential' ? evalSeq : evalTree}`;
+${dotHelper}${inside}
+${ar.search === 'sequential' ? evalSeq : evalTree + evalLeaf}`;
 }
 
 /**
@@ -453,7 +513,7 @@ export const cTarget: EmitTarget<EmitArrays> = {
   lang: 'c',
   precisions: ['float', 'double'],
   summary: 'C99, IEEE float or double arithmetic',
-  searches: ['tree', 'capped', 'boxtree', 'sequential'],
+  searches: ['tree', 'capped', 'boxtree', 'grid', 'sequential'],
   build: (table, precision, search, tree, options) => buildArrays(table, precision as Precision, search, tree, options?.clamp),
   evaluate: evaluateArrays,
   layout: layoutOf,

@@ -15,7 +15,7 @@ import { InputError } from '../io/errors.js';
 import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
-import { createdNote, positive, SECONDS } from './common.js';
+import { coverLines, createdNote, positive, SECONDS } from './common.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -170,7 +170,8 @@ export function register(program: Command): void {
         const s = partition.stats;
         process.stdout.write(
           `${loaded.name}: part ${part.index} of ${part.count}: ${s.regions} regions meet its sub-box, ${s.lps} LPs, ${seconds.toFixed(3)} s\n` +
-            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`),
+            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`) +
+            coverLines(s).map((l) => `${l}\n`).join(''),
         );
         return;
       }
@@ -193,8 +194,7 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
-      if (s.unresolvedPieces > 0)
-        lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
+      lines.push(...coverLines(s));
       process.stdout.write(lines.join('\n') + '\n');
     });
 }

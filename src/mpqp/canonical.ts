@@ -17,6 +17,7 @@
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
  */
 import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats } from './types.js';
+import { sumCauses } from './types.js';
 import type { LpEngine } from './region.js';
 import { overlapsFacet, slicePolytope } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
@@ -116,6 +117,7 @@ function finishJoin(
     stats.lps += p.stats.lps;
     stats.qps += p.stats.qps;
     stats.unresolvedPieces += p.stats.unresolvedPieces;
+    stats.causes = sumCauses(stats.causes, p.stats.causes);
     if (!p.stats.complete && stats.complete) {
       stats.complete = false;
       stats.stopReason = p.stats.stopReason;

@@ -23,6 +23,7 @@
 import { Worker } from 'node:worker_threads';
 import { beginJoin, canonicalNeighbours, mergeNeighbours, subBox, type JoinOptions } from '../mpqp/canonical.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
+import { sumCauses } from '../mpqp/types.js';
 import { tol } from '../tol.js';
 import type { SubBoxProgress } from './part.js';
 
@@ -177,7 +178,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   let settled = false;
   const workers: Worker[] = [];
   const partition = (complete: boolean, reason: PartitionStats['stopReason']): Partition => {
-    const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces };
+    const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
     const work = { ...base.work };
     for (let s = 0; s < M; s++) {
       const f = finished[s];
@@ -186,6 +187,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       stats.lps += f ? f.stats.lps : (p?.lps ?? 0);
       stats.qps += f ? f.stats.qps : (p?.qps ?? 0);
       stats.unresolvedPieces += f?.stats.unresolvedPieces ?? 0;
+      stats.causes = sumCauses(stats.causes, f?.stats.causes);
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     }
     // the main thread counts the union against the region bound, so the sub-boxes together pass it
@@ -294,6 +296,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
           base.stats.lps += msg.stats.lps;
           base.stats.qps += msg.stats.qps;
           base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
+          base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
           for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
           stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
         }

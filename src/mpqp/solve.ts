@@ -305,6 +305,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         slices.push(landing.slice);
         const again = landAcross(R, f, facet, piece, true);
         landing = again === 'infeasible' ? 'noSlice' : again;
+      } else if (landing === 'noRegion' || landing === 'noSlice') {
+        const again = landAcross(R, f, facet, piece, true);
+        if (again !== 'infeasible') landing = again;
       }
       if (landing === 'infeasible') {
         covered = true; // far side infeasible: the facet lies on the feasibility boundary
@@ -411,7 +414,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         }
         centre = { point: ball.center, radius: ball.radius };
       }
-      const landing = landAcross(R, f, facet, centre);
+      let landing = landAcross(R, f, facet, centre);
+      // a failed landing is tried once more strictly (cold point QP: a warm start can stop short on an ill-conditioned working set)
+      if (landing === 'noRegion' || landing === 'noSlice') {
+        const again = landAcross(R, f, facet, centre, true);
+        if (again !== 'infeasible') landing = again;
+      }
       if (landing === 'infeasible') return 'covered'; // far side infeasible: the facet lies on the feasibility boundary
       let S: Slice;
       if (landing === 'noRegion' || landing === 'noSlice') {

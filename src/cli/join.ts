@@ -3,7 +3,7 @@ import { readTextInput, InputError } from '../io/errors.js';
 import { checkOutputPath } from '../io/output.js';
 import { joinParts, parsePartJson } from '../table/part.js';
 import { writeTableFile } from '../table/file.js';
-import { createdNote, CLI } from './common.js';
+import { coverLines, createdNote, CLI } from './common.js';
 
 /** `a/b/x.part-1-of-4.json` → `a/b/x.table.json`; null when the name does not follow that pattern. */
 export function defaultJoinPath(partPath: string): string | null {
@@ -32,7 +32,7 @@ export function register(program: Command): void {
         `${table.name}: ${s.regions} regions from ${parts.length} parts (${found} listed, a region cut by a sub-box face in every part it meets)`,
         s.complete ? `  complete: yes — table written to ${out}` : `  complete: NO (a part stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
-      if (s.unresolvedPieces > 0) lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
+      lines.push(...coverLines(s));
       process.stdout.write(lines.join('\n') + '\n');
     });
 }

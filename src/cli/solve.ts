@@ -4,19 +4,18 @@ import { availableParallelism } from 'node:os';
 import { loadProblem } from '../problem/index.js';
 import type { Layout } from '../formulation/layout.js';
 import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
-import { exploreThreaded, type ThreadedOptions } from '../table/threads.js';
+import { canonicalThreaded, exploreThreaded, type ThreadedOptions } from '../table/threads.js';
 import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex, type SubBoxProgress } from '../table/part.js';
 import { subBox } from '../mpqp/canonical.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTextInput } from '../io/errors.js';
 import { makeTable } from '../table/build.js';
-import { joinPartitions } from '../mpqp/canonical.js';
 import { writeTableFile } from '../table/file.js';
 import { InputError } from '../io/errors.js';
 import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
-import { createdNote, positive, SECONDS } from './common.js';
+import { coverLines, createdNote, positive, SECONDS } from './common.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -122,12 +121,13 @@ export function register(program: Command): void {
       const setupSeconds = (t0 - tStart) / 1000;
       // the time limit covers set-up as well: the exploration gets what is left
       const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
+      const threads = opts.threads ?? availableParallelism();
       const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
       const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
       const { partition, state } = await explore(
         mpqp,
         {
-          threads: opts.threads ?? availableParallelism(),
+          threads,
           maxRegions: opts.maxRegions,
           timeLimit,
           lp: opts.lp as 'kernel' | 'reference',
@@ -170,12 +170,13 @@ export function register(program: Command): void {
         const s = partition.stats;
         process.stdout.write(
           `${loaded.name}: part ${part.index} of ${part.count}: ${s.regions} regions meet its sub-box, ${s.lps} LPs, ${seconds.toFixed(3)} s\n` +
-            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`),
+            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`) +
+            coverLines(s).map((l) => `${l}\n`).join(''),
         );
         return;
       }
       // the canonical form: its closure step is bounded by the same time limit, and both steps show progress
-      const canonical = joinPartitions(mpqp, [partition], {
+      const canonical = await canonicalThreaded(mpqp, partition, threads, {
         shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
         onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? 'closing under neighbour guesses' : 'neighbours'} ${done}/${total} `) : undefined,
       });
@@ -193,8 +194,7 @@ export function register(program: Command): void {
           ? `  complete: yes — table written to ${out}`
           : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
       ];
-      if (s.unresolvedPieces > 0)
-        lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region; run \`tessera gaps\` on the table`);
+      lines.push(...coverLines(s));
       process.stdout.write(lines.join('\n') + '\n');
     });
 }

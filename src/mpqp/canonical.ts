@@ -17,6 +17,7 @@
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
  */
 import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats } from './types.js';
+import { sumCauses } from './types.js';
 import type { LpEngine } from './region.js';
 import { overlapsFacet, slicePolytope } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
@@ -48,6 +49,25 @@ export interface JoinOptions {
  * objects sharing the numeric arrays.
  */
 export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): Partition {
+  const join = beginJoin(problem, parts, options);
+  return join.finish(canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress));
+}
+
+/** A join whose neighbours are still to be computed (`beginJoin`), e.g. in shares on several threads. */
+export interface PendingJoin {
+  /** the union, closed, in canonical order (ids not yet set), and a box holding each region */
+  regions: CriticalRegion[];
+  boxes: { lo: ArrayLike<number>; hi: ArrayLike<number> }[];
+  /** counts the LPs of the join */
+  lp: LpEngine;
+  /** progress of the neighbours step (JoinOptions.onProgress, at most every 100 ms) */
+  progress: (step: 'neighbours', done: number, total: number) => void;
+  /** the canonical partition, given `canonicalNeighbours` of `regions` (or the merge of its shares) */
+  finish(neighbours: number[][][]): Partition;
+}
+
+/** `joinPartitions` up to the neighbours: union, closure, canonical order, boxes. */
+export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): PendingJoin {
   const byKey = new Map<string, { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }>();
   for (const part of parts)
     part.regions.forEach((R, i) => {
@@ -73,7 +93,18 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
   });
   const sorted = entries.map((e) => e.region);
-  const neighbours = canonicalNeighbours(problem, sorted, boxes, lp, progress);
+  return { regions: sorted, boxes, lp, progress, finish: (neighbours) => finishJoin(parts, sorted, boxes, neighbours, lp, closed, cut) };
+}
+
+function finishJoin(
+  parts: readonly Partition[],
+  sorted: readonly CriticalRegion[],
+  boxes: { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
+  neighbours: number[][][],
+  lp: LpEngine,
+  closed: number,
+  cut: boolean,
+): Partition {
   const regions: CriticalRegion[] = sorted.map((R, id) => ({
     ...R,
     id,
@@ -86,6 +117,7 @@ export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[]
     stats.lps += p.stats.lps;
     stats.qps += p.stats.qps;
     stats.unresolvedPieces += p.stats.unresolvedPieces;
+    stats.causes = sumCauses(stats.causes, p.stats.causes);
     if (!p.stats.complete && stats.complete) {
       stats.complete = false;
       stats.stopReason = p.stats.stopReason;
@@ -166,6 +198,9 @@ function closeUnderGuesses(
  * otherwise). Candidates are found by sorting every facet by a fixed linear function of its
  * sign-normalised hyperplane and comparing only facets whose values are within the tolerance, then
  * their boxes; so no step looks at all regions. Result: per region, per facet, ascending indices.
+ * With `share`, only every `count`-th cluster of facets from the `index`-th is done (the others'
+ * lists stay empty): `count` shares computed apart (threads) and put together by
+ * `mergeNeighbours` are the lists computed at once, since every pair is tested in one cluster.
  */
 export function canonicalNeighbours(
   problem: MpqpProblem,
@@ -173,6 +208,7 @@ export function canonicalNeighbours(
   boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
   lp: LpEngine,
   progress?: (step: 'neighbours', done: number, total: number) => void,
+  share?: { index: number; count: number },
 ): number[][][] {
   const nt = problem.ntheta;
   let scale = 1;
@@ -236,9 +272,13 @@ export function canonicalNeighbours(
   // a table whose regions share long planes (saturation limits, arrangements) — so a large
   // cluster is swept along one axis of the boxes (only pairs whose boxes meet on it) instead of
   // comparing every pair: the same pairs are tested, without the quadratic count.
-  for (let c0 = 0; c0 < list.length; ) {
+  for (let c0 = 0, ordinal = 0; c0 < list.length; ordinal++) {
     let c1 = c0 + 1;
     while (c1 < list.length && list[c1].v - list[c1 - 1].v <= window) c1++;
+    if (share && ordinal % share.count !== share.index) {
+      c0 = c1;
+      continue;
+    }
     frames = new Map();
     progress?.('neighbours', c0, list.length);
     if (c1 - c0 <= 64) {
@@ -275,6 +315,13 @@ export function canonicalNeighbours(
     }
     c0 = c1;
   }
+  for (const R of out) for (const f of R) f.sort((x, y) => x - y);
+  return out;
+}
+
+/** The neighbour lists of `canonicalNeighbours` computed in shares, put together (ascending indices). */
+export function mergeNeighbours(shares: readonly number[][][][]): number[][][] {
+  const out = shares[0].map((R, r) => R.map((_, f) => shares.flatMap((s) => s[r][f])));
   for (const R of out) for (const f of R) f.sort((x, y) => x - y);
   return out;
 }

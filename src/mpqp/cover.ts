@@ -40,6 +40,17 @@ export interface CoverContext {
   maxVerts: number;
 }
 
+/** Which check the last 'fail' of this module failed (read right after the call; single-threaded per isolate). */
+export type CoverFailure = 'rank' | 'box' | 'verts';
+let failure: CoverFailure = 'rank';
+export function lastCoverFailure(): CoverFailure {
+  return failure;
+}
+const fail = (why: CoverFailure): 'fail' => {
+  failure = why;
+  return 'fail';
+};
+
 const RANK_TOL = 1e-9;
 /** scratch of clipPiece (single-threaded per isolate) */
 let mark = new Int32Array(64);
@@ -155,7 +166,7 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
       }
       verts.push(x);
       tight.push(c);
-      if (verts.length > ctx.maxVerts) return 'fail';
+      if (verts.length > ctx.maxVerts) return fail('verts');
     }
   }
   if (!tidy) return verts.length > dim ? { A, b, m: P.m + 1, verts, tight, widthBound: Infinity } : null;
@@ -188,7 +199,7 @@ function finish(A: number[], b: number[], m: number, verts: number[][], tight: n
   for (const t of T) {
     const u: number[] = [];
     for (const i of t) if (map[i] >= 0) u.push(map[i]);
-    if (u.length < dim || !rankAtLeast(A2, u, dim, dim)) return 'fail';
+    if (u.length < dim || !rankAtLeast(A2, u, dim, dim)) return fail('rank');
     T2.push(u);
   }
   // Chebyshev radius ≤ half the width across any row: r ≤ (b_i − min_v a_i·v)/2
@@ -245,8 +256,26 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   if (done === null || done === 'fail') return done;
   P = done;
   // a vertex on the box: the box did not hold the polytope with room to spare
-  for (const x of P.verts) for (let k = 0; k < dim; k++) if (x[k] <= lo[k] + ctx.eps || x[k] >= hi[k] - ctx.eps) return 'fail';
+  for (const x of P.verts) for (let k = 0; k < dim; k++) if (x[k] <= lo[k] + ctx.eps || x[k] >= hi[k] - ctx.eps) return fail('box');
   return P;
+}
+
+/**
+ * `polytopePiece`, and when its vertex list fails a check at the context's tolerance, once more at a
+ * tolerance relative to the box (1e-9 of its widest side) when that is finer: on a small facet
+ * whose rows meet at small angles (a long thin wedge) an absolute tolerance puts points of
+ * different rows within it of each other. The context to cover the facet with comes back with the
+ * piece; 'fail' when both fail.
+ */
+export function facetPiece(A: Float64Array, b: Float64Array, m: number, lo: ArrayLike<number>, hi: ArrayLike<number>, ctx: CoverContext): { piece: CoverPiece | null; ctx: CoverContext } | 'fail' {
+  const first = polytopePiece(A, b, m, lo, hi, ctx);
+  if (first !== 'fail') return { piece: first, ctx };
+  let w = 0;
+  for (let k = 0; k < ctx.dim; k++) w = Math.max(w, hi[k] - lo[k]);
+  const fine: CoverContext = { ...ctx, eps: 1e-9 * w };
+  if (!(fine.eps < ctx.eps)) return 'fail';
+  const second = polytopePiece(A, b, m, lo, hi, fine);
+  return second === 'fail' ? 'fail' : { piece: second, ctx: fine };
 }
 
 /**

@@ -70,6 +70,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const rowsA: number[][] = [];
   const rowsB: number[] = [];
   const info: { kind: FacetInfo['kind']; row: number }[] = [];
+  // `a` is the caller's scratch row: read here, never kept (the stored row is a new, normalised array)
   const push = (a: number[], b: number, kind: FacetInfo['kind'], row: number): boolean => {
     let n = 0;
     for (const v of a) n += v * v;
@@ -115,12 +116,12 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
       c = -w[i];
       for (let q = 0; q < nz; q++) c += G[i * nz + q] * zc[q];
     }
-    if (!push(a.slice(), -c, 'primal', i)) return { ok: false, reason: 'empty' };
+    if (!push(a, -c, 'primal', i)) return { ok: false, reason: 'empty' };
   }
   for (let p = 0; p < k; p++) {
     // −λ_p(θ) ≤ 0
     for (let j = 0; j < nt; j++) a[j] = -Lth[p * nt + j];
-    if (!push(a.slice(), lc[p], 'dual', activeSet[p])) return { ok: false, reason: 'empty' };
+    if (!push(a, lc[p], 'dual', activeSet[p])) return { ok: false, reason: 'empty' };
   }
   const lo = problem.box.lower;
   const up = problem.box.upper;

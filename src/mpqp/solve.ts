@@ -1,11 +1,11 @@
-import type { CoverWork, CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, SolveOptions } from './types.js';
+import { sumCauses, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
 import { solvePointQp } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
-import { clipPiece, pieceCentre, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from './cover.js';
+import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
 /**
  * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
@@ -56,12 +56,14 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const minPiece = 10 * tol.radius;
   // vertices within this of a row's plane are on it (facet coordinates are θ-space distances)
   const coverEps = 1e-9 * Math.max(1, scale);
-  /** the vertex list of the facet being covered (dim ≥ 2), null when it has none */
-  let facetPiece: CoverPiece | null = null;
+  /** the vertex list of the facet being covered (dim ≥ 2), null when it has none, and the context it was made in */
+  let facetList: CoverPiece | null = null;
+  let facetCtx: CoverContext | null = null;
   const lp: LpEngine = { lps: 0, reference: options.lp === 'reference', proofs: options.strategy?.proofs ?? true };
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
-  const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 };
+  const causes: CoverCauses = sumCauses();
+  const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, causes };
   const guessSets = options.strategy?.guess ?? true;
   const warmQp = options.strategy?.warmStart ?? true;
   const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
@@ -124,7 +126,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       regions,
       boxes: bboxes.map((bb) => ({ lo: Array.from(bb.lo), hi: Array.from(bb.hi) })),
       done: regions.map((R) => R.activeSet.join(',')).filter((k) => processed.has(k)),
-      stats: { ...stats, regions: regions.length, lps: lp.lps },
+      stats: { ...stats, regions: regions.length, lps: lp.lps, causes: { ...causes } },
       work: { ...work },
     };
   };
@@ -212,7 +214,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const sup = within ? within.upper : up;
   if (options.resume) {
     integrate(options.resume.regions.map((region, i) => ({ region, box: options.resume!.boxes[i] })));
-    Object.assign(stats, options.resume.stats, { complete: true, stopReason: 'done' });
+    Object.assign(stats, options.resume.stats, { complete: true, stopReason: 'done', causes });
+    Object.assign(causes, sumCauses(options.resume.stats.causes));
     Object.assign(work, options.resume.work);
     lp.lps = options.resume.stats.lps;
   } else {
@@ -278,7 +281,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       const res = coverByVertices(R, f, facet, slices, neighbours);
       if (res === 'stopped') return;
       if (res === 'covered') covered = true;
-      else cover.fallbacks++;
+      else {
+        cover.fallbacks++;
+        causes[res === 'rank' ? 'fallbackRank' : res === 'box' ? 'fallbackBox' : res === 'verts' ? 'fallbackVerts' : 'fallbackGuard']++;
+      }
     }
     const memo = new Map<string, { point: Float64Array; radius: number } | null>();
     for (let guard = 0; guard < 1000 && !covered; guard++) {
@@ -290,21 +296,37 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         covered = true;
         break;
       }
-      const landing = landAcross(R, f, facet, piece);
+      let landing = landAcross(R, f, facet, piece);
+      // a slice holding the point only within the landing tolerance would leave it uncovered (the
+      // same point would come back): land again, accepting only a slice that holds it
+      if (typeof landing === 'object' && !containsY(landing.slice, piece.point, tol.inside)) {
+        if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
+        link(R.id, landing.id);
+        slices.push(landing.slice);
+        const again = landAcross(R, f, facet, piece, true);
+        landing = again === 'infeasible' ? 'noSlice' : again;
+      } else if (landing === 'noRegion' || landing === 'noSlice') {
+        const again = landAcross(R, f, facet, piece, true);
+        if (again !== 'infeasible') landing = again;
+      }
       if (landing === 'infeasible') {
         covered = true; // far side infeasible: the facet lies on the feasibility boundary
         break;
       }
-      if (landing === null) {
+      if (landing === 'noRegion' || landing === 'noSlice') {
         slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece: counted, never silent
         stats.unresolvedPieces++;
+        causes[landing]++;
         continue;
       }
       if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
       link(R.id, landing.id);
       slices.push(landing.slice);
     }
-    if (!covered) stats.unresolvedPieces++; // guard exhausted: the rest of this facet is unresolved
+    if (!covered) {
+      stats.unresolvedPieces++; // guard exhausted: the rest of this facet is unresolved
+      causes.guard++;
+    }
     // a seeded region is a neighbour across this facet when it meets the facet in a full piece
     for (const s of seeded) {
       if (neighbours.includes(s.id)) continue;
@@ -320,9 +342,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    * one LP otherwise.
    */
   function meetsFacet(facet: FacetFrame, s: Slice): boolean {
-    if (facet.dim >= 2 && facetPiece) {
-      const ctx: CoverContext = { dim: facet.dim, eps: coverEps, maxVerts: 4000 };
-      let cur: CoverPiece | null | 'fail' = facetPiece;
+    if (facet.dim >= 2 && facetList && facetCtx) {
+      const ctx = facetCtx;
+      let cur: CoverPiece | null | 'fail' = facetList;
       for (let i = 0; i < s.m && cur && cur !== 'fail'; i++) cur = clipPiece(cur, s.A, s.b[i], ctx, true, i * facet.dim);
       if (cur === null) return false;
       if (cur !== 'fail') {
@@ -337,21 +359,23 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    * Cover facet f of R by vertex lists (src/mpqp/cover.ts): the uncovered part is a list of convex
    * pieces; each slice (known neighbours first, then every landing) is taken off the pieces it
    * cuts with no LP; a landing starts from a piece's vertex mean (one Chebyshev LP only when the
-   * ball about it is thin). 'fail' hands the facet, with the slices found so far, to the LP
-   * difference.
+   * ball about it is thin). A failed check (which one is returned) or the bound of 1 000 landings
+   * ('guard') hands the facet, with the slices found so far, to the LP difference.
    */
-  function coverByVertices(R: CriticalRegion, f: number, facet: FacetFrame, slices: Slice[], neighbours: number[]): 'covered' | 'stopped' | 'fail' {
-    facetPiece = null;
+  function coverByVertices(R: CriticalRegion, f: number, facet: FacetFrame, slices: Slice[], neighbours: number[]): 'covered' | 'stopped' | CoverFailure | 'guard' {
+    facetList = null;
+    facetCtx = null;
     const dim = facet.dim;
-    const ctx: CoverContext = { dim, eps: coverEps, maxVerts: 4000 };
     const box = facet.yBox(bboxes[R.id]);
-    const base = polytopePiece(facet.A, facet.b, facet.m, box.lo, box.hi, ctx);
-    if (base === 'fail') return 'fail';
+    const made = facetPiece(facet.A, facet.b, facet.m, box.lo, box.hi, { dim, eps: coverEps, maxVerts: 4000 });
+    if (made === 'fail') return lastCoverFailure();
+    const { piece: base, ctx } = made;
     if (base === null || base.widthBound <= minPiece) {
       if (base) cover.thinPieces++;
       return 'covered'; // the facet itself is thinner than any piece we cover
     }
-    facetPiece = base;
+    facetList = base;
+    facetCtx = ctx;
     let pieces: CoverPiece[] = [base];
     const dropped = { count: 0 };
     const take = (S: Slice): boolean => {
@@ -369,7 +393,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       cover.thinPieces += dropped.count;
       dropped.count = 0;
     };
-    for (const S of slices) if (!take(S)) return 'fail';
+    for (const S of slices) if (!take(S)) return lastCoverFailure();
     settle();
     for (let guard = 0; guard < 1000; guard++) {
       if (stopNow()) return 'stopped';
@@ -390,22 +414,47 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         }
         centre = { point: ball.center, radius: ball.radius };
       }
-      const landing = landAcross(R, f, facet, centre);
+      let landing = landAcross(R, f, facet, centre);
+      // a failed landing is tried once more strictly (cold point QP: a warm start can stop short on an ill-conditioned working set)
+      if (landing === 'noRegion' || landing === 'noSlice') {
+        const again = landAcross(R, f, facet, centre, true);
+        if (again !== 'infeasible') landing = again;
+      }
       if (landing === 'infeasible') return 'covered'; // far side infeasible: the facet lies on the feasibility boundary
       let S: Slice;
-      if (landing === null) {
+      if (landing === 'noRegion' || landing === 'noSlice') {
         S = facet.ballSlice(centre.point, centre.radius); // give up on this piece: counted, never silent
         stats.unresolvedPieces++;
+        causes[landing]++;
       } else {
         if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
         link(R.id, landing.id);
         S = landing.slice;
       }
       slices.push(S);
-      if (!take(S)) return 'fail';
+      if (!take(S)) return lastCoverFailure();
       settle();
+      if (landing !== 'noRegion' && landing !== 'noSlice' && pieces.includes(P)) {
+        // the slice held the point only within the landing tolerance and left the piece whole (the
+        // same landing would come back every time): land again, accepting only a slice that holds
+        // the point itself; failing that the piece is given up (counted, never silent)
+        const again = landAcross(R, f, facet, centre, true);
+        let T: Slice;
+        if (typeof again === 'object') {
+          if (!neighbours.includes(again.id)) neighbours.push(again.id);
+          link(R.id, again.id);
+          T = again.slice;
+        } else {
+          stats.unresolvedPieces++;
+          causes[again === 'noRegion' ? 'noRegion' : 'noSlice']++;
+          T = facet.ballSlice(centre.point, centre.radius);
+        }
+        slices.push(T);
+        if (!take(T)) return lastCoverFailure();
+        settle();
+      }
     }
-    return 'fail';
+    return 'guard';
   }
 
   /**
@@ -414,13 +463,31 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
    * thinner than the step is not jumped over. Accept a region whose facet slice holds the point.
    * The first try guesses the neighbour's active set from the facet (add the row across a primal
    * facet, drop it across a dual one) before falling back to the point QP.
+   *
+   * When every point fails, the same points are tried again with longer steps (3, 9, … times the
+   * first, up to the nominal step or the cover slack, whichever is larger): just across a thin
+   * piece's facet there can be a stack of regions thinner than tol.radius (active sets whose
+   * multipliers vary by ~1e8 per unit θ), which are never built; the region beyond them, within
+   * the cover slack of the facet, covers the piece like any neighbour (its slice is checked).
+   * A landing that fails says why: 'noRegion' (no full-dimensional region could be built at any
+   * step) or 'noSlice' (regions were reached, none whose slice held the point).
    */
-  function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
+  function landAcross(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }, strict = false): { id: number; slice: Slice } | 'infeasible' | 'noRegion' | 'noSlice' {
     work.landings++;
-    return landFrom(R, f, facet, piece);
+    return landFrom(R, f, facet, piece, strict);
   }
 
-  function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }): { id: number; slice: Slice } | 'infeasible' | null {
+  /** {z : G z ≤ w + E θ} is non-empty, by a phase-1 LP (the Chebyshev LP with its radius free; counted). */
+  function feasibleByLp(theta: Float64Array): boolean {
+    const { nz, nc } = problem;
+    const b = Float64Array.from(problem.w);
+    for (let i = 0; i < nc; i++) for (let j = 0; j < nt; j++) b[i] += problem.E[i * nt + j] * theta[j];
+    lp.lps++;
+    work.coverLps++;
+    return findFeasiblePoint(problem.G, b, nc, nz) !== null;
+  }
+
+  function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }, strict: boolean): { id: number; slice: Slice } | 'infeasible' | 'noRegion' | 'noSlice' {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
     const guess = fi.kind === 'primal' ? [...R.activeSet, fi.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== fi.row);
@@ -428,29 +495,56 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     // the dual method warm-started from R's working set (minus the row across a dual facet) adds the row itself
     const warm = fi.kind === 'primal' ? R.activeSet : guess;
     let sawFeasible = false;
+    let sawRegion = false;
+    /** the points whose steps reached feasible parameters: tried again with longer steps */
+    const again: Float64Array[] = [];
+    /** the region at θ = lift(y) + h·a when its slice holds y; 'infeasible' (−1), or null */
+    const at = (y: Float64Array, base: Float64Array, h: number, useGuess: boolean, slack = strict ? tol.inside : 1e3 * tol.inside): { id: number; slice: Slice } | 'infeasible' | 'out' | null => {
+      const theta = Float64Array.from(base);
+      for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
+      if (!inBox(theta)) return 'out';
+      // strict: the point QP from cold (a warm start on an ill-conditioned working set can stop short)
+      const id = regionAt(theta, hints, useGuess ? guess : undefined, strict ? undefined : warm);
+      // no region from a feasible point QP: near the edge of the feasible set the dual method can
+      // report a nearly dependent working set (multipliers ~1e16) as feasible; a phase-1 LP decides
+      if (id === -1 || (id === -2 && !feasibleByLp(theta))) return 'infeasible';
+      sawFeasible = true;
+      if (id < 0) return null;
+      sawRegion = true;
+      const slice = facet.sliceOf(regions[id]);
+      return slice && containsY(slice, y, slack) ? { id, slice } : null;
+    };
     for (let attempt = 0; attempt < 6; attempt++) {
       const y = Float64Array.from(piece.point);
       // nudge inside the piece: a structured point may sit exactly where regions meet
       if (attempt > 0) for (let j = 0; j < y.length; j++) y[j] += (rand() - 0.5) * 0.5 * piece.radius;
       const base = facet.lift(y);
       let infeasibleSteps = 0;
+      let feasibleHere = false;
       for (let h = h0; h >= 10 * tol.inside; h /= 10) {
-        const theta = Float64Array.from(base);
-        for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
-        if (!inBox(theta)) break;
-        const id = regionAt(theta, hints, guessSets && attempt === 0 && h === h0 ? guess : undefined, warm);
-        if (id === -1) {
+        const r = at(y, base, h, guessSets && attempt === 0 && h === h0);
+        if (r === 'out') break;
+        if (r === 'infeasible') {
           if (++infeasibleSteps >= 2 && !sawFeasible) break; // two steps, both infeasible: the boundary
           continue;
         }
-        sawFeasible = true;
-        if (id < 0) continue;
-        const slice = facet.sliceOf(regions[id]);
-        if (slice && containsY(slice, y)) return { id, slice };
+        feasibleHere = true;
+        if (r) return r;
       }
       if (attempt === 0 && !sawFeasible) return 'infeasible';
+      if (feasibleHere) again.push(y);
     }
-    return null;
+    const hMax = Math.max(step, minPiece);
+    for (const y of again) {
+      const base = facet.lift(y);
+      for (let h = 3 * h0; h <= hMax; h *= 3) {
+        // a region this far off must hold the point itself, not just within the landing tolerance
+        const r = at(y, base, h, false, tol.inside);
+        if (r === 'out') break;
+        if (r && r !== 'infeasible') return r;
+      }
+    }
+    return sawRegion ? 'noSlice' : 'noRegion';
   }
 
   stats.regions = regions.length;
@@ -646,12 +740,12 @@ export function overlapsFacet(facet: FacetFrame, s: Slice, minRadius: number, lp
   return chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6).radius > minRadius;
 }
 
-function containsY(s: Slice, y: ArrayLike<number>): boolean {
+function containsY(s: Slice, y: ArrayLike<number>, slack = 1e3 * tol.inside): boolean {
   const dim = s.m > 0 ? s.A.length / s.m : 0;
   for (let i = 0; i < s.m; i++) {
     let v = 0;
     for (let k = 0; k < dim; k++) v += s.A[i * dim + k] * y[k];
-    if (v > s.b[i] + 1e3 * tol.inside) return false;
+    if (v > s.b[i] + slack) return false;
   }
   return true;
 }

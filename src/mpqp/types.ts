@@ -155,6 +155,38 @@ export interface PartitionStats {
   unresolvedPieces: number;
   /** regions of Chebyshev radius ≤ 10·tol.radius (thinner than what the exploration must find; counted by `joinPartitions`) */
   thinRegions?: number;
+  /** why pieces were left unresolved and facets left the vertex-list cover (depends on the run: never stored in the table) */
+  causes?: CoverCauses;
+}
+
+/**
+ * Causes, counted per event. The unresolved ones add up to `unresolvedPieces`; the fallbacks are
+ * facets whose vertex list failed a numerical check and were covered by the LP difference instead.
+ */
+export interface CoverCauses {
+  /** landings where no full-dimensional region could be built at any step (the active sets found were thin, failed LICQ or were empty) */
+  noRegion: number;
+  /** landings that reached full-dimensional regions, none of whose facet slice held the point */
+  noSlice: number;
+  /** facets whose covering stopped at its bound of 1 000 landings (the rest of the facet counts as one piece) */
+  guard: number;
+  /** vertex-list fallbacks: a vertex whose tight rows do not have rank dim */
+  fallbackRank: number;
+  /** vertex-list fallbacks: a facet vertex on the padding box */
+  fallbackBox: number;
+  /** vertex-list fallbacks: more than 4 000 vertices */
+  fallbackVerts: number;
+  /** vertex-list fallbacks: 1 000 landings on one facet */
+  fallbackGuard: number;
+}
+
+export const COVER_CAUSES: readonly (keyof CoverCauses)[] = ['noRegion', 'noSlice', 'guard', 'fallbackRank', 'fallbackBox', 'fallbackVerts', 'fallbackGuard'];
+
+/** A zeroed count, or the sum of counts (missing ones count 0). */
+export function sumCauses(...list: (CoverCauses | undefined)[]): CoverCauses {
+  const out = { noRegion: 0, noSlice: 0, guard: 0, fallbackRank: 0, fallbackBox: 0, fallbackVerts: 0, fallbackGuard: 0 };
+  for (const c of list) if (c) for (const k of COVER_CAUSES) out[k] += c[k] ?? 0;
+  return out;
 }
 
 /** How the exploration spent its work (printed and benchmarked; not stored in the table). */

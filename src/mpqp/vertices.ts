@@ -43,6 +43,9 @@ export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<numb
   return { n, x, tight };
 }
 
+/** Scratch for the edge search's common rows (grown on demand; one per thread). */
+const cutScratch = { buf: new Int32Array(64) };
+
 /** Scratch for the rank test (n × n rows at most per call). */
 const rankScratch = { m: new Float64Array(0) };
 
@@ -123,10 +126,11 @@ function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
 /**
  * Cut the vertex set by row r (a_r θ ≤ b_r, unit normal): vertices more than `eps` outside go,
  * vertices within `eps` gain r as a tight row, and each edge from an inside to an outside vertex
- * gives its crossing point. False when the vertex count would pass `maxVertices` (the caller gives
+ * gives its crossing point (`hashEdges` forces or forbids the hashed edge search; by default it
+ * is used when there are many pairs). False when the vertex count would pass `maxVertices` (the caller gives
  * up on the vertices; nothing is changed then).
  */
-export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number): boolean {
+export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number, hashEdges?: boolean): boolean {
   const { n } = V;
   const cnt = V.x.length;
   const s = new Float64Array(cnt);
@@ -149,18 +153,24 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     tight.push(s[v] >= -eps ? withRow(V.tight[v], V.tight[v].length, r) : V.tight[v]);
   }
   // edges between simple vertices (n tight rows): the two share n − 1 rows, found by a hash of
-  // each vertex's (n − 1)-row subsets; pairs with a degenerate vertex take the rank test
-  const byFace = new Map<number, number[]>();
-  const degenerateInside: number[] = [];
+  // each inside vertex's (n − 1)-row subsets when there are many pairs (all pairs tried when few);
+  // pairs with a degenerate vertex take the rank test
+  const outsideAll: number[] = [];
   const insideAll: number[] = [];
   for (let q = 0; q < cnt; q++) {
-    if (!(s[q] < -eps)) continue;
-    insideAll.push(q);
+    if (s[q] > eps) outsideAll.push(q);
+    else if (s[q] < -eps) insideAll.push(q);
+  }
+  const hashed = hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length);
+  const byFace = new Map<number, number[]>();
+  const degenerateInside: number[] = [];
+  for (const q of insideAll) {
     const Tq = V.tight[q];
     if (Tq.length !== n) {
       degenerateInside.push(q);
       continue;
     }
+    if (!hashed) continue;
     for (let omit = 0; omit < n; omit++) {
       const key = faceKey(Tq, omit);
       const list = byFace.get(key);
@@ -168,7 +178,6 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
       else byFace.set(key, [q]);
     }
   }
-  let buf = new Int32Array(64);
   const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
     if (x.length >= maxVertices) return false;
     const t = s[p] / (s[p] - s[q]);
@@ -178,28 +187,36 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     tight.push(withRow(common, k, r));
     return true;
   };
-  for (let p = 0; p < cnt; p++) {
-    if (!(s[p] > eps)) continue;
+  for (const p of outsideAll) {
     const Tp = V.tight[p];
-    if (buf.length < Tp.length) buf = new Int32Array(2 * Tp.length);
+    if (cutScratch.buf.length < Tp.length) cutScratch.buf = new Int32Array(2 * Tp.length);
+    const buf = cutScratch.buf;
     if (Tp.length === n) {
-      for (let omit = 0; omit < n; omit++) {
-        const list = byFace.get(faceKey(Tp, omit));
-        if (!list) continue;
-        for (const q of list) {
-          const k = intersect(Tp, V.tight[q], buf);
+      if (hashed) {
+        for (let omit = 0; omit < n; omit++) {
+          const list = byFace.get(faceKey(Tp, omit));
+          if (!list) continue;
+          for (const q of list) {
+            const k = intersect(Tp, V.tight[q], buf);
+            if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
+          }
+        }
+      } else
+        for (const q of insideAll) {
+          const Tq = V.tight[q];
+          if (Tq.length !== n) continue; // with the degenerate ones below
+          const k = intersect(Tp, Tq, buf);
           if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
         }
-      }
     }
     const others = Tp.length === n ? degenerateInside : insideAll;
     for (const q of others) {
       const Tq = V.tight[q];
-      if (buf.length < Math.min(Tp.length, Tq.length)) buf = new Int32Array(2 * Math.min(Tp.length, Tq.length));
-      const k = intersect(Tp, Tq, buf);
+      if (cutScratch.buf.length < Tq.length) cutScratch.buf = new Int32Array(2 * Tq.length);
+      const k = intersect(Tp, Tq, cutScratch.buf);
       if (k < n - 1) continue;
-      if (rankOf(A, n, buf, k) !== n - 1) continue;
-      if (!addCrossing(p, q, buf, k)) return false;
+      if (rankOf(A, n, cutScratch.buf, k) !== n - 1) continue;
+      if (!addCrossing(p, q, cutScratch.buf, k)) return false;
     }
   }
   V.x = x;

@@ -21,8 +21,9 @@
  * each unfinished sub-box the regions meeting it and the keys already covered in it.
  */
 import { Worker } from 'node:worker_threads';
-import { subBox } from '../mpqp/canonical.js';
+import { beginJoin, canonicalNeighbours, mergeNeighbours, subBox, type JoinOptions } from '../mpqp/canonical.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
+import { sumCauses } from '../mpqp/types.js';
 import { tol } from '../tol.js';
 import type { SubBoxProgress } from './part.js';
 
@@ -39,12 +40,23 @@ export interface ExploreWorkerData {
 
 /** One sub-box to explore (main thread → worker). */
 export interface ExploreJob {
+  kind: 'explore';
   job: number;
   within: Box | undefined;
   maxRegions: number | undefined;
   /** seconds left of the time limit when the job starts */
   timeLimit: number | undefined;
   resume: ExplorationState | null;
+}
+
+/** A share of the canonical neighbours (main thread → worker; the answer is `number[][][]`). */
+export interface NeighbourJob {
+  kind: 'neighbours';
+  /** the regions in canonical order: only A, b and the facets' kinds are read */
+  regions: Pick<CriticalRegion, 'A' | 'b' | 'facets'>[];
+  boxes: { lo: ArrayLike<number>; hi: ArrayLike<number> }[];
+  index: number;
+  count: number;
 }
 
 /** One event of a worker's job, in the order it happened. */
@@ -91,6 +103,43 @@ function meets(b: { lo: ArrayLike<number>; hi: ArrayLike<number> }, s: Box): boo
   return true;
 }
 
+/** A worker running src/table/explore-worker (from source under tsx, as in tests and the bench, it registers tsx's loader first). */
+function startWorker(data: ExploreWorkerData): Worker {
+  const ts = import.meta.url.endsWith('.ts');
+  const url = new URL(ts ? './explore-worker.ts' : './explore-worker.js', import.meta.url);
+  return ts
+    ? new Worker(`import('tsx/esm/api').then((api) => { api.register(); return import(${JSON.stringify(url.href)}); })`, { eval: true, workerData: data })
+    : new Worker(url, { workerData: data });
+}
+
+/**
+ * The canonical form of an exploration's partition (`joinPartitions`), its neighbours step shared
+ * between this thread and `threads − 1` workers (every `threads`-th cluster of facets each; the
+ * lists merged are those one thread computes, see `canonicalNeighbours`). The closure step stays on
+ * this thread. Small partitions (under 500 regions) are done here alone.
+ */
+export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition, threads: number, options: JoinOptions = {}): Promise<Partition> {
+  const join = beginJoin(mpqp, [partition], options);
+  const W = Math.max(1, Math.floor(threads));
+  if (W === 1 || join.regions.length < 500) return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress));
+  const data: ExploreWorkerData = { mpqp, options: {}, signal: new Int32Array(new SharedArrayBuffer(4)) };
+  const regions = join.regions.map((R) => ({ A: R.A, b: R.b, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) }));
+  const boxes = join.boxes.map((b) => ({ lo: Array.from(b.lo), hi: Array.from(b.hi) }));
+  const started = Array.from({ length: W - 1 }, (_, w) => {
+    const worker = startWorker(data);
+    const done = new Promise<{ lists: number[][][]; lps: number }>((res, rej) => {
+      worker.once('message', res);
+      worker.once('error', rej);
+    }).finally(() => void worker.terminate());
+    worker.postMessage({ kind: 'neighbours', regions, boxes, index: w + 1, count: W } satisfies NeighbourJob);
+    return done;
+  });
+  const mine = canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress, { index: 0, count: W });
+  const theirs = await Promise.all(started);
+  for (const t of theirs) join.lp.lps += t.lps;
+  return join.finish(mergeNeighbours([mine, ...theirs.map((t) => t.lists)]));
+}
+
 /** Start the exploration of `mpqp` (or of `options.within`) on `options.threads` workers, one sub-box per thread. */
 export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): ThreadedExploration {
   const W = Math.max(1, Math.floor(options.threads));
@@ -129,7 +178,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   let settled = false;
   const workers: Worker[] = [];
   const partition = (complete: boolean, reason: PartitionStats['stopReason']): Partition => {
-    const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces };
+    const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
     const work = { ...base.work };
     for (let s = 0; s < M; s++) {
       const f = finished[s];
@@ -138,6 +187,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       stats.lps += f ? f.stats.lps : (p?.lps ?? 0);
       stats.qps += f ? f.stats.qps : (p?.qps ?? 0);
       stats.unresolvedPieces += f?.stats.unresolvedPieces ?? 0;
+      stats.causes = sumCauses(stats.causes, f?.stats.causes);
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     }
     // the main thread counts the union against the region bound, so the sub-boxes together pass it
@@ -204,6 +254,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     }
     const elapsed = (performance.now() - t0) / 1000;
     const job: ExploreJob = {
+      kind: 'explore',
       job: s,
       within: M === 1 && !options.within ? undefined : boxes[s],
       maxRegions: options.maxRegions,
@@ -214,18 +265,13 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     return true;
   };
   let running = 0;
-  const ts = import.meta.url.endsWith('.ts'); // run from source under tsx (tests, bench)
   const data: ExploreWorkerData = { mpqp, options: { lp: options.lp, lean: options.lean }, signal };
   const end = (): void => {
     const complete = firstStop === null && finished.every((f) => f);
     settle(partition(complete, firstStop ?? (complete ? 'done' : 'interrupted')));
   };
   for (let w = 0; w < Math.min(W, queue.length); w++) {
-    // from source (tests, bench under tsx), the worker registers tsx's loader before importing the .ts file
-    const url = new URL(ts ? './explore-worker.ts' : './explore-worker.js', import.meta.url);
-    const worker = ts
-      ? new Worker(`import('tsx/esm/api').then((api) => { api.register(); return import(${JSON.stringify(url.href)}); })`, { eval: true, workerData: data })
-      : new Worker(url, { workerData: data });
+    const worker = startWorker(data);
     workers.push(worker);
     worker.on('message', (msg: ExploreWorkerMessage) => {
       if (settled) return;
@@ -250,6 +296,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
           base.stats.lps += msg.stats.lps;
           base.stats.qps += msg.stats.qps;
           base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
+          base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
           for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
           stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
         }

@@ -3,14 +3,14 @@ import { basename } from 'node:path';
 import { exampleFiles, fixtureFiles, solved, rng, randomInBox } from '../helpers/solved.js';
 import { qpReference } from '../helpers/reference.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
-import { joinPartitions, subBox } from '../../src/mpqp/canonical.js';
+import { beginJoin, canonicalNeighbours, joinPartitions, mergeNeighbours, subBox } from '../../src/mpqp/canonical.js';
 import { makeTable } from '../../src/table/build.js';
 import { tableToJson } from '../../src/table/table.js';
 import { evaluateTable } from '../../src/table/table.js';
 import { formulate } from '../../src/formulation/index.js';
 import { parseProblem, solveProblem } from '../../src/index.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
-import { exploreThreaded } from '../../src/table/threads.js';
+import { canonicalThreaded, exploreThreaded } from '../../src/table/threads.js';
 
 const files = [...exampleFiles, ...fixtureFiles];
 
@@ -51,6 +51,27 @@ describe('canonical form: the same bytes on 2 threads', () => {
       expect(p.stats.complete).toBe(true);
       const bytes = tableToJson(makeTable(loaded, formulation, joinPartitions(formulation.mpqp, [p])));
       expect(bytes === tableToJson(table), '2 threads differ from 1').toBe(true);
+    }, 300_000);
+  }
+});
+
+describe('canonical neighbours computed in shares (threads)', () => {
+  // the neighbour lists of 2 or 3 shares merged are those computed at once: every pair of facets is
+  // tested in exactly one cluster, whichever share does it (an invariance check; the lists' own
+  // correctness is checked below against regions sharing a piece of a facet)
+  for (const file of files.filter((f) => /crane|two-carts|thermal|positioning/.test(f))) {
+    it(`${basename(file)}: shares merged = computed at once; canonicalThreaded = joinPartitions`, async () => {
+      const { loaded } = solved(file);
+      const { mpqp } = formulate(loaded);
+      const p = solvePartition(mpqp);
+      const join = beginJoin(mpqp, [p]);
+      const whole = canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp);
+      for (const count of [2, 3]) {
+        const shares = Array.from({ length: count }, (_, index) => canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, undefined, { index, count }));
+        expect(mergeNeighbours(shares)).toEqual(whole);
+      }
+      const at2 = await canonicalThreaded(mpqp, p, 2);
+      expect(JSON.stringify(at2.regions) === JSON.stringify(joinPartitions(mpqp, [p]).regions)).toBe(true);
     }, 300_000);
   }
 });

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { clipPiece, pieceCentre, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
+import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
 import { rng } from '../problem/rng.js';
 
@@ -174,5 +174,51 @@ describe('random polytopes and slices, 2-D to 4-D, against javascript-lp-solver'
       expect(byVerts).toBeCloseTo(support(q.A, q.b, c), 7);
       expect(byVerts).toBeCloseTo(support([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1], a], [1, 1, 1, 1, 1, 1, 0.3], c), 7);
     }
+  });
+});
+
+describe('a long thin facet wedge (taken from a 4-D solve of test/fixtures/scale/boom-4d-n20.json)', () => {
+  // Facet 2 of a region found past 15 000 regions: two nearly antiparallel rows (angle ~1e-4) make a
+  // wedge ~1e-2 long and ~3e-7 thick in the facet's own coordinates; the box is its padded bounding box.
+  const A = [
+    [-0.6978158090692658, -0.44432178596091754, 0.5618106862044425],
+    [-0.5098301551773795, -0.8352052269777017, -0.2061684789218149],
+    [0.6871410739409055, 0.417385268202952, -0.5946651851172127],
+    [-0.6871229486417003, -0.41728014916925305, 0.5947598931999545],
+    [3.500043987631011e-20, -1, -6.80880035300018e-27],
+  ];
+  const b = [1.3631271055742387, 1.2928083556256087, -1.3393183294788018, 1.3392268852859457, 1.200000000247926];
+  const lo = [-0.7856443717779528, -1.2000903544375967, 0.505520165210764];
+  const hi = [-0.7746956468293781, -1.191945630735966, 0.5147601655500242];
+  // the solver's absolute tolerance for a θ-box 4 wide (1e-9 · 4)
+  const coarse: CoverContext = { dim: 3, eps: 4e-9, maxVerts: 4000 };
+  it('fails its check at the absolute tolerance, and facetPiece redoes it at one relative to the box', () => {
+    expect(polytopePiece(Float64Array.from(A.flat()), Float64Array.from(b), 5, lo, hi, coarse)).toBe('fail');
+    expect(lastCoverFailure()).toBe('box');
+    const made = facetPiece(Float64Array.from(A.flat()), Float64Array.from(b), 5, lo, hi, coarse);
+    if (made === 'fail' || !made.piece) throw new Error('no piece');
+    expect(made.ctx.eps).toBeLessThan(coarse.eps);
+    const P = made.piece;
+    // the vertex list gives javascript-lp-solver's support values in the axis directions and 40 random ones
+    const r = rng(20261203);
+    const dirs = [[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1], ...Array.from({ length: 40 }, () => unit([2 * r() - 1, 2 * r() - 1, 2 * r() - 1]))];
+    for (const c of dirs) {
+      let mx = -Infinity;
+      for (const v of P.verts) mx = Math.max(mx, c[0] * v[0] + c[1] * v[1] + c[2] * v[2]);
+      expect(Math.abs(mx - support(A, b, c))).toBeLessThan(1e-8);
+    }
+    // the width bound bounds javascript-lp-solver's Chebyshev radius, and the wedge is thinner than a facet piece must be (1e-6)
+    const rho = chebRadius(A, b);
+    expect(rho).toBeGreaterThan(0);
+    expect(rho).toBeLessThanOrEqual(P.widthBound + 1e-9);
+    expect(P.widthBound).toBeLessThan(1e-6);
+  });
+  it('a polytope that holds together at the absolute tolerance comes back unchanged, with the same context', () => {
+    // the unit cube: vertices (0|1)³ (common practice)
+    const cube = [[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]];
+    const made = facetPiece(Float64Array.from(cube.flat()), Float64Array.from([1, 0, 1, 0, 1, 0]), 6, [-2, -2, -2], [2, 2, 2], coarse);
+    if (made === 'fail' || !made.piece) throw new Error('no piece');
+    expect(made.ctx).toBe(coarse);
+    expect(sortedVerts(made.piece)).toEqual([[0, 0, 0], [0, 0, 1], [0, 1, 0], [0, 1, 1], [1, 0, 0], [1, 0, 1], [1, 1, 0], [1, 1, 1]]);
   });
 });

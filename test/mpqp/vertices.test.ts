@@ -50,6 +50,39 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     // each of the three is degenerate now (4 rows through it in 3-D)
     expect(V.tight.filter((t) => t.length === 4).length).toBe(3);
   });
+  it('the hashed edge search and the all-pairs one give the same vertices (random cuts of the 4-cube, 2·4 + 12 rows)', () => {
+    const r = rng(99);
+    const n4 = 4;
+    for (let trial = 0; trial < 20; trial++) {
+      const A: number[] = [];
+      const b: number[] = [];
+      for (let j = 0; j < n4; j++) {
+        for (let k = 0; k < n4; k++) A.push(k === j ? 1 : 0);
+        b.push(1);
+        for (let k = 0; k < n4; k++) A.push(k === j ? -1 : 0);
+        b.push(1);
+      }
+      for (let i = 0; i < 12; i++) {
+        const a = Array.from({ length: n4 }, () => 2 * r() - 1);
+        const nn = Math.hypot(...a);
+        A.push(...a.map((v) => v / nn));
+        b.push(0.3 + 0.6 * r());
+      }
+      const sets = [true, false].map((hash) => {
+        const V = boxVertices(n4, [-1, -1, -1, -1], [1, 1, 1, 1], 0);
+        for (let i = 0; i < 12; i++) expect(cutVertices(V, F(A), F(b), 2 * n4 + i, 1e-10, 4000, hash)).toBe(true);
+        for (const x of V.x)
+          for (let q = 0; q < b.length; q++) {
+            let t = -b[q];
+            for (let j = 0; j < n4; j++) t += A[q * n4 + j] * x[j];
+            expect(t).toBeLessThanOrEqual(1e-9);
+          }
+        return V.x.map((x, v) => `${x.map((t) => t.toFixed(9)).join(',')}|${V.tight[v].join(',')}`).sort();
+      });
+      expect(sets[0]).toEqual(sets[1]);
+      expect(sets[0].length).toBeGreaterThan(n4);
+    }
+  });
   it('a cut past the vertex limit gives up and leaves the set as it was', () => {
     const { A, b } = box();
     const s = 1 / Math.sqrt(3);

@@ -181,17 +181,40 @@ export class BoxIndex {
     let depthMax = 0;
     let longest = 0;
     let leaves = 0;
-    const listBox: number[] = [];
-    const rowAt: number[] = [0];
-    const rowIds: number[] = [];
+    // per listing: the box at stride bs (8 for nθ ≤ 4: the four axes of locate4, padded with ∓∞) and
+    // the cell's rows, in typed arrays grown by doubling
+    const bs = n <= 4 ? 8 : 2 * n;
+    let listBox = new Float64Array(bs * 1024);
+    let rowAt = new Int32Array(1025);
+    let rowIds = new Int32Array(4096);
+    let nList = 0;
+    let nRows = 0;
+    const rowSize = this.rowSizes(lower, upper);
     const makeLeaf = (job: Job): void => {
       leafFrom[job.node] = ids.length;
       for (const r of job.items) {
         ids.push(r);
+        if ((nList + 1) * bs > listBox.length) {
+          const grown = new Float64Array(2 * listBox.length);
+          grown.set(listBox);
+          listBox = grown;
+          const at = new Int32Array(2 * rowAt.length);
+          at.set(rowAt);
+          rowAt = at;
+        }
+        const o = nList * bs;
         // a side beyond the cell's never fails for a θ in the cell: ∓∞, a comparison always false (predicted)
-        for (let j = 0; j < n; j++) listBox.push(bl[r * n + j] <= job.lo[j] ? -Infinity : bl[r * n + j], bh[r * n + j] >= job.hi[j] ? Infinity : bh[r * n + j]);
-        this.cellRows(r, job.lo, job.hi, rowIds);
-        rowAt.push(rowIds.length);
+        for (let j = 0; j < bs / 2; j++) {
+          listBox[o + 2 * j] = j >= n || bl[r * n + j] <= job.lo[j] ? -Infinity : bl[r * n + j];
+          listBox[o + 2 * j + 1] = j >= n || bh[r * n + j] >= job.hi[j] ? Infinity : bh[r * n + j];
+        }
+        if (nRows + this.rowStart[r + 1] - this.rowStart[r] > rowIds.length) {
+          const grown = new Int32Array(2 * rowIds.length + this.rowStart[r + 1] - this.rowStart[r]);
+          grown.set(rowIds);
+          rowIds = grown;
+        }
+        nRows = this.cellRows(r, job.lo, job.hi, rowSize, rowIds, nRows);
+        rowAt[++nList] = nRows;
       }
       leafTo[job.node] = ids.length;
       leaves++;
@@ -326,9 +349,9 @@ export class BoxIndex {
     this.leafIds = Int32Array.from(ids);
     this.boxLo = bl;
     this.boxHi = bh;
-    this.listBox = Float64Array.from(listBox);
-    this.rowAt = Int32Array.from(rowAt);
-    this.rowIds = Int32Array.from(rowIds);
+    this.listBox = listBox.slice(0, nList * bs);
+    this.rowAt = rowAt.slice(0, nList + 1);
+    this.rowIds = rowIds.slice(0, nRows);
     this.rootLo = Float64Array.from(lower);
     this.rootHi = Float64Array.from(upper);
     if (n <= 4) {
@@ -338,50 +361,64 @@ export class BoxIndex {
         for (let j = 0; j < n; j++) A4[i * 5 + j] = this.A[i * n + j];
         A4[i * 5 + 4] = this.b[i];
       }
-      const Q = ids.length;
-      const box4 = new Float64Array(Q * 8);
-      for (let q = 0; q < Q; q++)
-        for (let j = 0; j < 4; j++) {
-          box4[q * 8 + 2 * j] = j < n ? this.listBox[q * 2 * n + 2 * j] : -Infinity;
-          box4[q * 8 + 2 * j + 1] = j < n ? this.listBox[q * 2 * n + 2 * j + 1] : Infinity;
-        }
       this.A4 = A4;
-      this.listBox4 = box4;
+      this.listBox4 = this.listBox;
     } else {
       this.A4 = null;
       this.listBox4 = null;
     }
-    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: rowIds.length };
+    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: this.rowIds.length };
   }
 
   /**
-   * Appends to `out` the rows of region r that the fast path must test for θ in the cell [lo, hi]:
+   * Writes into `out` from `at` (returns the new end) the rows of region r that the fast path must
+   * test for θ in the cell [lo, hi]:
    * every row but those whose residual, as `locateAt` computes it (fl(Σ a_j θ_j) − b), is ≤ 0 at
    * every θ of the cell. A row with one nonzero entry is left out when fl(a_j·x_j) ≤ b at the cell's
    * far end x_j (rounding is monotone and the zeros add nothing); another when the cell's maximum of
-   * Σ a_j θ_j computed in double, plus 4(nθ+1)·2⁻⁵³·Σ|a_j|·max(|lo_j|, |hi_j|) (twice the bound on
-   * the rounding of the sum, once for the maximum and once at θ), is ≤ b. So for any slack ≥ 0, a
+   * Σ a_j θ_j computed in double, plus 4(nθ+1)·2⁻⁵³·Σ|a_j|·max(|lo_j|, |hi_j|) over the parameter
+   * box (`rowSizes`; twice the bound on the rounding of the sum, once for the maximum and once at θ),
+   * is ≤ b. So for any slack ≥ 0, a
    * region's largest residual over the rows kept decides "≤ 0", "≤ slack" and "least" as over all
    * its rows (a residual left out is ≤ 0: it matters only once every row is ≤ 0, where θ is held
    * exactly whatever its value).
    */
-  private cellRows(r: number, lo: Float64Array, hi: Float64Array, out: number[]): void {
+  private cellRows(r: number, lo: Float64Array, hi: Float64Array, size: Float64Array, out: Int32Array, at: number): number {
     const n = this.n;
     const A = this.A;
     const u = 4 * (n + 1) * 2 ** -53;
     for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
       let mx = 0;
-      let size = 0;
-      let nonzero = 0;
       for (let j = 0; j < n; j++) {
         const a = A[i * n + j];
-        if (a !== 0) nonzero++;
         mx += a > 0 ? a * hi[j] : a * lo[j];
-        size += Math.abs(a) * Math.max(Math.abs(lo[j]), Math.abs(hi[j]));
       }
-      const holds = nonzero <= 1 ? mx <= this.b[i] : mx + u * size <= this.b[i];
-      if (!holds) out.push(i);
+      // size < 0 marks a row with one nonzero entry
+      const holds = size[i] < 0 ? mx <= this.b[i] : mx + u * size[i] <= this.b[i];
+      if (!holds) out[at++] = i;
     }
+    return at;
+  }
+
+  /**
+   * Per row: Σ_j |a_j|·max(|lower_j|, |upper_j|) over the parameter box (at least the cell's, which
+   * lies in it), or −1 for a row with at most one nonzero entry (`cellRows`).
+   */
+  private rowSizes(lower: ArrayLike<number>, upper: ArrayLike<number>): Float64Array {
+    const n = this.n;
+    const rows = this.b.length;
+    const size = new Float64Array(rows);
+    for (let i = 0; i < rows; i++) {
+      let sz = 0;
+      let nonzero = 0;
+      for (let j = 0; j < n; j++) {
+        const a = this.A[i * n + j];
+        if (a !== 0) nonzero++;
+        sz += Math.abs(a) * Math.max(Math.abs(lower[j]), Math.abs(upper[j]));
+      }
+      size[i] = nonzero <= 1 ? -1 : sz;
+    }
+    return size;
   }
 
   /**
@@ -482,7 +519,7 @@ export class BoxIndex {
     for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
       // outside the padded box, the region is not within the slack either (the premise of the listing)
       let out = false;
-      for (let j = 0, o = q * 2 * n; j < n; j++, o += 2) {
+      for (let j = 0, o = q * 2 * n; j < n; j++, o += 2) {  // nθ > 4: stride 2nθ
         const x = th[j];
         if (x < box[o] || x > box[o + 1]) {
           out = true;

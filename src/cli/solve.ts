@@ -86,7 +86,7 @@ export function register(program: Command): void {
       try {
         await solveCommand(problemPath, opts, pool, tStart);
       } finally {
-        pool.terminate();
+        void pool.terminate();
       }
     });
 }
@@ -178,7 +178,10 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   }
   if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
   else if (!partition.stats.complete) resumeHint();
+  // the workers are done with a part (and below, after the canonical neighbours): end them before
+  // the file is assembled, so their heaps are not held beside it (peak memory)
   if (part) {
+    await pool.terminate();
     writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
     if (opts.quiet) return;
     if (created) createdNote(created);
@@ -190,11 +193,14 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     );
     return;
   }
-  // the canonical form: its closure step is bounded by the same time limit, and both steps show progress
+  // the canonical form: its closure step is bounded by the same time limit, and both steps show
+  // progress; one thread does it here (a lone worker ends first, its heap freed)
+  if (pool.workers.length === 1) await pool.terminate();
   const canonical = await canonicalThreaded(mpqp, partition, threads, {
     shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
     onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? 'closing under neighbour guesses' : 'neighbours'} ${done}/${total} `) : undefined,
   }, pool);
+  await pool.terminate();
   if (live) process.stderr.write('\r\x1b[K');
   const table = makeTable(loaded, formulation, canonical, { lean });
   writeTableFile(out, table);

@@ -23,6 +23,7 @@ import { overlapsFacet, slicePolytope } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
+import { FacetPairs } from './facet-pairs.js';
 
 /** Order of two ascending index lists: entry by entry, then the shorter first. */
 export function compareActiveSets(a: readonly number[], b: readonly number[]): number {
@@ -244,6 +245,8 @@ export function canonicalNeighbours(
   // list[i] against list[k] (i < k: the frame is always the earlier facet's, whatever the order
   // of enumeration, so the answer does not depend on it)
   let frames = new Map<number, ReturnType<typeof slicePolytope>>();
+  // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more dimensions)
+  const pairs = nt >= 3 ? new FacetPairs(regions, boxes, nt, minPiece) : null;
   const pair = (i: number, k: number): void => {
     const P = list[i];
     const Q = list[k];
@@ -256,6 +259,14 @@ export function canonicalNeighbours(
     d = 0;
     for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
     if (d > aTol || !meets(P.r, Q.r)) return;
+    const known = pairs ? pairs.decide(P.r, P.f, Q.r, Q.f) : -1;
+    if (known >= 0) {
+      if (known === 1) {
+        out[P.r][P.f].push(Q.r);
+        out[Q.r][Q.f].push(P.r);
+      }
+      return;
+    }
     let frame = frames.get(i);
     if (frame === undefined) {
       frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
@@ -316,6 +327,7 @@ export function canonicalNeighbours(
     c0 = c1;
   }
   for (const R of out) for (const f of R) f.sort((x, y) => x - y);
+  if (pairs) (globalThis as any).__canonStats = pairs.counts;
   return out;
 }
 

@@ -184,6 +184,17 @@ describe('checkpoints', () => {
     const saved = JSON.parse(readFileSync(cp2, 'utf8'));
     expect(saved.subBoxes.count).toBe(2);
     expect(saved.subBoxes.done.length).toBe(2);
+    // the two sub-boxes (the cut chosen by the pilot) are recorded, and tile the parameter box of the
+    // problem file: equal on every axis but one, where they meet
+    const pbox = JSON.parse(readFileSync(problem, 'utf8')).parameters;
+    const [b0, b1] = saved.subBoxes.boxes as { lower: number[]; upper: number[] }[];
+    const cutAxes = pbox.lower.map((_: number, j: number) => j).filter((j: number) => b0.upper[j] !== b1.upper[j] || b0.lower[j] !== b1.lower[j]);
+    expect(cutAxes.length).toBe(1);
+    const a = cutAxes[0];
+    expect(b0.lower[a]).toBe(pbox.lower[a]);
+    expect(b1.upper[a]).toBe(pbox.upper[a]);
+    expect(b0.upper[a]).toBe(b1.lower[a]);
+    for (let j = 0; j < pbox.lower.length; j++) if (j !== a) expect([b0.lower[j], b0.upper[j]]).toEqual([pbox.lower[j], pbox.upper[j]]);
     const r2 = await runCli(['solve', problem, '--resume', cp2, '-o', at('split.json'), '--threads', '1', '-q']);
     expect(r2.status, r2.stderr).toBe(0);
     expect(readFileSync(at('split.json'), 'utf8') === reference).toBe(true);
@@ -205,6 +216,17 @@ describe('checkpoints', () => {
     const r = await runCli(['solve', problem, '--resume', bad, '-o', at('bad.json')]);
     expect(r.status).toBe(2);
     expect(r.stderr).toContain('subBoxes.done');
+    expect(existsSync(at('bad.json'))).toBe(false);
+  }, 300_000);
+
+  it('a checkpoint whose recorded sub-boxes are broken is refused with the key named (exit 2)', async () => {
+    const cp = JSON.parse(readFileSync(at('split.checkpoint.json'), 'utf8'));
+    cp.subBoxes.boxes = [cp.subBoxes.boxes[0]];
+    const bad = at('bad-boxes.checkpoint.json');
+    writeFileSync(bad, JSON.stringify(cp));
+    const r = await runCli(['solve', problem, '--resume', bad, '-o', at('bad.json')]);
+    expect(r.status).toBe(2);
+    expect(r.stderr).toBe(`tessera: ${bad}: subBoxes.boxes: must hold 2 boxes {lower, upper} of the parameter dimension\n`);
     expect(existsSync(at('bad.json'))).toBe(false);
   }, 300_000);
 

@@ -16,14 +16,14 @@
  * every run found, so every run ends with it. Leaving thin regions out instead opened holes that
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
  */
-import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats } from './types.js';
+import type { CriticalRegion, ExplorationWork, MpqpProblem, NeighbourWork, Partition, PartitionStats } from './types.js';
 import { sumCauses } from './types.js';
 import type { LpEngine } from './region.js';
 import { overlapsFacet, slicePolytope } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
-import { FacetPairs } from './facet-pairs.js';
+import { FacetPairs, zeroPairCounts, addPairCounts } from './facet-pairs.js';
 
 /** Order of two ascending index lists: entry by entry, then the shorter first. */
 export function compareActiveSets(a: readonly number[], b: readonly number[]): number {
@@ -32,9 +32,20 @@ export function compareActiveSets(a: readonly number[], b: readonly number[]): n
   return a.length - b.length;
 }
 
-/** Options of `joinPartitions`: a stop for its closure step, and progress. */
+/**
+ * The share of a time limit kept for the canonical form: a bounded solve explores for the rest and
+ * then puts the regions in canonical form within the same limit (its neighbours step costs up to
+ * about a quarter of the exploration's time on the 5-D fixture, on one thread; see DEVELOPERS.md).
+ */
+export const canonicalReserve = 0.25;
+
+/** Options of `joinPartitions`: a stop for its closure and neighbours steps, and progress. */
 export interface JoinOptions {
-  /** asked between regions of the closure step: true ends it early, and the result is marked incomplete ('time-limit') */
+  /**
+   * asked between regions of the closure step and between clusters of facets of the neighbours
+   * step: true ends the step early, and the result is marked incomplete ('time-limit'; the
+   * neighbour lists of the clusters not done stay empty, `stats.neighboursCut`)
+   */
   shouldStop?: () => boolean;
   /** called at most every 100 ms: which step, how far it is, out of how much */
   onProgress?: (step: 'closing' | 'neighbours', done: number, total: number) => void;
@@ -51,7 +62,33 @@ export interface JoinOptions {
  */
 export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): Partition {
   const join = beginJoin(problem, parts, options);
-  return join.finish(canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress));
+  const counts = zeroNeighbourCounts();
+  const lists = canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts });
+  return join.finish(lists, counts);
+}
+
+/** How the neighbours step went: its pair tests and how each was decided, its clusters of facets (of this share) and those done, and whether `shouldStop` cut it. */
+export type NeighbourCounts = NeighbourWork;
+
+/** Zero counters, not cut. */
+export function zeroNeighbourCounts(): NeighbourCounts {
+  return { ...zeroPairCounts(), clusters: 0, clustersDone: 0, cut: false };
+}
+
+/** Add the counters of `b` (a share) into `a`; cut when either is. */
+export function addNeighbourCounts(a: NeighbourCounts, b: NeighbourCounts): void {
+  addPairCounts(a, b);
+  a.clusters += b.clusters;
+  a.clustersDone += b.clustersDone;
+  a.cut = a.cut || b.cut;
+}
+
+/** Options of `canonicalNeighbours`: a stop, and counters. */
+export interface NeighbourOptions {
+  /** asked between clusters of facets: true ends the step (the clusters not done keep empty lists, `counts.cut`) */
+  shouldStop?: () => boolean;
+  /** counters added to (pair tests, LP-free decisions, LPs, clusters, cut) */
+  counts?: NeighbourCounts;
 }
 
 /** A join whose neighbours are still to be computed (`beginJoin`), e.g. in shares on several threads. */
@@ -63,8 +100,13 @@ export interface PendingJoin {
   lp: LpEngine;
   /** progress of the neighbours step (JoinOptions.onProgress, at most every 100 ms) */
   progress: (step: 'neighbours', done: number, total: number) => void;
-  /** the canonical partition, given `canonicalNeighbours` of `regions` (or the merge of its shares) */
-  finish(neighbours: number[][][]): Partition;
+  /** the stop of the neighbours step (JoinOptions.shouldStop) */
+  shouldStop?: () => boolean;
+  /**
+   * The canonical partition, given `canonicalNeighbours` of `regions` (or the merge of its
+   * shares) and its counters: a cut step marks it incomplete ('time-limit', `stats.neighboursCut`).
+   */
+  finish(neighbours: number[][][], counts?: NeighbourCounts): Partition;
 }
 
 /** `joinPartitions` up to the neighbours: union, closure, canonical order, boxes. */
@@ -94,7 +136,7 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
     return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
   });
   const sorted = entries.map((e) => e.region);
-  return { regions: sorted, boxes, lp, progress, finish: (neighbours) => finishJoin(parts, sorted, boxes, neighbours, lp, closed, cut) };
+  return { regions: sorted, boxes, lp, progress, shouldStop: options.shouldStop, finish: (neighbours, counts) => finishJoin(parts, sorted, boxes, neighbours, lp, closed, cut, counts) };
 }
 
 function finishJoin(
@@ -105,6 +147,7 @@ function finishJoin(
   lp: LpEngine,
   closed: number,
   cut: boolean,
+  counts?: NeighbourCounts,
 ): Partition {
   const regions: CriticalRegion[] = sorted.map((R, id) => ({
     ...R,
@@ -131,7 +174,15 @@ function finishJoin(
     stats.complete = false;
     stats.stopReason = 'time-limit';
   }
-  return { regions, stats, work, boxes };
+  if (counts?.cut) {
+    // the neighbours step was cut short: facets of the clusters not done have no neighbours listed
+    stats.neighboursCut = true;
+    if (stats.complete) {
+      stats.complete = false;
+      stats.stopReason = 'time-limit';
+    }
+  }
+  return { regions, stats, work, boxes, neighbourWork: counts };
 }
 
 /**
@@ -196,12 +247,15 @@ function closeUnderGuesses(
  * S has a facet on the same hyperplane with the opposite orientation (normals within 1e-6, offsets
  * within 1e-5 times the box scale) and the two facets overlap in a piece of radius > 10·tol.radius
  * within the hyperplane (the exploration's thinnest piece; intervals in 2-D θ, one Chebyshev LP
- * otherwise). Candidates are found by sorting every facet by a fixed linear function of its
+ * otherwise, unless a certificate of facet-pairs.ts gives the LP's answer without solving it: a
+ * point deep inside both facets, or a slab proved by weak duality that leaves no room). Candidates are found by sorting every facet by a fixed linear function of its
  * sign-normalised hyperplane and comparing only facets whose values are within the tolerance, then
  * their boxes; so no step looks at all regions. Result: per region, per facet, ascending indices.
  * With `share`, only every `count`-th cluster of facets from the `index`-th is done (the others'
  * lists stay empty): `count` shares computed apart (threads) and put together by
  * `mergeNeighbours` are the lists computed at once, since every pair is tested in one cluster.
+ * `options.shouldStop` is asked before each cluster: once true, the clusters left keep empty lists
+ * and `options.counts.cut` is set (the caller marks the result incomplete).
  */
 export function canonicalNeighbours(
   problem: MpqpProblem,
@@ -210,6 +264,7 @@ export function canonicalNeighbours(
   lp: LpEngine,
   progress?: (step: 'neighbours', done: number, total: number) => void,
   share?: { index: number; count: number },
+  options: NeighbourOptions = {},
 ): number[][][] {
   const nt = problem.ntheta;
   let scale = 1;
@@ -247,6 +302,10 @@ export function canonicalNeighbours(
   let frames = new Map<number, ReturnType<typeof slicePolytope>>();
   // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more dimensions)
   const pairs = nt >= 3 ? new FacetPairs(regions, boxes, nt, minPiece) : null;
+  let tests = 0; // pair tests without `pairs` (intervals or points: no LP)
+  let clusters = 0;
+  let done = 0;
+  let cut = false;
   const pair = (i: number, k: number): void => {
     const P = list[i];
     const Q = list[k];
@@ -259,6 +318,7 @@ export function canonicalNeighbours(
     d = 0;
     for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
     if (d > aTol || !meets(P.r, Q.r)) return;
+    if (!pairs) tests++;
     const known = pairs ? pairs.decide(P.r, P.f, Q.r, Q.f) : -1;
     if (known >= 0) {
       if (known === 1) {
@@ -290,6 +350,14 @@ export function canonicalNeighbours(
       c0 = c1;
       continue;
     }
+    clusters++;
+    if (cut || options.shouldStop?.()) {
+      // stopped: this cluster and the rest keep empty lists
+      cut = true;
+      c0 = c1;
+      continue;
+    }
+    done++;
     frames = new Map();
     progress?.('neighbours', c0, list.length);
     if (c1 - c0 <= 64) {
@@ -327,7 +395,17 @@ export function canonicalNeighbours(
     c0 = c1;
   }
   for (const R of out) for (const f of R) f.sort((x, y) => x - y);
-  if (pairs) (globalThis as any).__canonStats = pairs.counts;
+  if (options.counts) {
+    const c = options.counts;
+    if (pairs) addPairCounts(c, pairs.counts);
+    else {
+      c.tests += tests;
+      c.lps += tests;
+    }
+    c.clusters += clusters;
+    c.clustersDone += done;
+    c.cut = c.cut || cut;
+  }
   return out;
 }
 

@@ -59,7 +59,7 @@ export interface PairCounts {
   boxes: number;
   /** decided by a row that empties the hyperplane, as the LP path does (not neighbours) */
   parallel: number;
-  /** left to the Chebyshev LP */
+  /** left to the exact test (the Chebyshev LP; with θ of 2 dimensions, every test: intervals) */
   lps: number;
 }
 

@@ -89,6 +89,8 @@ export interface NeighbourOptions {
   shouldStop?: () => boolean;
   /** counters added to (pair tests, LP-free decisions, LPs, clusters, cut) */
   counts?: NeighbourCounts;
+  /** false: every pair test by its LP, no LP-free decision (for measurement; the lists are the same) */
+  certificates?: boolean;
 }
 
 /** A join whose neighbours are still to be computed (`beginJoin`), e.g. in shares on several threads. */
@@ -301,7 +303,7 @@ export function canonicalNeighbours(
   // of enumeration, so the answer does not depend on it)
   let frames = new Map<number, ReturnType<typeof slicePolytope>>();
   // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more dimensions)
-  const pairs = nt >= 3 ? new FacetPairs(regions, boxes, nt, minPiece) : null;
+  const pairs = nt >= 3 && options.certificates !== false ? new FacetPairs(regions, boxes, nt, minPiece) : null;
   let tests = 0; // pair tests without `pairs` (intervals or points: no LP)
   let clusters = 0;
   let done = 0;

@@ -89,7 +89,7 @@ export interface NeighbourOptions {
   shouldStop?: () => boolean;
   /** counters added to (pair tests, LP-free decisions, LPs, clusters, cut) */
   counts?: NeighbourCounts;
-  /** false: every pair test by its LP, no LP-free decision (for measurement; the lists are the same) */
+  /** false: every pair test by its LP; true: LP-free decisions whatever the pairs per region (for measurement and tests; the lists are the same); default: by the pairs per region */
   certificates?: boolean;
 }
 
@@ -299,16 +299,13 @@ export function canonicalNeighbours(
     for (let j = 0; j < nt; j++) if (bx.lo[j] > by.hi[j] + minPiece || by.lo[j] > bx.hi[j] + minPiece) return false;
     return true;
   };
-  // list[i] against list[k] (i < k: the frame is always the earlier facet's, whatever the order
-  // of enumeration, so the answer does not depend on it)
-  let frames = new Map<number, ReturnType<typeof slicePolytope>>();
-  // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more dimensions)
-  const pairs = nt >= 3 && options.certificates !== false ? new FacetPairs(regions, boxes, nt, minPiece) : null;
-  let tests = 0; // pair tests without `pairs` (intervals or points: no LP)
-  let clusters = 0;
-  let done = 0;
-  let cut = false;
-  const pair = (i: number, k: number): void => {
+  // pass 1: the candidate pairs (list[i], list[k]), i < k (the frame is always the earlier facet's,
+  // whatever the order of enumeration): opposite facets on one hyperplane whose regions' boxes
+  // meet, cluster by cluster (`starts`: where each cluster's pairs begin)
+  let pi = new Int32Array(1024);
+  let pk = new Int32Array(1024);
+  let np = 0;
+  const candidate = (i: number, k: number): void => {
     const P = list[i];
     const Q = list[k];
     if (Q.sign === P.sign || Q.r === P.r || Math.abs(Q.v - P.v) > window) return;
@@ -320,26 +317,20 @@ export function canonicalNeighbours(
     d = 0;
     for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
     if (d > aTol || !meets(P.r, Q.r)) return;
-    if (!pairs) tests++;
-    const known = pairs ? pairs.decide(P.r, P.f, Q.r, Q.f) : -1;
-    if (known >= 0) {
-      if (known === 1) {
-        out[P.r][P.f].push(Q.r);
-        out[Q.r][Q.f].push(P.r);
-      }
-      return;
+    if (np === pi.length) {
+      const gi = new Int32Array(2 * np);
+      gi.set(pi);
+      pi = gi;
+      const gk = new Int32Array(2 * np);
+      gk.set(pk);
+      pk = gk;
     }
-    let frame = frames.get(i);
-    if (frame === undefined) {
-      frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
-      frames.set(i, frame);
-    }
-    if (!frame) return;
-    const slice = frame.sliceOf(S, Q.f);
-    if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) return;
-    out[P.r][P.f].push(Q.r);
-    out[Q.r][Q.f].push(P.r);
+    pi[np] = i;
+    pk[np] = k;
+    np++;
   };
+  const starts: number[] = [];
+  const firsts: number[] = [];
   // clusters: runs of the sorted list with consecutive values within the window (no pair across
   // two clusters is within it). Every facet on one hyperplane lands in one cluster — thousands in
   // a table whose regions share long planes (saturation limits, arrangements) — so a large
@@ -352,18 +343,10 @@ export function canonicalNeighbours(
       c0 = c1;
       continue;
     }
-    clusters++;
-    if (cut || options.shouldStop?.()) {
-      // stopped: this cluster and the rest keep empty lists
-      cut = true;
-      c0 = c1;
-      continue;
-    }
-    done++;
-    frames = new Map();
-    progress?.('neighbours', c0, list.length);
+    starts.push(np);
+    firsts.push(c0);
     if (c1 - c0 <= 64) {
-      for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) pair(i, k);
+      for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) candidate(i, k);
     } else {
       // the axis on which the boxes' lows spread most
       let ax = 0;
@@ -389,12 +372,71 @@ export function canonicalNeighbours(
         const reach = boxes[list[i].r].hi[ax] + minPiece;
         for (let t = q + 1; t < order.length && low(order[t]) <= reach; t++) {
           const k = order[t];
-          if (i < k) pair(i, k);
-          else pair(k, i);
+          if (i < k) candidate(i, k);
+          else candidate(k, i);
         }
       }
     }
     c0 = c1;
+  }
+  starts.push(np);
+  // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more
+  // dimensions) and the regions' vertices pay off: they cost a few pair LPs per region (the double
+  // description), a decision a fraction of an LP, so they are used when there are at least 6
+  // pairs per region met. Either way the lists are the same (a certificate gives the LP's answer).
+  let pairs: FacetPairs | null = null;
+  if (nt >= 3 && options.certificates !== false && np > 0) {
+    const seen = new Uint8Array(regions.length);
+    let met = 0;
+    for (let q = 0; q < np; q++)
+      for (const r of [list[pi[q]].r, list[pk[q]].r])
+        if (!seen[r]) {
+          seen[r] = 1;
+          met++;
+        }
+    if (options.certificates === true || np >= 6 * met) pairs = new FacetPairs(regions, boxes, nt, minPiece);
+  }
+  // pass 2: each pair decided (a certificate, else the LP; list[i]'s frame built once per cluster)
+  let frames = new Map<number, ReturnType<typeof slicePolytope>>();
+  let tests = 0; // pair tests without `pairs`
+  let clusters = 0;
+  let done = 0;
+  let cut = false;
+  for (let c = 0; c + 1 < starts.length; c++) {
+    clusters++;
+    if (cut || options.shouldStop?.()) {
+      // stopped: this cluster and the rest keep empty lists
+      cut = true;
+      continue;
+    }
+    done++;
+    frames = new Map();
+    progress?.('neighbours', firsts[c], list.length);
+    for (let q = starts[c]; q < starts[c + 1]; q++) {
+      const i = pi[q];
+      const P = list[i];
+      const Q = list[pk[q]];
+      const known = pairs ? pairs.decide(P.r, P.f, Q.r, Q.f) : -1;
+      if (!pairs) tests++;
+      if (known >= 0) {
+        if (known === 1) {
+          out[P.r][P.f].push(Q.r);
+          out[Q.r][Q.f].push(P.r);
+        }
+        continue;
+      }
+      const R = regions[P.r];
+      let frame = frames.get(i);
+      if (frame === undefined) {
+        frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
+        frames.set(i, frame);
+      }
+      if (!frame) continue;
+      const slice = frame.sliceOf(regions[Q.r], Q.f);
+      if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) continue;
+      out[P.r][P.f].push(Q.r);
+      out[Q.r][Q.f].push(P.r);
+    }
   }
   for (const R of out) for (const f of R) f.sort((x, y) => x - y);
   if (options.counts) {

@@ -219,7 +219,7 @@ describe('canonicalNeighbours with LP-free decisions against javascript-lp-solve
       expect(regions.length).toBeGreaterThan(8);
       const lp = { lps: 0, reference: false };
       const counts = zeroNeighbourCounts();
-      const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, lp, undefined, undefined, { counts });
+      const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, lp, undefined, undefined, { counts, certificates: true });
       // reference: every pair of opposite facets on the same plane, its overlap radius by javascript-lp-solver
       const expected = regions.map((R) => R.facets.map(() => [] as number[]));
       regions.forEach((R, i) =>

@@ -363,14 +363,33 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
     return -1;
 }
 `;
-  const descent = `    /* descent: at most DEPTH hyperplane tests, left when a.theta <= b; each node's plane is
-     * stored inline (NT coefficients, then b), so its loads depend on ref alone */
-    for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
+  // the plane descent takes two levels per pass: the node's plane and both children's planes are
+  // summed together (three independent sums instead of two in a row), then one of up to four
+  // grandchildren is taken; a child that is a leaf is taken as it is (its plane slot reads node 0,
+  // unused). The leaf reached, and every sum, is the one-level descent's (TypeScript: descend)
+  const descent = `    /* descent: at most DEPTH hyperplane tests on the path, left when a.theta <= b, two levels per
+     * pass; each node's plane is stored inline (NT coefficients, then b), and the node's plane and
+     * both children's planes are summed in the same pass, so one pass waits for one chain of loads
+     * and sums instead of two */
+    for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; d += 2u) {
         const ${real} *a = &${P}_node_plane[(uint32_t)ref * (uint32_t)(${NT} + 1)];
+        const int32_t l = ${P}_node_left[ref];
+        const int32_t r = ${P}_node_right[ref];
+        const uint32_t lp = l >= 0 ? (uint32_t)l : 0u; /* a leaf child reads node 0's plane, unused */
+        const uint32_t rp = r >= 0 ? (uint32_t)r : 0u;
+        const ${real} *al = &${P}_node_plane[lp * (uint32_t)(${NT} + 1)];
+        const ${real} *ar = &${P}_node_plane[rp * (uint32_t)(${NT} + 1)];
         const ${real} s = ${dot('a', 'theta')};
-        child[0] = ${P}_node_right[ref];
-        child[1] = ${P}_node_left[ref];
-        ref = child[s <= a[${NT}]]; /* both children loaded first: an index, not a branch */
+        const ${real} sl = ${dot('al', 'theta')};
+        const ${real} sr = ${dot('ar', 'theta')};
+        int32_t gl[2], gr[2];
+        gl[0] = ${P}_node_right[lp];
+        gl[1] = ${P}_node_left[lp];
+        gr[0] = ${P}_node_right[rp];
+        gr[1] = ${P}_node_left[rp];
+        child[1] = l >= 0 ? gl[sl <= al[${NT}]] : l;
+        child[0] = r >= 0 ? gr[sr <= ar[${NT}]] : r;
+        ref = child[s <= a[${NT}]]; /* children loaded first: an index, not a branch */
     }
 `;
   const boxDescent = `    /* descent: at most DEPTH coordinate tests, left when theta[axis] <= split (no multiplication) */

@@ -473,13 +473,17 @@ export interface CostFigures {
   clampComparisons: number;
 }
 
+/** Levels of a hyperplane tree's descent the generated float/double C takes per pass of its loop. */
+export const PLANE_DESCENT_LEVELS = 2;
+
 /**
  * Plane tests the generated descent of a hyperplane tree makes on a path of `depth` nodes: it takes
- * two levels per pass and sums the node's plane and both children's planes in every pass (a leaf
- * child's slot too), so 3·⌈depth/2⌉ planes of nθ multiply-adds and one comparison each.
+ * L = PLANE_DESCENT_LEVELS levels per pass and sums the planes of the node and of its descendants
+ * L − 1 levels down in every pass (the slots of leaves on the way too), so (2^L − 1)·⌈depth/L⌉
+ * planes of nθ multiply-adds and one comparison each.
  */
-export function planeDescentTests(depth: number): number {
-  return 3 * Math.ceil(depth / 2);
+export function planeDescentTests(depth: number, levels = PLANE_DESCENT_LEVELS): number {
+  return (2 ** levels - 1) * Math.ceil(depth / levels);
 }
 
 /**

@@ -17,6 +17,6 @@ export { loadProblem } from './problem/load.js';
 export { readTableFile, writeTableFile } from './table/file.js';
 export { readTreeFile } from './emit/tree-file.js';
 export { writeFileAtomic } from './io/atomic.js';
-export { exploreThreaded, type ThreadedOptions, type ThreadedExploration } from './table/threads.js';
+export { exploreThreaded, startThreadPool, type ThreadedOptions, type ThreadedExploration, type ThreadPool } from './table/threads.js';
 export { readTextInput } from './io/errors.js';
 export { staticPage, serveViewer, viewerPayload, viewerAsset, type ViewerData } from './io/viewer.js';

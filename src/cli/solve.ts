@@ -4,7 +4,7 @@ import { availableParallelism } from 'node:os';
 import { loadProblem } from '../problem/index.js';
 import type { Layout } from '../formulation/layout.js';
 import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
-import { canonicalThreaded, exploreThreaded, type ThreadedOptions } from '../table/threads.js';
+import { canonicalThreaded, exploreThreaded, startThreadPool, type ThreadPool, type ThreadedOptions } from '../table/threads.js';
 import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex, type SubBoxProgress } from '../table/part.js';
 import { subBox } from '../mpqp/canonical.js';
 import { writeFileAtomic } from '../io/atomic.js';
@@ -78,125 +78,139 @@ export function register(program: Command): void {
     .option('--resume <file>', 'continue from a checkpoint of this problem (and go on writing it, unless --checkpoint names another file)')
     .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
     .option('-q, --quiet', 'print nothing but errors')
-    .action(async (problemPath: string, opts: { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean }) => {
+    .action(async (problemPath: string, opts: SolveCliOptions) => {
+      // the workers start first: their start-up and module loading overlap reading and setting up
+      // the problem, and they stay for the pilot, the exploration and the canonical neighbours
       const tStart = performance.now();
-      if (opts.lp !== 'kernel' && opts.lp !== 'reference')
-        throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
-      let part = opts.part === undefined ? null : parsePartIndex(opts.part);
-      const out = opts.output ?? (part ? defaultPartPath(problemPath, part) : defaultTablePath(problemPath));
-      const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: part ? 'a JSON part file' : 'a JSON table' });
-      const checkpointPath = opts.checkpoint ?? opts.resume;
-      if (opts.checkpoint) checkOutputPath(opts.checkpoint, '--checkpoint', { kind: 'file', extensions: ['.json'], what: 'a JSON checkpoint' });
-      const loaded = loadProblem(problemPath);
-      let resume: ExplorationState | null = null;
-      let resumeSubBoxes: SubBoxProgress | null = null;
-      let lean = !!opts.lean;
-      if (opts.resume) {
-        const cp = parseCheckpointJson(readTextInput(opts.resume, 'checkpoint'), opts.resume, loaded);
-        const same = (a: PartIndex | null, b: PartIndex | null) => (a ? `${a.index}/${a.count}` : 'the whole box') === (b ? `${b.index}/${b.count}` : 'the whole box');
-        if (opts.part !== undefined && !same(cp.part, part))
-          throw new InputError(opts.resume, 'part', `the checkpoint explores ${cp.part ? `part ${cp.part.index}/${cp.part.count}` : 'the whole box'}, not ${part ? `part ${part.index}/${part.count}` : 'the whole box'}`);
-        if (opts.lean && !cp.lean) throw new InputError(opts.resume, 'lean', 'the checkpoint holds full regions; resume it without --lean (or start again with --lean)');
-        part = cp.part;
-        resume = cp.state;
-        resumeSubBoxes = cp.subBoxes ?? null;
-        lean = cp.lean;
+      const pool = startThreadPool(opts.threads ?? availableParallelism());
+      try {
+        await solveCommand(problemPath, opts, pool, tStart);
+      } finally {
+        pool.terminate();
       }
-      // guard: the condensed problem's size is known from the dimensions before anything is built
-      const size = setupSize(loaded);
-      if (size) {
-        if (size.bytes > opts.setupLimit * 2 ** 20) {
-          if (!opts.force)
-            throw new InputError(problemPath, 'horizon', `the condensed problem would have ${size.text}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
-          if (!opts.quiet) process.stderr.write(`tessera: warning: ${size.text} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
-        }
-        if (process.stderr.isTTY && !opts.quiet) process.stderr.write(`\r  setting up: ${size.text} \r`);
-      }
-      const formulation = formulateFeasible(loaded, problemPath);
-      const { mpqp } = formulation;
-      const live = process.stderr.isTTY && !opts.quiet;
-      let shown = false;
-      let last: Progress | null = null;
-      const t0 = performance.now();
-      const setupSeconds = (t0 - tStart) / 1000;
-      // the time limit covers set-up as well: the exploration gets what is left
-      const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
-      const threads = opts.threads ?? availableParallelism();
-      const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
-      const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
-      const { partition, state } = await explore(
-        mpqp,
-        {
-          threads,
-          maxRegions: opts.maxRegions,
-          timeLimit,
-          lp: opts.lp as 'kernel' | 'reference',
-          lean,
-          within,
-          resume,
-          resumeSubBoxes,
-          onProgress: live
-            ? (p) => {
-                shown = true;
-                last = p;
-                process.stderr.write(progressLine(p));
-              }
-            : undefined,
-        },
-        checkpointPath ? { write: writeCheckpoint, every: opts.checkpointEvery } : null,
-      );
-      const seconds = (performance.now() - t0) / 1000 + setupSeconds;
-      // a bounded or interrupted run leaves a last checkpoint, and says how to continue
-      const resumeHint = (): string => {
-        if (!checkpointPath) return '';
-        writeCheckpoint(state());
-        const o = opts.output ? ` -o ${out}` : '';
-        return `tessera: checkpoint written to ${checkpointPath}; continue with: tessera solve ${problemPath} --resume ${checkpointPath}${o}\n`;
-      };
-      // the progress line ends with a newline when interrupted (it stays visible), else it is erased
-      // (redrawn first when interrupted: the terminal may have echoed ^C after it)
-      if (shown) process.stderr.write(partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : `${progressLine(last!)}\n`);
-      if (partition.stats.stopReason === 'interrupted') {
-        process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped after ${partition.stats.regions} regions (${seconds.toFixed(1)} s); no ${part ? 'part file' : 'table'} was written${opts.output ? ` to ${out}` : ''}\n`);
-        process.stderr.write(resumeHint());
-        process.exit(EXIT.interrupted);
-      }
-      if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
-      else if (!partition.stats.complete) resumeHint();
-      if (part) {
-        writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
-        if (opts.quiet) return;
-        if (created) createdNote(created);
-        const s = partition.stats;
-        process.stdout.write(
-          `${loaded.name}: part ${part.index} of ${part.count}: ${s.regions} regions meet its sub-box, ${s.lps} LPs, ${seconds.toFixed(3)} s\n` +
-            (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`) +
-            coverLines(s).map((l) => `${l}\n`).join(''),
-        );
-        return;
-      }
-      // the canonical form: its closure step is bounded by the same time limit, and both steps show progress
-      const canonical = await canonicalThreaded(mpqp, partition, threads, {
-        shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
-        onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? 'closing under neighbour guesses' : 'neighbours'} ${done}/${total} `) : undefined,
-      });
-      if (live) process.stderr.write('\r\x1b[K');
-      const table = makeTable(loaded, formulation, canonical, { lean });
-      writeTableFile(out, table);
-      if (opts.quiet) return;
-      if (created) createdNote(created);
-      const s = canonical.stats;
-      const lines = [
-        `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
-        `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
-        ...(opts.lean ? [`  lean table: u(0) laws, half-spaces, active sets and neighbours only (no move sequence, no value function)`] : []),
-        s.complete
-          ? `  complete: yes — table written to ${out}`
-          : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
-      ];
-      lines.push(...coverLines(s));
-      process.stdout.write(lines.join('\n') + '\n');
     });
+}
+
+type SolveCliOptions = { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean };
+
+async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: ThreadPool, tStart: number): Promise<void> {
+  if (opts.lp !== 'kernel' && opts.lp !== 'reference')
+    throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
+  let part = opts.part === undefined ? null : parsePartIndex(opts.part);
+  const out = opts.output ?? (part ? defaultPartPath(problemPath, part) : defaultTablePath(problemPath));
+  const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: part ? 'a JSON part file' : 'a JSON table' });
+  const checkpointPath = opts.checkpoint ?? opts.resume;
+  if (opts.checkpoint) checkOutputPath(opts.checkpoint, '--checkpoint', { kind: 'file', extensions: ['.json'], what: 'a JSON checkpoint' });
+  const loaded = loadProblem(problemPath);
+  let resume: ExplorationState | null = null;
+  let resumeSubBoxes: SubBoxProgress | null = null;
+  let lean = !!opts.lean;
+  if (opts.resume) {
+    const cp = parseCheckpointJson(readTextInput(opts.resume, 'checkpoint'), opts.resume, loaded);
+    const same = (a: PartIndex | null, b: PartIndex | null) => (a ? `${a.index}/${a.count}` : 'the whole box') === (b ? `${b.index}/${b.count}` : 'the whole box');
+    if (opts.part !== undefined && !same(cp.part, part))
+      throw new InputError(opts.resume, 'part', `the checkpoint explores ${cp.part ? `part ${cp.part.index}/${cp.part.count}` : 'the whole box'}, not ${part ? `part ${part.index}/${part.count}` : 'the whole box'}`);
+    if (opts.lean && !cp.lean) throw new InputError(opts.resume, 'lean', 'the checkpoint holds full regions; resume it without --lean (or start again with --lean)');
+    part = cp.part;
+    resume = cp.state;
+    resumeSubBoxes = cp.subBoxes ?? null;
+    lean = cp.lean;
+  }
+  // guard: the condensed problem's size is known from the dimensions before anything is built
+  const size = setupSize(loaded);
+  if (size) {
+    if (size.bytes > opts.setupLimit * 2 ** 20) {
+      if (!opts.force)
+        throw new InputError(problemPath, 'horizon', `the condensed problem would have ${size.text}, above the --setup-limit of ${opts.setupLimit} MiB; shorten the horizon (or a control horizon), or pass --force`);
+      if (!opts.quiet) process.stderr.write(`tessera: warning: ${size.text} (above --setup-limit ${opts.setupLimit} MiB, going on because of --force)\n`);
+    }
+    if (process.stderr.isTTY && !opts.quiet) process.stderr.write(`\r  setting up: ${size.text} \r`);
+  }
+  const formulation = formulateFeasible(loaded, problemPath);
+  const { mpqp } = formulation;
+  const live = process.stderr.isTTY && !opts.quiet;
+  let shown = false;
+  let last: Progress | null = null;
+  const t0 = performance.now();
+  const setupSeconds = (t0 - tStart) / 1000;
+  // the time limit covers set-up as well: the exploration gets what is left
+  const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
+  const threads = opts.threads ?? availableParallelism();
+  const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
+  const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
+  const { partition, state } = await explore(
+    mpqp,
+    {
+      threads,
+      maxRegions: opts.maxRegions,
+      timeLimit,
+      lp: opts.lp as 'kernel' | 'reference',
+      lean,
+      within,
+      resume,
+      resumeSubBoxes,
+      pool,
+      onProgress: live
+        ? (p) => {
+            shown = true;
+            last = p;
+            process.stderr.write(progressLine(p));
+          }
+        : undefined,
+    },
+    checkpointPath ? { write: writeCheckpoint, every: opts.checkpointEvery } : null,
+  );
+  const seconds = (performance.now() - t0) / 1000 + setupSeconds;
+  // a bounded or interrupted run leaves a last checkpoint, and says how to continue
+  const resumeHint = (): string => {
+    if (!checkpointPath) return '';
+    writeCheckpoint(state());
+    const o = opts.output ? ` -o ${out}` : '';
+    return `tessera: checkpoint written to ${checkpointPath}; continue with: tessera solve ${problemPath} --resume ${checkpointPath}${o}\n`;
+  };
+  // the progress line ends with a newline when interrupted (it stays visible), else it is erased
+  // (redrawn first when interrupted: the terminal may have echoed ^C after it)
+  if (shown) process.stderr.write(partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : `${progressLine(last!)}\n`);
+  if (partition.stats.stopReason === 'interrupted') {
+    process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped after ${partition.stats.regions} regions (${seconds.toFixed(1)} s); no ${part ? 'part file' : 'table'} was written${opts.output ? ` to ${out}` : ''}\n`);
+    process.stderr.write(resumeHint());
+    process.exit(EXIT.interrupted);
+  }
+  if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
+  else if (!partition.stats.complete) resumeHint();
+  if (part) {
+    writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
+    if (opts.quiet) return;
+    if (created) createdNote(created);
+    const s = partition.stats;
+    process.stdout.write(
+      `${loaded.name}: part ${part.index} of ${part.count}: ${s.regions} regions meet its sub-box, ${s.lps} LPs, ${seconds.toFixed(3)} s\n` +
+        (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`) +
+        coverLines(s).map((l) => `${l}\n`).join(''),
+    );
+    return;
+  }
+  // the canonical form: its closure step is bounded by the same time limit, and both steps show progress
+  const canonical = await canonicalThreaded(mpqp, partition, threads, {
+    shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
+    onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? 'closing under neighbour guesses' : 'neighbours'} ${done}/${total} `) : undefined,
+  }, pool);
+  if (live) process.stderr.write('\r\x1b[K');
+  const table = makeTable(loaded, formulation, canonical, { lean });
+  writeTableFile(out, table);
+  if (opts.quiet) return;
+  if (created) createdNote(created);
+  const s = canonical.stats;
+  const lines = [
+    `${table.name}: ${s.regions} regions, ${s.candidates} candidates, ${s.lps} LPs, ${s.qps} point QPs, ${seconds.toFixed(3)} s (${(s.regions / Math.max(seconds, 1e-9)).toFixed(0)} regions/s)`,
+    `  θ = [${table.thetaNames.join(', ')}], ${loaded.model ? 'u' : 'law'} = [${table.inputNames.join(', ')}], ${layoutSummary(table.layout)}, ${mpqp.nc} constraint rows`,
+    ...(opts.lean ? [`  lean table: u(0) laws, half-spaces, active sets and neighbours only (no move sequence, no value function)`] : []),
+    s.complete
+      ? `  complete: yes — table written to ${out}`
+      : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
+  ];
+  lines.push(...coverLines(s));
+  process.stdout.write(lines.join('\n') + '\n');
 }
 
 /** "8 free moves, 2 state slacks" — the z blocks and the features, in words. */

@@ -72,9 +72,29 @@ export class BoxIndex {
   /** padded bounding boxes, region r's at [r·nθ … r·nθ + nθ − 1] */
   private readonly boxLo: Float64Array;
   private readonly boxHi: Float64Array;
+  /**
+   * per listing q (leafIds[q]), for the fast path (θ in the parameter box, slack ≥ 0): the region's
+   * padded box again, interleaved per axis (lo_0, hi_0, lo_1, …, at q·2nθ; read in leaf order; a side
+   * that reaches beyond the leaf's cell is ∓∞), and
+   * the rows that may not hold somewhere in the leaf's cell, rowIds[rowAt[q] … rowAt[q + 1]); a row
+   * left out holds on the whole cell with a margin for the rounding of its residual (`cellRows`)
+   */
+  private readonly listBox: Float64Array;
+  private readonly rowAt: Int32Array;
+  private readonly rowIds: Int32Array;
+  /** the parameter box: a θ inside it lies in the cell of the leaf it descends to */
+  private readonly rootLo: Float64Array;
+  private readonly rootHi: Float64Array;
+  /**
+   * for nθ ≤ 4 (`locate4`): each row's a (padded with zeros) and b side by side at stride 5 (one
+   * cache line or two per row instead of two or three), and the listings' boxes at stride 8, padded
+   * with (−∞, ∞); null for nθ > 4
+   */
+  private readonly A4: Float64Array | null;
+  private readonly listBox4: Float64Array | null;
   private readonly exactFirst: boolean;
   /** nodes, leaves, deepest leaf, longest leaf, listings */
-  readonly stats: { nodes: number; leaves: number; depth: number; longestLeaf: number; listings: number };
+  readonly stats: { nodes: number; leaves: number; depth: number; longestLeaf: number; listings: number; cellRows: number };
 
   /**
    * `regions[i]` has rows A θ ≤ b (nθ entries each) and a bounding box `lo`/`hi` (any box that
@@ -90,6 +110,7 @@ export class BoxIndex {
     const n = lower.length;
     this.n = n;
     this.scratch = new Float64Array(Math.max(n, 1));
+    this.point = new Float64Array(Math.max(n, 4));
     this.exactFirst = options.rule !== 'first';
     const R = regions.length;
     this.size = R;
@@ -160,9 +181,41 @@ export class BoxIndex {
     let depthMax = 0;
     let longest = 0;
     let leaves = 0;
+    // per listing: the box at stride bs (8 for nθ ≤ 4: the four axes of locate4, padded with ∓∞) and
+    // the cell's rows, in typed arrays grown by doubling
+    const bs = n <= 4 ? 8 : 2 * n;
+    let listBox = new Float64Array(bs * 1024);
+    let rowAt = new Int32Array(1025);
+    let rowIds = new Int32Array(4096);
+    let nList = 0;
+    let nRows = 0;
+    const rowSize = this.rowSizes(lower, upper);
     const makeLeaf = (job: Job): void => {
       leafFrom[job.node] = ids.length;
-      for (const r of job.items) ids.push(r);
+      for (const r of job.items) {
+        ids.push(r);
+        if ((nList + 1) * bs > listBox.length) {
+          const grown = new Float64Array(2 * listBox.length);
+          grown.set(listBox);
+          listBox = grown;
+          const at = new Int32Array(2 * rowAt.length);
+          at.set(rowAt);
+          rowAt = at;
+        }
+        const o = nList * bs;
+        // a side beyond the cell's never fails for a θ in the cell: ∓∞, a comparison always false (predicted)
+        for (let j = 0; j < bs / 2; j++) {
+          listBox[o + 2 * j] = j >= n || bl[r * n + j] <= job.lo[j] ? -Infinity : bl[r * n + j];
+          listBox[o + 2 * j + 1] = j >= n || bh[r * n + j] >= job.hi[j] ? Infinity : bh[r * n + j];
+        }
+        if (nRows + this.rowStart[r + 1] - this.rowStart[r] > rowIds.length) {
+          const grown = new Int32Array(2 * rowIds.length + this.rowStart[r + 1] - this.rowStart[r]);
+          grown.set(rowIds);
+          rowIds = grown;
+        }
+        nRows = this.cellRows(r, job.lo, job.hi, rowSize, rowIds, nRows);
+        rowAt[++nList] = nRows;
+      }
       leafTo[job.node] = ids.length;
       leaves++;
       depthMax = Math.max(depthMax, job.depth);
@@ -278,6 +331,7 @@ export class BoxIndex {
         const node = job.node;
         axis[node] = ax;
         split[node] = s;
+        // the right child is always the left one + 1 (the fast descent relies on it)
         const L = newNode();
         const Rn = newNode();
         left[node] = L;
@@ -295,7 +349,86 @@ export class BoxIndex {
     this.leafIds = Int32Array.from(ids);
     this.boxLo = bl;
     this.boxHi = bh;
-    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length };
+    this.listBox = listBox.slice(0, nList * bs);
+    this.rowAt = rowAt.slice(0, nList + 1);
+    this.rowIds = rowIds.slice(0, nRows);
+    this.rootLo = Float64Array.from(lower);
+    this.rootHi = Float64Array.from(upper);
+    if (n <= 4) {
+      const rowsAll = this.b.length;
+      const A4 = new Float64Array(rowsAll * 5);
+      for (let i = 0; i < rowsAll; i++) {
+        for (let j = 0; j < n; j++) A4[i * 5 + j] = this.A[i * n + j];
+        A4[i * 5 + 4] = this.b[i];
+      }
+      this.A4 = A4;
+      this.listBox4 = this.listBox;
+    } else {
+      this.A4 = null;
+      this.listBox4 = null;
+    }
+    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: this.rowIds.length };
+  }
+
+  /**
+   * Writes into `out` from `at` (returns the new end) the rows of region r that the fast path must
+   * test for θ in the cell [lo, hi]:
+   * every row but those whose residual, as `locateAt` computes it (fl(Σ a_j θ_j) − b), is ≤ 0 at
+   * every θ of the cell. A row with one nonzero entry is left out when fl(a_j·x_j) ≤ b at the cell's
+   * far end x_j (rounding is monotone and the zeros add nothing); another when the cell's maximum of
+   * Σ a_j θ_j computed in double, plus 4(nθ+1)·2⁻⁵³·Σ|a_j|·max(|lo_j|, |hi_j|) over the parameter
+   * box (`rowSizes`; twice the bound on the rounding of the sum, once for the maximum and once at θ),
+   * is ≤ b. So for any slack ≥ 0, a
+   * region's largest residual over the rows kept decides "≤ 0", "≤ slack" and "least" as over all
+   * its rows (a residual left out is ≤ 0: it matters only once every row is ≤ 0, where θ is held
+   * exactly whatever its value).
+   */
+  private cellRows(r: number, lo: Float64Array, hi: Float64Array, size: Float64Array, out: Int32Array, at: number): number {
+    const n = this.n;
+    const A = this.A;
+    const u = 4 * (n + 1) * 2 ** -53;
+    for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
+      let mx = 0;
+      for (let j = 0; j < n; j++) {
+        const a = A[i * n + j];
+        mx += a > 0 ? a * hi[j] : a * lo[j];
+      }
+      // size < 0 marks a row with one nonzero entry
+      const holds = size[i] < 0 ? mx <= this.b[i] : mx + u * size[i] <= this.b[i];
+      if (!holds) out[at++] = i;
+    }
+    return at;
+  }
+
+  /**
+   * Per row: Σ_j |a_j|·max(|lower_j|, |upper_j|) over the parameter box (at least the cell's, which
+   * lies in it), or −1 for a row with at most one nonzero entry (`cellRows`).
+   */
+  private rowSizes(lower: ArrayLike<number>, upper: ArrayLike<number>): Float64Array {
+    const n = this.n;
+    const rows = this.b.length;
+    const size = new Float64Array(rows);
+    for (let i = 0; i < rows; i++) {
+      let sz = 0;
+      let nonzero = 0;
+      for (let j = 0; j < n; j++) {
+        const a = this.A[i * n + j];
+        if (a !== 0) nonzero++;
+        sz += Math.abs(a) * Math.max(Math.abs(lower[j]), Math.abs(upper[j]));
+      }
+      size[i] = nonzero <= 1 ? -1 : sz;
+    }
+    return size;
+  }
+
+  /**
+   * How many regions θ's leaf lists: the most region tests a query at θ makes (θ in the table's
+   * units, nθ entries; NaN entries descend as the full path does).
+   */
+  candidates(theta: ArrayLike<number>): number {
+    let k = 0;
+    for (let a = this.axis[0]; a >= 0; a = this.axis[k]) k = theta[a] <= this.split[k] ? this.left[k] : this.right[k];
+    return this.leafTo[k] - this.leafFrom[k];
   }
 
   /** True when one row of region r holds nowhere in the cell [lo, hi] (widened by pad). */
@@ -346,8 +479,140 @@ export class BoxIndex {
   /**
    * `locate` for the θ stored at values[offset … offset + nθ − 1] (points packed one after another in
    * one array, as `parsePointsFlat` returns them): no array per point. Same rule and answer as `locate`.
+   * With `violation` false, `lastViolation` is not kept up to date (it may then be any residual ≤ 0 of
+   * the region returned): the caller that wants only the region saves a pass over its rows.
+   *
+   * A θ inside the parameter box with slack ≥ 0 (every call of evaluate, maps, certify…) takes the
+   * fast path: θ copied once into a scratch array, the descent indexes the children by the
+   * comparison (the right child is the left one + 1), the padded boxes are read in leaf order, and
+   * only the rows that may not hold in the leaf's cell are computed (`cellRows`). Anything else
+   * (θ outside the box or NaN, a negative slack) tests every row of every listed region.
    */
-  locateAt(values: Float64Array, offset: number, slack: number = tol.inside): number {
+  locateAt(values: Float64Array, offset: number, slack: number = tol.inside, violation: boolean = true): number {
+    const n = this.n;
+    const th = this.point;
+    const lo = this.rootLo;
+    const hi = this.rootHi;
+    let inBox = slack >= 0;
+    for (let j = 0; j < n; j++) {
+      const x = values[offset + j];
+      th[j] = x;
+      if (!(x >= lo[j] && x <= hi[j])) inBox = false;
+    }
+    if (!inBox) return this.locateFull(values, offset, slack);
+    if (this.A4) return this.locate4(slack, violation);
+    const axis = this.axis;
+    const split = this.split;
+    const left = this.left;
+    let k = 0;
+    // θ is not NaN here: (x > s) is the complement of the full path's (x <= s)
+    for (let a = axis[0]; a >= 0; a = axis[k]) k = left[k] + (((th[a] > split[k]) as unknown as number) | 0);
+    const ids = this.leafIds;
+    const A = this.A;
+    const b = this.b;
+    const box = this.listBox;
+    const rowAt = this.rowAt;
+    const rowIds = this.rowIds;
+    const exactLimit = this.exactFirst ? 0 : slack;
+    let near = -1;
+    let nearV = Infinity;
+    for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
+      // outside the padded box, the region is not within the slack either (the premise of the listing)
+      let out = false;
+      for (let j = 0, o = q * 2 * n; j < n; j++, o += 2) {  // nθ > 4: stride 2nθ
+        const x = th[j];
+        if (x < box[o] || x > box[o + 1]) {
+          out = true;
+          break;
+        }
+      }
+      if (out) continue;
+      // the residual of packedViolation over the rows kept for this cell: Σ a_j θ_j first, then − b
+      let v = -Infinity;
+      for (let p = rowAt[q], pe = rowAt[q + 1]; p < pe; p++) {
+        const i = rowIds[p];
+        let s = 0;
+        for (let j = 0, o = i * n; j < n; j++) s += A[o + j] * th[j];
+        const x = s - b[i];
+        if (!(x <= slack)) {
+          v = x;
+          break;
+        }
+        if (x > v) v = x;
+      }
+      if (v <= exactLimit) {
+        const r = ids[q];
+        // the rows left out are ≤ 0 here; the largest residual over all rows on request
+        this.lastViolation = violation ? packedViolation(A, b, this.rowStart, n, r, th, slack) : v;
+        return r;
+      }
+      if (v <= slack && v < nearV) {
+        near = ids[q];
+        nearV = v;
+      }
+    }
+    this.lastViolation = near < 0 ? -Infinity : nearV;
+    return near;
+  }
+
+  private readonly point: Float64Array;
+
+  /**
+   * The fast path of `locateAt` for nθ ≤ 4, θ in `point` (padded with zeros): the same tests written
+   * out for four entries. The sum a_0θ_0 + a_1θ_1 + a_2θ_2 + a_3θ_3 is formed left to right, as the
+   * loop forms it from 0 (0 + x = x), and a padded entry adds 0·0 = +0, which changes no sum but
+   * the sign of a zero: the same comparisons, the same region.
+   */
+  private locate4(slack: number, violation: boolean): number {
+    const th = this.point;
+    const t0 = th[0];
+    const t1 = th[1];
+    const t2 = th[2];
+    const t3 = th[3];
+    const axis = this.axis;
+    const split = this.split;
+    const left = this.left;
+    let k = 0;
+    for (let a = axis[0]; a >= 0; a = axis[k]) k = left[k] + (((th[a] > split[k]) as unknown as number) | 0);
+    const ids = this.leafIds;
+    const A = this.A4!;
+    const b = this.b;
+    const box = this.listBox4!;
+    const rowAt = this.rowAt;
+    const rowIds = this.rowIds;
+    const exactLimit = this.exactFirst ? 0 : slack;
+    let near = -1;
+    let nearV = Infinity;
+    for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
+      const o = q * 8;
+      if (t0 < box[o] || t0 > box[o + 1] || t1 < box[o + 2] || t1 > box[o + 3] || t2 < box[o + 4] || t2 > box[o + 5] || t3 < box[o + 6] || t3 > box[o + 7]) continue;
+      let v = -Infinity;
+      for (let p = rowAt[q], pe = rowAt[q + 1]; p < pe; p++) {
+        const i = rowIds[p];
+        const w = i * 5;
+        const x = A[w] * t0 + A[w + 1] * t1 + A[w + 2] * t2 + A[w + 3] * t3 - A[w + 4];
+        if (!(x <= slack)) {
+          v = x;
+          break;
+        }
+        if (x > v) v = x;
+      }
+      if (v <= exactLimit) {
+        const r = ids[q];
+        this.lastViolation = violation ? packedViolation(this.A, b, this.rowStart, this.n, r, th, slack) : v;
+        return r;
+      }
+      if (v <= slack && v < nearV) {
+        near = ids[q];
+        nearV = v;
+      }
+    }
+    this.lastViolation = near < 0 ? -Infinity : nearV;
+    return near;
+  }
+
+  /** `locateAt` testing every row of every listed region (any θ, any slack). */
+  private locateFull(values: Float64Array, offset: number, slack: number): number {
     const n = this.n;
     const axis = this.axis;
     const split = this.split;

@@ -1,25 +1,39 @@
 /**
- * One worker of `exploreThreaded` (src/table/threads.ts): explores the sub-boxes it is sent, one at
- * a time, each on its own (`solvePartition` with `within`), and reports the regions it builds and
- * the regions whose facets it covers. The shared signal asks it to stop. A worker of
- * `canonicalThreaded` computes one share of the canonical neighbours instead.
+ * One worker of `exploreThreaded` (src/table/threads.ts). It is started before the problem is
+ * known and is handed it by a `problem` message; then it answers jobs one at a time: a pilot
+ * (distinct active sets on mid-planes, to choose the cut), a sub-box to explore on its own
+ * (`solvePartition` with `within`, reporting the regions it builds and the regions whose facets it
+ * covers), or a share of the canonical neighbours (`canonicalThreaded`). The shared signal asks it
+ * to stop exploring.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { solvePartition } from '../mpqp/solve.js';
 import { canonicalNeighbours } from '../mpqp/canonical.js';
+import { midPlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import type { LpEngine } from '../mpqp/region.js';
-import type { ExploreJob, ExploreWorkerData, ExploreWorkerEvent, ExploreWorkerMessage, NeighbourJob } from './threads.js';
+import type { ExploreJob, ExploreWorkerData, ExploreWorkerEvent, ExploreWorkerMessage, NeighbourJob, PilotJob, ProblemMessage } from './threads.js';
 
 const d = workerData as ExploreWorkerData;
 const stopped = (): boolean => Atomics.load(d.signal, 0) === 1;
+let problem: ProblemMessage | null = null;
 
-parentPort!.on('message', (job: ExploreJob | NeighbourJob) => {
+parentPort!.on('message', (job: ProblemMessage | PilotJob | ExploreJob | NeighbourJob) => {
+  if (job.kind === 'problem') {
+    problem = job;
+    return;
+  }
+  if (!problem) throw new Error(`explore worker: a ${job.kind} job came before the problem`);
+  const mpqp = problem.mpqp;
+  if (job.kind === 'pilot') {
+    parentPort!.postMessage({ type: 'pilot', counts: job.axes.map((a) => midPlaneCount(mpqp, job.box, a, job.samples)) } satisfies ExploreWorkerMessage);
+    return;
+  }
   if (job.kind === 'neighbours') {
     // a share of the canonical form's neighbours step (`canonicalThreaded`)
     const lp: LpEngine = { lps: 0, reference: false };
-    const lists = canonicalNeighbours(d.mpqp, job.regions as CriticalRegion[], job.boxes, lp, undefined, { index: job.index, count: job.count });
-    parentPort!.postMessage({ lists, lps: lp.lps });
+    const lists = canonicalNeighbours(mpqp, job.regions as CriticalRegion[], job.boxes, lp, undefined, { index: job.index, count: job.count });
+    parentPort!.postMessage({ type: 'neighbours', lists, lps: lp.lps } satisfies ExploreWorkerMessage);
     return;
   }
   // events wait here until the next flush (one message instead of one per event): at most 50 ms apart, and at the end
@@ -33,8 +47,8 @@ parentPort!.on('message', (job: ExploreJob | NeighbourJob) => {
     outbox.push(ev);
     if (performance.now() - lastFlush >= 50) flush();
   };
-  const p = solvePartition(d.mpqp, {
-    ...d.options,
+  const p = solvePartition(mpqp, {
+    ...problem.options,
     within: job.within,
     maxRegions: job.maxRegions,
     timeLimit: job.timeLimit,

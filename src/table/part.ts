@@ -34,6 +34,8 @@ export interface SubBoxProgress {
   count: number;
   finished: number[];
   done: string[][];
+  /** the sub-boxes themselves (the cut is chosen by a pilot, `splitBox`); absent in older files, whose sub-boxes were `subBox`'s */
+  boxes?: { lower: number[]; upper: number[] }[];
 }
 
 /** Which of k sub-boxes (1-based i, as on the command line). */
@@ -161,6 +163,12 @@ export function parseCheckpointJson(text: string, file: string, loaded: LoadedPr
     if (!sb || !Number.isInteger(sb.count) || sb.count < 1) throw new InputError(file, 'subBoxes.count', 'must be a whole number ≥ 1');
     if (!Array.isArray(sb.finished) || !sb.finished.every((s) => Number.isInteger(s) && s >= 0 && s < sb.count)) throw new InputError(file, 'subBoxes.finished', `must list sub-box indices 0…${sb.count - 1}`);
     if (!Array.isArray(sb.done) || sb.done.length !== sb.count || !sb.done.every((d) => Array.isArray(d))) throw new InputError(file, 'subBoxes.done', `must hold ${sb.count} lists of keys`);
+    if (sb.boxes !== undefined) {
+      const dim = Array.isArray(st.boxes) && st.boxes.length ? st.boxes[0].lo.length : null;
+      const ok = (v: unknown): v is number[] => Array.isArray(v) && v.every((x) => typeof x === 'number' && Number.isFinite(x)) && (dim === null || v.length === dim);
+      if (!Array.isArray(sb.boxes) || sb.boxes.length !== sb.count || !sb.boxes.every((b) => b && ok(b.lower) && ok(b.upper) && b.lower.length === b.upper.length && b.lower.every((l, j) => l <= b.upper[j])))
+        throw new InputError(file, 'subBoxes.boxes', `must hold ${sb.count} boxes {lower, upper} of the parameter dimension`);
+    }
   }
   return t as unknown as CheckpointFile;
 }

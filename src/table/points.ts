@@ -560,7 +560,7 @@ export function* evaluateCsvBytes(
     t0 = now();
     for (let k = k0; k < k1; k++) {
       let r: number;
-      if (index) r = index.locateAt(all, k * n, tol.inside);
+      if (index) r = index.locateAt(all, k * n, tol.inside, false);
       else {
         for (let j = 0; j < n; j++) th[j] = all[k * n + j];
         r = locateScan(table.regions, th, tol.inside).region;

@@ -22,6 +22,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import { beginJoin, canonicalNeighbours, mergeNeighbours, subBox, type JoinOptions } from '../mpqp/canonical.js';
+import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { sumCauses } from '../mpqp/types.js';
 import { tol } from '../tol.js';
@@ -30,12 +31,25 @@ import type { SubBoxProgress } from './part.js';
 type Box = { lower: number[]; upper: number[] };
 type RegionBox = { lo: number[]; hi: number[] };
 
-/** What a worker is started with (src/table/explore-worker.ts). */
+/** What a worker is started with (src/table/explore-worker.ts): only the stop flag; the problem comes by message (`ProblemMessage`). */
 export interface ExploreWorkerData {
-  mpqp: MpqpProblem;
-  options: Pick<SolveOptions, 'lp' | 'lean'>;
   /** Int32Array on a SharedArrayBuffer: [0] = 1 asks every worker to stop at its next check */
   signal: Int32Array;
+}
+
+/** The problem the jobs that follow are about (main thread → worker, once per problem). */
+export interface ProblemMessage {
+  kind: 'problem';
+  mpqp: MpqpProblem;
+  options: Pick<SolveOptions, 'lp' | 'lean'>;
+}
+
+/** Count distinct active sets on the mid-planes of some axes of a box (`midPlaneCount`; the answer is `{ type: 'pilot', counts }`). */
+export interface PilotJob {
+  kind: 'pilot';
+  box: Box;
+  axes: number[];
+  samples: number;
 }
 
 /** One sub-box to explore (main thread → worker). */
@@ -66,7 +80,93 @@ export type ExploreWorkerEvent =
   | { type: 'progress'; progress: Progress };
 
 /** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
-export type ExploreWorkerMessage = { type: 'batch'; job: number; events: ExploreWorkerEvent[] } | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork };
+export type ExploreWorkerMessage =
+  | { type: 'batch'; job: number; events: ExploreWorkerEvent[] }
+  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork }
+  | { type: 'pilot'; counts: PlaneCount[] }
+  | { type: 'neighbours'; lists: number[][][]; lps: number };
+
+/**
+ * Worker threads kept for a whole solve: started before the problem is read (their start-up and
+ * module loading overlap the set-up), given the problem once, then used for the pilot, the
+ * exploration and the canonical neighbours, so every step after the first runs in a warm isolate
+ * (each new isolate pays its own JIT warm-up again). The caller ends them with `terminate`.
+ */
+export interface ThreadPool {
+  readonly workers: readonly Worker[];
+  /** shared stop flag of the workers (`ExploreWorkerData.signal`) */
+  readonly signal: Int32Array;
+  /** hand `mpqp` to every worker, unless they hold it already (with these options; options absent: any) */
+  setProblem(mpqp: MpqpProblem, options?: Pick<SolveOptions, 'lp' | 'lean'>): void;
+  /** end every worker at once */
+  terminate(): void;
+}
+
+/** Start `threads` workers (≥ 1) for `exploreThreaded` and `canonicalThreaded`. */
+export function startThreadPool(threads: number): ThreadPool {
+  const signal = new Int32Array(new SharedArrayBuffer(4));
+  const workers = Array.from({ length: Math.max(1, Math.floor(threads)) }, () => startWorker({ signal }));
+  let held: { mpqp: MpqpProblem; key: string } | null = null;
+  return {
+    workers,
+    signal,
+    setProblem(mpqp, options) {
+      if (held && held.mpqp === mpqp && !options) return;
+      const key = `${options?.lp ?? 'kernel'} ${options?.lean ? 'lean' : 'full'}`;
+      if (held && held.mpqp === mpqp && held.key === key) return;
+      held = { mpqp, key };
+      for (const w of workers) w.postMessage({ kind: 'problem', mpqp, options: { lp: options?.lp, lean: options?.lean } } satisfies ProblemMessage);
+    },
+    terminate() {
+      for (const w of workers) void w.terminate();
+    },
+  };
+}
+
+/** The next message of a worker, or its error. */
+function reply<T>(worker: Worker): Promise<T> {
+  return new Promise<T>((res, rej) => {
+    const onMessage = (m: T) => {
+      worker.off('error', onError);
+      res(m);
+    };
+    const onError = (e: unknown) => {
+      worker.off('message', onMessage);
+      rej(e);
+    };
+    worker.once('message', onMessage);
+    worker.once('error', onError);
+  });
+}
+
+/**
+ * Point QPs per mid-plane in the pilot that chooses the cut (`midPlaneCount`): 16 per parameter,
+ * at most 64. A mid-plane of a 2-D box is a segment, which 32 points sample well (glider-2d-n40:
+ * 22 vs 30 distinct, the same choice as with 64, for half the QPs: 64 took 0.25 s of a cold
+ * worker there, under load); at 32 points the 4-D boom-4d-n12 chose a worse axis than at 64.
+ */
+export const pilotSamples = (ntheta: number): number => Math.min(64, 16 * Math.max(1, ntheta));
+
+/**
+ * The pilot of the split: each worker counts the distinct active sets on the mid-planes of its
+ * share of the axes (`midPlaneCount`, `pilotSamples` points each); the counts, in axis order.
+ */
+async function pilot(pool: ThreadPool, ntheta: number, box: Box): Promise<PlaneCount[]> {
+  const W = pool.workers.length;
+  const answers = await Promise.all(
+    pool.workers.map((w, i) => {
+      const axes: number[] = [];
+      for (let a = i; a < ntheta; a += W) axes.push(a);
+      if (!axes.length) return Promise.resolve({ type: 'pilot', counts: [] } as ExploreWorkerMessage);
+      const r = reply<ExploreWorkerMessage>(w);
+      w.postMessage({ kind: 'pilot', box, axes, samples: pilotSamples(ntheta) } satisfies PilotJob);
+      return r;
+    }),
+  );
+  const counts: PlaneCount[] = [];
+  for (const a of answers) if (a.type === 'pilot') counts.push(...a.counts);
+  return counts.sort((x, y) => x.axis - y.axis);
+}
 
 /** A running exploration: its result, and what the caller may do meanwhile. */
 export interface ThreadedExploration {
@@ -92,6 +192,8 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
   resumeSubBoxes?: SubBoxProgress | null;
   /** progress of all workers together, at most every ~100 ms */
   onProgress?: (p: Progress) => void;
+  /** run on these workers (their number is the thread count; they are left running, for `canonicalThreaded`); absent: `threads` workers of its own, ended with the run */
+  pool?: ThreadPool;
 }
 
 const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
@@ -113,44 +215,70 @@ function startWorker(data: ExploreWorkerData): Worker {
 }
 
 /**
- * The canonical form of an exploration's partition (`joinPartitions`), its neighbours step shared
- * between this thread and `threads − 1` workers (every `threads`-th cluster of facets each; the
- * lists merged are those one thread computes, see `canonicalNeighbours`). The closure step stays on
- * this thread. Small partitions (under 500 regions) are done here alone.
+ * The canonical form of an exploration's partition (`joinPartitions`). The closure step runs on
+ * this thread; the neighbours step is shared: with a pool, its warm workers take every W-th
+ * cluster of facets each (W = the pool's size, also when it is 1: the exploration's isolate is
+ * warm, this thread is not); without one, this thread and `threads − 1` fresh workers. The lists
+ * merged are those one thread computes (`canonicalNeighbours`). Small partitions (under 500
+ * regions) are done here alone.
  */
-export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition, threads: number, options: JoinOptions = {}): Promise<Partition> {
+export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition, threads: number, options: JoinOptions = {}, pool?: ThreadPool): Promise<Partition> {
   const join = beginJoin(mpqp, [partition], options);
-  const W = Math.max(1, Math.floor(threads));
-  if (W === 1 || join.regions.length < 500) return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress));
-  const data: ExploreWorkerData = { mpqp, options: {}, signal: new Int32Array(new SharedArrayBuffer(4)) };
+  const W = pool ? pool.workers.length : Math.max(1, Math.floor(threads));
+  if ((!pool && W === 1) || join.regions.length < 500) return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress));
   const regions = join.regions.map((R) => ({ A: R.A, b: R.b, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) }));
   const boxes = join.boxes.map((b) => ({ lo: Array.from(b.lo), hi: Array.from(b.hi) }));
+  join.progress('neighbours', 0, join.regions.length);
+  if (pool) {
+    pool.setProblem(mpqp);
+    const shares = await Promise.all(
+      pool.workers.map((w, i) => {
+        const r = reply<ExploreWorkerMessage>(w);
+        w.postMessage({ kind: 'neighbours', regions, boxes, index: i, count: W } satisfies NeighbourJob);
+        return r;
+      }),
+    );
+    const lists: number[][][][] = [];
+    for (const t of shares)
+      if (t.type === 'neighbours') {
+        join.lp.lps += t.lps;
+        lists.push(t.lists);
+      }
+    return join.finish(mergeNeighbours(lists));
+  }
+  const data: ExploreWorkerData = { signal: new Int32Array(new SharedArrayBuffer(4)) };
   const started = Array.from({ length: W - 1 }, (_, w) => {
     const worker = startWorker(data);
-    const done = new Promise<{ lists: number[][][]; lps: number }>((res, rej) => {
-      worker.once('message', res);
-      worker.once('error', rej);
-    }).finally(() => void worker.terminate());
+    const done = reply<ExploreWorkerMessage>(worker).finally(() => void worker.terminate());
+    worker.postMessage({ kind: 'problem', mpqp, options: {} } satisfies ProblemMessage);
     worker.postMessage({ kind: 'neighbours', regions, boxes, index: w + 1, count: W } satisfies NeighbourJob);
     return done;
   });
   const mine = canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress, { index: 0, count: W });
-  const theirs = await Promise.all(started);
-  for (const t of theirs) join.lp.lps += t.lps;
-  return join.finish(mergeNeighbours([mine, ...theirs.map((t) => t.lists)]));
+  const lists: number[][][][] = [mine];
+  for (const t of await Promise.all(started))
+    if (t.type === 'neighbours') {
+      join.lp.lps += t.lps;
+      lists.push(t.lists);
+    }
+  return join.finish(mergeNeighbours(lists));
 }
 
 /** Start the exploration of `mpqp` (or of `options.within`) on `options.threads` workers, one sub-box per thread. */
 export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): ThreadedExploration {
-  const W = Math.max(1, Math.floor(options.threads));
+  const pool = options.pool ?? startThreadPool(options.threads);
+  const W = pool.workers.length;
   const outer: Box = options.within ? { lower: Array.from(options.within.lower), upper: Array.from(options.within.upper) } : { lower: Array.from(mpqp.box.lower), upper: Array.from(mpqp.box.upper) };
   // a checkpoint of a split run keeps its split; a whole-box state is split anew (keys covered over
   // the whole box are covered in every sub-box)
   const resumed = options.resume ?? null;
   const rs = resumed ? options.resumeSubBoxes ?? null : null;
   const M = rs ? rs.count : W;
-  const boxes: Box[] = Array.from({ length: M }, (_, s) => (M === 1 ? outer : subBox(outer, s, M)));
-  const signal = new Int32Array(new SharedArrayBuffer(4));
+  // the cut: one sub-box is the box; a resumed split keeps its sub-boxes (files older than the
+  // pilot did not record them: they were `subBox`'s); a new split is chosen by the pilot, below
+  let boxes: Box[] | null = M === 1 ? [outer] : rs ? Array.from({ length: M }, (_, s) => rs.boxes?.[s] ?? subBox(outer, s, M)) : null;
+  const signal = pool.signal;
+  Atomics.store(signal, 0, 0);
   const t0 = performance.now();
   const found = new Map<string, { region: CriticalRegion; box: RegionBox }>();
   const done: Set<string>[] = Array.from({ length: M }, (_, s) => new Set(rs ? rs.done[s] ?? [] : (resumed?.done ?? [])));
@@ -177,6 +305,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   });
   let settled = false;
   const workers: Worker[] = [];
+  const detach: (() => void)[] = [];
   const partition = (complete: boolean, reason: PartitionStats['stopReason']): Partition => {
     const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
     const work = { ...base.work };
@@ -202,6 +331,12 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   };
   const snapshot = (): { state: ExplorationState; subBoxes: SubBoxProgress } => {
     const p = partition(true, 'done');
+    if (!boxes) {
+      // the pilot is still choosing the cut: nothing is explored yet, the state is the one resumed (or empty)
+      const whole = resumed ? [...resumed.done] : [];
+      return { state: { regions: p.regions, boxes: p.boxes as RegionBox[], done: whole, stats: p.stats, work: p.work! }, subBoxes: { count: 1, finished: [], done: [whole] } };
+    }
+    const cut = boxes;
     const finishedList: number[] = [];
     for (let s = 0; s < M; s++) if (finished[s]) finishedList.push(s);
     // the state on its own stays what a single run's is: a key is covered over the whole box explored
@@ -210,18 +345,19 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     p.regions.forEach((R, i) => {
       const key = R.activeSet.join(',');
       let all = true;
-      for (let s = 0; s < M && all; s++) if (!finished[s] && !done[s].has(key) && meets(p.boxes![i], boxes[s])) all = false;
+      for (let s = 0; s < M && all; s++) if (!finished[s] && !done[s].has(key) && meets(p.boxes![i], cut[s])) all = false;
       if (all) whole.push(key);
     });
     return {
       state: { regions: p.regions, boxes: p.boxes as RegionBox[], done: whole, stats: p.stats, work: p.work! },
-      subBoxes: { count: M, finished: finishedList, done: done.map((d, s) => (finished[s] ? [] : [...d])) },
+      subBoxes: { count: M, finished: finishedList, done: done.map((d, s) => (finished[s] ? [] : [...d])), boxes: cut.map((b) => ({ lower: [...b.lower], upper: [...b.upper] })) },
     };
   };
   const settle = (p: Partition | null, error?: unknown): void => {
     if (settled) return;
     settled = true;
-    for (const w of workers) void w.terminate();
+    for (const off of detach) off();
+    if (!options.pool) pool.terminate();
     if (p) resolve(p);
     else reject(error);
   };
@@ -246,7 +382,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       const regions: CriticalRegion[] = [];
       const bs: RegionBox[] = [];
       for (const e of found.values())
-        if (meets(e.box, boxes[s])) {
+        if (meets(e.box, boxes![s])) {
           regions.push(e.region);
           bs.push(e.box);
         }
@@ -256,7 +392,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     const job: ExploreJob = {
       kind: 'explore',
       job: s,
-      within: M === 1 && !options.within ? undefined : boxes[s],
+      within: M === 1 && !options.within ? undefined : boxes![s],
       maxRegions: options.maxRegions,
       timeLimit: options.timeLimit === undefined ? undefined : Math.max(0, options.timeLimit - elapsed),
       resume,
@@ -265,54 +401,76 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     return true;
   };
   let running = 0;
-  const data: ExploreWorkerData = { mpqp, options: { lp: options.lp, lean: options.lean }, signal };
+  pool.setProblem(mpqp, { lp: options.lp, lean: options.lean });
   const end = (): void => {
     const complete = firstStop === null && finished.every((f) => f);
     settle(partition(complete, firstStop ?? (complete ? 'done' : 'interrupted')));
   };
-  for (let w = 0; w < Math.min(W, queue.length); w++) {
-    const worker = startWorker(data);
-    workers.push(worker);
-    worker.on('message', (msg: ExploreWorkerMessage) => {
-      if (settled) return;
-      if (msg.type === 'batch') {
-        for (const ev of msg.events) {
-          if (ev.type === 'found') {
-            built++;
-            const key = ev.region.activeSet.join(',');
-            if (!found.has(key)) found.set(key, { region: ev.region, box: ev.box });
-          } else if (ev.type === 'processed') done[msg.job].add(ev.key);
-          else latest[msg.job] = ev.progress;
+  const begin = (): void => {
+    for (let w = 0; w < Math.min(W, queue.length); w++) {
+      const worker = pool.workers[w];
+      workers.push(worker);
+      const onMessage = (msg: ExploreWorkerMessage): void => {
+        if (settled) return;
+        if (msg.type === 'batch') {
+          for (const ev of msg.events) {
+            if (ev.type === 'found') {
+              built++;
+              const key = ev.region.activeSet.join(',');
+              if (!found.has(key)) found.set(key, { region: ev.region, box: ev.box });
+            } else if (ev.type === 'processed') done[msg.job].add(ev.key);
+            else latest[msg.job] = ev.progress;
+          }
+          if (options.maxRegions !== undefined && found.size >= options.maxRegions) stopAll('max-regions');
+          report();
+        } else if (msg.type === 'done') {
+          running--;
+          latest[msg.job] = null;
+          if (msg.stats.complete) finished[msg.job] = { stats: msg.stats, work: msg.work };
+          else {
+            // a stopped sub-box keeps its counters (its regions and covered keys are already here)
+            base.stats.candidates += msg.stats.candidates;
+            base.stats.lps += msg.stats.lps;
+            base.stats.qps += msg.stats.qps;
+            base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
+            base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
+            for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
+            stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
+          }
+          if (next(worker)) running++;
+          else if (running === 0) end();
         }
-        if (options.maxRegions !== undefined && found.size >= options.maxRegions) stopAll('max-regions');
-        report();
-      } else {
-        running--;
-        latest[msg.job] = null;
-        if (msg.stats.complete) finished[msg.job] = { stats: msg.stats, work: msg.work };
-        else {
-          // a stopped sub-box keeps its counters (its regions and covered keys are already here)
-          base.stats.candidates += msg.stats.candidates;
-          base.stats.lps += msg.stats.lps;
-          base.stats.qps += msg.stats.qps;
-          base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
-          base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
-          for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
-          stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
-        }
-        if (next(worker)) running++;
-        else if (running === 0) end();
-      }
-    });
-    worker.on('error', (e) => settle(null, e));
-    if (next(worker)) running++;
-  }
-  if (running === 0) queueMicrotask(end); // every sub-box of a resumed run was finished
+      };
+      const onError = (e: unknown): void => settle(null, e);
+      worker.on('message', onMessage);
+      worker.on('error', onError);
+      detach.push(() => {
+        worker.off('message', onMessage);
+        worker.off('error', onError);
+      });
+      if (next(worker)) running++;
+    }
+    if (running === 0) end(); // every sub-box of a resumed run was finished (or the run was stopped during the pilot)
+  };
+  if (boxes) {
+    if (queue.length === 0) queueMicrotask(end);
+    else begin();
+  } else
+    pilot(pool, mpqp.ntheta, outer).then(
+      (counts) => {
+        if (settled) return;
+        const weights = cutWeights(counts);
+        boxes = Array.from({ length: M }, (_, s) => splitBox(outer, s, M, weights));
+        begin();
+      },
+      (e) => settle(null, e),
+    );
   return {
     result,
     stop: () => stopAll('interrupted'),
     terminate: () => {
       if (firstStop === null) firstStop = 'interrupted';
+      pool.terminate();
       settle(partition(false, firstStop));
     },
     snapshot,

@@ -4,8 +4,9 @@
  * 1. Table size per region, full against lean, on the 4-D and 5-D fixtures (first
  *    TESSERA_BENCH_SIZE_REGIONS regions, default 3 000; the first N regions do not depend on N).
  * 2. Evaluation speed on a ~6k-region table (boom-4d-n12, first TESSERA_BENCH_EVAL_REGIONS = 6 000
- *    regions, lean): index build seconds, points/s of the bare locator and of `evaluateTable` on
- *    10⁶ seeded points; then the whole CSV path of `tessera evaluate` on 10⁶ points written with 7
+ *    regions, lean): index build seconds, points/s of the bare locator (`locateAt` on packed points,
+ *    the locate step of `tessera evaluate`, target ≥ 10⁶ points/s warm; and `locate`, which also
+ *    reports the residual) and of `evaluateTable` on 10⁶ seeded points; then the whole CSV path of `tessera evaluate` on 10⁶ points written with 7
  *    and with 17 significant digits, in this process stage by stage (read, parse, index, locate,
  *    law, format, write) and as a cold CLI process (wall points/s, peak MB), and one cold process
  *    under `node --cpu-prof` summarised as self time per function; the locator against the
@@ -99,6 +100,21 @@ function evaluateBench(): void {
   console.log(`  index: ${build.s.toFixed(2)} s (${build.cpu.toFixed(2)} s CPU) for ${JSON.stringify(loc.stats)}`);
   // warm the cached locator of evaluateTable
   for (let i = 0; i < 50; i++) evaluateTable(table, pts[i]);
+  // the locate step of `tessera evaluate`: θ packed one after another (as parsePointsFlat gives them),
+  // the region only (no residual); three rounds, the first warms the compiled code
+  const n = table.dims.ntheta;
+  const packed = new Float64Array(pts.length * n);
+  pts.forEach((p, k) => packed.set(p, k * n));
+  for (const round of [1, 2, 3]) {
+    const a = timed(() => {
+      let f = 0;
+      for (let k = 0; k < pts.length; k++) if (loc.locateAt(packed, k * n, 1e-8, false) >= 0) f++;
+      return f;
+    });
+    console.log(
+      `  warm locate (locateAt on packed points, evaluate's path), round ${round}: ${(pts.length / a.s / 1e6).toFixed(2)} M points/s wall (${(pts.length / a.cpu / 1e6).toFixed(2)} per CPU s); ${a.value} in a region; load ${loadavg()[0].toFixed(1)}; target ≥ 1 M points/s`,
+    );
+  }
   for (const round of [1, 2]) {
     const a = timed(() => {
       let f = 0;

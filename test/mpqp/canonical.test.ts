@@ -10,7 +10,7 @@ import { evaluateTable } from '../../src/table/table.js';
 import { formulate } from '../../src/formulation/index.js';
 import { parseProblem, solveProblem } from '../../src/index.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
-import { canonicalThreaded, exploreThreaded } from '../../src/table/threads.js';
+import { canonicalThreaded, exploreThreaded, startThreadPool } from '../../src/table/threads.js';
 
 const files = [...exampleFiles, ...fixtureFiles];
 
@@ -71,7 +71,18 @@ describe('canonical neighbours computed in shares (threads)', () => {
         expect(mergeNeighbours(shares)).toEqual(whole);
       }
       const at2 = await canonicalThreaded(mpqp, p, 2);
-      expect(JSON.stringify(at2.regions) === JSON.stringify(joinPartitions(mpqp, [p]).regions)).toBe(true);
+      const joined = JSON.stringify(joinPartitions(mpqp, [p]).regions);
+      expect(JSON.stringify(at2.regions) === joined).toBe(true);
+      // on the warm workers of a pool (all shares on the workers, also with one)
+      for (const n of [1, 2]) {
+        const pool = startThreadPool(n);
+        try {
+          const onPool = await canonicalThreaded(mpqp, p, n, {}, pool);
+          expect(JSON.stringify(onPool.regions) === joined, `pool of ${n}`).toBe(true);
+        } finally {
+          pool.terminate();
+        }
+      }
     }, 300_000);
   }
 });

@@ -219,6 +219,30 @@ describe('checkpoints', () => {
     expect(existsSync(at('bad.json'))).toBe(false);
   }, 300_000);
 
+  it('2 threads cut across the axis whose mid-plane crosses fewer regions (the pilot), through the CLI', async () => {
+    // min ½z² − θ₂ z, −1 ≤ z ≤ 1: z* = clip(θ₂, −1, 1) (a parabola's vertex clipped to an interval;
+    // common practice), three slabs across θ₂ over [−3, 3]². The mid-plane θ₂ = 0 crosses one region,
+    // θ₁ = 0 all three, so the cut is across θ₂ although θ₁ comes first and the box is square
+    const file = at('slabs.json');
+    writeFileSync(file, JSON.stringify({ name: 'slabs', mpqp: { H: [[1]], F: [[0, -1]], c: [0], G: [[1], [-1]], w: [1, 1], E: [[0, 0], [0, 0]], outputs: 1 }, parameters: { lower: [-3, -3], upper: [3, 3] } }));
+    const cp = at('slabs.checkpoint.json');
+    const r = await runCli(['solve', file, '-o', at('slabs-t2.json'), '--threads', '2', '--max-regions', '1', '--checkpoint', cp]);
+    expect(r.status, r.stderr).toBe(0);
+    const boxes = JSON.parse(readFileSync(cp, 'utf8')).subBoxes.boxes;
+    expect(boxes).toEqual([
+      { lower: [-3, -3], upper: [3, 0] },
+      { lower: [-3, 0], upper: [3, 3] },
+    ]);
+    const resumed = await runCli(['solve', file, '--resume', cp, '-o', at('slabs-t2.json'), '--threads', '2', '-q']);
+    expect(resumed.status, resumed.stderr).toBe(0);
+    const one = await runCli(['solve', file, '-o', at('slabs-t1.json'), '--threads', '1', '-q']);
+    expect(one.status, one.stderr).toBe(0);
+    expect(readFileSync(at('slabs-t2.json'), 'utf8') === readFileSync(at('slabs-t1.json'), 'utf8')).toBe(true);
+    const table = parseTableJson(readFileSync(at('slabs-t2.json'), 'utf8'), 'slabs-t2.json');
+    expect(table.regions.length).toBe(3);
+    for (const th of [[-2.5, -2], [1, -0.5], [0, 0.3], [2.9, 1.7]]) expect(evaluateTable(table, th).u![0]).toBeCloseTo(Math.max(-1, Math.min(1, th[1])), 9);
+  }, 300_000);
+
   it('a checkpoint whose recorded sub-boxes are broken is refused with the key named (exit 2)', async () => {
     const cp = JSON.parse(readFileSync(at('split.checkpoint.json'), 'utf8'));
     cp.subBoxes.boxes = [cp.subBoxes.boxes[0]];

@@ -86,7 +86,7 @@ function pathShapes(search: SearchKind, table: TableFile, tree: SearchTree | nul
  * Worst path of one object: the generated functions (prefix_*) with loop bounds from the structure,
  * helpers from libgcc. Returns the count of the worst leaf.
  */
-function countWorst(objdump: string, prefix: string, table: TableFile, search: SearchKind, tree: SearchTree | null, core: CycleTable): CoreBuildReport['worst'] | string {
+function countWorst(objdump: string, prefix: string, table: TableFile, search: SearchKind, tree: SearchTree | null, core: CycleTable, pairedDescent: boolean): CoreBuildReport['worst'] | string {
   const fns = parseObjdump(objdump);
   const local = new Map(fns.map((f) => [f.name.split('.')[0], f]));
   const lib = new Map(libgccFunctions(core).map((f) => [f.name, f]));
@@ -120,7 +120,8 @@ function countWorst(objdump: string, prefix: string, table: TableFile, search: S
         return l.depth === 2 ? nt : null;
       case 'eval':
         if (l.depth === 1 && l.calls.some((c) => c.startsWith(`${prefix}_inside`) || c.startsWith(`${prefix}_fit`))) return p.regions;
-        if (l.depth === 1 && search === 'tree') return p.depth;
+        // the float/double descent takes two levels per pass, the fixed-point one a level per pass
+        if (l.depth === 1 && search === 'tree') return pairedDescent ? Math.ceil(p.depth / 2) : p.depth;
         return l.depth === 2 && search === 'tree' ? nt - 1 : null;
       default:
         return null;
@@ -187,7 +188,7 @@ export function targetCheck(table: TableFile, search: SearchKind, tree: SearchTr
         tool(CC, [...CROSS_FLAGS, ...core.flags, '-c', '-o', obj, join(sub, `${prefix}.c`)], sub);
         const size = parseSizeA(tool('arm-none-eabi-size', ['-A', obj]));
         const undef = undefinedSymbols(tool('arm-none-eabi-nm', [obj]));
-        const worst = countWorst(tool('arm-none-eabi-objdump', ['-dr', '--no-show-raw-insn', obj]), prefix, table, search, r.tree, core);
+        const worst = countWorst(tool('arm-none-eabi-objdump', ['-dr', '--no-show-raw-insn', obj]), prefix, table, search, r.tree, core, !fixed);
         builds.push({
           core: core.core,
           build,

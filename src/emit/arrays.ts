@@ -473,15 +473,30 @@ export interface CostFigures {
   clampComparisons: number;
 }
 
+/** Levels of a hyperplane tree's descent the generated float/double C takes per pass of its loop. */
+export const PLANE_DESCENT_LEVELS = 2;
+
+/**
+ * Plane tests the generated descent of a hyperplane tree makes on a path of `depth` nodes: it takes
+ * L = PLANE_DESCENT_LEVELS levels per pass and sums the planes of the node and of its descendants
+ * L − 1 levels down in every pass (the slots of leaves on the way too), so (2^L − 1)·⌈depth/L⌉
+ * planes of nθ multiply-adds and one comparison each.
+ */
+export function planeDescentTests(depth: number, levels = PLANE_DESCENT_LEVELS): number {
+  return (2 ** levels - 1) * Math.ceil(depth / levels);
+}
+
 /**
  * Worst-case cost of one evaluation, the maximum over every leaf of its path: the descent (per
- * node nθ multiply-adds and one comparison for a hyperplane tree, one comparison and no
+ * plane tested nθ multiply-adds and one comparison for a hyperplane tree, planeDescentTests, one comparison and no
  * multiplication for the box tree; for the grid the cell, nθ multiply-adds and 2·nθ comparisons), then every candidate region's rows tested in full, then the
  * law (nu·nθ multiply-adds; a centred law adds nθ subtractions per row, not counted as multiply-adds).
  */
 export function costFigures(
   ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> &
     Partial<Pick<EmitArrays, 'bestFit'>> & { clamp?: EmitArrays['clamp'] },
+  /** the plane descent of the printer: two levels per pass (float/double C, planeDescentTests) or one plane per level (fixed point) */
+  planeDescent: 'paired' | 'single' = 'paired',
 ): CostFigures {
   // best fit: per row the test and the running maximum, per region the comparison with the best so
   // far and the early-exit test (made when the region becomes the best: at most once per region)
@@ -515,8 +530,10 @@ export function costFigures(
       let rr = 0;
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
-      worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : d * n) + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, d + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp + clampCmp);
+      // a plane descent takes two levels per pass and sums three planes in each (planeDescentTests)
+      const tests = ar.search === 'boxtree' || planeDescent === 'single' ? d : planeDescentTests(d);
+      worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : tests * n) + rr * n + lawMacs);
+      worstCmp = Math.max(worstCmp, tests + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp + clampCmp);
     });
   }
   return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, clampComparisons: clampCmp };
@@ -554,11 +571,13 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
       if (ar.search === 'grid') ops += 3 * n;
       else {
         let ref = ar.root;
-        for (let d = 0; d < ar.maxDepth && ref >= 0; d++) {
-          ops += ar.search === 'boxtree' ? 1 : n + 1;
+        let d = 0;
+        for (; d < ar.maxDepth && ref >= 0; d++) {
+          if (ar.search === 'boxtree') ops++;
           if (ar.search === 'boxtree') ref = theta[ar.nodeAxis[ref]] <= ar.nodeSplit[ref] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
           else ref = dot(ar.nodePlane, ref * (n + 1), theta) <= ar.nodePlane[ref * (n + 1) + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
         }
+        if (ar.search !== 'boxtree') ops += planeDescentTests(d) * (n + 1);
       }
       const leaf = descend(ar, theta, (a, i) => dot(a, i, theta));
       if (leaf < 0) {

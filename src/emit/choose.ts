@@ -97,6 +97,8 @@ export interface Candidate {
   buildSeconds: number;
   /** mean multiply-adds plus comparisons per evaluation on seeded points of the box (float/double C builds; null for other builds) */
   meanOps: number | null;
+  /** the target's build measured (its arrays, leaf order included), null when not built; reused by emit for the chosen one */
+  build: unknown;
 }
 
 /** Candidates whose worst case is within this factor of the least worst case compete on their mean operations. */
@@ -115,11 +117,11 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
       locator = buildLocator(table, search, { ...options, tree });
     } catch (e) {
       if (!(e instanceof TreeTooLargeError)) throw e;
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000, meanOps: null });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });
       continue;
     }
     if (search === 'grid' && !locator) {
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });
       continue;
     }
     const build = target.build(table, precision, search, locator, options.targetOptions);
@@ -131,7 +133,7 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
     else if (precision === 'float' && !floatSafe) rejected = 'descent not proven safe in float (no side overlap)';
     const ar = build as unknown as EmitArrays;
     const meanOps = (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanOperations(ar, table.box) : null;
-    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps });
+    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps, build });
   }
   return out;
 }

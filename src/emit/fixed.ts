@@ -504,7 +504,7 @@ export function fixedLayout(b: FixedBuild): LayoutArray[] {
 
 /** Operation counts of a fixed build (same structure as the float one). */
 export function fixedCostFigures(b: FixedBuild) {
-  return costFigures(b);
+  return costFigures(b, 'single'); // the fixed-point descent tests one plane per level
 }
 
 /** How a fixed build's arrays fit together, in words (the JSON export's `layout`). */

@@ -93,6 +93,7 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
   let locator: Locator | null;
   let candidates: Candidate[] = [];
   let searchReason: string[];
+  let built: B | null = null;
   if (opts.search === 'auto') {
     candidates = measureCandidates(table, target, opts.precision, SEARCH_KINDS.filter((k) => supported.includes(k)), {
       ...opts.locatorOptions,
@@ -104,6 +105,8 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
     search = pick.chosen.search;
     locator = pick.chosen.locator;
     searchReason = pick.reason;
+    // the build measured by the cost model, made with the same options as below (no second build)
+    built = (pick.chosen.build as B | null) ?? null;
   } else {
     search = opts.search;
     if (!supported.includes(search)) throw new Error(`the ${target.id} target prints ${supported.join(' and ')} search, not ${search}`);
@@ -124,7 +127,7 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
     if (search === 'grid' && !locator) throw new Error('no grid of 2 or more cells per coordinate fits the given byte budget');
     searchReason = [`${search} search, named by the caller (--search ${search}).`];
   }
-  const arrays = target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });
+  const arrays = built ?? target.build(table, opts.precision, search, locator, { thetaFrac: opts.thetaFrac, clamp: opts.clamp });
   const meta = { prefix: opts.prefix, table, tableHash: hash, mergedFrom: opts.mergedFrom, searchReason };
   const files = target.files(arrays, meta);
   const text = (ext: string) => files.find((f) => f.name === `${opts.prefix}${ext}`)?.text ?? '';

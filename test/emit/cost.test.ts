@@ -131,6 +131,17 @@ function checkCost(name: string, table: TableFile): void {
               });
             }
             const rootMatch = /#define LAW_ROOT \((-?\d+)\)/.exec(r.source)!;
+            // a plane descent pass takes `levels` levels and sums one plane per node slot of them, read
+            // off the C itself (the loop step and the sums declared in the loop; changed on purpose with
+            // the multi-level descent)
+            let levels = 1;
+            let sumsPerPass = 1;
+            if (search !== 'boxtree' && left.length > 0) {
+              const loop = /for \(d = 0u; d < LAW_DEPTH && ref >= 0; d \+= (\d+)u\) \{([\s\S]*?)\n {4}\}/.exec(r.source)!;
+              levels = Number(loop[1]);
+              sumsPerPass = (loop[2].match(/const (float|double) s_\w* = /g) ?? []).length;
+              expect(sumsPerPass).toBe(2 ** levels - 1);
+            }
             const stack: [number, number][] = [[Number(rootMatch[1]), 0]];
             while (stack.length) {
               const [ref, d] = stack.pop()!;
@@ -143,8 +154,11 @@ function checkCost(name: string, table: TableFile): void {
               for (let k = leafStart[leaf]; k < leafStart[leaf + 1]; k++) rr += rows(leafRegion[k]);
               depth = Math.max(depth, d);
               // a box-tree node compares one coordinate (no multiplication), a plane node costs nθ
-              macs = Math.max(macs, (search === 'boxtree' ? 0 : d * nt) + rr * nt + nu * nt);
-              cmps = Math.max(cmps, d + rr * rowCmp + (leafStart[leaf + 1] - leafStart[leaf]) * regionCmp);
+              // the plane descent takes two levels per pass and sums three planes in each (the node's and
+              // both children's, a leaf child's slot included; changed on purpose with the paired descent)
+              const tests = search === 'boxtree' ? d : sumsPerPass * Math.ceil(d / levels);
+              macs = Math.max(macs, (search === 'boxtree' ? 0 : tests * nt) + rr * nt + nu * nt);
+              cmps = Math.max(cmps, tests + rr * rowCmp + (leafStart[leaf + 1] - leafStart[leaf]) * regionCmp);
             }
             expect(r.source).toContain(`#define LAW_DEPTH ${depth}u`);
           }

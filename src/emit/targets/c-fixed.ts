@@ -279,6 +279,6 @@ export const cFixedTarget: EmitTarget<FixedBuild> = {
     { name: `${meta.prefix}.c`, text: fixedSource(b, meta) },
   ],
   selfTest: (b, prefix, points, expected) => ({ name: `${prefix}_selftest.c`, text: fixedSelfTest(b, prefix, points, expected as FixedEvaluation[]) }),
-  cost: (b) => ({ ...costFigures(b), bytes: fixedBytes(b) }),
+  cost: (b) => ({ ...costFigures(b, 'single'), bytes: fixedBytes(b) }),
   checkPrefix,
 };

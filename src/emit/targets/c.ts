@@ -9,7 +9,7 @@
  * one addition off the dependency chain of each test.
  */
 import type { TableFile } from '../../table/format.js';
-import { buildArrays, costFigures, evaluateArrays, type EmitArrays, type Precision } from '../arrays.js';
+import { buildArrays, costFigures, evaluateArrays, PLANE_DESCENT_LEVELS, type EmitArrays, type Precision } from '../arrays.js';
 import type { ArrayBytes, EmitMeta, EmitTarget } from './target.js';
 import { layoutOf, type LayoutArray, type LayoutValue } from '../layout.js';
 
@@ -223,6 +223,9 @@ function clampBlock(ar: EmitArrays): string {
  */
 export const UNROLL_MAX = 12;
 
+/** Levels of a hyperplane tree's descent taken per pass of the generated loop (see emitSource). */
+export const DESCENT_LEVELS = PLANE_DESCENT_LEVELS;
+
 /** `term(0) + term(1) + …` (C's + is left-associative: the loop's order of additions). */
 export function unrolledSum(n: number, term: (j: number) => string, first?: string): string {
   const parts = Array.from({ length: n }, (_, j) => term(j));
@@ -363,14 +366,43 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
     return -1;
 }
 `;
-  const descent = `    /* descent: at most DEPTH hyperplane tests, left when a.theta <= b; each node's plane is
-     * stored inline (NT coefficients, then b), so its loads depend on ref alone */
-    for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
-        const ${real} *a = &${P}_node_plane[(uint32_t)ref * (uint32_t)(${NT} + 1)];
-        const ${real} s = ${dot('a', 'theta')};
-        child[0] = ${P}_node_right[ref];
-        child[1] = ${P}_node_left[ref];
-        ref = child[s <= a[${NT}]]; /* both children loaded first: an index, not a branch */
+  // the plane descent takes DESCENT_LEVELS levels per pass: the planes of the node and of its
+  // descendants down to that depth are summed together (independent sums instead of a chain), then one
+  // of the nodes DESCENT_LEVELS below is taken by index; a node on the way that is a leaf is taken as
+  // it is (its own plane slot reads node 0, unused). The leaf reached, and every sum that decides it,
+  // is the one-level descent's (TypeScript: descend in arrays.ts)
+  const L = DESCENT_LEVELS;
+  const dl: string[] = [];
+  const U = P.toUpperCase();
+  // nodes of the pass by path: '' the node itself, then '0' left / '1' right per level
+  const paths = (level: number): string[] => (level === 0 ? [''] : paths(level - 1).flatMap((x) => [x + '0', x + '1']));
+  dl.push(`        const uint32_t p_ = (uint32_t)ref;`);
+  for (let level = 1; level < L; level++)
+    for (const x of paths(level)) {
+      const up = x.slice(0, -1);
+      dl.push(`        const int32_t c_${x} = ${P}_node_${x.endsWith('0') ? 'left' : 'right'}[p_${up}];`);
+      dl.push(`        const uint32_t p_${x} = c_${x} >= 0 ? (uint32_t)c_${x} : 0u;`);
+    }
+  for (let level = 0; level < L; level++)
+    for (const x of paths(level)) dl.push(`        const ${real} *a_${x} = &${P}_node_plane[p_${x} * (uint32_t)(${NT} + 1)];`);
+  for (let level = 0; level < L; level++) for (const x of paths(level)) dl.push(`        const ${real} s_${x} = ${dot(`a_${x}`, 'theta')};`);
+  // the choice, from the deepest level up: k_x[1] the left result, k_x[0] the right one
+  for (let level = L - 1; level >= 0; level--)
+    for (const x of paths(level)) {
+      const child = (side: '0' | '1') => (level === L - 1 ? `${P}_node_${side === '0' ? 'left' : 'right'}[p_${x}]` : `v_${x}${side}`);
+      dl.push(`        int32_t k_${x}[2];`);
+      dl.push(`        k_${x}[0] = ${child('1')};`);
+      dl.push(`        k_${x}[1] = ${child('0')};`);
+      if (level === 0) dl.push(`        ref = k_[s_ <= a_[${NT}]]; /* loaded first, then indexed: no branch */`);
+      else dl.push(`        const int32_t v_${x} = c_${x} >= 0 ? k_${x}[s_${x} <= a_${x}[${NT}]] : c_${x};`);
+    }
+  const descent = `    /* descent: at most DEPTH hyperplane tests on the path, left when a.theta <= b, ${L} levels per
+     * pass; each node's plane is stored inline (NT coefficients, then b). The planes of the node and
+     * of its descendants ${L - 1} level${L > 2 ? 's' : ''} down are summed in the same pass, so a pass waits for one
+     * chain of loads and sums instead of ${L}; a node on the way that is a leaf is taken as it is
+     * (its plane slot reads node 0, unused) */
+    for (d = 0u; d < ${U}_DEPTH && ref >= 0; d += ${L}u) {
+${dl.join('\n')}
     }
 `;
   const boxDescent = `    /* descent: at most DEPTH coordinate tests, left when theta[axis] <= split (no multiplication) */
@@ -410,7 +442,7 @@ ${gridCell}`
 int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     int32_t ref = ${P.toUpperCase()}_ROOT;
-    uint32_t ${ar.maxDepth > 0 ? 'd, ' : ''}k, leaf;${ar.maxDepth > 0 ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
+    uint32_t ${ar.maxDepth > 0 ? 'd, ' : ''}k, leaf;${ar.maxDepth > 0 && box ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
 ${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
         return -1;
     }

@@ -6,7 +6,7 @@ import type { Layout } from '../formulation/layout.js';
 import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
 import { canonicalThreaded, exploreThreaded, startThreadPool, type ThreadPool, type ThreadedOptions } from '../table/threads.js';
 import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex, type SubBoxProgress } from '../table/part.js';
-import { subBox } from '../mpqp/canonical.js';
+import { canonicalReserve, subBox } from '../mpqp/canonical.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTextInput } from '../io/errors.js';
 import { makeTable } from '../table/build.js';
@@ -86,7 +86,7 @@ export function register(program: Command): void {
       try {
         await solveCommand(problemPath, opts, pool, tStart);
       } finally {
-        pool.terminate();
+        void pool.terminate();
       }
     });
 }
@@ -133,8 +133,9 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   let last: Progress | null = null;
   const t0 = performance.now();
   const setupSeconds = (t0 - tStart) / 1000;
-  // the time limit covers set-up as well: the exploration gets what is left
-  const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, opts.timeLimit - setupSeconds);
+  // the time limit covers set-up and the canonical form as well: the exploration gets what is left
+  // after set-up, less the canonical form's reserve (a part file has no canonical form)
+  const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, (opts.timeLimit - setupSeconds) * (part ? 1 : 1 - canonicalReserve));
   const threads = opts.threads ?? availableParallelism();
   const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
   const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
@@ -178,7 +179,10 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   }
   if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
   else if (!partition.stats.complete) resumeHint();
+  // the workers are done with a part (and below, after the canonical neighbours): end them before
+  // the file is assembled, so their heaps are not held beside it (peak memory)
   if (part) {
+    await pool.terminate();
     writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
     if (opts.quiet) return;
     if (created) createdNote(created);
@@ -190,12 +194,22 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     );
     return;
   }
-  // the canonical form: its closure step is bounded by the same time limit, and both steps show progress
+  // the canonical form: both its steps are bounded by the same time limit (a cut one marks the
+  // table incomplete) and show progress, with the time left; one thread does it here (a lone
+  // worker ends first, its heap freed)
+  if (pool.workers.length === 1) await pool.terminate();
+  const left = (): string => (opts.timeLimit === undefined ? '' : `, ${Math.max(0, opts.timeLimit - (performance.now() - tStart) / 1000).toFixed(1)} s left of the time limit`);
   const canonical = await canonicalThreaded(mpqp, partition, threads, {
     shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
-    onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? 'closing under neighbour guesses' : 'neighbours'} ${done}/${total} `) : undefined,
+    onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? `closing under neighbour guesses ${done}/${total} regions` : `neighbours ${done}/${total} facets`}${left()} `) : undefined,
   }, pool);
+  await pool.terminate();
   if (live) process.stderr.write('\r\x1b[K');
+  // an exploration that finished but whose canonical form was cut: the checkpoint resumes it too
+  if (partition.stats.complete && !canonical.stats.complete) {
+    const hint = resumeHint();
+    if (!opts.quiet) process.stderr.write(hint);
+  }
   const table = makeTable(loaded, formulation, canonical, { lean });
   writeTableFile(out, table);
   if (opts.quiet) return;
@@ -208,6 +222,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     s.complete
       ? `  complete: yes — table written to ${out}`
       : `  complete: NO (stopped: ${s.stopReason}) — the table written to ${out} is INCOMPLETE and must not be deployed`,
+    ...(s.neighboursCut ? [`  neighbour lists: NOT finished — the time limit ended the canonical form's neighbours step (${canonical.neighbourWork?.clustersDone ?? 0} of ${canonical.neighbourWork?.clusters ?? 0} facet clusters done; the other facets list no neighbours); resume or raise --time-limit`] : []),
   ];
   lines.push(...coverLines(s));
   process.stdout.write(lines.join('\n') + '\n');

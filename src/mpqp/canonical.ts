@@ -16,13 +16,14 @@
  * every run found, so every run ends with it. Leaving thin regions out instead opened holes that
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
  */
-import type { CriticalRegion, ExplorationWork, MpqpProblem, Partition, PartitionStats } from './types.js';
+import type { CriticalRegion, ExplorationWork, MpqpProblem, NeighbourWork, Partition, PartitionStats } from './types.js';
 import { sumCauses } from './types.js';
 import type { LpEngine } from './region.js';
 import { overlapsFacet, slicePolytope } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
+import { FacetPairs, zeroPairCounts, addPairCounts } from './facet-pairs.js';
 
 /** Order of two ascending index lists: entry by entry, then the shorter first. */
 export function compareActiveSets(a: readonly number[], b: readonly number[]): number {
@@ -31,9 +32,20 @@ export function compareActiveSets(a: readonly number[], b: readonly number[]): n
   return a.length - b.length;
 }
 
-/** Options of `joinPartitions`: a stop for its closure step, and progress. */
+/**
+ * The share of a time limit kept for the canonical form: a bounded solve explores for the rest and
+ * then puts the regions in canonical form within the same limit (its neighbours step costs up to
+ * about a quarter of the exploration's time on the 5-D fixture, on one thread; see DEVELOPERS.md).
+ */
+export const canonicalReserve = 0.25;
+
+/** Options of `joinPartitions`: a stop for its closure and neighbours steps, and progress. */
 export interface JoinOptions {
-  /** asked between regions of the closure step: true ends it early, and the result is marked incomplete ('time-limit') */
+  /**
+   * asked between regions of the closure step and between clusters of facets of the neighbours
+   * step: true ends the step early, and the result is marked incomplete ('time-limit'; the
+   * neighbour lists of the clusters not done stay empty, `stats.neighboursCut`)
+   */
   shouldStop?: () => boolean;
   /** called at most every 100 ms: which step, how far it is, out of how much */
   onProgress?: (step: 'closing' | 'neighbours', done: number, total: number) => void;
@@ -50,7 +62,35 @@ export interface JoinOptions {
  */
 export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): Partition {
   const join = beginJoin(problem, parts, options);
-  return join.finish(canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress));
+  const counts = zeroNeighbourCounts();
+  const lists = canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts });
+  return join.finish(lists, counts);
+}
+
+/** How the neighbours step went: its pair tests and how each was decided, its clusters of facets (of this share) and those done, and whether `shouldStop` cut it. */
+export type NeighbourCounts = NeighbourWork;
+
+/** Zero counters, not cut. */
+export function zeroNeighbourCounts(): NeighbourCounts {
+  return { ...zeroPairCounts(), clusters: 0, clustersDone: 0, cut: false };
+}
+
+/** Add the counters of `b` (a share) into `a`; cut when either is. */
+export function addNeighbourCounts(a: NeighbourCounts, b: NeighbourCounts): void {
+  addPairCounts(a, b);
+  a.clusters += b.clusters;
+  a.clustersDone += b.clustersDone;
+  a.cut = a.cut || b.cut;
+}
+
+/** Options of `canonicalNeighbours`: a stop, and counters. */
+export interface NeighbourOptions {
+  /** asked between clusters of facets: true ends the step (the clusters not done keep empty lists, `counts.cut`) */
+  shouldStop?: () => boolean;
+  /** counters added to (pair tests, LP-free decisions, LPs, clusters, cut) */
+  counts?: NeighbourCounts;
+  /** false: every pair test by its LP; true: LP-free decisions whatever the pairs per region (for measurement and tests; the lists are the same); default: by the pairs per region */
+  certificates?: boolean;
 }
 
 /** A join whose neighbours are still to be computed (`beginJoin`), e.g. in shares on several threads. */
@@ -62,8 +102,13 @@ export interface PendingJoin {
   lp: LpEngine;
   /** progress of the neighbours step (JoinOptions.onProgress, at most every 100 ms) */
   progress: (step: 'neighbours', done: number, total: number) => void;
-  /** the canonical partition, given `canonicalNeighbours` of `regions` (or the merge of its shares) */
-  finish(neighbours: number[][][]): Partition;
+  /** the stop of the neighbours step (JoinOptions.shouldStop) */
+  shouldStop?: () => boolean;
+  /**
+   * The canonical partition, given `canonicalNeighbours` of `regions` (or the merge of its
+   * shares) and its counters: a cut step marks it incomplete ('time-limit', `stats.neighboursCut`).
+   */
+  finish(neighbours: number[][][], counts?: NeighbourCounts): Partition;
 }
 
 /** `joinPartitions` up to the neighbours: union, closure, canonical order, boxes. */
@@ -93,7 +138,7 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
     return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
   });
   const sorted = entries.map((e) => e.region);
-  return { regions: sorted, boxes, lp, progress, finish: (neighbours) => finishJoin(parts, sorted, boxes, neighbours, lp, closed, cut) };
+  return { regions: sorted, boxes, lp, progress, shouldStop: options.shouldStop, finish: (neighbours, counts) => finishJoin(parts, sorted, boxes, neighbours, lp, closed, cut, counts) };
 }
 
 function finishJoin(
@@ -104,6 +149,7 @@ function finishJoin(
   lp: LpEngine,
   closed: number,
   cut: boolean,
+  counts?: NeighbourCounts,
 ): Partition {
   const regions: CriticalRegion[] = sorted.map((R, id) => ({
     ...R,
@@ -130,7 +176,15 @@ function finishJoin(
     stats.complete = false;
     stats.stopReason = 'time-limit';
   }
-  return { regions, stats, work, boxes };
+  if (counts?.cut) {
+    // the neighbours step was cut short: facets of the clusters not done have no neighbours listed
+    stats.neighboursCut = true;
+    if (stats.complete) {
+      stats.complete = false;
+      stats.stopReason = 'time-limit';
+    }
+  }
+  return { regions, stats, work, boxes, neighbourWork: counts };
 }
 
 /**
@@ -195,12 +249,15 @@ function closeUnderGuesses(
  * S has a facet on the same hyperplane with the opposite orientation (normals within 1e-6, offsets
  * within 1e-5 times the box scale) and the two facets overlap in a piece of radius > 10·tol.radius
  * within the hyperplane (the exploration's thinnest piece; intervals in 2-D θ, one Chebyshev LP
- * otherwise). Candidates are found by sorting every facet by a fixed linear function of its
+ * otherwise, unless a certificate of facet-pairs.ts gives the LP's answer without solving it: a
+ * point deep inside both facets, or a slab proved by weak duality that leaves no room). Candidates are found by sorting every facet by a fixed linear function of its
  * sign-normalised hyperplane and comparing only facets whose values are within the tolerance, then
  * their boxes; so no step looks at all regions. Result: per region, per facet, ascending indices.
  * With `share`, only every `count`-th cluster of facets from the `index`-th is done (the others'
  * lists stay empty): `count` shares computed apart (threads) and put together by
  * `mergeNeighbours` are the lists computed at once, since every pair is tested in one cluster.
+ * `options.shouldStop` is asked before each cluster: once true, the clusters left keep empty lists
+ * and `options.counts.cut` is set (the caller marks the result incomplete).
  */
 export function canonicalNeighbours(
   problem: MpqpProblem,
@@ -209,6 +266,7 @@ export function canonicalNeighbours(
   lp: LpEngine,
   progress?: (step: 'neighbours', done: number, total: number) => void,
   share?: { index: number; count: number },
+  options: NeighbourOptions = {},
 ): number[][][] {
   const nt = problem.ntheta;
   let scale = 1;
@@ -241,10 +299,13 @@ export function canonicalNeighbours(
     for (let j = 0; j < nt; j++) if (bx.lo[j] > by.hi[j] + minPiece || by.lo[j] > bx.hi[j] + minPiece) return false;
     return true;
   };
-  // list[i] against list[k] (i < k: the frame is always the earlier facet's, whatever the order
-  // of enumeration, so the answer does not depend on it)
-  let frames = new Map<number, ReturnType<typeof slicePolytope>>();
-  const pair = (i: number, k: number): void => {
+  // pass 1: the candidate pairs (list[i], list[k]), i < k (the frame is always the earlier facet's,
+  // whatever the order of enumeration): opposite facets on one hyperplane whose regions' boxes
+  // meet, cluster by cluster (`starts`: where each cluster's pairs begin)
+  let pi = new Int32Array(1024);
+  let pk = new Int32Array(1024);
+  let np = 0;
+  const candidate = (i: number, k: number): void => {
     const P = list[i];
     const Q = list[k];
     if (Q.sign === P.sign || Q.r === P.r || Math.abs(Q.v - P.v) > window) return;
@@ -256,17 +317,20 @@ export function canonicalNeighbours(
     d = 0;
     for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
     if (d > aTol || !meets(P.r, Q.r)) return;
-    let frame = frames.get(i);
-    if (frame === undefined) {
-      frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
-      frames.set(i, frame);
+    if (np === pi.length) {
+      const gi = new Int32Array(2 * np);
+      gi.set(pi);
+      pi = gi;
+      const gk = new Int32Array(2 * np);
+      gk.set(pk);
+      pk = gk;
     }
-    if (!frame) return;
-    const slice = frame.sliceOf(S, Q.f);
-    if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) return;
-    out[P.r][P.f].push(Q.r);
-    out[Q.r][Q.f].push(P.r);
+    pi[np] = i;
+    pk[np] = k;
+    np++;
   };
+  const starts: number[] = [];
+  const firsts: number[] = [];
   // clusters: runs of the sorted list with consecutive values within the window (no pair across
   // two clusters is within it). Every facet on one hyperplane lands in one cluster — thousands in
   // a table whose regions share long planes (saturation limits, arrangements) — so a large
@@ -279,10 +343,10 @@ export function canonicalNeighbours(
       c0 = c1;
       continue;
     }
-    frames = new Map();
-    progress?.('neighbours', c0, list.length);
+    starts.push(np);
+    firsts.push(c0);
     if (c1 - c0 <= 64) {
-      for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) pair(i, k);
+      for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) candidate(i, k);
     } else {
       // the axis on which the boxes' lows spread most
       let ax = 0;
@@ -308,14 +372,84 @@ export function canonicalNeighbours(
         const reach = boxes[list[i].r].hi[ax] + minPiece;
         for (let t = q + 1; t < order.length && low(order[t]) <= reach; t++) {
           const k = order[t];
-          if (i < k) pair(i, k);
-          else pair(k, i);
+          if (i < k) candidate(i, k);
+          else candidate(k, i);
         }
       }
     }
     c0 = c1;
   }
+  starts.push(np);
+  // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more
+  // dimensions) and the regions' vertices pay off: they cost a few pair LPs per region (the double
+  // description), a decision a fraction of an LP, so they are used when there are at least 6
+  // pairs per region met. Either way the lists are the same (a certificate gives the LP's answer).
+  let pairs: FacetPairs | null = null;
+  if (nt >= 3 && options.certificates !== false && np > 0) {
+    const seen = new Uint8Array(regions.length);
+    let met = 0;
+    for (let q = 0; q < np; q++)
+      for (const r of [list[pi[q]].r, list[pk[q]].r])
+        if (!seen[r]) {
+          seen[r] = 1;
+          met++;
+        }
+    if (options.certificates === true || np >= 6 * met) pairs = new FacetPairs(regions, boxes, nt, minPiece);
+  }
+  // pass 2: each pair decided (a certificate, else the LP; list[i]'s frame built once per cluster)
+  let frames = new Map<number, ReturnType<typeof slicePolytope>>();
+  let tests = 0; // pair tests without `pairs`
+  let clusters = 0;
+  let done = 0;
+  let cut = false;
+  for (let c = 0; c + 1 < starts.length; c++) {
+    clusters++;
+    if (cut || options.shouldStop?.()) {
+      // stopped: this cluster and the rest keep empty lists
+      cut = true;
+      continue;
+    }
+    done++;
+    frames = new Map();
+    progress?.('neighbours', firsts[c], list.length);
+    for (let q = starts[c]; q < starts[c + 1]; q++) {
+      const i = pi[q];
+      const P = list[i];
+      const Q = list[pk[q]];
+      const known = pairs ? pairs.decide(P.r, P.f, Q.r, Q.f) : -1;
+      if (!pairs) tests++;
+      if (known >= 0) {
+        if (known === 1) {
+          out[P.r][P.f].push(Q.r);
+          out[Q.r][Q.f].push(P.r);
+        }
+        continue;
+      }
+      const R = regions[P.r];
+      let frame = frames.get(i);
+      if (frame === undefined) {
+        frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
+        frames.set(i, frame);
+      }
+      if (!frame) continue;
+      const slice = frame.sliceOf(regions[Q.r], Q.f);
+      if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) continue;
+      out[P.r][P.f].push(Q.r);
+      out[Q.r][Q.f].push(P.r);
+    }
+  }
   for (const R of out) for (const f of R) f.sort((x, y) => x - y);
+  if (options.counts) {
+    const c = options.counts;
+    if (pairs) addPairCounts(c, pairs.counts);
+    else {
+      c.tests += tests;
+      c.lps += tests;
+    }
+    c.clusters += clusters;
+    c.clustersDone += done;
+    c.cut = c.cut || cut;
+  }
   return out;
 }
 

@@ -143,6 +143,20 @@ export interface Progress {
   elapsedSeconds: number;
 }
 
+/** Counters of the canonical form's neighbours step (`canonicalNeighbours`, src/mpqp/canonical.ts). */
+export interface NeighbourWork {
+  /** facet pairs tested for overlap, and how each was decided: LP-free (accepted, rejected, boxes, parallel) or by an LP */
+  tests: number;
+  accepted: number;
+  rejected: number;
+  boxes: number;
+  parallel: number;
+  lps: number;
+  clusters: number;
+  clustersDone: number;
+  cut: boolean;
+}
+
 export interface PartitionStats {
   regions: number;
   candidates: number; // optimal active sets examined (feasible point QPs whose point lay in no known region)
@@ -157,6 +171,8 @@ export interface PartitionStats {
   thinRegions?: number;
   /** why pieces were left unresolved and facets left the vertex-list cover (depends on the run: never stored in the table) */
   causes?: CoverCauses;
+  /** the canonical form's neighbours step was cut short by a stop (some facets have no neighbours listed; never stored in the table) */
+  neighboursCut?: boolean;
 }
 
 /**
@@ -225,6 +241,8 @@ export interface Partition {
   cover?: CoverWork;
   /** a box holding each region (by index; not stored in the table), when the exploration knows it */
   boxes?: { lo: ArrayLike<number>; hi: ArrayLike<number> }[];
+  /** how the canonical form's neighbours step went (joins only; not stored in the table) */
+  neighbourWork?: NeighbourWork;
   /** when the exploration stopped early: where it stands, to resume from */
   state?: ExplorationState;
 }

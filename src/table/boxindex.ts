@@ -73,13 +73,10 @@ export class BoxIndex {
   private readonly boxLo: Float64Array;
   private readonly boxHi: Float64Array;
   /**
-   * per listing q (leafIds[q]), for the fast path (θ in the parameter box, slack ≥ 0): the region's
-   * padded box again, interleaved per axis (lo_0, hi_0, lo_1, …, at q·2nθ; read in leaf order; a side
-   * that reaches beyond the leaf's cell is ∓∞), and
-   * the rows that may not hold somewhere in the leaf's cell, rowIds[rowAt[q] … rowAt[q + 1]); a row
-   * left out holds on the whole cell with a margin for the rounding of its residual (`cellRows`)
+   * per listing q (leafIds[q]), for the fast path (θ in the parameter box, slack ≥ 0): the rows that
+   * may not hold somewhere in the leaf's cell, rowIds[rowAt[q] … rowAt[q + 1]); a row left out holds
+   * on the whole cell with a margin for the rounding of its residual (`cellRows`)
    */
-  private readonly listBox: Float64Array;
   private readonly rowAt: Int32Array;
   private readonly rowIds: Int32Array;
   /** the parameter box: a θ inside it lies in the cell of the leaf it descends to */
@@ -87,11 +84,11 @@ export class BoxIndex {
   private readonly rootHi: Float64Array;
   /**
    * for nθ ≤ 4 (`locate4`): each row's a (padded with zeros) and b side by side at stride 5 (one
-   * cache line or two per row instead of two or three), and the listings' boxes at stride 8, padded
-   * with (−∞, ∞); null for nθ > 4
+   * cache line or two per row instead of two or three), and the regions' padded boxes interleaved
+   * (lo_0, hi_0, …) at stride 8, the missing axes (−∞, ∞); null for nθ > 4
    */
   private readonly A4: Float64Array | null;
-  private readonly listBox4: Float64Array | null;
+  private readonly box4: Float64Array | null;
   private readonly exactFirst: boolean;
   /** nodes, leaves, deepest leaf, longest leaf, listings */
   readonly stats: { nodes: number; leaves: number; depth: number; longestLeaf: number; listings: number; cellRows: number };
@@ -181,10 +178,7 @@ export class BoxIndex {
     let depthMax = 0;
     let longest = 0;
     let leaves = 0;
-    // per listing: the box at stride bs (8 for nθ ≤ 4: the four axes of locate4, padded with ∓∞) and
-    // the cell's rows, in typed arrays grown by doubling
-    const bs = n <= 4 ? 8 : 2 * n;
-    let listBox = new Float64Array(bs * 1024);
+    // per listing: the cell's rows, in typed arrays grown by doubling
     let rowAt = new Int32Array(1025);
     let rowIds = new Int32Array(4096);
     let nList = 0;
@@ -194,19 +188,10 @@ export class BoxIndex {
       leafFrom[job.node] = ids.length;
       for (const r of job.items) {
         ids.push(r);
-        if ((nList + 1) * bs > listBox.length) {
-          const grown = new Float64Array(2 * listBox.length);
-          grown.set(listBox);
-          listBox = grown;
+        if (nList + 2 > rowAt.length) {
           const at = new Int32Array(2 * rowAt.length);
           at.set(rowAt);
           rowAt = at;
-        }
-        const o = nList * bs;
-        // a side beyond the cell's never fails for a θ in the cell: ∓∞, a comparison always false (predicted)
-        for (let j = 0; j < bs / 2; j++) {
-          listBox[o + 2 * j] = j >= n || bl[r * n + j] <= job.lo[j] ? -Infinity : bl[r * n + j];
-          listBox[o + 2 * j + 1] = j >= n || bh[r * n + j] >= job.hi[j] ? Infinity : bh[r * n + j];
         }
         if (nRows + this.rowStart[r + 1] - this.rowStart[r] > rowIds.length) {
           const grown = new Int32Array(2 * rowIds.length + this.rowStart[r + 1] - this.rowStart[r]);
@@ -349,7 +334,6 @@ export class BoxIndex {
     this.leafIds = Int32Array.from(ids);
     this.boxLo = bl;
     this.boxHi = bh;
-    this.listBox = listBox.slice(0, nList * bs);
     this.rowAt = rowAt.slice(0, nList + 1);
     this.rowIds = rowIds.slice(0, nRows);
     this.rootLo = Float64Array.from(lower);
@@ -361,11 +345,17 @@ export class BoxIndex {
         for (let j = 0; j < n; j++) A4[i * 5 + j] = this.A[i * n + j];
         A4[i * 5 + 4] = this.b[i];
       }
+      const box4 = new Float64Array(R * 8);
+      for (let r = 0; r < R; r++)
+        for (let j = 0; j < 4; j++) {
+          box4[r * 8 + 2 * j] = j < n ? bl[r * n + j] : -Infinity;
+          box4[r * 8 + 2 * j + 1] = j < n ? bh[r * n + j] : Infinity;
+        }
       this.A4 = A4;
-      this.listBox4 = this.listBox;
+      this.box4 = box4;
     } else {
       this.A4 = null;
-      this.listBox4 = null;
+      this.box4 = null;
     }
     this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: this.rowIds.length };
   }
@@ -484,7 +474,7 @@ export class BoxIndex {
    *
    * A θ inside the parameter box with slack ≥ 0 (every call of evaluate, maps, certify…) takes the
    * fast path: θ copied once into a scratch array, the descent indexes the children by the
-   * comparison (the right child is the left one + 1), the padded boxes are read in leaf order, and
+   * comparison (the right child is the left one + 1), and
    * only the rows that may not hold in the leaf's cell are computed (`cellRows`). Anything else
    * (θ outside the box or NaN, a negative slack) tests every row of every listed region.
    */
@@ -510,7 +500,8 @@ export class BoxIndex {
     const ids = this.leafIds;
     const A = this.A;
     const b = this.b;
-    const box = this.listBox;
+    const boxLo = this.boxLo;
+    const boxHi = this.boxHi;
     const rowAt = this.rowAt;
     const rowIds = this.rowIds;
     const exactLimit = this.exactFirst ? 0 : slack;
@@ -519,9 +510,10 @@ export class BoxIndex {
     for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
       // outside the padded box, the region is not within the slack either (the premise of the listing)
       let out = false;
-      for (let j = 0, o = q * 2 * n; j < n; j++, o += 2) {  // nθ > 4: stride 2nθ
+      const r = ids[q];
+      for (let j = 0; j < n; j++) {
         const x = th[j];
-        if (x < box[o] || x > box[o + 1]) {
+        if (x < boxLo[r * n + j] || x > boxHi[r * n + j]) {
           out = true;
           break;
         }
@@ -541,13 +533,12 @@ export class BoxIndex {
         if (x > v) v = x;
       }
       if (v <= exactLimit) {
-        const r = ids[q];
         // the rows left out are ≤ 0 here; the largest residual over all rows on request
         this.lastViolation = violation ? packedViolation(A, b, this.rowStart, n, r, th, slack) : v;
         return r;
       }
       if (v <= slack && v < nearV) {
-        near = ids[q];
+        near = r;
         nearV = v;
       }
     }
@@ -577,14 +568,14 @@ export class BoxIndex {
     const ids = this.leafIds;
     const A = this.A4!;
     const b = this.b;
-    const box = this.listBox4!;
+    const box = this.box4!;
     const rowAt = this.rowAt;
     const rowIds = this.rowIds;
     const exactLimit = this.exactFirst ? 0 : slack;
     let near = -1;
     let nearV = Infinity;
     for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
-      const o = q * 8;
+      const o = ids[q] * 8;
       if (t0 < box[o] || t0 > box[o + 1] || t1 < box[o + 2] || t1 > box[o + 3] || t2 < box[o + 4] || t2 > box[o + 5] || t3 < box[o + 6] || t3 > box[o + 7]) continue;
       let v = -Infinity;
       for (let p = rowAt[q], pe = rowAt[q + 1]; p < pe; p++) {

@@ -8,7 +8,7 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { solvePartition } from '../mpqp/solve.js';
-import { canonicalNeighbours } from '../mpqp/canonical.js';
+import { canonicalNeighbours, zeroNeighbourCounts } from '../mpqp/canonical.js';
 import { midPlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import type { LpEngine } from '../mpqp/region.js';
@@ -32,8 +32,9 @@ parentPort!.on('message', (job: ProblemMessage | PilotJob | ExploreJob | Neighbo
   if (job.kind === 'neighbours') {
     // a share of the canonical form's neighbours step (`canonicalThreaded`)
     const lp: LpEngine = { lps: 0, reference: false };
-    const lists = canonicalNeighbours(mpqp, job.regions as CriticalRegion[], job.boxes, lp, undefined, { index: job.index, count: job.count });
-    parentPort!.postMessage({ type: 'neighbours', lists, lps: lp.lps } satisfies ExploreWorkerMessage);
+    const counts = zeroNeighbourCounts();
+    const lists = canonicalNeighbours(mpqp, job.regions as CriticalRegion[], job.boxes, lp, undefined, { index: job.index, count: job.count }, { shouldStop: stopped, counts });
+    parentPort!.postMessage({ type: 'neighbours', lists, lps: lp.lps, counts } satisfies ExploreWorkerMessage);
     return;
   }
   // events wait here until the next flush (one message instead of one per event): at most 50 ms apart, and at the end

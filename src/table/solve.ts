@@ -7,7 +7,7 @@ import type { Layout } from '../formulation/layout.js';
 import { infeasibleCore } from '../mpqp/infeasible.js';
 import { mergedRowLabel } from '../mpqp/labels.js';
 import { solvePartition } from '../mpqp/solve.js';
-import { joinPartitions } from '../mpqp/canonical.js';
+import { canonicalReserve, joinPartitions } from '../mpqp/canonical.js';
 import { estimateCondensedSize, formatBytes, type CondensedSize } from '../problem/size.js';
 import type { MpqpProblem, Partition, SolveOptions } from '../mpqp/types.js';
 import { parseProblem } from '../problem/read.js';
@@ -81,9 +81,10 @@ export function solveProblem(loaded: LoadedProblem, options: SolveOptions = {}):
   const { mpqp, layout } = formulation;
   const t0 = performance.now();
   // canonical form: regions sorted by active set, neighbours from the regions alone (same bytes however explored)
-  // the time limit and `shouldStop` also bound the closure step of the canonical form
+  // the time limit and `shouldStop` bound the canonical form too: the exploration leaves it its reserve
   const stopAt = options.timeLimit === undefined ? Infinity : t0 + 1000 * options.timeLimit;
-  const partition = joinPartitions(mpqp, [solvePartition(mpqp, options)], { shouldStop: () => performance.now() >= stopAt || (options.shouldStop?.() ?? false) });
+  const explored = solvePartition(mpqp, options.timeLimit === undefined ? options : { ...options, timeLimit: options.timeLimit * (1 - canonicalReserve) });
+  const partition = joinPartitions(mpqp, [explored], { shouldStop: () => performance.now() >= stopAt || (options.shouldStop?.() ?? false) });
   const seconds = (performance.now() - t0) / 1000;
   return { loaded, mpqp, layout, partition, table: makeTable(loaded, formulation, partition, { lean: options.lean }), seconds };
 }

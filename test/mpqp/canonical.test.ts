@@ -73,14 +73,14 @@ describe('canonical neighbours computed in shares (threads)', () => {
       const at2 = await canonicalThreaded(mpqp, p, 2);
       const joined = JSON.stringify(joinPartitions(mpqp, [p]).regions);
       expect(JSON.stringify(at2.regions) === joined).toBe(true);
-      // on the warm workers of a pool (all shares on the workers, also with one)
+      // with a pool: its warm workers take the shares (a pool of one leaves the step to this thread)
       for (const n of [1, 2]) {
         const pool = startThreadPool(n);
         try {
           const onPool = await canonicalThreaded(mpqp, p, n, {}, pool);
           expect(JSON.stringify(onPool.regions) === joined, `pool of ${n}`).toBe(true);
         } finally {
-          pool.terminate();
+          await pool.terminate();
         }
       }
     }, 300_000);

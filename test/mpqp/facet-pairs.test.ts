@@ -1,0 +1,278 @@
+import { describe, it, expect } from 'vitest';
+import { createRequire } from 'node:module';
+import { FacetPairs } from '../../src/mpqp/facet-pairs.js';
+import { canonicalNeighbours, joinPartitions, zeroNeighbourCounts } from '../../src/mpqp/canonical.js';
+import type { CriticalRegion, MpqpProblem } from '../../src/mpqp/types.js';
+import { rng } from '../problem/rng.js';
+
+// The canonical neighbours' pair test decided without LPs (src/mpqp/facet-pairs.ts) must give the
+// answer of the LP it replaces: two regions are neighbours across a facet when their facets on one
+// hyperplane overlap in a piece of radius > 10·tol.radius = 1e-6. References: hand-made polytopes
+// with known adjacency (rotated boxes: elementary geometry), and javascript-lp-solver (an
+// independent simplex from npm, called directly here) computing the Chebyshev radius of the
+// overlap of every pair of opposite facets.
+
+const require = createRequire(import.meta.url);
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+const solver: any = require('javascript-lp-solver');
+
+const minPiece = 1e-6;
+
+type Region = { A: number[][]; b: number[]; facets: CriticalRegion['facets'] };
+
+/** A random rotation of R^n (Gram–Schmidt on random vectors). */
+function rotation(r: () => number, n: number): number[][] {
+  const Q: number[][] = [];
+  while (Q.length < n) {
+    const v = Array.from({ length: n }, () => 2 * r() - 1);
+    for (const u of Q) {
+      const s = u.reduce((t, x, j) => t + x * v[j], 0);
+      for (let j = 0; j < n; j++) v[j] -= s * u[j];
+    }
+    const len = Math.hypot(...v);
+    if (len > 1e-3) Q.push(v.map((x) => x / len));
+  }
+  return Q;
+}
+
+/** The box [lo, hi] rotated by Q (θ = Q x), as unit rows; row 0 is the side x_0 ≤ hi_0, row 1 is −x_0 ≤ −lo_0, … */
+function rotatedBox(Q: number[][], lo: number[], hi: number[], shift: number[]): Region {
+  const n = lo.length;
+  const A: number[][] = [];
+  const b: number[] = [];
+  for (let j = 0; j < n; j++) {
+    // x_j = (Qᵀ(θ − shift))_j = Q[?]… with θ = Q x + shift, x = Qᵀ(θ − shift): row j of Qᵀ is column j of Q
+    const col = Q.map((row) => row[j]);
+    const off = col.reduce((s, c, k) => s + c * shift[k], 0);
+    A.push(col);
+    b.push(hi[j] + off);
+    A.push(col.map((c) => -c));
+    b.push(-lo[j] - off);
+  }
+  return { A, b, facets: A.map((_, i) => ({ kind: 'primal' as const, row: i, neighbours: [] })) };
+}
+
+/** Bounding box of {A θ ≤ b} by 2n javascript-lp-solver LPs (θ shifted by +10 to keep the solver's variables ≥ 0). */
+function lpBox(R: Region, n: number): { lo: number[]; hi: number[] } {
+  const lo: number[] = [];
+  const hi: number[] = [];
+  for (let j = 0; j < n; j++)
+    for (const sgn of [1, -1]) {
+      const constraints: Record<string, { max?: number; equal?: number }> = {};
+      const variables: Record<string, Record<string, number>> = {};
+      for (let k = 0; k < n; k++) variables[`t${k}`] = { obj: k === j ? sgn : 0 };
+      R.A.forEach((row, i) => {
+        constraints[`c${i}`] = { max: R.b[i] + row.reduce((s, a) => s + 10 * a, 0) };
+        row.forEach((a, k) => (variables[`t${k}`][`c${i}`] = a));
+      });
+      const res = solver.Solve({ optimize: 'obj', opType: 'max', constraints, variables });
+      const v = (res[`t${j}`] ?? 0) - 10;
+      if (sgn > 0) hi.push(v);
+      else lo.push(v);
+    }
+  return { lo, hi };
+}
+
+/**
+ * Chebyshev radius of the overlap of facet f of R and facet g of S within R's facet hyperplane
+ * (javascript-lp-solver): max ρ s.t. a·θ = β, row_i·θ + ‖row_i projected on the hyperplane‖·ρ ≤ b_i
+ * for every other row of R and S, ρ ≤ 10; −1 when infeasible. θ is shifted by +10 (the solver's
+ * variables are ≥ 0).
+ */
+function lpOverlap(R: Region, f: number, S: Region, g: number): number {
+  const n = R.A[f].length;
+  const a = R.A[f];
+  const constraints: Record<string, { max?: number; equal?: number }> = {};
+  const variables: Record<string, Record<string, number>> = {};
+  for (let k = 0; k < n; k++) variables[`t${k}`] = {};
+  variables.rho = { obj: 1, cap: 1 };
+  constraints.cap = { max: 10 };
+  const add = (name: string, row: number[], rhs: number, len: number | null): void => {
+    constraints[name] = len === null ? { equal: rhs + row.reduce((s, x) => s + 10 * x, 0) } : { max: rhs + row.reduce((s, x) => s + 10 * x, 0) };
+    row.forEach((x, k) => (variables[`t${k}`][name] = x));
+    if (len !== null) variables.rho[name] = len;
+  };
+  add('plane', a, R.b[f], null);
+  for (const [T, skip, tag] of [
+    [R, f, 'r'],
+    [S, g, 's'],
+  ] as const)
+    T.A.forEach((row, i) => {
+      if (i === skip) return;
+      const ra = row.reduce((s, x, k) => s + x * a[k], 0);
+      const len = Math.hypot(...row.map((x, k) => x - ra * a[k]));
+      if (len < 1e-9) return;
+      add(`${tag}${i}`, row, T.b[i], len);
+    });
+  const res = solver.Solve({ optimize: 'obj', opType: 'max', constraints, variables });
+  return res.feasible ? (res.rho ?? 0) : -1;
+}
+
+describe('FacetPairs.decide on hand-made polytopes (rotated boxes, known overlap)', () => {
+  // R = [0, 0.5] × [0, 1]^(n−1) and boxes S = [0.5, 1] × … rotated by one random rotation: the
+  // facets lie on x_0 = 0.5 (R's row 0, S's row 1), and their overlap is the overlap of the
+  // other sides, a box whose Chebyshev radius is half its least width (elementary geometry)
+  for (const n of [3, 4, 5]) {
+    const r = rng(7 + n);
+    const Q = rotation(r, n);
+    const shift = Array.from({ length: n }, () => 2 * r() - 1);
+    const R = rotatedBox(Q, new Array(n).fill(0), [0.5, ...new Array(n - 1).fill(1)], shift);
+    const cases: { name: string; lo: number[]; hi: number[]; neighbours: boolean; near?: boolean }[] = [
+      { name: 'the same facet (radius 0.5)', lo: [0.5, ...new Array(n - 1).fill(0)], hi: [1, ...new Array(n - 1).fill(1)], neighbours: true },
+      { name: 'half of it (radius 0.25)', lo: [0.5, 0.5, ...new Array(n - 2).fill(0)], hi: [1, ...new Array(n - 1).fill(1)], neighbours: true },
+      { name: 'a sliver 4e-7 wide (radius 2e-7)', lo: [0.5, 1 - 4e-7, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+      { name: 'a sliver 1.6e-6 wide (radius 8e-7, near the threshold: may be left to the LP)', lo: [0.5, 1 - 1.6e-6, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false, near: true },
+      { name: 'a sliver 4e-6 wide (radius 2e-6, near the threshold: may be left to the LP)', lo: [0.5, 1 - 4e-6, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: true, near: true },
+      { name: 'touching along a (d−2)-face (radius 0)', lo: [0.5, 1, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+      { name: 'apart by 0.1', lo: [0.5, 1.1, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+      { name: 'apart by 0.1 on the last axis', lo: [0.5, ...new Array(n - 2).fill(0), 1.1], hi: [1, ...new Array(n - 2).fill(1), 2], neighbours: false },
+    ];
+    for (const c of cases)
+      it(`${n}-D: ${c.name}: ${c.neighbours ? 'neighbours' : 'not neighbours'}, as javascript-lp-solver's radius says`, () => {
+        const S = rotatedBox(Q, c.lo, c.hi, shift);
+        const regions = [R, S];
+        const boxes = regions.map((X) => lpBox(X, n));
+        const pairs = new FacetPairs(regions, boxes, n, minPiece);
+        const answer = pairs.decide(0, 0, 1, 1);
+        if (!c.near) expect(answer).not.toBe(-1); // decided without an LP
+        if (answer !== -1) expect(answer === 1).toBe(c.neighbours);
+        const radius = lpOverlap(R, 0, S, 1);
+        expect(radius > minPiece).toBe(c.neighbours);
+      });
+  }
+});
+
+/**
+ * The cells of an arrangement of `k` random planes in the box [0, 1]^n (cells found by sampling
+ * points; rows: the planes with their signs and the box sides, redundant rows removed by
+ * javascript-lp-solver), as regions with their LP bounding boxes.
+ */
+function arrangement(seed: number, n: number, k: number, samples: number): { regions: Region[]; boxes: { lo: number[]; hi: number[] }[] } {
+  const r = rng(seed);
+  const planes = Array.from({ length: k }, () => {
+    const a = Array.from({ length: n }, () => 2 * r() - 1);
+    const len = Math.hypot(...a);
+    const p = Array.from({ length: n }, () => 0.2 + 0.6 * r());
+    const u = a.map((x) => x / len);
+    return { a: u, b: u.reduce((s, x, j) => s + x * p[j], 0) };
+  });
+  const signs = new Set<string>();
+  for (let s = 0; s < samples; s++) {
+    const x = Array.from({ length: n }, () => r());
+    signs.add(planes.map((P) => (P.a.reduce((t, v, j) => t + v * x[j], 0) <= P.b ? '+' : '-')).join(''));
+  }
+  const regions: Region[] = [];
+  for (const key of [...signs].sort()) {
+    const A: number[][] = [];
+    const b: number[] = [];
+    const kinds: ('primal' | 'box')[] = [];
+    planes.forEach((P, i) => {
+      const sg = key[i] === '+' ? 1 : -1;
+      A.push(P.a.map((x) => sg * x));
+      b.push(sg * P.b);
+      kinds.push('primal');
+    });
+    for (let j = 0; j < n; j++) {
+      A.push(Array.from({ length: n }, (_, q) => (q === j ? 1 : 0)));
+      b.push(1);
+      A.push(Array.from({ length: n }, (_, q) => (q === j ? -1 : 0)));
+      b.push(0);
+      kinds.push('box', 'box');
+    }
+    // drop redundant rows: max row·θ over the others ≤ b + 1e-9
+    const keep: number[] = [];
+    for (let i = 0; i < A.length; i++) {
+      const constraints: Record<string, { max: number }> = {};
+      const variables: Record<string, Record<string, number>> = {};
+      for (let q = 0; q < n; q++) variables[`t${q}`] = { obj: A[i][q] };
+      // θ shifted by +10 (the solver's variables are ≥ 0); a cap keeps the LP bounded
+      A.forEach((row, l) => {
+        if (l === i || (l < i && !keep.includes(l))) return;
+        constraints[`c${l}`] = { max: b[l] + row.reduce((t, x) => t + 10 * x, 0) };
+        row.forEach((x, q) => (variables[`t${q}`][`c${l}`] = x));
+      });
+      for (let q = 0; q < n; q++) {
+        constraints[`cap${q}`] = { max: 20 };
+        variables[`t${q}`][`cap${q}`] = 1;
+      }
+      const res = solver.Solve({ optimize: 'obj', opType: 'max', constraints, variables });
+      const shifted = b[i] + A[i].reduce((t, x) => t + 10 * x, 0);
+      if (!res.feasible || !(res.result <= shifted + 1e-9)) keep.push(i);
+    }
+    const region: Region = { A: keep.map((i) => A[i]), b: keep.map((i) => b[i]), facets: keep.map((i) => ({ kind: kinds[i], row: i, neighbours: [] })) };
+    regions.push(region);
+  }
+  return { regions, boxes: regions.map((R) => lpBox(R, n)) };
+}
+
+const unitProblem = (n: number): MpqpProblem => ({ ntheta: n, box: { lower: new Array(n).fill(0), upper: new Array(n).fill(1) } }) as unknown as MpqpProblem;
+
+describe('canonicalNeighbours with LP-free decisions against javascript-lp-solver (cells of random plane arrangements)', () => {
+  for (const [n, k, seed] of [
+    [3, 6, 1],
+    [3, 7, 2],
+    [4, 6, 3],
+    [5, 6, 4],
+  ] as const)
+    it(`${n}-D, ${k} planes (seed ${seed}): every facet's list is what the reference radius gives, and most pairs need no LP`, () => {
+      const { regions, boxes } = arrangement(seed, n, k, 6000);
+      expect(regions.length).toBeGreaterThan(8);
+      const lp = { lps: 0, reference: false };
+      const counts = zeroNeighbourCounts();
+      const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, lp, undefined, undefined, { counts, certificates: true });
+      // reference: every pair of opposite facets on the same plane, its overlap radius by javascript-lp-solver
+      const expected = regions.map((R) => R.facets.map(() => [] as number[]));
+      regions.forEach((R, i) =>
+        R.facets.forEach((fi, f) => {
+          if (fi.kind === 'box') return;
+          regions.forEach((S, s) => {
+            if (s === i) return;
+            S.facets.forEach((gi, g) => {
+              if (gi.kind !== 'primal' || gi.row !== fi.row) return; // the same plane, taken with the other sign
+              if (lpOverlap(R, f, S, g) > minPiece) expected[i][f].push(s);
+            });
+          });
+        }),
+      );
+      expect(lists).toEqual(expected);
+      expect(counts.tests).toBeGreaterThan(0);
+      expect(counts.accepted + counts.rejected + counts.boxes + counts.parallel + counts.lps).toBe(counts.tests);
+      expect(counts.lps).toBeLessThan(0.2 * counts.tests);
+      expect(counts.cut).toBe(false);
+      expect(counts.clustersDone).toBe(counts.clusters);
+    }, 120_000);
+});
+
+describe('the neighbours step under a stop', () => {
+  it('stopped before the first cluster: every list empty, counts.cut set; the join result is marked incomplete (time-limit, neighboursCut)', () => {
+    const n = 3;
+    const { regions, boxes } = arrangement(5, n, 6, 4000);
+    const counts = zeroNeighbourCounts();
+    const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, { lps: 0, reference: false }, undefined, undefined, { shouldStop: () => true, counts });
+    expect(lists.every((R) => R.every((f) => f.length === 0))).toBe(true);
+    expect(counts.cut).toBe(true);
+    expect(counts.clustersDone).toBe(0);
+    expect(counts.clusters).toBeGreaterThan(0);
+    // a stop raised during the step: the clusters done keep their (correct) lists, the rest are empty
+    let asked = 0;
+    const some = zeroNeighbourCounts();
+    const part = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, { lps: 0, reference: false }, undefined, undefined, { shouldStop: () => ++asked > 2, counts: some });
+    const full = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, { lps: 0, reference: false });
+    expect(some.cut).toBe(true);
+    expect(some.clustersDone).toBe(2);
+    part.forEach((R, i) => R.forEach((f, q) => expect(f.every((s) => full[i][q].includes(s))).toBe(true)));
+    // a partition whose neighbours step is cut is marked incomplete everywhere
+    const partition = {
+      regions: regions.map((R, id) => ({ ...R, id, activeSet: [id], chebyshev: { center: [0.5, 0.5, 0.5], radius: 0.1 }, law: { F: [], g: [] } })) as unknown as CriticalRegion[],
+      stats: { regions: regions.length, candidates: 0, lps: 0, qps: 0, complete: false, stopReason: 'max-regions' as const, unresolvedPieces: 0 },
+      boxes,
+    };
+    const joined = joinPartitions(unitProblem(n), [partition], { shouldStop: () => true });
+    expect(joined.stats.complete).toBe(false);
+    expect(joined.stats.neighboursCut).toBe(true);
+    expect(joined.neighbourWork?.cut).toBe(true);
+    const whole = joinPartitions(unitProblem(n), [{ ...partition, stats: { ...partition.stats } }], {});
+    expect(whole.stats.neighboursCut).toBeUndefined();
+    expect(whole.neighbourWork?.clustersDone).toBe(whole.neighbourWork?.clusters);
+  }, 120_000);
+});

@@ -313,7 +313,7 @@ export async function run(): Promise<void> {
       });
       const ratio = (qp.median * 1000) / lat.median;
       out.push(
-        `      ${c.search.padEnd(10)} ${String(c.cost.bytes.float.total).padStart(9)} B  ${(c.location / c.regions).toFixed(3).padStart(6)}  ${String(c.cost.worstMultiplyAdds).padStart(8)}  ${String(c.cost.worstComparisons).padStart(8)}  ${lat.median.toFixed(0).padStart(6)}/${lat.p99.toFixed(0).padEnd(6)}  ${ratio.toFixed(0).padStart(6)}x  ${cert.safe ? 'SAFE' : 'NOT SAFE'} (max |du| ${cert.maxAbsDiff.toPrecision(2)} at tol ${cert.tolerance.toPrecision(2)}, ${cert.lostInFloat} lost${'points' in cert ? ` on ${cert.points} points` : ', full certificate'})  ${c.buildSeconds.toFixed(1)} s${c.rejected ? `  [not eligible: ${c.rejected}]` : ''}${c.search === chosen.search ? '  <- chosen' : ''}`,
+        `      ${c.search.padEnd(10)} ${String(c.cost.bytes.float.total).padStart(9)} B  ${(c.location / c.regions).toFixed(3).padStart(6)}  ${String(c.cost.worstMultiplyAdds).padStart(8)}  ${String(c.cost.worstComparisons).padStart(8)}  ${lat.median.toFixed(0).padStart(6)}/${lat.p99.toFixed(0).padEnd(6)}  ${ratio.toFixed(0).padStart(6)}x  ${cert.safe ? 'SAFE' : 'NOT SAFE'} (max |du| ${cert.maxAbsDiff.toPrecision(2)} at tol ${cert.tolerance.toPrecision(2)}, ${cert.lostInFloat} lost${typeof cert.points === 'number' ? ` on ${cert.points} points` : `, full certificate on ${cert.points.total} points`})  ${c.buildSeconds.toFixed(1)} s${c.rejected ? `  [not eligible: ${c.rejected}]` : ''}${c.search === chosen.search ? '  <- chosen' : ''}`,
       );
       if (c.search === chosen.search)
         summary.push(

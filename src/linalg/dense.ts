@@ -95,6 +95,15 @@ export function luSolve(
   const x = scratch ? scratch.x : new Float64Array(n);
   a.set(m.subarray(0, n * n));
   x.set(b.subarray(0, n));
+  return luSolveInPlace(a, x, n, rankTol) ? x : null;
+}
+
+/**
+ * `luSolve` in place: a (the first n² entries, row-major) is overwritten by its LU factors and x
+ * (the right-hand side on entry) by the solution. False when a pivot is below rankTol·max|a|
+ * (a and x are then partly overwritten).
+ */
+export function luSolveInPlace(a: Float64Array, x: Float64Array, n: number, rankTol: number): boolean {
   let scale = 0;
   for (let i = 0; i < n * n; i++) scale = Math.max(scale, Math.abs(a[i]));
   const thr = rankTol * Math.max(scale, 1e-300);
@@ -108,7 +117,7 @@ export function luSolve(
         p = i;
       }
     }
-    if (best <= thr) return null;
+    if (best <= thr) return false;
     if (p !== k) {
       for (let j = 0; j < n; j++) {
         const t = a[k * n + j];
@@ -133,7 +142,7 @@ export function luSolve(
     for (let j = i + 1; j < n; j++) s -= a[i * n + j] * x[j];
     x[i] = s / a[i * n + i];
   }
-  return x;
+  return true;
 }
 
 /** Nested arrays → row-major Float64Array. */

@@ -40,6 +40,7 @@
  */
 import { prefilterScratch, type PrefilterScratch } from './prefilter.js';
 import { tol } from '../tol.js';
+import { luSolveInPlace } from '../linalg/dense.js';
 
 /** A region as the pair test reads it: unit rows A θ ≤ b. */
 export interface PairRegion {
@@ -826,52 +827,13 @@ export class FacetPairs {
     const y = this.scratch.y;
     const plane = v.m + 2 * n;
     const rowOf = (i: number): number => (i < n - 1 ? T[idx[i]] : plane);
-    let scale = 0;
     for (let i = 0; i < n; i++) {
       const r = rowOf(i);
-      for (let j = 0; j < n; j++) {
-        const x = v.A[r * n + j];
-        M[j * n + i] = x;
-        scale = Math.max(scale, Math.abs(x));
-      }
+      for (let j = 0; j < n; j++) M[j * n + i] = v.A[r * n + j];
     }
     for (let j = 0; j < n; j++) y[j] = c[j];
     // solve M y = c (M = [A_W; a]ᵀ) by elimination with partial pivoting
-    const thr = 1e-10 * Math.max(scale, 1e-300);
-    for (let k = 0; k < n; k++) {
-      let p = k;
-      let best = Math.abs(M[k * n + k]);
-      for (let i = k + 1; i < n; i++) {
-        const x = Math.abs(M[i * n + k]);
-        if (x > best) {
-          best = x;
-          p = i;
-        }
-      }
-      if (best <= thr) return Infinity;
-      if (p !== k) {
-        for (let j = 0; j < n; j++) {
-          const t = M[k * n + j];
-          M[k * n + j] = M[p * n + j];
-          M[p * n + j] = t;
-        }
-        const t = y[k];
-        y[k] = y[p];
-        y[p] = t;
-      }
-      const piv = M[k * n + k];
-      for (let i = k + 1; i < n; i++) {
-        const g = M[i * n + k] / piv;
-        if (g === 0) continue;
-        for (let j = k + 1; j < n; j++) M[i * n + j] -= g * M[k * n + j];
-        y[i] -= g * y[k];
-      }
-    }
-    for (let i = n - 1; i >= 0; i--) {
-      let t = y[i];
-      for (let j = i + 1; j < n; j++) t -= M[i * n + j] * y[j];
-      y[i] = t / M[i * n + i];
-    }
+    if (!luSolveInPlace(M, y, n, 1e-10)) return Infinity;
     let yScale = 0;
     for (let i = 0; i < n; i++) yScale = Math.max(yScale, Math.abs(y[i]));
     let bound = 0;

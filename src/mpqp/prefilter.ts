@@ -9,6 +9,7 @@
  * every θ of the region a·θ ≤ Σ y_i b_i + max_{θ∈box} e·θ. The residual e (round-off, or a row
  * that is only nearly a combination) is paid for by interval arithmetic over the box.
  */
+import { luSolveInPlace } from '../linalg/dense.js';
 
 /** Scratch for `farkasBound` (grown on demand; one per caller, never shared between threads). */
 export interface PrefilterScratch {
@@ -55,49 +56,9 @@ export function farkasBound(
   const M = s.m;
   const y = s.y;
   // M = A_Wᵀ (M[j][i] = A[W_i][j]), right-hand side a
-  let scale = 0;
-  for (let i = 0; i < n; i++)
-    for (let j = 0; j < n; j++) {
-      const v = A[W[i] * n + j];
-      M[j * n + i] = v;
-      scale = Math.max(scale, Math.abs(v));
-    }
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) M[j * n + i] = A[W[i] * n + j];
   for (let j = 0; j < n; j++) y[j] = a[j];
-  const thr = 1e-10 * Math.max(scale, 1e-300);
-  for (let k = 0; k < n; k++) {
-    let p = k;
-    let best = Math.abs(M[k * n + k]);
-    for (let i = k + 1; i < n; i++) {
-      const v = Math.abs(M[i * n + k]);
-      if (v > best) {
-        best = v;
-        p = i;
-      }
-    }
-    if (best <= thr) return Infinity;
-    if (p !== k) {
-      for (let j = 0; j < n; j++) {
-        const t = M[k * n + j];
-        M[k * n + j] = M[p * n + j];
-        M[p * n + j] = t;
-      }
-      const t = y[k];
-      y[k] = y[p];
-      y[p] = t;
-    }
-    const piv = M[k * n + k];
-    for (let i = k + 1; i < n; i++) {
-      const f = M[i * n + k] / piv;
-      if (f === 0) continue;
-      for (let j = k + 1; j < n; j++) M[i * n + j] -= f * M[k * n + j];
-      y[i] -= f * y[k];
-    }
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let t = y[i];
-    for (let j = i + 1; j < n; j++) t -= M[i * n + j] * y[j];
-    y[i] = t / M[i * n + i];
-  }
+  if (!luSolveInPlace(M, y, n, 1e-10)) return Infinity;
   // a multiplier that is zero up to round-off is set to 0 (any y ≥ 0 is a valid certificate: the
   // residual below pays for the change); a clearly negative one means W proves nothing about a
   let yScale = 0;

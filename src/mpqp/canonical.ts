@@ -16,6 +16,7 @@
  * every run found, so every run ends with it. Leaving thin regions out instead opened holes that
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
  */
+import { splitBox } from './split.js';
 import type { CriticalRegion, ExplorationWork, MpqpProblem, NeighbourWork, Partition, PartitionStats } from './types.js';
 import { sumCauses } from './types.js';
 import type { LpEngine } from './region.js';
@@ -467,32 +468,5 @@ export function mergeNeighbours(shares: readonly number[][][][]): number[][][] {
  * exactly the sub-boxes on either side. Arrays are new (caller owns them).
  */
 export function subBox(box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, i: number, k: number): { lower: number[]; upper: number[] } {
-  if (!(Number.isInteger(k) && k >= 1 && Number.isInteger(i) && i >= 0 && i < k)) throw new RangeError(`part ${i} of ${k}`);
-  const lower = Array.from(box.lower);
-  const upper = Array.from(box.upper);
-  const width = lower.map((l, j) => upper[j] - l);
-  let n = k;
-  let at = i;
-  while (n > 1) {
-    let axis = 0;
-    let best = -Infinity;
-    for (let j = 0; j < lower.length; j++) {
-      const rel = width[j] > 0 ? (upper[j] - lower[j]) / width[j] : 0;
-      if (rel > best + 1e-12) {
-        best = rel;
-        axis = j;
-      }
-    }
-    const left = Math.floor(n / 2);
-    const cut = lower[axis] + ((upper[axis] - lower[axis]) * left) / n;
-    if (at < left) {
-      upper[axis] = cut;
-      n = left;
-    } else {
-      lower[axis] = cut;
-      at -= left;
-      n -= left;
-    }
-  }
-  return { lower, upper };
+  return splitBox(box, i, k, []); // every weight 1 (x · 1 = x exactly: the same cuts as ever)
 }

@@ -111,6 +111,22 @@ describe('tessera solve', () => {
     expect(r.stdout).not.toMatch(/INCOMPLETE/);
   });
 
+  it('the summary says where the time went; its total is within the wall time the test measures (the test\'s own clock)', async () => {
+    const t0 = performance.now();
+    const r = await run(['solve', thermalFile, '-o', join(dir, 'thermal-time.json'), '--threads', '1']);
+    const wall = (performance.now() - t0) / 1000;
+    expect(r.status).toBe(0);
+    const first = /regions, .* point QPs, ([\d.]+) s \(/.exec(r.stdout);
+    const m = /time: set-up and exploration ([\d.]+) s, canonical form ([\d.]+) s, table assembled and written ([\d.]+) s; ([\d.]+) s in all/.exec(r.stdout);
+    expect(first).not.toBeNull();
+    expect(m).not.toBeNull();
+    const [explore, canonical, written, all] = m!.slice(1).map(Number);
+    expect(Math.abs(explore - Number(first![1]))).toBeLessThanOrEqual(0.05 + 1e-9); // the same figure, rounded to 0.1 s here
+    expect(canonical).toBeGreaterThan(0); // thermal-zone-pair's canonical form takes well over 0.05 s
+    expect(explore + canonical + written).toBeLessThanOrEqual(all + 0.15 + 1e-9); // each part rounded to 0.1 s
+    expect(all).toBeLessThanOrEqual(wall); // the process lived longer than the solve it reports
+  });
+
   it('the same problem solved twice gives byte-identical files', () => {
     expect(solveRuns.again.status).toBe(0);
     const a = readFileSync(tablePath);

@@ -101,8 +101,8 @@ export function register(program: Command): void {
     .option('--precision <p>', `arithmetic of the generated code: ${PRECISIONS.join(', ')}`, choice('--precision', PRECISIONS), 'float')
     .option(
       '--search <s>',
-      'point location: auto (the cost model picks; default), tree (hyperplane tree, one region per leaf), capped (depth-capped hyperplane tree with short leaves), boxtree (bounding-box tree), grid (uniform cell grid over the box) or sequential',
-      choice('--search', ['auto', 'tree', 'capped', 'boxtree', 'grid', 'sequential'] as const),
+      'point location: auto (the cost model picks; default), tree (hyperplane tree, one region per leaf), capped (depth-capped hyperplane tree with short leaves), broad (the same tree stopped early: broad leaves, shorter descent), boxtree (bounding-box tree), grid (uniform cell grid over the box) or sequential',
+      choice('--search', ['auto', 'tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'] as const),
       'auto',
     )
     .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')

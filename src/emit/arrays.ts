@@ -15,18 +15,19 @@ import { gridCell, type GridIndex } from './grid.js';
 export type Precision = 'float' | 'double';
 /**
  * Point-location structures: `tree` the hyperplane search tree (one region per leaf), `capped` a
- * hyperplane tree with a depth cap, short sequential leaves and float-safe side overlap, `boxtree`
+ * hyperplane tree with a depth cap, short sequential leaves and float-safe side overlap, `broad` the
+ * same tree stopped early, with broad leaves scanned most-often-found region first, `boxtree`
  * an axis-aligned bounding-box tree, `grid` a uniform cell grid over the box (src/emit/grid.ts),
  * `sequential` every region in turn.
  */
-export type SearchKind = 'tree' | 'capped' | 'boxtree' | 'grid' | 'sequential';
-export const SEARCH_KINDS: readonly SearchKind[] = ['tree', 'capped', 'boxtree', 'grid', 'sequential'];
-/** A built locator: a hyperplane tree (tree, capped), a box tree or a cell grid. */
+export type SearchKind = 'tree' | 'capped' | 'broad' | 'boxtree' | 'grid' | 'sequential';
+export const SEARCH_KINDS: readonly SearchKind[] = ['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'];
+/** A built locator: a hyperplane tree (tree, capped, broad), a box tree or a cell grid. */
 export type Locator = SearchTree | BoxTree | GridIndex;
 
 /** True for the structures whose descent compares a·θ with b (node_plane arrays). */
 export function planeSearch(search: SearchKind): boolean {
-  return search === 'tree' || search === 'capped';
+  return search === 'tree' || search === 'capped' || search === 'broad';
 }
 
 /** Unit roundoff of IEEE single precision, 2⁻²⁴ (a machine constant, not a tolerance). */

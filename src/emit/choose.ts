@@ -6,9 +6,9 @@
  * the region data. The reason is kept as text for the generated header and the report.
  */
 import type { TableFile } from '../table/format.js';
-import { buildSearchTree, planeMargin, TreeTooLargeError, type TreeOptions } from '../partition/tree.js';
+import { buildSearchTree, collapseTree, planeMargin, TreeTooLargeError, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
-import { buildArrays, meanOperations, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import { buildArrays, costFigures, meanOperations, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
 import { buildGrid } from './grid.js';
 import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
 
@@ -18,6 +18,16 @@ export const LOCATION_BUDGET = 0.5;
 const BUILD_BUDGET = 0.45;
 /** Worst-case multiply-adds a capped tree's leaves may cost, per θ dimension is leafRows·nθ. */
 export const CAPPED_LEAF_MACS = 512;
+/**
+ * `broad` collapses every subtree of the capped tree whose regions hold at most BROAD_LEAF_MACS/nθ
+ * rows (or twice that, see broadest) into one leaf. A broad leaf lists tens of regions,
+ * most-often-found first, and the scan usually stops at the first with the early exit of best fit,
+ * while each level of the descent waits for a chain of loads, products and sums: in the generated C
+ * a shallower tree with broader leaves is faster. Measured on the locate bench's 5-D table (1 153
+ * regions, float, paired, loaded): leaves of 102 rows (capped) 213–238 ns, 400 159–171 ns, 800
+ * 169–182 ns per lookup (median over points); 400 rows at 5-D is 2 000/nθ.
+ */
+export const BROAD_LEAF_MACS = 2000;
 
 export interface LocatorOptions {
   tree?: TreeOptions;
@@ -27,6 +37,8 @@ export interface LocatorOptions {
   tableHash?: string;
   /** passed to the target's build (fixed point: θ fraction bits) */
   targetOptions?: TargetOptions;
+  /** `broad`: the capped tree of the same table and options, when already built (else it is built) */
+  capped?: SearchTree;
 }
 
 /** Float-layout bytes of the region data (rows of A and b, law F and g and centre): the builders' budget basis. */
@@ -41,7 +53,8 @@ export function regionDataBytes(table: TableFile): number {
  * Build the locator of one structure. `tree`: the hyperplane tree as before (one region per leaf);
  * `capped`: hyperplane tree with float-safe side overlap, depth ≤ 4·log2(regions), leaves of at most
  * CAPPED_LEAF_MACS/nθ rows, within the byte budget, splitting on the regions' facet planes and on
- * axis-aligned planes at the quartiles of the node's region centres; `boxtree`: bounding-box tree within the budget;
+ * axis-aligned planes at the quartiles of the node's region centres; `broad`: the capped tree with its subtrees of up to
+ * BROAD_LEAF_MACS/nθ rows (or twice that, where it measures cheaper: broadest) collapsed into leaves; `boxtree`: bounding-box tree within the budget;
  * `grid`: the finest uniform cell grid within the budget (null when none fits).
  */
 export function buildLocator(table: TableFile, search: SearchKind, options: LocatorOptions = {}): Locator | null {
@@ -66,11 +79,40 @@ export function buildLocator(table: TableFile, search: SearchKind, options: Loca
         ...options.tree,
         tableHash: options.tableHash ?? options.tree?.tableHash,
       });
+    case 'broad':
+      return broadest(table, options.capped ?? (buildLocator(table, 'capped', options) as SearchTree), Math.floor(BROAD_LEAF_MACS / n));
     case 'boxtree':
       return buildBoxTree(table.regions, n, table.box, { leafRows: 4 * (n + 1), maxBytes, ...options.boxTree });
     case 'grid':
       return buildGrid(table, { maxBytes });
   }
+}
+
+/**
+ * `broad`: the capped tree with every subtree of at most `leafRows` rows collapsed into one leaf
+ * (collapseTree), or with every subtree of at most 2·leafRows rows, whichever makes fewer operations
+ * on average over seeded points of the box (meanOperations, the cost model's own measure, on the
+ * float build; ties to the finer one) among those whose worst-case operations stay within
+ * WORST_CASE_FACTOR of the finer one's (the cost model's own rule, so that the coarser tree is not
+ * taken where the model would then refuse it). Built from the capped tree, so `auto` builds the
+ * hyperplane tree once. Measured on the locate bench's tables (float C, per-point medians, paired,
+ * load 7–14): the coarser tree was faster in 6-D (268–271 against 294–318 ns, 282 against 293
+ * operations on average, but 5 546 against 3 647 worst case) and slower in 5-D (169–182 against
+ * 159–171 ns, 225 against 210 operations).
+ */
+function broadest(table: TableFile, capped: SearchTree, leafRows: number): SearchTree {
+  const rows = (r: number) => table.regions[r].A.length;
+  const fine = collapseTree(capped, rows, leafRows);
+  const coarse = collapseTree(capped, rows, 2 * leafRows);
+  if (coarse.stats.leaves === fine.stats.leaves) return fine;
+  const measure = (t: SearchTree) => {
+    const ar = buildArrays(table, 'float', 'broad', t);
+    const c = costFigures(ar);
+    return { mean: meanOperations(ar, table.box), worst: c.worstMultiplyAdds + c.worstComparisons };
+  };
+  const f = measure(fine);
+  const c = measure(coarse);
+  return c.mean < f.mean && c.worst <= WORST_CASE_FACTOR * f.worst ? coarse : fine;
 }
 
 /** The part of a build's memory that locates θ (tree arrays) and the part that is the regions themselves. */
@@ -108,13 +150,16 @@ export const WORST_CASE_FACTOR = 1.5;
 export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, precision: string, kinds: readonly SearchKind[], options: LocatorOptions = {}): Candidate[] {
   const out: Candidate[] = [];
   const dataBytes = regionDataBytes(table);
+  // broad is the capped tree with subtrees collapsed: built once when both are measured
+  let cappedBuilt: SearchTree | undefined;
   for (const search of kinds) {
     const t0 = Date.now();
     let locator: Locator | null = null;
     try {
       // the plain tree is abandoned once its node arrays alone would pass the budget
       const tree = search === 'tree' ? { ...options.tree, maxNodes: options.tree?.maxNodes ?? Math.ceil((LOCATION_BUDGET * dataBytes) / (4 * (table.dims.ntheta + 1) + 4)) } : options.tree;
-      locator = buildLocator(table, search, { ...options, tree });
+      locator = buildLocator(table, search, { ...options, tree, capped: search === 'broad' ? cappedBuilt : undefined });
+      if (search === 'capped' && locator) cappedBuilt = locator as SearchTree;
     } catch (e) {
       if (!(e instanceof TreeTooLargeError)) throw e;
       out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });

@@ -203,9 +203,9 @@ export async function run(): Promise<void> {
 
   const dir = mkdtempSync(join(tmpdir(), 'tessera-bench-'));
   const cNs: Record<string, number> = {};
-  for (const search of ['tree', 'capped', 'boxtree', 'grid', 'sequential'] as const)
+  for (const search of ['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'] as const)
     for (const precision of ['float', 'double', 'q15', 'q31'] as const) {
-      if ((precision === 'q15' || precision === 'q31') && (search === 'capped' || search === 'boxtree' || search === 'grid')) continue; // the fixed-point target prints tree and sequential search
+      if ((precision === 'q15' || precision === 'q31') && (search === 'capped' || search === 'broad' || search === 'boxtree' || search === 'grid')) continue; // the fixed-point target prints tree and sequential search
       const r = emit(table, { lang: 'c', precision, search, prefix: 'law', tree: search === 'tree' ? tree : undefined });
       const fixed = precision === 'q15' || precision === 'q31' ? (r.arrays as FixedBuild) : undefined;
       const ctype = precision === 'q15' ? 'int16_t' : precision === 'q31' ? 'int32_t' : precision;
@@ -229,7 +229,7 @@ export async function run(): Promise<void> {
   // passes per point; robust to other jobs on the machine, which only move the tail)
   const latPts = points.slice(0, 4000);
   const lat: Record<string, { median: number; p99: number; timer: number }> = {};
-  for (const search of ['tree', 'capped', 'boxtree', 'grid', 'sequential'] as const) {
+  for (const search of ['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'] as const) {
     const sub = join(dir, `lat-${search}`);
     execFileSync('mkdir', ['-p', sub]);
     const r = emit(table, { lang: 'c', precision: 'float', search, prefix: 'law', tree: search === 'tree' ? tree : undefined });

@@ -50,7 +50,7 @@ describe('tessera emit', () => {
     expect(existsSync(join(dir, 'gen3'))).toBe(false);
   }, 60000);
 
-  it('--search auto (the default) states the chosen structure and why; capped, boxtree and grid by name; bad names and --tree without tree refused', () => {
+  it('--search auto (the default) states the chosen structure and why; capped, broad, boxtree and grid by name; bad names and --tree without tree refused', () => {
     const dir = tempDir('cli-search');
     const tablePath = join(dir, 't.table.json');
     writeFileSync(tablePath, tableToJson(table));
@@ -58,7 +58,7 @@ describe('tessera emit', () => {
     expect(auto.status).toBe(0);
     const rep = JSON.parse(readFileSync(join(dir, 'auto.json'), 'utf8'));
     expect(rep.searchRequested).toBe('auto');
-    expect(rep.candidates.map((c: { search: string }) => c.search)).toEqual(['tree', 'capped', 'boxtree', 'grid', 'sequential']);
+    expect(rep.candidates.map((c: { search: string }) => c.search)).toEqual(['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential']);
     const chosen = rep.candidates.find((c: { search: string }) => c.search === rep.search);
     expect(chosen.rejected).toBeNull();
     expect(chosen.locationBytes).toBeLessThanOrEqual(0.5 * chosen.regionBytes);
@@ -72,7 +72,7 @@ describe('tessera emit', () => {
     const header = readFileSync(join(dir, 'auto', 'tessera_law.h'), 'utf8');
     expect(header).toContain(`${rep.search} search, chosen by the cost model`);
     expect(auto.stdout).toContain(`${rep.search} search, chosen by the cost model`);
-    for (const search of ['capped', 'boxtree', 'grid']) {
+    for (const search of ['capped', 'broad', 'boxtree', 'grid']) {
       const r = tessera(['emit', tablePath, '--search', search, '-o', join(dir, search), '--report', join(dir, `${search}.json`)]);
       expect(r.status).toBe(0);
       expect(JSON.parse(readFileSync(join(dir, `${search}.json`), 'utf8')).search).toBe(search);
@@ -81,7 +81,7 @@ describe('tessera emit', () => {
       expect(gcc.status).toBe(0);
     }
     for (const [args, re] of [
-      [['--search', 'kd'], /^tessera: \(command line\): --search: expected one of auto, tree, capped, boxtree, grid, sequential/],
+      [['--search', 'kd'], /^tessera: \(command line\): --search: expected one of auto, tree, capped, broad, boxtree, grid, sequential/],
       [['--search', 'capped', '--tree', join(dir, 'x.tree.json')], /^tessera: \(command line\): --tree: a tree side file needs --search tree/],
     ] as [string[], RegExp][]) {
       const r = tessera(['emit', tablePath, ...args, '-o', join(dir, 'bad')]);

@@ -33,7 +33,7 @@ function round0(precision: 'float' | 'double'): (x: number) => number {
 
 function checkCost(name: string, table: TableFile): void {
   describe(name, () => {
-    for (const search of ['tree', 'capped', 'boxtree', 'grid', 'sequential'] as const)
+    for (const search of ['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'] as const)
       for (const precision of ['float', 'double'] as const)
         it(`${search}, ${precision}: bytes, depth, multiply-adds and comparisons`, () => {
           const r = emitC(table, { precision, search, prefix: 'law' });
@@ -192,7 +192,7 @@ describe('non-finite θ (a failed sensor reading)', () => {
   // IEEE 754: every ordered comparison with NaN is false (common practice); the region test is
   // written as !(a·θ <= b) so that NaN and ±∞ that make a·θ NaN land in no region
   const table = gridTable(2, (i, j) => ({ F: [[1, 2]], g: [i + j] }));
-  for (const search of ['tree', 'capped', 'boxtree', 'grid', 'sequential'] as const)
+  for (const search of ['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'] as const)
     for (const precision of ['float', 'double'] as const)
       it(`${search}, ${precision}: returns −1 and leaves u untouched`, () => {
         const r = emitC(table, { precision, search, prefix: 'law' });

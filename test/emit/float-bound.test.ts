@@ -37,7 +37,7 @@ describe('float overlap on u = k·|θ₀ − 1| + 0.37·θ₁', () => {
     expect(b.inputRounding).toBeCloseTo(U * (K + Y) * 2, 18);
   });
 
-  for (const search of ['sequential', 'boxtree', 'capped'] as const)
+  for (const search of ['sequential', 'boxtree', 'capped', 'broad'] as const)
     it(`${search}: float points within 64 ulps of θ₀ = 1 are never lost, and their error stays within overlap + rounding (best fit, and first fit where the overlap is used)`, () => {
       const best = buildArrays(table, 'float', search, buildLocator(table, search));
       // first fit takes the lower-index region wherever its slack reaches: the overlap in full

@@ -1,6 +1,6 @@
 /**
- * The point-location structures (capped hyperplane tree, bounding-box tree, cell grid, hyperplane
- * tree, sequential) against sequential search, 2-D to 6-D: the TypeScript locators on 20 000 seeded
+ * The point-location structures (capped hyperplane tree, broad hyperplane tree, bounding-box tree,
+ * cell grid, hyperplane tree, sequential) against sequential search, 2-D to 6-D: the TypeScript locators on 20 000 seeded
  * points and on points pushed just inside/outside every facet; the generated C of every structure
  * and precision compiled with gcc's strict C99 flags and checked bit for bit against the
  * TypeScript evaluator (in double also against the table's own law, applyAffine); the byte budget
@@ -46,6 +46,7 @@ function checkLocators(name: string, get: () => TableFile): void {
     const facet = facetPoints(table);
     const sample = sampleBox(table.box, 20000, 77);
     const capped = buildLocator(table, 'capped') as ReturnType<typeof buildSearchTree>;
+    const broad = buildLocator(table, 'broad') as ReturnType<typeof buildSearchTree>;
     const box = buildLocator(table, 'boxtree') as ReturnType<typeof buildBoxTree>;
     // the grid within a budget large enough for every table here (the cost model's budget may reject it)
     const grid = buildLocator(table, 'grid', { maxBytes: 1e6 }) as GridIndex;
@@ -56,6 +57,7 @@ function checkLocators(name: string, get: () => TableFile): void {
     };
     for (const [kind, locate] of [
       ['capped', (p: number[]) => locateTree(capped, p, table.regions)],
+      ['broad', (p: number[]) => locateTree(broad, p, table.regions)],
       ['boxtree', (p: number[]) => locateBoxTree(box, p, table.regions)],
       ['grid', locateGrid],
     ] as const) {
@@ -92,7 +94,7 @@ function checkC(name: string, get: () => TableFile): void {
     const facet = facetPoints(table);
     const step = Math.max(1, Math.floor(facet.length / 1500));
     const points = [...sampleBox(table.box, 3000, 5), ...facet.filter((_, i) => i % step === 0)];
-    for (const search of ['capped', 'boxtree', 'grid', 'sequential'] as const)
+    for (const search of ['capped', 'broad', 'boxtree', 'grid', 'sequential'] as const)
       for (const precision of ['double', 'float'] as const)
         it(`${search}, ${precision}: strict C99 compiles and equals the TypeScript evaluator bit for bit`, () => {
           // the grid within a budget large enough for every table here
@@ -129,7 +131,7 @@ describe('examples: the cost model and the float certificate', () => {
   for (const ex of EXAMPLES)
     it(`${ex}: the chosen structure fits the byte budget, is safe in float, and the certificate is SAFE with 0 points lost`, () => {
       const table = exampleTable(ex).table;
-      const cands = measureCandidates(table, cTarget, 'float', ['capped', 'boxtree', 'grid', 'sequential']);
+      const cands = measureCandidates(table, cTarget, 'float', ['capped', 'broad', 'boxtree', 'grid', 'sequential']);
       const { chosen, reason } = pickCandidate(cands);
       expect(chosen.rejected).toBeNull();
       expect(chosen.location).toBeLessThanOrEqual(LOCATION_BUDGET * chosen.regions);

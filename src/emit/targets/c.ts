@@ -545,7 +545,7 @@ export const cTarget: EmitTarget<EmitArrays> = {
   lang: 'c',
   precisions: ['float', 'double'],
   summary: 'C99, IEEE float or double arithmetic',
-  searches: ['tree', 'capped', 'boxtree', 'grid', 'sequential'],
+  searches: ['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'],
   build: (table, precision, search, tree, options) => buildArrays(table, precision as Precision, search, tree, options?.clamp),
   evaluate: evaluateArrays,
   layout: layoutOf,

@@ -8,7 +8,7 @@
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, collapseTree, planeMargin, TreeTooLargeError, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
-import { buildArrays, costFigures, meanOperations, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import { buildArrays, costFigures, meanOperations, searchIndex, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
 import { buildGrid } from './grid.js';
 import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
 
@@ -105,14 +105,16 @@ function broadest(table: TableFile, capped: SearchTree, leafRows: number): Searc
   const fine = collapseTree(capped, rows, leafRows);
   const coarse = collapseTree(capped, rows, 2 * leafRows);
   if (coarse.stats.leaves === fine.stats.leaves) return fine;
-  const measure = (t: SearchTree) => {
-    const ar = buildArrays(table, 'float', 'broad', t);
-    const c = costFigures(ar);
-    return { mean: meanOperations(ar, table.box), worst: c.worstMultiplyAdds + c.worstComparisons };
+  // the worst cases first (no build needed): the coarser tree is measured only when the rule allows it
+  const regionRowStart = [0];
+  for (const r of table.regions) regionRowStart.push(regionRowStart[regionRowStart.length - 1] + r.A.length);
+  const worst = (t: SearchTree) => {
+    const c = costFigures({ ...searchIndex('broad', t, regionRowStart), search: 'broad', ntheta: table.dims.ntheta, nu: table.dims.nu, regionCount: table.regions.length, bestFit: true });
+    return c.worstMultiplyAdds + c.worstComparisons;
   };
-  const f = measure(fine);
-  const c = measure(coarse);
-  return c.mean < f.mean && c.worst <= WORST_CASE_FACTOR * f.worst ? coarse : fine;
+  if (worst(coarse) > WORST_CASE_FACTOR * worst(fine)) return fine;
+  const mean = (t: SearchTree) => meanOperations(buildArrays(table, 'float', 'broad', t), table.box);
+  return mean(coarse) < mean(fine) ? coarse : fine;
 }
 
 /** The part of a build's memory that locates θ (tree arrays) and the part that is the regions themselves. */

@@ -99,6 +99,20 @@ export interface TreeOptions {
  */
 export const TREE_VERTEX_BUDGET = 200000;
 
+/**
+ * Vertices of a region (polytopeVertices), remembered per region object and budget: `emit --search
+ * auto` builds several trees over the same regions (the plain tree, the capped one), and in 5-D and
+ * 6-D the enumeration is a large part of each build. A region is never changed after it is built.
+ */
+const vertexCache = new WeakMap<object, Map<number, Float64Array | null>>();
+function regionVertices(r: RegionLike, n: number, budget: number): Float64Array | null {
+  let byBudget = vertexCache.get(r);
+  if (!byBudget) vertexCache.set(r, (byBudget = new Map()));
+  let v = byBudget.get(budget);
+  if (v === undefined) byBudget.set(budget, (v = polytopeVertices(r, n, budget)));
+  return v;
+}
+
 /** Thrown when a tree outgrows TreeOptions.maxNodes (the caller then picks another structure). */
 export class TreeTooLargeError extends Error {
   constructor(public readonly maxNodes: number) {
@@ -190,7 +204,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     regionHps.push(own);
     openBoundary.push(open);
   });
-  const vertices = regions.map((r) => polytopeVertices(r, n, options.vertexBudget ?? TREE_VERTEX_BUDGET));
+  const vertices = regions.map((r) => regionVertices(r, n, options.vertexBudget ?? TREE_VERTEX_BUDGET));
   // a point inside each region (the mean of its vertices, or of its rows' nearest points): axis candidates
   const centres = regions.map((r, ri) => {
     const v = vertices[ri];

@@ -157,17 +157,34 @@ function asBytes(input: string | Uint8Array): Uint8Array {
 /** 10⁰ … 10²², every one exact in double (Clinger's fast path). */
 const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
 
+/** Where the last `plainNumber` stopped (the byte after the cell's grammar) and whether the cell is canonical. */
+let scanEnd = 0;
+let scanCanon = 0;
+
+/** The end of the cell starting at a: the first comma, CR or LF at or after a, else L. */
+function cellEnd(text: Uint8Array, a: number, L: number): number {
+  let i = a;
+  while (i < L) {
+    const c = text[i];
+    if (c === 44 || c === 10 || c === 13) break;
+    i++;
+  }
+  return i;
+}
+
 /**
- * One cell text[a, b) (bytes) of the plain grammar [+-]digits[.digits][(e|E)[+-]digits]: its value (NaN when
- * the cell is not of that grammar: the caller then takes the general path). Up to 15 significant
- * digits and a decimal exponent within ±22 give the correctly rounded double by one exact
- * multiplication or division (Clinger 1990, "How to read floating point numbers accurately");
- * anything else goes to `Number`, which is what the general path calls. `canon[0]` is set to 1 when
- * the text is exactly what `String` prints for the value (no sign '+', no exponent, no redundant
- * zero, at most 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
+ * One cell of the plain grammar [+-]digits[.digits][(e|E)[+-]digits] read from text[a …] (bytes, at
+ * most to L): its value, with `scanEnd` set to the first byte after the grammar (the caller checks
+ * that a comma or the line's end follows; anything else makes the line take the general path), or
+ * NaN when no number of that grammar starts at a. Up to 15 significant digits and a decimal exponent
+ * within ±22 give the correctly rounded double by one exact multiplication or division (Clinger
+ * 1990, "How to read floating point numbers accurately"); anything else goes to `Number` on the
+ * cell's text, which is what the general path calls. `scanCanon` is set to 1 when the text is
+ * exactly what `String` prints for the value (no sign '+', no exponent, no redundant zero, at most
+ * 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
  */
-function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array): number {
-  canon[0] = 0;
+function plainNumber(text: Uint8Array, a: number, L: number): number {
+  scanCanon = 0;
   let i = a;
   let neg = false;
   let c = text[i];
@@ -181,7 +198,7 @@ function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array):
   let digits = 0; // significant digits (from the first non-zero one)
   let intDigits = 0;
   let intLeadZero = false;
-  for (; i < b; i++) {
+  for (; i < L; i++) {
     c = text[i];
     if (c < 48 || c > 57) break;
     if (intDigits === 0 && c === 48) intLeadZero = true;
@@ -195,9 +212,9 @@ function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array):
   let fracLeadZeros = 0;
   let lastFrac = -1;
   let dot = false;
-  if (i < b && c === 46) {
+  if (i < L && c === 46) {
     dot = true;
-    for (i++; i < b; i++) {
+    for (i++; i < L; i++) {
       c = text[i];
       if (c < 48 || c > 57) break;
       fracDigits++;
@@ -208,41 +225,45 @@ function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array):
       } else fracLeadZeros++;
     }
   }
+  scanEnd = i;
   if (intDigits + fracDigits === 0) return NaN;
   let exp = 0;
   let hasExp = false;
-  if (i < b && (c === 101 || c === 69)) {
+  if (i < L && (c === 101 || c === 69)) {
     hasExp = true;
     i++;
     let eneg = false;
     c = text[i];
-    if (i < b && (c === 45 || c === 43)) {
+    if (i < L && (c === 45 || c === 43)) {
       eneg = c === 45;
       i++;
     }
     let ed = 0;
-    for (; i < b; i++) {
+    for (; i < L; i++) {
       c = text[i];
-      if (c < 48 || c > 57) return NaN;
-      if (++ed > 5) return Number(ascii(text, a, b));
+      if (c < 48 || c > 57) break;
+      if (++ed > 5) {
+        scanEnd = cellEnd(text, a, L);
+        return Number(ascii(text, a, scanEnd));
+      }
       exp = exp * 10 + (c - 48);
     }
+    scanEnd = i;
     if (ed === 0) return NaN;
     if (eneg) exp = -exp;
   }
-  if (i !== b) return NaN;
-  if (digits > 15) return Number(ascii(text, a, b));
+  if (digits > 15) return Number(ascii(text, a, i));
   const e10 = exp - fracDigits;
   let v: number;
   if (mant === 0) v = 0;
   else if (e10 >= 0 && e10 <= 22) v = mant * POW10[e10];
   else if (e10 < 0 && e10 >= -22) v = mant / POW10[-e10];
-  else return Number(ascii(text, a, b));
+  else return Number(ascii(text, a, i));
   if (neg) v = -v;
   const intOk = intDigits > 0 && (!intLeadZero || intDigits === 1);
   const fracOk = !dot || (fracDigits > 0 && lastFrac !== 48);
   const zeroInt = intDigits === 1 && intLeadZero;
-  if (!plus && !hasExp && intOk && fracOk && !(neg && v === 0) && !(zeroInt && dot && fracLeadZeros > 5)) canon[0] = 1;
+  if (!plus && !hasExp && intOk && fracOk && !(neg && v === 0) && !(zeroInt && dot && fracLeadZeros > 5)) scanCanon = 1;
   return v;
 }
 
@@ -269,7 +290,6 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
   const cellB = new Int32Array(n);
   const cellV = new Float64Array(n);
   const cellC = new Uint8Array(n);
-  const canon = new Uint8Array(1);
   const L = text.length;
   let pos = 0;
   let lineNo = 0;
@@ -297,35 +317,36 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
     count++;
   };
   while (pos <= L) {
-    let end = text.indexOf(10, pos);
-    if (end < 0) end = L;
-    let le = end;
-    if (le > pos && text[le - 1] === 13) le--;
     lineNo++;
-    // the plain path: only digits, signs, dots, exponents and commas, exactly nθ cells, each a number
+    // the plain path, one pass over the line's bytes: exactly nθ cells, each a number of the plain
+    // grammar followed by a comma or the line's end (LF, CR LF, or a CR or nothing at the end of
+    // the input); anything else (a header, blanks, comments, other spellings) takes the general path
+    let end = -1;
+    let plain = !first;
     let cells = 0;
     let a = pos;
-    let plain = le > pos && !first;
-    // (plainNumber turns away a cell with any other byte: the line then takes the general path)
-    if (plain)
-      for (let i = pos; i <= le; i++) {
-        if (i < le && text[i] !== 44) continue;
-        if (cells === n) {
-          plain = false;
-          break;
-        }
-        const v = plainNumber(text, a, i, canon);
-        if (!Number.isFinite(v)) {
-          plain = false;
-          break;
-        }
-        cellA[cells] = a;
-        cellB[cells] = i;
-        cellV[cells] = v;
-        cellC[cells] = canon[0];
-        cells++;
-        a = i + 1;
+    while (plain) {
+      const v = plainNumber(text, a, L);
+      if (!Number.isFinite(v) || cells === n) {
+        plain = false;
+        break;
       }
+      const e = scanEnd;
+      cellA[cells] = a;
+      cellB[cells] = e;
+      cellV[cells] = v;
+      cellC[cells] = scanCanon;
+      cells++;
+      const c = e < L ? text[e] : 10;
+      if (c === 44) a = e + 1;
+      else if (c === 10) {
+        end = e;
+        break;
+      } else if (c === 13 && (e + 1 === L || text[e + 1] === 10)) {
+        end = e + 1 === L ? L : e + 1;
+        break;
+      } else plain = false;
+    }
     if (plain && cells === n) {
       if (count === cap) grow();
       const o = count * n;
@@ -336,8 +357,12 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
         to[o + j] = cellB[k];
       }
       count++;
+      pos = end + 1;
+      continue;
     }
-    else {
+    end = text.indexOf(10, pos);
+    if (end < 0) end = L;
+    {
       // the general path, exactly parsePointsCsv's rules for this line
       const line = utf8Decoder.decode(text.subarray(pos, end)).replace(/\r$/, '').trim();
       if (!(line === '' || line.startsWith('#'))) {

@@ -122,6 +122,59 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     expect(general.length).toBe(got.count);
   });
 
+  it('line ends LF, CR LF, a last line without one or ending in CR, and cells that end early: as Number reads them', () => {
+    // reference: the literal reading above (lines at \r?\n, trimmed, Number per cell); a file the
+    // literal reading refuses must be refused with parsePointsCsv's message
+    const rnd = rng(977);
+    const names = ['a', 'b'];
+    const tails = ['', ' ', '\r', 'x', '.', 'e', 'e5x', '\r5', '0000001', 'e0000001', 'e+0000001'];
+    let good = 0;
+    let refused = 0;
+    for (let f = 0; f < 400; f++) {
+      const lines: string[] = [];
+      for (let k = 0; k < 6; k++) {
+        const a = cellText(rnd);
+        let b = cellText(rnd);
+        if (rnd() < 0.3) b += tails[Math.floor(rnd() * tails.length)];
+        if (rnd() < 0.2) b = (rnd() * 1e3).toPrecision(16 + Math.floor(rnd() * 3)) + tails[Math.floor(rnd() * tails.length)];
+        lines.push(`${a},${b}`);
+      }
+      let text = '';
+      lines.forEach((l, k) => (text += l + (k < lines.length - 1 ? (rnd() < 0.5 ? '\n' : '\r\n') : ['', '\n', '\r\n', '\r'][Math.floor(rnd() * 4)])));
+      let expected = '';
+      let ref: { cells: string[]; values: number[] }[] = [];
+      try {
+        parsePointsCsv(text, 'p.csv', names);
+        ref = literalRead(text);
+      } catch (e) {
+        expected = (e as Error).message;
+      }
+      let got = '';
+      let flat: ReturnType<typeof parsePointsFlat> | null = null;
+      try {
+        flat = parsePointsFlat(text, 'p.csv', names);
+      } catch (e) {
+        got = (e as Error).message;
+      }
+      expect(got, JSON.stringify(text)).toBe(expected);
+      if (expected) {
+        refused++;
+        continue;
+      }
+      good++;
+      expect(flat!.count).toBe(ref.length);
+      const bytes = new TextEncoder().encode(text);
+      ref.forEach((r, k) =>
+        r.values.forEach((v, j) => {
+          expect(Object.is(flat!.values[2 * k + j], v), `${JSON.stringify(text)} line ${k + 1}`).toBe(true);
+          if (flat!.from[2 * k + j] >= 0) expect(new TextDecoder().decode(bytes.subarray(flat!.from[2 * k + j], flat!.to[2 * k + j]))).toBe(String(v));
+        }),
+      );
+    }
+    expect(good).toBeGreaterThan(20);
+    expect(refused).toBeGreaterThan(20);
+  });
+
   it('refuses what the general reading refuses, with the same message', () => {
     const names = ['a', 'b'];
     const cases = ['1,2\n3', '1,2\n1,2,3', '1,x', '1,', '1,-', '1,1e', '1,Infinity', '1,1e999', '1,.', '1,0x', 'a,b\n1,,2', 'a,c\n1,2'];

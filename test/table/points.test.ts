@@ -423,4 +423,50 @@ describe('the formatting of tessera evaluate against String and the literal rule
       rmSync(dir, { recursive: true, force: true });
     }
   });
+
+  it('--times through the CLI: same output, one stderr line whose stages add up to its total, within the wall clock measured outside', async () => {
+    // reference (common practice): stages that partition a run add up to its total, and the child's
+    // own total is no longer than the parent's clock around the whole child process
+    const { table } = solved(join(root, 'examples', 'positioning-axis.yaml'));
+    const dir = mkdtempSync(join(tmpdir(), 'tessera-times-'));
+    try {
+      const tablePath = join(dir, 't.json');
+      const { tableToJson } = await import('../../src/table/table.js');
+      writeFileSync(tablePath, tableToJson(table));
+      const rnd = rng(5150);
+      const n = table.dims.ntheta;
+      const rows = Array.from({ length: 3000 }, () => Array.from({ length: n }, (_, j) => String(Number((table.box.lower[j] + rnd() * (table.box.upper[j] - table.box.lower[j])).toPrecision(6)))).join(','));
+      writeFileSync(join(dir, 'p.csv'), rows.join('\n') + '\n');
+      const at = table.box.lower.map((v, j) => String((v + table.box.upper[j]) / 2)).join(',');
+      for (const json of [false, true]) {
+        const args = ['evaluate', tablePath, '--points', join(dir, 'p.csv'), '--at', at, '-q', ...(json ? ['--json'] : [])];
+        const plain = await runCli(args);
+        const t0 = performance.now();
+        const timed = await runCli([...args, '--times']);
+        const outside = (performance.now() - t0) / 1000;
+        expect(plain.status).toBe(0);
+        expect(timed.status).toBe(0);
+        expect(timed.stdout).toBe(plain.stdout);
+        expect(plain.stderr).toBe('');
+        const m = /^tessera: times \(wall\/CPU seconds\): (.*); total ([\d.]+)\/([\d.]+) for (\d+) points = ([\d.]+) M points\/s wall \(([\d.]+) M per CPU second\)\n$/.exec(timed.stderr);
+        expect(m, timed.stderr).not.toBeNull();
+        const stages = m![1].split(', ').map((s) => /^([a-z-]+) ([\d.]+)\/([\d.]+)$/.exec(s)!);
+        const names = stages.map((s) => s[1]);
+        expect(names).toEqual(json ? ['start-up', 'table', 'points', 'evaluate', 'write'] : ['start-up', 'table', 'points', 'index', 'locate', 'law', 'format', 'write']);
+        const wall = Number(m![2]);
+        const cpuTotal = Number(m![3]);
+        expect(Number(m![4])).toBe(3001);
+        // each stage printed to 0.01 s: the sum within half a hundredth per stage (and the line's own few ms)
+        const sumWall = stages.reduce((a, s) => a + Number(s[2]), 0);
+        const sumCpu = stages.reduce((a, s) => a + Number(s[3]), 0);
+        expect(Math.abs(sumWall - wall)).toBeLessThanOrEqual(0.005 * stages.length + 0.02);
+        expect(Math.abs(sumCpu - cpuTotal)).toBeLessThanOrEqual(0.005 * stages.length + 0.02);
+        expect(wall).toBeLessThanOrEqual(outside + 0.01);
+        expect(wall).toBeGreaterThan(0);
+        expect(Number(m![5])).toBeCloseTo(3001 / wall / 1e6, 2);
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
 });

@@ -41,27 +41,14 @@
 import { prefilterScratch, type PrefilterScratch } from './prefilter.js';
 import { tol } from '../tol.js';
 import { luSolveInPlace } from '../linalg/dense.js';
+import type { PairCounts } from './types.js';
+
+export type { PairCounts };
 
 /** A region as the pair test reads it: unit rows A θ ≤ b. */
 export interface PairRegion {
   A: number[][];
   b: number[];
-}
-
-/** How the pair tests were decided (counters, summed by the caller). */
-export interface PairCounts {
-  /** pairs that reached the overlap test (same hyperplane, opposite sides, boxes meet) */
-  tests: number;
-  /** decided by an interior point (neighbours) */
-  accepted: number;
-  /** decided by a weak-duality slab of one row (not neighbours) */
-  rejected: number;
-  /** decided by the facets' proved boxes (not neighbours) */
-  boxes: number;
-  /** decided by a row that empties the hyperplane, as the LP path does (not neighbours) */
-  parallel: number;
-  /** left to the exact test (the Chebyshev LP; with θ of 2 dimensions, every test: intervals) */
-  lps: number;
 }
 
 /** Zero counters. */

@@ -157,6 +157,109 @@ function asBytes(input: string | Uint8Array): Uint8Array {
 /** 10⁰ … 10²², every one exact in double (Clinger's fast path). */
 const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
 
+/** Dekker's split constant 2²⁷ + 1 (Veltkamp splitting): a double into two halves of ≤ 26 bits. */
+const SPLIT = 134217729;
+/** The low part of the exact product a·b (a·b = fl(a·b) + twoProductLow(a, b, fl(a·b))), Dekker 1971; no overflow here. */
+function twoProductLow(a: number, b: number, p: number): number {
+  let t = SPLIT * a;
+  const ah = t - (t - a);
+  const al = a - ah;
+  t = SPLIT * b;
+  const bh = t - (t - b);
+  const bl = b - bh;
+  return ah * bh - p + ah * bl + al * bh + al * bl;
+}
+const bits = new Float64Array(1);
+const bitsU32 = new Uint32Array(bits.buffer);
+/** The next double above the positive finite x (little-endian words, as everywhere in this file). */
+function nextUp(x: number): number {
+  bits[0] = x;
+  if (bitsU32[0] === 0xffffffff) {
+    bitsU32[0] = 0;
+    bitsU32[1]++;
+  } else bitsU32[0]++;
+  return bits[0];
+}
+/** The next double below the positive finite x. */
+function nextDown(x: number): number {
+  bits[0] = x;
+  if (bitsU32[0] === 0) {
+    bitsU32[0] = 0xffffffff;
+    bitsU32[1]--;
+  } else bitsU32[0]--;
+  return bits[0];
+}
+
+/**
+ * The double nearest to M·10^e10, M = hi·10^k + lo (hi < 10¹⁵, lo < 10^k, k ≤ 4: 16 to 19
+ * significant digits), |e10| ≤ 22, or NaN when the answer is not certain here (the caller then asks
+ * `Number`). M is held exactly as s + t (error-free products and sums, Dekker 1971, Knuth's TwoSum);
+ * q = fl(s·10^e10) or fl(s/10^−e10) is a candidate, and the exact distance D = M·10^e10 − q is
+ * computed from error-free products to a relative error below 2⁻⁵⁰. Round to nearest keeps q when
+ * |D| is below half the gap to the neighbouring double on D's side, and moves to that neighbour when
+ * D lies beyond the half gap but below one and a half; within 2⁻³⁰ (relative) of a half gap, where
+ * a tie or the error could decide, it gives NaN.
+ */
+function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
+  const scale = POW10[k];
+  const p = hi * scale;
+  const pe = twoProductLow(hi, scale, p);
+  // M = p + pe + lo, all integers; s = fl(M), t = M − s exactly (TwoSum twice)
+  let s = p + lo;
+  let bv = s - p;
+  let e1 = p - (s - bv) + (lo - bv);
+  const t0 = pe + e1; // small integers (|pe|, |e1| ≤ 2¹⁰): exact
+  const s2 = s + t0;
+  bv = s2 - s;
+  e1 = s - (s2 - bv) + (t0 - bv);
+  s = s2;
+  const t = e1;
+  let q: number;
+  let d: number; // D = M·10^e10 − q, in units where the half gaps below compare (times P for a division)
+  let unit: number; // the factor of the gaps in d's units (P for a division, 1 for a product)
+  if (e10 >= 0) {
+    const P = POW10[e10];
+    q = s * P;
+    // D = (s·P − q) + t·P, both parts exact as double pairs
+    const l = twoProductLow(s, P, q);
+    const tp = t * P;
+    const tl = twoProductLow(t, P, tp);
+    d = l + tp + tl;
+    unit = 1;
+  } else {
+    const P = POW10[-e10];
+    q = s / P;
+    // D·P = s + t − q·P = (s − h) − l + t, s − h exact (Sterbenz: h is within a few ulp of s)
+    const h = q * P;
+    const l = twoProductLow(q, P, h);
+    d = s - h - l + t;
+    unit = P;
+  }
+  if (!(q > 0 && q < Infinity)) return NaN;
+  const up = nextUp(q);
+  const down = nextDown(q);
+  const margin = 2 ** -30;
+  if (d >= 0) {
+    const half = (up - q) * 0.5 * unit;
+    if (d < half * (1 - margin)) return q;
+    if (d > half * (1 + margin)) {
+      // q' = up: D' = D − gap; keep it when below half of up's upper gap
+      const d2 = d - (up - q) * unit;
+      const half2 = (nextUp(up) - up) * 0.5 * unit;
+      if (d2 < half2 * (1 - margin)) return up;
+    }
+    return NaN;
+  }
+  const half = (q - down) * 0.5 * unit;
+  if (-d < half * (1 - margin)) return q;
+  if (-d > half * (1 + margin)) {
+    const d2 = -d - (q - down) * unit;
+    const half2 = (down - nextDown(down)) * 0.5 * unit;
+    if (d2 < half2 * (1 - margin)) return down;
+  }
+  return NaN;
+}
+
 /** Where the last `plainNumber` stopped (the byte after the cell's grammar) and whether the cell is canonical. */
 let scanEnd = 0;
 let scanCanon = 0;
@@ -194,7 +297,8 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
     plus = c === 43;
     i++;
   }
-  let mant = 0;
+  let mant = 0; // the first 15 significant digits as an integer (exact)
+  let low = 0; // the digits after those (exact up to 19 digits in all; beyond, Number reads the cell)
   let digits = 0; // significant digits (from the first non-zero one)
   let intDigits = 0;
   let intLeadZero = false;
@@ -204,8 +308,8 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
     if (intDigits === 0 && c === 48) intLeadZero = true;
     intDigits++;
     if (digits > 0 || c !== 48) {
-      digits++;
-      mant = mant * 10 + (c - 48);
+      if (++digits <= 15) mant = mant * 10 + (c - 48);
+      else low = low * 10 + (c - 48);
     }
   }
   let fracDigits = 0;
@@ -220,8 +324,8 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
       fracDigits++;
       lastFrac = c;
       if (digits > 0 || c !== 48) {
-        digits++;
-        mant = mant * 10 + (c - 48);
+        if (++digits <= 15) mant = mant * 10 + (c - 48);
+        else low = low * 10 + (c - 48);
       } else fracLeadZeros++;
     }
   }
@@ -252,8 +356,13 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
     if (ed === 0) return NaN;
     if (eneg) exp = -exp;
   }
-  if (digits > 15) return Number(ascii(text, a, i));
   const e10 = exp - fracDigits;
+  if (digits > 15) {
+    // 16 to 19 digits: M = mant·10^(digits − 15) + low exactly, value M·10^e10
+    const w = digits <= 19 && e10 >= -22 && e10 <= 22 ? wideDecimal(mant, low, digits - 15, e10) : NaN;
+    if (w !== w) return Number(ascii(text, a, i));
+    return neg ? -w : w;
+  }
   let v: number;
   if (mant === 0) v = 0;
   else if (e10 >= 0 && e10 <= 22) v = mant * POW10[e10];

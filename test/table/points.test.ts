@@ -175,6 +175,78 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     expect(refused).toBeGreaterThan(20);
   });
 
+  it('16 to 19 significant digits, near and at the midpoints between doubles: the double Number reads', () => {
+    // reference: ECMAScript's StringToNumber (`Number(cell)`, correctly rounded, ties to even); the
+    // midpoints are computed exactly with BigInt (a double is m·2^e; the midpoint of two neighbours
+    // written in decimal), then cut to 16–19 digits and nudged by −1, 0, +1 in the last digit
+    const rnd = rng(8128);
+    const f64 = new Float64Array(1);
+    const u64 = new BigUint64Array(f64.buffer);
+    /** x > 0 finite as D·10^E exactly (D a digit string) */
+    const exact = (x: number): [bigint, number] => {
+      f64[0] = x;
+      const b = u64[0];
+      const e = Number((b >> 52n) & 0x7ffn);
+      let m = b & ((1n << 52n) - 1n);
+      if (e) m |= 1n << 52n;
+      const ex = (e || 1) - 1075;
+      return ex >= 0 ? [m << BigInt(ex), 0] : [m * 5n ** BigInt(-ex), ex];
+    };
+    const midpoint = (x: number): string => {
+      f64[0] = x;
+      u64[0] += 1n;
+      const [dx, ex] = exact(x);
+      const [dy, ey] = exact(f64[0]);
+      const E = Math.min(ex, ey) - 1;
+      return String((dx * 10n ** BigInt(ex - E) + dy * 10n ** BigInt(ey - E)) / 2n) + `e${E}`;
+    };
+    const digits = (k: number): string => {
+      let t = String(1 + Math.floor(rnd() * 9));
+      for (let i = 1; i < k; i++) t += Math.floor(rnd() * 10);
+      return t;
+    };
+    const cells: string[] = [];
+    let midpoints = 0;
+    for (let i = 0; i < 60000; i++) {
+      const k = 16 + Math.floor(rnd() * 4);
+      const sign = rnd() < 0.3 ? '-' : '';
+      switch (i % 4) {
+        case 0: {
+          const d = digits(k);
+          const pt = Math.floor(rnd() * (k + 1));
+          cells.push(`${sign}${d.slice(0, pt) || '0'}.${d.slice(pt)}`);
+          break;
+        }
+        case 1:
+          cells.push(`${sign}${digits(k)}e${Math.floor(rnd() * 44) - 22 - (k - 1) + Math.floor(rnd() * 8)}`);
+          break;
+        case 2:
+          cells.push(sign + (rnd() * 10 ** (Math.floor(rnd() * 24) - 8)).toPrecision(k));
+          break;
+        default: {
+          // a midpoint written with all its digits (exact: a tie), and cut to k digits ± 1 in the last
+          const x = 10 ** (Math.floor(rnd() * 24) - 8) * (1 + rnd());
+          const [d, e] = midpoint(x).split('e');
+          if (d.length <= 19) {
+            cells.push(`${d}e${e}`);
+            midpoints++;
+          }
+          const head = BigInt(d.slice(0, k)) + BigInt(Math.floor(rnd() * 3) - 1);
+          cells.push(`${sign}${head}e${Number(e) + d.length - k}`);
+        }
+      }
+    }
+    const got = parsePointsFlat(cells.join('\n') + '\n', 'p.csv', ['a']);
+    expect(got.count).toBe(cells.length);
+    let wrong = 0;
+    cells.forEach((c, i) => {
+      if (!Object.is(got.values[i], Number(c))) wrong++;
+      expect(Object.is(got.values[i], Number(c)), c).toBe(true);
+    });
+    expect(wrong).toBe(0);
+    expect(midpoints).toBeGreaterThan(100);
+  });
+
   it('refuses what the general reading refuses, with the same message', () => {
     const names = ['a', 'b'];
     const cases = ['1,2\n3', '1,2\n1,2,3', '1,x', '1,', '1,-', '1,1e', '1,Infinity', '1,1e999', '1,.', '1,0x', 'a,b\n1,,2', 'a,c\n1,2'];

@@ -41,30 +41,15 @@
 import { prefilterScratch, type PrefilterScratch } from './prefilter.js';
 import { tol } from '../tol.js';
 import { luSolveInPlace } from '../linalg/dense.js';
+import type { PairCounts } from './types.js';
+
+export type { PairCounts };
 
 /** A region as the pair test reads it: unit rows A θ ≤ b, and (when known) a point inside it, its Chebyshev centre. */
 export interface PairRegion {
   A: number[][];
   b: number[];
   chebyshev?: { center: ArrayLike<number> };
-}
-
-/** How the pair tests were decided (counters, summed by the caller). */
-export interface PairCounts {
-  /** pairs that reached the overlap test (same hyperplane, opposite sides, boxes meet) */
-  tests: number;
-  /** decided by an interior point (neighbours) */
-  accepted: number;
-  /** of those, by a point found from the two regions' Chebyshev centres (no vertices needed) */
-  centred: number;
-  /** decided by a weak-duality slab of one row (not neighbours) */
-  rejected: number;
-  /** decided by the facets' proved boxes (not neighbours) */
-  boxes: number;
-  /** decided by a row that empties the hyperplane, as the LP path does (not neighbours) */
-  parallel: number;
-  /** left to the exact test (the Chebyshev LP; with θ of 2 dimensions, every test: intervals) */
-  lps: number;
 }
 
 /** Zero counters. */

@@ -3,7 +3,38 @@ import { readTableFile } from '../table/file.js';
 import { InputError, readBytesInput, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
 import { CLI } from './common.js';
-import { evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, type FlatPoints } from '../table/points.js';
+import { evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, type EvaluateTimes, type FlatPoints } from '../table/points.js';
+
+/** Process CPU seconds so far (user + system). */
+const cpuSeconds = (): number => {
+  const u = process.cpuUsage();
+  return (u.user + u.system) / 1e6;
+};
+
+/**
+ * Wall and CPU seconds per stage of one run (`--times`): the first stage, start-up, runs from the
+ * process's start (module loading, option parsing); each `lap` closes the stage running since the last.
+ */
+class StageClock {
+  private wall = performance.now() / 1000;
+  private cpu = cpuSeconds();
+  readonly stages: [string, number, number][] = [['start-up', this.wall, this.cpu]];
+  lap(name: string): void {
+    const w = performance.now() / 1000;
+    const c = cpuSeconds();
+    this.stages.push([name, w - this.wall, c - this.cpu]);
+    this.wall = w;
+    this.cpu = c;
+  }
+  /** the line --times prints: every stage as wall/CPU seconds, the totals and the points per second */
+  line(points: number): string {
+    const wall = performance.now() / 1000;
+    const cpu = cpuSeconds();
+    const f = (x: number): string => x.toFixed(2);
+    const parts = this.stages.map(([n, w, c]) => `${n} ${f(w)}/${f(c)}`).join(', ');
+    return `tessera: times (wall/CPU seconds): ${parts}; total ${f(wall)}/${f(cpu)} for ${points} points = ${(points / wall / 1e6).toFixed(3)} M points/s wall (${(points / cpu / 1e6).toFixed(3)} M per CPU second)\n`;
+  }
+}
 
 /** The points CSV of `path` in θ order (header columns matched by name: the contract's rule). */
 export function readPointsCsv(path: string, thetaNames: string[]): number[][] {
@@ -30,8 +61,11 @@ export function register(program: Command): void {
     .option('--clamp', "saturate u(0) to the table's input limits (inputLimits)")
     .option('--json', 'print JSON instead of CSV')
     .option('-q, --quiet', 'print the values only: no warnings')
-    .action((tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean }) => {
+    .option('--times', 'print to stderr where the time went: wall and CPU seconds per stage (start-up, table, points, index, locate, law, format, write) and points per second')
+    .action((tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean }) => {
+      const clock = opts.times ? new StageClock() : null;
       const table = readTableFile(tablePath);
+      clock?.lap('table');
       if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
       const points: number[][] = [];
       const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
@@ -39,6 +73,7 @@ export function register(program: Command): void {
       const bytes = opts.points ? readBytesInput(opts.points, 'points file') : new Uint8Array(0);
       const flat = opts.points ? parsePointsFlat(bytes, opts.points, table.thetaNames) : empty;
       if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
+      clock?.lap('points');
       const clamp = !!opts.clamp;
       if (!opts.quiet && !table.stats.complete)
         process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
@@ -53,10 +88,42 @@ export function register(program: Command): void {
         for (let k = 0; k < flat.count; k++) all.push(Array.from(flat.values.subarray(k * flat.ntheta, (k + 1) * flat.ntheta)));
         for (const p of points) all.push(p);
         const out = evaluatePoints(table, all, { clamp });
+        clock?.lap('evaluate');
         process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
+        if (clock) {
+          clock.lap('write');
+          process.stderr.write(clock.line(all.length));
+        }
         return;
       }
       // streamed in chunks of lines (10⁶ points are ~60 MB of text), each chunk a new byte array
-      for (const chunk of evaluateCsvBytes(table, bytes, flat, points, { clamp })) process.stdout.write(chunk);
+      const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0, cpu: { index: 0, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+      let write = 0;
+      let writeCpu = 0;
+      for (const chunk of evaluateCsvBytes(table, bytes, flat, points, { clamp, times })) {
+        const w0 = performance.now();
+        const c0 = clock ? cpuSeconds() : 0;
+        process.stdout.write(chunk);
+        write += (performance.now() - w0) / 1000;
+        if (clock) writeCpu += cpuSeconds() - c0;
+      }
+      if (clock) {
+        clock.lap('csv');
+        // the CSV stage split as evaluateCsvBytes and the writes measured it (the rest: the generator's own steps)
+        const csv = clock.stages.pop()!;
+        const cpu = times.cpu!;
+        const rows: [string, number, number][] = [
+          ['index', times.index, cpu.index],
+          ['locate', times.locate, cpu.locate],
+          ['law', times.law, cpu.law],
+          ['format', times.format, cpu.format],
+          ['write', write, writeCpu],
+        ];
+        const restWall = csv[1] - rows.reduce((a, r) => a + r[1], 0);
+        const restCpu = csv[2] - rows.reduce((a, r) => a + r[2], 0);
+        rows[rows.length - 1] = ['write', write + Math.max(0, restWall), writeCpu + Math.max(0, restCpu)];
+        clock.stages.push(...rows);
+        process.stderr.write(clock.line(flat.count + points.length));
+      }
     });
 }

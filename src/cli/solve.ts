@@ -136,7 +136,8 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   // the time limit covers set-up and the canonical form as well: the exploration gets what is left
   // after set-up, less the canonical form's reserve (a part file has no canonical form)
   const timeLimit = opts.timeLimit === undefined ? undefined : Math.max(0, (opts.timeLimit - setupSeconds) * (part ? 1 : 1 - canonicalReserve));
-  const threads = opts.threads ?? availableParallelism();
+  // the pool was sized from --threads (default: all cores) when the command started
+  const threads = pool.workers.length;
   const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
   const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
   const { partition, state } = await explore(

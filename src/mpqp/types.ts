@@ -143,15 +143,27 @@ export interface Progress {
   elapsedSeconds: number;
 }
 
-/** Counters of the canonical form's neighbours step (`canonicalNeighbours`, src/mpqp/canonical.ts). */
-export interface NeighbourWork {
-  /** facet pairs tested for overlap, and how each was decided: LP-free (accepted, rejected, boxes, parallel) or by an LP */
+/** How the pair tests were decided (counters, summed by the caller). */
+export interface PairCounts {
+  /** pairs that reached the overlap test (same hyperplane, opposite sides, boxes meet) */
   tests: number;
+  /** decided by an interior point (neighbours) */
   accepted: number;
+  /** of the accepted, those proved at a point found from the two regions' Chebyshev centres */
+  centred: number;
+  /** decided by a weak-duality slab of one row (not neighbours) */
   rejected: number;
+  /** decided by the facets' proved boxes (not neighbours) */
   boxes: number;
+  /** decided by a row that empties the hyperplane, as the LP path does (not neighbours) */
   parallel: number;
+  /** left to the exact test (the Chebyshev LP; with θ of 2 dimensions, every test: intervals) */
   lps: number;
+}
+
+/** Counters of the canonical form's neighbours step (`canonicalNeighbours`, src/mpqp/canonical.ts). */
+export interface NeighbourWork extends PairCounts {
+  /** facet pairs tested for overlap (`tests`) and how each was decided: LP-free (accepted, rejected, boxes, parallel) or by an LP (`lps`) */
   clusters: number;
   clustersDone: number;
   cut: boolean;

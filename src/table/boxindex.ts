@@ -217,80 +217,9 @@ export class BoxIndex {
           makeLeaf(job);
           continue;
         }
-        // the split with the fewest expected tests, Σ over the two sides of (side's share of the
-        // cell) × (boxes reaching it), over the box sides inside the cell on every axis (a sweep
-        // over the sorted sides) and the cell's ¼, ½, ¾ points
-        let ax = 0;
-        let s = 0.5 * (job.lo[0] + job.hi[0]);
-        let best = Infinity;
-        for (let j = 0; j < n; j++) {
-          const c0 = job.lo[j];
-          const w = job.hi[j] - c0;
-          if (!(w > 0)) continue;
-          if (m > SWEEP_MAX) {
-            // a large cell (near the root, regions spread out): the cell's eighths, counted in one pass
-            for (const f of EIGHTHS) {
-              const at = c0 + f * w;
-              let nl = 0;
-              let nr = 0;
-              for (let q = 0; q < m; q++) {
-                const r = job.items[q];
-                if (bl[r * n + j] <= at) nl++;
-                if (bh[r * n + j] >= at) nr++;
-              }
-              const cost = f * nl + (1 - f) * nr;
-              if (cost < best) {
-                best = cost;
-                ax = j;
-                s = at;
-              }
-            }
-            continue;
-          }
-          // sides: lows ascending (a box reaches the left side of x when its low ≤ x), highs ascending
-          for (let q = 0; q < m; q++) {
-            const r = job.items[q];
-            lows[q] = bl[r * n + j];
-            highs[q] = bh[r * n + j];
-          }
-          const lo = lows.subarray(0, m).sort();
-          const hi = highs.subarray(0, m).sort();
-          const tryAt = (at: number, nl: number, nr: number): void => {
-            if (!(at > c0 && at < c0 + w)) return;
-            const f = (at - c0) / w;
-            const cost = f * nl + (1 - f) * nr;
-            if (cost < best) {
-              best = cost;
-              ax = j;
-              s = at;
-            }
-          };
-          // nl(x) = #lows ≤ x, nr(x) = #highs ≥ x; candidates: every low and every high
-          let il = 0;
-          let ih = 0;
-          for (let q = 0; q < 2 * m; q++) {
-            const takeLow = il < m && (ih >= m || lo[il] <= hi[ih]);
-            const at = takeLow ? lo[il] : hi[ih];
-            while (il < m && lo[il] <= at) il++;
-            // at a high side: the box ending here still reaches x = at, so count highs ≥ at
-            let k = ih;
-            while (k < m && hi[k] < at) k++;
-            ih = k;
-            tryAt(at, il, m - ih);
-            if (il >= m && ih >= m) break;
-            if (!takeLow) ih++;
-          }
-          for (const f of SPLITS) {
-            const at = c0 + f * w;
-            let nl = 0;
-            let nr = 0;
-            for (let q = 0; q < m; q++) {
-              if (lo[q] <= at) nl++;
-              if (hi[q] >= at) nr++;
-            }
-            tryAt(at, nl, nr);
-          }
-        }
+        // the split with the fewest expected tests (bestSplit)
+        const ax = this.bestSplit(job.items, m, job.lo, job.hi, bl, bh, lows, highs);
+        const s = this.splitAt;
         const lHi = Float64Array.from(job.hi);
         lHi[ax] = s;
         const rLo = Float64Array.from(job.lo);
@@ -360,6 +289,92 @@ export class BoxIndex {
     this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: this.rowIds.length };
   }
 
+  /** set by `bestSplit`: the split value of the axis it returns */
+  private splitAt = 0;
+
+  /**
+   * The split of the cell [lo0, hi0] listing items[0 … m) with the fewest expected region tests:
+   * Σ over the two sides of (side's share of the cell) × (boxes reaching it), over the box sides
+   * inside the cell on every axis (a sweep over the sorted sides) and the cell's ¼, ½, ¾ points (the
+   * eighths only for cells listing more than SWEEP_MAX). Returns the axis; the value is left in
+   * `splitAt`. A method of its own (not a loop of the constructor) so that it is compiled early.
+   */
+  private bestSplit(items: Int32Array, m: number, lo0: Float64Array, hi0: Float64Array, bl: Float64Array, bh: Float64Array, lows: Float64Array, highs: Float64Array): number {
+    const n = this.n;
+    let ax = 0;
+    let s = 0.5 * (lo0[0] + hi0[0]);
+    let best = Infinity;
+    for (let j = 0; j < n; j++) {
+      const c0 = lo0[j];
+      const w = hi0[j] - c0;
+      if (!(w > 0)) continue;
+      if (m > SWEEP_MAX) {
+        // a large cell (near the root, regions spread out): the cell's eighths, counted in one pass
+        for (const f of EIGHTHS) {
+          const at = c0 + f * w;
+          let nl = 0;
+          let nr = 0;
+          for (let q = 0; q < m; q++) {
+            const r = items[q];
+            if (bl[r * n + j] <= at) nl++;
+            if (bh[r * n + j] >= at) nr++;
+          }
+          const cost = f * nl + (1 - f) * nr;
+          if (cost < best) {
+            best = cost;
+            ax = j;
+            s = at;
+          }
+        }
+        continue;
+      }
+      // sides: lows ascending (a box reaches the left side of x when its low ≤ x), highs ascending
+      for (let q = 0; q < m; q++) {
+        const r = items[q];
+        lows[q] = bl[r * n + j];
+        highs[q] = bh[r * n + j];
+      }
+      const lo = lows.subarray(0, m).sort();
+      const hi = highs.subarray(0, m).sort();
+      const tryAt = (at: number, nl: number, nr: number): void => {
+        if (!(at > c0 && at < c0 + w)) return;
+        const f = (at - c0) / w;
+        const cost = f * nl + (1 - f) * nr;
+        if (cost < best) {
+          best = cost;
+          ax = j;
+          s = at;
+        }
+      };
+      // nl(x) = #lows ≤ x, nr(x) = #highs ≥ x; candidates: every low and every high
+      let il = 0;
+      let ih = 0;
+      for (let q = 0; q < 2 * m; q++) {
+        const takeLow = il < m && (ih >= m || lo[il] <= hi[ih]);
+        const at = takeLow ? lo[il] : hi[ih];
+        while (il < m && lo[il] <= at) il++;
+        // at a high side: the box ending here still reaches x = at, so count highs ≥ at
+        let k = ih;
+        while (k < m && hi[k] < at) k++;
+        ih = k;
+        tryAt(at, il, m - ih);
+        if (il >= m && ih >= m) break;
+        if (!takeLow) ih++;
+      }
+      for (const f of SPLITS) {
+        const at = c0 + f * w;
+        let nl = 0;
+        let nr = 0;
+        for (let q = 0; q < m; q++) {
+          if (lo[q] <= at) nl++;
+          if (hi[q] >= at) nr++;
+        }
+        tryAt(at, nl, nr);
+      }
+    }
+    this.splitAt = s;
+    return ax;
+  }
   /**
    * Writes into `out` from `at` (returns the new end) the rows of region r that the fast path must
    * test for θ in the cell [lo, hi]:

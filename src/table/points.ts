@@ -157,17 +157,137 @@ function asBytes(input: string | Uint8Array): Uint8Array {
 /** 10⁰ … 10²², every one exact in double (Clinger's fast path). */
 const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
 
+/** Dekker's split constant 2²⁷ + 1 (Veltkamp splitting): a double into two halves of ≤ 26 bits. */
+const SPLIT = 134217729;
+/** The low part of the exact product a·b (a·b = fl(a·b) + twoProductLow(a, b, fl(a·b))), Dekker 1971; no overflow here. */
+function twoProductLow(a: number, b: number, p: number): number {
+  let t = SPLIT * a;
+  const ah = t - (t - a);
+  const al = a - ah;
+  t = SPLIT * b;
+  const bh = t - (t - b);
+  const bl = b - bh;
+  return ah * bh - p + ah * bl + al * bh + al * bl;
+}
+const bits = new Float64Array(1);
+const bitsU32 = new Uint32Array(bits.buffer);
+/** The next double above the positive finite x (little-endian words, as everywhere in this file). */
+function nextUp(x: number): number {
+  bits[0] = x;
+  if (bitsU32[0] === 0xffffffff) {
+    bitsU32[0] = 0;
+    bitsU32[1]++;
+  } else bitsU32[0]++;
+  return bits[0];
+}
+/** The next double below the positive finite x. */
+function nextDown(x: number): number {
+  bits[0] = x;
+  if (bitsU32[0] === 0) {
+    bitsU32[0] = 0xffffffff;
+    bitsU32[1]--;
+  } else bitsU32[0]--;
+  return bits[0];
+}
+
 /**
- * One cell text[a, b) (bytes) of the plain grammar [+-]digits[.digits][(e|E)[+-]digits]: its value (NaN when
- * the cell is not of that grammar: the caller then takes the general path). Up to 15 significant
- * digits and a decimal exponent within ±22 give the correctly rounded double by one exact
- * multiplication or division (Clinger 1990, "How to read floating point numbers accurately");
- * anything else goes to `Number`, which is what the general path calls. `canon[0]` is set to 1 when
- * the text is exactly what `String` prints for the value (no sign '+', no exponent, no redundant
- * zero, at most 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
+ * The double nearest to M·10^e10, M = hi·10^k + lo (hi < 10¹⁵, lo < 10^k, k ≤ 4: 16 to 19
+ * significant digits), |e10| ≤ 22, or NaN when the answer is not certain here (the caller then asks
+ * `Number`). M is held exactly as s + t (error-free products and sums, Dekker 1971, Knuth's TwoSum);
+ * q = fl(s·10^e10) or fl(s/10^−e10) is a candidate, and the exact distance D = M·10^e10 − q is
+ * computed from error-free products to a relative error below 2⁻⁵⁰. Round to nearest keeps q when
+ * |D| is below half the gap to the neighbouring double on D's side, and moves to that neighbour when
+ * D lies beyond the half gap but below one and a half; within 2⁻³⁰ (relative) of a half gap, where
+ * a tie or the error could decide, it gives NaN.
  */
-function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array): number {
-  canon[0] = 0;
+function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
+  const scale = POW10[k];
+  const p = hi * scale;
+  const pe = twoProductLow(hi, scale, p);
+  // M = p + pe + lo, all integers; s = fl(M), t = M − s exactly (TwoSum twice)
+  let s = p + lo;
+  let bv = s - p;
+  let e1 = p - (s - bv) + (lo - bv);
+  const t0 = pe + e1; // small integers (|pe|, |e1| ≤ 2¹⁰): exact
+  const s2 = s + t0;
+  bv = s2 - s;
+  e1 = s - (s2 - bv) + (t0 - bv);
+  s = s2;
+  const t = e1;
+  let q: number;
+  let d: number; // D = M·10^e10 − q, in units where the half gaps below compare (times P for a division)
+  let unit: number; // the factor of the gaps in d's units (P for a division, 1 for a product)
+  if (e10 >= 0) {
+    const P = POW10[e10];
+    q = s * P;
+    // D = (s·P − q) + t·P, both parts exact as double pairs
+    const l = twoProductLow(s, P, q);
+    const tp = t * P;
+    const tl = twoProductLow(t, P, tp);
+    d = l + tp + tl;
+    unit = 1;
+  } else {
+    const P = POW10[-e10];
+    q = s / P;
+    // D·P = s + t − q·P = (s − h) − l + t, s − h exact (Sterbenz: h is within a few ulp of s)
+    const h = q * P;
+    const l = twoProductLow(q, P, h);
+    d = s - h - l + t;
+    unit = P;
+  }
+  if (!(q > 0 && q < Infinity)) return NaN;
+  const up = nextUp(q);
+  const down = nextDown(q);
+  const margin = 2 ** -30;
+  if (d >= 0) {
+    const half = (up - q) * 0.5 * unit;
+    if (d < half * (1 - margin)) return q;
+    if (d > half * (1 + margin)) {
+      // q' = up: D' = D − gap; keep it when below half of up's upper gap
+      const d2 = d - (up - q) * unit;
+      const half2 = (nextUp(up) - up) * 0.5 * unit;
+      if (d2 < half2 * (1 - margin)) return up;
+    }
+    return NaN;
+  }
+  const half = (q - down) * 0.5 * unit;
+  if (-d < half * (1 - margin)) return q;
+  if (-d > half * (1 + margin)) {
+    const d2 = -d - (q - down) * unit;
+    const half2 = (down - nextDown(down)) * 0.5 * unit;
+    if (d2 < half2 * (1 - margin)) return down;
+  }
+  return NaN;
+}
+
+/** Where the last `plainNumber` stopped (the byte after the cell's grammar) and whether the cell is canonical. */
+let scanEnd = 0;
+let scanCanon = 0;
+
+/** The end of the cell starting at a: the first comma, CR or LF at or after a, else L. */
+function cellEnd(text: Uint8Array, a: number, L: number): number {
+  let i = a;
+  while (i < L) {
+    const c = text[i];
+    if (c === 44 || c === 10 || c === 13) break;
+    i++;
+  }
+  return i;
+}
+
+/**
+ * One cell of the plain grammar [+-]digits[.digits][(e|E)[+-]digits] read from text[a …] (bytes, at
+ * most to L): its value, with `scanEnd` set to the first byte after the grammar (the caller checks
+ * that a comma or the line's end follows; anything else makes the line take the general path), or
+ * NaN when no number of that grammar starts at a. Up to 15 significant digits and a decimal exponent
+ * within ±22 give the correctly rounded double by one exact multiplication or division (Clinger
+ * 1990, "How to read floating point numbers accurately"); anything else goes to `Number` on the
+ * cell's text, which is what the general path calls. `scanCanon` is set to 1 when the text is
+ * exactly what `String` prints for the value (no sign '+', no exponent, no redundant zero, at most
+ * 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
+ */
+function plainNumber(text: Uint8Array, a: number, L: number): number {
+  scanCanon = 0;
   let i = a;
   let neg = false;
   let c = text[i];
@@ -177,72 +297,82 @@ function plainNumber(text: Uint8Array, a: number, b: number, canon: Uint8Array):
     plus = c === 43;
     i++;
   }
-  let mant = 0;
+  let mant = 0; // the first 15 significant digits as an integer (exact)
+  let low = 0; // the digits after those (exact up to 19 digits in all; beyond, Number reads the cell)
   let digits = 0; // significant digits (from the first non-zero one)
   let intDigits = 0;
   let intLeadZero = false;
-  for (; i < b; i++) {
+  for (; i < L; i++) {
     c = text[i];
     if (c < 48 || c > 57) break;
     if (intDigits === 0 && c === 48) intLeadZero = true;
     intDigits++;
     if (digits > 0 || c !== 48) {
-      digits++;
-      mant = mant * 10 + (c - 48);
+      if (++digits <= 15) mant = mant * 10 + (c - 48);
+      else low = low * 10 + (c - 48);
     }
   }
   let fracDigits = 0;
   let fracLeadZeros = 0;
   let lastFrac = -1;
   let dot = false;
-  if (i < b && c === 46) {
+  if (i < L && c === 46) {
     dot = true;
-    for (i++; i < b; i++) {
+    for (i++; i < L; i++) {
       c = text[i];
       if (c < 48 || c > 57) break;
       fracDigits++;
       lastFrac = c;
       if (digits > 0 || c !== 48) {
-        digits++;
-        mant = mant * 10 + (c - 48);
+        if (++digits <= 15) mant = mant * 10 + (c - 48);
+        else low = low * 10 + (c - 48);
       } else fracLeadZeros++;
     }
   }
+  scanEnd = i;
   if (intDigits + fracDigits === 0) return NaN;
   let exp = 0;
   let hasExp = false;
-  if (i < b && (c === 101 || c === 69)) {
+  if (i < L && (c === 101 || c === 69)) {
     hasExp = true;
     i++;
     let eneg = false;
     c = text[i];
-    if (i < b && (c === 45 || c === 43)) {
+    if (i < L && (c === 45 || c === 43)) {
       eneg = c === 45;
       i++;
     }
     let ed = 0;
-    for (; i < b; i++) {
+    for (; i < L; i++) {
       c = text[i];
-      if (c < 48 || c > 57) return NaN;
-      if (++ed > 5) return Number(ascii(text, a, b));
+      if (c < 48 || c > 57) break;
+      if (++ed > 5) {
+        scanEnd = cellEnd(text, a, L);
+        return Number(ascii(text, a, scanEnd));
+      }
       exp = exp * 10 + (c - 48);
     }
+    scanEnd = i;
     if (ed === 0) return NaN;
     if (eneg) exp = -exp;
   }
-  if (i !== b) return NaN;
-  if (digits > 15) return Number(ascii(text, a, b));
   const e10 = exp - fracDigits;
+  if (digits > 15) {
+    // 16 to 19 digits: M = mant·10^(digits − 15) + low exactly, value M·10^e10
+    const w = digits <= 19 && e10 >= -22 && e10 <= 22 ? wideDecimal(mant, low, digits - 15, e10) : NaN;
+    if (w !== w) return Number(ascii(text, a, i));
+    return neg ? -w : w;
+  }
   let v: number;
   if (mant === 0) v = 0;
   else if (e10 >= 0 && e10 <= 22) v = mant * POW10[e10];
   else if (e10 < 0 && e10 >= -22) v = mant / POW10[-e10];
-  else return Number(ascii(text, a, b));
+  else return Number(ascii(text, a, i));
   if (neg) v = -v;
   const intOk = intDigits > 0 && (!intLeadZero || intDigits === 1);
   const fracOk = !dot || (fracDigits > 0 && lastFrac !== 48);
   const zeroInt = intDigits === 1 && intLeadZero;
-  if (!plus && !hasExp && intOk && fracOk && !(neg && v === 0) && !(zeroInt && dot && fracLeadZeros > 5)) canon[0] = 1;
+  if (!plus && !hasExp && intOk && fracOk && !(neg && v === 0) && !(zeroInt && dot && fracLeadZeros > 5)) scanCanon = 1;
   return v;
 }
 
@@ -269,7 +399,6 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
   const cellB = new Int32Array(n);
   const cellV = new Float64Array(n);
   const cellC = new Uint8Array(n);
-  const canon = new Uint8Array(1);
   const L = text.length;
   let pos = 0;
   let lineNo = 0;
@@ -297,35 +426,36 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
     count++;
   };
   while (pos <= L) {
-    let end = text.indexOf(10, pos);
-    if (end < 0) end = L;
-    let le = end;
-    if (le > pos && text[le - 1] === 13) le--;
     lineNo++;
-    // the plain path: only digits, signs, dots, exponents and commas, exactly nθ cells, each a number
+    // the plain path, one pass over the line's bytes: exactly nθ cells, each a number of the plain
+    // grammar followed by a comma or the line's end (LF, CR LF, or a CR or nothing at the end of
+    // the input); anything else (a header, blanks, comments, other spellings) takes the general path
+    let end = -1;
+    let plain = !first;
     let cells = 0;
     let a = pos;
-    let plain = le > pos && !first;
-    // (plainNumber turns away a cell with any other byte: the line then takes the general path)
-    if (plain)
-      for (let i = pos; i <= le; i++) {
-        if (i < le && text[i] !== 44) continue;
-        if (cells === n) {
-          plain = false;
-          break;
-        }
-        const v = plainNumber(text, a, i, canon);
-        if (!Number.isFinite(v)) {
-          plain = false;
-          break;
-        }
-        cellA[cells] = a;
-        cellB[cells] = i;
-        cellV[cells] = v;
-        cellC[cells] = canon[0];
-        cells++;
-        a = i + 1;
+    while (plain) {
+      const v = plainNumber(text, a, L);
+      if (!Number.isFinite(v) || cells === n) {
+        plain = false;
+        break;
       }
+      const e = scanEnd;
+      cellA[cells] = a;
+      cellB[cells] = e;
+      cellV[cells] = v;
+      cellC[cells] = scanCanon;
+      cells++;
+      const c = e < L ? text[e] : 10;
+      if (c === 44) a = e + 1;
+      else if (c === 10) {
+        end = e;
+        break;
+      } else if (c === 13 && (e + 1 === L || text[e + 1] === 10)) {
+        end = e + 1 === L ? L : e + 1;
+        break;
+      } else plain = false;
+    }
     if (plain && cells === n) {
       if (count === cap) grow();
       const o = count * n;
@@ -336,8 +466,12 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
         to[o + j] = cellB[k];
       }
       count++;
+      pos = end + 1;
+      continue;
     }
-    else {
+    end = text.indexOf(10, pos);
+    if (end < 0) end = L;
+    {
       // the general path, exactly parsePointsCsv's rules for this line
       const line = utf8Decoder.decode(text.subarray(pos, end)).replace(/\r$/, '').trim();
       if (!(line === '' || line.startsWith('#'))) {
@@ -411,6 +545,10 @@ export interface EvaluateTimes {
   law: number;
   /** formatting the CSV bytes */
   format: number;
+  /** when present, the process CPU seconds (user + system, `process.cpuUsage`-like `cpuNow`) of the same stages are added here */
+  cpu?: { index: number; locate: number; law: number; format: number };
+  /** the clock of `cpu`: CPU seconds so far (the caller's, e.g. from `process.cpuUsage()`; the core reads no process) */
+  cpuNow?: () => number;
 }
 
 /** Writes the ASCII string s into out at `at`; returns the end. */
@@ -484,10 +622,14 @@ export function* evaluateCsvBytes(
   const text = points.count > 0 ? asBytes(input) : new Uint8Array(0);
   const times = options.times ?? { index: 0, locate: 0, law: 0, format: 0 };
   const now = (): number => performance.now() / 1000;
+  const cpuTimes = times.cpu;
+  const cpuNow = times.cpuNow ?? ((): number => 0);
+  let c0 = cpuNow();
   let t0 = now();
   const index = sharedTableLocator(table.regions, table.box);
   const { F, g, constant } = packedLaws(table);
   times.index += now() - t0;
+  if (cpuTimes) cpuTimes.index += cpuNow() - c0;
   const R = table.regions.length;
   const total = points.count + extra.length;
   // the parsed points as they are; a copy only when extra points follow them
@@ -558,6 +700,7 @@ export function* evaluateCsvBytes(
   for (let k0 = 0; k0 < total; k0 += chunk) {
     const k1 = Math.min(total, k0 + chunk);
     t0 = now();
+    if (cpuTimes) c0 = cpuNow();
     for (let k = k0; k < k1; k++) {
       let r: number;
       if (index) r = index.locateAt(all, k * n, tol.inside, false);
@@ -569,6 +712,8 @@ export function* evaluateCsvBytes(
     }
     const t1 = now();
     times.locate += t1 - t0;
+    const c1 = cpuTimes ? cpuNow() : 0;
+    if (cpuTimes) cpuTimes.locate += c1 - c0;
     for (let k = k0; k < k1; k++) {
       const r = region[k - k0];
       if (r < 0) continue;
@@ -578,6 +723,8 @@ export function* evaluateCsvBytes(
     }
     const t2 = now();
     times.law += t2 - t1;
+    const c2 = cpuTimes ? cpuNow() : 0;
+    if (cpuTimes) cpuTimes.law += c2 - c1;
     // formatted into one scratch array, handed out as a copy of the bytes used (about a third of the bound)
     const need = (head ? head.length : 0) + (k1 - k0) * lineMax;
     if (scratch.length < need) scratch = new Uint8Array(need);
@@ -619,6 +766,7 @@ export function* evaluateCsvBytes(
       out[at++] = 10;
     }
     times.format += now() - t2;
+    if (cpuTimes) cpuTimes.format += cpuNow() - c2;
     yield out.slice(0, at);
   }
   if (head) yield head;

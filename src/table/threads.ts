@@ -424,7 +424,11 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     settle(partition(complete, firstStop ?? (complete ? 'done' : 'interrupted')));
   };
   const begin = (): void => {
-    for (let w = 0; w < Math.min(W, queue.length); w++) {
+    // one job to each worker at once (`next` takes jobs off the queue, so count before the loop:
+    // bounding the loop by the queue's length started one worker only, and the sub-boxes ran one
+    // after the other)
+    const starting = Math.min(W, queue.length);
+    for (let w = 0; w < starting; w++) {
       const worker = pool.workers[w];
       workers.push(worker);
       const onMessage = (msg: ExploreWorkerMessage): void => {

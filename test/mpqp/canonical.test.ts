@@ -55,6 +55,43 @@ describe('canonical form: the same bytes on 2 threads', () => {
   }
 });
 
+describe('threads: the sub-boxes run at the same time', () => {
+  // each worker of the pool takes one sub-box at once (a bug once started only the first worker,
+  // which then explored the sub-boxes one after the other); the jobs handed out are recorded from
+  // the workers' postMessage, and the second job must start before the first one ends
+  it('a pool of 2 gets one explore job per worker, the second before the first is done', async () => {
+    const file = files.find((f) => /thermal/.test(f))!;
+    const { loaded, table } = solved(file);
+    const formulation = formulate(loaded);
+    const pool = startThreadPool(2);
+    const jobs: { worker: number; job: number }[] = [];
+    const doneAt: number[] = [];
+    try {
+      pool.workers.forEach((w, i) => {
+        const post = w.postMessage.bind(w);
+        w.postMessage = (m: unknown, ...rest: never[]) => {
+          if ((m as { kind?: string }).kind === 'explore') jobs.push({ worker: i, job: (m as { job: number }).job });
+          post(m, ...rest);
+        };
+        w.on('message', (msg: { type?: string }) => {
+          if (msg.type === 'done') doneAt.push(jobs.length);
+        });
+      });
+      const p = await exploreThreaded(formulation.mpqp, { threads: 2, pool }).result;
+      expect(p.stats.complete).toBe(true);
+      expect(jobs.map((j) => j.worker).sort()).toEqual([0, 1]);
+      expect(jobs.map((j) => j.job).sort()).toEqual([0, 1]);
+      // when the first job ended, both had been handed out
+      expect(doneAt[0]).toBe(2);
+      // and the table is the single thread's, byte for byte (that one agrees with quadprog, above)
+      const bytes = tableToJson(makeTable(loaded, formulation, joinPartitions(formulation.mpqp, [p])));
+      expect(bytes === tableToJson(table)).toBe(true);
+    } finally {
+      await pool.terminate();
+    }
+  }, 300_000);
+});
+
 describe('canonical neighbours computed in shares (threads)', () => {
   // the neighbour lists of 2 or 3 shares merged are those computed at once: every pair of facets is
   // tested in exactly one cluster, whichever share does it (an invariance check; the lists' own

@@ -122,6 +122,131 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     expect(general.length).toBe(got.count);
   });
 
+  it('line ends LF, CR LF, a last line without one or ending in CR, and cells that end early: as Number reads them', () => {
+    // reference: the literal reading above (lines at \r?\n, trimmed, Number per cell); a file the
+    // literal reading refuses must be refused with parsePointsCsv's message
+    const rnd = rng(977);
+    const names = ['a', 'b'];
+    const tails = ['', ' ', '\r', 'x', '.', 'e', 'e5x', '\r5', '0000001', 'e0000001', 'e+0000001'];
+    let good = 0;
+    let refused = 0;
+    for (let f = 0; f < 400; f++) {
+      const lines: string[] = [];
+      for (let k = 0; k < 6; k++) {
+        const a = cellText(rnd);
+        let b = cellText(rnd);
+        if (rnd() < 0.3) b += tails[Math.floor(rnd() * tails.length)];
+        if (rnd() < 0.2) b = (rnd() * 1e3).toPrecision(16 + Math.floor(rnd() * 3)) + tails[Math.floor(rnd() * tails.length)];
+        lines.push(`${a},${b}`);
+      }
+      let text = '';
+      lines.forEach((l, k) => (text += l + (k < lines.length - 1 ? (rnd() < 0.5 ? '\n' : '\r\n') : ['', '\n', '\r\n', '\r'][Math.floor(rnd() * 4)])));
+      let expected = '';
+      let ref: { cells: string[]; values: number[] }[] = [];
+      try {
+        parsePointsCsv(text, 'p.csv', names);
+        ref = literalRead(text);
+      } catch (e) {
+        expected = (e as Error).message;
+      }
+      let got = '';
+      let flat: ReturnType<typeof parsePointsFlat> | null = null;
+      try {
+        flat = parsePointsFlat(text, 'p.csv', names);
+      } catch (e) {
+        got = (e as Error).message;
+      }
+      expect(got, JSON.stringify(text)).toBe(expected);
+      if (expected) {
+        refused++;
+        continue;
+      }
+      good++;
+      expect(flat!.count).toBe(ref.length);
+      const bytes = new TextEncoder().encode(text);
+      ref.forEach((r, k) =>
+        r.values.forEach((v, j) => {
+          expect(Object.is(flat!.values[2 * k + j], v), `${JSON.stringify(text)} line ${k + 1}`).toBe(true);
+          if (flat!.from[2 * k + j] >= 0) expect(new TextDecoder().decode(bytes.subarray(flat!.from[2 * k + j], flat!.to[2 * k + j]))).toBe(String(v));
+        }),
+      );
+    }
+    expect(good).toBeGreaterThan(20);
+    expect(refused).toBeGreaterThan(20);
+  });
+
+  it('16 to 19 significant digits, near and at the midpoints between doubles: the double Number reads', () => {
+    // reference: ECMAScript's StringToNumber (`Number(cell)`, correctly rounded, ties to even); the
+    // midpoints are computed exactly with BigInt (a double is m·2^e; the midpoint of two neighbours
+    // written in decimal), then cut to 16–19 digits and nudged by −1, 0, +1 in the last digit
+    const rnd = rng(8128);
+    const f64 = new Float64Array(1);
+    const u64 = new BigUint64Array(f64.buffer);
+    /** x > 0 finite as D·10^E exactly (D a digit string) */
+    const exact = (x: number): [bigint, number] => {
+      f64[0] = x;
+      const b = u64[0];
+      const e = Number((b >> 52n) & 0x7ffn);
+      let m = b & ((1n << 52n) - 1n);
+      if (e) m |= 1n << 52n;
+      const ex = (e || 1) - 1075;
+      return ex >= 0 ? [m << BigInt(ex), 0] : [m * 5n ** BigInt(-ex), ex];
+    };
+    const midpoint = (x: number): string => {
+      f64[0] = x;
+      u64[0] += 1n;
+      const [dx, ex] = exact(x);
+      const [dy, ey] = exact(f64[0]);
+      const E = Math.min(ex, ey) - 1;
+      return String((dx * 10n ** BigInt(ex - E) + dy * 10n ** BigInt(ey - E)) / 2n) + `e${E}`;
+    };
+    const digits = (k: number): string => {
+      let t = String(1 + Math.floor(rnd() * 9));
+      for (let i = 1; i < k; i++) t += Math.floor(rnd() * 10);
+      return t;
+    };
+    const cells: string[] = [];
+    let midpoints = 0;
+    for (let i = 0; i < 60000; i++) {
+      const k = 16 + Math.floor(rnd() * 4);
+      const sign = rnd() < 0.3 ? '-' : '';
+      switch (i % 4) {
+        case 0: {
+          const d = digits(k);
+          const pt = Math.floor(rnd() * (k + 1));
+          cells.push(`${sign}${d.slice(0, pt) || '0'}.${d.slice(pt)}`);
+          break;
+        }
+        case 1:
+          cells.push(`${sign}${digits(k)}e${Math.floor(rnd() * 44) - 22 - (k - 1) + Math.floor(rnd() * 8)}`);
+          break;
+        case 2:
+          cells.push(sign + (rnd() * 10 ** (Math.floor(rnd() * 24) - 8)).toPrecision(k));
+          break;
+        default: {
+          // a midpoint written with all its digits (exact: a tie), and cut to k digits ± 1 in the last
+          const x = 10 ** (Math.floor(rnd() * 24) - 8) * (1 + rnd());
+          const [d, e] = midpoint(x).split('e');
+          if (d.length <= 19) {
+            cells.push(`${d}e${e}`);
+            midpoints++;
+          }
+          const head = BigInt(d.slice(0, k)) + BigInt(Math.floor(rnd() * 3) - 1);
+          cells.push(`${sign}${head}e${Number(e) + d.length - k}`);
+        }
+      }
+    }
+    const got = parsePointsFlat(cells.join('\n') + '\n', 'p.csv', ['a']);
+    expect(got.count).toBe(cells.length);
+    let wrong = 0;
+    cells.forEach((c, i) => {
+      if (!Object.is(got.values[i], Number(c))) wrong++;
+      expect(Object.is(got.values[i], Number(c)), c).toBe(true);
+    });
+    expect(wrong).toBe(0);
+    expect(midpoints).toBeGreaterThan(100);
+  });
+
   it('refuses what the general reading refuses, with the same message', () => {
     const names = ['a', 'b'];
     const cases = ['1,2\n3', '1,2\n1,2,3', '1,x', '1,', '1,-', '1,1e', '1,Infinity', '1,1e999', '1,.', '1,0x', 'a,b\n1,,2', 'a,c\n1,2'];
@@ -365,6 +490,52 @@ describe('the formatting of tessera evaluate against String and the literal rule
         expect(r.status).toBe(0);
         const { inRegion } = checkCsvLiterally(table, r.stdout, thetas, clamp);
         expect(inRegion).toBeGreaterThan(1000);
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('--times through the CLI: same output, one stderr line whose stages add up to its total, within the wall clock measured outside', async () => {
+    // reference (common practice): stages that partition a run add up to its total, and the child's
+    // own total is no longer than the parent's clock around the whole child process
+    const { table } = solved(join(root, 'examples', 'positioning-axis.yaml'));
+    const dir = mkdtempSync(join(tmpdir(), 'tessera-times-'));
+    try {
+      const tablePath = join(dir, 't.json');
+      const { tableToJson } = await import('../../src/table/table.js');
+      writeFileSync(tablePath, tableToJson(table));
+      const rnd = rng(5150);
+      const n = table.dims.ntheta;
+      const rows = Array.from({ length: 3000 }, () => Array.from({ length: n }, (_, j) => String(Number((table.box.lower[j] + rnd() * (table.box.upper[j] - table.box.lower[j])).toPrecision(6)))).join(','));
+      writeFileSync(join(dir, 'p.csv'), rows.join('\n') + '\n');
+      const at = table.box.lower.map((v, j) => String((v + table.box.upper[j]) / 2)).join(',');
+      for (const json of [false, true]) {
+        const args = ['evaluate', tablePath, '--points', join(dir, 'p.csv'), '--at', at, '-q', ...(json ? ['--json'] : [])];
+        const plain = await runCli(args);
+        const t0 = performance.now();
+        const timed = await runCli([...args, '--times']);
+        const outside = (performance.now() - t0) / 1000;
+        expect(plain.status).toBe(0);
+        expect(timed.status).toBe(0);
+        expect(timed.stdout).toBe(plain.stdout);
+        expect(plain.stderr).toBe('');
+        const m = /^tessera: times \(wall\/CPU seconds\): (.*); total ([\d.]+)\/([\d.]+) for (\d+) points = ([\d.]+) M points\/s wall \(([\d.]+) M per CPU second\)\n$/.exec(timed.stderr);
+        expect(m, timed.stderr).not.toBeNull();
+        const stages = m![1].split(', ').map((s) => /^([a-z-]+) ([\d.]+)\/([\d.]+)$/.exec(s)!);
+        const names = stages.map((s) => s[1]);
+        expect(names).toEqual(json ? ['start-up', 'table', 'points', 'evaluate', 'write'] : ['start-up', 'table', 'points', 'index', 'locate', 'law', 'format', 'write']);
+        const wall = Number(m![2]);
+        const cpuTotal = Number(m![3]);
+        expect(Number(m![4])).toBe(3001);
+        // each stage printed to 0.01 s: the sum within half a hundredth per stage (and the line's own few ms)
+        const sumWall = stages.reduce((a, s) => a + Number(s[2]), 0);
+        const sumCpu = stages.reduce((a, s) => a + Number(s[3]), 0);
+        expect(Math.abs(sumWall - wall)).toBeLessThanOrEqual(0.005 * stages.length + 0.02);
+        expect(Math.abs(sumCpu - cpuTotal)).toBeLessThanOrEqual(0.005 * stages.length + 0.02);
+        expect(wall).toBeLessThanOrEqual(outside + 0.01);
+        expect(wall).toBeGreaterThan(0);
+        expect(Number(m![5])).toBeCloseTo(3001 / wall / 1e6, 2);
       }
     } finally {
       rmSync(dir, { recursive: true, force: true });

@@ -19,9 +19,9 @@
  */
 import { execFileSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { emitC, loadProblem, parseProblem, readTableFile, solveProblem, tableProblem, writeFileAtomic, writeTableFile } from '../../src/index.js';
 import type { LoadedProblem, TableFile } from '../../src/index.js';
@@ -138,26 +138,33 @@ function timed<T>(stage: string, f: () => T): T {
 
 /**
  * Solved tables are cached between runs of this bench (os.tmpdir()/tessera-bench-tables), keyed by
- * the problem, the solve options and the text of every source file a table depends on (all of src/
- * but emit, check, cli and plot): a change of the solver re-solves, a change of the location code
- * does not. TESSERA_BENCH_FRESH=1 ignores the cache. The bench prints which tables came from it.
+ * the problem, the solve options and the text of every source file the solve can run: the files
+ * reached from src/table/solve.ts and src/table/file.ts (the table's reader and writer) through their
+ * relative imports and the worker files they start (`new URL('./….ts', import.meta.url)`). A change
+ * of the solver re-solves; a change of the location code (emit, the search trees in src/partition)
+ * does not — the key used to cover all of src/ but emit, check, cli and plot, so a change of the tree
+ * builder re-solved every table (127 s of a 1 077 s run, loaded). TESSERA_BENCH_FRESH=1 ignores the
+ * cache. The bench prints which tables came from it.
  */
 const CACHE_DIR = join(tmpdir(), 'tessera-bench-tables');
 let sourceKey: string | null = null;
+/** The source files reached from `roots` through relative imports and worker URLs, sorted. */
+export function solverSources(roots: string[]): string[] {
+  const seen = new Set<string>();
+  const visit = (file: string): void => {
+    if (seen.has(file) || !existsSync(file)) return;
+    seen.add(file);
+    const text = readFileSync(file, 'utf8');
+    for (const m of text.matchAll(/(?:\bfrom\s+|\bimport\s*\(\s*|new URL\(\s*)'(\.{1,2}\/[^']+)'/g)) visit(join(dirname(file), m[1].replace(/\.js$/, '.ts')));
+  };
+  roots.forEach(visit);
+  return [...seen].sort();
+}
 function solverSourceKey(): string {
   if (sourceKey) return sourceKey;
   const h = createHash('sha256');
   const src = join(import.meta.dirname, '../../src');
-  const walk = (d: string): void => {
-    for (const f of readdirSync(d).sort()) {
-      const p = join(d, f);
-      if (statSync(p).isDirectory()) {
-        if (d === src && ['emit', 'check', 'cli', 'plot'].includes(f)) continue;
-        walk(p);
-      } else if (f.endsWith('.ts')) h.update(p.slice(src.length)).update(readFileSync(p));
-    }
-  };
-  walk(src);
+  for (const p of solverSources([join(src, 'table/solve.ts'), join(src, 'table/file.ts')])) h.update(p.slice(src.length)).update(readFileSync(p));
   return (sourceKey = h.digest('hex'));
 }
 function cachedSolve(loaded: LoadedProblem, problem: unknown, timeLimit: number): { table: TableFile; mpqp: MpqpProblem; seconds: number; cached: boolean } {

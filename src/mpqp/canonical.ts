@@ -395,7 +395,10 @@ export function canonicalNeighbours(
           seen[r] = 1;
           met++;
         }
-    if (options.certificates === true || np >= 6 * met) pairs = new FacetPairs(regions, boxes, nt, minPiece);
+    // below that, only the accept at points from the regions' Chebyshev centres (no vertices: it
+    // costs a fraction of the pair's frame and LP, and most pairs met there are neighbours)
+    const vertices = options.certificates === true || np >= 6 * met;
+    pairs = new FacetPairs(regions, boxes, nt, minPiece, { vertices });
   }
   // pass 2: each pair decided (a certificate, else the LP; list[i]'s frame built once per cluster)
   let frames = new Map<number, ReturnType<typeof slicePolytope>>();

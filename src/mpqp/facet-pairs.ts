@@ -45,21 +45,23 @@ import type { PairCounts } from './types.js';
 
 export type { PairCounts };
 
-/** A region as the pair test reads it: unit rows A θ ≤ b. */
+/** A region as the pair test reads it: unit rows A θ ≤ b, and (when known) a point inside it, its Chebyshev centre. */
 export interface PairRegion {
   A: number[][];
   b: number[];
+  chebyshev?: { center: ArrayLike<number> };
 }
 
 /** Zero counters. */
 export function zeroPairCounts(): PairCounts {
-  return { tests: 0, accepted: 0, rejected: 0, boxes: 0, parallel: 0, lps: 0 };
+  return { tests: 0, accepted: 0, centred: 0, rejected: 0, boxes: 0, parallel: 0, lps: 0 };
 }
 
 /** Add the pair counters of `b` into `a` (other fields of either are left alone). */
 export function addPairCounts(a: PairCounts, b: PairCounts): void {
   a.tests += b.tests;
   a.accepted += b.accepted;
+  a.centred += b.centred;
   a.rejected += b.rejected;
   a.boxes += b.boxes;
   a.parallel += b.parallel;
@@ -147,13 +149,17 @@ export class FacetPairs {
   private partE = 0;
   /** counters of every decision so far */
   readonly counts: PairCounts = zeroPairCounts();
+  /** false: no vertex lists (no slab or box rejects, no vertex-mean accepts): only the accept at points from the Chebyshev centres */
+  private readonly withVertices: boolean;
 
   constructor(
     private readonly regions: readonly PairRegion[],
     private readonly boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
     n: number,
     private readonly minPiece: number,
+    options: { vertices?: boolean } = {},
   ) {
+    this.withVertices = options.vertices ?? true;
     this.n = n;
     this.data = new Array(regions.length);
     this.scratch = prefilterScratch(n);
@@ -191,6 +197,11 @@ export class FacetPairs {
     }
     if (state === 'ok' && ((hasR && this.inside(DR, f, a, beta, DR, DS)) || (hasS && this.inside(DS, g, a, beta, DR, DS)))) {
       this.counts.accepted++;
+      return 1;
+    }
+    if (state === 'ok' && this.centred(r, s, a, beta, DR, DS)) {
+      this.counts.accepted++;
+      this.counts.centred++;
       return 1;
     }
     if (!rejectFirst && this.reject(DR, hasR, f, DS, hasS, g, a, beta)) return 0;
@@ -251,8 +262,10 @@ export class FacetPairs {
       fArg: new Int32Array(0),
       fPar: new Int8Array(m).fill(-1),
     };
-    this.vertices(d);
-    if (d.X) this.facets(d);
+    if (this.withVertices) {
+      this.vertices(d);
+      if (d.X) this.facets(d);
+    }
     this.data[r] = d;
     return d;
   }
@@ -552,6 +565,47 @@ export class FacetPairs {
     for (let j = 0; j < n; j++) p[j] = d.fNum[o + j] - off * a[j];
     const deep = this.minPiece + 1e-9;
     return this.clearance(DR, this.nR, p, deep) > deep && this.clearance(DS, this.nS, p, deep) > deep;
+  }
+
+  /**
+   * Whether a point found from the Chebyshev centres c_R, c_S of the two regions (one on each
+   * side of H, each strictly inside its region) is deeper than minPiece + 1e-9 inside every row of
+   * O: the point where the segment c_R → c_S crosses H, then each centre projected onto H (each
+   * moved onto H). Where the points come from does not matter: the clearance test alone is the
+   * proof (as for `inside`), so a stored centre that is off can only make it fail.
+   */
+  private centred(r: number, s: number, a: Float64Array, beta: number, DR: RegionData, DS: RegionData): boolean {
+    const cR = this.regions[r].chebyshev?.center;
+    const cS = this.regions[s].chebyshev?.center;
+    const n = this.n;
+    const p = this.p;
+    const deep = this.minPiece + 1e-9;
+    const test = (): boolean => {
+      let off = -beta;
+      for (let j = 0; j < n; j++) off += a[j] * p[j];
+      for (let j = 0; j < n; j++) p[j] -= off * a[j];
+      for (let j = 0; j < n; j++) if (!Number.isFinite(p[j])) return false;
+      return this.clearance(DR, this.nR, p, deep) > deep && this.clearance(DS, this.nS, p, deep) > deep;
+    };
+    if (cR && cS) {
+      let sR = -beta;
+      let sS = -beta;
+      for (let j = 0; j < n; j++) {
+        sR += a[j] * cR[j];
+        sS += a[j] * cS[j];
+      }
+      if (sR < 0 && sS > 0) {
+        const t = -sR / (sS - sR);
+        for (let j = 0; j < n; j++) p[j] = cR[j] + t * (cS[j] - cR[j]);
+        if (test()) return true;
+      }
+    }
+    for (const c of [cR, cS]) {
+      if (!c) continue;
+      for (let j = 0; j < n; j++) p[j] = c[j];
+      if (test()) return true;
+    }
+    return false;
   }
 
   /** Least distance from p (on H) to d's rows of O (projected lengths `len`), or some distance ≤ `enough` once one is. */

@@ -149,6 +149,8 @@ export interface PairCounts {
   tests: number;
   /** decided by an interior point (neighbours) */
   accepted: number;
+  /** of the accepted, those proved at a point found from the two regions' Chebyshev centres */
+  centred: number;
   /** decided by a weak-duality slab of one row (not neighbours) */
   rejected: number;
   /** decided by the facets' proved boxes (not neighbours) */

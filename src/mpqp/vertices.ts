@@ -352,6 +352,22 @@ export function vertexPass(
       vertexBox();
     }
   }
+  // box sides the region reaches: a ray aimed at the mean of the vertices on the side; when the side
+  // is the first row hit and every other row keeps witnessMargin slack there, the same witness as
+  // above proves that the side's LP keeps it (a box facet, otherwise one LP per region and side)
+  for (let q = boxRow; q < m; q++) {
+    if (sure[q] || !alive[q]) continue;
+    let k = 0;
+    d.fill(0);
+    for (let v = 0; v < V.x.length; v++) {
+      if (!V.tight[v].includes(q)) continue;
+      k++;
+      for (let j = 0; j < n; j++) d[j] += V.x[v][j];
+    }
+    if (k < n) continue; // fewer than n vertices: not a facet of the vertices' polytope
+    for (let j = 0; j < n; j++) d[j] = d[j] / k - center[j];
+    if (firstHitWitness(A, m, n, slack, d) === q) sure[q] = 1;
+  }
   const bound = (c: ArrayLike<number>, W: ArrayLike<number>): number => farkasBound(c, A, b, W, n, lo, up, scratch);
   // box sides first: rows the proven box keeps (the builder's own box test) need no certificate
   const e = new Float64Array(n);

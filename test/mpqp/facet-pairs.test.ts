@@ -147,7 +147,7 @@ describe('FacetPairs.decide on hand-made polytopes (rotated boxes, known overlap
  * points; rows: the planes with their signs and the box sides, redundant rows removed by
  * javascript-lp-solver), as regions with their LP bounding boxes.
  */
-function arrangement(seed: number, n: number, k: number, samples: number): { regions: Region[]; boxes: { lo: number[]; hi: number[] }[] } {
+function arrangement(seed: number, n: number, k: number, samples: number): { regions: Region[]; boxes: { lo: number[]; hi: number[] }[]; means: number[][] } {
   const r = rng(seed);
   const planes = Array.from({ length: k }, () => {
     const a = Array.from({ length: n }, () => 2 * r() - 1);
@@ -157,12 +157,22 @@ function arrangement(seed: number, n: number, k: number, samples: number): { reg
     return { a: u, b: u.reduce((s, x, j) => s + x * p[j], 0) };
   });
   const signs = new Set<string>();
+  // the mean of the samples in each cell: a point inside it (the cells are convex)
+  const sums = new Map<string, { x: number[]; count: number }>();
   for (let s = 0; s < samples; s++) {
     const x = Array.from({ length: n }, () => r());
-    signs.add(planes.map((P) => (P.a.reduce((t, v, j) => t + v * x[j], 0) <= P.b ? '+' : '-')).join(''));
+    const key = planes.map((P) => (P.a.reduce((t, v, j) => t + v * x[j], 0) <= P.b ? '+' : '-')).join('');
+    signs.add(key);
+    const sum = sums.get(key) ?? { x: new Array<number>(n).fill(0), count: 0 };
+    x.forEach((v, j) => (sum.x[j] += v));
+    sum.count++;
+    sums.set(key, sum);
   }
   const regions: Region[] = [];
+  const means: number[][] = [];
   for (const key of [...signs].sort()) {
+    const sum = sums.get(key)!;
+    means.push(sum.x.map((v) => v / sum.count));
     const A: number[][] = [];
     const b: number[] = [];
     const kinds: ('primal' | 'box')[] = [];
@@ -202,7 +212,7 @@ function arrangement(seed: number, n: number, k: number, samples: number): { reg
     const region: Region = { A: keep.map((i) => A[i]), b: keep.map((i) => b[i]), facets: keep.map((i) => ({ kind: kinds[i], row: i, neighbours: [] })) };
     regions.push(region);
   }
-  return { regions, boxes: regions.map((R) => lpBox(R, n)) };
+  return { regions, boxes: regions.map((R) => lpBox(R, n)), means };
 }
 
 const unitProblem = (n: number): MpqpProblem => ({ ntheta: n, box: { lower: new Array(n).fill(0), upper: new Array(n).fill(1) } }) as unknown as MpqpProblem;
@@ -275,4 +285,111 @@ describe('the neighbours step under a stop', () => {
     expect(whole.stats.neighboursCut).toBeUndefined();
     expect(whole.neighbourWork?.clustersDone).toBe(whole.neighbourWork?.clusters);
   }, 120_000);
+});
+
+describe('the accept from the Chebyshev centres (FacetPairs without vertex lists) against javascript-lp-solver', () => {
+  // With few pair tests per region the neighbours step builds no vertex lists; a pair is then
+  // accepted when a point found from the two regions' centres (where the segment between them
+  // crosses the hyperplane, or either centre projected onto it) lies deeper than minPiece + 1e-9
+  // inside every projected row of both facets, and otherwise left to the LP. The centres only
+  // choose the point: centres that are off (on a facet, outside the region, random) may make the
+  // test fail, never accept a pair whose overlap radius (javascript-lp-solver) is ≤ minPiece.
+  for (const n of [3, 4, 5]) {
+    it(`${n}-D rotated boxes: the shared facet and half of it are accepted, slivers and touching faces never`, () => {
+      const r = rng(31 + n);
+      const Q = rotation(r, n);
+      const shift = Array.from({ length: n }, () => 2 * r() - 1);
+      const at = (x: number[]) => Q.map((row, i) => row.reduce((t, q, j) => t + q * x[j], shift[i]));
+      const R = { ...rotatedBox(Q, new Array(n).fill(0), [0.5, ...new Array(n - 1).fill(1)], shift), chebyshev: { center: at([0.25, ...new Array(n - 1).fill(0.5)]) } };
+      const cases: { lo: number[]; hi: number[]; neighbours: boolean }[] = [
+        { lo: [0.5, ...new Array(n - 1).fill(0)], hi: [1, ...new Array(n - 1).fill(1)], neighbours: true },
+        { lo: [0.5, 0.4, ...new Array(n - 2).fill(0)], hi: [1, ...new Array(n - 1).fill(1)], neighbours: true },
+        { lo: [0.5, 1 - 4e-7, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+        { lo: [0.5, 1 - 1.6e-6, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+        { lo: [0.5, 1, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+      ];
+      cases.forEach((c, i) => {
+        const mid = c.lo.map((l, j) => 0.5 * (l + c.hi[j]));
+        const S = { ...rotatedBox(Q, c.lo, c.hi, shift), chebyshev: { center: at(mid) } };
+        const regions = [R, S];
+        const pairs = new FacetPairs(regions, regions.map((X) => lpBox(X, n)), n, minPiece, { vertices: false });
+        const answer = pairs.decide(0, 0, 1, 1);
+        const radius = lpOverlap(R, 0, S, 1);
+        expect(radius > minPiece, `case ${i}`).toBe(c.neighbours);
+        if (answer === 1) expect(radius, `case ${i} accepted`).toBeGreaterThan(minPiece);
+        if (i < 2) expect(answer, `case ${i}: an overlap this wide is accepted without an LP`).toBe(1);
+        if (answer === 1) expect(pairs.counts.centred).toBe(1);
+      });
+    });
+  }
+  for (const [n, k, seed] of [
+    [3, 6, 11],
+    [4, 6, 12],
+    [5, 5, 13],
+  ] as const)
+    it(`${n}-D, ${k} random planes (seed ${seed}): every accept, from true, off or random centres, has reference radius > minPiece`, () => {
+      const { regions, boxes, means } = arrangement(seed, n, k, 6000);
+      const r = rng(seed + 100);
+      const reference = new Map<string, number>();
+      const radiusOf = (i: number, f: number, s: number, g: number): number => {
+        const key = `${i},${f},${s},${g}`;
+        if (!reference.has(key)) reference.set(key, lpOverlap(regions[i], f, regions[s], g));
+        return reference.get(key)!;
+      };
+      // the centres: sample means (inside), points on a facet of the region (the mean pushed onto
+      // its first non-box facet), and random points of the box (mostly outside the region)
+      const onFacet = means.map((c, i) => {
+        const R = regions[i];
+        const f = R.facets.findIndex((x) => x.kind !== 'box');
+        const a = R.A[f];
+        const off = a.reduce((t, v, j) => t + v * c[j], -R.b[f]);
+        return c.map((v, j) => v - off * a[j]);
+      });
+      const random = means.map(() => Array.from({ length: n }, () => r()));
+      let accepted = 0;
+      let neighbours = 0;
+      for (const [label, centres] of [
+        ['sample means', means],
+        ['on a facet', onFacet],
+        ['random', random],
+      ] as const) {
+        const withCentres = regions.map((R, i) => ({ ...R, chebyshev: { center: centres[i] } }));
+        const pairs = new FacetPairs(withCentres, boxes, n, minPiece, { vertices: false });
+        regions.forEach((R, i) =>
+          R.facets.forEach((fi, f) => {
+            if (fi.kind === 'box') return;
+            regions.forEach((S, s) => {
+              if (s === i) return;
+              S.facets.forEach((gi, g) => {
+                if (gi.kind !== 'primal' || gi.row !== fi.row) return;
+                const answer = pairs.decide(i, f, s, g);
+                expect(answer, `${label}: no vertex lists, no reject`).not.toBe(0);
+                const radius = radiusOf(i, f, s, g);
+                if (label === 'sample means' && radius > minPiece) neighbours++;
+                if (answer === 1) {
+                  expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} accepted`).toBeGreaterThan(minPiece);
+                  if (label === 'sample means') accepted++;
+                }
+              });
+            });
+          }),
+        );
+        expect(pairs.counts.accepted).toBe(pairs.counts.centred);
+      }
+      // most neighbour pairs are accepted from the true centres (else the test proves little)
+      expect(neighbours).toBeGreaterThan(10);
+      expect(accepted).toBeGreaterThan(0.5 * neighbours);
+      // and the neighbours step gives the reference lists whichever way it decides
+      const lists = canonicalNeighbours(unitProblem(n), regions.map((R, i) => ({ ...R, chebyshev: { center: means[i] } })) as unknown as CriticalRegion[], boxes, { lps: 0, reference: false });
+      regions.forEach((R, i) =>
+        R.facets.forEach((fi, f) => {
+          if (fi.kind === 'box') return;
+          const expected: number[] = [];
+          regions.forEach((S, s) => {
+            if (s !== i) S.facets.forEach((gi, g) => gi.kind === 'primal' && gi.row === fi.row && radiusOf(i, f, s, g) > minPiece && expected.push(s));
+          });
+          expect(lists[i][f]).toEqual(expected);
+        }),
+      );
+    }, 120_000);
 });

@@ -237,3 +237,95 @@ describe('vertexBound (weak duality at a vertex, common practice) on the unit sq
     expect(vertexBound(F([1, -1]), Int32Array.from([0, 2, 4]), 2, bound)).toBe(Infinity);
   });
 });
+
+/**
+ * A random region in n-D that reaches the box: rows with θ = 0 strictly inside, then the box sides
+ * (row m0 + 2j: θ_j ≤ hi_j, m0 + 2j + 1: −θ_j ≤ −lo_j) close enough that most of them cut the
+ * region. With `touch`, one extra pair of rows makes the region meet the side θ_0 ≤ hi_0 at a point
+ * or along an edge only (a wedge whose apex lies on the side): that side is *not* a facet.
+ */
+function boxedRegion(r: () => number, n: number, touch: 'none' | 'point' | 'edge'): { A: Float64Array; b: Float64Array; m: number; lo: Float64Array; hi: Float64Array } {
+  const rows: number[][] = [];
+  const rhs: number[] = [];
+  for (let i = 0; i < 2 * n + 4; i++) {
+    const a = Array.from({ length: n }, () => 2 * r() - 1);
+    const nn = Math.hypot(...a);
+    rows.push(a.map((v) => v / nn));
+    rhs.push(0.4 + 0.8 * r());
+  }
+  const lo = Float64Array.from({ length: n }, () => -0.3 - 0.4 * r());
+  const hi = Float64Array.from({ length: n }, () => 0.3 + 0.4 * r());
+  if (touch !== 'none') {
+    // planes through the point (hi_0, 0, …) (or the line {θ_0 = hi_0, θ_2.. = 0} for 'edge') that
+    // keep θ = 0 inside: −θ_0·s + θ_1·c ≤ −hi_0·s and −θ_0·s − θ_1·c ≤ −hi_0·s tilt away from the side
+    const s = 0.6;
+    const c = 0.8;
+    const fix = (a: number[]): number[] => a;
+    const base = (sign: number, k: number): number[] => fix(Array.from({ length: n }, (_, j) => (j === 0 ? s : j === k ? sign * c : 0)));
+    // s·θ_0 ± c·θ_k ≤ s·hi_0: both hold at θ_0 = hi_0 only where θ_k = 0
+    const ks = touch === 'point' ? Array.from({ length: n - 1 }, (_, q) => q + 1) : [1];
+    for (const k of ks)
+      for (const sign of [1, -1]) {
+        rows.push(base(sign, k));
+        rhs.push(s * hi[0]);
+      }
+  }
+  const m0 = rows.length;
+  const m = m0 + 2 * n;
+  const A = new Float64Array(m * n);
+  const b = new Float64Array(m);
+  rows.forEach((row, i) => {
+    row.forEach((t, j) => (A[i * n + j] = t));
+    b[i] = rhs[i];
+  });
+  for (let j = 0; j < n; j++) {
+    const k = m0 + 2 * j;
+    A[k * n + j] = 1;
+    b[k] = hi[j];
+    A[(k + 1) * n + j] = -1;
+    b[k + 1] = -lo[j];
+  }
+  return { A, b, m, lo, hi };
+}
+
+describe('vertexPass: box sides made facets by a witness ray (javascript-lp-solver confirms each)', () => {
+  // A box side marked sure skips its redundancy LP in the builder, which would keep it: so the LP
+  // over every other row must break the side by more than the witness margin. Sides the region
+  // meets only at a point or along an edge (LP value = the side's bound) must never be marked.
+  it('random regions cut by the box, and wedges touching a side at a point or along an edge (3-D to 5-D)', () => {
+    const r = rng(8128);
+    const counts = { trials: 0, sides: 0, notFacets: 0, touched: 0 };
+    for (let trial = 0; trial < 120; trial++) {
+      const n = 3 + (trial % 3);
+      const touch = (['none', 'point', 'edge'] as const)[Math.floor(trial / 3) % 3];
+      const { A, b, m, lo, hi } = boxedRegion(r, n, touch);
+      const center = new Float64Array(n);
+      const slack = Float64Array.from(b);
+      const sure = new Uint8Array(m);
+      for (let k = 0; k < m - 2 * n; k++) {
+        const h = firstHitWitness(A, m, n, slack, A.subarray(k * n, (k + 1) * n));
+        if (h >= 0 && h < m - 2 * n) sure[h] = 1;
+      }
+      const alive = new Uint8Array(m).fill(1);
+      vertexPass(A, b, m, n, lo, hi, center, slack, sure, alive, new Uint8Array(2 * n), Float64Array.from(lo), Float64Array.from(hi), prefilterScratch(n), 1e-9);
+      counts.trials++;
+      for (let q = m - 2 * n; q < m; q++) {
+        const value = refMax(A.subarray(q * n, (q + 1) * n), A, b, m, n, q);
+        if (sure[q]) {
+          expect(value, `box row ${q} made a facet (trial ${trial}, ${touch})`).toBeGreaterThan(b[q] + 5e-8);
+          counts.sides++;
+        } else if (value <= b[q] + 1e-8) counts.notFacets++;
+      }
+      if (touch !== 'none') {
+        // the side θ_0 ≤ hi_0 is met in a point or an edge: not a facet, never marked
+        const q = m - 2 * n;
+        expect(refMax(A.subarray(q * n, (q + 1) * n), A, b, m, n, q)).toBeLessThanOrEqual(b[q] + 1e-8);
+        expect(sure[q], `trial ${trial}: a side touched along a ${touch} was marked a facet`).toBe(0);
+        counts.touched++;
+      }
+    }
+    console.log(`box-side witnesses on ${counts.trials} regions: ${counts.sides} sides made facets, ${counts.notFacets} sides not facets, ${counts.touched} touched at a point or edge; all confirmed by javascript-lp-solver`);
+    expect(counts.sides).toBeGreaterThan(counts.trials);
+    expect(counts.touched).toBeGreaterThan(50);
+  });
+});

@@ -52,8 +52,19 @@ const fail = (why: CoverFailure): 'fail' => {
 };
 
 const RANK_TOL = 1e-9;
-/** scratch of clipPiece (single-threaded per isolate) */
-let mark = new Int32Array(64);
+/** scratch of clipPiece (single-threaded per isolate): tight-row bit masks of the vertices beyond the plane, and of one vertex inside */
+let masks = new Int32Array(256);
+let mask = new Int32Array(8);
+
+/** Set bits of a 32-bit integer (SWAR count, common practice). */
+function popCount(x: number): number {
+  x = x - ((x >>> 1) & 0x55555555);
+  x = (x & 0x33333333) + ((x >>> 2) & 0x33333333);
+  x = (x + (x >>> 4)) & 0x0f0f0f0f;
+  return Math.imul(x, 0x01010101) >>> 24;
+}
+
+
 /** scratch of rankAtLeast: an orthonormal basis, row by row */
 let basisScratch = new Float64Array(64);
 /** scratch of clipPiece: each vertex's residual on the cutting row */
@@ -102,9 +113,10 @@ function common(x: readonly number[], y: readonly number[]): number[] {
 /**
  * The piece P ∩ {a·y ≤ t} (a = a[off .. off + dim), unit length): P itself when every vertex satisfies the row within
  * eps (the row is then not added), null when the cut leaves nothing full-dimensional (every vertex
- * on or beyond the plane), or 'fail' when the vertex list fails a check. New arrays; P untouched.
+ * on or beyond the plane), or 'fail' when the vertex list fails a check. New arrays; P untouched,
+ * except with `reuse` (P is the caller's to drop): then the new piece's rows are P's arrays, extended.
  */
-export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true, off = 0): CoverPiece | null | 'fail' {
+export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true, off = 0, reuse = false): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
   const nv = P.verts.length;
   if (sScratch.length < nv) sScratch = new Float64Array(2 * nv);
@@ -122,11 +134,28 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
   if (!anyOut) return P;
   if (!anyIn) return null;
   const k = P.m; // index of the new row
-  // plain arrays: typed-array allocation dominated this function (rows and vertices are small)
-  const A = P.A.slice();
-  for (let j = 0; j < dim; j++) A.push(a[off + j]);
-  const b = P.b.slice();
-  b.push(t);
+  // plain arrays: typed-array allocation dominated this function (rows and vertices are small);
+  // copied at their final length (a copy then a push allocated twice), or, when the caller drops
+  // P (`reuse`: a piece private to a chain of cuts), P's own arrays with the row appended
+  let A: number[];
+  let b: number[];
+  // tidy: the rows are read (rank checks) and copied by `finish`, never kept, so P's arrays lend
+  // them: the row is appended for the call and taken off again before returning (P as it was)
+  const lend = tidy && !reuse;
+  if (reuse || lend) {
+    A = P.A;
+    b = P.b;
+    for (let j = 0; j < dim; j++) A.push(a[off + j]);
+    b.push(t);
+  } else {
+    const nA = P.m * dim;
+    A = new Array<number>(nA + dim);
+    for (let q = 0; q < nA; q++) A[q] = P.A[q];
+    for (let j = 0; j < dim; j++) A[nA + j] = a[off + j];
+    b = new Array<number>(k + 1);
+    for (let q = 0; q < k; q++) b[q] = P.b[q];
+    b[k] = t;
+  }
   const verts: number[][] = [];
   const tight: number[][] = [];
   for (let v = 0; v < nv; v++) {
@@ -134,18 +163,27 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
     verts.push(P.verts[v]);
     tight.push(s[v] >= -eps ? [...P.tight[v], k] : P.tight[v]);
   }
-  // rows tight at u marked in `mark` (stamp u + 1): counting the rows shared with w needs no list
-  if (mark.length < P.m) mark = new Int32Array(2 * P.m);
-  mark.fill(0, 0, P.m);
+  // the rows tight at each vertex beyond the plane as a bit mask (`words` 32-bit words each): the
+  // rows an inside vertex u shares with w are counted by AND and a population count, not by lists
+  const words = (P.m + 31) >>> 5;
+  if (masks.length < nv * words) masks = new Int32Array(2 * nv * words);
+  if (mask.length < words) mask = new Int32Array(2 * words);
+  for (let w = 0; w < nv; w++) {
+    if (s[w] <= eps) continue;
+    const o = w * words;
+    masks.fill(0, o, o + words);
+    for (const i of P.tight[w]) masks[o + (i >>> 5)] |= 1 << (i & 31);
+  }
   for (let u = 0; u < nv; u++) {
     if (s[u] >= -eps) continue;
     const tu = P.tight[u];
     if (tu.length < dim - 1) continue;
-    for (const i of tu) mark[i] = u + 1;
+    mask.fill(0, 0, words);
+    for (const i of tu) mask[i >>> 5] |= 1 << (i & 31);
     for (let w = 0; w < nv; w++) {
       if (s[w] <= eps) continue;
       let shared = 0;
-      for (const i of P.tight[w]) if (mark[i] === u + 1) shared++;
+      for (let q = 0, o = w * words; q < words; q++) shared += popCount(mask[q] & masks[o + q]);
       if (shared < dim - 1) continue;
       const c = common(tu, P.tight[w]);
       if (!rankAtLeast(A, c, dim, dim - 1)) continue;
@@ -166,11 +204,22 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
       }
       verts.push(x);
       tight.push(c);
-      if (verts.length > ctx.maxVerts) return fail('verts');
+      if (verts.length > ctx.maxVerts) {
+        if (lend) giveBack(P, dim);
+        return fail('verts');
+      }
     }
   }
   if (!tidy) return verts.length > dim ? { A, b, m: P.m + 1, verts, tight, widthBound: Infinity } : null;
-  return finish(A, b, P.m + 1, verts, tight, ctx);
+  const out = finish(A, b, P.m + 1, verts, tight, ctx);
+  if (lend) giveBack(P, dim);
+  return out;
+}
+
+/** Take the row lent by `clipPiece` off P's arrays again. */
+function giveBack(P: CoverPiece, dim: number): void {
+  P.A.length = P.m * dim;
+  P.b.length = P.m;
 }
 
 /**
@@ -248,7 +297,8 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   }
   let P: CoverPiece = { A: BA, b: Bb, m: 2 * dim, verts, tight, widthBound: Infinity };
   for (let i = 0; i < m; i++) {
-    const r = clipPiece(P, A, b[i], ctx, false, i * dim);
+    // the box and every piece of this chain are private: each cut appends its row to the same arrays
+    const r = clipPiece(P, A, b[i], ctx, false, i * dim, true);
     if (r === null || r === 'fail') return r;
     P = r;
   }
@@ -320,7 +370,8 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
       if (beyond.widthBound > minRadius) out.push(beyond);
       else dropped.count++;
     }
-    const inside = clipPiece(cur, SA, Sb[i], ctx, false, i * dim);
+    // a piece cut here (not the caller's P) is dropped once cut again: its arrays take the row
+    const inside = clipPiece(cur, SA, Sb[i], ctx, false, i * dim, cur !== P);
     if (inside === 'fail') return 'fail';
     if (inside === null) return out;
     cur = inside;

@@ -626,9 +626,12 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
   }
   const dim = d - 1;
   const origin = a.map((x) => x * beta);
+  // rows written straight into the slice's arrays (sized for every row, then cut to the rows kept):
+  // per row a projected copy, its normalised copy and a growing list were most of this function's garbage
   const project = (rows: number[][], rhs: number[], skipRow: number, slack: number): Slice | null => {
-    const outA: number[] = [];
-    const outB: number[] = [];
+    const outA = new Float64Array(rows.length * dim);
+    const outB = new Float64Array(rows.length);
+    let m = 0;
     for (let i = 0; i < rows.length; i++) {
       if (i === skipRow) continue;
       const row = rows[i];
@@ -640,12 +643,13 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
       }
       let r0 = rhs[i] + slack;
       for (let j = 0; j < d; j++) r0 -= row[j] * origin[j];
-      const pr = new Array<number>(dim);
+      // the projected row goes into slot m; kept (divided by its length) unless it vanishes
+      const o = m * dim;
       let n = 0;
       for (let k = 0; k < dim; k++) {
         let s = 0;
         for (let j = 0; j < d; j++) s += row[j] * basis[k][j];
-        pr[k] = s;
+        outA[o + k] = s;
         n += s * s;
       }
       n = Math.sqrt(n);
@@ -653,10 +657,11 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
         if (r0 < -tol.inside * 10) return null; // this row excludes the whole hyperplane
         continue;
       }
-      outA.push(...pr.map((x) => x / n));
-      outB.push(r0 / n);
+      for (let k = 0; k < dim; k++) outA[o + k] = outA[o + k] / n;
+      outB[m++] = r0 / n;
     }
-    return { A: Float64Array.from(outA), b: Float64Array.from(outB), m: outB.length };
+    // views of exactly the rows kept (readers take the row length as A.length / m)
+    return { A: m === rows.length ? outA : outA.subarray(0, m * dim), b: m === rows.length ? outB : outB.subarray(0, m), m };
   };
   const own = project(A, b, skip, 0);
   if (!own) return null;

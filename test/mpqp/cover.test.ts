@@ -222,3 +222,42 @@ describe('a long thin facet wedge (taken from a 4-D solve of test/fixtures/scale
     expect(sortedVerts(made.piece)).toEqual([[0, 0, 0], [0, 0, 1], [0, 1, 0], [0, 1, 1], [1, 0, 0], [1, 0, 1], [1, 1, 0], [1, 1, 1]]);
   });
 });
+
+describe('pieces with more than 32 rows, and a cut that leaves its piece as it was', () => {
+  // the tight rows of a vertex are compared as bit masks of 32 rows a word: a 3-D polytope with 60
+  // rows (random, about the origin) has vertices tight at rows of several words
+  const r = rng(20261203);
+  it('3-D, 60 rows: support values of the vertex list and of its cut pieces equal javascript-lp-solver; P unchanged by a tidy cut', () => {
+    const dim = 3;
+    let checks = 0;
+    for (let inst = 0; inst < 4; inst++) {
+      const A: number[][] = [];
+      const b: number[] = [];
+      for (let i = 0; i < 60; i++) {
+        const a = unit(Array.from({ length: dim }, () => 2 * r() - 1));
+        A.push(a);
+        b.push(1 + 0.2 * r());
+      }
+      const P = piece(A, b);
+      expect(P.m).toBeGreaterThan(32);
+      // support values: a linear function attains its maximum over a polytope at a vertex (common practice)
+      const c = unit(Array.from({ length: dim }, () => 2 * r() - 1));
+      const before = JSON.stringify(P);
+      const t0 = 0.1 * r();
+      const cut = clipPiece(P, c, t0, ctx(dim));
+      expect(JSON.stringify(P), 'a tidy cut leaves P as it was').toBe(before);
+      expect(cut).not.toBe('fail');
+      const Q = cut as CoverPiece;
+      const rows = rowsOf(Q);
+      for (let t = 0; t < 8; t++) {
+        const d = Array.from({ length: dim }, () => 2 * r() - 1);
+        const byVerts = Math.max(...Q.verts.map((v) => v.reduce((s, x, k) => s + x * d[k], 0)));
+        expect(byVerts).toBeCloseTo(support([...A, c], [...b, t0], d), 6);
+        // the rows the piece keeps describe the same set: the same support value from its own rows
+        expect(byVerts).toBeCloseTo(support(rows.A, rows.b, d), 6);
+        checks++;
+      }
+    }
+    expect(checks).toBe(32);
+  });
+});

@@ -54,7 +54,7 @@ export interface PairRegion {
 
 /** Zero counters. */
 export function zeroPairCounts(): PairCounts {
-  return { tests: 0, accepted: 0, centred: 0, rejected: 0, boxes: 0, parallel: 0, lps: 0 };
+  return { tests: 0, accepted: 0, centred: 0, rejected: 0, opposed: 0, boxes: 0, parallel: 0, lps: 0 };
 }
 
 /** Add the pair counters of `b` into `a` (other fields of either are left alone). */
@@ -62,6 +62,7 @@ export function addPairCounts(a: PairCounts, b: PairCounts): void {
   a.tests += b.tests;
   a.accepted += b.accepted;
   a.centred += b.centred;
+  a.opposed += b.opposed;
   a.rejected += b.rejected;
   a.boxes += b.boxes;
   a.parallel += b.parallel;
@@ -124,6 +125,9 @@ export class FacetPairs {
   private readonly scratch: PrefilterScratch;
   private readonly c: Float64Array;
   private readonly p: Float64Array;
+  // opposedRows: the rows of R then S projected on H (unit, n each) and their bounds on H
+  private proj = new Float64Array(0);
+  private projU = new Float64Array(0);
   private readonly origin: Float64Array;
   private readonly subset: Int32Array;
   // per pair: projected length of each row of R and of S on H (0: not a row the LP keeps)
@@ -205,6 +209,11 @@ export class FacetPairs {
       return 1;
     }
     if (!rejectFirst && this.reject(DR, hasR, f, DS, hasS, g, a, beta)) return 0;
+    if (state === 'ok' && this.opposedRows(DR, f, DS, a, beta)) {
+      this.counts.rejected++;
+      this.counts.opposed++;
+      return 0;
+    }
     this.counts.lps++;
     return -1;
   }
@@ -604,6 +613,56 @@ export class FacetPairs {
       if (!c) continue;
       for (let j = 0; j < n; j++) p[j] = c[j];
       if (test()) return true;
+    }
+    return false;
+  }
+
+  /**
+   * Reject by two opposed rows (no vertices): a row i of R and a row q of S whose projections on H
+   * (unit, `nR`/`nS`) are opposite up to e = p_i + p_q: on H, p_i·θ ≤ u_i and p_q·θ ≤ u_q, so
+   * p_i·θ ≥ −u_q + e·θ ≥ −u_q − Σ|e_j|·max|θ_j| over R's padded box, which holds the overlap the LP
+   * sees when R's facet has no doubtful parallel row (as for `reject`). A slab of width
+   * u_i + u_q + Σ|e_j|·big (+ a round-off allowance) ≤ minPiece/2 holds no ball of radius over
+   * minPiece/4: the LP says no. Typical of two regions diagonally across a ridge where H meets
+   * another plane K that both have as a facet, reversed.
+   */
+  private opposedRows(DR: RegionData, f: number, DS: RegionData, a: Float64Array, beta: number): boolean {
+    if (this.doubtfulParallel(DR, f)) return false;
+    const n = this.n;
+    if (this.proj.length < (DR.m + DS.m) * n) {
+      this.proj = new Float64Array(2 * (DR.m + DS.m) * n);
+      this.projU = new Float64Array(2 * (DR.m + DS.m));
+    }
+    const P = this.proj;
+    const U = this.projU;
+    const fill = (d: RegionData, len: Float64Array, at: number): void => {
+      for (let i = 0; i < d.m; i++) {
+        const o = (at + i) * n;
+        if (len[i] === 0) {
+          U[at + i] = NaN;
+          continue;
+        }
+        let ra = 0;
+        for (let j = 0; j < n; j++) ra += d.A[i * n + j] * a[j];
+        for (let j = 0; j < n; j++) P[o + j] = (d.A[i * n + j] - ra * a[j]) / len[i];
+        U[at + i] = (d.b[i] - ra * beta) / len[i];
+      }
+    };
+    fill(DR, this.nR, 0);
+    fill(DS, this.nS, DR.m);
+    const big = DR.big;
+    const half = 0.5 * this.minPiece;
+    for (let i = 0; i < DR.m; i++) {
+      const ui = U[i];
+      if (!(ui === ui)) continue;
+      for (let q = 0; q < DS.m; q++) {
+        const uq = U[DR.m + q];
+        if (!(uq === uq) || ui + uq > half) continue;
+        let e = 0;
+        for (let j = 0; j < n; j++) e += Math.abs(P[i * n + j] + P[(DR.m + q) * n + j]);
+        const round = 1e-12 * (1 + Math.abs(ui) + Math.abs(uq) + big);
+        if (ui + uq + e * big + round <= half) return true;
+      }
     }
     return false;
   }

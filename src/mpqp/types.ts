@@ -153,6 +153,8 @@ export interface PairCounts {
   centred: number;
   /** decided by a weak-duality slab of one row (not neighbours) */
   rejected: number;
+  /** of those, by two opposed rows of the two regions (no vertices needed) */
+  opposed: number;
   /** decided by the facets' proved boxes (not neighbours) */
   boxes: number;
   /** decided by a row that empties the hyperplane, as the LP path does (not neighbours) */

@@ -357,6 +357,9 @@ export function vertexPass(
   // above proves that the side's LP keeps it (a box facet, otherwise one LP per region and side)
   for (let q = boxRow; q < m; q++) {
     if (sure[q] || !alive[q]) continue;
+    // no vertex on the side (box corners and points cut on box edges keep the side's coordinate exactly): nothing to aim at
+    const j0 = (q - boxRow) >> 1;
+    if ((q - boxRow) & 1 ? vLo[j0] > lo[j0] : vHi[j0] < up[j0]) continue;
     let k = 0;
     d.fill(0);
     for (let v = 0; v < V.x.length; v++) {

@@ -200,6 +200,13 @@ function nextDown(x: number): number {
  * D lies beyond the half gap but below one and a half; within 2⁻³⁰ (relative) of a half gap, where
  * a tie or the error could decide, it gives NaN.
  */
+/**
+ * Set by `wideDecimal` for the double it returns: |M·10^e10 − value| and the step 10^e10 of M's last
+ * digit, both in the same units (so their ratio is exact to 2⁻⁵⁰).
+ */
+let wideDist = 0;
+let wideStep = 0;
+
 function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
   const scale = POW10[k];
   const p = hi * scale;
@@ -239,23 +246,37 @@ function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
   const up = nextUp(q);
   const down = nextDown(q);
   const margin = 2 ** -30;
+  // the step of M's last digit in d's units: 10^e10 for a product, 10^e10·P = 1 for a division
+  wideStep = e10 >= 0 ? POW10[e10] : 1;
   if (d >= 0) {
     const half = (up - q) * 0.5 * unit;
-    if (d < half * (1 - margin)) return q;
+    if (d < half * (1 - margin)) {
+      wideDist = d;
+      return q;
+    }
     if (d > half * (1 + margin)) {
       // q' = up: D' = D − gap; keep it when below half of up's upper gap
       const d2 = d - (up - q) * unit;
       const half2 = (nextUp(up) - up) * 0.5 * unit;
-      if (d2 < half2 * (1 - margin)) return up;
+      if (d2 < half2 * (1 - margin)) {
+        wideDist = Math.abs(d2);
+        return up;
+      }
     }
     return NaN;
   }
   const half = (q - down) * 0.5 * unit;
-  if (-d < half * (1 - margin)) return q;
+  if (-d < half * (1 - margin)) {
+    wideDist = -d;
+    return q;
+  }
   if (-d > half * (1 + margin)) {
     const d2 = -d - (q - down) * unit;
     const half2 = (down - nextDown(down)) * 0.5 * unit;
-    if (d2 < half2 * (1 - margin)) return down;
+    if (d2 < half2 * (1 - margin)) {
+      wideDist = Math.abs(d2);
+      return down;
+    }
   }
   return NaN;
 }
@@ -282,9 +303,10 @@ function cellEnd(text: Uint8Array, a: number, L: number): number {
  * NaN when no number of that grammar starts at a. Up to 15 significant digits and a decimal exponent
  * within ±22 give the correctly rounded double by one exact multiplication or division (Clinger
  * 1990, "How to read floating point numbers accurately"); anything else goes to `Number` on the
- * cell's text, which is what the general path calls. `scanCanon` is set to 1 when the text is
- * exactly what `String` prints for the value (no sign '+', no exponent, no redundant zero, at most
- * 15 significant digits, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0).
+ * cell's text, which is what the general path calls; 16 to 19 digits by `wideDecimal`. `scanCanon`
+ * is set to 1 when the text is exactly what `String` prints for the value (no sign '+', no exponent,
+ * no redundant zero, in V8's fixed-notation range 10⁻⁶ ≤ |v| < 10²¹, not −0; at most 15 significant
+ * digits, or 16–17 that are the closest of their length with no shorter decimal reading back as v).
  */
 function plainNumber(text: Uint8Array, a: number, L: number): number {
   scanCanon = 0;
@@ -361,6 +383,25 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
     // 16 to 19 digits: M = mant·10^(digits − 15) + low exactly, value M·10^e10
     const w = digits <= 19 && e10 >= -22 && e10 <= 22 ? wideDecimal(mant, low, digits - 15, e10) : NaN;
     if (w !== w) return Number(ascii(text, a, i));
+    // String prints 16 or 17 digits when no shorter decimal reads back as the value, and then the
+    // closest of that length: the cell is that text when M is within less than half a step of its
+    // last digit from the value, and neither decimal of one digit fewer around it reads back as the value
+    if (digits <= 17 && wideDist < 0.5 * wideStep * (1 - 2 ** -30) && !plus && !hasExp && intDigits > 0 && (!intLeadZero || intDigits === 1) && (!dot || (fracDigits > 0 && lastFrac !== 48)) && !(intDigits === 1 && intLeadZero && dot && fracLeadZeros > 5)) {
+      let shorter: number;
+      let next: number;
+      const e1 = e10 + 1;
+      if (digits === 16) {
+        // ⌊M/10⌋ = mant and mant + 1, 15 and at most 16 digits (10¹⁵): exact, Clinger's fast path
+        const P = e1 >= 0 ? POW10[e1] : POW10[-e1];
+        shorter = e1 > 22 || e1 < -22 ? NaN : e1 >= 0 ? mant * P : mant / P;
+        next = e1 > 22 || e1 < -22 ? NaN : e1 >= 0 ? (mant + 1) * P : (mant + 1) / P;
+      } else {
+        const d = Math.floor(low / 10);
+        shorter = e1 > 22 ? NaN : wideDecimal(mant, d, 1, e1);
+        next = e1 > 22 ? NaN : wideDecimal(mant, d + 1, 1, e1);
+      }
+      if (shorter === shorter && next === next && shorter !== w && next !== w) scanCanon = 1;
+    }
     return neg ? -w : w;
   }
   let v: number;

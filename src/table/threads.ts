@@ -66,8 +66,8 @@ export interface ExploreJob {
 /** A share of the canonical neighbours (main thread → worker; the answer is `number[][][]`). */
 export interface NeighbourJob {
   kind: 'neighbours';
-  /** the regions in canonical order: only A, b and the facets' kinds are read */
-  regions: Pick<CriticalRegion, 'A' | 'b' | 'facets'>[];
+  /** the regions in canonical order: only A, b, the facets' kinds and the Chebyshev centre are read */
+  regions: (Pick<CriticalRegion, 'A' | 'b' | 'facets'> & { chebyshev: { center: ArrayLike<number> } })[];
   boxes: { lo: ArrayLike<number>; hi: ArrayLike<number> }[];
   index: number;
   count: number;
@@ -230,7 +230,8 @@ export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition,
   const counts = zeroNeighbourCounts();
   if (W === 1 || join.regions.length < 500)
     return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts }), counts);
-  const regions = join.regions.map((R) => ({ A: R.A, b: R.b, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) }));
+  // the Chebyshev centres go too: the pair test's accept from the centres (facet-pairs.ts) needs them
+  const regions = join.regions.map((R) => ({ A: R.A, b: R.b, chebyshev: { center: R.chebyshev.center }, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) }));
   const boxes = join.boxes.map((b) => ({ lo: Array.from(b.lo), hi: Array.from(b.hi) }));
   join.progress('neighbours', 0, join.regions.length);
   // the workers' shares stop on the shared flag: raised here when `shouldStop` says so (asked

@@ -10,7 +10,10 @@
  *    and with 17 significant digits, in this process stage by stage (read, parse, index, locate,
  *    law, format, write) and as a cold CLI process (wall points/s, peak MB), and one cold process
  *    under `node --cpu-prof` summarised as self time per function; the locator against the
- *    sequential scan on a few thousand (target ≥ 10⁶ points/s wall).
+ *    sequential scan on a few thousand (target ≥ 10⁶ points/s wall). In-process stages print
+ *    wall/CPU seconds; each cold CLI run is made with `--times` and its stage line is printed; a
+ *    SUMMARY line gives the three measures side by side (warm locate per CPU second and wall, cold
+ *    CLI end to end wall and per CPU second).
  * 3. A big table end to end, every stage a cold CLI process under /usr/bin/time (wall seconds,
  *    peak resident MB): a generated mpQP over a 3-D θ whose regions are the cells of an
  *    arrangement of planes (a bank of independent saturating channels, invented) is solved lean up

@@ -15,6 +15,9 @@
  *    time of each and the median of the per-pair ratios (target ≥ 1.7×), whether the tables are
  *    the same bytes, and from one untimed run in this process with 2 threads, regions built per
  *    final region (a region straddling the cut is built by both) and the axis the pilot cut.
+ * Beside the wall times, the CPU seconds of each run (user + system of every thread of the child
+ * process: workers, V8's compiler and GC threads; Linux only): with no free core the wall follows
+ * them, so under load they say whether 2 threads cost more than 1.
  * TESSERA_BENCH_REPS sets the pairs (default 3); TESSERA_BENCH_SMALL=1 leaves the larger problem
  * out. Near idle the whole file takes about 5 minutes.
  */
@@ -33,6 +36,20 @@ const dir = join(import.meta.dirname, '..', 'fixtures', 'scale');
 const reps = Number(process.env.TESSERA_BENCH_REPS ?? 3);
 
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+/**
+ * CPU seconds (user + system) of this process's finished children so far, from Linux's
+ * /proc/self/stat (cutime + cstime, fields 16 and 17, in clock ticks of 1/100 s); NaN elsewhere.
+ * Read before and after a child: under load its wall time says little, its CPU time says what
+ * the run cost (every thread of it: workers, V8's compiler and GC threads, the main thread).
+ */
+function childCpu(): number {
+  try {
+    const f = readFileSync('/proc/self/stat', 'utf8').split(') ')[1].split(' ');
+    return (Number(f[13]) + Number(f[14])) / 100;
+  } catch {
+    return NaN;
+  }
+}
 const load = (): string => loadavg().map((x) => x.toFixed(1)).join(' ');
 
 async function machine(kind: 'arithmetic' | 'allocation'): Promise<number> {
@@ -74,13 +91,16 @@ function fixture(name: string, shrink = 1): { file: string; mpqp: MpqpProblem } 
 
 async function paired(label: string, problem: { file: string; mpqp: MpqpProblem }): Promise<{ label: string; speedup: number }> {
   const total: Record<number, number[]> = { 1: [], 2: [] };
+  const cpu: Record<number, number[]> = { 1: [], 2: [] };
   const bytes: Record<number, string> = {};
   for (let r = 0; r < reps; r++)
     for (const n of [1, 2]) {
       const out = join(tmp, `t${n}.table.json`);
       const t = performance.now();
+      const c = childCpu();
       execFileSync(process.execPath, [cli, 'solve', problem.file, '-o', out, '--threads', String(n), '-q']);
       total[n].push((performance.now() - t) / 1000);
+      cpu[n].push(childCpu() - c);
       bytes[n] = readFileSync(out, 'utf8');
     }
   const regions = (JSON.parse(bytes[1]).regions as unknown[]).length;
@@ -93,8 +113,11 @@ async function paired(label: string, problem: { file: string; mpqp: MpqpProblem 
   // pairs were run back to back, so each pair's ratio saw about the same load
   const ratio = median(total[1].map((t, r) => t / total[2][r]));
   const same = bytes[1] === bytes[2] ? 'yes' : 'NO';
+  // what the runs cost in CPU (all threads of the process): with no free core the wall follows this
+  const c1 = median(cpu[1]);
+  const c2 = median(cpu[2]);
   console.log(
-    `  ${label.padEnd(24)} ${String(regions).padStart(6)} regions  1 thread ${s1.toFixed(2).padStart(6)} s  2 threads ${s2.toFixed(2).padStart(6)} s  speed-up ${ratio.toFixed(2)}× (pairs ${total[1].map((t, r) => (t / total[2][r]).toFixed(2)).join(' ')})  same bytes: ${same}; with 2 threads: regions built per final region ${(run.built() / regions).toFixed(2)}, cut across θ${axis + 1}`,
+    `  ${label.padEnd(24)} ${String(regions).padStart(6)} regions  1 thread ${s1.toFixed(2).padStart(6)} s  2 threads ${s2.toFixed(2).padStart(6)} s  speed-up ${ratio.toFixed(2)}× (pairs ${total[1].map((t, r) => (t / total[2][r]).toFixed(2)).join(' ')})  CPU (user + sys, all threads) ${c1.toFixed(2)} vs ${c2.toFixed(2)} s (${(c2 / c1).toFixed(2)}×)  same bytes: ${same}; with 2 threads: regions built per final region ${(run.built() / regions).toFixed(2)}, cut across θ${axis + 1}`,
   );
   return { label, speedup: ratio };
 }

@@ -287,7 +287,7 @@ describe('the neighbours step under a stop', () => {
   }, 120_000);
 });
 
-describe('the accept from the Chebyshev centres (FacetPairs without vertex lists) against javascript-lp-solver', () => {
+describe('FacetPairs without vertex lists (accept from the Chebyshev centres, reject by two opposed rows) against javascript-lp-solver', () => {
   // With few pair tests per region the neighbours step builds no vertex lists; a pair is then
   // accepted when a point found from the two regions' centres (where the segment between them
   // crosses the hyperplane, or either centre projected onto it) lies deeper than minPiece + 1e-9
@@ -307,6 +307,8 @@ describe('the accept from the Chebyshev centres (FacetPairs without vertex lists
         { lo: [0.5, 1 - 4e-7, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
         { lo: [0.5, 1 - 1.6e-6, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
         { lo: [0.5, 1, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
+        { lo: [0.5, 1 - 3e-6, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: true },
+        { lo: [0.5, 1.1, ...new Array(n - 2).fill(0)], hi: [1, 2, ...new Array(n - 2).fill(1)], neighbours: false },
       ];
       cases.forEach((c, i) => {
         const mid = c.lo.map((l, j) => 0.5 * (l + c.hi[j]));
@@ -317,8 +319,21 @@ describe('the accept from the Chebyshev centres (FacetPairs without vertex lists
         const radius = lpOverlap(R, 0, S, 1);
         expect(radius > minPiece, `case ${i}`).toBe(c.neighbours);
         if (answer === 1) expect(radius, `case ${i} accepted`).toBeGreaterThan(minPiece);
+        if (answer === 0) expect(radius, `case ${i} rejected`).toBeLessThanOrEqual(minPiece);
         if (i < 2) expect(answer, `case ${i}: an overlap this wide is accepted without an LP`).toBe(1);
         if (answer === 1) expect(pairs.counts.centred).toBe(1);
+        // a sliver 4e-7 wide, faces touching along a (d−2)-face and facets 0.1 apart: two opposed
+        // rows (R's θ_1 ≤ 1, S's θ_1 ≥ 1 − w, rotated) leave a slab ≤ minPiece/2 wide, no LP
+        if (i === 2 || i === 4 || i === 6) expect(answer, `case ${i}: rejected by two opposed rows`).toBe(0);
+        if (answer === 0) expect(pairs.counts.opposed).toBe(1);
+        // centres far off: no accept, so the opposed rows alone decide or leave it to the LP (the
+        // 3e-6 sliver, radius 1.5e-6, is a neighbour: a slab that wide must not reject it)
+        const far = R.chebyshev.center.map((x) => x + 100);
+        const off = [R, S].map((X) => ({ ...X, chebyshev: { center: far } }));
+        const blind = new FacetPairs(off, off.map((X) => lpBox(X, n)), n, minPiece, { vertices: false }).decide(0, 0, 1, 1);
+        expect(blind, `case ${i} with centres off`).not.toBe(1);
+        if (blind === 0) expect(radius, `case ${i} rejected with centres off`).toBeLessThanOrEqual(minPiece);
+        if (i === 2 || i === 4 || i === 6) expect(blind).toBe(0);
       });
     });
   }
@@ -363,8 +378,8 @@ describe('the accept from the Chebyshev centres (FacetPairs without vertex lists
               S.facets.forEach((gi, g) => {
                 if (gi.kind !== 'primal' || gi.row !== fi.row) return;
                 const answer = pairs.decide(i, f, s, g);
-                expect(answer, `${label}: no vertex lists, no reject`).not.toBe(0);
                 const radius = radiusOf(i, f, s, g);
+                if (answer === 0) expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} rejected`).toBeLessThanOrEqual(minPiece);
                 if (label === 'sample means' && radius > minPiece) neighbours++;
                 if (answer === 1) {
                   expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} accepted`).toBeGreaterThan(minPiece);
@@ -375,6 +390,7 @@ describe('the accept from the Chebyshev centres (FacetPairs without vertex lists
           }),
         );
         expect(pairs.counts.accepted).toBe(pairs.counts.centred);
+        expect(pairs.counts.rejected).toBe(pairs.counts.opposed);
       }
       // most neighbour pairs are accepted from the true centres (else the test proves little)
       expect(neighbours).toBeGreaterThan(10);

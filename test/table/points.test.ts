@@ -236,15 +236,36 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
         }
       }
     }
-    const got = parsePointsFlat(cells.join('\n') + '\n', 'p.csv', ['a']);
+    // and what String prints for random doubles (mostly 16 and 17 digits), and those texts one digit off
+    for (let i = 0; i < 20000; i++) {
+      const x = (rnd() - 0.3) * 10 ** (Math.floor(rnd() * 26) - 6);
+      const t = String(x);
+      cells.push(i % 4 === 3 ? t.replace(/(\d)$/, (m) => String((Number(m) + 1) % 10)) : t);
+    }
+    const text = cells.join('\n') + '\n';
+    const bytes = new TextEncoder().encode(text);
+    const got = parsePointsFlat(bytes, 'p.csv', ['a']);
     expect(got.count).toBe(cells.length);
     let wrong = 0;
+    let printed = 0;
+    let copied = 0;
     cells.forEach((c, i) => {
       if (!Object.is(got.values[i], Number(c))) wrong++;
       expect(Object.is(got.values[i], Number(c)), c).toBe(true);
+      // a cell is copied only when it is what String prints (ECMAScript Number::toString)
+      if (got.from[i] >= 0) expect(new TextDecoder().decode(bytes.subarray(got.from[i], got.to[i])), c).toBe(String(Number(c)));
+      // (below 10¹²: larger values have fractional digits as coarse as the doubles' spacing, where a
+      // decimal can be exactly halfway and the reading leaves the text to String)
+      if (c === String(Number(c)) && /^-?\d*\.\d+$/.test(c) && Math.abs(Number(c)) < 1e12 && c.replace(/[-.]/g, '').replace(/^0+/, '').length >= 16) {
+        printed++;
+        if (got.from[i] >= 0) copied++;
+      }
     });
     expect(wrong).toBe(0);
     expect(midpoints).toBeGreaterThan(100);
+    // nearly every 16–17 digit text that String prints is recognised as such (ties and the margin aside)
+    expect(printed).toBeGreaterThan(4000);
+    expect(copied).toBeGreaterThan(0.99 * printed);
   });
 
   it('refuses what the general reading refuses, with the same message', () => {

@@ -196,16 +196,16 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     return;
   }
   // the canonical form: both its steps are bounded by the same time limit (a cut one marks the
-  // table incomplete) and show progress, with the time left; one thread does it here (a lone
-  // worker ends first, its heap freed)
-  if (pool.workers.length === 1) await pool.terminate();
+  // table incomplete) and show progress, with the time left; this thread does it alone (shares on
+  // the workers measured slower: `CanonicalThreadedOptions`), so the workers end first, their heaps
+  // freed
+  await pool.terminate();
   const tCanonical = performance.now();
   const left = (): string => (opts.timeLimit === undefined ? '' : `, ${Math.max(0, opts.timeLimit - (performance.now() - tStart) / 1000).toFixed(1)} s left of the time limit`);
   const canonical = await canonicalThreaded(mpqp, partition, threads, {
     shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
     onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? `closing under neighbour guesses ${done}/${total} regions` : `neighbours ${done}/${total} facets`}${left()} `) : undefined,
-  }, pool);
-  await pool.terminate();
+  });
   if (live) process.stderr.write('\r\x1b[K');
   // an exploration that finished but whose canonical form was cut: the checkpoint resumes it too
   if (partition.stats.complete && !canonical.stats.complete) {

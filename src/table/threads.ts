@@ -215,6 +215,19 @@ function startWorker(data: ExploreWorkerData): Worker {
 }
 
 /**
+ * Options of `canonicalThreaded`. `workerShares`: hand the neighbours step to the workers in
+ * shares (default false: this thread does it alone). Since the step's pair tests went LP-free
+ * (s18), the shares were slower than one thread, measured with the built CLI, 2 threads, paired
+ * and alternated (load 3–4): boom-4d-n12 (7 843 regions) 5.1–6.4 s shared against 3.3–3.5 s alone;
+ * mixer-5d-n10 at 3 000 regions 3.2–3.8 s against 2.5–2.8 s. Each worker is sent every region and
+ * sets up its vertex lists and boxes again, which now outweighs the half of the pair tests it saves.
+ * Same lists either way (tested).
+ */
+export interface CanonicalThreadedOptions extends JoinOptions {
+  workerShares?: boolean;
+}
+
+/**
  * The canonical form of an exploration's partition (`joinPartitions`). The closure step runs on
  * this thread; the neighbours step is shared: with a pool of W ≥ 2, its warm workers take every
  * W-th cluster of facets each; without one, this thread and `threads − 1` fresh workers. The lists
@@ -224,11 +237,11 @@ function startWorker(data: ExploreWorkerData): Worker {
  * 316 MB against 254 MB). `options.shouldStop` bounds both steps (the workers' shares stop
  * on the shared flag, raised from here): a cut result is marked incomplete (`stats.neighboursCut`).
  */
-export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition, threads: number, options: JoinOptions = {}, pool?: ThreadPool): Promise<Partition> {
+export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition, threads: number, options: CanonicalThreadedOptions = {}, pool?: ThreadPool): Promise<Partition> {
   const join = beginJoin(mpqp, [partition], options);
   const W = pool ? pool.workers.length : Math.max(1, Math.floor(threads));
   const counts = zeroNeighbourCounts();
-  if (W === 1 || join.regions.length < 500)
+  if (W === 1 || !options.workerShares || join.regions.length < 500)
     return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts }), counts);
   // the Chebyshev centres go too: the pair test's accept from the centres (facet-pairs.ts) needs them
   const regions = join.regions.map((R) => ({ A: R.A, b: R.b, chebyshev: { center: R.chebyshev.center }, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) }));

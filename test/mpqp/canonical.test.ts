@@ -107,15 +107,18 @@ describe('canonical neighbours computed in shares (threads)', () => {
         const shares = Array.from({ length: count }, (_, index) => canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, undefined, { index, count }));
         expect(mergeNeighbours(shares)).toEqual(whole);
       }
-      const at2 = await canonicalThreaded(mpqp, p, 2);
+      const at2 = await canonicalThreaded(mpqp, p, 2, { workerShares: true });
       const joined = JSON.stringify(joinPartitions(mpqp, [p]).regions);
       expect(JSON.stringify(at2.regions) === joined).toBe(true);
       // with a pool: its warm workers take the shares (a pool of one leaves the step to this thread)
       for (const n of [1, 2]) {
         const pool = startThreadPool(n);
         try {
-          const onPool = await canonicalThreaded(mpqp, p, n, {}, pool);
+          const onPool = await canonicalThreaded(mpqp, p, n, { workerShares: true }, pool);
           expect(JSON.stringify(onPool.regions) === joined, `pool of ${n}`).toBe(true);
+          // the default: the calling thread alone, the pool left idle
+          const alone = await canonicalThreaded(mpqp, p, n, {}, pool);
+          expect(JSON.stringify(alone.regions) === joined, `pool of ${n}, this thread`).toBe(true);
         } finally {
           await pool.terminate();
         }

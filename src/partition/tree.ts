@@ -236,13 +236,7 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
     tableHash: options.tableHash ?? '',
     ntheta: n,
     regionCount: regions.length,
-    hyperplanes: { a: [], b: [] },
-    nodeHyperplane: [],
-    nodeLeft: [],
-    nodeRight: [],
-    root: -1,
-    leafStart: [0],
-    leafRegions: [],
+    ...emptyNodes(),
     stats: { nodes: 0, leaves: 0, maxDepth: 0, meanLeafDepth: 0, maxLeafSize: 0, lps: 0, buildSeconds: 0 },
   };
   const usedHp = new Map<number, number>(); // global hyperplane → index in tree.hyperplanes
@@ -437,6 +431,11 @@ export function firstHolding(list: number[], from: number, to: number, theta: Ar
   return -1;
 }
 
+/** The node and leaf arrays of a tree with nothing in it yet (the builder and `collapseTree` fill them). */
+function emptyNodes(): Pick<SearchTree, 'hyperplanes' | 'nodeHyperplane' | 'nodeLeft' | 'nodeRight' | 'root' | 'leafStart' | 'leafRegions'> {
+  return { hyperplanes: { a: [], b: [] }, nodeHyperplane: [], nodeLeft: [], nodeRight: [], root: -1, leafStart: [0], leafRegions: [] };
+}
+
 /**
  * The same tree with every subtree whose regions hold at most `leafRows` rows in all turned into one
  * leaf (its regions: the union of the subtree's leaves, in ascending index). Every region of a node
@@ -457,13 +456,7 @@ export function collapseTree(tree: SearchTree, rowsOf: (region: number) => numbe
   }
   const out: SearchTree = {
     ...tree,
-    hyperplanes: { a: [], b: [] },
-    nodeHyperplane: [],
-    nodeLeft: [],
-    nodeRight: [],
-    root: -1,
-    leafStart: [0],
-    leafRegions: [],
+    ...emptyNodes(),
     stats: { ...tree.stats, nodes: 0, leaves: 0, maxDepth: 0, meanLeafDepth: 0, maxLeafSize: 0 },
   };
   const usedHp = new Map<number, number>();

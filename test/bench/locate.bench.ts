@@ -295,7 +295,7 @@ export async function run(): Promise<void> {
     );
     for (const c of cands) {
       if (!c.cost) {
-        out.push(`      ${c.search.padEnd(10)} not built: ${c.rejected}`);
+        out.push(`      ${c.search.padEnd(10)} not built: ${c.rejected} (${c.buildSeconds.toFixed(1)} s)`);
         continue;
       }
       // the build the cost model measured, printed as emit prints it (no second build)

@@ -108,6 +108,9 @@ export class BoxIndex {
     this.n = n;
     this.scratch = new Float64Array(Math.max(n, 1));
     this.point = new Float64Array(Math.max(n, 4));
+    this.cellLo = new Float64Array(n);
+    this.cellHi = new Float64Array(n);
+    this.terms = new Float64Array(n);
     this.exactFirst = options.rule !== 'first';
     const R = regions.length;
     this.size = R;
@@ -331,42 +334,64 @@ export class BoxIndex {
 
   /**
    * For the cell [lo0, hi0] listing items[0 … m): per listed region q and axis j, the range
-   * [eLo, eHi][q·nθ + j] of θ_j over which the region can meet the cell as its rows see it: its
-   * padded box clipped by every row, each row's other terms at their least over the cell (one
-   * step of interval bound tightening). A child cell θ_j ≤ s lists the region only when s ≥ eLo
-   * (a row with a_j < 0 separates it otherwise, as `separated` finds), likewise θ_j ≥ s only when
-   * s ≤ eHi. Thin oblique regions have boxes across most of the parameter box; these ranges are
-   * what the split search counts, so it sees the listings the split will make. Only a guide for
-   * the split (the listing itself is decided by `separated`): no rounding is paid here.
+   * [eLo, eHi][q·nθ + j] of θ_j over which the region can meet the cell within the slack: its
+   * padded box clipped by every row, the row's other terms at their least over the cell widened by
+   * `pad` (one step of interval bound tightening): row i at θ in the cell with a_i·θ ≤ b_i + pad
+   * gives a_ij θ_j ≤ b_i + pad − Σ_{k≠j} min a_ik θ_k. The sum's rounding is paid (4(nθ+2)·2⁻⁵³
+   * times the sum of the magnitudes) and the quotient's (one ulp), so the range holds every such θ;
+   * the query slack (≤ 100·tol.inside) and its residual's rounding fit in pad = 1000·tol.inside
+   * for θ in the parameter box. A child cell θ_j ≤ s lists the region only when s ≥ eLo (likewise
+   * θ_j ≥ s when s ≤ eHi), a region whose range is empty on some axis is not listed, and the ranges
+   * are what the split search counts: thin oblique regions have boxes across most of the parameter
+   * box, their ranges in a small cell are small.
    */
   private cellBounds(items: Int32Array, m: number, lo0: Float64Array, hi0: Float64Array, bl: Float64Array, bh: Float64Array, pad: number, eLo: Float64Array, eHi: Float64Array): void {
     const n = this.n;
     const A = this.A;
     const b = this.b;
+    const L = this.cellLo;
+    const H = this.cellHi;
+    const t = this.terms;
+    for (let j = 0; j < n; j++) {
+      L[j] = lo0[j] - pad;
+      H[j] = hi0[j] + pad;
+    }
+    const eps = 4 * (n + 2) * 2 ** -53;
     for (let q = 0; q < m; q++) {
       const r = items[q];
+      const o = q * n;
       for (let j = 0; j < n; j++) {
-        eLo[q * n + j] = bl[r * n + j];
-        eHi[q * n + j] = bh[r * n + j];
+        eLo[o + j] = bl[r * n + j];
+        eHi[o + j] = bh[r * n + j];
       }
       for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
-        let mn = 0;
+        const w = i * n;
+        let sum = 0;
+        let size = Math.abs(b[i]) + pad;
         for (let j = 0; j < n; j++) {
-          const a = A[i * n + j];
-          mn += a > 0 ? a * (lo0[j] - pad) : a * (hi0[j] + pad);
+          const a = A[w + j];
+          const x = a > 0 ? a * L[j] : a * H[j];
+          t[j] = x;
+          sum += x;
+          size += Math.abs(x);
         }
+        const top = b[i] + pad + eps * size;
         for (let j = 0; j < n; j++) {
-          const a = A[i * n + j];
+          const a = A[w + j];
           if (a === 0) continue;
-          const rest = mn - (a > 0 ? a * (lo0[j] - pad) : a * (hi0[j] + pad));
-          const t = (b[i] + pad - rest) / a;
+          const v = (top - (sum - t[j])) / a;
+          const ulp = Math.abs(v) * 2 ** -52;
           if (a > 0) {
-            if (t < eHi[q * n + j]) eHi[q * n + j] = t;
-          } else if (t > eLo[q * n + j]) eLo[q * n + j] = t;
+            if (v + ulp < eHi[o + j]) eHi[o + j] = v + ulp;
+          } else if (v - ulp > eLo[o + j]) eLo[o + j] = v - ulp;
         }
       }
     }
   }
+
+  private readonly cellLo: Float64Array;
+  private readonly cellHi: Float64Array;
+  private readonly terms: Float64Array;
 
   /** set by `bestSplit`: the split value of the axis it returns */
   private splitAt = 0;

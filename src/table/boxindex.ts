@@ -34,6 +34,12 @@ const EIGHTHS = [0.125, 0.25, 0.375, 0.5, 0.625, 0.75, 0.875];
 /** cells listing more regions than this try the cell's eighths only (the sweep sorts every side) */
 const SWEEP_MAX = 256;
 
+/** The fields of a `BoxIndex` that queries read (`state`, `fromState`). */
+const STATE_KEYS = ['n', 'size', 'A', 'b', 'rowStart', 'axis', 'split', 'left', 'right', 'leafFrom', 'leafTo', 'leafIds', 'boxLo', 'boxHi', 'rowAt', 'rowIds', 'rootLo', 'rootHi', 'A4', 'box4', 'exactFirst', 'stats', 'cellLo', 'cellHi', 'terms'] as const;
+
+/** A `BoxIndex` as plain data (`BoxIndex.state()`): numbers, a boolean, typed arrays, the stats. */
+export type BoxIndexState = { [K in (typeof STATE_KEYS)[number]]: unknown } & { n: number };
+
 /** Build options of a `BoxIndex` (defaults suit tables of 10 to 10⁶ regions). */
 export interface BoxIndexOptions {
   /** stop splitting a cell listing at most this many regions (default 3) */
@@ -392,6 +398,28 @@ export class BoxIndex {
   private readonly cellLo: Float64Array;
   private readonly cellHi: Float64Array;
   private readonly terms: Float64Array;
+
+  /**
+   * Everything a query reads, as plain numbers and typed arrays (the arrays are this index's own,
+   * not copies): what a worker thread is sent to answer queries with `BoxIndex.fromState`.
+   */
+  state(): BoxIndexState {
+    const out: Record<string, unknown> = {};
+    for (const k of STATE_KEYS) out[k] = (this as unknown as Record<string, unknown>)[k];
+    return out as unknown as BoxIndexState;
+  }
+
+  /** An index answering exactly as the one whose `state()` this is (the arrays are used as given). */
+  static fromState(s: BoxIndexState): BoxIndex {
+    const index = Object.create(BoxIndex.prototype) as BoxIndex;
+    const into = index as unknown as Record<string, unknown>;
+    for (const k of STATE_KEYS) into[k] = (s as unknown as Record<string, unknown>)[k];
+    into.scratch = new Float64Array(Math.max(s.n, 1));
+    into.point = new Float64Array(Math.max(s.n, 4));
+    into.lastViolation = -Infinity;
+    into.splitAt = 0;
+    return index;
+  }
 
   /** set by `bestSplit`: the split value of the axis it returns */
   private splitAt = 0;

@@ -5,6 +5,7 @@ import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
+import { Arena } from '../util/arena.js';
 import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
 /**
@@ -108,6 +109,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   /** regions known to touch each region (landings in either direction): the first place to look */
   const adjacent: number[][] = [];
   const bboxes: BoundingBox[] = [];
+  const boxArena = new Arena();
   const link = (a: number, b: number): void => {
     if (a === b) return;
     if (!adjacent[a].includes(b)) adjacent[a].push(b);
@@ -169,7 +171,11 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const id = regions.length;
     regions.push({ id, ...res.region });
     adjacent.push([]);
-    bboxes.push(res.bbox);
+    // the box kept as two views of a shared block (two typed arrays of their own cost ~0.5 kB)
+    const bb = { lo: boxArena.f64(nt), hi: boxArena.f64(nt) };
+    bb.lo.set(res.bbox.lo);
+    bb.hi.set(res.bbox.hi);
+    bboxes.push(bb);
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
     pending.push({ id, key });
@@ -246,6 +252,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       const c0 = work.coverLps;
       cover.facets++;
       exploreFacet(R, f);
+      // the facet's list is final: kept at its length (grown by push it holds room for ~16 more
+      // ids, ~130 B a facet, most of a region's memory in the exploration of a big table)
+      const nb = R.facets[f].neighbours;
+      if (nb.length) R.facets[f].neighbours = nb.slice();
       if (work.coverLps === c0) cover.freeFacets++;
       if (stats.stopReason !== 'done') break;
     }

@@ -1,10 +1,13 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
 import { qpWorkspace } from './pointqp.js';
-import { spdInverse } from '../linalg/dense.js';
+import { spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 import { maxVertexDim, vertexPass } from './vertices.js';
+
+/** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
+const invScratch = spdScratch();
 
 export type RegionFailure = 'licq' | 'empty' | 'flat';
 /** An axis-aligned box that holds the region (not stored in the table; feeds the exploration's spatial index). */
@@ -40,7 +43,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   if (k > 0) {
     const MAA = new Float64Array(k * k);
     for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) MAA[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
-    const inv = spdInverse(MAA, k, tol.rank) ?? scaledInverse(MAA, k);
+    const inv = spdInverse(MAA, k, tol.rank, invScratch) ?? scaledInverse(MAA, k);
     if (!inv) return { ok: false, reason: 'licq' };
     for (let a = 0; a < k; a++) {
       for (let j = 0; j < nt; j++) {
@@ -66,22 +69,38 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * lc[a];
     zc[i] = s;
   }
-  // half-spaces
-  const rowsA: number[][] = [];
-  const rowsB: number[] = [];
-  const info: { kind: FacetInfo['kind']; row: number }[] = [];
-  // `a` is the caller's scratch row: read here, never kept (the stored row is a new, normalised array)
-  const push = (a: number[], b: number, kind: FacetInfo['kind'], row: number): boolean => {
+  // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
+  // a row implied by the box alone is dropped at once (no LP), so only the rows kept are stored and
+  // only the region's facets become arrays of their own (per-row arrays were most of the garbage)
+  const mMax = nc + k + 2 * nt;
+  const Af = new Float64Array(mMax * nt);
+  const bf = new Float64Array(mMax);
+  const kinds = new Uint8Array(mMax); // 0 primal, 1 dual, 2 box
+  const rowOf = new Int32Array(mMax);
+  const lo = problem.box.lower;
+  const up = problem.box.upper;
+  let m = 0;
+  /** Normalise the row in slot m (b its bound) and keep it unless the box implies it; false when it is a constant row that no θ satisfies. */
+  const keep = (b: number, kind: number, row: number): boolean => {
+    const o = m * nt;
     let n = 0;
-    for (const v of a) n += v * v;
+    for (let j = 0; j < nt; j++) n += Af[o + j] * Af[o + j];
     n = Math.sqrt(n);
     if (n <= 1e-12) return b >= -tol.primal; // constant row: fine or empty
-    rowsA.push(a.map((v) => v / n));
-    rowsB.push(b / n);
-    info.push({ kind, row });
+    let mx = 0;
+    for (let j = 0; j < nt; j++) {
+      const v = Af[o + j] / n;
+      Af[o + j] = v;
+      mx += Math.max(v * lo[j], v * up[j]);
+    }
+    const bn = b / n;
+    if (mx <= bn + tol.redundancy) return true; // implied by the box alone
+    bf[m] = bn;
+    kinds[m] = kind;
+    rowOf[m] = row;
+    m++;
     return true;
   };
-  const a = new Array<number>(nt);
   const { G, E, w } = problem;
   const { ptr, idx } = nonzerosOf(problem);
   // the sums run over G_i's nonzeros in column order: the same partial sums as over every column,
@@ -92,67 +111,48 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   for (let q = 0; q < nz && finite; q++) finite = Number.isFinite(zc[q]);
   for (let i = 0; i < nc; i++) {
     if (inA[i]) continue;
-    // G_i z(θ) − w_i − E_i θ ≤ 0
+    // G_i z(θ) − w_i − E_i θ ≤ 0; each θ column's sum kept in its slot, the nonzeros in order
     const p0 = finite ? ptr[i] : 0;
     const p1 = finite ? ptr[i + 1] : 0;
-    for (let j = 0; j < nt; j++) {
-      let s = -E[i * nt + j];
-      for (let p = p0; p < p1; p++) {
-        const q = idx[p];
-        s += G[i * nz + q] * Zth[q * nt + j];
-      }
-      if (s === 0 || !finite) {
-        s = -E[i * nt + j];
-        for (let q = 0; q < nz; q++) s += G[i * nz + q] * Zth[q * nt + j];
-      }
-      a[j] = s;
-    }
+    const o = m * nt;
+    for (let j = 0; j < nt; j++) Af[o + j] = -E[i * nt + j];
     let c = -w[i];
     for (let p = p0; p < p1; p++) {
       const q = idx[p];
-      c += G[i * nz + q] * zc[q];
+      const g = G[i * nz + q];
+      for (let j = 0; j < nt; j++) Af[o + j] += g * Zth[q * nt + j];
+      c += g * zc[q];
+    }
+    for (let j = 0; j < nt; j++) {
+      if (Af[o + j] !== 0 && finite) continue;
+      let t = -E[i * nt + j];
+      for (let q = 0; q < nz; q++) t += G[i * nz + q] * Zth[q * nt + j];
+      Af[o + j] = t;
     }
     if (c === 0 || !finite) {
       c = -w[i];
       for (let q = 0; q < nz; q++) c += G[i * nz + q] * zc[q];
     }
-    if (!push(a, -c, 'primal', i)) return { ok: false, reason: 'empty' };
+    if (!keep(-c, 0, i)) return { ok: false, reason: 'empty' };
   }
   for (let p = 0; p < k; p++) {
     // −λ_p(θ) ≤ 0
-    for (let j = 0; j < nt; j++) a[j] = -Lth[p * nt + j];
-    if (!push(a, lc[p], 'dual', activeSet[p])) return { ok: false, reason: 'empty' };
-  }
-  const lo = problem.box.lower;
-  const up = problem.box.upper;
-  // drop rows implied by the box alone (no LP needed)
-  const keepA: number[][] = [];
-  const keepB: number[] = [];
-  const keepInfo: typeof info = [];
-  for (let r = 0; r < rowsA.length; r++) {
-    let mx = 0;
-    for (let j = 0; j < nt; j++) mx += Math.max(rowsA[r][j] * lo[j], rowsA[r][j] * up[j]);
-    if (mx <= rowsB[r] + tol.redundancy) continue;
-    keepA.push(rowsA[r]);
-    keepB.push(rowsB[r]);
-    keepInfo.push(info[r]);
+    const o = m * nt;
+    for (let j = 0; j < nt; j++) Af[o + j] = -Lth[p * nt + j];
+    if (!keep(lc[p], 1, activeSet[p])) return { ok: false, reason: 'empty' };
   }
   for (let j = 0; j < nt; j++) {
-    const e = new Array<number>(nt).fill(0);
-    e[j] = 1;
-    keepA.push(e);
-    keepB.push(up[j]);
-    keepInfo.push({ kind: 'box', row: j });
-    const f = new Array<number>(nt).fill(0);
-    f[j] = -1;
-    keepA.push(f);
-    keepB.push(-lo[j]);
-    keepInfo.push({ kind: 'box', row: j });
+    // θ_j ≤ up_j, then −θ_j ≤ −lo_j (slot m may hold a dropped row: cleared)
+    Af.fill(0, m * nt, (m + 2) * nt);
+    Af[m * nt + j] = 1;
+    bf[m] = up[j];
+    kinds[m] = 2;
+    rowOf[m++] = j;
+    Af[m * nt + j] = -1;
+    bf[m] = -lo[j];
+    kinds[m] = 2;
+    rowOf[m++] = j;
   }
-  const m = keepA.length;
-  const Af = new Float64Array(m * nt);
-  const bf = Float64Array.from(keepB);
-  keepA.forEach((row, r) => row.forEach((v, j) => (Af[r * nt + j] = v)));
   const start = new Float64Array(nt);
   let width = 0;
   for (let j = 0; j < nt; j++) {
@@ -170,9 +170,11 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const facets: FacetInfo[] = [];
   for (let r = 0; r < m; r++) {
     if (!alive[r]) continue;
-    A.push(keepA[r]);
-    b.push(keepB[r]);
-    facets.push({ kind: keepInfo[r].kind, row: keepInfo[r].row, neighbours: [] });
+    const row = new Array<number>(nt);
+    for (let j = 0; j < nt; j++) row[j] = Af[r * nt + j];
+    A.push(row);
+    b.push(bf[r]);
+    facets.push({ kind: kindNames[kinds[r]], row: rowOf[r], neighbours: [] });
   }
   // affine law, and (unless lean) the whole move sequence and the value function
   const rowsOut = lean ? lawSize : nz;
@@ -197,6 +199,8 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   }
   return { ok: true, region, bbox: thin.bbox };
 }
+
+const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
 
 /** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), per problem. */
 const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
@@ -528,7 +532,7 @@ function scaledInverse(a: Float64Array, n: number): Float64Array | null {
   }
   const s = new Float64Array(n * n);
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) s[i * n + j] = d[i] * a[i * n + j] * d[j];
-  const inv = spdInverse(s, n, tol.rank);
+  const inv = spdInverse(s, n, tol.rank, invScratch);
   if (!inv) return null;
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) inv[i * n + j] *= d[i] * d[j];
   return inv;

@@ -311,6 +311,31 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
 }
 
 /**
+ * A piece from vertices already known (a region's own vertex list: those on the facet, in facet
+ * coordinates): the rows A, b (m of them, dim each; the tight lists index them, ascending), then
+ * cut by the `cm` extra rows cA, cb (sub-box faces), and checked and tidied as `polytopePiece`'s
+ * result is (rows tight at fewer than dim vertices dropped, every vertex of rank dim). Null when
+ * nothing full-dimensional is left; 'fail' on a failed check or two vertices within eps of each
+ * other (the caller then builds the piece by `facetPiece`). The arrays become the piece's.
+ */
+export function pieceFromVertices(A: number[], b: number[], m: number, verts: number[][], tight: number[][], cA: ArrayLike<number>, cb: ArrayLike<number>, cm: number, ctx: CoverContext): CoverPiece | null | 'fail' {
+  const { dim, eps } = ctx;
+  for (let u = 0; u < verts.length; u++)
+    for (let v = 0; v < u; v++) {
+      let d = 0;
+      for (let k = 0; k < dim && d <= eps; k++) d = Math.max(d, Math.abs(verts[u][k] - verts[v][k]));
+      if (d <= eps) return fail('verts');
+    }
+  let P: CoverPiece = { A, b, m, verts, tight, widthBound: Infinity };
+  for (let i = 0; i < cm; i++) {
+    const r = clipPiece(P, cA, cb[i], ctx, false, i * dim, true);
+    if (r === null || r === 'fail') return r;
+    P = r;
+  }
+  return finish(P.A, P.b, P.m, P.verts, P.tight, ctx);
+}
+
+/**
  * `polytopePiece`, and when its vertex list fails a check at the context's tolerance, once more at a
  * tolerance relative to the box (1e-9 of its widest side) when that is finer: on a small facet
  * whose rows meet at small angles (a long thin wedge) an absolute tolerance puts points of

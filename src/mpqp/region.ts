@@ -4,7 +4,7 @@ import { spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
-import { maxVertexDim, vertexPass } from './vertices.js';
+import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
 
 /** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
 const invScratch = spdScratch();
@@ -15,7 +15,17 @@ export interface BoundingBox {
   lo: Float64Array;
   hi: Float64Array;
 }
-export type RegionResult = { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox } | { ok: false; reason: RegionFailure };
+/**
+ * The vertices of a region (θ coordinates, nθ each) with the rows tight at each (ascending indices
+ * into the region's A): plain arrays owned by the caller. Not stored in the table.
+ */
+export interface RegionVertices {
+  x: number[][];
+  tight: number[][];
+}
+export type RegionResult =
+  | { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox; /** the region's vertex list when the vertex pass made it exactly (nθ ≥ 3), else null */ verts: RegionVertices | null }
+  | { ok: false; reason: RegionFailure };
 
 export interface LpEngine {
   lps: number;
@@ -168,6 +178,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const A: number[][] = [];
   const b: number[] = [];
   const facets: FacetInfo[] = [];
+  const verts = thin.verts ? regionVertices(thin.verts, alive, m) : null;
   for (let r = 0; r < m; r++) {
     if (!alive[r]) continue;
     const row = new Array<number>(nt);
@@ -197,10 +208,24 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     region.moves = { F: movesF, g: movesG };
     region.value = valueFunction(problem, Zth, zc);
   }
-  return { ok: true, region, bbox: thin.bbox };
+  return { ok: true, region, bbox: thin.bbox, verts };
 }
 
 const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
+
+/** The vertex pass's list with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
+function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVertices {
+  const at = new Int32Array(m);
+  let n = 0;
+  for (let r = 0; r < m; r++) at[r] = alive[r] ? n++ : -1;
+  const tight: number[][] = [];
+  for (const t of V.tight) {
+    const u: number[] = [];
+    for (const r of t) if (at[r] >= 0) u.push(at[r]);
+    tight.push(u);
+  }
+  return { x: V.x, tight };
+}
 
 /** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), per problem. */
 const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
@@ -278,7 +303,7 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
  *    the proofs. Proofs only ever drop a row, and only by a bound ≥ the LP's own value, so the rows
  *    kept are those the LPs alone keep (the `lp: 'reference'` path runs without them).
  */
-function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } {
+function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } {
   const alive = new Uint8Array(m).fill(1);
   const sure = new Uint8Array(m);
   const proofs = !lp.reference && lp.proofs !== false;
@@ -337,7 +362,9 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // LP-free pass over the vertices of the sure rows (vertices.ts): facets found by rays aimed at
   // vertices that break a row, redundant rows and box sides proved by weak duality at a vertex
   const sideKnown = new Uint8Array(2 * nt);
-  if (useVertices) vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy);
+  const V = useVertices ? vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy) : null;
+  // the rows V was cut by (sure now, box sides aside): V is the region's vertex list when the rows kept at the end are among them
+  const cut = V ? sure.slice(0, m - 2 * nt) : null;
   const skip = new Uint8Array(m);
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
   // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)
@@ -451,7 +478,9 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     if (res.status === 'optimal') keepBasis(res);
     if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
   }
-  return { alive, bbox: { lo: bbLo, hi: bbHi } };
+  let exact = cut !== null;
+  for (let r = 0; r < m - 2 * nt && exact; r++) exact = !alive[r] || cut![r] === 1;
+  return { alive, bbox: { lo: bbLo, hi: bbHi }, verts: exact ? V : null };
 }
 
 /**
@@ -459,7 +488,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
  * exact for convex polygons); a row is a facet when it supports an edge longer than tol.radius.
  * Duplicate rows supporting the same edge keep the first one. Null when the polygon is flat.
  */
-function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } | null {
+function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } | null {
   // vertices with the row that made the edge leaving each vertex (−1: not from a row yet)
   let poly: { x: number; y: number; edge: number }[] = [];
   const boxRows = findBoxRows(Af, bf, m, lo, up);
@@ -508,7 +537,7 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
     bbHi[0] = Math.max(bbHi[0], P.x + tol.redundancy);
     bbHi[1] = Math.max(bbHi[1], P.y + tol.redundancy);
   }
-  return { alive, bbox: { lo: bbLo, hi: bbHi } };
+  return { alive, bbox: { lo: bbLo, hi: bbHi }, verts: null };
 }
 
 /** Indices of the four box rows (x ≤ up0, −x ≤ −lo0, y ≤ up1, −y ≤ −lo1), appended last by buildRegion. */

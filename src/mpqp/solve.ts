@@ -1,11 +1,11 @@
 import { sumCauses, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
 import { solvePointQp } from './pointqp.js';
-import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
+import { buildRegion, type BoundingBox, type LpEngine, type RegionVertices } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
-import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
+import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
 /**
  * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
@@ -108,6 +108,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   /** regions known to touch each region (landings in either direction): the first place to look */
   const adjacent: number[][] = [];
   const bboxes: BoundingBox[] = [];
+  /** each region's vertex list from its builder (nθ ≥ 3, when exact), until its facets are covered */
+  const vertsOf: (RegionVertices | null)[] = [];
   const link = (a: number, b: number): void => {
     if (a === b) return;
     if (!adjacent[a].includes(b)) adjacent[a].push(b);
@@ -144,6 +146,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         id = regions.length;
         regions.push({ ...R, id, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) });
         adjacent.push([]);
+        vertsOf.push(null);
         const bb = { lo: Float64Array.from(box.lo), hi: Float64Array.from(box.hi) };
         bboxes.push(bb);
         grid.add(R.A, R.b, bb.lo, bb.hi);
@@ -169,6 +172,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const id = regions.length;
     regions.push({ id, ...res.region });
     adjacent.push([]);
+    vertsOf.push(res.verts);
     bboxes.push(res.bbox);
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
@@ -250,6 +254,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (stats.stopReason !== 'done') break;
     }
     if (stats.stopReason !== 'done') break;
+    vertsOf[id] = null;
     head++;
     done.add(key);
     listener?.covered(key);
@@ -356,6 +361,40 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   }
 
   /**
+   * Facet f's vertex list from R's own (the builder's, nθ ≥ 3): the vertices tight at row f, in the
+   * facet's coordinates, with their other tight rows renumbered to the frame's; the sub-box faces
+   * (the frame's rows after R's) then cut it. Null when R has no exact list or it fails a check:
+   * the caller clips a box by the facet's rows instead (`facetPiece`), as before.
+   */
+  function fromRegionVertices(R: CriticalRegion, f: number, facet: FacetFrame, ctx: CoverContext): { piece: CoverPiece | null; ctx: CoverContext } | null {
+    const V = vertsOf[R.id];
+    if (!V) return null;
+    const dim = facet.dim;
+    const map = facet.rowMap;
+    const nOwn = R.A.length;
+    let mOwn = 0;
+    for (let r = 0; r < nOwn; r++) if (map[r] >= 0) mOwn++;
+    const verts: number[][] = [];
+    const tight: number[][] = [];
+    for (let v = 0; v < V.x.length; v++) {
+      const T = V.tight[v];
+      if (!T.includes(f)) continue;
+      const t: number[] = [];
+      for (const r of T) if (r !== f && map[r] >= 0) t.push(map[r]);
+      verts.push(facet.toY(V.x[v]));
+      tight.push(t);
+    }
+    const A = new Array<number>(mOwn * dim);
+    for (let q = 0; q < mOwn * dim; q++) A[q] = facet.A[q];
+    const b = new Array<number>(mOwn);
+    for (let q = 0; q < mOwn; q++) b[q] = facet.b[q];
+    const cm = facet.m - mOwn;
+    const piece = pieceFromVertices(A, b, mOwn, verts, tight, facet.A.subarray(mOwn * dim), facet.b.subarray(mOwn), cm, ctx);
+    if (piece === 'fail') return null;
+    return { piece, ctx };
+  }
+
+  /**
    * Cover facet f of R by vertex lists (src/mpqp/cover.ts): the uncovered part is a list of convex
    * pieces; each slice (known neighbours first, then every landing) is taken off the pieces it
    * cuts with no LP; a landing starts from a piece's vertex mean (one Chebyshev LP only when the
@@ -366,8 +405,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     facetList = null;
     facetCtx = null;
     const dim = facet.dim;
-    const box = facet.yBox(bboxes[R.id]);
-    const made = facetPiece(facet.A, facet.b, facet.m, box.lo, box.hi, { dim, eps: coverEps, maxVerts: 4000 });
+    const ctx0: CoverContext = { dim, eps: coverEps, maxVerts: 4000 };
+    let made: ReturnType<typeof facetPiece> | null = fromRegionVertices(R, f, facet, ctx0);
+    if (made === null) {
+      const box = facet.yBox(bboxes[R.id]);
+      made = facetPiece(facet.A, facet.b, facet.m, box.lo, box.hi, ctx0);
+    }
     if (made === 'fail') return lastCoverFailure();
     const { piece: base, ctx } = made;
     if (base === null || base.widthBound <= minPiece) {
@@ -599,6 +642,10 @@ export interface FacetFrame extends Slice {
   /** the region's rows on the hyperplane (row `skip`, if given, left out) */
   sliceOf: (region: Pick<CriticalRegion, 'A' | 'b'>, skip?: number) => Slice | null;
   ballSlice: (y: ArrayLike<number>, r: number) => Slice;
+  /** for each row of the region (and the extra rows after them), its row in the frame, or −1 when the frame left it out */
+  rowMap: Int32Array;
+  /** θ on the hyperplane in the facet's coordinates (plain array, dim long) */
+  toY: (theta: ArrayLike<number>) => number[];
   /** a box in the facet's coordinates holding the image of the θ-box [lo, hi] on the hyperplane, padded by 1 % */
   yBox: (bb: { lo: ArrayLike<number>; hi: ArrayLike<number> }) => { lo: Float64Array; hi: Float64Array };
 }
@@ -628,7 +675,7 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
   const origin = a.map((x) => x * beta);
   // rows written straight into the slice's arrays (sized for every row, then cut to the rows kept):
   // per row a projected copy, its normalised copy and a growing list were most of this function's garbage
-  const project = (rows: number[][], rhs: number[], skipRow: number, slack: number): Slice | null => {
+  const project = (rows: number[][], rhs: number[], skipRow: number, slack: number, map?: Int32Array): Slice | null => {
     const outA = new Float64Array(rows.length * dim);
     const outB = new Float64Array(rows.length);
     let m = 0;
@@ -658,18 +705,30 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
         continue;
       }
       for (let k = 0; k < dim; k++) outA[o + k] = outA[o + k] / n;
+      if (map) map[i] = m;
       outB[m++] = r0 / n;
     }
     // views of exactly the rows kept (readers take the row length as A.length / m)
     return { A: m === rows.length ? outA : outA.subarray(0, m * dim), b: m === rows.length ? outB : outB.subarray(0, m), m };
   };
-  const own = project(A, b, skip, 0);
+  const rowMap = new Int32Array(A.length).fill(-1);
+  const own = project(A, b, skip, 0, rowMap);
   if (!own) return null;
   let verts: Float64Array[] | null | undefined;
   return {
     ...own,
     dim,
     vertices: () => (verts === undefined ? (verts = dim >= 2 ? polytopeVertices(own.A, own.b, own.m, dim) : null) : verts),
+    rowMap,
+    toY: (theta) => {
+      const y = new Array<number>(dim);
+      for (let k = 0; k < dim; k++) {
+        let s = 0;
+        for (let j = 0; j < d; j++) s += basis[k][j] * (theta[j] - origin[j]);
+        y[k] = s;
+      }
+      return y;
+    },
     lift: (y) => {
       const th = Float64Array.from(origin);
       for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k][j] * y[k];

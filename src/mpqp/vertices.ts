@@ -283,6 +283,10 @@ const witnessMargin = 1e-7;
  *    the LPs (else the side is not the region's and goes to its LP): the proven bound (+ tol.redundancy) is the
  *    bounding box's side, `sideKnown[2j]` (upper) / `[2j + 1]` (lower) set; other sides go to LPs.
  * Rows left (neither sure nor dropped) go to the caller's LPs.
+ * Returns the vertex set of the box cut by the rows marked sure in steps 1–2 (the rows sure on entry
+ * and those found by a witness; every tight list holds only those rows and box sides), or null when
+ * the vertex count passed its bound (the pass then stopped early). When every row the caller keeps
+ * at the end is one of those or a box side, this is the region's own vertex list.
  */
 export function vertexPass(
   A: Float64Array,
@@ -300,11 +304,11 @@ export function vertexPass(
   bbHi: Float64Array,
   scratch: PrefilterScratch,
   redundancyTol: number,
-): void {
+): VertexSet | null {
   const boxRow = m - 2 * n;
   const V = boxVertices(n, lo, up, boxRow);
   const eps = 1e-10;
-  for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return;
+  for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return null;
   const toLp = new Uint8Array(m);
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
@@ -348,7 +352,7 @@ export function vertexPass(
         break;
       }
       sure[h] = 1;
-      if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
+      if (!cutVertices(V, A, b, h, eps, maxVertices)) return null;
       vertexBox();
     }
   }
@@ -399,6 +403,7 @@ export function vertexPass(
     if (v < 0) continue;
     if (vertexBound(c, V.tight[v], n, bound) <= b[r] + redundancyTol) alive[r] = 0;
   }
+  return V;
 }
 
 /** Whether x breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */

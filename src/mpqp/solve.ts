@@ -656,26 +656,70 @@ export interface FacetFrame extends Slice {
  */
 export function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number, bbox?: BoundingBox): FacetFrame | null {
   const d = a.length;
-  const basis: number[][] = [];
-  for (let e = 0; e < d && basis.length < d - 1; e++) {
-    const v = new Array<number>(d).fill(0);
+  const dim = d - 1;
+  // basis rows k·d .. k·d + d (Gram–Schmidt of the unit vectors against a and the rows before)
+  const basis = new Float64Array(Math.max(dim, 0) * d);
+  const v = new Float64Array(d);
+  let nb = 0;
+  for (let e = 0; e < d && nb < dim; e++) {
+    v.fill(0);
     v[e] = 1;
-    for (const u of [a, ...basis]) {
+    for (let u = -1; u < nb; u++) {
       let s = 0;
-      for (let j = 0; j < d; j++) s += u[j] * v[j];
-      for (let j = 0; j < d; j++) v[j] -= s * u[j];
+      if (u < 0) for (let j = 0; j < d; j++) s += a[j] * v[j];
+      else for (let j = 0; j < d; j++) s += basis[u * d + j] * v[j];
+      if (u < 0) for (let j = 0; j < d; j++) v[j] -= s * a[j];
+      else for (let j = 0; j < d; j++) v[j] -= s * basis[u * d + j];
     }
     let n = 0;
-    for (const x of v) n += x * x;
+    for (let j = 0; j < d; j++) n += v[j] * v[j];
     n = Math.sqrt(n);
     if (n < 1e-8) continue;
-    basis.push(v.map((x) => x / n));
+    for (let j = 0; j < d; j++) basis[nb * d + j] = v[j] / n;
+    nb++;
   }
-  const dim = d - 1;
-  const origin = a.map((x) => x * beta);
+  const origin = new Float64Array(d);
+  for (let j = 0; j < d; j++) origin[j] = a[j] * beta;
+  const frame = new Frame(d, basis, origin, coverSlack, bbox ?? null);
+  return frame.init(A, b, skip) ? frame : null;
+}
+
+/**
+ * A facet frame (`slicePolytope`): one object of one shape per facet, its maps as methods (closures
+ * per facet and a spread copy of the slice were a tenth of a 4-D exploration's time).
+ */
+class Frame implements FacetFrame {
+  A: Float64Array = EMPTY;
+  b: Float64Array = EMPTY;
+  m = 0;
+  readonly dim: number;
+  rowMap: Int32Array = EMPTY_INT;
+  private verts: Float64Array[] | null | undefined = undefined;
+  constructor(
+    private readonly d: number,
+    private readonly basis: Float64Array,
+    private readonly origin: Float64Array,
+    private readonly coverSlack: number,
+    private readonly bbox: BoundingBox | null,
+  ) {
+    this.dim = d - 1;
+  }
+
+  /** The facet's own rows (row `skip` left out); false when a row excludes the whole hyperplane. */
+  init(A: number[][], b: number[], skip: number): boolean {
+    this.rowMap = new Int32Array(A.length).fill(-1);
+    const own = this.project(A, b, skip, 0, this.rowMap);
+    if (!own) return false;
+    this.A = own.A;
+    this.b = own.b;
+    this.m = own.m;
+    return true;
+  }
+
   // rows written straight into the slice's arrays (sized for every row, then cut to the rows kept):
   // per row a projected copy, its normalised copy and a growing list were most of this function's garbage
-  const project = (rows: number[][], rhs: number[], skipRow: number, slack: number, map?: Int32Array): Slice | null => {
+  private project(rows: number[][], rhs: number[], skipRow: number, slack: number, map: Int32Array | null): Slice | null {
+    const { d, dim, basis, origin, bbox } = this;
     const outA = new Float64Array(rows.length * dim);
     const outB = new Float64Array(rows.length);
     let m = 0;
@@ -695,7 +739,7 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
       let n = 0;
       for (let k = 0; k < dim; k++) {
         let s = 0;
-        for (let j = 0; j < d; j++) s += row[j] * basis[k][j];
+        for (let j = 0; j < d; j++) s += row[j] * basis[k * d + j];
         outA[o + k] = s;
         n += s * s;
       }
@@ -710,67 +754,75 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
     }
     // views of exactly the rows kept (readers take the row length as A.length / m)
     return { A: m === rows.length ? outA : outA.subarray(0, m * dim), b: m === rows.length ? outB : outB.subarray(0, m), m };
-  };
-  const rowMap = new Int32Array(A.length).fill(-1);
-  const own = project(A, b, skip, 0, rowMap);
-  if (!own) return null;
-  let verts: Float64Array[] | null | undefined;
-  return {
-    ...own,
-    dim,
-    vertices: () => (verts === undefined ? (verts = dim >= 2 ? polytopeVertices(own.A, own.b, own.m, dim) : null) : verts),
-    rowMap,
-    toY: (theta) => {
-      const y = new Array<number>(dim);
-      for (let k = 0; k < dim; k++) {
-        let s = 0;
-        for (let j = 0; j < d; j++) s += basis[k][j] * (theta[j] - origin[j]);
-        y[k] = s;
+  }
+
+  vertices(): Float64Array[] | null {
+    if (this.verts === undefined) this.verts = this.dim >= 2 ? polytopeVertices(this.A, this.b, this.m, this.dim) : null;
+    return this.verts;
+  }
+
+  toY(theta: ArrayLike<number>): number[] {
+    const { d, dim, basis, origin } = this;
+    const y = new Array<number>(dim);
+    for (let k = 0; k < dim; k++) {
+      let s = 0;
+      for (let j = 0; j < d; j++) s += basis[k * d + j] * (theta[j] - origin[j]);
+      y[k] = s;
+    }
+    return y;
+  }
+
+  lift(y: ArrayLike<number>): Float64Array {
+    const { d, dim, basis } = this;
+    const th = Float64Array.from(this.origin);
+    for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k * d + j] * y[k];
+    return th;
+  }
+
+  /** a neighbour covers the facet up to coverSlack: slivers thinner than that between two regions count as covered */
+  sliceOf(region: Pick<CriticalRegion, 'A' | 'b'>, skipRow = -1): Slice | null {
+    return this.project(region.A, region.b, skipRow, this.coverSlack, null);
+  }
+
+  ballSlice(y: ArrayLike<number>, r: number): Slice {
+    // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
+    const dim = this.dim;
+    const Ab = new Float64Array(2 * dim * dim);
+    const bb = new Float64Array(2 * dim);
+    const h = r / Math.sqrt(Math.max(dim, 1));
+    for (let k = 0; k < dim; k++) {
+      Ab[2 * k * dim + k] = 1;
+      bb[2 * k] = y[k] + h;
+      Ab[(2 * k + 1) * dim + k] = -1;
+      bb[2 * k + 1] = -(y[k] - h);
+    }
+    return { A: Ab, b: bb, m: 2 * dim };
+  }
+
+  yBox(bb: { lo: ArrayLike<number>; hi: ArrayLike<number> }): { lo: Float64Array; hi: Float64Array } {
+    const { d, dim, basis, origin } = this;
+    const ylo = new Float64Array(dim);
+    const yhi = new Float64Array(dim);
+    let w = 0;
+    for (let j = 0; j < d; j++) w = Math.max(w, bb.hi[j] - bb.lo[j]);
+    for (let k = 0; k < dim; k++) {
+      let l = 0;
+      let h = 0;
+      for (let j = 0; j < d; j++) {
+        const u = basis[k * d + j] * (bb.lo[j] - origin[j]);
+        const v = basis[k * d + j] * (bb.hi[j] - origin[j]);
+        l += Math.min(u, v);
+        h += Math.max(u, v);
       }
-      return y;
-    },
-    lift: (y) => {
-      const th = Float64Array.from(origin);
-      for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k][j] * y[k];
-      return th;
-    },
-    // a neighbour covers the facet up to coverSlack: slivers thinner than that between two regions count as covered
-    sliceOf: (region, skipRow = -1) => project(region.A, region.b, skipRow, coverSlack),
-    ballSlice: (y, r) => {
-      // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
-      const Ab = new Float64Array(2 * dim * dim);
-      const bb = new Float64Array(2 * dim);
-      const h = r / Math.sqrt(Math.max(dim, 1));
-      for (let k = 0; k < dim; k++) {
-        Ab[2 * k * dim + k] = 1;
-        bb[2 * k] = y[k] + h;
-        Ab[(2 * k + 1) * dim + k] = -1;
-        bb[2 * k + 1] = -(y[k] - h);
-      }
-      return { A: Ab, b: bb, m: 2 * dim };
-    },
-    yBox: (bb) => {
-      const ylo = new Float64Array(dim);
-      const yhi = new Float64Array(dim);
-      let w = 0;
-      for (let j = 0; j < d; j++) w = Math.max(w, bb.hi[j] - bb.lo[j]);
-      for (let k = 0; k < dim; k++) {
-        let l = 0;
-        let h = 0;
-        for (let j = 0; j < d; j++) {
-          const u = basis[k][j] * (bb.lo[j] - origin[j]);
-          const v = basis[k][j] * (bb.hi[j] - origin[j]);
-          l += Math.min(u, v);
-          h += Math.max(u, v);
-        }
-        const pad = 0.01 * (h - l) + 1e-3 * w + 1e-9;
-        ylo[k] = l - pad;
-        yhi[k] = h + pad;
-      }
-      return { lo: ylo, hi: yhi };
-    },
-  };
+      const pad = 0.01 * (h - l) + 1e-3 * w + 1e-9;
+      ylo[k] = l - pad;
+      yhi[k] = h + pad;
+    }
+    return { lo: ylo, hi: yhi };
+  }
 }
+const EMPTY = new Float64Array(0);
+const EMPTY_INT = new Int32Array(0);
 
 /** True when region S has a facet on the hyperplane a·θ = β with the opposite orientation (−a·θ ≤ −β). */
 function sharesHyperplane(S: CriticalRegion, a: number[], beta: number): boolean {

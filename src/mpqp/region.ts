@@ -6,6 +6,8 @@ import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
 
+/** the Gram matrix of a region's rows (facetRowsByLp; one per thread) */
+let gramScratch = new Float64Array(0);
 /** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
 const invScratch = spdScratch();
 
@@ -331,9 +333,32 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     }
     if (hit >= 0 && !tie) sure[hit] = 1;
   };
+  // rays along every row normal: the ray of row r meets row q at slack_q / (a_q·a_r), and a_q·a_r is
+  // a_r·a_q bit for bit (the same products summed in the same order), so each product is formed once
+  if (gramScratch.length < m * m) gramScratch = new Float64Array(2 * m * m);
+  const gram = gramScratch;
+  for (let r = 0; r < m; r++)
+    for (let q = r; q < m; q++) {
+      let g = 0;
+      for (let j = 0; j < nt; j++) g += Af[q * nt + j] * Af[r * nt + j];
+      gram[r * m + q] = g;
+      gram[q * m + r] = g;
+    }
   for (let r = 0; r < m; r++) {
-    for (let j = 0; j < nt; j++) dir[j] = Af[r * nt + j];
-    shoot();
+    let best = Infinity;
+    let hit = -1;
+    let tie = false;
+    for (let q = 0; q < m; q++) {
+      const ad = gram[r * m + q];
+      if (ad <= 1e-12) continue;
+      const t = slack[q] / ad;
+      if (hit < 0 || t < best - 1e-12 * (1 + best)) {
+        best = t;
+        hit = q;
+        tie = false;
+      } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
+    }
+    if (hit >= 0 && !tie) sure[hit] = 1;
   }
   const useVertices = proofs && nt <= maxVertexDim;
   for (let j = 0; j < nt && !useVertices; j++)

@@ -1,3 +1,5 @@
+import { newPoint } from './vertices.js';
+
 /**
  * Facet covering by vertex lists: the part of a facet not yet covered by the slices of known
  * neighbours, kept as a list of convex pieces, each held both as rows (A y ≤ b) and as its vertices
@@ -67,6 +69,8 @@ function popCount(x: number): number {
 
 /** scratch of rankAtLeast: an orthonormal basis, row by row */
 let basisScratch = new Float64Array(64);
+/** scratch of subtractSlice: the reversed row (a typed array like every other row clipPiece reads) */
+let flipScratch = new Float64Array(8);
 /** scratch of clipPiece: each vertex's residual on the cutting row */
 let sScratch = new Float64Array(64);
 
@@ -188,7 +192,7 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
       const c = common(tu, P.tight[w]);
       if (!rankAtLeast(A, c, dim, dim - 1)) continue;
       const lam = s[u] / (s[u] - s[w]);
-      const x = new Array<number>(dim);
+      const x = newPoint(dim);
       for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);
       c.push(k);
       // a crossing point within eps of one found before (numerical near-degeneracy): one vertex
@@ -285,7 +289,7 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   const verts: number[][] = [];
   const tight: number[][] = [];
   for (let mask = 0; mask < 1 << dim; mask++) {
-    const x = new Array<number>(dim);
+    const x = newPoint(dim);
     const t: number[] = [];
     for (let k = 0; k < dim; k++) {
       const up = (mask >> k) & 1;
@@ -378,8 +382,9 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
   depth.sort((x, y) => y.d - x.d || x.i - y.i);
   const out: CoverPiece[] = [];
   let cur: CoverPiece = P;
+  if (flipScratch.length < dim) flipScratch = new Float64Array(2 * dim);
+  const flipped = flipScratch; // read by clipPiece during the call only (rows are copied)
   for (const { i } of depth) {
-    const flipped = new Array<number>(dim);
     for (let k = 0; k < dim; k++) flipped[k] = -SA[i * dim + k];
     const beyond = clipPiece(cur, flipped, -Sb[i], ctx);
     if (beyond === 'fail') return 'fail';

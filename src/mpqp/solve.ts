@@ -5,6 +5,7 @@ import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
+import { newPoint } from './vertices.js';
 import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
 /**
@@ -763,7 +764,7 @@ class Frame implements FacetFrame {
 
   toY(theta: ArrayLike<number>): number[] {
     const { d, dim, basis, origin } = this;
-    const y = new Array<number>(dim);
+    const y = newPoint(dim);
     for (let k = 0; k < dim; k++) {
       let s = 0;
       for (let j = 0; j < d; j++) s += basis[k * d + j] * (theta[j] - origin[j]);

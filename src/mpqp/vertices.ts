@@ -23,6 +23,17 @@ export interface VertexSet {
 }
 
 /**
+ * A new point of n coordinates for a vertex list: a plain array whose elements are doubles from
+ * birth. A box corner with whole-number coordinates would otherwise start as an array of small
+ * integers while cut points hold doubles, and V8 would deoptimise the vertex loops on the second
+ * elements kind ("wrong map"). Every vertex array of vertices.ts, cover.ts and the facet frames is
+ * made here.
+ */
+export function newPoint(n: number): number[] {
+  return new Array<number>(n).fill(0.5);
+}
+
+/**
  * The 2ⁿ corners of the box lo ≤ θ ≤ hi, whose sides are rows boxRow + 2j (θ_j ≤ hi_j) and
  * boxRow + 2j + 1 (−θ_j ≤ −lo_j) of the caller's A.
  */
@@ -30,7 +41,7 @@ export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<numb
   const x: number[][] = [];
   const tight: number[][] = [];
   for (let mask = 0; mask < 1 << n; mask++) {
-    const v = new Array<number>(n);
+    const v = newPoint(n);
     const t = new Array<number>(n);
     for (let j = 0; j < n; j++) {
       const up = (mask >> j) & 1;
@@ -181,7 +192,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
   const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
     if (x.length >= maxVertices) return false;
     const t = s[p] / (s[p] - s[q]);
-    const xv = new Array<number>(n);
+    const xv = newPoint(n);
     for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
     x.push(xv);
     tight.push(withRow(common, k, r));

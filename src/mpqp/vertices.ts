@@ -93,12 +93,19 @@ function rankOf(A: Float64Array, n: number, rows: ArrayLike<number>, k: number):
   return rank;
 }
 
-/** Sorted intersection of two sorted index lists into `out`; returns its length. */
-function intersect(a: readonly number[], b: readonly number[], out: Int32Array): number {
+/**
+ * Sorted intersection of two sorted index lists into `out`; returns its length when that is at least
+ * `need`, else some number below `need` (the scan stops once either list has lost more entries than
+ * leave `need` in common; `out` is then partial).
+ */
+function intersect(a: readonly number[], b: readonly number[], out: Int32Array, need: number): number {
   let i = 0;
   let j = 0;
   let k = 0;
+  const spareA = a.length - need;
+  const spareB = b.length - need;
   while (i < a.length && j < b.length) {
+    if (i - k > spareA || j - k > spareB) return k;
     if (a[i] === b[j]) {
       out[k++] = a[i];
       i++;
@@ -208,7 +215,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
           const list = byFace.get(faceKey(Tp, omit));
           if (!list) continue;
           for (const q of list) {
-            const k = intersect(Tp, V.tight[q], buf);
+            const k = intersect(Tp, V.tight[q], buf, n - 1);
             if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
           }
         }
@@ -216,7 +223,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
         for (const q of insideAll) {
           const Tq = V.tight[q];
           if (Tq.length !== n) continue; // with the degenerate ones below
-          const k = intersect(Tp, Tq, buf);
+          const k = intersect(Tp, Tq, buf, n - 1);
           if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
         }
     }
@@ -224,7 +231,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     for (const q of others) {
       const Tq = V.tight[q];
       if (cutScratch.buf.length < Tq.length) cutScratch.buf = new Int32Array(2 * Tq.length);
-      const k = intersect(Tp, Tq, cutScratch.buf);
+      const k = intersect(Tp, Tq, cutScratch.buf, n - 1);
       if (k < n - 1) continue;
       if (rankOf(A, n, cutScratch.buf, k) !== n - 1) continue;
       if (!addCrossing(p, q, cutScratch.buf, k)) return false;

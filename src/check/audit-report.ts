@@ -108,7 +108,7 @@ function details(r: AuditReport, c: CheckResult<unknown>): string {
   if (c === r.embedded) {
     const d = r.embedded.data;
     return rows([
-      ['build', `${d.precision}, ${d.search} search`],
+      ['build', `${d.precision}, ${d.search} search${d.searchRequested === 'auto' ? ' (picked by the cost model, --search auto)' : ''}`],
       ['certificate', d.certificate ? d.certificate.verdict : 'not needed for the double build'],
       ['worst-case multiply-adds', String(d.cost.worstMultiplyAdds)],
       ['worst-case comparisons', String(d.cost.worstComparisons)],

@@ -10,8 +10,9 @@ import type { LoadedProblem, MpcModel } from '../problem/types.js';
 import type { TableFile } from '../table/format.js';
 import { problemHash } from '../table/build.js';
 import { InputError } from '../io/input-error.js';
-import { emit } from '../emit/index.js';
-import type { EmitArrays } from '../emit/arrays.js';
+import { emit, type SearchChoice } from '../emit/index.js';
+import type { EmitArrays, SearchKind } from '../emit/arrays.js';
+import { findTarget } from '../emit/targets/index.js';
 import { FixedOverflowError, type FixedBuild } from '../emit/fixed.js';
 import { makeSliceSpec } from '../partition/slice.js';
 import { renderMapSvg } from '../plot/svg.js';
@@ -48,34 +49,47 @@ export function coverageMaps(table: TableFile, mpqp: MpqpProblem): AuditFigure[]
 }
 
 /**
- * The C build of `table` in `precision` ("float", "double", "q15", "q31") with `search`, its
+ * Throws InputError (the command line, --search) when the C target of `precision` cannot print the
+ * named structure (the fixed-point builds print tree and sequential search only); auto always fits.
+ */
+export function checkAuditSearch(precision: string, search: SearchChoice): void {
+  const supported = findTarget('c', precision)?.searches ?? ['tree', 'sequential'];
+  if (search !== 'auto' && !supported.includes(search))
+    throw new InputError('(command line)', '--search', `the ${precision} build prints ${supported.join(' or ')} search, not ${search}`);
+}
+
+/**
+ * The C build of `table` in `precision` ("float", "double", "q15", "q31") with `searchRequested` search (auto: the structure emit's cost model picks), its
  * certificate against the double law (seeded by `seed`; none for double) and its cost. A
  * fixed-point format too narrow for the table cannot be built: the result then says NOT SAFE with
  * the reason instead of throwing.
  */
-export function embeddedBuild(table: TableFile, precision: string, search: 'tree' | 'sequential', seed: number): EmbeddedData {
+export function embeddedBuild(table: TableFile, precision: string, searchRequested: SearchChoice, seed: number): EmbeddedData {
   const none = { worstMultiplyAdds: 0, worstComparisons: 0, worstDepth: 0, bytes: 0 };
+  checkAuditSearch(precision, searchRequested);
+  let search: SearchKind = searchRequested === 'auto' ? 'sequential' : searchRequested;
   try {
-    const build = emit<EmitArrays | FixedBuild>(table, { lang: 'c', precision, search, prefix: 'audit_law' });
+    const build = emit<EmitArrays | FixedBuild>(table, { lang: 'c', precision, search: searchRequested, prefix: 'audit_law' });
+    search = build.search;
     const cost = { worstMultiplyAdds: build.cost.worstMultiplyAdds, worstComparisons: build.cost.worstComparisons, worstDepth: build.cost.worstDepth, bytes: build.cost.bytes[precision]?.total ?? 0 };
-    if (precision === 'double') return { precision, search, certificate: null, cost };
+    if (precision === 'double') return { precision, search, searchRequested, certificate: null, cost };
     if (precision === 'float') {
       const c = certifyFloat(table, build.arrays as EmitArrays, { seed });
-      return { precision, search, cost, certificate: { safe: c.safe, verdict: c.verdict, maxAbsDiff: c.maxAbsDiff, tolerance: c.tolerance, points: c.points.total, lost: c.lostInFloat, worstTheta: c.worstTheta } };
+      return { precision, search, searchRequested, cost, certificate: { safe: c.safe, verdict: c.verdict, maxAbsDiff: c.maxAbsDiff, tolerance: c.tolerance, points: c.points.total, lost: c.lostInFloat, worstTheta: c.worstTheta } };
     }
     const c = certifyFixed(table, build.arrays as FixedBuild, { seed });
-    return { precision, search, cost, certificate: { safe: c.safe, verdict: c.verdict, maxAbsDiff: c.maxAbsDiff, tolerance: c.tolerance, points: c.points.total, lost: c.lostInFixed, worstTheta: c.worstTheta } };
+    return { precision, search, searchRequested, cost, certificate: { safe: c.safe, verdict: c.verdict, maxAbsDiff: c.maxAbsDiff, tolerance: c.tolerance, points: c.points.total, lost: c.lostInFixed, worstTheta: c.worstTheta } };
   } catch (e) {
     if (!(e instanceof FixedOverflowError)) throw e;
-    return { precision, search, cost: none, certificate: { safe: false, verdict: `NOT SAFE: no ${precision} build (${e.message})`, maxAbsDiff: Infinity, tolerance: 0, points: 0, lost: 0, worstTheta: null } };
+    return { precision, search, searchRequested, cost: none, certificate: { safe: false, verdict: `NOT SAFE: no ${precision} build (${e.message})`, maxAbsDiff: Infinity, tolerance: 0, points: 0, lost: 0, worstTheta: null } };
   }
 }
 
 /** Options of `auditTable`. */
 export interface AuditTableOptions {
-  /** embedded build to certify (default float, tree search) */
+  /** embedded build to certify (default float, and the structure emit's cost model picks) */
   precision?: string;
-  search?: 'tree' | 'sequential';
+  search?: SearchChoice;
   /** seeded sample size (agreement; coverage and stability use multiples), seed, closed-loop steps */
   samples?: number;
   seed?: number;
@@ -123,7 +137,7 @@ export function auditTable(table: TableFile, problem: { loaded: LoadedProblem; m
   if (!model) throw new InputError(o.problemFile ?? tableFile, 'mpqp', 'the problem is a directly given mpQP: it has no plant, so invariance and closed-loop runs cannot be audited');
   const seed = o.seed ?? 1;
   o.onStage?.('embedded build');
-  const embedded = embeddedBuild(table, o.precision ?? 'float', o.search ?? 'tree', seed);
+  const embedded = embeddedBuild(table, o.precision ?? 'float', o.search ?? 'auto', seed);
   let closedLoop: AuditOutcome['closedLoop'] = null;
   const report = runAudit(
     {

@@ -25,6 +25,8 @@ import { checkInvariance, type InvarianceReport } from './invariance.js';
 import { limitsOf, plantOf, simulateFromTheta, splitTheta, stepPlant, summarise, type RunResult, type SimulationSetup, type SimulationSummary } from './simulate.js';
 import { polytopeVertices } from '../partition/tree-poly.js';
 import { thetaBlock } from '../formulation/layout.js';
+import type { SearchKind } from '../emit/arrays.js';
+import type { SearchChoice } from '../emit/index.js';
 import { steadyStateTarget } from '../formulation/target.js';
 
 /** INFO: evidence reported where no pass/fail criterion applies (it never fails the audit). */
@@ -105,7 +107,10 @@ export interface StabilityData {
 export interface EmbeddedData {
   /** float, double, or a fixed-point format (q15, q31) of the C target */
   precision: string;
-  search: 'tree' | 'sequential';
+  /** the point-location structure of the build (the one the cost model picked when `searchRequested` is auto) */
+  search: SearchKind;
+  /** what the caller asked for: a structure, or auto (the cost model of \`emit\`) */
+  searchRequested?: SearchChoice;
   /** the float or fixed-point certificate; null for the double build */
   certificate: null | { safe: boolean; verdict: string; maxAbsDiff: number; tolerance: number; points: number; lost: number; worstTheta: number[] | null };
   cost: { worstMultiplyAdds: number; worstComparisons: number; worstDepth: number; bytes: number };
@@ -429,7 +434,7 @@ export function checkEmbedded(inp: AuditInputs): CheckResult<EmbeddedData> {
     name: 'Embedded build',
     verdict: ok ? 'PASS' : 'FAIL',
     line: e.certificate ? `${e.certificate.verdict}; ${cost}` : `double build: the C evaluates the table in the same double arithmetic; ${cost}`,
-    method: `tessera's C generator for ${e.precision}, ${e.search} search. The ${e.precision === 'float' ? 'float certificate replays the float arithmetic of the generated C (Math.fround after every operation)' : e.precision === 'double' ? 'double build needs no certificate; a certificate would replay its arithmetic' : 'fixed-point certificate replays the exact integer arithmetic of the generated C, with its overflow proof,'} against the double law on a seeded uniform sample plus facet points; cost figures count the worst path through the search and the bytes of every const array.`,
+    method: `tessera's C generator for ${e.precision}, ${e.search} search${e.searchRequested === 'auto' ? ' (picked by the cost model of emit --search auto)' : ''}. The ${e.precision === 'float' ? 'float certificate replays the float arithmetic of the generated C (Math.fround after every operation)' : e.precision === 'double' ? 'double build needs no certificate; a certificate would replay its arithmetic' : 'fixed-point certificate replays the exact integer arithmetic of the generated C, with its overflow proof,'} against the double law on a seeded uniform sample plus facet points; cost figures count the worst path through the search and the bytes of every const array.`,
     witness: ok ? null : (e.certificate?.worstTheta ?? null),
     data: e,
   };

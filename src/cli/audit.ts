@@ -7,7 +7,8 @@ import { EXIT } from './exit.js';
 import { createdNote } from './common.js';
 import { readTableFile } from '../table/file.js';
 import { consoleSummary, renderAuditMarkdown } from '../check/audit-report.js';
-import { auditHtml, auditTable, checkAuditable } from '../check/audit-table.js';
+import { auditHtml, auditTable, checkAuditable, checkAuditSearch } from '../check/audit-table.js';
+import { SEARCH_CHOICES, type SearchChoice } from '../emit/index.js';
 import { targetPrecisions } from '../emit/targets/index.js';
 import { loadTableProblem, nonNegativeInt, positiveInt } from './map.js';
 
@@ -23,7 +24,7 @@ interface AuditCliOptions {
   seed: number;
   steps: number;
   precision: string;
-  search: 'tree' | 'sequential';
+  search: SearchChoice;
 }
 
 function toolVersion(): string {
@@ -54,11 +55,12 @@ export function register(program: Command): void {
     .option('--seed <n>', 'seed of every sample', nonNegativeInt('--seed'), 1)
     .option('--steps <n>', 'steps of each closed-loop run', positiveInt('--steps'), 60)
     .option('--precision <p>', `embedded build: ${targetPrecisions('c').join(', ')}`, choice('--precision', targetPrecisions('c')), 'float')
-    .option('--search <s>', 'embedded build: tree or sequential', choice('--search', ['tree', 'sequential'] as const), 'tree')
+    .option('--search <s>', `embedded build's point location, as for emit: ${SEARCH_CHOICES.join(', ')} (auto: the cost model picks; the fixed-point builds print tree or sequential)`, choice('--search', SEARCH_CHOICES), 'auto')
     .option('-q, --quiet', 'print nothing but errors; the exit code tells (without -o the report is still printed)')
     .action((tableFile: string, o: AuditCliOptions) => {
       if (o.json && o.md) throw new InputError(CLI, '--json', 'give at most one of --json and --md');
       if (!o.output && !o.json && !o.md) throw new InputError(CLI, '--output', 'give -o report.html (or --json / --md to print the report)');
+      checkAuditSearch(o.precision, o.search);
       const created = o.output
         ? checkOutputPath(o.output, '-o', o.json ? { kind: 'file', extensions: ['.json'], what: 'a JSON report' } : o.md ? { kind: 'file', extensions: ['.md'], what: 'a Markdown report' } : { kind: 'file', extensions: ['.html', '.htm'], what: 'an HTML report' })
         : null;

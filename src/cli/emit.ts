@@ -7,7 +7,7 @@ import { hasInputLimits } from '../table/clamp.js';
 import { EXIT } from './exit.js';
 import { createdNote } from './common.js';
 import { readTableFile } from '../table/file.js';
-import type { SearchChoice } from '../emit/index.js';
+import { SEARCH_CHOICES, type SearchChoice } from '../emit/index.js';
 import { emitBundle, type EmitBundle } from '../emit/bundle.js';
 import { readTreeFile } from '../emit/tree-file.js';
 import { findTarget, targetLanguages, targetPrecisions, TARGETS } from '../emit/targets/index.js';
@@ -102,7 +102,7 @@ export function register(program: Command): void {
     .option(
       '--search <s>',
       'point location: auto (the cost model picks; default), tree (hyperplane tree, one region per leaf), capped (depth-capped hyperplane tree with short leaves), broad (the same tree stopped early: broad leaves, shorter descent), boxtree (bounding-box tree), grid (uniform cell grid over the box) or sequential',
-      choice('--search', ['auto', 'tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential'] as const),
+      choice('--search', SEARCH_CHOICES),
       'auto',
     )
     .option('--prefix <name>', 'C name prefix: NAME.h, NAME.c, NAME_eval', 'tessera_law')

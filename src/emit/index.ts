@@ -18,6 +18,8 @@ import type { EmitTarget, TargetCost, TargetFile } from './targets/target.js';
 export type { Precision, SearchKind } from './arrays.js';
 /** `auto`: every structure is built and the cost model picks one (src/emit/choose.ts). */
 export type SearchChoice = SearchKind | 'auto';
+/** What `--search` accepts (emit and audit): auto, then every structure. */
+export const SEARCH_CHOICES: readonly SearchChoice[] = ['auto', ...SEARCH_KINDS];
 
 /** "sha256:<hex>" of the table file's canonical JSON (hashed piece by piece: no string of the whole table). */
 export function tableHash(table: TableFile): string {

@@ -138,13 +138,40 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(JSON.parse(d.stdout).identity.verdict).toBe('FAIL');
   });
 
+  it('--search takes what emit takes: auto (default, the structure emit picks) and every structure by name', async () => {
+    // the default: the same structure as `tessera emit` with its default --search auto on the same table
+    const emitDir = join(dir, 'emit-auto');
+    const e = spawnSync(process.execPath, [cli, 'emit', longTable, '-o', emitDir, '--report', join(dir, 'emit-auto.json'), '-q'], { encoding: 'utf8' });
+    expect(e.status, e.stderr).toBe(0);
+    const emitted = JSON.parse(readFileSync(join(dir, 'emit-auto.json'), 'utf8'));
+    const d = JSON.parse((await run([longTable, '--json', ...fast])).stdout).embedded;
+    expect(d.data.searchRequested).toBe('auto');
+    expect(d.data.search).toBe(emitted.search);
+    expect(d.data.cost.worstMultiplyAdds).toBe(emitted.cost.worstMultiplyAdds);
+    expect(d.verdict).toBe('PASS');
+    // each structure by name: built as named, certified in float (the certificate compares the float
+    // build with the table's double law, which the agreement check holds against quadprog)
+    for (const s of ['capped', 'broad', 'boxtree', 'grid', 'tree', 'sequential']) {
+      const r = await run([longTable, '--json', ...fast, '--search', s]);
+      expect(r.status, `${s}: ${r.stderr}`).toBe(0);
+      const j = JSON.parse(r.stdout).embedded;
+      expect(j.data.search).toBe(s);
+      expect(j.data.searchRequested).toBe(s);
+      expect(j.data.certificate.safe, s).toBe(true);
+      expect(j.data.certificate.lost, s).toBe(0);
+    }
+    const md = await run([longTable, '--md', ...fast, '--search', 'boxtree']);
+    expect(md.stdout).toMatch(/float, boxtree search/);
+  });
+
   it('bad input: one line naming file, key and reason, exit 2, no report', async () => {
     const out = join(dir, 'never.html');
     const cases: [string[], RegExp][] = [
       [[longTable], /--output: give -o report\.html/],
       [[longTable, '--json', '--md'], /--json: give at most one of --json and --md/],
       [[longTable, '-o', out, '--precision', 'half'], /--precision: expected float or double or q15 or q31, got "half"/],
-      [[longTable, '-o', out, '--search', 'linear'], /--search: expected tree or sequential/],
+      [[longTable, '-o', out, '--search', 'linear'], /--search: expected auto or tree or capped or broad or boxtree or grid or sequential, got "linear"/],
+      [[longTable, '-o', out, '--precision', 'q31', '--search', 'boxtree'], /--search: the q31 build prints tree or sequential search, not boxtree/],
       [[longTable, '-o', out, '--samples', '0'], /--samples: expected a positive integer/],
       [[longTable, '-o', out, '--steps', 'x'], /--steps: expected a positive integer/],
       [[longTable, '-o', out, '--seed', '-1'], /--seed: expected a non-negative integer/],

@@ -1,5 +1,5 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
-import { qpWorkspace } from './pointqp.js';
+import { qpWorkspace, rowNonzeros } from './pointqp.js';
 import { spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
@@ -114,7 +114,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     return true;
   };
   const { G, E, w } = problem;
-  const { ptr, idx } = nonzerosOf(problem);
+  const { ptr, idx } = rowNonzeros(problem);
   // the sums run over G_i's nonzeros in column order: the same partial sums as over every column,
   // since adding a zero product changes nothing but, at most, the sign of a zero sum; a sum that
   // ends at zero is redone over every column, so the rows keep their bits (zero signs included)
@@ -227,23 +227,6 @@ function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVerti
     tight.push(u);
   }
   return { x: V.x, tight };
-}
-
-/** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), per problem. */
-const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
-function nonzerosOf(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array } {
-  const hit = gNonzeros.get(problem);
-  if (hit) return hit;
-  const { G, nc, nz } = problem;
-  const ptr = new Int32Array(nc + 1);
-  const cols: number[] = [];
-  for (let i = 0; i < nc; i++) {
-    for (let q = 0; q < nz; q++) if (G[i * nz + q] !== 0) cols.push(q);
-    ptr[i + 1] = cols.length;
-  }
-  const out = { ptr, idx: Int32Array.from(cols) };
-  gNonzeros.set(problem, out);
-  return out;
 }
 
 /** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */

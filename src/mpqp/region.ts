@@ -127,13 +127,28 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     const p0 = finite ? ptr[i] : 0;
     const p1 = finite ? ptr[i + 1] : 0;
     const o = m * nt;
-    for (let j = 0; j < nt; j++) Af[o + j] = -E[i * nt + j];
     let c = -w[i];
-    for (let p = p0; p < p1; p++) {
-      const q = idx[p];
-      const g = G[i * nz + q];
-      for (let j = 0; j < nt; j++) Af[o + j] += g * Zth[q * nt + j];
-      c += g * zc[q];
+    if (nt === 2) {
+      // the same sums in two locals (no store per product)
+      let s0 = -E[i * 2];
+      let s1 = -E[i * 2 + 1];
+      for (let p = p0; p < p1; p++) {
+        const q = idx[p];
+        const g = G[i * nz + q];
+        s0 += g * Zth[q * 2];
+        s1 += g * Zth[q * 2 + 1];
+        c += g * zc[q];
+      }
+      Af[o] = s0;
+      Af[o + 1] = s1;
+    } else {
+      for (let j = 0; j < nt; j++) Af[o + j] = -E[i * nt + j];
+      for (let p = p0; p < p1; p++) {
+        const q = idx[p];
+        const g = G[i * nz + q];
+        for (let j = 0; j < nt; j++) Af[o + j] += g * Zth[q * nt + j];
+        c += g * zc[q];
+      }
     }
     for (let j = 0; j < nt; j++) {
       if (Af[o + j] !== 0 && finite) continue;

@@ -6,6 +6,50 @@ import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
 
+/**
+ * buildRegion's work arrays, grown on demand (one set per thread): every entry read is written in
+ * the same call first, and nothing in them outlives the call (stored rows, laws and vertices are
+ * copies), so a region allocates only what it keeps.
+ */
+interface BuildScratch {
+  inA: Uint8Array;
+  Lth: Float64Array;
+  lc: Float64Array;
+  MAA: Float64Array;
+  Zth: Float64Array;
+  zc: Float64Array;
+  Af: Float64Array;
+  bf: Float64Array;
+  kinds: Uint8Array;
+  rowOf: Int32Array;
+}
+const bws: BuildScratch = {
+  inA: new Uint8Array(0),
+  Lth: new Float64Array(0),
+  lc: new Float64Array(0),
+  MAA: new Float64Array(0),
+  Zth: new Float64Array(0),
+  zc: new Float64Array(0),
+  Af: new Float64Array(0),
+  bf: new Float64Array(0),
+  kinds: new Uint8Array(0),
+  rowOf: new Int32Array(0),
+};
+function buildScratch(nc: number, nz: number, nt: number, k: number, mMax: number): BuildScratch {
+  if (bws.inA.length < nc) bws.inA = new Uint8Array(2 * nc);
+  if (bws.Lth.length < k * nt) bws.Lth = new Float64Array(2 * k * nt);
+  if (bws.lc.length < k) bws.lc = new Float64Array(2 * k);
+  if (bws.MAA.length < k * k) bws.MAA = new Float64Array(4 * k * k);
+  if (bws.Zth.length < nz * nt) bws.Zth = new Float64Array(2 * nz * nt);
+  if (bws.zc.length < nz) bws.zc = new Float64Array(2 * nz);
+  if (bws.Af.length < mMax * nt) bws.Af = new Float64Array(2 * mMax * nt);
+  if (bws.bf.length < mMax) {
+    bws.bf = new Float64Array(2 * mMax);
+    bws.kinds = new Uint8Array(2 * mMax);
+    bws.rowOf = new Int32Array(2 * mMax);
+  }
+  return bws;
+}
 /** the Gram matrix of a region's rows (facetRowsByLp; one per thread) */
 let gramScratch = new Float64Array(0);
 /** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
@@ -47,13 +91,16 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const { nz, nc, ntheta: nt, lawSize } = problem;
   const { K, M, HinvF, S, Hinvc, wc } = ws;
   const k = activeSet.length;
-  const inA = new Uint8Array(nc);
+  const mMax = nc + k + 2 * nt;
+  const bw = buildScratch(nc, nz, nt, k, mMax);
+  const inA = bw.inA;
+  inA.fill(0, 0, nc);
   for (const i of activeSet) inA[i] = 1;
   // λ(θ) = Lθ θ + lc
-  const Lth = new Float64Array(k * nt);
-  const lc = new Float64Array(k);
+  const Lth = bw.Lth;
+  const lc = bw.lc;
   if (k > 0) {
-    const MAA = new Float64Array(k * k);
+    const MAA = bw.MAA;
     for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) MAA[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
     const inv = spdInverse(MAA, k, tol.rank, invScratch) ?? scaledInverse(MAA, k);
     if (!inv) return { ok: false, reason: 'licq' };
@@ -69,8 +116,8 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     }
   }
   // z(θ) = Zth θ + zc
-  const Zth = new Float64Array(nz * nt);
-  const zc = new Float64Array(nz);
+  const Zth = bw.Zth;
+  const zc = bw.zc;
   for (let i = 0; i < nz; i++) {
     for (let j = 0; j < nt; j++) {
       let s = -HinvF[i * nt + j];
@@ -84,11 +131,10 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
   // a row implied by the box alone is dropped at once (no LP), so only the rows kept are stored and
   // only the region's facets become arrays of their own (per-row arrays were most of the garbage)
-  const mMax = nc + k + 2 * nt;
-  const Af = new Float64Array(mMax * nt);
-  const bf = new Float64Array(mMax);
-  const kinds = new Uint8Array(mMax); // 0 primal, 1 dual, 2 box
-  const rowOf = new Int32Array(mMax);
+  const Af = bw.Af;
+  const bf = bw.bf;
+  const kinds = bw.kinds; // 0 primal, 1 dual, 2 box
+  const rowOf = bw.rowOf;
   const lo = problem.box.lower;
   const up = problem.box.upper;
   let m = 0;

@@ -34,7 +34,7 @@ async function explore(
   mpqp: MpqpProblem,
   options: ThreadedOptions,
   checkpoint: { write: (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => void; every: number } | null,
-): Promise<{ partition: Partition; state: () => { state: ExplorationState; subBoxes: SubBoxProgress } }> {
+): Promise<{ partition: Partition; state: (() => { state: ExplorationState; subBoxes: SubBoxProgress }) | null }> {
   const run = exploreThreaded(mpqp, options);
   let interrupts = 0;
   const onSigint = () => {
@@ -47,7 +47,9 @@ async function explore(
   const timer = checkpoint ? setInterval(() => checkpoint.write(run.snapshot()), 1000 * checkpoint.every) : null;
   try {
     const partition = await run.result;
-    return { partition, state: run.snapshot };
+    // the state is only asked for to write a checkpoint; without one, the run (and the union it
+    // packed) is not kept beside the canonical form
+    return { partition, state: checkpoint ? run.snapshot : null };
   } finally {
     if (timer) clearInterval(timer);
     process.off('SIGINT', onSigint);
@@ -140,7 +142,11 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   const threads = pool.workers.length;
   const within = part ? subBox(mpqp.box, part.index - 1, part.count) : undefined;
   const writeCheckpoint = (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => writeFileAtomic(checkpointPath!, JSON.stringify(makeCheckpoint(loaded, part, snap.state, lean, snap.subBoxes)));
-  const { partition, state } = await explore(
+  // the explored partition is let go once the canonical form is made (its regions' facet lists
+  // would be held beside the canonical ones while the table is written)
+  let partition: Partition | null;
+  let state: Awaited<ReturnType<typeof explore>>['state'];
+  ({ partition, state } = await explore(
     mpqp,
     {
       threads,
@@ -152,6 +158,9 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
       resume,
       resumeSubBoxes,
       pool,
+      // the workers end with the exploration (nothing after it runs on them), before its regions
+      // are unpacked on this thread: the two copies are never held at once
+      endPool: true,
       onProgress: live
         ? (p) => {
             shown = true;
@@ -161,12 +170,12 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
         : undefined,
     },
     checkpointPath ? { write: writeCheckpoint, every: opts.checkpointEvery } : null,
-  );
+  ));
   const seconds = (performance.now() - t0) / 1000 + setupSeconds;
   // a bounded or interrupted run leaves a last checkpoint, and says how to continue
   const resumeHint = (): string => {
     if (!checkpointPath) return '';
-    writeCheckpoint(state());
+    writeCheckpoint(state!());
     const o = opts.output ? ` -o ${out}` : '';
     return `tessera: checkpoint written to ${checkpointPath}; continue with: tessera solve ${problemPath} --resume ${checkpointPath}${o}\n`;
   };
@@ -202,13 +211,15 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   await pool.terminate();
   const tCanonical = performance.now();
   const left = (): string => (opts.timeLimit === undefined ? '' : `, ${Math.max(0, opts.timeLimit - (performance.now() - tStart) / 1000).toFixed(1)} s left of the time limit`);
+  const exploredComplete = partition.stats.complete;
   const canonical = await canonicalThreaded(mpqp, partition, threads, {
     shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
     onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? `closing under neighbour guesses ${done}/${total} regions` : `neighbours ${done}/${total} facets`}${left()} `) : undefined,
   });
+  partition = null;
   if (live) process.stderr.write('\r\x1b[K');
   // an exploration that finished but whose canonical form was cut: the checkpoint resumes it too
-  if (partition.stats.complete && !canonical.stats.complete) {
+  if (exploredComplete && !canonical.stats.complete) {
     const hint = resumeHint();
     if (!opts.quiet) process.stderr.write(hint);
   }

@@ -50,6 +50,14 @@ export function regionDataBytes(table: TableFile): number {
 }
 
 /**
+ * An upper bound of the C target's region arrays in a float or double build (what splitBytes counts
+ * as the regions): regionDataBytes with the region slacks (float) and 8-byte reals (double).
+ */
+export function regionDataUpper(table: TableFile, precision: 'float' | 'double'): number {
+  return (precision === 'double' ? 2 : 1) * (regionDataBytes(table) + 4 * table.regions.length);
+}
+
+/**
  * Build the locator of one structure. `tree`: the hyperplane tree as before (one region per leaf);
  * `capped`: hyperplane tree with float-safe side overlap, depth ≤ 4·log2(regions), leaves of at most
  * CAPPED_LEAF_MACS/nθ rows, within the byte budget, splitting on the regions' facet planes and on
@@ -145,6 +153,13 @@ export interface Candidate {
   build: unknown;
 }
 
+/**
+ * Side tests per node of the cost model's plain tree (the capped tree's figure): without it the
+ * tree's split search (4·10⁶ tests per node by default) ran for ~10⁴ nodes in 6-D before the memory
+ * budget stopped it, about 120 s of the locate bench (loaded). `--search tree` keeps the default.
+ */
+export const CANDIDATE_NODE_BUDGET = 2e5;
+
 /** Candidates whose worst case is within this factor of the least worst case compete on their mean operations. */
 export const WORST_CASE_FACTOR = 1.5;
 
@@ -158,13 +173,24 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
     const t0 = Date.now();
     let locator: Locator | null = null;
     try {
-      // the plain tree is abandoned once its node arrays alone would pass the budget
-      const tree = search === 'tree' ? { ...options.tree, maxNodes: options.tree?.maxNodes ?? Math.ceil((LOCATION_BUDGET * dataBytes) / (4 * (table.dims.ntheta + 1) + 4)) } : options.tree;
+      // the plain tree is abandoned once its node arrays alone would pass the budget, or (float and
+      // double builds) as soon as its finished arrays are sure to: their smallest size from what is
+      // built and pending (TreeOptions.giveUpBytes) against an upper bound of the region data
+      const tree =
+        search === 'tree'
+          ? {
+              ...options.tree,
+              maxNodes: options.tree?.maxNodes ?? Math.ceil((LOCATION_BUDGET * dataBytes) / (4 * (table.dims.ntheta + 1) + 4)),
+              // split candidates thinned to CANDIDATE_NODE_BUDGET side tests per node, as the capped tree's
+              nodeBudget: options.tree?.nodeBudget ?? CANDIDATE_NODE_BUDGET,
+              giveUpBytes: options.tree?.giveUpBytes ?? (precision === 'float' || precision === 'double' ? LOCATION_BUDGET * regionDataUpper(table, precision) : undefined),
+            }
+          : options.tree;
       locator = buildLocator(table, search, { ...options, tree, capped: search === 'broad' ? cappedBuilt : undefined });
       if (search === 'capped' && locator) cappedBuilt = locator as SearchTree;
     } catch (e) {
       if (!(e instanceof TreeTooLargeError)) throw e;
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: `more than ${e.maxNodes} nodes (over the memory budget)`, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: e.reason, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });
       continue;
     }
     if (search === 'grid' && !locator) {

@@ -54,13 +54,19 @@ export interface GridOptions {
   maxCells?: number;
 }
 
-/** Bytes of a grid's location arrays as the C target declares them (cell offsets and lists 2 or 4 bytes, lower/scale floats, cell counts). */
-export function gridBytes(cells: number[], copies: number, regionCount: number): number {
+/**
+ * Bytes of a grid's location arrays as the C target declares them: per cell its first candidate
+ * (leaf_first, an index up to the region count), the offsets of the other candidates and their list
+ * (2 or 4 bytes each; layout.ts splitFirst), lower/scale floats, cell counts. `nonEmpty`: cells
+ * with at least one candidate (default: all, an upper bound).
+ */
+export function gridBytes(cells: number[], copies: number, regionCount: number, nonEmpty?: number): number {
   const m = cells.reduce((a, b) => a * b, 1);
-  const offset = copies <= 65535 ? 2 : 4;
+  const rest = copies - Math.min(copies, nonEmpty ?? m);
+  const offset = rest <= 65535 ? 2 : 4;
   const index = regionCount <= 65535 ? 2 : 4;
   const counts = Math.max(...cells) <= 65535 ? 2 : 4;
-  return (m + 1) * offset + copies * index + cells.length * (8 + counts);
+  return m * index + (m + 1) * offset + rest * index + cells.length * (8 + counts);
 }
 
 /**
@@ -103,8 +109,7 @@ export function buildGrid(table: TableFile, options: GridOptions): GridIndex | n
     );
     let copies = 0;
     for (const rg of ranges) copies += rg.reduce((acc, [a, b]) => acc * (b - a + 1), 1);
-    if (gridBytes(cells, copies, R) > options.maxBytes) break;
-    // fill the cell lists, regions in ascending index
+    // the cell lists, regions in ascending index: their lengths first (the bytes need the empty cells)
     const m = G ** n;
     const count = new Array<number>(m + 1).fill(0);
     const visit = (rg: number[][], f: (cell: number) => void) => {
@@ -123,6 +128,9 @@ export function buildGrid(table: TableFile, options: GridOptions): GridIndex | n
       }
     };
     ranges.forEach((rg) => visit(rg, (c) => count[c + 1]++));
+    let nonEmpty = 0;
+    for (let c = 1; c <= m; c++) if (count[c] > 0) nonEmpty++;
+    if (gridBytes(cells, copies, R, nonEmpty) > options.maxBytes) break;
     for (let c = 0; c < m; c++) count[c + 1] += count[c];
     const leafStart = count.slice();
     const fillAt = count.slice(0, m);

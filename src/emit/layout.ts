@@ -79,17 +79,42 @@ export function layoutOf(ar: EmitArrays): LayoutArray[] {
  * search but sequential), the region row offsets, then the region and law data.
  */
 export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes: LayoutArray[], data: LayoutArray[]): LayoutArray[] {
+  // a grid cell's first candidate sits in leaf_first, read together with the cell's offsets (splitFirst)
+  const split = ix.search === 'grid' ? splitFirst(ix.leafStart, ix.leafRegion, ix.regionRowStart.length - 1) : null;
   const tree =
     ix.search !== 'sequential'
       ? [
           ...planes,
           layoutArray('node_left', 'i-index', ix.nodeLeft),
           layoutArray('node_right', 'i-index', ix.nodeRight),
-          layoutArray('leaf_start', 'u-count', ix.leafStart),
-          layoutArray('leaf_region', 'u-index', ix.leafRegion),
+          ...(split
+            ? [layoutArray('leaf_first', 'u-index', split.first), layoutArray('leaf_start', 'u-count', split.start), layoutArray('leaf_region', 'u-index', split.rest)]
+            : [layoutArray('leaf_start', 'u-count', ix.leafStart), layoutArray('leaf_region', 'u-index', ix.leafRegion)]),
         ]
       : [];
   return [...tree, layoutArray('region_row_start', 'u-count', ix.regionRowStart), ...data];
+}
+
+/**
+ * A leaf list stored as each leaf's first candidate (`first[leaf]`, or `regionCount` for an empty
+ * leaf) and the rest (`rest[start[leaf] .. start[leaf+1])`), the order kept. The grid's cells use it:
+ * the first candidate, usually the region found (most-often-found first), is then loaded beside the
+ * cell's offsets instead of after them, one dependent load less on the way to the region's rows
+ * (2-D emit bench: per-point median 55–57 against 55–64 ns, paired, loaded). Bytes: one index more
+ * per empty cell.
+ */
+export function splitFirst(leafStart: number[], leafRegion: number[], regionCount: number): { first: number[]; start: number[]; rest: number[] } {
+  const first: number[] = [];
+  const start = [0];
+  const rest: number[] = [];
+  for (let leaf = 0; leaf + 1 < leafStart.length; leaf++) {
+    const from = leafStart[leaf];
+    const to = leafStart[leaf + 1];
+    first.push(to > from ? leafRegion[from] : regionCount);
+    for (let k = from + 1; k < to; k++) rest.push(leafRegion[k]);
+    start.push(rest.length);
+  }
+  return { first, start, rest };
 }
 
 /** How the arrays fit together, in words (written into the JSON export). */
@@ -98,6 +123,6 @@ export const LAYOUT_TEXT =
 /** Additions of the box tree, the grid and of the centred law (written after LAYOUT_TEXT when they apply). */
 export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
 export const LAYOUT_TEXT_GRID =
-  'grid: no nodes; per coordinate q = (θ[j] − grid_lo[j])·grid_scale[j] (each step rounded), cell c_j = 0 when q < 0 or NaN, grid_cells[j] − 1 when q >= grid_cells[j], else trunc(q); leaf = the row-major cell index (last coordinate fastest)';
+  'grid: no nodes; per coordinate q = (θ[j] − grid_lo[j])·grid_scale[j] (each step rounded), cell c_j = 0 when q < 0 or NaN, grid_cells[j] − 1 when q >= grid_cells[j], else trunc(q); leaf = the row-major cell index (last coordinate fastest); the candidates of the cell in order: leaf_first[leaf] (the region count when the cell has none), then leaf_region[leaf_start[leaf]..leaf_start[leaf+1])';
 export const LAYOUT_TEXT_CENTRED =
   'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first; region rows tested around the same centre, inside when region_a·(θ − law_c) − region_b <= region_slack[r] (region_b without slack), best fit: the smallest largest residual wins';

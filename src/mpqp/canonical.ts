@@ -279,8 +279,15 @@ export function canonicalNeighbours(
   const bWeight = 1e-3 / scale;
   let window = bWeight * bTol;
   for (const w of weights) window += w * aTol;
-  const out: number[][][] = regions.map((R) => R.facets.map(() => []));
-  const list: { r: number; f: number; v: number; sign: number }[] = [];
+  // the non-box facets as columns (region, facet, value, sign), sorted by value (then region,
+  // facet): typed arrays, not an object per facet (memory: a 100k-region table has ~700k facets)
+  let nList = 0;
+  for (const R of regions) for (const fi of R.facets) if (fi.kind !== 'box') nList++;
+  const ur = new Int32Array(nList);
+  const uf = new Int32Array(nList);
+  const uv = new Float64Array(nList);
+  const us = new Int8Array(nList);
+  nList = 0;
   regions.forEach((R, r) =>
     R.facets.forEach((fi, f) => {
       if (fi.kind === 'box') return;
@@ -290,10 +297,40 @@ export function canonicalNeighbours(
       const sign = a[j0] < 0 ? -1 : 1;
       let v = bWeight * sign * R.b[f];
       for (let j = 0; j < nt; j++) v += weights[j] * sign * a[j];
-      list.push({ r, f, v, sign });
+      ur[nList] = r;
+      uf[nList] = f;
+      uv[nList] = v;
+      us[nList] = sign;
+      nList++;
     }),
   );
-  list.sort((x, y) => x.v - y.v || x.r - y.r || x.f - y.f);
+  const order = Array.from({ length: nList }, (_, q) => q);
+  order.sort((x, y) => uv[x] - uv[y] || ur[x] - ur[y] || uf[x] - uf[y]);
+  const list = { r: new Int32Array(nList), f: new Int32Array(nList), v: new Float64Array(nList), sign: new Int8Array(nList), length: nList };
+  order.forEach((q, i) => {
+    list.r[i] = ur[q];
+    list.f[i] = uf[q];
+    list.v[i] = uv[q];
+    list.sign[i] = us[q];
+  });
+  order.length = 0;
+  // neighbours found: (facet of `list`, region across) pairs, gathered into per-facet lists at the end
+  let hitFacet = new Int32Array(1024);
+  let hitRegion = new Int32Array(1024);
+  let nHits = 0;
+  const hit = (i: number, region: number): void => {
+    if (nHits === hitFacet.length) {
+      const gf = new Int32Array(2 * nHits);
+      gf.set(hitFacet);
+      hitFacet = gf;
+      const gr = new Int32Array(2 * nHits);
+      gr.set(hitRegion);
+      hitRegion = gr;
+    }
+    hitFacet[nHits] = i;
+    hitRegion[nHits] = region;
+    nHits++;
+  };
   const meets = (x: number, y: number): boolean => {
     const bx = boxes[x];
     const by = boxes[y];
@@ -307,17 +344,19 @@ export function canonicalNeighbours(
   let pk = new Int32Array(1024);
   let np = 0;
   const candidate = (i: number, k: number): void => {
-    const P = list[i];
-    const Q = list[k];
-    if (Q.sign === P.sign || Q.r === P.r || Math.abs(Q.v - P.v) > window) return;
-    const R = regions[P.r];
-    const S = regions[Q.r];
+    const Pr = list.r[i];
+    const Qr = list.r[k];
+    if (list.sign[k] === list.sign[i] || Qr === Pr || Math.abs(list.v[k] - list.v[i]) > window) return;
+    const R = regions[Pr];
+    const S = regions[Qr];
+    const Pf = list.f[i];
+    const Qf = list.f[k];
     // opposite orientation: S's row is −(R's row)
-    let d = Math.abs(R.b[P.f] + S.b[Q.f]);
+    let d = Math.abs(R.b[Pf] + S.b[Qf]);
     if (d > bTol) return;
     d = 0;
-    for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[P.f][j] + S.A[Q.f][j]));
-    if (d > aTol || !meets(P.r, Q.r)) return;
+    for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[Pf][j] + S.A[Qf][j]));
+    if (d > aTol || !meets(Pr, Qr)) return;
     if (np === pi.length) {
       const gi = new Int32Array(2 * np);
       gi.set(pi);
@@ -339,7 +378,7 @@ export function canonicalNeighbours(
   // comparing every pair: the same pairs are tested, without the quadratic count.
   for (let c0 = 0, ordinal = 0; c0 < list.length; ordinal++) {
     let c1 = c0 + 1;
-    while (c1 < list.length && list[c1].v - list[c1 - 1].v <= window) c1++;
+    while (c1 < list.length && list.v[c1] - list.v[c1 - 1] <= window) c1++;
     if (share && ordinal % share.count !== share.index) {
       c0 = c1;
       continue;
@@ -356,7 +395,7 @@ export function canonicalNeighbours(
         let lo = Infinity;
         let hi = -Infinity;
         for (let i = c0; i < c1; i++) {
-          const x = boxes[list[i].r].lo[j];
+          const x = boxes[list.r[i]].lo[j];
           lo = Math.min(lo, x);
           hi = Math.max(hi, x);
         }
@@ -366,11 +405,11 @@ export function canonicalNeighbours(
         }
       }
       const order = Array.from({ length: c1 - c0 }, (_, q) => c0 + q);
-      const low = (i: number): number => boxes[list[i].r].lo[ax];
+      const low = (i: number): number => boxes[list.r[i]].lo[ax];
       order.sort((x, y) => low(x) - low(y) || x - y);
       for (let q = 0; q < order.length; q++) {
         const i = order[q];
-        const reach = boxes[list[i].r].hi[ax] + minPiece;
+        const reach = boxes[list.r[i]].hi[ax] + minPiece;
         for (let t = q + 1; t < order.length && low(order[t]) <= reach; t++) {
           const k = order[t];
           if (i < k) candidate(i, k);
@@ -390,7 +429,7 @@ export function canonicalNeighbours(
     const seen = new Uint8Array(regions.length);
     let met = 0;
     for (let q = 0; q < np; q++)
-      for (const r of [list[pi[q]].r, list[pk[q]].r])
+      for (const r of [list.r[pi[q]], list.r[pk[q]]])
         if (!seen[r]) {
           seen[r] = 1;
           met++;
@@ -418,31 +457,47 @@ export function canonicalNeighbours(
     progress?.('neighbours', firsts[c], list.length);
     for (let q = starts[c]; q < starts[c + 1]; q++) {
       const i = pi[q];
-      const P = list[i];
-      const Q = list[pk[q]];
-      const known = pairs ? pairs.decide(P.r, P.f, Q.r, Q.f) : -1;
+      const k = pk[q];
+      const Pr = list.r[i];
+      const Pf = list.f[i];
+      const Qr = list.r[k];
+      const Qf = list.f[k];
+      const known = pairs ? pairs.decide(Pr, Pf, Qr, Qf) : -1;
       if (!pairs) tests++;
       if (known >= 0) {
         if (known === 1) {
-          out[P.r][P.f].push(Q.r);
-          out[Q.r][Q.f].push(P.r);
+          hit(i, Qr);
+          hit(k, Pr);
         }
         continue;
       }
-      const R = regions[P.r];
+      const R = regions[Pr];
       let frame = frames.get(i);
       if (frame === undefined) {
-        frame = slicePolytope(R.A, R.b, R.A[P.f], R.b[P.f], P.f, 0);
+        frame = slicePolytope(R.A, R.b, R.A[Pf], R.b[Pf], Pf, 0);
         frames.set(i, frame);
       }
       if (!frame) continue;
-      const slice = frame.sliceOf(regions[Q.r], Q.f);
+      const slice = frame.sliceOf(regions[Qr], Qf);
       if (!slice || !overlapsFacet(frame, slice, minPiece, lp)) continue;
-      out[P.r][P.f].push(Q.r);
-      out[Q.r][Q.f].push(P.r);
+      hit(i, Qr);
+      hit(k, Pr);
     }
   }
-  for (const R of out) for (const f of R) f.sort((x, y) => x - y);
+  // per region, per facet: the regions across, ascending, in arrays of their exact length (a list
+  // grown by push keeps room for 16 more: ~150 B per facet of a big table)
+  const at = new Int32Array(nList + 1);
+  for (let h = 0; h < nHits; h++) at[hitFacet[h] + 1]++;
+  for (let i = 0; i < nList; i++) at[i + 1] += at[i];
+  const fill = at.slice(0, nList);
+  const across = new Int32Array(nHits);
+  for (let h = 0; h < nHits; h++) across[fill[hitFacet[h]]++] = hitRegion[h];
+  const out: number[][][] = regions.map((R) => R.facets.map(() => []));
+  for (let i = 0; i < nList; i++) {
+    if (at[i + 1] === at[i]) continue;
+    const ids = across.subarray(at[i], at[i + 1]).sort();
+    out[list.r[i]][list.f[i]] = Array.from(ids);
+  }
   if (options.counts) {
     const c = options.counts;
     if (pairs) addPairCounts(c, pairs.counts);

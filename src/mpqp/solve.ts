@@ -6,6 +6,7 @@ import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
 import { newPoint } from './vertices.js';
+import { Arena } from '../util/arena.js';
 import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
 /**
@@ -111,6 +112,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const bboxes: BoundingBox[] = [];
   /** each region's vertex list from its builder (nθ ≥ 3, when exact), until its facets are covered */
   const vertsOf: (RegionVertices | null)[] = [];
+  const boxArena = new Arena();
   const link = (a: number, b: number): void => {
     if (a === b) return;
     if (!adjacent[a].includes(b)) adjacent[a].push(b);
@@ -174,7 +176,11 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     regions.push({ id, ...res.region });
     adjacent.push([]);
     vertsOf.push(res.verts);
-    bboxes.push(res.bbox);
+    // the box kept as two views of a shared block (two typed arrays of their own cost ~0.5 kB)
+    const bb = { lo: boxArena.f64(nt), hi: boxArena.f64(nt) };
+    bb.lo.set(res.bbox.lo);
+    bb.hi.set(res.bbox.hi);
+    bboxes.push(bb);
     grid.add(res.region.A, res.region.b, res.bbox.lo, res.bbox.hi);
     byActiveSet.set(key, id);
     pending.push({ id, key });
@@ -251,6 +257,10 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       const c0 = work.coverLps;
       cover.facets++;
       exploreFacet(R, f);
+      // the facet's list is final: kept at its length (grown by push it holds room for ~16 more
+      // ids, ~130 B a facet, most of a region's memory in the exploration of a big table)
+      const nb = R.facets[f].neighbours;
+      if (nb.length) R.facets[f].neighbours = nb.slice();
       if (work.coverLps === c0) cover.freeFacets++;
       if (stats.stopReason !== 'done') break;
     }

@@ -82,6 +82,15 @@ export interface TreeOptions {
   /** give up (throw TreeTooLargeError) once the tree has more than this many nodes */
   maxNodes?: number;
   /**
+   * give up (throw TreeTooLargeError) as soon as the location arrays of the finished tree are sure to
+   * pass this many bytes: nodes, leaves and listed regions only grow while the tree is built (every
+   * region of a node reaches a child, every pending node ends in at least one leaf), so the bytes of
+   * what is built plus what is pending, at the smallest element sizes (locatorMinBytes), bound the
+   * final arrays from below. The cost model's plain tree: in 6-D it used to run its full split search
+   * for ~10⁴ nodes before maxNodes stopped it
+   */
+  giveUpBytes?: number;
+  /**
    * memory budget of the location arrays in bytes (float layout, see locatorBytes): nodes are then
    * split largest first and the rest become leaves once the next split would exceed it
    */
@@ -115,9 +124,22 @@ function regionVertices(r: RegionLike, n: number, budget: number): Float64Array 
 
 /** Thrown when a tree outgrows TreeOptions.maxNodes (the caller then picks another structure). */
 export class TreeTooLargeError extends Error {
-  constructor(public readonly maxNodes: number) {
-    super(`search tree exceeds ${maxNodes} nodes`);
+  constructor(
+    public readonly maxNodes: number,
+    /** why, in words (the cost model's report line) */
+    public readonly reason = `more than ${maxNodes} nodes (over the memory budget)`,
+  ) {
+    super(`search tree: ${reason}`);
   }
+}
+
+/**
+ * Smallest bytes the C target can give a hyperplane tree's location arrays (float layout): per node
+ * the plane (nθ + 1 floats) and two 16-bit child references, per leaf start and listed region 16 bits
+ * (the narrowest index type it prints). A lower bound for TreeOptions.giveUpBytes.
+ */
+export function locatorMinBytes(ntheta: number, nodes: number, leaves: number, copies: number): number {
+  return nodes * (4 * (ntheta + 1) + 4) + (leaves + 1) * 2 + copies * 2;
 }
 
 /**
@@ -265,7 +287,12 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
   const rowsOf = (set: number[]) => set.reduce((s, ri) => s + regions[ri].A.length, 0);
   const queue = new LargestFirst<Task>();
   const stack: Task[] = [];
-  const push = (t: Task) => (budget === undefined ? stack.push(t) : queue.push(rowsOf(t.set), t));
+  // regions listed by pending nodes: with the leaves' lists, a lower bound on the final leaf_region entries
+  let pendingCopies = 0;
+  const push = (t: Task) => {
+    pendingCopies += t.set.length;
+    return budget === undefined ? stack.push(t) : queue.push(rowsOf(t.set), t);
+  };
   const pending = () => (budget === undefined ? stack.length : queue.size);
   push({ set: regions.map((_, i) => i), depth: 0, path: new Set(), store: (r) => (tree.root = r) });
   let copies = regions.length;
@@ -273,6 +300,11 @@ export function buildSearchTree(regions: RegionLike[], ntheta: number, options: 
   while (pending() > 0) {
     const task = budget === undefined ? stack.pop()! : queue.pop();
     const { set, depth, path } = task;
+    pendingCopies -= set.length;
+    if (options.giveUpBytes !== undefined) {
+      const atLeast = locatorMinBytes(n, tree.nodeHyperplane.length, tree.leafStart.length - 1 + pending() + 1, tree.leafRegions.length + pendingCopies + set.length);
+      if (atLeast > options.giveUpBytes) throw new TreeTooLargeError(tree.nodeHyperplane.length, `location arrays of at least ${atLeast} B, over the budget of ${Math.floor(options.giveUpBytes)} B, after ${tree.nodeHyperplane.length} nodes`);
+    }
     if (options.onProgress && Date.now() - lastProgress > 100) {
       lastProgress = Date.now();
       options.onProgress({ nodes: tree.nodeHyperplane.length, leaves: tree.leafStart.length - 1, elapsedSeconds: (Date.now() - t0) / 1000 });

@@ -27,6 +27,7 @@ import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Pa
 import { sumCauses } from '../mpqp/types.js';
 import { tol } from '../tol.js';
 import type { SubBoxProgress } from './part.js';
+import { RegionStore } from './region-store.js';
 
 type Box = { lower: number[]; upper: number[] };
 type RegionBox = { lo: number[]; hi: number[] };
@@ -192,8 +193,14 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
   resumeSubBoxes?: SubBoxProgress | null;
   /** progress of all workers together, at most every ~100 ms */
   onProgress?: (p: Progress) => void;
-  /** run on these workers (their number is the thread count; they are left running, for `canonicalThreaded`); absent: `threads` workers of its own, ended with the run */
+  /** run on these workers (their number is the thread count; they are left running, for `canonicalThreaded`, unless `endPool`); absent: `threads` workers of its own, ended with the run */
   pool?: ThreadPool;
+  /**
+   * end the pool's workers when the exploration ends, before its regions are unpacked into the
+   * partition (`RegionStore`): their heaps, each holding its own copy of its regions, are freed
+   * first, so the two are never held at once (peak memory)
+   */
+  endPool?: boolean;
 }
 
 const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
@@ -311,7 +318,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const signal = pool.signal;
   Atomics.store(signal, 0, 0);
   const t0 = performance.now();
-  const found = new Map<string, { region: CriticalRegion; box: RegionBox }>();
+  // the union, first copy of each active set: key → index in `store`, where the regions are packed
+  // into typed arrays (the workers hold them as objects; unpacked when the partition is assembled)
+  const found = new Map<string, number>();
+  const store = new RegionStore();
   const done: Set<string>[] = Array.from({ length: M }, (_, s) => new Set(rs ? rs.done[s] ?? [] : (resumed?.done ?? [])));
   const finished: ({ stats: PartitionStats; work: ExplorationWork } | null)[] = new Array(M).fill(null);
   const latest: (Progress | null)[] = new Array(M).fill(null);
@@ -320,7 +330,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   if (resumed)
     resumed.regions.forEach((region, i) => {
       const key = region.activeSet.join(',');
-      if (!found.has(key)) found.set(key, { region, box: resumed.boxes[i] });
+      if (!found.has(key)) found.set(key, store.add(region, resumed.boxes[i]));
     });
   if (rs) for (const s of rs.finished) finished[s] = { stats: zeroStats(), work: zeroWork() };
   const queue: number[] = [];
@@ -337,7 +347,8 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   let settled = false;
   const workers: Worker[] = [];
   const detach: (() => void)[] = [];
-  const partition = (complete: boolean, reason: PartitionStats['stopReason']): Partition => {
+  /** the union as a partition (`regions: false`: the counters only, regions left packed and the lists empty) */
+  const partition = (complete: boolean, reason: PartitionStats['stopReason'], regions = true): Partition => {
     const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
     const work = { ...base.work };
     for (let s = 0; s < M; s++) {
@@ -353,9 +364,9 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     // the main thread counts the union against the region bound, so the sub-boxes together pass it
     // by a few regions; a table stopped by --max-regions keeps the first ones found (it is marked
     // incomplete either way, and a checkpoint keeps them all)
-    const all = [...found.values()];
-    const list = reason === 'max-regions' && options.maxRegions !== undefined ? all.slice(0, options.maxRegions) : all;
-    stats.regions = list.length;
+    const count = reason === 'max-regions' && options.maxRegions !== undefined ? Math.min(store.length, options.maxRegions) : store.length;
+    const list = regions ? Array.from({ length: count }, (_, k) => store.get(k)) : [];
+    stats.regions = count;
     stats.complete = complete;
     stats.stopReason = reason;
     return { regions: list.map((e) => e.region), boxes: list.map((e) => e.box), stats, work };
@@ -400,7 +411,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     const now = performance.now();
     if (!options.onProgress || now - lastReport < 100) return;
     lastReport = now;
-    const p = partition(true, 'done').stats;
+    const p = partition(true, 'done', false).stats;
     options.onProgress({ candidates: p.candidates, regions: found.size, lps: p.lps, qps: p.qps, elapsedSeconds: (now - t0) / 1000 });
   };
   /** the next sub-box for a worker, or false when there is none (or the run is stopping) */
@@ -412,11 +423,13 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       // the regions known that meet this sub-box, and the keys already covered in it
       const regions: CriticalRegion[] = [];
       const bs: RegionBox[] = [];
-      for (const e of found.values())
+      for (let k = 0; k < store.length; k++) {
+        const e = store.get(k);
         if (meets(e.box, boxes![s])) {
           regions.push(e.region);
           bs.push(e.box);
         }
+      }
       resume = { regions, boxes: bs, done: [...done[s]], stats: zeroStats(), work: zeroWork() };
     }
     const elapsed = (performance.now() - t0) / 1000;
@@ -435,7 +448,13 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   pool.setProblem(mpqp, { lp: options.lp, lean: options.lean });
   const end = (): void => {
     const complete = firstStop === null && finished.every((f) => f);
-    settle(partition(complete, firstStop ?? (complete ? 'done' : 'interrupted')));
+    const reason = firstStop ?? (complete ? 'done' : 'interrupted');
+    if (options.endPool)
+      pool.terminate().then(
+        () => settle(partition(complete, reason)),
+        (e) => settle(null, e),
+      );
+    else settle(partition(complete, reason));
   };
   const begin = (): void => {
     // one job to each worker at once (`next` takes jobs off the queue, so count before the loop:
@@ -452,7 +471,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             if (ev.type === 'found') {
               built++;
               const key = ev.region.activeSet.join(',');
-              if (!found.has(key)) found.set(key, { region: ev.region, box: ev.box });
+              if (!found.has(key)) found.set(key, store.add(ev.region, ev.box));
             } else if (ev.type === 'processed') done[msg.job].add(ev.key);
             else latest[msg.job] = ev.progress;
           }

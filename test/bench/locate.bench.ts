@@ -167,7 +167,7 @@ function solverSourceKey(): string {
   for (const p of solverSources([join(src, 'table/solve.ts'), join(src, 'table/file.ts')])) h.update(p.slice(src.length)).update(readFileSync(p));
   return (sourceKey = h.digest('hex'));
 }
-function cachedSolve(loaded: LoadedProblem, problem: unknown, timeLimit: number): { table: TableFile; mpqp: MpqpProblem; seconds: number; cached: boolean } {
+export function cachedSolve(loaded: LoadedProblem, problem: unknown, timeLimit: number): { table: TableFile; mpqp: MpqpProblem; seconds: number; cached: boolean } {
   const key = createHash('sha256').update(JSON.stringify(problem)).update(String(timeLimit)).update(solverSourceKey()).digest('hex').slice(0, 16);
   const file = join(CACHE_DIR, `${key}.json`);
   if (!process.env.TESSERA_BENCH_FRESH && existsSync(file) && existsSync(`${file}.seconds`)) {
@@ -295,7 +295,7 @@ export async function run(): Promise<void> {
     );
     for (const c of cands) {
       if (!c.cost) {
-        out.push(`      ${c.search.padEnd(10)} not built: ${c.rejected}`);
+        out.push(`      ${c.search.padEnd(10)} not built: ${c.rejected} (${c.buildSeconds.toFixed(1)} s)`);
         continue;
       }
       // the build the cost model measured, printed as emit prints it (no second build)

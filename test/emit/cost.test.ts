@@ -62,10 +62,11 @@ function checkCost(name: string, table: TableFile): void {
           const exported = JSON.parse(arraysToJson(r.arrays, r.target.layout(r.arrays))).arrays as Record<string, { kind: string; range: [number, number]; values: number[] }>;
           for (const [name, a] of arrays) {
             const kind = exported[name].kind;
-            expect(kind).toBe(a.ctype === precision ? 'f-real' : a.ctype.startsWith('u') ? (name === 'leaf_region' || name === 'node_axis' ? 'u-index' : 'u-count') : 'i-index');
+            expect(kind).toBe(a.ctype === precision ? 'f-real' : a.ctype.startsWith('u') ? (name === 'leaf_region' || name === 'leaf_first' || name === 'node_axis' ? 'u-index' : 'u-count') : 'i-index');
             expect(JSON.stringify(exported[name])).not.toMatch(/int16|int32|uint|float"|double"|ctype/);
             const back = precision === 'float' ? a.values.map(Math.fround) : a.values;
-            expect(exported[name].values).toEqual(back);
+            // C has no empty arrays: an empty one is declared with one zero (a one-region grid's rest list)
+            expect(exported[name].values).toEqual(exported[name].values.length === 0 && back.length === 1 && back[0] === 0 ? [] : back);
             expect(exported[name].range).toEqual([Math.min(...back), Math.max(...back)]);
           }
 
@@ -99,14 +100,22 @@ function checkCost(name: string, table: TableFile): void {
             expect(arrays.get('grid_cells')!.values).toEqual(g.cells);
             expect(arrays.get('grid_lo')!.values.map(round0(precision))).toEqual(g.lower);
             expect(arrays.get('grid_scale')!.values.map(round0(precision))).toEqual(g.scale);
+            // a cell's candidates: leaf_first (the region count when it has none), then its rest list
+            // (changed on purpose: the first candidate is read beside the cell's offsets)
+            const leafFirst = arrays.get('leaf_first')!.values;
             const leafStart = arrays.get('leaf_start')!.values;
             const leafRegion = arrays.get('leaf_region')!.values;
             expect(leafStart.length).toBe(g.cells.reduce((a, b) => a * b, 1) + 1);
+            expect(leafFirst.length).toBe(leafStart.length - 1);
             for (let leaf = 0; leaf + 1 < leafStart.length; leaf++) {
+              const list = [...(leafFirst[leaf] < table.regions.length ? [leafFirst[leaf]] : []), ...leafRegion.slice(leafStart[leaf], leafStart[leaf + 1])];
+              // the same candidates as the grid's own cell list (order aside: the leaf lists most-often-found first)
+              expect([...list].sort((a, b) => a - b)).toEqual(g.leafRegions.slice(g.leafStart[leaf], g.leafStart[leaf + 1]));
+              if (leafFirst[leaf] >= table.regions.length) expect(leafStart[leaf + 1]).toBe(leafStart[leaf]);
               let rr = 0;
-              for (let k = leafStart[leaf]; k < leafStart[leaf + 1]; k++) rr += rows(leafRegion[k]);
+              for (const k of list) rr += rows(k);
               macs = Math.max(macs, nt + rr * nt + nu * nt);
-              cmps = Math.max(cmps, 2 * nt + rr * rowCmp + (leafStart[leaf + 1] - leafStart[leaf]) * regionCmp);
+              cmps = Math.max(cmps, 2 * nt + rr * rowCmp + list.length * regionCmp);
             }
             expect(r.source).not.toContain('LAW_DEPTH');
           } else {

@@ -4,7 +4,9 @@
  */
 import { describe, expect, it } from 'vitest';
 import { locateSequential, regionContains } from '../../src/table/table.js';
-import { buildSearchTree, locateTree, type SearchTree } from '../../src/partition/tree.js';
+import { buildSearchTree, locateTree, locatorMinBytes, TreeTooLargeError, type SearchTree } from '../../src/partition/tree.js';
+import { cTarget } from '../../src/emit/targets/c.js';
+import { splitBytes } from '../../src/emit/choose.js';
 import { sampleBox } from '../../src/emit/sample.js';
 import { facetPoints } from '../../src/check/certify.js';
 import { tol } from '../../src/tol.js';
@@ -118,3 +120,24 @@ describe('analytic: an 8×8 grid of unit squares', () => {
 
 for (const ex of TREE_EXAMPLES) checkTree(`example ${ex}`, exampleTable(ex).table);
 checkTree('synthetic arrangement of 30 lines in 2-D', arrangementTable({ lower: [-3, -2], upper: [3, 2], planes: 30, seed: 3 }));
+
+describe('giving up once the arrays are sure to pass a byte budget (TreeOptions.giveUpBytes)', () => {
+  // the location bytes are the C cost report's, which test/emit/cost.test.ts holds equal to gcc's sizeof
+  for (const [name, table] of [
+    ['2-D arrangement of 30 lines', arrangementTable({ lower: [-3, -2], upper: [3, 2], planes: 30, seed: 3 })],
+    ['3-D arrangement of 14 planes', arrangementTable({ lower: [-2, -2, -2], upper: [2, 2, 2], planes: 14, seed: 5 })],
+  ] as const)
+    it(`${name}: the bound is below the finished tree's bytes, and the tree stops only past them`, () => {
+      const n = table.dims.ntheta;
+      const full = buildSearchTree(table.regions, n);
+      const bytes = splitBytes(cTarget.cost(cTarget.build(table, 'float', 'tree', full)), 'float').location;
+      expect(locatorMinBytes(n, full.stats.nodes, full.stats.leaves, full.leafRegions.length)).toBeLessThanOrEqual(bytes);
+      // a budget of exactly the finished bytes never stops the build: same tree
+      const same = buildSearchTree(table.regions, n, { giveUpBytes: bytes });
+      expect({ ...same, stats: { ...same.stats, buildSeconds: 0 } }).toEqual({ ...full, stats: { ...full.stats, buildSeconds: 0 } });
+      // a budget below the bound of the finished tree stops it, with the reason
+      const under = locatorMinBytes(n, full.stats.nodes, full.stats.leaves, full.leafRegions.length) - 1;
+      expect(() => buildSearchTree(table.regions, n, { giveUpBytes: under })).toThrow(TreeTooLargeError);
+      expect(() => buildSearchTree(table.regions, n, { giveUpBytes: under })).toThrow(/location arrays of at least \d+ B, over the budget/);
+    });
+});

@@ -448,7 +448,46 @@ ${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
     }
     leaf = (uint32_t)(-(ref + 1));
 `;
-  const evalLeaf = `${
+  // grid: the cell's first candidate from leaf_first (loaded beside the cell's offsets), then the rest
+  const R_ = `${P.toUpperCase()}_REGIONS`;
+  const gridScan = `    /* the candidates of the cell in order: leaf_first[leaf] (${R_} when the cell has none), then
+     * leaf_region[leaf_start[leaf] .. leaf_start[leaf + 1]) */
+    {
+        uint32_t r = ${P}_leaf_first[leaf];
+        const uint32_t end = ${P}_leaf_start[leaf + 1u];
+        k = ${P}_leaf_start[leaf];
+        while (r < ${R_}) {
+${
+  ar.bestFit
+    ? `            ${real} res;
+            if (${P}_fit(r, theta, &res) && (best < 0 || res < best_res || (res == best_res && (int32_t)r < best))) {
+                best = (int32_t)r;
+                best_res = res;
+                if (res <= ${P.toUpperCase()}_FIT_SURE) {
+                    break; /* deep inside r: no other region can fit better (see ${P.toUpperCase()}_FIT_SURE) */
+                }
+            }`
+    : `            if (${P}_inside(r, theta)) {
+                ${P}_law(r, theta, u);
+                return (int)r;
+            }`
+}
+            r = k < end ? (uint32_t)${P}_leaf_region[k++] : ${R_};
+        }
+    }
+${
+  ar.bestFit
+    ? `    if (best < 0) {
+        return -1;
+    }
+    ${P}_law((uint32_t)best, theta, u);
+    return (int)best;
+`
+    : `    return -1;
+`
+}}
+`;
+  const evalLeaf = grid ? gridScan : `${
   ar.bestFit
     ? `    /* best fit among the candidate regions of the leaf */
 ${bestLoop('    ', `${P}_leaf_start[leaf]`, `${P}_leaf_start[leaf + 1u]`, `${P}_leaf_region[k]`)}`

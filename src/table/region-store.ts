@@ -1,0 +1,198 @@
+/**
+ * Regions held compactly: every number of a region and of the box holding it in two growing typed
+ * arrays (doubles and 32-bit integers), a region read back as a new object only when asked for.
+ *
+ * The main thread of a threaded exploration (src/table/threads.ts) keeps the union of the regions
+ * its workers report, and needs them whole only at the end (or for a checkpoint). As objects
+ * (nested arrays, a facet object each) a lean 3-D region took ~4 kB of its heap, held beside the
+ * worker's own copy while the exploration ran; packed it takes its numbers' bytes (about 8 B per
+ * double and 4 B per integer, ~0.5 kB for a lean 3-D region of 8 facets).
+ *
+ * `get` gives back the region with the same keys in the same order and the same numbers (every
+ * double as it was, −0 included), so JSON written from it is the same text. A region of a shape
+ * this store does not know (extra keys, a key out of order, non-integer indices) is kept as the
+ * object it is.
+ */
+import type { CriticalRegion, FacetInfo } from '../mpqp/types.js';
+
+/** A box holding a region (as the exploration reports it). */
+export interface StoredBox {
+  lo: number[];
+  hi: number[];
+}
+
+const KINDS: FacetInfo['kind'][] = ['primal', 'dual', 'box'];
+const KIND_CODE: Record<string, number> = { primal: 0, dual: 1, box: 2 };
+const LEAN_KEYS = 'id,activeSet,A,b,facets,chebyshev,law';
+const FULL_KEYS = 'id,activeSet,A,b,facets,chebyshev,law,moves,value';
+
+/** True when `v` is a 32-bit integer (what the integer array holds exactly). */
+const int32 = (v: unknown): v is number => typeof v === 'number' && (v | 0) === v && !Object.is(v, -0);
+
+/**
+ * Append-only store of regions and their boxes (see the file comment). Indices are dense, in the
+ * order of `add`. The arrays returned by `get` are new (the caller owns them).
+ */
+export class RegionStore {
+  private f = new Float64Array(1 << 12);
+  private i = new Int32Array(1 << 12);
+  private nf = 0;
+  private ni = 0;
+  /** per region: its start in `i` (its start in `f` is stored there); −1 − k for the k-th object kept as it is */
+  private starts: number[] = [];
+  private objects: { region: CriticalRegion; box: StoredBox }[] = [];
+
+  /** Number of regions held. */
+  get length(): number {
+    return this.starts.length;
+  }
+
+  /** Bytes of the typed arrays in use (the objects kept whole are not counted). */
+  get bytes(): number {
+    return 8 * this.nf + 4 * this.ni;
+  }
+
+  private pushF(v: number): void {
+    if (this.nf === this.f.length) {
+      const g = new Float64Array(2 * this.f.length);
+      g.set(this.f);
+      this.f = g;
+    }
+    this.f[this.nf++] = v;
+  }
+
+  private pushI(v: number): void {
+    if (this.ni === this.i.length) {
+      const g = new Int32Array(2 * this.i.length);
+      g.set(this.i);
+      this.i = g;
+    }
+    this.i[this.ni++] = v;
+  }
+
+  /** Whether the store can pack this region exactly (else it keeps the object). */
+  private static packable(R: CriticalRegion, box: StoredBox): boolean {
+    const keys = Object.keys(R).join(',');
+    const full = keys === FULL_KEYS;
+    if (!full && keys !== LEAN_KEYS) return false;
+    const nt = box.lo.length;
+    if (box.hi.length !== nt || Object.keys(box).join(',') !== 'lo,hi') return false;
+    if (!int32(R.id) || !Array.isArray(R.activeSet) || !R.activeSet.every(int32)) return false;
+    const m = R.b.length;
+    if (!Array.isArray(R.A) || R.A.length !== m || !R.A.every((a) => Array.isArray(a) && a.length === nt)) return false;
+    if (!Array.isArray(R.facets) || R.facets.length !== m) return false;
+    for (const fi of R.facets)
+      if (Object.keys(fi).join(',') !== 'kind,row,neighbours' || !(fi.kind in KIND_CODE) || !int32(fi.row) || !Array.isArray(fi.neighbours) || !fi.neighbours.every(int32)) return false;
+    const c = R.chebyshev;
+    if (!c || Object.keys(c).join(',') !== 'center,radius' || !Array.isArray(c.center) || c.center.length !== nt || typeof c.radius !== 'number') return false;
+    const affine = (x: unknown): boolean => {
+      const a = x as { F: unknown; g: unknown };
+      return !!a && Object.keys(a).join(',') === 'F,g' && Array.isArray(a.g) && Array.isArray(a.F) && a.F.length === a.g.length && (a.F as unknown[]).every((r) => Array.isArray(r) && r.length === nt);
+    };
+    if (!affine(R.law) || (full && !affine(R.moves))) return false;
+    if (full) {
+      const v = R.value!;
+      if (!v || Object.keys(v).join(',') !== 'Q,q,r' || typeof v.r !== 'number' || !Array.isArray(v.q) || v.q.length !== nt || !Array.isArray(v.Q) || v.Q.length !== nt || !v.Q.every((r) => Array.isArray(r) && r.length === nt)) return false;
+    }
+    const numbers = (a: unknown[]): boolean => a.every((x) => typeof x === 'number');
+    return numbers(R.b) && R.A.every(numbers) && numbers(c.center) && numbers(box.lo) && numbers(box.hi);
+  }
+
+  /** Add a region and a box holding it; its index. The objects given are not kept (unless the store cannot pack them). */
+  add(R: CriticalRegion, box: StoredBox): number {
+    const index = this.starts.length;
+    if (!RegionStore.packable(R, box)) {
+      this.starts.push(-1 - this.objects.length);
+      this.objects.push({ region: R, box });
+      return index;
+    }
+    const nt = box.lo.length;
+    const m = R.b.length;
+    const full = R.moves !== undefined;
+    this.starts.push(this.ni);
+    // integers: start in f, id, nt, m, full, |activeSet|, activeSet, per facet (kind, row, count, neighbours), law rows, moves rows
+    this.pushI(this.nf);
+    this.pushI(R.id);
+    this.pushI(nt);
+    this.pushI(m);
+    this.pushI(full ? 1 : 0);
+    this.pushI(R.activeSet.length);
+    for (const a of R.activeSet) this.pushI(a);
+    for (const fi of R.facets) {
+      this.pushI(KIND_CODE[fi.kind]);
+      this.pushI(fi.row);
+      this.pushI(fi.neighbours.length);
+      for (const n of fi.neighbours) this.pushI(n);
+    }
+    this.pushI(R.law.g.length);
+    if (full) this.pushI(R.moves!.g.length);
+    // doubles: A, b, centre, radius, law (F, g), moves (F, g), value (Q, q, r), box (lo, hi)
+    for (const a of R.A) for (const v of a) this.pushF(v);
+    for (const v of R.b) this.pushF(v);
+    for (const v of R.chebyshev.center) this.pushF(v);
+    this.pushF(R.chebyshev.radius);
+    const affine = (x: { F: number[][]; g: number[] }): void => {
+      for (const r of x.F) for (const v of r) this.pushF(v);
+      for (const v of x.g) this.pushF(v);
+    };
+    affine(R.law);
+    if (full) {
+      affine(R.moves!);
+      const V = R.value!;
+      for (const r of V.Q) for (const v of r) this.pushF(v);
+      for (const v of V.q) this.pushF(v);
+      this.pushF(V.r);
+    }
+    for (const v of box.lo) this.pushF(v);
+    for (const v of box.hi) this.pushF(v);
+    return index;
+  }
+
+  /** The k-th region and its box, as new objects (keys in the order they were given). */
+  get(k: number): { region: CriticalRegion; box: StoredBox } {
+    const s = this.starts[k];
+    if (s < 0) return this.objects[-1 - s];
+    const I = this.i;
+    const F = this.f;
+    let p = s;
+    let q = I[p++];
+    const id = I[p++];
+    const nt = I[p++];
+    const m = I[p++];
+    const full = I[p++] === 1;
+    const k0 = I[p++];
+    const activeSet = Array.from(I.subarray(p, p + k0));
+    p += k0;
+    const facets: FacetInfo[] = [];
+    for (let r = 0; r < m; r++) {
+      const kind = KINDS[I[p++]];
+      const row = I[p++];
+      const c = I[p++];
+      facets.push({ kind, row, neighbours: Array.from(I.subarray(p, p + c)) });
+      p += c;
+    }
+    const lawRows = I[p++];
+    const movesRows = full ? I[p++] : 0;
+    const vec = (n: number): number[] => {
+      const out = Array.from(F.subarray(q, q + n));
+      q += n;
+      return out;
+    };
+    const mat = (rows: number): number[][] => Array.from({ length: rows }, () => vec(nt));
+    const A = mat(m);
+    const b = vec(m);
+    const center = vec(nt);
+    const radius = F[q++];
+    const law = { F: mat(lawRows), g: vec(lawRows) };
+    const region: CriticalRegion = { id, activeSet, A, b, facets, chebyshev: { center, radius }, law };
+    if (full) {
+      region.moves = { F: mat(movesRows), g: vec(movesRows) };
+      const Q = mat(nt);
+      const qv = vec(nt);
+      region.value = { Q, q: qv, r: F[q++] };
+    }
+    const lo = vec(nt);
+    const hi = vec(nt);
+    return { region, box: { lo, hi } };
+  }
+}

@@ -1,0 +1,44 @@
+/**
+ * Small typed arrays carved from shared blocks of 1 MiB (views), never freed one by one: they live
+ * as long as the arena and the views do. For data kept per region in the thousands: a typed array
+ * with a buffer of its own costs ~240 B of heap besides its numbers (~380 B of resident memory,
+ * measured on Node 20), a view of a shared buffer ~110 B. Views are zero-filled when made.
+ */
+export class Arena {
+  private buf = new ArrayBuffer(0);
+  private used = 0;
+
+  private take(bytes: number, align: number): number {
+    let at = Math.ceil(this.used / align) * align;
+    if (at + bytes > this.buf.byteLength) {
+      this.buf = new ArrayBuffer(Math.max(1 << 20, bytes));
+      at = 0;
+    }
+    this.used = at + bytes;
+    return at;
+  }
+
+  /** n doubles, zero */
+  f64(n: number): Float64Array {
+    const at = this.take(8 * n, 8);
+    return new Float64Array(this.buf, at, n);
+  }
+
+  /** n signed 32-bit integers, zero */
+  i32(n: number): Int32Array {
+    const at = this.take(4 * n, 4);
+    return new Int32Array(this.buf, at, n);
+  }
+
+  /** n unsigned 32-bit integers, zero */
+  u32(n: number): Uint32Array {
+    const at = this.take(4 * n, 4);
+    return new Uint32Array(this.buf, at, n);
+  }
+
+  /** n signed bytes, zero */
+  i8(n: number): Int8Array {
+    const at = this.take(n, 1);
+    return new Int8Array(this.buf, at, n);
+  }
+}

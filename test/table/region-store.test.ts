@@ -1,0 +1,63 @@
+import { describe, expect, it } from 'vitest';
+import { join } from 'node:path';
+import { loadProblem, solveProblem } from '../../src/index.js';
+import { RegionStore } from '../../src/table/region-store.js';
+import type { CriticalRegion } from '../../src/mpqp/types.js';
+
+// Reference: the regions given to the store themselves. What comes back must be the same object
+// tree: the same keys in the same order and every number the same double (Object.is, so −0 and
+// NaN count), checked by node's own deep equality (`toStrictEqual`) and by the JSON text (what a
+// table file holds). Common practice for a lossless container: a round trip is the identity.
+const examples = join(import.meta.dirname, '..', '..', 'examples');
+
+function sameBits(a: unknown, b: unknown): boolean {
+  if (typeof a === 'number') return typeof b === 'number' && Object.is(a, b);
+  if (Array.isArray(a)) return Array.isArray(b) && a.length === b.length && a.every((x, i) => sameBits(x, b[i]));
+  if (a && typeof a === 'object') {
+    const ka = Object.keys(a);
+    const kb = Object.keys(b as object);
+    return ka.join() === kb.join() && ka.every((k) => sameBits((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k]));
+  }
+  return a === b;
+}
+
+describe('RegionStore', () => {
+  for (const [file, lean] of [['positioning-axis.yaml', false], ['positioning-axis.yaml', true]] as const)
+    it(`gives back every region of ${file} (${lean ? 'lean' : 'full'}) as it was`, () => {
+      const { table } = solveProblem(loadProblem(join(examples, file)), { lean });
+      const store = new RegionStore();
+      const boxes = table.regions.map((R) => ({ lo: R.chebyshev.center.map((c) => c - 1), hi: R.chebyshev.center.map((c) => c + 1) }));
+      table.regions.forEach((R, i) => expect(store.add(R, boxes[i])).toBe(i));
+      expect(store.length).toBe(table.regions.length);
+      table.regions.forEach((R, i) => {
+        const back = store.get(i);
+        expect(back.region).toStrictEqual(R);
+        expect(back.box).toStrictEqual(boxes[i]);
+        expect(sameBits(back.region, R)).toBe(true);
+        expect(JSON.stringify(back.region)).toBe(JSON.stringify(R));
+        expect(back.region).not.toBe(R); // packed, not kept
+      });
+      // packed: a few bytes per number, far below the objects' heap
+      expect(store.bytes).toBeGreaterThan(0);
+    });
+
+  it('keeps −0, NaN, infinities and neighbour lists; a region of another shape is kept as it is', () => {
+    const R: CriticalRegion = {
+      id: 7,
+      activeSet: [0, 3],
+      A: [[-0, 1], [1, NaN]],
+      b: [Infinity, -Infinity],
+      facets: [{ kind: 'primal', row: 2, neighbours: [4, 9] }, { kind: 'box', row: 1, neighbours: [] }],
+      chebyshev: { center: [-0, 5e-324], radius: 1.7976931348623157e308 },
+      law: { F: [[1, -0]], g: [-0] },
+    };
+    const odd = { ...R, extra: 1 } as CriticalRegion;
+    const store = new RegionStore();
+    store.add(R, { lo: [-1, -0], hi: [1, 2] });
+    store.add(odd, { lo: [0, 0], hi: [1, 1] });
+    const back = store.get(0);
+    expect(sameBits(back.region, R)).toBe(true);
+    expect(sameBits(back.box, { lo: [-1, -0], hi: [1, 2] })).toBe(true);
+    expect(store.get(1).region).toBe(odd);
+  });
+});

@@ -2,7 +2,8 @@ import type { Command } from 'commander';
 import { readTableFile } from '../table/file.js';
 import { InputError, readBytesInput, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
-import { CLI } from './common.js';
+import { CLI, positive } from './common.js';
+import { endEvaluatePool, evaluateCsvThreaded, startEvaluatePool, type EvaluatePool } from '../table/evaluate-threads.js';
 import { evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, type EvaluateTimes, type FlatPoints } from '../table/points.js';
 
 /** Process CPU seconds so far (user + system). */
@@ -61,69 +62,91 @@ export function register(program: Command): void {
     .option('--clamp', "saturate u(0) to the table's input limits (inputLimits)")
     .option('--json', 'print JSON instead of CSV')
     .option('-q, --quiet', 'print the values only: no warnings')
+    .option('--threads <n>', 'threads for the CSV output of --points (default 1): the points split into n consecutive ranges, the k-d tree built once and sent to n − 1 worker threads; the same bytes for every n', positive('--threads', true))
     .option('--times', 'print to stderr where the time went: wall and CPU seconds per stage (start-up, table, points, index, locate, law, format, write) and points per second')
-    .action((tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean }) => {
+    .action(async (tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number }) => {
       const clock = opts.times ? new StageClock() : null;
-      const table = readTableFile(tablePath);
-      clock?.lap('table');
-      if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
-      const points: number[][] = [];
-      const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
-      // the file's bytes: read by a byte scan, plain cells copied to the output as they are
-      const bytes = opts.points ? readBytesInput(opts.points, 'points file') : new Uint8Array(0);
-      const flat = opts.points ? parsePointsFlat(bytes, opts.points, table.thetaNames) : empty;
-      if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
-      clock?.lap('points');
-      const clamp = !!opts.clamp;
-      if (!opts.quiet && !table.stats.complete)
-        process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
-      if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
-        process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
-      if (opts.json) {
-        const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
-        if (!opts.quiet && table.lean && slackBlocks.length > 0)
-          process.stderr.write(`tessera: warning: ${tablePath} is a lean table (no move sequence): slack values are null; solve without --lean to get them\n`);
-        const all: number[][] = [];
-        // one push per point: a spread of 10⁶ points would overflow the call stack
-        for (let k = 0; k < flat.count; k++) all.push(Array.from(flat.values.subarray(k * flat.ntheta, (k + 1) * flat.ntheta)));
-        for (const p of points) all.push(p);
-        const out = evaluatePoints(table, all, { clamp });
-        clock?.lap('evaluate');
-        process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
-        if (clock) {
-          clock.lap('write');
-          process.stderr.write(clock.line(all.length));
-        }
-        return;
-      }
-      // streamed in chunks of lines (10⁶ points are ~60 MB of text), each chunk a new byte array
-      const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0, cpu: { index: 0, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
-      let write = 0;
-      let writeCpu = 0;
-      for (const chunk of evaluateCsvBytes(table, bytes, flat, points, { clamp, times })) {
-        const w0 = performance.now();
-        const c0 = clock ? cpuSeconds() : 0;
-        process.stdout.write(chunk);
-        write += (performance.now() - w0) / 1000;
-        if (clock) writeCpu += cpuSeconds() - c0;
-      }
-      if (clock) {
-        clock.lap('csv');
-        // the CSV stage split as evaluateCsvBytes and the writes measured it (the rest: the generator's own steps)
-        const csv = clock.stages.pop()!;
-        const cpu = times.cpu!;
-        const rows: [string, number, number][] = [
-          ['index', times.index, cpu.index],
-          ['locate', times.locate, cpu.locate],
-          ['law', times.law, cpu.law],
-          ['format', times.format, cpu.format],
-          ['write', write, writeCpu],
-        ];
-        const restWall = csv[1] - rows.reduce((a, r) => a + r[1], 0);
-        const restCpu = csv[2] - rows.reduce((a, r) => a + r[2], 0);
-        rows[rows.length - 1] = ['write', write + Math.max(0, restWall), writeCpu + Math.max(0, restCpu)];
-        clock.stages.push(...rows);
-        process.stderr.write(clock.line(flat.count + points.length));
+      // the workers start now and load their modules while this thread reads the table and the points
+      const threads = opts.threads ?? 1;
+      const pool: EvaluatePool | null = threads > 1 && opts.points && !opts.json ? startEvaluatePool(threads - 1) : null;
+      try {
+        await evaluateAction(tablePath, opts, clock, pool);
+      } finally {
+        endEvaluatePool(pool);
       }
     });
+}
+
+/** The command's work once the workers (if any) are started; the pool goes to `evaluateCsvThreaded` (the caller ends it in any case). */
+async function evaluateAction(
+  tablePath: string,
+  opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number },
+  clock: StageClock | null,
+  pool: EvaluatePool | null,
+): Promise<void> {
+  const table = readTableFile(tablePath);
+  clock?.lap('table');
+  if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
+  const points: number[][] = [];
+  const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
+  // the file's bytes: read by a byte scan, plain cells copied to the output as they are
+  const bytes = opts.points ? readBytesInput(opts.points, 'points file') : new Uint8Array(0);
+  const flat = opts.points ? parsePointsFlat(bytes, opts.points, table.thetaNames) : empty;
+  if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
+  clock?.lap('points');
+  const clamp = !!opts.clamp;
+  if (!opts.quiet && !table.stats.complete)
+    process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
+  if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
+    process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
+  if (opts.json) {
+    const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
+    if (!opts.quiet && table.lean && slackBlocks.length > 0)
+      process.stderr.write(`tessera: warning: ${tablePath} is a lean table (no move sequence): slack values are null; solve without --lean to get them\n`);
+    const all: number[][] = [];
+    // one push per point: a spread of 10⁶ points would overflow the call stack
+    for (let k = 0; k < flat.count; k++) all.push(Array.from(flat.values.subarray(k * flat.ntheta, (k + 1) * flat.ntheta)));
+    for (const p of points) all.push(p);
+    const out = evaluatePoints(table, all, { clamp });
+    clock?.lap('evaluate');
+    process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
+    if (clock) {
+      clock.lap('write');
+      process.stderr.write(clock.line(all.length));
+    }
+    return;
+  }
+  // streamed in chunks of lines (10⁶ points are ~60 MB of text), each chunk a new byte array
+  const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0, cpu: { index: 0, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+  let write = 0;
+  let writeCpu = 0;
+  const chunks = pool ? evaluateCsvThreaded(table, bytes, flat, points, pool, { clamp, times }) : evaluateCsvBytes(table, bytes, flat, points, { clamp, times });
+  for await (const chunk of chunks) {
+    const w0 = performance.now();
+    const c0 = clock ? cpuSeconds() : 0;
+    process.stdout.write(chunk);
+    write += (performance.now() - w0) / 1000;
+    if (clock) writeCpu += cpuSeconds() - c0;
+  }
+  if (clock) {
+    clock.lap('csv');
+    // the CSV stage split as evaluateCsvBytes and the writes measured it (the rest: the generator's own steps)
+    const csv = clock.stages.pop()!;
+    const cpu = times.cpu!;
+    const rows: [string, number, number][] = [
+      ['index', times.index, cpu.index],
+      ['locate', times.locate, cpu.locate],
+      ['law', times.law, cpu.law],
+      ['format', times.format, cpu.format],
+      ['write', write, writeCpu],
+    ];
+    const restWall = csv[1] - rows.reduce((a, r) => a + r[1], 0);
+    const restCpu = csv[2] - rows.reduce((a, r) => a + r[2], 0);
+    // with worker threads the rest is mostly waiting for their chunks (the CPU column is the whole
+    // process's: the workers' seconds are counted in whichever stage of this thread they overlap)
+    if (pool) rows.push(['wait', Math.max(0, restWall), Math.max(0, restCpu)]);
+    else rows[rows.length - 1] = ['write', write + Math.max(0, restWall), writeCpu + Math.max(0, restCpu)];
+    clock.stages.push(...rows);
+    process.stderr.write(clock.line(flat.count + points.length));
+  }
 }

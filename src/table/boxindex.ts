@@ -34,6 +34,12 @@ const EIGHTHS = [0.125, 0.25, 0.375, 0.5, 0.625, 0.75, 0.875];
 /** cells listing more regions than this try the cell's eighths only (the sweep sorts every side) */
 const SWEEP_MAX = 256;
 
+/** The fields of a `BoxIndex` that queries read (`state`, `fromState`). */
+const STATE_KEYS = ['n', 'size', 'A', 'b', 'rowStart', 'axis', 'split', 'left', 'right', 'leafFrom', 'leafTo', 'leafIds', 'boxLo', 'boxHi', 'rowAt', 'rowIds', 'rootLo', 'rootHi', 'A4', 'box4', 'exactFirst', 'stats', 'cellLo', 'cellHi', 'terms'] as const;
+
+/** A `BoxIndex` as plain data (`BoxIndex.state()`): numbers, a boolean, typed arrays, the stats. */
+export type BoxIndexState = { [K in (typeof STATE_KEYS)[number]]: unknown } & { n: number };
+
 /** Build options of a `BoxIndex` (defaults suit tables of 10 to 10⁶ regions). */
 export interface BoxIndexOptions {
   /** stop splitting a cell listing at most this many regions (default 3) */
@@ -108,6 +114,9 @@ export class BoxIndex {
     this.n = n;
     this.scratch = new Float64Array(Math.max(n, 1));
     this.point = new Float64Array(Math.max(n, 4));
+    this.cellLo = new Float64Array(n);
+    this.cellHi = new Float64Array(n);
+    this.terms = new Float64Array(n);
     this.exactFirst = options.rule !== 'first';
     const R = regions.length;
     this.size = R;
@@ -184,9 +193,34 @@ export class BoxIndex {
     let nList = 0;
     let nRows = 0;
     const rowSize = this.rowSizes(lower, upper);
+    // per listing, for nθ ≤ 4: the region's range within the leaf's cell on every axis (cellBounds:
+    // its padded box tightened by its rows), interleaved (lo_0, hi_0, …) at stride 8, the missing
+    // axes (−∞, ∞); grown by doubling
+    const small = n <= 4;
+    let lbox = new Float64Array(small ? 8 * 1024 : 0);
+    const leafLo = new Float64Array(R * n);
+    const leafHi = new Float64Array(R * n);
     const makeLeaf = (job: Job): void => {
       leafFrom[job.node] = ids.length;
-      for (const r of job.items) {
+      const m = job.items.length;
+      if (small) this.cellBounds(job.items, m, job.lo, job.hi, bl, bh, pad, leafLo, leafHi);
+      for (let q = 0; q < m; q++) {
+        const r = job.items[q];
+        if (small) {
+          // a row keeps the region out of the whole (padded) cell: not listed
+          let meets = true;
+          for (let j = 0; j < n && meets; j++) meets = leafLo[q * n + j] <= leafHi[q * n + j] && leafLo[q * n + j] <= job.hi[j] + pad && leafHi[q * n + j] >= job.lo[j] - pad;
+          if (!meets) continue;
+          if (8 * (nList + 1) > lbox.length) {
+            const grown = new Float64Array(2 * lbox.length);
+            grown.set(lbox);
+            lbox = grown;
+          }
+          for (let j = 0; j < 4; j++) {
+            lbox[8 * nList + 2 * j] = j < n ? leafLo[q * n + j] : -Infinity;
+            lbox[8 * nList + 2 * j + 1] = j < n ? leafHi[q * n + j] : Infinity;
+          }
+        }
         ids.push(r);
         if (nList + 2 > rowAt.length) {
           const at = new Int32Array(2 * rowAt.length);
@@ -204,10 +238,12 @@ export class BoxIndex {
       leafTo[job.node] = ids.length;
       leaves++;
       depthMax = Math.max(depthMax, job.depth);
-      longest = Math.max(longest, job.items.length);
+      longest = Math.max(longest, leafTo[job.node] - leafFrom[job.node]);
     };
     const lows = new Float64Array(R);
     const highs = new Float64Array(R);
+    const effLo = new Float64Array(R * n);
+    const effHi = new Float64Array(R * n);
     while (queue.size) {
       {
         const job = queue.pop();
@@ -217,8 +253,31 @@ export class BoxIndex {
           makeLeaf(job);
           continue;
         }
+        // each region's range on every axis within this cell, as its rows allow (cellBounds); a region
+        // whose range is empty on some axis holds no θ of the (padded) cell within the slack: dropped
+        this.cellBounds(job.items, m, job.lo, job.hi, bl, bh, pad, effLo, effHi);
+        const items = new Int32Array(m);
+        let kept = 0;
+        for (let q = 0; q < m; q++) {
+          let meets = true;
+          for (let j = 0; j < n && meets; j++) meets = effLo[q * n + j] <= effHi[q * n + j] && effLo[q * n + j] <= job.hi[j] + pad && effHi[q * n + j] >= job.lo[j] - pad;
+          if (!meets) continue;
+          for (let j = 0; j < n; j++) {
+            effLo[kept * n + j] = effLo[q * n + j];
+            effHi[kept * n + j] = effHi[q * n + j];
+          }
+          items[kept++] = job.items[q];
+        }
+        listed -= m - kept;
+        if (kept < m) {
+          job.items = items.slice(0, kept);
+          if (kept <= leafSize) {
+            makeLeaf(job);
+            continue;
+          }
+        }
         // the split with the fewest expected tests (bestSplit)
-        const ax = this.bestSplit(job.items, m, job.lo, job.hi, bl, bh, lows, highs);
+        const ax = this.bestSplit(job.items, kept, job.lo, job.hi, effLo, effHi, lows, highs);
         const s = this.splitAt;
         const lHi = Float64Array.from(job.hi);
         lHi[ax] = s;
@@ -226,18 +285,14 @@ export class BoxIndex {
         rLo[ax] = s;
         const li: number[] = [];
         const ri: number[] = [];
-        for (const r of job.items) {
-          // a box on one side of the split stays listed there without the row test (the parent
-          // listed it; listing more never changes an answer, the leaf is scanned in id order)
-          const inL = bl[r * n + ax] <= s;
-          const inR = bh[r * n + ax] >= s;
-          const both = inL && inR;
-          if (inL && (!both || !this.separated(r, job.lo, lHi, pad))) li.push(r);
-          if (inR && (!both || !this.separated(r, rLo, job.hi, pad))) ri.push(r);
+        // a region is listed on a side its range reaches (a row keeps it out of the other side)
+        for (let q = 0; q < kept; q++) {
+          if (effLo[q * n + ax] <= s) li.push(job.items[q]);
+          if (effHi[q * n + ax] >= s) ri.push(job.items[q]);
         }
-        const grow = li.length + ri.length - m;
+        const grow = li.length + ri.length - kept;
         // a split that separates nothing is not worth a node; the budget bounds the copies
-        if ((li.length === m && ri.length === m) || listed + grow > budget) {
+        if ((li.length === kept && ri.length === kept) || listed + grow > budget) {
           makeLeaf(job);
           continue;
         }
@@ -274,19 +329,96 @@ export class BoxIndex {
         for (let j = 0; j < n; j++) A4[i * 5 + j] = this.A[i * n + j];
         A4[i * 5 + 4] = this.b[i];
       }
-      const box4 = new Float64Array(R * 8);
-      for (let r = 0; r < R; r++)
-        for (let j = 0; j < 4; j++) {
-          box4[r * 8 + 2 * j] = j < n ? bl[r * n + j] : -Infinity;
-          box4[r * 8 + 2 * j + 1] = j < n ? bh[r * n + j] : Infinity;
-        }
       this.A4 = A4;
-      this.box4 = box4;
+      this.box4 = lbox.slice(0, 8 * nList);
     } else {
       this.A4 = null;
       this.box4 = null;
     }
     this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: this.rowIds.length };
+  }
+
+  /**
+   * For the cell [lo0, hi0] listing items[0 … m): per listed region q and axis j, the range
+   * [eLo, eHi][q·nθ + j] of θ_j over which the region can meet the cell within the slack: its
+   * padded box clipped by every row, the row's other terms at their least over the cell widened by
+   * `pad` (one step of interval bound tightening): row i at θ in the cell with a_i·θ ≤ b_i + pad
+   * gives a_ij θ_j ≤ b_i + pad − Σ_{k≠j} min a_ik θ_k. The sum's rounding is paid (4(nθ+2)·2⁻⁵³
+   * times the sum of the magnitudes) and the quotient's (one ulp), so the range holds every such θ;
+   * the query slack (≤ 100·tol.inside) and its residual's rounding fit in pad = 1000·tol.inside
+   * for θ in the parameter box. A child cell θ_j ≤ s lists the region only when s ≥ eLo (likewise
+   * θ_j ≥ s when s ≤ eHi), a region whose range is empty on some axis is not listed, and the ranges
+   * are what the split search counts: thin oblique regions have boxes across most of the parameter
+   * box, their ranges in a small cell are small.
+   */
+  private cellBounds(items: Int32Array, m: number, lo0: Float64Array, hi0: Float64Array, bl: Float64Array, bh: Float64Array, pad: number, eLo: Float64Array, eHi: Float64Array): void {
+    const n = this.n;
+    const A = this.A;
+    const b = this.b;
+    const L = this.cellLo;
+    const H = this.cellHi;
+    const t = this.terms;
+    for (let j = 0; j < n; j++) {
+      L[j] = lo0[j] - pad;
+      H[j] = hi0[j] + pad;
+    }
+    const eps = 4 * (n + 2) * 2 ** -53;
+    for (let q = 0; q < m; q++) {
+      const r = items[q];
+      const o = q * n;
+      for (let j = 0; j < n; j++) {
+        eLo[o + j] = bl[r * n + j];
+        eHi[o + j] = bh[r * n + j];
+      }
+      for (let i = this.rowStart[r], e = this.rowStart[r + 1]; i < e; i++) {
+        const w = i * n;
+        let sum = 0;
+        let size = Math.abs(b[i]) + pad;
+        for (let j = 0; j < n; j++) {
+          const a = A[w + j];
+          const x = a > 0 ? a * L[j] : a * H[j];
+          t[j] = x;
+          sum += x;
+          size += Math.abs(x);
+        }
+        const top = b[i] + pad + eps * size;
+        for (let j = 0; j < n; j++) {
+          const a = A[w + j];
+          if (a === 0) continue;
+          const v = (top - (sum - t[j])) / a;
+          const ulp = Math.abs(v) * 2 ** -52;
+          if (a > 0) {
+            if (v + ulp < eHi[o + j]) eHi[o + j] = v + ulp;
+          } else if (v - ulp > eLo[o + j]) eLo[o + j] = v - ulp;
+        }
+      }
+    }
+  }
+
+  private readonly cellLo: Float64Array;
+  private readonly cellHi: Float64Array;
+  private readonly terms: Float64Array;
+
+  /**
+   * Everything a query reads, as plain numbers and typed arrays (the arrays are this index's own,
+   * not copies): what a worker thread is sent to answer queries with `BoxIndex.fromState`.
+   */
+  state(): BoxIndexState {
+    const out: Record<string, unknown> = {};
+    for (const k of STATE_KEYS) out[k] = (this as unknown as Record<string, unknown>)[k];
+    return out as unknown as BoxIndexState;
+  }
+
+  /** An index answering exactly as the one whose `state()` this is (the arrays are used as given). */
+  static fromState(s: BoxIndexState): BoxIndex {
+    const index = Object.create(BoxIndex.prototype) as BoxIndex;
+    const into = index as unknown as Record<string, unknown>;
+    for (const k of STATE_KEYS) into[k] = (s as unknown as Record<string, unknown>)[k];
+    into.scratch = new Float64Array(Math.max(s.n, 1));
+    into.point = new Float64Array(Math.max(s.n, 4));
+    into.lastViolation = -Infinity;
+    into.splitAt = 0;
+    return index;
   }
 
   /** set by `bestSplit`: the split value of the axis it returns */
@@ -315,9 +447,8 @@ export class BoxIndex {
           let nl = 0;
           let nr = 0;
           for (let q = 0; q < m; q++) {
-            const r = items[q];
-            if (bl[r * n + j] <= at) nl++;
-            if (bh[r * n + j] >= at) nr++;
+            if (bl[q * n + j] <= at) nl++;
+            if (bh[q * n + j] >= at) nr++;
           }
           const cost = f * nl + (1 - f) * nr;
           if (cost < best) {
@@ -330,9 +461,8 @@ export class BoxIndex {
       }
       // sides: lows ascending (a box reaches the left side of x when its low ≤ x), highs ascending
       for (let q = 0; q < m; q++) {
-        const r = items[q];
-        lows[q] = bl[r * n + j];
-        highs[q] = bh[r * n + j];
+        lows[q] = bl[q * n + j];
+        highs[q] = bh[q * n + j];
       }
       const lo = lows.subarray(0, m).sort();
       const hi = highs.subarray(0, m).sort();
@@ -590,7 +720,7 @@ export class BoxIndex {
     let near = -1;
     let nearV = Infinity;
     for (let q = this.leafFrom[k], e = this.leafTo[k]; q < e; q++) {
-      const o = ids[q] * 8;
+      const o = q * 8;
       if (t0 < box[o] || t0 > box[o + 1] || t1 < box[o + 2] || t1 > box[o + 3] || t2 < box[o + 4] || t2 > box[o + 5] || t3 < box[o + 6] || t3 > box[o + 7]) continue;
       let v = -Infinity;
       for (let p = rowAt[q], pe = rowAt[q + 1]; p < pe; p++) {

@@ -5,6 +5,8 @@ import type { TableFile } from './format.js';
 import { clampInputs } from './clamp.js';
 import { locateScan, sharedTableLocator } from './locator.js';
 import { tol } from '../tol.js';
+import type { BoxIndex } from './boxindex.js';
+import type { CriticalRegion } from '../mpqp/types.js';
 
 /**
  * Match a header line to the θ names (contract, `tessera evaluate`): every θ entry named exactly
@@ -658,38 +660,122 @@ export function* evaluateCsvBytes(
   options: EvaluateOptions & { chunkPoints?: number; times?: EvaluateTimes } = {},
 ): Generator<Uint8Array> {
   const n = table.dims.ntheta;
-  const nu = table.dims.nu;
   if (points.ntheta !== n) throw new Error(`points have ${points.ntheta} entries, the table expects ${n}`);
-  const text = points.count > 0 ? asBytes(input) : new Uint8Array(0);
   const times = options.times ?? { index: 0, locate: 0, law: 0, format: 0 };
+  const context = csvContext(table, options, times);
+  const all = csvPoints(points, extra);
+  const text = points.count > 0 ? asBytes(input) : new Uint8Array(0);
+  yield* csvLines(context, { text, values: all, fileCount: points.count, from: points.from, to: points.to }, 0, all.length / Math.max(n, 1), true, options.chunkPoints, times, table.regions);
+}
+
+/**
+ * What `csvLines` needs of a table, made once: the k-d tree (null below 32 regions: then the lines
+ * are located by a scan of the regions), the packed laws (`packedLaws`), the clamp, the names. Plain
+ * data and typed arrays (the tree as `BoxIndex.state()`), so a worker thread can be sent it.
+ */
+export interface CsvContext {
+  ntheta: number;
+  nu: number;
+  regions: number;
+  index: BoxIndex | null;
+  F: Float64Array;
+  g: Float64Array;
+  constant: Uint8Array;
+  clamp: boolean;
+  /** the clamp bounds per input (±∞ for a missing one) */
+  lower: Float64Array;
+  upper: Float64Array;
+  /** the CSV header line */
+  header: string;
+}
+
+/** The points of a CSV path to locate: θ at values[k·nθ …], cells of the first `fileCount` copied from `text` (`FlatPoints.from`/`to`). */
+export interface CsvPoints {
+  text: Uint8Array;
+  values: Float64Array;
+  fileCount: number;
+  from: Int32Array;
+  to: Int32Array;
+}
+
+/** The k-d tree and packed laws of `table` for `csvLines` (built on first use per table; the time goes to `times.index`). */
+export function csvContext(table: TableFile, options: EvaluateOptions = {}, times?: EvaluateTimes): CsvContext {
   const now = (): number => performance.now() / 1000;
-  const cpuTimes = times.cpu;
-  const cpuNow = times.cpuNow ?? ((): number => 0);
-  let c0 = cpuNow();
-  let t0 = now();
+  const cpuNow = times?.cpuNow ?? ((): number => 0);
+  const c0 = cpuNow();
+  const t0 = now();
   const index = sharedTableLocator(table.regions, table.box);
   const { F, g, constant } = packedLaws(table);
-  times.index += now() - t0;
-  if (cpuTimes) cpuTimes.index += cpuNow() - c0;
-  const R = table.regions.length;
-  const total = points.count + extra.length;
-  // the parsed points as they are; a copy only when extra points follow them
-  let all = points.values.subarray(0, points.count * n);
-  if (extra.length) {
-    all = new Float64Array(total * n);
-    all.set(points.values.subarray(0, points.count * n));
-    for (let k = 0; k < extra.length; k++) for (let j = 0; j < n; j++) all[(points.count + k) * n + j] = extra[k][j];
+  if (times) {
+    times.index += now() - t0;
+    if (times.cpu) times.cpu.index += cpuNow() - c0;
   }
+  const nu = table.dims.nu;
   // the clamp of clampInputs, per input: a missing bound is ±∞ (never compares true), NaN stays NaN
-  const clamp = !!options.clamp;
-  const lo = new Float64Array(nu).fill(-Infinity);
-  const hi = new Float64Array(nu).fill(Infinity);
+  const lower = new Float64Array(nu).fill(-Infinity);
+  const upper = new Float64Array(nu).fill(Infinity);
   for (let i = 0; i < nu; i++) {
     const a = table.inputLimits.lower[i];
     const b = table.inputLimits.upper[i];
-    if (a !== null && a !== undefined) lo[i] = a;
-    if (b !== null && b !== undefined) hi[i] = b;
+    if (a !== null && a !== undefined) lower[i] = a;
+    if (b !== null && b !== undefined) upper[i] = b;
   }
+  return {
+    ntheta: table.dims.ntheta,
+    nu,
+    regions: table.regions.length,
+    index,
+    F,
+    g,
+    constant,
+    clamp: !!options.clamp,
+    lower,
+    upper,
+    header: [...table.thetaNames, 'region', ...table.inputNames].join(',') + '\n',
+  };
+}
+
+/** The parsed points as they are, followed by `extra` (θ order): a copy only when extra points follow. */
+export function csvPoints(points: FlatPoints, extra: number[][]): Float64Array {
+  const n = points.ntheta;
+  let all = points.values.subarray(0, points.count * n);
+  if (extra.length) {
+    all = new Float64Array((points.count + extra.length) * n);
+    all.set(points.values.subarray(0, points.count * n));
+    for (let k = 0; k < extra.length; k++) for (let j = 0; j < n; j++) all[(points.count + k) * n + j] = extra[k][j];
+  }
+  return all;
+}
+
+/**
+ * The CSV lines of points k0 … k1 − 1 of `pts` (the header first when `header`), as byte chunks
+ * of about `chunkPoints` lines: the body of `evaluateCsvBytes`, on its own so that worker threads
+ * can each write a range (`src/table/evaluate-threads.ts`); the lines depend only on their point,
+ * so ranges written apart and joined in order are the bytes of one run. `regions` (the table's) is
+ * read only when the context has no index.
+ */
+export function* csvLines(
+  ctx: CsvContext,
+  pts: CsvPoints,
+  k0: number,
+  k1: number,
+  header: boolean,
+  chunkPoints: number | undefined,
+  times: EvaluateTimes,
+  regions: CriticalRegion[] | null,
+): Generator<Uint8Array> {
+  const n = ctx.ntheta;
+  const nu = ctx.nu;
+  const { index, F, g, constant, clamp, lower: lo, upper: hi } = ctx;
+  const R = ctx.regions;
+  const all = pts.values;
+  const text = pts.text;
+  const fileCount = pts.fileCount;
+  const now = (): number => performance.now() / 1000;
+  const cpuTimes = times.cpu;
+  const cpuNow = times.cpuNow ?? ((): number => 0);
+  let c0 = 0;
+  let t0 = 0;
   // a constant row gives g only at a finite θ (0·∞ is NaN): points with another entry take the product
   const finite = (k: number): boolean => {
     for (let j = 0; j < n; j++) if (!Number.isFinite(all[k * n + j])) return false;
@@ -728,46 +814,46 @@ export function* evaluateCsvBytes(
   };
   const noRegion = ',-1' + ','.repeat(nu) + '\n';
   const numbers = new NumberText();
-  const chunk = Math.max(1, options.chunkPoints ?? 32768);
+  const chunk = Math.max(1, chunkPoints ?? 32768);
   const region = new Int32Array(chunk);
   const u = new Float64Array(chunk * nu);
   const th = new Float64Array(n);
   // bytes per line at most: a double prints in ≤ 25 characters, a copied cell is such a text
   const lineMax = 26 * (n + nu) + 16;
-  let head: Uint8Array | null = utf8.encode([...table.thetaNames, 'region', ...table.inputNames].join(',') + '\n');
-  const from = points.from;
-  const to = points.to;
+  let head: Uint8Array | null = header ? utf8.encode(ctx.header) : null;
+  const from = pts.from;
+  const to = pts.to;
   let scratch = new Uint8Array(0);
-  for (let k0 = 0; k0 < total; k0 += chunk) {
-    const k1 = Math.min(total, k0 + chunk);
+  for (let a = k0; a < k1; a += chunk) {
+    const b = Math.min(k1, a + chunk);
     t0 = now();
     if (cpuTimes) c0 = cpuNow();
-    for (let k = k0; k < k1; k++) {
+    for (let k = a; k < b; k++) {
       let r: number;
       if (index) r = index.locateAt(all, k * n, tol.inside, false);
       else {
         for (let j = 0; j < n; j++) th[j] = all[k * n + j];
-        r = locateScan(table.regions, th, tol.inside).region;
+        r = locateScan(regions!, th, tol.inside).region;
       }
-      region[k - k0] = r;
+      region[k - a] = r;
     }
     const t1 = now();
     times.locate += t1 - t0;
     const c1 = cpuTimes ? cpuNow() : 0;
     if (cpuTimes) cpuTimes.locate += c1 - c0;
-    for (let k = k0; k < k1; k++) {
-      const r = region[k - k0];
+    for (let k = a; k < b; k++) {
+      const r = region[k - a];
       if (r < 0) continue;
       const fin = finite(k);
       if (allConstant[r] && fin) continue;
-      for (let i = 0; i < nu; i++) u[(k - k0) * nu + i] = lawAt(r, i, k, fin);
+      for (let i = 0; i < nu; i++) u[(k - a) * nu + i] = lawAt(r, i, k, fin);
     }
     const t2 = now();
     times.law += t2 - t1;
     const c2 = cpuTimes ? cpuNow() : 0;
     if (cpuTimes) cpuTimes.law += c2 - c1;
     // formatted into one scratch array, handed out as a copy of the bytes used (about a third of the bound)
-    const need = (head ? head.length : 0) + (k1 - k0) * lineMax;
+    const need = (head ? head.length : 0) + (b - a) * lineMax;
     if (scratch.length < need) scratch = new Uint8Array(need);
     const out = scratch;
     let at = 0;
@@ -776,21 +862,21 @@ export function* evaluateCsvBytes(
       at = head.length;
       head = null;
     }
-    for (let k = k0; k < k1; k++) {
+    for (let k = a; k < b; k++) {
       const q0 = k * n;
       // θ: the input line's bytes when its cells are all copies, adjacent and in θ order
-      let whole = k < points.count && from[q0] >= 0;
+      let whole = k < fileCount && from[q0] >= 0;
       for (let j = 1; whole && j < n; j++) whole = from[q0 + j] >= 0 && from[q0 + j] === to[q0 + j - 1] + 1;
       if (whole) {
         for (let i = from[q0], e = to[q0 + n - 1]; i < e; i++) out[at++] = text[i];
       } else
         for (let j = 0; j < n; j++) {
           if (j) out[at++] = 44;
-          const f = k < points.count ? from[q0 + j] : -1;
+          const f = k < fileCount ? from[q0 + j] : -1;
           if (f >= 0) for (let i = f, e = to[q0 + j]; i < e; i++) out[at++] = text[i];
           else at = put(out, at, numbers.text(all[q0 + j]));
         }
-      const r = region[k - k0];
+      const r = region[k - a];
       if (r < 0) {
         at = put(out, at, noRegion);
         continue;
@@ -802,7 +888,7 @@ export function* evaluateCsvBytes(
       at = put(out, at, prefixOf(r));
       for (let i = 0; i < nu; i++) {
         out[at++] = 44;
-        at = put(out, at, numbers.text(u[(k - k0) * nu + i]));
+        at = put(out, at, numbers.text(u[(k - a) * nu + i]));
       }
       out[at++] = 10;
     }

@@ -148,6 +148,7 @@ const cliCases: CliCase[] = [
   { title: 'a missing output directory is created, and said so', args: ['map', T, '-o', 'new/dir/m.svg'], code: 0, stderr: '', stdout: /^tessera: note: created the directory new\/dir\n[\s\S]*written new\/dir\/m\.svg/ },
   // threads, parts, join and checkpoints
   { title: 'solve --threads 0', args: ['solve', P, '--threads', '0'], code: 2, stderr: usage('--threads: expected a positive integer, got "0"') },
+  { title: 'evaluate --threads 0', args: ['evaluate', T, '--at', '0,0', '--threads', '0'], code: 2, stderr: usage('--threads: expected a positive integer, got "0"') },
   { title: 'solve --part outside 1..k', args: ['solve', P, '--part', '3/2'], code: 2, stderr: usage('--part: expected i/k with 1 ≤ i ≤ k (the i-th of k sub-boxes), got "3/2"') },
   { title: 'solve --resume from a checkpoint of another problem', args: ['solve', P, '--resume', CP_OTHER, '-o', 'r.table.json'], code: 2, stderr: `tessera: ${CP_OTHER}: problemHash: the checkpoint belongs to another problem than ${P}\n`, absent: [join(cdir, 'r.table.json')] },
   { title: 'solve --checkpoint without .json', args: ['solve', P, '--checkpoint', 'cp.txt'], code: 2, stderr: 'tessera: cp.txt: --checkpoint: this writes a JSON checkpoint; give a file name ending in .json (not .txt)\n' },

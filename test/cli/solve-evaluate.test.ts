@@ -281,6 +281,55 @@ describe('tessera evaluate', () => {
     expect(rows[2][2]).toBe('-1');
   });
 
+  // --threads: the points split in consecutive ranges over worker threads. Reference for the bytes:
+  // the one-thread run (the rule is that every thread count gives the same output); for the values:
+  // quadprog (qpReference) on seeded lines written by the worker's range, and the region's own
+  // half-spaces checked here.
+  it('--threads 2 and 3 print the bytes of --threads 1 (120 000 points, --clamp, an --at point after the file); the worker-written lines agree with quadprog', async () => {
+    const rt = rng(77);
+    const many: string[] = [names.theta.join(',')];
+    for (let k = 0; k < 120_000; k++) {
+      const p = [-3.3 + 6.6 * rt(), -0.88 + 1.76 * rt()];
+      // a mix of spellings: shortest decimals (copied), 7 digits, and an exponent form (formatted)
+      many.push(k % 7 === 0 ? p.map((v) => v.toExponential(9)).join(',') : k % 3 === 0 ? p.map((v) => v.toPrecision(7)).join(',') : p.join(','));
+    }
+    const manyFile = join(dir, 'many.csv');
+    writeFileSync(manyFile, many.join('\n') + '\n');
+    const runs = await runAll(
+      {
+        one: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp'],
+        two: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '2', '--times'],
+        three: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '3'],
+      },
+      1,
+    );
+    for (const k of ['one', 'two', 'three']) expect(runs[k].status, `${k}: ${runs[k].stderr}`).toBe(0);
+    expect(runs.two.stdout).toBe(runs.one.stdout);
+    expect(runs.three.stdout).toBe(runs.one.stdout);
+    // --times names the wait for the workers' lines
+    expect(runs.two.stderr).toMatch(/tessera: times .* wait [\d.]+\/[\d.]+; total .* for 120001 points/);
+    const table = JSON.parse(readFileSync(tablePath, 'utf8'));
+    const lines = runs.two.stdout.trim().split('\n');
+    expect(lines).toHaveLength(120_002);
+    expect(lines[120_001].startsWith('0.5,0.1,')).toBe(true);
+    const lo = -1.5; // positioning-axis input limits (examples/positioning-axis.yaml: |u| ≤ 1.5)
+    let checked = 0;
+    for (let i = 60_001; i <= 120_001; i += 997) {
+      const cells = lines[i].split(',');
+      const theta = [Number(cells[0]), Number(cells[1])];
+      const region = Number(cells[2]);
+      if (region < 0) continue;
+      const reg = table.regions[region];
+      reg.A.forEach((row: number[], h: number) => expect(row[0] * theta[0] + row[1] * theta[1]).toBeLessThanOrEqual(reg.b[h] + tol.inside));
+      const ref = qpReference(axis, theta);
+      expect(ref.feasible).toBe(true);
+      const want = Math.min(-lo, Math.max(lo, ref.z[0]));
+      expect(Math.abs(Number(cells[3]) - want), `θ=${theta}`).toBeLessThanOrEqual(1e-6 * (1 + Math.abs(want)));
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(20);
+  }, 120000);
+
   it('a header line of names in the points file is accepted and changes nothing', () => {
     const h = ev.headed;
     expect(h.status).toBe(0);

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { BoxIndex } from '../../src/table/boxindex.js';
-import { boundingBoxByLp, tableLocator } from '../../src/table/locator.js';
+import { boundingBoxByLp, regionBoundingBox, tableLocator } from '../../src/table/locator.js';
+import { lpMaximizeReference } from '../../src/lp/reference.js';
 import { loadProblem, solveProblem } from '../../src/index.js';
 import type { TableFile } from '../../src/table/format.js';
 import { arrangementTable } from '../emit/synthetic.js';
@@ -125,6 +126,37 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
     expect(loc.stats.cellRows).toBeLessThan(loc.stats.listings * Math.max(...t.regions.map((r) => r.b.length)));
     expect(tests / pts.length).toBeLessThan(0.1 * t.regions.length);
   }, 300000);
+
+  // Reference: javascript-lp-solver (an npm simplex, through the thin adapter lpMaximizeReference)
+  // maximising ±θ_j over each region's rows: the box of the index must hold that extent (a box too
+  // small would lose points) and, unpadded, be no wider than it beyond the LPs' tolerances
+  it('regionBoundingBox (rows with one entry, reused optimal bases, LPs) holds each region and is tight', () => {
+    for (const [n, planes] of [
+      [2, 14],
+      [3, 9],
+      [4, 7],
+    ] as const) {
+      const t = arrangementTable({ lower: Array(n).fill(-1), upper: Array(n).fill(1), planes, seed: 40 + n });
+      for (const r of t.regions) {
+        const box = regionBoundingBox(r.A, r.b, r.chebyshev.center, 0);
+        const m = r.b.length;
+        const A = Float64Array.from(r.A.flat());
+        for (let j = 0; j < n; j++) {
+          const c = new Float64Array(n);
+          c[j] = 1;
+          const up = lpMaximizeReference(c, A, r.b, m, n);
+          c[j] = -1;
+          const dn = lpMaximizeReference(c, A, r.b, m, n);
+          expect(up.status).toBe('optimal');
+          expect(dn.status).toBe('optimal');
+          expect(box.hi[j]).toBeGreaterThanOrEqual(up.value - 1e-8); // the solver reports its result to ~1e-9
+          expect(box.hi[j]).toBeLessThanOrEqual(up.value + 1e-7);
+          expect(box.lo[j]).toBeLessThanOrEqual(-dn.value + 1e-8);
+          expect(box.lo[j]).toBeGreaterThanOrEqual(-dn.value - 1e-7);
+        }
+      }
+    }
+  });
 
   it('NaN and far-away θ are in no region', () => {
     const t = arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 6, seed: 5 });

@@ -38,16 +38,59 @@ export function choleskySolveInPlace(l: Float64Array, n: number, b: Float64Array
   }
 }
 
-/** Inverse of an SPD matrix (n×n) via Cholesky; null when not PD. */
-export function spdInverse(a: Float64Array, n: number, pivotTol: number): Float64Array | null {
-  const l = Float64Array.from(a);
+/** Work arrays of `spdInverse` for a caller that uses the inverse before the next call (grown on demand). */
+export interface SpdScratch {
+  l: Float64Array;
+  inv: Float64Array;
+  col: Float64Array;
+}
+
+/** A fresh, empty `SpdScratch` (one per hot caller and thread). */
+export function spdScratch(): SpdScratch {
+  return { l: new Float64Array(0), inv: new Float64Array(0), col: new Float64Array(0) };
+}
+
+/**
+ * Inverse of an SPD matrix (n×n) via Cholesky; null when not PD. With `scratch` the result is
+ * scratch.inv's first n² entries (valid until the next call with that scratch), else a new array.
+ * Column j's forward substitution starts at row j: the rows above hold exact zeros (0 − l·0 stays
+ * +0), so the bits are those of the full substitution.
+ */
+export function spdInverse(a: Float64Array, n: number, pivotTol: number, scratch?: SpdScratch): Float64Array | null {
+  let l: Float64Array;
+  let inv: Float64Array;
+  let col: Float64Array;
+  if (scratch) {
+    if (scratch.l.length < n * n) {
+      scratch.l = new Float64Array(2 * n * n);
+      scratch.inv = new Float64Array(2 * n * n);
+      scratch.col = new Float64Array(2 * n);
+    }
+    l = scratch.l;
+    for (let q = 0; q < n * n; q++) l[q] = a[q];
+    inv = scratch.inv;
+    col = scratch.col;
+  } else {
+    l = Float64Array.from(a);
+    inv = new Float64Array(n * n);
+    col = new Float64Array(n);
+  }
   if (!choleskyInPlace(l, n, pivotTol)) return null;
-  const inv = new Float64Array(n * n);
-  const col = new Float64Array(n);
   for (let j = 0; j < n; j++) {
-    col.fill(0);
-    col[j] = 1;
-    choleskySolveInPlace(l, n, col);
+    // forward: L y = e_j (y_i = 0 for i < j)
+    for (let i = 0; i < j; i++) col[i] = 0;
+    col[j] = 1 / l[j * n + j];
+    for (let i = j + 1; i < n; i++) {
+      let s = 0;
+      for (let k = j; k < i; k++) s -= l[i * n + k] * col[k];
+      col[i] = s / l[i * n + i];
+    }
+    // back: Lᵀ x = y
+    for (let i = n - 1; i >= 0; i--) {
+      let s = col[i];
+      for (let k = i + 1; k < n; k++) s -= l[k * n + i] * col[k];
+      col[i] = s / l[i * n + i];
+    }
     for (let i = 0; i < n; i++) inv[i * n + j] = col[i];
   }
   // symmetrise against round-off

@@ -1,3 +1,5 @@
+import { newPoint } from './vertices.js';
+
 /**
  * Facet covering by vertex lists: the part of a facet not yet covered by the slices of known
  * neighbours, kept as a list of convex pieces, each held both as rows (A y ≤ b) and as its vertices
@@ -67,6 +69,8 @@ function popCount(x: number): number {
 
 /** scratch of rankAtLeast: an orthonormal basis, row by row */
 let basisScratch = new Float64Array(64);
+/** scratch of subtractSlice: the reversed row (a typed array like every other row clipPiece reads) */
+let flipScratch = new Float64Array(8);
 /** scratch of clipPiece: each vertex's residual on the cutting row */
 let sScratch = new Float64Array(64);
 
@@ -188,7 +192,7 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
       const c = common(tu, P.tight[w]);
       if (!rankAtLeast(A, c, dim, dim - 1)) continue;
       const lam = s[u] / (s[u] - s[w]);
-      const x = new Array<number>(dim);
+      const x = newPoint(dim);
       for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);
       c.push(k);
       // a crossing point within eps of one found before (numerical near-degeneracy): one vertex
@@ -285,7 +289,7 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   const verts: number[][] = [];
   const tight: number[][] = [];
   for (let mask = 0; mask < 1 << dim; mask++) {
-    const x = new Array<number>(dim);
+    const x = newPoint(dim);
     const t: number[] = [];
     for (let k = 0; k < dim; k++) {
       const up = (mask >> k) & 1;
@@ -308,6 +312,31 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
   // a vertex on the box: the box did not hold the polytope with room to spare
   for (const x of P.verts) for (let k = 0; k < dim; k++) if (x[k] <= lo[k] + ctx.eps || x[k] >= hi[k] - ctx.eps) return fail('box');
   return P;
+}
+
+/**
+ * A piece from vertices already known (a region's own vertex list: those on the facet, in facet
+ * coordinates): the rows A, b (m of them, dim each; the tight lists index them, ascending), then
+ * cut by the `cm` extra rows cA, cb (sub-box faces), and checked and tidied as `polytopePiece`'s
+ * result is (rows tight at fewer than dim vertices dropped, every vertex of rank dim). Null when
+ * nothing full-dimensional is left; 'fail' on a failed check or two vertices within eps of each
+ * other (the caller then builds the piece by `facetPiece`). The arrays become the piece's.
+ */
+export function pieceFromVertices(A: number[], b: number[], m: number, verts: number[][], tight: number[][], cA: ArrayLike<number>, cb: ArrayLike<number>, cm: number, ctx: CoverContext): CoverPiece | null | 'fail' {
+  const { dim, eps } = ctx;
+  for (let u = 0; u < verts.length; u++)
+    for (let v = 0; v < u; v++) {
+      let d = 0;
+      for (let k = 0; k < dim && d <= eps; k++) d = Math.max(d, Math.abs(verts[u][k] - verts[v][k]));
+      if (d <= eps) return fail('verts');
+    }
+  let P: CoverPiece = { A, b, m, verts, tight, widthBound: Infinity };
+  for (let i = 0; i < cm; i++) {
+    const r = clipPiece(P, cA, cb[i], ctx, false, i * dim, true);
+    if (r === null || r === 'fail') return r;
+    P = r;
+  }
+  return finish(P.A, P.b, P.m, P.verts, P.tight, ctx);
 }
 
 /**
@@ -353,8 +382,9 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
   depth.sort((x, y) => y.d - x.d || x.i - y.i);
   const out: CoverPiece[] = [];
   let cur: CoverPiece = P;
+  if (flipScratch.length < dim) flipScratch = new Float64Array(2 * dim);
+  const flipped = flipScratch; // read by clipPiece during the call only (rows are copied)
   for (const { i } of depth) {
-    const flipped = new Array<number>(dim);
     for (let k = 0; k < dim; k++) flipped[k] = -SA[i * dim + k];
     const beyond = clipPiece(cur, flipped, -Sb[i], ctx);
     if (beyond === 'fail') return 'fail';

@@ -41,6 +41,23 @@ export function qpWorkspace(problem: MpqpProblem): QpWorkspace {
   return ws;
 }
 
+/** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), made once per problem; the arrays are shared, read only. */
+const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
+export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array } {
+  const hit = gNonzeros.get(problem);
+  if (hit) return hit;
+  const { G, nc, nz } = problem;
+  const ptr = new Int32Array(nc + 1);
+  const cols: number[] = [];
+  for (let i = 0; i < nc; i++) {
+    for (let q = 0; q < nz; q++) if (G[i * nz + q] !== 0) cols.push(q);
+    ptr[i + 1] = cols.length;
+  }
+  const out = { ptr, idx: Int32Array.from(cols) };
+  gNonzeros.set(problem, out);
+  return out;
+}
+
 export interface PointQpResult {
   feasible: boolean;
   z: Float64Array;
@@ -83,13 +100,29 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   const dz = new Float64Array(nz);
   const chol = new Float64Array((nz + 1) * (nz + 1));
   let it = 0;
+  // G_i z − rhs_i over G_i's nonzeros, in column order: the same partial sums as over every column
+  // (a zero product changes at most the sign of a zero sum), so the same value unless it ends at
+  // zero, which is redone over every column; likewise when z is not finite (0·∞ is NaN)
+  const { G } = problem;
+  const { ptr, idx } = rowNonzeros(problem);
+  let zFinite = true;
+  const checkZ = (): void => {
+    zFinite = true;
+    for (let j = 0; j < nz && zFinite; j++) zFinite = Number.isFinite(z[j]);
+  };
   const slack = (i: number): number => {
     let s = -rhs[i];
-    for (let j = 0; j < nz; j++) s += problem.G[i * nz + j] * z[j];
+    if (zFinite) {
+      for (let e = ptr[i]; e < ptr[i + 1]; e++) s += G[i * nz + idx[e]] * z[idx[e]];
+      if (s !== 0) return s;
+      s = -rhs[i];
+    }
+    for (let j = 0; j < nz; j++) s += G[i * nz + j] * z[j];
     return s;
   };
   if (start && start.length > 0) warmStart(ws, start, rhs, z, lambda, active, isActive);
   for (; it < maxIter; it++) {
+    checkZ();
     // most violated row
     let p = -1;
     let worst: number = tol.primal;
@@ -134,6 +167,7 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
           }
         }
       }
+      checkZ();
       const sp = slack(p);
       const t1 = dependent ? Infinity : sp / q;
       if (!Number.isFinite(t1) && drop < 0) return { feasible: false, z, activeSet: [], lambda, iterations: it };

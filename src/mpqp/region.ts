@@ -1,10 +1,59 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
-import { qpWorkspace } from './pointqp.js';
-import { spdInverse } from '../linalg/dense.js';
+import { qpWorkspace, rowNonzeros } from './pointqp.js';
+import { spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
-import { maxVertexDim, vertexPass } from './vertices.js';
+import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
+
+/**
+ * buildRegion's work arrays, grown on demand (one set per thread): every entry read is written in
+ * the same call first, and nothing in them outlives the call (stored rows, laws and vertices are
+ * copies), so a region allocates only what it keeps.
+ */
+interface BuildScratch {
+  inA: Uint8Array;
+  Lth: Float64Array;
+  lc: Float64Array;
+  MAA: Float64Array;
+  Zth: Float64Array;
+  zc: Float64Array;
+  Af: Float64Array;
+  bf: Float64Array;
+  kinds: Uint8Array;
+  rowOf: Int32Array;
+}
+const bws: BuildScratch = {
+  inA: new Uint8Array(0),
+  Lth: new Float64Array(0),
+  lc: new Float64Array(0),
+  MAA: new Float64Array(0),
+  Zth: new Float64Array(0),
+  zc: new Float64Array(0),
+  Af: new Float64Array(0),
+  bf: new Float64Array(0),
+  kinds: new Uint8Array(0),
+  rowOf: new Int32Array(0),
+};
+function buildScratch(nc: number, nz: number, nt: number, k: number, mMax: number): BuildScratch {
+  if (bws.inA.length < nc) bws.inA = new Uint8Array(2 * nc);
+  if (bws.Lth.length < k * nt) bws.Lth = new Float64Array(2 * k * nt);
+  if (bws.lc.length < k) bws.lc = new Float64Array(2 * k);
+  if (bws.MAA.length < k * k) bws.MAA = new Float64Array(4 * k * k);
+  if (bws.Zth.length < nz * nt) bws.Zth = new Float64Array(2 * nz * nt);
+  if (bws.zc.length < nz) bws.zc = new Float64Array(2 * nz);
+  if (bws.Af.length < mMax * nt) bws.Af = new Float64Array(2 * mMax * nt);
+  if (bws.bf.length < mMax) {
+    bws.bf = new Float64Array(2 * mMax);
+    bws.kinds = new Uint8Array(2 * mMax);
+    bws.rowOf = new Int32Array(2 * mMax);
+  }
+  return bws;
+}
+/** the Gram matrix of a region's rows (facetRowsByLp; one per thread) */
+let gramScratch = new Float64Array(0);
+/** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
+const invScratch = spdScratch();
 
 export type RegionFailure = 'licq' | 'empty' | 'flat';
 /** An axis-aligned box that holds the region (not stored in the table; feeds the exploration's spatial index). */
@@ -12,7 +61,17 @@ export interface BoundingBox {
   lo: Float64Array;
   hi: Float64Array;
 }
-export type RegionResult = { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox } | { ok: false; reason: RegionFailure };
+/**
+ * The vertices of a region (θ coordinates, nθ each) with the rows tight at each (ascending indices
+ * into the region's A): plain arrays owned by the caller. Not stored in the table.
+ */
+export interface RegionVertices {
+  x: number[][];
+  tight: number[][];
+}
+export type RegionResult =
+  | { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox; /** the region's vertex list when the vertex pass made it exactly (nθ ≥ 3), else null */ verts: RegionVertices | null }
+  | { ok: false; reason: RegionFailure };
 
 export interface LpEngine {
   lps: number;
@@ -32,15 +91,18 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const { nz, nc, ntheta: nt, lawSize } = problem;
   const { K, M, HinvF, S, Hinvc, wc } = ws;
   const k = activeSet.length;
-  const inA = new Uint8Array(nc);
+  const mMax = nc + k + 2 * nt;
+  const bw = buildScratch(nc, nz, nt, k, mMax);
+  const inA = bw.inA;
+  inA.fill(0, 0, nc);
   for (const i of activeSet) inA[i] = 1;
   // λ(θ) = Lθ θ + lc
-  const Lth = new Float64Array(k * nt);
-  const lc = new Float64Array(k);
+  const Lth = bw.Lth;
+  const lc = bw.lc;
   if (k > 0) {
-    const MAA = new Float64Array(k * k);
+    const MAA = bw.MAA;
     for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) MAA[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
-    const inv = spdInverse(MAA, k, tol.rank) ?? scaledInverse(MAA, k);
+    const inv = spdInverse(MAA, k, tol.rank, invScratch) ?? scaledInverse(MAA, k);
     if (!inv) return { ok: false, reason: 'licq' };
     for (let a = 0; a < k; a++) {
       for (let j = 0; j < nt; j++) {
@@ -54,8 +116,8 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     }
   }
   // z(θ) = Zth θ + zc
-  const Zth = new Float64Array(nz * nt);
-  const zc = new Float64Array(nz);
+  const Zth = bw.Zth;
+  const zc = bw.zc;
   for (let i = 0; i < nz; i++) {
     for (let j = 0; j < nt; j++) {
       let s = -HinvF[i * nt + j];
@@ -66,24 +128,39 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * lc[a];
     zc[i] = s;
   }
-  // half-spaces
-  const rowsA: number[][] = [];
-  const rowsB: number[] = [];
-  const info: { kind: FacetInfo['kind']; row: number }[] = [];
-  // `a` is the caller's scratch row: read here, never kept (the stored row is a new, normalised array)
-  const push = (a: number[], b: number, kind: FacetInfo['kind'], row: number): boolean => {
+  // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
+  // a row implied by the box alone is dropped at once (no LP), so only the rows kept are stored and
+  // only the region's facets become arrays of their own (per-row arrays were most of the garbage)
+  const Af = bw.Af;
+  const bf = bw.bf;
+  const kinds = bw.kinds; // 0 primal, 1 dual, 2 box
+  const rowOf = bw.rowOf;
+  const lo = problem.box.lower;
+  const up = problem.box.upper;
+  let m = 0;
+  /** Normalise the row in slot m (b its bound) and keep it unless the box implies it; false when it is a constant row that no θ satisfies. */
+  const keep = (b: number, kind: number, row: number): boolean => {
+    const o = m * nt;
     let n = 0;
-    for (const v of a) n += v * v;
+    for (let j = 0; j < nt; j++) n += Af[o + j] * Af[o + j];
     n = Math.sqrt(n);
     if (n <= 1e-12) return b >= -tol.primal; // constant row: fine or empty
-    rowsA.push(a.map((v) => v / n));
-    rowsB.push(b / n);
-    info.push({ kind, row });
+    let mx = 0;
+    for (let j = 0; j < nt; j++) {
+      const v = Af[o + j] / n;
+      Af[o + j] = v;
+      mx += Math.max(v * lo[j], v * up[j]);
+    }
+    const bn = b / n;
+    if (mx <= bn + tol.redundancy) return true; // implied by the box alone
+    bf[m] = bn;
+    kinds[m] = kind;
+    rowOf[m] = row;
+    m++;
     return true;
   };
-  const a = new Array<number>(nt);
   const { G, E, w } = problem;
-  const { ptr, idx } = nonzerosOf(problem);
+  const { ptr, idx } = rowNonzeros(problem);
   // the sums run over G_i's nonzeros in column order: the same partial sums as over every column,
   // since adding a zero product changes nothing but, at most, the sign of a zero sum; a sum that
   // ends at zero is redone over every column, so the rows keep their bits (zero signs included)
@@ -92,67 +169,63 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   for (let q = 0; q < nz && finite; q++) finite = Number.isFinite(zc[q]);
   for (let i = 0; i < nc; i++) {
     if (inA[i]) continue;
-    // G_i z(θ) − w_i − E_i θ ≤ 0
+    // G_i z(θ) − w_i − E_i θ ≤ 0; each θ column's sum kept in its slot, the nonzeros in order
     const p0 = finite ? ptr[i] : 0;
     const p1 = finite ? ptr[i + 1] : 0;
-    for (let j = 0; j < nt; j++) {
-      let s = -E[i * nt + j];
+    const o = m * nt;
+    let c = -w[i];
+    if (nt === 2) {
+      // the same sums in two locals (no store per product)
+      let s0 = -E[i * 2];
+      let s1 = -E[i * 2 + 1];
       for (let p = p0; p < p1; p++) {
         const q = idx[p];
-        s += G[i * nz + q] * Zth[q * nt + j];
+        const g = G[i * nz + q];
+        s0 += g * Zth[q * 2];
+        s1 += g * Zth[q * 2 + 1];
+        c += g * zc[q];
       }
-      if (s === 0 || !finite) {
-        s = -E[i * nt + j];
-        for (let q = 0; q < nz; q++) s += G[i * nz + q] * Zth[q * nt + j];
+      Af[o] = s0;
+      Af[o + 1] = s1;
+    } else {
+      for (let j = 0; j < nt; j++) Af[o + j] = -E[i * nt + j];
+      for (let p = p0; p < p1; p++) {
+        const q = idx[p];
+        const g = G[i * nz + q];
+        for (let j = 0; j < nt; j++) Af[o + j] += g * Zth[q * nt + j];
+        c += g * zc[q];
       }
-      a[j] = s;
     }
-    let c = -w[i];
-    for (let p = p0; p < p1; p++) {
-      const q = idx[p];
-      c += G[i * nz + q] * zc[q];
+    for (let j = 0; j < nt; j++) {
+      if (Af[o + j] !== 0 && finite) continue;
+      let t = -E[i * nt + j];
+      for (let q = 0; q < nz; q++) t += G[i * nz + q] * Zth[q * nt + j];
+      Af[o + j] = t;
     }
     if (c === 0 || !finite) {
       c = -w[i];
       for (let q = 0; q < nz; q++) c += G[i * nz + q] * zc[q];
     }
-    if (!push(a, -c, 'primal', i)) return { ok: false, reason: 'empty' };
+    if (!keep(-c, 0, i)) return { ok: false, reason: 'empty' };
   }
   for (let p = 0; p < k; p++) {
     // −λ_p(θ) ≤ 0
-    for (let j = 0; j < nt; j++) a[j] = -Lth[p * nt + j];
-    if (!push(a, lc[p], 'dual', activeSet[p])) return { ok: false, reason: 'empty' };
-  }
-  const lo = problem.box.lower;
-  const up = problem.box.upper;
-  // drop rows implied by the box alone (no LP needed)
-  const keepA: number[][] = [];
-  const keepB: number[] = [];
-  const keepInfo: typeof info = [];
-  for (let r = 0; r < rowsA.length; r++) {
-    let mx = 0;
-    for (let j = 0; j < nt; j++) mx += Math.max(rowsA[r][j] * lo[j], rowsA[r][j] * up[j]);
-    if (mx <= rowsB[r] + tol.redundancy) continue;
-    keepA.push(rowsA[r]);
-    keepB.push(rowsB[r]);
-    keepInfo.push(info[r]);
+    const o = m * nt;
+    for (let j = 0; j < nt; j++) Af[o + j] = -Lth[p * nt + j];
+    if (!keep(lc[p], 1, activeSet[p])) return { ok: false, reason: 'empty' };
   }
   for (let j = 0; j < nt; j++) {
-    const e = new Array<number>(nt).fill(0);
-    e[j] = 1;
-    keepA.push(e);
-    keepB.push(up[j]);
-    keepInfo.push({ kind: 'box', row: j });
-    const f = new Array<number>(nt).fill(0);
-    f[j] = -1;
-    keepA.push(f);
-    keepB.push(-lo[j]);
-    keepInfo.push({ kind: 'box', row: j });
+    // θ_j ≤ up_j, then −θ_j ≤ −lo_j (slot m may hold a dropped row: cleared)
+    Af.fill(0, m * nt, (m + 2) * nt);
+    Af[m * nt + j] = 1;
+    bf[m] = up[j];
+    kinds[m] = 2;
+    rowOf[m++] = j;
+    Af[m * nt + j] = -1;
+    bf[m] = -lo[j];
+    kinds[m] = 2;
+    rowOf[m++] = j;
   }
-  const m = keepA.length;
-  const Af = new Float64Array(m * nt);
-  const bf = Float64Array.from(keepB);
-  keepA.forEach((row, r) => row.forEach((v, j) => (Af[r * nt + j] = v)));
   const start = new Float64Array(nt);
   let width = 0;
   for (let j = 0; j < nt; j++) {
@@ -168,11 +241,14 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const A: number[][] = [];
   const b: number[] = [];
   const facets: FacetInfo[] = [];
+  const verts = thin.verts ? regionVertices(thin.verts, alive, m) : null;
   for (let r = 0; r < m; r++) {
     if (!alive[r]) continue;
-    A.push(keepA[r]);
-    b.push(keepB[r]);
-    facets.push({ kind: keepInfo[r].kind, row: keepInfo[r].row, neighbours: [] });
+    const row = new Array<number>(nt);
+    for (let j = 0; j < nt; j++) row[j] = Af[r * nt + j];
+    A.push(row);
+    b.push(bf[r]);
+    facets.push({ kind: kindNames[kinds[r]], row: rowOf[r], neighbours: [] });
   }
   // affine law, and (unless lean) the whole move sequence and the value function
   const rowsOut = lean ? lawSize : nz;
@@ -195,24 +271,23 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     region.moves = { F: movesF, g: movesG };
     region.value = valueFunction(problem, Zth, zc);
   }
-  return { ok: true, region, bbox: thin.bbox };
+  return { ok: true, region, bbox: thin.bbox, verts };
 }
 
-/** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), per problem. */
-const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
-function nonzerosOf(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array } {
-  const hit = gNonzeros.get(problem);
-  if (hit) return hit;
-  const { G, nc, nz } = problem;
-  const ptr = new Int32Array(nc + 1);
-  const cols: number[] = [];
-  for (let i = 0; i < nc; i++) {
-    for (let q = 0; q < nz; q++) if (G[i * nz + q] !== 0) cols.push(q);
-    ptr[i + 1] = cols.length;
+const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
+
+/** The vertex pass's list with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
+function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVertices {
+  const at = new Int32Array(m);
+  let n = 0;
+  for (let r = 0; r < m; r++) at[r] = alive[r] ? n++ : -1;
+  const tight: number[][] = [];
+  for (const t of V.tight) {
+    const u: number[] = [];
+    for (const r of t) if (at[r] >= 0) u.push(at[r]);
+    tight.push(u);
   }
-  const out = { ptr, idx: Int32Array.from(cols) };
-  gNonzeros.set(problem, out);
-  return out;
+  return { x: V.x, tight };
 }
 
 /** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */
@@ -274,7 +349,7 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
  *    the proofs. Proofs only ever drop a row, and only by a bound ≥ the LP's own value, so the rows
  *    kept are those the LPs alone keep (the `lp: 'reference'` path runs without them).
  */
-function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } {
+function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } {
   const alive = new Uint8Array(m).fill(1);
   const sure = new Uint8Array(m);
   const proofs = !lp.reference && lp.proofs !== false;
@@ -302,9 +377,32 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     }
     if (hit >= 0 && !tie) sure[hit] = 1;
   };
+  // rays along every row normal: the ray of row r meets row q at slack_q / (a_q·a_r), and a_q·a_r is
+  // a_r·a_q bit for bit (the same products summed in the same order), so each product is formed once
+  if (gramScratch.length < m * m) gramScratch = new Float64Array(2 * m * m);
+  const gram = gramScratch;
+  for (let r = 0; r < m; r++)
+    for (let q = r; q < m; q++) {
+      let g = 0;
+      for (let j = 0; j < nt; j++) g += Af[q * nt + j] * Af[r * nt + j];
+      gram[r * m + q] = g;
+      gram[q * m + r] = g;
+    }
   for (let r = 0; r < m; r++) {
-    for (let j = 0; j < nt; j++) dir[j] = Af[r * nt + j];
-    shoot();
+    let best = Infinity;
+    let hit = -1;
+    let tie = false;
+    for (let q = 0; q < m; q++) {
+      const ad = gram[r * m + q];
+      if (ad <= 1e-12) continue;
+      const t = slack[q] / ad;
+      if (hit < 0 || t < best - 1e-12 * (1 + best)) {
+        best = t;
+        hit = q;
+        tie = false;
+      } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
+    }
+    if (hit >= 0 && !tie) sure[hit] = 1;
   }
   const useVertices = proofs && nt <= maxVertexDim;
   for (let j = 0; j < nt && !useVertices; j++)
@@ -333,7 +431,9 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // LP-free pass over the vertices of the sure rows (vertices.ts): facets found by rays aimed at
   // vertices that break a row, redundant rows and box sides proved by weak duality at a vertex
   const sideKnown = new Uint8Array(2 * nt);
-  if (useVertices) vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy);
+  const V = useVertices ? vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy) : null;
+  // the rows V was cut by (sure now, box sides aside): V is the region's vertex list when the rows kept at the end are among them
+  const cut = V ? sure.slice(0, m - 2 * nt) : null;
   const skip = new Uint8Array(m);
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
   // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)
@@ -447,7 +547,9 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     if (res.status === 'optimal') keepBasis(res);
     if (res.status === 'optimal' && res.value <= bf[r] + tol.redundancy) alive[r] = 0;
   }
-  return { alive, bbox: { lo: bbLo, hi: bbHi } };
+  let exact = cut !== null;
+  for (let r = 0; r < m - 2 * nt && exact; r++) exact = !alive[r] || cut![r] === 1;
+  return { alive, bbox: { lo: bbLo, hi: bbHi }, verts: exact ? V : null };
 }
 
 /**
@@ -455,7 +557,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
  * exact for convex polygons); a row is a facet when it supports an edge longer than tol.radius.
  * Duplicate rows supporting the same edge keep the first one. Null when the polygon is flat.
  */
-function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox } | null {
+function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } | null {
   // vertices with the row that made the edge leaving each vertex (−1: not from a row yet)
   let poly: { x: number; y: number; edge: number }[] = [];
   const boxRows = findBoxRows(Af, bf, m, lo, up);
@@ -504,7 +606,7 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
     bbHi[0] = Math.max(bbHi[0], P.x + tol.redundancy);
     bbHi[1] = Math.max(bbHi[1], P.y + tol.redundancy);
   }
-  return { alive, bbox: { lo: bbLo, hi: bbHi } };
+  return { alive, bbox: { lo: bbLo, hi: bbHi }, verts: null };
 }
 
 /** Indices of the four box rows (x ≤ up0, −x ≤ −lo0, y ≤ up1, −y ≤ −lo1), appended last by buildRegion. */
@@ -528,7 +630,7 @@ function scaledInverse(a: Float64Array, n: number): Float64Array | null {
   }
   const s = new Float64Array(n * n);
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) s[i * n + j] = d[i] * a[i * n + j] * d[j];
-  const inv = spdInverse(s, n, tol.rank);
+  const inv = spdInverse(s, n, tol.rank, invScratch);
   if (!inv) return null;
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) inv[i * n + j] *= d[i] * d[j];
   return inv;

@@ -1,12 +1,13 @@
 import { sumCauses, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
 import { solvePointQp } from './pointqp.js';
-import { buildRegion, type BoundingBox, type LpEngine } from './region.js';
+import { buildRegion, type BoundingBox, type LpEngine, type RegionVertices } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
+import { newPoint } from './vertices.js';
 import { Arena } from '../util/arena.js';
-import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
+import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
 /**
  * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
@@ -109,6 +110,8 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   /** regions known to touch each region (landings in either direction): the first place to look */
   const adjacent: number[][] = [];
   const bboxes: BoundingBox[] = [];
+  /** each region's vertex list from its builder (nθ ≥ 3, when exact), until its facets are covered */
+  const vertsOf: (RegionVertices | null)[] = [];
   const boxArena = new Arena();
   const link = (a: number, b: number): void => {
     if (a === b) return;
@@ -146,6 +149,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         id = regions.length;
         regions.push({ ...R, id, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) });
         adjacent.push([]);
+        vertsOf.push(null);
         const bb = { lo: Float64Array.from(box.lo), hi: Float64Array.from(box.hi) };
         bboxes.push(bb);
         grid.add(R.A, R.b, bb.lo, bb.hi);
@@ -171,6 +175,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const id = regions.length;
     regions.push({ id, ...res.region });
     adjacent.push([]);
+    vertsOf.push(res.verts);
     // the box kept as two views of a shared block (two typed arrays of their own cost ~0.5 kB)
     const bb = { lo: boxArena.f64(nt), hi: boxArena.f64(nt) };
     bb.lo.set(res.bbox.lo);
@@ -260,6 +265,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       if (stats.stopReason !== 'done') break;
     }
     if (stats.stopReason !== 'done') break;
+    vertsOf[id] = null;
     head++;
     done.add(key);
     listener?.covered(key);
@@ -366,6 +372,40 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   }
 
   /**
+   * Facet f's vertex list from R's own (the builder's, nθ ≥ 3): the vertices tight at row f, in the
+   * facet's coordinates, with their other tight rows renumbered to the frame's; the sub-box faces
+   * (the frame's rows after R's) then cut it. Null when R has no exact list or it fails a check:
+   * the caller clips a box by the facet's rows instead (`facetPiece`), as before.
+   */
+  function fromRegionVertices(R: CriticalRegion, f: number, facet: FacetFrame, ctx: CoverContext): { piece: CoverPiece | null; ctx: CoverContext } | null {
+    const V = vertsOf[R.id];
+    if (!V) return null;
+    const dim = facet.dim;
+    const map = facet.rowMap;
+    const nOwn = R.A.length;
+    let mOwn = 0;
+    for (let r = 0; r < nOwn; r++) if (map[r] >= 0) mOwn++;
+    const verts: number[][] = [];
+    const tight: number[][] = [];
+    for (let v = 0; v < V.x.length; v++) {
+      const T = V.tight[v];
+      if (!T.includes(f)) continue;
+      const t: number[] = [];
+      for (const r of T) if (r !== f && map[r] >= 0) t.push(map[r]);
+      verts.push(facet.toY(V.x[v]));
+      tight.push(t);
+    }
+    const A = new Array<number>(mOwn * dim);
+    for (let q = 0; q < mOwn * dim; q++) A[q] = facet.A[q];
+    const b = new Array<number>(mOwn);
+    for (let q = 0; q < mOwn; q++) b[q] = facet.b[q];
+    const cm = facet.m - mOwn;
+    const piece = pieceFromVertices(A, b, mOwn, verts, tight, facet.A.subarray(mOwn * dim), facet.b.subarray(mOwn), cm, ctx);
+    if (piece === 'fail') return null;
+    return { piece, ctx };
+  }
+
+  /**
    * Cover facet f of R by vertex lists (src/mpqp/cover.ts): the uncovered part is a list of convex
    * pieces; each slice (known neighbours first, then every landing) is taken off the pieces it
    * cuts with no LP; a landing starts from a piece's vertex mean (one Chebyshev LP only when the
@@ -376,8 +416,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     facetList = null;
     facetCtx = null;
     const dim = facet.dim;
-    const box = facet.yBox(bboxes[R.id]);
-    const made = facetPiece(facet.A, facet.b, facet.m, box.lo, box.hi, { dim, eps: coverEps, maxVerts: 4000 });
+    const ctx0: CoverContext = { dim, eps: coverEps, maxVerts: 4000 };
+    let made: ReturnType<typeof facetPiece> | null = fromRegionVertices(R, f, facet, ctx0);
+    if (made === null) {
+      const box = facet.yBox(bboxes[R.id]);
+      made = facetPiece(facet.A, facet.b, facet.m, box.lo, box.hi, ctx0);
+    }
     if (made === 'fail') return lastCoverFailure();
     const { piece: base, ctx } = made;
     if (base === null || base.widthBound <= minPiece) {
@@ -609,6 +653,10 @@ export interface FacetFrame extends Slice {
   /** the region's rows on the hyperplane (row `skip`, if given, left out) */
   sliceOf: (region: Pick<CriticalRegion, 'A' | 'b'>, skip?: number) => Slice | null;
   ballSlice: (y: ArrayLike<number>, r: number) => Slice;
+  /** for each row of the region (and the extra rows after them), its row in the frame, or −1 when the frame left it out */
+  rowMap: Int32Array;
+  /** θ on the hyperplane in the facet's coordinates (plain array, dim long) */
+  toY: (theta: ArrayLike<number>) => number[];
   /** a box in the facet's coordinates holding the image of the θ-box [lo, hi] on the hyperplane, padded by 1 % */
   yBox: (bb: { lo: ArrayLike<number>; hi: ArrayLike<number> }) => { lo: Float64Array; hi: Float64Array };
 }
@@ -619,26 +667,70 @@ export interface FacetFrame extends Slice {
  */
 export function slicePolytope(A: number[][], b: number[], a: number[], beta: number, skip: number, coverSlack: number, bbox?: BoundingBox): FacetFrame | null {
   const d = a.length;
-  const basis: number[][] = [];
-  for (let e = 0; e < d && basis.length < d - 1; e++) {
-    const v = new Array<number>(d).fill(0);
+  const dim = d - 1;
+  // basis rows k·d .. k·d + d (Gram–Schmidt of the unit vectors against a and the rows before)
+  const basis = new Float64Array(Math.max(dim, 0) * d);
+  const v = new Float64Array(d);
+  let nb = 0;
+  for (let e = 0; e < d && nb < dim; e++) {
+    v.fill(0);
     v[e] = 1;
-    for (const u of [a, ...basis]) {
+    for (let u = -1; u < nb; u++) {
       let s = 0;
-      for (let j = 0; j < d; j++) s += u[j] * v[j];
-      for (let j = 0; j < d; j++) v[j] -= s * u[j];
+      if (u < 0) for (let j = 0; j < d; j++) s += a[j] * v[j];
+      else for (let j = 0; j < d; j++) s += basis[u * d + j] * v[j];
+      if (u < 0) for (let j = 0; j < d; j++) v[j] -= s * a[j];
+      else for (let j = 0; j < d; j++) v[j] -= s * basis[u * d + j];
     }
     let n = 0;
-    for (const x of v) n += x * x;
+    for (let j = 0; j < d; j++) n += v[j] * v[j];
     n = Math.sqrt(n);
     if (n < 1e-8) continue;
-    basis.push(v.map((x) => x / n));
+    for (let j = 0; j < d; j++) basis[nb * d + j] = v[j] / n;
+    nb++;
   }
-  const dim = d - 1;
-  const origin = a.map((x) => x * beta);
+  const origin = new Float64Array(d);
+  for (let j = 0; j < d; j++) origin[j] = a[j] * beta;
+  const frame = new Frame(d, basis, origin, coverSlack, bbox ?? null);
+  return frame.init(A, b, skip) ? frame : null;
+}
+
+/**
+ * A facet frame (`slicePolytope`): one object of one shape per facet, its maps as methods (closures
+ * per facet and a spread copy of the slice were a tenth of a 4-D exploration's time).
+ */
+class Frame implements FacetFrame {
+  A: Float64Array = EMPTY;
+  b: Float64Array = EMPTY;
+  m = 0;
+  readonly dim: number;
+  rowMap: Int32Array = EMPTY_INT;
+  private verts: Float64Array[] | null | undefined = undefined;
+  constructor(
+    private readonly d: number,
+    private readonly basis: Float64Array,
+    private readonly origin: Float64Array,
+    private readonly coverSlack: number,
+    private readonly bbox: BoundingBox | null,
+  ) {
+    this.dim = d - 1;
+  }
+
+  /** The facet's own rows (row `skip` left out); false when a row excludes the whole hyperplane. */
+  init(A: number[][], b: number[], skip: number): boolean {
+    this.rowMap = new Int32Array(A.length).fill(-1);
+    const own = this.project(A, b, skip, 0, this.rowMap);
+    if (!own) return false;
+    this.A = own.A;
+    this.b = own.b;
+    this.m = own.m;
+    return true;
+  }
+
   // rows written straight into the slice's arrays (sized for every row, then cut to the rows kept):
   // per row a projected copy, its normalised copy and a growing list were most of this function's garbage
-  const project = (rows: number[][], rhs: number[], skipRow: number, slack: number): Slice | null => {
+  private project(rows: number[][], rhs: number[], skipRow: number, slack: number, map: Int32Array | null): Slice | null {
+    const { d, dim, basis, origin, bbox } = this;
     const outA = new Float64Array(rows.length * dim);
     const outB = new Float64Array(rows.length);
     let m = 0;
@@ -658,7 +750,7 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
       let n = 0;
       for (let k = 0; k < dim; k++) {
         let s = 0;
-        for (let j = 0; j < d; j++) s += row[j] * basis[k][j];
+        for (let j = 0; j < d; j++) s += row[j] * basis[k * d + j];
         outA[o + k] = s;
         n += s * s;
       }
@@ -668,60 +760,80 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
         continue;
       }
       for (let k = 0; k < dim; k++) outA[o + k] = outA[o + k] / n;
+      if (map) map[i] = m;
       outB[m++] = r0 / n;
     }
     // views of exactly the rows kept (readers take the row length as A.length / m)
     return { A: m === rows.length ? outA : outA.subarray(0, m * dim), b: m === rows.length ? outB : outB.subarray(0, m), m };
-  };
-  const own = project(A, b, skip, 0);
-  if (!own) return null;
-  let verts: Float64Array[] | null | undefined;
-  return {
-    ...own,
-    dim,
-    vertices: () => (verts === undefined ? (verts = dim >= 2 ? polytopeVertices(own.A, own.b, own.m, dim) : null) : verts),
-    lift: (y) => {
-      const th = Float64Array.from(origin);
-      for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k][j] * y[k];
-      return th;
-    },
-    // a neighbour covers the facet up to coverSlack: slivers thinner than that between two regions count as covered
-    sliceOf: (region, skipRow = -1) => project(region.A, region.b, skipRow, coverSlack),
-    ballSlice: (y, r) => {
-      // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
-      const Ab = new Float64Array(2 * dim * dim);
-      const bb = new Float64Array(2 * dim);
-      const h = r / Math.sqrt(Math.max(dim, 1));
-      for (let k = 0; k < dim; k++) {
-        Ab[2 * k * dim + k] = 1;
-        bb[2 * k] = y[k] + h;
-        Ab[(2 * k + 1) * dim + k] = -1;
-        bb[2 * k + 1] = -(y[k] - h);
+  }
+
+  vertices(): Float64Array[] | null {
+    if (this.verts === undefined) this.verts = this.dim >= 2 ? polytopeVertices(this.A, this.b, this.m, this.dim) : null;
+    return this.verts;
+  }
+
+  toY(theta: ArrayLike<number>): number[] {
+    const { d, dim, basis, origin } = this;
+    const y = newPoint(dim);
+    for (let k = 0; k < dim; k++) {
+      let s = 0;
+      for (let j = 0; j < d; j++) s += basis[k * d + j] * (theta[j] - origin[j]);
+      y[k] = s;
+    }
+    return y;
+  }
+
+  lift(y: ArrayLike<number>): Float64Array {
+    const { d, dim, basis } = this;
+    const th = Float64Array.from(this.origin);
+    for (let k = 0; k < dim; k++) for (let j = 0; j < d; j++) th[j] += basis[k * d + j] * y[k];
+    return th;
+  }
+
+  /** a neighbour covers the facet up to coverSlack: slivers thinner than that between two regions count as covered */
+  sliceOf(region: Pick<CriticalRegion, 'A' | 'b'>, skipRow = -1): Slice | null {
+    return this.project(region.A, region.b, skipRow, this.coverSlack, null);
+  }
+
+  ballSlice(y: ArrayLike<number>, r: number): Slice {
+    // an axis box around y (inscribed in the piece's ball) marks the piece as dealt with
+    const dim = this.dim;
+    const Ab = new Float64Array(2 * dim * dim);
+    const bb = new Float64Array(2 * dim);
+    const h = r / Math.sqrt(Math.max(dim, 1));
+    for (let k = 0; k < dim; k++) {
+      Ab[2 * k * dim + k] = 1;
+      bb[2 * k] = y[k] + h;
+      Ab[(2 * k + 1) * dim + k] = -1;
+      bb[2 * k + 1] = -(y[k] - h);
+    }
+    return { A: Ab, b: bb, m: 2 * dim };
+  }
+
+  yBox(bb: { lo: ArrayLike<number>; hi: ArrayLike<number> }): { lo: Float64Array; hi: Float64Array } {
+    const { d, dim, basis, origin } = this;
+    const ylo = new Float64Array(dim);
+    const yhi = new Float64Array(dim);
+    let w = 0;
+    for (let j = 0; j < d; j++) w = Math.max(w, bb.hi[j] - bb.lo[j]);
+    for (let k = 0; k < dim; k++) {
+      let l = 0;
+      let h = 0;
+      for (let j = 0; j < d; j++) {
+        const u = basis[k * d + j] * (bb.lo[j] - origin[j]);
+        const v = basis[k * d + j] * (bb.hi[j] - origin[j]);
+        l += Math.min(u, v);
+        h += Math.max(u, v);
       }
-      return { A: Ab, b: bb, m: 2 * dim };
-    },
-    yBox: (bb) => {
-      const ylo = new Float64Array(dim);
-      const yhi = new Float64Array(dim);
-      let w = 0;
-      for (let j = 0; j < d; j++) w = Math.max(w, bb.hi[j] - bb.lo[j]);
-      for (let k = 0; k < dim; k++) {
-        let l = 0;
-        let h = 0;
-        for (let j = 0; j < d; j++) {
-          const u = basis[k][j] * (bb.lo[j] - origin[j]);
-          const v = basis[k][j] * (bb.hi[j] - origin[j]);
-          l += Math.min(u, v);
-          h += Math.max(u, v);
-        }
-        const pad = 0.01 * (h - l) + 1e-3 * w + 1e-9;
-        ylo[k] = l - pad;
-        yhi[k] = h + pad;
-      }
-      return { lo: ylo, hi: yhi };
-    },
-  };
+      const pad = 0.01 * (h - l) + 1e-3 * w + 1e-9;
+      ylo[k] = l - pad;
+      yhi[k] = h + pad;
+    }
+    return { lo: ylo, hi: yhi };
+  }
 }
+const EMPTY = new Float64Array(0);
+const EMPTY_INT = new Int32Array(0);
 
 /** True when region S has a facet on the hyperplane a·θ = β with the opposite orientation (−a·θ ≤ −β). */
 function sharesHyperplane(S: CriticalRegion, a: number[], beta: number): boolean {

@@ -23,6 +23,17 @@ export interface VertexSet {
 }
 
 /**
+ * A new point of n coordinates for a vertex list: a plain array whose elements are doubles from
+ * birth. A box corner with whole-number coordinates would otherwise start as an array of small
+ * integers while cut points hold doubles, and V8 would deoptimise the vertex loops on the second
+ * elements kind ("wrong map"). Every vertex array of vertices.ts, cover.ts and the facet frames is
+ * made here.
+ */
+export function newPoint(n: number): number[] {
+  return new Array<number>(n).fill(0.5);
+}
+
+/**
  * The 2ⁿ corners of the box lo ≤ θ ≤ hi, whose sides are rows boxRow + 2j (θ_j ≤ hi_j) and
  * boxRow + 2j + 1 (−θ_j ≤ −lo_j) of the caller's A.
  */
@@ -30,7 +41,7 @@ export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<numb
   const x: number[][] = [];
   const tight: number[][] = [];
   for (let mask = 0; mask < 1 << n; mask++) {
-    const v = new Array<number>(n);
+    const v = newPoint(n);
     const t = new Array<number>(n);
     for (let j = 0; j < n; j++) {
       const up = (mask >> j) & 1;
@@ -82,12 +93,19 @@ function rankOf(A: Float64Array, n: number, rows: ArrayLike<number>, k: number):
   return rank;
 }
 
-/** Sorted intersection of two sorted index lists into `out`; returns its length. */
-function intersect(a: readonly number[], b: readonly number[], out: Int32Array): number {
+/**
+ * Sorted intersection of two sorted index lists into `out`; returns its length when that is at least
+ * `need`, else some number below `need` (the scan stops once either list has lost more entries than
+ * leave `need` in common; `out` is then partial).
+ */
+function intersect(a: readonly number[], b: readonly number[], out: Int32Array, need: number): number {
   let i = 0;
   let j = 0;
   let k = 0;
+  const spareA = a.length - need;
+  const spareB = b.length - need;
   while (i < a.length && j < b.length) {
+    if (i - k > spareA || j - k > spareB) return k;
     if (a[i] === b[j]) {
       out[k++] = a[i];
       i++;
@@ -181,7 +199,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
   const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
     if (x.length >= maxVertices) return false;
     const t = s[p] / (s[p] - s[q]);
-    const xv = new Array<number>(n);
+    const xv = newPoint(n);
     for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
     x.push(xv);
     tight.push(withRow(common, k, r));
@@ -197,7 +215,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
           const list = byFace.get(faceKey(Tp, omit));
           if (!list) continue;
           for (const q of list) {
-            const k = intersect(Tp, V.tight[q], buf);
+            const k = intersect(Tp, V.tight[q], buf, n - 1);
             if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
           }
         }
@@ -205,7 +223,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
         for (const q of insideAll) {
           const Tq = V.tight[q];
           if (Tq.length !== n) continue; // with the degenerate ones below
-          const k = intersect(Tp, Tq, buf);
+          const k = intersect(Tp, Tq, buf, n - 1);
           if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
         }
     }
@@ -213,7 +231,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     for (const q of others) {
       const Tq = V.tight[q];
       if (cutScratch.buf.length < Tq.length) cutScratch.buf = new Int32Array(2 * Tq.length);
-      const k = intersect(Tp, Tq, cutScratch.buf);
+      const k = intersect(Tp, Tq, cutScratch.buf, n - 1);
       if (k < n - 1) continue;
       if (rankOf(A, n, cutScratch.buf, k) !== n - 1) continue;
       if (!addCrossing(p, q, cutScratch.buf, k)) return false;
@@ -283,6 +301,10 @@ const witnessMargin = 1e-7;
  *    the LPs (else the side is not the region's and goes to its LP): the proven bound (+ tol.redundancy) is the
  *    bounding box's side, `sideKnown[2j]` (upper) / `[2j + 1]` (lower) set; other sides go to LPs.
  * Rows left (neither sure nor dropped) go to the caller's LPs.
+ * Returns the vertex set of the box cut by the rows marked sure in steps 1–2 (the rows sure on entry
+ * and those found by a witness; every tight list holds only those rows and box sides), or null when
+ * the vertex count passed its bound (the pass then stopped early). When every row the caller keeps
+ * at the end is one of those or a box side, this is the region's own vertex list.
  */
 export function vertexPass(
   A: Float64Array,
@@ -300,11 +322,11 @@ export function vertexPass(
   bbHi: Float64Array,
   scratch: PrefilterScratch,
   redundancyTol: number,
-): void {
+): VertexSet | null {
   const boxRow = m - 2 * n;
   const V = boxVertices(n, lo, up, boxRow);
   const eps = 1e-10;
-  for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return;
+  for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return null;
   const toLp = new Uint8Array(m);
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
@@ -348,7 +370,7 @@ export function vertexPass(
         break;
       }
       sure[h] = 1;
-      if (!cutVertices(V, A, b, h, eps, maxVertices)) return;
+      if (!cutVertices(V, A, b, h, eps, maxVertices)) return null;
       vertexBox();
     }
   }
@@ -399,6 +421,7 @@ export function vertexPass(
     if (v < 0) continue;
     if (vertexBound(c, V.tight[v], n, bound) <= b[r] + redundancyTol) alive[r] = 0;
   }
+  return V;
 }
 
 /** Whether x breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */

@@ -117,9 +117,10 @@ export class GridLocator {
     this.dense[L] = undefined; // a frozen level is thawed: the map stays the truth
     const idx = first.slice();
     const single = span(L) === 1;
+    const terms = single ? null : this.cellTerms(start, m, first, last, d, pad);
     for (;;) {
       // a cell that one of the region's rows separates from it is left out
-      if (single || !this.separated(start, m, idx, d, pad)) {
+      if (single || !this.separatedBy(terms!, start, m, idx, first, last, pad)) {
         let key = 0;
         for (let j = n - 1; j >= 0; j--) key = key * d + idx[j];
         const list = cells.get(key);
@@ -137,18 +138,43 @@ export class GridLocator {
     return id;
   }
 
-  /** True when a row of the region (rows start … start+m−1) holds nowhere in grid cell idx at d cells per axis. */
-  private separated(start: number, m: number, idx: number[], d: number, pad: number): boolean {
+  /**
+   * For each row of the region (rows start … start+m−1), axis j and cell index c of the region's
+   * range on that axis (first_j … last_j), the least of a_j·θ_j over the cell's padded side: the
+   * term a cell's separation test adds for that axis, formed once per region instead of once per cell. Laid out
+   * row by row, the axes' ranges one after another.
+   */
+  private cellTerms(start: number, m: number, first: readonly number[], last: readonly number[], d: number, pad: number): Float64Array {
     const n = this.n;
-    for (let i = start; i < start + m; i++) {
-      let mn = 0;
+    let w = 0;
+    for (let j = 0; j < n; j++) w += last[j] - first[j] + 1;
+    const out = new Float64Array(m * w);
+    for (let i = 0; i < m; i++) {
+      let o = i * w;
       for (let j = 0; j < n; j++) {
-        const a = this.A[i * n + j];
-        const c0 = this.lo[j] + (idx[j] / d) * this.width[j] - pad;
-        const c1 = this.lo[j] + ((idx[j] + 1) / d) * this.width[j] + pad;
-        mn += a > 0 ? a * c0 : a * c1;
+        const a = this.A[(start + i) * n + j];
+        for (let c = first[j]; c <= last[j]; c++) {
+          const c0 = this.lo[j] + (c / d) * this.width[j] - pad;
+          const c1 = this.lo[j] + ((c + 1) / d) * this.width[j] + pad;
+          out[o++] = a > 0 ? a * c0 : a * c1;
+        }
       }
-      if (mn > this.b[i] + pad) return true;
+    }
+    return out;
+  }
+
+  /** True when a row of the region holds nowhere in grid cell idx: Σ_j of its `cellTerms` (in axis order, as if formed per cell) > b + pad. */
+  private separatedBy(terms: Float64Array, start: number, m: number, idx: readonly number[], first: readonly number[], last: readonly number[], pad: number): boolean {
+    const n = this.n;
+    const w = terms.length / m;
+    for (let i = 0; i < m; i++) {
+      let mn = 0;
+      let o = i * w;
+      for (let j = 0; j < n; j++) {
+        mn += terms[o + idx[j] - first[j]];
+        o += last[j] - first[j] + 1;
+      }
+      if (mn > this.b[start + i] + pad) return true;
     }
     return false;
   }

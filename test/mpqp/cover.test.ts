@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
+import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
+import { boxVertices, cutVertices } from '../../src/mpqp/vertices.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
 import { rng } from '../problem/rng.js';
 
@@ -259,5 +260,76 @@ describe('pieces with more than 32 rows, and a cut that leaves its piece as it w
       }
     }
     expect(checks).toBe(32);
+  });
+});
+
+describe('pieceFromVertices: a vertex list made elsewhere (a region builder\'s), cut by extra rows, against javascript-lp-solver', () => {
+  // The exploration hands a facet its region's vertex list; here the list comes from vertices.ts's
+  // double description (boxVertices + cutVertices), a different code path from cover.ts's clipping,
+  // and every support value of the piece made from it is checked by javascript-lp-solver.
+  const r = rng(20261203);
+  for (const dim of [2, 3]) {
+    it(`${dim}-D: the piece has the LP support values of {A y ≤ b} ∩ the extra rows, and keeps only facets`, () => {
+      let checks = 0;
+      for (let inst = 0; inst < 8; inst++) {
+        const m = 5 + 2 * dim;
+        const A: number[][] = [];
+        const b: number[] = [];
+        for (let i = 0; i < m; i++) {
+          const a = unit(Array.from({ length: dim }, () => 2 * r() - 1));
+          A.push(a);
+          b.push(0.3 + r());
+        }
+        // box rows after the polytope's: row m + 2j is y_j ≤ 5, m + 2j + 1 is −y_j ≤ 5
+        const box: number[][] = [];
+        for (let j = 0; j < dim; j++) {
+          const e = new Array(dim).fill(0);
+          e[j] = 1;
+          box.push(e, e.map((x) => -x));
+        }
+        const all = [...A, ...box];
+        const ball = [...b, ...new Array(2 * dim).fill(5)];
+        const V = boxVertices(dim, new Array(dim).fill(-5), new Array(dim).fill(5), m);
+        const flat = Float64Array.from(all.flat());
+        for (let i = 0; i < m; i++) expect(cutVertices(V, flat, ball, i, 1e-10, 4000)).toBe(true);
+        // one extra row through the polytope (a sub-box face), as the frame's rows after the region's
+        const cut = unit(Array.from({ length: dim }, () => 2 * r() - 1));
+        const t = 0.2 * (2 * r() - 1);
+        const P = pieceFromVertices(all.flat(), ball.slice(), all.length, V.x.map((x) => x.slice()), V.tight.map((x) => x.slice()), Float64Array.from(cut), Float64Array.of(t), 1, ctx(dim));
+        expect(P).not.toBe('fail');
+        if (P === null || P === 'fail') continue;
+        const refA = [...all, cut];
+        const refB = [...ball, t];
+        for (let k = 0; k < 8; k++) {
+          const c = Array.from({ length: dim }, () => 2 * r() - 1);
+          const byVerts = Math.max(...P.verts.map((v) => v.reduce((s, x, q) => s + x * c[q], 0)));
+          expect(byVerts).toBeCloseTo(support(refA, refB, c), 7);
+          checks++;
+        }
+        // every row kept is a facet: the set without it is larger (its LP support exceeds the bound)
+        const rows = rowsOf(P);
+        for (let i = 0; i < P.m; i++) {
+          const others = rows.A.filter((_, q) => q !== i);
+          const othersB = rows.b.filter((_, q) => q !== i);
+          expect(support(others, othersB, rows.A[i])).toBeGreaterThan(rows.b[i] + 1e-9);
+          checks++;
+        }
+        // the radius bound is an upper bound on the LP's Chebyshev radius
+        expect(P.widthBound).toBeGreaterThanOrEqual(chebRadius(refA, refB) - 1e-9);
+      }
+      expect(checks).toBeGreaterThan(50);
+    });
+  }
+  it('two vertices within eps of each other: fail (the caller builds the piece by clipping instead)', () => {
+    const A = [1, 0, -1, 0, 0, 1, 0, -1];
+    const b = [1, 1, 1, 1];
+    const verts = [[1, 1], [-1, 1], [-1, -1], [1, -1], [1, -1 + 1e-12]];
+    const tight = [[0, 2], [1, 2], [1, 3], [0, 3], [0, 3]];
+    expect(pieceFromVertices(A, b, 4, verts, tight, new Float64Array(0), new Float64Array(0), 0, ctx(2))).toBe('fail');
+    // without the copy: the square itself, every row a facet (common practice)
+    const sq = pieceFromVertices(A.slice(), b.slice(), 4, verts.slice(0, 4), tight.slice(0, 4), new Float64Array(0), new Float64Array(0), 0, ctx(2));
+    expect(sq).not.toBe('fail');
+    expect((sq as CoverPiece).m).toBe(4);
+    expect((sq as CoverPiece).widthBound).toBeCloseTo(1, 12);
   });
 });

@@ -160,6 +160,9 @@ export interface Candidate {
  */
 export const CANDIDATE_NODE_BUDGET = 2e5;
 
+/** Why `auto` never takes the plain tree for a float build (it is then listed without being built). */
+export const FLOAT_TREE_REJECTED = 'descent not proven safe in float (no side overlap); not built';
+
 /** Candidates whose worst case is within this factor of the least worst case compete on their mean operations. */
 export const WORST_CASE_FACTOR = 1.5;
 
@@ -172,6 +175,12 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
   for (const search of kinds) {
     const t0 = Date.now();
     let locator: Locator | null = null;
+    // the plain tree's descent has no side overlap, so a float build could never take it: not built
+    // (its give-up over the budget still took 21.5 s of the locate bench's 6-D table, loaded)
+    if (search === 'tree' && precision === 'float') {
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: FLOAT_TREE_REJECTED, buildSeconds: 0, meanOps: null, build: null });
+      continue;
+    }
     try {
       // the plain tree is abandoned once its node arrays alone would pass the budget, or (float and
       // double builds) as soon as its finished arrays are sure to: their smallest size from what is
@@ -203,7 +212,7 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
     const floatSafe = search !== 'tree';
     let rejected: string | null = null;
     if (location > LOCATION_BUDGET * regions) rejected = `location arrays ${location} B > ${LOCATION_BUDGET} x region data ${regions} B`;
-    else if (precision === 'float' && !floatSafe) rejected = 'descent not proven safe in float (no side overlap)';
+    else if (precision === 'float' && !floatSafe) rejected = FLOAT_TREE_REJECTED;
     const ar = build as unknown as EmitArrays;
     const meanOps = (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanOperations(ar, table.box) : null;
     out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps, build });

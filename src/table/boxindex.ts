@@ -200,6 +200,8 @@ export class BoxIndex {
     let lbox = new Float64Array(small ? 8 * 1024 : 0);
     const leafLo = new Float64Array(R * n);
     const leafHi = new Float64Array(R * n);
+    const clipLo = new Float64Array(n);
+    const clipHi = new Float64Array(n);
     const makeLeaf = (job: Job): void => {
       leafFrom[job.node] = ids.length;
       const m = job.items.length;
@@ -232,7 +234,16 @@ export class BoxIndex {
           grown.set(rowIds);
           rowIds = grown;
         }
-        nRows = this.cellRows(r, job.lo, job.hi, rowSize, rowIds, nRows);
+        if (small) {
+          // θ that reaches the rows passed the pretest: it lies in the cell and in the listing's
+          // range, so a row holding on their intersection need not be computed (when they do not
+          // meet, within pad, no θ of the cell passes the pretest and the rows are never read)
+          for (let j = 0; j < n; j++) {
+            clipLo[j] = Math.max(job.lo[j], leafLo[q * n + j]);
+            clipHi[j] = Math.min(job.hi[j], leafHi[q * n + j]);
+          }
+          nRows = this.cellRows(r, clipLo, clipHi, rowSize, rowIds, nRows);
+        } else nRows = this.cellRows(r, job.lo, job.hi, rowSize, rowIds, nRows);
         rowAt[++nList] = nRows;
       }
       leafTo[job.node] = ids.length;

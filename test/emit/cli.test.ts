@@ -61,6 +61,9 @@ describe('tessera emit', () => {
     expect(rep.candidates.map((c: { search: string }) => c.search)).toEqual(['tree', 'capped', 'broad', 'boxtree', 'grid', 'sequential']);
     const chosen = rep.candidates.find((c: { search: string }) => c.search === rep.search);
     expect(chosen.rejected).toBeNull();
+    // a float build never takes the plain tree (no side overlap in its descent): listed, not built
+    expect(rep.candidates[0].rejected).toMatch(/descent not proven safe in float .*not built/);
+    expect(rep.candidates[0].worstMultiplyAdds).toBeNull();
     expect(chosen.locationBytes).toBeLessThanOrEqual(0.5 * chosen.regionBytes);
     // among the admissible ones whose worst case is within 1.5x of the least: the fewest operations on
     // average (each candidate's mean is in the report), so the chosen worst case is within 1.5x of every one

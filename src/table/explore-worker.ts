@@ -17,6 +17,9 @@ import type { ExploreJob, ExploreWorkerData, ExploreWorkerEvent, ExploreWorkerMe
 const d = workerData as ExploreWorkerData;
 const stopped = (): boolean => Atomics.load(d.signal, 0) === 1;
 let problem: ProblemMessage | null = null;
+/** what a region reported to the main thread keeps here in place of its law and Chebyshev ball (see `flush`) */
+const shedLaw = Object.freeze({ F: [], g: [] }) as unknown as CriticalRegion['law'];
+const shedBall = Object.freeze({ center: [], radius: 0 }) as unknown as CriticalRegion['chebyshev'];
 
 parentPort!.on('message', (job: ProblemMessage | PilotJob | ExploreJob | NeighbourJob) => {
   if (job.kind === 'problem') {
@@ -42,7 +45,18 @@ parentPort!.on('message', (job: ProblemMessage | PilotJob | ExploreJob | Neighbo
   let lastFlush = performance.now();
   const flush = (): void => {
     lastFlush = performance.now();
-    if (outbox.length) parentPort!.postMessage({ type: 'batch', job: job.job, events: outbox.splice(0) } satisfies ExploreWorkerMessage);
+    if (!outbox.length) return;
+    const events = outbox.splice(0);
+    parentPort!.postMessage({ type: 'batch', job: job.job, events } satisfies ExploreWorkerMessage);
+    // the main thread keeps the regions sent, laws and Chebyshev balls included (the message is a
+    // copy made above); this thread's regions only feed its exploration, which reads neither again
+    // (the ball of a region is read only as it is built, and of regions resumed): both are let go,
+    // ~350 B a region (this job's partition is not sent, only its counters)
+    for (const ev of events)
+      if (ev.type === 'found') {
+        ev.region.law = shedLaw;
+        ev.region.chebyshev = shedBall;
+      }
   };
   const queue = (ev: ExploreWorkerEvent): void => {
     outbox.push(ev);

@@ -22,6 +22,8 @@ export interface StoredBox {
 }
 
 const KINDS: FacetInfo['kind'][] = ['primal', 'dual', 'box'];
+/** entries per block (8 MiB of doubles, 4 MiB of integers) */
+const BLOCK = 1 << 20;
 const KIND_CODE: Record<string, number> = { primal: 0, dual: 1, box: 2 };
 const LEAN_KEYS = 'id,activeSet,A,b,facets,chebyshev,law';
 const FULL_KEYS = 'id,activeSet,A,b,facets,chebyshev,law,moves,value';
@@ -34,11 +36,17 @@ const int32 = (v: unknown): v is number => typeof v === 'number' && (v | 0) === 
  * order of `add`. The arrays returned by `get` are new (the caller owns them).
  */
 export class RegionStore {
-  private f = new Float64Array(1 << 12);
-  private i = new Int32Array(1 << 12);
+  /** blocks of numbers, each region's within one block (no block is copied to grow: no spike of twice the bytes) */
+  private fBlocks: Float64Array[] = [];
+  private iBlocks: Int32Array[] = [];
+  /** the block being filled, and how much of it is used */
+  private f = new Float64Array(0);
+  private i = new Int32Array(0);
   private nf = 0;
   private ni = 0;
-  /** per region: its start in `i` (its start in `f` is stored there); −1 − k for the k-th object kept as it is */
+  /** bytes of the blocks filled before the current ones */
+  private before = 0;
+  /** per region: block · 2^26 + its start in that integer block (its double block and start are stored there); −1 − k for the k-th object kept as it is */
   private starts: number[] = [];
   private objects: { region: CriticalRegion; box: StoredBox }[] = [];
 
@@ -49,24 +57,30 @@ export class RegionStore {
 
   /** Bytes of the typed arrays in use (the objects kept whole are not counted). */
   get bytes(): number {
-    return 8 * this.nf + 4 * this.ni;
+    return this.before + 8 * this.nf + 4 * this.ni;
+  }
+
+  /** Room for `nf` doubles and `ni` integers in the current blocks (new blocks of 2^20 entries, or more, when they lack it). */
+  private reserve(nf: number, ni: number): void {
+    if (this.nf + nf > this.f.length) {
+      this.before += 8 * this.nf;
+      this.f = new Float64Array(Math.max(BLOCK, nf));
+      this.fBlocks.push(this.f);
+      this.nf = 0;
+    }
+    if (this.ni + ni > this.i.length) {
+      this.before += 4 * this.ni;
+      this.i = new Int32Array(Math.max(BLOCK, ni));
+      this.iBlocks.push(this.i);
+      this.ni = 0;
+    }
   }
 
   private pushF(v: number): void {
-    if (this.nf === this.f.length) {
-      const g = new Float64Array(2 * this.f.length);
-      g.set(this.f);
-      this.f = g;
-    }
     this.f[this.nf++] = v;
   }
 
   private pushI(v: number): void {
-    if (this.ni === this.i.length) {
-      const g = new Int32Array(2 * this.i.length);
-      g.set(this.i);
-      this.i = g;
-    }
     this.i[this.ni++] = v;
   }
 
@@ -109,8 +123,17 @@ export class RegionStore {
     const nt = box.lo.length;
     const m = R.b.length;
     const full = R.moves !== undefined;
-    this.starts.push(this.ni);
-    // integers: start in f, id, nt, m, full, |activeSet|, activeSet, per facet (kind, row, count, neighbours), law rows, moves rows
+    const lawRows = R.law.g.length;
+    const movesRows = full ? R.moves!.g.length : 0;
+    let ni = 8 + R.activeSet.length + (full ? 1 : 0);
+    for (const fi of R.facets) ni += 3 + fi.neighbours.length;
+    const nf = (m + 1) * (nt + 1) + (lawRows + movesRows) * (nt + 1) + (full ? nt * nt + nt + 1 : 0) + 2 * nt;
+    this.reserve(nf, ni);
+    const i0 = this.ni;
+    const f0 = this.nf;
+    this.starts.push((this.iBlocks.length - 1) * 2 ** 26 + this.ni);
+    // integers: double block and start, id, nt, m, full, |activeSet|, activeSet, per facet (kind, row, count, neighbours), law rows, moves rows
+    this.pushI(this.fBlocks.length - 1);
     this.pushI(this.nf);
     this.pushI(R.id);
     this.pushI(nt);
@@ -145,6 +168,8 @@ export class RegionStore {
     }
     for (const v of box.lo) this.pushF(v);
     for (const v of box.hi) this.pushF(v);
+    // a write past a typed array's end is dropped silently: the sizes reserved must be the sizes written
+    if (this.ni - i0 !== ni || this.nf - f0 !== nf) throw new Error(`RegionStore: record of ${ni}/${nf} numbers reserved, ${this.ni - i0}/${this.nf - f0} written`);
     return index;
   }
 
@@ -152,9 +177,9 @@ export class RegionStore {
   get(k: number): { region: CriticalRegion; box: StoredBox } {
     const s = this.starts[k];
     if (s < 0) return this.objects[-1 - s];
-    const I = this.i;
-    const F = this.f;
-    let p = s;
+    const I = this.iBlocks[Math.floor(s / 2 ** 26)];
+    let p = s % 2 ** 26;
+    const F = this.fBlocks[I[p++]];
     let q = I[p++];
     const id = I[p++];
     const nt = I[p++];

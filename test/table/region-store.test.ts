@@ -41,6 +41,27 @@ describe('RegionStore', () => {
       expect(store.bytes).toBeGreaterThan(0);
     });
 
+  it('gives back regions stored across several blocks (100 000 regions of ~30 numbers)', () => {
+    const store = new RegionStore();
+    const make = (k: number): CriticalRegion => ({
+      id: k,
+      activeSet: [k % 7, 10 + (k % 5)],
+      A: [[1, k / 3], [-1, 0.5]],
+      b: [k, -k / 7],
+      facets: [{ kind: 'dual', row: k % 11, neighbours: k % 3 ? [k + 1] : [] }, { kind: 'primal', row: 3, neighbours: [] }],
+      chebyshev: { center: [k / 9, -k], radius: 1 / (k + 1) },
+      law: { F: [[k, 2]], g: [k / 13] },
+    });
+    const N = 100_000;
+    for (let k = 0; k < N; k++) store.add(make(k), { lo: [k - 1, -k], hi: [k + 1, k] });
+    for (const k of [0, 1, 34_999, 35_000, 50_001, N - 1]) {
+      const back = store.get(k);
+      expect(sameBits(back.region, make(k))).toBe(true);
+      expect(sameBits(back.box, { lo: [k - 1, -k], hi: [k + 1, k] })).toBe(true);
+    }
+    expect(store.bytes).toBeGreaterThan(N * 100);
+  });
+
   it('keeps −0, NaN, infinities and neighbour lists; a region of another shape is kept as it is', () => {
     const R: CriticalRegion = {
       id: 7,

@@ -101,8 +101,8 @@ export function buildLocator(table: TableFile, search: SearchKind, options: Loca
  * (collapseTree), or of at most 1.5·leafRows or 2·leafRows rows (BROAD_COARSER), whichever makes fewer operations
  * on average over seeded points of the box (meanOperations, the cost model's own measure, on the
  * float build; ties to the finer one) among those whose worst-case operations stay within
- * WORST_CASE_FACTOR of the finer one's (the cost model's own rule, so that the coarser tree is not
- * taken where the model would then refuse it). Built from the capped tree, so `auto` builds the
+ * WORST_CASE_FACTOR of the finest one's and of the capped tree's (the cost model's own rule, so that
+ * the coarser tree is not taken where the model would then refuse it). Built from the capped tree, so `auto` builds the
  * hyperplane tree once. Measured on the locate bench's tables (float C, per-point medians, paired,
  * load 7–14): the coarser tree was faster in 6-D (268–271 against 294–318 ns, 282 against 293
  * operations on average, but 5 546 against 3 647 worst case) and slower in 5-D (169–182 against
@@ -118,7 +118,10 @@ function broadest(table: TableFile, capped: SearchTree, leafRows: number): Searc
     const c = costFigures({ ...searchIndex('broad', t, regionRowStart), search: 'broad', ntheta: table.dims.ntheta, nu: table.dims.nu, regionCount: table.regions.length, bestFit: true });
     return c.worstMultiplyAdds + c.worstComparisons;
   };
-  const limit = WORST_CASE_FACTOR * worst(fine);
+  // within the rule's factor of the capped tree's worst case too: pickCandidate compares broad with
+  // capped, and a broad tree past 1.5 x capped's worst case is never picked (on the 5-D bench table
+  // the 1.5 x collapse passed capped's limit, and the pick fell back to capped: 245 ns instead of broad)
+  const limit = WORST_CASE_FACTOR * Math.min(worst(fine), worst(capped));
   const mean = (t: SearchTree) => meanOperations(buildArrays(table, 'float', 'broad', t), table.box);
   let best = fine;
   let bestMean = NaN;

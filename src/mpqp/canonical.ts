@@ -26,6 +26,13 @@ import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
 import { FacetPairs, zeroPairCounts, addPairCounts } from './facet-pairs.js';
 
+/** A copy of `a` in an array twice as long (a growing id list). */
+function doubled(a: Int32Array<ArrayBuffer>): Int32Array<ArrayBuffer> {
+  const g = new Int32Array(2 * a.length);
+  g.set(a);
+  return g;
+}
+
 /** Order of two ascending index lists: entry by entry, then the shorter first. */
 export function compareActiveSets(a: readonly number[], b: readonly number[]): number {
   const n = Math.min(a.length, b.length);
@@ -320,12 +327,8 @@ export function canonicalNeighbours(
   let nHits = 0;
   const hit = (i: number, region: number): void => {
     if (nHits === hitFacet.length) {
-      const gf = new Int32Array(2 * nHits);
-      gf.set(hitFacet);
-      hitFacet = gf;
-      const gr = new Int32Array(2 * nHits);
-      gr.set(hitRegion);
-      hitRegion = gr;
+      hitFacet = doubled(hitFacet);
+      hitRegion = doubled(hitRegion);
     }
     hitFacet[nHits] = i;
     hitRegion[nHits] = region;
@@ -358,12 +361,8 @@ export function canonicalNeighbours(
     for (let j = 0; j < nt; j++) d = Math.max(d, Math.abs(R.A[Pf][j] + S.A[Qf][j]));
     if (d > aTol || !meets(Pr, Qr)) return;
     if (np === pi.length) {
-      const gi = new Int32Array(2 * np);
-      gi.set(pi);
-      pi = gi;
-      const gk = new Int32Array(2 * np);
-      gk.set(pk);
-      pk = gk;
+      pi = doubled(pi);
+      pk = doubled(pk);
     }
     pi[np] = i;
     pk[np] = k;

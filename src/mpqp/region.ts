@@ -331,6 +331,28 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
 }
 
 /**
+ * A ray from the interior centre meets row q at slack_q / rate_q, where rate_q = a_q·direction is
+ * read from `rates[off + q]`: the row met first (alone, not tied within 1e-12 relative) is certainly a
+ * facet, and is marked in `sure`.
+ */
+function markFirstHit(rates: Float64Array, off: number, slack: Float64Array, m: number, sure: Uint8Array): void {
+  let best = Infinity;
+  let hit = -1;
+  let tie = false;
+  for (let q = 0; q < m; q++) {
+    const ad = rates[off + q];
+    if (ad <= 1e-12) continue;
+    const t = slack[q] / ad;
+    if (hit < 0 || t < best - 1e-12 * (1 + best)) {
+      best = t;
+      hit = q;
+      tie = false;
+    } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
+  }
+  if (hit >= 0 && !tie) sure[hit] = 1;
+}
+
+/**
  * Non-redundant rows by LP: row r is redundant when max a_r θ over the other live rows ≤ b_r.
  * 1. Rays shot from the interior centre along every row normal (and, without the vertex pass, every
  *    axis and 8·nθ fixed directions) mark the rows hit first: certainly facets, no LP.
@@ -360,22 +382,14 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
     slack[q] = s;
   }
   const dir = new Float64Array(nt);
+  const rates = new Float64Array(m);
   const shoot = (): void => {
-    let best = Infinity;
-    let hit = -1;
-    let tie = false;
     for (let q = 0; q < m; q++) {
       let ad = 0;
       for (let j = 0; j < nt; j++) ad += Af[q * nt + j] * dir[j];
-      if (ad <= 1e-12) continue;
-      const t = slack[q] / ad;
-      if (hit < 0 || t < best - 1e-12 * (1 + best)) {
-        best = t;
-        hit = q;
-        tie = false;
-      } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
+      rates[q] = ad;
     }
-    if (hit >= 0 && !tie) sure[hit] = 1;
+    markFirstHit(rates, 0, slack, m, sure);
   };
   // rays along every row normal: the ray of row r meets row q at slack_q / (a_q·a_r), and a_q·a_r is
   // a_r·a_q bit for bit (the same products summed in the same order), so each product is formed once
@@ -388,22 +402,7 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
       gram[r * m + q] = g;
       gram[q * m + r] = g;
     }
-  for (let r = 0; r < m; r++) {
-    let best = Infinity;
-    let hit = -1;
-    let tie = false;
-    for (let q = 0; q < m; q++) {
-      const ad = gram[r * m + q];
-      if (ad <= 1e-12) continue;
-      const t = slack[q] / ad;
-      if (hit < 0 || t < best - 1e-12 * (1 + best)) {
-        best = t;
-        hit = q;
-        tie = false;
-      } else if (Math.abs(t - best) <= 1e-12 * (1 + best)) tie = true;
-    }
-    if (hit >= 0 && !tie) sure[hit] = 1;
-  }
+  for (let r = 0; r < m; r++) markFirstHit(gram, r * m, slack, m, sure);
   const useVertices = proofs && nt <= maxVertexDim;
   for (let j = 0; j < nt && !useVertices; j++)
     for (const sgn of [1, -1]) {

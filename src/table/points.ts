@@ -75,6 +75,12 @@ export interface PointEvaluation {
 export interface EvaluateOptions {
   /** saturate u(0) to the table's `inputLimits` (`clampInputs`); slack values are never clamped */
   clamp?: boolean;
+  /**
+   * the table's point-location index, when the caller has one (`tessera evaluate --index` reads it
+   * from a file): used instead of the one built on first use (`sharedTableLocator`). It must be an
+   * index of these regions built as `tableLocator` builds it; the answers are the same.
+   */
+  index?: BoxIndex | null;
 }
 
 /**
@@ -85,8 +91,15 @@ export interface EvaluateOptions {
 export function evaluatePoints(table: TableFile, points: number[][], options: EvaluateOptions = {}): PointEvaluation[] {
   // slack values: the z entries of the layout's slack blocks, from the region's stored moves
   const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
+  const index = options.index && options.index.size === table.regions.length ? options.index : null;
   return points.map((p) => {
-    const e = evaluateTable(table, p);
+    let e: { region: number; u: number[] | null };
+    if (index) {
+      // the rule of evaluateTable (locatePoint with the table's index at tol.inside)
+      if (p.length !== table.dims.ntheta) throw new Error(`θ has ${p.length} entries, the table expects ${table.dims.ntheta}`);
+      const region = index.locate(p, tol.inside);
+      e = { region, u: region < 0 ? null : applyAffine(table.regions[region].law, p) };
+    } else e = evaluateTable(table, p);
     if (e.u && options.clamp) e.u = clampInputs(e.u, table.inputLimits);
     if (slackBlocks.length === 0) return { theta: p, region: e.region, u: e.u };
     const merged = e.region >= 0 && ((table.regions[e.region] as { mergedFrom?: number[] }).mergedFrom?.length ?? 1) > 1;
@@ -704,7 +717,8 @@ export function csvContext(table: TableFile, options: EvaluateOptions = {}, time
   const cpuNow = times?.cpuNow ?? ((): number => 0);
   const c0 = cpuNow();
   const t0 = now();
-  const index = sharedTableLocator(table.regions, table.box);
+  const given = options.index && options.index.size === table.regions.length ? options.index : null;
+  const index = given ?? sharedTableLocator(table.regions, table.box);
   const { F, g, constant } = packedLaws(table);
   if (times) {
     times.index += now() - t0;

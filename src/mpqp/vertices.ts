@@ -116,6 +116,42 @@ function intersect(a: readonly number[], b: readonly number[], out: Int32Array, 
   return k;
 }
 
+/**
+ * The face table of `cutVertices`' ordered edge search (one per thread, grown on demand): slot heads
+ * and, per entry, its face hash, inside vertex and next entry; `cand` the collected candidates.
+ */
+const faces = { head: new Int32Array(64), mask: 63, key: new Int32Array(256), q: new Int32Array(256), next: new Int32Array(256), cand: new Int32Array(256) };
+
+/** Fill `faces` with every simple (n tight rows) inside vertex under the hashes of its n faces. */
+function faceTable(tight: readonly (readonly number[])[], inside: readonly number[], n: number): void {
+  const entries = inside.length * n;
+  let size = 64;
+  while (size < 2 * entries) size *= 2;
+  if (faces.head.length < size) faces.head = new Int32Array(size);
+  faces.mask = size - 1;
+  faces.head.fill(-1, 0, size);
+  if (faces.key.length < entries) {
+    faces.key = new Int32Array(2 * entries);
+    faces.q = new Int32Array(2 * entries);
+    faces.next = new Int32Array(2 * entries);
+    faces.cand = new Int32Array(2 * entries);
+  }
+  let e = 0;
+  for (const q of inside) {
+    const Tq = tight[q];
+    if (Tq.length !== n) continue;
+    for (let omit = 0; omit < n; omit++) {
+      const h = faceKey(Tq, omit);
+      const slot = h & faces.mask;
+      faces.key[e] = h;
+      faces.q[e] = q;
+      faces.next[e] = faces.head[slot];
+      faces.head[slot] = e;
+      e++;
+    }
+  }
+}
+
 /** Hash of the sorted rows of T without T[omit] (collisions are checked by the caller). */
 function faceKey(T: readonly number[], omit: number): number {
   let h = 0x811c9dc5;
@@ -123,7 +159,7 @@ function faceKey(T: readonly number[], omit: number): number {
     if (i === omit) continue;
     h = Math.imul(h ^ T[i], 0x01000193);
   }
-  return h;
+  return h | 0;
 }
 
 function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
@@ -205,11 +241,39 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     tight.push(withRow(common, k, r));
     return true;
   };
+  // the all-pairs order through a hash: every simple inside vertex listed under its n (n − 1)-row
+  // faces (chained in typed arrays); an outside vertex collects the inside vertices sharing one of
+  // its faces' hashes, ascending and once each, and tests those as the all-pairs loop would. A pair
+  // with n − 1 common rows shares a face, so the crossings and their order are the all-pairs ones.
+  const ordered = !hashed && hashEdges === undefined && outsideAll.length * insideAll.length > 32;
+  if (ordered) faceTable(V.tight, insideAll, n);
   for (const p of outsideAll) {
     const Tp = V.tight[p];
     if (cutScratch.buf.length < Tp.length) cutScratch.buf = new Int32Array(2 * Tp.length);
     const buf = cutScratch.buf;
-    if (Tp.length === n) {
+    if (Tp.length === n && ordered) {
+      const ft = faces;
+      let nc = 0;
+      for (let omit = 0; omit < n; omit++) {
+        const h = faceKey(Tp, omit);
+        for (let e = ft.head[h & ft.mask]; e >= 0; e = ft.next[e]) {
+          if (ft.key[e] !== h) continue;
+          // insertion into the ascending candidate list, once each
+          const q = ft.q[e];
+          let i = nc;
+          while (i > 0 && ft.cand[i - 1] > q) i--;
+          if (i > 0 && ft.cand[i - 1] === q) continue;
+          for (let t = nc; t > i; t--) ft.cand[t] = ft.cand[t - 1];
+          ft.cand[i] = q;
+          nc++;
+        }
+      }
+      for (let c = 0; c < nc; c++) {
+        const q = ft.cand[c];
+        const k = intersect(Tp, V.tight[q], buf, n - 1);
+        if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
+      }
+    } else if (Tp.length === n) {
       if (hashed) {
         for (let omit = 0; omit < n; omit++) {
           const list = byFace.get(faceKey(Tp, omit));

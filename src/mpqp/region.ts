@@ -449,13 +449,35 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // a_r·a_q bit for bit (the same products summed in the same order), so each product is formed once
   if (gramScratch.length < m * m) gramScratch = new Float64Array(2 * m * m);
   const gram = gramScratch;
-  for (let r = 0; r < m; r++)
-    for (let q = r; q < m; q++) {
-      let g = 0;
-      for (let j = 0; j < nt; j++) g += Af[q * nt + j] * Af[r * nt + j];
-      gram[r * m + q] = g;
-      gram[q * m + r] = g;
+  if (nt === 4 || nt === 5) {
+    // the same sums written out (0 + a_q0·a_r0 + …, in axis order), row r's entries held in locals
+    for (let r = 0; r < m; r++) {
+      const o = r * nt;
+      const r0 = Af[o];
+      const r1 = Af[o + 1];
+      const r2 = Af[o + 2];
+      const r3 = Af[o + 3];
+      const r4 = nt === 5 ? Af[o + 4] : 0;
+      for (let q = r; q < m; q++) {
+        const p = q * nt;
+        let g = 0;
+        g += Af[p] * r0;
+        g += Af[p + 1] * r1;
+        g += Af[p + 2] * r2;
+        g += Af[p + 3] * r3;
+        if (nt === 5) g += Af[p + 4] * r4;
+        gram[r * m + q] = g;
+        gram[q * m + r] = g;
+      }
     }
+  } else
+    for (let r = 0; r < m; r++)
+      for (let q = r; q < m; q++) {
+        let g = 0;
+        for (let j = 0; j < nt; j++) g += Af[q * nt + j] * Af[r * nt + j];
+        gram[r * m + q] = g;
+        gram[q * m + r] = g;
+      }
   for (let r = 0; r < m; r++) markFirstHit(gram, r * m, slack, m, sure);
   const useVertices = proofs && nt <= maxVertexDim;
   for (let j = 0; j < nt && !useVertices; j++)

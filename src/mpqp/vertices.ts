@@ -55,7 +55,7 @@ export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<numb
 }
 
 /** Scratch for the edge search's common rows (grown on demand; one per thread). */
-const cutScratch = { buf: new Int32Array(64) };
+const cutScratch = { buf: new Int32Array(64), s: new Float64Array(64) };
 
 /** Scratch for the rank test (n × n rows at most per call). */
 const rankScratch = { m: new Float64Array(0) };
@@ -181,13 +181,15 @@ function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
  * Cut the vertex set by row r (a_r θ ≤ b_r, unit normal): vertices more than `eps` outside go,
  * vertices within `eps` gain r as a tight row, and each edge from an inside to an outside vertex
  * gives its crossing point (`hashEdges` forces or forbids the hashed edge search; by default it
- * is used when there are many pairs). False when the vertex count would pass `maxVertices` (the caller gives
+ * is used when there are many pairs; 'ordered' forces the all-pairs order through a face hash,
+ * the default below that many pairs and above 32). False when the vertex count would pass `maxVertices` (the caller gives
  * up on the vertices; nothing is changed then).
  */
-export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number, hashEdges?: boolean): boolean {
+export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number, hashEdges?: boolean | 'ordered'): boolean {
   const { n } = V;
   const cnt = V.x.length;
-  const s = new Float64Array(cnt);
+  if (cutScratch.s.length < cnt) cutScratch.s = new Float64Array(2 * cnt);
+  const s = cutScratch.s; // entries 0 … cnt − 1 written below before any read
   let outside = 0;
   for (let v = 0; v < cnt; v++) {
     let t = -b[r];
@@ -215,7 +217,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     if (s[q] > eps) outsideAll.push(q);
     else if (s[q] < -eps) insideAll.push(q);
   }
-  const hashed = hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length);
+  const hashed = hashEdges === 'ordered' ? false : (hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length));
   const byFace = new Map<number, number[]>();
   const degenerateInside: number[] = [];
   for (const q of insideAll) {
@@ -245,7 +247,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
   // faces (chained in typed arrays); an outside vertex collects the inside vertices sharing one of
   // its faces' hashes, ascending and once each, and tests those as the all-pairs loop would. A pair
   // with n − 1 common rows shares a face, so the crossings and their order are the all-pairs ones.
-  const ordered = !hashed && hashEdges === undefined && outsideAll.length * insideAll.length > 32;
+  const ordered = hashEdges === 'ordered' || (!hashed && hashEdges === undefined && outsideAll.length * insideAll.length > 32);
   if (ordered) faceTable(V.tight, insideAll, n);
   for (const p of outsideAll) {
     const Tp = V.tight[p];

@@ -21,7 +21,7 @@
  * each unfinished sub-box the regions meeting it and the keys already covered in it.
  */
 import { Worker } from 'node:worker_threads';
-import { addNeighbourCounts, beginJoin, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
+import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
 import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { sumCauses } from '../mpqp/types.js';
@@ -62,6 +62,8 @@ export interface ExploreJob {
   /** seconds left of the time limit when the job starts */
   timeLimit: number | undefined;
   resume: ExplorationState | null;
+  /** when the job completes, build the closure guesses across its regions' facets too (`buildGuesses`, sent with `done`) */
+  guesses?: boolean;
 }
 
 /** A share of the canonical neighbours (main thread → worker; the answer is `number[][][]`). */
@@ -83,7 +85,7 @@ export type ExploreWorkerEvent =
 /** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
 export type ExploreWorkerMessage =
   | { type: 'batch'; job: number; events: ExploreWorkerEvent[] }
-  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork }
+  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork; guesses?: ReturnType<typeof buildGuesses> }
   | { type: 'pilot'; counts: PlaneCount[] }
   | { type: 'neighbours'; lists: number[][][]; lps: number; counts: NeighbourCounts };
 
@@ -181,6 +183,8 @@ export interface ThreadedExploration {
   snapshot(): { state: ExplorationState; subBoxes: SubBoxProgress };
   /** regions built so far by all sub-boxes, a region straddling a cut once per sub-box that built it */
   built(): number;
+  /** the closure guesses the finished sub-boxes built ahead (`ThreadedOptions.guesses`), for `JoinOptions.guesses`; empty when not asked for */
+  guesses(): GuessHints;
 }
 
 /** Options of `exploreThreaded`. */
@@ -201,6 +205,12 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
    * first, so the two are never held at once (peak memory)
    */
   endPool?: boolean;
+  /**
+   * each sub-box that completes also builds the canonical form's closure guesses across its
+   * regions' facets, in its warm worker (`buildGuesses`; `guesses()` gives them to
+   * `canonicalThreaded`): hints, the table is the same bytes with or without them
+   */
+  guesses?: boolean;
 }
 
 const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
@@ -336,6 +346,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const queue: number[] = [];
   for (let s = 0; s < M; s++) if (!finished[s]) queue.push(s);
   let built = 0;
+  const hints: GuessHints = { lean: !!options.lean, tried: new Set(), thin: new Map() };
   let lastReport = 0;
   let firstStop: PartitionStats['stopReason'] | null = null;
   let resolve!: (p: Partition) => void;
@@ -440,6 +451,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       maxRegions: options.maxRegions,
       timeLimit: options.timeLimit === undefined ? undefined : Math.max(0, options.timeLimit - elapsed),
       resume,
+      guesses: options.guesses,
     };
     worker.postMessage(job);
     return true;
@@ -480,6 +492,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
         } else if (msg.type === 'done') {
           running--;
           latest[msg.job] = null;
+          if (msg.guesses && msg.guesses.lean === hints.lean) {
+            for (const k of msg.guesses.tried) hints.tried.add(k);
+            for (const t of msg.guesses.thin) if (!hints.thin.has(t.key)) hints.thin.set(t.key, { region: t.region, box: t.box });
+          }
           if (msg.stats.complete) finished[msg.job] = { stats: msg.stats, work: msg.work };
           else {
             // a stopped sub-box keeps its counters (its regions and covered keys are already here)
@@ -529,5 +545,6 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     },
     snapshot,
     built: () => built,
+    guesses: () => hints,
   };
 }

@@ -4,7 +4,7 @@ import { availableParallelism } from 'node:os';
 import { loadProblem } from '../problem/index.js';
 import type { Layout } from '../formulation/layout.js';
 import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
-import { canonicalThreaded, exploreThreaded, startThreadPool, type ThreadPool, type ThreadedOptions } from '../table/threads.js';
+import { canonicalThreaded, exploreThreaded, startThreadPool, tuneJitForThreads, type ThreadPool, type ThreadedOptions } from '../table/threads.js';
 import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex, type SubBoxProgress } from '../table/part.js';
 import { canonicalReserve, subBox, type GuessHints } from '../mpqp/canonical.js';
 import { writeFileAtomic } from '../io/atomic.js';
@@ -84,7 +84,10 @@ export function register(program: Command): void {
       // the workers start first: their start-up and module loading overlap reading and setting up
       // the problem, and they stay for the pilot, the exploration and the canonical neighbours
       const tStart = performance.now();
-      const pool = startThreadPool(opts.threads ?? availableParallelism());
+      const threads = opts.threads ?? availableParallelism();
+      // on 2+ threads the isolates' JIT competes with the workers for the cores: cheaper compiles (`threadsV8Flags`)
+      tuneJitForThreads(threads);
+      const pool = startThreadPool(threads);
       try {
         await solveCommand(problemPath, opts, pool, tStart);
       } finally {

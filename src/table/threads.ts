@@ -21,6 +21,7 @@
  * each unfinished sub-box the regions meeting it and the keys already covered in it.
  */
 import { Worker } from 'node:worker_threads';
+import { setFlagsFromString } from 'node:v8';
 import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
 import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
@@ -103,6 +104,27 @@ export interface ThreadPool {
   setProblem(mpqp: MpqpProblem, options?: Pick<SolveOptions, 'lp' | 'lean'>): void;
   /** end every worker at once; resolves when they have exited (their heaps are freed then) */
   terminate(): Promise<void>;
+}
+
+/**
+ * V8 tuning set for a solve on 2 or more threads (`tuneJitForThreads`), before its workers start.
+ * Every isolate compiles the exploration's hot code on its own (~1.5 s of compiler time per isolate
+ * on boom-4d-n8, on V8's helper threads): with one worker that runs on the idle second core, with
+ * two workers on two cores it takes CPU from them. A smaller cumulative inlining budget (920 → 200
+ * bytecodes) makes each optimised compile cheaper, and a 4× interrupt budget (tier-up later, on
+ * fuller type feedback) makes fewer of them end in a deoptimisation and a compile again (buildRegion
+ * and facetRowsByLp were compiled 5–7 times each in one cold run). Measured (built CLI, --threads 2,
+ * alternated, CPU seconds of every thread of the process; load 8–11): boom-4d-n8 12.3/12.6/12.6 →
+ * 10.2/11.1/11.1 s, glider-2d-n40 9.4/8.6 → 8.3/7.3 s; the workers' own CPU unchanged, the helper
+ * threads' down by a third. Not set for one thread: there the worker's own CPU rose by ~0.3 s
+ * (boom-4d-n8), and the worker is the critical path. JIT flags change no result (same bytes).
+ */
+export const threadsV8Flags = ['--max-inlined-bytecode-size-cumulative=200', '--interrupt-budget=270336'] as const;
+
+/** Set `threadsV8Flags` when `threads` ≥ 2 (process-wide: call before the workers start, so their isolates read them). */
+export function tuneJitForThreads(threads: number): void {
+  if (threads < 2) return;
+  for (const f of threadsV8Flags) setFlagsFromString(f);
 }
 
 /** Start `threads` workers (≥ 1) for `exploreThreaded` and `canonicalThreaded`. */

@@ -541,6 +541,23 @@ export function costFigures(
 }
 
 /**
+ * What one evaluation does on average over seeded points of the box (meanProfile), following the
+ * generated code's path exactly: `operations` multiply-adds plus comparisons as costFigures counts
+ * them; `passes` passes of the descent loop (a hyperplane tree takes PLANE_DESCENT_LEVELS levels per
+ * pass, the box tree one, the grid's cell counts as one); `levels` tree levels; `candidates` regions
+ * tested; `rows` region rows tested (each up to its first failing row); `found` the share of points
+ * located (the law evaluated).
+ */
+export interface MeanProfile {
+  operations: number;
+  passes: number;
+  levels: number;
+  candidates: number;
+  rows: number;
+  found: number;
+}
+
+/**
  * Mean operations (multiply-adds plus comparisons, counted as costFigures counts them) of one
  * evaluation over `count` seeded points of the box, following the generated code's path exactly:
  * the descent or the cell, then the leaf's candidates in order, each up to its first failing row,
@@ -548,6 +565,16 @@ export function costFigures(
  * case is costFigures).
  */
 export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, count = 4000): number {
+  return meanProfile(ar, box, count).operations;
+}
+
+/**
+ * meanOperations with the counts it is made of (MeanProfile), the inputs of the latency model
+ * (meanLatency in choose.ts); `points` replaces the seeded points of the box (rounded to the build's
+ * precision as the generated code receives them).
+ */
+export function meanProfile(ar: EmitArrays, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, count = 4000, points?: readonly (readonly number[])[]): MeanProfile {
+  if (points) count = points.length;
   const n = ar.ntheta;
   const f = ar.precision === 'float';
   const rowCmp = ar.bestFit ? 2 : 1;
@@ -561,16 +588,23 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
     return s;
   };
   let total = 0;
+  let passes = 0;
+  let levels = 0;
+  let candidates = 0;
+  let rowsTested = 0;
+  let located = 0;
   for (let p = 0; p < count; p++) {
-    for (let j = 0; j < n; j++) theta[j] = box.lower[j] + (box.upper[j] - box.lower[j]) * rnd();
+    for (let j = 0; j < n; j++) theta[j] = points ? points[p][j] : box.lower[j] + (box.upper[j] - box.lower[j]) * rnd();
     if (f) for (let j = 0; j < n; j++) theta[j] = Math.fround(theta[j]);
     let ops = 0;
     let from = 0;
     let to = ar.regionCount;
     let at = (k: number) => k;
     if (ar.search !== 'sequential') {
-      if (ar.search === 'grid') ops += 3 * n;
-      else {
+      if (ar.search === 'grid') {
+        ops += 3 * n;
+        passes++;
+      } else {
         let ref = ar.root;
         let d = 0;
         for (; d < ar.maxDepth && ref >= 0; d++) {
@@ -579,6 +613,8 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
           else ref = dot(ar.nodePlane, ref * (n + 1), theta) <= ar.nodePlane[ref * (n + 1) + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
         }
         if (ar.search !== 'boxtree') ops += planeDescentTests(d) * (n + 1);
+        levels += d;
+        passes += ar.search === 'boxtree' ? d : Math.ceil(d / PLANE_DESCENT_LEVELS);
       }
       const leaf = descend(ar, theta, (a, i) => dot(a, i, theta));
       if (leaf < 0) {
@@ -592,12 +628,14 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
     let found = false;
     for (let k = from; k < to; k++) {
       const r = at(k);
+      candidates++;
       const c = ar.lawC.length > 0;
       for (let j = 0; j < n; j++) t[j] = c ? (f ? Math.fround(theta[j] - ar.lawC[r * n + j]) : theta[j] - ar.lawC[r * n + j]) : theta[j];
       let ok = true;
       let worst = 0;
       for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
         ops += n + rowCmp;
+        rowsTested++;
         const s = dot(ar.regionA, i * n, t);
         const d = ar.bestFit ? (f ? Math.fround(s - ar.regionB[i]) : s - ar.regionB[i]) : s;
         const holds = ar.bestFit ? d <= ar.regionSlack[r] : d <= ar.regionB[i];
@@ -613,8 +651,11 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
       ops += 2;
       if (worst <= ar.fitSure) break;
     }
-    if (found) ops += ar.nu * n;
+    if (found) {
+      ops += ar.nu * n;
+      located++;
+    }
     total += ops;
   }
-  return total / count;
+  return { operations: total / count, passes: passes / count, levels: levels / count, candidates: candidates / count, rows: rowsTested / count, found: located / count };
 }

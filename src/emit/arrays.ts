@@ -10,7 +10,7 @@ import { leafDepths, type SearchTree } from '../partition/tree.js';
 import { regionBounds, type BoxTree } from '../partition/boxtree.js';
 import { clampComparisons } from '../table/clamp.js';
 import { seededRandom } from './sample.js';
-import { gridCell, type GridIndex } from './grid.js';
+import { gridCell, gridSureCells, type GridIndex } from './grid.js';
 
 export type Precision = 'float' | 'double';
 /**
@@ -114,6 +114,12 @@ export interface SearchIndex {
   root: number;
   /** loop bound of the tree descent: the worst depth */
   maxDepth: number;
+  /**
+   * grid, float builds: per cell 1 when every θ the generated code maps into the cell lies deep inside
+   * the cell's first candidate (gridSureCells), so that region is the answer without a test; absent or
+   * empty otherwise
+   */
+  leafSure?: number[];
 }
 
 /** The index arrays of a build: copied from the tree for tree search, empty (root −1, depth 0) otherwise. */
@@ -314,6 +320,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     }
   }
   orderCandidates(out, table.box);
+  // a float grid's cells that lie deep inside their first candidate (after the ordering: the region
+  // most often found there) skip the region test
+  if (tree.format === 'tessera-grid' && out.bestFit) out.leafSure = gridSureCells(table, out, tree);
   return out;
 }
 
@@ -400,6 +409,8 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
   if (ar.search === 'sequential') return scan(ar.regionCount, (k) => k);
   const leaf = descend(ar, theta, dot);
   if (leaf < 0) return { region: -1, u: null };
+  // a grid cell deep inside its first candidate: that region without a test (gridSureCells)
+  if (ar.leafSure?.[leaf]) return { region: ar.leafRegion[ar.leafStart[leaf]], u: law(ar.leafRegion[ar.leafStart[leaf]]) };
   return scan(ar.leafStart[leaf + 1] - ar.leafStart[leaf], (k) => ar.leafRegion[ar.leafStart[leaf] + k]);
 }
 
@@ -495,7 +506,7 @@ export function planeDescentTests(depth: number, levels = PLANE_DESCENT_LEVELS):
  */
 export function costFigures(
   ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> &
-    Partial<Pick<EmitArrays, 'bestFit'>> & { clamp?: EmitArrays['clamp'] },
+    Partial<Pick<EmitArrays, 'bestFit' | 'leafSure'>> & { clamp?: EmitArrays['clamp'] },
   /** the plane descent of the printer: two levels per pass (float/double C, planeDescentTests) or one plane per level (fixed point) */
   planeDescent: 'paired' | 'single' = 'paired',
 ): CostFigures {
@@ -520,6 +531,12 @@ export function costFigures(
     // the cell: per coordinate one subtraction and one multiplication (counted as a multiply-add) and
     // two comparisons; then every candidate of the cell in full
     for (let leaf = 0; leaf + 1 < ar.leafStart.length; leaf++) {
+      if (ar.leafSure?.[leaf]) {
+        // a cell deep inside its first candidate: the cell and the law, no region test
+        worstMacs = Math.max(worstMacs, n + lawMacs);
+        worstCmp = Math.max(worstCmp, 2 * n + clampCmp);
+        continue;
+      }
       let rr = 0;
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstMacs = Math.max(worstMacs, n + rr * n + lawMacs);
@@ -619,6 +636,12 @@ export function meanProfile(ar: EmitArrays, box: { lower: ArrayLike<number>; upp
       const leaf = descend(ar, theta, (a, i) => dot(a, i, theta));
       if (leaf < 0) {
         total += ops;
+        continue;
+      }
+      if (ar.leafSure?.[leaf]) {
+        // the cell lies deep inside its first candidate: the law only
+        total += ops + ar.nu * n;
+        located++;
         continue;
       }
       from = ar.leafStart[leaf];

@@ -5,6 +5,14 @@ import { hasInputLimits } from '../table/clamp.js';
 import { CLI, positive } from './common.js';
 import { endEvaluatePool, evaluateCsvThreaded, startEvaluatePool, type EvaluatePool } from '../table/evaluate-threads.js';
 import { evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, type EvaluateTimes, type FlatPoints } from '../table/points.js';
+import { closeSync, existsSync, openSync, readFileSync, readSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { checkOutputPath } from '../io/output.js';
+import { writeFileAtomic } from '../io/atomic.js';
+import { BoxIndex, indexFromBytes, indexToBytes, INDEX_FILE_TAG } from '../table/boxindex.js';
+import { tableLocator } from '../table/locator.js';
+import { tol } from '../tol.js';
+import type { TableFile } from '../table/format.js';
 
 /** Process CPU seconds so far (user + system). */
 const cpuSeconds = (): number => {
@@ -63,8 +71,11 @@ export function register(program: Command): void {
     .option('--json', 'print JSON instead of CSV')
     .option('-q, --quiet', 'print the values only: no warnings')
     .option('--threads <n>', 'threads for the CSV output of --points (default 1): the points split into n consecutive ranges, the k-d tree built once and sent to n − 1 worker threads; the same bytes for every n', positive('--threads', true))
+    .option('--index <file>', 'keep the point-location index (k-d tree) of the table in FILE.index: read it when it is the index of this table file (its SHA-256), else build it and write it there; a later run then skips the build')
     .option('--times', 'print to stderr where the time went: wall and CPU seconds per stage (start-up, table, points, index, locate, law, format, write) and points per second')
-    .action(async (tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number }) => {
+    .action(async (tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number; index?: string }) => {
+      // a bad --index path fails before any work
+      if (opts.index) checkIndexPath(opts.index);
       const clock = opts.times ? new StageClock() : null;
       // the workers start now and load their modules while this thread reads the table and the points
       const threads = opts.threads ?? 1;
@@ -80,7 +91,7 @@ export function register(program: Command): void {
 /** The command's work once the workers (if any) are started; the pool goes to `evaluateCsvThreaded` (the caller ends it in any case). */
 async function evaluateAction(
   tablePath: string,
-  opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number },
+  opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number; index?: string },
   clock: StageClock | null,
   pool: EvaluatePool | null,
 ): Promise<void> {
@@ -95,6 +106,17 @@ async function evaluateAction(
   if (opts.at) points.push(parseAt(opts.at, table.dims.ntheta));
   clock?.lap('points');
   const clamp = !!opts.clamp;
+  // the index from --index (read, or built and written); its time goes to the index stage
+  let index: BoxIndex | null = null;
+  let indexWall = 0;
+  let indexCpu = 0;
+  if (opts.index) {
+    const w0 = performance.now();
+    const c0 = cpuSeconds();
+    index = indexFor(table, tablePath, opts.index, !!opts.quiet);
+    indexWall = (performance.now() - w0) / 1000;
+    indexCpu = cpuSeconds() - c0;
+  }
   if (!opts.quiet && !table.stats.complete)
     process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
   if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
@@ -107,7 +129,7 @@ async function evaluateAction(
     // one push per point: a spread of 10⁶ points would overflow the call stack
     for (let k = 0; k < flat.count; k++) all.push(Array.from(flat.values.subarray(k * flat.ntheta, (k + 1) * flat.ntheta)));
     for (const p of points) all.push(p);
-    const out = evaluatePoints(table, all, { clamp });
+    const out = evaluatePoints(table, all, { clamp, index });
     clock?.lap('evaluate');
     process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
     if (clock) {
@@ -117,10 +139,10 @@ async function evaluateAction(
     return;
   }
   // streamed in chunks of lines (10⁶ points are ~60 MB of text), each chunk a new byte array
-  const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0, cpu: { index: 0, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+  const times: EvaluateTimes = { index: indexWall, locate: 0, law: 0, format: 0, cpu: { index: indexCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
   let write = 0;
   let writeCpu = 0;
-  const chunks = pool ? evaluateCsvThreaded(table, bytes, flat, points, pool, { clamp, times }) : evaluateCsvBytes(table, bytes, flat, points, { clamp, times });
+  const chunks = pool ? evaluateCsvThreaded(table, bytes, flat, points, pool, { clamp, times, index }) : evaluateCsvBytes(table, bytes, flat, points, { clamp, times, index });
   for await (const chunk of chunks) {
     const w0 = performance.now();
     const c0 = clock ? cpuSeconds() : 0;
@@ -149,4 +171,54 @@ async function evaluateAction(
     clock.stages.push(...rows);
     process.stderr.write(clock.line(flat.count + points.length));
   }
+}
+
+/** `--index`: a file name ending in .index whose directory accepts a new file (checked when the file is not there yet). */
+function checkIndexPath(path: string): void {
+  if (!path.toLowerCase().endsWith('.index')) throw new InputError(path, '--index', `this keeps a ${INDEX_FILE_TAG} file; give a file name ending in .index`);
+  if (!existsSync(path)) checkOutputPath(path, '--index', { kind: 'file', extensions: ['.index'], what: 'an index file' });
+}
+
+/** "sha256:<hex>" of a file's bytes, read in 16 MiB pieces (a table can be larger than one string). */
+function fileSha256(path: string): string {
+  const hash = createHash('sha256');
+  const fd = openSync(path, 'r');
+  try {
+    const buf = Buffer.alloc(16 * 2 ** 20);
+    for (let got = readSync(fd, buf, 0, buf.length, null); got > 0; got = readSync(fd, buf, 0, buf.length, null)) hash.update(buf.subarray(0, got));
+  } finally {
+    closeSync(fd);
+  }
+  return `sha256:${hash.digest('hex')}`;
+}
+
+/**
+ * The point-location index of `table` (read from `tablePath`) kept in `indexPath`: read when the
+ * file is the index of this table file as this build makes it (same SHA-256 of the table's bytes,
+ * same locator parameters), else built by `tableLocator` and written there atomically (a note on
+ * stderr says why, unless quiet). A file that is not an index file at all is refused (exit 2): it is
+ * never overwritten.
+ */
+function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet: boolean): BoxIndex {
+  const key = { table: fileSha256(tablePath), regions: table.regions.length, ntheta: table.dims.ntheta, locator: 'tableLocator', pad: 1e3 * tol.inside };
+  let why = 'written';
+  if (existsSync(indexPath)) {
+    let bytes: Uint8Array;
+    try {
+      bytes = readFileSync(indexPath);
+    } catch (e) {
+      throw new InputError(indexPath, '--index', `cannot read the index file (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
+    }
+    const read = indexFromBytes(bytes);
+    if ('problem' in read) {
+      if (read.problem === 'tag') throw new InputError(indexPath, '--index', `not a ${INDEX_FILE_TAG} file (${read.detail}); name a new file or an index file written by tessera evaluate`);
+      why = `rebuilt (${read.detail})`;
+    } else if (JSON.stringify(read.key) === JSON.stringify(key) && read.index.size === table.regions.length && read.index.n === table.dims.ntheta) return read.index;
+    else why = read.key.table !== key.table ? 'rebuilt (it was the index of another table file)' : 'rebuilt (it was built with other locator parameters)';
+    checkOutputPath(indexPath, '--index', { kind: 'file', extensions: ['.index'], what: 'an index file' });
+  }
+  const index = tableLocator(table.regions, table.box.lower, table.box.upper);
+  writeFileAtomic(indexPath, indexToBytes(index, key));
+  if (!quiet) process.stderr.write(`tessera: index ${indexPath} ${why}\n`);
+  return index;
 }

@@ -4,9 +4,9 @@ import { availableParallelism } from 'node:os';
 import { loadProblem } from '../problem/index.js';
 import type { Layout } from '../formulation/layout.js';
 import type { ExplorationState, MpqpProblem, Partition, Progress } from '../mpqp/types.js';
-import { canonicalThreaded, exploreThreaded, startThreadPool, type ThreadPool, type ThreadedOptions } from '../table/threads.js';
+import { canonicalThreaded, exploreThreaded, startThreadPool, tuneJitForThreads, type ThreadPool, type ThreadedOptions } from '../table/threads.js';
 import { makeCheckpoint, makePart, parseCheckpointJson, parsePartIndex, type PartIndex, type SubBoxProgress } from '../table/part.js';
-import { canonicalReserve, subBox } from '../mpqp/canonical.js';
+import { canonicalReserve, subBox, type GuessHints } from '../mpqp/canonical.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { readTextInput } from '../io/errors.js';
 import { makeTable } from '../table/build.js';
@@ -34,7 +34,7 @@ async function explore(
   mpqp: MpqpProblem,
   options: ThreadedOptions,
   checkpoint: { write: (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => void; every: number } | null,
-): Promise<{ partition: Partition; state: (() => { state: ExplorationState; subBoxes: SubBoxProgress }) | null }> {
+): Promise<{ partition: Partition; state: (() => { state: ExplorationState; subBoxes: SubBoxProgress }) | null; guesses: GuessHints }> {
   const run = exploreThreaded(mpqp, options);
   let interrupts = 0;
   const onSigint = () => {
@@ -49,7 +49,7 @@ async function explore(
     const partition = await run.result;
     // the state is only asked for to write a checkpoint; without one, the run (and the union it
     // packed) is not kept beside the canonical form
-    return { partition, state: checkpoint ? run.snapshot : null };
+    return { partition, state: checkpoint ? run.snapshot : null, guesses: run.guesses() };
   } finally {
     if (timer) clearInterval(timer);
     process.off('SIGINT', onSigint);
@@ -84,7 +84,10 @@ export function register(program: Command): void {
       // the workers start first: their start-up and module loading overlap reading and setting up
       // the problem, and they stay for the pilot, the exploration and the canonical neighbours
       const tStart = performance.now();
-      const pool = startThreadPool(opts.threads ?? availableParallelism());
+      const threads = opts.threads ?? availableParallelism();
+      // on 2+ threads the isolates' JIT competes with the workers for the cores: cheaper compiles (`threadsV8Flags`)
+      tuneJitForThreads(threads);
+      const pool = startThreadPool(threads);
       try {
         await solveCommand(problemPath, opts, pool, tStart);
       } finally {
@@ -146,7 +149,8 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   // would be held beside the canonical ones while the table is written)
   let partition: Partition | null;
   let state: Awaited<ReturnType<typeof explore>>['state'];
-  ({ partition, state } = await explore(
+  let guesses: GuessHints | undefined;
+  ({ partition, state, guesses } = await explore(
     mpqp,
     {
       threads,
@@ -161,6 +165,8 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
       // the workers end with the exploration (nothing after it runs on them), before its regions
       // are unpacked on this thread: the two copies are never held at once
       endPool: true,
+      // the closure's guesses are built in the warm workers (a part file has no canonical form)
+      guesses: !part,
       onProgress: live
         ? (p) => {
             shown = true;
@@ -214,9 +220,11 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   const exploredComplete = partition.stats.complete;
   const canonical = await canonicalThreaded(mpqp, partition, threads, {
     shouldStop: () => opts.timeLimit !== undefined && (performance.now() - tStart) / 1000 >= opts.timeLimit,
+    guesses,
     onProgress: live ? (step, done, total) => process.stderr.write(`\r\x1b[K  canonical form: ${step === 'closing' ? `closing under neighbour guesses ${done}/${total} regions` : `neighbours ${done}/${total} facets`}${left()} `) : undefined,
   });
   partition = null;
+  guesses = undefined;
   if (live) process.stderr.write('\r\x1b[K');
   // an exploration that finished but whose canonical form was cut: the checkpoint resumes it too
   if (exploredComplete && !canonical.stats.complete) {

@@ -10,15 +10,33 @@ export function choleskyInPlace(a: Float64Array, n: number, pivotTol: number): b
   for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(a[i * n + i]));
   const thr = pivotTol * (1 + scale);
   for (let j = 0; j < n; j++) {
-    let d = a[j * n + j];
-    for (let k = 0; k < j; k++) d -= a[j * n + k] * a[j * n + k];
+    const rj = j * n;
+    let d = a[rj + j];
+    for (let k = 0; k < j; k++) d -= a[rj + k] * a[rj + k];
     if (!(d > thr)) return false;
     const ljj = Math.sqrt(d);
-    a[j * n + j] = ljj;
-    for (let i = j + 1; i < n; i++) {
-      let s = a[i * n + j];
-      for (let k = 0; k < j; k++) s -= a[i * n + k] * a[j * n + k];
-      a[i * n + j] = s / ljj;
+    a[rj + j] = ljj;
+    // rows i and i + 1 together: two independent sums, each in its own order (the same bits as one
+    // row at a time; the processor overlaps the two dependency chains)
+    let i = j + 1;
+    for (; i + 1 < n; i += 2) {
+      const r0 = i * n;
+      const r1 = r0 + n;
+      let s0 = a[r0 + j];
+      let s1 = a[r1 + j];
+      for (let k = 0; k < j; k++) {
+        const ajk = a[rj + k];
+        s0 -= a[r0 + k] * ajk;
+        s1 -= a[r1 + k] * ajk;
+      }
+      a[r0 + j] = s0 / ljj;
+      a[r1 + j] = s1 / ljj;
+    }
+    if (i < n) {
+      const r0 = i * n;
+      let s = a[r0 + j];
+      for (let k = 0; k < j; k++) s -= a[r0 + k] * a[rj + k];
+      a[r0 + j] = s / ljj;
     }
   }
   return true;
@@ -42,6 +60,7 @@ export function choleskySolveInPlace(l: Float64Array, n: number, b: Float64Array
 export interface SpdScratch {
   l: Float64Array;
   inv: Float64Array;
+  /** four columns of the substitutions, interleaved (n × 4) */
   col: Float64Array;
 }
 
@@ -53,45 +72,104 @@ export function spdScratch(): SpdScratch {
 /**
  * Inverse of an SPD matrix (n×n) via Cholesky; null when not PD. With `scratch` the result is
  * scratch.inv's first n² entries (valid until the next call with that scratch), else a new array.
- * Column j's forward substitution starts at row j: the rows above hold exact zeros (0 − l·0 stays
- * +0), so the bits are those of the full substitution.
+ * Column j of the inverse solves L y = e_j, then Lᵀ x = y, each entry one sum in the textbook order
+ * (k ascending forward, descending rows backward); column j's forward substitution starts at row j
+ * (the rows above hold exact zeros: 0 − l·0 stays +0), so the bits are those of the full
+ * substitution. Four columns are solved side by side (four independent sums per row, each in its
+ * own order: the same bits as one column at a time, while the processor overlaps the chains).
  */
 export function spdInverse(a: Float64Array, n: number, pivotTol: number, scratch?: SpdScratch): Float64Array | null {
   let l: Float64Array;
   let inv: Float64Array;
-  let col: Float64Array;
+  let y: Float64Array;
   if (scratch) {
     if (scratch.l.length < n * n) {
       scratch.l = new Float64Array(2 * n * n);
       scratch.inv = new Float64Array(2 * n * n);
-      scratch.col = new Float64Array(2 * n);
     }
+    if (scratch.col.length < 4 * n) scratch.col = new Float64Array(8 * n);
     l = scratch.l;
     for (let q = 0; q < n * n; q++) l[q] = a[q];
     inv = scratch.inv;
-    col = scratch.col;
+    y = scratch.col;
   } else {
     l = Float64Array.from(a);
     inv = new Float64Array(n * n);
-    col = new Float64Array(n);
+    y = new Float64Array(4 * n);
   }
   if (!choleskyInPlace(l, n, pivotTol)) return null;
-  for (let j = 0; j < n; j++) {
-    // forward: L y = e_j (y_i = 0 for i < j)
-    for (let i = 0; i < j; i++) col[i] = 0;
-    col[j] = 1 / l[j * n + j];
-    for (let i = j + 1; i < n; i++) {
-      let s = 0;
-      for (let k = j; k < i; k++) s -= l[i * n + k] * col[k];
-      col[i] = s / l[i * n + i];
+  for (let j0 = 0; j0 < n; j0 += 4) {
+    // columns j0 … j0 + 3 (past n: the last column again, solved twice and written twice, same values)
+    const top = Math.min(j0 + 4, n);
+    for (let c = 0; c < 4; c++) {
+      const jc = Math.min(j0 + c, n - 1);
+      // forward: L y = e_jc, rows below `top` one column at a time (y_i = 0 for i < jc)
+      for (let i = 0; i < jc; i++) y[i * 4 + c] = 0;
+      y[jc * 4 + c] = 1 / l[jc * n + jc];
+      for (let i = jc + 1; i < top; i++) {
+        let s = 0;
+        for (let k = jc; k < i; k++) s -= l[i * n + k] * y[k * 4 + c];
+        y[i * 4 + c] = s / l[i * n + i];
+      }
     }
-    // back: Lᵀ x = y
+    const j1 = Math.min(j0 + 1, n - 1);
+    const j2 = Math.min(j0 + 2, n - 1);
+    const j3 = Math.min(j0 + 3, n - 1);
+    for (let i = top; i < n; i++) {
+      const ri = i * n;
+      // each column's sum from its own first row, k ascending: the terms before `top` one by one
+      let s0 = 0;
+      for (let k = j0; k < top; k++) s0 -= l[ri + k] * y[k * 4];
+      let s1 = 0;
+      for (let k = j1; k < top; k++) s1 -= l[ri + k] * y[k * 4 + 1];
+      let s2 = 0;
+      for (let k = j2; k < top; k++) s2 -= l[ri + k] * y[k * 4 + 2];
+      let s3 = 0;
+      for (let k = j3; k < top; k++) s3 -= l[ri + k] * y[k * 4 + 3];
+      for (let k = top; k < i; k++) {
+        const lik = l[ri + k];
+        const o = k * 4;
+        s0 -= lik * y[o];
+        s1 -= lik * y[o + 1];
+        s2 -= lik * y[o + 2];
+        s3 -= lik * y[o + 3];
+      }
+      const d = l[ri + i];
+      const o = i * 4;
+      y[o] = s0 / d;
+      y[o + 1] = s1 / d;
+      y[o + 2] = s2 / d;
+      y[o + 3] = s3 / d;
+    }
+    // back: Lᵀ x = y, rows from the last, k ascending from i + 1
     for (let i = n - 1; i >= 0; i--) {
-      let s = col[i];
-      for (let k = i + 1; k < n; k++) s -= l[k * n + i] * col[k];
-      col[i] = s / l[i * n + i];
+      const o = i * 4;
+      let s0 = y[o];
+      let s1 = y[o + 1];
+      let s2 = y[o + 2];
+      let s3 = y[o + 3];
+      for (let k = i + 1; k < n; k++) {
+        const lki = l[k * n + i];
+        const p = k * 4;
+        s0 -= lki * y[p];
+        s1 -= lki * y[p + 1];
+        s2 -= lki * y[p + 2];
+        s3 -= lki * y[p + 3];
+      }
+      const d = l[i * n + i];
+      y[o] = s0 / d;
+      y[o + 1] = s1 / d;
+      y[o + 2] = s2 / d;
+      y[o + 3] = s3 / d;
     }
-    for (let i = 0; i < n; i++) inv[i * n + j] = col[i];
+    for (let i = 0; i < n; i++) {
+      const o = i * 4;
+      const r = i * n;
+      inv[r + j0] = y[o];
+      inv[r + j1] = y[o + 1];
+      inv[r + j2] = y[o + 2];
+      inv[r + j3] = y[o + 3];
+    }
   }
   // symmetrise against round-off
   for (let i = 0; i < n; i++)

@@ -101,32 +101,70 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const lc = bw.lc;
   if (k > 0) {
     const MAA = bw.MAA;
-    for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) MAA[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
+    for (let a = 0; a < k; a++) {
+      const ra = activeSet[a] * nc;
+      for (let b = 0; b < k; b++) MAA[a * k + b] = M[ra + activeSet[b]];
+    }
     const inv = spdInverse(MAA, k, tol.rank, invScratch) ?? scaledInverse(MAA, k);
     if (!inv) return { ok: false, reason: 'licq' };
+    // each entry one sum over b in ascending order; the sums of a row's θ columns and of its
+    // constant run side by side (independent chains, the same bits as one at a time)
     for (let a = 0; a < k; a++) {
-      for (let j = 0; j < nt; j++) {
-        let s = 0;
-        for (let b = 0; b < k; b++) s -= inv[a * k + b] * S[activeSet[b] * nt + j];
-        Lth[a * nt + j] = s;
+      const ra = a * k;
+      let j = 0;
+      for (; j + 1 < nt; j += 2) {
+        let s0 = 0;
+        let s1 = 0;
+        for (let b = 0; b < k; b++) {
+          const v = inv[ra + b];
+          const o = activeSet[b] * nt + j;
+          s0 -= v * S[o];
+          s1 -= v * S[o + 1];
+        }
+        Lth[a * nt + j] = s0;
+        Lth[a * nt + j + 1] = s1;
       }
-      let s = 0;
-      for (let b = 0; b < k; b++) s -= inv[a * k + b] * wc[activeSet[b]];
-      lc[a] = s;
+      let sc = 0;
+      if (j < nt) {
+        let s0 = 0;
+        for (let b = 0; b < k; b++) {
+          const v = inv[ra + b];
+          s0 -= v * S[activeSet[b] * nt + j];
+          sc -= v * wc[activeSet[b]];
+        }
+        Lth[a * nt + j] = s0;
+      } else for (let b = 0; b < k; b++) sc -= inv[ra + b] * wc[activeSet[b]];
+      lc[a] = sc;
     }
   }
-  // z(θ) = Zth θ + zc
+  // z(θ) = Zth θ + zc, each entry one sum over the active rows in order (θ columns side by side)
   const Zth = bw.Zth;
   const zc = bw.zc;
   for (let i = 0; i < nz; i++) {
-    for (let j = 0; j < nt; j++) {
-      let s = -HinvF[i * nt + j];
-      for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * Lth[a * nt + j];
-      Zth[i * nt + j] = s;
+    const ri = i * nc;
+    let j = 0;
+    for (; j + 1 < nt; j += 2) {
+      let s0 = -HinvF[i * nt + j];
+      let s1 = -HinvF[i * nt + j + 1];
+      for (let a = 0; a < k; a++) {
+        const v = K[ri + activeSet[a]];
+        s0 -= v * Lth[a * nt + j];
+        s1 -= v * Lth[a * nt + j + 1];
+      }
+      Zth[i * nt + j] = s0;
+      Zth[i * nt + j + 1] = s1;
     }
-    let s = -Hinvc[i];
-    for (let a = 0; a < k; a++) s -= K[i * nc + activeSet[a]] * lc[a];
-    zc[i] = s;
+    let sc = -Hinvc[i];
+    if (j < nt) {
+      let s0 = -HinvF[i * nt + j];
+      for (let a = 0; a < k; a++) {
+        const v = K[ri + activeSet[a]];
+        s0 -= v * Lth[a * nt + j];
+        sc -= v * lc[a];
+      }
+      Zth[i * nt + j] = s0;
+    } else for (let a = 0; a < k; a++) sc -= K[ri + activeSet[a]] * lc[a];
+    zc[i] = sc;
   }
   // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
   // a row implied by the box alone is dropped at once (no LP), so only the rows kept are stored and
@@ -258,7 +296,8 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     for (let j = 0; j < nt; j++) row[j] = Zth[i * nt + j];
     movesF.push(row);
   }
-  const movesG = Array.from(zc.subarray(0, rowsOut));
+  const movesG = new Array<number>(rowsOut);
+  for (let i = 0; i < rowsOut; i++) movesG[i] = zc[i];
   const region: Omit<CriticalRegion, 'id'> = {
     activeSet: [...activeSet].sort((x, y) => x - y),
     A,
@@ -294,12 +333,26 @@ function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVerti
 function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array): CriticalRegion['value'] {
   const { nz, ntheta: nt, H, F, Y, c } = problem;
   const HZ = new Float64Array(nz * nt);
-  for (let i = 0; i < nz; i++)
-    for (let j = 0; j < nt; j++) {
+  for (let i = 0; i < nz; i++) {
+    // two θ columns side by side (independent sums over q, each in ascending order)
+    let j = 0;
+    for (; j + 1 < nt; j += 2) {
+      let s0 = 0;
+      let s1 = 0;
+      for (let q = 0; q < nz; q++) {
+        const h = H[i * nz + q];
+        s0 += h * Z[q * nt + j];
+        s1 += h * Z[q * nt + j + 1];
+      }
+      HZ[i * nt + j] = s0;
+      HZ[i * nt + j + 1] = s1;
+    }
+    if (j < nt) {
       let s = 0;
       for (let q = 0; q < nz; q++) s += H[i * nz + q] * Z[q * nt + j];
       HZ[i * nt + j] = s;
     }
+  }
   const Q: number[][] = [];
   for (let i = 0; i < nt; i++) {
     const row: number[] = [];
@@ -325,7 +378,8 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
   let r = 0;
   for (let i = 0; i < nz; i++) {
     r += c[i] * zc[i];
-    for (let p = 0; p < nz; p++) r += 0.5 * zc[i] * H[i * nz + p] * zc[p];
+    const hz = 0.5 * zc[i]; // (0.5·zc_i)·H_ip·zc_p, left to right as before
+    for (let p = 0; p < nz; p++) r += hz * H[i * nz + p] * zc[p];
   }
   return { Q, q, r };
 }
@@ -395,13 +449,35 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // a_r·a_q bit for bit (the same products summed in the same order), so each product is formed once
   if (gramScratch.length < m * m) gramScratch = new Float64Array(2 * m * m);
   const gram = gramScratch;
-  for (let r = 0; r < m; r++)
-    for (let q = r; q < m; q++) {
-      let g = 0;
-      for (let j = 0; j < nt; j++) g += Af[q * nt + j] * Af[r * nt + j];
-      gram[r * m + q] = g;
-      gram[q * m + r] = g;
+  if (nt === 4 || nt === 5) {
+    // the same sums written out (0 + a_q0·a_r0 + …, in axis order), row r's entries held in locals
+    for (let r = 0; r < m; r++) {
+      const o = r * nt;
+      const r0 = Af[o];
+      const r1 = Af[o + 1];
+      const r2 = Af[o + 2];
+      const r3 = Af[o + 3];
+      const r4 = nt === 5 ? Af[o + 4] : 0;
+      for (let q = r; q < m; q++) {
+        const p = q * nt;
+        let g = 0;
+        g += Af[p] * r0;
+        g += Af[p + 1] * r1;
+        g += Af[p + 2] * r2;
+        g += Af[p + 3] * r3;
+        if (nt === 5) g += Af[p + 4] * r4;
+        gram[r * m + q] = g;
+        gram[q * m + r] = g;
+      }
     }
+  } else
+    for (let r = 0; r < m; r++)
+      for (let q = r; q < m; q++) {
+        let g = 0;
+        for (let j = 0; j < nt; j++) g += Af[q * nt + j] * Af[r * nt + j];
+        gram[r * m + q] = g;
+        gram[q * m + r] = g;
+      }
   for (let r = 0; r < m; r++) markFirstHit(gram, r * m, slack, m, sure);
   const useVertices = proofs && nt <= maxVertexDim;
   for (let j = 0; j < nt && !useVertices; j++)

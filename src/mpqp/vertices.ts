@@ -55,7 +55,7 @@ export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<numb
 }
 
 /** Scratch for the edge search's common rows (grown on demand; one per thread). */
-const cutScratch = { buf: new Int32Array(64) };
+const cutScratch = { buf: new Int32Array(64), s: new Float64Array(64) };
 
 /** Scratch for the rank test (n × n rows at most per call). */
 const rankScratch = { m: new Float64Array(0) };
@@ -116,6 +116,42 @@ function intersect(a: readonly number[], b: readonly number[], out: Int32Array, 
   return k;
 }
 
+/**
+ * The face table of `cutVertices`' ordered edge search (one per thread, grown on demand): slot heads
+ * and, per entry, its face hash, inside vertex and next entry; `cand` the collected candidates.
+ */
+const faces = { head: new Int32Array(64), mask: 63, key: new Int32Array(256), q: new Int32Array(256), next: new Int32Array(256), cand: new Int32Array(256) };
+
+/** Fill `faces` with every simple (n tight rows) inside vertex under the hashes of its n faces. */
+function faceTable(tight: readonly (readonly number[])[], inside: readonly number[], n: number): void {
+  const entries = inside.length * n;
+  let size = 64;
+  while (size < 2 * entries) size *= 2;
+  if (faces.head.length < size) faces.head = new Int32Array(size);
+  faces.mask = size - 1;
+  faces.head.fill(-1, 0, size);
+  if (faces.key.length < entries) {
+    faces.key = new Int32Array(2 * entries);
+    faces.q = new Int32Array(2 * entries);
+    faces.next = new Int32Array(2 * entries);
+    faces.cand = new Int32Array(2 * entries);
+  }
+  let e = 0;
+  for (const q of inside) {
+    const Tq = tight[q];
+    if (Tq.length !== n) continue;
+    for (let omit = 0; omit < n; omit++) {
+      const h = faceKey(Tq, omit);
+      const slot = h & faces.mask;
+      faces.key[e] = h;
+      faces.q[e] = q;
+      faces.next[e] = faces.head[slot];
+      faces.head[slot] = e;
+      e++;
+    }
+  }
+}
+
 /** Hash of the sorted rows of T without T[omit] (collisions are checked by the caller). */
 function faceKey(T: readonly number[], omit: number): number {
   let h = 0x811c9dc5;
@@ -123,7 +159,7 @@ function faceKey(T: readonly number[], omit: number): number {
     if (i === omit) continue;
     h = Math.imul(h ^ T[i], 0x01000193);
   }
-  return h;
+  return h | 0;
 }
 
 function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
@@ -145,13 +181,15 @@ function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
  * Cut the vertex set by row r (a_r θ ≤ b_r, unit normal): vertices more than `eps` outside go,
  * vertices within `eps` gain r as a tight row, and each edge from an inside to an outside vertex
  * gives its crossing point (`hashEdges` forces or forbids the hashed edge search; by default it
- * is used when there are many pairs). False when the vertex count would pass `maxVertices` (the caller gives
+ * is used when there are many pairs; 'ordered' forces the all-pairs order through a face hash,
+ * the default below that many pairs and above 32). False when the vertex count would pass `maxVertices` (the caller gives
  * up on the vertices; nothing is changed then).
  */
-export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number, hashEdges?: boolean): boolean {
+export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number, hashEdges?: boolean | 'ordered'): boolean {
   const { n } = V;
   const cnt = V.x.length;
-  const s = new Float64Array(cnt);
+  if (cutScratch.s.length < cnt) cutScratch.s = new Float64Array(2 * cnt);
+  const s = cutScratch.s; // entries 0 … cnt − 1 written below before any read
   let outside = 0;
   for (let v = 0; v < cnt; v++) {
     let t = -b[r];
@@ -179,7 +217,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     if (s[q] > eps) outsideAll.push(q);
     else if (s[q] < -eps) insideAll.push(q);
   }
-  const hashed = hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length);
+  const hashed = hashEdges === 'ordered' ? false : (hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length));
   const byFace = new Map<number, number[]>();
   const degenerateInside: number[] = [];
   for (const q of insideAll) {
@@ -205,11 +243,39 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     tight.push(withRow(common, k, r));
     return true;
   };
+  // the all-pairs order through a hash: every simple inside vertex listed under its n (n − 1)-row
+  // faces (chained in typed arrays); an outside vertex collects the inside vertices sharing one of
+  // its faces' hashes, ascending and once each, and tests those as the all-pairs loop would. A pair
+  // with n − 1 common rows shares a face, so the crossings and their order are the all-pairs ones.
+  const ordered = hashEdges === 'ordered' || (!hashed && hashEdges === undefined && outsideAll.length * insideAll.length > 32);
+  if (ordered) faceTable(V.tight, insideAll, n);
   for (const p of outsideAll) {
     const Tp = V.tight[p];
     if (cutScratch.buf.length < Tp.length) cutScratch.buf = new Int32Array(2 * Tp.length);
     const buf = cutScratch.buf;
-    if (Tp.length === n) {
+    if (Tp.length === n && ordered) {
+      const ft = faces;
+      let nc = 0;
+      for (let omit = 0; omit < n; omit++) {
+        const h = faceKey(Tp, omit);
+        for (let e = ft.head[h & ft.mask]; e >= 0; e = ft.next[e]) {
+          if (ft.key[e] !== h) continue;
+          // insertion into the ascending candidate list, once each
+          const q = ft.q[e];
+          let i = nc;
+          while (i > 0 && ft.cand[i - 1] > q) i--;
+          if (i > 0 && ft.cand[i - 1] === q) continue;
+          for (let t = nc; t > i; t--) ft.cand[t] = ft.cand[t - 1];
+          ft.cand[i] = q;
+          nc++;
+        }
+      }
+      for (let c = 0; c < nc; c++) {
+        const q = ft.cand[c];
+        const k = intersect(Tp, V.tight[q], buf, n - 1);
+        if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
+      }
+    } else if (Tp.length === n) {
       if (hashed) {
         for (let omit = 0; omit < n; omit++) {
           const list = byFace.get(faceKey(Tp, omit));

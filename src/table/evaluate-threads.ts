@@ -66,7 +66,7 @@ export async function* evaluateCsvThreaded(
   const n = table.dims.ntheta;
   if (points.ntheta !== n) throw new Error(`points have ${points.ntheta} entries, the table expects ${n}`);
   const times = options.times ?? { index: 0, locate: 0, law: 0, format: 0 };
-  const ctx = csvContext(table, options, times);
+  const ctx = csvContext(table, options, times, points.count + extra.length);
   const all = csvPoints(points, extra);
   const total = all.length / Math.max(n, 1);
   const text = points.count > 0 ? input : new Uint8Array(0);

@@ -28,8 +28,10 @@ export class GridLocator {
   private readonly lo: Float64Array;
   private readonly width: Float64Array;
   private readonly maxLevel: number;
-  /** per level: cell key → region ids (ascending) */
-  private readonly levels: Map<number, number[]>[] = [];
+  /** per level: cell key → the cell's list (an index into `lists`), in a typed open-addressing hash */
+  private readonly levels: CellHash[] = [];
+  /** every listed cell's region ids (ascending), all levels */
+  private readonly lists: number[][] = [];
   /** levels that hold a region, ascending */
   private readonly usedLevels: number[] = [];
   private readonly cellsPerAxis: number[] = [];
@@ -37,6 +39,8 @@ export class GridLocator {
   private A: Float64Array;
   private b: Float64Array;
   private rowStart: number[] = [0];
+  /** every region's padded box in θ (lo_0 … lo_n−1, hi_0 … hi_n−1): a region whose padded box misses θ holds it nowhere exactly */
+  private boxes: Float64Array;
   private count = 0;
   /** cells of its level's grid a region's bounding box may meet (the level is the finest that keeps to this) */
   private readonly cellBudget: number;
@@ -50,11 +54,12 @@ export class GridLocator {
     // cell keys stay exact integers below 2^52
     this.maxLevel = Math.max(0, Math.min(20, Math.floor(52 / Math.max(this.n, 1))));
     for (let L = 0; L <= this.maxLevel; L++) {
-      this.levels.push(new Map());
+      this.levels.push(new CellHash());
       this.cellsPerAxis.push(2 ** L);
     }
     this.A = new Float64Array(64 * Math.max(this.n, 1));
     this.b = new Float64Array(64);
+    this.boxes = new Float64Array(64 * 2 * Math.max(this.n, 1));
   }
 
   get size(): number {
@@ -82,6 +87,16 @@ export class GridLocator {
     this.rowStart.push(start + m);
     // box in unit coordinates, padded so that a query within its slack still finds the region
     const pad = 1e3 * tol.inside;
+    if ((id + 1) * 2 * n > this.boxes.length) {
+      const g = new Float64Array(this.boxes.length * 2);
+      g.set(this.boxes);
+      this.boxes = g;
+    }
+    for (let j = 0; j < n; j++) {
+      // NaN sides (no box known on that axis) never reject
+      this.boxes[id * 2 * n + j] = boxLo[j] - pad >= -Infinity ? boxLo[j] - pad : -Infinity;
+      this.boxes[id * 2 * n + n + j] = boxHi[j] + pad <= Infinity ? boxHi[j] + pad : Infinity;
+    }
     const u0: number[] = [];
     const u1: number[] = [];
     let ext = 0;
@@ -114,18 +129,21 @@ export class GridLocator {
       this.usedLevels.push(L);
       this.usedLevels.sort((x, y) => x - y);
     }
-    this.dense[L] = undefined; // a frozen level is thawed: the map stays the truth
     const idx = first.slice();
     const single = span(L) === 1;
     const terms = single ? null : this.cellTerms(start, m, first, last, d, pad);
+    const rows = single ? null : this.separatingRows(terms!, start, m, first, last, pad);
     for (;;) {
       // a cell that one of the region's rows separates from it is left out
-      if (single || !this.separatedBy(terms!, start, m, idx, first, last, pad)) {
+      if (single || !this.separatedBy(terms!, rows!, start, m, idx, first, last, pad)) {
         let key = 0;
         for (let j = n - 1; j >= 0; j--) key = key * d + idx[j];
-        const list = cells.get(key);
-        if (list) list.push(id);
-        else cells.set(key, [id]);
+        const at = cells.get(key);
+        if (at >= 0) this.lists[at].push(id);
+        else {
+          cells.set(key, this.lists.length);
+          this.lists.push([id]);
+        }
       }
       let j = 0;
       while (j < n && idx[j] === last[j]) {
@@ -163,18 +181,55 @@ export class GridLocator {
     return out;
   }
 
-  /** True when a row of the region holds nowhere in grid cell idx: Σ_j of its `cellTerms` (in axis order, as if formed per cell) > b + pad. */
-  private separatedBy(terms: Float64Array, start: number, m: number, idx: readonly number[], first: readonly number[], last: readonly number[], pad: number): boolean {
+  /**
+   * The rows that may separate some cell of the region's range: a row whose sum of per-axis largest
+   * `cellTerms` (axis order) is ≤ b + pad separates no cell, since rounded addition is monotone and
+   * every cell's sum is formed in the same order from terms no larger. The rest, as indices; the
+   * first entry is moved to the front by `separatedBy` (the last row that separated a cell).
+   */
+  private separatingRows(terms: Float64Array, start: number, m: number, first: readonly number[], last: readonly number[], pad: number): Int32Array {
     const n = this.n;
     const w = terms.length / m;
+    const out = new Int32Array(m);
+    let k = 0;
     for (let i = 0; i < m; i++) {
+      let mx = 0;
+      let o = i * w;
+      for (let j = 0; j < n; j++) {
+        let t = terms[o];
+        for (let c = 1, e = last[j] - first[j]; c <= e; c++) if (terms[o + c] > t) t = terms[o + c];
+        mx += t;
+        o += last[j] - first[j] + 1;
+      }
+      if (mx > this.b[start + i] + pad) out[k++] = i;
+    }
+    return out.subarray(0, k);
+  }
+
+  /**
+   * True when a row of the region holds nowhere in grid cell idx: Σ_j of its `cellTerms` (in axis
+   * order, as if formed per cell) > b + pad, for one of `rows` (the only rows that can). Whether any
+   * row does is independent of the order they are tried in: the row that separated last is tried
+   * first (neighbouring cells are mostly cut off by the same row), by swapping it to the front.
+   */
+  private separatedBy(terms: Float64Array, rows: Int32Array, start: number, m: number, idx: readonly number[], first: readonly number[], last: readonly number[], pad: number): boolean {
+    const n = this.n;
+    const w = terms.length / m;
+    for (let q = 0; q < rows.length; q++) {
+      const i = rows[q];
       let mn = 0;
       let o = i * w;
       for (let j = 0; j < n; j++) {
         mn += terms[o + idx[j] - first[j]];
         o += last[j] - first[j] + 1;
       }
-      if (mn > this.b[start + i] + pad) return true;
+      if (mn > this.b[start + i] + pad) {
+        if (q > 0) {
+          rows[q] = rows[0];
+          rows[0] = i;
+        }
+        return true;
+      }
     }
     return false;
   }
@@ -201,6 +256,11 @@ export class GridLocator {
    * among them; only when none does, the region within `slack` with the least largest residual
    * (ties: lowest id). So a θ inside region A but within slack of a lower-numbered neighbour B gets
    * A's law, and the slack only catches points just outside every region (rounding on a facet).
+   *
+   * A region whose padded box misses θ cannot hold it exactly (its box holds it), so its rows are
+   * read only when no region holds θ exactly and the slack is positive (the least-residual rule
+   * needs every residual within the slack; the padded box is not a proof there, near a sharp
+   * corner): the answer is that of testing every listed region.
    */
   locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
     const n = this.n;
@@ -219,6 +279,9 @@ export class GridLocator {
     let near = -1;
     let nearV = Infinity;
     const levels = this.usedLevels;
+    const boxes = this.boxes;
+    const n2 = 2 * n;
+    let deferred = 0;
     for (let q = 0; q < levels.length; q++) {
       const L = levels[q];
       const d = this.cellsPerAxis[L];
@@ -227,24 +290,29 @@ export class GridLocator {
         const k = Math.floor(u[j] * d);
         key = key * d + (k < d ? k : d - 1);
       }
-      const dense = this.dense[L];
-      let ids: ArrayLike<number>;
-      let k0: number;
-      let k1: number;
-      if (dense) {
-        ids = dense.ids;
-        k0 = dense.start[key];
-        k1 = dense.start[key + 1];
-      } else {
-        const list = this.levels[L].get(key);
-        if (!list) continue;
-        ids = list;
-        k0 = 0;
-        k1 = list.length;
-      }
-      for (let k = k0; k < k1; k++) {
+      const at = this.levels[L].get(key);
+      if (at < 0) continue;
+      const ids = this.lists[at];
+      for (let k = 0; k < ids.length; k++) {
         const r = ids[k];
         if (exact >= 0 && r >= exact) break;
+        let outside = false;
+        const o = r * n2;
+        for (let j = 0; j < n; j++) {
+          const t = theta[j];
+          if (t < boxes[o + j] || t > boxes[o + n + j]) {
+            outside = true;
+            break;
+          }
+        }
+        if (outside) {
+          if (slack > 0) {
+            if (deferred === this.later.length) this.later.push(r);
+            else this.later[deferred] = r;
+            deferred++;
+          }
+          continue;
+        }
         const v = this.violation(r, theta, slack);
         if (v <= exactLimit) {
           exact = r;
@@ -261,43 +329,79 @@ export class GridLocator {
       this.lastViolation = exactV;
       return exact;
     }
+    for (let k = 0; k < deferred; k++) {
+      // no exact holder: the regions the box test passed over join the least-residual rule
+      const r = this.later[k];
+      const v = this.violation(r, theta, slack);
+      if (v <= slack && (v < nearV || (v === nearV && r < near))) {
+        near = r;
+        nearV = v;
+      }
+    }
     if (near >= 0) this.lastViolation = nearV;
     return near;
   }
 
-  /**
-   * Compact the levels whose full grid has at most 2^20 cells into flat arrays (cell → range of
-   * ids): a lookup is then two array reads instead of a hash lookup. For a locator that is done
-   * growing (a table read from file); adding after freezing thaws the level added to.
-   */
+  /** Kept for callers of a finished locator: the cell hashes are already flat typed arrays. */
   freeze(): this {
-    for (let L = 0; L <= this.maxLevel; L++) {
-      const map = this.levels[L];
-      const total = (2 ** L) ** this.n;
-      if (map.size === 0 || total > 1 << 20) continue;
-      const start = new Int32Array(total + 1);
-      let count = 0;
-      for (const list of map.values()) count += list.length;
-      const ids = new Int32Array(count);
-      const keys = [...map.keys()].sort((a, b) => a - b);
-      let at = 0;
-      let k = 0;
-      for (let c = 0; c < total; c++) {
-        start[c] = at;
-        if (k < keys.length && keys[k] === c) {
-          for (const r of map.get(c)!) ids[at++] = r;
-          k++;
-        }
-      }
-      start[total] = at;
-      this.dense[L] = { start, ids };
-    }
     return this;
   }
 
-  private dense: ({ start: Int32Array; ids: Int32Array } | undefined)[] = [];
-
   private unit = new Float64Array(64);
+  /** regions whose box test failed in the current `locate` (positive slack only) */
+  private later: number[] = [];
+}
+
+/**
+ * A hash from cell keys (integers below 2^52) to list indices (≥ 0), open addressing with linear
+ * probing in typed arrays: the grid's cell lookup without a `Map` of boxed double keys.
+ */
+class CellHash {
+  private keys = new Float64Array(64).fill(-1);
+  private vals = new Int32Array(64);
+  private mask = 63;
+  private used = 0;
+
+  private slot(key: number): number {
+    const lo = key >>> 0;
+    const hi = Math.floor(key / 4294967296) | 0;
+    let h = Math.imul(lo ^ Math.imul(hi, 0x9e3779b1), 0x85ebca6b);
+    h ^= h >>> 15;
+    h = Math.imul(h, 0xc2b2ae35);
+    h ^= h >>> 13;
+    return h & this.mask;
+  }
+
+  /** The list index stored for key, or −1. */
+  get(key: number): number {
+    const keys = this.keys;
+    for (let s = this.slot(key); ; s = (s + 1) & this.mask) {
+      const k = keys[s];
+      if (k === key) return this.vals[s];
+      if (k === -1) return -1;
+    }
+  }
+
+  /** Store value for a key not yet present. */
+  set(key: number, value: number): void {
+    if (2 * (this.used + 1) > this.keys.length) this.grow();
+    const keys = this.keys;
+    let s = this.slot(key);
+    while (keys[s] !== -1) s = (s + 1) & this.mask;
+    keys[s] = key;
+    this.vals[s] = value;
+    this.used++;
+  }
+
+  private grow(): void {
+    const oldK = this.keys;
+    const oldV = this.vals;
+    this.keys = new Float64Array(2 * oldK.length).fill(-1);
+    this.vals = new Int32Array(2 * oldK.length);
+    this.mask = this.keys.length - 1;
+    this.used = 0;
+    for (let s = 0; s < oldK.length; s++) if (oldK[s] !== -1) this.set(oldK[s], oldV[s]);
+  }
 }
 
 /**

@@ -21,7 +21,8 @@
  * each unfinished sub-box the regions meeting it and the keys already covered in it.
  */
 import { Worker } from 'node:worker_threads';
-import { addNeighbourCounts, beginJoin, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
+import { setFlagsFromString } from 'node:v8';
+import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
 import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { sumCauses } from '../mpqp/types.js';
@@ -62,6 +63,8 @@ export interface ExploreJob {
   /** seconds left of the time limit when the job starts */
   timeLimit: number | undefined;
   resume: ExplorationState | null;
+  /** when the job completes, build the closure guesses across its regions' facets too (`buildGuesses`, sent with `done`) */
+  guesses?: boolean;
 }
 
 /** A share of the canonical neighbours (main thread → worker; the answer is `number[][][]`). */
@@ -83,7 +86,7 @@ export type ExploreWorkerEvent =
 /** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
 export type ExploreWorkerMessage =
   | { type: 'batch'; job: number; events: ExploreWorkerEvent[] }
-  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork }
+  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork; guesses?: ReturnType<typeof buildGuesses> }
   | { type: 'pilot'; counts: PlaneCount[] }
   | { type: 'neighbours'; lists: number[][][]; lps: number; counts: NeighbourCounts };
 
@@ -101,6 +104,27 @@ export interface ThreadPool {
   setProblem(mpqp: MpqpProblem, options?: Pick<SolveOptions, 'lp' | 'lean'>): void;
   /** end every worker at once; resolves when they have exited (their heaps are freed then) */
   terminate(): Promise<void>;
+}
+
+/**
+ * V8 tuning set for a solve on 2 or more threads (`tuneJitForThreads`), before its workers start.
+ * Every isolate compiles the exploration's hot code on its own (~1.5 s of compiler time per isolate
+ * on boom-4d-n8, on V8's helper threads): with one worker that runs on the idle second core, with
+ * two workers on two cores it takes CPU from them. A smaller cumulative inlining budget (920 → 200
+ * bytecodes) makes each optimised compile cheaper, and a 4× interrupt budget (tier-up later, on
+ * fuller type feedback) makes fewer of them end in a deoptimisation and a compile again (buildRegion
+ * and facetRowsByLp were compiled 5–7 times each in one cold run). Measured (built CLI, --threads 2,
+ * alternated, CPU seconds of every thread of the process; load 8–11): boom-4d-n8 12.3/12.6/12.6 →
+ * 10.2/11.1/11.1 s, glider-2d-n40 9.4/8.6 → 8.3/7.3 s; the workers' own CPU unchanged, the helper
+ * threads' down by a third. Not set for one thread: there the worker's own CPU rose by ~0.3 s
+ * (boom-4d-n8), and the worker is the critical path. JIT flags change no result (same bytes).
+ */
+export const threadsV8Flags = ['--max-inlined-bytecode-size-cumulative=200', '--interrupt-budget=270336'] as const;
+
+/** Set `threadsV8Flags` when `threads` ≥ 2 (process-wide: call before the workers start, so their isolates read them). */
+export function tuneJitForThreads(threads: number): void {
+  if (threads < 2) return;
+  for (const f of threadsV8Flags) setFlagsFromString(f);
 }
 
 /** Start `threads` workers (≥ 1) for `exploreThreaded` and `canonicalThreaded`. */
@@ -181,6 +205,8 @@ export interface ThreadedExploration {
   snapshot(): { state: ExplorationState; subBoxes: SubBoxProgress };
   /** regions built so far by all sub-boxes, a region straddling a cut once per sub-box that built it */
   built(): number;
+  /** the closure guesses the finished sub-boxes built ahead (`ThreadedOptions.guesses`), for `JoinOptions.guesses`; empty when not asked for */
+  guesses(): GuessHints;
 }
 
 /** Options of `exploreThreaded`. */
@@ -201,6 +227,12 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
    * first, so the two are never held at once (peak memory)
    */
   endPool?: boolean;
+  /**
+   * each sub-box that completes also builds the canonical form's closure guesses across its
+   * regions' facets, in its warm worker (`buildGuesses`; `guesses()` gives them to
+   * `canonicalThreaded`): hints, the table is the same bytes with or without them
+   */
+  guesses?: boolean;
 }
 
 const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
@@ -336,6 +368,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const queue: number[] = [];
   for (let s = 0; s < M; s++) if (!finished[s]) queue.push(s);
   let built = 0;
+  const hints: GuessHints = { lean: !!options.lean, tried: new Set(), thin: new Map() };
   let lastReport = 0;
   let firstStop: PartitionStats['stopReason'] | null = null;
   let resolve!: (p: Partition) => void;
@@ -440,6 +473,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       maxRegions: options.maxRegions,
       timeLimit: options.timeLimit === undefined ? undefined : Math.max(0, options.timeLimit - elapsed),
       resume,
+      guesses: options.guesses,
     };
     worker.postMessage(job);
     return true;
@@ -480,6 +514,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
         } else if (msg.type === 'done') {
           running--;
           latest[msg.job] = null;
+          if (msg.guesses && msg.guesses.lean === hints.lean) {
+            for (const k of msg.guesses.tried) hints.tried.add(k);
+            for (const t of msg.guesses.thin) if (!hints.thin.has(t.key)) hints.thin.set(t.key, { region: t.region, box: t.box });
+          }
           if (msg.stats.complete) finished[msg.job] = { stats: msg.stats, work: msg.work };
           else {
             // a stopped sub-box keeps its counters (its regions and covered keys are already here)
@@ -529,5 +567,6 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     },
     snapshot,
     built: () => built,
+    guesses: () => hints,
   };
 }

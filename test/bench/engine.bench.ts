@@ -3,9 +3,10 @@
  * numbers, N = 2…12): regions, candidates, LPs, seconds, regions/s, and the per-region cost as a
  * multiple of one LP plus one KKT solve of the same size, both measured in this run.
  */
-import { readdirSync } from 'node:fs';
+import { existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import { join } from 'node:path';
-import { loadavg } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { buildMpqp, formulate, loadProblem, parseProblem, solvePartition, type MpqpProblem } from '../../src/index.js';
 import { chebyshevBall } from '../../src/lp/kernel.js';
 import { luSolve } from '../../src/linalg/dense.js';
@@ -102,6 +103,12 @@ function row(name: string, p: MpqpProblem): string {
 
 export async function run(): Promise<void> {
   console.log(`engine: warm timings (second solve of each problem), medians for the unit costs; load average ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);
+  console.log('throughput (issue 8: ≥ 5 000 regions per CPU second in 2-D, ≥ 2 000 in 4-D/5-D): warm in this process beside the cold CLI');
+  throughput('glider-2d-n40', 0, 5000);
+  throughput('boom-4d-n8', 0, 2000);
+  throughput('mixer-5d-n10', 3000, 2000);
+  throughput('boom-4d-n12', 0, 2000);
+  if (process.env.TESSERA_BENCH_ONLY === 'throughput') return;
   console.log('region-build proofs on/off, paired and alternated (median of 3):');
   proofsPaired('boom-4d-n8', 1500);
   proofsPaired('mixer-5d-n10', 1500);
@@ -178,5 +185,51 @@ function proofsPaired(name: string, limit: number): void {
   const cOff = med(cpu.off);
   console.log(
     `  ${name.padEnd(14)} ${regions} regions, ${counts}  proofs on: ${info.on}, ${(regions / on).toFixed(0)} regions/s (${(regions / cOn).toFixed(0)} per CPU s)  off: ${info.off}, ${(regions / off).toFixed(0)} regions/s (${(regions / cOff).toFixed(0)} per CPU s)  time off/on ${(off / on).toFixed(2)}, CPU ${(cOff / cOn).toFixed(2)}; load ${loadavg()[0].toFixed(1)}`,
+  );
+}
+
+/**
+ * Regions per CPU second on a scale fixture (the first `limit` regions when > 0): warm, the median
+ * of 3 solves in this process after a warm-up (CPU seconds of this process by process.cpuUsage,
+ * every thread of it: JIT and GC helpers count), beside the cold CLI (`solve --threads 1`, a fresh
+ * process: set-up, JIT warm-up, canonical form and writing included; CPU seconds user + sys by
+ * /usr/bin/time). On a shared machine the CPU second is the fair unit; the wall clock is printed too.
+ */
+function throughput(name: string, limit: number, target: number): void {
+  const file = join(root, 'test', 'fixtures', 'scale', `${name}.json`);
+  const mpqp = buildMpqp(loadProblem(file));
+  const opts = limit > 0 ? { maxRegions: limit } : {};
+  solvePartition(mpqp, opts); // warm-up
+  const cpu: number[] = [];
+  const wall: number[] = [];
+  let regions = 0;
+  for (let r = 0; r < 3; r++) {
+    const t0 = performance.now();
+    const c0 = process.cpuUsage();
+    regions = solvePartition(mpqp, opts).stats.regions;
+    const c = process.cpuUsage(c0);
+    wall.push(regions / ((performance.now() - t0) / 1000));
+    cpu.push(regions / ((c.user + c.system) / 1e6));
+  }
+  const med = (x: number[]) => [...x].sort((a, b) => a - b)[Math.floor(x.length / 2)];
+  let cold = 'cold CLI not measured (/usr/bin/time missing)';
+  if (existsSync('/usr/bin/time')) {
+    const cli = join(root, 'dist', 'src', 'cli', 'main.js');
+    const out = mkdtempSync(join(tmpdir(), 'tessera-engine-'));
+    try {
+      const args = [cli, 'solve', file, '--threads', '1', '-o', join(out, 't.json'), ...(limit > 0 ? ['--max-regions', String(limit)] : [])];
+      const r = spawnSync('/usr/bin/time', ['-f', 'TIME %e %U %S', process.execPath, ...args], { encoding: 'utf8' });
+      const t = /TIME ([\d.]+) ([\d.]+) ([\d.]+)/.exec(r.stderr ?? '');
+      const m = /(\d+) regions, /.exec(r.stdout ?? '');
+      if (t && m) {
+        const n = Number(m[1]);
+        cold = `cold CLI (--threads 1, whole command) ${(n / (Number(t[2]) + Number(t[3]))).toFixed(0)} per CPU s, ${(n / Number(t[1])).toFixed(0)} regions/s wall`;
+      } else cold = `cold CLI not measured (exit ${r.status})`;
+    } finally {
+      rmSync(out, { recursive: true, force: true });
+    }
+  }
+  console.log(
+    `  ${name.padEnd(14)} ${regions} regions: warm ${med(cpu).toFixed(0)} per CPU s (${cpu.map((x) => x.toFixed(0)).join(' ')}), ${med(wall).toFixed(0)} regions/s wall; ${cold}; target ≥ ${target} per CPU s: ${med(cpu) >= target ? 'met' : 'NOT met'}; load ${loadavg()[0].toFixed(1)}`,
   );
 }

@@ -106,6 +106,7 @@ const pts = (name: string, text: string) => {
 const PTS_UNKNOWN = pts('unknown.csv', 'omega,curent\n0.1,0.2\n');
 const PTS_TWICE = pts('twice.csv', 'omega,omega\n0.1,0.2\n');
 const PTS_MISSING = pts('missing.csv', 'current\n0.1\n');
+const NOT_INDEX = pts('not.index', 'omega,current\n0.1,0.2\n');
 const INIT_OUT = pts('init-outside.csv', '0.5,0.1\n5,0.1\n');
 const PART1 = join(cdir, 'motor.part-1-of-2.json');
 const CP_OTHER = pts('other.checkpoint.json', JSON.stringify({ format: 'tessera-checkpoint', version: 1, problemHash: 'sha256:00', part: null, state: { regions: [], boxes: [], done: [] } }));
@@ -148,6 +149,9 @@ const cliCases: CliCase[] = [
   { title: 'a missing output directory is created, and said so', args: ['map', T, '-o', 'new/dir/m.svg'], code: 0, stderr: '', stdout: /^tessera: note: created the directory new\/dir\n[\s\S]*written new\/dir\/m\.svg/ },
   // threads, parts, join and checkpoints
   { title: 'solve --threads 0', args: ['solve', P, '--threads', '0'], code: 2, stderr: usage('--threads: expected a positive integer, got "0"') },
+  { title: 'evaluate --index with another extension', args: ['evaluate', T, '--at', '0,0', '--index', 'motor.json'], code: 2, stderr: `tessera: motor.json: --index: this keeps a tessera-index file; give a file name ending in .index\n` },
+  { title: 'evaluate --index naming a file that is not an index (never overwritten)', args: ['evaluate', T, '--at', '0,0', '--index', NOT_INDEX], code: 2, stderr: `tessera: ${NOT_INDEX}: --index: not a tessera-index file (does not start with "tessera-index 1"); name a new file or an index file written by tessera evaluate\n` },
+  { title: 'evaluate --index in a directory that is a file', args: ['evaluate', T, '--at', '0,0', '--index', join(AFILE, 'x.index')], code: 2, stderr: `tessera: ${join(AFILE, 'x.index')}: --index: ${AFILE} is not a directory\n` },
   { title: 'evaluate --threads 0', args: ['evaluate', T, '--at', '0,0', '--threads', '0'], code: 2, stderr: usage('--threads: expected a positive integer, got "0"') },
   { title: 'solve --part outside 1..k', args: ['solve', P, '--part', '3/2'], code: 2, stderr: usage('--part: expected i/k with 1 ≤ i ≤ k (the i-th of k sub-boxes), got "3/2"') },
   { title: 'solve --resume from a checkpoint of another problem', args: ['solve', P, '--resume', CP_OTHER, '-o', 'r.table.json'], code: 2, stderr: `tessera: ${CP_OTHER}: problemHash: the checkpoint belongs to another problem than ${P}\n`, absent: [join(cdir, 'r.table.json')] },

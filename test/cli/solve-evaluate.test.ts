@@ -330,6 +330,70 @@ describe('tessera evaluate', () => {
     expect(checked).toBeGreaterThan(20);
   }, 120000);
 
+  // --index FILE keeps the k-d tree: written on the first run, read on the next, rebuilt when it is
+  // another table's (or cut short), refused when the file is not an index. References: the bytes of
+  // the run without --index (the option must change nothing) and quadprog (qpReference) for u(0).
+  it('--index: written, then read back (no note) with the same bytes as without it; --json too; another table\'s or a cut index is rebuilt; a non-index file is refused and left as it was; u(0) = quadprog', async () => {
+    const idx = join(dir, 'axis.index');
+    const first = await run(['evaluate', tablePath, '--points', pointsFile, '--index', idx]);
+    expect(first.status, first.stderr).toBe(0);
+    expect(first.stderr).toContain(`tessera: index ${idx} written`);
+    expect(first.stdout).toBe(csv.stdout);
+    expect(readFileSync(idx).subarray(0, 16).toString('latin1')).toBe('tessera-index 1\n');
+    const runs = await runAll({
+      again: ['evaluate', tablePath, '--points', pointsFile, '--index', idx, '--times'],
+      // the same problem solved twice is the same bytes, so its index is this one
+      sameBytes: ['evaluate', tablePath2, '--points', pointsFile, '--index', idx],
+      json: ['evaluate', tablePath, '--points', pointsFile, '--index', idx, '--json'],
+      clamp: ['evaluate', tablePath, '--points', pointsFile, '--clamp'],
+      clampIdx: ['evaluate', tablePath, '--points', pointsFile, '--clamp', '--index', idx],
+    });
+    for (const k of Object.keys(runs)) expect(runs[k].status, `${k}: ${runs[k].stderr}`).toBe(0);
+    expect(runs.again.stdout).toBe(csv.stdout);
+    expect(runs.again.stderr).not.toContain('tessera: index');
+    expect(runs.again.stderr).toMatch(/tessera: times .*index [\d.]+\/[\d.]+, locate/);
+    expect(runs.sameBytes.stdout).toBe(csv.stdout);
+    expect(runs.sameBytes.stderr).not.toContain('tessera: index');
+    expect(runs.json.stdout).toBe(ev.json.stdout);
+    expect(runs.clampIdx.stdout).toBe(runs.clamp.stdout);
+    // u(0) of the indexed run against quadprog at every point some region holds
+    const rows = runs.again.stdout.trim().split('\n').slice(1).map((l) => l.split(','));
+    let checked = 0;
+    for (const cells of rows) {
+      if (cells[2] === '-1') continue;
+      const theta = [Number(cells[0]), Number(cells[1])];
+      const ref = qpReference(axis, theta);
+      expect(ref.feasible).toBe(true);
+      expect(Math.abs(Number(cells[3]) - ref.z[0]), `θ=${theta}`).toBeLessThanOrEqual(1e-6 * (1 + Math.abs(ref.z[0])));
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(40);
+    // an index of another table is rebuilt for this one; an index cut short is rebuilt
+    const other = join(dir, 'capped.index');
+    const capped = await run(['evaluate', cappedPath, '--at', '0,0', '--index', other, '-q']);
+    expect(capped.status, capped.stderr).toBe(0);
+    expect(capped.stderr).toBe('');
+    const swapped = await run(['evaluate', tablePath, '--points', pointsFile, '--index', other]);
+    expect(swapped.status, swapped.stderr).toBe(0);
+    expect(swapped.stderr).toContain(`tessera: index ${other} rebuilt (it was the index of another table file)`);
+    expect(swapped.stdout).toBe(csv.stdout);
+    expect(readFileSync(other)).toEqual(readFileSync(idx));
+    const cut = join(dir, 'cut.index');
+    writeFileSync(cut, readFileSync(idx).subarray(0, readFileSync(idx).length - 100));
+    const fromCut = await run(['evaluate', tablePath, '--points', pointsFile, '--index', cut]);
+    expect(fromCut.status, fromCut.stderr).toBe(0);
+    expect(fromCut.stderr).toMatch(/tessera: index .*cut\.index rebuilt \(array "\w+" runs past the end of the file \(cut short\?\)\)/);
+    expect(fromCut.stdout).toBe(csv.stdout);
+    // a file that is not an index: exit 2, one line, the file untouched
+    const notIndex = join(dir, 'points-copy.index');
+    writeFileSync(notIndex, csvBody);
+    const refused = await run(['evaluate', tablePath, '--points', pointsFile, '--index', notIndex]);
+    expect(refused.status).toBe(2);
+    expect(oneLine(refused.stderr)).toHaveLength(1);
+    expect(refused.stdout).toBe('');
+    expect(readFileSync(notIndex, 'utf8')).toBe(csvBody);
+  }, 120000);
+
   it('a header line of names in the points file is accepted and changes nothing', () => {
     const h = ev.headed;
     expect(h.status).toBe(0);

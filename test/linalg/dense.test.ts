@@ -118,6 +118,79 @@ describe('spdInverse = mathjs inv, exactly symmetric', () => {
   }
 });
 
+/**
+ * The textbook Cholesky inverse, one column at a time (common practice: L y = e_j by forward
+ * substitution, then Lᵀ x = y backward, each entry one sum in index order), written out here
+ * literally. spdInverse solves four columns side by side and choleskyInPlace two rows side by side;
+ * the sums and their order are the same, so the bits must be too (regions are compared byte for byte
+ * across runs). Sizes up to 45 (M_AA of a 40-move horizon) cover every remainder of the groups.
+ */
+function textbookInverse(A: Float64Array, n: number): Float64Array | null {
+  const l = Float64Array.from(A);
+  let scale = 0;
+  for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(l[i * n + i]));
+  const thr = tol.pd * (1 + scale);
+  for (let j = 0; j < n; j++) {
+    let d = l[j * n + j];
+    for (let k = 0; k < j; k++) d -= l[j * n + k] * l[j * n + k];
+    if (!(d > thr)) return null;
+    const ljj = Math.sqrt(d);
+    l[j * n + j] = ljj;
+    for (let i = j + 1; i < n; i++) {
+      let s = l[i * n + j];
+      for (let k = 0; k < j; k++) s -= l[i * n + k] * l[j * n + k];
+      l[i * n + j] = s / ljj;
+    }
+  }
+  const inv = new Float64Array(n * n);
+  const col = new Float64Array(n);
+  for (let j = 0; j < n; j++) {
+    col.fill(0);
+    col[j] = 1 / l[j * n + j];
+    for (let i = j + 1; i < n; i++) {
+      let s = 0;
+      for (let k = j; k < i; k++) s -= l[i * n + k] * col[k];
+      col[i] = s / l[i * n + i];
+    }
+    for (let i = n - 1; i >= 0; i--) {
+      let s = col[i];
+      for (let k = i + 1; k < n; k++) s -= l[k * n + i] * col[k];
+      col[i] = s / l[i * n + i];
+    }
+    for (let i = 0; i < n; i++) inv[i * n + j] = col[i];
+  }
+  for (let i = 0; i < n; i++)
+    for (let j = 0; j < i; j++) {
+      const v = 0.5 * (inv[i * n + j] + inv[j * n + i]);
+      inv[i * n + j] = v;
+      inv[j * n + i] = v;
+    }
+  return inv;
+}
+
+describe('spdInverse, four columns side by side: mathjs inv within round-off, the textbook column order bit for bit', () => {
+  for (const n of [1, 2, 3, 4, 5, 6, 7, 8, 9, 13, 17, 22, 31, 40, 45]) {
+    it(`n=${n}`, () => {
+      const r = rng(7000 + n);
+      const A = randSpd(r, n, 0.8);
+      const a = fromRows(A, n);
+      const scratch = { l: new Float64Array(0), inv: new Float64Array(0), col: new Float64Array(0) };
+      const got = spdInverse(a, n, tol.pd, scratch)!;
+      const ref = asRows(math.inv(A));
+      const scale = 1 + Math.max(...ref.map((row) => maxAbs(row)));
+      expect(maxDiff(toRows(got, n, n), ref)).toBeLessThanOrEqual(1e-8 * scale * n);
+      const book = textbookInverse(a, n)!;
+      for (let q = 0; q < n * n; q++) expect(Object.is(got[q], book[q])).toBe(true);
+      // the scratch reused for a smaller matrix afterwards gives that matrix's bits too
+      const m = Math.max(1, n - 3);
+      const b = fromRows(randSpd(r, m, 0.8), m);
+      const again = spdInverse(b, m, tol.pd, scratch)!;
+      const bookB = textbookInverse(b, m)!;
+      for (let q = 0; q < m * m; q++) expect(Object.is(again[q], bookB[q])).toBe(true);
+    });
+  }
+});
+
 describe('luSolve = mathjs lusolve on general (non-symmetric) systems', () => {
   for (const n of sizes) {
     it(`n=${n}`, () => {

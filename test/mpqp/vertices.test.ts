@@ -83,6 +83,46 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
       expect(sets[0].length).toBeGreaterThan(n4);
     }
   });
+  it('the ordered face hash (the default from 33 pairs up to the hashed search) lists the all-pairs vertices in the all-pairs order, bit for bit (random cuts of the 4- and 5-cube)', () => {
+    // the order matters: region vertex lists feed facet lists and ties of later searches, and tables
+    // are compared byte for byte; every vertex is also checked against the rows (elementary geometry)
+    const r = rng(123);
+    for (const nd of [4, 5])
+      for (let trial = 0; trial < 12; trial++) {
+        const A: number[] = [];
+        const b: number[] = [];
+        for (let j = 0; j < nd; j++) {
+          for (let k = 0; k < nd; k++) A.push(k === j ? 1 : 0);
+          b.push(1);
+          for (let k = 0; k < nd; k++) A.push(k === j ? -1 : 0);
+          b.push(1);
+        }
+        const cuts = 14;
+        for (let i = 0; i < cuts; i++) {
+          const a = Array.from({ length: nd }, () => 2 * r() - 1);
+          const nn = Math.hypot(...a);
+          A.push(...a.map((v) => v / nn));
+          b.push(0.2 + 0.7 * r());
+        }
+        const runs = (['ordered', false] as const).map((hash) => {
+          const V = boxVertices(nd, Array(nd).fill(-1), Array(nd).fill(1), 0);
+          for (let i = 0; i < cuts; i++) expect(cutVertices(V, F(A), F(b), 2 * nd + i, 1e-10, 4000, hash)).toBe(true);
+          for (const x of V.x)
+            for (let q = 0; q < b.length; q++) {
+              let t = -b[q];
+              for (let j = 0; j < nd; j++) t += A[q * nd + j] * x[j];
+              expect(t).toBeLessThanOrEqual(1e-9);
+            }
+          return V;
+        });
+        expect(runs[0].x.length).toBe(runs[1].x.length);
+        expect(runs[0].x.length).toBeGreaterThan(nd);
+        runs[0].x.forEach((x, v) => {
+          x.forEach((t, j) => expect(Object.is(t, runs[1].x[v][j])).toBe(true));
+          expect(runs[0].tight[v]).toEqual(runs[1].tight[v]);
+        });
+      }
+  });
   it('a cut past the vertex limit gives up and leaves the set as it was', () => {
     const { A, b } = box();
     const s = 1 / Math.sqrt(3);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
-import { BoxIndex } from '../../src/table/boxindex.js';
+import { BoxIndex, indexFromBytes, indexToBytes } from '../../src/table/boxindex.js';
 import { boundingBoxByLp, regionBoundingBox, tableLocator } from '../../src/table/locator.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
 import { loadProblem, solveProblem } from '../../src/index.js';
@@ -99,6 +99,35 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
       const pts = probePoints(t, 1500, 7 * n);
       check(t, loc, pts, 'exact-first');
       check(t, new BoxIndex(t.regions, boxesOf(t), t.box.lower, t.box.upper, { rule: 'first' }), pts, 'first');
+    }
+  });
+
+  it('index files: the bytes read back answer as the literal rule (3-D and 5-D, locate and locateAt); damaged or foreign bytes are reported, not read', () => {
+    for (const [n, planes] of [
+      [3, 9],
+      [5, 6],
+    ] as const) {
+      const t = arrangementTable({ lower: Array(n).fill(-1), upper: Array(n).fill(1), planes, seed: 40 + n });
+      const built = tableLocator(t.regions, t.box.lower, t.box.upper);
+      const bytes = indexToBytes(built, { table: 'sha256:test', n });
+      const read = indexFromBytes(bytes);
+      if ('problem' in read) throw new Error(read.detail);
+      expect(read.key).toEqual({ table: 'sha256:test', n });
+      expect(read.index.size).toBe(t.regions.length);
+      expect(read.index.stats).toEqual(built.stats);
+      const pts = probePoints(t, 1500, 11 * n);
+      check(t, read.index, pts, 'exact-first');
+      const packed = Float64Array.from(pts.flat());
+      pts.forEach((p, k) => expect(read.index.locateAt(packed, k * n, 1e-8, false), `θ=${p}`).toBe(reference(t, p, 1e-8, 'exact-first')));
+      // written again from what was read: the same bytes
+      expect(indexToBytes(read.index, { table: 'sha256:test', n })).toEqual(bytes);
+      const cut = indexFromBytes(bytes.subarray(0, bytes.length - 9));
+      expect('problem' in cut && cut.problem).toBe('damaged');
+      const foreign = indexFromBytes(new TextEncoder().encode('{"format": "tessera-table"}\n'));
+      expect('problem' in foreign && foreign.problem).toBe('tag');
+      const later = bytes.slice();
+      later[14] = 50; // "tessera-index 2"
+      expect('problem' in indexFromBytes(later) && (indexFromBytes(later) as { problem: string }).problem).toBe('version');
     }
   });
 

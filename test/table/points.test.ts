@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { evaluateCsvBytes, evaluateCsvChunks, evaluationCsv, NumberText, parsePointsCsv, parsePointsFlat } from '../../src/table/points.js';
+import { evaluateCsvBytes, evaluateCsvChunks, evaluationCsv, NumberText, parsePointsCsv, parsePointsFlat, SCAN_BELOW_POINTS } from '../../src/table/points.js';
 import type { TableFile } from '../../src/table/format.js';
 import { qpReference } from '../helpers/reference.js';
 import { rng, root, solved } from '../helpers/solved.js';
@@ -339,6 +339,34 @@ describe('evaluateCsvChunks (the CSV path of tessera evaluate)', () => {
     expect(inRegion).toBeGreaterThan(800);
     // and the same bytes as the per-point path of the library
     expect(chunks.join('')).toBe(evaluationCsv(table, [...parsePointsCsv(text, 'p.csv', table.thetaNames), ...at]));
+  });
+
+  it(`fewer than ${SCAN_BELOW_POINTS} points (located by a scan, no tree built): region = the literal rule, u(0) = quadprog, the lines of the tree path`, () => {
+    const { table, mpqp } = solved(file);
+    expect(table.regions.length).toBeGreaterThan(32);
+    const rnd = rng(91);
+    const n = table.dims.ntheta;
+    const rows: string[] = [];
+    for (let k = 0; k < SCAN_BELOW_POINTS; k++) rows.push(Array.from({ length: n }, (_, j) => String(table.box.lower[j] + (1.1 * rnd() - 0.05) * (table.box.upper[j] - table.box.lower[j]))).join(','));
+    for (const r of table.regions.slice(0, 200)) rows[rows.length - 1 - (r.b.length % 400)] = r.chebyshev.center.join(',');
+    const few = rows.slice(0, SCAN_BELOW_POINTS - 1).join('\n');
+    const all = rows.join('\n');
+    const scanned = [...evaluateCsvChunks(table, few, parsePointsFlat(few, 'p.csv', table.thetaNames))].join('').split('\n');
+    const indexed = [...evaluateCsvChunks(table, all, parsePointsFlat(all, 'p.csv', table.thetaNames))].join('').split('\n');
+    expect(scanned.length).toBe(SCAN_BELOW_POINTS + 1);
+    expect(scanned.slice(0, -1)).toEqual(indexed.slice(0, SCAN_BELOW_POINTS));
+    let inRegion = 0;
+    scanned.slice(1, -1).forEach((line, k) => {
+      const cells = line.split(',');
+      const th = rows[k].split(',').map(Number);
+      expect(Number(cells[n]), `θ = ${th}`).toBe(literalLocate(table, th));
+      if (cells[n] === '-1') return;
+      const ref = qpReference(mpqp, th);
+      if (!ref.feasible) return;
+      inRegion++;
+      cells.slice(n + 1).forEach((x, i) => expect(Math.abs(Number(x) - ref.z[i])).toBeLessThan(1e-6 * Math.max(1, Math.abs(ref.z[i]))));
+    });
+    expect(inRegion).toBeGreaterThan(500);
   });
 
   it('--clamp: u(0) = quadprog saturated to the input limits; --points and --at together through the CLI', async () => {

@@ -222,60 +222,90 @@ export const FLOAT_TREE_REJECTED = 'descent not proven safe in float (no side ov
 /** Candidates whose worst case is within this factor of the least worst case compete on their mean operations. */
 export const WORST_CASE_FACTOR = 1.5;
 
-/** Build every structure (or the given ones) and measure it with the target's cost report. */
-export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, precision: string, kinds: readonly SearchKind[], options: LocatorOptions = {}): Candidate[] {
-  const out: Candidate[] = [];
+/**
+ * Tables whose region data (regionDataBytes) pass this many bytes let each candidate's build go as
+ * soon as it is measured, and the chosen one is built again (builds are deterministic: the same
+ * arrays). Holding every candidate's build and locator until the pick took the 114 379-region 3-D
+ * channel-bank table's default float emit to 2.43 GB (one build at a time: see DEVELOPERS.md).
+ */
+export const RELEASE_BUILDS_ABOVE_BYTES = 8 * 2 ** 20;
+
+/** Options of measureCandidates. */
+export interface MeasureOptions extends LocatorOptions {
+  /** let each build and locator go once measured (Candidate.build and .locator null); default: above RELEASE_BUILDS_ABOVE_BYTES of region data */
+  releaseBuilds?: boolean;
+}
+
+/** Measure one structure: build it (with the cost model's budgets), cost it and time its seeded points. */
+function measureOne<B>(table: TableFile, target: EmitTarget<B>, precision: string, search: SearchKind, options: LocatorOptions, profile: boolean): Candidate {
+  const t0 = Date.now();
   const dataBytes = regionDataBytes(table);
+  let locator: Locator | null = null;
+  // the plain tree's descent has no side overlap, so a float build could never take it: not built
+  // (its give-up over the budget still took 21.5 s of the locate bench's 6-D table, loaded)
+  if (search === 'tree' && precision === 'float')
+    return { search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: FLOAT_TREE_REJECTED, buildSeconds: 0, meanOps: null, meanLatency: null, build: null };
+  try {
+    // the plain tree is abandoned once its node arrays alone would pass the budget, or (float and
+    // double builds) as soon as its finished arrays are sure to: their smallest size from what is
+    // built and pending (TreeOptions.giveUpBytes) against an upper bound of the region data
+    const tree =
+      search === 'tree'
+        ? {
+            ...options.tree,
+            maxNodes: options.tree?.maxNodes ?? Math.ceil((LOCATION_BUDGET * dataBytes) / (4 * (table.dims.ntheta + 1) + 4)),
+            // split candidates thinned to CANDIDATE_NODE_BUDGET side tests per node, as the capped tree's
+            nodeBudget: options.tree?.nodeBudget ?? CANDIDATE_NODE_BUDGET,
+            giveUpBytes: options.tree?.giveUpBytes ?? (precision === 'float' || precision === 'double' ? LOCATION_BUDGET * regionDataUpper(table, precision) : undefined),
+          }
+        : options.tree;
+    locator = buildLocator(table, search, { ...options, tree });
+  } catch (e) {
+    if (!(e instanceof TreeTooLargeError)) throw e;
+    return { search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: e.reason, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, meanLatency: null, build: null };
+  }
+  if (search === 'grid' && !locator)
+    return { search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null, meanLatency: null, build: null };
+  const build = target.build(table, precision, search, locator, options.targetOptions);
+  const cost = target.cost(build);
+  const { location, regions } = splitBytes(cost, precision);
+  const floatSafe = search !== 'tree';
+  let rejected: string | null = null;
+  if (location > LOCATION_BUDGET * regions) rejected = `location arrays ${location} B > ${LOCATION_BUDGET} x region data ${regions} B`;
+  else if (precision === 'float' && !floatSafe) rejected = FLOAT_TREE_REJECTED;
+  const ar = build as unknown as EmitArrays;
+  const prof = profile && (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanProfile(ar, table.box) : null;
+  const meanOps = prof ? prof.operations : null;
+  const latency = prof ? meanLatency(prof, table.dims.ntheta) : null;
+  return { search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps, meanLatency: latency, build };
+}
+
+/** Build every structure (or the given ones) and measure it with the target's cost report. */
+export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, precision: string, kinds: readonly SearchKind[], options: MeasureOptions = {}): Candidate[] {
+  const out: Candidate[] = [];
+  const release = options.releaseBuilds ?? regionDataBytes(table) > RELEASE_BUILDS_ABOVE_BYTES;
   // broad is the capped tree with subtrees collapsed: built once when both are measured
   let cappedBuilt: SearchTree | undefined;
   for (const search of kinds) {
-    const t0 = Date.now();
-    let locator: Locator | null = null;
-    // the plain tree's descent has no side overlap, so a float build could never take it: not built
-    // (its give-up over the budget still took 21.5 s of the locate bench's 6-D table, loaded)
-    if (search === 'tree' && precision === 'float') {
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: FLOAT_TREE_REJECTED, buildSeconds: 0, meanOps: null, meanLatency: null, build: null });
-      continue;
+    const c = measureOne(table, target, precision, search, { ...options, capped: search === 'broad' ? cappedBuilt : undefined }, true);
+    if (search === 'capped' && c.locator) cappedBuilt = c.locator as SearchTree;
+    if (release) {
+      c.build = null;
+      c.locator = null;
     }
-    try {
-      // the plain tree is abandoned once its node arrays alone would pass the budget, or (float and
-      // double builds) as soon as its finished arrays are sure to: their smallest size from what is
-      // built and pending (TreeOptions.giveUpBytes) against an upper bound of the region data
-      const tree =
-        search === 'tree'
-          ? {
-              ...options.tree,
-              maxNodes: options.tree?.maxNodes ?? Math.ceil((LOCATION_BUDGET * dataBytes) / (4 * (table.dims.ntheta + 1) + 4)),
-              // split candidates thinned to CANDIDATE_NODE_BUDGET side tests per node, as the capped tree's
-              nodeBudget: options.tree?.nodeBudget ?? CANDIDATE_NODE_BUDGET,
-              giveUpBytes: options.tree?.giveUpBytes ?? (precision === 'float' || precision === 'double' ? LOCATION_BUDGET * regionDataUpper(table, precision) : undefined),
-            }
-          : options.tree;
-      locator = buildLocator(table, search, { ...options, tree, capped: search === 'broad' ? cappedBuilt : undefined });
-      if (search === 'capped' && locator) cappedBuilt = locator as SearchTree;
-    } catch (e) {
-      if (!(e instanceof TreeTooLargeError)) throw e;
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: e.reason, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, meanLatency: null, build: null });
-      continue;
-    }
-    if (search === 'grid' && !locator) {
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null, meanLatency: null, build: null });
-      continue;
-    }
-    const build = target.build(table, precision, search, locator, options.targetOptions);
-    const cost = target.cost(build);
-    const { location, regions } = splitBytes(cost, precision);
-    const floatSafe = search !== 'tree';
-    let rejected: string | null = null;
-    if (location > LOCATION_BUDGET * regions) rejected = `location arrays ${location} B > ${LOCATION_BUDGET} x region data ${regions} B`;
-    else if (precision === 'float' && !floatSafe) rejected = FLOAT_TREE_REJECTED;
-    const ar = build as unknown as EmitArrays;
-    const profile = (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanProfile(ar, table.box) : null;
-    const meanOps = profile ? profile.operations : null;
-    const latency = profile ? meanLatency(profile, table.dims.ntheta) : null;
-    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps, meanLatency: latency, build });
+    out.push(c);
   }
   return out;
+}
+
+/**
+ * The build and locator of a candidate measured with releaseBuilds, made again with the options
+ * measureCandidates had (the same arrays: every builder is deterministic; `broad` builds its capped
+ * tree anew).
+ */
+export function rebuildCandidate<B>(table: TableFile, target: EmitTarget<B>, precision: string, search: SearchKind, options: LocatorOptions = {}): { build: B | null; locator: Locator | null } {
+  const c = measureOne(table, target, precision, search, { ...options, capped: undefined }, false);
+  return { build: c.build as B | null, locator: c.locator };
 }
 
 /** Worst-case operations of one evaluation: multiply-adds plus comparisons. */

@@ -10,7 +10,7 @@ import { tableChunks } from '../table/table.js';
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, TREE_FORMAT, TREE_VERSION, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { SEARCH_KINDS, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
-import { buildLocator, measureCandidates, pickCandidate, type Candidate, type LocatorOptions } from './choose.js';
+import { buildLocator, measureCandidates, pickCandidate, rebuildCandidate, type Candidate, type LocatorOptions, type MeasureOptions } from './choose.js';
 import { findTarget, targetLanguages, targetPrecisions } from './targets/index.js';
 import { fixedPlaneMargin } from './fixed.js';
 import type { EmitTarget, TargetCost, TargetFile } from './targets/target.js';
@@ -39,7 +39,7 @@ export interface EmitOptions<P extends string = Precision> {
   treeOptions?: TreeOptions;
   /** reuse a locator built before for a capped or box-tree search (must match the table) */
   locator?: Locator;
-  locatorOptions?: LocatorOptions;
+  locatorOptions?: MeasureOptions;
   /** region count before a merge, noted in the header */
   mergedFrom?: number;
   /** fixed point: θ fraction bits per component instead of the ones chosen from the box */
@@ -97,18 +97,27 @@ export function emit<B = unknown>(table: TableFile, opts: EmitOptions<string>): 
   let searchReason: string[];
   let built: B | null = null;
   if (opts.search === 'auto') {
-    candidates = measureCandidates(table, target, opts.precision, SEARCH_KINDS.filter((k) => supported.includes(k)), {
+    const measure: MeasureOptions = {
       ...opts.locatorOptions,
       tree: { ...opts.treeOptions, ...opts.locatorOptions?.tree },
       tableHash: hash,
       targetOptions: { thetaFrac: opts.thetaFrac, clamp: opts.clamp },
-    });
+    };
+    candidates = measureCandidates(table, target, opts.precision, SEARCH_KINDS.filter((k) => supported.includes(k)), measure);
     const pick = pickCandidate(candidates);
     search = pick.chosen.search;
     locator = pick.chosen.locator;
     searchReason = pick.reason;
     // the build measured by the cost model, made with the same options as below (no second build)
     built = (pick.chosen.build as B | null) ?? null;
+    // a large table's candidates were let go once measured (releaseBuilds): the chosen one is built again
+    if (!built && pick.chosen.cost) {
+      const again = rebuildCandidate(table, target, opts.precision, search, measure);
+      built = again.build;
+      locator = again.locator;
+      pick.chosen.locator = locator;
+      pick.chosen.build = built;
+    }
     // the other structures' builds and locators are not read again (the report keeps their figures):
     // let them go before the files are printed (114 379-region table, float auto: peak 2.60 GB with them held)
     for (const c of candidates)

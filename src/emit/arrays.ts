@@ -10,7 +10,7 @@ import { leafDepths, type SearchTree } from '../partition/tree.js';
 import { regionBounds, type BoxTree } from '../partition/boxtree.js';
 import { clampComparisons } from '../table/clamp.js';
 import { seededRandom } from './sample.js';
-import { gridCell, type GridIndex } from './grid.js';
+import { gridCell, gridSureCells, type GridIndex } from './grid.js';
 
 export type Precision = 'float' | 'double';
 /**
@@ -114,6 +114,12 @@ export interface SearchIndex {
   root: number;
   /** loop bound of the tree descent: the worst depth */
   maxDepth: number;
+  /**
+   * grid, float builds: per cell 1 when every θ the generated code maps into the cell lies deep inside
+   * the cell's first candidate (gridSureCells), so that region is the answer without a test; absent or
+   * empty otherwise
+   */
+  leafSure?: number[];
 }
 
 /** The index arrays of a build: copied from the tree for tree search, empty (root −1, depth 0) otherwise. */
@@ -314,6 +320,9 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     }
   }
   orderCandidates(out, table.box);
+  // a float grid's cells that lie deep inside their first candidate (after the ordering: the region
+  // most often found there) skip the region test
+  if (tree.format === 'tessera-grid' && out.bestFit) out.leafSure = gridSureCells(table, out, tree);
   return out;
 }
 
@@ -400,6 +409,8 @@ export function evaluateArrays(ar: EmitArrays, thetaIn: ArrayLike<number>): Arra
   if (ar.search === 'sequential') return scan(ar.regionCount, (k) => k);
   const leaf = descend(ar, theta, dot);
   if (leaf < 0) return { region: -1, u: null };
+  // a grid cell deep inside its first candidate: that region without a test (gridSureCells)
+  if (ar.leafSure?.[leaf]) return { region: ar.leafRegion[ar.leafStart[leaf]], u: law(ar.leafRegion[ar.leafStart[leaf]]) };
   return scan(ar.leafStart[leaf + 1] - ar.leafStart[leaf], (k) => ar.leafRegion[ar.leafStart[leaf] + k]);
 }
 
@@ -495,7 +506,7 @@ export function planeDescentTests(depth: number, levels = PLANE_DESCENT_LEVELS):
  */
 export function costFigures(
   ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> &
-    Partial<Pick<EmitArrays, 'bestFit'>> & { clamp?: EmitArrays['clamp'] },
+    Partial<Pick<EmitArrays, 'bestFit' | 'leafSure'>> & { clamp?: EmitArrays['clamp'] },
   /** the plane descent of the printer: two levels per pass (float/double C, planeDescentTests) or one plane per level (fixed point) */
   planeDescent: 'paired' | 'single' = 'paired',
 ): CostFigures {
@@ -520,6 +531,12 @@ export function costFigures(
     // the cell: per coordinate one subtraction and one multiplication (counted as a multiply-add) and
     // two comparisons; then every candidate of the cell in full
     for (let leaf = 0; leaf + 1 < ar.leafStart.length; leaf++) {
+      if (ar.leafSure?.[leaf]) {
+        // a cell deep inside its first candidate: the cell and the law, no region test
+        worstMacs = Math.max(worstMacs, n + lawMacs);
+        worstCmp = Math.max(worstCmp, 2 * n + clampCmp);
+        continue;
+      }
       let rr = 0;
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstMacs = Math.max(worstMacs, n + rr * n + lawMacs);
@@ -541,6 +558,23 @@ export function costFigures(
 }
 
 /**
+ * What one evaluation does on average over seeded points of the box (meanProfile), following the
+ * generated code's path exactly: `operations` multiply-adds plus comparisons as costFigures counts
+ * them; `passes` passes of the descent loop (a hyperplane tree takes PLANE_DESCENT_LEVELS levels per
+ * pass, the box tree one, the grid's cell counts as one); `levels` tree levels; `candidates` regions
+ * tested; `rows` region rows tested (each up to its first failing row); `found` the share of points
+ * located (the law evaluated).
+ */
+export interface MeanProfile {
+  operations: number;
+  passes: number;
+  levels: number;
+  candidates: number;
+  rows: number;
+  found: number;
+}
+
+/**
  * Mean operations (multiply-adds plus comparisons, counted as costFigures counts them) of one
  * evaluation over `count` seeded points of the box, following the generated code's path exactly:
  * the descent or the cell, then the leaf's candidates in order, each up to its first failing row,
@@ -548,6 +582,16 @@ export function costFigures(
  * case is costFigures).
  */
 export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, count = 4000): number {
+  return meanProfile(ar, box, count).operations;
+}
+
+/**
+ * meanOperations with the counts it is made of (MeanProfile), the inputs of the latency model
+ * (meanLatency in choose.ts); `points` replaces the seeded points of the box (rounded to the build's
+ * precision as the generated code receives them).
+ */
+export function meanProfile(ar: EmitArrays, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, count = 4000, points?: readonly (readonly number[])[]): MeanProfile {
+  if (points) count = points.length;
   const n = ar.ntheta;
   const f = ar.precision === 'float';
   const rowCmp = ar.bestFit ? 2 : 1;
@@ -561,16 +605,23 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
     return s;
   };
   let total = 0;
+  let passes = 0;
+  let levels = 0;
+  let candidates = 0;
+  let rowsTested = 0;
+  let located = 0;
   for (let p = 0; p < count; p++) {
-    for (let j = 0; j < n; j++) theta[j] = box.lower[j] + (box.upper[j] - box.lower[j]) * rnd();
+    for (let j = 0; j < n; j++) theta[j] = points ? points[p][j] : box.lower[j] + (box.upper[j] - box.lower[j]) * rnd();
     if (f) for (let j = 0; j < n; j++) theta[j] = Math.fround(theta[j]);
     let ops = 0;
     let from = 0;
     let to = ar.regionCount;
     let at = (k: number) => k;
     if (ar.search !== 'sequential') {
-      if (ar.search === 'grid') ops += 3 * n;
-      else {
+      if (ar.search === 'grid') {
+        ops += 3 * n;
+        passes++;
+      } else {
         let ref = ar.root;
         let d = 0;
         for (; d < ar.maxDepth && ref >= 0; d++) {
@@ -579,10 +630,18 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
           else ref = dot(ar.nodePlane, ref * (n + 1), theta) <= ar.nodePlane[ref * (n + 1) + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
         }
         if (ar.search !== 'boxtree') ops += planeDescentTests(d) * (n + 1);
+        levels += d;
+        passes += ar.search === 'boxtree' ? d : Math.ceil(d / PLANE_DESCENT_LEVELS);
       }
       const leaf = descend(ar, theta, (a, i) => dot(a, i, theta));
       if (leaf < 0) {
         total += ops;
+        continue;
+      }
+      if (ar.leafSure?.[leaf]) {
+        // the cell lies deep inside its first candidate: the law only
+        total += ops + ar.nu * n;
+        located++;
         continue;
       }
       from = ar.leafStart[leaf];
@@ -592,12 +651,14 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
     let found = false;
     for (let k = from; k < to; k++) {
       const r = at(k);
+      candidates++;
       const c = ar.lawC.length > 0;
       for (let j = 0; j < n; j++) t[j] = c ? (f ? Math.fround(theta[j] - ar.lawC[r * n + j]) : theta[j] - ar.lawC[r * n + j]) : theta[j];
       let ok = true;
       let worst = 0;
       for (let i = ar.regionRowStart[r]; i < ar.regionRowStart[r + 1]; i++) {
         ops += n + rowCmp;
+        rowsTested++;
         const s = dot(ar.regionA, i * n, t);
         const d = ar.bestFit ? (f ? Math.fround(s - ar.regionB[i]) : s - ar.regionB[i]) : s;
         const holds = ar.bestFit ? d <= ar.regionSlack[r] : d <= ar.regionB[i];
@@ -613,8 +674,11 @@ export function meanOperations(ar: EmitArrays, box: { lower: ArrayLike<number>; 
       ops += 2;
       if (worst <= ar.fitSure) break;
     }
-    if (found) ops += ar.nu * n;
+    if (found) {
+      ops += ar.nu * n;
+      located++;
+    }
     total += ops;
   }
-  return total / count;
+  return { operations: total / count, passes: passes / count, levels: levels / count, candidates: candidates / count, rows: rowsTested / count, found: located / count };
 }

@@ -185,6 +185,7 @@ export function emitBundle(input: TableFile, o: EmitBundleOptions): EmitBundle {
       rejected: k.rejected,
       buildSeconds: k.buildSeconds,
       meanOperations: k.meanOps,
+      latencyWeightedOperations: k.meanLatency,
     })),
     slack: (res.arrays as { slack: number }).slack,
     tree: res.locator ? res.locator.stats : null,

@@ -8,7 +8,7 @@
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, collapseTree, planeMargin, TreeTooLargeError, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
-import { buildArrays, costFigures, meanOperations, searchIndex, type EmitArrays, type Locator, type Precision, type SearchKind } from './arrays.js';
+import { buildArrays, costFigures, meanProfile, searchIndex, type EmitArrays, type Locator, type MeanProfile, type Precision, type SearchKind } from './arrays.js';
 import { buildGrid } from './grid.js';
 import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
 
@@ -28,6 +28,36 @@ export const CAPPED_LEAF_MACS = 512;
  * 169–182 ns per lookup (median over points); 400 rows at 5-D is 2 000/nθ.
  */
 export const BROAD_LEAF_MACS = 2000;
+
+/**
+ * Weights of the latency model (meanLatency), in operations (multiply-adds and comparisons as
+ * costFigures counts them). A lookup's time is not its operation count: each pass of a descent waits
+ * for a chain of dependent loads, products and sums (the next pass needs its result), and each
+ * candidate region for its row offsets, slack and centre and for the branch that ends its test, while
+ * the rows of one region are independent sums the core overlaps. Calibrated on 2026-12-03 by timing
+ * the compiled C (float, gcc -O2, per-point medians, alternated in one process per table, 3 and 7
+ * rounds, load 5–10, 2.0 GHz x86-64 shared by other jobs) of every structure of the locate bench's
+ * tables in 2-D…6-D — capped, broad collapsed at 2 000 … 8 000/nθ rows, box tree, grid: 58 builds in
+ * 8 series — and taking the weights on the plateau that orders them best: 138 of the 150 pairs more
+ * than 5 % apart in the order measured (mean operations alone: 128), and the pick per series 1.003×
+ * the fastest measured on average, 1.025× at most (mean operations: 1.028×, 1.112×). In-sample figures;
+ * see DEVELOPERS.md, "Latency model".
+ */
+export const LATENCY_WEIGHTS = {
+  /** added per pass of the descent loop (PLANE_DESCENT_LEVELS levels of a hyperplane tree, one box-tree level, the grid's cell), times nθ + 2 */
+  pass: 3,
+  /** added per candidate region tested */
+  candidate: 10,
+} as const;
+
+/**
+ * Latency-weighted operations of one lookup, the cost model's typical case since 2026-12-03 (it was
+ * the mean operations): meanProfile's operations plus LATENCY_WEIGHTS for its descent passes and its
+ * candidates, on the same seeded points. Only the order it puts the structures of one table in is used.
+ */
+export function meanLatency(p: MeanProfile, ntheta: number): number {
+  return p.operations + LATENCY_WEIGHTS.pass * (ntheta + 2) * p.passes + LATENCY_WEIGHTS.candidate * p.candidates;
+}
 
 export interface LocatorOptions {
   tree?: TreeOptions;
@@ -98,15 +128,14 @@ export function buildLocator(table: TableFile, search: SearchKind, options: Loca
 
 /**
  * `broad`: the capped tree with every subtree of at most `leafRows` rows collapsed into one leaf
- * (collapseTree), or of at most 1.5·leafRows or 2·leafRows rows (BROAD_COARSER), whichever makes fewer operations
- * on average over seeded points of the box (meanOperations, the cost model's own measure, on the
- * float build; ties to the finer one) among those whose worst-case operations stay within
- * WORST_CASE_FACTOR of the finest one's and of the capped tree's (the cost model's own rule, so that
- * the coarser tree is not taken where the model would then refuse it). Built from the capped tree, so `auto` builds the
- * hyperplane tree once. Measured on the locate bench's tables (float C, per-point medians, paired,
- * load 7–14): the coarser tree was faster in 6-D (268–271 against 294–318 ns, 282 against 293
- * operations on average, but 5 546 against 3 647 worst case) and slower in 5-D (169–182 against
- * 159–171 ns, 225 against 210 operations).
+ * (collapseTree), or of at most BROAD_COARSER × leafRows rows, whichever the latency model makes the
+ * fastest (meanLatency on the float build over seeded points; ties to the finer one) among those whose
+ * worst-case operations stay within WORST_CASE_FACTOR of the finest one's and of the capped tree's
+ * (the cost model's own rule, so that the coarser tree is not taken where the model would then refuse
+ * it). Built from the capped tree, so `auto` builds the hyperplane tree once. Until 2026-12-03 the
+ * choice was by mean operations, which weigh a descent pass (a chain of dependent loads and sums) like
+ * a leaf row's independent products: in 6-D leaves 1.5–2× coarser were 10–15 % faster while the
+ * operations barely moved.
  */
 function broadest(table: TableFile, capped: SearchTree, leafRows: number): SearchTree {
   const rows = (r: number) => table.regions[r].A.length;
@@ -122,32 +151,33 @@ function broadest(table: TableFile, capped: SearchTree, leafRows: number): Searc
   // capped, and a broad tree past 1.5 x capped's worst case is never picked (on the 5-D bench table
   // the 1.5 x collapse passed capped's limit, and the pick fell back to capped: 245 ns instead of broad)
   const limit = WORST_CASE_FACTOR * Math.min(worst(fine), worst(capped));
-  const mean = (t: SearchTree) => meanOperations(buildArrays(table, 'float', 'broad', t), table.box);
+  const latency = (t: SearchTree) => meanLatency(meanProfile(buildArrays(table, 'float', 'broad', t), table.box), table.dims.ntheta);
   let best = fine;
-  let bestMean = NaN;
+  let bestLatency = NaN;
   let leaves = fine.stats.leaves;
   for (const factor of BROAD_COARSER) {
     const t = collapseTree(capped, rows, Math.floor(factor * leafRows));
     if (t.stats.leaves === leaves) continue;
     leaves = t.stats.leaves;
     if (worst(t) > limit) continue;
-    if (Number.isNaN(bestMean)) bestMean = mean(fine);
-    const m = mean(t);
-    if (m < bestMean) {
+    if (Number.isNaN(bestLatency)) bestLatency = latency(fine);
+    const m = latency(t);
+    if (m < bestLatency) {
       best = t;
-      bestMean = m;
+      bestLatency = m;
     }
   }
   return best;
 }
 
 /**
- * The coarser collapses `broad` measures beside leafRows (factors of it). 1.5 was added on
+ * The coarser collapses `broad` measures beside leafRows (factors of it, ascending). 1.5 was added on
  * 2026-12-03: on the locate bench's tables (float C, per-point medians, 9 alternations, load 7–9)
  * leaves of 1.5 × 2 000/nθ rows took 5-D 172 against 189 ns (2 × : 183, worst case over the rule's
- * limit), 6-D 211 against 230 ns (2 × : 195 ns, worst case 5 546 just over the limit of 5 470).
+ * limit), 6-D 211 against 230 ns (2 × : 195 ns, worst case 5 546 just over the limit of 5 470); the
+ * steps between them with the latency model (the worst-case rule is the bound that stops them).
  */
-const BROAD_COARSER = [1.5, 2];
+const BROAD_COARSER = [1.25, 1.5, 1.75, 2];
 
 /** The part of a build's memory that locates θ (tree arrays) and the part that is the regions themselves. */
 export function splitBytes(cost: TargetCost, precision: string): { location: number; regions: number } {
@@ -173,6 +203,8 @@ export interface Candidate {
   buildSeconds: number;
   /** mean multiply-adds plus comparisons per evaluation on seeded points of the box (float/double C builds; null for other builds) */
   meanOps: number | null;
+  /** latency-weighted operations per evaluation (meanLatency of the same points; null where meanOps is) */
+  meanLatency: number | null;
   /** the target's build measured (its arrays, leaf order included), null when not built; reused by emit for the chosen one */
   build: unknown;
 }
@@ -202,7 +234,7 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
     // the plain tree's descent has no side overlap, so a float build could never take it: not built
     // (its give-up over the budget still took 21.5 s of the locate bench's 6-D table, loaded)
     if (search === 'tree' && precision === 'float') {
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: FLOAT_TREE_REJECTED, buildSeconds: 0, meanOps: null, build: null });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: FLOAT_TREE_REJECTED, buildSeconds: 0, meanOps: null, meanLatency: null, build: null });
       continue;
     }
     try {
@@ -223,11 +255,11 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
       if (search === 'capped' && locator) cappedBuilt = locator as SearchTree;
     } catch (e) {
       if (!(e instanceof TreeTooLargeError)) throw e;
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: e.reason, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: e.reason, buildSeconds: (Date.now() - t0) / 1000, meanOps: null, meanLatency: null, build: null });
       continue;
     }
     if (search === 'grid' && !locator) {
-      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null, build: null });
+      out.push({ search, locator: null, cost: null, location: Infinity, regions: 0, floatSafe: false, rejected: 'no grid of 2 or more cells per coordinate fits the memory budget', buildSeconds: (Date.now() - t0) / 1000, meanOps: null, meanLatency: null, build: null });
       continue;
     }
     const build = target.build(table, precision, search, locator, options.targetOptions);
@@ -238,8 +270,10 @@ export function measureCandidates<B>(table: TableFile, target: EmitTarget<B>, pr
     if (location > LOCATION_BUDGET * regions) rejected = `location arrays ${location} B > ${LOCATION_BUDGET} x region data ${regions} B`;
     else if (precision === 'float' && !floatSafe) rejected = FLOAT_TREE_REJECTED;
     const ar = build as unknown as EmitArrays;
-    const meanOps = (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanOperations(ar, table.box) : null;
-    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps, build });
+    const profile = (ar.precision === 'float' || ar.precision === 'double') && Array.isArray(ar.regionA) ? meanProfile(ar, table.box) : null;
+    const meanOps = profile ? profile.operations : null;
+    const latency = profile ? meanLatency(profile, table.dims.ntheta) : null;
+    out.push({ search, locator, cost, location, regions, floatSafe, rejected, buildSeconds: (Date.now() - t0) / 1000, meanOps, meanLatency: latency, build });
   }
   return out;
 }
@@ -252,24 +286,25 @@ export function worstOps(c: Candidate): number {
 /**
  * The cheapest admissible candidate; sequential search is always admissible. Cheapest: among the
  * admissible candidates whose worst-case operations are within WORST_CASE_FACTOR of the least, the
- * fewest mean operations on seeded points (when every one of them has that measure), then the fewest
- * worst-case operations, then the fewest location bytes.
+ * fewest latency-weighted operations on seeded points (meanLatency, when every one of them has that measure; it
+ * was the fewest mean operations until 2026-12-03), then the fewest worst-case operations, then the
+ * fewest location bytes.
  */
 export function pickCandidate(cands: Candidate[]): { chosen: Candidate; reason: string[] } {
   const ok = cands.filter((c) => !c.rejected && c.cost);
   ok.sort((a, b) => worstOps(a) - worstOps(b) || a.location - b.location);
   const least = ok.length ? worstOps(ok[0]) : Infinity;
   const near = ok.filter((c) => worstOps(c) <= WORST_CASE_FACTOR * least);
-  const byMean = near.length > 1 && near.every((c) => c.meanOps !== null);
-  if (byMean) near.sort((a, b) => a.meanOps! - b.meanOps! || worstOps(a) - worstOps(b) || a.location - b.location);
+  const byMean = near.length > 1 && near.every((c) => c.meanLatency !== null);
+  if (byMean) near.sort((a, b) => a.meanLatency! - b.meanLatency! || worstOps(a) - worstOps(b) || a.location - b.location);
   const chosen = near[0] ?? cands.find((c) => c.search === 'sequential');
   if (!chosen) throw new Error('no point-location structure could be built');
   const line = (c: Candidate) =>
     c.cost
-      ? `${c.search}: ${c.cost.worstMultiplyAdds} multiply-adds + ${c.cost.worstComparisons} comparisons worst case${c.meanOps !== null ? `, ${c.meanOps.toFixed(1)} operations on average` : ''}, location ${c.location} B = ${(c.location / Math.max(1, c.regions)).toFixed(3)} x region data${c.rejected ? ` - rejected: ${c.rejected}` : ''}`
+      ? `${c.search}: ${c.cost.worstMultiplyAdds} multiply-adds + ${c.cost.worstComparisons} comparisons worst case${c.meanOps !== null ? `, ${c.meanOps.toFixed(1)} operations on average` : ''}${c.meanLatency !== null ? ` (${c.meanLatency.toFixed(1)} latency-weighted)` : ''}, location ${c.location} B = ${(c.location / Math.max(1, c.regions)).toFixed(3)} x region data${c.rejected ? ` - rejected: ${c.rejected}` : ''}`
       : `${c.search}: rejected: ${c.rejected}`;
   const reason = [
-    `${chosen.search} search, chosen by the cost model: among the structures that are safe in float, whose location arrays are at most ${LOCATION_BUDGET} x the region data and whose worst-case operations are within ${WORST_CASE_FACTOR} x the least, the fewest operations on average over seeded points of the box (then the fewest worst-case operations).`,
+    `${chosen.search} search, chosen by the cost model: among the structures that are safe in float, whose location arrays are at most ${LOCATION_BUDGET} x the region data and whose worst-case operations are within ${WORST_CASE_FACTOR} x the least, the fewest latency-weighted operations on average over seeded points of the box (operations plus a weight per descent pass and per candidate region, calibrated by timing the compiled C; then the fewest worst-case operations).`,
     ...cands.map(line),
   ];
   return { chosen, reason };

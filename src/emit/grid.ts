@@ -23,7 +23,7 @@
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { regionBounds } from '../partition/boxtree.js';
-import { regionTests } from './arrays.js';
+import { regionTests, type EmitArrays } from './arrays.js';
 
 export const GRID_FORMAT = 'tessera-grid';
 
@@ -56,7 +56,7 @@ export interface GridOptions {
 
 /**
  * Bytes of a grid's location arrays as the C target declares them: per cell its first candidate
- * (leaf_first, an index up to the region count), the offsets of the other candidates and their list
+ * (leaf_first, an index up to twice the region count + 1: gridSureCells), the offsets of the other candidates and their list
  * (2 or 4 bytes each; layout.ts splitFirst), lower/scale floats, cell counts. `nonEmpty`: cells
  * with at least one candidate (default: all, an upper bound).
  */
@@ -65,8 +65,10 @@ export function gridBytes(cells: number[], copies: number, regionCount: number, 
   const rest = copies - Math.min(copies, nonEmpty ?? m);
   const offset = rest <= 65535 ? 2 : 4;
   const index = regionCount <= 65535 ? 2 : 4;
+  // leaf_first holds up to 2·regionCount + 1 (a sure cell, gridSureCells)
+  const first = 2 * regionCount + 1 <= 65535 ? 2 : 4;
   const counts = Math.max(...cells) <= 65535 ? 2 : 4;
-  return m * index + (m + 1) * offset + rest * index + cells.length * (8 + counts);
+  return m * first + (m + 1) * offset + rest * index + cells.length * (8 + counts);
 }
 
 /**
@@ -171,4 +173,58 @@ export function gridCell(g: Pick<GridIndex, 'cells' | 'lower' | 'scale'>, theta:
     cell = cell * g.cells[j] + c;
   }
   return cell;
+}
+
+/**
+ * Cells of a float grid build that lie deep inside their first candidate: 1 when every θ the
+ * generated code can map into the cell passes every row of that region R with a residual at or
+ * below the early exit of best fit, so the scan would stop at R with R as the answer and the
+ * generated code may take R without testing it. Proof: a θ mapped into an inner cell lies in the
+ * cell's box widened by δ_j (see above; outer cells reach to ∓∞ and are never sure, nor is NaN,
+ * which maps to the first cell); the largest exact residual of row i over that box is
+ * Σ_j max(a_ij lo_j, a_ij hi_j) − b_i, summed in double (its rounding is covered by the margin
+ * below); the float residual is within ε_i < S_R of the exact one (regionTests; S_R the region's
+ * slack), so when the exact maximum is ≤ fitSure − S_R − m (m = 1e-9·(Σ_j|a_ij|·max(|lo_j|,|hi_j|)
+ * + |b_i|), far above the double sum's rounding) every row of R passes with ρ̂ ≤ fitSure: R, tested
+ * first, is taken and ends the scan. Empty cells and double builds (first fit) have no sure cells.
+ */
+export function gridSureCells(table: TableFile, ar: Pick<EmitArrays, 'leafStart' | 'leafRegion' | 'regionSlack' | 'fitSure' | 'bestFit'>, grid: Pick<GridIndex, 'cells' | 'lower' | 'scale' | 'delta'>): number[] {
+  const n = grid.cells.length;
+  const m = grid.cells.reduce((a, b) => a * b, 1);
+  const out = new Array<number>(m).fill(0);
+  if (!ar.bestFit) return out;
+  const idx = new Array<number>(n);
+  const lo = new Array<number>(n);
+  const hi = new Array<number>(n);
+  for (let cell = 0; cell < m; cell++) {
+    if (ar.leafStart[cell + 1] === ar.leafStart[cell]) continue;
+    let c = cell;
+    let inner = true;
+    for (let j = n - 1; j >= 0; j--) {
+      idx[j] = c % grid.cells[j];
+      c = Math.floor(c / grid.cells[j]);
+      if (idx[j] === 0 || idx[j] === grid.cells[j] - 1) inner = false;
+    }
+    if (!inner) continue;
+    for (let j = 0; j < n; j++) {
+      lo[j] = grid.lower[j] + idx[j] / grid.scale[j] - grid.delta[j];
+      hi[j] = grid.lower[j] + (idx[j] + 1) / grid.scale[j] + grid.delta[j];
+    }
+    const r = ar.leafRegion[ar.leafStart[cell]];
+    const region = table.regions[r];
+    const limit = ar.fitSure - ar.regionSlack[r];
+    let deep = true;
+    for (let i = 0; i < region.A.length && deep; i++) {
+      const a = region.A[i];
+      let s = -region.b[i];
+      let mag = Math.abs(region.b[i]);
+      for (let j = 0; j < n; j++) {
+        s += Math.max(a[j] * lo[j], a[j] * hi[j]);
+        mag += Math.abs(a[j]) * Math.max(Math.abs(lo[j]), Math.abs(hi[j]));
+      }
+      if (!(s + 1e-9 * mag <= limit)) deep = false;
+    }
+    if (deep) out[cell] = 1;
+  }
+  return out;
 }

@@ -80,7 +80,7 @@ export function layoutOf(ar: EmitArrays): LayoutArray[] {
  */
 export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes: LayoutArray[], data: LayoutArray[]): LayoutArray[] {
   // a grid cell's first candidate sits in leaf_first, read together with the cell's offsets (splitFirst)
-  const split = ix.search === 'grid' ? splitFirst(ix.leafStart, ix.leafRegion, ix.regionRowStart.length - 1) : null;
+  const split = ix.search === 'grid' ? splitFirst(ix.leafStart, ix.leafRegion, ix.regionRowStart.length - 1, ix.leafSure) : null;
   const tree =
     ix.search !== 'sequential'
       ? [
@@ -101,17 +101,20 @@ export function structureLayout(ix: SearchIndex & { search: SearchKind }, planes
  * the first candidate, usually the region found (most-often-found first), is then loaded beside the
  * cell's offsets instead of after them, one dependent load less on the way to the region's rows
  * (2-D emit bench: per-point median 55–57 against 55–64 ns, paired, loaded). Bytes: one index more
- * per empty cell.
+ * per empty cell. `sure[leaf]` (grid cells of float builds, gridSureCells): the leaf's first candidate r
+ * is stored as regionCount + 1 + r, telling the generated code to take r without a test.
  */
-export function splitFirst(leafStart: number[], leafRegion: number[], regionCount: number): { first: number[]; start: number[]; rest: number[] } {
+export function splitFirst(leafStart: number[], leafRegion: number[], regionCount: number, sure?: number[]): { first: number[]; start: number[]; rest: number[] } {
   const first: number[] = [];
   const start = [0];
   const rest: number[] = [];
   for (let leaf = 0; leaf + 1 < leafStart.length; leaf++) {
     const from = leafStart[leaf];
     const to = leafStart[leaf + 1];
-    first.push(to > from ? leafRegion[from] : regionCount);
-    for (let k = from + 1; k < to; k++) rest.push(leafRegion[k]);
+    // a sure leaf (grid cell deep inside its first candidate r, gridSureCells) stores regionCount + 1 + r
+    first.push(to > from ? (sure?.[leaf] ? regionCount + 1 + leafRegion[from] : leafRegion[from]) : regionCount);
+    // a sure leaf's other candidates are never read: not stored
+    if (!sure?.[leaf]) for (let k = from + 1; k < to; k++) rest.push(leafRegion[k]);
     start.push(rest.length);
   }
   return { first, start, rest };
@@ -123,6 +126,6 @@ export const LAYOUT_TEXT =
 /** Additions of the box tree, the grid and of the centred law (written after LAYOUT_TEXT when they apply). */
 export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
 export const LAYOUT_TEXT_GRID =
-  'grid: no nodes; per coordinate q = (θ[j] − grid_lo[j])·grid_scale[j] (each step rounded), cell c_j = 0 when q < 0 or NaN, grid_cells[j] − 1 when q >= grid_cells[j], else trunc(q); leaf = the row-major cell index (last coordinate fastest); the candidates of the cell in order: leaf_first[leaf] (the region count when the cell has none), then leaf_region[leaf_start[leaf]..leaf_start[leaf+1])';
+  'grid: no nodes; per coordinate q = (θ[j] − grid_lo[j])·grid_scale[j] (each step rounded), cell c_j = 0 when q < 0 or NaN, grid_cells[j] − 1 when q >= grid_cells[j], else trunc(q); leaf = the row-major cell index (last coordinate fastest); the candidates of the cell in order: leaf_first[leaf] (the region count when the cell has none), then leaf_region[leaf_start[leaf]..leaf_start[leaf+1]); leaf_first[leaf] = region count + 1 + r: the cell lies deep inside region r, which is the answer without a test (float builds)';
 export const LAYOUT_TEXT_CENTRED =
   'centred law: u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·(θ − law_c[r*nt..]), the subtraction rounded first; region rows tested around the same centre, inside when region_a·(θ − law_c) − region_b <= region_slack[r] (region_b without slack), best fit: the smallest largest residual wins';

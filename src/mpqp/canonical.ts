@@ -268,7 +268,6 @@ function closeUnderGuesses(
   hints?: GuessHints,
 ): { added: number; cut: boolean } {
   const queue = [...byKey.values()].sort((x, y) => compareActiveSets(x.region.activeSet, y.region.activeSet)).map((e) => e.region);
-  const grid = new GridLocator(problem.box.lower, problem.box.upper);
   const boxOf = (e: { region: CriticalRegion; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } | null }) => {
     if (!e.box) {
       lp.lps += 2 * problem.ntheta;
@@ -276,10 +275,19 @@ function closeUnderGuesses(
     }
     return e.box;
   };
-  for (const R of queue) {
-    const bb = boxOf(byKey.get(R.activeSet.join(','))!);
-    grid.add(R.A, R.b, bb.lo, bb.hi);
-  }
+  // the index of the regions is only asked where a guess is thin (rare: most unions have none), so
+  // it is built then, with the regions known at that point in the order they were queued: the same
+  // index, and the same answers, as one built up front (which cost 0.2–0.5 s of the serial tail)
+  let grid: GridLocator | null = null;
+  const index = (): GridLocator => {
+    if (grid) return grid;
+    grid = new GridLocator(problem.box.lower, problem.box.upper);
+    for (const R of queue) {
+      const bb = boxOf(byKey.get(R.activeSet.join(','))!);
+      grid.add(R.A, R.b, bb.lo, bb.hi);
+    }
+    return grid;
+  };
   const tried = new Set<string>();
   let added = 0;
   const lean = queue.length > 0 && queue[0].moves === undefined; // lean regions (no move sequence) stay lean
@@ -306,11 +314,12 @@ function closeUnderGuesses(
         if (!res.ok || res.region.chebyshev.radius > 10 * tol.radius) continue;
         built = { region: res.region, box: res.bbox };
       }
-      if (grid.locate(built.region.chebyshev.center, tol.inside) >= 0) continue;
+      const g = index();
+      if (g.locate(built.region.chebyshev.center, tol.inside) >= 0) continue;
       const region: CriticalRegion = { id: -1, ...built.region };
       byKey.set(key, { region, box: built.box });
-      grid.add(region.A, region.b, built.box.lo, built.box.hi);
       queue.push(region);
+      g.add(region.A, region.b, built.box.lo, built.box.hi);
       added++;
     }
   }

@@ -643,13 +643,13 @@ export class BoxIndex {
    * The region holding θ within `slack` (|slack| ≤ 100·tol.inside), or −1, by the index's `rule`:
    * the lowest id holding θ within the slack (`first`), or the lowest id holding θ exactly (every
    * row ≤ b) and else the least largest residual within the slack, ties to the lowest id
-   * (`exact-first`).
+   * (`exact-first`). With `violation` false, `lastViolation` is not kept up to date (see `locateAt`).
    */
-  locate(theta: ArrayLike<number>, slack: number = tol.inside): number {
+  locate(theta: ArrayLike<number>, slack: number = tol.inside, violation: boolean = true): number {
     const n = this.n;
     const th = this.scratch;
     for (let j = 0; j < n; j++) th[j] = theta[j];
-    return this.locateAt(th, 0, slack);
+    return this.locateAt(th, 0, slack, violation);
   }
 
   private readonly scratch: Float64Array;

@@ -97,7 +97,7 @@ export function evaluatePoints(table: TableFile, points: number[][], options: Ev
     if (index) {
       // the rule of evaluateTable (locatePoint with the table's index at tol.inside)
       if (p.length !== table.dims.ntheta) throw new Error(`θ has ${p.length} entries, the table expects ${table.dims.ntheta}`);
-      const region = index.locate(p, tol.inside);
+      const region = index.locate(p, tol.inside, false);
       e = { region, u: region < 0 ? null : applyAffine(table.regions[region].law, p) };
     } else e = evaluateTable(table, p);
     if (e.u && options.clamp) e.u = clampInputs(e.u, table.inputLimits);

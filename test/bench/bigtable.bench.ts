@@ -9,7 +9,8 @@
  *    reports the residual) and of `evaluateTable` on 10⁶ seeded points; then the whole CSV path of `tessera evaluate` on 10⁶ points written with 7
  *    and with 17 significant digits, in this process stage by stage (read, parse, index, locate,
  *    law, format, write) and as a cold CLI process (wall points/s, peak MB), and one cold process
- *    under `node --cpu-prof` summarised as self time per function; the locator against the
+ *    under `node --cpu-prof` summarised as self time per function; at 7 digits also with `--index`
+ *    (the k-d tree read from the file an earlier run wrote); the locator against the
  *    sequential scan on a few thousand (target ≥ 10⁶ points/s wall). In-process stages print
  *    wall/CPU seconds; each cold CLI run is made with `--times` and its stage line is printed; a
  *    SUMMARY line gives the three measures side by side (warm locate per CPU second and wall, cold
@@ -118,7 +119,7 @@ function evaluateBench(): void {
   const n = table.dims.ntheta;
   const packed = new Float64Array(pts.length * n);
   pts.forEach((p, k) => packed.set(p, k * n));
-  const best = { warmCpu: 0, warmWall: 0, cliWall: 0, cliCpu: 0, cliLine: '', cli2Wall: 0, cli2Cpu: 0 };
+  const best = { warmCpu: 0, warmWall: 0, cliWall: 0, cliCpu: 0, cliLine: '', cli2Wall: 0, cli2Cpu: 0, idxWall: 0, idxCpu: 0 };
   for (const round of [1, 2, 3]) {
     const a = timed(() => {
       let f = 0;
@@ -187,17 +188,27 @@ function evaluateBench(): void {
       }
       // a cold `tessera evaluate` process (start-up, table read, everything), twice; at 7 digits each
       // round also runs --threads 2 right after (paired: the same load, the same files)
+      // with --index, the index file is written by the first run (round 0, not counted) and read by the next
+      const indexFile = join(tmp, 'boom.index');
       for (const round of [1, 2])
-        for (const threads of digits === 7 ? [1, 2] : [1]) {
-          const args = ['evaluate', tableFile, '--points', ptsFile, '-q', '--times', ...(threads > 1 ? ['--threads', String(threads)] : [])];
+        for (const [threads, withIndex] of (digits === 7 ? [[1, false], [2, false], [1, true]] : [[1, false]]) as [number, boolean][]) {
+          const args = ['evaluate', tableFile, '--points', ptsFile, '-q', '--times', ...(threads > 1 ? ['--threads', String(threads)] : []), ...(withIndex ? ['--index', indexFile] : [])];
+          if (withIndex && !existsSync(indexFile)) cliStage(args, join(tmp, 'out.csv'));
           const r = cliStage(args, join(tmp, 'out.csv'));
           console.log(
-            `  cold CLI, ${digits} significant digits, --threads ${threads}, round ${round}: exit ${r.status}, ${r.s.toFixed(2)} s wall = ${(pts.length / r.s / 1e6).toFixed(2)} M points/s, peak ${r.mb.toFixed(0)} MB; load ${loadavg()[0].toFixed(1)}; target ≥ 1 M points/s`,
+            `  cold CLI, ${digits} significant digits, --threads ${threads}${withIndex ? ', --index (read)' : ''}, round ${round}: exit ${r.status}, ${r.s.toFixed(2)} s wall = ${(pts.length / r.s / 1e6).toFixed(2)} M points/s, peak ${r.mb.toFixed(0)} MB; load ${loadavg()[0].toFixed(1)}; target ≥ 1 M points/s`,
           );
           // the process's own stage line (--times): wall/CPU seconds per stage
           const line = r.out.trim().split('\n').find((l) => l.startsWith('tessera: times'));
           if (line) console.log(`    ${line.replace('tessera: times ', 'stages ')}`);
           const m = line ? / total ([\d.]+)\/([\d.]+) for/.exec(line) : null;
+          if (withIndex) {
+            if (m && pts.length / r.s > best.idxWall) {
+              best.idxWall = pts.length / r.s;
+              best.idxCpu = pts.length / Number(m[2]);
+            }
+            continue;
+          }
           if (digits === 7 && threads === 1 && m && (best.cliWall === 0 || pts.length / r.s > best.cliWall)) {
             best.cliWall = pts.length / r.s;
             best.cliCpu = pts.length / Number(m[2]);
@@ -224,7 +235,7 @@ function evaluateBench(): void {
   const M = 3000;
   const mp = (x: number): string => (x / 1e6).toFixed(2);
   console.log(
-    `  SUMMARY evaluate on ${table.regions.length} regions, 10⁶ points (target ≥ 1 M points/s; load ${loadavg()[0].toFixed(1)}, 2 cores): warm locate ${mp(best.warmCpu)} M per CPU s, ${mp(best.warmWall)} M/s wall; cold CLI end to end (7 digits, best of 2) ${mp(best.cliWall)} M/s wall, ${mp(best.cliCpu)} M per CPU s; with --threads 2 ${mp(best.cli2Wall)} M/s wall, ${mp(best.cli2Cpu)} M per CPU s (every thread's CPU)`,
+    `  SUMMARY evaluate on ${table.regions.length} regions, 10⁶ points (target ≥ 1 M points/s; load ${loadavg()[0].toFixed(1)}, 2 cores): warm locate ${mp(best.warmCpu)} M per CPU s, ${mp(best.warmWall)} M/s wall; cold CLI end to end (7 digits, best of 2) ${mp(best.cliWall)} M/s wall, ${mp(best.cliCpu)} M per CPU s; with --threads 2 ${mp(best.cli2Wall)} M/s wall, ${mp(best.cli2Cpu)} M per CPU s (every thread's CPU); with --index read from its file ${mp(best.idxWall)} M/s wall, ${mp(best.idxCpu)} M per CPU s`,
   );
   let same = 0;
   const seq = timed(() => {

@@ -451,11 +451,23 @@ ${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
   // grid: the cell's first candidate from leaf_first (loaded beside the cell's offsets), then the rest
   const R_ = `${P.toUpperCase()}_REGIONS`;
   const gridScan = `    /* the candidates of the cell in order: leaf_first[leaf] (${R_} when the cell has none), then
-     * leaf_region[leaf_start[leaf] .. leaf_start[leaf + 1]) */
+     * leaf_region[leaf_start[leaf] .. leaf_start[leaf + 1])${ar.bestFit ? `; above ${R_}, a cell deep inside one region` : ''} */
     {
         uint32_t r = ${P}_leaf_first[leaf];
         const uint32_t end = ${P}_leaf_start[leaf + 1u];
-        k = ${P}_leaf_start[leaf];
+${
+  ar.bestFit
+    ? `        if (r > ${R_}) {
+            /* the cell lies deep inside region r - ${R_} - 1: every theta mapped into it passes each of
+             * that region's rows at or below the early exit of best fit, so the scan would take it
+             * first and stop (proof: gridSureCells in tessera's src/emit/grid.ts) */
+            r -= ${R_} + 1u;
+            ${P}_law(r, theta, u);
+            return (int)r;
+        }
+`
+    : ''
+}        k = ${P}_leaf_start[leaf];
         while (r < ${R_}) {
 ${
   ar.bestFit

@@ -79,7 +79,8 @@ parentPort!.on('message', (job: ProblemMessage | PilotJob | ExploreJob | Neighbo
   flush();
   // a finished sub-box also builds the canonical form's closure guesses across its regions' facets
   // (`buildGuesses`): this isolate has the region code warm, the main thread would compile it anew
-  // for them (boom-4d-n12: 0.8 s of the serial tail); hints only, the table is the same bytes
+  // for them (the main thread's closure step, loaded: glider-2d-n40 0.34 → 0.19 s CPU, boom-4d-n12
+  // 0.81 → 0.46–0.57 s); hints only, the table is the same bytes
   let guesses: ReturnType<typeof buildGuesses> | undefined;
   if (job.guesses && p.stats.complete) {
     // within the job's time limit (the main thread's canonical form builds whatever is not hinted)

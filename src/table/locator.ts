@@ -46,7 +46,9 @@ export class GridLocator {
   private readonly cellBudget: number;
 
   constructor(lower: ArrayLike<number>, upper: ArrayLike<number>, options: { cellBudget?: number } = {}) {
-    this.cellBudget = options.cellBudget ?? Math.min(4096, 4 ** lower.length);
+    // 4^nθ cells (up to 4096); from 5-D on a quarter of that: fewer listings to add, about as many
+    // to test per query (mixer-5d-n10, paired: 1.04-1.08x faster; 4-D unchanged, so it keeps 4^nθ)
+    this.cellBudget = options.cellBudget ?? Math.min(4096, lower.length >= 5 ? 4 ** (lower.length - 1) : 4 ** lower.length);
     this.n = lower.length;
     this.lo = Float64Array.from(lower);
     this.width = new Float64Array(this.n);

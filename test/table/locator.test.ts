@@ -86,3 +86,27 @@ describe('point location with a negative slack (strict interior, as the explorat
     expect(g.locate([0.01, 0], -0.05)).toBe(-1);
   });
 });
+
+describe('GridLocator: a region whose padded box misses θ still counts within the slack (sharp corner)', () => {
+  it('a wedge of half-angle 1e-4 holds a point 5e-5 before its apex within tol.inside, beyond its box + 1e-5', () => {
+    // worked by hand (common practice): rows (−sin α, ±cos α)·θ ≤ 0 bound the wedge |θ2| ≤ θ1·tan α,
+    // whose box is θ1 ∈ [0, 1]; at θ = (−d, 0) both residuals are d·sin α = 5e-9 ≤ 1e-8, while the
+    // locator pads boxes by 1e3·tol.inside = 1e-5 < d. The box pretest must not drop it there.
+    const a = 1e-4;
+    const s = Math.sin(a);
+    const c = Math.cos(a);
+    const wedge: Half = { A: [[-s, c], [-s, -c]], b: [0, 0], chebyshev: { center: [0.5, 0], radius: 0.5 * Math.sin(a) } };
+    const far: Half = half(-1, -0.9); // θ1 ≥ 0.9: another region, never near θ
+    const g = new GridLocator(box.lower, box.upper);
+    g.add(far.A, far.b, [0.9, -1], [1, 1]);
+    g.add(wedge.A, wedge.b, [0, -Math.tan(a)], [1, Math.tan(a)]);
+    const th = [-5e-5, 0];
+    expect(locateScan([far, wedge], th).region).toBe(1);
+    expect(g.locate(th, tol.inside)).toBe(1);
+    expect(g.lastViolation).toBeCloseTo(5e-5 * s, 20);
+    // no slack: nothing holds it; inside the wedge: the wedge, exactly
+    expect(g.locate(th, 0)).toBe(-1);
+    expect(g.locate([0.5, 0], tol.inside)).toBe(1);
+    expect(g.lastViolation).toBeLessThanOrEqual(0);
+  });
+});

@@ -564,6 +564,16 @@ export interface Location {
  * tree's padding falls back to the sequential scan, which applies the same rule.
  */
 export function locatePoint(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): Location {
+  const tree = lazyTree(regions, slack, box);
+  if (tree) {
+    const region = tree.locate(theta, slack);
+    return { region, violation: tree.lastViolation };
+  }
+  return locateScan(regions, theta, slack);
+}
+
+/** The k-d tree `locatePoint` queries for this call (counted), or null where it scans. */
+function lazyTree(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): BoxIndex | null {
   let entry = cache.get(regions);
   if (!entry) {
     entry = { calls: 0, locator: null };
@@ -571,11 +581,7 @@ export function locatePoint(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev
   }
   entry.calls++;
   if (!entry.locator && regions.length >= 32 && entry.calls > 16) entry.locator = tableLocator(regions, box.lower, box.upper);
-  if (entry.locator && entry.locator.size === regions.length && Math.abs(slack) <= 100 * tol.inside) {
-    const region = entry.locator.locate(theta, slack);
-    return { region, violation: entry.locator.lastViolation };
-  }
-  return locateScan(regions, theta, slack);
+  return entry.locator && entry.locator.size === regions.length && Math.abs(slack) <= 100 * tol.inside ? entry.locator : null;
 }
 
 /**
@@ -619,7 +625,9 @@ export function locateScan(regions: Pick<CriticalRegion, 'A' | 'b'>[], theta: Ar
  * `locatePoint`), or −1.
  */
 export function locateRegion(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], theta: ArrayLike<number>, slack: number, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
-  return locatePoint(regions, theta, slack, box).region;
+  // the region only: the tree's query skips the residual pass over its rows
+  const tree = lazyTree(regions, slack, box);
+  return tree ? tree.locate(theta, slack, false) : locateScan(regions, theta, slack).region;
 }
 
 /**

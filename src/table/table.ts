@@ -2,8 +2,7 @@ import { InputError } from '../io/input-error.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { TABLE_FORMAT, TABLE_VERSION, TABLE_VERSIONS_READ, type TableFile } from './format.js';
-import { locateScan, sharedTableLocator } from './locator.js';
-import type { BoxIndex } from './boxindex.js';
+import { locateRegion, locateScan } from './locator.js';
 
 const REGIONS_MARK = '\u0000regions\u0000';
 
@@ -90,11 +89,15 @@ export { regionContains } from './locator.js';
 
 /** Evaluate an affine map at θ. */
 export function applyAffine(map: { F: number[][]; g: number[] }, theta: ArrayLike<number>): number[] {
-  return map.F.map((row, i) => {
-    let s = map.g[i];
+  const { F, g } = map;
+  const u = new Array<number>(F.length);
+  for (let i = 0; i < F.length; i++) {
+    const row = F[i];
+    let s = g[i];
     for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
-    return s;
-  });
+    u[i] = s;
+  }
+  return u;
 }
 
 /**
@@ -120,29 +123,6 @@ export interface Evaluation {
  */
 export function evaluateTable(table: TableFile, theta: ArrayLike<number>): Evaluation {
   if (theta.length !== table.dims.ntheta) throw new Error(`θ has ${theta.length} entries, the table expects ${table.dims.ntheta}`);
-  const regions = table.regions;
-  // locatePoint's rule and laziness (a scan for the first 16 calls, then the shared k-d tree of
-  // these regions), without the residual it also returns: the tree's query skips that pass
-  let entry = evaluateCalls.get(regions);
-  if (!entry) {
-    entry = { calls: 0, index: null };
-    evaluateCalls.set(regions, entry);
-  }
-  if (!entry.index && regions.length >= 32 && ++entry.calls > 16) entry.index = sharedTableLocator(regions, table.box);
-  const index = entry.index && entry.index.size === regions.length ? entry.index : null;
-  const region = index ? index.locate(theta, tol.inside, false) : locateScan(regions, theta, tol.inside).region;
-  if (region < 0) return { region, u: null };
-  // applyAffine's order of operations (g_i, then + F_ij θ_j in j order): the same bits
-  const { F, g } = regions[region].law;
-  const u = new Array<number>(g.length);
-  for (let i = 0; i < g.length; i++) {
-    const row = F[i];
-    let s = g[i];
-    for (let j = 0; j < row.length; j++) s += row[j] * theta[j];
-    u[i] = s;
-  }
-  return { region, u };
+  const region = locateRegion(table.regions, theta, tol.inside, table.box);
+  return { region, u: region < 0 ? null : applyAffine(table.regions[region].law, theta) };
 }
-
-/** Per regions array: calls of `evaluateTable` so far and the shared k-d tree once taken. */
-const evaluateCalls = new WeakMap<object, { calls: number; index: BoxIndex | null }>();

@@ -197,6 +197,12 @@ export interface EmitArrays extends SearchIndex {
    * never: −roundUp(2·max S)), so ρ̂_R ≤ it < ρ̂_N strictly.
    */
   fitSure: number;
+  /**
+   * levels of the descent's head (planeHeadLevels; 0 without one): the generated float/double C of
+   * `capped` and `broad` sums the planes of the tree's top headLevels levels together, from fixed
+   * addresses, before its loop (headArrays); the leaf reached is the one-level descent's
+   */
+  headLevels: number;
   /** box tree: per node the compared coordinate and the split value (θ[axis] ≤ split goes left) */
   nodeAxis: number[];
   nodeSplit: number[];
@@ -290,6 +296,7 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     regionSlack,
     bestFit: precision === 'float',
     fitSure: precision === 'float' ? -roundUp(2 * slack) : 0,
+    headLevels: 0,
     nodeAxis: [],
     nodeSplit: [],
     gridCells: [],
@@ -318,6 +325,7 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
       for (let j = 0; j < n; j++) out.nodePlane.push(round(tree.hyperplanes.a[k][j]));
       out.nodePlane.push(round(tree.hyperplanes.b[k]));
     }
+    if (search === 'capped' || search === 'broad') out.headLevels = planeHeadLevels(n, out.maxDepth);
   }
   orderCandidates(out, table.box);
   // a float grid's cells that lie deep inside their first candidate (after the ordering: the region
@@ -499,6 +507,81 @@ export function planeDescentTests(depth: number, levels = PLANE_DESCENT_LEVELS):
 }
 
 /**
+ * Multiply-adds the head of a plane descent may take (planeHeadLevels). The head's planes are stored
+ * at fixed addresses, so their loads and sums wait on nothing and run side by side (the compiler
+ * packs them into vector operations where it can) while the loop's passes each wait for a chain of
+ * loads and sums. Measured on the locate bench's tables (float C, gcc -O2, per-point medians, 21–41
+ * alternations in one shell, load 5–9, 2026-12-03): 5-D broad 205 → 199 (4 levels) → 183 ns (5
+ * levels; 6 levels: slower than none), 6-D broad 279 → 260 (4) / 262 (5) ns, 4-D capped 188 → 178
+ * (4) / 182 (5) ns, 3-D capped 157 → 148 (4) / 145 (5) ns; the same region and bits everywhere.
+ */
+export const PLANE_HEAD_MACS = 160;
+
+/**
+ * Levels of the head of a `capped`/`broad` descent in the generated float/double C: the most, at
+ * least 2 and at most the tree's depth, whose 2^H planes (headArrays) take at most PLANE_HEAD_MACS
+ * multiply-adds (5 levels up to nθ = 5, 4 up to nθ = 10, 3 up to 20, then 2); 0 for a tree of
+ * depth < 2. The plain tree keeps the loop alone (the cross-build count bounds its loop by depth).
+ */
+export function planeHeadLevels(ntheta: number, maxDepth: number): number {
+  let h = 0;
+  while (h + 1 <= maxDepth && 2 ** (h + 1) * ntheta <= PLANE_HEAD_MACS) h++;
+  return h >= 2 ? h : maxDepth >= 2 ? 2 : 0;
+}
+
+/**
+ * The head of a plane descent (headLevels H > 0): the 2^H − 1 nodes of the tree's top H levels in
+ * heap order (slot k's children are 2k + 1 left and 2k + 2 right) and one unused slot (a zero plane)
+ * that makes 2^H, their planes column by column (`plane[j·W + k]`, W = 2^H, the coefficients j < nθ,
+ * then b at j = nθ), and the 2^H references reached below them (`ref`, a node at depth H or a leaf).
+ * W slots, not 2^H − 1: gcc -O2 turns the sums of a whole number of 4-lane blocks into vector
+ * operations and leaves 31 scalar (5-D broad on the locate bench: 31 slots 190 ns, 32 slots 158 ns,
+ * no head 175 ns, alternated, load ≈ 6). A leaf above depth H fills its slots: a zero plane, and both
+ * sides reach the leaf again, so whatever its comparison says the walk ends at that leaf. The
+ * generated code sums all W planes, then walks H comparisons by slot index: the sums and comparisons
+ * that decide the path are the one-level descent's (same coefficients, same order), so it reaches
+ * the same node or leaf.
+ */
+export function headArrays(ar: Pick<EmitArrays, 'headLevels' | 'ntheta' | 'root' | 'nodeLeft' | 'nodeRight' | 'nodePlane'>): { plane: number[]; ref: number[] } {
+  const H = ar.headLevels;
+  const n = ar.ntheta;
+  if (!(H > 0)) return { plane: [], ref: [] };
+  const K = 2 ** H - 1;
+  const slot: number[] = new Array(K).fill(-1);
+  const ref: number[] = new Array(K + 1).fill(0);
+  const fill = (k: number, r: number, depth: number): void => {
+    if (depth === H) {
+      ref[k - K] = r;
+      return;
+    }
+    slot[k] = r;
+    fill(2 * k + 1, r >= 0 ? ar.nodeLeft[r] : r, depth + 1);
+    fill(2 * k + 2, r >= 0 ? ar.nodeRight[r] : r, depth + 1);
+  };
+  fill(0, ar.root, 0);
+  const plane: number[] = [];
+  for (let j = 0; j <= n; j++) for (let k = 0; k <= K; k++) plane.push(k < K && slot[k] >= 0 ? ar.nodePlane[slot[k] * (n + 1) + j] : 0);
+  return { plane, ref };
+}
+
+/**
+ * Planes summed and comparisons made by the generated float/double descent of a hyperplane tree on
+ * a path of `depth` nodes: the head's 2^H sums (its unused slot included) and H comparisons (H =
+ * `head`, planeHeadLevels), then PLANE_DESCENT_LEVELS levels per pass of the loop
+ * (planeDescentTests) for the depth below it.
+ */
+export function planeDescentCounts(depth: number, head: number): { planes: number; comparisons: number } {
+  if (!(head > 0)) return { planes: planeDescentTests(depth), comparisons: planeDescentTests(depth) };
+  const rest = planeDescentTests(Math.max(0, depth - head));
+  return { planes: 2 ** head + rest, comparisons: head + rest };
+}
+
+/** Passes of the generated plane descent on a path of `depth` nodes: the head counts as one. */
+export function planeDescentPasses(depth: number, head: number): number {
+  return head > 0 ? 1 + Math.ceil(Math.max(0, depth - head) / PLANE_DESCENT_LEVELS) : Math.ceil(depth / PLANE_DESCENT_LEVELS);
+}
+
+/**
  * Worst-case cost of one evaluation, the maximum over every leaf of its path: the descent (per
  * plane tested nθ multiply-adds and one comparison for a hyperplane tree, planeDescentTests, one comparison and no
  * multiplication for the box tree; for the grid the cell, nθ multiply-adds and 2·nθ comparisons), then every candidate region's rows tested in full, then the
@@ -506,7 +589,7 @@ export function planeDescentTests(depth: number, levels = PLANE_DESCENT_LEVELS):
  */
 export function costFigures(
   ar: Pick<EmitArrays, 'search' | 'ntheta' | 'nu' | 'regionCount' | 'regionRowStart' | 'root' | 'nodeLeft' | 'nodeRight' | 'leafStart' | 'leafRegion'> &
-    Partial<Pick<EmitArrays, 'bestFit' | 'leafSure'>> & { clamp?: EmitArrays['clamp'] },
+    Partial<Pick<EmitArrays, 'bestFit' | 'leafSure' | 'headLevels'>> & { clamp?: EmitArrays['clamp'] },
   /** the plane descent of the printer: two levels per pass (float/double C, planeDescentTests) or one plane per level (fixed point) */
   planeDescent: 'paired' | 'single' = 'paired',
 ): CostFigures {
@@ -548,10 +631,12 @@ export function costFigures(
       let rr = 0;
       for (let k = ar.leafStart[leaf]; k < ar.leafStart[leaf + 1]; k++) rr += rows(ar.leafRegion[k]);
       worstDepth = Math.max(worstDepth, d);
-      // a plane descent takes two levels per pass and sums three planes in each (planeDescentTests)
-      const tests = ar.search === 'boxtree' || planeDescent === 'single' ? d : planeDescentTests(d);
-      worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : tests * n) + rr * n + lawMacs);
-      worstCmp = Math.max(worstCmp, tests + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp + clampCmp);
+      // a plane descent: the head's planes (planeHeadLevels), then two levels per pass summing three
+      // planes in each (planeDescentCounts)
+      const plain = ar.search === 'boxtree' || planeDescent === 'single';
+      const counts = plain ? { planes: d, comparisons: d } : planeDescentCounts(d, ar.headLevels ?? 0);
+      worstMacs = Math.max(worstMacs, (ar.search === 'boxtree' ? 0 : counts.planes * n) + rr * n + lawMacs);
+      worstCmp = Math.max(worstCmp, counts.comparisons + rr * rowCmp + (ar.leafStart[leaf + 1] - ar.leafStart[leaf]) * regionCmp + clampCmp);
     });
   }
   return { search: ar.search, regions: ar.regionCount, worstDepth, worstMultiplyAdds: worstMacs, worstComparisons: worstCmp, clampComparisons: clampCmp };
@@ -629,9 +714,12 @@ export function meanProfile(ar: EmitArrays, box: { lower: ArrayLike<number>; upp
           if (ar.search === 'boxtree') ref = theta[ar.nodeAxis[ref]] <= ar.nodeSplit[ref] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
           else ref = dot(ar.nodePlane, ref * (n + 1), theta) <= ar.nodePlane[ref * (n + 1) + n] ? ar.nodeLeft[ref] : ar.nodeRight[ref];
         }
-        if (ar.search !== 'boxtree') ops += planeDescentTests(d) * (n + 1);
+        if (ar.search !== 'boxtree') {
+          const c = planeDescentCounts(d, ar.headLevels);
+          ops += c.planes * n + c.comparisons;
+        }
         levels += d;
-        passes += ar.search === 'boxtree' ? d : Math.ceil(d / PLANE_DESCENT_LEVELS);
+        passes += ar.search === 'boxtree' ? d : planeDescentPasses(d, ar.headLevels);
       }
       const leaf = descend(ar, theta, (a, i) => dot(a, i, theta));
       if (leaf < 0) {

@@ -3,7 +3,7 @@
  * carry the language-neutral layout (element kinds and value ranges), no target's types or rules.
  */
 import type { LayoutArray } from './layout.js';
-import { LAYOUT_TEXT, LAYOUT_TEXT_BOXTREE, LAYOUT_TEXT_CENTRED, LAYOUT_TEXT_GRID } from './layout.js';
+import { LAYOUT_TEXT, LAYOUT_TEXT_BOXTREE, LAYOUT_TEXT_CENTRED, LAYOUT_TEXT_GRID, LAYOUT_TEXT_HEAD } from './layout.js';
 
 export interface ExportMeta {
   precision: string;
@@ -14,6 +14,8 @@ export interface ExportMeta {
   root: number;
   maxDepth: number;
   slack: number;
+  /** levels of the plane descent's head (node_head_plane, node_head_ref); absent or 0 without one */
+  headLevels?: number;
 }
 
 /**
@@ -31,8 +33,9 @@ export function arraysToJson(ar: ExportMeta, layout: LayoutArray[], extra: Recor
     regions: ar.regionCount,
     root: ar.root,
     maxDepth: ar.maxDepth,
+    ...((ar.headLevels ?? 0) > 0 ? { headLevels: ar.headLevels } : {}),
     slack: ar.slack,
-    layout: [LAYOUT_TEXT, ar.search === 'boxtree' ? LAYOUT_TEXT_BOXTREE : ar.search === 'grid' ? LAYOUT_TEXT_GRID : '', layout.some((a) => a.name === 'law_c') ? LAYOUT_TEXT_CENTRED : ''].filter(Boolean).join('; '),
+    layout: [LAYOUT_TEXT, ar.search === 'boxtree' ? LAYOUT_TEXT_BOXTREE : ar.search === 'grid' ? LAYOUT_TEXT_GRID : '', (ar.headLevels ?? 0) > 0 ? LAYOUT_TEXT_HEAD : '', layout.some((a) => a.name === 'law_c') ? LAYOUT_TEXT_CENTRED : ''].filter(Boolean).join('; '),
     ...extra,
   };
   // 64-bit fixed-point constants exceed 2^53: written as decimal strings so that they stay exact

@@ -5,7 +5,7 @@
  * own element types and applies its own rules (C, for instance, has no empty arrays); the JSON/CSV
  * exports write this layout as it is.
  */
-import type { EmitArrays, SearchIndex, SearchKind } from './arrays.js';
+import { headArrays, type EmitArrays, type SearchIndex, type SearchKind } from './arrays.js';
 
 /**
  * - `f-real`: a real number (stored at the build's precision)
@@ -67,11 +67,18 @@ export function layoutOf(ar: EmitArrays): LayoutArray[] {
       ? [layoutArray('node_axis', 'u-index', ar.nodeAxis), layoutArray('node_split', 'f-real', ar.nodeSplit)]
       : ar.search === 'grid'
         ? [layoutArray('grid_cells', 'u-count', ar.gridCells), layoutArray('grid_lo', 'f-real', ar.gridLower), layoutArray('grid_scale', 'f-real', ar.gridScale)]
-        : [layoutArray('node_plane', 'f-real', ar.nodePlane)];
+        : [layoutArray('node_plane', 'f-real', ar.nodePlane), ...headLayout(ar)];
   const data = [layoutArray('region_a', 'f-real', ar.regionA), layoutArray('region_b', 'f-real', ar.regionB), layoutArray('law_f', 'f-real', ar.lawF), layoutArray('law_g', 'f-real', ar.lawG)];
   if (ar.lawC.length > 0) data.push(layoutArray('law_c', 'f-real', ar.lawC));
   if (ar.regionSlack.length > 0) data.push(layoutArray('region_slack', 'f-real', ar.regionSlack));
   return structureLayout(ar, planes, data);
+}
+
+/** The head of a plane descent (headArrays), when the build has one: its planes column by column and the references below it. */
+function headLayout(ar: EmitArrays): LayoutArray[] {
+  if (!(ar.headLevels > 0)) return [];
+  const h = headArrays(ar);
+  return [layoutArray('node_head_plane', 'f-real', h.plane), layoutArray('node_head_ref', 'i-index', h.ref)];
 }
 
 /**
@@ -123,6 +130,9 @@ export function splitFirst(leafStart: number[], leafRegion: number[], regionCoun
 /** How the arrays fit together, in words (written into the JSON export). */
 export const LAYOUT_TEXT =
   'node child r >= 0 is a node, r < 0 is leaf -r-1; node k plane at node_plane[k*(nt+1)..]: nt coefficients a then b, left when a·θ <= b; region r rows region_row_start[r]..[r+1], inside when region_a·θ <= region_b (slack included); u = law_g[r*nu+i] + law_f[(r*nu+i)*nt..]·θ';
+/** Addition of a plane descent with a head (EmitArrays.headLevels, written after LAYOUT_TEXT when it applies). */
+export const LAYOUT_TEXT_HEAD =
+  'head of the descent (H levels, K = 2^H − 1 slots in heap order, slot k has children 2k+1 left and 2k+2 right, slot 0 the root, and an unused zero slot K; W = 2^H): slot k plane node_head_plane[j*W + k], j < nt the coefficients, j = nt the b (a leaf above depth H fills its slots with a zero plane); from k = 0, H times k = 2k + 2 − (plane k·θ <= b_k), then the descent goes on from node_head_ref[k − K]';
 /** Additions of the box tree, the grid and of the centred law (written after LAYOUT_TEXT when they apply). */
 export const LAYOUT_TEXT_BOXTREE = 'box tree: node k goes left when θ[node_axis[k]] <= node_split[k]';
 export const LAYOUT_TEXT_GRID =

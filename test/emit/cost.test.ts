@@ -157,10 +157,43 @@ function checkCost(name: string, table: TableFile): void {
             // the multi-level descent)
             let levels = 1;
             let sumsPerPass = 1;
-            if (search !== 'boxtree' && left.length > 0) {
-              const loop = /for \(d = 0u; d < LAW_DEPTH && ref >= 0; d \+= (\d+)u\) \{([\s\S]*?)\n {4}\}/.exec(r.source)!;
-              levels = Number(loop[1]);
-              sumsPerPass = (loop[2].match(/const (float|double) s_\w* = /g) ?? []).length;
+            // the head (capped and broad; added on purpose): its slots and levels read off the C, its
+            // planes checked slot by slot against the tree walked from the root in heap order
+            let headLevels = 0;
+            let headSlots = 0;
+            const headMatch = /\{\n {8}(?:float|double) s_\[(\d+)\];\n {8}uint32_t h_ = 0u;([\s\S]*?)ref = law_node_head_ref\[h_ - (\d+)u\];/.exec(r.source);
+            if (headMatch) {
+              expect(search === 'capped' || search === 'broad').toBe(true);
+              headSlots = Number(headMatch[1]);
+              headLevels = (headMatch[2].match(/h_ = 2u \* h_ \+ 2u - /g) ?? []).length;
+              expect(headSlots).toBe(2 ** headLevels);
+              expect(Number(headMatch[3])).toBe(headSlots - 1);
+              const hp = arrays.get('node_head_plane')!.values.map(round);
+              const href = arrays.get('node_head_ref')!.values;
+              expect(hp.length).toBe(headSlots * (nt + 1));
+              expect(href.length).toBe(headSlots);
+              const tree = r.tree!;
+              const walk = (k: number, ref: number, d: number): void => {
+                if (d === headLevels) {
+                  expect(href[k - (headSlots - 1)]).toBe(ref);
+                  return;
+                }
+                const want = ref >= 0 ? [...tree.hyperplanes.a[tree.nodeHyperplane[ref]], tree.hyperplanes.b[tree.nodeHyperplane[ref]]].map(round) : new Array(nt + 1).fill(0);
+                expect(Array.from({ length: nt + 1 }, (_, j) => hp[j * headSlots + k])).toEqual(want);
+                walk(2 * k + 1, ref >= 0 ? left[ref] : ref, d + 1);
+                walk(2 * k + 2, ref >= 0 ? right[ref] : ref, d + 1);
+              };
+              walk(0, Number(/#define LAW_ROOT \((-?\d+)\)/.exec(r.source)![1]), 0);
+              // the unused slot: a zero plane
+              expect(Array.from({ length: nt + 1 }, (_, j) => hp[j * headSlots + headSlots - 1])).toEqual(new Array(nt + 1).fill(0));
+            } else expect(r.source).not.toContain('node_head');
+            // every capped or broad tree of depth 2 or more has one
+            expect(headMatch !== null).toBe((search === 'capped' || search === 'broad') && r.arrays.maxDepth >= 2);
+            if (search !== 'boxtree' && left.length > 0 && r.source.includes('; d < LAW_DEPTH')) {
+              const loop = /for \(d = (\d+)u; d < LAW_DEPTH && ref >= 0; d \+= (\d+)u\) \{([\s\S]*?)\n {4}\}/.exec(r.source)!;
+              expect(Number(loop[1])).toBe(headLevels);
+              levels = Number(loop[2]);
+              sumsPerPass = (loop[3].match(/const (float|double) s_\w* = /g) ?? []).length;
               expect(sumsPerPass).toBe(2 ** levels - 1);
             }
             const stack: [number, number][] = [[Number(rootMatch[1]), 0]];
@@ -177,8 +210,11 @@ function checkCost(name: string, table: TableFile): void {
               // a box-tree node compares one coordinate (no multiplication), a plane node costs nθ
               // the plane descent takes two levels per pass and sums three planes in each (the node's and
               // both children's, a leaf child's slot included; changed on purpose with the paired descent)
-              const tests = search === 'boxtree' ? d : sumsPerPass * Math.ceil(d / levels);
-              macs = Math.max(macs, (search === 'boxtree' ? 0 : tests * nt) + rr * nt + nu * nt);
+              // below a head of H levels: its 2^H sums and H comparisons, then the passes for the rest
+              const passTests = search === 'boxtree' ? d : sumsPerPass * Math.ceil(Math.max(0, d - headLevels) / levels);
+              const sums = passTests + headSlots;
+              const tests = passTests + headLevels;
+              macs = Math.max(macs, (search === 'boxtree' ? 0 : sums * nt) + rr * nt + nu * nt);
               cmps = Math.max(cmps, tests + rr * rowCmp + (leafStart[leaf + 1] - leafStart[leaf]) * regionCmp);
             }
             expect(r.source).toContain(`#define LAW_DEPTH ${depth}u`);

@@ -25,7 +25,9 @@ function instrument(source: string): string {
   const rows = s.match(/for \(i = [^;]+; i < end; \+\+i\) \{/g) ?? [];
   expect(rows.length).toBe(1);
   s = s.replace(/(for \(i = [^;]+; i < end; \+\+i\) \{)/, '$1\n        ++lat_rows;');
-  s = s.replace(/(for \(d = 0u; d < LAW_DEPTH && ref >= 0; [^)]+\) \{)/, '$1\n        ++lat_passes;');
+  s = s.replace(/(for \(d = \d+u; d < LAW_DEPTH && ref >= 0; [^)]+\) \{)/, '$1\n        ++lat_passes;');
+  // the head of a plane descent (capped, broad) counts as one pass
+  s = s.replace(/(\n {8}uint32_t h_ = 0u;)/, '$1\n        ++lat_passes;');
   return s;
 }
 

@@ -396,15 +396,52 @@ ${bestLoop('    ', '0u', `${P.toUpperCase()}_REGIONS`, 'k')}}
       if (level === 0) dl.push(`        ref = k_[s_ <= a_[${NT}]]; /* loaded first, then indexed: no branch */`);
       else dl.push(`        const int32_t v_${x} = c_${x} >= 0 ? k_${x}[s_${x} <= a_${x}[${NT}]] : c_${x};`);
     }
-  const descent = `    /* descent: at most DEPTH hyperplane tests on the path, left when a.theta <= b, ${L} levels per
-     * pass; each node's plane is stored inline (NT coefficients, then b). The planes of the node and
+  // the head (headArrays in arrays.ts): the top H levels' planes summed side by side from fixed
+  // addresses, then H comparisons walk the slots; the loop goes on below depth H
+  const H = ar.search === 'boxtree' ? 0 : ar.headLevels;
+  const K = 2 ** H - 1;
+  const W = K + 1; // slots summed: the K nodes and one unused zero plane (headArrays)
+  const headSum = unroll
+    ? `            s_[k] = ${unrolledSum(n, (j) => `${P}_node_head_plane[${j === 0 ? '' : `${j * W}u + `}k] * theta[${j}]`)};`
+    : `            uint32_t j_;
+            ${real} s = ${P}_node_head_plane[k] * theta[0];
+            for (j_ = 1u; j_ < ${NT}; ++j_) {
+                s += ${P}_node_head_plane[j_ * ${W}u + k] * theta[j_];
+            }
+            s_[k] = s;`;
+  const head =
+    H > 0
+      ? `    /* head: the planes of the tree's top ${H} levels (${K} slots in heap order, slot k's children 2k + 1
+     * left and 2k + 2 right, and an unused zero slot ${K}; stored column by column: coefficient j of slot
+     * k at node_head_plane[j*${W} + k], b at j = NT) are summed side by side, each as the descent below
+     * sums a node's plane, then ${H} comparisons walk the slots; a leaf above depth ${H} fills its slots
+     * with a zero plane and is reached on both sides. The descent goes on from the node (or leaf)
+     * below the slot reached */
+    {
+        ${real} s_[${W}];
+        uint32_t h_ = 0u;
+        for (k = 0u; k < ${W}u; ++k) {
+${headSum}
+        }
+${Array.from({ length: H }, () => `        h_ = 2u * h_ + 2u - (uint32_t)(s_[h_] <= ${P}_node_head_plane[${n * W}u + h_]);`).join('\n')}
+        ref = ${P}_node_head_ref[h_ - ${K}u];
+    }
+`
+      : '';
+  const loopNeeded = ar.maxDepth > H;
+  const descent = `${head}${
+    loopNeeded
+      ? `    /* descent: at most DEPTH hyperplane tests on the path, left when a.theta <= b, ${L} levels per
+     * pass${H > 0 ? ` below the head's ${H}` : ''}; each node's plane is stored inline (NT coefficients, then b). The planes of the node and
      * of its descendants ${L - 1} level${L > 2 ? 's' : ''} down are summed in the same pass, so a pass waits for one
      * chain of loads and sums instead of ${L}; a node on the way that is a leaf is taken as it is
      * (its plane slot reads node 0, unused) */
-    for (d = 0u; d < ${U}_DEPTH && ref >= 0; d += ${L}u) {
+    for (d = ${H}u; d < ${U}_DEPTH && ref >= 0; d += ${L}u) {
 ${dl.join('\n')}
     }
-`;
+`
+      : ''
+  }`;
   const boxDescent = `    /* descent: at most DEPTH coordinate tests, left when theta[axis] <= split (no multiplication) */
     for (d = 0u; d < ${P.toUpperCase()}_DEPTH && ref >= 0; ++d) {
         child[0] = ${P}_node_right[ref];
@@ -442,7 +479,7 @@ ${gridCell}`
 int ${P}_eval(const ${real} theta[${NT}], ${real} u[${NU}])
 {
     int32_t ref = ${P.toUpperCase()}_ROOT;
-    uint32_t ${ar.maxDepth > 0 ? 'd, ' : ''}k, leaf;${ar.maxDepth > 0 && box ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
+    uint32_t ${ar.maxDepth > (box ? 0 : H) ? 'd, ' : ''}k, leaf;${ar.maxDepth > 0 && box ? '\n    int32_t child[2];' : ''}${ar.bestFit ? `\n    int32_t best = -1;\n    ${real} best_res = (${real})0;` : ''}
 ${ar.maxDepth > 0 ? (box ? boxDescent : descent) : ''}    if (ref >= 0) {
         return -1;
     }

@@ -519,14 +519,16 @@ export const PLANE_HEAD_MACS = 160;
 
 /**
  * Levels of the head of a `capped`/`broad` descent in the generated float/double C: the most, at
- * least 2 and at most the tree's depth, whose 2^H planes (headArrays) take at most PLANE_HEAD_MACS
- * multiply-adds (5 levels up to nθ = 5, 4 up to nθ = 10, 3 up to 20, then 2); 0 for a tree of
- * depth < 2. The plain tree keeps the loop alone (the cross-build count bounds its loop by depth).
+ * least 2 and at most the tree's depth − 1, whose 2^H planes (headArrays) take at most
+ * PLANE_HEAD_MACS multiply-adds (5 levels up to nθ = 5, 4 up to nθ = 10, 3 up to 20, then 2); 0 for
+ * a tree of depth < 3. Below the depth so that the loop stays and reads the node arrays (a head
+ * covering the whole tree left them unread: gcc -Wunused-const-variable on a 5-D tree of depth 5).
+ * The plain tree keeps the loop alone (the cross-build count bounds its loop by depth).
  */
 export function planeHeadLevels(ntheta: number, maxDepth: number): number {
   let h = 0;
-  while (h + 1 <= maxDepth && 2 ** (h + 1) * ntheta <= PLANE_HEAD_MACS) h++;
-  return h >= 2 ? h : maxDepth >= 2 ? 2 : 0;
+  while (h + 1 <= maxDepth - 1 && 2 ** (h + 1) * ntheta <= PLANE_HEAD_MACS) h++;
+  return h >= 2 ? h : maxDepth - 1 >= 2 ? 2 : 0;
 }
 
 /**

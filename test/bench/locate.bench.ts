@@ -16,6 +16,10 @@
  * solves in well under a minute here. The family used before (LEGACY_HORIZON: h = 0.2, θ in
  * [−2, 2]ⁿ, N shrinking from 20 to 5 with the dimension, so the online QP shrank too) is measured
  * beside it for the summary line only (chosen structure, C vs QP), so both ratios are on record.
+ *
+ * The chosen structure, when its descent has a head (EmitArrays.headLevels), is timed again with and
+ * without it, alternated on the same points (HEAD_ALTERNATIONS), so the head's gain is on record from
+ * one run. TESSERA_BENCH_ONLY=5,6 (a list of θ dimensions, and `crane`) runs only those parts.
  */
 import { execFileSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
@@ -195,6 +199,9 @@ function median(xs: number[]): number {
 const OTHER_SAMPLE = 4000;
 const OTHER_FACET = 6000;
 
+/** Alternations of the chosen structure with and without its descent head (same points, same run). */
+const HEAD_ALTERNATIONS = 3;
+
 /** Points of the latency runs (C and QP alike): the first LAT_POINTS of the seeded sample. */
 const LAT_POINTS = 2000;
 
@@ -276,7 +283,12 @@ export async function run(): Promise<void> {
   out.push(
     `  dim regions | structure   bytes(total)  location/region-data  worst MACs  worst cmps  C median/p99 ns  QP/C  float check  build s. The chosen structure gets the full float certificate (certifyFloat: 20 000 seeded points, every facet point and the rounding window of every shared facet); the others the same comparison with the double law on ${OTHER_SAMPLE} seeded points and an evenly spaced ${OTHER_FACET}-point subset of those facet and window points (the full certificate of every structure was half of this bench's time)`,
   );
+  // TESSERA_BENCH_ONLY=5,6 runs those θ dimensions only (both families); the crane part runs when it is
+  // unset or lists `crane`
+  const only = process.env.TESSERA_BENCH_ONLY?.split(',').map((x) => x.trim()) ?? null;
+  const head: string[] = ['  descent head (same run, same points): the chosen structure with its head and without (headLevels 0), alternated, per-point medians of each'];
   for (const n of [2, 3, 4, 5, 6]) {
+    if (only && !only.includes(String(n))) continue;
     const m = FAMILY[n];
     const problem = familyProblem(n);
     const solved = cachedSolve(parseProblem(problem, `chain-${n}d (bench)`), problem, SOLVE_SECONDS);
@@ -322,6 +334,24 @@ export async function run(): Promise<void> {
       out.push(
         `      ${c.search.padEnd(10)} ${String(c.cost.bytes.float.total).padStart(9)} B  ${(c.location / c.regions).toFixed(3).padStart(6)}  ${String(c.cost.worstMultiplyAdds).padStart(8)}  ${String(c.cost.worstComparisons).padStart(8)}  ${lat.median.toFixed(0).padStart(6)}/${lat.p99.toFixed(0).padEnd(6)}  ${ratio.toFixed(0).padStart(6)}x  ${cert.safe ? 'SAFE' : 'NOT SAFE'} (max |du| ${cert.maxAbsDiff.toPrecision(2)} at tol ${cert.tolerance.toPrecision(2)}, ${cert.lostInFloat} lost${typeof cert.points === 'number' ? ` on ${cert.points} points` : `, full certificate on ${cert.points.total} points`})  ${c.buildSeconds.toFixed(1)} s${c.rejected ? `  [not eligible: ${c.rejected}]` : ''}${c.search === chosen.search ? '  <- chosen' : ''}`,
       );
+      if (isChosen && build.headLevels > 0)
+        timed('head on/off, alternated', () => {
+          // the same build without its head (the loop from the root), then both alternated
+          const flat = { ...build, headLevels: 0 };
+          const f2 = cTarget.files(flat, { prefix: 'law', table, tableHash: hash, searchReason: [`${c.search} search without head (bench)`] });
+          const r2 = { header: f2.find((f) => f.name === 'law.h')!.text, source: f2.find((f) => f.name === 'law.c')!.text };
+          const on = [lat.median];
+          const off: number[] = [];
+          for (let k = 0; k < HEAD_ALTERNATIONS; k++) {
+            off.push(cLatency(dir, `${n}-${c.search}-nohead`, r2, latPts, false).median);
+            on.push(cLatency(dir, `${n}-${c.search}-head`, r, latPts, false).median);
+          }
+          const mOn = median(on);
+          const mOff = median(off);
+          head.push(
+            `    ${n}-D ${c.search.padEnd(7)} head ${build.headLevels} levels: C median ${mOn.toFixed(0)} ns (${on.map((x) => x.toFixed(0)).join(' ')}), without ${mOff.toFixed(0)} ns (${off.map((x) => x.toFixed(0)).join(' ')}); QP/C ${((qp.median * 1000) / mOn).toFixed(0)}x with, ${((qp.median * 1000) / mOff).toFixed(0)}x without  (load ${load()})`,
+          );
+        });
       if (c.search === chosen.search)
         summary.push(
           `    ${n}-D ${String(table.regions.length).padStart(5)} regions  N = ${m.horizon}, nz = ${mpqp.nz}  ${c.search.padEnd(10)} C median ${lat.median.toFixed(0)}/${lat.p99.toFixed(0)} ns (timer pair ${lat.timer.toFixed(0)} ns subtracted), mean ${lat.pass.toFixed(0)} ns  QP median ${qp.median.toFixed(1)}/${qp.p99.toFixed(1)} µs, mean ${qp.mean.toFixed(1)} µs  ratio of medians ${ratio.toFixed(0)}x ${ratio >= 1000 ? '≥' : '<'} 1000x (of means ${((qp.mean * 1000) / lat.pass).toFixed(0)}x)  float ${cert.safe ? 'SAFE' : 'NOT SAFE'} ${cert.lostInFloat} lost  (load ${load()})`,
@@ -342,9 +372,9 @@ export async function run(): Promise<void> {
       );
     });
   }
-  out.push(...summary, ...legacy);
+  out.push(...summary, ...(head.length > 1 ? head : []), ...legacy);
   // the 4-D example compiled for the usual single-precision target
-  timed('crane-trolley-4d for Cortex-M4F', () => {
+  if (!only || only.includes('crane')) timed('crane-trolley-4d for Cortex-M4F', () => {
     const file = join(import.meta.dirname, '../../examples/crane-trolley-4d.json');
     const loaded = loadProblem(file);
     const solved = cachedSolve(loaded, readFileSync(file, 'utf8'), 300);

@@ -7,6 +7,10 @@
 import { describe, expect, it } from 'vitest';
 import { emitC } from '../../src/emit/index.js';
 import { arraysToJson } from '../../src/emit/export.js';
+import { evaluateArrays, planeHeadLevels } from '../../src/emit/arrays.js';
+import { emitSelfTest } from '../../src/emit/targets/c.js';
+import { sampleBox } from '../../src/emit/sample.js';
+import { locateSequential } from '../../src/table/table.js';
 import type { TableFile } from '../../src/table/format.js';
 import type { BoxTree } from '../../src/partition/boxtree.js';
 import type { GridIndex } from '../../src/emit/grid.js';
@@ -187,8 +191,10 @@ function checkCost(name: string, table: TableFile): void {
               // the unused slot: a zero plane
               expect(Array.from({ length: nt + 1 }, (_, j) => hp[j * headSlots + headSlots - 1])).toEqual(new Array(nt + 1).fill(0));
             } else expect(r.source).not.toContain('node_head');
-            // every capped or broad tree of depth 2 or more has one
-            expect(headMatch !== null).toBe((search === 'capped' || search === 'broad') && r.arrays.maxDepth >= 2);
+            // every capped or broad tree of depth 3 or more has one, shallower than the tree
+            expect(headMatch !== null).toBe((search === 'capped' || search === 'broad') && r.arrays.maxDepth >= 3);
+            expect(headLevels).toBe(r.arrays.headLevels);
+            if (headMatch) expect(headLevels).toBeLessThan(r.arrays.maxDepth);
             if (search !== 'boxtree' && left.length > 0 && r.source.includes('; d < LAW_DEPTH')) {
               const loop = /for \(d = (\d+)u; d < LAW_DEPTH && ref >= 0; d \+= (\d+)u\) \{([\s\S]*?)\n {4}\}/.exec(r.source)!;
               expect(Number(loop[1])).toBe(headLevels);
@@ -229,6 +235,43 @@ function checkCost(name: string, table: TableFile): void {
 checkCost('example buck-duty-cycle', exampleTable('buck-duty-cycle.json').table);
 checkCost('synthetic 3-D arrangement, 2 inputs', arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 6, seed: 9, nu: 2 }));
 checkCost('one region (the tree is a single leaf)', gridTable(1, () => ({ F: [[0.5, -0.25]], g: [0.1] })));
+
+describe('head levels of a plane descent', () => {
+  it('takes the most levels whose 2^H planes fit 160 multiply-adds, at least 2 and below the depth', () => {
+    // 2^H·nθ ≤ 160: 32·5, 16·10, 8·20, 4·40 (arithmetic)
+    expect(planeHeadLevels(5, 20)).toBe(5);
+    expect(planeHeadLevels(6, 20)).toBe(4);
+    expect(planeHeadLevels(10, 20)).toBe(4);
+    expect(planeHeadLevels(20, 20)).toBe(3);
+    expect(planeHeadLevels(21, 20)).toBe(2);
+    expect(planeHeadLevels(200, 20)).toBe(2);
+    expect(planeHeadLevels(2, 40)).toBe(6);
+    // below the tree's depth: the loop stays (it reads the node arrays)
+    expect(planeHeadLevels(5, 5)).toBe(4);
+    expect(planeHeadLevels(5, 3)).toBe(2);
+    expect(planeHeadLevels(5, 2)).toBe(0);
+    expect(planeHeadLevels(5, 0)).toBe(0);
+  });
+
+  it('a head one level short of a shallow tree: strict C99 compiles, equals the evaluator and sequential search', () => {
+    // a 3-D arrangement whose capped tree is 6 levels deep: a head of 5 (a tree of depth 5 with a
+    // head of 5 left the node arrays unread: -Werror=unused-const-variable, fixed on purpose)
+    const table = arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 8, seed: 4 });
+    const points = sampleBox(table.box, 2000, 17);
+    for (const precision of ['float', 'double'] as const) {
+      const r = emitC(table, { precision, search: 'capped', prefix: 'law' });
+      expect(r.arrays.maxDepth).toBe(6);
+      expect(r.arrays.headLevels).toBe(5);
+      const expected = points.map((p) => evaluateArrays(r.arrays, p));
+      const { exe } = compile('head-short', { 'law.h': r.header, 'law.c': r.source, 'law_selftest.c': emitSelfTest(r.arrays, 'law', points, expected) }, ['law.c', 'law_selftest.c']);
+      const res = run(exe);
+      expect(res.stdout.trim().split('\n').pop()).toBe(`selftest: ${points.length} points, 0 mismatches`);
+      // double builds locate by first fit: every region as sequential search in index order finds it
+      // (the table's own containment test, common practice for a partition)
+      if (precision === 'double') points.forEach((p, i) => expect(expected[i].region).toBe(locateSequential(table.regions, p)));
+    }
+  });
+});
 
 describe('one-region table', () => {
   it('emits a tree of depth 0 that compiles and evaluates', () => {

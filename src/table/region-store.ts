@@ -49,6 +49,8 @@ export class RegionStore {
   /** per region: block · 2^26 + its start in that integer block (its double block and start are stored there); −1 − k for the k-th object kept as it is */
   private starts: number[] = [];
   private objects: { region: CriticalRegion; box: StoredBox }[] = [];
+  /** per region, its text rendered ahead (`setText`), attached by `get` */
+  private texts: (RegionText | undefined)[] = [];
 
   /** Number of regions held. */
   get length(): number {
@@ -152,7 +154,15 @@ export class RegionStore {
     return index;
   }
 
-  /** The k-th region and its box, as new objects (keys in the order they were given). */
+  /**
+   * Keep the text of the k-th region rendered ahead (`renderRegion` of what `get(k)` gives): `get`
+   * attaches it to the region (`REGION_TEXT`), so a table writer need not render it again.
+   */
+  setText(k: number, text: RegionText | null): void {
+    if (text && this.starts[k] >= 0) this.texts[k] = text;
+  }
+
+  /** The k-th region and its box, as new objects (keys in the order they were given; the text set by `setText` attached as `REGION_TEXT`). */
   get(k: number): { region: CriticalRegion; box: StoredBox } {
     const s = this.starts[k];
     if (s < 0) return this.objects[-1 - s];
@@ -202,8 +212,56 @@ export class RegionStore {
     }
     const lo = vec(nt);
     const hi = vec(nt);
+    const text = this.texts[k];
+    if (text) (region as RegionWithText)[REGION_TEXT] = text;
     return { region, box: { lo, hi } };
   }
+}
+
+/**
+ * A region's JSON text rendered ahead, in two pieces: `body` the members `"A":…,"b":…` and `tail`
+ * the members from `"chebyshev"` to the last (law, and moves and value in a full table), each as
+ * `JSON.stringify` of the whole region writes them. The members a canonical form changes (id,
+ * activeSet's position, the facets' neighbours) are not in it. Rendering on the main thread while
+ * the workers explore takes this work out of the serial tail after the exploration (`tableChunks`
+ * joins the pieces).
+ */
+export interface RegionText {
+  body: string;
+  tail: string;
+}
+
+/**
+ * The symbol under which a region carries its `RegionText` (an own enumerable property: object
+ * spread copies it, `JSON.stringify` and `Object.keys` skip it).
+ */
+export const REGION_TEXT: unique symbol = Symbol('tessera.regionText');
+
+/** A region that may carry its text rendered ahead. */
+export type RegionWithText = CriticalRegion & { [REGION_TEXT]?: RegionText };
+
+/** The `RegionText` of a region with the keys of a lean or full table in order, else null. */
+export function renderRegion(R: CriticalRegion): RegionText | null {
+  const keys = Object.keys(R).join(',');
+  const full = keys === FULL_KEYS;
+  if (!full && keys !== LEAN_KEYS) return null;
+  const body = `"A":${JSON.stringify(R.A)},"b":${JSON.stringify(R.b)}`;
+  let tail = `"chebyshev":${JSON.stringify(R.chebyshev)},"law":${JSON.stringify(R.law)}`;
+  if (full) tail += `,"moves":${JSON.stringify(R.moves)},"value":${JSON.stringify(R.value)}`;
+  return { body, tail };
+}
+
+/**
+ * The JSON text of a region (what `JSON.stringify(R)` gives), from its `REGION_TEXT` when it
+ * carries one and still has the keys of a lean or full table in order, else by `JSON.stringify`.
+ */
+export function regionJson(R: RegionWithText): string {
+  const t = R[REGION_TEXT];
+  if (t) {
+    const keys = Object.keys(R).join(',');
+    if (keys === FULL_KEYS || keys === LEAN_KEYS) return `{"id":${JSON.stringify(R.id)},"activeSet":${JSON.stringify(R.activeSet)},${t.body},"facets":${JSON.stringify(R.facets)},${t.tail}}`;
+  }
+  return JSON.stringify(R);
 }
 
 /** Numbers of a region's record (without the store's two leading integers): `ni` integers, `nf` doubles. */

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { loadProblem, solveProblem } from '../../src/index.js';
-import { RegionBatch, RegionStore, skipPacked, type PackedRegions } from '../../src/table/region-store.js';
+import { REGION_TEXT, RegionBatch, RegionStore, regionJson, renderRegion, skipPacked, type PackedRegions, type RegionWithText } from '../../src/table/region-store.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 
 // Reference: the regions given to the store themselves. What comes back must be the same object
@@ -141,4 +141,30 @@ describe('RegionStore', () => {
     expect(sameBits(store.get(0).region, R)).toBe(true);
     expect(sameBits(store.get(0).box, { lo: [-1, -0], hi: [1, 2] })).toBe(true);
   });
+
+  for (const lean of [false, true])
+    it(`renders a region's table text ahead as JSON.stringify writes it, through a renumbering spread (${lean ? 'lean' : 'full'})`, () => {
+      // Reference: JSON.stringify (ECMAScript's serialisation, V8) of the region itself, what the
+      // table writer wrote before; the text rendered ahead must give the same characters.
+      const { table } = solveProblem(loadProblem(join(examples, 'positioning-axis.yaml')), { lean });
+      const store = new RegionStore();
+      table.regions.forEach((R, i) => {
+        store.add(R, { lo: R.chebyshev.center, hi: R.chebyshev.center });
+        store.setText(i, renderRegion(store.get(i).region));
+      });
+      table.regions.forEach((R, i) => {
+        const back = store.get(i).region as RegionWithText;
+        expect(back[REGION_TEXT]).toBeDefined();
+        expect(regionJson(back)).toBe(JSON.stringify(R));
+        // what the canonical form does: a spread copy with a new id and new neighbour lists keeps the text
+        const renumbered: RegionWithText = { ...back, id: i + 1000, facets: back.facets.map((f, q) => ({ kind: f.kind, row: f.row, neighbours: [q, i] })) };
+        expect(renumbered[REGION_TEXT]).toBe(back[REGION_TEXT]);
+        expect(regionJson(renumbered)).toBe(JSON.stringify(renumbered));
+        // keys of another shape: the text is not used
+        const odd = { ...back, extra: 1 } as RegionWithText;
+        expect(regionJson(odd)).toBe(JSON.stringify(odd));
+        expect(JSON.stringify(odd)).toContain('"extra":1');
+      });
+      expect(renderRegion({ ...table.regions[0], extra: 1 } as CriticalRegion)).toBeNull();
+    });
 });

@@ -3,9 +3,10 @@ import { readTableFile } from '../table/file.js';
 import { InputError, readBytesInput, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
 import { CLI, positive } from './common.js';
-import { endEvaluatePool, evaluateCsvThreaded, startEvaluatePool, type EvaluatePool } from '../table/evaluate-threads.js';
-import { evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, type EvaluateTimes, type FlatPoints } from '../table/points.js';
-import { closeSync, existsSync, openSync, readFileSync, readSync } from 'node:fs';
+import { endEvaluatePool, MIN_BYTES_PER_THREAD, startEvaluatePool, threadCpuSeconds, ThreadedCsv } from '../table/evaluate-threads.js';
+import { csvContext, evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, parsePointsRange, pointsFileHead, pointsHeaderColumns, type EvaluateTimes, type FlatPoints } from '../table/points.js';
+import { closeSync, existsSync, fstatSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
 import { createHash } from 'node:crypto';
 import { checkOutputPath } from '../io/output.js';
 import { writeFileAtomic } from '../io/atomic.js';
@@ -70,34 +71,112 @@ export function register(program: Command): void {
     .option('--clamp', "saturate u(0) to the table's input limits (inputLimits)")
     .option('--json', 'print JSON instead of CSV')
     .option('-q, --quiet', 'print the values only: no warnings')
-    .option('--threads <n>', 'threads for the CSV output of --points (default 1): the points split into n consecutive ranges, the k-d tree built once and sent to n − 1 worker threads; the same bytes for every n', positive('--threads', true))
+    .option('--threads <n>', 'threads for the CSV output of --points (default: every core): the data lines split into n consecutive ranges, each parsed, located and formatted by its own thread (the k-d tree built once); the same bytes for every n', positive('--threads', true))
     .option('--index <file>', 'keep the point-location index (k-d tree) of the table in FILE.index: read it when it is the index of this table file (its SHA-256), else build it and write it there; a later run then skips the build')
     .option('--times', 'print to stderr where the time went: wall and CPU seconds per stage (start-up, table, points, index, locate, law, format, write) and points per second')
-    .action(async (tablePath: string, opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number; index?: string }) => {
+    .action(async (tablePath: string, opts: EvaluateOpts) => {
       // a bad --index path fails before any work
       if (opts.index) checkIndexPath(opts.index);
       const clock = opts.times ? new StageClock() : null;
-      // the workers start now and load their modules while this thread reads the table and the points
-      const threads = opts.threads ?? 1;
-      const pool: EvaluatePool | null = threads > 1 && opts.points && !opts.json ? startEvaluatePool(threads - 1) : null;
+      // with threads, the workers start now: they load their modules and parse their ranges of the
+      // points file while this thread reads the table
+      const threads = opts.threads ?? availableParallelism();
+      const plan = threads > 1 && opts.points && !opts.json ? startThreaded(opts.points, tablePath, threads, !!opts.index) : null;
       try {
-        await evaluateAction(tablePath, opts, clock, pool);
+        await evaluateAction(tablePath, opts, clock, plan);
       } finally {
-        endEvaluatePool(pool);
+        if (plan) endEvaluatePool(plan.pool);
       }
     });
 }
 
-/** The command's work once the workers (if any) are started; the pool goes to `evaluateCsvThreaded` (the caller ends it in any case). */
-async function evaluateAction(
-  tablePath: string,
-  opts: { points?: string; at?: string; json?: boolean; clamp?: boolean; quiet?: boolean; times?: boolean; threads?: number; index?: string },
-  clock: StageClock | null,
-  pool: EvaluatePool | null,
-): Promise<void> {
+/** The options of `tessera evaluate`. */
+interface EvaluateOpts {
+  points?: string;
+  at?: string;
+  json?: boolean;
+  clamp?: boolean;
+  quiet?: boolean;
+  times?: boolean;
+  threads?: number;
+  index?: string;
+}
+
+/** A threaded CSV run under way: the workers parsing their ranges of the file's bytes (shared memory). */
+interface ThreadedPlan {
+  pool: ReturnType<typeof startEvaluatePool>;
+  csv: ThreadedCsv;
+  head: NonNullable<ReturnType<typeof pointsFileHead>>;
+}
+
+/**
+ * Start the threaded CSV path when the points file is large enough for `threads` threads (at least
+ * MIN_BYTES_PER_THREAD bytes each): the workers start, the file is read into shared memory and each
+ * worker is sent its range of data lines. This thread's range is smaller by the estimated cost of
+ * what it does alone (reading the table, the index, writing). Null (nothing started) when the file is
+ * small, cannot be read (the one-thread path then reports it) or has no data line.
+ */
+function startThreaded(pointsPath: string, tablePath: string, threads: number, indexFile: boolean): ThreadedPlan | null {
+  let size: number;
+  let tableSize: number;
+  try {
+    size = statSync(pointsPath).size;
+    tableSize = statSync(tablePath).size;
+  } catch {
+    return null;
+  }
+  const T = Math.min(threads, Math.floor(size / MIN_BYTES_PER_THREAD));
+  if (T < 2) return null;
+  const pool = startEvaluatePool(T - 1);
+  let bytes: Uint8Array;
+  try {
+    bytes = readShared(pointsPath);
+  } catch {
+    endEvaluatePool(pool);
+    return null;
+  }
+  const head = pointsFileHead(bytes);
+  if (!head) {
+    endEvaluatePool(pool);
+    return null;
+  }
+  // seconds per byte of points (parse, locate, law, format: ~60 ns at 10⁶ 4-D points of 7 digits)
+  // and what this thread does alone: the table (~35 ns per byte), the index (built: ~0.17 µs per byte
+  // of table; read from --index: little), the writes (~2 ns per byte of points); a worker's module load
+  const perByte = 60e-9;
+  const alone = tableSize * (35e-9 + (indexFile ? 2e-9 : 170e-9)) + size * 2e-9;
+  const workerStart = 0.1;
+  const B = size - head.dataStart;
+  const own = Math.max(0, (B + ((workerStart - alone) * (T - 1)) / perByte) / T);
+  const weights = [own, ...Array.from({ length: T - 1 }, () => (B - own) / (T - 1))];
+  const csv = new ThreadedCsv(pool, bytes, head.dataStart, head.cells.length, weights);
+  return { pool, csv, head };
+}
+
+/** A file's bytes in shared memory (a Buffer over a SharedArrayBuffer), so that worker threads read them without a copy. */
+function readShared(path: string): Buffer {
+  const fd = openSync(path, 'r');
+  try {
+    const size = fstatSync(fd).size;
+    const buf = Buffer.from(new SharedArrayBuffer(size));
+    let at = 0;
+    while (at < size) {
+      const got = readSync(fd, buf, at, size - at, at);
+      if (got <= 0) break;
+      at += got;
+    }
+    return buf.subarray(0, at);
+  } finally {
+    closeSync(fd);
+  }
+}
+
+/** The command's work once the workers (if any) are started and parsing (the caller ends them in any case). */
+async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: StageClock | null, plan: ThreadedPlan | null): Promise<void> {
   const table = readTableFile(tablePath);
   clock?.lap('table');
   if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
+  if (plan && (await threadedAction(table, tablePath, opts, clock, plan))) return;
   const points: number[][] = [];
   const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
   // the file's bytes: read by a byte scan, plain cells copied to the output as they are
@@ -117,10 +196,7 @@ async function evaluateAction(
     indexWall = (performance.now() - w0) / 1000;
     indexCpu = cpuSeconds() - c0;
   }
-  if (!opts.quiet && !table.stats.complete)
-    process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
-  if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
-    process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
+  warnings(table, tablePath, opts, clamp);
   if (opts.json) {
     const slackBlocks = (table.layout?.z ?? []).filter((b) => b.kind === 'stateSlack' || b.kind === 'outputSlack');
     if (!opts.quiet && table.lean && slackBlocks.length > 0)
@@ -140,9 +216,14 @@ async function evaluateAction(
   }
   // streamed in chunks of lines (10⁶ points are ~60 MB of text), each chunk a new byte array
   const times: EvaluateTimes = { index: indexWall, locate: 0, law: 0, format: 0, cpu: { index: indexCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+  const chunks = evaluateCsvBytes(table, bytes, flat, points, { clamp, times, index });
+  await writeCsv(chunks, clock, times, false, flat.count + points.length);
+}
+
+/** Write the CSV chunks to stdout; with --times, print the stage line (the CSV stage split as `times` and the writes measured it). */
+async function writeCsv(chunks: Iterable<Uint8Array> | AsyncIterable<Uint8Array>, clock: StageClock | null, times: EvaluateTimes, threaded: boolean, count: number): Promise<void> {
   let write = 0;
   let writeCpu = 0;
-  const chunks = pool ? evaluateCsvThreaded(table, bytes, flat, points, pool, { clamp, times, index }) : evaluateCsvBytes(table, bytes, flat, points, { clamp, times, index });
   for await (const chunk of chunks) {
     const w0 = performance.now();
     const c0 = clock ? cpuSeconds() : 0;
@@ -166,11 +247,70 @@ async function evaluateAction(
     const restCpu = csv[2] - rows.reduce((a, r) => a + r[2], 0);
     // with worker threads the rest is mostly waiting for their chunks (the CPU column is the whole
     // process's: the workers' seconds are counted in whichever stage of this thread they overlap)
-    if (pool) rows.push(['wait', Math.max(0, restWall), Math.max(0, restCpu)]);
+    if (threaded) rows.push(['wait', Math.max(0, restWall), Math.max(0, restCpu)]);
     else rows[rows.length - 1] = ['write', write + Math.max(0, restWall), writeCpu + Math.max(0, restCpu)];
     clock.stages.push(...rows);
-    process.stderr.write(clock.line(flat.count + points.length));
+    process.stderr.write(clock.line(count));
   }
+}
+
+/**
+ * The threaded CSV path once the table is read: this thread parses its range, waits for the
+ * workers' parse, reads or builds the index and writes every range's lines in order. False (the
+ * workers ended, nothing printed) when the one-thread path must run instead: the file's columns do
+ * not match θ (its errors are that path's), a line is not a point, the table has no k-d tree, or
+ * too few points.
+ */
+async function threadedAction(table: TableFile, tablePath: string, opts: EvaluateOpts, clock: StageClock | null, plan: ThreadedPlan): Promise<boolean> {
+  const n = table.dims.ntheta;
+  const { csv, head } = plan;
+  const giveUp = (): false => {
+    endEvaluatePool(plan.pool);
+    return false;
+  };
+  if (head.cells.length !== n || table.regions.length < 32) return giveUp();
+  let order: number[] | null = null;
+  if (head.header) {
+    try {
+      order = pointsHeaderColumns(opts.points!, head.line, head.cells, table.thetaNames);
+    } catch {
+      return giveUp();
+    }
+  }
+  const own = parsePointsRange(csv.text, csv.ranges[0][0], csv.ranges[0][1], n);
+  if (!own) return giveUp();
+  const parsed = await csv.parsed();
+  if (!parsed.ok) return giveUp();
+  const extra = opts.at ? parseAt(opts.at, n) : [];
+  clock?.lap('points');
+  const total = own.count + parsed.count + (opts.at ? 1 : 0);
+  const clamp = !!opts.clamp;
+  const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0, cpu: { index: 0, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+  let index: BoxIndex | null = null;
+  if (opts.index) {
+    const w0 = performance.now();
+    const c0 = cpuSeconds();
+    index = indexFor(table, tablePath, opts.index, !!opts.quiet);
+    times.index += (performance.now() - w0) / 1000;
+    times.cpu!.index += cpuSeconds() - c0;
+  }
+  const ctx = csvContext(table, { clamp, index }, times, total);
+  if (!ctx.index) return giveUp();
+  warnings(table, tablePath, opts, clamp);
+  await writeCsv(csv.lines(ctx, own, order, Float64Array.from(extra), undefined, times), clock, times, true, total);
+  if (clock) {
+    const f = (x: number): string => (Number.isFinite(x) ? x.toFixed(2) : '?');
+    process.stderr.write(`tessera: thread CPU seconds: main ${f(threadCpuSeconds())}, ${csv.workerCpu.map((c, w) => `worker ${w + 1} ${f(c)}`).join(', ')}; points per thread ${[own.count, ...csv.workerCounts].join(', ')}\n`);
+  }
+  return true;
+}
+
+/** The warnings of a CSV or JSON run (not with -q): an incomplete table, --clamp without limits. */
+function warnings(table: TableFile, tablePath: string, opts: EvaluateOpts, clamp: boolean): void {
+  if (!opts.quiet && !table.stats.complete)
+    process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
+  if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
+    process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
 }
 
 /** `--index`: a file name ending in .index whose directory accepts a new file (checked when the file is not there yet). */

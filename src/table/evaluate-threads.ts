@@ -1,32 +1,33 @@
 /**
- * `tessera evaluate --threads N` (CSV path): the points split into N consecutive ranges, the first
- * written on this thread, the others on worker threads (src/table/evaluate-worker.ts), each sent the
- * k-d tree built here once (`BoxIndex.state()`), the packed laws and its own points and input bytes.
- * Every line depends only on its point (`csvLines`), so the ranges joined in order are the bytes of
- * the one-thread run. Node only (worker_threads).
+ * `tessera evaluate --threads N` (CSV path): the points file's data lines split into N consecutive
+ * byte ranges (at line ends), the first for this thread, the others for worker threads
+ * (src/table/evaluate-worker.ts). The file's bytes are read once into shared memory; each worker
+ * parses its range as soon as it gets it (while this thread reads the table and the index), then,
+ * sent the table's context (the k-d tree as `BoxIndex.state()`, the packed laws, the clamp and the
+ * header's column order), locates, evaluates and formats its lines into byte chunks. Every line
+ * depends only on its point (`csvLines`), so the ranges joined in order are the bytes of the
+ * one-thread run. A range that does not parse cleanly (a line that is not a point) makes the caller
+ * read the whole file the one-thread way, which reports the first bad line as it always has.
+ * Node only (worker_threads).
  */
 import { Worker } from 'node:worker_threads';
+import { readFileSync } from 'node:fs';
 import { BoxIndex, type BoxIndexState } from './boxindex.js';
-import { csvContext, csvLines, csvPoints, type CsvContext, type EvaluateTimes, type FlatPoints } from './points.js';
-import type { EvaluateOptions } from './points.js';
-import type { TableFile } from './format.js';
+import { csvLines, orderRangePoints, parsePointsRange, type CsvContext, type EvaluateTimes, type RangePoints } from './points.js';
 
-/** What a worker is sent: its points (numbered from 0) and the table's context with the tree as state. */
-export interface EvaluateJob {
-  context: Omit<CsvContext, 'index'> & { index: BoxIndexState };
-  text: Uint8Array;
-  values: Float64Array;
-  fileCount: number;
-  from: Int32Array;
-  to: Int32Array;
-  count: number;
-  chunkPoints?: number;
-}
+/** What a worker is sent: first its range to parse, then the table's context (or `stop`). */
+export type EvaluateJob =
+  | { type: 'parse'; text: Uint8Array; start: number; end: number; n: number }
+  | { type: 'run'; context: Omit<CsvContext, 'index'> & { index: BoxIndexState }; order: number[] | null; chunkPoints?: number };
 
-/** What a worker sends back: byte chunks in order, then `done` with its stage seconds. */
-export type EvaluateWorkerMessage = { type: 'chunk'; bytes: Uint8Array } | { type: 'done'; times: { locate: number; law: number; format: number } } | { type: 'error'; message: string };
+/** What a worker sends back: `parsed` (count −1: a line that is not a point), then byte chunks in order, then `done` with its stage seconds. */
+export type EvaluateWorkerMessage =
+  | { type: 'parsed'; count: number; seconds: number }
+  | { type: 'chunk'; bytes: Uint8Array }
+  | { type: 'done'; times: { locate: number; law: number; format: number }; cpu: number }
+  | { type: 'error'; message: string };
 
-/** Workers started ahead of the table read (they load their modules meanwhile); `evaluateCsvThreaded` uses or ends them. */
+/** Workers started ahead of the table read (they load their modules meanwhile); `ThreadedCsv` uses or ends them. */
 export interface EvaluatePool {
   workers: Worker[];
 }
@@ -46,123 +47,193 @@ export function endEvaluatePool(pool: EvaluatePool | null): void {
   if (pool) for (const w of pool.workers) void w.terminate();
 }
 
-/** Fewer points than this per extra thread are not worth a worker (its start-up and warm-up). */
-export const MIN_POINTS_PER_THREAD = 50_000;
+/** Fewer bytes of points file than this per thread are not worth a worker (its start-up and warm-up): ~25 000 lines of 4 cells at 7 digits. */
+export const MIN_BYTES_PER_THREAD = 1 << 20;
 
 /**
- * `evaluateCsvBytes` on `1 + pool.workers.length` threads: the same byte chunks, in order. Falls
- * back to one thread (ending the workers) when the table has no k-d tree (< 32 regions) or there are
- * fewer than MIN_POINTS_PER_THREAD points per thread. `times` gets this thread's stages; the
- * workers' come back in `workerTimes` (summed).
+ * The ends of `weights.length` consecutive ranges of text[start, end): range t ends after the first
+ * LF at or beyond start + (end − start)·(w_0 + … + w_t)/Σw (or at `end`). Ranges may be empty.
  */
-export async function* evaluateCsvThreaded(
-  table: TableFile,
-  input: Uint8Array,
-  points: FlatPoints,
-  extra: number[][],
-  pool: EvaluatePool,
-  options: EvaluateOptions & { chunkPoints?: number; times?: EvaluateTimes; workerTimes?: { locate: number; law: number; format: number } } = {},
-): AsyncGenerator<Uint8Array> {
-  const n = table.dims.ntheta;
-  if (points.ntheta !== n) throw new Error(`points have ${points.ntheta} entries, the table expects ${n}`);
-  const times = options.times ?? { index: 0, locate: 0, law: 0, format: 0 };
-  const ctx = csvContext(table, options, times, points.count + extra.length);
-  const all = csvPoints(points, extra);
-  const total = all.length / Math.max(n, 1);
-  const text = points.count > 0 ? input : new Uint8Array(0);
-  const pts = { text, values: all, fileCount: points.count, from: points.from, to: points.to };
-  const threads = Math.min(1 + pool.workers.length, Math.floor(total / MIN_POINTS_PER_THREAD));
-  if (!ctx.index || threads < 2) {
-    endEvaluatePool(pool);
-    yield* csvLines(ctx, pts, 0, total, true, options.chunkPoints, times, table.regions);
-    return;
-  }
-  for (const w of pool.workers.slice(threads - 1)) void w.terminate();
-  const used = pool.workers.slice(0, threads - 1);
-  // consecutive ranges, this thread first (its chunks go out while the workers run)
-  const bounds = Array.from({ length: threads + 1 }, (_, t) => Math.round((t * total) / threads));
-  const state = ctx.index.state();
-  const queues = used.map((worker, w) => {
-    const k0 = bounds[w + 1];
-    const k1 = bounds[w + 2];
-    // the input bytes of this range's file points only, the cell offsets moved to match
-    const f0 = Math.min(k1, points.count);
-    let lo = text.length;
-    let hi = 0;
-    for (let q = k0 * n; q < f0 * n; q++)
-      if (points.from[q] >= 0) {
-        lo = Math.min(lo, points.from[q]);
-        hi = Math.max(hi, points.to[q]);
-      }
-    if (lo > hi) lo = hi = 0;
-    const from = points.from.slice(Math.min(k0, f0) * n, f0 * n);
-    const to = points.to.slice(Math.min(k0, f0) * n, f0 * n);
-    for (let q = 0; q < from.length; q++)
-      if (from[q] >= 0) {
-        from[q] -= lo;
-        to[q] -= lo;
-      }
-    const job: EvaluateJob = {
-      context: { ...ctx, index: state },
-      // a copy (a Buffer's slice is a view of the whole file, which the transfer would take away)
-      text: new Uint8Array(text.subarray(lo, hi)),
-      values: all.slice(k0 * n, k1 * n),
-      fileCount: Math.max(0, f0 - k0),
-      from,
-      to,
-      count: k1 - k0,
-      chunkPoints: options.chunkPoints,
-    };
-    const queue = { chunks: [] as Uint8Array[], done: false, error: null as Error | null, wake: null as (() => void) | null };
-    const poke = (): void => {
-      const f = queue.wake;
-      queue.wake = null;
-      f?.();
-    };
-    worker.on('message', (m: EvaluateWorkerMessage) => {
-      if (m.type === 'chunk') queue.chunks.push(m.bytes);
-      else if (m.type === 'done') {
-        queue.done = true;
-        if (options.workerTimes) {
-          options.workerTimes.locate += m.times.locate;
-          options.workerTimes.law += m.times.law;
-          options.workerTimes.format += m.times.format;
-        }
-      } else queue.error = new Error(`evaluate worker: ${m.message}`);
-      poke();
-    });
-    worker.on('error', (e: Error) => {
-      queue.error = e;
-      poke();
-    });
-    worker.on('exit', (code) => {
-      if (!queue.done && !queue.error) queue.error = new Error(`evaluate worker ended (exit ${code}) before its points were done`);
-      poke();
-    });
-    worker.postMessage(job, [job.text.buffer as ArrayBuffer, job.values.buffer as ArrayBuffer, job.from.buffer as ArrayBuffer, job.to.buffer as ArrayBuffer]);
-    return queue;
-  });
-  try {
-    yield* csvLines(ctx, pts, 0, bounds[1], true, options.chunkPoints, times, table.regions);
-    for (const queue of queues) {
-      for (;;) {
-        if (queue.error) throw queue.error;
-        const c = queue.chunks.shift();
-        if (c) yield c;
-        else if (queue.done) break;
-        else await new Promise<void>((resolve) => (queue.wake = resolve));
+export function splitLines(text: Uint8Array, start: number, end: number, weights: number[]): [number, number][] {
+  const total = weights.reduce((a, b) => a + b, 0);
+  const out: [number, number][] = [];
+  let a = start;
+  let acc = 0;
+  for (let t = 0; t < weights.length; t++) {
+    acc += weights[t];
+    let b = end;
+    if (t < weights.length - 1) {
+      const target = start + Math.floor(((end - start) * acc) / total);
+      if (target <= a) b = a;
+      else {
+        const lf = text.indexOf(10, target - 1);
+        b = lf < 0 || lf >= end ? end : lf + 1;
       }
     }
-  } finally {
-    for (const w of used) void w.terminate();
+    out.push([a, b]);
+    a = b;
+  }
+  return out;
+}
+
+/** One worker's side of a threaded run: its parse outcome and, later, its chunks. */
+interface WorkerQueue {
+  worker: Worker;
+  parsed: Promise<number>;
+  parseSeconds: number;
+  chunks: Uint8Array[];
+  done: boolean;
+  error: Error | null;
+  wake: (() => void) | null;
+}
+
+/**
+ * The threaded CSV path, made before the table is read: the workers are sent ranges 1 … N − 1 of the
+ * data lines (`splitLines` of [dataStart, end) with `weights`, range 0 for this thread) and start
+ * parsing them at once. `parsed()` tells whether every range parsed; `lines` writes the output.
+ */
+export class ThreadedCsv {
+  readonly ranges: [number, number][];
+  private readonly queues: WorkerQueue[];
+  /** seconds the workers spent on their parse (summed), known once `parsed()` resolved */
+  parseSeconds = 0;
+  /** the workers' locate/law/format seconds (summed), known once `lines` ended */
+  readonly workerTimes = { locate: 0, law: 0, format: 0 };
+  /** each worker's point count (−1: its range did not parse), known once `parsed()` resolved */
+  workerCounts: number[] = [];
+  /** each worker's thread CPU seconds (`threadCpuSeconds`, NaN where unknown), known once `lines` ended */
+  readonly workerCpu: number[] = [];
+
+  constructor(
+    private readonly pool: EvaluatePool,
+    readonly text: Uint8Array,
+    dataStart: number,
+    readonly n: number,
+    weights: number[],
+  ) {
+    this.ranges = splitLines(text, dataStart, text.length, weights);
+    this.queues = pool.workers.slice(0, weights.length - 1).map((worker, w) => {
+      const [start, end] = this.ranges[w + 1];
+      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, chunks: [], done: false, error: null, wake: null };
+      let parsedResolve: (count: number) => void = () => {};
+      q.parsed = new Promise<number>((resolve) => (parsedResolve = resolve));
+      const poke = (): void => {
+        const f = q.wake;
+        q.wake = null;
+        f?.();
+      };
+      worker.on('message', (m: EvaluateWorkerMessage) => {
+        if (m.type === 'parsed') {
+          q.parseSeconds = m.seconds;
+          parsedResolve(m.count);
+        } else if (m.type === 'chunk') q.chunks.push(m.bytes);
+        else if (m.type === 'done') {
+          q.done = true;
+          this.workerTimes.locate += m.times.locate;
+          this.workerTimes.law += m.times.law;
+          this.workerTimes.format += m.times.format;
+          this.workerCpu[w] = m.cpu;
+        } else {
+          q.error = new Error(`evaluate worker: ${m.message}`);
+          parsedResolve(-1);
+        }
+        poke();
+      });
+      worker.on('error', (e: Error) => {
+        q.error = e;
+        parsedResolve(-1);
+        poke();
+      });
+      worker.on('exit', (code) => {
+        if (!q.done && !q.error) q.error = new Error(`evaluate worker ended (exit ${code}) before its points were done`);
+        parsedResolve(-1);
+        poke();
+      });
+      worker.postMessage({ type: 'parse', text, start, end, n } satisfies EvaluateJob);
+      return q;
+    });
+    // workers beyond the ranges are not needed
+    for (const w of pool.workers.slice(weights.length - 1)) void w.terminate();
+  }
+
+  /** Whether every worker's range parsed (each line blank, a comment or n finite numbers); the total count of their points. */
+  async parsed(): Promise<{ ok: boolean; count: number }> {
+    const counts = await Promise.all(this.queues.map((q) => q.parsed));
+    this.workerCounts = counts;
+    this.parseSeconds = this.queues.reduce((a, q) => a + q.parseSeconds, 0);
+    return { ok: counts.every((c) => c >= 0), count: counts.reduce((a, c) => a + Math.max(0, c), 0) };
+  }
+
+  /**
+   * The CSV: this thread's points (`own`, range 0, already parsed, file column order) first with the
+   * header, then every worker's range in order, then `extra` (θ order, e.g. `--at`). The workers are
+   * sent the context first, so they run while this thread writes its range. `order` is the header's
+   * column order (null: the file's order is θ's).
+   */
+  async *lines(ctx: CsvContext, own: RangePoints, order: number[] | null, extra: Float64Array, chunkPoints: number | undefined, times: EvaluateTimes): AsyncGenerator<Uint8Array> {
+    const index = ctx.index;
+    if (!index) throw new Error('the threaded CSV path needs the k-d tree');
+    const state = index.state();
+    for (const q of this.queues) q.worker.postMessage({ type: 'run', context: { ...ctx, index: state }, order, chunkPoints } satisfies EvaluateJob);
+    try {
+      orderRangePoints(own, this.n, order);
+      yield* csvLines(ctx, { text: this.text, values: own.values, fileCount: own.count, from: own.from, to: own.to }, 0, own.count, true, chunkPoints, times, null);
+      for (const q of this.queues) {
+        for (;;) {
+          if (q.error) throw q.error;
+          const c = q.chunks.shift();
+          if (c) yield c;
+          else if (q.done) break;
+          else await new Promise<void>((resolve) => (q.wake = resolve));
+        }
+      }
+      const m = extra.length / Math.max(this.n, 1);
+      if (m > 0) yield* csvLines(ctx, { text: new Uint8Array(0), values: extra, fileCount: 0, from: new Int32Array(0), to: new Int32Array(0) }, 0, m, false, chunkPoints, times, null);
+    } finally {
+      endEvaluatePool(this.pool);
+    }
   }
 }
 
-/** Run one job (in a worker): its lines as byte chunks through `send`, then its stage seconds. */
-export function runEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMessage, transfer?: ArrayBuffer[]) => void): void {
+/** A worker's state between its two messages: the points of its range once parsed. */
+let own: RangePoints | null = null;
+let ownText: Uint8Array = new Uint8Array(0);
+let ownN = 0;
+
+/**
+ * Handle one message in a worker: `parse` its range (answered by `parsed`), then `run` (its lines
+ * as byte chunks through `send`, then its stage seconds).
+ */
+export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMessage, transfer?: ArrayBuffer[]) => void): void {
+  if (job.type === 'parse') {
+    const t0 = performance.now();
+    // a Buffer over the shared bytes: its latin1Slice is the fast decoding `Number` reads cells from
+    ownText = Buffer.from(job.text.buffer, job.text.byteOffset, job.text.length);
+    ownN = job.n;
+    own = parsePointsRange(ownText, job.start, job.end, job.n);
+    send({ type: 'parsed', count: own ? own.count : -1, seconds: (performance.now() - t0) / 1000 });
+    return;
+  }
+  if (!own) throw new Error('run before a clean parse');
   const ctx: CsvContext = { ...job.context, index: BoxIndex.fromState(job.context.index) };
   const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0 };
-  const pts = { text: job.text, values: job.values, fileCount: job.fileCount, from: job.from, to: job.to };
-  for (const bytes of csvLines(ctx, pts, 0, job.count, false, job.chunkPoints, times, null)) send({ type: 'chunk', bytes }, [bytes.buffer as ArrayBuffer]);
-  send({ type: 'done', times: { locate: times.locate, law: times.law, format: times.format } });
+  orderRangePoints(own, ownN, job.order);
+  const pts = { text: ownText, values: own.values, fileCount: own.count, from: own.from, to: own.to };
+  for (const bytes of csvLines(ctx, pts, 0, own.count, false, job.chunkPoints, times, null)) send({ type: 'chunk', bytes }, [bytes.buffer as ArrayBuffer]);
+  send({ type: 'done', times: { locate: times.locate, law: times.law, format: times.format }, cpu: threadCpuSeconds() });
+}
+
+/**
+ * CPU seconds (user + system) of the calling thread so far, from /proc/thread-self/stat (Linux; clock
+ * ticks of 1/100 s); NaN where that file is missing. For `--times`: the process's CPU clock adds up
+ * every thread.
+ */
+export function threadCpuSeconds(): number {
+  try {
+    const st = readFileSync('/proc/thread-self/stat', 'latin1');
+    const f = st.slice(st.lastIndexOf(')') + 2).split(' ');
+    return (Number(f[11]) + Number(f[12])) / 100;
+  } catch {
+    return NaN;
+  }
 }

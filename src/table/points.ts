@@ -324,6 +324,52 @@ function cellEnd(text: Uint8Array, a: number, L: number): number {
  * digits, or 16–17 that are the closest of their length with no shorter decimal reading back as v).
  */
 function plainNumber(text: Uint8Array, a: number, L: number): number {
+  // the common case first: [-]digits[.digits], at most 15 digits in all (leading zeros counted), no
+  // exponent; the value M/10^f (M < 10¹⁵, exact) by one correctly rounded division (Clinger's fast
+  // path), as below; anything else is read by the full scan
+  let i = a;
+  let c = i < L ? text[i] : 0;
+  const neg = c === 45;
+  if (neg) c = ++i < L ? text[i] : 0;
+  const st = i;
+  let m = 0;
+  while (c >= 48 && c <= 57) {
+    m = m * 10 + (c - 48);
+    c = ++i < L ? text[i] : 0;
+  }
+  const intDigits = i - st;
+  let fracDigits = 0;
+  const dot = c === 46;
+  if (dot) {
+    c = ++i < L ? text[i] : 0;
+    const fs = i;
+    while (c >= 48 && c <= 57) {
+      m = m * 10 + (c - 48);
+      c = ++i < L ? text[i] : 0;
+    }
+    fracDigits = i - fs;
+  }
+  const total = intDigits + fracDigits;
+  if (total === 0 || total > 15 || c === 101 || c === 69 || (c === 43 && i === a)) return plainNumberFull(text, a, L);
+  scanEnd = i;
+  let v = fracDigits === 0 ? m : m / POW10[fracDigits];
+  if (neg) v = -v;
+  // String's text: no redundant zero (a leading one before other integer digits, a trailing one
+  // after the point, a point with no digit after it), not −0, fixed notation (≥ 10⁻⁶: at most five
+  // zeros after "0.")
+  scanCanon =
+    intDigits > 0 &&
+    (intDigits === 1 || text[st] !== 48) &&
+    (!dot || (fracDigits > 0 && text[i - 1] !== 48)) &&
+    !(neg && v === 0) &&
+    !(intDigits === 1 && text[st] === 48 && fracDigits >= 7 && m < POW10[fracDigits - 6])
+      ? 1
+      : 0;
+  return v;
+}
+
+/** `plainNumber` for every cell of the plain grammar (signs, exponents, 16 digits and more). */
+function plainNumberFull(text: Uint8Array, a: number, L: number): number {
   scanCanon = 0;
   let i = a;
   let neg = false;
@@ -555,6 +601,160 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
   return { count, ntheta: n, values: values.subarray(0, count * n), from: from.subarray(0, count * n), to: to.subarray(0, count * n) };
 }
 
+/** Points parsed from a range of lines of the points file (`parsePointsRange`): file column order. */
+export interface RangePoints {
+  count: number;
+  /** point k's cells at values[k·n …], in the file's column order (not yet in θ order) */
+  values: Float64Array;
+  /** bytes [from, to) of each cell in the whole input when it is what `String` prints, else from = −1 (as `FlatPoints`) */
+  from: Int32Array;
+  to: Int32Array;
+}
+
+/**
+ * The data lines in bytes [start, end) of the points file `text` (start at a line's first byte, end
+ * after an LF or at the end of the input), each of `n` cells: the values `parsePointsFlat` gives for
+ * those lines when none of them is the file's first non-blank line (the header candidate), in the
+ * file's column order, bit for bit (the same plain scan, `Number` for the rest). Null when some line
+ * is neither blank, a comment nor `n` finite numbers: the caller then reads the whole file with
+ * `parsePointsFlat`, which reports the first such line. The arrays are new (or views of new arrays).
+ */
+export function parsePointsRange(text: Uint8Array, start: number, end: number, n: number): RangePoints | null {
+  // sized from the first lines' length, grown by doubling
+  let probe = start;
+  let seen = 0;
+  while (seen < 64 && probe < end) {
+    const lf = text.indexOf(10, probe);
+    if (lf < 0 || lf >= end) break;
+    probe = lf + 1;
+    seen++;
+  }
+  let cap = Math.max(16, seen > 0 && probe > start ? Math.ceil(((end - start) / (probe - start)) * seen * 1.05) + 16 : 16);
+  let values = new Float64Array(cap * n);
+  let from = new Int32Array(cap * n);
+  let to = new Int32Array(cap * n);
+  const grow = (): void => {
+    cap *= 2;
+    const v = new Float64Array(cap * n);
+    v.set(values);
+    values = v;
+    const f = new Int32Array(cap * n);
+    f.set(from);
+    from = f;
+    const t = new Int32Array(cap * n);
+    t.set(to);
+    to = t;
+  };
+  const L = end;
+  const fileEnd = text.length;
+  let count = 0;
+  let pos = start;
+  while (pos < L) {
+    if (count === cap) grow();
+    const o = count * n;
+    // the plain path (parsePointsFlat's): exactly n cells of the plain grammar, each followed by a
+    // comma or the line's end; written in place, kept only when the whole line passes
+    let next = -1;
+    let cells = 0;
+    let a = pos;
+    for (;;) {
+      const v = plainNumber(text, a, L);
+      if (!Number.isFinite(v) || cells === n) break;
+      const e = scanEnd;
+      values[o + cells] = v;
+      from[o + cells] = scanCanon ? a : -1;
+      to[o + cells] = e;
+      cells++;
+      const c = e < L ? text[e] : 10;
+      if (c === 44) a = e + 1;
+      else if (c === 10) {
+        if (cells === n) next = e + 1;
+        break;
+      } else {
+        if (c === 13 && (e + 1 === fileEnd || text[e + 1] === 10) && cells === n) next = e + 2;
+        break;
+      }
+    }
+    if (next >= 0) {
+      count++;
+      pos = next;
+      continue;
+    }
+    // the general path: parsePointsFlat's rules for a line after the first
+    let lf = text.indexOf(10, pos);
+    if (lf < 0 || lf >= L) lf = L;
+    const line = utf8Decoder.decode(text.subarray(pos, lf)).replace(/\r$/, '').trim();
+    pos = lf + 1;
+    if (line === '' || line.startsWith('#')) continue;
+    const cs = line.split(',').map((x) => x.trim());
+    if (cs.length !== n) return null;
+    for (let j = 0; j < n; j++) {
+      const v = Number(cs[j]);
+      if (cs[j] === '' || !Number.isFinite(v)) return null;
+      values[o + j] = v;
+      from[o + j] = -1;
+      to[o + j] = -1;
+    }
+    count++;
+  }
+  return { count, values: values.subarray(0, count * n), from: from.subarray(0, count * n), to: to.subarray(0, count * n) };
+}
+
+/**
+ * Put each point's cells of `p` (file column order) into θ order in place: entry j of a point takes
+ * the cell of column order[j] (`headerColumns`), as `parsePointsFlat` stores them.
+ */
+export function orderRangePoints(p: RangePoints, n: number, order: number[] | null): void {
+  if (!order || order.every((k, j) => k === j)) return;
+  const v = new Float64Array(n);
+  const f = new Int32Array(n);
+  const t = new Int32Array(n);
+  for (let k = 0; k < p.count; k++) {
+    const o = k * n;
+    for (let j = 0; j < n; j++) {
+      v[j] = p.values[o + j];
+      f[j] = p.from[o + j];
+      t[j] = p.to[o + j];
+    }
+    for (let j = 0; j < n; j++) {
+      p.values[o + j] = v[order[j]];
+      p.from[o + j] = f[order[j]];
+      p.to[o + j] = t[order[j]];
+    }
+  }
+}
+
+/**
+ * Where the data of a points file begins, found without the table: the file's first line that is
+ * neither blank nor a comment is a header when none of its cells reads as a number (`parsePointsCsv`'s
+ * rule). Returns its 1-based line number, its trimmed cells, whether it is a header, and the byte
+ * where the data lines start (after it when it is a header, at it otherwise); null when the file has
+ * no such line.
+ */
+export function pointsFileHead(text: Uint8Array): { line: number; cells: string[]; header: boolean; dataStart: number } | null {
+  let pos = 0;
+  let lineNo = 0;
+  const L = text.length;
+  while (pos <= L) {
+    lineNo++;
+    let lf = text.indexOf(10, pos);
+    if (lf < 0) lf = L;
+    const line = utf8Decoder.decode(text.subarray(pos, lf)).replace(/\r$/, '').trim();
+    if (!(line === '' || line.startsWith('#'))) {
+      const cells = line.split(',').map((x) => x.trim());
+      const header = cells.every((x) => x === '' || Number.isNaN(Number(x)));
+      return { line: lineNo, cells, header, dataStart: header ? Math.min(lf + 1, L) : pos };
+    }
+    pos = lf + 1;
+  }
+  return null;
+}
+
+/** `headerColumns` for a caller outside this module (the threaded CSV path). */
+export function pointsHeaderColumns(path: string, line: number, cells: string[], names: string[]): number[] {
+  return headerColumns(path, line, cells, names);
+}
+
 /**
  * The laws of every region packed for evaluation: region r's u(0) = F_r θ + g_r with F_r at
  * F[r·nu·nθ …] (row-major) and g_r at g[r·nu …]. Cached per regions array; `applyAffine`'s order of
@@ -773,120 +973,129 @@ export function csvPoints(points: FlatPoints, extra: number[][]): Float64Array {
 }
 
 /**
- * The CSV lines of points k0 … k1 − 1 of `pts` (the header first when `header`), as byte chunks
- * of about `chunkPoints` lines: the body of `evaluateCsvBytes`, on its own so that worker threads
- * can each write a range (`src/table/evaluate-threads.ts`); the lines depend only on their point,
- * so ranges written apart and joined in order are the bytes of one run. `regions` (the table's) is
- * read only when the context has no index.
+ * The per-chunk work of `csvLines` as plain methods (a loop inside a generator is compiled less well
+ * than one in an ordinary function): locate, evaluate the laws, format into a scratch array.
  */
-export function* csvLines(
-  ctx: CsvContext,
-  pts: CsvPoints,
-  k0: number,
-  k1: number,
-  header: boolean,
-  chunkPoints: number | undefined,
-  times: EvaluateTimes,
-  regions: CriticalRegion[] | null,
-): Generator<Uint8Array> {
-  const n = ctx.ntheta;
-  const nu = ctx.nu;
-  const { index, F, g, constant, clamp, lower: lo, upper: hi } = ctx;
-  const R = ctx.regions;
-  const all = pts.values;
-  const text = pts.text;
-  const fileCount = pts.fileCount;
-  const now = (): number => performance.now() / 1000;
-  const cpuTimes = times.cpu;
-  const cpuNow = times.cpuNow ?? ((): number => 0);
-  let c0 = 0;
-  let t0 = 0;
-  // a constant row gives g only at a finite θ (0·∞ is NaN): points with another entry take the product
-  const finite = (k: number): boolean => {
+class CsvChunkWriter {
+  private readonly n: number;
+  private readonly nu: number;
+  private readonly allConstant: Uint8Array;
+  private readonly prefixes: (string | undefined)[];
+  private readonly tails: (string | undefined)[];
+  private readonly noRegion: string;
+  private readonly numbers = new NumberText();
+  readonly region: Int32Array;
+  private readonly u: Float64Array;
+  private readonly th: Float64Array;
+  /** bytes per line at most: a double prints in ≤ 25 characters, a copied cell is such a text */
+  readonly lineMax: number;
+  scratch = new Uint8Array(0);
+
+  constructor(
+    private readonly ctx: CsvContext,
+    private readonly pts: CsvPoints,
+    chunk: number,
+    private readonly regions: CriticalRegion[] | null,
+  ) {
+    const n = (this.n = ctx.ntheta);
+    const nu = (this.nu = ctx.nu);
+    const R = ctx.regions;
+    // per region, made on first use: ",r" and, when every input is constant there, ",r,u…\n"
+    this.allConstant = new Uint8Array(R);
+    for (let r = 0; r < R; r++) {
+      let c = 1;
+      for (let i = 0; i < nu; i++) if (!ctx.constant[r * nu + i]) c = 0;
+      this.allConstant[r] = c;
+    }
+    this.prefixes = new Array<string | undefined>(R);
+    this.tails = new Array<string | undefined>(R);
+    this.noRegion = ',-1' + ','.repeat(nu) + '\n';
+    this.region = new Int32Array(chunk);
+    this.u = new Float64Array(chunk * nu);
+    this.th = new Float64Array(n);
+    this.lineMax = 26 * (n + nu) + 16;
+  }
+
+  /** a constant row gives g only at a finite θ (0·∞ is NaN): points with another entry take the product */
+  private finite(k: number): boolean {
+    const all = this.pts.values;
+    const n = this.n;
     for (let j = 0; j < n; j++) if (!Number.isFinite(all[k * n + j])) return false;
     return true;
-  };
-  const lawAt = (r: number, i: number, k: number, skipConstant: boolean): number => {
+  }
+
+  private lawAt(r: number, i: number, k: number, skipConstant: boolean): number {
+    const { F, g, constant, clamp, lower, upper } = this.ctx;
+    const all = this.pts.values;
+    const n = this.n;
+    const nu = this.nu;
     let s = g[r * nu + i];
     if (!(skipConstant && constant[r * nu + i])) {
       const o = (r * nu + i) * n;
       for (let j = 0; j < n; j++) s += F[o + j] * all[k * n + j];
     }
     if (clamp) {
-      if (s < lo[i]) s = lo[i];
-      if (s > hi[i]) s = hi[i];
+      if (s < lower[i]) s = lower[i];
+      if (s > upper[i]) s = upper[i];
     }
     return s;
-  };
-  // per region, made on first use: ",r" and, when every input is constant there, ",r,u…\n"
-  const allConstant = new Uint8Array(R);
-  for (let r = 0; r < R; r++) {
-    let c = 1;
-    for (let i = 0; i < nu; i++) if (!constant[r * nu + i]) c = 0;
-    allConstant[r] = c;
   }
-  const prefixes: (string | undefined)[] = new Array<string | undefined>(R);
-  const prefixOf = (r: number): string => (prefixes[r] ??= `,${r}`);
-  const tails: (string | undefined)[] = new Array<string | undefined>(R);
-  const constantTail = (r: number): string => {
-    let t = tails[r];
+
+  private prefixOf(r: number): string {
+    return (this.prefixes[r] ??= `,${r}`);
+  }
+
+  private constantTail(r: number): string {
+    let t = this.tails[r];
     if (t === undefined) {
-      t = prefixOf(r);
-      for (let i = 0; i < nu; i++) t += `,${String(lawAt(r, i, 0, true))}`;
-      tails[r] = t += '\n';
+      t = this.prefixOf(r);
+      for (let i = 0; i < this.nu; i++) t += `,${String(this.lawAt(r, i, 0, true))}`;
+      this.tails[r] = t += '\n';
     }
     return t;
-  };
-  const noRegion = ',-1' + ','.repeat(nu) + '\n';
-  const numbers = new NumberText();
-  const chunk = Math.max(1, chunkPoints ?? 32768);
-  const region = new Int32Array(chunk);
-  const u = new Float64Array(chunk * nu);
-  const th = new Float64Array(n);
-  // bytes per line at most: a double prints in ≤ 25 characters, a copied cell is such a text
-  const lineMax = 26 * (n + nu) + 16;
-  let head: Uint8Array | null = header ? utf8.encode(ctx.header) : null;
-  const from = pts.from;
-  const to = pts.to;
-  let scratch = new Uint8Array(0);
-  for (let a = k0; a < k1; a += chunk) {
-    const b = Math.min(k1, a + chunk);
-    t0 = now();
-    if (cpuTimes) c0 = cpuNow();
-    for (let k = a; k < b; k++) {
-      let r: number;
-      if (index) r = index.locateAt(all, k * n, tol.inside, false);
-      else {
-        for (let j = 0; j < n; j++) th[j] = all[k * n + j];
-        r = locateScan(regions!, th, tol.inside).region;
-      }
-      region[k - a] = r;
+  }
+
+  /** regions of points a … b − 1 into region[0 …] */
+  locate(a: number, b: number): void {
+    const index = this.ctx.index;
+    const all = this.pts.values;
+    const n = this.n;
+    const region = this.region;
+    if (index) {
+      for (let k = a; k < b; k++) region[k - a] = index.locateAt(all, k * n, tol.inside, false);
+      return;
     }
-    const t1 = now();
-    times.locate += t1 - t0;
-    const c1 = cpuTimes ? cpuNow() : 0;
-    if (cpuTimes) cpuTimes.locate += c1 - c0;
+    const th = this.th;
+    for (let k = a; k < b; k++) {
+      for (let j = 0; j < n; j++) th[j] = all[k * n + j];
+      region[k - a] = locateScan(this.regions!, th, tol.inside).region;
+    }
+  }
+
+  /** u of points a … b − 1 (located) into u[0 …], but for regions whose law is constant */
+  law(a: number, b: number): void {
+    const nu = this.nu;
+    const region = this.region;
+    const u = this.u;
+    const allConstant = this.allConstant;
     for (let k = a; k < b; k++) {
       const r = region[k - a];
       if (r < 0) continue;
-      const fin = finite(k);
+      const fin = this.finite(k);
       if (allConstant[r] && fin) continue;
-      for (let i = 0; i < nu; i++) u[(k - a) * nu + i] = lawAt(r, i, k, fin);
+      for (let i = 0; i < nu; i++) u[(k - a) * nu + i] = this.lawAt(r, i, k, fin);
     }
-    const t2 = now();
-    times.law += t2 - t1;
-    const c2 = cpuTimes ? cpuNow() : 0;
-    if (cpuTimes) cpuTimes.law += c2 - c1;
-    // formatted into one scratch array, handed out as a copy of the bytes used (about a third of the bound)
-    const need = (head ? head.length : 0) + (b - a) * lineMax;
-    if (scratch.length < need) scratch = new Uint8Array(need);
-    const out = scratch;
-    let at = 0;
-    if (head) {
-      out.set(head);
-      at = head.length;
-      head = null;
-    }
+  }
+
+  /** the lines of points a … b − 1 (located, laws evaluated) into out from `at`; returns the end */
+  format(out: Uint8Array, at: number, a: number, b: number): number {
+    const n = this.n;
+    const nu = this.nu;
+    const { text, values: all, fileCount, from, to } = this.pts;
+    const region = this.region;
+    const u = this.u;
+    const numbers = this.numbers;
+    const allConstant = this.allConstant;
     for (let k = a; k < b; k++) {
       const q0 = k * n;
       // θ: the input line's bytes when its cells are all copies, adjacent and in θ order
@@ -903,20 +1112,72 @@ export function* csvLines(
         }
       const r = region[k - a];
       if (r < 0) {
-        at = put(out, at, noRegion);
+        at = put(out, at, this.noRegion);
         continue;
       }
-      if (allConstant[r] && finite(k)) {
-        at = put(out, at, constantTail(r));
+      if (allConstant[r] && this.finite(k)) {
+        at = put(out, at, this.constantTail(r));
         continue;
       }
-      at = put(out, at, prefixOf(r));
+      at = put(out, at, this.prefixOf(r));
       for (let i = 0; i < nu; i++) {
         out[at++] = 44;
         at = put(out, at, numbers.text(u[(k - a) * nu + i]));
       }
       out[at++] = 10;
     }
+    return at;
+  }
+}
+
+/**
+ * The CSV lines of points k0 … k1 − 1 of `pts` (the header first when `header`), as byte chunks
+ * of about `chunkPoints` lines: the body of `evaluateCsvBytes`, on its own so that worker threads
+ * can each write a range (`src/table/evaluate-threads.ts`); the lines depend only on their point,
+ * so ranges written apart and joined in order are the bytes of one run. `regions` (the table's) is
+ * read only when the context has no index.
+ */
+export function* csvLines(
+  ctx: CsvContext,
+  pts: CsvPoints,
+  k0: number,
+  k1: number,
+  header: boolean,
+  chunkPoints: number | undefined,
+  times: EvaluateTimes,
+  regions: CriticalRegion[] | null,
+): Generator<Uint8Array> {
+  const now = (): number => performance.now() / 1000;
+  const cpuTimes = times.cpu;
+  const cpuNow = times.cpuNow ?? ((): number => 0);
+  const chunk = Math.max(1, chunkPoints ?? 32768);
+  const w = new CsvChunkWriter(ctx, pts, chunk, regions);
+  let head: Uint8Array | null = header ? utf8.encode(ctx.header) : null;
+  for (let a = k0; a < k1; a += chunk) {
+    const b = Math.min(k1, a + chunk);
+    const t0 = now();
+    const c0 = cpuTimes ? cpuNow() : 0;
+    w.locate(a, b);
+    const t1 = now();
+    times.locate += t1 - t0;
+    const c1 = cpuTimes ? cpuNow() : 0;
+    if (cpuTimes) cpuTimes.locate += c1 - c0;
+    w.law(a, b);
+    const t2 = now();
+    times.law += t2 - t1;
+    const c2 = cpuTimes ? cpuNow() : 0;
+    if (cpuTimes) cpuTimes.law += c2 - c1;
+    // formatted into one scratch array, handed out as a copy of the bytes used (about a third of the bound)
+    const need = (head ? head.length : 0) + (b - a) * w.lineMax;
+    if (w.scratch.length < need) w.scratch = new Uint8Array(need);
+    const out = w.scratch;
+    let at = 0;
+    if (head) {
+      out.set(head);
+      at = head.length;
+      head = null;
+    }
+    at = w.format(out, at, a, b);
     times.format += now() - t2;
     if (cpuTimes) cpuTimes.format += cpuNow() - c2;
     yield out.slice(0, at);

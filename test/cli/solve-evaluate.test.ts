@@ -285,7 +285,7 @@ describe('tessera evaluate', () => {
   // the one-thread run (the rule is that every thread count gives the same output); for the values:
   // quadprog (qpReference) on seeded lines written by the worker's range, and the region's own
   // half-spaces checked here.
-  it('--threads 2 and 3 print the bytes of --threads 1 (120 000 points, --clamp, an --at point after the file); the worker-written lines agree with quadprog', async () => {
+  it('--threads 2 and 3 and the default (every core) print the bytes of --threads 1 (120 000 points, --clamp, an --at point after the file); the worker-written lines agree with quadprog', async () => {
     const rt = rng(77);
     const many: string[] = [names.theta.join(',')];
     for (let k = 0; k < 120_000; k++) {
@@ -300,12 +300,21 @@ describe('tessera evaluate', () => {
         one: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp'],
         two: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '2', '--times'],
         three: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '3'],
+        every: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp'],
       },
       1,
     );
-    for (const k of ['one', 'two', 'three']) expect(runs[k].status, `${k}: ${runs[k].stderr}`).toBe(0);
+    for (const k of ['one', 'two', 'three', 'every']) expect(runs[k].status, `${k}: ${runs[k].stderr}`).toBe(0);
     expect(runs.two.stdout).toBe(runs.one.stdout);
     expect(runs.three.stdout).toBe(runs.one.stdout);
+    expect(runs.every.stdout).toBe(runs.one.stdout);
+    // the threaded run says how its threads shared the points (every point counted once)
+    const per = /points per thread ([\d, ]+)\n/.exec(runs.two.stderr);
+    expect(per, runs.two.stderr).not.toBeNull();
+    const counts = per![1].split(', ').map(Number);
+    expect(counts).toHaveLength(2);
+    expect(counts[0] + counts[1]).toBe(120_000);
+    expect(Math.min(...counts)).toBeGreaterThan(10_000);
     // --times names the wait for the workers' lines
     expect(runs.two.stderr).toMatch(/tessera: times .* wait [\d.]+\/[\d.]+; total .* for 120001 points/);
     const table = JSON.parse(readFileSync(tablePath, 'utf8'));
@@ -328,6 +337,40 @@ describe('tessera evaluate', () => {
       checked++;
     }
     expect(checked).toBeGreaterThan(20);
+  }, 120000);
+
+  // the threaded path reads the file in ranges: a line that is not a point, wherever it lies, and a
+  // header that does not name θ give the one-thread run's error. Reference: the contract's rule (the
+  // first bad line is named, exit 2, nothing on stdout) as the one-thread run applies it.
+  it('--threads 2 on a bad points file: the error of --threads 1 (a bad cell late in the file, an unknown header column, too few cells), nothing on stdout', async () => {
+    const rt = rng(78);
+    const good: string[] = [];
+    for (let k = 0; k < 100_000; k++) good.push([-3.3 + 6.6 * rt(), -0.88 + 1.76 * rt()].join(','));
+    const files: Record<string, string> = {
+      lateCell: [names.theta.join(','), ...good.slice(0, 90_000), '0.5,abc', ...good.slice(90_000)].join('\n') + '\n',
+      header: [`${names.theta[0]},nosuch`, ...good].join('\n') + '\n',
+      short: [...good.slice(0, 95_000), '0.25', ...good.slice(95_000)].join('\n') + '\n',
+    };
+    const jobs: Record<string, string[]> = {};
+    for (const [name, text] of Object.entries(files)) {
+      const f = join(dir, `bad-${name}.csv`);
+      writeFileSync(f, text);
+      expect(statSync(f).size).toBeGreaterThan(2 * 2 ** 20); // large enough for two threads
+      for (const t of ['1', '2']) jobs[`${name}-${t}`] = ['evaluate', tablePath, '--points', f, '--threads', t];
+    }
+    const runs = await runAll(jobs, 2);
+    for (const name of Object.keys(files)) {
+      const one = runs[`${name}-1`];
+      const two = runs[`${name}-2`];
+      expect(one.status, `${name}: ${one.stderr} ${one.stdout.slice(0, 200)}`).toBe(2);
+      expect(two.status).toBe(2);
+      expect(two.stderr).toBe(one.stderr);
+      expect(two.stdout).toBe('');
+      expect(oneLine(one.stderr)).toHaveLength(1);
+    }
+    expect(runs['lateCell-1'].stderr).toContain('line 90002, column 2');
+    expect(runs['header-1'].stderr).toContain('unknown column "nosuch"');
+    expect(runs['short-1'].stderr).toContain('line 95001');
   }, 120000);
 
   // --index FILE keeps the k-d tree: written on the first run, read on the next, rebuilt when it is

@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { evaluateCsvBytes, evaluateCsvChunks, evaluationCsv, NumberText, parsePointsCsv, parsePointsFlat, SCAN_BELOW_POINTS } from '../../src/table/points.js';
+import { evaluateCsvBytes, evaluateCsvChunks, evaluationCsv, NumberText, orderRangePoints, parsePointsCsv, parsePointsFlat, parsePointsRange, pointsFileHead, SCAN_BELOW_POINTS } from '../../src/table/points.js';
+import { splitLines } from '../../src/table/evaluate-threads.js';
 import type { TableFile } from '../../src/table/format.js';
 import { qpReference } from '../helpers/reference.js';
 import { rng, root, solved } from '../helpers/solved.js';
@@ -173,6 +174,78 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     }
     expect(good).toBeGreaterThan(20);
     expect(refused).toBeGreaterThan(20);
+  });
+
+  it('in ranges (the threaded path): files split at line ends anywhere, each range parsed alone, give what Number reads, in θ order after the header; a line that is not a point is refused by its range', () => {
+    // reference: the literal reading (lines at \r?\n, trimmed, '' and '#' skipped, Number per cell)
+    // and String for copied cells; the header test of the contract (no cell reads as a number)
+    const rnd = rng(3141);
+    const names = ['a', 'b', 'c'];
+    let refused = 0;
+    let split = 0;
+    for (let f = 0; f < 150; f++) {
+      const lines: string[] = [];
+      if (rnd() < 0.3) lines.push(rnd() < 0.5 ? '' : '# comment — ü');
+      const header = rnd() < 0.6;
+      if (header) lines.push(['b', 'c', 'a'].join(rnd() < 0.5 ? ',' : ' , '));
+      const bad = rnd() < 0.25;
+      const count = 5 + Math.floor(rnd() * 200);
+      for (let k = 0; k < count; k++) {
+        if (rnd() < 0.03) lines.push(rnd() < 0.5 ? '  ' : '# note');
+        const cells = [cellText(rnd), cellText(rnd), cellText(rnd)];
+        if (bad && k === Math.floor(count * rnd())) cells[Math.floor(rnd() * 3)] = ['x', '', '1e', 'NaN', 'Infinity', '1,2'][Math.floor(rnd() * 6)];
+        lines.push(cells.join(','));
+      }
+      const eol = rnd() < 0.5 ? '\n' : '\r\n';
+      const text = lines.join(eol) + (rnd() < 0.8 ? eol : '');
+      const bytes = new TextEncoder().encode(text);
+      let expected: { cells: string[]; values: number[] }[] | null = null;
+      try {
+        parsePointsCsv(text, 'p.csv', ['a', 'b', 'c']);
+        expected = literalRead(text);
+      } catch {
+        expected = null;
+      }
+      const head = pointsFileHead(bytes)!;
+      expect(head.header).toBe(header);
+      const order = header ? [2, 0, 1] : null; // header "b,c,a": θ = (a, b, c) is columns (3, 1, 2)
+      const parts = 1 + Math.floor(rnd() * 5);
+      const weights = Array.from({ length: parts }, () => rnd());
+      const ranges = splitLines(bytes, head.dataStart, bytes.length, weights);
+      // consecutive, covering the data, each ending after an LF or at the end
+      expect(ranges[0][0]).toBe(head.dataStart);
+      expect(ranges[parts - 1][1]).toBe(bytes.length);
+      ranges.forEach(([a, b], t) => {
+        expect(b).toBeGreaterThanOrEqual(a);
+        if (t > 0) expect(a).toBe(ranges[t - 1][1]);
+        if (b < bytes.length && b > a) expect(bytes[b - 1]).toBe(10);
+      });
+      if (ranges.filter(([a, b]) => b > a).length > 1) split++;
+      const got = ranges.map(([a, b]) => parsePointsRange(bytes, a, b, names.length));
+      if (expected === null) {
+        // a bad line (or its neighbours' cells broken by it): some range refuses
+        expect(got.some((g) => g === null), JSON.stringify(text.slice(0, 200))).toBe(true);
+        refused++;
+        continue;
+      }
+      const rows = expected.slice(header ? 1 : 0);
+      let k = 0;
+      for (const g of got) {
+        expect(g).not.toBeNull();
+        orderRangePoints(g!, 3, order);
+        for (let q = 0; q < g!.count; q++, k++) {
+          const { cells, values } = rows[k];
+          for (let j = 0; j < 3; j++) {
+            const col = order ? order[j] : j;
+            expect(Object.is(g!.values[q * 3 + j], values[col]), `"${cells[col]}"`).toBe(true);
+            if (g!.from[q * 3 + j] >= 0) expect(new TextDecoder().decode(bytes.subarray(g!.from[q * 3 + j], g!.to[q * 3 + j]))).toBe(String(values[col]));
+          }
+        }
+      }
+      expect(k).toBe(rows.length);
+    }
+    expect(refused).toBeGreaterThan(10);
+    expect(split).toBeGreaterThan(50);
   });
 
   it('16 to 19 significant digits, near and at the midpoints between doubles: the double Number reads', () => {

@@ -71,6 +71,9 @@ function popCount(x: number): number {
 let basisScratch = new Float64Array(64);
 /** scratch of subtractSlice: the reversed row (a typed array like every other row clipPiece reads) */
 let flipScratch = new Float64Array(8);
+/** scratch of finish: vertices per row, and each row's new index (−1: dropped); single-threaded per isolate, read within the call */
+let countScratch = new Int32Array(64);
+let mapScratch = new Int32Array(64);
 /** scratch of clipPiece: each vertex's residual on the cutting row */
 let sScratch = new Float64Array(64);
 
@@ -236,11 +239,16 @@ function finish(A: number[], b: number[], m: number, verts: number[][], tight: n
   const V = verts;
   const T = tight;
   if (V.length < dim + 1) return null;
-  const count = new Int32Array(m);
+  if (countScratch.length < m) {
+    countScratch = new Int32Array(2 * m);
+    mapScratch = new Int32Array(2 * m);
+  }
+  const count = countScratch;
+  count.fill(0, 0, m);
   for (const t of T) for (const i of t) count[i]++;
-  const map = new Int32Array(m).fill(-1);
+  const map = mapScratch;
   let mm = 0;
-  for (let i = 0; i < m; i++) if (count[i] >= dim) map[i] = mm++;
+  for (let i = 0; i < m; i++) map[i] = count[i] >= dim ? mm++ : -1;
   const A2 = new Array<number>(mm * dim);
   const b2 = new Array<number>(mm);
   for (let i = 0; i < m; i++) {

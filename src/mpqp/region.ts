@@ -632,61 +632,98 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
  * exact for convex polygons); a row is a facet when it supports an edge longer than tol.radius.
  * Duplicate rows supporting the same edge keep the first one. Null when the polygon is flat.
  */
+/** facetRows2d's polygon, two buffers of vertices (x, y, the row of the edge leaving it) swapped per cut; one set per thread */
+let p2x = new Float64Array(0);
+let p2y = new Float64Array(0);
+let p2e = new Int32Array(0);
+let q2x = new Float64Array(0);
+let q2y = new Float64Array(0);
+let q2e = new Int32Array(0);
 function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } | null {
-  // vertices with the row that made the edge leaving each vertex (−1: not from a row yet)
-  let poly: { x: number; y: number; edge: number }[] = [];
-  const boxRows = findBoxRows(Af, bf, m, lo, up);
-  poly = [
-    { x: lo[0], y: lo[1], edge: boxRows[3] }, // bottom edge: −y ≤ −lo1
-    { x: up[0], y: lo[1], edge: boxRows[0] }, // right edge:  x ≤ up0
-    { x: up[0], y: up[1], edge: boxRows[2] }, // top edge:    y ≤ up1
-    { x: lo[0], y: up[1], edge: boxRows[1] }, // left edge:  −x ≤ −lo0
-  ];
-  for (let r = 0; r < m; r++) {
-    if (boxRows.includes(r)) continue;
+  // vertices with the row that made the edge leaving each vertex (−1: not from a row yet), in
+  // typed buffers (a cut makes at most one vertex more, so m + 4 suffice); the arithmetic is that
+  // of one object per vertex, in the same order
+  if (p2x.length < m + 4) {
+    const n = 2 * (m + 4);
+    p2x = new Float64Array(n);
+    p2y = new Float64Array(n);
+    p2e = new Int32Array(n);
+    q2x = new Float64Array(n);
+    q2y = new Float64Array(n);
+    q2e = new Int32Array(n);
+  }
+  let px = p2x;
+  let py = p2y;
+  let pe = p2e;
+  let nx = q2x;
+  let ny = q2y;
+  let ne = q2e;
+  // the box rows are the last four of buildRegion's: x ≤ up0 (m − 4), −x ≤ −lo0, y ≤ up1, −y ≤ −lo1 (m − 1)
+  const firstBox = m - 4;
+  // the box's corners, each with the edge leaving it: bottom −y ≤ −lo1, right x ≤ up0, top y ≤ up1, left −x ≤ −lo0
+  px[0] = px[3] = lo[0];
+  px[1] = px[2] = up[0];
+  py[0] = py[1] = lo[1];
+  py[2] = py[3] = up[1];
+  pe[0] = m - 1;
+  pe[1] = m - 4;
+  pe[2] = m - 2;
+  pe[3] = m - 3;
+  let k = 4;
+  for (let r = 0; r < firstBox; r++) {
     const a0 = Af[2 * r];
     const a1 = Af[2 * r + 1];
     const br = bf[r];
-    const next: typeof poly = [];
-    const k = poly.length;
+    let n = 0;
     for (let i = 0; i < k; i++) {
-      const P = poly[i];
-      const Q = poly[(i + 1) % k];
-      const sp = a0 * P.x + a1 * P.y - br;
-      const sq = a0 * Q.x + a1 * Q.y - br;
+      const j = i + 1 === k ? 0 : i + 1;
+      const Px = px[i];
+      const Py = py[i];
+      const Qx = px[j];
+      const Qy = py[j];
+      const sp = a0 * Px + a1 * Py - br;
+      const sq = a0 * Qx + a1 * Qy - br;
       const pin = sp <= tol.redundancy;
       const qin = sq <= tol.redundancy;
-      if (pin) next.push(P);
+      if (pin) {
+        nx[n] = Px;
+        ny[n] = Py;
+        ne[n++] = pe[i];
+      }
       if (pin !== qin) {
         const t = sp / (sp - sq);
         // entering the half-plane: the new vertex starts the edge P→Q's remainder; leaving: it starts an edge on row r
-        next.push({ x: P.x + t * (Q.x - P.x), y: P.y + t * (Q.y - P.y), edge: pin ? r : P.edge });
+        nx[n] = Px + t * (Qx - Px);
+        ny[n] = Py + t * (Qy - Py);
+        ne[n++] = pin ? r : pe[i];
       }
     }
-    poly = next;
-    if (poly.length < 3) return null;
+    const tx = px;
+    const ty = py;
+    const te = pe;
+    px = nx;
+    py = ny;
+    pe = ne;
+    nx = tx;
+    ny = ty;
+    ne = te;
+    k = n;
+    if (k < 3) return null;
   }
   const alive = new Uint8Array(m);
-  const k = poly.length;
   for (let i = 0; i < k; i++) {
-    const P = poly[i];
-    const Q = poly[(i + 1) % k];
-    if (Math.hypot(Q.x - P.x, Q.y - P.y) > tol.radius && P.edge >= 0) alive[P.edge] = 1;
+    const j = i + 1 === k ? 0 : i + 1;
+    if (Math.hypot(px[j] - px[i], py[j] - py[i]) > tol.radius && pe[i] >= 0) alive[pe[i]] = 1;
   }
   const bbLo = Float64Array.of(Infinity, Infinity);
   const bbHi = Float64Array.of(-Infinity, -Infinity);
-  for (const P of poly) {
-    bbLo[0] = Math.min(bbLo[0], P.x - tol.redundancy);
-    bbLo[1] = Math.min(bbLo[1], P.y - tol.redundancy);
-    bbHi[0] = Math.max(bbHi[0], P.x + tol.redundancy);
-    bbHi[1] = Math.max(bbHi[1], P.y + tol.redundancy);
+  for (let i = 0; i < k; i++) {
+    bbLo[0] = Math.min(bbLo[0], px[i] - tol.redundancy);
+    bbLo[1] = Math.min(bbLo[1], py[i] - tol.redundancy);
+    bbHi[0] = Math.max(bbHi[0], px[i] + tol.redundancy);
+    bbHi[1] = Math.max(bbHi[1], py[i] + tol.redundancy);
   }
   return { alive, bbox: { lo: bbLo, hi: bbHi }, verts: null };
-}
-
-/** Indices of the four box rows (x ≤ up0, −x ≤ −lo0, y ≤ up1, −y ≤ −lo1), appended last by buildRegion. */
-function findBoxRows(_Af: Float64Array, _bf: Float64Array, m: number, _lo: Float64Array, _up: Float64Array): number[] {
-  return [m - 4, m - 3, m - 2, m - 1];
 }
 
 /**

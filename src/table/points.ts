@@ -340,17 +340,19 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
   const intDigits = i - st;
   let fracDigits = 0;
   const dot = c === 46;
-  if (dot) {
+  if (dot && intDigits <= 15) {
     c = ++i < L ? text[i] : 0;
     const fs = i;
-    while (c >= 48 && c <= 57) {
+    // at most 15 digits in all here: a 16th stops the loop (and the cell goes to the full scan)
+    const lim = fs + 15 - intDigits;
+    while (c >= 48 && c <= 57 && i < lim) {
       m = m * 10 + (c - 48);
       c = ++i < L ? text[i] : 0;
     }
     fracDigits = i - fs;
   }
   const total = intDigits + fracDigits;
-  if (total === 0 || total > 15 || c === 101 || c === 69 || (c === 43 && i === a)) return plainNumberFull(text, a, L);
+  if (total === 0 || total > 15 || (c >= 48 && c <= 57) || c === 101 || c === 69 || (c === 43 && i === a)) return plainNumberFull(text, a, L);
   scanEnd = i;
   let v = fracDigits === 0 ? m : m / POW10[fracDigits];
   if (neg) v = -v;

@@ -49,6 +49,8 @@ export class RegionStore {
   /** per region: block · 2^26 + its start in that integer block (its double block and start are stored there); −1 − k for the k-th object kept as it is */
   private starts: number[] = [];
   private objects: { region: CriticalRegion; box: StoredBox }[] = [];
+  /** per region, its text rendered ahead (`setText`), attached by `get` */
+  private texts: (RegionText | undefined)[] = [];
 
   /** Number of regions held. */
   get length(): number {
@@ -85,7 +87,7 @@ export class RegionStore {
   }
 
   /** Whether the store can pack this region exactly (else it keeps the object). */
-  private static packable(R: CriticalRegion, box: StoredBox): boolean {
+  static packable(R: CriticalRegion, box: StoredBox): boolean {
     const keys = Object.keys(R).join(',');
     const full = keys === FULL_KEYS;
     if (!full && keys !== LEAN_KEYS) return false;
@@ -120,60 +122,47 @@ export class RegionStore {
       this.objects.push({ region: R, box });
       return index;
     }
-    const nt = box.lo.length;
-    const m = R.b.length;
-    const full = R.moves !== undefined;
-    const lawRows = R.law.g.length;
-    const movesRows = full ? R.moves!.g.length : 0;
-    let ni = 8 + R.activeSet.length + (full ? 1 : 0);
-    for (const fi of R.facets) ni += 3 + fi.neighbours.length;
-    const nf = (m + 1) * (nt + 1) + (lawRows + movesRows) * (nt + 1) + (full ? nt * nt + nt + 1 : 0) + 2 * nt;
-    this.reserve(nf, ni);
-    const i0 = this.ni;
-    const f0 = this.nf;
+    const { ni, nf } = recordSizes(R, box);
+    this.reserve(nf, ni + 2);
     this.starts.push((this.iBlocks.length - 1) * 2 ** 26 + this.ni);
-    // integers: double block and start, id, nt, m, full, |activeSet|, activeSet, per facet (kind, row, count, neighbours), law rows, moves rows
+    // integers: double block and start, then the record (`writeRecord`)
     this.pushI(this.fBlocks.length - 1);
     this.pushI(this.nf);
-    this.pushI(R.id);
-    this.pushI(nt);
-    this.pushI(m);
-    this.pushI(full ? 1 : 0);
-    this.pushI(R.activeSet.length);
-    for (const a of R.activeSet) this.pushI(a);
-    for (const fi of R.facets) {
-      this.pushI(KIND_CODE[fi.kind]);
-      this.pushI(fi.row);
-      this.pushI(fi.neighbours.length);
-      for (const n of fi.neighbours) this.pushI(n);
-    }
-    this.pushI(R.law.g.length);
-    if (full) this.pushI(R.moves!.g.length);
-    // doubles: A, b, centre, radius, law (F, g), moves (F, g), value (Q, q, r), box (lo, hi)
-    for (const a of R.A) for (const v of a) this.pushF(v);
-    for (const v of R.b) this.pushF(v);
-    for (const v of R.chebyshev.center) this.pushF(v);
-    this.pushF(R.chebyshev.radius);
-    const affine = (x: { F: number[][]; g: number[] }): void => {
-      for (const r of x.F) for (const v of r) this.pushF(v);
-      for (const v of x.g) this.pushF(v);
-    };
-    affine(R.law);
-    if (full) {
-      affine(R.moves!);
-      const V = R.value!;
-      for (const r of V.Q) for (const v of r) this.pushF(v);
-      for (const v of V.q) this.pushF(v);
-      this.pushF(V.r);
-    }
-    for (const v of box.lo) this.pushF(v);
-    for (const v of box.hi) this.pushF(v);
-    // a write past a typed array's end is dropped silently: the sizes reserved must be the sizes written
-    if (this.ni - i0 !== ni || this.nf - f0 !== nf) throw new Error(`RegionStore: record of ${ni}/${nf} numbers reserved, ${this.ni - i0}/${this.nf - f0} written`);
+    writeRecord(R, box, this.i, this.ni, this.f, this.nf, ni, nf);
+    this.ni += ni;
+    this.nf += nf;
     return index;
   }
 
-  /** The k-th region and its box, as new objects (keys in the order they were given). */
+  /**
+   * Add the record at `at` of a `PackedRegions` (what `RegionBatch` wrote in another thread: the
+   * numbers `add` would have stored for that region and box); its index. `get` gives back the
+   * region and box that were packed.
+   */
+  addPacked(p: PackedRegions, at: PackedCursor): number {
+    const index = this.starts.length;
+    const ni = p.ints[at.i];
+    const nf = p.ints[at.i + 1];
+    this.reserve(nf, ni + 2);
+    this.starts.push((this.iBlocks.length - 1) * 2 ** 26 + this.ni);
+    this.pushI(this.fBlocks.length - 1);
+    this.pushI(this.nf);
+    this.i.set(p.ints.subarray(at.i + 2, at.i + 2 + ni), this.ni);
+    this.f.set(p.floats.subarray(at.f, at.f + nf), this.nf);
+    this.ni += ni;
+    this.nf += nf;
+    return index;
+  }
+
+  /**
+   * Keep the text of the k-th region rendered ahead (`renderRegion` of what `get(k)` gives): `get`
+   * attaches it to the region (`REGION_TEXT`), so a table writer need not render it again.
+   */
+  setText(k: number, text: RegionText | null): void {
+    if (text && this.starts[k] >= 0) this.texts[k] = text;
+  }
+
+  /** The k-th region and its box, as new objects (keys in the order they were given; the text set by `setText` attached as `REGION_TEXT`). */
   get(k: number): { region: CriticalRegion; box: StoredBox } {
     const s = this.starts[k];
     if (s < 0) return this.objects[-1 - s];
@@ -223,6 +212,175 @@ export class RegionStore {
     }
     const lo = vec(nt);
     const hi = vec(nt);
+    const text = this.texts[k];
+    if (text) (region as RegionWithText)[REGION_TEXT] = text;
     return { region, box: { lo, hi } };
+  }
+}
+
+/**
+ * A region's JSON text rendered ahead, in two pieces: `body` the members `"A":…,"b":…` and `tail`
+ * the members from `"chebyshev"` to the last (law, and moves and value in a full table), each as
+ * `JSON.stringify` of the whole region writes them. The members a canonical form changes (id,
+ * activeSet's position, the facets' neighbours) are not in it. Rendering on the main thread while
+ * the workers explore takes this work out of the serial tail after the exploration (`tableChunks`
+ * joins the pieces).
+ */
+export interface RegionText {
+  body: string;
+  tail: string;
+}
+
+/**
+ * The symbol under which a region carries its `RegionText` (an own enumerable property: object
+ * spread copies it, `JSON.stringify` and `Object.keys` skip it).
+ */
+export const REGION_TEXT: unique symbol = Symbol('tessera.regionText');
+
+/** A region that may carry its text rendered ahead. */
+export type RegionWithText = CriticalRegion & { [REGION_TEXT]?: RegionText };
+
+/** The `RegionText` of a region with the keys of a lean or full table in order, else null. */
+export function renderRegion(R: CriticalRegion): RegionText | null {
+  const keys = Object.keys(R).join(',');
+  const full = keys === FULL_KEYS;
+  if (!full && keys !== LEAN_KEYS) return null;
+  const body = `"A":${JSON.stringify(R.A)},"b":${JSON.stringify(R.b)}`;
+  let tail = `"chebyshev":${JSON.stringify(R.chebyshev)},"law":${JSON.stringify(R.law)}`;
+  if (full) tail += `,"moves":${JSON.stringify(R.moves)},"value":${JSON.stringify(R.value)}`;
+  return { body, tail };
+}
+
+/**
+ * The JSON text of a region (what `JSON.stringify(R)` gives), from its `REGION_TEXT` when it
+ * carries one and still has the keys of a lean or full table in order, else by `JSON.stringify`.
+ */
+export function regionJson(R: RegionWithText): string {
+  const t = R[REGION_TEXT];
+  if (t) {
+    const keys = Object.keys(R).join(',');
+    if (keys === FULL_KEYS || keys === LEAN_KEYS) return `{"id":${JSON.stringify(R.id)},"activeSet":${JSON.stringify(R.activeSet)},${t.body},"facets":${JSON.stringify(R.facets)},${t.tail}}`;
+  }
+  return JSON.stringify(R);
+}
+
+/** Numbers of a region's record (without the store's two leading integers): `ni` integers, `nf` doubles. */
+function recordSizes(R: CriticalRegion, box: StoredBox): { ni: number; nf: number } {
+  const nt = box.lo.length;
+  const m = R.b.length;
+  const full = R.moves !== undefined;
+  const lawRows = R.law.g.length;
+  const movesRows = full ? R.moves!.g.length : 0;
+  let ni = 6 + R.activeSet.length + (full ? 1 : 0);
+  for (const fi of R.facets) ni += 3 + fi.neighbours.length;
+  const nf = (m + 1) * (nt + 1) + (lawRows + movesRows) * (nt + 1) + (full ? nt * nt + nt + 1 : 0) + 2 * nt;
+  return { ni, nf };
+}
+
+/**
+ * Write a packable region's record at I[ip …] and F[fp …] (room for `recordSizes` checked by the
+ * caller): integers id, nt, m, full, |activeSet|, activeSet, per facet (kind, row, count,
+ * neighbours), law rows, moves rows; doubles A, b, centre, radius, law (F, g), moves (F, g), value
+ * (Q, q, r), box (lo, hi).
+ */
+function writeRecord(R: CriticalRegion, box: StoredBox, I: Int32Array, ip: number, F: Float64Array, fp: number, ni: number, nf: number): void {
+  const i0 = ip;
+  const f0 = fp;
+  const nt = box.lo.length;
+  const full = R.moves !== undefined;
+  I[ip++] = R.id;
+  I[ip++] = nt;
+  I[ip++] = R.b.length;
+  I[ip++] = full ? 1 : 0;
+  I[ip++] = R.activeSet.length;
+  for (const a of R.activeSet) I[ip++] = a;
+  for (const fi of R.facets) {
+    I[ip++] = KIND_CODE[fi.kind];
+    I[ip++] = fi.row;
+    I[ip++] = fi.neighbours.length;
+    for (const n of fi.neighbours) I[ip++] = n;
+  }
+  I[ip++] = R.law.g.length;
+  if (full) I[ip++] = R.moves!.g.length;
+  for (const a of R.A) for (const v of a) F[fp++] = v;
+  for (const v of R.b) F[fp++] = v;
+  for (const v of R.chebyshev.center) F[fp++] = v;
+  F[fp++] = R.chebyshev.radius;
+  for (const r of R.law.F) for (const v of r) F[fp++] = v;
+  for (const v of R.law.g) F[fp++] = v;
+  if (full) {
+    for (const r of R.moves!.F) for (const v of r) F[fp++] = v;
+    for (const v of R.moves!.g) F[fp++] = v;
+    const V = R.value!;
+    for (const r of V.Q) for (const v of r) F[fp++] = v;
+    for (const v of V.q) F[fp++] = v;
+    F[fp++] = V.r;
+  }
+  for (const v of box.lo) F[fp++] = v;
+  for (const v of box.hi) F[fp++] = v;
+  // a write past a typed array's end is dropped silently: the sizes reserved must be the sizes written
+  if (ip - i0 !== ni || fp - f0 !== nf || ip > I.length || fp > F.length) throw new Error(`RegionStore: record of ${ni}/${nf} numbers reserved, ${ip - i0}/${fp - f0} written`);
+}
+
+/**
+ * Region records packed in one thread for a `RegionStore` in another (a worker's batch of found
+ * regions, sent with its buffers transferred instead of the regions cloned as objects): per record,
+ * its integer and double counts, then the record `RegionStore.add` stores.
+ */
+export interface PackedRegions {
+  ints: Int32Array;
+  floats: Float64Array;
+}
+
+/** Where the next record of a `PackedRegions` starts; `skipPacked` moves it past one. */
+export interface PackedCursor {
+  i: number;
+  f: number;
+}
+
+/** Move `at` past the record it is on. */
+export function skipPacked(p: PackedRegions, at: PackedCursor): void {
+  const ni = p.ints[at.i];
+  const nf = p.ints[at.i + 1];
+  at.i += 2 + ni;
+  at.f += nf;
+}
+
+/** Records of regions being packed for another thread (`PackedRegions`), grown on demand. */
+export class RegionBatch {
+  private I = new Int32Array(1 << 12);
+  private F = new Float64Array(1 << 14);
+  private ni = 0;
+  private nf = 0;
+
+  /** Pack a region and its box; false (nothing written) when `RegionStore` could not pack it. */
+  push(R: CriticalRegion, box: StoredBox): boolean {
+    if (!RegionStore.packable(R, box)) return false;
+    const { ni, nf } = recordSizes(R, box);
+    if (this.ni + ni + 2 > this.I.length) {
+      const g = new Int32Array(2 * (this.ni + ni + 2));
+      g.set(this.I.subarray(0, this.ni));
+      this.I = g;
+    }
+    if (this.nf + nf > this.F.length) {
+      const g = new Float64Array(2 * (this.nf + nf));
+      g.set(this.F.subarray(0, this.nf));
+      this.F = g;
+    }
+    this.I[this.ni++] = ni;
+    this.I[this.ni++] = nf;
+    writeRecord(R, box, this.I, this.ni, this.F, this.nf, ni, nf);
+    this.ni += ni;
+    this.nf += nf;
+    return true;
+  }
+
+  /** The records packed since the last `take`, in new arrays of their own (to transfer), or null when none. */
+  take(): PackedRegions | null {
+    if (this.ni === 0) return null;
+    const out = { ints: this.I.slice(0, this.ni), floats: this.F.slice(0, this.nf) };
+    this.ni = 0;
+    this.nf = 0;
+    return out;
   }
 }

@@ -3,6 +3,7 @@ import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { TABLE_FORMAT, TABLE_VERSION, TABLE_VERSIONS_READ, type TableFile } from './format.js';
 import { locateRegion, locateScan } from './locator.js';
+import { regionJson } from './region-store.js';
 
 const REGIONS_MARK = '\u0000regions\u0000';
 
@@ -19,7 +20,8 @@ export function* tableChunks(table: TableFile): Generator<string> {
   const at = head.lastIndexOf(mark);
   yield head.slice(0, at) + '[\n';
   const n = table.regions.length;
-  for (let i = 0; i < n; i++) yield JSON.stringify(table.regions[i]) + (i + 1 < n ? ',\n' : '\n');
+  // a region's text rendered ahead (the threaded exploration renders it while the workers run) is used: the same text
+  for (let i = 0; i < n; i++) yield regionJson(table.regions[i]) + (i + 1 < n ? ',\n' : '\n');
   yield ' ]' + head.slice(at + mark.length) + '\n';
 }
 

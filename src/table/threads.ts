@@ -28,7 +28,7 @@ import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Pa
 import { sumCauses } from '../mpqp/types.js';
 import { tol } from '../tol.js';
 import type { SubBoxProgress } from './part.js';
-import { RegionStore } from './region-store.js';
+import { RegionStore, renderRegion, skipPacked, type PackedCursor, type PackedRegions } from './region-store.js';
 
 type Box = { lower: number[]; upper: number[] };
 type RegionBox = { lo: number[]; hi: number[] };
@@ -80,12 +80,14 @@ export interface NeighbourJob {
 /** One event of a worker's job, in the order it happened. */
 export type ExploreWorkerEvent =
   | { type: 'found'; region: CriticalRegion; box: RegionBox }
+  /** a region found, its record the batch's next in `packed` (`RegionBatch`), with its active-set key */
+  | { type: 'packed'; key: string }
   | { type: 'processed'; key: string }
   | { type: 'progress'; progress: Progress };
 
 /** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
 export type ExploreWorkerMessage =
-  | { type: 'batch'; job: number; events: ExploreWorkerEvent[] }
+  | { type: 'batch'; job: number; events: ExploreWorkerEvent[]; packed: PackedRegions | null }
   | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork; guesses?: ReturnType<typeof buildGuesses> }
   | { type: 'pilot'; counts: PlaneCount[] }
   | { type: 'neighbours'; lists: number[][][]; lps: number; counts: NeighbourCounts };
@@ -501,15 +503,33 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       const onMessage = (msg: ExploreWorkerMessage): void => {
         if (settled) return;
         if (msg.type === 'batch') {
+          const at: PackedCursor = { i: 0, f: 0 };
+          const fresh: number[] = [];
           for (const ev of msg.events) {
-            if (ev.type === 'found') {
+            if (ev.type === 'packed') {
+              // packed by the worker (its buffers transferred, no object per number to clone and pack here)
+              built++;
+              if (!found.has(ev.key)) {
+                const k = store.addPacked(msg.packed!, at);
+                found.set(ev.key, k);
+                fresh.push(k);
+              }
+              skipPacked(msg.packed!, at);
+            } else if (ev.type === 'found') {
               built++;
               const key = ev.region.activeSet.join(',');
-              if (!found.has(key)) found.set(key, store.add(ev.region, ev.box));
+              if (!found.has(key)) {
+                const k = store.add(ev.region, ev.box);
+                found.set(key, k);
+                fresh.push(k);
+              }
             } else if (ev.type === 'processed') done[msg.job].add(ev.key);
             else latest[msg.job] = ev.progress;
           }
           if (options.maxRegions !== undefined && found.size >= options.maxRegions) stopAll('max-regions');
+          // the new regions' table text, rendered now (this thread waits for the workers anyway; on one
+          // worker the second core is free) instead of in the serial tail when the table is written
+          for (const k of fresh) store.setText(k, renderRegion(store.get(k).region));
           report();
         } else if (msg.type === 'done') {
           running--;

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { loadProblem, solveProblem } from '../../src/index.js';
-import { RegionStore } from '../../src/table/region-store.js';
+import { REGION_TEXT, RegionBatch, RegionStore, regionJson, renderRegion, skipPacked, type PackedRegions, type RegionWithText } from '../../src/table/region-store.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 
 // Reference: the regions given to the store themselves. What comes back must be the same object
@@ -81,4 +81,90 @@ describe('RegionStore', () => {
     expect(sameBits(back.box, { lo: [-1, -0], hi: [1, 2] })).toBe(true);
     expect(store.get(1).region).toBe(odd);
   });
+
+  for (const lean of [false, true])
+    it(`packs regions in one thread and adds them in another with the same bits (RegionBatch, ${lean ? 'lean' : 'full'})`, () => {
+      // what a worker sends: the records' buffers transferred (structuredClone with transfer is the
+      // postMessage algorithm, HTML standard); the store must give back what `add` of the objects does
+      const { table } = solveProblem(loadProblem(join(examples, 'positioning-axis.yaml')), { lean });
+      const boxes = table.regions.map((R) => ({ lo: R.chebyshev.center.map((c) => c - 1), hi: R.chebyshev.center.map((c) => c + 1) }));
+      const odd = { ...table.regions[0], extra: 1 } as CriticalRegion;
+      const batch = new RegionBatch();
+      expect(batch.take()).toBeNull();
+      expect(batch.push(odd, boxes[0])).toBe(false); // not packable: sent as the object
+      // two batches, the second larger than the batch's first buffers
+      const cut = 3;
+      table.regions.slice(0, cut).forEach((R, i) => expect(batch.push(R, boxes[i])).toBe(true));
+      const first = batch.take()!;
+      table.regions.slice(cut).forEach((R, i) => expect(batch.push(R, boxes[cut + i])).toBe(true));
+      const second = batch.take()!;
+      expect(batch.take()).toBeNull();
+      const sent = (p: PackedRegions): PackedRegions => structuredClone(p, { transfer: [p.ints.buffer as ArrayBuffer, p.floats.buffer as ArrayBuffer] });
+      const store = new RegionStore();
+      const direct = new RegionStore();
+      for (const p of [sent(first), sent(second)]) {
+        const at = { i: 0, f: 0 };
+        while (at.i < p.ints.length) {
+          // the cursor moved past each record by skipPacked (what the main thread does after a copy it keeps)
+          const k = store.length;
+          expect(store.addPacked(p, at)).toBe(k);
+          skipPacked(p, at);
+        }
+        expect(at.f).toBe(p.floats.length);
+      }
+      table.regions.forEach((R, i) => direct.add(R, boxes[i]));
+      expect(store.length).toBe(table.regions.length);
+      expect(store.bytes).toBe(direct.bytes);
+      table.regions.forEach((R, i) => {
+        const back = store.get(i);
+        expect(sameBits(back.region, R)).toBe(true);
+        expect(sameBits(back.box, boxes[i])).toBe(true);
+        expect(JSON.stringify(back.region)).toBe(JSON.stringify(direct.get(i).region));
+      });
+    });
+
+  it('packs −0, NaN and infinities with the same bits (RegionBatch)', () => {
+    const R: CriticalRegion = {
+      id: 7,
+      activeSet: [0, 3],
+      A: [[-0, 1], [1, NaN]],
+      b: [Infinity, -Infinity],
+      facets: [{ kind: 'primal', row: 2, neighbours: [4, 9] }, { kind: 'box', row: 1, neighbours: [] }],
+      chebyshev: { center: [-0, 5e-324], radius: 1.7976931348623157e308 },
+      law: { F: [[1, -0]], g: [-0] },
+    };
+    const batch = new RegionBatch();
+    expect(batch.push(R, { lo: [-1, -0], hi: [1, 2] })).toBe(true);
+    const p = structuredClone(batch.take()!);
+    const store = new RegionStore();
+    store.addPacked(p, { i: 0, f: 0 });
+    expect(sameBits(store.get(0).region, R)).toBe(true);
+    expect(sameBits(store.get(0).box, { lo: [-1, -0], hi: [1, 2] })).toBe(true);
+  });
+
+  for (const lean of [false, true])
+    it(`renders a region's table text ahead as JSON.stringify writes it, through a renumbering spread (${lean ? 'lean' : 'full'})`, () => {
+      // Reference: JSON.stringify (ECMAScript's serialisation, V8) of the region itself, what the
+      // table writer wrote before; the text rendered ahead must give the same characters.
+      const { table } = solveProblem(loadProblem(join(examples, 'positioning-axis.yaml')), { lean });
+      const store = new RegionStore();
+      table.regions.forEach((R, i) => {
+        store.add(R, { lo: R.chebyshev.center, hi: R.chebyshev.center });
+        store.setText(i, renderRegion(store.get(i).region));
+      });
+      table.regions.forEach((R, i) => {
+        const back = store.get(i).region as RegionWithText;
+        expect(back[REGION_TEXT]).toBeDefined();
+        expect(regionJson(back)).toBe(JSON.stringify(R));
+        // what the canonical form does: a spread copy with a new id and new neighbour lists keeps the text
+        const renumbered: RegionWithText = { ...back, id: i + 1000, facets: back.facets.map((f, q) => ({ kind: f.kind, row: f.row, neighbours: [q, i] })) };
+        expect(renumbered[REGION_TEXT]).toBe(back[REGION_TEXT]);
+        expect(regionJson(renumbered)).toBe(JSON.stringify(renumbered));
+        // keys of another shape: the text is not used
+        const odd = { ...back, extra: 1 } as RegionWithText;
+        expect(regionJson(odd)).toBe(JSON.stringify(odd));
+        expect(JSON.stringify(odd)).toContain('"extra":1');
+      });
+      expect(renderRegion({ ...table.regions[0], extra: 1 } as CriticalRegion)).toBeNull();
+    });
 });

@@ -480,6 +480,17 @@ function plainNumberFull(text: Uint8Array, a: number, L: number): number {
   return v;
 }
 
+/** Room for `cap` points of `n` cells (values, and the byte range of each cell), holding `old`'s first entries when given. */
+function cellArrays(cap: number, n: number, old?: { values: Float64Array; from: Int32Array; to: Int32Array }): { values: Float64Array; from: Int32Array; to: Int32Array } {
+  const c = { values: new Float64Array(cap * n), from: new Int32Array(cap * n), to: new Int32Array(cap * n) };
+  if (old) {
+    c.values.set(old.values);
+    c.from.set(old.from);
+    c.to.set(old.to);
+  }
+  return c;
+}
+
 /**
  * `parsePointsCsv` into one typed array (same rules, same errors, same values bit for bit): lines
  * of plain numbers are read by a scan over the bytes, any other line is decoded and takes the
@@ -493,9 +504,7 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
   let lines = 1;
   for (let i = text.indexOf(10); i >= 0; i = text.indexOf(10, i + 1)) lines++;
   let cap = lines;
-  let values = new Float64Array(cap * n);
-  let from = new Int32Array(cap * n);
-  let to = new Int32Array(cap * n);
+  let { values, from, to } = cellArrays(cap, n);
   let count = 0;
   let first = true;
   let order: number[] | null = null;
@@ -508,15 +517,7 @@ export function parsePointsFlat(input: string | Uint8Array, path: string, thetaN
   let lineNo = 0;
   const grow = (): void => {
     cap *= 2;
-    const v = new Float64Array(cap * n);
-    v.set(values);
-    values = v;
-    const f = new Int32Array(cap * n);
-    f.set(from);
-    from = f;
-    const t = new Int32Array(cap * n);
-    t.set(to);
-    to = t;
+    ({ values, from, to } = cellArrays(cap, n, { values, from, to }));
   };
   const push = (vals: ArrayLike<number>, a: Int32Array | null, b: Int32Array | null, ok: Uint8Array | null): void => {
     if (count === cap) grow();
@@ -632,20 +633,10 @@ export function parsePointsRange(text: Uint8Array, start: number, end: number, n
     seen++;
   }
   let cap = Math.max(16, seen > 0 && probe > start ? Math.ceil(((end - start) / (probe - start)) * seen * 1.05) + 16 : 16);
-  let values = new Float64Array(cap * n);
-  let from = new Int32Array(cap * n);
-  let to = new Int32Array(cap * n);
+  let { values, from, to } = cellArrays(cap, n);
   const grow = (): void => {
     cap *= 2;
-    const v = new Float64Array(cap * n);
-    v.set(values);
-    values = v;
-    const f = new Int32Array(cap * n);
-    f.set(from);
-    from = f;
-    const t = new Int32Array(cap * n);
-    t.set(to);
-    to = t;
+    ({ values, from, to } = cellArrays(cap, n, { values, from, to }));
   };
   const L = end;
   const fileEnd = text.length;

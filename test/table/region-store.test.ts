@@ -21,6 +21,19 @@ function sameBits(a: unknown, b: unknown): boolean {
   return a === b;
 }
 
+/** A hand-made region whose numbers are the edge cases of a double: −0, NaN, ±∞, the least subnormal, the largest finite. */
+function oddNumbersRegion(): CriticalRegion {
+  return {
+    id: 7,
+    activeSet: [0, 3],
+    A: [[-0, 1], [1, NaN]],
+    b: [Infinity, -Infinity],
+    facets: [{ kind: 'primal', row: 2, neighbours: [4, 9] }, { kind: 'box', row: 1, neighbours: [] }],
+    chebyshev: { center: [-0, 5e-324], radius: 1.7976931348623157e308 },
+    law: { F: [[1, -0]], g: [-0] },
+  };
+}
+
 describe('RegionStore', () => {
   for (const [file, lean] of [['positioning-axis.yaml', false], ['positioning-axis.yaml', true]] as const)
     it(`gives back every region of ${file} (${lean ? 'lean' : 'full'}) as it was`, () => {
@@ -63,15 +76,7 @@ describe('RegionStore', () => {
   });
 
   it('keeps −0, NaN, infinities and neighbour lists; a region of another shape is kept as it is', () => {
-    const R: CriticalRegion = {
-      id: 7,
-      activeSet: [0, 3],
-      A: [[-0, 1], [1, NaN]],
-      b: [Infinity, -Infinity],
-      facets: [{ kind: 'primal', row: 2, neighbours: [4, 9] }, { kind: 'box', row: 1, neighbours: [] }],
-      chebyshev: { center: [-0, 5e-324], radius: 1.7976931348623157e308 },
-      law: { F: [[1, -0]], g: [-0] },
-    };
+    const R = oddNumbersRegion();
     const odd = { ...R, extra: 1 } as CriticalRegion;
     const store = new RegionStore();
     store.add(R, { lo: [-1, -0], hi: [1, 2] });
@@ -124,15 +129,7 @@ describe('RegionStore', () => {
     });
 
   it('packs −0, NaN and infinities with the same bits (RegionBatch)', () => {
-    const R: CriticalRegion = {
-      id: 7,
-      activeSet: [0, 3],
-      A: [[-0, 1], [1, NaN]],
-      b: [Infinity, -Infinity],
-      facets: [{ kind: 'primal', row: 2, neighbours: [4, 9] }, { kind: 'box', row: 1, neighbours: [] }],
-      chebyshev: { center: [-0, 5e-324], radius: 1.7976931348623157e308 },
-      law: { F: [[1, -0]], g: [-0] },
-    };
+    const R = oddNumbersRegion();
     const batch = new RegionBatch();
     expect(batch.push(R, { lo: [-1, -0], hi: [1, 2] })).toBe(true);
     const p = structuredClone(batch.take()!);

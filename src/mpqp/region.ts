@@ -674,6 +674,23 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
     const a0 = Af[2 * r];
     const a1 = Af[2 * r + 1];
     const br = bf[r];
+    if (2 * k > nx.length) {
+      // a cut adds at most one vertex to a convex polygon, but the tolerance test on nearly
+      // collinear vertices could add more: never fewer slots than two per edge
+      const cap = 4 * k;
+      const gx = new Float64Array(cap);
+      const gy = new Float64Array(cap);
+      const ge = new Int32Array(cap);
+      gx.set(px.subarray(0, k));
+      gy.set(py.subarray(0, k));
+      ge.set(pe.subarray(0, k));
+      p2x = px = gx;
+      p2y = py = gy;
+      p2e = pe = ge;
+      q2x = nx = new Float64Array(cap);
+      q2y = ny = new Float64Array(cap);
+      q2e = ne = new Int32Array(cap);
+    }
     let n = 0;
     for (let i = 0; i < k; i++) {
       const j = i + 1 === k ? 0 : i + 1;

@@ -39,6 +39,8 @@ export class GridLocator {
   private A: Float64Array;
   private b: Float64Array;
   private rowStart: number[] = [0];
+  /** per region, the row that last showed a query outside it (tried first by `locate`; any order gives the same answers) */
+  private lastOut = new Int32Array(64);
   /** every region's padded box in θ (lo_0 … lo_n−1, hi_0 … hi_n−1): a region whose padded box misses θ holds it nowhere exactly */
   private boxes: Float64Array;
   private count = 0;
@@ -87,6 +89,12 @@ export class GridLocator {
       this.b[start + i] = b[i];
     }
     this.rowStart.push(start + m);
+    if (id >= this.lastOut.length) {
+      const g = new Int32Array(this.lastOut.length * 2);
+      g.set(this.lastOut);
+      this.lastOut = g;
+    }
+    this.lastOut[id] = m > 0 ? start : -1;
     // box in unit coordinates, padded so that a query within its slack still finds the region
     const pad = 1e3 * tol.inside;
     if ((id + 1) * 2 * n > this.boxes.length) {
@@ -250,6 +258,39 @@ export class GridLocator {
     return packedViolation(this.A, this.b, this.rowStart, this.n, r, theta, limit);
   }
 
+  /**
+   * `violation(r, θ, limit)` for `locate`, whose every use of the value is a test against the limit:
+   * the row that last put a query outside region r is tried first, and when its residual is above
+   * the limit that residual is returned (another row's than the scan's first, above the limit too:
+   * the same decisions); otherwise the scan in row order, the same value bit for bit. Neighbouring
+   * queries are mostly cut off by the same row, so a region that does not hold θ costs one row.
+   */
+  private residual(r: number, theta: ArrayLike<number>, limit: number): number {
+    const n = this.n;
+    const A = this.A;
+    const i = this.lastOut[r];
+    if (i >= 0) {
+      let s = 0;
+      const o = i * n;
+      for (let j = 0; j < n; j++) s += A[o + j] * theta[j];
+      const v = s - this.b[i];
+      if (v > limit) return v;
+    }
+    let worst = -Infinity;
+    for (let q = this.rowStart[r], e = this.rowStart[r + 1]; q < e; q++) {
+      let t = 0;
+      const p = q * n;
+      for (let j = 0; j < n; j++) t += A[p + j] * theta[j];
+      const w = t - this.b[q];
+      if (!(w <= limit)) {
+        this.lastOut[r] = q;
+        return Number.isNaN(w) ? Infinity : w;
+      }
+      if (w > worst) worst = w;
+    }
+    return worst;
+  }
+
   /** Largest residual of the region the last `locate` returned (−Infinity when it returned −1). */
   lastViolation = -Infinity;
 
@@ -315,7 +356,7 @@ export class GridLocator {
           }
           continue;
         }
-        const v = this.violation(r, theta, slack);
+        const v = this.residual(r, theta, slack);
         if (v <= exactLimit) {
           exact = r;
           exactV = v;
@@ -334,7 +375,7 @@ export class GridLocator {
     for (let k = 0; k < deferred; k++) {
       // no exact holder: the regions the box test passed over join the least-residual rule
       const r = this.later[k];
-      const v = this.violation(r, theta, slack);
+      const v = this.residual(r, theta, slack);
       if (v <= slack && (v < nearV || (v === nearV && r < near))) {
         near = r;
         nearV = v;

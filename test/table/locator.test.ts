@@ -110,3 +110,78 @@ describe('GridLocator: a region whose padded box misses θ still counts within t
     expect(g.lastViolation).toBeLessThanOrEqual(0);
   });
 });
+
+describe('GridLocator: the row that last put a query outside a region is tried first', () => {
+  it('answers and residuals (bit for bit) equal the rule written out over every region, along a walk of queries', () => {
+    // Reference: the location rule as stated (common practice), coded literally here with
+    // ECMAScript arithmetic: a region holds θ exactly when every a·θ − b (Σ in axis order, then −b)
+    // is ≤ min(0, slack); the lowest such id wins; else the least largest residual ≤ slack (ties:
+    // lowest id); the residual reported is the largest over all rows, scanned in row order.
+    let seed = 12345;
+    const rnd = (): number => {
+      seed = (seed * 16807) % 2147483647;
+      return seed / 2147483647;
+    };
+    for (const n of [2, 3, 4]) {
+      const lo = new Array<number>(n).fill(-1);
+      const hi = new Array<number>(n).fill(1);
+      const g = new GridLocator(lo, hi);
+      const regs: { A: number[][]; b: number[] }[] = [];
+      // random simplices-like cells: rows through random points around a random centre (some overlapping, some thin)
+      for (let r = 0; r < 60; r++) {
+        const c = lo.map(() => rnd() * 1.8 - 0.9);
+        const A: number[][] = [];
+        const b: number[] = [];
+        const m = n + 1 + Math.floor(rnd() * 6);
+        for (let i = 0; i < m; i++) {
+          const a = lo.map(() => rnd() - 0.5);
+          const nrm = Math.hypot(...a);
+          const ai = a.map((v) => v / nrm);
+          A.push(ai);
+          b.push(ai.reduce((s, v, j) => s + v * c[j], 0) + 0.02 + 0.3 * rnd());
+        }
+        regs.push({ A, b });
+        g.add(A, b, lo, hi); // whole box as bounding box: every region listed wherever θ is
+      }
+      const rule = (th: number[], slack: number): { region: number; v: number } => {
+        const res = regs.map(({ A, b }) => {
+          let worst = -Infinity;
+          for (let i = 0; i < A.length; i++) {
+            let s = 0;
+            for (let j = 0; j < n; j++) s += A[i][j] * th[j];
+            const v = s - b[i];
+            if (v > worst) worst = v;
+          }
+          return worst;
+        });
+        const exact = res.findIndex((v) => v <= Math.min(0, slack));
+        if (exact >= 0) return { region: exact, v: res[exact] };
+        let best = -1;
+        for (let r = 0; r < res.length; r++) if (res[r] <= slack && (best < 0 || res[r] < res[best])) best = r;
+        return { region: best, v: best >= 0 ? res[best] : -Infinity };
+      };
+      // a walk: small steps (neighbouring queries), jumps, and points on or just off rows
+      let th = lo.map(() => 0);
+      let checked = 0;
+      for (let q = 0; q < 3000; q++) {
+        if (q % 50 === 0) th = lo.map(() => rnd() * 2 - 1);
+        else th = th.map((v) => Math.max(-1, Math.min(1, v + (rnd() - 0.5) * 0.05)));
+        if (q % 7 === 0) {
+          // onto a row of a random region, then off by ±3e-9 (within the slack)
+          const { A, b } = regs[Math.floor(rnd() * regs.length)];
+          const i = Math.floor(rnd() * A.length);
+          const d = A[i].reduce((s, v, j) => s + v * th[j], 0) - b[i] + (rnd() < 0.5 ? 3e-9 : -3e-9);
+          th = th.map((v, j) => v - d * A[i][j]);
+          if (th.some((v) => v < -1 || v > 1)) continue;
+        }
+        for (const slack of [tol.inside, -1e-3, 0]) {
+          const want = rule(th, slack);
+          expect(g.locate(th, slack)).toBe(want.region);
+          if (want.region >= 0) expect(Object.is(g.lastViolation, want.v)).toBe(true);
+          checked++;
+        }
+      }
+      expect(checked).toBeGreaterThan(6000);
+    }
+  });
+});

@@ -3,7 +3,8 @@
  * allocate nothing when given scratch, and are checked against mathjs in the tests.
  */
 
-/** In-place Cholesky L Lᵀ of the n×n SPD matrix in `a` (lower triangle written, upper left as is).
+/** In-place Cholesky L Lᵀ of the n×n SPD matrix in `a` (lower triangle written, upper left as is;
+ * only the lower triangle and the diagonal of `a` are read).
  * Returns false when a pivot is ≤ pivotTol·(1 + max diagonal): the matrix is not (numerically) PD. */
 export function choleskyInPlace(a: Float64Array, n: number, pivotTol: number): boolean {
   let scale = 0;
@@ -70,7 +71,8 @@ export function spdScratch(): SpdScratch {
 }
 
 /**
- * Inverse of an SPD matrix (n×n) via Cholesky; null when not PD. With `scratch` the result is
+ * Inverse of an SPD matrix (n×n) via Cholesky; null when not PD. Only the lower triangle and the
+ * diagonal of `a` are read (the upper triangle may hold anything). With `scratch` the result is
  * scratch.inv's first n² entries (valid until the next call with that scratch), else a new array.
  * Column j of the inverse solves L y = e_j, then Lᵀ x = y, each entry one sum in the textbook order
  * (k ascending forward, descending rows backward); column j's forward substitution starts at row j

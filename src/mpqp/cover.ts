@@ -258,8 +258,12 @@ function finish(A: number[], b: number[], m: number, verts: number[][], tight: n
   }
   const T2: number[][] = [];
   for (const t of T) {
-    const u: number[] = [];
-    for (const i of t) if (map[i] >= 0) u.push(map[i]);
+    // made at its final length (a list grown by push reserves room for ~16 more entries)
+    let len = 0;
+    for (const i of t) if (map[i] >= 0) len++;
+    const u = new Array<number>(len);
+    len = 0;
+    for (const i of t) if (map[i] >= 0) u[len++] = map[i];
     if (u.length < dim || !rankAtLeast(A2, u, dim, dim)) return fail('rank');
     T2.push(u);
   }

@@ -101,9 +101,10 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const lc = bw.lc;
   if (k > 0) {
     const MAA = bw.MAA;
+    // the lower triangle and the diagonal only: all that spdInverse (and scaledInverse) read
     for (let a = 0; a < k; a++) {
       const ra = activeSet[a] * nc;
-      for (let b = 0; b < k; b++) MAA[a * k + b] = M[ra + activeSet[b]];
+      for (let b = 0; b <= a; b++) MAA[a * k + b] = M[ra + activeSet[b]];
     }
     const inv = spdInverse(MAA, k, tol.rank, invScratch) ?? scaledInverse(MAA, k);
     if (!inv) return { ok: false, reason: 'licq' };
@@ -329,10 +330,18 @@ function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVerti
   return { x: V.x, tight };
 }
 
+/** H·Z of valueFunction (one per thread) */
+let hzScratch = new Float64Array(0);
+/** scaledInverse's diagonal scaling and scaled block (one per thread) */
+let scaleD = new Float64Array(0);
+let scaleS = new Float64Array(0);
+
 /** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */
 function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array): CriticalRegion['value'] {
   const { nz, ntheta: nt, H, F, Y, c } = problem;
-  const HZ = new Float64Array(nz * nt);
+  // every entry written below before it is read; nothing of it outlives the call
+  if (hzScratch.length < nz * nt) hzScratch = new Float64Array(2 * nz * nt);
+  const HZ = hzScratch;
   for (let i = 0; i < nz; i++) {
     // two θ columns side by side (independent sums over q, each in ascending order)
     let j = 0;
@@ -752,13 +761,15 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
  * test fails, so regions it accepts keep their bits. Null when singular after scaling too.
  */
 function scaledInverse(a: Float64Array, n: number): Float64Array | null {
-  const d = new Float64Array(n);
+  if (scaleD.length < n) scaleD = new Float64Array(2 * n);
+  if (scaleS.length < n * n) scaleS = new Float64Array(4 * n * n);
+  const d = scaleD;
   for (let i = 0; i < n; i++) {
     if (!(a[i * n + i] > 0)) return null;
     d[i] = 1 / Math.sqrt(a[i * n + i]);
   }
-  const s = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) s[i * n + j] = d[i] * a[i * n + j] * d[j];
+  const s = scaleS; // its lower triangle and diagonal written below: all spdInverse reads
+  for (let i = 0; i < n; i++) for (let j = 0; j <= i; j++) s[i * n + j] = d[i] * a[i * n + j] * d[j];
   const inv = spdInverse(s, n, tol.rank, invScratch);
   if (!inv) return null;
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) inv[i * n + j] *= d[i] * d[j];

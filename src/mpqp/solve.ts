@@ -390,8 +390,12 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     for (let v = 0; v < V.x.length; v++) {
       const T = V.tight[v];
       if (!T.includes(f)) continue;
-      const t: number[] = [];
-      for (const r of T) if (r !== f && map[r] >= 0) t.push(map[r]);
+      // made at its final length (a list grown by push reserves room for ~16 more entries)
+      let len = 0;
+      for (const r of T) if (r !== f && map[r] >= 0) len++;
+      const t = new Array<number>(len);
+      len = 0;
+      for (const r of T) if (r !== f && map[r] >= 0) t[len++] = map[r];
       verts.push(facet.toY(V.x[v]));
       tight.push(t);
     }

@@ -162,18 +162,31 @@ function faceKey(T: readonly number[], omit: number): number {
   return h | 0;
 }
 
+/**
+ * t's first k rows with r inserted before the first larger row (not when equal to a row met
+ * first); at the end when none is larger. The list is made at its final length (a list grown by
+ * push reserves room for ~16 more entries: most of the vertex lists' garbage).
+ */
 function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
-  const out: number[] = [];
-  let placed = false;
+  let at = k;
+  let has = false;
   for (let i = 0; i < k; i++) {
-    if (!placed && r < t[i]) {
-      out.push(r);
-      placed = true;
+    if (r < t[i]) {
+      at = i;
+      break;
     }
-    if (t[i] === r) placed = true;
-    out.push(t[i]);
+    if (t[i] === r) {
+      has = true;
+      break;
+    }
   }
-  if (!placed) out.push(r);
+  const out = new Array<number>(has ? k : k + 1);
+  if (has) for (let i = 0; i < k; i++) out[i] = t[i];
+  else {
+    for (let i = 0; i < at; i++) out[i] = t[i];
+    out[at] = r;
+    for (let i = at; i < k; i++) out[i + 1] = t[i];
+  }
   return out;
 }
 
@@ -218,7 +231,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     else if (s[q] < -eps) insideAll.push(q);
   }
   const hashed = hashEdges === 'ordered' ? false : (hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length));
-  const byFace = new Map<number, number[]>();
+  const byFace = hashed ? new Map<number, number[]>() : null;
   const degenerateInside: number[] = [];
   for (const q of insideAll) {
     const Tq = V.tight[q];
@@ -229,9 +242,9 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     if (!hashed) continue;
     for (let omit = 0; omit < n; omit++) {
       const key = faceKey(Tq, omit);
-      const list = byFace.get(key);
+      const list = byFace!.get(key);
       if (list) list.push(q);
-      else byFace.set(key, [q]);
+      else byFace!.set(key, [q]);
     }
   }
   const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
@@ -278,7 +291,7 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     } else if (Tp.length === n) {
       if (hashed) {
         for (let omit = 0; omit < n; omit++) {
-          const list = byFace.get(faceKey(Tp, omit));
+          const list = byFace!.get(faceKey(Tp, omit));
           if (!list) continue;
           for (const q of list) {
             const k = intersect(Tp, V.tight[q], buf, n - 1);
@@ -397,13 +410,21 @@ export function vertexPass(
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
   const vHi = new Float64Array(n);
+  // the vertices' coordinates copied into one flat array after every cut (the row and argmax scans
+  // below read them contiguously instead of through one array per vertex: the same products, in
+  // the same order)
+  let X = flatScratch.x;
   const vertexBox = (): void => {
     vLo.fill(Infinity);
     vHi.fill(-Infinity);
+    if (X.length < V.x.length * n) X = flatScratch.x = new Float64Array(2 * V.x.length * n);
+    let o = 0;
     for (const x of V.x)
       for (let j = 0; j < n; j++) {
-        if (x[j] < vLo[j]) vLo[j] = x[j];
-        if (x[j] > vHi[j]) vHi[j] = x[j];
+        const t = x[j];
+        X[o++] = t;
+        if (t < vLo[j]) vLo[j] = t;
+        if (t > vHi[j]) vHi[j] = t;
       }
   };
   vertexBox();
@@ -419,10 +440,10 @@ export function vertexPass(
       if (mx <= breakMargin) break;
       let worst = breakMargin;
       let wv = -1;
-      for (let v = 0; v < V.x.length; v++) {
+      for (let v = 0, cnt = V.x.length; v < cnt; v++) {
         let s = -b[r];
-        const x = V.x[v];
-        for (let j = 0; j < n; j++) s += A[r * n + j] * x[j];
+        const o = v * n;
+        for (let j = 0; j < n; j++) s += A[r * n + j] * X[o + j];
         if (s > worst) {
           worst = s;
           wv = v;
@@ -466,7 +487,7 @@ export function vertexPass(
     for (const sgn of [1, -1]) {
       e.fill(0);
       e[j] = sgn;
-      const v = argmaxVertex(V, e);
+      const v = argmaxFlat(X, V.x.length, n, e, 0);
       if (v < 0 || breaksAny(A, b, n, V.x[v], toLp, boxRow)) continue; // not the region's own side: to its LP
       const value = vertexBound(e, V.tight[v], n, bound);
       if (!Number.isFinite(value)) continue;
@@ -482,9 +503,9 @@ export function vertexPass(
       mx += a > 0 ? a * bbHi[j] : a * bbLo[j];
     }
     if (mx <= -redundancyTol) continue; // the caller's box test drops it
-    const c = A.subarray(r * n, (r + 1) * n);
-    const v = argmaxVertex(V, c);
+    const v = argmaxFlat(X, V.x.length, n, A, r * n);
     if (v < 0) continue;
+    const c = A.subarray(r * n, (r + 1) * n);
     if (vertexBound(c, V.tight[v], n, bound) <= b[r] + redundancyTol) alive[r] = 0;
   }
   return V;
@@ -501,12 +522,17 @@ function breaksAny(A: Float64Array, b: Float64Array, n: number, x: readonly numb
   return false;
 }
 
-function argmaxVertex(V: VertexSet, c: ArrayLike<number>): number {
+/** vertexPass's flat copy of the vertex coordinates (n per vertex; one per thread, grown on demand) */
+const flatScratch = { x: new Float64Array(256) };
+
+/** The first vertex of greatest c·x (0 + Σ c_j x_j in axis order) of the flat copy X of `count` vertices, c read from c[off …]; −1 when none. */
+function argmaxFlat(X: Float64Array, count: number, n: number, c: ArrayLike<number>, off: number): number {
   let best = -Infinity;
   let arg = -1;
-  for (let v = 0; v < V.x.length; v++) {
+  for (let v = 0; v < count; v++) {
     let s = 0;
-    for (let j = 0; j < V.n; j++) s += c[j] * V.x[v][j];
+    const o = v * n;
+    for (let j = 0; j < n; j++) s += c[off + j] * X[o + j];
     if (s > best) {
       best = s;
       arg = v;

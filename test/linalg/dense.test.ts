@@ -191,6 +191,33 @@ describe('spdInverse, four columns side by side: mathjs inv within round-off, th
   }
 });
 
+describe('spdInverse and choleskyInPlace read only the lower triangle and the diagonal', () => {
+  // the region builder fills only that part of M_AA; the upper triangle keeps another matrix's values
+  for (const n of [1, 2, 5, 13, 26, 40]) {
+    it(`n=${n}: NaN or stale values above the diagonal change no bit; mathjs inv of the full matrix agrees`, () => {
+      const r = rng(9100 + n);
+      const A = randSpd(r, n, 0.8);
+      const full = fromRows(A, n);
+      const want = Float64Array.from(spdInverse(full, n, tol.pd)!);
+      const ref = asRows(math.inv(A));
+      const scale = 1 + Math.max(...ref.map((row) => maxAbs(row)));
+      expect(maxDiff(toRows(want, n, n), ref)).toBeLessThanOrEqual(1e-8 * scale * n);
+      for (const junk of [NaN, 1e300, -7]) {
+        const a = Float64Array.from(full);
+        for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) a[i * n + j] = junk;
+        const scratch = { l: new Float64Array(0), inv: new Float64Array(0), col: new Float64Array(0) };
+        const got = spdInverse(a, n, tol.pd, scratch)!;
+        for (let q = 0; q < n * n; q++) expect(Object.is(got[q], want[q])).toBe(true);
+        const l1 = Float64Array.from(full);
+        const l2 = Float64Array.from(a);
+        expect(choleskyInPlace(l1, n, tol.pd)).toBe(true);
+        expect(choleskyInPlace(l2, n, tol.pd)).toBe(true);
+        for (let i = 0; i < n; i++) for (let j = 0; j <= i; j++) expect(Object.is(l2[i * n + j], l1[i * n + j])).toBe(true);
+      }
+    });
+  }
+});
+
 describe('luSolve = mathjs lusolve on general (non-symmetric) systems', () => {
   for (const n of sizes) {
     it(`n=${n}`, () => {

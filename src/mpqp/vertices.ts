@@ -30,7 +30,23 @@ export interface VertexSet {
  * made here.
  */
 export function newPoint(n: number): number[] {
-  return new Array<number>(n).fill(0.5);
+  // up to 6 coordinates an array literal: packed double elements from birth, with no call to fill
+  switch (n) {
+    case 1:
+      return [0.5];
+    case 2:
+      return [0.5, 0.5];
+    case 3:
+      return [0.5, 0.5, 0.5];
+    case 4:
+      return [0.5, 0.5, 0.5, 0.5];
+    case 5:
+      return [0.5, 0.5, 0.5, 0.5, 0.5];
+    case 6:
+      return [0.5, 0.5, 0.5, 0.5, 0.5, 0.5];
+    default:
+      return new Array<number>(n).fill(0.5);
+  }
 }
 
 /**

@@ -6,7 +6,8 @@ import { clampInputs } from './clamp.js';
 import { locateScan, sharedTableLocator } from './locator.js';
 import { tol } from '../tol.js';
 import type { BoxIndex } from './boxindex.js';
-import type { CriticalRegion } from '../mpqp/types.js';
+import type { AffineMap, CriticalRegion } from '../mpqp/types.js';
+import { isFullTable, type EvaluatedTable } from './evaluate-table.js';
 
 /**
  * Match a header line to the θ names (contract, `tessera evaluate`): every θ entry named exactly
@@ -757,7 +758,7 @@ export function pointsHeaderColumns(path: string, line: number, cells: string[],
  * of the value is made once per region.
  */
 const lawCache = new WeakMap<object, { F: Float64Array; g: Float64Array; constant: Uint8Array }>();
-function packedLaws(table: TableFile): { F: Float64Array; g: Float64Array; constant: Uint8Array } {
+function packedLaws(table: { regions: readonly { law: AffineMap }[]; dims: TableFile['dims'] }): { F: Float64Array; g: Float64Array; constant: Uint8Array } {
   const hit = lawCache.get(table.regions);
   if (hit && hit.g.length === table.regions.length * table.dims.nu) return hit;
   const n = table.dims.ntheta;
@@ -859,7 +860,7 @@ export class NumberText {
  * stage (`performance.now()`).
  */
 export function* evaluateCsvBytes(
-  table: TableFile,
+  table: EvaluatedTable,
   input: string | Uint8Array,
   points: FlatPoints,
   extra: number[][] = [],
@@ -871,7 +872,7 @@ export function* evaluateCsvBytes(
   const context = csvContext(table, options, times, points.count + extra.length);
   const all = csvPoints(points, extra);
   const text = points.count > 0 ? asBytes(input) : new Uint8Array(0);
-  yield* csvLines(context, { text, values: all, fileCount: points.count, from: points.from, to: points.to }, 0, all.length / Math.max(n, 1), true, options.chunkPoints, times, table.regions);
+  yield* csvLines(context, { text, values: all, fileCount: points.count, from: points.from, to: points.to }, 0, all.length / Math.max(n, 1), true, options.chunkPoints, times, isFullTable(table) ? table.regions : null);
 }
 
 /**
@@ -916,13 +917,14 @@ export const SCAN_BELOW_POINTS = 1000;
  * The k-d tree and packed laws of `table` for `csvLines` (the tree built on first use per table; the
  * time goes to `times.index`). With `points` < SCAN_BELOW_POINTS and no index given, there is no tree: the lines are located by a scan.
  */
-export function csvContext(table: TableFile, options: EvaluateOptions = {}, times?: EvaluateTimes, points = Infinity): CsvContext {
+export function csvContext(table: EvaluatedTable, options: EvaluateOptions = {}, times?: EvaluateTimes, points = Infinity): CsvContext {
   const now = (): number => performance.now() / 1000;
   const cpuNow = times?.cpuNow ?? ((): number => 0);
   const c0 = cpuNow();
   const t0 = now();
   const given = options.index && options.index.size === table.regions.length ? options.index : null;
-  const index = given ?? (points < SCAN_BELOW_POINTS ? null : sharedTableLocator(table.regions, table.box));
+  if (!given && !isFullTable(table)) throw new Error('a table read for its laws only is located through its index');
+  const index = given ?? (points < SCAN_BELOW_POINTS || !isFullTable(table) ? null : sharedTableLocator(table.regions, table.box));
   const { F, g, constant } = packedLaws(table);
   if (times) {
     times.index += now() - t0;

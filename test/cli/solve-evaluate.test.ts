@@ -451,6 +451,13 @@ describe('tessera evaluate', () => {
     const first = await run(['evaluate', copy, '--points', pointsFile, '--index', idx, '-q']);
     expect(first.status, first.stderr).toBe(0);
     expect(first.stdout).toBe(csv.stdout);
+    // --at alone, the index read back (laws only) and without it: the same line
+    const at = csvBody.split('\n')[3];
+    const atRuns = await runAll({ idx: ['evaluate', copy, '--at', at, '--index', idx, '-q', '--times'], plain: ['evaluate', copy, '--at', at, '-q'] });
+    expect(atRuns.idx.status, atRuns.idx.stderr).toBe(0);
+    expect(atRuns.idx.stderr).toContain('table and index (laws only)');
+    expect(atRuns.idx.stdout).toBe(atRuns.plain.stdout);
+    expect(atRuns.idx.stdout.split('\n')).toHaveLength(3);
     const indexBytes = readFileSync(idx);
     // the second region line loses its law after the index was written
     const lines = readFileSync(copy, 'utf8').split('\n');

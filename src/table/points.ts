@@ -985,6 +985,10 @@ class CsvChunkWriter {
   /** bytes per line at most: a double prints in ≤ 25 characters, a copied cell is such a text */
   readonly lineMax: number;
   scratch = new Uint8Array(0);
+  /** the input's bytes and the scratch array as DataViews: θ bytes are copied four at a time */
+  private readonly textView: DataView<ArrayBufferLike>;
+  private outView: DataView<ArrayBufferLike> = new DataView(new ArrayBuffer(0));
+  private outOf: Uint8Array | null = null;
 
   constructor(
     private readonly ctx: CsvContext,
@@ -1009,6 +1013,26 @@ class CsvChunkWriter {
     this.u = new Float64Array(chunk * nu);
     this.th = new Float64Array(n);
     this.lineMax = 26 * (n + nu) + 16;
+    this.textView = new DataView(pts.text.buffer, pts.text.byteOffset, pts.text.byteLength);
+  }
+
+  /**
+   * Copy the input's bytes [i, e) into out at `at`; returns the end. Four bytes at a time through
+   * DataViews (the same byte order on both sides, so the bytes are the same on any machine), the
+   * rest one at a time: the θ text of a line is ~40 bytes (format stage 0.24–0.31 → 0.20–0.23 s CPU
+   * per 10⁶ 4-D lines, alternated in one process).
+   */
+  private copy(out: Uint8Array, at: number, i: number, e: number): number {
+    if (this.outOf !== out) {
+      this.outView = new DataView(out.buffer, out.byteOffset, out.byteLength);
+      this.outOf = out;
+    }
+    const src = this.textView;
+    const dst = this.outView;
+    for (; i + 4 <= e; i += 4, at += 4) dst.setUint32(at, src.getUint32(i, true), true);
+    const text = this.pts.text;
+    for (; i < e; i++) out[at++] = text[i];
+    return at;
   }
 
   /** a constant row gives g only at a finite θ (0·∞ is NaN): points with another entry take the product */
@@ -1086,7 +1110,7 @@ class CsvChunkWriter {
   format(out: Uint8Array, at: number, a: number, b: number): number {
     const n = this.n;
     const nu = this.nu;
-    const { text, values: all, fileCount, from, to } = this.pts;
+    const { values: all, fileCount, from, to } = this.pts;
     const region = this.region;
     const u = this.u;
     const numbers = this.numbers;
@@ -1096,13 +1120,12 @@ class CsvChunkWriter {
       // θ: the input line's bytes when its cells are all copies, adjacent and in θ order
       let whole = k < fileCount && from[q0] >= 0;
       for (let j = 1; whole && j < n; j++) whole = from[q0 + j] >= 0 && from[q0 + j] === to[q0 + j - 1] + 1;
-      if (whole) {
-        for (let i = from[q0], e = to[q0 + n - 1]; i < e; i++) out[at++] = text[i];
-      } else
+      if (whole) at = this.copy(out, at, from[q0], to[q0 + n - 1]);
+      else
         for (let j = 0; j < n; j++) {
           if (j) out[at++] = 44;
           const f = k < fileCount ? from[q0 + j] : -1;
-          if (f >= 0) for (let i = f, e = to[q0 + j]; i < e; i++) out[at++] = text[i];
+          if (f >= 0) at = this.copy(out, at, f, to[q0 + j]);
           else at = put(out, at, numbers.text(all[q0 + j]));
         }
       const r = region[k - a];

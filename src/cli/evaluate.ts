@@ -14,6 +14,7 @@ import { BoxIndex, indexFromBytes, indexToBytes, INDEX_FILE_TAG } from '../table
 import { tableLocator } from '../table/locator.js';
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
+import { isFullTable, readTableLaws, type EvaluatedTable } from '../table/evaluate-table.js';
 
 /** Process CPU seconds so far (user + system). */
 const cpuSeconds = (): number => {
@@ -81,7 +82,7 @@ export function register(program: Command): void {
       // with threads, the workers start now: they load their modules and parse their ranges of the
       // points file while this thread reads the table
       const threads = opts.threads ?? availableParallelism();
-      const plan = threads > 1 && opts.points && !opts.json ? startThreaded(opts.points, tablePath, threads, !!opts.index) : null;
+      const plan = threads > 1 && opts.points && !opts.json ? startThreaded(opts.points, tablePath, threads, opts.index ? (existsSync(opts.index) ? 'read' : 'build') : 'build') : null;
       try {
         await evaluateAction(tablePath, opts, clock, plan);
       } finally {
@@ -116,7 +117,7 @@ interface ThreadedPlan {
  * what it does alone (reading the table, the index, writing). Null (nothing started) when the file is
  * small, cannot be read (the one-thread path then reports it) or has no data line.
  */
-function startThreaded(pointsPath: string, tablePath: string, threads: number, indexFile: boolean): ThreadedPlan | null {
+function startThreaded(pointsPath: string, tablePath: string, threads: number, index: 'read' | 'build'): ThreadedPlan | null {
   let size: number;
   let tableSize: number;
   try {
@@ -141,10 +142,11 @@ function startThreaded(pointsPath: string, tablePath: string, threads: number, i
     return null;
   }
   // seconds per byte of points (parse, locate, law, format: ~60 ns at 10⁶ 4-D points of 7 digits)
-  // and what this thread does alone: the table (~35 ns per byte), the index (built: ~0.17 µs per byte
-  // of table; read from --index: little), the writes (~2 ns per byte of points); a worker's module load
+  // and what this thread does alone: the table and index (read in full and built: ~35 + 170 ns per
+  // byte of table; with an --index file there: the table's bytes hashed, its laws read and the index
+  // file read, ~12 ns per byte of table), the writes (~2 ns per byte of points); a worker's module load
   const perByte = 60e-9;
-  const alone = tableSize * (35e-9 + (indexFile ? 2e-9 : 170e-9)) + size * 2e-9;
+  const alone = tableSize * (index === 'read' ? 12e-9 : 205e-9) + size * 2e-9;
   const workerStart = 0.1;
   const B = size - head.dataStart;
   const own = Math.max(0, (B + ((workerStart - alone) * (T - 1)) / perByte) / T);
@@ -173,10 +175,12 @@ function readShared(path: string): Buffer {
 
 /** The command's work once the workers (if any) are started and parsing (the caller ends them in any case). */
 async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: StageClock | null, plan: ThreadedPlan | null): Promise<void> {
-  const table = readTableFile(tablePath);
+  // with --index (CSV output): the table's laws only, when the index file is this table file's index
+  const known = opts.index && !opts.json ? lawsWithIndex(tablePath, opts.index, clock) : null;
+  const table: EvaluatedTable = known?.table ?? readTableFile(tablePath);
   clock?.lap('table');
   if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
-  if (plan && (await threadedAction(table, tablePath, opts, clock, plan))) return;
+  if (plan && (await threadedAction(table, known?.index ?? null, tablePath, opts, clock, plan))) return;
   const points: number[][] = [];
   const empty: FlatPoints = { count: 0, ntheta: table.dims.ntheta, values: new Float64Array(0), from: new Int32Array(0), to: new Int32Array(0) };
   // the file's bytes: read by a byte scan, plain cells copied to the output as they are
@@ -192,7 +196,7 @@ async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: Stag
   if (opts.index) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    index = indexFor(table, tablePath, opts.index, !!opts.quiet);
+    index = known ? known.index : indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
     indexWall = (performance.now() - w0) / 1000;
     indexCpu = cpuSeconds() - c0;
   }
@@ -205,7 +209,7 @@ async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: Stag
     // one push per point: a spread of 10⁶ points would overflow the call stack
     for (let k = 0; k < flat.count; k++) all.push(Array.from(flat.values.subarray(k * flat.ntheta, (k + 1) * flat.ntheta)));
     for (const p of points) all.push(p);
-    const out = evaluatePoints(table, all, { clamp, index });
+    const out = evaluatePoints(fullTable(table), all, { clamp, index });
     clock?.lap('evaluate');
     process.stdout.write(JSON.stringify({ thetaNames: table.thetaNames, inputNames: table.inputNames, complete: table.stats.complete, clamped: clamp, points: out }) + '\n');
     if (clock) {
@@ -261,7 +265,7 @@ async function writeCsv(chunks: Iterable<Uint8Array> | AsyncIterable<Uint8Array>
  * not match θ (its errors are that path's), a line is not a point, the table has no k-d tree, or
  * too few points.
  */
-async function threadedAction(table: TableFile, tablePath: string, opts: EvaluateOpts, clock: StageClock | null, plan: ThreadedPlan): Promise<boolean> {
+async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tablePath: string, opts: EvaluateOpts, clock: StageClock | null, plan: ThreadedPlan): Promise<boolean> {
   const n = table.dims.ntheta;
   const { csv, head } = plan;
   const giveUp = (): false => {
@@ -290,7 +294,7 @@ async function threadedAction(table: TableFile, tablePath: string, opts: Evaluat
   if (opts.index) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    index = indexFor(table, tablePath, opts.index, !!opts.quiet);
+    index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
     times.index += (performance.now() - w0) / 1000;
     times.cpu!.index += cpuSeconds() - c0;
   }
@@ -306,7 +310,7 @@ async function threadedAction(table: TableFile, tablePath: string, opts: Evaluat
 }
 
 /** The warnings of a CSV or JSON run (not with -q): an incomplete table, --clamp without limits. */
-function warnings(table: TableFile, tablePath: string, opts: EvaluateOpts, clamp: boolean): void {
+function warnings(table: EvaluatedTable, tablePath: string, opts: EvaluateOpts, clamp: boolean): void {
   if (!opts.quiet && !table.stats.complete)
     process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
   if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
@@ -332,6 +336,47 @@ function fileSha256(path: string): string {
   return `sha256:${hash.digest('hex')}`;
 }
 
+/** The key an index file of `tablePath` carries: the SHA-256 of the table's bytes, its size and the locator's parameters. */
+function indexKey(sha: string, regions: number, ntheta: number): Record<string, unknown> {
+  return { table: sha, regions, ntheta, locator: 'tableLocator', pad: 1e3 * tol.inside };
+}
+
+/** The table as read in full (the JSON path, the index build and the scan need its regions' half-spaces). */
+function fullTable(table: EvaluatedTable): TableFile {
+  if (!isFullTable(table)) throw new Error('this step needs the table read in full');
+  return table;
+}
+
+/**
+ * `--index` when the index file is there and is the index of this table file as this build makes it
+ * (the key's SHA-256 is that of the table's bytes, the region count and nθ match): the index and the
+ * table read for its header and laws only (`readTableLaws`: the file was read in full and checked
+ * when the index was written). Null in every other case, with nothing reported: the caller reads the
+ * table in full and `indexFor` reads, rebuilds or refuses the index file with its own messages. With
+ * `clock`, the table's bytes, their hash, the index file and the laws are the stage `table and index
+ * (laws only)` (the stage `table` after it is then empty).
+ */
+function lawsWithIndex(tablePath: string, indexPath: string, clock: StageClock | null): { table: EvaluatedTable; index: BoxIndex } | null {
+  let tableBytes: Uint8Array;
+  let read: ReturnType<typeof indexFromBytes>;
+  try {
+    if (!existsSync(indexPath)) return null;
+    read = indexFromBytes(readFileSync(indexPath));
+    if ('problem' in read) return null;
+    tableBytes = readFileSync(tablePath);
+  } catch {
+    return null;
+  }
+  const sha = `sha256:${createHash('sha256').update(tableBytes).digest('hex')}`;
+  if (read.key.table !== sha) return null;
+  const table = readTableLaws(tableBytes, tablePath);
+  if (!table) return null;
+  const key = indexKey(sha, table.regions.length, table.dims.ntheta);
+  if (JSON.stringify(read.key) !== JSON.stringify(key) || read.index.size !== table.regions.length || read.index.n !== table.dims.ntheta) return null;
+  clock?.lap('table and index (laws only)');
+  return { table, index: read.index };
+}
+
 /**
  * The point-location index of `table` (read from `tablePath`) kept in `indexPath`: read when the
  * file is the index of this table file as this build makes it (same SHA-256 of the table's bytes,
@@ -340,7 +385,7 @@ function fileSha256(path: string): string {
  * never overwritten.
  */
 function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet: boolean): BoxIndex {
-  const key = { table: fileSha256(tablePath), regions: table.regions.length, ntheta: table.dims.ntheta, locator: 'tableLocator', pad: 1e3 * tol.inside };
+  const key = indexKey(fileSha256(tablePath), table.regions.length, table.dims.ntheta);
   let why = 'written';
   if (existsSync(indexPath)) {
     let bytes: Uint8Array;

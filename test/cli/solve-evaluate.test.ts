@@ -395,6 +395,8 @@ describe('tessera evaluate', () => {
     expect(runs.again.stdout).toBe(csv.stdout);
     expect(runs.again.stderr).not.toContain('tessera: index');
     expect(runs.again.stderr).toMatch(/tessera: times .*index [\d.]+\/[\d.]+, locate/);
+    // read back, the table is read for its laws only (src/table/evaluate-table.ts)
+    expect(runs.again.stderr).toMatch(/tessera: times .*, table and index \(laws only\) [\d.]+\/[\d.]+, table /);
     expect(runs.sameBytes.stdout).toBe(csv.stdout);
     expect(runs.sameBytes.stderr).not.toContain('tessera: index');
     expect(runs.json.stdout).toBe(ev.json.stdout);
@@ -435,6 +437,51 @@ describe('tessera evaluate', () => {
     expect(oneLine(refused.stderr)).toHaveLength(1);
     expect(refused.stdout).toBe('');
     expect(readFileSync(notIndex, 'utf8')).toBe(csvBody);
+  }, 120000);
+
+  // --index read back: the table is then read for its header and laws only (readTableLaws), which is
+  // sound only while the table's bytes are those the index was written for. References: the bytes of
+  // the run without --index; a table edited after its index was written is read in full again and its
+  // error is the full reader's (one line naming file and key, exit 2, nothing on stdout); a table in
+  // another layout (pretty-printed JSON of the same table) takes the full read and gives the same bytes.
+  it('--index read back with the laws only: an edited table is read in full (its error, exit 2); another layout of the same table gives the same bytes', async () => {
+    const copy = join(dir, 'edit.json');
+    const idx = join(dir, 'edit.index');
+    writeFileSync(copy, readFileSync(tablePath));
+    const first = await run(['evaluate', copy, '--points', pointsFile, '--index', idx, '-q']);
+    expect(first.status, first.stderr).toBe(0);
+    expect(first.stdout).toBe(csv.stdout);
+    // --at alone, the index read back (laws only) and without it: the same line
+    const at = csvBody.split('\n')[3];
+    const atRuns = await runAll({ idx: ['evaluate', copy, '--at', at, '--index', idx, '-q', '--times'], plain: ['evaluate', copy, '--at', at, '-q'] });
+    expect(atRuns.idx.status, atRuns.idx.stderr).toBe(0);
+    expect(atRuns.idx.stderr).toContain('table and index (laws only)');
+    expect(atRuns.idx.stdout).toBe(atRuns.plain.stdout);
+    expect(atRuns.idx.stdout.split('\n')).toHaveLength(3);
+    const indexBytes = readFileSync(idx);
+    // the second region line loses its law after the index was written
+    const lines = readFileSync(copy, 'utf8').split('\n');
+    const k = lines.findIndex((l) => l.startsWith('{"id":')) + 1;
+    lines[k] = lines[k].replace('"law":', '"lawless":');
+    writeFileSync(copy, lines.join('\n'));
+    const broken = await run(['evaluate', copy, '--points', pointsFile, '--index', idx]);
+    expect(broken.status).toBe(2);
+    expect(oneLine(broken.stderr)).toEqual([`tessera: ${copy}: regions[${k - lines.findIndex((l) => l.startsWith('{"id":'))}].law: must map 2 parameters to 1 inputs`]);
+    expect(broken.stdout).toBe('');
+    expect(readFileSync(idx)).toEqual(indexBytes);
+    // pretty-printed: a table file of other bytes, so its own index; read back through the full reader
+    const pretty = join(dir, 'pretty.json');
+    const prettyIdx = join(dir, 'pretty.index');
+    writeFileSync(pretty, JSON.stringify(JSON.parse(readFileSync(tablePath, 'utf8')), null, 2));
+    const p1 = await run(['evaluate', pretty, '--points', pointsFile, '--index', prettyIdx]);
+    const p2 = await run(['evaluate', pretty, '--points', pointsFile, '--index', prettyIdx, '--times']);
+    expect(p1.status, p1.stderr).toBe(0);
+    expect(p2.status, p2.stderr).toBe(0);
+    expect(p1.stderr).toContain(`tessera: index ${prettyIdx} written`);
+    expect(p2.stderr).not.toContain('tessera: index');
+    expect(p2.stderr).toMatch(/tessera: times \(wall\/CPU seconds\): start-up [\d.]+\/[\d.]+, table /);
+    expect(p1.stdout).toBe(csv.stdout);
+    expect(p2.stdout).toBe(csv.stdout);
   }, 120000);
 
   it('a header line of names in the points file is accepted and changes nothing', () => {

@@ -5,6 +5,8 @@ import { tmpdir } from 'node:os';
 import { evaluateCsvBytes, evaluateCsvChunks, evaluationCsv, NumberText, orderRangePoints, parsePointsCsv, parsePointsFlat, parsePointsRange, pointsFileHead, SCAN_BELOW_POINTS } from '../../src/table/points.js';
 import { splitLines } from '../../src/table/evaluate-threads.js';
 import type { TableFile } from '../../src/table/format.js';
+import { isFullTable, readTableLaws } from '../../src/table/evaluate-table.js';
+import { tableToJson } from '../../src/table/table.js';
 import { qpReference } from '../helpers/reference.js';
 import { rng, root, solved } from '../helpers/solved.js';
 import { runCli } from '../helpers/cli.js';
@@ -661,6 +663,69 @@ describe('the formatting of tessera evaluate against String and the literal rule
       }
     } finally {
       rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});
+
+describe('readTableLaws (evaluate --index: a table read for its header and laws only)', () => {
+  const file = join(root, 'examples', 'positioning-axis.yaml');
+  const enc = new TextEncoder();
+
+  // Reference: ECMAScript's JSON.parse of the whole file text (what readTableFile parses), compared
+  // key for key; the laws as the same doubles (Object.is on every entry).
+  it('gives the header keys and every law that JSON.parse of the whole text gives, lean and full', () => {
+    const { table } = solved(file);
+    for (const lean of [false, true]) {
+      const t = lean ? { ...table, lean: true, regions: table.regions.map(({ moves: _m, value: _v, ...r }) => r) } : table;
+      const text = tableToJson(t as TableFile);
+      const whole = JSON.parse(text) as TableFile;
+      const got = readTableLaws(enc.encode(text), 't.json');
+      expect(got, `lean ${lean}`).not.toBeNull();
+      const { regions, lawsOnly, ...head } = got!;
+      const { regions: wholeRegions, ...wholeHead } = whole;
+      expect(lawsOnly).toBe(true);
+      expect(head).toEqual(wholeHead);
+      expect(regions.length).toBe(wholeRegions.length);
+      let entries = 0;
+      regions.forEach(({ law }, r) => {
+        const ref = wholeRegions[r].law;
+        expect(law.g.length).toBe(ref.g.length);
+        law.g.forEach((v, i) => {
+          expect(Object.is(v, ref.g[i])).toBe(true);
+          ref.F[i].forEach((f, j) => expect(Object.is(law.F[i][j], f)).toBe(true));
+          entries += 1 + ref.F[i].length;
+        });
+      });
+      expect(entries).toBeGreaterThan(100);
+      expect(isFullTable(got!)).toBe(false);
+      expect(isFullTable(whole)).toBe(true);
+    }
+  });
+
+  it('null (read the file in full instead) for any other layout or a law it cannot vouch for', () => {
+    const { table } = solved(file);
+    const text = tableToJson(table);
+    const lines = text.split('\n');
+    const first = lines.findIndex((l) => l.startsWith('{"id":'));
+    expect(first).toBeGreaterThan(0);
+    const withLine = (f: (l: string) => string): string => lines.map((l, k) => (k === first ? f(l) : l)).join('\n');
+    const cases: Record<string, string> = {
+      // the same table, other layouts: pretty-printed, one line
+      pretty: JSON.stringify(JSON.parse(text), null, 2),
+      compact: JSON.stringify(JSON.parse(text)),
+      // a region line without a law, with two, with a law of the wrong width, with a law that is not JSON
+      noLaw: withLine((l) => l.replace('"law":{', '"wal":{')),
+      twoLaws: withLine((l) => l.replace('"id":', '"law":{"F":[[1,2]],"g":[0]},"id":')),
+      narrow: withLine((l) => l.replace(/"law":\{"F":\[\[([^,\]]+),/, '"law":{"F":[[')),
+      notJson: withLine((l) => l.replace(/"law":\{"F":\[\[/, '"law":{"F":[[x')),
+      stringEntry: withLine((l) => l.replace(/"law":\{"F":\[\[/, '"law":{"F":[["1",')),
+      // a header that checkTable refuses, the array not closed on its own line
+      badHeader: text.replace('"format": "tessera-table"', '"format": "other"'),
+      unclosed: text.replace('}\n ],\n "stats"', '}\n],\n "stats"'),
+    };
+    for (const [name, t] of Object.entries(cases)) {
+      expect(t, name).not.toBe(text);
+      expect(readTableLaws(enc.encode(t), 't.json'), name).toBeNull();
     }
   });
 });

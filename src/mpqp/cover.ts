@@ -1,5 +1,3 @@
-import { newPoint } from './vertices.js';
-
 /**
  * Facet covering by vertex lists: the part of a facet not yet covered by the slices of known
  * neighbours, kept as a list of convex pieces, each held both as rows (A y ≤ b) and as its vertices
@@ -26,11 +24,27 @@ export interface CoverPiece {
   A: number[];
   b: number[];
   m: number;
-  /** vertices (each dim long) and, per vertex, the ascending indices of the rows tight there */
-  verts: number[][];
-  tight: number[][];
+  /**
+   * nv vertices, flat: vertex v's coordinates x[v·dim … v·dim + dim), the ascending indices of the
+   * rows tight there t[tOff[v] … tOff[v + 1]) (three arrays per piece, not two per vertex: the
+   * vertex arrays were most of the covering's garbage)
+   */
+  nv: number;
+  x: Float64Array;
+  tOff: Int32Array;
+  t: Int32Array;
   /** an upper bound on the Chebyshev radius: half the least width across one of the piece's rows */
   widthBound: number;
+}
+
+/** Vertex v of P as a new array (for readers outside the hot loops). */
+export function pieceVertex(P: CoverPiece, dim: number, v: number): number[] {
+  return Array.from(P.x.subarray(v * dim, (v + 1) * dim));
+}
+
+/** The rows tight at vertex v of P as a new array (ascending). */
+export function pieceTight(P: CoverPiece, v: number): number[] {
+  return Array.from(P.t.subarray(P.tOff[v], P.tOff[v + 1]));
 }
 
 /** Numbers shared by the pieces of one facet. */
@@ -76,14 +90,35 @@ let countScratch = new Int32Array(64);
 let mapScratch = new Int32Array(64);
 /** scratch of clipPiece: each vertex's residual on the cutting row */
 let sScratch = new Float64Array(64);
+/**
+ * scratch of clipPiece (single-threaded per isolate): the new piece's vertices as they are made
+ * (coordinates, tight-row offsets, tight rows; copied at their final length into the piece), and
+ * the rows two vertices share
+ */
+let bx: Float64Array = new Float64Array(256);
+let bOff: Int32Array = new Int32Array(64);
+let bT: Int32Array = new Int32Array(256);
+let cbuf: Int32Array = new Int32Array(64);
 
-/** True when the rows `ids` of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
-function rankAtLeast(A: ArrayLike<number>, ids: readonly number[], dim: number, need: number): boolean {
+function growF64(a: Float64Array, need: number): Float64Array {
+  const g = new Float64Array(2 * need);
+  g.set(a);
+  return g;
+}
+function growI32(a: Int32Array, need: number): Int32Array {
+  const g = new Int32Array(2 * need);
+  g.set(a);
+  return g;
+}
+
+/** True when the rows ids[i0 … i1) of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
+function rankAtLeast(A: ArrayLike<number>, ids: Int32Array, i0: number, i1: number, dim: number, need: number): boolean {
   if (need <= 0) return true;
   if (basisScratch.length < (dim + 1) * dim) basisScratch = new Float64Array(2 * (dim + 1) * dim);
   const B = basisScratch;
   let nb = 0;
-  for (const i of ids) {
+  for (let at = i0; at < i1; at++) {
+    const i = ids[at];
     const v = nb * dim;
     for (let k = 0; k < dim; k++) B[v + k] = A[i * dim + k];
     for (let q = 0; q < nb; q++) {
@@ -102,19 +137,27 @@ function rankAtLeast(A: ArrayLike<number>, ids: readonly number[], dim: number, 
   return false;
 }
 
-function common(x: readonly number[], y: readonly number[]): number[] {
-  const out: number[] = [];
-  let i = 0;
-  let j = 0;
-  while (i < x.length && j < y.length) {
-    if (x[i] === y[j]) {
-      out.push(x[i]);
+/** Sorted intersection of T[x0 … x1) and T[y0 … y1) into cbuf (grown to hold it); returns its length. */
+function common(T: Int32Array, x0: number, x1: number, y0: number, y1: number): number {
+  if (cbuf.length < x1 - x0 + 1) cbuf = new Int32Array(2 * (x1 - x0 + 1));
+  const out = cbuf;
+  let k = 0;
+  let i = x0;
+  let j = y0;
+  while (i < x1 && j < y1) {
+    if (T[i] === T[j]) {
+      out[k++] = T[i];
       i++;
       j++;
-    } else if (x[i] < y[j]) i++;
+    } else if (T[i] < T[j]) i++;
     else j++;
   }
-  return out;
+  return k;
+}
+
+/** The piece made of clipPiece's scratch: `nv` vertices, copied at their final length. */
+function scratchPiece(A: number[], b: number[], m: number, nv: number, dim: number): CoverPiece {
+  return { A, b, m, nv, x: bx.slice(0, nv * dim), tOff: bOff.slice(0, nv + 1), t: bT.slice(0, bOff[nv]), widthBound: Infinity };
 }
 
 /**
@@ -125,15 +168,18 @@ function common(x: readonly number[], y: readonly number[]): number[] {
  */
 export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: CoverContext, tidy = true, off = 0, reuse = false): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
-  const nv = P.verts.length;
+  const nv = P.nv;
+  const PX = P.x;
+  const PO = P.tOff;
+  const PT = P.t;
   if (sScratch.length < nv) sScratch = new Float64Array(2 * nv);
   const s = sScratch;
   let anyOut = false;
   let anyIn = false;
   for (let v = 0; v < nv; v++) {
-    const x = P.verts[v];
+    const o = v * dim;
     let d = -t;
-    for (let k = 0; k < dim; k++) d += a[off + k] * x[k];
+    for (let k = 0; k < dim; k++) d += a[off + k] * PX[o + k];
     s[v] = d;
     if (d > eps) anyOut = true;
     if (d < -eps) anyIn = true;
@@ -163,12 +209,21 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
     for (let q = 0; q < k; q++) b[q] = P.b[q];
     b[k] = t;
   }
-  const verts: number[][] = [];
-  const tight: number[][] = [];
+  // the vertices kept, in order (those on the plane gain row k, the largest index), into the scratch
+  if (bx.length < nv * dim) bx = new Float64Array(2 * nv * dim);
+  if (bOff.length < nv + 1) bOff = new Int32Array(2 * nv + 2);
+  if (bT.length < PO[nv] + nv) bT = new Int32Array(2 * (PO[nv] + nv));
+  let nOut = 0;
+  let at = 0;
+  bOff[0] = 0;
   for (let v = 0; v < nv; v++) {
     if (s[v] > eps) continue;
-    verts.push(P.verts[v]);
-    tight.push(s[v] >= -eps ? [...P.tight[v], k] : P.tight[v]);
+    const o = v * dim;
+    const ob = nOut * dim;
+    for (let j = 0; j < dim; j++) bx[ob + j] = PX[o + j];
+    for (let i = PO[v]; i < PO[v + 1]; i++) bT[at++] = PT[i];
+    if (s[v] >= -eps) bT[at++] = k;
+    bOff[++nOut] = at;
   }
   // the rows tight at each vertex beyond the plane as a bit mask (`words` 32-bit words each): the
   // rows an inside vertex u shares with w are counted by AND and a population count, not by lists
@@ -179,46 +234,68 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
     if (s[w] <= eps) continue;
     const o = w * words;
     masks.fill(0, o, o + words);
-    for (const i of P.tight[w]) masks[o + (i >>> 5)] |= 1 << (i & 31);
+    for (let q = PO[w]; q < PO[w + 1]; q++) {
+      const i = PT[q];
+      masks[o + (i >>> 5)] |= 1 << (i & 31);
+    }
   }
   for (let u = 0; u < nv; u++) {
     if (s[u] >= -eps) continue;
-    const tu = P.tight[u];
-    if (tu.length < dim - 1) continue;
+    const u0 = PO[u];
+    const u1 = PO[u + 1];
+    if (u1 - u0 < dim - 1) continue;
     mask.fill(0, 0, words);
-    for (const i of tu) mask[i >>> 5] |= 1 << (i & 31);
+    for (let q = u0; q < u1; q++) {
+      const i = PT[q];
+      mask[i >>> 5] |= 1 << (i & 31);
+    }
     for (let w = 0; w < nv; w++) {
       if (s[w] <= eps) continue;
       let shared = 0;
       for (let q = 0, o = w * words; q < words; q++) shared += popCount(mask[q] & masks[o + q]);
       if (shared < dim - 1) continue;
-      const c = common(tu, P.tight[w]);
-      if (!rankAtLeast(A, c, dim, dim - 1)) continue;
+      let cl = common(PT, u0, u1, PO[w], PO[w + 1]);
+      if (!rankAtLeast(A, cbuf, 0, cl, dim, dim - 1)) continue;
       const lam = s[u] / (s[u] - s[w]);
-      const x = newPoint(dim);
-      for (let j = 0; j < dim; j++) x[j] = P.verts[u][j] + lam * (P.verts[w][j] - P.verts[u][j]);
-      c.push(k);
+      if (bx.length < (nOut + 1) * dim) bx = growF64(bx, (nOut + 1) * dim);
+      const ox = nOut * dim;
+      const ou = u * dim;
+      const ow = w * dim;
+      for (let j = 0; j < dim; j++) bx[ox + j] = PX[ou + j] + lam * (PX[ow + j] - PX[ou + j]);
+      cbuf[cl++] = k; // cbuf has room: the common rows are fewer than u's
       // a crossing point within eps of one found before (numerical near-degeneracy): one vertex
       let dup = -1;
-      for (let q = 0; q < verts.length && dup < 0; q++) {
+      for (let q = 0; q < nOut && dup < 0; q++) {
         let d = 0;
-        for (let j = 0; j < dim && d <= eps; j++) d = Math.max(d, Math.abs(verts[q][j] - x[j]));
+        for (let j = 0; j < dim && d <= eps; j++) d = Math.max(d, Math.abs(bx[q * dim + j] - bx[ox + j]));
         if (d <= eps) dup = q;
       }
       if (dup >= 0) {
-        tight[dup] = [...new Set([...tight[dup], ...c])].sort((x1, y1) => x1 - y1);
+        // its tight rows become the union, in place (the lists after it move along)
+        const had: number[] = [];
+        for (let i = bOff[dup]; i < bOff[dup + 1]; i++) had.push(bT[i]);
+        for (let i = 0; i < cl; i++) had.push(cbuf[i]);
+        const merged = [...new Set(had)].sort((x1, y1) => x1 - y1);
+        const grow = merged.length - (bOff[dup + 1] - bOff[dup]);
+        if (bT.length < at + grow) bT = growI32(bT, at + grow);
+        bT.copyWithin(bOff[dup + 1] + grow, bOff[dup + 1], at);
+        for (let i = 0; i < merged.length; i++) bT[bOff[dup] + i] = merged[i];
+        for (let q = dup + 1; q <= nOut; q++) bOff[q] += grow;
+        at += grow;
         continue;
       }
-      verts.push(x);
-      tight.push(c);
-      if (verts.length > ctx.maxVerts) {
+      if (bT.length < at + cl) bT = growI32(bT, at + cl);
+      for (let i = 0; i < cl; i++) bT[at++] = cbuf[i];
+      if (bOff.length < nOut + 2) bOff = growI32(bOff, nOut + 2);
+      bOff[++nOut] = at;
+      if (nOut > ctx.maxVerts) {
         if (lend) giveBack(P, dim);
         return fail('verts');
       }
     }
   }
-  if (!tidy) return verts.length > dim ? { A, b, m: P.m + 1, verts, tight, widthBound: Infinity } : null;
-  const out = finish(A, b, P.m + 1, verts, tight, ctx);
+  if (!tidy) return nOut > dim ? scratchPiece(A, b, P.m + 1, nOut, dim) : null;
+  const out = finish(A, b, P.m + 1, bx, nOut, bOff, bT, ctx, true);
   if (lend) giveBack(P, dim);
   return out;
 }
@@ -231,21 +308,21 @@ function giveBack(P: CoverPiece, dim: number): void {
 
 /**
  * Drop rows tight at fewer than dim vertices (not facets), renumber, check every vertex has tight
- * rows of rank dim, and bound the Chebyshev radius by the least width.
+ * rows of rank dim, and bound the Chebyshev radius by the least width. The vertices (nv, flat x, tight
+ * rows t[tOff[v] … tOff[v + 1])) are clipPiece's scratch (`copy`: copied into the piece) or a piece's
+ * own (its coordinates then shared).
  */
-function finish(A: number[], b: number[], m: number, verts: number[][], tight: number[][], ctx: CoverContext): CoverPiece | null | 'fail' {
+function finish(A: number[], b: number[], m: number, X: Float64Array, nv: number, tOff: Int32Array, T: Int32Array, ctx: CoverContext, copy: boolean): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
-  if (verts.length < dim + 1) return null;
-  const V = verts;
-  const T = tight;
-  if (V.length < dim + 1) return null;
+  if (nv < dim + 1) return null;
   if (countScratch.length < m) {
     countScratch = new Int32Array(2 * m);
     mapScratch = new Int32Array(2 * m);
   }
   const count = countScratch;
   count.fill(0, 0, m);
-  for (const t of T) for (const i of t) count[i]++;
+  const end = tOff[nv];
+  for (let i = 0; i < end; i++) count[T[i]]++;
   const map = mapScratch;
   let mm = 0;
   for (let i = 0; i < m; i++) map[i] = count[i] >= dim ? mm++ : -1;
@@ -256,30 +333,31 @@ function finish(A: number[], b: number[], m: number, verts: number[][], tight: n
     for (let k = 0; k < dim; k++) A2[map[i] * dim + k] = A[i * dim + k];
     b2[map[i]] = b[i];
   }
-  const T2: number[][] = [];
-  for (const t of T) {
-    // made at its final length (a list grown by push reserves room for ~16 more entries)
-    let len = 0;
-    for (const i of t) if (map[i] >= 0) len++;
-    const u = new Array<number>(len);
-    len = 0;
-    for (const i of t) if (map[i] >= 0) u[len++] = map[i];
-    if (u.length < dim || !rankAtLeast(A2, u, dim, dim)) return fail('rank');
-    T2.push(u);
+  let len = 0;
+  for (let i = 0; i < end; i++) if (map[T[i]] >= 0) len++;
+  const T2 = new Int32Array(len);
+  const tOff2 = new Int32Array(nv + 1);
+  len = 0;
+  for (let v = 0; v < nv; v++) {
+    const u0 = len;
+    for (let i = tOff[v]; i < tOff[v + 1]; i++) if (map[T[i]] >= 0) T2[len++] = map[T[i]];
+    if (len - u0 < dim || !rankAtLeast(A2, T2, u0, len, dim, dim)) return fail('rank');
+    tOff2[v + 1] = len;
   }
   // Chebyshev radius ≤ half the width across any row: r ≤ (b_i − min_v a_i·v)/2
   let wb = Infinity;
   for (let i = 0; i < mm; i++) {
     let mn = Infinity;
-    for (const x of V) {
+    for (let v = 0; v < nv; v++) {
+      const o = v * dim;
       let d = 0;
-      for (let k = 0; k < dim; k++) d += A2[i * dim + k] * x[k];
+      for (let k = 0; k < dim; k++) d += A2[i * dim + k] * X[o + k];
       if (d < mn) mn = d;
     }
     wb = Math.min(wb, 0.5 * (b2[i] - mn));
   }
   if (!(wb > eps)) return null;
-  return { A: A2, b: b2, m: mm, verts: V, tight: T2, widthBound: wb };
+  return { A: A2, b: b2, m: mm, nv, x: copy ? X.slice(0, nv * dim) : X, tOff: tOff2, t: T2, widthBound: wb };
 }
 
 /**
@@ -298,57 +376,61 @@ export function polytopePiece(A: Float64Array, b: Float64Array, m: number, lo: A
     BA[(2 * k + 1) * dim + k] = -1;
     Bb[2 * k + 1] = -lo[k];
   }
-  const verts: number[][] = [];
-  const tight: number[][] = [];
-  for (let mask = 0; mask < 1 << dim; mask++) {
-    const x = newPoint(dim);
-    const t: number[] = [];
+  const nv = 1 << dim;
+  const x = new Float64Array(nv * dim);
+  const tOff = new Int32Array(nv + 1);
+  const t = new Int32Array(nv * dim);
+  for (let mask = 0; mask < nv; mask++) {
     for (let k = 0; k < dim; k++) {
       const up = (mask >> k) & 1;
-      x[k] = up ? hi[k] : lo[k];
-      t.push(up ? 2 * k : 2 * k + 1);
+      x[mask * dim + k] = up ? hi[k] : lo[k];
+      t[mask * dim + k] = up ? 2 * k : 2 * k + 1;
     }
-    verts.push(x);
-    tight.push(t);
+    tOff[mask + 1] = (mask + 1) * dim;
   }
-  let P: CoverPiece = { A: BA, b: Bb, m: 2 * dim, verts, tight, widthBound: Infinity };
+  let P: CoverPiece = { A: BA, b: Bb, m: 2 * dim, nv, x, tOff, t, widthBound: Infinity };
   for (let i = 0; i < m; i++) {
     // the box and every piece of this chain are private: each cut appends its row to the same arrays
     const r = clipPiece(P, A, b[i], ctx, false, i * dim, true);
     if (r === null || r === 'fail') return r;
     P = r;
   }
-  const done = finish(P.A, P.b, P.m, P.verts, P.tight, ctx);
+  const done = finish(P.A, P.b, P.m, P.x, P.nv, P.tOff, P.t, ctx, false);
   if (done === null || done === 'fail') return done;
   P = done;
   // a vertex on the box: the box did not hold the polytope with room to spare
-  for (const x of P.verts) for (let k = 0; k < dim; k++) if (x[k] <= lo[k] + ctx.eps || x[k] >= hi[k] - ctx.eps) return fail('box');
+  for (let v = 0; v < P.nv; v++)
+    for (let k = 0; k < dim; k++) {
+      const y = P.x[v * dim + k];
+      if (y <= lo[k] + ctx.eps || y >= hi[k] - ctx.eps) return fail('box');
+    }
   return P;
 }
 
 /**
  * A piece from vertices already known (a region's own vertex list: those on the facet, in facet
- * coordinates): the rows A, b (m of them, dim each; the tight lists index them, ascending), then
- * cut by the `cm` extra rows cA, cb (sub-box faces), and checked and tidied as `polytopePiece`'s
- * result is (rows tight at fewer than dim vertices dropped, every vertex of rank dim). Null when
- * nothing full-dimensional is left; 'fail' on a failed check or two vertices within eps of each
- * other (the caller then builds the piece by `facetPiece`). The arrays become the piece's.
+ * coordinates: nv of them, flat as in CoverPiece): the rows A, b (m of them, dim each; the tight
+ * lists index them, ascending), then cut by the `cm` extra rows cA, cb (sub-box faces), and checked
+ * and tidied as `polytopePiece`'s result is (rows tight at fewer than dim vertices dropped, every
+ * vertex of rank dim). Null when nothing full-dimensional is left; 'fail' on a failed check or two
+ * vertices within eps of each other (the caller then builds the piece by `facetPiece`). The arrays
+ * become the piece's.
  */
-export function pieceFromVertices(A: number[], b: number[], m: number, verts: number[][], tight: number[][], cA: ArrayLike<number>, cb: ArrayLike<number>, cm: number, ctx: CoverContext): CoverPiece | null | 'fail' {
+export function pieceFromVertices(A: number[], b: number[], m: number, nv: number, x: Float64Array, tOff: Int32Array, t: Int32Array, cA: ArrayLike<number>, cb: ArrayLike<number>, cm: number, ctx: CoverContext): CoverPiece | null | 'fail' {
   const { dim, eps } = ctx;
-  for (let u = 0; u < verts.length; u++)
+  for (let u = 0; u < nv; u++)
     for (let v = 0; v < u; v++) {
       let d = 0;
-      for (let k = 0; k < dim && d <= eps; k++) d = Math.max(d, Math.abs(verts[u][k] - verts[v][k]));
+      for (let k = 0; k < dim && d <= eps; k++) d = Math.max(d, Math.abs(x[u * dim + k] - x[v * dim + k]));
       if (d <= eps) return fail('verts');
     }
-  let P: CoverPiece = { A, b, m, verts, tight, widthBound: Infinity };
+  let P: CoverPiece = { A, b, m, nv, x, tOff, t, widthBound: Infinity };
   for (let i = 0; i < cm; i++) {
     const r = clipPiece(P, cA, cb[i], ctx, false, i * dim, true);
     if (r === null || r === 'fail') return r;
     P = r;
   }
-  return finish(P.A, P.b, P.m, P.verts, P.tight, ctx);
+  return finish(P.A, P.b, P.m, P.x, P.nv, P.tOff, P.t, ctx, false);
 }
 
 /**
@@ -378,12 +460,14 @@ export function facetPiece(A: Float64Array, b: Float64Array, m: number, lo: Arra
 export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array, sm: number, minRadius: number, ctx: CoverContext, dropped: { count: number }): CoverPiece[] | CoverPiece | 'fail' {
   const { dim, eps } = ctx;
   const depth: { i: number; d: number }[] = [];
+  const X = P.x;
   for (let i = 0; i < sm; i++) {
     let mx = -Infinity;
     let mn = Infinity;
-    for (const x of P.verts) {
+    for (let v = 0; v < P.nv; v++) {
+      const o = v * dim;
       let d = -Sb[i];
-      for (let k = 0; k < dim; k++) d += SA[i * dim + k] * x[k];
+      for (let k = 0; k < dim; k++) d += SA[i * dim + k] * X[o + k];
       if (d > mx) mx = d;
       if (d < mn) mn = d;
     }
@@ -402,7 +486,7 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
     if (beyond === 'fail') return 'fail';
     if (beyond === cur) {
       // the rest lies beyond this row: it is not covered at all
-      const rest = cur === P ? P : finish(cur.A, cur.b, cur.m, cur.verts, cur.tight, ctx);
+      const rest = cur === P ? P : finish(cur.A, cur.b, cur.m, cur.x, cur.nv, cur.tOff, cur.t, ctx, false);
       if (rest === 'fail') return 'fail';
       if (rest && rest.widthBound > minRadius) out.push(rest);
       else dropped.count++;
@@ -427,8 +511,9 @@ export function subtractSlice(P: CoverPiece, SA: Float64Array, Sb: Float64Array,
  */
 export function pieceCentre(P: CoverPiece, dim: number): { point: Float64Array; radius: number } {
   const c = new Float64Array(dim);
-  for (const x of P.verts) for (let k = 0; k < dim; k++) c[k] += x[k];
-  for (let k = 0; k < dim; k++) c[k] /= P.verts.length;
+  const X = P.x;
+  for (let v = 0; v < P.nv; v++) for (let k = 0; k < dim; k++) c[k] += X[v * dim + k];
+  for (let k = 0; k < dim; k++) c[k] /= P.nv;
   let r = Infinity;
   for (let i = 0; i < P.m; i++) {
     let d = P.b[i];

@@ -62,12 +62,15 @@ export interface BoundingBox {
   hi: Float64Array;
 }
 /**
- * The vertices of a region (θ coordinates, nθ each) with the rows tight at each (ascending indices
- * into the region's A): plain arrays owned by the caller. Not stored in the table.
+ * The vertices of a region with the rows tight at each, flat and owned by the caller: vertex v's θ
+ * coordinates are x[v·nθ … v·nθ + nθ), its tight rows (ascending indices into the region's A)
+ * t[tOff[v] … tOff[v + 1]). Not stored in the table.
  */
 export interface RegionVertices {
-  x: number[][];
-  tight: number[][];
+  count: number;
+  x: Float64Array;
+  tOff: Int32Array;
+  t: Int32Array;
 }
 export type RegionResult =
   | { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox; /** the region's vertex list when the vertex pass made it exactly (nθ ≥ 3), else null */ verts: RegionVertices | null }
@@ -316,18 +319,24 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
 
 const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
 
-/** The vertex pass's list with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
+/** The vertex pass's list (its reused set: copied here) with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
 function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVertices {
   const at = new Int32Array(m);
   let n = 0;
   for (let r = 0; r < m; r++) at[r] = alive[r] ? n++ : -1;
-  const tight: number[][] = [];
-  for (const t of V.tight) {
-    const u: number[] = [];
-    for (const r of t) if (at[r] >= 0) u.push(at[r]);
-    tight.push(u);
+  const cnt = V.count;
+  const TO = V.tOff;
+  const T = V.t;
+  let len = 0;
+  for (let i = 0; i < TO[cnt]; i++) if (at[T[i]] >= 0) len++;
+  const t = new Int32Array(len);
+  const tOff = new Int32Array(cnt + 1);
+  len = 0;
+  for (let v = 0; v < cnt; v++) {
+    for (let i = TO[v]; i < TO[v + 1]; i++) if (at[T[i]] >= 0) t[len++] = at[T[i]];
+    tOff[v + 1] = len;
   }
-  return { x: V.x, tight };
+  return { count: cnt, x: V.x.slice(0, cnt * V.n), tOff, t };
 }
 
 /** H·Z of valueFunction (one per thread) */

@@ -5,7 +5,6 @@ import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
-import { newPoint } from './vertices.js';
 import { Arena } from '../util/arena.js';
 import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
@@ -385,26 +384,37 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     const nOwn = R.A.length;
     let mOwn = 0;
     for (let r = 0; r < nOwn; r++) if (map[r] >= 0) mOwn++;
-    const verts: number[][] = [];
-    const tight: number[][] = [];
-    for (let v = 0; v < V.x.length; v++) {
-      const T = V.tight[v];
-      if (!T.includes(f)) continue;
-      // made at its final length (a list grown by push reserves room for ~16 more entries)
-      let len = 0;
-      for (const r of T) if (r !== f && map[r] >= 0) len++;
-      const t = new Array<number>(len);
-      len = 0;
-      for (const r of T) if (r !== f && map[r] >= 0) t[len++] = map[r];
-      verts.push(facet.toY(V.x[v]));
-      tight.push(t);
+    // the vertices on row f, flat (CoverPiece's layout), their other tight rows in the frame's numbering
+    const TO = V.tOff;
+    const VT = V.t;
+    let nv = 0;
+    let len = 0;
+    for (let v = 0; v < V.count; v++) {
+      let on = false;
+      for (let i = TO[v]; i < TO[v + 1] && !on; i++) on = VT[i] === f;
+      if (!on) continue;
+      nv++;
+      for (let i = TO[v]; i < TO[v + 1]; i++) if (VT[i] !== f && map[VT[i]] >= 0) len++;
+    }
+    const x = new Float64Array(nv * dim);
+    const tOff = new Int32Array(nv + 1);
+    const t = new Int32Array(len);
+    nv = 0;
+    len = 0;
+    for (let v = 0; v < V.count; v++) {
+      let on = false;
+      for (let i = TO[v]; i < TO[v + 1] && !on; i++) on = VT[i] === f;
+      if (!on) continue;
+      for (let i = TO[v]; i < TO[v + 1]; i++) if (VT[i] !== f && map[VT[i]] >= 0) t[len++] = map[VT[i]];
+      facet.toYInto(V.x, v * nt, x, nv * dim);
+      tOff[++nv] = len;
     }
     const A = new Array<number>(mOwn * dim);
     for (let q = 0; q < mOwn * dim; q++) A[q] = facet.A[q];
     const b = new Array<number>(mOwn);
     for (let q = 0; q < mOwn; q++) b[q] = facet.b[q];
     const cm = facet.m - mOwn;
-    const piece = pieceFromVertices(A, b, mOwn, verts, tight, facet.A.subarray(mOwn * dim), facet.b.subarray(mOwn), cm, ctx);
+    const piece = pieceFromVertices(A, b, mOwn, nv, x, tOff, t, facet.A.subarray(mOwn * dim), facet.b.subarray(mOwn), cm, ctx);
     if (piece === 'fail') return null;
     return { piece, ctx };
   }
@@ -659,8 +669,8 @@ export interface FacetFrame extends Slice {
   ballSlice: (y: ArrayLike<number>, r: number) => Slice;
   /** for each row of the region (and the extra rows after them), its row in the frame, or −1 when the frame left it out */
   rowMap: Int32Array;
-  /** θ on the hyperplane in the facet's coordinates (plain array, dim long) */
-  toY: (theta: ArrayLike<number>) => number[];
+  /** θ = theta[off … off + d) on the hyperplane in the facet's coordinates, written to out[o … o + dim) */
+  toYInto: (theta: ArrayLike<number>, off: number, out: Float64Array, o: number) => void;
   /** a box in the facet's coordinates holding the image of the θ-box [lo, hi] on the hyperplane, padded by 1 % */
   yBox: (bb: { lo: ArrayLike<number>; hi: ArrayLike<number> }) => { lo: Float64Array; hi: Float64Array };
 }
@@ -776,15 +786,13 @@ class Frame implements FacetFrame {
     return this.verts;
   }
 
-  toY(theta: ArrayLike<number>): number[] {
+  toYInto(theta: ArrayLike<number>, off: number, out: Float64Array, o: number): void {
     const { d, dim, basis, origin } = this;
-    const y = newPoint(dim);
     for (let k = 0; k < dim; k++) {
       let s = 0;
-      for (let j = 0; j < d; j++) s += basis[k * d + j] * (theta[j] - origin[j]);
-      y[k] = s;
+      for (let j = 0; j < d; j++) s += basis[k * d + j] * (theta[off + j] - origin[j]);
+      out[o + k] = s;
     }
-    return y;
   }
 
   lift(y: ArrayLike<number>): Float64Array {

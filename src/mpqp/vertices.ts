@@ -15,63 +15,78 @@ import { farkasBound, type PrefilterScratch } from './prefilter.js';
  * a certificate fail (the row goes to its LP), never drop a facet or keep a redundant row.
  */
 
-/** The vertices of a polytope: coordinates (n per vertex) and the rows tight at each (sorted); plain arrays, since V8 allocates many small typed arrays slowly. */
+/**
+ * The vertices of a polytope, flat: vertex v's coordinates are x[v·n … v·n + n), the rows tight at it
+ * (ascending) t[tOff[v] … tOff[v + 1]). `count` vertices are in use; the arrays may be longer. A cut
+ * writes the new list into the spare arrays (x2, tOff2, t2) and swaps them with the current ones, so a
+ * set reused from region to region allocates nothing once its arrays have grown (the arrays of one
+ * vertex each were most of the vertex pass's garbage).
+ */
 export interface VertexSet {
   n: number;
-  x: number[][];
-  tight: number[][];
+  count: number;
+  x: Float64Array;
+  tOff: Int32Array;
+  t: Int32Array;
+  x2: Float64Array;
+  tOff2: Int32Array;
+  t2: Int32Array;
 }
 
-/**
- * A new point of n coordinates for a vertex list: a plain array whose elements are doubles from
- * birth. A box corner with whole-number coordinates would otherwise start as an array of small
- * integers while cut points hold doubles, and V8 would deoptimise the vertex loops on the second
- * elements kind ("wrong map"). Every vertex array of vertices.ts, cover.ts and the facet frames is
- * made here.
- */
-export function newPoint(n: number): number[] {
-  // up to 6 coordinates an array literal: packed double elements from birth, with no call to fill
-  switch (n) {
-    case 1:
-      return [0.5];
-    case 2:
-      return [0.5, 0.5];
-    case 3:
-      return [0.5, 0.5, 0.5];
-    case 4:
-      return [0.5, 0.5, 0.5, 0.5];
-    case 5:
-      return [0.5, 0.5, 0.5, 0.5, 0.5];
-    case 6:
-      return [0.5, 0.5, 0.5, 0.5, 0.5, 0.5];
-    default:
-      return new Array<number>(n).fill(0.5);
-  }
+/** An empty set for points of n coordinates (its arrays grow on demand). */
+export function emptyVertexSet(n: number): VertexSet {
+  return { n, count: 0, x: new Float64Array(64 * n), tOff: new Int32Array(65), t: new Int32Array(64 * n), x2: new Float64Array(64 * n), tOff2: new Int32Array(65), t2: new Int32Array(64 * n) };
+}
+
+/** Vertex v's coordinates as a new array (for readers outside the hot loops). */
+export function vertexX(V: VertexSet, v: number): number[] {
+  return Array.from(V.x.subarray(v * V.n, (v + 1) * V.n));
+}
+
+/** The rows tight at vertex v as a new array (ascending). */
+export function vertexTight(V: VertexSet, v: number): number[] {
+  return Array.from(V.t.subarray(V.tOff[v], V.tOff[v + 1]));
+}
+
+/** a copy of `a` with room for at least `need` entries (twice that) */
+function grownF64(a: Float64Array, need: number): Float64Array {
+  const g = new Float64Array(2 * need);
+  g.set(a);
+  return g;
+}
+function grownI32(a: Int32Array, need: number): Int32Array {
+  const g = new Int32Array(2 * need);
+  g.set(a);
+  return g;
 }
 
 /**
  * The 2ⁿ corners of the box lo ≤ θ ≤ hi, whose sides are rows boxRow + 2j (θ_j ≤ hi_j) and
- * boxRow + 2j + 1 (−θ_j ≤ −lo_j) of the caller's A.
+ * boxRow + 2j + 1 (−θ_j ≤ −lo_j) of the caller's A; written into `into` (its arrays reused) when given.
  */
-export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<number>, boxRow: number): VertexSet {
-  const x: number[][] = [];
-  const tight: number[][] = [];
-  for (let mask = 0; mask < 1 << n; mask++) {
-    const v = newPoint(n);
-    const t = new Array<number>(n);
+export function boxVertices(n: number, lo: ArrayLike<number>, hi: ArrayLike<number>, boxRow: number, into?: VertexSet): VertexSet {
+  const V = into && into.n === n ? into : emptyVertexSet(n);
+  const cnt = 1 << n;
+  if (V.x.length < cnt * n) V.x = new Float64Array(2 * cnt * n);
+  if (V.tOff.length < cnt + 1) V.tOff = new Int32Array(2 * cnt + 2);
+  if (V.t.length < cnt * n) V.t = new Int32Array(2 * cnt * n);
+  const { x, t, tOff } = V;
+  tOff[0] = 0;
+  for (let mask = 0; mask < cnt; mask++) {
+    const o = mask * n;
     for (let j = 0; j < n; j++) {
       const up = (mask >> j) & 1;
-      v[j] = up ? hi[j] : lo[j];
-      t[j] = boxRow + 2 * j + (up ? 0 : 1);
+      x[o + j] = up ? hi[j] : lo[j];
+      t[o + j] = boxRow + 2 * j + (up ? 0 : 1);
     }
-    x.push(v);
-    tight.push(t);
+    tOff[mask + 1] = o + n;
   }
-  return { n, x, tight };
+  V.count = cnt;
+  return V;
 }
 
-/** Scratch for the edge search's common rows (grown on demand; one per thread). */
-const cutScratch = { buf: new Int32Array(64), s: new Float64Array(64) };
+/** Scratch for the edge search's common rows, the slacks and the outside / inside / degenerate vertex lists (grown on demand; one per thread). */
+const cutScratch = { buf: new Int32Array(64), s: new Float64Array(64), outside: new Int32Array(64), inside: new Int32Array(64), degenerate: new Int32Array(64) };
 
 /** Scratch for the rank test (n × n rows at most per call). */
 const rankScratch = { m: new Float64Array(0) };
@@ -110,23 +125,25 @@ function rankOf(A: Float64Array, n: number, rows: ArrayLike<number>, k: number):
 }
 
 /**
- * Sorted intersection of two sorted index lists into `out`; returns its length when that is at least
- * `need`, else some number below `need` (the scan stops once either list has lost more entries than
- * leave `need` in common; `out` is then partial).
+ * Sorted intersection of two sorted index lists, T[a0 … a1) and T[b0 … b1), into `out`; returns its
+ * length when that is at least `need`, else some number below `need` (the scan stops once either
+ * list has lost more entries than leave `need` in common; `out` is then partial).
  */
-function intersect(a: readonly number[], b: readonly number[], out: Int32Array, need: number): number {
-  let i = 0;
-  let j = 0;
+function intersect(T: Int32Array, a0: number, a1: number, b0: number, b1: number, out: Int32Array, need: number): number {
+  let i = a0;
+  let j = b0;
   let k = 0;
-  const spareA = a.length - need;
-  const spareB = b.length - need;
-  while (i < a.length && j < b.length) {
-    if (i - k > spareA || j - k > spareB) return k;
-    if (a[i] === b[j]) {
-      out[k++] = a[i];
+  const spareA = a1 - a0 - need;
+  const spareB = b1 - b0 - need;
+  while (i < a1 && j < b1) {
+    if (i - a0 - k > spareA || j - b0 - k > spareB) return k;
+    const ai = T[i];
+    const bj = T[j];
+    if (ai === bj) {
+      out[k++] = ai;
       i++;
       j++;
-    } else if (a[i] < b[j]) i++;
+    } else if (ai < bj) i++;
     else j++;
   }
   return k;
@@ -138,9 +155,9 @@ function intersect(a: readonly number[], b: readonly number[], out: Int32Array, 
  */
 const faces = { head: new Int32Array(64), mask: 63, key: new Int32Array(256), q: new Int32Array(256), next: new Int32Array(256), cand: new Int32Array(256) };
 
-/** Fill `faces` with every simple (n tight rows) inside vertex under the hashes of its n faces. */
-function faceTable(tight: readonly (readonly number[])[], inside: readonly number[], n: number): void {
-  const entries = inside.length * n;
+/** Fill `faces` with every simple (n tight rows) inside vertex (the first `ni` of `inside`) under the hashes of its n faces. */
+function faceTable(T: Int32Array, tOff: Int32Array, inside: Int32Array, ni: number, n: number): void {
+  const entries = ni * n;
   let size = 64;
   while (size < 2 * entries) size *= 2;
   if (faces.head.length < size) faces.head = new Int32Array(size);
@@ -153,11 +170,12 @@ function faceTable(tight: readonly (readonly number[])[], inside: readonly numbe
     faces.cand = new Int32Array(2 * entries);
   }
   let e = 0;
-  for (const q of inside) {
-    const Tq = tight[q];
-    if (Tq.length !== n) continue;
+  for (let i = 0; i < ni; i++) {
+    const q = inside[i];
+    const o = tOff[q];
+    if (tOff[q + 1] - o !== n) continue;
     for (let omit = 0; omit < n; omit++) {
-      const h = faceKey(Tq, omit);
+      const h = faceKey(T, o, n, omit);
       const slot = h & faces.mask;
       faces.key[e] = h;
       faces.q[e] = q;
@@ -168,42 +186,64 @@ function faceTable(tight: readonly (readonly number[])[], inside: readonly numbe
   }
 }
 
-/** Hash of the sorted rows of T without T[omit] (collisions are checked by the caller). */
-function faceKey(T: readonly number[], omit: number): number {
+/** Hash of the sorted rows T[o … o + len) without the one at o + omit (collisions are checked by the caller). */
+function faceKey(T: Int32Array, o: number, len: number, omit: number): number {
   let h = 0x811c9dc5;
-  for (let i = 0; i < T.length; i++) {
+  for (let i = 0; i < len; i++) {
     if (i === omit) continue;
-    h = Math.imul(h ^ T[i], 0x01000193);
+    h = Math.imul(h ^ T[o + i], 0x01000193);
   }
   return h | 0;
 }
 
 /**
- * t's first k rows with r inserted before the first larger row (not when equal to a row met
- * first); at the end when none is larger. The list is made at its final length (a list grown by
- * push reserves room for ~16 more entries: most of the vertex lists' garbage).
+ * Append src[off … off + k) with r inserted before the first larger row (not when equal to a row met
+ * first; at the end when none is larger) to V.t2 from `at`; returns the new end.
  */
-function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
-  let at = k;
-  let has = false;
-  for (let i = 0; i < k; i++) {
-    if (r < t[i]) {
-      at = i;
-      break;
-    }
-    if (t[i] === r) {
-      has = true;
-      break;
-    }
+function appendWithRow(V: VertexSet, at: number, src: Int32Array, off: number, k: number, r: number): number {
+  if (V.t2.length < at + k + 1) V.t2 = grownI32(V.t2, at + k + 1);
+  const out = V.t2;
+  let i = 0;
+  for (; i < k; i++) {
+    const v = src[off + i];
+    if (v >= r) break;
+    out[at++] = v;
   }
-  const out = new Array<number>(has ? k : k + 1);
-  if (has) for (let i = 0; i < k; i++) out[i] = t[i];
-  else {
-    for (let i = 0; i < at; i++) out[i] = t[i];
-    out[at] = r;
-    for (let i = at; i < k; i++) out[i + 1] = t[i];
+  if (i === k || src[off + i] !== r) out[at++] = r;
+  for (; i < k; i++) out[at++] = src[off + i];
+  return at;
+}
+
+/** Append src[off … off + k) to V.t2 from `at`; returns the new end. */
+function appendCopy(V: VertexSet, at: number, src: Int32Array, off: number, k: number): number {
+  if (V.t2.length < at + k) V.t2 = grownI32(V.t2, at + k);
+  const out = V.t2;
+  for (let i = 0; i < k; i++) out[at++] = src[off + i];
+  return at;
+}
+
+/** Make V.x2 and V.tOff2 hold at least `count` vertices (their first `count` entries kept). */
+function reserve(V: VertexSet, count: number): void {
+  if (V.x2.length < count * V.n) V.x2 = grownF64(V.x2, count * V.n);
+  if (V.tOff2.length < count + 1) V.tOff2 = grownI32(V.tOff2, count + 1);
+}
+
+/** The spare arrays become the current ones (and the current ones spare). */
+function swap(V: VertexSet, count: number, tightToo: boolean, xToo: boolean): void {
+  if (xToo) {
+    const x = V.x;
+    V.x = V.x2;
+    V.x2 = x;
   }
-  return out;
+  if (tightToo) {
+    const tOff = V.tOff;
+    V.tOff = V.tOff2;
+    V.tOff2 = tOff;
+    const t = V.t;
+    V.t = V.t2;
+    V.t2 = t;
+  }
+  V.count = count;
 }
 
 /**
@@ -216,77 +256,109 @@ function withRow(t: ArrayLike<number>, k: number, r: number): number[] {
  */
 export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>, r: number, eps: number, maxVertices: number, hashEdges?: boolean | 'ordered'): boolean {
   const { n } = V;
-  const cnt = V.x.length;
-  if (cutScratch.s.length < cnt) cutScratch.s = new Float64Array(2 * cnt);
+  const cnt = V.count;
+  if (cutScratch.s.length < cnt) {
+    cutScratch.s = new Float64Array(2 * cnt);
+    cutScratch.outside = new Int32Array(2 * cnt);
+    cutScratch.inside = new Int32Array(2 * cnt);
+    cutScratch.degenerate = new Int32Array(2 * cnt);
+  }
   const s = cutScratch.s; // entries 0 … cnt − 1 written below before any read
+  const X = V.x;
+  const T = V.t;
+  const TO = V.tOff;
   let outside = 0;
   for (let v = 0; v < cnt; v++) {
     let t = -b[r];
-    for (let j = 0; j < n; j++) t += A[r * n + j] * V.x[v][j];
+    const o = v * n;
+    for (let j = 0; j < n; j++) t += A[r * n + j] * X[o + j];
     s[v] = t;
     if (t > eps) outside++;
   }
   if (outside === 0) {
-    for (let v = 0; v < cnt; v++) if (s[v] >= -eps) V.tight[v] = withRow(V.tight[v], V.tight[v].length, r);
+    // the coordinates stay; the tight lists of the vertices on the plane gain r
+    reserve(V, cnt);
+    let at = 0;
+    V.tOff2[0] = 0;
+    for (let v = 0; v < cnt; v++) {
+      at = s[v] >= -eps ? appendWithRow(V, at, T, TO[v], TO[v + 1] - TO[v], r) : appendCopy(V, at, T, TO[v], TO[v + 1] - TO[v]);
+      V.tOff2[v + 1] = at;
+    }
+    swap(V, cnt, true, false);
     return true;
   }
-  const x: number[][] = [];
-  const tight: number[][] = [];
+  // the new list, in the spare arrays: the vertices kept, in order, then the crossings
+  reserve(V, cnt);
+  let nx = 0;
+  let at = 0;
+  V.tOff2[0] = 0;
   for (let v = 0; v < cnt; v++) {
     if (s[v] > eps) continue;
-    x.push(V.x[v]);
-    tight.push(s[v] >= -eps ? withRow(V.tight[v], V.tight[v].length, r) : V.tight[v]);
+    const o = v * n;
+    const x2 = V.x2;
+    for (let j = 0; j < n; j++) x2[nx * n + j] = X[o + j];
+    at = s[v] >= -eps ? appendWithRow(V, at, T, TO[v], TO[v + 1] - TO[v], r) : appendCopy(V, at, T, TO[v], TO[v + 1] - TO[v]);
+    V.tOff2[++nx] = at;
   }
   // edges between simple vertices (n tight rows): the two share n − 1 rows, found by a hash of
   // each inside vertex's (n − 1)-row subsets when there are many pairs (all pairs tried when few);
   // pairs with a degenerate vertex take the rank test
-  const outsideAll: number[] = [];
-  const insideAll: number[] = [];
+  const outsideAll = cutScratch.outside;
+  const insideAll = cutScratch.inside;
+  let no = 0;
+  let ni = 0;
   for (let q = 0; q < cnt; q++) {
-    if (s[q] > eps) outsideAll.push(q);
-    else if (s[q] < -eps) insideAll.push(q);
+    if (s[q] > eps) outsideAll[no++] = q;
+    else if (s[q] < -eps) insideAll[ni++] = q;
   }
-  const hashed = hashEdges === 'ordered' ? false : (hashEdges ?? outsideAll.length * insideAll.length > 4 * n * (outsideAll.length + insideAll.length));
+  const hashed = hashEdges === 'ordered' ? false : (hashEdges ?? no * ni > 4 * n * (no + ni));
   const byFace = hashed ? new Map<number, number[]>() : null;
-  const degenerateInside: number[] = [];
-  for (const q of insideAll) {
-    const Tq = V.tight[q];
-    if (Tq.length !== n) {
-      degenerateInside.push(q);
+  const degenerateInside = cutScratch.degenerate;
+  let nd = 0;
+  for (let i = 0; i < ni; i++) {
+    const q = insideAll[i];
+    if (TO[q + 1] - TO[q] !== n) {
+      degenerateInside[nd++] = q;
       continue;
     }
     if (!hashed) continue;
     for (let omit = 0; omit < n; omit++) {
-      const key = faceKey(Tq, omit);
+      const key = faceKey(T, TO[q], n, omit);
       const list = byFace!.get(key);
       if (list) list.push(q);
       else byFace!.set(key, [q]);
     }
   }
   const addCrossing = (p: number, q: number, common: Int32Array, k: number): boolean => {
-    if (x.length >= maxVertices) return false;
+    if (nx >= maxVertices) return false;
     const t = s[p] / (s[p] - s[q]);
-    const xv = newPoint(n);
-    for (let j = 0; j < n; j++) xv[j] = V.x[p][j] + t * (V.x[q][j] - V.x[p][j]);
-    x.push(xv);
-    tight.push(withRow(common, k, r));
+    reserve(V, nx + 1);
+    const x2 = V.x2;
+    const o = nx * n;
+    const op = p * n;
+    const oq = q * n;
+    for (let j = 0; j < n; j++) x2[o + j] = X[op + j] + t * (X[oq + j] - X[op + j]);
+    at = appendWithRow(V, at, common, 0, k, r);
+    V.tOff2[++nx] = at;
     return true;
   };
   // the all-pairs order through a hash: every simple inside vertex listed under its n (n − 1)-row
   // faces (chained in typed arrays); an outside vertex collects the inside vertices sharing one of
   // its faces' hashes, ascending and once each, and tests those as the all-pairs loop would. A pair
   // with n − 1 common rows shares a face, so the crossings and their order are the all-pairs ones.
-  const ordered = hashEdges === 'ordered' || (!hashed && hashEdges === undefined && outsideAll.length * insideAll.length > 32);
-  if (ordered) faceTable(V.tight, insideAll, n);
-  for (const p of outsideAll) {
-    const Tp = V.tight[p];
-    if (cutScratch.buf.length < Tp.length) cutScratch.buf = new Int32Array(2 * Tp.length);
+  const ordered = hashEdges === 'ordered' || (!hashed && hashEdges === undefined && no * ni > 32);
+  if (ordered) faceTable(T, TO, insideAll, ni, n);
+  for (let ip = 0; ip < no; ip++) {
+    const p = outsideAll[ip];
+    const p0 = TO[p];
+    const p1 = TO[p + 1];
+    if (cutScratch.buf.length < p1 - p0) cutScratch.buf = new Int32Array(2 * (p1 - p0));
     const buf = cutScratch.buf;
-    if (Tp.length === n && ordered) {
+    if (p1 - p0 === n && ordered) {
       const ft = faces;
       let nc = 0;
       for (let omit = 0; omit < n; omit++) {
-        const h = faceKey(Tp, omit);
+        const h = faceKey(T, p0, n, omit);
         for (let e = ft.head[h & ft.mask]; e >= 0; e = ft.next[e]) {
           if (ft.key[e] !== h) continue;
           // insertion into the ascending candidate list, once each
@@ -301,62 +373,69 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
       }
       for (let c = 0; c < nc; c++) {
         const q = ft.cand[c];
-        const k = intersect(Tp, V.tight[q], buf, n - 1);
+        const k = intersect(T, p0, p1, TO[q], TO[q + 1], buf, n - 1);
         if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
       }
-    } else if (Tp.length === n) {
+    } else if (p1 - p0 === n) {
       if (hashed) {
         for (let omit = 0; omit < n; omit++) {
-          const list = byFace!.get(faceKey(Tp, omit));
+          const list = byFace!.get(faceKey(T, p0, n, omit));
           if (!list) continue;
           for (const q of list) {
-            const k = intersect(Tp, V.tight[q], buf, n - 1);
+            const k = intersect(T, p0, p1, TO[q], TO[q + 1], buf, n - 1);
             if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
           }
         }
       } else
-        for (const q of insideAll) {
-          const Tq = V.tight[q];
-          if (Tq.length !== n) continue; // with the degenerate ones below
-          const k = intersect(Tp, Tq, buf, n - 1);
+        for (let i = 0; i < ni; i++) {
+          const q = insideAll[i];
+          if (TO[q + 1] - TO[q] !== n) continue; // with the degenerate ones below
+          const k = intersect(T, p0, p1, TO[q], TO[q + 1], buf, n - 1);
           if (k === n - 1 && !addCrossing(p, q, buf, k)) return false;
         }
     }
-    const others = Tp.length === n ? degenerateInside : insideAll;
-    for (const q of others) {
-      const Tq = V.tight[q];
-      if (cutScratch.buf.length < Tq.length) cutScratch.buf = new Int32Array(2 * Tq.length);
-      const k = intersect(Tp, Tq, cutScratch.buf, n - 1);
+    const others = p1 - p0 === n ? degenerateInside : insideAll;
+    const nOthers = p1 - p0 === n ? nd : ni;
+    for (let i = 0; i < nOthers; i++) {
+      const q = others[i];
+      if (cutScratch.buf.length < TO[q + 1] - TO[q]) cutScratch.buf = new Int32Array(2 * (TO[q + 1] - TO[q]));
+      const k = intersect(T, p0, p1, TO[q], TO[q + 1], cutScratch.buf, n - 1);
       if (k < n - 1) continue;
       if (rankOf(A, n, cutScratch.buf, k) !== n - 1) continue;
       if (!addCrossing(p, q, cutScratch.buf, k)) return false;
     }
   }
-  V.x = x;
-  V.tight = tight;
+  swap(V, nx, true, true);
   return true;
 }
 
 /**
  * The least of `bound(c, W)` (a weak-duality bound on c·θ, farkasBound) over W an n-row subset of the rows tight at a vertex (all of them when there are n; at a degenerate vertex
- * up to `maxTries` subsets in lexicographic order); +∞ when none proves anything.
+ * up to `maxTries` subsets in lexicographic order); +∞ when none proves anything. The rows are
+ * T[off … off + k) (all of T by default).
  */
 export function vertexBound(
   c: ArrayLike<number>,
-  T: readonly number[],
+  T: ArrayLike<number>,
   n: number,
   bound: (c: ArrayLike<number>, W: ArrayLike<number>) => number,
   maxTries = 32,
+  off = 0,
+  k = T.length - off,
 ): number {
-  const k = T.length;
   if (k < n) return Infinity;
-  if (k === n) return bound(c, T);
+  if (k === n) {
+    if (off === 0) return bound(c, T);
+    if (boundScratch.length < n) boundScratch = new Int32Array(2 * n);
+    for (let i = 0; i < n; i++) boundScratch[i] = T[off + i];
+    return bound(c, boundScratch);
+  }
   const idx = new Int32Array(n);
   for (let i = 0; i < n; i++) idx[i] = i;
   const W = new Int32Array(n);
   let best = Infinity;
   for (let tries = 0; tries < maxTries; tries++) {
-    for (let i = 0; i < n; i++) W[i] = T[idx[i]];
+    for (let i = 0; i < n; i++) W[i] = T[off + idx[i]];
     best = Math.min(best, bound(c, W));
     // next n-subset of 0..k−1
     let i = n - 1;
@@ -367,6 +446,9 @@ export function vertexBound(
   }
   return best;
 }
+
+/** vertexBound's copy of a vertex's n tight rows (read by `bound` within the call only; one per thread) */
+let boundScratch = new Int32Array(8);
 
 /** Highest dimension where the vertex pass is tried (2ⁿ box corners to start from). */
 export const maxVertexDim = 8;
@@ -399,7 +481,8 @@ const witnessMargin = 1e-7;
  * Returns the vertex set of the box cut by the rows marked sure in steps 1–2 (the rows sure on entry
  * and those found by a witness; every tight list holds only those rows and box sides), or null when
  * the vertex count passed its bound (the pass then stopped early). When every row the caller keeps
- * at the end is one of those or a box side, this is the region's own vertex list.
+ * at the end is one of those or a box side, this is the region's own vertex list. The set is the
+ * pass's own (reused): valid until the next call on this thread.
  */
 export function vertexPass(
   A: Float64Array,
@@ -419,26 +502,25 @@ export function vertexPass(
   redundancyTol: number,
 ): VertexSet | null {
   const boxRow = m - 2 * n;
-  const V = boxVertices(n, lo, up, boxRow);
+  // the pass's own set, reused from region to region (its arrays grow once): the list returned is
+  // valid until the next vertexPass on this thread (buildRegion copies it at once)
+  if (passSet === null || passSet.n !== n) passSet = emptyVertexSet(n);
+  const V = boxVertices(n, lo, up, boxRow, passSet);
   const eps = 1e-10;
   for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return null;
   const toLp = new Uint8Array(m);
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
   const vHi = new Float64Array(n);
-  // the vertices' coordinates copied into one flat array after every cut (the row and argmax scans
-  // below read them contiguously instead of through one array per vertex: the same products, in
-  // the same order)
-  let X = flatScratch.x;
+  // the vertices' box, after every cut (the row and argmax scans below read the flat coordinates)
   const vertexBox = (): void => {
     vLo.fill(Infinity);
     vHi.fill(-Infinity);
-    if (X.length < V.x.length * n) X = flatScratch.x = new Float64Array(2 * V.x.length * n);
-    let o = 0;
-    for (const x of V.x)
+    const X = V.x;
+    const end = V.count * n;
+    for (let o = 0; o < end; o += n)
       for (let j = 0; j < n; j++) {
-        const t = x[j];
-        X[o++] = t;
+        const t = X[o + j];
         if (t < vLo[j]) vLo[j] = t;
         if (t > vHi[j]) vHi[j] = t;
       }
@@ -456,7 +538,8 @@ export function vertexPass(
       if (mx <= breakMargin) break;
       let worst = breakMargin;
       let wv = -1;
-      for (let v = 0, cnt = V.x.length; v < cnt; v++) {
+      const X = V.x;
+      for (let v = 0, cnt = V.count; v < cnt; v++) {
         let s = -b[r];
         const o = v * n;
         for (let j = 0; j < n; j++) s += A[r * n + j] * X[o + j];
@@ -466,7 +549,7 @@ export function vertexPass(
         }
       }
       if (wv < 0) break;
-      for (let j = 0; j < n; j++) d[j] = V.x[wv][j] - center[j];
+      for (let j = 0; j < n; j++) d[j] = X[wv * n + j] - center[j];
       const h = firstHitWitness(A, m, n, slack, d);
       if (h < 0 || h >= boxRow || sure[h]) {
         toLp[r] = 1;
@@ -480,6 +563,10 @@ export function vertexPass(
   // box sides the region reaches: a ray aimed at the mean of the vertices on the side; when the side
   // is the first row hit and every other row keeps witnessMargin slack there, the same witness as
   // above proves that the side's LP keeps it (a box facet, otherwise one LP per region and side)
+  const X = V.x;
+  const T = V.t;
+  const TO = V.tOff;
+  const cnt = V.count;
   for (let q = boxRow; q < m; q++) {
     if (sure[q] || !alive[q]) continue;
     // no vertex on the side (box corners and points cut on box edges keep the side's coordinate exactly): nothing to aim at
@@ -487,10 +574,12 @@ export function vertexPass(
     if ((q - boxRow) & 1 ? vLo[j0] > lo[j0] : vHi[j0] < up[j0]) continue;
     let k = 0;
     d.fill(0);
-    for (let v = 0; v < V.x.length; v++) {
-      if (!V.tight[v].includes(q)) continue;
+    for (let v = 0; v < cnt; v++) {
+      let on = false;
+      for (let i = TO[v]; i < TO[v + 1] && !on; i++) on = T[i] === q;
+      if (!on) continue;
       k++;
-      for (let j = 0; j < n; j++) d[j] += V.x[v][j];
+      for (let j = 0; j < n; j++) d[j] += X[v * n + j];
     }
     if (k < n) continue; // fewer than n vertices: not a facet of the vertices' polytope
     for (let j = 0; j < n; j++) d[j] = d[j] / k - center[j];
@@ -503,9 +592,9 @@ export function vertexPass(
     for (const sgn of [1, -1]) {
       e.fill(0);
       e[j] = sgn;
-      const v = argmaxFlat(X, V.x.length, n, e, 0);
-      if (v < 0 || breaksAny(A, b, n, V.x[v], toLp, boxRow)) continue; // not the region's own side: to its LP
-      const value = vertexBound(e, V.tight[v], n, bound);
+      const v = argmaxFlat(X, cnt, n, e, 0);
+      if (v < 0 || breaksAny(A, b, n, X, v * n, toLp, boxRow)) continue; // not the region's own side: to its LP
+      const value = vertexBound(e, T, n, bound, 32, TO[v], TO[v + 1] - TO[v]);
       if (!Number.isFinite(value)) continue;
       if (sgn > 0) bbHi[j] = Math.min(bbHi[j], value + redundancyTol);
       else bbLo[j] = Math.max(bbLo[j], -value - redundancyTol);
@@ -519,27 +608,27 @@ export function vertexPass(
       mx += a > 0 ? a * bbHi[j] : a * bbLo[j];
     }
     if (mx <= -redundancyTol) continue; // the caller's box test drops it
-    const v = argmaxFlat(X, V.x.length, n, A, r * n);
+    const v = argmaxFlat(X, cnt, n, A, r * n);
     if (v < 0) continue;
     const c = A.subarray(r * n, (r + 1) * n);
-    if (vertexBound(c, V.tight[v], n, bound) <= b[r] + redundancyTol) alive[r] = 0;
+    if (vertexBound(c, T, n, bound, 32, TO[v], TO[v + 1] - TO[v]) <= b[r] + redundancyTol) alive[r] = 0;
   }
   return V;
 }
 
-/** Whether x breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */
-function breaksAny(A: Float64Array, b: Float64Array, n: number, x: readonly number[], rows: Uint8Array, m: number): boolean {
+/** vertexPass's vertex set (one per thread, reused) */
+let passSet: VertexSet | null = null;
+
+/** Whether the point X[o … o + n) breaks one of the rows flagged in `rows` (of the first `m`) by more than breakMargin. */
+function breaksAny(A: Float64Array, b: Float64Array, n: number, X: Float64Array, o: number, rows: Uint8Array, m: number): boolean {
   for (let q = 0; q < m; q++) {
     if (!rows[q]) continue;
     let s = -b[q];
-    for (let j = 0; j < n; j++) s += A[q * n + j] * x[j];
+    for (let j = 0; j < n; j++) s += A[q * n + j] * X[o + j];
     if (s > breakMargin) return true;
   }
   return false;
 }
-
-/** vertexPass's flat copy of the vertex coordinates (n per vertex; one per thread, grown on demand) */
-const flatScratch = { x: new Float64Array(256) };
 
 /** The first vertex of greatest c·x (0 + Σ c_j x_j in axis order) of the flat copy X of `count` vertices, c read from c[off …]; −1 when none. */
 function argmaxFlat(X: Float64Array, count: number, n: number, c: ArrayLike<number>, off: number): number {

@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
-import { boxVertices, cutVertices } from '../../src/mpqp/vertices.js';
+import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, pieceTight, pieceVertex, polytopePiece, subtractSlice, type CoverContext, type CoverPiece } from '../../src/mpqp/cover.js';
+import { boxVertices, cutVertices, vertexTight, vertexX } from '../../src/mpqp/vertices.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
 import { rng } from '../problem/rng.js';
 
@@ -15,7 +15,15 @@ const piece = (A: number[][], b: number[], box = 10): CoverPiece => {
   if (!r || r === 'fail') throw new Error(`no piece: ${r}`);
   return r;
 };
-const sortedVerts = (P: CoverPiece): number[][] => P.verts.map((v) => Array.from(v, (x) => Math.round(x * 1e9) / 1e9 + 0)).sort((x, y) => x[0] - y[0] || x[1] - y[1] || (x[2] ?? 0) - (y[2] ?? 0));
+/** P's vertices as one array each (the piece keeps them flat, dim = x.length / nv) */
+const vertsOf = (P: CoverPiece): number[][] => Array.from({ length: P.nv }, (_, v) => pieceVertex(P, P.x.length / P.nv, v));
+/** flat vertex input for pieceFromVertices from one array per vertex */
+const flatVerts = (verts: number[][], tight: number[][]): [number, Float64Array, Int32Array, Int32Array] => {
+  const tOff = new Int32Array(verts.length + 1);
+  tight.forEach((t, v) => (tOff[v + 1] = tOff[v] + t.length));
+  return [verts.length, Float64Array.from(verts.flat()), tOff, Int32Array.from(tight.flat())];
+};
+const sortedVerts = (P: CoverPiece): number[][] => vertsOf(P).map((v) => Array.from(v, (x) => Math.round(x * 1e9) / 1e9 + 0)).sort((x, y) => x[0] - y[0] || x[1] - y[1] || (x[2] ?? 0) - (y[2] ?? 0));
 const unit = (a: number[]): number[] => {
   const n = Math.hypot(...a);
   return a.map((x) => x / n);
@@ -35,7 +43,7 @@ function chebRadius(A: number[][], b: number[]): number {
   return r.status === 'optimal' ? r.value : -Infinity;
 }
 const rowsOf = (P: CoverPiece): { A: number[][]; b: number[] } => {
-  const d = P.verts[0].length;
+  const d = P.x.length / P.nv;
   return { A: Array.from({ length: P.m }, (_, i) => Array.from(P.A.slice(i * d, (i + 1) * d))), b: Array.from(P.b) };
 };
 
@@ -49,7 +57,7 @@ describe('vertex lists of hand-worked polytopes (common practice)', () => {
     const cube = [[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]];
     const P = piece([...cube, unit([1, 1, 1])], [1, 0, 1, 0, 1, 0, 2.5 / Math.sqrt(3)]);
     // the cut meets the three edges at (1,1,z) etc. with z = 0.5
-    expect(P.verts.length).toBe(10);
+    expect(P.nv).toBe(10);
     expect(sortedVerts(P)).toContainEqual([0.5, 1, 1]);
     expect(sortedVerts(P)).toContainEqual([1, 1, 0.5]);
     expect(sortedVerts(P)).not.toContainEqual([1, 1, 1]);
@@ -59,7 +67,7 @@ describe('vertex lists of hand-worked polytopes (common practice)', () => {
     const b = [0, 1 / Math.SQRT2, 1 / Math.SQRT2, 1 / Math.SQRT2, 1 / Math.SQRT2];
     const P = piece(A, b);
     expect(sortedVerts(P)).toEqual([[-1, -1, 0], [-1, 1, 0], [0, 0, 1], [1, -1, 0], [1, 1, 0]]);
-    expect(P.tight[P.verts.findIndex((v) => Math.abs(v[2] - 1) < 1e-9)].length).toBe(4);
+    expect(pieceTight(P, vertsOf(P).findIndex((v) => Math.abs(v[2] - 1) < 1e-9)).length).toBe(4);
   });
   it('the square minus the disc-free slice [0.5, 2] × [−1, 2] is the strip x ≤ 0.5 (common practice)', () => {
     const sq = piece([[1, 0], [-1, 0], [0, 1], [0, -1]], [1, 0, 1, 0]);
@@ -112,7 +120,7 @@ describe('random polytopes and slices, 2-D to 4-D, against javascript-lp-solver'
         // support values: a linear function attains its maximum over a polytope at a vertex (common practice)
         for (let t = 0; t < 6; t++) {
           const c = Array.from({ length: dim }, () => 2 * r() - 1);
-          const byVerts = Math.max(...P.verts.map((v) => v.reduce((s, x, k) => s + x * c[k], 0)));
+          const byVerts = Math.max(...vertsOf(P).map((v) => v.reduce((s, x, k) => s + x * c[k], 0)));
           expect(byVerts).toBeCloseTo(support(base.A, base.b, c), 6);
           checks++;
         }
@@ -171,7 +179,7 @@ describe('random polytopes and slices, 2-D to 4-D, against javascript-lp-solver'
     if (!Q || Q === 'fail') throw new Error('split expected');
     const q = rowsOf(Q);
     for (const c of [[1, 0, 0], [0, 1, 0], a, [-1, -1, 1]]) {
-      const byVerts = Math.max(...Q.verts.map((v) => v.reduce((s, x, k) => s + x * c[k], 0)));
+      const byVerts = Math.max(...vertsOf(Q).map((v) => v.reduce((s, x, k) => s + x * c[k], 0)));
       expect(byVerts).toBeCloseTo(support(q.A, q.b, c), 7);
       expect(byVerts).toBeCloseTo(support([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1], a], [1, 1, 1, 1, 1, 1, 0.3], c), 7);
     }
@@ -205,7 +213,7 @@ describe('a long thin facet wedge (taken from a 4-D solve of test/fixtures/scale
     const dirs = [[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1], ...Array.from({ length: 40 }, () => unit([2 * r() - 1, 2 * r() - 1, 2 * r() - 1]))];
     for (const c of dirs) {
       let mx = -Infinity;
-      for (const v of P.verts) mx = Math.max(mx, c[0] * v[0] + c[1] * v[1] + c[2] * v[2]);
+      for (const v of vertsOf(P)) mx = Math.max(mx, c[0] * v[0] + c[1] * v[1] + c[2] * v[2]);
       expect(Math.abs(mx - support(A, b, c))).toBeLessThan(1e-8);
     }
     // the width bound bounds javascript-lp-solver's Chebyshev radius, and the wedge is thinner than a facet piece must be (1e-6)
@@ -252,7 +260,7 @@ describe('pieces with more than 32 rows, and a cut that leaves its piece as it w
       const rows = rowsOf(Q);
       for (let t = 0; t < 8; t++) {
         const d = Array.from({ length: dim }, () => 2 * r() - 1);
-        const byVerts = Math.max(...Q.verts.map((v) => v.reduce((s, x, k) => s + x * d[k], 0)));
+        const byVerts = Math.max(...vertsOf(Q).map((v) => v.reduce((s, x, k) => s + x * d[k], 0)));
         expect(byVerts).toBeCloseTo(support([...A, c], [...b, t0], d), 6);
         // the rows the piece keeps describe the same set: the same support value from its own rows
         expect(byVerts).toBeCloseTo(support(rows.A, rows.b, d), 6);
@@ -295,14 +303,14 @@ describe('pieceFromVertices: a vertex list made elsewhere (a region builder\'s),
         // one extra row through the polytope (a sub-box face), as the frame's rows after the region's
         const cut = unit(Array.from({ length: dim }, () => 2 * r() - 1));
         const t = 0.2 * (2 * r() - 1);
-        const P = pieceFromVertices(all.flat(), ball.slice(), all.length, V.x.map((x) => x.slice()), V.tight.map((x) => x.slice()), Float64Array.from(cut), Float64Array.of(t), 1, ctx(dim));
+        const P = pieceFromVertices(all.flat(), ball.slice(), all.length, ...flatVerts(Array.from({ length: V.count }, (_, v) => vertexX(V, v)), Array.from({ length: V.count }, (_, v) => vertexTight(V, v))), Float64Array.from(cut), Float64Array.of(t), 1, ctx(dim));
         expect(P).not.toBe('fail');
         if (P === null || P === 'fail') continue;
         const refA = [...all, cut];
         const refB = [...ball, t];
         for (let k = 0; k < 8; k++) {
           const c = Array.from({ length: dim }, () => 2 * r() - 1);
-          const byVerts = Math.max(...P.verts.map((v) => v.reduce((s, x, q) => s + x * c[q], 0)));
+          const byVerts = Math.max(...vertsOf(P).map((v) => v.reduce((s, x, q) => s + x * c[q], 0)));
           expect(byVerts).toBeCloseTo(support(refA, refB, c), 7);
           checks++;
         }
@@ -325,9 +333,9 @@ describe('pieceFromVertices: a vertex list made elsewhere (a region builder\'s),
     const b = [1, 1, 1, 1];
     const verts = [[1, 1], [-1, 1], [-1, -1], [1, -1], [1, -1 + 1e-12]];
     const tight = [[0, 2], [1, 2], [1, 3], [0, 3], [0, 3]];
-    expect(pieceFromVertices(A, b, 4, verts, tight, new Float64Array(0), new Float64Array(0), 0, ctx(2))).toBe('fail');
+    expect(pieceFromVertices(A, b, 4, ...flatVerts(verts, tight), new Float64Array(0), new Float64Array(0), 0, ctx(2))).toBe('fail');
     // without the copy: the square itself, every row a facet (common practice)
-    const sq = pieceFromVertices(A.slice(), b.slice(), 4, verts.slice(0, 4), tight.slice(0, 4), new Float64Array(0), new Float64Array(0), 0, ctx(2));
+    const sq = pieceFromVertices(A.slice(), b.slice(), 4, ...flatVerts(verts.slice(0, 4), tight.slice(0, 4)), new Float64Array(0), new Float64Array(0), 0, ctx(2));
     expect(sq).not.toBe('fail');
     expect((sq as CoverPiece).m).toBe(4);
     expect((sq as CoverPiece).widthBound).toBeCloseTo(1, 12);

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { boxVertices, cutVertices, firstHitWitness, vertexBound, vertexPass } from '../../src/mpqp/vertices.js';
+import { boxVertices, cutVertices, firstHitWitness, vertexBound, vertexPass, vertexTight, vertexX, type VertexSet } from '../../src/mpqp/vertices.js';
 import { farkasBound, prefilterScratch } from '../../src/mpqp/prefilter.js';
 import { lpMaximizeReference } from '../../src/lp/reference.js';
 import { rng } from '../problem/rng.js';
@@ -10,6 +10,9 @@ import { rng } from '../problem/rng.js';
 // lpMaximizeReference, which rounds to about 1e-8) for every decision the pass takes.
 
 const F = (xs: number[]) => Float64Array.from(xs);
+/** the flat set's vertices and tight lists as one array each (read through its accessors) */
+const xs = (V: VertexSet): number[][] => Array.from({ length: V.count }, (_, v) => vertexX(V, v));
+const ts = (V: VertexSet): number[][] => Array.from({ length: V.count }, (_, v) => vertexTight(V, v));
 
 describe('cutVertices on the unit cube (hand-counted)', () => {
   // rows 0..5: the box sides (θ_j ≤ 1 at 2j, −θ_j ≤ 0 at 2j + 1); row 6 the cut
@@ -31,12 +34,12 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     A.push(s, s, s);
     b.push(1.5 * s);
     const V = boxVertices(n, [0, 0, 0], [1, 1, 1], 0);
-    expect(V.x.length).toBe(8);
+    expect(V.count).toBe(8);
     expect(cutVertices(V, F(A), F(b), 6, 1e-10, 100)).toBe(true);
-    expect(V.x.length).toBe(10);
-    const sums = V.x.map((x) => x[0] + x[1] + x[2]).sort();
+    expect(V.count).toBe(10);
+    const sums = xs(V).map((x) => x[0] + x[1] + x[2]);
     expect(sums.filter((t) => Math.abs(t - 1.5) < 1e-12).length).toBe(6);
-    for (let v = 0; v < V.x.length; v++) if (Math.abs(sums[v] - 1.5) < 1e-12) expect(V.tight[v].length).toBe(n);
+    for (let v = 0; v < V.count; v++) if (Math.abs(sums[v] - 1.5) < 1e-12) expect(vertexTight(V, v).length).toBe(n);
   });
   it('x + y + z ≤ 1 passes through three corners: they gain the row, 4 vertices stay (a tetrahedron)', () => {
     const { A, b } = box();
@@ -45,10 +48,10 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     b.push(s);
     const V = boxVertices(n, [0, 0, 0], [1, 1, 1], 0);
     expect(cutVertices(V, F(A), F(b), 6, 1e-10, 100)).toBe(true);
-    expect(V.x.length).toBe(4);
-    expect(V.tight.filter((t) => t.includes(6)).length).toBe(3);
+    expect(V.count).toBe(4);
+    expect(ts(V).filter((t) => t.includes(6)).length).toBe(3);
     // each of the three is degenerate now (4 rows through it in 3-D)
-    expect(V.tight.filter((t) => t.length === 4).length).toBe(3);
+    expect(ts(V).filter((t) => t.length === 4).length).toBe(3);
   });
   it('the hashed edge search and the all-pairs one give the same vertices (random cuts of the 4-cube, 2·4 + 12 rows)', () => {
     const r = rng(99);
@@ -71,13 +74,13 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
       const sets = [true, false].map((hash) => {
         const V = boxVertices(n4, [-1, -1, -1, -1], [1, 1, 1, 1], 0);
         for (let i = 0; i < 12; i++) expect(cutVertices(V, F(A), F(b), 2 * n4 + i, 1e-10, 4000, hash)).toBe(true);
-        for (const x of V.x)
+        for (const x of xs(V))
           for (let q = 0; q < b.length; q++) {
             let t = -b[q];
             for (let j = 0; j < n4; j++) t += A[q * n4 + j] * x[j];
             expect(t).toBeLessThanOrEqual(1e-9);
           }
-        return V.x.map((x, v) => `${x.map((t) => t.toFixed(9)).join(',')}|${V.tight[v].join(',')}`).sort();
+        return xs(V).map((x, v) => `${x.map((t) => t.toFixed(9)).join(',')}|${vertexTight(V, v).join(',')}`).sort();
       });
       expect(sets[0]).toEqual(sets[1]);
       expect(sets[0].length).toBeGreaterThan(n4);
@@ -107,13 +110,13 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
         const runs = (['ordered', false] as const).map((hash) => {
           const V = boxVertices(nd, Array(nd).fill(-1), Array(nd).fill(1), 0);
           for (let i = 0; i < cuts; i++) expect(cutVertices(V, F(A), F(b), 2 * nd + i, 1e-10, 4000, hash)).toBe(true);
-          for (const x of V.x)
+          for (const x of xs(V))
             for (let q = 0; q < b.length; q++) {
               let t = -b[q];
               for (let j = 0; j < nd; j++) t += A[q * nd + j] * x[j];
               expect(t).toBeLessThanOrEqual(1e-9);
             }
-          return V;
+          return { x: xs(V), tight: ts(V) };
         });
         expect(runs[0].x.length).toBe(runs[1].x.length);
         expect(runs[0].x.length).toBeGreaterThan(nd);
@@ -129,8 +132,124 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     A.push(s, s, s);
     b.push(1.5 * s);
     const V = boxVertices(n, [0, 0, 0], [1, 1, 1], 0);
+    const before = { x: xs(V), tight: ts(V) };
     expect(cutVertices(V, F(A), F(b), 6, 1e-10, 9)).toBe(false);
-    expect(V.x.length).toBe(8);
+    expect(V.count).toBe(8);
+    expect(xs(V)).toEqual(before.x);
+    expect(ts(V)).toEqual(before.tight);
+  });
+  it('the flat set against the double description cut written out here with one array per vertex, bit for bit (random and through-a-vertex cuts of the 3-, 4- and 5-cube, one set reused throughout)', () => {
+    // Reference: the incremental double description step (Motzkin et al. 1953) with Fukuda &
+    // Prodon's adjacency test (1996), common practice, written out below on plain arrays: vertices
+    // within eps of the plane gain the row; an outside vertex p and an inside vertex q span an edge
+    // when they share n − 1 tight rows (both simple) or share ≥ n − 1 rows of rank n − 1 (Gaussian
+    // elimination, pivot threshold 1e-9); the crossing is x_p + t(x_q − x_p), t = s_p / (s_p − s_q),
+    // s = −b + Σ a_j x_j in axis order. The listing order is the kept vertices, then per outside
+    // vertex (ascending) its simple partners (ascending), then its degenerate ones (ascending).
+    const rank = (A: number[], n: number, rows: number[]): number => {
+      const M = rows.map((r) => A.slice(r * n, (r + 1) * n));
+      let rk = 0;
+      for (let col = 0; col < n && rk < M.length; col++) {
+        let p = -1;
+        let best = 1e-9;
+        for (let i = rk; i < M.length; i++)
+          if (Math.abs(M[i][col]) > best) {
+            best = Math.abs(M[i][col]);
+            p = i;
+          }
+        if (p < 0) continue;
+        [M[p], M[rk]] = [M[rk], M[p]];
+        for (let i = rk + 1; i < M.length; i++) {
+          const f = M[i][col] / M[rk][col];
+          for (let j = col; j < n; j++) M[i][j] -= f * M[rk][j];
+        }
+        rk++;
+      }
+      return rk;
+    };
+    const refCut = (X: number[][], T: number[][], A: number[], b: number[], n: number, r: number, eps: number): { X: number[][]; T: number[][] } => {
+      const s = X.map((x) => {
+        let t = -b[r];
+        for (let j = 0; j < n; j++) t += A[r * n + j] * x[j];
+        return t;
+      });
+      const gain = (t: number[]): number[] => (t.includes(r) ? [...t] : [...t, r].sort((u, v) => u - v));
+      const nx: number[][] = [];
+      const nt: number[][] = [];
+      X.forEach((x, v) => {
+        if (s[v] > eps) return;
+        nx.push(x);
+        nt.push(s[v] >= -eps ? gain(T[v]) : T[v]);
+      });
+      if (!s.some((t) => t > eps)) return { X: nx, T: nt };
+      const inside = X.map((_, q) => q).filter((q) => s[q] < -eps);
+      const cross = (p: number, q: number, c: number[]): void => {
+        const t = s[p] / (s[p] - s[q]);
+        nx.push(X[p].map((xp, j) => xp + t * (X[q][j] - xp)));
+        nt.push(gain(c));
+      };
+      X.forEach((_, p) => {
+        if (s[p] <= eps) return;
+        const simple = T[p].length === n;
+        for (const pass of simple ? ['simple', 'degenerate'] : ['any']) {
+          for (const q of inside) {
+            const qs = T[q].length === n;
+            if ((pass === 'simple' && !qs) || (pass === 'degenerate' && qs)) continue;
+            const c = T[p].filter((i) => T[q].includes(i));
+            if (pass === 'simple' ? c.length === n - 1 : c.length >= n - 1 && rank(A, n, c) === n - 1) cross(p, q, c);
+          }
+        }
+      });
+      return { X: nx, T: nt };
+    };
+    let reused: VertexSet | undefined;
+    let degenerateSeen = 0;
+    for (const nd of [3, 4, 5])
+      for (let trial = 0; trial < 10; trial++)
+        for (const mode of ['ordered', false, true] as const) {
+          const A: number[] = [];
+          const b: number[] = [];
+          for (let j = 0; j < nd; j++) {
+            for (let k = 0; k < nd; k++) A.push(k === j ? 1 : 0);
+            b.push(1);
+            for (let k = 0; k < nd; k++) A.push(k === j ? -1 : 0);
+            b.push(1);
+          }
+          const lo = Array(nd).fill(-1);
+          const hi = Array(nd).fill(1);
+          const V = boxVertices(nd, lo, hi, 0, reused);
+          reused = V;
+          let ref = { X: xs(V), T: ts(V) };
+          const rr = rng(1000 * nd + trial); // the same cuts in every mode
+          for (let i = 0; i < 12; i++) {
+            const a = Array.from({ length: nd }, () => 2 * rr() - 1);
+            const nn = Math.hypot(...a);
+            const u = a.map((x) => x / nn);
+            if (i % 4 === 3) {
+              // through a current vertex (it becomes degenerate), facing so that the origin stays inside
+              const x = ref.X[Math.floor(rr() * ref.X.length)];
+              let t = 0;
+              for (let k = 0; k < nd; k++) t += u[k] * x[k];
+              if (t < 0) for (let k = 0; k < nd; k++) u[k] = -u[k];
+              A.push(...u);
+              b.push(Math.abs(t));
+            } else {
+              A.push(...u);
+              b.push(0.2 + 0.7 * rr());
+            }
+            const row = 2 * nd + i;
+            expect(cutVertices(V, F(A), F(b), row, 1e-10, 4000, mode)).toBe(true);
+            ref = refCut(ref.X, ref.T, A, b, nd, row, 1e-10);
+          }
+          degenerateSeen += ref.T.filter((t) => t.length > nd).length;
+          const got = xs(V).map((x, v) => `${x.map((t) => Object.is(t, -0) ? '-0' : String(t)).join(',')}|${vertexTight(V, v).join(',')}`);
+          const want = ref.X.map((x, v) => `${x.map((t) => Object.is(t, -0) ? '-0' : String(t)).join(',')}|${ref.T[v].join(',')}`);
+          expect(got.length).toBeGreaterThan(nd);
+          // 'ordered' and all-pairs keep the listing order; the hashed search (true) lists crossings by face
+          if (mode === true) expect([...got].sort()).toEqual([...want].sort());
+          else expect(got).toEqual(want);
+        }
+    expect(degenerateSeen).toBeGreaterThan(10);
   });
 });
 

@@ -26,6 +26,9 @@ import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices
  * reaches every region meeting it in a full-dimensional piece. `options.resume` continues from the
  * state a stopped run returned (`Partition.state`) or a checkpoint handed to `onCheckpoint`.
  */
+/** fromRegionVertices' list of the region's vertices on the facet (scratch, read within the call; one per thread) */
+let onFacet = new Int32Array(64);
+
 export function solvePartition(problem: MpqpProblem, options: SolveOptions = {}): Partition {
   const t0 = performance.now();
   const nt = problem.ntheta;
@@ -387,27 +390,25 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     // the vertices on row f, flat (CoverPiece's layout), their other tight rows in the frame's numbering
     const TO = V.tOff;
     const VT = V.t;
+    if (onFacet.length < V.count) onFacet = new Int32Array(2 * V.count);
     let nv = 0;
     let len = 0;
     for (let v = 0; v < V.count; v++) {
       let on = false;
       for (let i = TO[v]; i < TO[v + 1] && !on; i++) on = VT[i] === f;
       if (!on) continue;
-      nv++;
+      onFacet[nv++] = v;
       for (let i = TO[v]; i < TO[v + 1]; i++) if (VT[i] !== f && map[VT[i]] >= 0) len++;
     }
     const x = new Float64Array(nv * dim);
     const tOff = new Int32Array(nv + 1);
     const t = new Int32Array(len);
-    nv = 0;
     len = 0;
-    for (let v = 0; v < V.count; v++) {
-      let on = false;
-      for (let i = TO[v]; i < TO[v + 1] && !on; i++) on = VT[i] === f;
-      if (!on) continue;
+    for (let q = 0; q < nv; q++) {
+      const v = onFacet[q];
       for (let i = TO[v]; i < TO[v + 1]; i++) if (VT[i] !== f && map[VT[i]] >= 0) t[len++] = map[VT[i]];
-      facet.toYInto(V.x, v * nt, x, nv * dim);
-      tOff[++nv] = len;
+      facet.toYInto(V.x, v * nt, x, q * dim);
+      tOff[q + 1] = len;
     }
     const A = new Array<number>(mOwn * dim);
     for (let q = 0; q < mOwn * dim; q++) A[q] = facet.A[q];

@@ -34,6 +34,7 @@ async function explore(
   mpqp: MpqpProblem,
   options: ThreadedOptions,
   checkpoint: { write: (snap: { state: ExplorationState; subBoxes: SubBoxProgress }) => void; every: number } | null,
+  sigint: Interrupts,
 ): Promise<{ partition: Partition; state: (() => { state: ExplorationState; subBoxes: SubBoxProgress }) | null; guesses: GuessHints }> {
   const run = exploreThreaded(mpqp, options);
   let interrupts = 0;
@@ -44,6 +45,8 @@ async function explore(
     else setTimeout(() => run.terminate(), 3000).unref();
   };
   process.on('SIGINT', onSigint);
+  // a Ctrl-C during the set-up (this thread does not yield there) was only noted: stop at once
+  if (sigint.count > 0) onSigint();
   const timer = checkpoint ? setInterval(() => checkpoint.write(run.snapshot()), 1000 * checkpoint.every) : null;
   try {
     const partition = await run.result;
@@ -55,6 +58,24 @@ async function explore(
     process.off('SIGINT', onSigint);
   }
 }
+
+/**
+ * Ctrl-C over the whole command. The exploration's own handler (`explore`) also stops its workers at
+ * once; the set-up, the canonical form and the assembly run on this thread without yielding, so a
+ * Ctrl-C there is seen when that step ends, and the command then stops before writing anything: the
+ * same message and exit code, never the default kill (which printed nothing and could leave a temp
+ * file behind mid-write).
+ */
+interface Interrupts {
+  count: number;
+}
+
+/**
+ * Lets a SIGINT that arrived during synchronous work reach its handler: signals are read in the event
+ * loop's poll phase, and two immediates in a row always have one poll phase between them (the first
+ * may run in the check phase of the current iteration, before any poll).
+ */
+const signalsDelivered = (): Promise<void> => new Promise((r) => setImmediate(() => setImmediate(r)));
 
 /** `<problem>.part-i-of-k.json` beside the problem. */
 export function defaultPartPath(problemPath: string, part: PartIndex): string {
@@ -87,10 +108,14 @@ export function register(program: Command): void {
       const threads = opts.threads ?? availableParallelism();
       // on 2+ threads the isolates' JIT competes with the workers for the cores: cheaper compiles (`threadsV8Flags`)
       tuneJitForThreads(threads);
+      const sigint: Interrupts = { count: 0 };
+      const onSigint = () => void sigint.count++;
+      process.on('SIGINT', onSigint);
       const pool = startThreadPool(threads);
       try {
-        await solveCommand(problemPath, opts, pool, tStart);
+        await solveCommand(problemPath, opts, pool, tStart, sigint);
       } finally {
+        process.off('SIGINT', onSigint);
         void pool.terminate();
       }
     });
@@ -98,7 +123,7 @@ export function register(program: Command): void {
 
 type SolveCliOptions = { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean };
 
-async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: ThreadPool, tStart: number): Promise<void> {
+async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: ThreadPool, tStart: number, sigint: Interrupts): Promise<void> {
   if (opts.lp !== 'kernel' && opts.lp !== 'reference')
     throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
   let part = opts.part === undefined ? null : parsePartIndex(opts.part);
@@ -176,6 +201,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
         : undefined,
     },
     checkpointPath ? { write: writeCheckpoint, every: opts.checkpointEvery } : null,
+    sigint,
   ));
   const seconds = (performance.now() - t0) / 1000 + setupSeconds;
   // a bounded or interrupted run leaves a last checkpoint, and says how to continue
@@ -188,17 +214,20 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   // the progress line ends with a newline when interrupted (it stays visible), else it is erased
   // (redrawn first when interrupted: the terminal may have echoed ^C after it)
   if (shown) process.stderr.write(partition.stats.stopReason !== 'interrupted' ? '\r\x1b[K' : `${progressLine(last!)}\n`);
-  if (partition.stats.stopReason === 'interrupted') {
-    process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped after ${partition.stats.regions} regions (${seconds.toFixed(1)} s); no ${part ? 'part file' : 'table'} was written${opts.output ? ` to ${out}` : ''}\n`);
+  const interrupted = (regions: number, secondsSoFar: number): never => {
+    process.stderr.write(`tessera: interrupted: the solve of ${problemPath} was stopped after ${regions} regions (${secondsSoFar.toFixed(1)} s); no ${part ? 'part file' : 'table'} was written${opts.output ? ` to ${out}` : ''}\n`);
     process.stderr.write(resumeHint());
     process.exit(EXIT.interrupted);
-  }
+  };
+  if (partition.stats.stopReason === 'interrupted') interrupted(partition.stats.regions, seconds);
   if (!partition.stats.complete && !opts.quiet) process.stderr.write(resumeHint());
   else if (!partition.stats.complete) resumeHint();
   // the workers are done with a part (and below, after the canonical neighbours): end them before
   // the file is assembled, so their heaps are not held beside it (peak memory)
   if (part) {
     await pool.terminate();
+    await signalsDelivered();
+    if (sigint.count > 0) interrupted(partition.stats.regions, (performance.now() - tStart) / 1000);
     writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
     if (opts.quiet) return;
     if (created) createdNote(created);
@@ -231,6 +260,9 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     const hint = resumeHint();
     if (!opts.quiet) process.stderr.write(hint);
   }
+  // a Ctrl-C during the canonical form (this thread, no yielding) is seen here, before anything is written
+  await signalsDelivered();
+  if (sigint.count > 0) interrupted(canonical.stats.regions, (performance.now() - tStart) / 1000);
   const tTable = performance.now();
   const table = makeTable(loaded, formulation, canonical, { lean });
   writeTableFile(out, table);

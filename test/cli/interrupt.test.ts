@@ -84,4 +84,36 @@ describe('interrupting tessera solve', () => {
     expect(existsSync(out)).toBe(false);
     rmSync(dir, { recursive: true, force: true });
   }, 60000);
+
+  // the canonical form runs on the main thread without yielding: a Ctrl-C there used to meet no
+  // handler at all (Node's default: killed by the signal, nothing said); now it is seen when the step
+  // ends, and the command stops before writing, with the same message, exit 130 and the checkpoint
+  it('Ctrl-C during the canonical form: exit 130, the message and a checkpoint, no table', async () => {
+    expect(hasScript, 'util-linux `script` is needed for this test').toBe(true);
+    const dir = mkdtempSync(join(tmpdir(), 'tessera-int-canon-'));
+    const problem = longProblem(dir);
+    const out = join(dir, 'table.json');
+    const cp = join(dir, 'cp.json');
+    const child = spawn('script', ['-qec', `${process.execPath} ${cli} solve ${problem} -o ${out} --threads 1 --checkpoint ${cp}`, '/dev/null'], { stdio: ['pipe', 'pipe', 'pipe'] });
+    const ended = watch(child);
+    let sent = false;
+    // the progress line names the canonical form's steps once the exploration is over
+    child.stdout!.on('data', (d: string) => {
+      if (!sent && String(d).includes('canonical form:')) {
+        sent = true;
+        child.stdin!.write('\x03');
+      }
+    });
+    const e = await ended;
+    expect(sent, 'the canonical form was reached and Ctrl-C typed during it').toBe(true);
+    expect(e.code).toBe(130);
+    const text = e.stdout;
+    expect(text).toMatch(/tessera: interrupted: the solve of .* was stopped after \d+ regions \(\d+\.\d s\); no table was written to /);
+    expect(text).toContain(`continue with: tessera solve ${problem} --resume ${cp} -o ${out}`);
+    expect(text).not.toContain('table written');
+    expect(existsSync(out)).toBe(false);
+    // only the problem and the checkpoint: no temp file left behind
+    expect(readdirSync(dir).sort()).toEqual(['cp.json', 'long.json']);
+    rmSync(dir, { recursive: true, force: true });
+  }, 90000);
 });

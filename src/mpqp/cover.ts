@@ -17,6 +17,7 @@
  * lists are numerical: when one fails its checks (a vertex whose tight rows do not have rank dim,
  * too many vertices) the builder returns null and the caller falls back to the LP difference.
  */
+import { grownF64, grownI32 } from './vertices.js';
 
 /** A convex piece of a facet in the facet's own coordinates (dim ≥ 2). Arrays owned by the piece. */
 export interface CoverPiece {
@@ -100,16 +101,6 @@ let bOff: Int32Array = new Int32Array(64);
 let bT: Int32Array = new Int32Array(256);
 let cbuf: Int32Array = new Int32Array(64);
 
-function growF64(a: Float64Array, need: number): Float64Array {
-  const g = new Float64Array(2 * need);
-  g.set(a);
-  return g;
-}
-function growI32(a: Int32Array, need: number): Int32Array {
-  const g = new Int32Array(2 * need);
-  g.set(a);
-  return g;
-}
 
 /** True when the rows ids[i0 … i1) of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
 function rankAtLeast(A: ArrayLike<number>, ids: Int32Array, i0: number, i1: number, dim: number, need: number): boolean {
@@ -257,7 +248,7 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
       let cl = common(PT, u0, u1, PO[w], PO[w + 1]);
       if (!rankAtLeast(A, cbuf, 0, cl, dim, dim - 1)) continue;
       const lam = s[u] / (s[u] - s[w]);
-      if (bx.length < (nOut + 1) * dim) bx = growF64(bx, (nOut + 1) * dim);
+      if (bx.length < (nOut + 1) * dim) bx = grownF64(bx, (nOut + 1) * dim);
       const ox = nOut * dim;
       const ou = u * dim;
       const ow = w * dim;
@@ -277,16 +268,16 @@ export function clipPiece(P: CoverPiece, a: ArrayLike<number>, t: number, ctx: C
         for (let i = 0; i < cl; i++) had.push(cbuf[i]);
         const merged = [...new Set(had)].sort((x1, y1) => x1 - y1);
         const grow = merged.length - (bOff[dup + 1] - bOff[dup]);
-        if (bT.length < at + grow) bT = growI32(bT, at + grow);
+        if (bT.length < at + grow) bT = grownI32(bT, at + grow);
         bT.copyWithin(bOff[dup + 1] + grow, bOff[dup + 1], at);
         for (let i = 0; i < merged.length; i++) bT[bOff[dup] + i] = merged[i];
         for (let q = dup + 1; q <= nOut; q++) bOff[q] += grow;
         at += grow;
         continue;
       }
-      if (bT.length < at + cl) bT = growI32(bT, at + cl);
+      if (bT.length < at + cl) bT = grownI32(bT, at + cl);
       for (let i = 0; i < cl; i++) bT[at++] = cbuf[i];
-      if (bOff.length < nOut + 2) bOff = growI32(bOff, nOut + 2);
+      if (bOff.length < nOut + 2) bOff = grownI32(bOff, nOut + 2);
       bOff[++nOut] = at;
       if (nOut > ctx.maxVerts) {
         if (lend) giveBack(P, dim);

@@ -48,13 +48,13 @@ export function vertexTight(V: VertexSet, v: number): number[] {
   return Array.from(V.t.subarray(V.tOff[v], V.tOff[v + 1]));
 }
 
-/** a copy of `a` with room for at least `need` entries (twice that) */
-function grownF64(a: Float64Array, need: number): Float64Array {
+/** a copy of `a` with room for at least `need` entries (twice that); the covering's scratch grows by it too */
+export function grownF64(a: Float64Array, need: number): Float64Array {
   const g = new Float64Array(2 * need);
   g.set(a);
   return g;
 }
-function grownI32(a: Int32Array, need: number): Int32Array {
+export function grownI32(a: Int32Array, need: number): Int32Array {
   const g = new Int32Array(2 * need);
   g.set(a);
   return g;

@@ -11,6 +11,18 @@ import { rng } from '../problem/rng.js';
 
 const F = (xs: number[]) => Float64Array.from(xs);
 /** the flat set's vertices and tight lists as one array each (read through its accessors) */
+/** The rows of the cube [-1, 1]^n (θ_j ≤ 1, -θ_j ≤ 1 for each j) as growable lists, for cuts to be pushed after them. */
+function cubeRows(n: number): { A: number[]; b: number[] } {
+  const A: number[] = [];
+  const b: number[] = [];
+  for (let j = 0; j < n; j++) {
+    for (let k = 0; k < n; k++) A.push(k === j ? 1 : 0);
+    b.push(1);
+    for (let k = 0; k < n; k++) A.push(k === j ? -1 : 0);
+    b.push(1);
+  }
+  return { A, b };
+}
 const xs = (V: VertexSet): number[][] => Array.from({ length: V.count }, (_, v) => vertexX(V, v));
 const ts = (V: VertexSet): number[][] => Array.from({ length: V.count }, (_, v) => vertexTight(V, v));
 
@@ -57,14 +69,7 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     const r = rng(99);
     const n4 = 4;
     for (let trial = 0; trial < 20; trial++) {
-      const A: number[] = [];
-      const b: number[] = [];
-      for (let j = 0; j < n4; j++) {
-        for (let k = 0; k < n4; k++) A.push(k === j ? 1 : 0);
-        b.push(1);
-        for (let k = 0; k < n4; k++) A.push(k === j ? -1 : 0);
-        b.push(1);
-      }
+      const { A, b } = cubeRows(n4);
       for (let i = 0; i < 12; i++) {
         const a = Array.from({ length: n4 }, () => 2 * r() - 1);
         const nn = Math.hypot(...a);
@@ -92,14 +97,7 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     const r = rng(123);
     for (const nd of [4, 5])
       for (let trial = 0; trial < 12; trial++) {
-        const A: number[] = [];
-        const b: number[] = [];
-        for (let j = 0; j < nd; j++) {
-          for (let k = 0; k < nd; k++) A.push(k === j ? 1 : 0);
-          b.push(1);
-          for (let k = 0; k < nd; k++) A.push(k === j ? -1 : 0);
-          b.push(1);
-        }
+        const { A, b } = cubeRows(nd);
         const cuts = 14;
         for (let i = 0; i < cuts; i++) {
           const a = Array.from({ length: nd }, () => 2 * r() - 1);
@@ -207,14 +205,7 @@ describe('cutVertices on the unit cube (hand-counted)', () => {
     for (const nd of [3, 4, 5])
       for (let trial = 0; trial < 10; trial++)
         for (const mode of ['ordered', false, true] as const) {
-          const A: number[] = [];
-          const b: number[] = [];
-          for (let j = 0; j < nd; j++) {
-            for (let k = 0; k < nd; k++) A.push(k === j ? 1 : 0);
-            b.push(1);
-            for (let k = 0; k < nd; k++) A.push(k === j ? -1 : 0);
-            b.push(1);
-          }
+          const { A, b } = cubeRows(nd);
           const lo = Array(nd).fill(-1);
           const hi = Array(nd).fill(1);
           const V = boxVertices(nd, lo, hi, 0, reused);

@@ -8,6 +8,9 @@ import { tol } from '../tol.js';
 import { Arena } from '../util/arena.js';
 import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices, subtractSlice, type CoverContext, type CoverFailure, type CoverPiece } from './cover.js';
 
+/** fromRegionVertices' list of the region's vertices on the facet (scratch, read within the call; one per thread) */
+let onFacet = new Int32Array(64);
+
 /**
  * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
  * Bemporad 2003), with the optimal active set at each new point taken from a point QP (dual
@@ -26,9 +29,6 @@ import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices
  * reaches every region meeting it in a full-dimensional piece. `options.resume` continues from the
  * state a stopped run returned (`Partition.state`) or a checkpoint handed to `onCheckpoint`.
  */
-/** fromRegionVertices' list of the region's vertices on the facet (scratch, read within the call; one per thread) */
-let onFacet = new Int32Array(64);
-
 export function solvePartition(problem: MpqpProblem, options: SolveOptions = {}): Partition {
   const t0 = performance.now();
   const nt = problem.ntheta;

@@ -17,7 +17,7 @@
  * lists are numerical: when one fails its checks (a vertex whose tight rows do not have rank dim,
  * too many vertices) the builder returns null and the caller falls back to the LP difference.
  */
-import { grownF64, grownI32 } from './vertices.js';
+import { grownF64, grownI32, intersect } from './vertices.js';
 
 /** A convex piece of a facet in the facet's own coordinates (dim ≥ 2). Arrays owned by the piece. */
 export interface CoverPiece {
@@ -101,7 +101,6 @@ let bOff: Int32Array = new Int32Array(64);
 let bT: Int32Array = new Int32Array(256);
 let cbuf: Int32Array = new Int32Array(64);
 
-
 /** True when the rows ids[i0 … i1) of A (each dim long) span at least `need` dimensions (Gram–Schmidt). */
 function rankAtLeast(A: ArrayLike<number>, ids: Int32Array, i0: number, i1: number, dim: number, need: number): boolean {
   if (need <= 0) return true;
@@ -131,19 +130,8 @@ function rankAtLeast(A: ArrayLike<number>, ids: Int32Array, i0: number, i1: numb
 /** Sorted intersection of T[x0 … x1) and T[y0 … y1) into cbuf (grown to hold it); returns its length. */
 function common(T: Int32Array, x0: number, x1: number, y0: number, y1: number): number {
   if (cbuf.length < x1 - x0 + 1) cbuf = new Int32Array(2 * (x1 - x0 + 1));
-  const out = cbuf;
-  let k = 0;
-  let i = x0;
-  let j = y0;
-  while (i < x1 && j < y1) {
-    if (T[i] === T[j]) {
-      out[k++] = T[i];
-      i++;
-      j++;
-    } else if (T[i] < T[j]) i++;
-    else j++;
-  }
-  return k;
+  // need 0: the whole intersection
+  return intersect(T, x0, x1, y0, y1, cbuf, 0);
 }
 
 /** The piece made of clipPiece's scratch: `nv` vertices, copied at their final length. */

@@ -129,7 +129,7 @@ function rankOf(A: Float64Array, n: number, rows: ArrayLike<number>, k: number):
  * length when that is at least `need`, else some number below `need` (the scan stops once either
  * list has lost more entries than leave `need` in common; `out` is then partial).
  */
-function intersect(T: Int32Array, a0: number, a1: number, b0: number, b1: number, out: Int32Array, need: number): number {
+export function intersect(T: Int32Array, a0: number, a1: number, b0: number, b1: number, out: Int32Array, need: number): number {
   let i = a0;
   let j = b0;
   let k = 0;

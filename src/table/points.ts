@@ -218,10 +218,14 @@ function nextDown(x: number): number {
  */
 /**
  * Set by `wideDecimal` for the double it returns: |M·10^e10 − value| and the step 10^e10 of M's last
- * digit, both in the same units (so their ratio is exact to 2⁻⁵⁰).
+ * digit, both in the same units (so their ratio is exact to 2⁻⁵⁰); also the signed distance
+ * M·10^e10 − value and half the gaps from the value to the doubles above and below it, in those units.
  */
 let wideDist = 0;
 let wideStep = 0;
+let wideSigned = 0;
+let wideHalfUp = 0;
+let wideHalfDown = 0;
 
 function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
   const scale = POW10[k];
@@ -268,6 +272,9 @@ function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
     const half = (up - q) * 0.5 * unit;
     if (d < half * (1 - margin)) {
       wideDist = d;
+      wideSigned = d;
+      wideHalfUp = half;
+      wideHalfDown = (q - down) * 0.5 * unit;
       return q;
     }
     if (d > half * (1 + margin)) {
@@ -276,6 +283,9 @@ function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
       const half2 = (nextUp(up) - up) * 0.5 * unit;
       if (d2 < half2 * (1 - margin)) {
         wideDist = Math.abs(d2);
+        wideSigned = d2;
+        wideHalfUp = half2;
+        wideHalfDown = half;
         return up;
       }
     }
@@ -284,6 +294,9 @@ function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
   const half = (q - down) * 0.5 * unit;
   if (-d < half * (1 - margin)) {
     wideDist = -d;
+    wideSigned = d;
+    wideHalfUp = (up - q) * 0.5 * unit;
+    wideHalfDown = half;
     return q;
   }
   if (-d > half * (1 + margin)) {
@@ -291,10 +304,26 @@ function wideDecimal(hi: number, lo: number, k: number, e10: number): number {
     const half2 = (down - nextDown(down)) * 0.5 * unit;
     if (d2 < half2 * (1 - margin)) {
       wideDist = Math.abs(d2);
+      wideSigned = -d2;
+      wideHalfUp = half;
+      wideHalfDown = half2;
       return down;
     }
   }
   return NaN;
+}
+
+/**
+ * Whether the decimal at signed distance `d` from the value `wideDecimal` last returned (d = decimal −
+ * value, in its units) reads back as that value: 1 when |d| is below half the gap on its side by a
+ * margin of 2⁻³⁰ (relative), 0 when above it by that margin, −1 when that close to the half gap
+ * (a tie, or the rounding of d could decide: the caller then reads the decimal in full).
+ */
+function readsBack(d: number): number {
+  const h = d >= 0 ? wideHalfUp : wideHalfDown;
+  const a = Math.abs(d);
+  const margin = 2 ** -30;
+  return a < h * (1 - margin) ? 1 : a > h * (1 + margin) ? 0 : -1;
 }
 
 /** Where the last `plainNumber` stopped (the byte after the cell's grammar) and whether the cell is canonical. */
@@ -353,7 +382,11 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
     fracDigits = i - fs;
   }
   const total = intDigits + fracDigits;
-  if (total === 0 || total > 15 || (c >= 48 && c <= 57) || c === 101 || c === 69 || (c === 43 && i === a)) return plainNumberFull(text, a, L);
+  if (total === 0 || total > 15 || (c >= 48 && c <= 57) || c === 101 || c === 69 || (c === 43 && i === a)) {
+    // a 16th digit in the fraction (the spelling String prints for most doubles): go on from here
+    if (dot && intDigits > 0 && total === 15 && c >= 48 && c <= 57) return plainWide(text, a, L, i, m, neg, st, intDigits, fracDigits);
+    return plainNumberFull(text, a, L);
+  }
   scanEnd = i;
   let v = fracDigits === 0 ? m : m / POW10[fracDigits];
   if (neg) v = -v;
@@ -369,6 +402,54 @@ function plainNumber(text: Uint8Array, a: number, L: number): number {
       ? 1
       : 0;
   return v;
+}
+
+/**
+ * `plainNumber` for a cell [-]digits.digits whose first 15 digit characters (leading zeros counted,
+ * value m) are read and whose 16th, at text[i], is in the fraction: the scan goes on from there
+ * instead of starting again. Up to 4 more digits (M = m·10^k + low, the same integer M the full
+ * scan forms) and 16 to 19 significant digits are read by `wideDecimal`, the same call with the same
+ * M and exponent as the full scan's, so the same double. String's spelling (16–17 significant
+ * digits) as in the full scan: the closest decimal of its length to the value, and neither decimal of
+ * one digit fewer around it, (M − r)·10^e and (M − r + 10)·10^e with r = M mod 10, reads back as the
+ * value: their distances to it are M's distance minus r steps and plus 10 − r steps (`readsBack`), no
+ * new reading. Anything else (an exponent, more digits, fewer than 16 significant ones, a distance
+ * within the margin of a half gap) goes to `plainNumberFull`.
+ */
+function plainWide(text: Uint8Array, a: number, L: number, i: number, m: number, neg: boolean, st: number, intDigits: number, fracDigits: number): number {
+  let low = 0;
+  let k = 0;
+  let c = text[i];
+  while (c >= 48 && c <= 57) {
+    if (k === 4) return plainNumberFull(text, a, L);
+    low = low * 10 + (c - 48);
+    k++;
+    c = ++i < L ? text[i] : 0;
+  }
+  if (c === 101 || c === 69) return plainNumberFull(text, a, L);
+  // leading zeros among the digit characters (the point skipped)
+  let lz = 0;
+  for (let j = st; j < i; j++) {
+    const d = text[j];
+    if (d === 46) continue;
+    if (d !== 48) break;
+    lz++;
+  }
+  const sig = 15 + k - lz;
+  if (sig < 16) return plainNumberFull(text, a, L);
+  const w = wideDecimal(m, low, k, -(fracDigits + k));
+  if (w !== w) return plainNumberFull(text, a, L);
+  scanEnd = i;
+  scanCanon = 0;
+  const zeroInt = intDigits === 1 && text[st] === 48;
+  if (sig <= 17 && wideDist < 0.5 * wideStep * (1 - 2 ** -30) && (intDigits === 1 || text[st] !== 48) && text[i - 1] !== 48 && !(zeroInt && lz - 1 > 5)) {
+    const r = low % 10;
+    const below = readsBack(wideSigned - r * wideStep);
+    const above = readsBack(wideSigned + (10 - r) * wideStep);
+    if (below < 0 || above < 0) return plainNumberFull(text, a, L);
+    if (below === 0 && above === 0) scanCanon = 1;
+  }
+  return neg ? -w : w;
 }
 
 /** `plainNumber` for every cell of the plain grammar (signs, exponents, 16 digits and more). */
@@ -460,6 +541,17 @@ function plainNumberFull(text: Uint8Array, a: number, L: number): number {
         shorter = e1 > 22 || e1 < -22 ? NaN : e1 >= 0 ? mant * P : mant / P;
         next = e1 > 22 || e1 < -22 ? NaN : e1 >= 0 ? (mant + 1) * P : (mant + 1) / P;
       } else {
+        // the 16-digit decimals around M, (M − r)·10^e10 and (M − r + 10)·10^e10 (r = M mod 10), lie
+        // at r and 10 − r steps below and above M: their distances to w follow from M's (to ~2⁻⁴⁸ of
+        // a half gap, which is ≥ 0.55 step at 17 digits); only within the margin of a half gap are
+        // they read in full, as before
+        const r = low % 10;
+        const below = readsBack(wideSigned - r * wideStep);
+        const above = readsBack(wideSigned + (10 - r) * wideStep);
+        if (below >= 0 && above >= 0) {
+          if (below === 0 && above === 0) scanCanon = 1;
+          return neg ? -w : w;
+        }
         const d = Math.floor(low / 10);
         shorter = e1 > 22 ? NaN : wideDecimal(mant, d, 1, e1);
         next = e1 > 22 ? NaN : wideDecimal(mant, d + 1, 1, e1);

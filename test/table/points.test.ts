@@ -343,6 +343,69 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     expect(copied).toBeGreaterThan(0.99 * printed);
   });
 
+  it('16–19 digit fractions continued from the first 15 digits: Number\'s double, and copied exactly when String prints that text, also where a 16-digit neighbour lies at a half gap', () => {
+    // references: ECMAScript's StringToNumber (`Number(cell)`) for the value and Number::toString
+    // (`String(v)`) for the copy; the half gaps are computed exactly with BigInt (a double is m·2^e)
+    const rnd = rng(4217);
+    const f64 = new Float64Array(1);
+    const u64 = new BigUint64Array(f64.buffer);
+    /** x > 0 finite as [D, E] with x = D·10^E exactly */
+    const exact = (x: number): [bigint, number] => {
+      f64[0] = x;
+      const b = u64[0];
+      const e = Number((b >> 52n) & 0x7ffn);
+      let m = b & ((1n << 52n) - 1n);
+      if (e) m |= 1n << 52n;
+      const ex = (e || 1) - 1075;
+      return ex >= 0 ? [m << BigInt(ex), 0] : [m * 5n ** BigInt(-ex), ex];
+    };
+    /** the fixed-notation text of D·10^E (E < 0), e.g. 0.000123 */
+    const fixed = (D: bigint, E: number): string => {
+      const t = D.toString().padStart(-E + 1, '0');
+      return `${t.slice(0, t.length + E)}.${t.slice(t.length + E)}`;
+    };
+    const cells: string[] = [];
+    for (let i = 0; i < 6000; i++) {
+      // values of 10⁻⁷ … 10⁵: fractions with and without leading zeros after the point
+      const x = (0.5 + rnd()) * 10 ** (Math.floor(rnd() * 13) - 7);
+      for (const p of [16, 17, 18, 19]) cells.push(x.toPrecision(p), `-${x.toPrecision(p)}`);
+      cells.push(String(x));
+      // the midpoint between x and the next double, written exactly; its 16-digit cuts (down and up)
+      // and the 17-digit decimals around them: decimals whose 16-digit neighbour is at a half gap
+      f64[0] = x;
+      u64[0] += 1n;
+      const [dx, ex] = exact(x);
+      const [dy, ey] = exact(f64[0]);
+      const E = Math.min(ex, ey) - 1;
+      const mid = dx * 10n ** BigInt(ex - E) + dy * 10n ** BigInt(ey - E);
+      const len = mid.toString().length;
+      if (E >= 0 || len < 17) continue;
+      const cut = mid / 10n ** BigInt(len - 16);
+      const e16 = E + len - 16;
+      for (const c16 of [cut, cut + 1n]) {
+        if (e16 < 0) cells.push(fixed(c16, e16));
+        for (const r of [-1n, 0n, 1n, 5n, 9n]) if (e16 - 1 < 0) cells.push(fixed(c16 * 10n + r, e16 - 1));
+      }
+    }
+    const bytes = new TextEncoder().encode(cells.join('\n') + '\n');
+    const got = parsePointsFlat(bytes, 'p.csv', ['a']);
+    expect(got.count).toBe(cells.length);
+    const dec = new TextDecoder();
+    let printed = 0;
+    let copied = 0;
+    cells.forEach((c, i) => {
+      expect(Object.is(got.values[i], Number(c)), c).toBe(true);
+      const canon = c === String(Number(c));
+      if (got.from[i] >= 0) expect(dec.decode(bytes.subarray(got.from[i], got.to[i])), c).toBe(String(Number(c)));
+      if (canon && /^-?\d+\.\d{15,}$/.test(c)) {
+        printed++;
+        if (got.from[i] >= 0) copied++;
+      }
+    });
+    expect(printed).toBeGreaterThan(6000);
+    expect(copied).toBeGreaterThan(0.99 * printed);
+  });
+
   it('refuses what the general reading refuses, with the same message', () => {
     const names = ['a', 'b'];
     const cases = ['1,2\n3', '1,2\n1,2,3', '1,x', '1,', '1,-', '1,1e', '1,Infinity', '1,1e999', '1,.', '1,0x', 'a,b\n1,,2', 'a,c\n1,2'];

@@ -4,14 +4,15 @@ import { InputError, readBytesInput, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
 import { CLI, positive } from './common.js';
 import { endEvaluatePool, MIN_BYTES_PER_THREAD, startEvaluatePool, threadCpuSeconds, ThreadedCsv } from '../table/evaluate-threads.js';
-import { csvContext, evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, parsePointsRange, pointsFileHead, pointsHeaderColumns, type EvaluateTimes, type FlatPoints } from '../table/points.js';
+import { csvContext, evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, pointsFileHead, pointsHeaderColumns, SCAN_BELOW_POINTS, type EvaluateTimes, type FlatPoints } from '../table/points.js';
 import { closeSync, existsSync, fstatSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { createHash } from 'node:crypto';
 import { checkOutputPath } from '../io/output.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { BoxIndex, indexFromBytes, indexToBytes, INDEX_FILE_TAG } from '../table/boxindex.js';
-import { tableLocator } from '../table/locator.js';
+import { tableBoxPad, tableLocator } from '../table/locator.js';
+import { boxJob, jobBoxes } from '../table/shared-boxes.js';
 import { tol } from '../tol.js';
 import type { TableFile } from '../table/format.js';
 import { isFullTable, readTableLaws, type EvaluatedTable } from '../table/evaluate-table.js';
@@ -30,10 +31,11 @@ class StageClock {
   private wall = performance.now() / 1000;
   private cpu = cpuSeconds();
   readonly stages: [string, number, number][] = [['start-up', this.wall, this.cpu]];
-  lap(name: string): void {
+  /** close the stage `name`; `lessWall`/`lessCpu`: seconds within it that another stage reports */
+  lap(name: string, lessWall = 0, lessCpu = 0): void {
     const w = performance.now() / 1000;
     const c = cpuSeconds();
-    this.stages.push([name, w - this.wall, c - this.cpu]);
+    this.stages.push([name, w - this.wall - lessWall, c - this.cpu - lessCpu]);
     this.wall = w;
     this.cpu = c;
   }
@@ -108,6 +110,8 @@ interface ThreadedPlan {
   pool: ReturnType<typeof startEvaluatePool>;
   csv: ThreadedCsv;
   head: NonNullable<ReturnType<typeof pointsFileHead>>;
+  /** the index is to be built (no --index file to read): range 0 parsed by the first worker, the box LPs shared */
+  build: boolean;
 }
 
 /**
@@ -146,13 +150,20 @@ function startThreaded(pointsPath: string, tablePath: string, threads: number, i
   // byte of table; with an --index file there: the table's bytes hashed, its laws read and the index
   // file read, ~12 ns per byte of table), the writes (~2 ns per byte of points); a worker's module load
   const perByte = 60e-9;
-  const alone = tableSize * (index === 'read' ? 12e-9 : 205e-9) + size * 2e-9;
-  const workerStart = 0.1;
   const B = size - head.dataStart;
+  if (index === 'build') {
+    // the index is built here while the workers, done with their parse, wait for it (they share only
+    // its box LPs): every thread then has the same share of lines to locate and format, and the first
+    // worker parses this thread's range too, so that the index is not delayed by it
+    const csv = new ThreadedCsv(pool, bytes, head.dataStart, head.cells.length, Array.from({ length: T }, () => 1), true);
+    return { pool, csv, head, build: true };
+  }
+  const alone = tableSize * 12e-9 + size * 2e-9;
+  const workerStart = 0.1;
   const own = Math.max(0, (B + ((workerStart - alone) * (T - 1)) / perByte) / T);
   const weights = [own, ...Array.from({ length: T - 1 }, () => (B - own) / (T - 1))];
   const csv = new ThreadedCsv(pool, bytes, head.dataStart, head.cells.length, weights);
-  return { pool, csv, head };
+  return { pool, csv, head, build: false };
 }
 
 /** A file's bytes in shared memory (a Buffer over a SharedArrayBuffer), so that worker threads read them without a copy. */
@@ -281,20 +292,36 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
       return giveUp();
     }
   }
-  const own = parsePointsRange(csv.text, csv.ranges[0][0], csv.ranges[0][1], n);
+  // the index will be built (no index file to read): its box LPs shared with the workers, which take
+  // blocks of them once their parse is done, this thread at once (the same boxes, see shared-boxes.ts)
+  let boxes: ReturnType<typeof jobBoxes> | null = null;
+  let boxWall = 0;
+  let boxCpu = 0;
+  if (plan.build && !known && isFullTable(table)) {
+    const w0 = performance.now();
+    const c0 = cpuSeconds();
+    const job = boxJob(table.regions, n, tableBoxPad());
+    await csv.shareBoxes(job);
+    boxes = jobBoxes(job, table.box.lower, table.box.upper);
+    boxWall = (performance.now() - w0) / 1000;
+    boxCpu = cpuSeconds() - c0;
+  }
+  const own = await csv.ownParsed();
   if (!own) return giveUp();
   const parsed = await csv.parsed();
   if (!parsed.ok) return giveUp();
   const extra = opts.at ? parseAt(opts.at, n) : [];
-  clock?.lap('points');
+  // the shared box LPs are counted in the index stage, not in the points stage they ran in
+  clock?.lap('points', boxWall, boxCpu);
   const total = own.count + parsed.count + (opts.at ? 1 : 0);
   const clamp = !!opts.clamp;
-  const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0, cpu: { index: 0, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+  const times: EvaluateTimes = { index: boxWall, locate: 0, law: 0, format: 0, cpu: { index: boxCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
   let index: BoxIndex | null = null;
-  if (opts.index) {
+  if (opts.index || boxes) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
+    if (opts.index) index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
+    else if (boxes && total >= SCAN_BELOW_POINTS) index = tableLocator(fullTable(table).regions, table.box.lower, table.box.upper, boxes);
     times.index += (performance.now() - w0) / 1000;
     times.cpu!.index += cpuSeconds() - c0;
   }
@@ -384,7 +411,7 @@ function lawsWithIndex(tablePath: string, indexPath: string, clock: StageClock |
  * stderr says why, unless quiet). A file that is not an index file at all is refused (exit 2): it is
  * never overwritten.
  */
-function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet: boolean): BoxIndex {
+function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet: boolean, boxes?: Parameters<typeof tableLocator>[3]): BoxIndex {
   const key = indexKey(fileSha256(tablePath), table.regions.length, table.dims.ntheta);
   let why = 'written';
   if (existsSync(indexPath)) {
@@ -402,7 +429,7 @@ function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet:
     else why = read.key.table !== key.table ? 'rebuilt (it was the index of another table file)' : 'rebuilt (it was built with other locator parameters)';
     checkOutputPath(indexPath, '--index', { kind: 'file', extensions: ['.index'], what: 'an index file' });
   }
-  const index = tableLocator(table.regions, table.box.lower, table.box.upper);
+  const index = tableLocator(table.regions, table.box.lower, table.box.upper, boxes);
   writeFileAtomic(indexPath, indexToBytes(index, key));
   if (!quiet) process.stderr.write(`tessera: index ${indexPath} ${why}\n`);
   return index;

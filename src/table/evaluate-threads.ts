@@ -14,15 +14,20 @@ import { Worker } from 'node:worker_threads';
 import { readFileSync } from 'node:fs';
 import { BoxIndex, type BoxIndexState } from './boxindex.js';
 import { csvLines, orderRangePoints, parsePointsRange, type CsvContext, type EvaluateTimes, type RangePoints } from './points.js';
+import { workOnBoxes, type BoxJob } from './shared-boxes.js';
 
 /** What a worker is sent: first its range to parse, then the table's context (or `stop`). */
 export type EvaluateJob =
   | { type: 'parse'; text: Uint8Array; start: number; end: number; n: number }
+  | { type: 'boxes'; job: BoxJob }
+  | { type: 'parse-main'; start: number; end: number }
   | { type: 'run'; context: Omit<CsvContext, 'index'> & { index: BoxIndexState }; order: number[] | null; chunkPoints?: number };
 
 /** What a worker sends back: `parsed` (count −1: a line that is not a point), then byte chunks in order, then `done` with its stage seconds. */
 export type EvaluateWorkerMessage =
   | { type: 'parsed'; count: number; seconds: number }
+  | { type: 'boxed'; blocks: number }
+  | { type: 'main-points'; points: RangePoints | null }
   | { type: 'chunk'; bytes: Uint8Array }
   | { type: 'done'; times: { locate: number; law: number; format: number }; cpu: number }
   | { type: 'error'; message: string };
@@ -81,6 +86,10 @@ interface WorkerQueue {
   worker: Worker;
   parsed: Promise<number>;
   parseSeconds: number;
+  /** called when the worker is done with a shared box job (or gone) */
+  boxed: (() => void) | null;
+  /** called with range 0's points when this worker parsed them for the main thread (null: gone, or not a clean parse) */
+  mainPoints: ((p: RangePoints | null) => void) | null;
   chunks: Uint8Array[];
   done: boolean;
   error: Error | null;
@@ -110,11 +119,12 @@ export class ThreadedCsv {
     dataStart: number,
     readonly n: number,
     weights: number[],
+    delegateOwn = false,
   ) {
     this.ranges = splitLines(text, dataStart, text.length, weights);
     this.queues = pool.workers.slice(0, weights.length - 1).map((worker, w) => {
       const [start, end] = this.ranges[w + 1];
-      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, chunks: [], done: false, error: null, wake: null };
+      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, boxed: null, mainPoints: null, chunks: [], done: false, error: null, wake: null };
       let parsedResolve: (count: number) => void = () => {};
       q.parsed = new Promise<number>((resolve) => (parsedResolve = resolve));
       const poke = (): void => {
@@ -122,10 +132,26 @@ export class ThreadedCsv {
         q.wake = null;
         f?.();
       };
+      const boxed = (): void => {
+        const f = q.boxed;
+        q.boxed = null;
+        f?.();
+        const g = q.mainPoints;
+        q.mainPoints = null;
+        g?.(null);
+      };
       worker.on('message', (m: EvaluateWorkerMessage) => {
         if (m.type === 'parsed') {
           q.parseSeconds = m.seconds;
           parsedResolve(m.count);
+        } else if (m.type === 'boxed') {
+          const f = q.boxed;
+          q.boxed = null;
+          f?.();
+        } else if (m.type === 'main-points') {
+          const g = q.mainPoints;
+          q.mainPoints = null;
+          g?.(m.points);
         } else if (m.type === 'chunk') q.chunks.push(m.bytes);
         else if (m.type === 'done') {
           q.done = true;
@@ -136,24 +162,66 @@ export class ThreadedCsv {
         } else {
           q.error = new Error(`evaluate worker: ${m.message}`);
           parsedResolve(-1);
+          boxed();
         }
         poke();
       });
       worker.on('error', (e: Error) => {
         q.error = e;
         parsedResolve(-1);
+        boxed();
         poke();
       });
       worker.on('exit', (code) => {
         if (!q.done && !q.error) q.error = new Error(`evaluate worker ended (exit ${code}) before its points were done`);
         parsedResolve(-1);
+        boxed();
         poke();
       });
       worker.postMessage({ type: 'parse', text, start, end, n } satisfies EvaluateJob);
       return q;
     });
+    // range 0 parsed by the first worker after its own (`ownParsed`): this thread has the table and
+    // the index to make meanwhile
+    if (delegateOwn && this.queues.length > 0) {
+      const q = this.queues[0];
+      this.ownPoints = new Promise<RangePoints | null>((resolve) => (q.mainPoints = resolve));
+      q.worker.postMessage({ type: 'parse-main', start: this.ranges[0][0], end: this.ranges[0][1] } satisfies EvaluateJob);
+    }
     // workers beyond the ranges are not needed
     for (const w of pool.workers.slice(weights.length - 1)) void w.terminate();
+  }
+
+  /** range 0's points as the first worker parsed them (constructed with `delegateOwn`), else null */
+  private ownPoints: Promise<RangePoints | null> | null = null;
+
+  /**
+   * Range 0's points (file column order): parsed by the first worker when this was constructed with
+   * `delegateOwn` (and that worker parsed it cleanly), else here, now. Null when the range has a line
+   * that is not a point.
+   */
+  async ownParsed(): Promise<RangePoints | null> {
+    const got = this.ownPoints ? await this.ownPoints : null;
+    return got ?? parsePointsRange(this.text, this.ranges[0][0], this.ranges[0][1], this.n);
+  }
+
+  /**
+   * Share the table's box LPs (`job`, in shared memory) with the workers: each takes blocks of it once
+   * its parse is done (the message waits behind it), this thread takes blocks meanwhile
+   * (`workOnBoxes`). Resolves when every worker is done with the job or gone; `jobBoxes` then computes
+   * whatever block is left.
+   */
+  async shareBoxes(job: BoxJob): Promise<void> {
+    const waits = this.queues.map(
+      (q) =>
+        new Promise<void>((resolve) => {
+          if (q.error) return resolve();
+          q.boxed = resolve;
+          q.worker.postMessage({ type: 'boxes', job } satisfies EvaluateJob);
+        }),
+    );
+    workOnBoxes(job);
+    await Promise.all(waits);
   }
 
   /** Whether every worker's range parsed (each line blank, a comment or n finite numbers); the total count of their points. */
@@ -212,6 +280,15 @@ export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMess
     ownN = job.n;
     own = parsePointsRange(ownText, job.start, job.end, job.n);
     send({ type: 'parsed', count: own ? own.count : -1, seconds: (performance.now() - t0) / 1000 });
+    return;
+  }
+  if (job.type === 'parse-main') {
+    const p = parsePointsRange(ownText, job.start, job.end, ownN);
+    send({ type: 'main-points', points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
+    return;
+  }
+  if (job.type === 'boxes') {
+    send({ type: 'boxed', blocks: workOnBoxes(job.job) });
     return;
   }
   if (!own) throw new Error('run before a clean parse');

@@ -494,23 +494,37 @@ export function boundingBoxByLp(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<nu
 export function regionBoundingBox(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<number>, interior: ArrayLike<number> | null, pad: number): { lo: Float64Array; hi: Float64Array } {
   const m = b.length;
   const n = A[0]?.length ?? interior?.length ?? 0;
-  const lo = new Float64Array(n).fill(-Infinity);
-  const hi = new Float64Array(n).fill(Infinity);
+  const Af = new Float64Array(m * n);
+  for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) Af[i * n + j] = A[i][j];
+  const lo = new Float64Array(n);
+  const hi = new Float64Array(n);
+  packedBoundingBox(Af, Float64Array.from(b), m, n, interior, pad, lo, hi);
+  return { lo, hi };
+}
+
+/**
+ * `regionBoundingBox` of the region A θ ≤ b given packed (A row-major, m × n, read only; b is
+ * handed to the LPs), written into lo/hi: the same steps on the same numbers, so the same box. For
+ * the threads that share the boxes of a table (`tableBoxes`).
+ */
+export function packedBoundingBox(Af: Float64Array, bf: Float64Array, m: number, n: number, interior: ArrayLike<number> | null, pad: number, lo: Float64Array, hi: Float64Array): void {
+  lo.fill(-Infinity);
+  hi.fill(Infinity);
   // 0: side unknown, 1: known from a row with one nonzero entry
   const known = new Uint8Array(2 * n);
   for (let i = 0; i < m; i++) {
-    const row = A[i];
     let at = -1;
     let count = 0;
     for (let j = 0; j < n; j++)
-      if (row[j] !== 0) {
+      if (Af[i * n + j] !== 0) {
         count++;
         at = j;
       }
     if (count !== 1) continue;
-    const t = b[i] / row[at];
+    const a = Af[i * n + at];
+    const t = bf[i] / a;
     const ulp = Math.abs(t) * 2 ** -52;
-    if (row[at] > 0) {
+    if (a > 0) {
       hi[at] = Math.min(hi[at], t + ulp);
       known[2 * at] = 1;
     } else {
@@ -521,9 +535,6 @@ export function regionBoundingBox(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<
   let all = true;
   for (let k = 0; k < 2 * n; k++) if (!known[k]) all = false;
   if (!all) {
-    const Af = new Float64Array(m * n);
-    const bf = Float64Array.from(b);
-    for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) Af[i * n + j] = A[i][j];
     const x0 = interior ? Float64Array.from(interior) : chebyshevBall(Af, bf, m, n, new Float64Array(n), 1e6).center;
     const c = new Float64Array(n);
     const bases: { W: Int32Array; x: Float64Array }[] = [];
@@ -563,17 +574,20 @@ export function regionBoundingBox(A: ArrayLike<ArrayLike<number>>, b: ArrayLike<
     hi[j] += pad;
     lo[j] -= pad;
   }
-  return { lo, hi };
 }
+
+/** The padding of the boxes `tableLocator` builds on (beyond the query slack: see `regionBoundingBox`). */
+export const tableBoxPad = (): number => 1e3 * tol.inside;
 
 /**
  * The shared locator of a finished table's regions: bounding boxes by LP (from each region's
  * Chebyshev centre), then a k-d tree over them (`BoxIndex`). `locate` returns what `locateScan`
  * returns, with a few regions tested per query.
  */
-export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>): BoxIndex {
-  const pad = 1e3 * tol.inside;
-  const boxes = regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : regionBoundingBox(r.A, r.b, r.chebyshev?.center ?? null, pad)));
+export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>, given?: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>): BoxIndex {
+  const pad = tableBoxPad();
+  // `given`: these boxes, computed elsewhere the same way (src/table/shared-boxes.ts: threads sharing the LPs)
+  const boxes = given ?? regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : regionBoundingBox(r.A, r.b, r.chebyshev?.center ?? null, pad)));
   // the rule of locateScan and of GridLocator.locate: exact containment first (lowest index), else
   // the least residual. Listing budget: up to nθ = 4, 12 listings per region build the tree in a
   // third of the time of 24 with no slower lookups (boom-4d-n12 6k and boom-4d-n8 tables, paired);

@@ -301,10 +301,16 @@ describe('tessera evaluate', () => {
         two: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '2', '--times'],
         three: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '3'],
         every: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp'],
+        // the index built with its box LPs shared between the threads is the one a single thread builds
+        idx1: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '1', '--index', join(dir, 'many-1.index')],
+        idx2: ['evaluate', tablePath, '--points', manyFile, '--at', '0.5,0.1', '--clamp', '--threads', '2', '--index', join(dir, 'many-2.index')],
       },
       1,
     );
-    for (const k of ['one', 'two', 'three', 'every']) expect(runs[k].status, `${k}: ${runs[k].stderr}`).toBe(0);
+    for (const k of ['one', 'two', 'three', 'every', 'idx1', 'idx2']) expect(runs[k].status, `${k}: ${runs[k].stderr}`).toBe(0);
+    expect(runs.idx1.stdout).toBe(runs.one.stdout);
+    expect(runs.idx2.stdout).toBe(runs.one.stdout);
+    expect(readFileSync(join(dir, 'many-2.index')).equals(readFileSync(join(dir, 'many-1.index')))).toBe(true);
     expect(runs.two.stdout).toBe(runs.one.stdout);
     expect(runs.three.stdout).toBe(runs.one.stdout);
     expect(runs.every.stdout).toBe(runs.one.stdout);

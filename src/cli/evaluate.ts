@@ -74,7 +74,7 @@ export function register(program: Command): void {
     .option('--clamp', "saturate u(0) to the table's input limits (inputLimits)")
     .option('--json', 'print JSON instead of CSV')
     .option('-q, --quiet', 'print the values only: no warnings')
-    .option('--threads <n>', 'threads for the CSV output of --points (default: every core): the data lines split into n consecutive ranges, each parsed, located and formatted by its own thread (the k-d tree built once); the same bytes for every n', positive('--threads', true))
+    .option('--threads <n>', 'threads for the CSV output of --points (default: every core): the data lines split into n consecutive ranges, each located and formatted by its own thread (parsed by the workers while the table is read; the k-d tree built once, its box LPs shared); the same bytes for every n', positive('--threads', true))
     .option('--index <file>', 'keep the point-location index (k-d tree) of the table in FILE.index: read it when it is the index of this table file (its SHA-256), else build it and write it there; a later run then skips the build')
     .option('--times', 'print to stderr where the time went: wall and CPU seconds per stage (start-up, table, points, index, locate, law, format, write) and points per second')
     .action(async (tablePath: string, opts: EvaluateOpts) => {

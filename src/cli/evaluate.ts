@@ -204,10 +204,13 @@ async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: Stag
   let index: BoxIndex | null = null;
   let indexWall = 0;
   let indexCpu = 0;
-  if (opts.index) {
+  // without an index file (CSV, enough points for a tree): a tree for this run only (`oneRun`)
+  const oneRun = !opts.index && !opts.json && flat.count + points.length >= SCAN_BELOW_POINTS && isFullTable(table) && table.regions.length >= 32;
+  if (opts.index || oneRun) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    index = known ? known.index : indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
+    if (opts.index) index = known ? known.index : indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
+    else index = tableLocator(fullTable(table).regions, table.box.lower, table.box.upper, undefined, true);
     indexWall = (performance.now() - w0) / 1000;
     indexCpu = cpuSeconds() - c0;
   }
@@ -321,7 +324,7 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
     const w0 = performance.now();
     const c0 = cpuSeconds();
     if (opts.index) index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
-    else if (boxes && total >= SCAN_BELOW_POINTS) index = tableLocator(fullTable(table).regions, table.box.lower, table.box.upper, boxes);
+    else if (boxes && total >= SCAN_BELOW_POINTS) index = tableLocator(fullTable(table).regions, table.box.lower, table.box.upper, boxes, true);
     times.index += (performance.now() - w0) / 1000;
     times.cpu!.index += cpuSeconds() - c0;
   }

@@ -584,15 +584,18 @@ export const tableBoxPad = (): number => 1e3 * tol.inside;
  * Chebyshev centre), then a k-d tree over them (`BoxIndex`). `locate` returns what `locateScan`
  * returns, with a few regions tested per query.
  */
-export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>, given?: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>): BoxIndex {
+export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[], lower: ArrayLike<number>, upper: ArrayLike<number>, given?: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>, oneRun = false): BoxIndex {
   const pad = tableBoxPad();
   // `given`: these boxes, computed elsewhere the same way (src/table/shared-boxes.ts: threads sharing the LPs)
   const boxes = given ?? regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : regionBoundingBox(r.A, r.b, r.chebyshev?.center ?? null, pad)));
   // the rule of locateScan and of GridLocator.locate: exact containment first (lowest index), else
   // the least residual. Listing budget: up to nθ = 4, 12 listings per region build the tree in a
   // third of the time of 24 with no slower lookups (boom-4d-n12 6k and boom-4d-n8 tables, paired);
-  // in 6-D the lookups were 20 % slower with 12, and there they cost far more than the build
-  return new BoxIndex(regions, boxes, lower, upper, { rule: 'exact-first', listingBudget: lower.length <= 4 ? 12 : 24 });
+  // in 6-D the lookups were 20 % slower with 12, and there they cost far more than the build.
+  // `oneRun`: a tree for the queries of one run, not kept (evaluate without an index file): 8, the
+  // build ~1/3 cheaper for lookups ~as fast on the 6k table (an index file keeps 12: it is read by many
+  // runs). Any budget gives the same answers (every region holding θ is listed in θ's leaf).
+  return new BoxIndex(regions, boxes, lower, upper, { rule: 'exact-first', listingBudget: lower.length <= 4 ? (oneRun ? 8 : 12) : 24 });
 }
 
 interface CachedLocator {

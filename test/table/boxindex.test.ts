@@ -149,6 +149,10 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
     const pts = probePoints(t, 2000, 11);
     check(t, loc, pts, 'exact-first');
     check(t, new BoxIndex(t.regions, boxesOf(t), t.box.lower, t.box.upper, { rule: 'first' }), pts, 'first');
+    // the tree of one evaluate run without an index file (a smaller listing budget): the same answers
+    const oneRun = tableLocator(t.regions, t.box.lower, t.box.upper, undefined, true);
+    expect(oneRun.stats.listings).toBeLessThan(loc.stats.listings);
+    check(t, oneRun, pts, 'exact-first');
     // a query tests at most the regions its leaf lists
     let tests = 0;
     for (const p of pts) tests += loc.candidates(p);

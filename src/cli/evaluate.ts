@@ -298,33 +298,36 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
   // the index will be built (no index file to read): its box LPs shared with the workers, which take
   // blocks of them once their parse is done, this thread at once (the same boxes, see shared-boxes.ts)
   let boxes: ReturnType<typeof jobBoxes> | null = null;
-  let boxWall = 0;
-  let boxCpu = 0;
+  // without an index file, the tree for this run (`oneRun`) is built right after its boxes, before
+  // this thread waits for the points (an index file is written only once the points parsed cleanly)
+  let early: BoxIndex | null = null;
+  let earlyWall = 0;
+  let earlyCpu = 0;
   if (plan.build && !known && isFullTable(table)) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
     const job = boxJob(table.regions, n, tableBoxPad());
-    await csv.shareBoxes(job);
+    csv.shareBoxes(job);
     boxes = jobBoxes(job, table.box.lower, table.box.upper);
-    boxWall = (performance.now() - w0) / 1000;
-    boxCpu = cpuSeconds() - c0;
+    if (!opts.index) early = tableLocator(table.regions, table.box.lower, table.box.upper, boxes, true);
+    earlyWall = (performance.now() - w0) / 1000;
+    earlyCpu = cpuSeconds() - c0;
   }
   const own = await csv.ownParsed();
   if (!own) return giveUp();
   const parsed = await csv.parsed();
   if (!parsed.ok) return giveUp();
   const extra = opts.at ? parseAt(opts.at, n) : [];
-  // the shared box LPs are counted in the index stage, not in the points stage they ran in
-  clock?.lap('points', boxWall, boxCpu);
+  // the shared box LPs and an early tree are counted in the index stage, not in the points stage they ran in
+  clock?.lap('points', earlyWall, earlyCpu);
   const total = own.count + parsed.count + (opts.at ? 1 : 0);
   const clamp = !!opts.clamp;
-  const times: EvaluateTimes = { index: boxWall, locate: 0, law: 0, format: 0, cpu: { index: boxCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
-  let index: BoxIndex | null = null;
-  if (opts.index || boxes) {
+  const times: EvaluateTimes = { index: earlyWall, locate: 0, law: 0, format: 0, cpu: { index: earlyCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
+  let index: BoxIndex | null = total >= SCAN_BELOW_POINTS ? early : null;
+  if (opts.index) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    if (opts.index) index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
-    else if (boxes && total >= SCAN_BELOW_POINTS) index = tableLocator(fullTable(table).regions, table.box.lower, table.box.upper, boxes, true);
+    index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
     times.index += (performance.now() - w0) / 1000;
     times.cpu!.index += cpuSeconds() - c0;
   }

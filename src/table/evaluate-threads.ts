@@ -86,8 +86,6 @@ interface WorkerQueue {
   worker: Worker;
   parsed: Promise<number>;
   parseSeconds: number;
-  /** called when the worker is done with a shared box job (or gone) */
-  boxed: (() => void) | null;
   /** called with range 0's points when this worker parsed them for the main thread (null: gone, or not a clean parse) */
   mainPoints: ((p: RangePoints | null) => void) | null;
   chunks: Uint8Array[];
@@ -124,7 +122,7 @@ export class ThreadedCsv {
     this.ranges = splitLines(text, dataStart, text.length, weights);
     this.queues = pool.workers.slice(0, weights.length - 1).map((worker, w) => {
       const [start, end] = this.ranges[w + 1];
-      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, boxed: null, mainPoints: null, chunks: [], done: false, error: null, wake: null };
+      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, mainPoints: null, chunks: [], done: false, error: null, wake: null };
       let parsedResolve: (count: number) => void = () => {};
       q.parsed = new Promise<number>((resolve) => (parsedResolve = resolve));
       const poke = (): void => {
@@ -132,10 +130,7 @@ export class ThreadedCsv {
         q.wake = null;
         f?.();
       };
-      const boxed = (): void => {
-        const f = q.boxed;
-        q.boxed = null;
-        f?.();
+      const gone = (): void => {
         const g = q.mainPoints;
         q.mainPoints = null;
         g?.(null);
@@ -145,9 +140,7 @@ export class ThreadedCsv {
           q.parseSeconds = m.seconds;
           parsedResolve(m.count);
         } else if (m.type === 'boxed') {
-          const f = q.boxed;
-          q.boxed = null;
-          f?.();
+          // the worker is done with its blocks (jobBoxes does not wait for this)
         } else if (m.type === 'main-points') {
           const g = q.mainPoints;
           q.mainPoints = null;
@@ -162,20 +155,20 @@ export class ThreadedCsv {
         } else {
           q.error = new Error(`evaluate worker: ${m.message}`);
           parsedResolve(-1);
-          boxed();
+          gone();
         }
         poke();
       });
       worker.on('error', (e: Error) => {
         q.error = e;
         parsedResolve(-1);
-        boxed();
+        gone();
         poke();
       });
       worker.on('exit', (code) => {
         if (!q.done && !q.error) q.error = new Error(`evaluate worker ended (exit ${code}) before its points were done`);
         parsedResolve(-1);
-        boxed();
+        gone();
         poke();
       });
       worker.postMessage({ type: 'parse', text, start, end, n } satisfies EvaluateJob);
@@ -208,20 +201,13 @@ export class ThreadedCsv {
   /**
    * Share the table's box LPs (`job`, in shared memory) with the workers: each takes blocks of it once
    * its parse is done (the message waits behind it), this thread takes blocks meanwhile
-   * (`workOnBoxes`). Resolves when every worker is done with the job or gone; `jobBoxes` then computes
-   * whatever block is left.
+   * (`workOnBoxes`) until none is left to hand out. No wait for the workers: `jobBoxes` then computes
+   * here any block a worker took and has not marked written yet (the same values: a worker still
+   * writing it writes the same bits), so a worker still parsing never holds up the index.
    */
-  async shareBoxes(job: BoxJob): Promise<void> {
-    const waits = this.queues.map(
-      (q) =>
-        new Promise<void>((resolve) => {
-          if (q.error) return resolve();
-          q.boxed = resolve;
-          q.worker.postMessage({ type: 'boxes', job } satisfies EvaluateJob);
-        }),
-    );
+  shareBoxes(job: BoxJob): void {
+    for (const q of this.queues) if (!q.error) q.worker.postMessage({ type: 'boxes', job } satisfies EvaluateJob);
     workOnBoxes(job);
-    await Promise.all(waits);
   }
 
   /** Whether every worker's range parsed (each line blank, a comment or n finite numbers); the total count of their points. */

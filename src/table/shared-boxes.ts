@@ -61,9 +61,9 @@ export function boxJob(regions: readonly Pick<CriticalRegion, 'A' | 'b' | 'cheby
   return { n, regions: R, pad, A, b, rowStart, centre, hasCentre, lo: f64(R * n), hi: f64(R * n), next: new Int32Array(new SharedArrayBuffer(4)), done: new Uint8Array(new SharedArrayBuffer(Math.max(blocks, 1)), 0, blocks) };
 }
 
-/** Box of block k's regions (those with rows; a region without rows is left to `jobBoxes`). */
-function boxBlock(job: BoxJob, k: number): void {
-  const { n, A, b, rowStart, centre, hasCentre, lo, hi, pad } = job;
+/** Box of block k's regions into lo/hi (those with rows; a region without rows is left to `jobBoxes`). */
+function boxBlock(job: BoxJob, k: number, lo: Float64Array, hi: Float64Array): void {
+  const { n, A, b, rowStart, centre, hasCentre, pad } = job;
   const end = Math.min(job.regions, (k + 1) * BOX_BLOCK);
   for (let r = k * BOX_BLOCK; r < end; r++) {
     const i0 = rowStart[r];
@@ -71,30 +71,47 @@ function boxBlock(job: BoxJob, k: number): void {
     if (m === 0) continue;
     packedBoundingBox(A.subarray(i0 * n, (i0 + m) * n), b.subarray(i0, i0 + m), m, n, hasCentre[r] ? centre.subarray(r * n, r * n + n) : null, pad, lo.subarray(r * n, r * n + n), hi.subarray(r * n, r * n + n));
   }
-  Atomics.store(job.done, k, 1);
 }
 
-/** Take blocks of the job until none is left (any thread, any number at once); the number of blocks this call computed. */
+/** Take blocks of the job until none is left to hand out (any thread, any number at once), each written to the shared arrays and then marked; the number of blocks this call computed. */
 export function workOnBoxes(job: BoxJob): number {
   const blocks = job.done.length;
   let count = 0;
   for (let k = Atomics.add(job.next, 0, 1); k < blocks; k = Atomics.add(job.next, 0, 1)) {
-    boxBlock(job, k);
+    boxBlock(job, k, job.lo, job.hi);
+    // the block's boxes written, then the mark (an atomic store: a thread that reads the mark reads them)
+    Atomics.store(job.done, k, 1);
     count++;
   }
   return count;
 }
 
 /**
- * The boxes once every block is handed out and the other threads are done with theirs (or gone):
- * blocks not marked written (a thread that ended early) are computed here. In region order, as
- * `tableLocator` takes them: a region without rows gets the parameter box.
+ * The boxes, without waiting for any other thread: the blocks still to hand out are taken here, and a
+ * block another thread took but has not marked written (still on it, or ended) is computed again here
+ * into this thread's own arrays (the same values; the shared ones may be half written). In region
+ * order, as `tableLocator` takes them: a region without rows gets the parameter box.
  */
 export function jobBoxes(job: BoxJob, lower: ArrayLike<number>, upper: ArrayLike<number>): { lo: ArrayLike<number>; hi: ArrayLike<number> }[] {
   workOnBoxes(job);
-  for (let k = 0; k < job.done.length; k++) if (!Atomics.load(job.done, k)) boxBlock(job, k);
   const { n, rowStart } = job;
+  const blocks = job.done.length;
+  const mine = new Uint8Array(blocks);
+  let lo2: Float64Array | null = null;
+  let hi2: Float64Array | null = null;
+  for (let k = 0; k < blocks; k++)
+    if (!Atomics.load(job.done, k)) {
+      lo2 ??= new Float64Array(job.regions * n);
+      hi2 ??= new Float64Array(job.regions * n);
+      boxBlock(job, k, lo2, hi2);
+      mine[k] = 1;
+    }
   const out: { lo: ArrayLike<number>; hi: ArrayLike<number> }[] = [];
-  for (let r = 0; r < job.regions; r++) out.push(rowStart[r + 1] === rowStart[r] ? { lo: lower, hi: upper } : { lo: job.lo.subarray(r * n, r * n + n), hi: job.hi.subarray(r * n, r * n + n) });
+  for (let r = 0; r < job.regions; r++) {
+    const own = mine[Math.floor(r / BOX_BLOCK)] === 1;
+    const lo = own ? lo2! : job.lo;
+    const hi = own ? hi2! : job.hi;
+    out.push(rowStart[r + 1] === rowStart[r] ? { lo: lower, hi: upper } : { lo: lo.subarray(r * n, r * n + n), hi: hi.subarray(r * n, r * n + n) });
+  }
   return out;
 }

@@ -20,14 +20,15 @@ import { workOnBoxes, type BoxJob } from './shared-boxes.js';
 export type EvaluateJob =
   | { type: 'parse'; text: Uint8Array; start: number; end: number; n: number }
   | { type: 'boxes'; job: BoxJob }
-  | { type: 'parse-main'; start: number; end: number }
+  | { type: 'parse-main'; chunks: [number, number][]; claim: Int32Array }
   | { type: 'run'; context: Omit<CsvContext, 'index'> & { index: BoxIndexState }; order: number[] | null; chunkPoints?: number };
 
 /** What a worker sends back: `parsed` (count −1: a line that is not a point), then byte chunks in order, then `done` with its stage seconds. */
 export type EvaluateWorkerMessage =
   | { type: 'parsed'; count: number; seconds: number }
   | { type: 'boxed'; blocks: number }
-  | { type: 'main-points'; points: RangePoints | null }
+  | { type: 'main-chunk'; k: number; points: RangePoints | null }
+  | { type: 'main-done' }
   | { type: 'chunk'; bytes: Uint8Array }
   | { type: 'done'; times: { locate: number; law: number; format: number }; cpu: number }
   | { type: 'error'; message: string };
@@ -50,6 +51,27 @@ export function startEvaluatePool(count: number): EvaluatePool {
 /** End the pool's workers (those not used, or after an error). */
 export function endEvaluatePool(pool: EvaluatePool | null): void {
   if (pool) for (const w of pool.workers) void w.terminate();
+}
+
+/** Chunks of the main thread's range when the first worker parses it too (`ThreadedCsv`, `delegateOwn`). */
+const OWN_CHUNKS = 16;
+
+/** Consecutive ranges' points as one (the arrays joined in order; one range is returned as it is). */
+function joinRangePoints(parts: RangePoints[], n: number): RangePoints {
+  if (parts.length === 1) return parts[0];
+  let count = 0;
+  for (const p of parts) count += p.count;
+  const values = new Float64Array(count * n);
+  const from = new Int32Array(count * n);
+  const to = new Int32Array(count * n);
+  let at = 0;
+  for (const p of parts) {
+    values.set(p.values.subarray(0, p.count * n), at);
+    from.set(p.from.subarray(0, p.count * n), at);
+    to.set(p.to.subarray(0, p.count * n), at);
+    at += p.count * n;
+  }
+  return { count, values, from, to };
 }
 
 /** Fewer bytes of points file than this per thread are not worth a worker (its start-up and warm-up): ~25 000 lines of 4 cells at 7 digits. */
@@ -86,8 +108,8 @@ interface WorkerQueue {
   worker: Worker;
   parsed: Promise<number>;
   parseSeconds: number;
-  /** called with range 0's points when this worker parsed them for the main thread (null: gone, or not a clean parse) */
-  mainPoints: ((p: RangePoints | null) => void) | null;
+  /** called with each chunk of range 0 this worker parsed for the main thread (k, points), and with k = −1 when it is done with them or gone */
+  mainChunk: ((k: number, p: RangePoints | null) => void) | null;
   chunks: Uint8Array[];
   done: boolean;
   error: Error | null;
@@ -122,7 +144,7 @@ export class ThreadedCsv {
     this.ranges = splitLines(text, dataStart, text.length, weights);
     this.queues = pool.workers.slice(0, weights.length - 1).map((worker, w) => {
       const [start, end] = this.ranges[w + 1];
-      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, mainPoints: null, chunks: [], done: false, error: null, wake: null };
+      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, mainChunk: null, chunks: [], done: false, error: null, wake: null };
       let parsedResolve: (count: number) => void = () => {};
       q.parsed = new Promise<number>((resolve) => (parsedResolve = resolve));
       const poke = (): void => {
@@ -131,9 +153,9 @@ export class ThreadedCsv {
         f?.();
       };
       const gone = (): void => {
-        const g = q.mainPoints;
-        q.mainPoints = null;
-        g?.(null);
+        const g = q.mainChunk;
+        q.mainChunk = null;
+        g?.(-1, null);
       };
       worker.on('message', (m: EvaluateWorkerMessage) => {
         if (m.type === 'parsed') {
@@ -141,11 +163,9 @@ export class ThreadedCsv {
           parsedResolve(m.count);
         } else if (m.type === 'boxed') {
           // the worker is done with its blocks (jobBoxes does not wait for this)
-        } else if (m.type === 'main-points') {
-          const g = q.mainPoints;
-          q.mainPoints = null;
-          g?.(m.points);
-        } else if (m.type === 'chunk') q.chunks.push(m.bytes);
+        } else if (m.type === 'main-chunk') q.mainChunk?.(m.k, m.points);
+        else if (m.type === 'main-done') gone();
+        else if (m.type === 'chunk') q.chunks.push(m.bytes);
         else if (m.type === 'done') {
           q.done = true;
           this.workerTimes.locate += m.times.locate;
@@ -174,28 +194,62 @@ export class ThreadedCsv {
       worker.postMessage({ type: 'parse', text, start, end, n } satisfies EvaluateJob);
       return q;
     });
-    // range 0 parsed by the first worker after its own (`ownParsed`): this thread has the table and
-    // the index to make meanwhile
+    // range 0 cut in chunks that the first worker takes after its own range and this thread once it
+    // has the index (`ownParsed`), whichever is free first: this thread reads the table and builds
+    // the index meanwhile, and waits for no parse it could do itself
     if (delegateOwn && this.queues.length > 0) {
+      const [a, b] = this.ranges[0];
+      this.ownChunks = splitLines(text, a, b, Array.from({ length: OWN_CHUNKS }, () => 1));
+      this.claim = new Int32Array(new SharedArrayBuffer(4));
       const q = this.queues[0];
-      this.ownPoints = new Promise<RangePoints | null>((resolve) => (q.mainPoints = resolve));
-      q.worker.postMessage({ type: 'parse-main', start: this.ranges[0][0], end: this.ranges[0][1] } satisfies EvaluateJob);
+      this.chunkResults = new Array<RangePoints | null | undefined>(OWN_CHUNKS).fill(undefined);
+      q.mainChunk = (k, p) => {
+        if (k >= 0) this.chunkResults![k] = p;
+        else this.workerChunksDone = true;
+        const f = this.chunkWake;
+        this.chunkWake = null;
+        f?.();
+      };
+      q.worker.postMessage({ type: 'parse-main', chunks: this.ownChunks, claim: this.claim } satisfies EvaluateJob);
     }
     // workers beyond the ranges are not needed
     for (const w of pool.workers.slice(weights.length - 1)) void w.terminate();
   }
 
-  /** range 0's points as the first worker parsed them (constructed with `delegateOwn`), else null */
-  private ownPoints: Promise<RangePoints | null> | null = null;
+  /** with `delegateOwn`: range 0's chunks, the shared counter that hands them out, the first worker's results (undefined: not yet) */
+  private ownChunks: [number, number][] | null = null;
+  private claim: Int32Array | null = null;
+  private chunkResults: (RangePoints | null | undefined)[] | null = null;
+  private workerChunksDone = false;
+  private chunkWake: (() => void) | null = null;
 
   /**
-   * Range 0's points (file column order): parsed by the first worker when this was constructed with
-   * `delegateOwn` (and that worker parsed it cleanly), else here, now. Null when the range has a line
-   * that is not a point.
+   * Range 0's points (file column order). Constructed with `delegateOwn`: the chunks the first worker
+   * has not taken are parsed here, the others awaited (parsed here after all if that worker is gone
+   * before sending them), then joined in order; else the range parsed here. Null when the range has a
+   * line that is not a point.
    */
   async ownParsed(): Promise<RangePoints | null> {
-    const got = this.ownPoints ? await this.ownPoints : null;
-    return got ?? parsePointsRange(this.text, this.ranges[0][0], this.ranges[0][1], this.n);
+    const chunks = this.ownChunks;
+    if (!chunks) return parsePointsRange(this.text, this.ranges[0][0], this.ranges[0][1], this.n);
+    const got = this.chunkResults!;
+    const mine = new Array<RangePoints | null>(chunks.length).fill(null);
+    const taken = new Uint8Array(chunks.length);
+    for (let k = Atomics.add(this.claim!, 0, 1); k < chunks.length; k = Atomics.add(this.claim!, 0, 1)) {
+      mine[k] = parsePointsRange(this.text, chunks[k][0], chunks[k][1], this.n);
+      taken[k] = 1;
+    }
+    const parts: RangePoints[] = [];
+    for (let k = 0; k < chunks.length; k++) {
+      if (!taken[k]) {
+        while (got[k] === undefined && !this.workerChunksDone) await new Promise<void>((resolve) => (this.chunkWake = resolve));
+        mine[k] = got[k] === undefined ? parsePointsRange(this.text, chunks[k][0], chunks[k][1], this.n) : got[k]!;
+      }
+      const p = mine[k];
+      if (!p) return null;
+      parts.push(p);
+    }
+    return joinRangePoints(parts, this.n);
   }
 
   /**
@@ -269,8 +323,11 @@ export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMess
     return;
   }
   if (job.type === 'parse-main') {
-    const p = parsePointsRange(ownText, job.start, job.end, ownN);
-    send({ type: 'main-points', points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
+    for (let k = Atomics.add(job.claim, 0, 1); k < job.chunks.length; k = Atomics.add(job.claim, 0, 1)) {
+      const p = parsePointsRange(ownText, job.chunks[k][0], job.chunks[k][1], ownN);
+      send({ type: 'main-chunk', k, points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
+    }
+    send({ type: 'main-done' });
     return;
   }
   if (job.type === 'boxes') {

@@ -354,6 +354,8 @@ describe('tessera evaluate', () => {
     for (let k = 0; k < 100_000; k++) good.push([-3.3 + 6.6 * rt(), -0.88 + 1.76 * rt()].join(','));
     const files: Record<string, string> = {
       lateCell: [names.theta.join(','), ...good.slice(0, 90_000), '0.5,abc', ...good.slice(90_000)].join('\n') + '\n',
+      // in the main thread's range (parsed in chunks by the first worker and the main thread)
+      earlyCell: [names.theta.join(','), ...good.slice(0, 20_000), '0.5,abc', ...good.slice(20_000)].join('\n') + '\n',
       header: [`${names.theta[0]},nosuch`, ...good].join('\n') + '\n',
       short: [...good.slice(0, 95_000), '0.25', ...good.slice(95_000)].join('\n') + '\n',
     };
@@ -375,6 +377,7 @@ describe('tessera evaluate', () => {
       expect(oneLine(one.stderr)).toHaveLength(1);
     }
     expect(runs['lateCell-1'].stderr).toContain('line 90002, column 2');
+    expect(runs['earlyCell-1'].stderr).toContain('line 20002, column 2');
     expect(runs['header-1'].stderr).toContain('unknown column "nosuch"');
     expect(runs['short-1'].stderr).toContain('line 95001');
   }, 120000);

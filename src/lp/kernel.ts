@@ -71,13 +71,12 @@ export function lpMaximizeFrom(
       let iBest = -1;
       for (let i = 0; i < m; i++) {
         if (inWork[i] || excluded[i] || rowNorm[i] === 0) continue;
+        // a_i·d first: a_i·x (the same sum, in the same order) only for the rows the step moves towards
         let ad = 0;
-        let ax = 0;
-        for (let j = 0; j < n; j++) {
-          ad += A[i * n + j] * d[j];
-          ax += A[i * n + j] * x[j];
-        }
+        for (let j = 0; j < n; j++) ad += A[i * n + j] * d[j];
         if (ad <= 1e-9 * rowNorm[i] * dn) continue;
+        let ax = 0;
+        for (let j = 0; j < n; j++) ax += A[i * n + j] * x[j];
         const t = Math.max(0, (b[i] - ax) / ad);
         if (iBest < 0 || t < tBest - 1e-15 * (1 + tBest)) {
           tBest = t;

@@ -41,9 +41,13 @@ export function qpWorkspace(problem: MpqpProblem): QpWorkspace {
   return ws;
 }
 
-/** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), made once per problem; the arrays are shared, read only. */
-const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
-export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array } {
+/**
+ * The nonzeros of each row of G (CSR: row i's column indices are idx[ptr[i] .. ptr[i + 1]), their
+ * values G[i·nz + idx[e]] in val[e], contiguous for the row sums), made once per problem; the arrays
+ * are shared, read only.
+ */
+const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array; val: Float64Array }>();
+export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array; val: Float64Array } {
   const hit = gNonzeros.get(problem);
   if (hit) return hit;
   const { G, nc, nz } = problem;
@@ -53,7 +57,10 @@ export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32
     for (let q = 0; q < nz; q++) if (G[i * nz + q] !== 0) cols.push(q);
     ptr[i + 1] = cols.length;
   }
-  const out = { ptr, idx: Int32Array.from(cols) };
+  const idx = Int32Array.from(cols);
+  const val = new Float64Array(idx.length);
+  for (let i = 0; i < nc; i++) for (let e = ptr[i]; e < ptr[i + 1]; e++) val[e] = G[i * nz + idx[e]];
+  const out = { ptr, idx, val };
   gNonzeros.set(problem, out);
   return out;
 }
@@ -104,7 +111,7 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   // (a zero product changes at most the sign of a zero sum), so the same value unless it ends at
   // zero, which is redone over every column; likewise when z is not finite (0·∞ is NaN)
   const { G } = problem;
-  const { ptr, idx } = rowNonzeros(problem);
+  const { ptr, idx, val } = rowNonzeros(problem);
   let zFinite = true;
   const checkZ = (): void => {
     zFinite = true;
@@ -113,7 +120,7 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   const slack = (i: number): number => {
     let s = -rhs[i];
     if (zFinite) {
-      for (let e = ptr[i]; e < ptr[i + 1]; e++) s += G[i * nz + idx[e]] * z[idx[e]];
+      for (let e = ptr[i], e1 = ptr[i + 1]; e < e1; e++) s += val[e] * z[idx[e]];
       if (s !== 0) return s;
       s = -rhs[i];
     }

@@ -202,7 +202,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     return true;
   };
   const { G, E, w } = problem;
-  const { ptr, idx } = rowNonzeros(problem);
+  const { ptr, idx, val } = rowNonzeros(problem);
   // the sums run over G_i's nonzeros in column order: the same partial sums as over every column,
   // since adding a zero product changes nothing but, at most, the sign of a zero sum; a sum that
   // ends at zero is redone over every column, so the rows keep their bits (zero signs included)
@@ -222,18 +222,42 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
       let s1 = -E[i * 2 + 1];
       for (let p = p0; p < p1; p++) {
         const q = idx[p];
-        const g = G[i * nz + q];
+        const g = val[p];
         s0 += g * Zth[q * 2];
         s1 += g * Zth[q * 2 + 1];
         c += g * zc[q];
       }
       Af[o] = s0;
       Af[o + 1] = s1;
+    } else if (nt === 4 || nt === 5) {
+      // the same sums in locals (4-D and 5-D)
+      const e = i * nt;
+      let s0 = -E[e];
+      let s1 = -E[e + 1];
+      let s2 = -E[e + 2];
+      let s3 = -E[e + 3];
+      let s4 = nt === 5 ? -E[e + 4] : 0;
+      for (let p = p0; p < p1; p++) {
+        const q = idx[p];
+        const g = val[p];
+        const z = q * nt;
+        s0 += g * Zth[z];
+        s1 += g * Zth[z + 1];
+        s2 += g * Zth[z + 2];
+        s3 += g * Zth[z + 3];
+        if (nt === 5) s4 += g * Zth[z + 4];
+        c += g * zc[q];
+      }
+      Af[o] = s0;
+      Af[o + 1] = s1;
+      Af[o + 2] = s2;
+      Af[o + 3] = s3;
+      if (nt === 5) Af[o + 4] = s4;
     } else {
       for (let j = 0; j < nt; j++) Af[o + j] = -E[i * nt + j];
       for (let p = p0; p < p1; p++) {
         const q = idx[p];
-        const g = G[i * nz + q];
+        const g = val[p];
         for (let j = 0; j < nt; j++) Af[o + j] += g * Zth[q * nt + j];
         c += g * zc[q];
       }

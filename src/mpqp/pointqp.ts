@@ -1,5 +1,5 @@
 import type { MpqpProblem } from './types.js';
-import { spdInverse, matMul, transpose, choleskyInPlace, choleskySolveInPlace } from '../linalg/dense.js';
+import { spdInverse, matMul, transpose, choleskyInPlace, choleskySolveInPlace, choleskyOfBlock, choleskySolveStrided } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 
 /**
@@ -105,7 +105,16 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   const maxIter = 10 * (nc + nz) + 20;
   const dlam = new Float64Array(nz + 1);
   const dz = new Float64Array(nz);
-  const chol = new Float64Array((nz + 1) * (nz + 1));
+  // the factor of M_AA, row stride nz + 1, kept across steps: a step appends row p or drops one, so
+  // the rows above the first change are the same bits and only the rows from there are formed
+  const stride = nz + 1;
+  if (factorScratch.l.length < stride * stride) {
+    factorScratch.l = new Float64Array(stride * stride);
+    factorScratch.piv = new Float64Array(stride);
+  }
+  const chol = factorScratch.l;
+  const piv = factorScratch.piv;
+  let valid = 0;
   let it = 0;
   // G_i z − rhs_i over G_i's nonzeros, in column order: the same partial sums as over every column
   // (a zero product changes at most the sign of a zero sum), so the same value unless it ends at
@@ -148,11 +157,12 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
       if (++guard > maxIter) return { feasible: false, z, activeSet: [], lambda, iterations: it };
       const k = active.length;
       // dλ solves M_AA dλ = −M_Ap
-      for (let a = 0; a < k; a++) {
-        for (let b = 0; b < k; b++) chol[a * k + b] = M[active[a] * nc + active[b]];
-        dlam[a] = -M[active[a] * nc + p];
+      for (let a = 0; a < k; a++) dlam[a] = -M[active[a] * nc + p];
+      if (k > 0) {
+        if (!choleskyOfBlock(M, nc, active, k, chol, stride, piv, valid, tol.rank)) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+        valid = k;
+        choleskySolveStrided(chol, stride, k, dlam);
       }
-      if (k > 0 && !factorSolve(chol, k, dlam)) return { feasible: false, z, activeSet: [], lambda, iterations: it };
       // q = M_pp + M_pA dλ = −G_p dz (≥ 0)
       let q = M[p * nc + p];
       for (let a = 0; a < k; a++) q += M[p * nc + active[a]] * dlam[a];
@@ -192,10 +202,14 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
       lambda[r] = 0;
       isActive[r] = 0;
       active.splice(drop, 1);
+      if (valid > drop) valid = drop;
     }
   }
   return { feasible: false, z, activeSet: [], lambda, iterations: it };
 }
+
+/** solvePointQp's factor of M_AA and its pivots (one per thread, grown on demand; nothing outlives a call) */
+const factorScratch = { l: new Float64Array(0), piv: new Float64Array(0) };
 
 /**
  * Warm start of the dual method from a working set W (a neighbour's active set): the pair

@@ -113,22 +113,33 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     if (!inv) return { ok: false, reason: 'licq' };
     // each entry one sum over b in ascending order; the sums of a row's θ columns and of its
     // constant run side by side (independent chains, the same bits as one at a time)
+    // (the constant's sum rides along with the last θ column or pair: one pass less over the row)
     for (let a = 0; a < k; a++) {
       const ra = a * k;
+      let sc = 0;
       let j = 0;
       for (; j + 1 < nt; j += 2) {
         let s0 = 0;
         let s1 = 0;
-        for (let b = 0; b < k; b++) {
-          const v = inv[ra + b];
-          const o = activeSet[b] * nt + j;
-          s0 -= v * S[o];
-          s1 -= v * S[o + 1];
-        }
+        if (j + 2 === nt)
+          for (let b = 0; b < k; b++) {
+            const v = inv[ra + b];
+            const ab = activeSet[b];
+            const o = ab * nt + j;
+            s0 -= v * S[o];
+            s1 -= v * S[o + 1];
+            sc -= v * wc[ab];
+          }
+        else
+          for (let b = 0; b < k; b++) {
+            const v = inv[ra + b];
+            const o = activeSet[b] * nt + j;
+            s0 -= v * S[o];
+            s1 -= v * S[o + 1];
+          }
         Lth[a * nt + j] = s0;
         Lth[a * nt + j + 1] = s1;
       }
-      let sc = 0;
       if (j < nt) {
         let s0 = 0;
         for (let b = 0; b < k; b++) {
@@ -137,7 +148,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
           sc -= v * wc[activeSet[b]];
         }
         Lth[a * nt + j] = s0;
-      } else for (let b = 0; b < k; b++) sc -= inv[ra + b] * wc[activeSet[b]];
+      } else if (nt === 0) for (let b = 0; b < k; b++) sc -= inv[ra + b] * wc[activeSet[b]];
       lc[a] = sc;
     }
   }
@@ -146,19 +157,27 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const zc = bw.zc;
   for (let i = 0; i < nz; i++) {
     const ri = i * nc;
+    let sc = -Hinvc[i];
     let j = 0;
     for (; j + 1 < nt; j += 2) {
       let s0 = -HinvF[i * nt + j];
       let s1 = -HinvF[i * nt + j + 1];
-      for (let a = 0; a < k; a++) {
-        const v = K[ri + activeSet[a]];
-        s0 -= v * Lth[a * nt + j];
-        s1 -= v * Lth[a * nt + j + 1];
-      }
+      if (j + 2 === nt)
+        for (let a = 0; a < k; a++) {
+          const v = K[ri + activeSet[a]];
+          s0 -= v * Lth[a * nt + j];
+          s1 -= v * Lth[a * nt + j + 1];
+          sc -= v * lc[a];
+        }
+      else
+        for (let a = 0; a < k; a++) {
+          const v = K[ri + activeSet[a]];
+          s0 -= v * Lth[a * nt + j];
+          s1 -= v * Lth[a * nt + j + 1];
+        }
       Zth[i * nt + j] = s0;
       Zth[i * nt + j + 1] = s1;
     }
-    let sc = -Hinvc[i];
     if (j < nt) {
       let s0 = -HinvF[i * nt + j];
       for (let a = 0; a < k; a++) {
@@ -167,7 +186,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
         sc -= v * lc[a];
       }
       Zth[i * nt + j] = s0;
-    } else for (let a = 0; a < k; a++) sc -= K[ri + activeSet[a]] * lc[a];
+    } else if (nt === 0) for (let a = 0; a < k; a++) sc -= K[ri + activeSet[a]] * lc[a];
     zc[i] = sc;
   }
   // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
@@ -331,7 +350,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     A,
     b,
     facets,
-    chebyshev: { center: Array.from(ball.center), radius: ball.radius },
+    chebyshev: { center: plainCopy(ball.center, nt), radius: ball.radius },
     law: { F: movesF.slice(0, lawSize), g: movesG.slice(0, lawSize) },
   };
   if (!lean) {
@@ -342,6 +361,13 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
 }
 
 const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
+
+/** The first n entries of a typed array as a plain array (Array.from goes through the iterator). */
+function plainCopy(a: Float64Array, n: number): number[] {
+  const out: number[] = [];
+  for (let j = 0; j < n; j++) out.push(a[j]);
+  return out;
+}
 
 /** The vertex pass's list (its reused set: copied here) with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
 function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVertices {

@@ -1,5 +1,5 @@
 import type { MpqpProblem } from './types.js';
-import { spdInverse, matMul, transpose, choleskyInPlace, choleskySolveInPlace, choleskyOfBlock, choleskySolveStrided } from '../linalg/dense.js';
+import { spdInverse, matMul, transpose, choleskyOfBlock, choleskySolveStrided } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 
 /**
@@ -136,7 +136,10 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
     for (let j = 0; j < nz; j++) s += G[i * nz + j] * z[j];
     return s;
   };
-  if (start && start.length > 0) warmStart(ws, start, rhs, z, lambda, active, isActive);
+  if (start && start.length > 0) {
+    checkZ();
+    valid = warmStart(ws, start, slack, z, lambda, active, isActive, chol, piv, stride);
+  }
   for (; it < maxIter; it++) {
     checkZ();
     // most violated row
@@ -218,27 +221,30 @@ const factorScratch = { l: new Float64Array(0), piv: new Float64Array(0) };
  * singular is not used (cold start). From there the usual iterations add violated rows, so the
  * result is the same optimum as from a cold start, in a few steps when θ is near W's region.
  */
-function warmStart(ws: QpWorkspace, start: readonly number[], rhs: Float64Array, z: Float64Array, lambda: Float64Array, active: number[], isActive: Uint8Array): void {
+function warmStart(ws: QpWorkspace, start: readonly number[], slack: (i: number) => number, z: Float64Array, lambda: Float64Array, active: number[], isActive: Uint8Array, chol: Float64Array, piv: Float64Array, stride: number): number {
   const { nz, nc } = ws.problem;
   const { K, M } = ws;
   const W = [...start];
+  // M_WW λ = −(rhs_W − G_W z0), z0 = −H⁻¹Fθ the unconstrained minimiser already in z: each row's
+  // right-hand side (its slack at z0) formed once, since z0 does not change here
+  const r0: number[] = [];
+  for (let a = 0; a < W.length; a++) r0.push(slack(W[a]));
+  const lam = new Float64Array(W.length);
+  // the factor of M_WW (solvePointQp's, row stride `stride`): a drop keeps the rows above it
+  let valid = 0;
   for (;;) {
     const k = W.length;
-    if (k === 0) return;
-    const chol = new Float64Array(k * k);
-    const lam = new Float64Array(k);
-    for (let a = 0; a < k; a++) {
-      for (let b = 0; b < k; b++) chol[a * k + b] = M[W[a] * nc + W[b]];
-      // M_WW λ = −(rhs_W − G_W z0), z0 = −H⁻¹Fθ the unconstrained minimiser already in z
-      let s = -rhs[W[a]];
-      for (let j = 0; j < nz; j++) s += ws.problem.G[W[a] * nz + j] * z[j];
-      lam[a] = s;
-    }
-    if (!factorSolve(chol, k, lam)) return;
+    if (k === 0) return 0;
+    for (let a = 0; a < k; a++) lam[a] = r0[a];
+    if (!choleskyOfBlock(M, nc, W, k, chol, stride, piv, valid, tol.rank)) return 0;
+    valid = k;
+    choleskySolveStrided(chol, stride, k, lam);
     let worst = -1;
     for (let a = 0; a < k; a++) if (lam[a] < 0 && (worst < 0 || lam[a] < lam[worst])) worst = a;
     if (worst >= 0) {
       W.splice(worst, 1);
+      r0.splice(worst, 1);
+      if (valid > worst) valid = worst;
       continue;
     }
     for (let i = 0; i < nz; i++) {
@@ -251,17 +257,11 @@ function warmStart(ws: QpWorkspace, start: readonly number[], rhs: Float64Array,
       active.push(W[a]);
       isActive[W[a]] = 1;
     }
-    return;
+    // the working set is W in this order: the factor's rows are the main loop's first M_AA's
+    return k;
   }
 }
 
 export function isFeasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): boolean {
   return solvePointQp(problem, theta).feasible;
-}
-
-/** Cholesky factor-and-solve of a k×k SPD block in place; false when it is singular (LICQ lost). */
-function factorSolve(a: Float64Array, k: number, b: Float64Array): boolean {
-  if (!choleskyInPlace(a, k, tol.rank)) return false;
-  choleskySolveInPlace(a, k, b);
-  return true;
 }

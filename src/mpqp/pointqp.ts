@@ -93,7 +93,18 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
     z[i] = s;
   }
   // rhs_i = w_i + E_i θ
-  const rhs = new Float64Array(nc);
+  // rhs, isActive, dλ, dz: per-thread scratch (every entry read is written first; none is returned)
+  if (qpScratch.rhs.length < nc) {
+    qpScratch.rhs = new Float64Array(2 * nc);
+    qpScratch.isActive = new Uint8Array(2 * nc);
+  }
+  const kMax = Math.max(nz + 1, start ? start.length : 0);
+  if (qpScratch.dz.length < kMax) {
+    qpScratch.dz = new Float64Array(2 * kMax);
+    qpScratch.dlam = new Float64Array(2 * kMax);
+    qpScratch.lam = new Float64Array(2 * kMax);
+  }
+  const rhs = qpScratch.rhs;
   for (let i = 0; i < nc; i++) {
     let s = problem.w[i];
     for (let j = 0; j < nt; j++) s += problem.E[i * nt + j] * theta[j];
@@ -101,13 +112,14 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   }
   const lambda = new Float64Array(nc);
   const active: number[] = [];
-  const isActive = new Uint8Array(nc);
+  const isActive = qpScratch.isActive;
+  isActive.fill(0, 0, nc);
   const maxIter = 10 * (nc + nz) + 20;
-  const dlam = new Float64Array(nz + 1);
-  const dz = new Float64Array(nz);
-  // the factor of M_AA, row stride nz + 1, kept across steps: a step appends row p or drops one, so
+  const dlam = qpScratch.dlam;
+  const dz = qpScratch.dz;
+  // the factor of M_AA, row stride nz + 1 (or the start set's size), kept across steps: a step appends row p or drops one, so
   // the rows above the first change are the same bits and only the rows from there are formed
-  const stride = nz + 1;
+  const stride = Math.max(nz + 1, start ? start.length : 0);
   if (factorScratch.l.length < stride * stride) {
     factorScratch.l = new Float64Array(stride * stride);
     factorScratch.piv = new Float64Array(stride);
@@ -211,6 +223,9 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   return { feasible: false, z, activeSet: [], lambda, iterations: it };
 }
 
+/** solvePointQp's work arrays that it does not return (one set per thread, grown on demand; nothing outlives a call) */
+const qpScratch = { rhs: new Float64Array(0), isActive: new Uint8Array(0), dlam: new Float64Array(0), dz: new Float64Array(0), lam: new Float64Array(0) };
+
 /** solvePointQp's factor of M_AA and its pivots (one per thread, grown on demand; nothing outlives a call) */
 const factorScratch = { l: new Float64Array(0), piv: new Float64Array(0) };
 
@@ -229,7 +244,7 @@ function warmStart(ws: QpWorkspace, start: readonly number[], slack: (i: number)
   // right-hand side (its slack at z0) formed once, since z0 does not change here
   const r0: number[] = [];
   for (let a = 0; a < W.length; a++) r0.push(slack(W[a]));
-  const lam = new Float64Array(W.length);
+  const lam = qpScratch.lam; // sized for the start set by solvePointQp
   // the factor of M_WW (solvePointQp's, row stride `stride`): a drop keeps the rows above it
   let valid = 0;
   for (;;) {

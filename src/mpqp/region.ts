@@ -5,6 +5,7 @@ import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.j
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
+import { Arena } from '../util/arena.js';
 
 /**
  * buildRegion's work arrays, grown on demand (one set per thread): every entry read is written in
@@ -50,8 +51,32 @@ function buildScratch(nc: number, nz: number, nt: number, k: number, mMax: numbe
   }
   return bws;
 }
+/** farkasBound's scratch for facetRowsByLp, made for nθ = pfScratchN (one per thread) */
+let pfScratch: ReturnType<typeof prefilterScratch> | null = null;
+let pfScratchN = -1;
 /** the Gram matrix of a region's rows (facetRowsByLp; one per thread) */
 let gramScratch = new Float64Array(0);
+/**
+ * Per-row work arrays of facetRowsByLp and facetRows2d (one set per thread, grown on demand): read
+ * within one buildRegion call only (`alive` is returned to it and used before it returns), and every
+ * entry read is written in the same call first. A typed array of more than 64 bytes with a buffer of
+ * its own costs ~0.4 µs to make (arena.ts); these were most of a 5-D region's.
+ */
+const rowWork = { n: 0, alive: new Uint8Array(0), sure: new Uint8Array(0), skip: new Uint8Array(0), cut: new Uint8Array(0), slack: new Float64Array(0), rates: new Float64Array(0), at: new Int32Array(0) };
+function rowScratch(m: number): typeof rowWork {
+  if (rowWork.n < m) {
+    const n = 2 * m;
+    rowWork.n = n;
+    rowWork.alive = new Uint8Array(n);
+    rowWork.sure = new Uint8Array(n);
+    rowWork.skip = new Uint8Array(n);
+    rowWork.cut = new Uint8Array(n);
+    rowWork.slack = new Float64Array(n);
+    rowWork.rates = new Float64Array(n);
+    rowWork.at = new Int32Array(n);
+  }
+  return rowWork;
+}
 /** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
 const invScratch = spdScratch();
 
@@ -369,9 +394,16 @@ function plainCopy(a: Float64Array, n: number): number[] {
   return out;
 }
 
+/**
+ * The regions' vertex lists (`regionVertices`): views of shared 64 kB blocks (arena.ts), one per
+ * thread. A list is dropped once its region's facets are covered, and regions are covered in about
+ * the order they are found, so a block is freed soon after the regions that used it are done.
+ */
+const vertsArena = new Arena(1 << 16);
+
 /** The vertex pass's list (its reused set: copied here) with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
 function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVertices {
-  const at = new Int32Array(m);
+  const at = rowScratch(m).at;
   let n = 0;
   for (let r = 0; r < m; r++) at[r] = alive[r] ? n++ : -1;
   const cnt = V.count;
@@ -379,14 +411,16 @@ function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVerti
   const T = V.t;
   let len = 0;
   for (let i = 0; i < TO[cnt]; i++) if (at[T[i]] >= 0) len++;
-  const t = new Int32Array(len);
-  const tOff = new Int32Array(cnt + 1);
+  const t = vertsArena.i32(len);
+  const tOff = vertsArena.i32(cnt + 1);
   len = 0;
   for (let v = 0; v < cnt; v++) {
     for (let i = TO[v]; i < TO[v + 1]; i++) if (at[T[i]] >= 0) t[len++] = at[T[i]];
     tOff[v + 1] = len;
   }
-  return { count: cnt, x: V.x.slice(0, cnt * V.n), tOff, t };
+  const x = vertsArena.f64(cnt * V.n);
+  for (let q = 0; q < cnt * V.n; q++) x[q] = V.x[q];
+  return { count: cnt, x, tOff, t };
 }
 
 /** H·Z of valueFunction (one per thread) */
@@ -494,17 +528,20 @@ function markFirstHit(rates: Float64Array, off: number, slack: Float64Array, m: 
  *    kept are those the LPs alone keep (the `lp: 'reference'` path runs without them).
  */
 function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } {
-  const alive = new Uint8Array(m).fill(1);
-  const sure = new Uint8Array(m);
+  const rw = rowScratch(m);
+  const alive = rw.alive;
+  alive.fill(1, 0, m);
+  const sure = rw.sure;
+  sure.fill(0, 0, m);
   const proofs = !lp.reference && lp.proofs !== false;
-  const slack = new Float64Array(m);
+  const slack = rw.slack;
   for (let q = 0; q < m; q++) {
     let s = bf[q];
     for (let j = 0; j < nt; j++) s -= Af[q * nt + j] * center[j];
     slack[q] = s;
   }
   const dir = new Float64Array(nt);
-  const rates = new Float64Array(m);
+  const rates = rw.rates;
   const shoot = (): void => {
     for (let q = 0; q < m; q++) {
       let ad = 0;
@@ -569,15 +606,23 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // box side ends exact, with one LP per side plus one per facet found this way.
   const bbLo = Float64Array.from(lo);
   const bbHi = Float64Array.from(up);
-  const scratch = prefilterScratch(nt);
+  if (pfScratchN !== nt) {
+    pfScratch = prefilterScratch(nt);
+    pfScratchN = nt;
+  }
+  const scratch = pfScratch!;
   const c = new Float64Array(nt);
   // LP-free pass over the vertices of the sure rows (vertices.ts): facets found by rays aimed at
   // vertices that break a row, redundant rows and box sides proved by weak duality at a vertex
   const sideKnown = new Uint8Array(2 * nt);
   const V = useVertices ? vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy) : null;
   // the rows V was cut by (sure now, box sides aside): V is the region's vertex list when the rows kept at the end are among them
-  const cut = V ? sure.slice(0, m - 2 * nt) : null;
-  const skip = new Uint8Array(m);
+  let cut: Uint8Array | null = null;
+  if (V) {
+    cut = rw.cut;
+    for (let q = 0; q < m - 2 * nt; q++) cut[q] = sure[q];
+  }
+  const skip = rw.skip;
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
   // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)
   const bases: { W: Int32Array; x: Float64Array }[] = [];
@@ -795,7 +840,8 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
     k = n;
     if (k < 3) return null;
   }
-  const alive = new Uint8Array(m);
+  const alive = rowScratch(m).alive;
+  alive.fill(0, 0, m);
   for (let i = 0; i < k; i++) {
     const j = i + 1 === k ? 0 : i + 1;
     if (Math.hypot(px[j] - px[i], py[j] - py[i]) > tol.radius && pe[i] >= 0) alive[pe[i]] = 1;

@@ -471,6 +471,8 @@ export function vertexBound(
 
 /** vertexBound's copy of a vertex's n tight rows (read by `bound` within the call only; one per thread) */
 let boundScratch = new Int32Array(8);
+/** vertexPass's rows left to their LP (one per thread) */
+let toLpScratch = new Uint8Array(64);
 
 /** Highest dimension where the vertex pass is tried (2ⁿ box corners to start from). */
 export const maxVertexDim = 8;
@@ -530,7 +532,9 @@ export function vertexPass(
   const V = boxVertices(n, lo, up, boxRow, passSet);
   const eps = 1e-10;
   for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return null;
-  const toLp = new Uint8Array(m);
+  if (toLpScratch.length < m) toLpScratch = new Uint8Array(2 * m);
+  const toLp = toLpScratch; // read within this call only
+  toLp.fill(0, 0, m);
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
   const vHi = new Float64Array(n);

@@ -176,16 +176,15 @@ export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: nu
   const n1 = n + 1;
   if (scratch.cheb.length < (m + 1) * n1) scratch.cheb = new Float64Array(Math.max((m + 1) * n1, 2 * scratch.cheb.length));
   if (scratch.chebB.length < m + 1) scratch.chebB = new Float64Array(Math.max(m + 1, 2 * scratch.chebB.length));
-  if (scratch.chebX.length < n1) {
-    scratch.chebX = new Float64Array(2 * n1);
-    scratch.chebC = new Float64Array(2 * n1);
-  }
-  // the lifted LP lives in the kernel's scratch: views of exactly its size (lpMaximizeFrom copies x0)
-  const A1 = scratch.cheb.subarray(0, (m + 1) * n1);
-  const b1 = scratch.chebB.subarray(0, m + 1);
-  const x0 = scratch.chebX.subarray(0, n1);
-  A1.fill(0);
-  x0.set(start.subarray(0, n));
+  if (scratch.chebC.length < n1) scratch.chebC = new Float64Array(2 * n1);
+  // the lifted LP lives in the kernel's scratch (lpMaximizeFrom reads its first m + 1 rows and n + 1
+  // columns only, and copies x0, which is made of exactly n + 1 entries)
+  const A1 = scratch.cheb;
+  const b1 = scratch.chebB;
+  A1.fill(0, 0, (m + 1) * n1);
+  if (scratch.chebX.length !== n1) scratch.chebX = new Float64Array(n1);
+  const x0 = scratch.chebX;
+  for (let j = 0; j < n; j++) x0[j] = start[j];
   let rMin = rCap;
   for (let i = 0; i < m; i++) {
     let rowN = 0;
@@ -204,8 +203,8 @@ export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: nu
   A1[m * n1 + n] = 1;
   b1[m] = rCap;
   x0[n] = rMin - Math.abs(rMin) * 1e-12 - 1e-300;
-  const c1 = scratch.chebC.subarray(0, n1);
-  c1.fill(0);
+  const c1 = scratch.chebC;
+  c1.fill(0, 0, n1);
   c1[n] = 1;
   const r = lpMaximizeFrom(c1, A1, b1, m + 1, n1, x0);
   return { center: r.x.slice(0, n), radius: r.status === 'optimal' ? r.x[n] : -Infinity };

@@ -165,7 +165,7 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
         p = i;
       }
     }
-    if (p < 0) return { feasible: true, z, activeSet: [...active].sort((a, b) => a - b), lambda, iterations: it };
+    if (p < 0) return { feasible: true, z, activeSet: sortRows(active.slice()), lambda, iterations: it };
     // inner loop: bring row p to equality
     let guard = 0;
     for (;;) {
@@ -275,6 +275,24 @@ function warmStart(ws: QpWorkspace, start: readonly number[], slack: (i: number)
     // the working set is W in this order: the factor's rows are the main loop's first M_AA's
     return k;
   }
+}
+
+/**
+ * Sort an array of row indices ascending in place and return it (insertion sort: the lists are short
+ * and mostly sorted, and no comparator is called; numbers in ascending order are one sequence
+ * whatever the algorithm, so the result is that of `sort((x, y) => x − y)`).
+ */
+export function sortRows(a: number[]): number[] {
+  for (let i = 1; i < a.length; i++) {
+    const v = a[i];
+    let j = i - 1;
+    while (j >= 0 && a[j] > v) {
+      a[j + 1] = a[j];
+      j--;
+    }
+    a[j + 1] = v;
+  }
+  return a;
 }
 
 export function isFeasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): boolean {

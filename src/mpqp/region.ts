@@ -1,5 +1,5 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
-import { qpWorkspace, rowNonzeros } from './pointqp.js';
+import { qpWorkspace, rowNonzeros, sortRows } from './pointqp.js';
 import { spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
@@ -371,7 +371,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const movesG = new Array<number>(rowsOut);
   for (let i = 0; i < rowsOut; i++) movesG[i] = zc[i];
   const region: Omit<CriticalRegion, 'id'> = {
-    activeSet: [...activeSet].sort((x, y) => x - y),
+    activeSet: sortRows(activeSet.slice()),
     A,
     b,
     facets,

@@ -1,5 +1,5 @@
 import { sumCauses, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
-import { solvePointQp } from './pointqp.js';
+import { solvePointQp, sortRows } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine, type RegionVertices } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
@@ -568,7 +568,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }, strict: boolean): { id: number; slice: Slice } | 'infeasible' | 'noRegion' | 'noSlice' {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
-    const guess = fi.kind === 'primal' ? [...R.activeSet, fi.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== fi.row);
+    const guess = fi.kind === 'primal' ? sortRows([...R.activeSet, fi.row]) : R.activeSet.filter((i) => i !== fi.row);
     const hints = [...fi.neighbours, ...adjacent[R.id]];
     // the dual method warm-started from R's working set (minus the row across a dual facet) adds the row itself
     const warm = fi.kind === 'primal' ? R.activeSet : guess;

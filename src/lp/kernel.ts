@@ -35,7 +35,7 @@ export function lpMaximizeFrom(
   skip?: Uint8Array,
 ): LpResult {
   lpCounter.calls++;
-  const x = Float64Array.from(x0);
+  const x = x0.slice();
   grow(m, n);
   const work = scratch.work; // working rows, linearly independent: work[0..k)
   let k = 0;

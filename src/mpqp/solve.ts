@@ -568,21 +568,31 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }, strict: boolean): { id: number; slice: Slice } | 'infeasible' | 'noRegion' | 'noSlice' {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
-    const guess = fi.kind === 'primal' ? sortRows([...R.activeSet, fi.row]) : R.activeSet.filter((i) => i !== fi.row);
+    // the guess across a primal facet is made only when a step tries it (most landings hit a known region first)
+    let primalGuess: number[] | null = null;
+    const guessAcross = (): number[] => {
+      if (primalGuess === null) {
+        primalGuess = R.activeSet.slice();
+        primalGuess.push(fi.row);
+        sortRows(primalGuess);
+      }
+      return primalGuess;
+    };
+    const dualGuess = fi.kind === 'primal' ? null : R.activeSet.filter((i) => i !== fi.row);
     const hints = [...fi.neighbours, ...adjacent[R.id]];
     // the dual method warm-started from R's working set (minus the row across a dual facet) adds the row itself
-    const warm = fi.kind === 'primal' ? R.activeSet : guess;
+    const warm = dualGuess ?? R.activeSet;
     let sawFeasible = false;
     let sawRegion = false;
     /** the points whose steps reached feasible parameters: tried again with longer steps */
     const again: Float64Array[] = [];
     /** the region at θ = lift(y) + h·a when its slice holds y; 'infeasible' (−1), or null */
     const at = (y: Float64Array, base: Float64Array, h: number, useGuess: boolean, slack = strict ? tol.inside : 1e3 * tol.inside): { id: number; slice: Slice } | 'infeasible' | 'out' | null => {
-      const theta = Float64Array.from(base);
+      const theta = base.slice();
       for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
       if (!inBox(theta)) return 'out';
       // strict: the point QP from cold (a warm start on an ill-conditioned working set can stop short)
-      const id = regionAt(theta, hints, useGuess ? guess : undefined, strict ? undefined : warm);
+      const id = regionAt(theta, hints, useGuess ? (dualGuess ?? guessAcross()) : undefined, strict ? undefined : warm);
       // no region from a feasible point QP: near the edge of the feasible set the dual method can
       // report a nearly dependent working set (multipliers ~1e16) as feasible; a phase-1 LP decides
       if (id === -1 || (id === -2 && !feasibleByLp(theta))) return 'infeasible';
@@ -593,7 +603,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       return slice && containsY(slice, y, slack) ? { id, slice } : null;
     };
     for (let attempt = 0; attempt < 6; attempt++) {
-      const y = Float64Array.from(piece.point);
+      const y = piece.point.slice();
       // nudge inside the piece: a structured point may sit exactly where regions meet
       if (attempt > 0) for (let j = 0; j < y.length; j++) y[j] += (rand() - 0.5) * 0.5 * piece.radius;
       const base = facet.lift(y);

@@ -99,8 +99,11 @@ export function lpMaximizeFrom(
       }
     }
     if (leave < 0) {
-      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal)
-        return { status: 'optimal', x, value: dot(c, x, n), iterations: it, working: Array.from(work.subarray(0, k)) };
+      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal) {
+        const working: number[] = [];
+        for (let p = 0; p < k; p++) working.push(work[p]);
+        return { status: 'optimal', x, value: dot(c, x, n), iterations: it, working };
+      }
       break; // round-off drove the iterate out of the polytope: let the reference decide
     }
     inWork[work[leave]] = 0;

@@ -6,7 +6,7 @@
  *
  * With smaller blocks (`block` bytes) an arena also serves short-lived arrays made by the thousand
  * (a facet's slices and vertex pieces): a typed array of more than 64 bytes with a buffer of its own
- * is allocated outside the heap and tracked by the collector, ~400–550 ns each on Node 20 against
+ * is allocated outside the heap and tracked by the collector, ~200–700 ns each on Node 20 against
  * ~30 ns for a view (microbenchmark, 2026-12-04); a block is collected once no view of it is alive.
  */
 export class Arena {

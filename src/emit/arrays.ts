@@ -234,8 +234,8 @@ export function centredLaw(precision: Precision): boolean {
  * holds: real arrays already rounded to `precision`, index arrays, region bounds widened by the
  * precision's slack. θ and u in the table's units. Returns new arrays owned by the caller.
  * With `clamp`, u is saturated to the table's input limits as the generated code does.
- * `orderPoints` overrides the number of points that order the candidates (orderCandidates; the
- * cost model's trial builds pass ORDER_POINTS_MIN, a build that is printed keeps the default).
+ * `orderPoints` overrides the number of points that order the candidates (orderCandidates; broad's
+ * trial builds pass fewer, a build that is printed keeps the default).
  */
 export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null, clamp = false, orderPoints?: number): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;

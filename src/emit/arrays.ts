@@ -234,8 +234,10 @@ export function centredLaw(precision: Precision): boolean {
  * holds: real arrays already rounded to `precision`, index arrays, region bounds widened by the
  * precision's slack. θ and u in the table's units. Returns new arrays owned by the caller.
  * With `clamp`, u is saturated to the table's input limits as the generated code does.
+ * `orderPoints` overrides the number of points that order the candidates (orderCandidates; broad's
+ * trial builds pass fewer, a build that is printed keeps the default).
  */
-export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null, clamp = false): EmitArrays {
+export function buildArrays(table: TableFile, precision: Precision, search: SearchKind, tree: Locator | null, clamp = false, orderPoints?: number): EmitArrays {
   const round = precision === 'float' ? Math.fround : (x: number) => x;
   const bound = (v: number | null | undefined) => (v === null || v === undefined ? null : round(v));
   const n = table.dims.ntheta;
@@ -327,7 +329,7 @@ export function buildArrays(table: TableFile, precision: Precision, search: Sear
     }
     if (search === 'capped' || search === 'broad') out.headLevels = planeHeadLevels(n, out.maxDepth);
   }
-  orderCandidates(out, table.box);
+  orderCandidates(out, table.box, orderPoints);
   // a float grid's cells that lie deep inside their first candidate (after the ordering: the region
   // most often found there) skip the region test
   if (tree.format === 'tessera-grid' && out.bestFit) out.leafSure = gridSureCells(table, out, tree);
@@ -441,16 +443,29 @@ function descend(ar: EmitArrays, theta: ArrayLike<number>, dot: (a: number[], at
 export const ORDER_SEED = 4099;
 
 /**
+ * Points that order the candidates: ORDER_POINTS_PER_LEAF per leaf, at least ORDER_POINTS_MIN and at
+ * most ORDER_POINTS_MAX. Until s23 it was 4 per leaf within [20 000, 60 000]: ~100 points per leaf
+ * on the locate bench's 5-D and 6-D broad trees, whose leaves list 25–32 candidates, so the order
+ * past the first few rested on a handful of hits. Candidates tested per lookup on 18 000 points of
+ * another seed, ordered on 20 000 / 100 000 / 200 000 points: 5-D broad 2.52 / 2.39 / 2.37, 6-D broad
+ * 2.93 / 2.65 / 2.62, 4-D capped 1.65 / 1.59 / 1.58. Ordering costs ~8 µs per point in 6-D (JS),
+ * so the cap keeps it near 1 s per build.
+ */
+export const ORDER_POINTS_PER_LEAF = 500;
+export const ORDER_POINTS_MIN = 20000;
+export const ORDER_POINTS_MAX = 100000;
+
+/**
  * Best-fit builds of a tree-like search: each leaf's candidates reordered so that the region found
  * most often in that leaf on seeded points of the box comes first (then by region index). The answer
  * does not change — best fit takes the smallest residual with ties to the lowest index, and its early
  * exit fires only for the unique best region — but the scan usually meets the region holding θ first
  * and stops there instead of testing the candidates before it. Returns the number of points used.
  */
-export function orderCandidates(ar: EmitArrays, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }): number {
+export function orderCandidates(ar: EmitArrays, box: { lower: ArrayLike<number>; upper: ArrayLike<number> }, points?: number): number {
   if (!ar.bestFit || ar.search === 'sequential' || ar.leafStart.length < 2) return 0;
   const leaves = ar.leafStart.length - 1;
-  const count = Math.min(60000, Math.max(20000, 4 * leaves));
+  const count = points ?? Math.min(ORDER_POINTS_MAX, Math.max(ORDER_POINTS_MIN, ORDER_POINTS_PER_LEAF * leaves));
   const hits = new Map<number, number>(); // key leaf·R + region
   const R = ar.regionCount;
   const n = ar.ntheta;

@@ -8,7 +8,7 @@
 import type { TableFile } from '../table/format.js';
 import { buildSearchTree, collapseTree, planeMargin, TreeTooLargeError, type SearchTree, type TreeOptions } from '../partition/tree.js';
 import { buildBoxTree, type BoxTreeOptions } from '../partition/boxtree.js';
-import { buildArrays, costFigures, meanProfile, searchIndex, type EmitArrays, type Locator, type MeanProfile, type Precision, type SearchKind } from './arrays.js';
+import { buildArrays, costFigures, meanProfile, ORDER_POINTS_MIN, searchIndex, type EmitArrays, type Locator, type MeanProfile, type Precision, type SearchKind } from './arrays.js';
 import { buildGrid } from './grid.js';
 import type { EmitTarget, TargetCost, TargetOptions } from './targets/target.js';
 
@@ -151,7 +151,11 @@ function broadest(table: TableFile, capped: SearchTree, leafRows: number): Searc
   // capped, and a broad tree past 1.5 x capped's worst case is never picked (on the 5-D bench table
   // the 1.5 x collapse passed capped's limit, and the pick fell back to capped: 245 ns instead of broad)
   const limit = WORST_CASE_FACTOR * Math.min(worst(fine), worst(capped));
-  const latency = (t: SearchTree) => meanLatency(meanProfile(buildArrays(table, 'float', 'broad', t), table.box), table.dims.ntheta);
+  // trial builds ordered on as many points as before s23 (4 per leaf within [20 000, 60 000]), so the
+  // steps are compared as they were; the chosen tree is built again with the full ordering
+  // (ORDER_POINTS_PER_LEAF) when measured — ordering every trial in full cost ~1 s each in 6-D
+  const latency = (t: SearchTree) =>
+    meanLatency(meanProfile(buildArrays(table, 'float', 'broad', t, false, Math.min(60000, Math.max(ORDER_POINTS_MIN, 4 * t.stats.leaves))), table.box), table.dims.ntheta);
   let best = fine;
   let bestLatency = NaN;
   let leaves = fine.stats.leaves;

@@ -1,4 +1,4 @@
-import { writeFileSync, renameSync, unlinkSync, existsSync, mkdirSync, openSync, writeSync, closeSync } from 'node:fs';
+import { writeFileSync, renameSync, unlinkSync, existsSync, mkdirSync, openSync, writeSync, closeSync, readdirSync } from 'node:fs';
 import { dirname, basename, join } from 'node:path';
 import { statSync } from 'node:fs';
 import { InputError } from './errors.js';
@@ -72,6 +72,7 @@ function writeAtomically(path: string, write: (tmp: string) => void): void {
   if (isDir) throw new InputError(path, '', 'is a directory; give a file name to write');
   const dir = dirname(path);
   if (!existsSync(dir)) mkdirSync(dir, { recursive: true });
+  sweepStaleTemps(dir, basename(path));
   const tmp = join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.tmp`);
   pending.add(tmp);
   try {
@@ -86,5 +87,56 @@ function writeAtomically(path: string, write: (tmp: string) => void): void {
         /* ignore */
       }
     }
+  }
+}
+
+/** A temp file's age (ms) past which a dead writer's leftover is removed. */
+export const STALE_TEMP_MS = 60_000;
+
+/**
+ * Remove the temp files an earlier write of the same target left behind when its process was
+ * killed mid-write (SIGKILL, or Ctrl-C during a synchronous write: Node's default SIGINT action
+ * runs no JavaScript, so the 'exit' clean-up above never ran). A temp file is removed only when
+ * its name is this module's pattern for `base`, the process id in it is not running on this
+ * machine (signal 0 answers ESRCH) and it was last modified more than `STALE_TEMP_MS` ago, so a
+ * live writer's file (here or, on a shared file system, from another machine that happens to
+ * reuse a pid) is left alone unless it stopped writing a minute ago. Best effort: a failure to
+ * list or remove is ignored, the write goes on.
+ */
+export function sweepStaleTemps(dir: string, base: string, now = Date.now()): string[] {
+  const removed: string[] = [];
+  let names: string[];
+  try {
+    names = readdirSync(dir);
+  } catch {
+    return removed;
+  }
+  const prefix = `.${base}.`;
+  for (const name of names) {
+    if (!name.startsWith(prefix) || !name.endsWith('.tmp')) continue;
+    const m = /^(\d+)\.(\d+)\.tmp$/.exec(name.slice(prefix.length));
+    if (!m) continue;
+    const pid = Number(m[1]);
+    if (pid === process.pid || processAlive(pid)) continue;
+    const full = join(dir, name);
+    try {
+      if (now - statSync(full).mtimeMs <= STALE_TEMP_MS) continue;
+      unlinkSync(full);
+      removed.push(name);
+    } catch {
+      /* gone already, or not ours to remove */
+    }
+  }
+  return removed;
+}
+
+function processAlive(pid: number): boolean {
+  if (!Number.isSafeInteger(pid) || pid <= 0) return false;
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    // EPERM: the process exists but belongs to someone else
+    return (e as NodeJS.ErrnoException).code !== 'ESRCH';
   }
 }

@@ -57,6 +57,55 @@ export function choleskySolveInPlace(l: Float64Array, n: number, b: Float64Array
   }
 }
 
+/**
+ * Cholesky factor of the k×k block B[a][b] = M[idx[a]·ld + idx[b]] of a symmetric matrix M, kept in
+ * `l` with row stride `stride` (k ≤ stride), for a block that changes only at its end (rows appended,
+ * or rows from some index on replaced): rows 0 … from − 1 of `l` and `piv` are taken as the factor
+ * of the block's leading rows from an earlier call and kept, only rows from … k − 1 are formed.
+ * Entry (i, j) of L is (B_ij − Σ_{q<j} L_iq L_jq) / L_jj and L_ii = √(B_ii − Σ_{q<i} L_iq²), each sum
+ * in ascending q: the sums of `choleskyInPlace` on the gathered block, so the same bits (an entry
+ * depends only on the rows above it). `piv` keeps each row's pivot before the root; false, as from
+ * `choleskyInPlace`, when any of the k pivots is ≤ pivotTol·(1 + max_i |B_ii|) (checked again for the
+ * kept rows, since the largest diagonal entry may have grown). Only entries with b ≤ a are read.
+ */
+export function choleskyOfBlock(M: Float64Array, ld: number, idx: ArrayLike<number>, k: number, l: Float64Array, stride: number, piv: Float64Array, from: number, pivotTol: number): boolean {
+  let scale = 0;
+  for (let i = 0; i < k; i++) scale = Math.max(scale, Math.abs(M[idx[i] * ld + idx[i]]));
+  const thr = pivotTol * (1 + scale);
+  for (let i = 0; i < from; i++) if (!(piv[i] > thr)) return false;
+  for (let i = from; i < k; i++) {
+    const ri = i * stride;
+    const mi = idx[i] * ld;
+    for (let j = 0; j < i; j++) {
+      const rj = j * stride;
+      let s = M[mi + idx[j]];
+      for (let q = 0; q < j; q++) s -= l[ri + q] * l[rj + q];
+      l[ri + j] = s / l[rj + j];
+    }
+    let d = M[mi + idx[i]];
+    for (let q = 0; q < i; q++) d -= l[ri + q] * l[ri + q];
+    piv[i] = d;
+    if (!(d > thr)) return false;
+    l[ri + i] = Math.sqrt(d);
+  }
+  return true;
+}
+
+/** `choleskySolveInPlace` on a factor kept with row stride `stride` (as `choleskyOfBlock` leaves it): the same sums in the same order. */
+export function choleskySolveStrided(l: Float64Array, stride: number, n: number, b: Float64Array): void {
+  for (let i = 0; i < n; i++) {
+    let s = b[i];
+    const ri = i * stride;
+    for (let k = 0; k < i; k++) s -= l[ri + k] * b[k];
+    b[i] = s / l[ri + i];
+  }
+  for (let i = n - 1; i >= 0; i--) {
+    let s = b[i];
+    for (let k = i + 1; k < n; k++) s -= l[k * stride + i] * b[k];
+    b[i] = s / l[i * stride + i];
+  }
+}
+
 /** Work arrays of `spdInverse` for a caller that uses the inverse before the next call (grown on demand). */
 export interface SpdScratch {
   l: Float64Array;

@@ -35,7 +35,7 @@ export function lpMaximizeFrom(
   skip?: Uint8Array,
 ): LpResult {
   lpCounter.calls++;
-  const x = Float64Array.from(x0);
+  const x = x0.slice();
   grow(m, n);
   const work = scratch.work; // working rows, linearly independent: work[0..k)
   let k = 0;
@@ -71,13 +71,12 @@ export function lpMaximizeFrom(
       let iBest = -1;
       for (let i = 0; i < m; i++) {
         if (inWork[i] || excluded[i] || rowNorm[i] === 0) continue;
+        // a_i·d first: a_i·x (the same sum, in the same order) only for the rows the step moves towards
         let ad = 0;
-        let ax = 0;
-        for (let j = 0; j < n; j++) {
-          ad += A[i * n + j] * d[j];
-          ax += A[i * n + j] * x[j];
-        }
+        for (let j = 0; j < n; j++) ad += A[i * n + j] * d[j];
         if (ad <= 1e-9 * rowNorm[i] * dn) continue;
+        let ax = 0;
+        for (let j = 0; j < n; j++) ax += A[i * n + j] * x[j];
         const t = Math.max(0, (b[i] - ax) / ad);
         if (iBest < 0 || t < tBest - 1e-15 * (1 + tBest)) {
           tBest = t;
@@ -100,8 +99,11 @@ export function lpMaximizeFrom(
       }
     }
     if (leave < 0) {
-      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal)
-        return { status: 'optimal', x, value: dot(c, x, n), iterations: it, working: Array.from(work.subarray(0, k)) };
+      if (maxViolation(A, b, m, n, x, excluded) <= 1e3 * tol.primal) {
+        const working: number[] = [];
+        for (let p = 0; p < k; p++) working.push(work[p]);
+        return { status: 'optimal', x, value: dot(c, x, n), iterations: it, working };
+      }
       break; // round-off drove the iterate out of the polytope: let the reference decide
     }
     inWork[work[leave]] = 0;
@@ -177,16 +179,15 @@ export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: nu
   const n1 = n + 1;
   if (scratch.cheb.length < (m + 1) * n1) scratch.cheb = new Float64Array(Math.max((m + 1) * n1, 2 * scratch.cheb.length));
   if (scratch.chebB.length < m + 1) scratch.chebB = new Float64Array(Math.max(m + 1, 2 * scratch.chebB.length));
-  if (scratch.chebX.length < n1) {
-    scratch.chebX = new Float64Array(2 * n1);
-    scratch.chebC = new Float64Array(2 * n1);
-  }
-  // the lifted LP lives in the kernel's scratch: views of exactly its size (lpMaximizeFrom copies x0)
-  const A1 = scratch.cheb.subarray(0, (m + 1) * n1);
-  const b1 = scratch.chebB.subarray(0, m + 1);
-  const x0 = scratch.chebX.subarray(0, n1);
-  A1.fill(0);
-  x0.set(start.subarray(0, n));
+  if (scratch.chebC.length < n1) scratch.chebC = new Float64Array(2 * n1);
+  // the lifted LP lives in the kernel's scratch (lpMaximizeFrom reads its first m + 1 rows and n + 1
+  // columns only, and copies x0, which is made of exactly n + 1 entries)
+  const A1 = scratch.cheb;
+  const b1 = scratch.chebB;
+  A1.fill(0, 0, (m + 1) * n1);
+  if (scratch.chebX.length !== n1) scratch.chebX = new Float64Array(n1);
+  const x0 = scratch.chebX;
+  for (let j = 0; j < n; j++) x0[j] = start[j];
   let rMin = rCap;
   for (let i = 0; i < m; i++) {
     let rowN = 0;
@@ -205,8 +206,8 @@ export function chebyshevBall(A: Float64Array, b: Float64Array, m: number, n: nu
   A1[m * n1 + n] = 1;
   b1[m] = rCap;
   x0[n] = rMin - Math.abs(rMin) * 1e-12 - 1e-300;
-  const c1 = scratch.chebC.subarray(0, n1);
-  c1.fill(0);
+  const c1 = scratch.chebC;
+  c1.fill(0, 0, n1);
   c1[n] = 1;
   const r = lpMaximizeFrom(c1, A1, b1, m + 1, n1, x0);
   return { center: r.x.slice(0, n), radius: r.status === 'optimal' ? r.x[n] : -Infinity };

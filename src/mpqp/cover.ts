@@ -18,6 +18,7 @@
  * too many vertices) the builder returns null and the caller falls back to the LP difference.
  */
 import { grownF64, grownI32, intersect } from './vertices.js';
+import { Arena } from '../util/arena.js';
 
 /** A convex piece of a facet in the facet's own coordinates (dim ≥ 2). Arrays owned by the piece. */
 export interface CoverPiece {
@@ -134,9 +135,26 @@ function common(T: Int32Array, x0: number, x1: number, y0: number, y1: number): 
   return intersect(T, x0, x1, y0, y1, cbuf, 0);
 }
 
+/**
+ * The pieces' typed arrays: views of shared 64 kB blocks (a buffer of its own per array costs ~15×
+ * a view; arena.ts), one per thread. Pieces live while one facet is covered, so a block is freed
+ * once the facets that used it are done.
+ */
+const pieceArena = new Arena(1 << 16);
+function f64Copy(src: Float64Array, n: number): Float64Array {
+  const out = pieceArena.f64(n);
+  for (let q = 0; q < n; q++) out[q] = src[q];
+  return out;
+}
+function i32Copy(src: Int32Array, n: number): Int32Array {
+  const out = pieceArena.i32(n);
+  for (let q = 0; q < n; q++) out[q] = src[q];
+  return out;
+}
+
 /** The piece made of clipPiece's scratch: `nv` vertices, copied at their final length. */
 function scratchPiece(A: number[], b: number[], m: number, nv: number, dim: number): CoverPiece {
-  return { A, b, m, nv, x: bx.slice(0, nv * dim), tOff: bOff.slice(0, nv + 1), t: bT.slice(0, bOff[nv]), widthBound: Infinity };
+  return { A, b, m, nv, x: f64Copy(bx, nv * dim), tOff: i32Copy(bOff, nv + 1), t: i32Copy(bT, bOff[nv]), widthBound: Infinity };
 }
 
 /**
@@ -314,8 +332,8 @@ function finish(A: number[], b: number[], m: number, X: Float64Array, nv: number
   }
   let len = 0;
   for (let i = 0; i < end; i++) if (map[T[i]] >= 0) len++;
-  const T2 = new Int32Array(len);
-  const tOff2 = new Int32Array(nv + 1);
+  const T2 = pieceArena.i32(len);
+  const tOff2 = pieceArena.i32(nv + 1);
   len = 0;
   for (let v = 0; v < nv; v++) {
     const u0 = len;
@@ -336,7 +354,7 @@ function finish(A: number[], b: number[], m: number, X: Float64Array, nv: number
     wb = Math.min(wb, 0.5 * (b2[i] - mn));
   }
   if (!(wb > eps)) return null;
-  return { A: A2, b: b2, m: mm, nv, x: copy ? X.slice(0, nv * dim) : X, tOff: tOff2, t: T2, widthBound: wb };
+  return { A: A2, b: b2, m: mm, nv, x: copy ? f64Copy(X, nv * dim) : X, tOff: tOff2, t: T2, widthBound: wb };
 }
 
 /**

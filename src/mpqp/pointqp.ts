@@ -1,5 +1,5 @@
 import type { MpqpProblem } from './types.js';
-import { spdInverse, matMul, transpose, choleskyInPlace, choleskySolveInPlace } from '../linalg/dense.js';
+import { spdInverse, matMul, transpose, choleskyOfBlock, choleskySolveStrided } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 
 /**
@@ -41,9 +41,13 @@ export function qpWorkspace(problem: MpqpProblem): QpWorkspace {
   return ws;
 }
 
-/** Column indices of the nonzeros of each row of G (CSR: row i's are idx[ptr[i] .. ptr[i + 1])), made once per problem; the arrays are shared, read only. */
-const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array }>();
-export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array } {
+/**
+ * The nonzeros of each row of G (CSR: row i's column indices are idx[ptr[i] .. ptr[i + 1]), their
+ * values G[i·nz + idx[e]] in val[e], contiguous for the row sums), made once per problem; the arrays
+ * are shared, read only.
+ */
+const gNonzeros = new WeakMap<MpqpProblem, { ptr: Int32Array; idx: Int32Array; val: Float64Array }>();
+export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32Array; val: Float64Array } {
   const hit = gNonzeros.get(problem);
   if (hit) return hit;
   const { G, nc, nz } = problem;
@@ -53,7 +57,10 @@ export function rowNonzeros(problem: MpqpProblem): { ptr: Int32Array; idx: Int32
     for (let q = 0; q < nz; q++) if (G[i * nz + q] !== 0) cols.push(q);
     ptr[i + 1] = cols.length;
   }
-  const out = { ptr, idx: Int32Array.from(cols) };
+  const idx = Int32Array.from(cols);
+  const val = new Float64Array(idx.length);
+  for (let i = 0; i < nc; i++) for (let e = ptr[i]; e < ptr[i + 1]; e++) val[e] = G[i * nz + idx[e]];
+  const out = { ptr, idx, val };
   gNonzeros.set(problem, out);
   return out;
 }
@@ -86,7 +93,18 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
     z[i] = s;
   }
   // rhs_i = w_i + E_i θ
-  const rhs = new Float64Array(nc);
+  // rhs, isActive, dλ, dz: per-thread scratch (every entry read is written first; none is returned)
+  if (qpScratch.rhs.length < nc) {
+    qpScratch.rhs = new Float64Array(2 * nc);
+    qpScratch.isActive = new Uint8Array(2 * nc);
+  }
+  const kMax = Math.max(nz + 1, start ? start.length : 0);
+  if (qpScratch.dz.length < kMax) {
+    qpScratch.dz = new Float64Array(2 * kMax);
+    qpScratch.dlam = new Float64Array(2 * kMax);
+    qpScratch.lam = new Float64Array(2 * kMax);
+  }
+  const rhs = qpScratch.rhs;
   for (let i = 0; i < nc; i++) {
     let s = problem.w[i];
     for (let j = 0; j < nt; j++) s += problem.E[i * nt + j] * theta[j];
@@ -94,17 +112,27 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   }
   const lambda = new Float64Array(nc);
   const active: number[] = [];
-  const isActive = new Uint8Array(nc);
+  const isActive = qpScratch.isActive;
+  isActive.fill(0, 0, nc);
   const maxIter = 10 * (nc + nz) + 20;
-  const dlam = new Float64Array(nz + 1);
-  const dz = new Float64Array(nz);
-  const chol = new Float64Array((nz + 1) * (nz + 1));
+  const dlam = qpScratch.dlam;
+  const dz = qpScratch.dz;
+  // the factor of M_AA, row stride nz + 1 (or the start set's size), kept across steps: a step appends row p or drops one, so
+  // the rows above the first change are the same bits and only the rows from there are formed
+  const stride = Math.max(nz + 1, start ? start.length : 0);
+  if (factorScratch.l.length < stride * stride) {
+    factorScratch.l = new Float64Array(stride * stride);
+    factorScratch.piv = new Float64Array(stride);
+  }
+  const chol = factorScratch.l;
+  const piv = factorScratch.piv;
+  let valid = 0;
   let it = 0;
   // G_i z − rhs_i over G_i's nonzeros, in column order: the same partial sums as over every column
   // (a zero product changes at most the sign of a zero sum), so the same value unless it ends at
   // zero, which is redone over every column; likewise when z is not finite (0·∞ is NaN)
   const { G } = problem;
-  const { ptr, idx } = rowNonzeros(problem);
+  const { ptr, idx, val } = rowNonzeros(problem);
   let zFinite = true;
   const checkZ = (): void => {
     zFinite = true;
@@ -113,14 +141,17 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   const slack = (i: number): number => {
     let s = -rhs[i];
     if (zFinite) {
-      for (let e = ptr[i]; e < ptr[i + 1]; e++) s += G[i * nz + idx[e]] * z[idx[e]];
+      for (let e = ptr[i], e1 = ptr[i + 1]; e < e1; e++) s += val[e] * z[idx[e]];
       if (s !== 0) return s;
       s = -rhs[i];
     }
     for (let j = 0; j < nz; j++) s += G[i * nz + j] * z[j];
     return s;
   };
-  if (start && start.length > 0) warmStart(ws, start, rhs, z, lambda, active, isActive);
+  if (start && start.length > 0) {
+    checkZ();
+    valid = warmStart(ws, start, slack, z, lambda, active, isActive, chol, piv, stride);
+  }
   for (; it < maxIter; it++) {
     checkZ();
     // most violated row
@@ -134,18 +165,19 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
         p = i;
       }
     }
-    if (p < 0) return { feasible: true, z, activeSet: [...active].sort((a, b) => a - b), lambda, iterations: it };
+    if (p < 0) return { feasible: true, z, activeSet: sortRows(active.slice()), lambda, iterations: it };
     // inner loop: bring row p to equality
     let guard = 0;
     for (;;) {
       if (++guard > maxIter) return { feasible: false, z, activeSet: [], lambda, iterations: it };
       const k = active.length;
       // dλ solves M_AA dλ = −M_Ap
-      for (let a = 0; a < k; a++) {
-        for (let b = 0; b < k; b++) chol[a * k + b] = M[active[a] * nc + active[b]];
-        dlam[a] = -M[active[a] * nc + p];
+      for (let a = 0; a < k; a++) dlam[a] = -M[active[a] * nc + p];
+      if (k > 0) {
+        if (!choleskyOfBlock(M, nc, active, k, chol, stride, piv, valid, tol.rank)) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+        valid = k;
+        choleskySolveStrided(chol, stride, k, dlam);
       }
-      if (k > 0 && !factorSolve(chol, k, dlam)) return { feasible: false, z, activeSet: [], lambda, iterations: it };
       // q = M_pp + M_pA dλ = −G_p dz (≥ 0)
       let q = M[p * nc + p];
       for (let a = 0; a < k; a++) q += M[p * nc + active[a]] * dlam[a];
@@ -185,10 +217,17 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
       lambda[r] = 0;
       isActive[r] = 0;
       active.splice(drop, 1);
+      if (valid > drop) valid = drop;
     }
   }
   return { feasible: false, z, activeSet: [], lambda, iterations: it };
 }
+
+/** solvePointQp's work arrays that it does not return (one set per thread, grown on demand; nothing outlives a call) */
+const qpScratch = { rhs: new Float64Array(0), isActive: new Uint8Array(0), dlam: new Float64Array(0), dz: new Float64Array(0), lam: new Float64Array(0) };
+
+/** solvePointQp's factor of M_AA and its pivots (one per thread, grown on demand; nothing outlives a call) */
+const factorScratch = { l: new Float64Array(0), piv: new Float64Array(0) };
 
 /**
  * Warm start of the dual method from a working set W (a neighbour's active set): the pair
@@ -197,27 +236,30 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
  * singular is not used (cold start). From there the usual iterations add violated rows, so the
  * result is the same optimum as from a cold start, in a few steps when θ is near W's region.
  */
-function warmStart(ws: QpWorkspace, start: readonly number[], rhs: Float64Array, z: Float64Array, lambda: Float64Array, active: number[], isActive: Uint8Array): void {
+function warmStart(ws: QpWorkspace, start: readonly number[], slack: (i: number) => number, z: Float64Array, lambda: Float64Array, active: number[], isActive: Uint8Array, chol: Float64Array, piv: Float64Array, stride: number): number {
   const { nz, nc } = ws.problem;
   const { K, M } = ws;
   const W = [...start];
+  // M_WW λ = −(rhs_W − G_W z0), z0 = −H⁻¹Fθ the unconstrained minimiser already in z: each row's
+  // right-hand side (its slack at z0) formed once, since z0 does not change here
+  const r0: number[] = [];
+  for (let a = 0; a < W.length; a++) r0.push(slack(W[a]));
+  const lam = qpScratch.lam; // sized for the start set by solvePointQp
+  // the factor of M_WW (solvePointQp's, row stride `stride`): a drop keeps the rows above it
+  let valid = 0;
   for (;;) {
     const k = W.length;
-    if (k === 0) return;
-    const chol = new Float64Array(k * k);
-    const lam = new Float64Array(k);
-    for (let a = 0; a < k; a++) {
-      for (let b = 0; b < k; b++) chol[a * k + b] = M[W[a] * nc + W[b]];
-      // M_WW λ = −(rhs_W − G_W z0), z0 = −H⁻¹Fθ the unconstrained minimiser already in z
-      let s = -rhs[W[a]];
-      for (let j = 0; j < nz; j++) s += ws.problem.G[W[a] * nz + j] * z[j];
-      lam[a] = s;
-    }
-    if (!factorSolve(chol, k, lam)) return;
+    if (k === 0) return 0;
+    for (let a = 0; a < k; a++) lam[a] = r0[a];
+    if (!choleskyOfBlock(M, nc, W, k, chol, stride, piv, valid, tol.rank)) return 0;
+    valid = k;
+    choleskySolveStrided(chol, stride, k, lam);
     let worst = -1;
     for (let a = 0; a < k; a++) if (lam[a] < 0 && (worst < 0 || lam[a] < lam[worst])) worst = a;
     if (worst >= 0) {
       W.splice(worst, 1);
+      r0.splice(worst, 1);
+      if (valid > worst) valid = worst;
       continue;
     }
     for (let i = 0; i < nz; i++) {
@@ -230,17 +272,29 @@ function warmStart(ws: QpWorkspace, start: readonly number[], rhs: Float64Array,
       active.push(W[a]);
       isActive[W[a]] = 1;
     }
-    return;
+    // the working set is W in this order: the factor's rows are the main loop's first M_AA's
+    return k;
   }
+}
+
+/**
+ * Sort an array of row indices ascending in place and return it (insertion sort: the lists are short
+ * and mostly sorted, and no comparator is called; numbers in ascending order are one sequence
+ * whatever the algorithm, so the result is that of `sort((x, y) => x − y)`).
+ */
+export function sortRows(a: number[]): number[] {
+  for (let i = 1; i < a.length; i++) {
+    const v = a[i];
+    let j = i - 1;
+    while (j >= 0 && a[j] > v) {
+      a[j + 1] = a[j];
+      j--;
+    }
+    a[j + 1] = v;
+  }
+  return a;
 }
 
 export function isFeasibleAt(problem: MpqpProblem, theta: ArrayLike<number>): boolean {
   return solvePointQp(problem, theta).feasible;
-}
-
-/** Cholesky factor-and-solve of a k×k SPD block in place; false when it is singular (LICQ lost). */
-function factorSolve(a: Float64Array, k: number, b: Float64Array): boolean {
-  if (!choleskyInPlace(a, k, tol.rank)) return false;
-  choleskySolveInPlace(a, k, b);
-  return true;
 }

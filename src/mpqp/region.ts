@@ -1,10 +1,11 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
-import { qpWorkspace, rowNonzeros } from './pointqp.js';
+import { qpWorkspace, rowNonzeros, sortRows } from './pointqp.js';
 import { spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
+import { Arena } from '../util/arena.js';
 
 /**
  * buildRegion's work arrays, grown on demand (one set per thread): every entry read is written in
@@ -50,8 +51,32 @@ function buildScratch(nc: number, nz: number, nt: number, k: number, mMax: numbe
   }
   return bws;
 }
+/** farkasBound's scratch for facetRowsByLp, made for nθ = pfScratchN (one per thread) */
+let pfScratch: ReturnType<typeof prefilterScratch> | null = null;
+let pfScratchN = -1;
 /** the Gram matrix of a region's rows (facetRowsByLp; one per thread) */
 let gramScratch = new Float64Array(0);
+/**
+ * Per-row work arrays of facetRowsByLp and facetRows2d (one set per thread, grown on demand): read
+ * within one buildRegion call only (`alive` is returned to it and used before it returns), and every
+ * entry read is written in the same call first. A typed array of more than 64 bytes with a buffer of
+ * its own costs ~0.4 µs to make (arena.ts); these were most of a 5-D region's.
+ */
+const rowWork = { n: 0, alive: new Uint8Array(0), sure: new Uint8Array(0), skip: new Uint8Array(0), cut: new Uint8Array(0), slack: new Float64Array(0), rates: new Float64Array(0), at: new Int32Array(0) };
+function rowScratch(m: number): typeof rowWork {
+  if (rowWork.n < m) {
+    const n = 2 * m;
+    rowWork.n = n;
+    rowWork.alive = new Uint8Array(n);
+    rowWork.sure = new Uint8Array(n);
+    rowWork.skip = new Uint8Array(n);
+    rowWork.cut = new Uint8Array(n);
+    rowWork.slack = new Float64Array(n);
+    rowWork.rates = new Float64Array(n);
+    rowWork.at = new Int32Array(n);
+  }
+  return rowWork;
+}
 /** spdInverse's work arrays for M_AA (its inverse is used at once, before the next region; one per thread) */
 const invScratch = spdScratch();
 
@@ -113,22 +138,33 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     if (!inv) return { ok: false, reason: 'licq' };
     // each entry one sum over b in ascending order; the sums of a row's θ columns and of its
     // constant run side by side (independent chains, the same bits as one at a time)
+    // (the constant's sum rides along with the last θ column or pair: one pass less over the row)
     for (let a = 0; a < k; a++) {
       const ra = a * k;
+      let sc = 0;
       let j = 0;
       for (; j + 1 < nt; j += 2) {
         let s0 = 0;
         let s1 = 0;
-        for (let b = 0; b < k; b++) {
-          const v = inv[ra + b];
-          const o = activeSet[b] * nt + j;
-          s0 -= v * S[o];
-          s1 -= v * S[o + 1];
-        }
+        if (j + 2 === nt)
+          for (let b = 0; b < k; b++) {
+            const v = inv[ra + b];
+            const ab = activeSet[b];
+            const o = ab * nt + j;
+            s0 -= v * S[o];
+            s1 -= v * S[o + 1];
+            sc -= v * wc[ab];
+          }
+        else
+          for (let b = 0; b < k; b++) {
+            const v = inv[ra + b];
+            const o = activeSet[b] * nt + j;
+            s0 -= v * S[o];
+            s1 -= v * S[o + 1];
+          }
         Lth[a * nt + j] = s0;
         Lth[a * nt + j + 1] = s1;
       }
-      let sc = 0;
       if (j < nt) {
         let s0 = 0;
         for (let b = 0; b < k; b++) {
@@ -137,7 +173,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
           sc -= v * wc[activeSet[b]];
         }
         Lth[a * nt + j] = s0;
-      } else for (let b = 0; b < k; b++) sc -= inv[ra + b] * wc[activeSet[b]];
+      } else if (nt === 0) for (let b = 0; b < k; b++) sc -= inv[ra + b] * wc[activeSet[b]];
       lc[a] = sc;
     }
   }
@@ -146,19 +182,27 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const zc = bw.zc;
   for (let i = 0; i < nz; i++) {
     const ri = i * nc;
+    let sc = -Hinvc[i];
     let j = 0;
     for (; j + 1 < nt; j += 2) {
       let s0 = -HinvF[i * nt + j];
       let s1 = -HinvF[i * nt + j + 1];
-      for (let a = 0; a < k; a++) {
-        const v = K[ri + activeSet[a]];
-        s0 -= v * Lth[a * nt + j];
-        s1 -= v * Lth[a * nt + j + 1];
-      }
+      if (j + 2 === nt)
+        for (let a = 0; a < k; a++) {
+          const v = K[ri + activeSet[a]];
+          s0 -= v * Lth[a * nt + j];
+          s1 -= v * Lth[a * nt + j + 1];
+          sc -= v * lc[a];
+        }
+      else
+        for (let a = 0; a < k; a++) {
+          const v = K[ri + activeSet[a]];
+          s0 -= v * Lth[a * nt + j];
+          s1 -= v * Lth[a * nt + j + 1];
+        }
       Zth[i * nt + j] = s0;
       Zth[i * nt + j + 1] = s1;
     }
-    let sc = -Hinvc[i];
     if (j < nt) {
       let s0 = -HinvF[i * nt + j];
       for (let a = 0; a < k; a++) {
@@ -167,7 +211,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
         sc -= v * lc[a];
       }
       Zth[i * nt + j] = s0;
-    } else for (let a = 0; a < k; a++) sc -= K[ri + activeSet[a]] * lc[a];
+    } else if (nt === 0) for (let a = 0; a < k; a++) sc -= K[ri + activeSet[a]] * lc[a];
     zc[i] = sc;
   }
   // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
@@ -202,7 +246,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     return true;
   };
   const { G, E, w } = problem;
-  const { ptr, idx } = rowNonzeros(problem);
+  const { ptr, idx, val } = rowNonzeros(problem);
   // the sums run over G_i's nonzeros in column order: the same partial sums as over every column,
   // since adding a zero product changes nothing but, at most, the sign of a zero sum; a sum that
   // ends at zero is redone over every column, so the rows keep their bits (zero signs included)
@@ -222,18 +266,42 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
       let s1 = -E[i * 2 + 1];
       for (let p = p0; p < p1; p++) {
         const q = idx[p];
-        const g = G[i * nz + q];
+        const g = val[p];
         s0 += g * Zth[q * 2];
         s1 += g * Zth[q * 2 + 1];
         c += g * zc[q];
       }
       Af[o] = s0;
       Af[o + 1] = s1;
+    } else if (nt === 4 || nt === 5) {
+      // the same sums in locals (4-D and 5-D)
+      const e = i * nt;
+      let s0 = -E[e];
+      let s1 = -E[e + 1];
+      let s2 = -E[e + 2];
+      let s3 = -E[e + 3];
+      let s4 = nt === 5 ? -E[e + 4] : 0;
+      for (let p = p0; p < p1; p++) {
+        const q = idx[p];
+        const g = val[p];
+        const z = q * nt;
+        s0 += g * Zth[z];
+        s1 += g * Zth[z + 1];
+        s2 += g * Zth[z + 2];
+        s3 += g * Zth[z + 3];
+        if (nt === 5) s4 += g * Zth[z + 4];
+        c += g * zc[q];
+      }
+      Af[o] = s0;
+      Af[o + 1] = s1;
+      Af[o + 2] = s2;
+      Af[o + 3] = s3;
+      if (nt === 5) Af[o + 4] = s4;
     } else {
       for (let j = 0; j < nt; j++) Af[o + j] = -E[i * nt + j];
       for (let p = p0; p < p1; p++) {
         const q = idx[p];
-        const g = G[i * nz + q];
+        const g = val[p];
         for (let j = 0; j < nt; j++) Af[o + j] += g * Zth[q * nt + j];
         c += g * zc[q];
       }
@@ -303,11 +371,11 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
   const movesG = new Array<number>(rowsOut);
   for (let i = 0; i < rowsOut; i++) movesG[i] = zc[i];
   const region: Omit<CriticalRegion, 'id'> = {
-    activeSet: [...activeSet].sort((x, y) => x - y),
+    activeSet: sortRows(activeSet.slice()),
     A,
     b,
     facets,
-    chebyshev: { center: Array.from(ball.center), radius: ball.radius },
+    chebyshev: { center: plainCopy(ball.center, nt), radius: ball.radius },
     law: { F: movesF.slice(0, lawSize), g: movesG.slice(0, lawSize) },
   };
   if (!lean) {
@@ -319,9 +387,23 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
 
 const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
 
+/** The first n entries of a typed array as a plain array (Array.from goes through the iterator). */
+function plainCopy(a: Float64Array, n: number): number[] {
+  const out: number[] = [];
+  for (let j = 0; j < n; j++) out.push(a[j]);
+  return out;
+}
+
+/**
+ * The regions' vertex lists (`regionVertices`): views of shared 64 kB blocks (arena.ts), one per
+ * thread. A list is dropped once its region's facets are covered, and regions are covered in about
+ * the order they are found, so a block is freed soon after the regions that used it are done.
+ */
+const vertsArena = new Arena(1 << 16);
+
 /** The vertex pass's list (its reused set: copied here) with its tight rows renumbered to the rows kept (rows not kept, box sides the region only touches, left out). */
 function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVertices {
-  const at = new Int32Array(m);
+  const at = rowScratch(m).at;
   let n = 0;
   for (let r = 0; r < m; r++) at[r] = alive[r] ? n++ : -1;
   const cnt = V.count;
@@ -329,14 +411,16 @@ function regionVertices(V: VertexSet, alive: Uint8Array, m: number): RegionVerti
   const T = V.t;
   let len = 0;
   for (let i = 0; i < TO[cnt]; i++) if (at[T[i]] >= 0) len++;
-  const t = new Int32Array(len);
-  const tOff = new Int32Array(cnt + 1);
+  const t = vertsArena.i32(len);
+  const tOff = vertsArena.i32(cnt + 1);
   len = 0;
   for (let v = 0; v < cnt; v++) {
     for (let i = TO[v]; i < TO[v + 1]; i++) if (at[T[i]] >= 0) t[len++] = at[T[i]];
     tOff[v + 1] = len;
   }
-  return { count: cnt, x: V.x.slice(0, cnt * V.n), tOff, t };
+  const x = vertsArena.f64(cnt * V.n);
+  for (let q = 0; q < cnt * V.n; q++) x[q] = V.x[q];
+  return { count: cnt, x, tOff, t };
 }
 
 /** H·Z of valueFunction (one per thread) */
@@ -351,8 +435,47 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
   // every entry written below before it is read; nothing of it outlives the call
   if (hzScratch.length < nz * nt) hzScratch = new Float64Array(2 * nz * nt);
   const HZ = hzScratch;
-  for (let i = 0; i < nz; i++) {
-    // two θ columns side by side (independent sums over q, each in ascending order)
+  let i0 = 0;
+  // two rows and two θ columns side by side: four independent sums over q, each in ascending order
+  // (the same bits as one at a time; the processor overlaps the chains)
+  for (; i0 + 1 < nz; i0 += 2) {
+    const r0 = i0 * nz;
+    const r1 = r0 + nz;
+    let j = 0;
+    for (; j + 1 < nt; j += 2) {
+      let s00 = 0;
+      let s01 = 0;
+      let s10 = 0;
+      let s11 = 0;
+      for (let q = 0; q < nz; q++) {
+        const h0 = H[r0 + q];
+        const h1 = H[r1 + q];
+        const z0 = Z[q * nt + j];
+        const z1 = Z[q * nt + j + 1];
+        s00 += h0 * z0;
+        s01 += h0 * z1;
+        s10 += h1 * z0;
+        s11 += h1 * z1;
+      }
+      HZ[i0 * nt + j] = s00;
+      HZ[i0 * nt + j + 1] = s01;
+      HZ[(i0 + 1) * nt + j] = s10;
+      HZ[(i0 + 1) * nt + j + 1] = s11;
+    }
+    if (j < nt) {
+      let s0 = 0;
+      let s1 = 0;
+      for (let q = 0; q < nz; q++) {
+        const z = Z[q * nt + j];
+        s0 += H[r0 + q] * z;
+        s1 += H[r1 + q] * z;
+      }
+      HZ[i0 * nt + j] = s0;
+      HZ[(i0 + 1) * nt + j] = s1;
+    }
+  }
+  for (let i = i0; i < nz; i++) {
+    // the last row (nz odd): two θ columns side by side
     let j = 0;
     for (; j + 1 < nt; j += 2) {
       let s0 = 0;
@@ -444,17 +567,20 @@ function markFirstHit(rates: Float64Array, off: number, slack: Float64Array, m: 
  *    kept are those the LPs alone keep (the `lp: 'reference'` path runs without them).
  */
 function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number, center: Float64Array, lp: LpEngine, lo: Float64Array, up: Float64Array): { alive: Uint8Array; bbox: BoundingBox; verts: VertexSet | null } {
-  const alive = new Uint8Array(m).fill(1);
-  const sure = new Uint8Array(m);
+  const rw = rowScratch(m);
+  const alive = rw.alive;
+  alive.fill(1, 0, m);
+  const sure = rw.sure;
+  sure.fill(0, 0, m);
   const proofs = !lp.reference && lp.proofs !== false;
-  const slack = new Float64Array(m);
+  const slack = rw.slack;
   for (let q = 0; q < m; q++) {
     let s = bf[q];
     for (let j = 0; j < nt; j++) s -= Af[q * nt + j] * center[j];
     slack[q] = s;
   }
   const dir = new Float64Array(nt);
-  const rates = new Float64Array(m);
+  const rates = rw.rates;
   const shoot = (): void => {
     for (let q = 0; q < m; q++) {
       let ad = 0;
@@ -519,15 +645,23 @@ function facetRowsByLp(Af: Float64Array, bf: Float64Array, m: number, nt: number
   // box side ends exact, with one LP per side plus one per facet found this way.
   const bbLo = Float64Array.from(lo);
   const bbHi = Float64Array.from(up);
-  const scratch = prefilterScratch(nt);
+  if (pfScratchN !== nt) {
+    pfScratch = prefilterScratch(nt);
+    pfScratchN = nt;
+  }
+  const scratch = pfScratch!;
   const c = new Float64Array(nt);
   // LP-free pass over the vertices of the sure rows (vertices.ts): facets found by rays aimed at
   // vertices that break a row, redundant rows and box sides proved by weak duality at a vertex
   const sideKnown = new Uint8Array(2 * nt);
   const V = useVertices ? vertexPass(Af, bf, m, nt, lo, up, center, slack, sure, alive, sideKnown, bbLo, bbHi, scratch, tol.redundancy) : null;
   // the rows V was cut by (sure now, box sides aside): V is the region's vertex list when the rows kept at the end are among them
-  const cut = V ? sure.slice(0, m - 2 * nt) : null;
-  const skip = new Uint8Array(m);
+  let cut: Uint8Array | null = null;
+  if (V) {
+    cut = rw.cut;
+    for (let q = 0; q < m - 2 * nt; q++) cut[q] = sure[q];
+  }
+  const skip = rw.skip;
   for (let q = 0; q < m; q++) skip[q] = sure[q] || q >= m - 2 * nt ? 0 : 1;
   // optimal bases of the LPs solved here, with their vertices: dual certificates to reuse (prefilter.ts)
   const bases: { W: Int32Array; x: Float64Array }[] = [];
@@ -745,7 +879,8 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
     k = n;
     if (k < 3) return null;
   }
-  const alive = new Uint8Array(m);
+  const alive = rowScratch(m).alive;
+  alive.fill(0, 0, m);
   for (let i = 0; i < k; i++) {
     const j = i + 1 === k ? 0 : i + 1;
     if (Math.hypot(px[j] - px[i], py[j] - py[i]) > tol.radius && pe[i] >= 0) alive[pe[i]] = 1;

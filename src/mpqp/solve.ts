@@ -1,5 +1,5 @@
 import { sumCauses, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
-import { solvePointQp } from './pointqp.js';
+import { solvePointQp, sortRows } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine, type RegionVertices } from './region.js';
 import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
@@ -10,6 +10,15 @@ import { clipPiece, facetPiece, lastCoverFailure, pieceCentre, pieceFromVertices
 
 /** fromRegionVertices' list of the region's vertices on the facet (scratch, read within the call; one per thread) */
 let onFacet = new Int32Array(64);
+/**
+ * A facet's short-lived arrays (its frame's basis, slices, the vertex piece from its region's list):
+ * views of shared 64 kB blocks instead of buffers of their own (one per thread). Nothing kept per
+ * region comes from it, so a block is freed once the facets that used it are done.
+ */
+const facetArena = new Arena(1 << 16);
+/** `Frame.project`'s rows before they are cut to the rows kept (one per thread) */
+let projA = new Float64Array(64);
+let projB = new Float64Array(16);
 
 /**
  * Explore the critical regions of an mpQP by crossing facets (in the manner of Tøndel, Johansen &
@@ -400,9 +409,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       onFacet[nv++] = v;
       for (let i = TO[v]; i < TO[v + 1]; i++) if (VT[i] !== f && map[VT[i]] >= 0) len++;
     }
-    const x = new Float64Array(nv * dim);
-    const tOff = new Int32Array(nv + 1);
-    const t = new Int32Array(len);
+    const x = facetArena.f64(nv * dim);
+    const tOff = facetArena.i32(nv + 1);
+    const t = facetArena.i32(len);
     len = 0;
     for (let q = 0; q < nv; q++) {
       const v = onFacet[q];
@@ -559,21 +568,31 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   function landFrom(R: CriticalRegion, f: number, facet: FacetFrame, piece: { point: Float64Array; radius: number }, strict: boolean): { id: number; slice: Slice } | 'infeasible' | 'noRegion' | 'noSlice' {
     const h0 = Math.min(step, 0.1 * piece.radius);
     const fi = R.facets[f];
-    const guess = fi.kind === 'primal' ? [...R.activeSet, fi.row].sort((x, y) => x - y) : R.activeSet.filter((i) => i !== fi.row);
+    // the guess across a primal facet is made only when a step tries it (most landings hit a known region first)
+    let primalGuess: number[] | null = null;
+    const guessAcross = (): number[] => {
+      if (primalGuess === null) {
+        primalGuess = R.activeSet.slice();
+        primalGuess.push(fi.row);
+        sortRows(primalGuess);
+      }
+      return primalGuess;
+    };
+    const dualGuess = fi.kind === 'primal' ? null : R.activeSet.filter((i) => i !== fi.row);
     const hints = [...fi.neighbours, ...adjacent[R.id]];
     // the dual method warm-started from R's working set (minus the row across a dual facet) adds the row itself
-    const warm = fi.kind === 'primal' ? R.activeSet : guess;
+    const warm = dualGuess ?? R.activeSet;
     let sawFeasible = false;
     let sawRegion = false;
     /** the points whose steps reached feasible parameters: tried again with longer steps */
     const again: Float64Array[] = [];
     /** the region at θ = lift(y) + h·a when its slice holds y; 'infeasible' (−1), or null */
     const at = (y: Float64Array, base: Float64Array, h: number, useGuess: boolean, slack = strict ? tol.inside : 1e3 * tol.inside): { id: number; slice: Slice } | 'infeasible' | 'out' | null => {
-      const theta = Float64Array.from(base);
+      const theta = base.slice();
       for (let j = 0; j < nt; j++) theta[j] += h * R.A[f][j];
       if (!inBox(theta)) return 'out';
       // strict: the point QP from cold (a warm start on an ill-conditioned working set can stop short)
-      const id = regionAt(theta, hints, useGuess ? guess : undefined, strict ? undefined : warm);
+      const id = regionAt(theta, hints, useGuess ? (dualGuess ?? guessAcross()) : undefined, strict ? undefined : warm);
       // no region from a feasible point QP: near the edge of the feasible set the dual method can
       // report a nearly dependent working set (multipliers ~1e16) as feasible; a phase-1 LP decides
       if (id === -1 || (id === -2 && !feasibleByLp(theta))) return 'infeasible';
@@ -584,7 +603,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       return slice && containsY(slice, y, slack) ? { id, slice } : null;
     };
     for (let attempt = 0; attempt < 6; attempt++) {
-      const y = Float64Array.from(piece.point);
+      const y = piece.point.slice();
       // nudge inside the piece: a structured point may sit exactly where regions meet
       if (attempt > 0) for (let j = 0; j < y.length; j++) y[j] += (rand() - 0.5) * 0.5 * piece.radius;
       const base = facet.lift(y);
@@ -684,7 +703,7 @@ export function slicePolytope(A: number[][], b: number[], a: number[], beta: num
   const d = a.length;
   const dim = d - 1;
   // basis rows k·d .. k·d + d (Gram–Schmidt of the unit vectors against a and the rows before)
-  const basis = new Float64Array(Math.max(dim, 0) * d);
+  const basis = facetArena.f64(Math.max(dim, 0) * d);
   const v = new Float64Array(d);
   let nb = 0;
   for (let e = 0; e < d && nb < dim; e++) {
@@ -746,8 +765,10 @@ class Frame implements FacetFrame {
   // per row a projected copy, its normalised copy and a growing list were most of this function's garbage
   private project(rows: number[][], rhs: number[], skipRow: number, slack: number, map: Int32Array | null): Slice | null {
     const { d, dim, basis, origin, bbox } = this;
-    const outA = new Float64Array(rows.length * dim);
-    const outB = new Float64Array(rows.length);
+    if (projA.length < rows.length * dim) projA = new Float64Array(2 * rows.length * dim);
+    if (projB.length < rows.length) projB = new Float64Array(2 * rows.length);
+    const outA = projA;
+    const outB = projB;
     let m = 0;
     for (let i = 0; i < rows.length; i++) {
       if (i === skipRow) continue;
@@ -778,8 +799,12 @@ class Frame implements FacetFrame {
       if (map) map[i] = m;
       outB[m++] = r0 / n;
     }
-    // views of exactly the rows kept (readers take the row length as A.length / m)
-    return { A: m === rows.length ? outA : outA.subarray(0, m * dim), b: m === rows.length ? outB : outB.subarray(0, m), m };
+    // the rows kept, at their exact length (readers take the row length as A.length / m)
+    const A = facetArena.f64(m * dim);
+    for (let q = 0; q < m * dim; q++) A[q] = outA[q];
+    const b = facetArena.f64(m);
+    for (let q = 0; q < m; q++) b[q] = outB[q];
+    return { A, b, m };
   }
 
   vertices(): Float64Array[] | null {

@@ -153,7 +153,26 @@ export function intersect(T: Int32Array, a0: number, a1: number, b0: number, b1:
  * The face table of `cutVertices`' ordered edge search (one per thread, grown on demand): slot heads
  * and, per entry, its face hash, inside vertex and next entry; `cand` the collected candidates.
  */
-const faces = { head: new Int32Array(64), mask: 63, key: new Int32Array(256), q: new Int32Array(256), next: new Int32Array(256), cand: new Int32Array(256) };
+const faces = { head: new Int32Array(64), mask: 63, key: new Int32Array(256), q: new Int32Array(256), next: new Int32Array(256), cand: new Int32Array(256), mix: new Int32Array(64) };
+
+/**
+ * The ordered search's face hashes: a face's hash is the sum (mod 2³²) of a mixed value of each of
+ * its rows, so a vertex's n faces take one pass (the vertex's sum minus one row's value each).
+ * Equal faces hash equal; a collision only adds a candidate that the common-row count then rejects.
+ * Writes each row's value into mix[0 … len) and returns their sum.
+ */
+function rowMixes(T: Int32Array, o: number, len: number, mix: Int32Array): number {
+  let all = 0;
+  for (let i = 0; i < len; i++) {
+    let h = Math.imul(T[o + i] + 1, 0x9e3779b1);
+    h ^= h >>> 16;
+    h = Math.imul(h, 0x85ebca6b);
+    h ^= h >>> 13;
+    mix[i] = h;
+    all = (all + h) | 0;
+  }
+  return all;
+}
 
 /** Fill `faces` with every simple (n tight rows) inside vertex (the first `ni` of `inside`) under the hashes of its n faces. */
 function faceTable(T: Int32Array, tOff: Int32Array, inside: Int32Array, ni: number, n: number): void {
@@ -170,12 +189,14 @@ function faceTable(T: Int32Array, tOff: Int32Array, inside: Int32Array, ni: numb
     faces.cand = new Int32Array(2 * entries);
   }
   let e = 0;
+  const mix = faces.mix;
   for (let i = 0; i < ni; i++) {
     const q = inside[i];
     const o = tOff[q];
     if (tOff[q + 1] - o !== n) continue;
+    const all = rowMixes(T, o, n, mix);
     for (let omit = 0; omit < n; omit++) {
-      const h = faceKey(T, o, n, omit);
+      const h = (all - mix[omit]) | 0;
       const slot = h & faces.mask;
       faces.key[e] = h;
       faces.q[e] = q;
@@ -357,8 +378,9 @@ export function cutVertices(V: VertexSet, A: Float64Array, b: ArrayLike<number>,
     if (p1 - p0 === n && ordered) {
       const ft = faces;
       let nc = 0;
+      const all = rowMixes(T, p0, n, ft.mix);
       for (let omit = 0; omit < n; omit++) {
-        const h = faceKey(T, p0, n, omit);
+        const h = (all - ft.mix[omit]) | 0;
         for (let e = ft.head[h & ft.mask]; e >= 0; e = ft.next[e]) {
           if (ft.key[e] !== h) continue;
           // insertion into the ascending candidate list, once each
@@ -449,6 +471,8 @@ export function vertexBound(
 
 /** vertexBound's copy of a vertex's n tight rows (read by `bound` within the call only; one per thread) */
 let boundScratch = new Int32Array(8);
+/** vertexPass's rows left to their LP (one per thread) */
+let toLpScratch = new Uint8Array(64);
 
 /** Highest dimension where the vertex pass is tried (2ⁿ box corners to start from). */
 export const maxVertexDim = 8;
@@ -508,7 +532,9 @@ export function vertexPass(
   const V = boxVertices(n, lo, up, boxRow, passSet);
   const eps = 1e-10;
   for (let q = 0; q < boxRow; q++) if (sure[q] && !cutVertices(V, A, b, q, eps, maxVertices)) return null;
-  const toLp = new Uint8Array(m);
+  if (toLpScratch.length < m) toLpScratch = new Uint8Array(2 * m);
+  const toLp = toLpScratch; // read within this call only
+  toLp.fill(0, 0, m);
   const d = new Float64Array(n);
   const vLo = new Float64Array(n);
   const vHi = new Float64Array(n);

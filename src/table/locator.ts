@@ -44,6 +44,9 @@ export class GridLocator {
   /** every region's padded box in θ (lo_0 … lo_n−1, hi_0 … hi_n−1): a region whose padded box misses θ holds it nowhere exactly */
   private boxes: Float64Array;
   private count = 0;
+  /** `cellTerms`' output (its first m·termW entries; scratch of one add) and its row length */
+  private termScratch = new Float64Array(64);
+  private termW = 0;
   /** cells of its level's grid a region's bounding box may meet (the level is the finest that keeps to this) */
   private readonly cellBudget: number;
 
@@ -176,7 +179,10 @@ export class GridLocator {
     const n = this.n;
     let w = 0;
     for (let j = 0; j < n; j++) w += last[j] - first[j] + 1;
-    const out = new Float64Array(m * w);
+    // every entry below is written before add reads it; nothing of it outlives the add
+    this.termW = w;
+    if (this.termScratch.length < m * w) this.termScratch = new Float64Array(2 * m * w);
+    const out = this.termScratch;
     for (let i = 0; i < m; i++) {
       let o = i * w;
       for (let j = 0; j < n; j++) {
@@ -199,7 +205,7 @@ export class GridLocator {
    */
   private separatingRows(terms: Float64Array, start: number, m: number, first: readonly number[], last: readonly number[], pad: number): Int32Array {
     const n = this.n;
-    const w = terms.length / m;
+    const w = this.termW;
     const out = new Int32Array(m);
     let k = 0;
     for (let i = 0; i < m; i++) {
@@ -224,7 +230,7 @@ export class GridLocator {
    */
   private separatedBy(terms: Float64Array, rows: Int32Array, start: number, m: number, idx: readonly number[], first: readonly number[], last: readonly number[], pad: number): boolean {
     const n = this.n;
-    const w = terms.length / m;
+    const w = this.termW;
     for (let q = 0; q < rows.length; q++) {
       const i = rows[q];
       let mn = 0;

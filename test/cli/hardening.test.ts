@@ -5,7 +5,7 @@
  * generated C; saturation min(max(u, lower), upper) (common practice).
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
@@ -263,5 +263,47 @@ describe('write probe reasons', () => {
     expect(writeProbeReason('EROFS', '/mnt/ro')).toBe('/mnt/ro is on a read-only file system');
     expect(writeProbeReason('EACCES', '/x')).toBe('no permission to write in /x');
     expect(writeProbeReason('ENOSPC', '/x')).toBe('no space left in /x');
+  });
+});
+
+describe('a write killed half-way leaves a temp file that the next write of the same file removes', () => {
+  // The leftover is made for real: a separate Node process writes T's name through the project's
+  // atomic writer (dist/src/io/atomic.js) and is killed with SIGKILL between two chunks, so the
+  // temp file holds a partial text and its process is gone. POSIX kill(pid, 0) answering ESRCH
+  // for a process that no longer exists is the outside reference for "dead" (common practice).
+  it('dead writer + older than a minute: removed by `solve -o`; a fresh one and a live writer\'s are kept', async () => {
+    const out = join(dir, 'stale', 't.json');
+    const atomic = join(root, 'dist', 'src', 'io', 'atomic.js');
+    const kill = spawnSync(
+      process.execPath,
+      [
+        '--input-type=module',
+        '-e',
+        `import { writeFileAtomicChunks } from ${JSON.stringify(atomic)};
+         function* chunks() { yield 'x'.repeat(100); process.kill(process.pid, 'SIGKILL'); }
+         writeFileAtomicChunks(${JSON.stringify(out)}, chunks(), 10);`,
+      ],
+      { encoding: 'utf8' },
+    );
+    expect(kill.signal).toBe('SIGKILL');
+    const temps = () => readdirSync(join(dir, 'stale')).filter((f) => f.endsWith('.tmp')).sort();
+    const [left] = temps();
+    expect(left).toMatch(new RegExp(`^\\.t\\.json\\.${kill.pid}\\.\\d+\\.tmp$`));
+    expect(readFileSync(join(dir, 'stale', left), 'utf8')).toBe('x'.repeat(100));
+    // a live writer's temp (this test's own pid) and a dead one's that is fresh
+    const live = `.t.json.${process.pid}.1.tmp`;
+    writeFileSync(join(dir, 'stale', live), 'y');
+    const old = (Date.now() - 120_000) / 1000;
+    utimesSync(join(dir, 'stale', live), old, old);
+    // first write: the dead writer's file is younger than a minute, so it stays
+    const r1 = await run(['solve', P, '-o', out]);
+    expect(r1.status, r1.stderr).toBe(0);
+    expect(temps()).toEqual([left, live].sort());
+    // once it is older than a minute it goes; the live writer's stays however old it is
+    utimesSync(join(dir, 'stale', left), old, old);
+    const r2 = await run(['solve', P, '-o', out]);
+    expect(r2.status, r2.stderr).toBe(0);
+    expect(temps()).toEqual([live]);
+    expect(readFileSync(out, 'utf8')).toBe(readFileSync(T, 'utf8'));
   });
 });

@@ -4,6 +4,8 @@ import { tol } from '../../src/tol.js';
 import {
   choleskyInPlace,
   choleskySolveInPlace,
+  choleskyOfBlock,
+  choleskySolveStrided,
   spdInverse,
   matMul,
   transpose,
@@ -291,5 +293,103 @@ describe('failure cases', () => {
     expect(spdInverse(Float64Array.of(4), 1, tol.pd)![0]).toBe(0.25);
     expect(luSolve(Float64Array.of(0), 1, Float64Array.of(1), tol.rank)).toBeNull();
     expect(choleskyInPlace(Float64Array.of(Number.NaN), 1, tol.pd)).toBe(false);
+  });
+});
+
+/**
+ * The textbook Cholesky–Banachiewicz factor, row by row (common practice: L_ij = (B_ij − Σ_{q<j}
+ * L_iq L_jq) / L_jj, L_ii = √(B_ii − Σ_{q<i} L_iq²), sums in ascending q), with the pivot test
+ * B's pivots > pivotTol·(1 + max |B_ii|), and the textbook forward / back substitution, written out
+ * here literally on the gathered block. choleskyOfBlock keeps the rows above the first change of its
+ * block between calls (the point QP appends and drops rows of its working set); the factor and the
+ * solution must be these bits whatever the history, and L Lᵀ must be B (mathjs).
+ */
+function textbookCholeskySolve(B: number[][], pivotTol: number, rhs: number[]): { l: number[][]; x: number[] } | null {
+  const n = B.length;
+  let scale = 0;
+  for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(B[i][i]));
+  const thr = pivotTol * (1 + scale);
+  const l = B.map(() => new Array<number>(n).fill(0));
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < i; j++) {
+      let s = B[i][j];
+      for (let q = 0; q < j; q++) s -= l[i][q] * l[j][q];
+      l[i][j] = s / l[j][j];
+    }
+    let d = B[i][i];
+    for (let q = 0; q < i; q++) d -= l[i][q] * l[i][q];
+    if (!(d > thr)) return null;
+    l[i][i] = Math.sqrt(d);
+  }
+  const x = rhs.slice();
+  for (let i = 0; i < n; i++) {
+    let s = x[i];
+    for (let q = 0; q < i; q++) s -= l[i][q] * x[q];
+    x[i] = s / l[i][i];
+  }
+  for (let i = n - 1; i >= 0; i--) {
+    let s = x[i];
+    for (let q = i + 1; q < n; q++) s -= l[q][i] * x[q];
+    x[i] = s / l[i][i];
+  }
+  return { l, x };
+}
+
+describe('choleskyOfBlock with kept rows: the textbook factor and solution bit for bit after appends and drops; L Lᵀ = B (mathjs)', () => {
+  for (const nc of [3, 8, 20, 45]) {
+    it(`M ${nc}×${nc}, 60 steps of appends and drops`, () => {
+      const r = rng(8300 + nc);
+      const M = randSpd(r, nc, 0.6);
+      const Mf = fromRows(M, nc);
+      const stride = nc + 1;
+      const l = new Float64Array(stride * stride).fill(Number.NaN);
+      const piv = new Float64Array(stride);
+      const active: number[] = [];
+      let valid = 0;
+      for (let step = 0; step < 60; step++) {
+        // append an index not in the block (most steps) or drop one, as the point QP does
+        const free = Array.from({ length: nc }, (_, i) => i).filter((i) => !active.includes(i));
+        if (free.length > 0 && (active.length === 0 || r() < 0.65)) active.push(free[Math.floor(r() * free.length)]);
+        else {
+          const d = Math.floor(r() * active.length);
+          active.splice(d, 1);
+          valid = Math.min(valid, d);
+        }
+        const k = active.length;
+        if (k === 0) continue;
+        const B = active.map((a) => active.map((b) => M[a][b]));
+        const rhs = active.map(() => r() - 0.5);
+        const book = textbookCholeskySolve(B, tol.rank, rhs)!;
+        expect(book).not.toBeNull();
+        expect(choleskyOfBlock(Mf, nc, active, k, l, stride, piv, valid, tol.rank)).toBe(true);
+        valid = k;
+        for (let i = 0; i < k; i++) for (let j = 0; j <= i; j++) expect(Object.is(l[i * stride + j], book.l[i][j])).toBe(true);
+        const x = Float64Array.from(rhs);
+        choleskySolveStrided(l, stride, k, x);
+        for (let i = 0; i < k; i++) expect(Object.is(x[i], book.x[i])).toBe(true);
+        const L = book.l;
+        const LLt = asRows(math.multiply(L, math.transpose(L)));
+        expect(maxDiff(LLt, B)).toBeLessThanOrEqual(1e-12 * (1 + Math.max(...B.map((row) => maxAbs(row)))));
+      }
+    });
+  }
+
+  it('a repeated index makes the block singular: false, as the textbook test says; a grown diagonal re-tests kept pivots', () => {
+    const r = rng(8400);
+    const M = randSpd(r, 6, 0.6);
+    const Mf = fromRows(M, 6);
+    const l = new Float64Array(49);
+    const piv = new Float64Array(7);
+    expect(choleskyOfBlock(Mf, 6, [0, 2, 4], 3, l, 7, piv, 0, tol.rank)).toBe(true);
+    const B = [0, 2, 4, 2].map((a) => [0, 2, 4, 2].map((b) => M[a][b]));
+    expect(textbookCholeskySolve(B, tol.rank, [1, 1, 1, 1])).toBeNull();
+    expect(choleskyOfBlock(Mf, 6, [0, 2, 4, 2], 4, l, 7, piv, 3, tol.rank)).toBe(false);
+    // a block whose kept pivot (1) passes at a small diagonal but fails once a row with a diagonal of 1e12 joins
+    const D = Float64Array.of(1, 0, 0, 1e12);
+    const lD = new Float64Array(9);
+    const pD = new Float64Array(3);
+    expect(choleskyOfBlock(D, 2, [0], 1, lD, 3, pD, 0, 1e-11)).toBe(true);
+    expect(textbookCholeskySolve([[1, 0], [0, 1e12]], 1e-11, [1, 1])).toBeNull();
+    expect(choleskyOfBlock(D, 2, [0, 1], 2, lD, 3, pD, 1, 1e-11)).toBe(false);
   });
 });

@@ -22,6 +22,19 @@ import { runCli } from '../helpers/cli.js';
 //   and, for the exact text, the region's law applied literally (g_i + F_i1 θ_1 + … in that order,
 //   then the clamp to the input limits) printed by ECMAScript's Number::toString (`String`).
 
+/**
+ * A finite x > 0 as [D, E] with x = D·10^E exactly: a double is m·2^e (IEEE 754 binary64, its bit
+ * fields read through a BigUint64Array), and 2^−k = 5^k·10^−k.
+ */
+function exact(x: number): [bigint, number] {
+  const bits = new BigUint64Array(new Float64Array([x]).buffer)[0];
+  const e = Number((bits >> 52n) & 0x7ffn);
+  let m = bits & ((1n << 52n) - 1n);
+  if (e) m |= 1n << 52n;
+  const ex = (e || 1) - 1075;
+  return ex >= 0 ? [m << BigInt(ex), 0] : [m * 5n ** BigInt(-ex), ex];
+}
+
 /** A cell in one of many spellings of a number (and, rarely, not a number at all). */
 function cellText(rnd: () => number): string {
   const v = (rnd() - 0.5) * 10 ** Math.floor(rnd() * 10 - 5);
@@ -257,16 +270,6 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     const rnd = rng(8128);
     const f64 = new Float64Array(1);
     const u64 = new BigUint64Array(f64.buffer);
-    /** x > 0 finite as D·10^E exactly (D a digit string) */
-    const exact = (x: number): [bigint, number] => {
-      f64[0] = x;
-      const b = u64[0];
-      const e = Number((b >> 52n) & 0x7ffn);
-      let m = b & ((1n << 52n) - 1n);
-      if (e) m |= 1n << 52n;
-      const ex = (e || 1) - 1075;
-      return ex >= 0 ? [m << BigInt(ex), 0] : [m * 5n ** BigInt(-ex), ex];
-    };
     const midpoint = (x: number): string => {
       f64[0] = x;
       u64[0] += 1n;
@@ -349,16 +352,6 @@ describe('points CSV into one typed array (parsePointsFlat)', () => {
     const rnd = rng(4217);
     const f64 = new Float64Array(1);
     const u64 = new BigUint64Array(f64.buffer);
-    /** x > 0 finite as [D, E] with x = D·10^E exactly */
-    const exact = (x: number): [bigint, number] => {
-      f64[0] = x;
-      const b = u64[0];
-      const e = Number((b >> 52n) & 0x7ffn);
-      let m = b & ((1n << 52n) - 1n);
-      if (e) m |= 1n << 52n;
-      const ex = (e || 1) - 1075;
-      return ex >= 0 ? [m << BigInt(ex), 0] : [m * 5n ** BigInt(-ex), ex];
-    };
     /** the fixed-notation text of D·10^E (E < 0), e.g. 0.000123 */
     const fixed = (D: bigint, E: number): string => {
       const t = D.toString().padStart(-E + 1, '0');

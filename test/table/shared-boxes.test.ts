@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { BOX_BLOCK, boxJob, jobBoxes, workOnBoxes } from '../../src/table/shared-boxes.js';
 import { indexToBytes } from '../../src/table/boxindex.js';
 import { tableLocator } from '../../src/table/locator.js';
-import { lpMaximizeReference } from '../../src/lp/reference.js';
+import { referenceBox } from '../helpers/lp-box.js';
 import { arrangementTable } from '../emit/synthetic.js';
 
 // References: javascript-lp-solver (an npm simplex, through the thin adapter lpMaximizeReference)
@@ -25,19 +25,14 @@ describe('box LPs shared between threads (shared-boxes.ts)', () => {
     expect(workOnBoxes(job)).toBe(0);
     const boxes = jobBoxes(job, t.box.lower, t.box.upper);
     t.regions.forEach((r, i) => {
-      const m = r.b.length;
-      const A = Float64Array.from(r.A.flat());
+      const ref = referenceBox(r.A, r.b);
+      expect(ref.optimal).toBe(true);
       for (let j = 0; j < n; j++) {
-        const c = new Float64Array(n);
-        c[j] = 1;
-        const up = lpMaximizeReference(c, A, r.b, m, n);
-        c[j] = -1;
-        const dn = lpMaximizeReference(c, A, r.b, m, n);
         // padded by pad; the solver reports its optimum to ~1e-9
-        expect(boxes[i].hi[j]).toBeGreaterThanOrEqual(up.value + pad - 1e-8);
-        expect(boxes[i].hi[j]).toBeLessThanOrEqual(up.value + pad + 1e-7);
-        expect(boxes[i].lo[j]).toBeLessThanOrEqual(-dn.value - pad + 1e-8);
-        expect(boxes[i].lo[j]).toBeGreaterThanOrEqual(-dn.value - pad - 1e-7);
+        expect(boxes[i].hi[j]).toBeGreaterThanOrEqual(ref.hi[j] + pad - 1e-8);
+        expect(boxes[i].hi[j]).toBeLessThanOrEqual(ref.hi[j] + pad + 1e-7);
+        expect(boxes[i].lo[j]).toBeLessThanOrEqual(ref.lo[j] - pad + 1e-8);
+        expect(boxes[i].lo[j]).toBeGreaterThanOrEqual(ref.lo[j] - pad - 1e-7);
       }
     });
     const key = { table: 'test' };

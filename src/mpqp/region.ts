@@ -98,7 +98,7 @@ export interface RegionVertices {
   t: Int32Array;
 }
 export type RegionResult =
-  | { ok: true; region: Omit<CriticalRegion, 'id'>; bbox: BoundingBox; /** the region's vertex list when the vertex pass made it exactly (nθ ≥ 3), else null */ verts: RegionVertices | null }
+  | { ok: true; region: CriticalRegion; bbox: BoundingBox; /** the region's vertex list when the vertex pass made it exactly (nθ ≥ 3), else null */ verts: RegionVertices | null }
   | { ok: false; reason: RegionFailure };
 
 export interface LpEngine {
@@ -360,29 +360,108 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     b.push(bf[r]);
     facets.push({ kind: kindNames[kinds[r]], row: rowOf[r], neighbours: [] });
   }
-  // affine law, and (unless lean) the whole move sequence and the value function
-  const rowsOut = lean ? lawSize : nz;
-  const movesF: number[][] = [];
-  for (let i = 0; i < rowsOut; i++) {
+  // the affine law as arrays; unless lean, the whole move sequence and the value function packed
+  // in one view of a shared block (`packMovesValue`), read as arrays through accessors
+  const lawF: number[][] = [];
+  for (let i = 0; i < lawSize; i++) {
     const row = new Array<number>(nt);
     for (let j = 0; j < nt; j++) row[j] = Zth[i * nt + j];
-    movesF.push(row);
+    lawF.push(row);
   }
-  const movesG = new Array<number>(rowsOut);
-  for (let i = 0; i < rowsOut; i++) movesG[i] = zc[i];
-  const region: Omit<CriticalRegion, 'id'> = {
+  const lawG = new Array<number>(lawSize);
+  for (let i = 0; i < lawSize; i++) lawG[i] = zc[i];
+  // id first (−1 until the caller numbers it): the keys in the order of the table
+  const region: CriticalRegion = {
+    id: -1,
     activeSet: sortRows(activeSet.slice()),
     A,
     b,
     facets,
     chebyshev: { center: plainCopy(ball.center, nt), radius: ball.radius },
-    law: { F: movesF.slice(0, lawSize), g: movesG.slice(0, lawSize) },
+    law: { F: lawF, g: lawG },
   };
   if (!lean) {
-    region.moves = { F: movesF, g: movesG };
-    region.value = valueFunction(problem, Zth, zc);
+    const P = keptArena.f64(nz * (nt + 1) + nt * nt + nt + 1);
+    P.set(Zth.subarray(0, nz * nt));
+    P.set(zc.subarray(0, nz), nz * nt);
+    valueFunction(problem, Zth, zc, P, nz * (nt + 1));
+    packMovesValue(region, P);
   }
   return { ok: true, region, bbox: thin.bbox, verts };
+}
+
+/**
+ * The doubles a full region keeps besides its rows and law, packed: moves F (nz × nθ, row-major),
+ * moves g (nz), value Q (nθ × nθ), q (nθ), r — the order of a RegionStore record. Views of 1 MiB
+ * blocks (one arena per thread): a region's move sequence as nz arrays of nθ numbers was most of
+ * what it kept on the heap (~3.4 kB of ~6 kB per region on a 2-D problem with nz = 40), all of it
+ * copied twice by the young-generation collector while the exploration runs.
+ */
+const keptArena = new Arena();
+/** The packed doubles of a full region built here (non-enumerable: spread, JSON and Object.keys skip it). */
+export const PACKED_TAIL: unique symbol = Symbol('tessera.packedTail');
+type PackedRegion = CriticalRegion & { [PACKED_TAIL]?: Float64Array };
+
+/** `rows` rows of n numbers from P at `at` (plain arrays). */
+function rowsOf(P: Float64Array, at: number, rows: number, n: number): number[][] {
+  const out: number[][] = [];
+  for (let i = 0; i < rows; i++) {
+    const row = new Array<number>(n);
+    for (let j = 0; j < n; j++) row[j] = P[at + i * n + j];
+    out.push(row);
+  }
+  return out;
+}
+function plainSlice(P: Float64Array, at: number, n: number): number[] {
+  const out = new Array<number>(n);
+  for (let j = 0; j < n; j++) out[j] = P[at + j];
+  return out;
+}
+/** nz of a packed tail of length len for nθ = nt */
+const packedNz = (len: number, nt: number): number => (len - nt * nt - nt - 1) / (nt + 1);
+/** `moves` of a packed region: new arrays on every read (the same numbers) */
+function readMoves(this: PackedRegion): CriticalRegion['moves'] {
+  const P = this[PACKED_TAIL]!;
+  const nt = this.chebyshev.center.length;
+  const nz = packedNz(P.length, nt);
+  return { F: rowsOf(P, 0, nz, nt), g: plainSlice(P, nz * nt, nz) };
+}
+/** `value` of a packed region: new arrays on every read (the same numbers) */
+function readValue(this: PackedRegion): CriticalRegion['value'] {
+  const P = this[PACKED_TAIL]!;
+  const nt = this.chebyshev.center.length;
+  const at = packedNz(P.length, nt) * (nt + 1);
+  return { Q: rowsOf(P, at, nt, nt), q: plainSlice(P, at + nt * nt, nt), r: P[at + nt * nt + nt] };
+}
+/** A region's value written over (a copy with the same keys, as a plain data property) */
+function writeMoves(this: PackedRegion, v: CriticalRegion['moves']): void {
+  const value = this.value;
+  Object.defineProperty(this, 'moves', { value: v, writable: true, enumerable: true, configurable: true });
+  Object.defineProperty(this, 'value', { value, writable: true, enumerable: true, configurable: true });
+  delete this[PACKED_TAIL];
+}
+function writeValue(this: PackedRegion, v: CriticalRegion['value']): void {
+  const moves = this.moves;
+  Object.defineProperty(this, 'moves', { value: moves, writable: true, enumerable: true, configurable: true });
+  Object.defineProperty(this, 'value', { value: v, writable: true, enumerable: true, configurable: true });
+  delete this[PACKED_TAIL];
+}
+
+/**
+ * Give a region `moves` and `value` read from its packed doubles: own enumerable accessors (the
+ * same getter functions for every region, so the regions share one hidden class), reached by
+ * JSON.stringify, spread, structured clone and Object.keys as data members would be; a write
+ * turns them into plain data members.
+ */
+function packMovesValue(region: CriticalRegion, P: Float64Array): void {
+  Object.defineProperty(region, PACKED_TAIL, { value: P, writable: true, enumerable: false, configurable: true });
+  Object.defineProperty(region, 'moves', { get: readMoves, set: writeMoves, enumerable: true, configurable: true });
+  Object.defineProperty(region, 'value', { get: readValue, set: writeValue, enumerable: true, configurable: true });
+}
+
+/** The packed moves and value of a region built here (moves F, g, value Q, q, r), or undefined. */
+export function packedTail(R: CriticalRegion): Float64Array | undefined {
+  return (R as PackedRegion)[PACKED_TAIL];
 }
 
 const kindNames: readonly FacetInfo['kind'][] = ['primal', 'dual', 'box'];
@@ -429,8 +508,8 @@ let hzScratch = new Float64Array(0);
 let scaleD = new Float64Array(0);
 let scaleS = new Float64Array(0);
 
-/** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r. */
-function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array): CriticalRegion['value'] {
+/** J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ with z = Zθ + zc, written as θᵀQθ + qᵀθ + r: Q (row-major), q and r written to out[at …]. */
+function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array, out: Float64Array, at: number): void {
   const { nz, ntheta: nt, H, F, Y, c } = problem;
   // every entry written below before it is read; nothing of it outlives the call
   if (hzScratch.length < nz * nt) hzScratch = new Float64Array(2 * nz * nt);
@@ -494,9 +573,8 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
       HZ[i * nt + j] = s;
     }
   }
-  const Q: number[][] = [];
+  // Q row-major at out[at …], then q, then r
   for (let i = 0; i < nt; i++) {
-    const row: number[] = [];
     for (let j = 0; j < nt; j++) {
       let zhz = 0;
       let zf = 0;
@@ -506,15 +584,13 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
         zf += Z[q * nt + i] * F[q * nt + j];
         fz += Z[q * nt + j] * F[q * nt + i];
       }
-      row.push(0.5 * zhz + 0.5 * (zf + fz) + 0.5 * Y[i * nt + j]);
+      out[at + i * nt + j] = 0.5 * zhz + 0.5 * (zf + fz) + 0.5 * Y[i * nt + j];
     }
-    Q.push(row);
   }
-  const q: number[] = [];
   for (let j = 0; j < nt; j++) {
     let s = 0;
     for (let i = 0; i < nz; i++) s += zc[i] * (HZ[i * nt + j] + F[i * nt + j]) + c[i] * Z[i * nt + j];
-    q.push(s);
+    out[at + nt * nt + j] = s;
   }
   let r = 0;
   for (let i = 0; i < nz; i++) {
@@ -522,7 +598,7 @@ function valueFunction(problem: MpqpProblem, Z: Float64Array, zc: Float64Array):
     const hz = 0.5 * zc[i]; // (0.5·zc_i)·H_ip·zc_p, left to right as before
     for (let p = 0; p < nz; p++) r += hz * H[i * nz + p] * zc[p];
   }
-  return { Q, q, r };
+  out[at + nt * nt + nt] = r;
 }
 
 /**

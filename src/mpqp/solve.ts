@@ -184,7 +184,9 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       return dup;
     }
     const id = regions.length;
-    regions.push({ id, ...res.region });
+    // the built object itself (a spread would read its packed moves and value into arrays)
+    res.region.id = id;
+    regions.push(res.region);
     adjacent.push([]);
     vertsOf.push(res.verts);
     // the box kept as two views of a shared block (two typed arrays of their own cost ~0.5 kB)

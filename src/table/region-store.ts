@@ -14,6 +14,7 @@
  * object it is.
  */
 import type { CriticalRegion, FacetInfo } from '../mpqp/types.js';
+import { packedTail } from '../mpqp/region.js';
 
 /** A box holding a region (as the exploration reports it). */
 export interface StoredBox {
@@ -105,8 +106,12 @@ export class RegionStore {
       const a = x as { F: unknown; g: unknown };
       return !!a && Object.keys(a).join(',') === 'F,g' && Array.isArray(a.g) && Array.isArray(a.F) && a.F.length === a.g.length && (a.F as unknown[]).every((r) => Array.isArray(r) && r.length === nt);
     };
-    if (!affine(R.law) || (full && !affine(R.moves))) return false;
-    if (full) {
+    // a region built by buildRegion keeps moves and value packed, in the record's order (read as is)
+    const P = full ? packedTail(R) : undefined;
+    if (P) {
+      if (!affine(R.law) || (P.length - nt * nt - nt - 1) % (nt + 1) !== 0) return false;
+    } else if (!affine(R.law) || (full && !affine(R.moves))) return false;
+    if (full && !P) {
       const v = R.value!;
       if (!v || Object.keys(v).join(',') !== 'Q,q,r' || typeof v.r !== 'number' || !Array.isArray(v.q) || v.q.length !== nt || !Array.isArray(v.Q) || v.Q.length !== nt || !v.Q.every((r) => Array.isArray(r) && r.length === nt)) return false;
     }
@@ -270,7 +275,8 @@ function recordSizes(R: CriticalRegion, box: StoredBox): { ni: number; nf: numbe
   const m = R.b.length;
   const full = R.moves !== undefined;
   const lawRows = R.law.g.length;
-  const movesRows = full ? R.moves!.g.length : 0;
+  const P = full ? packedTail(R) : undefined;
+  const movesRows = !full ? 0 : P ? (P.length - nt * nt - nt - 1) / (nt + 1) : R.moves!.g.length;
   let ni = 6 + R.activeSet.length + (full ? 1 : 0);
   for (const fi of R.facets) ni += 3 + fi.neighbours.length;
   const nf = (m + 1) * (nt + 1) + (lawRows + movesRows) * (nt + 1) + (full ? nt * nt + nt + 1 : 0) + 2 * nt;
@@ -301,14 +307,19 @@ function writeRecord(R: CriticalRegion, box: StoredBox, I: Int32Array, ip: numbe
     for (const n of fi.neighbours) I[ip++] = n;
   }
   I[ip++] = R.law.g.length;
-  if (full) I[ip++] = R.moves!.g.length;
+  const P = full ? packedTail(R) : undefined;
+  if (full) I[ip++] = P ? (P.length - nt * nt - nt - 1) / (nt + 1) : R.moves!.g.length;
   for (const a of R.A) for (const v of a) F[fp++] = v;
   for (const v of R.b) F[fp++] = v;
   for (const v of R.chebyshev.center) F[fp++] = v;
   F[fp++] = R.chebyshev.radius;
   for (const r of R.law.F) for (const v of r) F[fp++] = v;
   for (const v of R.law.g) F[fp++] = v;
-  if (full) {
+  if (P) {
+    // moves F, g and value Q, q, r: the record's order
+    F.set(P, fp);
+    fp += P.length;
+  } else if (full) {
     for (const r of R.moves!.F) for (const v of r) F[fp++] = v;
     for (const v of R.moves!.g) F[fp++] = v;
     const V = R.value!;

@@ -28,10 +28,20 @@ export class GridLocator {
   private readonly lo: Float64Array;
   private readonly width: Float64Array;
   private readonly maxLevel: number;
-  /** per level: cell key → the cell's list (an index into `lists`), in a typed open-addressing hash */
+  /** per level: cell key → the cell's list (an index into `listStart`), in a typed open-addressing hash */
   private readonly levels: CellHash[] = [];
-  /** every listed cell's region ids (ascending), all levels */
-  private readonly lists: number[][] = [];
+  /**
+   * every listed cell's region ids (ascending), all levels: list c is pool[listStart[c] …
+   * listStart[c] + listLen[c]), room for listCap[c]; a full list moves to the pool's end with twice
+   * the room (the space it leaves is not reused). Typed arrays instead of an array per cell: in 4-D a
+   * region is listed in up to 256 cells, and the lists were most of what the locator kept on the heap.
+   */
+  private pool: Int32Array = new Int32Array(1024);
+  private poolUsed = 0;
+  private listStart: Int32Array = new Int32Array(64);
+  private listLen: Int32Array = new Int32Array(64);
+  private listCap: Int32Array = new Int32Array(64);
+  private listCount = 0;
   /** levels that hold a region, ascending */
   private readonly usedLevels: number[] = [];
   private readonly cellsPerAxis: number[] = [];
@@ -152,11 +162,8 @@ export class GridLocator {
         let key = 0;
         for (let j = n - 1; j >= 0; j--) key = key * d + idx[j];
         const at = cells.get(key);
-        if (at >= 0) this.lists[at].push(id);
-        else {
-          cells.set(key, this.lists.length);
-          this.lists.push([id]);
-        }
+        if (at >= 0) this.listPush(at, id);
+        else cells.set(key, this.newList(id));
       }
       let j = 0;
       while (j < n && idx[j] === last[j]) {
@@ -167,6 +174,54 @@ export class GridLocator {
       idx[j]++;
     }
     return id;
+  }
+
+  /** `cap` entries at the pool's end (grown by doubling); their start. */
+  private poolTake(cap: number): number {
+    if (this.poolUsed + cap > this.pool.length) {
+      let n = this.pool.length * 2;
+      while (this.poolUsed + cap > n) n *= 2;
+      const g = new Int32Array(n);
+      g.set(this.pool.subarray(0, this.poolUsed));
+      this.pool = g;
+    }
+    const at = this.poolUsed;
+    this.poolUsed += cap;
+    return at;
+  }
+
+  /** A new cell list holding id; its index. */
+  private newList(id: number): number {
+    const c = this.listCount++;
+    if (c === this.listStart.length) {
+      const grow = (a: Int32Array): Int32Array => {
+        const g = new Int32Array(2 * a.length);
+        g.set(a);
+        return g;
+      };
+      this.listStart = grow(this.listStart);
+      this.listLen = grow(this.listLen);
+      this.listCap = grow(this.listCap);
+    }
+    const at = this.poolTake(4);
+    this.pool[at] = id;
+    this.listStart[c] = at;
+    this.listLen[c] = 1;
+    this.listCap[c] = 4;
+    return c;
+  }
+
+  /** Append id to cell list c. */
+  private listPush(c: number, id: number): void {
+    const len = this.listLen[c];
+    if (len === this.listCap[c]) {
+      const at = this.poolTake(2 * len);
+      this.pool.copyWithin(at, this.listStart[c], this.listStart[c] + len);
+      this.listStart[c] = at;
+      this.listCap[c] = 2 * len;
+    }
+    this.pool[this.listStart[c] + len] = id;
+    this.listLen[c] = len + 1;
   }
 
   /**
@@ -341,8 +396,9 @@ export class GridLocator {
       }
       const at = this.levels[L].get(key);
       if (at < 0) continue;
-      const ids = this.lists[at];
-      for (let k = 0; k < ids.length; k++) {
+      const ids = this.pool;
+      const k1 = this.listStart[at] + this.listLen[at];
+      for (let k = this.listStart[at]; k < k1; k++) {
         const r = ids[k];
         if (exact >= 0 && r >= exact) break;
         let outside = false;

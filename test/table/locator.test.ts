@@ -11,6 +11,7 @@ import { evaluateTable, locateSequential } from '../../src/table/table.js';
 import type { CriticalRegion } from '../../src/mpqp/types.js';
 import type { TableFile } from '../../src/table/format.js';
 import { tol } from '../../src/tol.js';
+import { rng } from '../helpers/solved.js';
 
 type Half = Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>;
 /** the half-plane {θ : s·θ1 ≤ c} of the box [−1, 1]², as a region */
@@ -183,5 +184,43 @@ describe('GridLocator: the row that last put a query outside a region is tried f
       }
       expect(checked).toBeGreaterThan(6000);
     }
+  });
+});
+
+describe('GridLocator: long cell lists (moved as they grow) give the answers of a scan', () => {
+  it('300 overlapping boxes, 3 000 queries: the rule written out here (lowest exact holder, else least residual within slack, ties lowest id)', () => {
+    // regions are axis-aligned boxes [l, u] in 2-D (rows ±e_j), many over the same cells, so a cell's
+    // list grows past 4, 8, 16, … ids and moves in the pool; the reference is a plain scan in this test
+    const rnd = rng(7);
+    const grid = new GridLocator([0, 0], [1, 1]);
+    const boxes: { lo: number[]; hi: number[] }[] = [];
+    for (let k = 0; k < 300; k++) {
+      const c = [0.3 + 0.4 * rnd(), 0.3 + 0.4 * rnd()];
+      const h = [0.02 + 0.2 * rnd(), 0.02 + 0.2 * rnd()];
+      const lo = [c[0] - h[0], c[1] - h[1]];
+      const hi = [c[0] + h[0], c[1] + h[1]];
+      boxes.push({ lo, hi });
+      grid.add([[1, 0], [-1, 0], [0, 1], [0, -1]], [hi[0], -lo[0], hi[1], -lo[1]], lo, hi);
+    }
+    const residual = (k: number, th: number[]): number => Math.max(th[0] - boxes[k].hi[0], boxes[k].lo[0] - th[0], th[1] - boxes[k].hi[1], boxes[k].lo[1] - th[1]);
+    const slack = 1e-3;
+    let holders = 0;
+    for (let q = 0; q < 3000; q++) {
+      const th = [rnd(), rnd()];
+      let want = -1;
+      for (let k = 0; k < boxes.length && want < 0; k++) if (residual(k, th) <= 0) want = k;
+      if (want < 0) {
+        let best = Infinity;
+        for (let k = 0; k < boxes.length; k++) {
+          const v = residual(k, th);
+          if (v <= slack && v < best) {
+            best = v;
+            want = k;
+          }
+        }
+      } else holders++;
+      expect(grid.locate(th, slack)).toBe(want);
+    }
+    expect(holders).toBeGreaterThan(1000);
   });
 });

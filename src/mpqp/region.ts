@@ -433,7 +433,7 @@ function readValue(this: PackedRegion): CriticalRegion['value'] {
   const at = packedNz(P.length, nt) * (nt + 1);
   return { Q: rowsOf(P, at, nt, nt), q: plainSlice(P, at + nt * nt, nt), r: P[at + nt * nt + nt] };
 }
-/** A region's value written over (a copy with the same keys, as a plain data property) */
+/** Writing `moves` (or `value`) makes both plain data members in place (same keys, same order), the other keeping its numbers. */
 function writeMoves(this: PackedRegion, v: CriticalRegion['moves']): void {
   const value = this.value;
   Object.defineProperty(this, 'moves', { value: v, writable: true, enumerable: true, configurable: true });

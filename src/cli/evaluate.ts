@@ -81,7 +81,7 @@ export function register(program: Command): void {
       // --index FILE, or --index alone (<table>.index): read, or built and written
       const indexPath = typeof cliOpts.index === 'string' ? cliOpts.index : cliOpts.index === true ? sidecarIndexPath(tablePath) : undefined;
       // a bad --index path fails before any work
-      if (indexPath) checkIndexPath(indexPath);
+      if (indexPath) checkIndexPath(indexPath, '--index', 'tessera evaluate');
       // neither --index nor --no-index: <table>.index is read when it is there and is this table's
       // index (checked against the table file's SHA-256 like --index), never written
       const sidecar = cliOpts.index === undefined && existsSync(sidecarIndexPath(tablePath)) ? sidecarIndexPath(tablePath) : undefined;

@@ -22,16 +22,16 @@ export function sidecarIndexPath(tablePath: string): string {
 
 /**
  * An index path given on the command line (`flag`): a file name ending in .index whose directory
- * accepts a new file (checked when the file is not there yet). With `refuseOther`, a file there that
- * is not an index file is refused now (it is never overwritten), before any work.
+ * accepts a new file (checked when the file is not there yet). A file there that is not an index file
+ * is refused now, before any work (it is never overwritten); `writer` names who writes index files
+ * in the message.
  */
-export function checkIndexPath(path: string, flag = '--index', refuseOther = false): void {
+export function checkIndexPath(path: string, flag = '--index', writer = 'tessera'): void {
   if (!path.toLowerCase().endsWith('.index')) throw new InputError(path, flag, `this keeps a ${INDEX_FILE_TAG} file; give a file name ending in .index`);
   if (!existsSync(path)) {
     checkOutputPath(path, flag, { kind: 'file', extensions: ['.index'], what: 'an index file' });
     return;
   }
-  if (!refuseOther) return;
   // the tag line only: a file that is not an index file at all is refused, anything else is rewritten
   let head: Buffer;
   try {
@@ -46,7 +46,7 @@ export function checkIndexPath(path: string, flag = '--index', refuseOther = fal
     throw new InputError(path, flag, `cannot read the file there (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
   }
   const read = indexFromBytes(head);
-  if ('problem' in read && read.problem === 'tag') throw new InputError(path, flag, `not a ${INDEX_FILE_TAG} file (${read.detail}); name a new file or an index file written by tessera`);
+  if ('problem' in read && read.problem === 'tag') throw new InputError(path, flag, `not a ${INDEX_FILE_TAG} file (${read.detail}); name a new file or an index file written by ${writer}`);
   checkOutputPath(path, flag, { kind: 'file', extensions: ['.index'], what: 'an index file' });
 }
 
@@ -142,6 +142,6 @@ export function indexOption(index: string | true | undefined, out: string): stri
   if (index === undefined) return null;
   const path = index === true ? sidecarIndexPath(out) : index;
   // a file there that is not an index file is refused now, before any work (never overwritten)
-  checkIndexPath(path, '--index', true);
+  checkIndexPath(path, '--index');
   return path;
 }

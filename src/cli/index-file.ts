@@ -4,7 +4,7 @@
  * the one way an index file of a table is made, shared by `evaluate --index`, `solve --index` and
  * `join --index`, so that every command writes the same bytes for the same table file.
  */
-import { closeSync, existsSync, openSync, readFileSync, readSync } from 'node:fs';
+import { closeSync, existsSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { createHash } from 'node:crypto';
 import { InputError } from '../io/errors.js';
 import { checkOutputPath } from '../io/output.js';
@@ -32,6 +32,7 @@ export function checkIndexPath(path: string, flag = '--index', writer = 'tessera
     checkOutputPath(path, flag, { kind: 'file', extensions: ['.index'], what: 'an index file' });
     return;
   }
+  if (statSync(path).isDirectory()) throw new InputError(path, flag, 'is a directory; give a file name to write');
   // the tag line only: a file that is not an index file at all is refused, anything else is rewritten
   let head: Buffer;
   try {

@@ -107,6 +107,8 @@ const PTS_UNKNOWN = pts('unknown.csv', 'omega,curent\n0.1,0.2\n');
 const PTS_TWICE = pts('twice.csv', 'omega,omega\n0.1,0.2\n');
 const PTS_MISSING = pts('missing.csv', 'current\n0.1\n');
 const NOT_INDEX = pts('not.index', 'omega,current\n0.1,0.2\n');
+// a directory named like an index file
+const RO_INDEX = join(cdir, 'dir.index');
 // a table beside a <table>.index that is not an index file (copied from T in beforeAll)
 const NOT_INDEX_TABLE = join(cdir, 'motor-copy.table.json');
 const INIT_OUT = pts('init-outside.csv', '0.5,0.1\n5,0.1\n');
@@ -158,6 +160,7 @@ const cliCases: CliCase[] = [
   { title: 'solve --index with another extension', args: ['solve', P, '-o', 'si.table.json', '--index', 'motor.json'], code: 2, stderr: `tessera: motor.json: --index: this keeps a tessera-index file; give a file name ending in .index\n`, absent: [join(cdir, 'si.table.json')] },
   { title: 'solve --index naming a file that is not an index (never overwritten)', args: ['solve', P, '-o', 'sn.table.json', '--index', NOT_INDEX], code: 2, stderr: `tessera: ${NOT_INDEX}: --index: not a tessera-index file (does not start with "tessera-index 1"); name a new file or an index file written by tessera\n`, absent: [join(cdir, 'sn.table.json')] },
   { title: 'solve --index in a directory that is a file', args: ['solve', P, '-o', 'sd.table.json', '--index', join(AFILE, 'x.index')], code: 2, stderr: `tessera: ${join(AFILE, 'x.index')}: --index: ${AFILE} is not a directory\n`, absent: [join(cdir, 'sd.table.json')] },
+  { title: 'solve --index naming a directory', args: ['solve', P, '-o', 'sr.table.json', '--index', RO_INDEX], code: 2, stderr: `tessera: ${RO_INDEX}: --index: is a directory; give a file name to write\n`, absent: [join(cdir, 'sr.table.json')] },
   { title: 'solve --index with --part (a part file has no index)', args: ['solve', P, '--part', '2/2', '-o', 'motor.part-2-of-2.json', '--index'], code: 2, stderr: usage('--index: a part file has no index; give --index to `tessera join` when joining the parts'), absent: [join(cdir, 'motor.part-2-of-2.json'), join(cdir, 'motor.part-2-of-2.json.index')] },
   { title: 'join --index with another extension', args: ['join', PART1, PART1, '-o', 'ji.table.json', '--index', 'ji.json'], code: 2, stderr: `tessera: ji.json: --index: this keeps a tessera-index file; give a file name ending in .index\n`, absent: [join(cdir, 'ji.table.json')] },
   { title: 'evaluate --index alone next to a table whose <table>.index is not an index file', args: ['evaluate', NOT_INDEX_TABLE, '--at', '0,0', '--index'], code: 2, stderr: `tessera: ${NOT_INDEX_TABLE}.index: --index: not a tessera-index file (does not start with "tessera-index 1"); name a new file or an index file written by tessera evaluate\n` },
@@ -199,6 +202,7 @@ beforeAll(async () => {
   if (made.status !== 0) throw new Error(`could not solve the catalogue's table: ${made.stderr}`);
   const part = await runAs(['solve', P, '--part', '1/2', '-o', PART1, '-q']);
   if (part.status !== 0) throw new Error(`could not solve the catalogue's part file: ${part.stderr}`);
+  mkdirSync(RO_INDEX);
   copyFileSync(T, NOT_INDEX_TABLE);
   writeFileSync(`${NOT_INDEX_TABLE}.index`, 'omega,current\n0.1,0.2\n');
   const lean = await runAs(['solve', P, '--lean', '-o', TL, '-q']);

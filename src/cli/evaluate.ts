@@ -7,13 +7,12 @@ import { endEvaluatePool, MIN_BYTES_PER_THREAD, startEvaluatePool, threadCpuSeco
 import { csvContext, evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, pointsFileHead, pointsHeaderColumns, SCAN_BELOW_POINTS, type EvaluateTimes, type FlatPoints } from '../table/points.js';
 import { closeSync, existsSync, fstatSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
-import { createHash } from 'node:crypto';
 import { checkOutputPath } from '../io/output.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { BoxIndex, indexFromBytes, indexToBytes, INDEX_FILE_TAG } from '../table/boxindex.js';
 import { tableBoxPad, tableLocator } from '../table/locator.js';
 import { boxJob, jobBoxes } from '../table/shared-boxes.js';
-import { tol } from '../tol.js';
+import { bytesSha256, checkIndexPath, currentIndex, indexKey, indexMatches, sidecarIndexPath, tableIndex } from './index-file.js';
 import type { TableFile } from '../table/format.js';
 import { isFullTable, readTableLaws, type EvaluatedTable } from '../table/evaluate-table.js';
 
@@ -75,16 +74,23 @@ export function register(program: Command): void {
     .option('--json', 'print JSON instead of CSV')
     .option('-q, --quiet', 'print the values only: no warnings')
     .option('--threads <n>', 'threads for the CSV output of --points (default: every core): the data lines split into n consecutive ranges, each located and formatted by its own thread (parsed by the workers while the table is read; the k-d tree built once, its box LPs shared); the same bytes for every n', positive('--threads', true))
-    .option('--index <file>', 'keep the point-location index (k-d tree) of the table in FILE.index: read it when it is the index of this table file (its SHA-256), else build it and write it there; a later run then skips the build')
+    .option('--index [file]', 'keep the point-location index (k-d tree) of the table in FILE.index (without FILE: <table>.index): read it when it is the index of this table file (its SHA-256), else build it and write it there; a later run then skips the build')
+    .option('--no-index', 'do not read <table>.index (without --index, evaluate reads it when it is there and is the index of this table file, e.g. written by `tessera solve --index`; it never writes it)')
     .option('--times', 'print to stderr where the time went: wall and CPU seconds per stage (start-up, table, points, index, locate, law, format, write) and points per second')
-    .action(async (tablePath: string, opts: EvaluateOpts) => {
+    .action(async (tablePath: string, cliOpts: EvaluateCliOpts) => {
+      // --index FILE, or --index alone (<table>.index): read, or built and written
+      const indexPath = typeof cliOpts.index === 'string' ? cliOpts.index : cliOpts.index === true ? sidecarIndexPath(tablePath) : undefined;
       // a bad --index path fails before any work
-      if (opts.index) checkIndexPath(opts.index);
+      if (indexPath) checkIndexPath(indexPath, '--index', 'tessera evaluate');
+      // neither --index nor --no-index: <table>.index is read when it is there and is this table's
+      // index (checked against the table file's SHA-256 like --index), never written
+      const sidecar = cliOpts.index === undefined && existsSync(sidecarIndexPath(tablePath)) ? sidecarIndexPath(tablePath) : undefined;
+      const opts: EvaluateOpts = { ...cliOpts, index: indexPath, sidecar };
       const clock = opts.times ? new StageClock() : null;
       // with threads, the workers start now: they load their modules and parse their ranges of the
       // points file while this thread reads the table
       const threads = opts.threads ?? availableParallelism();
-      const plan = threads > 1 && opts.points && !opts.json ? startThreaded(opts.points, tablePath, threads, opts.index ? (existsSync(opts.index) ? 'read' : 'build') : 'build') : null;
+      const plan = threads > 1 && opts.points && !opts.json ? startThreaded(opts.points, tablePath, threads, (indexPath && existsSync(indexPath)) || sidecar ? 'read' : 'build') : null;
       try {
         await evaluateAction(tablePath, opts, clock, plan);
       } finally {
@@ -93,8 +99,8 @@ export function register(program: Command): void {
     });
 }
 
-/** The options of `tessera evaluate`. */
-interface EvaluateOpts {
+/** The options of `tessera evaluate` as commander gives them (`index`: a file, true for `--index` alone, false for `--no-index`). */
+interface EvaluateCliOpts {
   points?: string;
   at?: string;
   json?: boolean;
@@ -102,7 +108,13 @@ interface EvaluateOpts {
   quiet?: boolean;
   times?: boolean;
   threads?: number;
+  index?: string | boolean;
+}
+
+/** The options of a run: `index` the index file to read or write (--index), `sidecar` the <table>.index to read if current (neither --index nor --no-index given, and the file is there). */
+interface EvaluateOpts extends Omit<EvaluateCliOpts, 'index'> {
   index?: string;
+  sidecar?: string;
 }
 
 /** A threaded CSV run under way: the workers parsing their ranges of the file's bytes (shared memory). */
@@ -186,9 +198,17 @@ function readShared(path: string): Buffer {
 
 /** The command's work once the workers (if any) are started and parsing (the caller ends them in any case). */
 async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: StageClock | null, plan: ThreadedPlan | null): Promise<void> {
-  // with --index (CSV output): the table's laws only, when the index file is this table file's index
-  const known = opts.index && !opts.json ? lawsWithIndex(tablePath, opts.index, clock) : null;
+  // with --index or <table>.index there (CSV output): the table's laws only, when the index file is this table file's index
+  const readIndex = opts.index ?? opts.sidecar;
+  let known = readIndex && !opts.json ? lawsWithIndex(tablePath, readIndex, clock) : null;
   const table: EvaluatedTable = known?.table ?? readTableFile(tablePath);
+  // <table>.index not taken above (another layout of the table, --json, or not this table's index):
+  // used when it is this table's index, else left alone with a note (a tree is built for the run as without it)
+  if (!known && opts.sidecar) {
+    const cur = currentIndex(fullTable(table), tablePath, opts.sidecar);
+    if ('index' in cur) known = { table, index: cur.index };
+    else if (!opts.quiet) process.stderr.write(`tessera: note: ${opts.sidecar} not used: ${cur.why} (tessera evaluate --index writes it again)\n`);
+  }
   clock?.lap('table');
   if (!opts.points && !opts.at) throw new InputError(CLI, '--points', 'give --points FILE.csv or --at v1,v2,…');
   if (plan && (await threadedAction(table, known?.index ?? null, tablePath, opts, clock, plan))) return;
@@ -205,11 +225,12 @@ async function evaluateAction(tablePath: string, opts: EvaluateOpts, clock: Stag
   let indexWall = 0;
   let indexCpu = 0;
   // without an index file (CSV, enough points for a tree): a tree for this run only (`oneRun`)
-  const oneRun = !opts.index && !opts.json && flat.count + points.length >= SCAN_BELOW_POINTS && isFullTable(table) && table.regions.length >= 32;
-  if (opts.index || oneRun) {
+  const oneRun = !known && !opts.index && !opts.json && flat.count + points.length >= SCAN_BELOW_POINTS && isFullTable(table) && table.regions.length >= 32;
+  if (known || opts.index || oneRun) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    if (opts.index) index = known ? known.index : indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
+    if (known) index = known.index;
+    else if (opts.index) index = indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet);
     else index = tableLocator(fullTable(table).regions, table.box.lower, table.box.upper, undefined, true);
     indexWall = (performance.now() - w0) / 1000;
     indexCpu = cpuSeconds() - c0;
@@ -303,7 +324,9 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
   let early: BoxIndex | null = null;
   let earlyWall = 0;
   let earlyCpu = 0;
-  if (plan.build && !known && isFullTable(table)) {
+  // (also with a <table>.index there that is not this table's index: the lines were then split for
+  // an index read back, but the tree for this run is built and its LPs shared all the same)
+  if (!known && isFullTable(table) && (plan.build || !opts.index)) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
     const job = boxJob(table.regions, n, tableBoxPad());
@@ -324,10 +347,11 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
   const clamp = !!opts.clamp;
   const times: EvaluateTimes = { index: earlyWall, locate: 0, law: 0, format: 0, cpu: { index: earlyCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
   let index: BoxIndex | null = total >= SCAN_BELOW_POINTS ? early : null;
-  if (opts.index) {
+  if (known) index = known;
+  else if (opts.index) {
     const w0 = performance.now();
     const c0 = cpuSeconds();
-    index = known ?? indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
+    index = indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
     times.index += (performance.now() - w0) / 1000;
     times.cpu!.index += cpuSeconds() - c0;
   }
@@ -348,30 +372,6 @@ function warnings(table: EvaluatedTable, tablePath: string, opts: EvaluateOpts, 
     process.stderr.write(`tessera: warning: ${tablePath} is INCOMPLETE (stopped: ${table.stats.stopReason}); points may fall in no region\n`);
   if (!opts.quiet && clamp && !hasInputLimits(table.inputLimits, table.dims.nu))
     process.stderr.write(`tessera: warning: ${tablePath} has no finite input limit; --clamp changes nothing\n`);
-}
-
-/** `--index`: a file name ending in .index whose directory accepts a new file (checked when the file is not there yet). */
-function checkIndexPath(path: string): void {
-  if (!path.toLowerCase().endsWith('.index')) throw new InputError(path, '--index', `this keeps a ${INDEX_FILE_TAG} file; give a file name ending in .index`);
-  if (!existsSync(path)) checkOutputPath(path, '--index', { kind: 'file', extensions: ['.index'], what: 'an index file' });
-}
-
-/** "sha256:<hex>" of a file's bytes, read in 16 MiB pieces (a table can be larger than one string). */
-function fileSha256(path: string): string {
-  const hash = createHash('sha256');
-  const fd = openSync(path, 'r');
-  try {
-    const buf = Buffer.alloc(16 * 2 ** 20);
-    for (let got = readSync(fd, buf, 0, buf.length, null); got > 0; got = readSync(fd, buf, 0, buf.length, null)) hash.update(buf.subarray(0, got));
-  } finally {
-    closeSync(fd);
-  }
-  return `sha256:${hash.digest('hex')}`;
-}
-
-/** The key an index file of `tablePath` carries: the SHA-256 of the table's bytes, its size and the locator's parameters. */
-function indexKey(sha: string, regions: number, ntheta: number): Record<string, unknown> {
-  return { table: sha, regions, ntheta, locator: 'tableLocator', pad: 1e3 * tol.inside };
 }
 
 /** The table as read in full (the JSON path, the index build and the scan need its regions' half-spaces). */
@@ -400,12 +400,11 @@ function lawsWithIndex(tablePath: string, indexPath: string, clock: StageClock |
   } catch {
     return null;
   }
-  const sha = `sha256:${createHash('sha256').update(tableBytes).digest('hex')}`;
+  const sha = bytesSha256(tableBytes);
   if (read.key.table !== sha) return null;
   const table = readTableLaws(tableBytes, tablePath);
   if (!table) return null;
-  const key = indexKey(sha, table.regions.length, table.dims.ntheta);
-  if (JSON.stringify(read.key) !== JSON.stringify(key) || read.index.size !== table.regions.length || read.index.n !== table.dims.ntheta) return null;
+  if (!indexMatches(read, indexKey(sha, table.regions.length, table.dims.ntheta))) return null;
   clock?.lap('table and index (laws only)');
   return { table, index: read.index };
 }
@@ -418,7 +417,6 @@ function lawsWithIndex(tablePath: string, indexPath: string, clock: StageClock |
  * never overwritten.
  */
 function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet: boolean, boxes?: Parameters<typeof tableLocator>[3]): BoxIndex {
-  const key = indexKey(fileSha256(tablePath), table.regions.length, table.dims.ntheta);
   let why = 'written';
   if (existsSync(indexPath)) {
     let bytes: Uint8Array;
@@ -428,14 +426,14 @@ function indexFor(table: TableFile, tablePath: string, indexPath: string, quiet:
       throw new InputError(indexPath, '--index', `cannot read the index file (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
     }
     const read = indexFromBytes(bytes);
-    if ('problem' in read) {
-      if (read.problem === 'tag') throw new InputError(indexPath, '--index', `not a ${INDEX_FILE_TAG} file (${read.detail}); name a new file or an index file written by tessera evaluate`);
-      why = `rebuilt (${read.detail})`;
-    } else if (JSON.stringify(read.key) === JSON.stringify(key) && read.index.size === table.regions.length && read.index.n === table.dims.ntheta) return read.index;
-    else why = read.key.table !== key.table ? 'rebuilt (it was the index of another table file)' : 'rebuilt (it was built with other locator parameters)';
+    if ('problem' in read && read.problem === 'tag') throw new InputError(indexPath, '--index', `not a ${INDEX_FILE_TAG} file (${read.detail}); name a new file or an index file written by tessera evaluate`);
+    const cur = currentIndex(table, tablePath, indexPath, undefined, read);
+    if ('index' in cur) return cur.index;
+    why = `rebuilt (${cur.why})`;
     checkOutputPath(indexPath, '--index', { kind: 'file', extensions: ['.index'], what: 'an index file' });
   }
-  const index = tableLocator(table.regions, table.box.lower, table.box.upper, boxes);
+  // the index every command writes for this table file (src/cli/index-file.ts)
+  const { index, key } = tableIndex(tablePath, table, boxes);
   writeFileAtomic(indexPath, indexToBytes(index, key));
   if (!quiet) process.stderr.write(`tessera: index ${indexPath} ${why}\n`);
   return index;

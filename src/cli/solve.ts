@@ -15,7 +15,8 @@ import { InputError } from '../io/errors.js';
 import { formulateFeasible, setupSize } from '../table/solve.js';
 import { checkOutputPath } from '../io/output.js';
 import { EXIT } from './exit.js';
-import { coverLines, createdNote, positive, SECONDS } from './common.js';
+import { CLI, coverLines, createdNote, positive, SECONDS } from './common.js';
+import { indexOption, sidecarIndexPath, writeIndexAfter } from './index-file.js';
 
 export function defaultTablePath(problemPath: string): string {
   const base = basename(problemPath).replace(/\.(json|ya?ml)$/i, '');
@@ -100,6 +101,7 @@ export function register(program: Command): void {
     .option(`--checkpoint-every ${SECONDS}`, 'seconds between checkpoints (default 30)', positive('--checkpoint-every', false), 30)
     .option('--resume <file>', 'continue from a checkpoint of this problem (and go on writing it, unless --checkpoint names another file)')
     .option('--lean', 'lean table: per region the law of u(0), half-spaces, active set and neighbours, without the move sequence and the value function (about half the size; map --heat cost and the audit stability check need a full table)')
+    .option('--index [file]', 'also write the point-location index (k-d tree) of the table, once the table is written: to FILE.index, or without FILE to <table>.index, where `tessera evaluate` finds it (the bytes `tessera evaluate --index` writes; built after the time limit\'s work, not bounded by it)')
     .option('-q, --quiet', 'print nothing but errors')
     .action(async (problemPath: string, opts: SolveCliOptions) => {
       // the workers start first: their start-up and module loading overlap reading and setting up
@@ -113,7 +115,18 @@ export function register(program: Command): void {
       process.on('SIGINT', onSigint);
       const pool = startThreadPool(threads);
       try {
-        await solveCommand(problemPath, opts, pool, tStart, sigint);
+        // the table written (a whole table, not a part) and the index file to write for it
+        const written = await solveCommand(problemPath, opts, pool, tStart, sigint);
+        // the index once solveCommand has returned: the solve's regions are no longer held while the
+        // table is read back and its tree built (peak memory)
+        if (written?.index) {
+          await signalsDelivered();
+          if (sigint.count > 0) {
+            process.stderr.write(`tessera: interrupted: the table was written to ${written.table}; its index was not written (\`tessera evaluate ${written.table} --index${written.index === sidecarIndexPath(written.table) ? '' : ` ${written.index}`}\` writes it)\n`);
+            process.exit(EXIT.interrupted);
+          }
+          writeIndexAfter(written.table, written.index, { quiet: opts.quiet, live: process.stderr.isTTY && !opts.quiet });
+        }
       } finally {
         process.off('SIGINT', onSigint);
         void pool.terminate();
@@ -121,14 +134,17 @@ export function register(program: Command): void {
     });
 }
 
-type SolveCliOptions = { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean };
+type SolveCliOptions = { output?: string; maxRegions?: number; timeLimit?: number; lp: string; quiet?: boolean; setupLimit: number; force?: boolean; threads?: number; part?: string; checkpoint?: string; checkpointEvery: number; resume?: string; lean?: boolean; index?: string | true };
 
-async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: ThreadPool, tStart: number, sigint: Interrupts): Promise<void> {
+/** The work of `tessera solve`; the table file written and the index file to write for it, or null when no whole table was written (a part file). */
+async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: ThreadPool, tStart: number, sigint: Interrupts): Promise<{ table: string; index: string | null } | null> {
   if (opts.lp !== 'kernel' && opts.lp !== 'reference')
     throw new InputError('(command line)', '--lp', `expected "kernel" or "reference", got "${opts.lp}"`);
   let part = opts.part === undefined ? null : parsePartIndex(opts.part);
   const out = opts.output ?? (part ? defaultPartPath(problemPath, part) : defaultTablePath(problemPath));
   const created = checkOutputPath(out, opts.output ? '-o' : 'default output', { kind: 'file', extensions: ['.json'], what: part ? 'a JSON part file' : 'a JSON table' });
+  if (opts.index !== undefined && part) throw new InputError(CLI, '--index', 'a part file has no index; give --index to `tessera join` when joining the parts');
+  const indexPath = indexOption(opts.index, out);
   const checkpointPath = opts.checkpoint ?? opts.resume;
   if (opts.checkpoint) checkOutputPath(opts.checkpoint, '--checkpoint', { kind: 'file', extensions: ['.json'], what: 'a JSON checkpoint' });
   const loaded = loadProblem(problemPath);
@@ -141,6 +157,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     if (opts.part !== undefined && !same(cp.part, part))
       throw new InputError(opts.resume, 'part', `the checkpoint explores ${cp.part ? `part ${cp.part.index}/${cp.part.count}` : 'the whole box'}, not ${part ? `part ${part.index}/${part.count}` : 'the whole box'}`);
     if (opts.lean && !cp.lean) throw new InputError(opts.resume, 'lean', 'the checkpoint holds full regions; resume it without --lean (or start again with --lean)');
+    if (cp.part && indexPath) throw new InputError(opts.resume, 'part', `the checkpoint explores part ${cp.part.index}/${cp.part.count}, which writes a part file: it has no index; give --index to \`tessera join\``);
     part = cp.part;
     resume = cp.state;
     resumeSubBoxes = cp.subBoxes ?? null;
@@ -229,7 +246,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
     await signalsDelivered();
     if (sigint.count > 0) interrupted(partition.stats.regions, (performance.now() - tStart) / 1000);
     writeFileAtomic(out, JSON.stringify(makePart(loaded, mpqp.box, part, partition, lean)));
-    if (opts.quiet) return;
+    if (opts.quiet) return null;
     if (created) createdNote(created);
     const s = partition.stats;
     process.stdout.write(
@@ -237,7 +254,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
         (s.complete ? `  complete: yes — part file written to ${out}; join all ${part.count} with: tessera join PART... -o TABLE\n` : `  complete: NO (stopped: ${s.stopReason}) — the part file written to ${out} is INCOMPLETE\n`) +
         coverLines(s).map((l) => `${l}\n`).join(''),
     );
-    return;
+    return null;
   }
   // the canonical form: both its steps are bounded by the same time limit (a cut one marks the
   // table incomplete) and show progress, with the time left; this thread does it alone (shares on
@@ -267,7 +284,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   const table = makeTable(loaded, formulation, canonical, { lean });
   writeTableFile(out, table);
   const tEnd = performance.now();
-  if (opts.quiet) return;
+  if (opts.quiet) return { table: out, index: indexPath };
   if (created) createdNote(created);
   const s = canonical.stats;
   const lines = [
@@ -283,6 +300,7 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
   ];
   lines.push(...coverLines(s));
   process.stdout.write(lines.join('\n') + '\n');
+  return { table: out, index: indexPath };
 }
 
 /** "8 free moves, 2 state slacks" — the z blocks and the features, in words. */

@@ -12,7 +12,9 @@
  *    under `node --cpu-prof` summarised as self time per function; each with `--threads 1` and 2 (the
  *    data lines split over two threads, each parsing, locating and formatting its range: the default
  *    on this 2-core machine), at 7 digits also with `--index` (the k-d tree read from the file an
- *    earlier run wrote) on 1 and 2 threads; the locator against the
+ *    earlier run wrote) on 1 and 2 threads, and on the table a cold `tessera solve --index` wrote
+ *    (same fixture and region count) with no index option, its <table>.index read: the first
+ *    evaluate after a solve that wrote the index (SUMMARY: "index written at solve"); the locator against the
  *    sequential scan on a few thousand (target ≥ 10⁶ points/s wall). In-process stages print
  *    wall/CPU seconds; each cold CLI run is made with `--times` and its stage line is printed; a
  *    SUMMARY line gives the three measures side by side (warm locate per CPU second and wall, cold
@@ -121,7 +123,7 @@ function evaluateBench(): void {
   const n = table.dims.ntheta;
   const packed = new Float64Array(pts.length * n);
   pts.forEach((p, k) => packed.set(p, k * n));
-  const best = { warmCpu: 0, warmWall: 0, cliWall: 0, cliCpu: 0, cliLine: '', cli2Wall: 0, cli2Cpu: 0, idxWall: 0, idxCpu: 0, idx2Wall: 0, idx2Cpu: 0, idx2Threads: '', tableFullCpu: Infinity, tableLawsCpu: Infinity };
+  const best = { warmCpu: 0, warmWall: 0, cliWall: 0, cliCpu: 0, cliLine: '', cli2Wall: 0, cli2Cpu: 0, idxWall: 0, idxCpu: 0, idx2Wall: 0, idx2Cpu: 0, idx2Threads: '', tableFullCpu: Infinity, tableLawsCpu: Infinity, solvedWall: 0, solved2Wall: 0, solved2Cpu: 0, solved17Wall: 0, solveIndex: '' };
   for (const round of [1, 2, 3]) {
     const a = timed(() => {
       let f = 0;
@@ -157,6 +159,14 @@ function evaluateBench(): void {
   try {
     const tableFile = join(tmp, 'boom.table.json');
     writeFileSync(tableFile, tableToJson(table));
+    // the index written at solve: a cold `tessera solve --index` of the same fixture and region count
+    // (its own table: the CLI's canonical form and threads; the same box), which writes <table>.index;
+    // `evaluate` with no option then reads it. Its summary line says what the index added to the solve.
+    const solvedFile = join(tmp, 'solved.table.json');
+    const solveRun = cliStage(['solve', join(dir, 'boom-4d-n12.json'), '--max-regions', String(evalRegions), '--lean', '-o', solvedFile, '--index']);
+    const indexLine = solveRun.out.split('\n').find((l) => l.startsWith('  index: written')) ?? '(no index line)';
+    best.solveIndex = (/\(([\d.]+ MB, [\d.]+ s)\)/.exec(indexLine)?.[1] ?? '?').replace(' s', ' s at solve');
+    console.log(`  cold CLI solve --index (${evalRegions} regions, lean): exit ${solveRun.status}, ${solveRun.s.toFixed(1)} s wall, peak ${solveRun.mb.toFixed(0)} MB; load ${loadavg()[0].toFixed(1)}; ${indexLine.trim()}`);
     for (const digits of [7, 17]) {
       const ptsFile = join(tmp, `points-${digits}.csv`);
       writeFileSync(ptsFile, pointsCsv(table, pts, digits));
@@ -192,13 +202,15 @@ function evaluateBench(): void {
       // round also runs --threads 2 right after (paired: the same load, the same files)
       // with --index, the index file is written by the first run (round 0, not counted) and read by the next
       const indexFile = join(tmp, 'boom.index');
+      // `solved`: the table `solve --index` wrote, evaluated with no index option (its <table>.index read);
+      // the runs without an index say --no-index (nothing beside the bench's table, but explicit)
       for (const round of [1, 2])
-        for (const [threads, withIndex] of (digits === 7 ? [[1, false], [2, false], [1, true], [2, true]] : [[1, false], [2, false]]) as [number, boolean][]) {
-          const args = ['evaluate', tableFile, '--points', ptsFile, '-q', '--times', '--threads', String(threads), ...(withIndex ? ['--index', indexFile] : [])];
+        for (const [threads, withIndex, solved] of (digits === 7 ? [[1, false, false], [2, false, false], [1, true, false], [2, true, false], [1, false, true], [2, false, true]] : [[1, false, false], [2, false, false], [2, false, true]]) as [number, boolean, boolean][]) {
+          const args = ['evaluate', solved ? solvedFile : tableFile, '--points', ptsFile, '-q', '--times', '--threads', String(threads), ...(withIndex ? ['--index', indexFile] : solved ? [] : ['--no-index'])];
           if (withIndex && !existsSync(indexFile)) cliStage(args, join(tmp, 'out.csv'));
           const r = cliStage(args, join(tmp, 'out.csv'));
           console.log(
-            `  cold CLI, ${digits} significant digits, --threads ${threads}${withIndex ? ', --index (read)' : ''}, round ${round}: exit ${r.status}, ${r.s.toFixed(2)} s wall = ${(pts.length / r.s / 1e6).toFixed(2)} M points/s, peak ${r.mb.toFixed(0)} MB; load ${loadavg()[0].toFixed(1)}; target ≥ 1 M points/s`,
+            `  cold CLI, ${digits} significant digits, --threads ${threads}${withIndex ? ', --index (read)' : solved ? ', table and <table>.index of solve --index (no option)' : ', --no-index'}, round ${round}: exit ${r.status}, ${r.s.toFixed(2)} s wall = ${(pts.length / r.s / 1e6).toFixed(2)} M points/s, peak ${r.mb.toFixed(0)} MB; load ${loadavg()[0].toFixed(1)}; target ≥ 1 M points/s`,
           );
           // the process's own stage line (--times): wall/CPU seconds per stage
           const line = r.out.trim().split('\n').find((l) => l.startsWith('tessera: times'));
@@ -207,6 +219,15 @@ function evaluateBench(): void {
           const perThread = r.out.trim().split('\n').find((l) => l.startsWith('tessera: thread CPU'));
           if (perThread) console.log(`    ${perThread.replace('tessera: ', '')}`);
           const m = line ? / total ([\d.]+)\/([\d.]+) for/.exec(line) : null;
+          if (solved) {
+            if (digits === 17) best.solved17Wall = Math.max(best.solved17Wall, pts.length / r.s);
+            else if (threads === 1) best.solvedWall = Math.max(best.solvedWall, pts.length / r.s);
+            else if (m && pts.length / r.s > best.solved2Wall) {
+              best.solved2Wall = pts.length / r.s;
+              best.solved2Cpu = pts.length / Number(m[2]);
+            }
+            continue;
+          }
           // the table stage, one thread: read in full (no --index) or for its laws only (--index read back)
           const tm = line && threads === 1 ? (withIndex ? / table and index \(laws only\) [\d.]+\/([\d.]+),/ : /, table [\d.]+\/([\d.]+),/).exec(line) : null;
           if (tm && withIndex) best.tableLawsCpu = Math.min(best.tableLawsCpu, Number(tm[1]));
@@ -252,7 +273,7 @@ function evaluateBench(): void {
   const M = 3000;
   const mp = (x: number): string => (x / 1e6).toFixed(2);
   console.log(
-    `  SUMMARY evaluate on ${table.regions.length} regions, 10⁶ points (target ≥ 1 M points/s; load ${loadavg()[0].toFixed(1)}, 2 cores): warm locate ${mp(best.warmCpu)} M per CPU s, ${mp(best.warmWall)} M/s wall; cold CLI end to end (7 digits, best of 2) ${mp(best.cliWall)} M/s wall, ${mp(best.cliCpu)} M per CPU s; with --threads 2 ${mp(best.cli2Wall)} M/s wall, ${mp(best.cli2Cpu)} M per CPU s (every thread's CPU); with --index read from its file ${mp(best.idxWall)} M/s wall, ${mp(best.idxCpu)} M per CPU s; --index and --threads 2 ${mp(best.idx2Wall)} M/s wall, ${mp(best.idx2Cpu)} M per CPU s (${best.idx2Threads.replace('tessera: ', '')}); table stage, one thread, least CPU: read in full ${best.tableFullCpu.toFixed(2)} s, laws only (--index read back) ${best.tableLawsCpu.toFixed(2)} s (with the index file)`,
+    `  SUMMARY evaluate on ${table.regions.length} regions, 10⁶ points (target ≥ 1 M points/s; load ${loadavg()[0].toFixed(1)}, 2 cores): warm locate ${mp(best.warmCpu)} M per CPU s, ${mp(best.warmWall)} M/s wall; cold CLI end to end (7 digits, best of 2) ${mp(best.cliWall)} M/s wall, ${mp(best.cliCpu)} M per CPU s; with --threads 2 ${mp(best.cli2Wall)} M/s wall, ${mp(best.cli2Cpu)} M per CPU s (every thread's CPU); with --index read from its file ${mp(best.idxWall)} M/s wall, ${mp(best.idxCpu)} M per CPU s; --index and --threads 2 ${mp(best.idx2Wall)} M/s wall, ${mp(best.idx2Cpu)} M per CPU s (${best.idx2Threads.replace('tessera: ', '')}); index written at solve (solve --index: ${best.solveIndex}), then evaluate with no option: one thread ${mp(best.solvedWall)} M/s wall, --threads 2 ${mp(best.solved2Wall)} M/s wall, ${mp(best.solved2Cpu)} M per CPU s, 17 digits --threads 2 ${mp(best.solved17Wall)} M/s wall; table stage, one thread, least CPU: read in full ${best.tableFullCpu.toFixed(2)} s, laws only (--index read back) ${best.tableLawsCpu.toFixed(2)} s (with the index file)`,
   );
   let same = 0;
   const seq = timed(() => {

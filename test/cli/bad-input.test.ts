@@ -1,5 +1,5 @@
 import { spawn } from 'node:child_process';
-import { chmodSync, existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { chmodSync, copyFileSync, existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -107,6 +107,10 @@ const PTS_UNKNOWN = pts('unknown.csv', 'omega,curent\n0.1,0.2\n');
 const PTS_TWICE = pts('twice.csv', 'omega,omega\n0.1,0.2\n');
 const PTS_MISSING = pts('missing.csv', 'current\n0.1\n');
 const NOT_INDEX = pts('not.index', 'omega,current\n0.1,0.2\n');
+// a directory named like an index file
+const RO_INDEX = join(cdir, 'dir.index');
+// a table beside a <table>.index that is not an index file (copied from T in beforeAll)
+const NOT_INDEX_TABLE = join(cdir, 'motor-copy.table.json');
 const INIT_OUT = pts('init-outside.csv', '0.5,0.1\n5,0.1\n');
 const PART1 = join(cdir, 'motor.part-1-of-2.json');
 const CP_OTHER = pts('other.checkpoint.json', JSON.stringify({ format: 'tessera-checkpoint', version: 1, problemHash: 'sha256:00', part: null, state: { regions: [], boxes: [], done: [] } }));
@@ -152,6 +156,14 @@ const cliCases: CliCase[] = [
   { title: 'evaluate --index with another extension', args: ['evaluate', T, '--at', '0,0', '--index', 'motor.json'], code: 2, stderr: `tessera: motor.json: --index: this keeps a tessera-index file; give a file name ending in .index\n` },
   { title: 'evaluate --index naming a file that is not an index (never overwritten)', args: ['evaluate', T, '--at', '0,0', '--index', NOT_INDEX], code: 2, stderr: `tessera: ${NOT_INDEX}: --index: not a tessera-index file (does not start with "tessera-index 1"); name a new file or an index file written by tessera evaluate\n` },
   { title: 'evaluate --index in a directory that is a file', args: ['evaluate', T, '--at', '0,0', '--index', join(AFILE, 'x.index')], code: 2, stderr: `tessera: ${join(AFILE, 'x.index')}: --index: ${AFILE} is not a directory\n` },
+  // solve/join --index: the index path checked before any work, no table or index written
+  { title: 'solve --index with another extension', args: ['solve', P, '-o', 'si.table.json', '--index', 'motor.json'], code: 2, stderr: `tessera: motor.json: --index: this keeps a tessera-index file; give a file name ending in .index\n`, absent: [join(cdir, 'si.table.json')] },
+  { title: 'solve --index naming a file that is not an index (never overwritten)', args: ['solve', P, '-o', 'sn.table.json', '--index', NOT_INDEX], code: 2, stderr: `tessera: ${NOT_INDEX}: --index: not a tessera-index file (does not start with "tessera-index 1"); name a new file or an index file written by tessera\n`, absent: [join(cdir, 'sn.table.json')] },
+  { title: 'solve --index in a directory that is a file', args: ['solve', P, '-o', 'sd.table.json', '--index', join(AFILE, 'x.index')], code: 2, stderr: `tessera: ${join(AFILE, 'x.index')}: --index: ${AFILE} is not a directory\n`, absent: [join(cdir, 'sd.table.json')] },
+  { title: 'solve --index naming a directory', args: ['solve', P, '-o', 'sr.table.json', '--index', RO_INDEX], code: 2, stderr: `tessera: ${RO_INDEX}: --index: is a directory; give a file name to write\n`, absent: [join(cdir, 'sr.table.json')] },
+  { title: 'solve --index with --part (a part file has no index)', args: ['solve', P, '--part', '2/2', '-o', 'motor.part-2-of-2.json', '--index'], code: 2, stderr: usage('--index: a part file has no index; give --index to `tessera join` when joining the parts'), absent: [join(cdir, 'motor.part-2-of-2.json'), join(cdir, 'motor.part-2-of-2.json.index')] },
+  { title: 'join --index with another extension', args: ['join', PART1, PART1, '-o', 'ji.table.json', '--index', 'ji.json'], code: 2, stderr: `tessera: ji.json: --index: this keeps a tessera-index file; give a file name ending in .index\n`, absent: [join(cdir, 'ji.table.json')] },
+  { title: 'evaluate --index alone next to a table whose <table>.index is not an index file', args: ['evaluate', NOT_INDEX_TABLE, '--at', '0,0', '--index'], code: 2, stderr: `tessera: ${NOT_INDEX_TABLE}.index: --index: not a tessera-index file (does not start with "tessera-index 1"); name a new file or an index file written by tessera evaluate\n` },
   { title: 'evaluate --threads 0', args: ['evaluate', T, '--at', '0,0', '--threads', '0'], code: 2, stderr: usage('--threads: expected a positive integer, got "0"') },
   { title: 'solve --part outside 1..k', args: ['solve', P, '--part', '3/2'], code: 2, stderr: usage('--part: expected i/k with 1 ≤ i ≤ k (the i-th of k sub-boxes), got "3/2"') },
   { title: 'solve --resume from a checkpoint of another problem', args: ['solve', P, '--resume', CP_OTHER, '-o', 'r.table.json'], code: 2, stderr: `tessera: ${CP_OTHER}: problemHash: the checkpoint belongs to another problem than ${P}\n`, absent: [join(cdir, 'r.table.json')] },
@@ -190,6 +202,9 @@ beforeAll(async () => {
   if (made.status !== 0) throw new Error(`could not solve the catalogue's table: ${made.stderr}`);
   const part = await runAs(['solve', P, '--part', '1/2', '-o', PART1, '-q']);
   if (part.status !== 0) throw new Error(`could not solve the catalogue's part file: ${part.stderr}`);
+  mkdirSync(RO_INDEX);
+  copyFileSync(T, NOT_INDEX_TABLE);
+  writeFileSync(`${NOT_INDEX_TABLE}.index`, 'omega,current\n0.1,0.2\n');
   const lean = await runAs(['solve', P, '--lean', '-o', TL, '-q']);
   if (lean.status !== 0) throw new Error(`could not solve the catalogue's lean table: ${lean.stderr}`);
   let next = 0;

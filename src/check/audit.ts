@@ -203,12 +203,12 @@ export function checkIdentity(inp: AuditInputs): CheckResult<IdentityData> {
   if (data.recomputedHash !== data.problemHash) problems.push('the echoed problem does not match the recorded hash');
   if (data.problemFileHash && data.problemFileHash !== data.problemHash) problems.push('the --problem file is not the problem the table was built from');
   if (!data.complete) problems.push(`the table is INCOMPLETE (stopped: ${data.stopReason})`);
-  if (data.unresolvedPieces > 0) problems.push(`${data.unresolvedPieces} unresolved facet piece(s) in the exploration`);
+  if (data.unresolvedPieces > 0) problems.push(`${data.unresolvedPieces} unresolved facet(s): a piece the exploration gave up on that no region of the table covers`);
   return {
     name: 'Identity',
     verdict: problems.length ? 'FAIL' : 'PASS',
     line: problems.length ? problems.join('; ') : `problem hash verified, table complete, ${data.regions} regions`,
-    method: 'SHA-256 of the canonical JSON of the problem echoed in the table, recomputed and compared with the recorded hash; completeness and unresolved pieces from the table statistics.',
+    method: 'SHA-256 of the canonical JSON of the problem echoed in the table, recomputed and compared with the recorded hash; completeness and unresolved facets (pieces given up on in the exploration and not covered by the final regions, re-checked when the table was made) from the table statistics.',
     data,
   };
 }

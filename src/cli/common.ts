@@ -32,20 +32,31 @@ export function createdNote(dir: string, stream: 'stdout' | 'stderr' = 'stdout')
 }
 
 /**
- * The summary lines about the facet cover: the unresolved-pieces warning with its causes, and the
- * facets that left the vertex-list cover for the LP difference, by check (none when both are 0).
+ * The summary lines about the facet cover: the unresolved facets (a canonical partition's: those
+ * the final regions leave a piece of uncovered), the exploration's give-ups with their causes
+ * (diagnostics of the run, not stored in the table), and the facets that left the vertex-list cover
+ * for the LP difference, by check (none when all are 0). `s` without `giveUps` is an exploration's
+ * (a part file's), whose give-ups `join` re-checks.
  */
-export function coverLines(s: Pick<PartitionStats, 'unresolvedPieces' | 'causes'>): string[] {
+export function coverLines(s: Pick<PartitionStats, 'unresolvedPieces' | 'causes' | 'giveUps' | 'gaveUpAt'>): string[] {
   const c = sumCauses(s.causes);
   const lines: string[] = [];
-  if (s.unresolvedPieces > 0) {
+  const canonical = s.giveUps !== undefined;
+  const giveUps = canonical ? s.giveUps! : s.unresolvedPieces;
+  if (canonical && s.unresolvedPieces > 0)
+    lines.push(`  WARNING: ${s.unresolvedPieces} facet(s) keep a piece that no region of the table covers (the exploration gave up there, and the re-check against the final regions found it uncovered); run \`tessera gaps\` on the table`);
+  if (giveUps > 0) {
     const why = [
       [c.noRegion, 'no full-dimensional region could be built across'],
       [c.noSlice, 'no region reached held the piece'],
       [c.guard, 'a facet reached its bound of 1 000 landings'],
     ] as const;
     const said = why.filter(([n]) => n > 0).map(([n, t]) => `${n}: ${t}`);
-    lines.push(`  WARNING: ${s.unresolvedPieces} facet piece(s) could not be resolved into a full-dimensional region${said.length ? ` (${said.join('; ')})` : ''}; run \`tessera gaps\` on the table`);
+    const facets = s.gaveUpAt?.length ?? 0;
+    const after = canonical
+      ? `re-checked against the final regions: ${facets - s.unresolvedPieces} of those ${facets} facet(s) covered`
+      : '`tessera join` re-checks them against the final regions';
+    lines.push(`  exploration diagnostics (depend on the run; not in the table): ${giveUps} facet piece(s) given up on at ${facets} facet(s)${said.length ? ` (${said.join('; ')})` : ''}; ${after}`);
   }
   const fb = [
     [c.fallbackRank, 'a vertex without full-rank tight rows'],

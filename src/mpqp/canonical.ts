@@ -18,9 +18,9 @@
  */
 import { splitBox } from './split.js';
 import type { CriticalRegion, ExplorationWork, MpqpProblem, NeighbourWork, Partition, PartitionStats } from './types.js';
-import { sumCauses } from './types.js';
+import { sumCauses, witnessesOf } from './types.js';
 import type { LpEngine } from './region.js';
-import { overlapsFacet, slicePolytope } from './solve.js';
+import { overlapsFacet, parseWitnessKey, slicePolytope, uncoveredFacetPiece } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
@@ -200,10 +200,38 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
     return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
   });
   const sorted = entries.map((e) => e.region);
-  return { regions: sorted, boxes, lp, progress, shouldStop: options.shouldStop, finish: (neighbours, counts) => finishJoin(parts, sorted, boxes, neighbours, lp, closed, cut, counts) };
+  return { regions: sorted, boxes, lp, progress, shouldStop: options.shouldStop, finish: (neighbours, counts) => finishJoin(problem, parts, sorted, boxes, neighbours, lp, closed, cut, counts) };
+}
+
+/**
+ * The facets of `gaveUpAt` (witness keys of the runs joined) with a piece no region of the final
+ * partition covers (`uncoveredFacetPiece`): the table's `unresolvedPieces`. Each facet is tested
+ * whole, against every final region reaching its plane, so the answer depends on the partition and
+ * the facet only, not on where or how often a run gave up on it; a facet whose region is not in the
+ * partition (a bounded run's cut list) counts as unresolved. A run that covered the facet without
+ * giving up lists it nowhere; one that gave up next to a hole lists it, as every run must there.
+ */
+export function recheckGiveUps(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], gaveUpAt: readonly string[], lp: LpEngine): number {
+  if (gaveUpAt.length === 0) return 0;
+  const byKey = new Map<string, number>();
+  regions.forEach((R, i) => byKey.set(R.activeSet.join(','), i));
+  let scale = 0;
+  for (let j = 0; j < problem.ntheta; j++) scale = Math.max(scale, problem.box.upper[j] - problem.box.lower[j]);
+  let open = 0;
+  for (const w of gaveUpAt) {
+    const at = parseWitnessKey(w);
+    const id = at ? byKey.get(at.key) : undefined;
+    if (!at || id === undefined || at.facet >= regions[id].A.length) {
+      open++;
+      continue;
+    }
+    if (uncoveredFacetPiece(regions, boxes, id, at.facet, scale, lp)) open++;
+  }
+  return open;
 }
 
 function finishJoin(
+  problem: MpqpProblem,
   parts: readonly Partition[],
   sorted: readonly CriticalRegion[],
   boxes: { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
@@ -220,11 +248,15 @@ function finishJoin(
   }));
   const stats: PartitionStats = { regions: regions.length, candidates: 0, lps: lp.lps, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, thinRegions: regions.filter((R) => R.chebyshev.radius <= 10 * tol.radius).length };
   const work: ExplorationWork = { guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 };
+  let giveUps = 0;
+  const gaveUpAt = new Set<string>();
   for (const p of parts) {
     stats.candidates += p.stats.candidates;
     stats.lps += p.stats.lps;
     stats.qps += p.stats.qps;
-    stats.unresolvedPieces += p.stats.unresolvedPieces;
+    // a part's own count: a canonical one's exploration total, an exploration's give-ups
+    giveUps += p.stats.giveUps ?? p.stats.unresolvedPieces;
+    for (const w of witnessesOf(p.stats)) gaveUpAt.add(w);
     stats.causes = sumCauses(stats.causes, p.stats.causes);
     if (!p.stats.complete && stats.complete) {
       stats.complete = false;
@@ -233,6 +265,12 @@ function finishJoin(
     if (p.work) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += p.work[k];
   }
   stats.candidates += closed;
+  // the give-ups re-checked against the final regions: what the table stores (see `recheckGiveUps`)
+  stats.gaveUpAt = [...gaveUpAt].sort();
+  stats.giveUps = giveUps;
+  const lp0 = lp.lps;
+  stats.unresolvedPieces = recheckGiveUps(problem, regions, boxes, stats.gaveUpAt, lp);
+  stats.lps += lp.lps - lp0;
   if (cut && stats.complete) {
     // the closure was cut short: thin regions it would have added may be missing
     stats.complete = false;

@@ -1,7 +1,7 @@
-import { sumCauses, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
+import { sumCauses, witnessesOf, type CoverCauses, type CoverWork, type CriticalRegion, type ExplorationState, type ExplorationWork, type MpqpProblem, type Partition, type PartitionStats, type SolveOptions } from './types.js';
 import { solvePointQp, sortRows } from './pointqp.js';
 import { buildRegion, type BoundingBox, type LpEngine, type RegionVertices } from './region.js';
-import { chebyshevBall, findFeasiblePoint } from '../lp/kernel.js';
+import { chebyshevBall, findFeasiblePoint, lpMaximizeFrom } from '../lp/kernel.js';
 import { luSolve } from '../linalg/dense.js';
 import { GridLocator, regionContains } from '../table/locator.js';
 import { tol } from '../tol.js';
@@ -76,6 +76,15 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   const regions: CriticalRegion[] = [];
   const byActiveSet = new Map<string, number>();
   const causes: CoverCauses = sumCauses();
+  /**
+   * the facets this exploration gave up a piece of (`witnessKey`: active set and facet index), for
+   * the re-check against the final regions (`uncoveredFacetPiece`, src/mpqp/canonical.ts)
+   */
+  const gaveUpAt = new Set<string>(witnessesOf(options.resume?.stats));
+  const gaveUp = (R: CriticalRegion, f: number): void => {
+    stats.unresolvedPieces++;
+    gaveUpAt.add(witnessKey(R.activeSet, f));
+  };
   const stats: PartitionStats = { regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, causes };
   const guessSets = options.strategy?.guess ?? true;
   const warmQp = options.strategy?.warmStart ?? true;
@@ -142,7 +151,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       regions,
       boxes: bboxes.map((bb) => ({ lo: Array.from(bb.lo), hi: Array.from(bb.hi) })),
       done: regions.map((R) => R.activeSet.join(',')).filter((k) => processed.has(k)),
-      stats: { ...stats, regions: regions.length, lps: lp.lps, causes: { ...causes } },
+      stats: { ...stats, regions: regions.length, lps: lp.lps, causes: { ...causes }, gaveUpAt: [...gaveUpAt].sort() },
       work: { ...work },
     };
   };
@@ -344,7 +353,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       }
       if (landing === 'noRegion' || landing === 'noSlice') {
         slices.push(facet.ballSlice(piece.point, piece.radius)); // give up on this piece: counted, never silent
-        stats.unresolvedPieces++;
+        gaveUp(R, f);
         causes[landing]++;
         continue;
       }
@@ -353,7 +362,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       slices.push(landing.slice);
     }
     if (!covered) {
-      stats.unresolvedPieces++; // guard exhausted: the rest of this facet is unresolved
+      gaveUp(R, f); // guard exhausted: the rest of this facet is unresolved
       causes.guard++;
     }
     // a seeded region is a neighbour across this facet when it meets the facet in a full piece
@@ -504,7 +513,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       let S: Slice;
       if (landing === 'noRegion' || landing === 'noSlice') {
         S = facet.ballSlice(centre.point, centre.radius); // give up on this piece: counted, never silent
-        stats.unresolvedPieces++;
+        gaveUp(R, f);
         causes[landing]++;
       } else {
         if (!neighbours.includes(landing.id)) neighbours.push(landing.id);
@@ -525,7 +534,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
           link(R.id, again.id);
           T = again.slice;
         } else {
-          stats.unresolvedPieces++;
+          gaveUp(R, f);
           causes[again === 'noRegion' ? 'noRegion' : 'noSlice']++;
           T = facet.ballSlice(centre.point, centre.radius);
         }
@@ -639,8 +648,119 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
 
   stats.regions = regions.length;
   stats.lps = lp.lps;
+  stats.gaveUpAt = [...gaveUpAt].sort();
   report(true);
   return stats.complete ? { regions, stats, work, cover, boxes: bboxes } : { regions, stats, work, cover, boxes: bboxes, state: exportState() };
+}
+
+/** The name of facet f of the region of an active set in `PartitionStats.gaveUpAt`: "i,j,k:f" (the active set's rows, then the facet's index). */
+export function witnessKey(activeSet: readonly number[], f: number): string {
+  return `${activeSet.join(',')}:${f}`;
+}
+
+/** A `witnessKey` read back: the active set's key ("i,j,k") and the facet index; null when malformed. */
+export function parseWitnessKey(w: string): { key: string; facet: number } | null {
+  const at = w.lastIndexOf(':');
+  if (at < 0) return null;
+  const facet = Number(w.slice(at + 1));
+  return Number.isInteger(facet) && facet >= 0 ? { key: w.slice(0, at), facet } : null;
+}
+
+/**
+ * A piece of facet f of regions[id] that no other region of the list covers: the Chebyshev ball
+ * (in the facet's coordinates) of a piece of radius > 10·tol.radius, or null when the facet is
+ * covered. The same test as the exploration's (slices with the cover slack 10·tol.radius, pieces
+ * of radius ≤ 10·tol.radius dropped), against every region whose box reaches the facet's plane
+ * within the slack from the far side, in list order: a function of the list alone, whichever run
+ * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check.
+ * `scale`: the widest side of the parameter box.
+ */
+export function uncoveredFacetPiece(
+  regions: readonly Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[],
+  boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
+  id: number,
+  f: number,
+  scale: number,
+  lp: LpEngine,
+): { point: Float64Array; radius: number } | null {
+  const R = regions[id];
+  const a = R.A[f];
+  const beta = R.b[f];
+  const nt = a.length;
+  const minPiece = 10 * tol.radius;
+  const bb = boxes[id];
+  const frame = slicePolytope(R.A, R.b, a, beta, f, minPiece, { lo: Float64Array.from(bb.lo), hi: Float64Array.from(bb.hi) });
+  if (!frame) return null;
+  const slices: Slice[] = [];
+  for (let k = 0; k < regions.length; k++) {
+    if (k === id) continue;
+    const B = boxes[k];
+    let apart = false;
+    let lo = 0;
+    let hi = 0;
+    for (let j = 0; j < nt && !apart; j++) {
+      apart = B.lo[j] > bb.hi[j] + minPiece || B.hi[j] < bb.lo[j] - minPiece;
+      lo += a[j] > 0 ? a[j] * B.lo[j] : a[j] * B.hi[j];
+      hi += a[j] > 0 ? a[j] * B.hi[j] : a[j] * B.lo[j];
+    }
+    if (apart || lo > beta + minPiece || hi < beta - minPiece) continue;
+    // far side only: a region on R's side that meets the plane along an edge of the facet, its rows
+    // relaxed by the slack, can reach into the facet by slack/sin(angle) where the two planes meet
+    // at a small angle (seen on boom-4d-n12 at horizon 16); the exploration's slices are those of
+    // regions across. Far: min a·θ over the region ≥ β − slack (box bound, else one LP).
+    if (lo < beta - minPiece && !farSide(regions[k], a, beta - minPiece, lp)) continue;
+    const s = frame.sliceOf(regions[k]);
+    if (s) slices.push(s);
+  }
+  const dim = frame.dim;
+  if (dim >= 2) {
+    const box = frame.yBox(bb);
+    const made = facetPiece(frame.A, frame.b, frame.m, box.lo, box.hi, { dim, eps: 1e-9 * Math.max(1, scale), maxVerts: 4000 });
+    if (made !== 'fail') {
+      const { piece: base, ctx } = made;
+      if (base === null || base.widthBound <= minPiece) return null;
+      let pieces: CoverPiece[] = [base];
+      const dropped = { count: 0 };
+      let ok = true;
+      for (const S of slices) {
+        const next: CoverPiece[] = [];
+        for (const P of pieces) {
+          const r = subtractSlice(P, S.A, S.b, S.m, minPiece, ctx, dropped);
+          if (r === 'fail') {
+            ok = false;
+            break;
+          }
+          if (Array.isArray(r)) next.push(...r);
+          else next.push(r);
+        }
+        if (!ok) break;
+        pieces = next;
+        if (pieces.length === 0) return null;
+      }
+      if (ok) {
+        for (const P of pieces) {
+          lp.lps++;
+          const ball = chebyshevBall(Float64Array.from(P.A), Float64Array.from(P.b), P.m, dim, pieceCentre(P, dim).point, 1e6);
+          if (ball.radius > minPiece) return { point: ball.center, radius: ball.radius };
+        }
+        return null;
+      }
+    }
+  }
+  return uncoveredPoint(frame, slices, minPiece, lp);
+}
+
+/** True when min a·θ over the region ≥ t (one LP from its Chebyshev centre; counted). */
+function farSide(Q: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>, a: readonly number[], t: number, lp: LpEngine): boolean {
+  const m = Q.A.length;
+  const n = a.length;
+  const A = new Float64Array(m * n);
+  for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) A[i * n + j] = Q.A[i][j];
+  const c = new Float64Array(n);
+  for (let j = 0; j < n; j++) c[j] = -a[j];
+  lp.lps++;
+  const r = lpMaximizeFrom(c, A, Float64Array.from(Q.b), m, n, Float64Array.from(Q.chebyshev.center));
+  return r.status === 'optimal' && -r.value >= t;
 }
 
 function firstSeed(problem: MpqpProblem, lp: LpEngine, lower: Float64Array, upper: Float64Array): Float64Array | null {

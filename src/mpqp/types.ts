@@ -179,8 +179,21 @@ export interface PartitionStats {
   complete: boolean;
   /** why the exploration stopped: 'done' | 'max-regions' | 'time-limit' | 'interrupted' */
   stopReason: 'done' | 'max-regions' | 'time-limit' | 'interrupted';
-  /** facet pieces (radius > 10·tol.radius) across which no full-dimensional region could be built; 0 in a sound table */
+  /**
+   * An exploration's result (`solvePartition`, threads' unions, part files): the facet pieces
+   * (radius > 10·tol.radius) it gave up on, no full-dimensional region holding the point across
+   * having been found; a path-dependent count (warm starts, sub-boxes). A canonical partition's
+   * (`joinPartitions`, the table's): the facets in `gaveUpAt` that the final regions do not cover
+   * (`uncoveredFacetPiece`), each counted once, a function of the final partition; 0 in a sound table.
+   */
   unresolvedPieces: number;
+  /**
+   * the facets the exploration gave a piece up on, as `witnessKey`s ("i,j,k:f": the region's active
+   * set, the facet's index), sorted, unique; unions of runs are unions of these (never stored in the table)
+   */
+  gaveUpAt?: string[];
+  /** a canonical partition's: the exploration's give-ups, summed over its runs (path-dependent, never stored in the table) */
+  giveUps?: number;
   /** regions of Chebyshev radius ≤ 10·tol.radius (thinner than what the exploration must find; counted by `joinPartitions`) */
   thinRegions?: number;
   /** why pieces were left unresolved and facets left the vertex-list cover (depends on the run: never stored in the table) */
@@ -211,6 +224,18 @@ export interface CoverCauses {
 }
 
 export const COVER_CAUSES: readonly (keyof CoverCauses)[] = ['noRegion', 'noSlice', 'guard', 'fallbackRank', 'fallbackBox', 'fallbackVerts', 'fallbackGuard'];
+
+/**
+ * The witness keys of a run's statistics (`PartitionStats.gaveUpAt`). A file written before they
+ * were recorded (a checkpoint or part with give-ups and no list) gives one unreadable key, "?",
+ * which the re-check counts as an unresolved facet: its give-ups cannot be re-checked, and are
+ * never taken as covered.
+ */
+export function witnessesOf(stats: Pick<PartitionStats, 'unresolvedPieces' | 'gaveUpAt'> | undefined): string[] {
+  if (!stats) return [];
+  if (stats.gaveUpAt) return stats.gaveUpAt;
+  return stats.unresolvedPieces > 0 ? ['?'] : [];
+}
 
 /** A zeroed count, or the sum of counts (missing ones count 0). */
 export function sumCauses(...list: (CoverCauses | undefined)[]): CoverCauses {

@@ -25,7 +25,7 @@ import { setFlagsFromString } from 'node:v8';
 import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
 import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
-import { sumCauses } from '../mpqp/types.js';
+import { sumCauses, witnessesOf } from '../mpqp/types.js';
 import { tol } from '../tol.js';
 import type { SubBoxProgress } from './part.js';
 import { RegionStore, renderRegion, skipPacked, type PackedCursor, type PackedRegions } from './region-store.js';
@@ -385,6 +385,8 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   /** the union as a partition (`regions: false`: the counters only, regions left packed and the lists empty) */
   const partition = (complete: boolean, reason: PartitionStats['stopReason'], regions = true): Partition => {
     const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
+    // the facets given a piece up on, in any sub-box (a facet at the cut may be in two): re-checked by the canonical form
+    const gaveUpAt = new Set<string>(witnessesOf(base.stats));
     const work = { ...base.work };
     for (let s = 0; s < M; s++) {
       const f = finished[s];
@@ -394,6 +396,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       stats.qps += f ? f.stats.qps : (p?.qps ?? 0);
       stats.unresolvedPieces += f?.stats.unresolvedPieces ?? 0;
       stats.causes = sumCauses(stats.causes, f?.stats.causes);
+      for (const w of witnessesOf(f?.stats)) gaveUpAt.add(w);
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     }
     // the main thread counts the union against the region bound, so the sub-boxes together pass it
@@ -401,6 +404,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     // incomplete either way, and a checkpoint keeps them all)
     const count = reason === 'max-regions' && options.maxRegions !== undefined ? Math.min(store.length, options.maxRegions) : store.length;
     const list = regions ? Array.from({ length: count }, (_, k) => store.get(k)) : [];
+    stats.gaveUpAt = [...gaveUpAt].sort();
     stats.regions = count;
     stats.complete = complete;
     stats.stopReason = reason;
@@ -546,6 +550,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             base.stats.qps += msg.stats.qps;
             base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
             base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
+            base.stats.gaveUpAt = [...new Set([...witnessesOf(base.stats), ...witnessesOf(msg.stats)])];
             for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
             stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
           }

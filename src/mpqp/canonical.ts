@@ -24,6 +24,7 @@ import { overlapsFacet, parseWitnessKey, slicePolytope, uncoveredFacetPiece } fr
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
+import { findFeasiblePoint } from '../lp/kernel.js';
 import { FacetPairs, zeroPairCounts, addPairCounts } from './facet-pairs.js';
 
 /** A copy of `a` in an array twice as long (a growing id list). */
@@ -208,7 +209,9 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
  * partition covers (`uncoveredFacetPiece`): the table's `unresolvedPieces`. Each facet is tested
  * whole, against every final region reaching its plane, so the answer depends on the partition and
  * the facet only, not on where or how often a run gave up on it; a facet whose region is not in the
- * partition (a bounded run's cut list) counts as unresolved. A run that covered the facet without
+ * partition (a bounded run's cut list) counts as unresolved; a facet whose uncovered piece has the
+ * MPC infeasible just across it (`infeasibleAcross`) lies on the feasible set's boundary and does
+ * not. A run that covered the facet without
  * giving up lists it nowhere; one that gave up next to a hole lists it, as every run must there.
  */
 export function recheckGiveUps(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], gaveUpAt: readonly string[], lp: LpEngine): number {
@@ -225,9 +228,27 @@ export function recheckGiveUps(problem: MpqpProblem, regions: readonly CriticalR
       open++;
       continue;
     }
-    if (uncoveredFacetPiece(regions, boxes, id, at.facet, scale, lp)) open++;
+    const piece = uncoveredFacetPiece(regions, boxes, id, at.facet, scale, lp);
+    if (piece && !infeasibleAcross(problem, regions[id].A[at.facet], piece.theta, scale, lp)) open++;
   }
   return open;
+}
+
+/**
+ * The MPC is infeasible just across the facet's plane at θ (on the facet), at the exploration's
+ * nominal landing step and at 10·tol.inside (phase-1 LPs in z, counted): the facet lies on the
+ * boundary of the feasible parameter set, which no region need cover (the exploration's own test
+ * of a boundary facet: two steps, both infeasible).
+ */
+function infeasibleAcross(problem: MpqpProblem, a: readonly number[], theta: ArrayLike<number>, scale: number, lp: LpEngine): boolean {
+  const { nz, nc, ntheta: nt } = problem;
+  for (const h of [Math.max(tol.facetStep * scale, 100 * tol.inside), 10 * tol.inside]) {
+    const b = Float64Array.from(problem.w);
+    for (let i = 0; i < nc; i++) for (let j = 0; j < nt; j++) b[i] += problem.E[i * nt + j] * (theta[j] + h * a[j]);
+    lp.lps++;
+    if (findFeasiblePoint(problem.G, b, nc, nz) !== null) return false;
+  }
+  return true;
 }
 
 function finishJoin(

@@ -668,8 +668,8 @@ export function parseWitnessKey(w: string): { key: string; facet: number } | nul
 
 /**
  * A piece of facet f of regions[id] that no other region of the list covers: the Chebyshev ball
- * (in the facet's coordinates) of a piece of radius > 10·tol.radius, or null when the facet is
- * covered. The same test as the exploration's (slices with the cover slack 10·tol.radius, pieces
+ * (in the facet's coordinates, and its centre θ on the facet) of a piece of radius > 10·tol.radius,
+ * or null when the facet is covered. The same test as the exploration's (slices with the cover slack 10·tol.radius, pieces
  * of radius ≤ 10·tol.radius dropped), against every region whose box reaches the facet's plane
  * within the slack from the far side, in list order: a function of the list alone, whichever run
  * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check.
@@ -682,7 +682,19 @@ export function uncoveredFacetPiece(
   f: number,
   scale: number,
   lp: LpEngine,
-): { point: Float64Array; radius: number } | null {
+): { point: Float64Array; radius: number; theta: Float64Array } | null {
+  const piece = uncoveredPieceOf(regions, boxes, id, f, scale, lp);
+  return piece ? { ...piece, theta: piece.frame.lift(piece.point) } : null;
+}
+
+function uncoveredPieceOf(
+  regions: readonly Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[],
+  boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
+  id: number,
+  f: number,
+  scale: number,
+  lp: LpEngine,
+): { point: Float64Array; radius: number; frame: FacetFrame } | null {
   const R = regions[id];
   const a = R.A[f];
   const beta = R.b[f];
@@ -741,13 +753,14 @@ export function uncoveredFacetPiece(
         for (const P of pieces) {
           lp.lps++;
           const ball = chebyshevBall(Float64Array.from(P.A), Float64Array.from(P.b), P.m, dim, pieceCentre(P, dim).point, 1e6);
-          if (ball.radius > minPiece) return { point: ball.center, radius: ball.radius };
+          if (ball.radius > minPiece) return { point: ball.center, radius: ball.radius, frame };
         }
         return null;
       }
     }
   }
-  return uncoveredPoint(frame, slices, minPiece, lp);
+  const left = uncoveredPoint(frame, slices, minPiece, lp);
+  return left ? { ...left, frame } : null;
 }
 
 /** True when min a·θ over the region ≥ t (one LP from its Chebyshev centre; counted). */

@@ -3,6 +3,10 @@ import type { CriticalRegion, PartitionStats } from '../mpqp/types.js';
 /**
  * What a table says about its exploration: only what is the same however it was run (one thread or
  * many, in parts, resumed). Work counters (LPs, QPs, candidates) depend on that and are printed instead.
+ * `unresolvedPieces`: the facets the exploration gave a piece up on that the final regions, re-checked,
+ * leave uncovered (`recheckGiveUps`, src/mpqp/canonical.ts); 0 in a sound table. Until s24 it counted
+ * the pieces given up, which depended on the run; readers' rule is unchanged (0 sound, > 0 run
+ * `gaps`), so the version was not bumped.
  */
 export type TableStats = Pick<PartitionStats, 'regions' | 'complete' | 'stopReason' | 'unresolvedPieces'>;
 import type { Layout } from '../formulation/layout.js';

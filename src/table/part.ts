@@ -131,6 +131,14 @@ function checkRegions(regions: unknown, boxes: unknown, file: string, key: strin
   });
 }
 
+/** `stats.gaveUpAt`, when present, is a list of witness keys ("i,j,k:f"): an error naming the key otherwise. */
+function checkWitnesses(stats: unknown, file: string, key: string): void {
+  const w = (stats as { gaveUpAt?: unknown } | undefined)?.gaveUpAt;
+  if (w === undefined) return;
+  if (!Array.isArray(w) || !w.every((x) => typeof x === 'string' && /^[0-9,]*:[0-9]+$/.test(x)))
+    throw new InputError(file, `${key}gaveUpAt`, 'must list the facets given up on as "rows:facet" strings (e.g. "0,4,7:2")');
+}
+
 /** Parse and check a part file's text. */
 export function parsePartJson(text: string, file: string): PartFile {
   const t = parseJson(text, file);
@@ -139,6 +147,7 @@ export function parsePartJson(text: string, file: string): PartFile {
   if (!p || !Number.isInteger(p.index) || !Number.isInteger(p.count) || p.index < 1 || p.index > p.count) throw new InputError(file, 'part', 'must give index and count, 1 ≤ index ≤ count');
   checkRegions(t.regions, t.boxes, file, '');
   if (!t.stats || typeof t.stats !== 'object') throw new InputError(file, 'stats', 'missing');
+  checkWitnesses(t.stats, file, 'stats.');
   return t as unknown as PartFile;
 }
 
@@ -158,6 +167,7 @@ export function parseCheckpointJson(text: string, file: string, loaded: LoadedPr
   if (!st || typeof st !== 'object') throw new InputError(file, 'state', 'missing');
   checkRegions(st.regions, st.boxes, file, 'state.');
   if (!Array.isArray(st.done)) throw new InputError(file, 'state.done', 'must be an array');
+  checkWitnesses(st.stats, file, 'state.stats.');
   if (t.subBoxes !== undefined) {
     const sb = t.subBoxes as SubBoxProgress;
     if (!sb || !Number.isInteger(sb.count) || sb.count < 1) throw new InputError(file, 'subBoxes.count', 'must be a whole number ≥ 1');

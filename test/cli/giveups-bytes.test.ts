@@ -72,4 +72,18 @@ describe('a solve that gives facet pieces up (boom-4d at horizon 16)', { timeout
     }
     expect(feasible).toBeGreaterThan(20);
   });
+
+  it('a part file whose list of facets given up on is malformed is refused with the key named (exit 2), and a valid one joins', async () => {
+    const small = join(root, 'examples', 'positioning-axis.yaml');
+    for (const i of [1, 2]) expect((await runCli(['solve', small, '--part', `${i}/2`, '--threads', '1', '-q', '-o', at(`s${i}.json`)])).status).toBe(0);
+    const p1 = JSON.parse(readFileSync(at('s1.json'), 'utf8'));
+    // a legible list: the joined table is the one-run table (nothing given up, nothing unresolved)
+    expect(p1.stats.gaveUpAt).toEqual([]);
+    const ok = await runCli(['join', at('s1.json'), at('s2.json'), '-o', at('s.json')]);
+    expect(ok.status, ok.stderr).toBe(0);
+    writeFileSync(at('bad1.json'), JSON.stringify({ ...p1, stats: { ...p1.stats, gaveUpAt: ['0,3'] } }));
+    const bad = await runCli(['join', at('bad1.json'), at('s2.json'), '-o', at('bad.json')]);
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toMatch(/bad1\.json.*stats\.gaveUpAt/);
+  });
 });

@@ -237,7 +237,7 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
   guesses?: boolean;
 }
 
-const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0 });
+const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, gaveUpAt: [] });
 const zeroWork = (): ExplorationWork => ({ guesses: 0, guessHits: 0, seededSlices: 0, landings: 0, regionLps: 0, coverLps: 0 });
 
 /** Whether a region's box meets a sub-box (within tol.inside). */
@@ -548,9 +548,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             base.stats.candidates += msg.stats.candidates;
             base.stats.lps += msg.stats.lps;
             base.stats.qps += msg.stats.qps;
+            // (the lists first: an old count with no list of its own reads as "?")
+            base.stats.gaveUpAt = [...new Set([...witnessesOf(base.stats), ...witnessesOf(msg.stats)])].sort();
             base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
             base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
-            base.stats.gaveUpAt = [...new Set([...witnessesOf(base.stats), ...witnessesOf(msg.stats)])];
             for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
             stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
           }

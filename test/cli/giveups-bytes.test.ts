@@ -25,7 +25,7 @@ writeFileSync(problem, JSON.stringify({ ...fixture, horizon: 16 }));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('a solve that gives facet pieces up (boom-4d at horizon 16)', { timeout: 300_000 }, () => {
-  it('1 thread, 2 threads and --part 1/2, 2/2 + join write the same bytes; the give-ups are reported as exploration diagnostics and re-checked', async () => {
+  it('1 thread, 2 threads, --part 1/2, 2/2 + join, and a resumed checkpoint that lists give-ups write the same bytes; the give-ups are reported as exploration diagnostics and re-checked', async () => {
     const one = await runCli(['solve', problem, '--threads', '1', '-o', at('t1.json')]);
     expect(one.status, one.stderr).toBe(0);
     const two = await runCli(['solve', problem, '--threads', '2', '-o', at('t2.json')]);
@@ -48,9 +48,21 @@ describe('a solve that gives facet pieces up (boom-4d at horizon 16)', { timeout
     expect(partGiveUps.reduce((s, n) => s + n, 0)).toBeGreaterThan(0);
     for (const p of parts) if (gave.test(p.stdout)) expect(p.stdout).toMatch(/`tessera join` re-checks them against the final regions/);
 
+    // stopped by --max-regions after some pieces were given up (the checkpoint lists their facets),
+    // then resumed on 2 threads
+    const stopped = await runCli(['solve', problem, '--threads', '1', '--max-regions', '13000', '--checkpoint', at('ck.json'), '-q', '-o', at('stopped.json')]);
+    expect(stopped.status, stopped.stderr).toBe(0);
+    const ck = JSON.parse(readFileSync(at('ck.json'), 'utf8'));
+    expect(ck.state.stats.unresolvedPieces).toBeGreaterThan(0);
+    expect(ck.state.stats.gaveUpAt.length).toBeGreaterThan(0);
+    expect(ck.state.stats.gaveUpAt.every((w: string) => /^[0-9,]+:[0-9]+$/.test(w))).toBe(true);
+    const resumed = await runCli(['solve', problem, '--threads', '2', '--resume', at('ck.json'), '-o', at('resumed.json')]);
+    expect(resumed.status, resumed.stderr).toBe(0);
+
     const bytes = readFileSync(at('t1.json'));
     expect(readFileSync(at('t2.json')).equals(bytes)).toBe(true);
     expect(readFileSync(at('joined.json')).equals(bytes)).toBe(true);
+    expect(readFileSync(at('resumed.json')).equals(bytes)).toBe(true);
 
     // the table stored: complete, every facet given up on covered by the final regions
     const table = parseTableJson(bytes.toString('utf8'), 't1.json');

@@ -211,8 +211,8 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
  * the facet only, not on where or how often a run gave up on it; a facet whose region is not in the
  * partition (a bounded run's cut list) counts as unresolved; a facet whose uncovered piece has the
  * MPC infeasible just across it (`infeasibleAcross`) lies on the feasible set's boundary and does
- * not. A run that covered the facet without
- * giving up lists it nowhere; one that gave up next to a hole lists it, as every run must there.
+ * not. A run that covered the facet without giving up lists it nowhere; one that gave up next to a
+ * hole lists it, as every run must there.
  */
 export function recheckGiveUps(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], gaveUpAt: readonly string[], lp: LpEngine): number {
   if (gaveUpAt.length === 0) return 0;

@@ -336,6 +336,14 @@ export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition,
   }
 }
 
+/**
+ * The share of a region bound `max` of sub-box `s` of `count`: ⌊max/count⌋, one more for the first
+ * `max mod count` sub-boxes (the shares add up to `max`; a share may be 0 when `max` < `count`).
+ */
+export function regionQuota(max: number, s: number, count: number): number {
+  return Math.floor(max / count) + (s < max % count ? 1 : 0);
+}
+
 /** Start the exploration of `mpqp` (or of `options.within`) on `options.threads` workers, one sub-box per thread. */
 export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): ThreadedExploration {
   const pool = options.pool ?? startThreadPool(options.threads);
@@ -373,6 +381,21 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const hints: GuessHints = { lean: !!options.lean, tried: new Set(), thin: new Map() };
   let lastReport = 0;
   let firstStop: PartitionStats['stopReason'] | null = null;
+  /**
+   * `--max-regions` split among the sub-boxes (`regionQuota`): each job stops at its own quota, in
+   * its own exploration order, and the others run on (a job at its quota stops nobody: stopping the
+   * others at whatever point they had reached made the table depend on the race between workers).
+   * The union then holds at most the bound, and the same regions in every run of the same command.
+   */
+  const quota = (s: number): number | undefined => (options.maxRegions === undefined ? undefined : regionQuota(options.maxRegions, s, M));
+  /** some sub-box stopped at its quota (the table is incomplete, `max-regions`, once every job has ended) */
+  let atQuota = false;
+  // a job checks its quota between steps, so it can build a few regions past it: of each job's
+  // regions only the first `quota` it reports (in its own order) are taken, so the union holds at
+  // most the bound (the rest are built again by a resumed run). One sub-box: cut in `partition`,
+  // after the regions resumed, as before
+  const taken: number[] = new Array(M).fill(0);
+  const over = (s: number): boolean => M > 1 && options.maxRegions !== undefined && taken[s]++ >= quota(s)!;
   let resolve!: (p: Partition) => void;
   let reject!: (e: unknown) => void;
   const result = new Promise<Partition>((res, rej) => {
@@ -399,10 +422,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       for (const w of witnessesOf(f?.stats)) gaveUpAt.add(w);
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     }
-    // the main thread counts the union against the region bound, so the sub-boxes together pass it
-    // by a few regions; a table stopped by --max-regions keeps the first ones found (it is marked
-    // incomplete either way, and a checkpoint keeps them all)
-    const count = reason === 'max-regions' && options.maxRegions !== undefined ? Math.min(store.length, options.maxRegions) : store.length;
+    // a run bounded by --max-regions holds at most the bound: each sub-box adds at most its quota
+    // (`over`), a region two sub-boxes built is kept once; a resumed run's regions are all kept too.
+    // One sub-box: its first regions up to the bound (the order is its own, so the same every run)
+    const count = M === 1 && reason === 'max-regions' && options.maxRegions !== undefined ? Math.min(store.length, options.maxRegions) : store.length;
     const list = regions ? Array.from({ length: count }, (_, k) => store.get(k)) : [];
     stats.gaveUpAt = [...gaveUpAt].sort();
     stats.regions = count;
@@ -476,7 +499,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       kind: 'explore',
       job: s,
       within: M === 1 && !options.within ? undefined : boxes![s],
-      maxRegions: options.maxRegions,
+      maxRegions: quota(s),
       timeLimit: options.timeLimit === undefined ? undefined : Math.max(0, options.timeLimit - elapsed),
       resume,
       guesses: options.guesses,
@@ -487,8 +510,8 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   let running = 0;
   pool.setProblem(mpqp, { lp: options.lp, lean: options.lean });
   const end = (): void => {
-    const complete = firstStop === null && finished.every((f) => f);
-    const reason = firstStop ?? (complete ? 'done' : 'interrupted');
+    const complete = firstStop === null && !atQuota && finished.every((f) => f);
+    const reason = firstStop ?? (atQuota ? 'max-regions' : complete ? 'done' : 'interrupted');
     if (options.endPool)
       pool.terminate().then(
         () => settle(partition(complete, reason)),
@@ -513,7 +536,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             if (ev.type === 'packed') {
               // packed by the worker (its buffers transferred, no object per number to clone and pack here)
               built++;
-              if (!found.has(ev.key)) {
+              if (!over(msg.job) && !found.has(ev.key)) {
                 const k = store.addPacked(msg.packed!, at);
                 found.set(ev.key, k);
                 fresh.push(k);
@@ -522,7 +545,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             } else if (ev.type === 'found') {
               built++;
               const key = ev.region.activeSet.join(',');
-              if (!found.has(key)) {
+              if (!over(msg.job) && !found.has(key)) {
                 const k = store.add(ev.region, ev.box);
                 found.set(key, k);
                 fresh.push(k);
@@ -530,7 +553,6 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             } else if (ev.type === 'processed') done[msg.job].add(ev.key);
             else latest[msg.job] = ev.progress;
           }
-          if (options.maxRegions !== undefined && found.size >= options.maxRegions) stopAll('max-regions');
           // the new regions' table text, rendered now (this thread waits for the workers anyway; on one
           // worker the second core is free) instead of in the serial tail when the table is written
           for (const k of fresh) store.setText(k, renderRegion(store.get(k).region));
@@ -553,7 +575,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             base.stats.unresolvedPieces += msg.stats.unresolvedPieces;
             base.stats.causes = sumCauses(base.stats.causes, msg.stats.causes);
             for (const k of Object.keys(base.work) as (keyof ExplorationWork)[]) base.work[k] += msg.work[k];
-            stopAll(msg.stats.stopReason); // one sub-box stopped (limit or Ctrl-C): the others stop too
+            // a sub-box at its region quota: the others run on to theirs (deterministic, see `quota`);
+            // stopped by the time limit or Ctrl-C: the others stop too
+            if (msg.stats.stopReason === 'max-regions') atQuota = true;
+            else stopAll(msg.stats.stopReason);
           }
           if (next(worker)) running++;
           else if (running === 0) end();

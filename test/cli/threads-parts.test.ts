@@ -254,6 +254,42 @@ describe('checkpoints', () => {
     expect(existsSync(at('bad.json'))).toBe(false);
   }, 300_000);
 
+  it('--max-regions on 2 threads: two runs write the same bytes, at most the bound, marked incomplete, each region agreeing with quadprog at its Chebyshev centre; its checkpoint resumes to the complete table', async () => {
+    // the problem has 253 regions (the single-thread reference above): a bound of 120 stops both sub-boxes
+    const bound = 120;
+    const runs: string[] = [];
+    for (const name of ['bounded-a', 'bounded-b']) {
+      const r = await runCli(['solve', problem, '-o', at(`${name}.json`), '--max-regions', String(bound), '--threads', '2', '--checkpoint', at(`${name}.checkpoint.json`)]);
+      expect(r.status, r.stderr).toBe(0);
+      expect(r.stdout).toMatch(/complete: NO \(stopped: max-regions\)/);
+      runs.push(readFileSync(at(`${name}.json`), 'utf8'));
+    }
+    expect(runs[0] === runs[1], 'two bounded 2-thread runs differ').toBe(true);
+    const table = parseTableJson(runs[0], at('bounded-a.json'));
+    expect(table.stats.complete).toBe(false);
+    expect(table.stats.stopReason).toBe('max-regions');
+    expect(table.regions.length).toBeLessThanOrEqual(bound);
+    expect(table.regions.length).toBeGreaterThan(bound / 2);
+    expect(table.regions.length).toBeLessThan(JSON.parse(reference).regions.length);
+    // every region kept is a true critical region: at its Chebyshev centre quadprog (Goldfarb–Idnani,
+    // the online QP) is feasible, and its optimal first move is the region's law there
+    const mpqp = buildMpqp(loadProblem(problem));
+    table.regions.forEach((R, i) => {
+      const c = Array.from(R.chebyshev.center);
+      const ref = qpReference(mpqp, c);
+      expect(ref.feasible, `region ${i}`).toBe(true);
+      const e = evaluateTable(table, c);
+      expect(e.region, `region ${i}`).toBe(i);
+      for (let k = 0; k < mpqp.lawSize; k++) expect(Math.abs(e.u![k] - ref.z[k]), `region ${i}`).toBeLessThan(1e-6 * (1 + Math.abs(ref.z[k])));
+    });
+    // the checkpoint written at that stop (2 sub-boxes) resumes, unbounded, to the single-thread table
+    for (const threads of ['2', '1']) {
+      const r = await runCli(['solve', problem, '--resume', at('bounded-a.checkpoint.json'), '-o', at(`bounded-resumed-${threads}.json`), '--threads', threads, '-q']);
+      expect(r.status, r.stderr).toBe(0);
+      expect(readFileSync(at(`bounded-resumed-${threads}.json`), 'utf8') === reference, `resumed on ${threads} threads`).toBe(true);
+    }
+  }, 300_000);
+
   it('a run stopped by --max-regions leaves a checkpoint that completes the same table', async () => {
     const cp = at('max.checkpoint.json');
     const r1 = await runCli(['solve', problem, '-o', at('max.json'), '--max-regions', '60', '--checkpoint', cp]);

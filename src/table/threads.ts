@@ -374,6 +374,8 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       const key = region.activeSet.join(',');
       if (!found.has(key)) found.set(key, store.add(region, resumed.boxes[i]));
     });
+  /** the regions resumed come first in `store`, and are all in the table */
+  const resumedCount = store.length;
   if (rs) for (const s of rs.finished) finished[s] = { stats: zeroStats(), work: zeroWork() };
   const queue: number[] = [];
   for (let s = 0; s < M; s++) if (!finished[s]) queue.push(s);
@@ -390,12 +392,19 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const quota = (s: number): number | undefined => (options.maxRegions === undefined ? undefined : regionQuota(options.maxRegions, s, M));
   /** some sub-box stopped at its quota (the table is incomplete, `max-regions`, once every job has ended) */
   let atQuota = false;
-  // a job checks its quota between steps, so it can build a few regions past it: of each job's
-  // regions only the first `quota` it reports (in its own order) are taken, so the union holds at
-  // most the bound (the rest are built again by a resumed run). One sub-box: cut in `partition`,
+  // a job checks its quota between steps, so it can build a few regions past it (and a job whose
+  // quota is 0 still builds its first region): of each job's regions only the first `quota` it
+  // reports (in its own order) go into the table, so the table holds at most the bound. Every
+  // region is kept in the union all the same, for the checkpoint: a resumed sub-box starts from the
+  // regions meeting it, and one with none would not start at all. One sub-box: cut in `partition`,
   // after the regions resumed, as before
+  const shared = M > 1 && options.maxRegions !== undefined;
   const taken: number[] = new Array(M).fill(0);
-  const over = (s: number): boolean => M > 1 && options.maxRegions !== undefined && taken[s]++ >= quota(s)!;
+  /** store indices that are in the table of a bounded split run (`shared`): taken by some job within its quota, or resumed */
+  const listed = new Set<number>();
+  const take = (s: number, k: number): void => {
+    if (shared && taken[s]++ < quota(s)!) listed.add(k);
+  };
   let resolve!: (p: Partition) => void;
   let reject!: (e: unknown) => void;
   const result = new Promise<Partition>((res, rej) => {
@@ -406,7 +415,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const workers: Worker[] = [];
   const detach: (() => void)[] = [];
   /** the union as a partition (`regions: false`: the counters only, regions left packed and the lists empty) */
-  const partition = (complete: boolean, reason: PartitionStats['stopReason'], regions = true): Partition => {
+  const partition = (complete: boolean, reason: PartitionStats['stopReason'], regions = true, all = false): Partition => {
     const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
     // the facets given a piece up on, in any sub-box (a facet at the cut may be in two): re-checked by the canonical form
     const gaveUpAt = new Set<string>(witnessesOf(base.stats));
@@ -425,16 +434,17 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     // a run bounded by --max-regions holds at most the bound: each sub-box adds at most its quota
     // (`over`), a region two sub-boxes built is kept once; a resumed run's regions are all kept too.
     // One sub-box: its first regions up to the bound (the order is its own, so the same every run)
-    const count = M === 1 && reason === 'max-regions' && options.maxRegions !== undefined ? Math.min(store.length, options.maxRegions) : store.length;
-    const list = regions ? Array.from({ length: count }, (_, k) => store.get(k)) : [];
+    const count = M === 1 && reason === 'max-regions' && options.maxRegions !== undefined && !all ? Math.min(store.length, options.maxRegions) : store.length;
+    const keep = shared && !all ? Array.from({ length: count }, (_, k) => k).filter((k) => k < resumedCount || listed.has(k)) : null;
+    const list = !regions ? [] : keep ? keep.map((k) => store.get(k)) : Array.from({ length: count }, (_, k) => store.get(k));
     stats.gaveUpAt = [...gaveUpAt].sort();
-    stats.regions = count;
+    stats.regions = keep ? keep.length : count;
     stats.complete = complete;
     stats.stopReason = reason;
     return { regions: list.map((e) => e.region), boxes: list.map((e) => e.box), stats, work };
   };
   const snapshot = (): { state: ExplorationState; subBoxes: SubBoxProgress } => {
-    const p = partition(true, 'done');
+    const p = partition(true, 'done', true, true);
     if (!boxes) {
       // the pilot is still choosing the cut: nothing is explored yet, the state is the one resumed (or empty)
       const whole = resumed ? [...resumed.done] : [];
@@ -474,7 +484,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     if (!options.onProgress || now - lastReport < 100) return;
     lastReport = now;
     const p = partition(true, 'done', false).stats;
-    options.onProgress({ candidates: p.candidates, regions: found.size, lps: p.lps, qps: p.qps, elapsedSeconds: (now - t0) / 1000 });
+    options.onProgress({ candidates: p.candidates, regions: p.regions, lps: p.lps, qps: p.qps, elapsedSeconds: (now - t0) / 1000 });
   };
   /** the next sub-box for a worker, or false when there is none (or the run is stopping) */
   const next = (worker: Worker): boolean => {
@@ -536,20 +546,22 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
             if (ev.type === 'packed') {
               // packed by the worker (its buffers transferred, no object per number to clone and pack here)
               built++;
-              if (!over(msg.job) && !found.has(ev.key)) {
+              if (!found.has(ev.key)) {
                 const k = store.addPacked(msg.packed!, at);
                 found.set(ev.key, k);
                 fresh.push(k);
               }
+              take(msg.job, found.get(ev.key)!);
               skipPacked(msg.packed!, at);
             } else if (ev.type === 'found') {
               built++;
               const key = ev.region.activeSet.join(',');
-              if (!over(msg.job) && !found.has(key)) {
+              if (!found.has(key)) {
                 const k = store.add(ev.region, ev.box);
                 found.set(key, k);
                 fresh.push(k);
               }
+              take(msg.job, found.get(key)!);
             } else if (ev.type === 'processed') done[msg.job].add(ev.key);
             else latest[msg.job] = ev.progress;
           }

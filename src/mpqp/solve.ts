@@ -251,7 +251,11 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     Object.assign(causes, sumCauses(options.resume.stats.causes));
     Object.assign(work, options.resume.work);
     lp.lps = options.resume.stats.lps;
-  } else {
+  }
+  // a fresh run, or a resumed one that knows no region here (a checkpoint written before the first
+  // region was found, or a sub-box no known region meets): without a first region nothing would be
+  // explored, and the result would read complete
+  if (!options.resume || regions.length === 0) {
     const seed = firstSeed(problem, lp, slo, sup);
     if (seed) {
       let first = regionAt(seed);

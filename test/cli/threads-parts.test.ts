@@ -288,6 +288,19 @@ describe('checkpoints', () => {
       expect(r.status, r.stderr).toBe(0);
       expect(readFileSync(at(`bounded-resumed-${threads}.json`), 'utf8') === reference, `resumed on ${threads} threads`).toBe(true);
     }
+    // the same checkpoint emptied of its regions, as one written before the first region was found
+    // (Ctrl-C during the pilot): whole box or 2 sub-boxes, it resumes to the complete table, not to
+    // an empty one marked complete (it did before: no region known, nothing was explored)
+    const cp = JSON.parse(readFileSync(at('bounded-a.checkpoint.json'), 'utf8'));
+    cp.state.regions = [];
+    cp.state.boxes = [];
+    cp.state.done = [];
+    for (const [name, subBoxes] of [['whole', { count: 1, finished: [], done: [[]] }], ['split', { ...cp.subBoxes, finished: [], done: [[], []] }]] as const) {
+      writeFileSync(at(`empty-${name}.checkpoint.json`), JSON.stringify({ ...cp, subBoxes }));
+      const r = await runCli(['solve', problem, '--resume', at(`empty-${name}.checkpoint.json`), '-o', at(`empty-${name}.json`), '--threads', '2', '-q']);
+      expect(r.status, r.stderr).toBe(0);
+      expect(readFileSync(at(`empty-${name}.json`), 'utf8') === reference, `empty ${name} checkpoint`).toBe(true);
+    }
   }, 300_000);
 
   it('a run stopped by --max-regions leaves a checkpoint that completes the same table', async () => {

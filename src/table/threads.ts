@@ -387,7 +387,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
    * `--max-regions` split among the sub-boxes (`regionQuota`): each job stops at its own quota, in
    * its own exploration order, and the others run on (a job at its quota stops nobody: stopping the
    * others at whatever point they had reached made the table depend on the race between workers).
-   * The union then holds at most the bound, and the same regions in every run of the same command.
+   * The table then holds at most the bound, and the same regions in every run of the same command.
    */
   const quota = (s: number): number | undefined => (options.maxRegions === undefined ? undefined : regionQuota(options.maxRegions, s, M));
   /** some sub-box stopped at its quota (the table is incomplete, `max-regions`, once every job has ended) */
@@ -432,7 +432,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       if (f) for (const k of Object.keys(work) as (keyof ExplorationWork)[]) work[k] += f.work[k];
     }
     // a run bounded by --max-regions holds at most the bound: each sub-box adds at most its quota
-    // (`over`), a region two sub-boxes built is kept once; a resumed run's regions are all kept too.
+    // (`take`), a region two sub-boxes built is kept once; a resumed run's regions are all kept too.
     // One sub-box: its first regions up to the bound (the order is its own, so the same every run)
     const count = M === 1 && reason === 'max-regions' && options.maxRegions !== undefined && !all ? Math.min(store.length, options.maxRegions) : store.length;
     const keep = shared && !all ? Array.from({ length: count }, (_, k) => k).filter((k) => k < resumedCount || listed.has(k)) : null;

@@ -687,18 +687,6 @@ export function uncoveredFacetPiece(
   scale: number,
   lp: LpEngine,
 ): { point: Float64Array; radius: number; theta: Float64Array } | null {
-  const piece = uncoveredPieceOf(regions, boxes, id, f, scale, lp);
-  return piece ? { ...piece, theta: piece.frame.lift(piece.point) } : null;
-}
-
-function uncoveredPieceOf(
-  regions: readonly Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[],
-  boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[],
-  id: number,
-  f: number,
-  scale: number,
-  lp: LpEngine,
-): { point: Float64Array; radius: number; frame: FacetFrame } | null {
   const R = regions[id];
   const a = R.A[f];
   const beta = R.b[f];
@@ -757,14 +745,14 @@ function uncoveredPieceOf(
         for (const P of pieces) {
           lp.lps++;
           const ball = chebyshevBall(Float64Array.from(P.A), Float64Array.from(P.b), P.m, dim, pieceCentre(P, dim).point, 1e6);
-          if (ball.radius > minPiece) return { point: ball.center, radius: ball.radius, frame };
+          if (ball.radius > minPiece) return { point: ball.center, radius: ball.radius, theta: frame.lift(ball.center) };
         }
         return null;
       }
     }
   }
   const left = uncoveredPoint(frame, slices, minPiece, lp);
-  return left ? { ...left, frame } : null;
+  return left ? { ...left, theta: frame.lift(left.point) } : null;
 }
 
 /** True when min a·θ over the region ≥ t (one LP from its Chebyshev centre; counted). */

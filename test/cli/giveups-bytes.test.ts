@@ -2,12 +2,12 @@ import { describe, it, expect, afterAll } from 'vitest';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { root, rng, randomInBox } from '../helpers/solved.js';
+import { root } from '../helpers/solved.js';
 import { runCli } from '../helpers/cli.js';
-import { qpReference } from '../helpers/reference.js';
+import { expectAgreesWithQuadprog } from '../helpers/agree.js';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
-import { parseTableJson, evaluateTable } from '../../src/table/table.js';
+import { parseTableJson } from '../../src/table/table.js';
 
 // The boom fixture at horizon 16 is the smallest problem found whose exploration gives facet pieces
 // up (horizons 12–15 of the same plant give none; smaller parameter boxes gave none or ran into the
@@ -70,19 +70,7 @@ describe('a solve that gives facet pieces up (boom-4d at horizon 16)', { timeout
     expect(table.stats.unresolvedPieces).toBe(0);
     expect(one.stdout).not.toMatch(/WARNING/);
     // and it agrees with quadprog at seeded points: a region wherever the MPC is feasible, the same u(0)
-    const mpqp = buildMpqp(loadProblem(problem));
-    const rnd = rng(1616);
-    let feasible = 0;
-    for (let k = 0; k < 200; k++) {
-      const th = randomInBox(mpqp.box, rnd);
-      const ref = qpReference(mpqp, th);
-      const e = evaluateTable(table, th);
-      expect(e.region >= 0, `θ=${th}`).toBe(ref.feasible);
-      if (!ref.feasible) continue;
-      feasible++;
-      for (let i = 0; i < mpqp.lawSize; i++) expect(Math.abs(e.u![i] - ref.z[i])).toBeLessThan(1e-6 * (1 + Math.abs(ref.z[i])));
-    }
-    expect(feasible).toBeGreaterThan(20);
+    expectAgreesWithQuadprog(table, buildMpqp(loadProblem(problem)), 1616, 200, 20);
   });
 
   it('a part file whose list of facets given up on is malformed is refused with the key named (exit 2), and a valid one joins', async () => {

@@ -3,9 +3,10 @@ import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { root, rng, randomInBox } from '../helpers/solved.js';
+import { root } from '../helpers/solved.js';
 import { runCli, builtCli } from '../helpers/cli.js';
 import { qpReference } from '../helpers/reference.js';
+import { expectAgreesWithQuadprog } from '../helpers/agree.js';
 import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
 import { parseTableJson, evaluateTable } from '../../src/table/table.js';
@@ -19,20 +20,7 @@ const at = (f: string) => join(dir, f);
 let reference = '';
 
 function agreesWithQuadprog(file: string, source = problem): void {
-  const table = parseTableJson(readFileSync(file, 'utf8'), file);
-  const mpqp = buildMpqp(loadProblem(source));
-  const rnd = rng(8080);
-  let feasible = 0;
-  for (let k = 0; k < 300; k++) {
-    const th = randomInBox(mpqp.box, rnd);
-    const ref = qpReference(mpqp, th);
-    const e = evaluateTable(table, th);
-    expect(e.region >= 0, `θ=${th}`).toBe(ref.feasible);
-    if (!ref.feasible) continue;
-    feasible++;
-    for (let i = 0; i < mpqp.lawSize; i++) expect(Math.abs(e.u![i] - ref.z[i])).toBeLessThan(1e-6 * (1 + Math.abs(ref.z[i])));
-  }
-  expect(feasible).toBeGreaterThan(30);
+  expectAgreesWithQuadprog(parseTableJson(readFileSync(file, 'utf8'), file), buildMpqp(loadProblem(source)), 8080, 300, 30);
 }
 
 function watch(child: ChildProcess): Promise<{ code: number | null; signal: NodeJS.Signals | null; stderr: string; stdout: string }> {

@@ -418,7 +418,7 @@ function plainSlice(P: Float64Array, at: number, n: number): number[] {
   return out;
 }
 /** nz of a packed tail of length len for nθ = nt */
-const packedNz = (len: number, nt: number): number => (len - nt * nt - nt - 1) / (nt + 1);
+export const packedNz = (len: number, nt: number): number => (len - nt * nt - nt - 1) / (nt + 1);
 /** `moves` of a packed region: new arrays on every read (the same numbers) */
 function readMoves(this: PackedRegion): CriticalRegion['moves'] {
   const P = this[PACKED_TAIL]!;

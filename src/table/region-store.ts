@@ -14,7 +14,7 @@
  * object it is.
  */
 import type { CriticalRegion, FacetInfo } from '../mpqp/types.js';
-import { packedTail } from '../mpqp/region.js';
+import { packedNz, packedTail } from '../mpqp/region.js';
 
 /** A box holding a region (as the exploration reports it). */
 export interface StoredBox {
@@ -109,7 +109,7 @@ export class RegionStore {
     // a region built by buildRegion keeps moves and value packed, in the record's order (read as is)
     const P = full ? packedTail(R) : undefined;
     if (P) {
-      if (!affine(R.law) || (P.length - nt * nt - nt - 1) % (nt + 1) !== 0) return false;
+      if (!affine(R.law) || !Number.isInteger(packedNz(P.length, nt))) return false;
     } else if (!affine(R.law) || (full && !affine(R.moves))) return false;
     if (full && !P) {
       const v = R.value!;
@@ -276,7 +276,7 @@ function recordSizes(R: CriticalRegion, box: StoredBox): { ni: number; nf: numbe
   const full = R.moves !== undefined;
   const lawRows = R.law.g.length;
   const P = full ? packedTail(R) : undefined;
-  const movesRows = !full ? 0 : P ? (P.length - nt * nt - nt - 1) / (nt + 1) : R.moves!.g.length;
+  const movesRows = !full ? 0 : P ? packedNz(P.length, nt) : R.moves!.g.length;
   let ni = 6 + R.activeSet.length + (full ? 1 : 0);
   for (const fi of R.facets) ni += 3 + fi.neighbours.length;
   const nf = (m + 1) * (nt + 1) + (lawRows + movesRows) * (nt + 1) + (full ? nt * nt + nt + 1 : 0) + 2 * nt;
@@ -308,7 +308,7 @@ function writeRecord(R: CriticalRegion, box: StoredBox, I: Int32Array, ip: numbe
   }
   I[ip++] = R.law.g.length;
   const P = full ? packedTail(R) : undefined;
-  if (full) I[ip++] = P ? (P.length - nt * nt - nt - 1) / (nt + 1) : R.moves!.g.length;
+  if (full) I[ip++] = P ? packedNz(P.length, nt) : R.moves!.g.length;
   for (const a of R.A) for (const v of a) F[fp++] = v;
   for (const v of R.b) F[fp++] = v;
   for (const v of R.chebyshev.center) F[fp++] = v;

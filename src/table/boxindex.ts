@@ -158,29 +158,14 @@ export class BoxIndex {
     this.exactFirst = options.rule !== 'first';
     const R = regions.length;
     this.size = R;
-    let rows = 0;
-    for (let r = 0; r < R; r++) rows += regions[r].b.length;
-    this.A = new Float64Array(rows * n);
-    this.b = new Float64Array(rows);
-    this.rowStart = new Int32Array(R + 1);
-    let at = 0;
-    for (let r = 0; r < R; r++) {
-      const { A, b } = regions[r];
-      this.rowStart[r] = at;
-      for (let i = 0; i < b.length; i++, at++) {
-        for (let j = 0; j < n; j++) this.A[at * n + j] = A[i][j];
-        this.b[at] = b[i];
-      }
-    }
-    this.rowStart[R] = at;
+    const packed = packRows(regions, n);
+    this.A = packed.A;
+    this.b = packed.b;
+    this.rowStart = packed.rowStart;
     const pad = 1e3 * tol.inside;
     const bl = new Float64Array(R * n);
     const bh = new Float64Array(R * n);
-    for (let r = 0; r < R; r++)
-      for (let j = 0; j < n; j++) {
-        bl[r * n + j] = boxes[r].lo[j] - pad;
-        bh[r * n + j] = boxes[r].hi[j] + pad;
-      }
+    padBoxes(boxes, R, n, pad, bl, bh);
     const leafSize = options.leafSize ?? 3;
     const maxDepth = options.maxDepth ?? 48;
     const budget = (options.listingBudget ?? 24) * Math.max(R, 1);
@@ -193,14 +178,6 @@ export class BoxIndex {
     const right: number[] = [];
     const leafFrom: number[] = [];
     const leafTo: number[] = [];
-    const ids: number[] = [];
-    interface Job {
-      node: number;
-      lo: Float64Array;
-      hi: Float64Array;
-      items: Int32Array;
-      depth: number;
-    }
     const all = new Int32Array(R);
     for (let r = 0; r < R; r++) all[r] = r;
     const rootLo = Float64Array.from(lower);
@@ -214,77 +191,24 @@ export class BoxIndex {
       leafTo.push(0);
       return axis.length - 1;
     };
-    const queue = new LargestFirst<Job>();
-    const weight = (lo: Float64Array, hi: Float64Array, m: number): number => {
-      let v = m;
-      for (let j = 0; j < n; j++) v *= (hi[j] - lo[j]) / Math.max(upper[j] - lower[j], 1e-300);
-      return v;
-    };
+    const queue = new LargestFirst<BuildJob>();
+    const span = new Float64Array(n);
+    for (let j = 0; j < n; j++) span[j] = Math.max(upper[j] - lower[j], 1e-300);
     queue.push(R, { node: newNode(), lo: rootLo, hi: rootHi, items: all, depth: 0 });
     let listed = R; // listings if every job left now became a leaf
     let depthMax = 0;
     let longest = 0;
     let leaves = 0;
-    // per listing: the cell's rows, in typed arrays grown by doubling
-    let rowAt = new Int32Array(1025);
-    let rowIds = new Int32Array(4096);
-    let nList = 0;
-    let nRows = 0;
+    // per listing: the cell's rows (and, for nθ ≤ 4, the listing's range), in typed arrays grown by doubling
+    const out = new Listings(n <= 4);
     const rowSize = this.rowSizes(lower, upper);
-    // per listing, for nθ ≤ 4: the region's range within the leaf's cell on every axis (cellBounds:
-    // its padded box tightened by its rows), interleaved (lo_0, hi_0, …) at stride 8, the missing
-    // axes (−∞, ∞); grown by doubling
-    const small = n <= 4;
-    let lbox = new Float64Array(small ? 8 * 1024 : 0);
     const leafLo = new Float64Array(R * n);
     const leafHi = new Float64Array(R * n);
-    const clipLo = new Float64Array(n);
-    const clipHi = new Float64Array(n);
-    const makeLeaf = (job: Job): void => {
-      leafFrom[job.node] = ids.length;
-      const m = job.items.length;
-      if (small) this.cellBounds(job.items, m, job.lo, job.hi, bl, bh, pad, leafLo, leafHi);
-      for (let q = 0; q < m; q++) {
-        const r = job.items[q];
-        if (small) {
-          // a row keeps the region out of the whole (padded) cell: not listed
-          let meets = true;
-          for (let j = 0; j < n && meets; j++) meets = leafLo[q * n + j] <= leafHi[q * n + j] && leafLo[q * n + j] <= job.hi[j] + pad && leafHi[q * n + j] >= job.lo[j] - pad;
-          if (!meets) continue;
-          if (8 * (nList + 1) > lbox.length) {
-            const grown = new Float64Array(2 * lbox.length);
-            grown.set(lbox);
-            lbox = grown;
-          }
-          for (let j = 0; j < 4; j++) {
-            lbox[8 * nList + 2 * j] = j < n ? leafLo[q * n + j] : -Infinity;
-            lbox[8 * nList + 2 * j + 1] = j < n ? leafHi[q * n + j] : Infinity;
-          }
-        }
-        ids.push(r);
-        if (nList + 2 > rowAt.length) {
-          const at = new Int32Array(2 * rowAt.length);
-          at.set(rowAt);
-          rowAt = at;
-        }
-        if (nRows + this.rowStart[r + 1] - this.rowStart[r] > rowIds.length) {
-          const grown = new Int32Array(2 * rowIds.length + this.rowStart[r + 1] - this.rowStart[r]);
-          grown.set(rowIds);
-          rowIds = grown;
-        }
-        if (small) {
-          // θ that reaches the rows passed the pretest: it lies in the cell and in the listing's
-          // range, so a row holding on their intersection need not be computed (when they do not
-          // meet, within pad, no θ of the cell passes the pretest and the rows are never read)
-          for (let j = 0; j < n; j++) {
-            clipLo[j] = Math.max(job.lo[j], leafLo[q * n + j]);
-            clipHi[j] = Math.min(job.hi[j], leafHi[q * n + j]);
-          }
-          nRows = this.cellRows(r, clipLo, clipHi, rowSize, rowIds, nRows);
-        } else nRows = this.cellRows(r, job.lo, job.hi, rowSize, rowIds, nRows);
-        rowAt[++nList] = nRows;
-      }
-      leafTo[job.node] = ids.length;
+    const clip = new Float64Array(2 * n);
+    const makeLeaf = (job: BuildJob): void => {
+      leafFrom[job.node] = out.count;
+      this.listLeaf(job, bl, bh, pad, rowSize, leafLo, leafHi, clip, out);
+      leafTo[job.node] = out.count;
       leaves++;
       depthMax = Math.max(depthMax, job.depth);
       longest = Math.max(longest, leafTo[job.node] - leafFrom[job.node]);
@@ -293,70 +217,55 @@ export class BoxIndex {
     const highs = new Float64Array(R);
     const effLo = new Float64Array(R * n);
     const effHi = new Float64Array(R * n);
+    const scratchItems = new Int32Array(R);
+    const sides = new Int32Array(2 * R);
     while (queue.size) {
-      {
-        const job = queue.pop();
-        const m = job.items.length;
-        // once the listings reach the budget no split can pay for its copies: leaf without the search
-        if (m <= leafSize || job.depth >= maxDepth || listed >= budget) {
-          makeLeaf(job);
-          continue;
-        }
-        // each region's range on every axis within this cell, as its rows allow (cellBounds); a region
-        // whose range is empty on some axis holds no θ of the (padded) cell within the slack: dropped
-        this.cellBounds(job.items, m, job.lo, job.hi, bl, bh, pad, effLo, effHi);
-        const items = new Int32Array(m);
-        let kept = 0;
-        for (let q = 0; q < m; q++) {
-          let meets = true;
-          for (let j = 0; j < n && meets; j++) meets = effLo[q * n + j] <= effHi[q * n + j] && effLo[q * n + j] <= job.hi[j] + pad && effHi[q * n + j] >= job.lo[j] - pad;
-          if (!meets) continue;
-          for (let j = 0; j < n; j++) {
-            effLo[kept * n + j] = effLo[q * n + j];
-            effHi[kept * n + j] = effHi[q * n + j];
-          }
-          items[kept++] = job.items[q];
-        }
-        listed -= m - kept;
-        if (kept < m) {
-          job.items = items.slice(0, kept);
-          if (kept <= leafSize) {
-            makeLeaf(job);
-            continue;
-          }
-        }
-        // the split with the fewest expected tests (bestSplit)
-        const ax = this.bestSplit(job.items, kept, job.lo, job.hi, effLo, effHi, lows, highs);
-        const s = this.splitAt;
-        const lHi = Float64Array.from(job.hi);
-        lHi[ax] = s;
-        const rLo = Float64Array.from(job.lo);
-        rLo[ax] = s;
-        const li: number[] = [];
-        const ri: number[] = [];
-        // a region is listed on a side its range reaches (a row keeps it out of the other side)
-        for (let q = 0; q < kept; q++) {
-          if (effLo[q * n + ax] <= s) li.push(job.items[q]);
-          if (effHi[q * n + ax] >= s) ri.push(job.items[q]);
-        }
-        const grow = li.length + ri.length - kept;
-        // a split that separates nothing is not worth a node; the budget bounds the copies
-        if ((li.length === kept && ri.length === kept) || listed + grow > budget) {
-          makeLeaf(job);
-          continue;
-        }
-        listed += grow;
-        const node = job.node;
-        axis[node] = ax;
-        split[node] = s;
-        // the right child is always the left one + 1 (the fast descent relies on it)
-        const L = newNode();
-        const Rn = newNode();
-        left[node] = L;
-        right[node] = Rn;
-        queue.push(weight(job.lo, lHi, li.length), { node: L, lo: job.lo, hi: lHi, items: Int32Array.from(li), depth: job.depth + 1 });
-        queue.push(weight(rLo, job.hi, ri.length), { node: Rn, lo: rLo, hi: job.hi, items: Int32Array.from(ri), depth: job.depth + 1 });
+      const job = queue.pop();
+      const m = job.items.length;
+      // once the listings reach the budget no split can pay for its copies: leaf without the search
+      if (m <= leafSize || job.depth >= maxDepth || listed >= budget) {
+        makeLeaf(job);
+        continue;
       }
+      // each region's range on every axis within this cell, as its rows allow (cellBounds); a region
+      // whose range is empty on some axis holds no θ of the (padded) cell within the slack: dropped
+      this.cellBounds(job.items, m, job.lo, job.hi, bl, bh, pad, effLo, effHi);
+      const kept = keepMeeting(job.items, m, n, job.lo, job.hi, pad, effLo, effHi, scratchItems);
+      listed -= m - kept;
+      if (kept < m) {
+        job.items = scratchItems.slice(0, kept);
+        if (kept <= leafSize) {
+          makeLeaf(job);
+          continue;
+        }
+      }
+      // the split with the fewest expected tests (bestSplit)
+      const ax = this.bestSplit(job.items, kept, job.lo, job.hi, effLo, effHi, lows, highs);
+      const s = this.splitAt;
+      // a region is listed on a side its range reaches (a row keeps it out of the other side)
+      const nl = splitSides(job.items, kept, n, ax, s, effLo, effHi, sides);
+      const nr = rightCount;
+      const grow = nl + nr - kept;
+      // a split that separates nothing is not worth a node; the budget bounds the copies
+      if ((nl === kept && nr === kept) || listed + grow > budget) {
+        makeLeaf(job);
+        continue;
+      }
+      listed += grow;
+      const lHi = Float64Array.from(job.hi);
+      lHi[ax] = s;
+      const rLo = Float64Array.from(job.lo);
+      rLo[ax] = s;
+      const node = job.node;
+      axis[node] = ax;
+      split[node] = s;
+      // the right child is always the left one + 1 (the fast descent relies on it)
+      const L = newNode();
+      const Rn = newNode();
+      left[node] = L;
+      right[node] = Rn;
+      queue.push(cellWeight(job.lo, lHi, nl, span), { node: L, lo: job.lo, hi: lHi, items: sides.slice(0, nl), depth: job.depth + 1 });
+      queue.push(cellWeight(rLo, job.hi, nr, span), { node: Rn, lo: rLo, hi: job.hi, items: sides.slice(R, R + nr), depth: job.depth + 1 });
     }
     this.axis = Int32Array.from(axis);
     this.split = Float64Array.from(split);
@@ -364,27 +273,67 @@ export class BoxIndex {
     this.right = Int32Array.from(right);
     this.leafFrom = Int32Array.from(leafFrom);
     this.leafTo = Int32Array.from(leafTo);
-    this.leafIds = Int32Array.from(ids);
+    this.leafIds = out.ids.slice(0, out.count);
     this.boxLo = bl;
     this.boxHi = bh;
-    this.rowAt = rowAt.slice(0, nList + 1);
-    this.rowIds = rowIds.slice(0, nRows);
+    this.rowAt = out.rowAt.slice(0, out.count + 1);
+    this.rowIds = out.rowIds.slice(0, out.nRows);
     this.rootLo = Float64Array.from(lower);
     this.rootHi = Float64Array.from(upper);
     if (n <= 4) {
-      const rowsAll = this.b.length;
-      const A4 = new Float64Array(rowsAll * 5);
-      for (let i = 0; i < rowsAll; i++) {
-        for (let j = 0; j < n; j++) A4[i * 5 + j] = this.A[i * n + j];
-        A4[i * 5 + 4] = this.b[i];
-      }
-      this.A4 = A4;
-      this.box4 = lbox.slice(0, 8 * nList);
+      this.A4 = rowsAt5(this.A, this.b, n);
+      this.box4 = out.lbox.slice(0, 8 * out.count);
     } else {
       this.A4 = null;
       this.box4 = null;
     }
-    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: ids.length, cellRows: this.rowIds.length };
+    this.stats = { nodes: axis.length, leaves, depth: depthMax, longestLeaf: longest, listings: out.count, cellRows: this.rowIds.length };
+  }
+
+  /**
+   * The listings of the leaf `job` appended to `out`: each region of the cell that no row keeps out
+   * of it (nθ ≤ 4: its range within the cell by `cellBounds`, kept for the pretest), with the rows
+   * the fast path must test there (`cellRows`).
+   */
+  private listLeaf(job: BuildJob, bl: Float64Array, bh: Float64Array, pad: number, rowSize: Float64Array, leafLo: Float64Array, leafHi: Float64Array, clip: Float64Array, out: Listings): void {
+    const n = this.n;
+    const m = job.items.length;
+    const small = out.small;
+    const lo = job.lo;
+    const hi = job.hi;
+    if (small) this.cellBounds(job.items, m, lo, hi, bl, bh, pad, leafLo, leafHi);
+    const clipLo = clip.subarray(0, n);
+    const clipHi = clip.subarray(n, 2 * n);
+    for (let q = 0; q < m; q++) {
+      const r = job.items[q];
+      const rows = this.rowStart[r + 1] - this.rowStart[r];
+      if (small) {
+        // a row keeps the region out of the whole (padded) cell: not listed
+        let meets = true;
+        for (let j = 0; j < n && meets; j++) meets = leafLo[q * n + j] <= leafHi[q * n + j] && leafLo[q * n + j] <= hi[j] + pad && leafHi[q * n + j] >= lo[j] - pad;
+        if (!meets) continue;
+        out.reserve(rows);
+        const lbox = out.lbox;
+        const o = 8 * out.count;
+        for (let j = 0; j < 4; j++) {
+          lbox[o + 2 * j] = j < n ? leafLo[q * n + j] : -Infinity;
+          lbox[o + 2 * j + 1] = j < n ? leafHi[q * n + j] : Infinity;
+        }
+        // θ that reaches the rows passed the pretest: it lies in the cell and in the listing's
+        // range, so a row holding on their intersection need not be computed (when they do not
+        // meet, within pad, no θ of the cell passes the pretest and the rows are never read)
+        for (let j = 0; j < n; j++) {
+          clipLo[j] = Math.max(lo[j], leafLo[q * n + j]);
+          clipHi[j] = Math.min(hi[j], leafHi[q * n + j]);
+        }
+        out.nRows = this.cellRows(r, clipLo, clipHi, rowSize, out.rowIds, out.nRows);
+      } else {
+        out.reserve(rows);
+        out.nRows = this.cellRows(r, lo, hi, rowSize, out.rowIds, out.nRows);
+      }
+      out.ids[out.count] = r;
+      out.rowAt[++out.count] = out.nRows;
+    }
   }
 
   /**
@@ -845,6 +794,143 @@ export class BoxIndex {
     this.lastViolation = near < 0 ? -Infinity : nearV;
     return near;
   }
+}
+
+/** A cell of the build still to split or list: its node, bounds, regions (ascending) and depth. */
+interface BuildJob {
+  node: number;
+  lo: Float64Array;
+  hi: Float64Array;
+  items: Int32Array;
+  depth: number;
+}
+
+/**
+ * The leaf listings of a build, in typed arrays grown by doubling: listing q is region ids[q], its
+ * rows rowIds[rowAt[q] … rowAt[q + 1]) and (`small`, nθ ≤ 4) its range lbox[8q … 8q + 7].
+ */
+class Listings {
+  ids = new Int32Array(1024);
+  rowAt = new Int32Array(1025);
+  rowIds = new Int32Array(4096);
+  lbox: Float64Array;
+  count = 0;
+  nRows = 0;
+  constructor(readonly small: boolean) {
+    this.lbox = new Float64Array(small ? 8 * 1024 : 0);
+  }
+  /** room for one more listing of up to `rows` rows */
+  reserve(rows: number): void {
+    // room: ids[count], rowAt[count + 1], lbox[8·count … 8·count + 7]
+    if (this.count + 1 > this.ids.length) {
+      const cap = 2 * this.ids.length;
+      const ids = new Int32Array(cap);
+      ids.set(this.ids);
+      this.ids = ids;
+      const at = new Int32Array(cap + 1);
+      at.set(this.rowAt);
+      this.rowAt = at;
+      if (this.small) {
+        const box = new Float64Array(8 * cap);
+        box.set(this.lbox);
+        this.lbox = box;
+      }
+    }
+    if (this.nRows + rows > this.rowIds.length) {
+      const grown = new Int32Array(2 * this.rowIds.length + rows);
+      grown.set(this.rowIds);
+      this.rowIds = grown;
+    }
+  }
+}
+
+/** The regions' rows packed: A row-major (nθ columns), b, and region r's rows rowStart[r] … rowStart[r + 1]. */
+function packRows(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, n: number): { A: Float64Array; b: Float64Array; rowStart: Int32Array } {
+  const R = regions.length;
+  let rows = 0;
+  for (let r = 0; r < R; r++) rows += regions[r].b.length;
+  const Af = new Float64Array(rows * n);
+  const bf = new Float64Array(rows);
+  const rowStart = new Int32Array(R + 1);
+  let at = 0;
+  for (let r = 0; r < R; r++) {
+    const { A, b } = regions[r];
+    rowStart[r] = at;
+    for (let i = 0; i < b.length; i++, at++) {
+      const row = A[i];
+      for (let j = 0; j < n; j++) Af[at * n + j] = row[j];
+      bf[at] = b[i];
+    }
+  }
+  rowStart[R] = at;
+  return { A: Af, b: bf, rowStart };
+}
+
+/** The boxes widened by pad, region r's at [r·nθ … r·nθ + nθ − 1]. */
+function padBoxes(boxes: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>, R: number, n: number, pad: number, bl: Float64Array, bh: Float64Array): void {
+  for (let r = 0; r < R; r++) {
+    const { lo, hi } = boxes[r];
+    for (let j = 0; j < n; j++) {
+      bl[r * n + j] = lo[j] - pad;
+      bh[r * n + j] = hi[j] + pad;
+    }
+  }
+}
+
+/** Each row's nθ ≤ 4 entries (zeros after them) and b at stride 5 (`locate4`). */
+function rowsAt5(A: Float64Array, b: Float64Array, n: number): Float64Array {
+  const rows = b.length;
+  const A4 = new Float64Array(rows * 5);
+  for (let i = 0; i < rows; i++) {
+    for (let j = 0; j < n; j++) A4[i * 5 + j] = A[i * n + j];
+    A4[i * 5 + 4] = b[i];
+  }
+  return A4;
+}
+
+/** Expected tests of a cell for uniformly spread queries: its regions × its share of the parameter box (`span`: the box's widths). */
+function cellWeight(lo: Float64Array, hi: Float64Array, m: number, span: Float64Array): number {
+  let v = m;
+  for (let j = 0; j < lo.length; j++) v *= (hi[j] - lo[j]) / span[j];
+  return v;
+}
+
+/**
+ * Keep, in order, the regions of items[0 … m) whose range (eLo, eHi, compacted alike) is not empty
+ * and meets the cell [lo, hi] widened by pad on every axis; their ids go to `out`. Returns how many.
+ */
+function keepMeeting(items: Int32Array, m: number, n: number, lo: Float64Array, hi: Float64Array, pad: number, eLo: Float64Array, eHi: Float64Array, out: Int32Array): number {
+  let kept = 0;
+  for (let q = 0; q < m; q++) {
+    let meets = true;
+    for (let j = 0; j < n && meets; j++) meets = eLo[q * n + j] <= eHi[q * n + j] && eLo[q * n + j] <= hi[j] + pad && eHi[q * n + j] >= lo[j] - pad;
+    if (!meets) continue;
+    for (let j = 0; j < n; j++) {
+      eLo[kept * n + j] = eLo[q * n + j];
+      eHi[kept * n + j] = eHi[q * n + j];
+    }
+    out[kept++] = items[q];
+  }
+  return kept;
+}
+
+/** How many regions `splitSides` put on the right (its return is the left count). */
+let rightCount = 0;
+
+/**
+ * The regions of items[0 … m) whose range reaches θ_ax ≤ s to sides[0 …) and those reaching θ_ax ≥ s
+ * to sides[R …) (R = sides.length / 2), in order; returns the left count, the right one in `rightCount`.
+ */
+function splitSides(items: Int32Array, m: number, n: number, ax: number, s: number, eLo: Float64Array, eHi: Float64Array, sides: Int32Array): number {
+  const R = sides.length >> 1;
+  let nl = 0;
+  let nr = 0;
+  for (let q = 0; q < m; q++) {
+    if (eLo[q * n + ax] <= s) sides[nl++] = items[q];
+    if (eHi[q * n + ax] >= s) sides[R + nr++] = items[q];
+  }
+  rightCount = nr;
+  return nl;
 }
 
 /**

@@ -9,8 +9,8 @@ import { closeSync, existsSync, fstatSync, openSync, readFileSync, readSync, sta
 import { availableParallelism } from 'node:os';
 import { checkOutputPath } from '../io/output.js';
 import { writeFileAtomic } from '../io/atomic.js';
-import { BoxIndex, indexFromBytes, indexToBytes, INDEX_FILE_TAG } from '../table/boxindex.js';
-import { tableBoxPad, tableLocator } from '../table/locator.js';
+import { BoxIndex, indexFromBytes, indexToBytes, INDEX_FILE_TAG, planTree } from '../table/boxindex.js';
+import { tableBoxPad, tableLocator, tableLocatorOptions } from '../table/locator.js';
 import { boxJob, jobBoxes } from '../table/shared-boxes.js';
 import { bytesSha256, checkIndexPath, currentIndex, indexKey, indexMatches, sidecarIndexPath, tableIndex } from './index-file.js';
 import type { TableFile } from '../table/format.js';
@@ -332,7 +332,9 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
     const job = boxJob(table.regions, n, tableBoxPad());
     csv.shareBoxes(job);
     boxes = jobBoxes(job, table.box.lower, table.box.upper);
-    if (!opts.index) early = tableLocator(table.regions, table.box.lower, table.box.upper, boxes, true);
+    // the tree for this run grown in parts that this thread and the workers share (the same tree as
+    // `tableLocator(…, true)` grows in one thread)
+    if (!opts.index) early = await csv.shareTree(planTree(table.regions, boxes, table.box.lower, table.box.upper, tableLocatorOptions(n, true)));
     earlyWall = (performance.now() - w0) / 1000;
     earlyCpu = cpuSeconds() - c0;
   }

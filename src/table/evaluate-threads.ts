@@ -12,7 +12,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import { readFileSync } from 'node:fs';
-import { BoxIndex, type BoxIndexState } from './boxindex.js';
+import { BoxIndex, growPart, joinTree, type BoxIndexState, type GrownTree, type TreeContext, type TreePart, type TreePlan } from './boxindex.js';
 import { csvLines, orderRangePoints, parsePointsRange, type CsvContext, type EvaluateTimes, type RangePoints } from './points.js';
 import { workOnBoxes, type BoxJob } from './shared-boxes.js';
 
@@ -21,6 +21,7 @@ export type EvaluateJob =
   | { type: 'parse'; text: Uint8Array; start: number; end: number; n: number }
   | { type: 'boxes'; job: BoxJob }
   | { type: 'parse-main'; chunks: [number, number][]; claim: Int32Array }
+  | { type: 'tree'; ctx: TreeContext; parts: TreePart[]; claim: Int32Array }
   | { type: 'run'; context: Omit<CsvContext, 'index'> & { index: BoxIndexState }; order: number[] | null; chunkPoints?: number };
 
 /** What a worker sends back: `parsed` (count −1: a line that is not a point), then byte chunks in order, then `done` with its stage seconds. */
@@ -29,6 +30,8 @@ export type EvaluateWorkerMessage =
   | { type: 'boxed'; blocks: number }
   | { type: 'main-chunk'; k: number; points: RangePoints | null }
   | { type: 'main-done' }
+  | { type: 'grown'; k: number; tree: GrownTree }
+  | { type: 'grown-done' }
   | { type: 'chunk'; bytes: Uint8Array }
   | { type: 'done'; times: { locate: number; law: number; format: number }; cpu: number }
   | { type: 'error'; message: string };
@@ -110,6 +113,8 @@ interface WorkerQueue {
   parseSeconds: number;
   /** called with each chunk of range 0 this worker parsed for the main thread (k, points), and with k = −1 when it is done with them or gone */
   mainChunk: ((k: number, p: RangePoints | null) => void) | null;
+  /** called with each part of the tree this worker grew (k, subtree), and with k = −1 when it is done with them or gone */
+  grown: ((k: number, t: GrownTree | null) => void) | null;
   chunks: Uint8Array[];
   done: boolean;
   error: Error | null;
@@ -144,7 +149,7 @@ export class ThreadedCsv {
     this.ranges = splitLines(text, dataStart, text.length, weights);
     this.queues = pool.workers.slice(0, weights.length - 1).map((worker, w) => {
       const [start, end] = this.ranges[w + 1];
-      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, mainChunk: null, chunks: [], done: false, error: null, wake: null };
+      const q: WorkerQueue = { worker, parsed: Promise.resolve(0), parseSeconds: 0, mainChunk: null, grown: null, chunks: [], done: false, error: null, wake: null };
       let parsedResolve: (count: number) => void = () => {};
       q.parsed = new Promise<number>((resolve) => (parsedResolve = resolve));
       const poke = (): void => {
@@ -156,6 +161,9 @@ export class ThreadedCsv {
         const g = q.mainChunk;
         q.mainChunk = null;
         g?.(-1, null);
+        const t = q.grown;
+        q.grown = null;
+        t?.(-1, null);
       };
       worker.on('message', (m: EvaluateWorkerMessage) => {
         if (m.type === 'parsed') {
@@ -164,6 +172,12 @@ export class ThreadedCsv {
         } else if (m.type === 'boxed') {
           // the worker is done with its blocks (jobBoxes does not wait for this)
         } else if (m.type === 'main-chunk') q.mainChunk?.(m.k, m.points);
+        else if (m.type === 'grown') q.grown?.(m.k, m.tree);
+        else if (m.type === 'grown-done') {
+          const t = q.grown;
+          q.grown = null;
+          t?.(-1, null);
+        }
         else if (m.type === 'main-done') gone();
         else if (m.type === 'chunk') q.chunks.push(m.bytes);
         else if (m.type === 'done') {
@@ -264,6 +278,49 @@ export class ThreadedCsv {
     workOnBoxes(job);
   }
 
+  /**
+   * Grow the parts of `plan` (`planTree`) on this thread and the workers at once, then join them:
+   * each thread takes the next part from a shared counter (the largest first: the plan lists them
+   * so), so a worker still parsing takes none and holds nothing up. This thread waits only for the
+   * parts a worker took; a worker gone before sending one leaves it to be grown here. A part's
+   * subtree depends only on the part, so the index is the one `joinTree` makes of the parts grown
+   * in one thread, whichever thread grew which.
+   */
+  async shareTree(plan: TreePlan): Promise<BoxIndex> {
+    const K = plan.parts.length;
+    const got: (GrownTree | undefined)[] = new Array<GrownTree | undefined>(K).fill(undefined);
+    const claim = new Int32Array(new SharedArrayBuffer(4));
+    let busy = 0;
+    let wake: (() => void) | null = null;
+    const live = K > 0 ? this.queues.filter((q) => !q.error) : [];
+    for (const q of live) {
+      busy++;
+      q.grown = (k, t) => {
+        if (k >= 0) got[k] = t!;
+        else busy--;
+        const f = wake;
+        wake = null;
+        f?.();
+      };
+      q.worker.postMessage({ type: 'tree', ctx: plan.ctx, parts: plan.parts, claim } satisfies EvaluateJob);
+    }
+    const mine = new Uint8Array(K);
+    const grower = {};
+    for (let k = Atomics.add(claim, 0, 1); k < K; k = Atomics.add(claim, 0, 1)) {
+      got[k] = growPart(plan.ctx, plan.parts[k], grower);
+      mine[k] = 1;
+    }
+    // the parts a worker took (each k below K is taken once: by this thread or by one worker)
+    const waitFor = (): boolean => {
+      for (let k = 0; k < K; k++) if (!mine[k] && got[k] === undefined) return true;
+      return false;
+    };
+    while (busy > 0 && waitFor()) await new Promise<void>((resolve) => (wake = resolve));
+    for (let k = 0; k < K; k++) got[k] ??= growPart(plan.ctx, plan.parts[k], grower);
+    for (const q of live) q.grown = null;
+    return joinTree(plan, got as GrownTree[]);
+  }
+
   /** Whether every worker's range parsed (each line blank, a comment or n finite numbers); the total count of their points. */
   async parsed(): Promise<{ ok: boolean; count: number }> {
     const counts = await Promise.all(this.queues.map((q) => q.parsed));
@@ -328,6 +385,15 @@ export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMess
       send({ type: 'main-chunk', k, points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
     }
     send({ type: 'main-done' });
+    return;
+  }
+  if (job.type === 'tree') {
+    const grower = {};
+    for (let k = Atomics.add(job.claim, 0, 1); k < job.parts.length; k = Atomics.add(job.claim, 0, 1)) {
+      const t = growPart(job.ctx, job.parts[k], grower);
+      send({ type: 'grown', k, tree: t }, [t.axis, t.split, t.left, t.right, t.leafFrom, t.leafTo, t.ids, t.rowAt, t.rowIds, t.lbox, t.scratch].map((a) => a.buffer as ArrayBuffer));
+    }
+    send({ type: 'grown-done' });
     return;
   }
   if (job.type === 'boxes') {

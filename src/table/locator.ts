@@ -2,7 +2,7 @@ import { lpMaximizeFrom, chebyshevBall } from '../lp/kernel.js';
 import { luSolveInPlace } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 import type { CriticalRegion } from '../mpqp/types.js';
-import { BoxIndex } from './boxindex.js';
+import { BoxIndex, type BoxIndexOptions } from './boxindex.js';
 import { packedViolation } from './packed.js';
 
 export { packedViolation };
@@ -650,14 +650,25 @@ export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshe
   const pad = tableBoxPad();
   // `given`: these boxes, computed elsewhere the same way (src/table/shared-boxes.ts: threads sharing the LPs)
   const boxes = given ?? regions.map((r) => (r.b.length === 0 ? { lo: lower, hi: upper } : regionBoundingBox(r.A, r.b, r.chebyshev?.center ?? null, pad)));
-  // the rule of locateScan and of GridLocator.locate: exact containment first (lowest index), else
-  // the least residual. Listing budget: up to nθ = 4, 12 listings per region build the tree in a
-  // third of the time of 24 with no slower lookups (boom-4d-n12 6k and boom-4d-n8 tables, paired);
-  // in 6-D the lookups were 20 % slower with 12, and there they cost far more than the build.
-  // `oneRun`: a tree for the queries of one run, not kept (evaluate without an index file): 8, the
-  // build ~1/3 cheaper for lookups ~as fast on the 6k table (an index file keeps 12: it is read by many
-  // runs). Any budget gives the same answers (every region holding θ is listed in θ's leaf).
-  return new BoxIndex(regions, boxes, lower, upper, { rule: 'exact-first', listingBudget: lower.length <= 4 ? (oneRun ? 8 : 12) : 24 });
+  return new BoxIndex(regions, boxes, lower, upper, tableLocatorOptions(lower.length, oneRun));
+}
+
+/** Parts of a tree for one run (`tableLocatorOptions`): enough for two threads to share them evenly, few enough that the top stays small. */
+export const ONE_RUN_PARTS = 16;
+
+/**
+ * The build options of `tableLocator` for nθ = n. The rule of locateScan and of GridLocator.locate:
+ * exact containment first (lowest index), else the least residual. Listing budget: up to nθ = 4, 12
+ * listings per region build the tree in a third of the time of 24 with no slower lookups (boom-4d-n12
+ * 6k and boom-4d-n8 tables, paired); in 6-D the lookups were 20 % slower with 12, and there they cost
+ * far more than the build. `oneRun`: a tree for the queries of one run, not kept (evaluate without an
+ * index file): 8, the build ~1/3 cheaper for lookups ~as fast on the 6k table (an index file keeps 12:
+ * it is read by many runs), grown in ONE_RUN_PARTS parts (`planTree`), which the threads of a
+ * threaded evaluate share (`ThreadedCsv.shareTree`). Any budget and any parts give the same answers
+ * (every region holding θ is listed in θ's leaf).
+ */
+export function tableLocatorOptions(n: number, oneRun: boolean): BoxIndexOptions {
+  return { rule: 'exact-first', listingBudget: n <= 4 ? (oneRun ? 8 : 12) : 24, parts: oneRun ? ONE_RUN_PARTS : 1 };
 }
 
 interface CachedLocator {

@@ -178,7 +178,12 @@ export class ThreadedCsv {
           q.grown = null;
           t?.(-1, null);
         }
-        else if (m.type === 'main-done') gone();
+        else if (m.type === 'main-done') {
+          // done with range 0's chunks only (a tree it is growing goes on)
+          const g = q.mainChunk;
+          q.mainChunk = null;
+          g?.(-1, null);
+        }
         else if (m.type === 'chunk') q.chunks.push(m.bytes);
         else if (m.type === 'done') {
           q.done = true;

@@ -654,7 +654,7 @@ export function tableLocator(regions: Pick<CriticalRegion, 'A' | 'b' | 'chebyshe
 }
 
 /** Parts of a tree for one run (`tableLocatorOptions`): enough for two threads to share them evenly, few enough that the top stays small. */
-export const ONE_RUN_PARTS = 16;
+export const ONE_RUN_PARTS = 32;
 
 /**
  * The build options of `tableLocator` for nθ = n. The rule of locateScan and of GridLocator.locate:

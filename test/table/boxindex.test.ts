@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
-import { BoxIndex, indexFromBytes, indexToBytes } from '../../src/table/boxindex.js';
+import { BoxIndex, growPart, indexFromBytes, indexToBytes, joinTree, planTree } from '../../src/table/boxindex.js';
 import { boundingBoxByLp, regionBoundingBox, tableLocator } from '../../src/table/locator.js';
 import { referenceBox } from '../helpers/lp-box.js';
 import { loadProblem, solveProblem } from '../../src/index.js';
@@ -183,6 +183,66 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
       }
     }
   });
+
+  // Reference: the literal rule (`reference` above, a scan written here). A tree grown in parts
+  // (the one-run tree of evaluate, whose parts the threads share) must answer as it whatever the
+  // number of parts and the order they are grown in, and the slab masks of big leaves (locate4,
+  // nθ ≤ 4) must keep every listing whose range holds θ: points are also put exactly on the sides
+  // of listings' ranges (θ_j = a side, where the pretest still passes), the masks' edge case.
+  it('a tree grown in parts (any number, any order) and the slab masks of big leaves answer as the literal rule, also on the sides of the listings\' ranges', () => {
+    const tables: TableFile[] = [
+      arrangementTable({ lower: [-1, -1, -1, -1], upper: [1, 1, 1, 1], planes: 7, seed: 61 }),
+      arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 9, seed: 62 }),
+      gridTable(9, (i, j) => ({ F: [[i, j]], g: [i - j] })),
+    ];
+    let slabLeaves = 0;
+    let sidePoints = 0;
+    for (const t of tables) {
+      const n = t.dims.ntheta;
+      const boxes = t.regions.map((r) => regionBoundingBox(r.A, r.b, r.chebyshev.center, 1e3 * 1e-9));
+      const pts = probePoints(t, 600, 5 * n);
+      for (const listingBudget of [1, 8])
+        for (const parts of [1, 3, 32, 500]) {
+          const options = { rule: 'exact-first' as const, listingBudget, parts };
+          const plan = planTree(t.regions, boxes, t.box.lower, t.box.upper, options);
+          const inOrder = joinTree(
+            plan,
+            plan.parts.map((p) => growPart(plan.ctx, p)),
+          );
+          // grown last part first, one grower for all: the same tree
+          const grower = {};
+          const backwards = plan.parts
+            .map((_, k) => plan.parts.length - 1 - k)
+            .map((k) => ({ k, tree: growPart(plan.ctx, plan.parts[k], grower) }))
+            .sort((a, b) => a.k - b.k)
+            .map((g) => g.tree);
+          const other = joinTree(plan, backwards).state();
+          const mine = inOrder.state();
+          for (const key of Object.keys(mine) as (keyof typeof mine)[]) expect(other[key], `${key}, ${parts} parts`).toEqual(mine[key]);
+          expect(new BoxIndex(t.regions, boxes, t.box.lower, t.box.upper, options).state().leafIds).toEqual(mine.leafIds);
+          // the probes, and the same probes moved onto a side of a range their leaf lists
+          const s = mine as unknown as { axis: Int32Array; split: Float64Array; left: Int32Array; leafFrom: Int32Array; leafTo: Int32Array; box4: Float64Array | null };
+          const sides: number[][] = [];
+          if (s.box4)
+            for (const p of pts.slice(0, 300)) {
+              let k = 0;
+              while (s.axis[k] >= 0) k = p[s.axis[k]] <= s.split[k] ? s.left[k] : s.left[k] + 1;
+              if (s.leafTo[k] - s.leafFrom[k] <= 4) continue;
+              const q = s.leafFrom[k] + ((7 * sidePoints) % (s.leafTo[k] - s.leafFrom[k]));
+              const j = sidePoints % n;
+              for (const side of [s.box4[8 * q + 2 * j], s.box4[8 * q + 2 * j + 1]])
+                if (side >= t.box.lower[j] && side <= t.box.upper[j]) sides.push(p.map((x, i) => (i === j ? side : x)));
+              sidePoints++;
+            }
+          check(t, inOrder, [...pts, ...sides], 'exact-first');
+          const slabs = (inOrder as unknown as { slabs: { of: Int32Array } | null }).slabs;
+          if (slabs) slabLeaves += slabs.of.filter((r) => r >= 0).length;
+        }
+    }
+    // the masks were used (big leaves) and their edge case probed
+    expect(slabLeaves).toBeGreaterThan(50);
+    expect(sidePoints).toBeGreaterThan(500);
+  }, 300000);
 
   it('NaN and far-away θ are in no region', () => {
     const t = arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 6, seed: 5 });

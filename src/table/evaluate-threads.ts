@@ -385,11 +385,23 @@ export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMess
     return;
   }
   if (job.type === 'parse-main') {
-    for (let k = Atomics.add(job.claim, 0, 1); k < job.chunks.length; k = Atomics.add(job.claim, 0, 1)) {
-      const p = parsePointsRange(ownText, job.chunks[k][0], job.chunks[k][1], ownN);
-      send({ type: 'main-chunk', k, points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
-    }
-    send({ type: 'main-done' });
+    // one chunk per turn of the event loop: a message that came meanwhile (the box LPs, the tree's
+    // parts: the main thread waits for those) is handled between two chunks, the chunks left after
+    const step = (): void => {
+      try {
+        const k = Atomics.add(job.claim, 0, 1);
+        if (k >= job.chunks.length) {
+          send({ type: 'main-done' });
+          return;
+        }
+        const p = parsePointsRange(ownText, job.chunks[k][0], job.chunks[k][1], ownN);
+        send({ type: 'main-chunk', k, points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
+        setImmediate(step);
+      } catch (e) {
+        send({ type: 'error', message: e instanceof Error ? e.message : String(e) });
+      }
+    };
+    step();
     return;
   }
   if (job.type === 'tree') {

@@ -334,7 +334,7 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
     boxes = jobBoxes(job, table.box.lower, table.box.upper);
     // the tree for this run grown in parts that this thread and the workers share (the same tree as
     // `tableLocator(…, true)` grows in one thread)
-    if (!opts.index) early = await csv.shareTree(planTree(table.regions, boxes, table.box.lower, table.box.upper, tableLocatorOptions(n, true)));
+    if (!opts.index) early = await csv.shareTree(planTree(table.regions, boxes, table.box.lower, table.box.upper, tableLocatorOptions(n, true), job));
     earlyWall = (performance.now() - w0) / 1000;
     earlyCpu = cpuSeconds() - c0;
   }

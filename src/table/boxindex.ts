@@ -41,7 +41,7 @@ const FROM_STATE = Symbol('fromState');
 const STATE_KEYS = ['n', 'size', 'A', 'b', 'rowStart', 'axis', 'split', 'left', 'right', 'leafFrom', 'leafTo', 'leafIds', 'boxLo', 'boxHi', 'rowAt', 'rowIds', 'rootLo', 'rootHi', 'A4', 'box4', 'exactFirst', 'stats', 'cellLo', 'cellHi', 'terms'] as const;
 
 /** A `BoxIndex` as plain data (`BoxIndex.state()`): numbers, a boolean, typed arrays, the stats. */
-export type BoxIndexState = { [K in (typeof STATE_KEYS)[number]]: unknown } & { n: number };
+export type BoxIndexState = { [K in (typeof STATE_KEYS)[number]]: unknown } & { n: number; slabs?: unknown };
 
 /** Build options of a `BoxIndex` (defaults suit tables of 10 to 10⁶ regions). */
 export interface BoxIndexOptions {
@@ -153,8 +153,9 @@ export class BoxIndex {
       this.box4 = s.box4;
       this.stats = s.stats;
     }
-    // derived, not part of the state (index files stay as they were): rebuilt by every reader
-    this.slabs = this.A4 ? leafSlabs(this.axis, this.split, this.left, this.leafFrom, this.leafTo, this.box4!, this.rootLo, this.rootHi) : null;
+    // derived: handed over with the state to a worker (`state().slabs`), else (an index file, which
+    // does not hold them) derived again here
+    this.slabs = (state.slabs as LeafSlabs | undefined) ?? (this.A4 ? leafSlabs(this.axis, this.split, this.left, this.leafFrom, this.leafTo, this.box4!, this.rootLo, this.rootHi) : null);
   }
 
   /** for nθ ≤ 4: the leaves' slab masks (`leafSlabs`), null for nθ > 4 */
@@ -171,6 +172,8 @@ export class BoxIndex {
   state(): BoxIndexState {
     const out: Record<string, unknown> = {};
     for (const k of STATE_KEYS) out[k] = (this as unknown as Record<string, unknown>)[k];
+    // the slab masks too (not written to index files: `indexToBytes` takes STATE_KEYS only)
+    out.slabs = this.slabs;
     return out as unknown as BoxIndexState;
   }
 
@@ -502,8 +505,15 @@ class Listings {
   }
 }
 
-/** The regions' rows packed: A row-major (nθ columns), b, and region r's rows rowStart[r] … rowStart[r + 1]. */
-function packRows(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, n: number): { A: Float64Array; b: Float64Array; rowStart: Int32Array } {
+/** Regions' rows packed: A row-major (nθ columns), b, and region r's rows rowStart[r] … rowStart[r + 1]. */
+export interface PackedRows {
+  A: Float64Array;
+  b: Float64Array;
+  rowStart: Int32Array;
+}
+
+/** The regions' rows packed (`PackedRows`). */
+function packRows(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, n: number): PackedRows {
   const R = regions.length;
   let rows = 0;
   for (let r = 0; r < R; r++) rows += regions[r].b.length;
@@ -1185,10 +1195,10 @@ class TreeGrower {
 }
 
 /** The regions' rows packed and their boxes padded, with the build options: what `TreeGrower` reads. */
-function treeContext(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, boxes: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>, lower: ArrayLike<number>, upper: ArrayLike<number>, options: BoxIndexOptions): TreeContext {
+function treeContext(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, boxes: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>, lower: ArrayLike<number>, upper: ArrayLike<number>, options: BoxIndexOptions, packed?: PackedRows): TreeContext {
   const n = lower.length;
   const R = regions.length;
-  const { A, b, rowStart } = packRows(regions, n);
+  const { A, b, rowStart } = packed ?? packRows(regions, n);
   const bl = new Float64Array(R * n);
   const bh = new Float64Array(R * n);
   padBoxes(boxes, R, n, 1e3 * tol.inside, bl, bh);
@@ -1199,10 +1209,11 @@ function treeContext(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: Ar
  * The first step of a build in parts: the top of the tree grown until `parts` cells wait (fewer
  * when the tree ends sooner), each given the listings it holds plus a share of the budget left in
  * proportion to its expected tests. Any split of the work gives an index with the answers of a
- * build in one piece (every region holding θ is listed in θ's leaf whatever the cells).
+ * build in one piece (every region holding θ is listed in θ's leaf whatever the cells). `packed`:
+ * the regions' rows already packed as `packRows` packs them (e.g. the shared box job's), used as they are.
  */
-export function planTree(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, boxes: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>, lower: ArrayLike<number>, upper: ArrayLike<number>, options: BoxIndexOptions = {}): TreePlan {
-  const ctx = treeContext(regions, boxes, lower, upper, options);
+export function planTree(regions: ArrayLike<{ A: ArrayLike<ArrayLike<number>>; b: ArrayLike<number> }>, boxes: ArrayLike<{ lo: ArrayLike<number>; hi: ArrayLike<number> }>, lower: ArrayLike<number>, upper: ArrayLike<number>, options: BoxIndexOptions = {}, packed?: PackedRows): TreePlan {
+  const ctx = treeContext(regions, boxes, lower, upper, options, packed);
   const R = regions.length;
   const budget = (options.listingBudget ?? 24) * Math.max(R, 1);
   const all = new Int32Array(R);

@@ -20,6 +20,11 @@
  * boom-4d-n12 this took the lookups from 0.43 to 0.67 M per CPU second against the ¼/½/¾ splits
  * alone, and the box pretest another ×1.3 (paired, load ≈ 7).
  *
+ * The build (`TreeGrower`) can go in parts (option `parts`, `planTree` / `growPart` / `joinTree`):
+ * the top until that many cells wait, then each cell on its own, on any thread; the answers do not
+ * depend on it. For nθ ≤ 4 a leaf listing more than SLAB_MIN regions also gets slab masks
+ * (`leafSlabs`): the fast path tests only the listings whose range reaches θ's slab on every axis.
+ *
  * Why not the growing grid (GridLocator) for this: it must look at one cell on every level, and the
  * coarse levels list the big regions of the whole table; a static tree knows every region up front
  * and splits where regions are dense. Why not the emit box tree (src/partition/boxtree.ts): that one

@@ -189,11 +189,13 @@ describe('BoxIndex: the k-d tree over bounding boxes of a finished table', () =>
   // number of parts and the order they are grown in, and the slab masks of big leaves (locate4,
   // nθ ≤ 4) must keep every listing whose range holds θ: points are also put exactly on the sides
   // of listings' ranges (θ_j = a side, where the pretest still passes), the masks' edge case.
-  it('a tree grown in parts (any number, any order) and the slab masks of big leaves answer as the literal rule, also on the sides of the listings\' ranges', () => {
+  it('a tree grown in parts (any number, any order; 2-D to 5-D) and the slab masks of big leaves answer as the literal rule, also on the sides of the listings\' ranges', () => {
     const tables: TableFile[] = [
       arrangementTable({ lower: [-1, -1, -1, -1], upper: [1, 1, 1, 1], planes: 7, seed: 61 }),
       arrangementTable({ lower: [-1, -1, -1], upper: [1, 1, 1], planes: 9, seed: 62 }),
       gridTable(9, (i, j) => ({ F: [[i, j]], g: [i - j] })),
+      // 5-D: no slab masks (the general fast path), parts all the same
+      arrangementTable({ lower: [-1, -1, -1, -1, -1], upper: [1, 1, 1, 1, 1], planes: 6, seed: 63 }),
     ];
     let slabLeaves = 0;
     let sidePoints = 0;

@@ -4,7 +4,7 @@ import { InputError, readBytesInput, readTextInput } from '../io/errors.js';
 import { hasInputLimits } from '../table/clamp.js';
 import { CLI, positive } from './common.js';
 import { endEvaluatePool, MIN_BYTES_PER_THREAD, startEvaluatePool, threadCpuSeconds, ThreadedCsv } from '../table/evaluate-threads.js';
-import { csvContext, evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, pointsFileHead, pointsHeaderColumns, SCAN_BELOW_POINTS, type EvaluateTimes, type FlatPoints } from '../table/points.js';
+import { csvContext, evaluateCsvBytes, evaluatePoints, parsePointsCsv, parsePointsFlat, pointsFileHead, pointsHeaderColumns, SCAN_BELOW_POINTS, type CsvContext, type EvaluateTimes, type FlatPoints } from '../table/points.js';
 import { closeSync, existsSync, fstatSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { checkOutputPath } from '../io/output.js';
@@ -338,27 +338,36 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
     earlyWall = (performance.now() - w0) / 1000;
     earlyCpu = cpuSeconds() - c0;
   }
-  const own = await csv.ownParsed();
-  if (!own) return giveUp();
-  const parsed = await csv.parsed();
-  if (!parsed.ok) return giveUp();
-  const extra = opts.at ? parseAt(opts.at, n) : [];
-  // the shared box LPs and an early tree are counted in the index stage, not in the points stage they ran in
-  clock?.lap('points', earlyWall, earlyCpu);
-  const total = own.count + parsed.count + (opts.at ? 1 : 0);
   const clamp = !!opts.clamp;
   const times: EvaluateTimes = { index: earlyWall, locate: 0, law: 0, format: 0, cpu: { index: earlyCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
-  let index: BoxIndex | null = total >= SCAN_BELOW_POINTS ? early : null;
-  if (known) index = known;
-  else if (opts.index) {
-    const w0 = performance.now();
-    const c0 = cpuSeconds();
-    index = indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
-    times.index += (performance.now() - w0) / 1000;
-    times.cpu!.index += cpuSeconds() - c0;
+  const parsed = await csv.parsed();
+  if (!parsed.ok) return giveUp();
+  // the one-run tree ready and enough points in the workers' ranges alone: the workers start on
+  // their lines now, while this thread takes what is left of its own range's parse
+  let ctx: CsvContext | null = null;
+  if (!known && !opts.index && early && parsed.count >= SCAN_BELOW_POINTS) {
+    ctx = csvContext(table, { clamp, index: early }, times, Infinity);
+    csv.startWorkers(ctx, order, undefined);
   }
-  const ctx = csvContext(table, { clamp, index }, times, total);
-  if (!ctx.index) return giveUp();
+  const own = await csv.ownParsed();
+  if (!own) return giveUp();
+  const extra = opts.at ? parseAt(opts.at, n) : [];
+  // the shared box LPs, an early tree and its context are counted in the index stage, not in the points stage they ran in
+  clock?.lap('points', times.index, times.cpu!.index);
+  const total = own.count + parsed.count + (opts.at ? 1 : 0);
+  if (!ctx) {
+    let index: BoxIndex | null = total >= SCAN_BELOW_POINTS ? early : null;
+    if (known) index = known;
+    else if (opts.index) {
+      const w0 = performance.now();
+      const c0 = cpuSeconds();
+      index = indexFor(fullTable(table), tablePath, opts.index, !!opts.quiet, boxes ?? undefined);
+      times.index += (performance.now() - w0) / 1000;
+      times.cpu!.index += cpuSeconds() - c0;
+    }
+    ctx = csvContext(table, { clamp, index }, times, total);
+    if (!ctx.index) return giveUp();
+  }
   warnings(table, tablePath, opts, clamp);
   await writeCsv(csv.lines(ctx, own, order, Float64Array.from(extra), undefined, times), clock, times, true, total);
   if (clock) {

@@ -334,6 +334,22 @@ export class ThreadedCsv {
     return { ok: counts.every((c) => c >= 0), count: counts.reduce((a, c) => a + Math.max(0, c), 0) };
   }
 
+  private started = false;
+
+  /**
+   * Send the workers the context (the tree's state, the packed laws, the clamp, the header's column
+   * order): they locate and format their ranges from then on (`lines` writes their chunks). Once;
+   * `lines` calls it if the caller has not.
+   */
+  startWorkers(ctx: CsvContext, order: number[] | null, chunkPoints: number | undefined): void {
+    if (this.started) return;
+    const index = ctx.index;
+    if (!index) throw new Error('the threaded CSV path needs the k-d tree');
+    this.started = true;
+    const state = index.state();
+    for (const q of this.queues) q.worker.postMessage({ type: 'run', context: { ...ctx, index: state }, order, chunkPoints } satisfies EvaluateJob);
+  }
+
   /**
    * The CSV: this thread's points (`own`, range 0, already parsed, file column order) first with the
    * header, then every worker's range in order, then `extra` (θ order, e.g. `--at`). The workers are
@@ -341,10 +357,7 @@ export class ThreadedCsv {
    * column order (null: the file's order is θ's).
    */
   async *lines(ctx: CsvContext, own: RangePoints, order: number[] | null, extra: Float64Array, chunkPoints: number | undefined, times: EvaluateTimes): AsyncGenerator<Uint8Array> {
-    const index = ctx.index;
-    if (!index) throw new Error('the threaded CSV path needs the k-d tree');
-    const state = index.state();
-    for (const q of this.queues) q.worker.postMessage({ type: 'run', context: { ...ctx, index: state }, order, chunkPoints } satisfies EvaluateJob);
+    this.startWorkers(ctx, order, chunkPoints);
     try {
       orderRangePoints(own, this.n, order);
       yield* csvLines(ctx, { text: this.text, values: own.values, fileCount: own.count, from: own.from, to: own.to }, 0, own.count, true, chunkPoints, times, null);

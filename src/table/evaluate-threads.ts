@@ -383,6 +383,24 @@ let own: RangePoints | null = null;
 let ownText: Uint8Array = new Uint8Array(0);
 let ownN = 0;
 
+/** The main thread's chunks this worker is parsing (`parse-main`), null once none is left to take. */
+let mainJob: { chunks: [number, number][]; claim: Int32Array } | null = null;
+
+/** Take and parse the next chunk of `mainJob` and send it (true), or, none left, say so once (false). */
+function mainStep(send: (m: EvaluateWorkerMessage, transfer?: ArrayBuffer[]) => void): boolean {
+  const job = mainJob;
+  if (!job) return false;
+  const k = Atomics.add(job.claim, 0, 1);
+  if (k >= job.chunks.length) {
+    mainJob = null;
+    send({ type: 'main-done' });
+    return false;
+  }
+  const p = parsePointsRange(ownText, job.chunks[k][0], job.chunks[k][1], ownN);
+  send({ type: 'main-chunk', k, points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
+  return true;
+}
+
 /**
  * Handle one message in a worker: `parse` its range (answered by `parsed`), then `run` (its lines
  * as byte chunks through `send`, then its stage seconds).
@@ -400,21 +418,15 @@ export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMess
   if (job.type === 'parse-main') {
     // one chunk per turn of the event loop: a message that came meanwhile (the box LPs, the tree's
     // parts: the main thread waits for those) is handled between two chunks, the chunks left after
-    const step = (): void => {
+    mainJob = job;
+    const tick = (): void => {
       try {
-        const k = Atomics.add(job.claim, 0, 1);
-        if (k >= job.chunks.length) {
-          send({ type: 'main-done' });
-          return;
-        }
-        const p = parsePointsRange(ownText, job.chunks[k][0], job.chunks[k][1], ownN);
-        send({ type: 'main-chunk', k, points: p }, p ? [p.values.buffer as ArrayBuffer, p.from.buffer as ArrayBuffer, p.to.buffer as ArrayBuffer] : []);
-        setImmediate(step);
+        if (mainStep(send)) setImmediate(tick);
       } catch (e) {
         send({ type: 'error', message: e instanceof Error ? e.message : String(e) });
       }
     };
-    step();
+    tick();
     return;
   }
   if (job.type === 'tree') {
@@ -431,6 +443,8 @@ export function handleEvaluateJob(job: EvaluateJob, send: (m: EvaluateWorkerMess
     return;
   }
   if (!own) throw new Error('run before a clean parse');
+  // the main thread's chunks still to parse first: it waits for them before its own lines
+  while (mainStep(send));
   const ctx: CsvContext = { ...job.context, index: BoxIndex.fromState(job.context.index) };
   const times: EvaluateTimes = { index: 0, locate: 0, law: 0, format: 0 };
   orderRangePoints(own, ownN, job.order);

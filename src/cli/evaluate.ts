@@ -340,17 +340,23 @@ async function threadedAction(table: EvaluatedTable, known: BoxIndex | null, tab
   }
   const clamp = !!opts.clamp;
   const times: EvaluateTimes = { index: earlyWall, locate: 0, law: 0, format: 0, cpu: { index: earlyCpu, locate: 0, law: 0, format: 0 }, cpuNow: cpuSeconds };
-  const parsed = await csv.parsed();
-  if (!parsed.ok) return giveUp();
-  // the one-run tree ready and enough points in the workers' ranges alone: the workers start on
-  // their lines now, while this thread takes what is left of its own range's parse
+  // the one-run tree ready (the workers' own ranges parsed long before it) and enough points in the
+  // workers' ranges alone: the workers start on their lines now, while this thread takes what is
+  // left of its own range's parse (otherwise its range first: the workers may still be parsing)
   let ctx: CsvContext | null = null;
-  if (!known && !opts.index && early && parsed.count >= SCAN_BELOW_POINTS) {
-    ctx = csvContext(table, { clamp, index: early }, times, Infinity);
-    csv.startWorkers(ctx, order, undefined);
+  let parsed: Awaited<ReturnType<ThreadedCsv['parsed']>> | null = null;
+  if (!known && !opts.index && early) {
+    parsed = await csv.parsed();
+    if (!parsed.ok) return giveUp();
+    if (parsed.count >= SCAN_BELOW_POINTS) {
+      ctx = csvContext(table, { clamp, index: early }, times, Infinity);
+      csv.startWorkers(ctx, order, undefined);
+    }
   }
   const own = await csv.ownParsed();
   if (!own) return giveUp();
+  parsed ??= await csv.parsed();
+  if (!parsed.ok) return giveUp();
   const extra = opts.at ? parseAt(opts.at, n) : [];
   // the shared box LPs, an early tree and its context are counted in the index stage, not in the points stage they ran in
   clock?.lap('points', times.index, times.cpu!.index);

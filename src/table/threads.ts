@@ -23,7 +23,7 @@
 import { Worker } from 'node:worker_threads';
 import { setFlagsFromString } from 'node:v8';
 import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
-import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
+import { cutWeights, pilotSamples, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { sumCauses, witnessesOf } from '../mpqp/types.js';
 import { tol } from '../tol.js';
@@ -165,14 +165,6 @@ function reply<T>(worker: Worker): Promise<T> {
     worker.once('error', onError);
   });
 }
-
-/**
- * Point QPs per mid-plane in the pilot that chooses the cut (`midPlaneCount`): 16 per parameter,
- * at most 64. A mid-plane of a 2-D box is a segment, which 32 points sample well (glider-2d-n40:
- * 22 vs 30 distinct, the same choice as with 64, for half the QPs: 64 took 0.25 s of a cold
- * worker there, under load); at 32 points the 4-D boom-4d-n12 chose a worse axis than at 64.
- */
-export const pilotSamples = (ntheta: number): number => Math.min(64, 16 * Math.max(1, ntheta));
 
 /**
  * The pilot of the split: each worker counts the distinct active sets on the mid-planes of its

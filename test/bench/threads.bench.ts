@@ -23,7 +23,8 @@
  * (C1, spread over at most 2 cores, so its wall is ≥ C1/2), hence speed-up ≤ T1/(C1/2). V8's helper
  * threads already keep part of the second core busy in a one-thread run, so the ceiling is below 2×;
  * a speed-up near it says the two-thread run does little extra work, one far below it that it does
- * (or the cores were shared).
+ * (or the cores were shared). Under load the one-thread run has no free core either (T1 ≥ C1)
+ * and the ceiling reads near or above 2×: it is still a bound, but says little then.
  * TESSERA_BENCH_REPS sets the pairs (default 3); TESSERA_BENCH_SMALL=1 leaves the larger problem
  * out. Near idle the whole file takes about 5 minutes.
  * TESSERA_BENCH_LONG=1 adds a long complete problem, boom-4d-n20 (18 931 regions, ~13–17 s on one

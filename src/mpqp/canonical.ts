@@ -24,6 +24,7 @@ import { overlapsFacet, parseWitnessKey, slicePolytope, uncoveredFacetPiece } fr
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
 import { tol } from '../tol.js';
+import { sortedOrder } from '../util/order.js';
 import { findFeasiblePoint } from '../lp/kernel.js';
 import { FacetPairs, zeroPairCounts, addPairCounts } from './facet-pairs.js';
 
@@ -452,16 +453,16 @@ export function canonicalNeighbours(
       nList++;
     }),
   );
-  const order = Array.from({ length: nList }, (_, q) => q);
-  order.sort((x, y) => uv[x] - uv[y] || ur[x] - ur[y] || uf[x] - uf[y]);
+  // by value, ties by (region, facet): the order the columns were filled in, which a stable sort keeps
+  const order = sortedOrder(uv.subarray(0, nList));
   const list = { r: new Int32Array(nList), f: new Int32Array(nList), v: new Float64Array(nList), sign: new Int8Array(nList), length: nList };
-  order.forEach((q, i) => {
+  for (let i = 0; i < nList; i++) {
+    const q = order[i];
     list.r[i] = ur[q];
     list.f[i] = uf[q];
     list.v[i] = uv[q];
     list.sign[i] = us[q];
-  });
-  order.length = 0;
+  }
   // neighbours found: (facet of `list`, region across) pairs, gathered into per-facet lists at the end
   let hitFacet = new Int32Array(1024);
   let hitRegion = new Int32Array(1024);

@@ -209,6 +209,9 @@ async function solveCommand(problemPath: string, opts: SolveCliOptions, pool: Th
       endPool: true,
       // the closure's guesses are built in the warm workers (a part file has no canonical form)
       guesses: !part,
+      // the regions go only to the canonical form and the table text (a part file is written from
+      // the regions' numbers): their law, moves and value are not unpacked again
+      shedRendered: !part,
       onProgress: live
         ? (p) => {
             shown = true;

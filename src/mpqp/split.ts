@@ -65,6 +65,21 @@ export function midPlaneCount(problem: MpqpProblem, box: Box, axis: number, samp
 }
 
 /**
+ * Point QPs per mid-plane in the pilot that chooses the cut (`midPlaneCount`): 32 on a box of 1 or
+ * 2 dimensions, 256 on more. A mid-plane of a 2-D box is a segment, which 32 points sample well
+ * (glider-2d-n40: 22 vs 30 distinct, the same choice as at 64 and at 1024, 40 vs 127). In more
+ * dimensions the count must not saturate: at 64 points nearly every feasible sample of boom-4d-n20's planes met an active set of
+ * its own (27/51, 25/51, 34/57, 27/64 distinct/feasible), and the pilot cut across θ2, whose
+ * mid-plane crosses 19.5 % of the 18 931 regions, instead of θ4 (1.3 %; both counted exactly on the
+ * final table, each region's extent by LP): the 2-thread run built 22 622 candidates against 18 939
+ * on one thread. At 256 points the counts are 68, 51, 73, 40 and θ4 is chosen (at 1024: 180, 137,
+ * 124, 53, the order of the exact shares 36, 19.5, 8.9, 1.3 %); boom-4d-n8 and -n12 and the mixer
+ * on half its box choose the same axis as at 64, the best by the exact shares. 4 × 256 point QPs
+ * took 52 ms on one warm thread (boom-4d-n20).
+ */
+export const pilotSamples = (ntheta: number): number => (ntheta <= 2 ? 32 : 256);
+
+/**
  * Weights of the axes for `splitBox` from the pilot's counts (one per axis, in axis order): the
  * axis whose mid-plane met the fewest distinct active sets gets weight 1, another best/its count;
  * a plane feasible at fewer than an eighth of its samples gets a weight below every other.

@@ -167,8 +167,14 @@ export class RegionStore {
     if (text && this.starts[k] >= 0) this.texts[k] = text;
   }
 
-  /** The k-th region and its box, as new objects (keys in the order they were given; the text set by `setText` attached as `REGION_TEXT`). */
-  get(k: number): { region: CriticalRegion; box: StoredBox } {
+  /**
+   * The k-th region and its box, as new objects (keys in the order they were given; the text set by
+   * `setText` attached as `REGION_TEXT`). With `shed`, a region whose text is set gets shared empty
+   * placeholders (`SHED_LAW`, `SHED_MOVES`, `SHED_VALUE`) for its law, moves and value instead of
+   * arrays unpacked: for a caller that only writes the region through `regionJson`, which takes
+   * them from the text (the canonical form reads A, b, facets and the Chebyshev ball only).
+   */
+  get(k: number, shed = false): { region: CriticalRegion; box: StoredBox } {
     const s = this.starts[k];
     if (s < 0) return this.objects[-1 - s];
     const I = this.iBlocks[Math.floor(s / 2 ** 26)];
@@ -207,6 +213,21 @@ export class RegionStore {
     const b = vec(m);
     const center = vec(nt);
     const radius = F[q++];
+    const text = this.texts[k];
+    if (shed && text) {
+      // the law, moves and value are in the text: skipped (their doubles, as `recordSizes` counts them)
+      const region: CriticalRegion = { id, activeSet, A, b, facets, chebyshev: { center, radius }, law: SHED_LAW };
+      q += lawRows * (nt + 1);
+      if (full) {
+        region.moves = SHED_MOVES;
+        region.value = SHED_VALUE;
+        q += movesRows * (nt + 1) + nt * nt + nt + 1;
+      }
+      const lo = vec(nt);
+      const hi = vec(nt);
+      (region as RegionWithText)[REGION_TEXT] = text;
+      return { region, box: { lo, hi } };
+    }
     const law = { F: mat(lawRows), g: vec(lawRows) };
     const region: CriticalRegion = { id, activeSet, A, b, facets, chebyshev: { center, radius }, law };
     if (full) {
@@ -217,7 +238,6 @@ export class RegionStore {
     }
     const lo = vec(nt);
     const hi = vec(nt);
-    const text = this.texts[k];
     if (text) (region as RegionWithText)[REGION_TEXT] = text;
     return { region, box: { lo, hi } };
   }
@@ -241,6 +261,11 @@ export interface RegionText {
  * spread copies it, `JSON.stringify` and `Object.keys` skip it).
  */
 export const REGION_TEXT: unique symbol = Symbol('tessera.regionText');
+
+/** What `RegionStore.get(k, true)` puts in place of the law, moves and value of a region whose text is set (frozen, shared: never read for numbers). */
+export const SHED_LAW: CriticalRegion['law'] = Object.freeze({ F: Object.freeze([]) as unknown as number[][], g: Object.freeze([]) as unknown as number[] });
+export const SHED_MOVES: NonNullable<CriticalRegion['moves']> = SHED_LAW;
+export const SHED_VALUE: NonNullable<CriticalRegion['value']> = Object.freeze({ Q: Object.freeze([]) as unknown as number[][], q: Object.freeze([]) as unknown as number[], r: 0 });
 
 /** A region that may carry its text rendered ahead. */
 export type RegionWithText = CriticalRegion & { [REGION_TEXT]?: RegionText };

@@ -23,7 +23,7 @@
 import { Worker } from 'node:worker_threads';
 import { setFlagsFromString } from 'node:v8';
 import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
-import { cutWeights, splitBox, type PlaneCount } from '../mpqp/split.js';
+import { cutWeights, pilotSamples, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { sumCauses, witnessesOf } from '../mpqp/types.js';
 import { tol } from '../tol.js';
@@ -167,14 +167,6 @@ function reply<T>(worker: Worker): Promise<T> {
 }
 
 /**
- * Point QPs per mid-plane in the pilot that chooses the cut (`midPlaneCount`): 16 per parameter,
- * at most 64. A mid-plane of a 2-D box is a segment, which 32 points sample well (glider-2d-n40:
- * 22 vs 30 distinct, the same choice as with 64, for half the QPs: 64 took 0.25 s of a cold
- * worker there, under load); at 32 points the 4-D boom-4d-n12 chose a worse axis than at 64.
- */
-export const pilotSamples = (ntheta: number): number => Math.min(64, 16 * Math.max(1, ntheta));
-
-/**
  * The pilot of the split: each worker counts the distinct active sets on the mid-planes of its
  * share of the axes (`midPlaneCount`, `pilotSamples` points each); the counts, in axis order.
  */
@@ -235,6 +227,13 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
    * `canonicalThreaded`): hints, the table is the same bytes with or without them
    */
   guesses?: boolean;
+  /**
+   * the result's regions whose table text was rendered (`RegionStore.setText`) carry shared empty
+   * placeholders for their law, moves and value (`RegionStore.get(k, true)`): for a caller that
+   * only puts them in canonical form and writes them by `regionJson`, which reads those from the
+   * text (fewer arrays unpacked and kept through the serial tail); checkpoints unpack in full
+   */
+  shedRendered?: boolean;
 }
 
 const zeroStats = (): PartitionStats => ({ regions: 0, candidates: 0, lps: 0, qps: 0, complete: true, stopReason: 'done', unresolvedPieces: 0, gaveUpAt: [] });
@@ -415,7 +414,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
   const workers: Worker[] = [];
   const detach: (() => void)[] = [];
   /** the union as a partition (`regions: false`: the counters only, regions left packed and the lists empty) */
-  const partition = (complete: boolean, reason: PartitionStats['stopReason'], regions = true, all = false): Partition => {
+  const partition = (complete: boolean, reason: PartitionStats['stopReason'], regions = true, all = false, shed = false): Partition => {
     const stats: PartitionStats = { ...zeroStats(), candidates: base.stats.candidates, lps: base.stats.lps, qps: base.stats.qps, unresolvedPieces: base.stats.unresolvedPieces, causes: sumCauses(base.stats.causes) };
     // the facets given a piece up on, in any sub-box (a facet at the cut may be in two): re-checked by the canonical form
     const gaveUpAt = new Set<string>(witnessesOf(base.stats));
@@ -436,7 +435,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     // One sub-box: its first regions up to the bound (the order is its own, so the same every run)
     const count = M === 1 && reason === 'max-regions' && options.maxRegions !== undefined && !all ? Math.min(store.length, options.maxRegions) : store.length;
     const keep = shared && !all ? Array.from({ length: count }, (_, k) => k).filter((k) => k < resumedCount || listed.has(k)) : null;
-    const list = !regions ? [] : keep ? keep.map((k) => store.get(k)) : Array.from({ length: count }, (_, k) => store.get(k));
+    const list = !regions ? [] : keep ? keep.map((k) => store.get(k, shed)) : Array.from({ length: count }, (_, k) => store.get(k, shed));
     stats.gaveUpAt = [...gaveUpAt].sort();
     stats.regions = keep ? keep.length : count;
     stats.complete = complete;
@@ -524,10 +523,10 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
     const reason = firstStop ?? (atQuota ? 'max-regions' : complete ? 'done' : 'interrupted');
     if (options.endPool)
       pool.terminate().then(
-        () => settle(partition(complete, reason)),
+        () => settle(partition(complete, reason, true, false, !!options.shedRendered)),
         (e) => settle(null, e),
       );
-    else settle(partition(complete, reason));
+    else settle(partition(complete, reason, true, false, !!options.shedRendered));
   };
   const begin = (): void => {
     // one job to each worker at once (`next` takes jobs off the queue, so count before the loop:

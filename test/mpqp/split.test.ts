@@ -1,8 +1,17 @@
 import { describe, it, expect } from 'vitest';
 import { parseProblem } from '../../src/problem/index.js';
 import { formulate } from '../../src/formulation/index.js';
-import { cutWeights, midPlaneCount, splitBox } from '../../src/mpqp/split.js';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { createRequire } from 'node:module';
+import { cutWeights, midPlaneCount, pilotSamples, splitBox } from '../../src/mpqp/split.js';
 import { qpReference } from '../helpers/reference.js';
+
+const require = createRequire(import.meta.url);
+// quadprog: Goldfarb & Idnani's dual method (1983), an independent QP solver; 1-based arrays,
+// min ½bᵀDb − dᵀb subject to Aᵀb ≥ b0, its multipliers in `Lagrangian`
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+const quadprog: any = require('quadprog');
 
 // A saturated law with a closed form: min ½z² − θ₂ z subject to −1 ≤ z ≤ 1 gives z*(θ) = clip(θ₂, −1, 1)
 // (a convex parabola in z minimised over an interval: its vertex θ₂, clipped; common practice).
@@ -59,6 +68,51 @@ describe('the pilot that chooses the cut between threads', () => {
     expect(w[0]).toBeCloseTo(1 / 3, 12);
     expect(w[1]).toBeLessThan(w[0]);
   });
+});
+
+describe('the pilot on a large 4-D table (boom-4d-n20, 18 931 regions)', () => {
+  it('with pilotSamples(4) points per mid-plane it cuts across the axis quadprog finds the fewest distinct optimal active sets on, 1024 points per plane', () => {
+    const raw = JSON.parse(readFileSync(join(import.meta.dirname, '..', 'fixtures', 'scale', 'boom-4d-n20.json'), 'utf8'));
+    const { mpqp: P } = formulate(parseProblem(raw, 'boom-4d-n20.json'));
+    const { nz, nc, ntheta: nt } = P;
+    const whole = { lower: Array.from(P.box.lower), upper: Array.from(P.box.upper) };
+    // the reference: on each axis's mid-plane, 1024 points (a Halton sequence over the other three
+    // coordinates: van der Corput in bases 2, 3, 5, from memory), the QP solved by quadprog and its
+    // active set read from its multipliers (> 1e-9); the number of distinct sets stands for the
+    // regions the plane crosses (a region is the set of θ with one optimal active set: common practice)
+    const D: number[][] = [[]];
+    for (let i = 0; i < nz; i++) D.push([0, ...Array.from({ length: nz }, (_, j) => P.H[i * nz + j])]);
+    const Amat: number[][] = [[]];
+    for (let j = 0; j < nz; j++) Amat.push([0, ...Array.from({ length: nc }, (_, i) => -P.G[i * nz + j])]);
+    const vdc = (k: number, b: number): number => {
+      let f = 1;
+      let r = 0;
+      for (let i = k; i > 0; i = Math.floor(i / b)) r += (f /= b) * (i % b);
+      return r;
+    };
+    const dense = whole.lower.map((_, axis) => {
+      const keys = new Set<string>();
+      for (let k = 1; k <= 1024; k++) {
+        let d = 0;
+        const th = whole.lower.map((lo, a) => (a === axis ? (lo + whole.upper[a]) / 2 : lo + (whole.upper[a] - lo) * vdc(k, [2, 3, 5][d++])));
+        const dv = [0, ...Array.from({ length: nz }, (_, i) => -(P.c[i] + th.reduce((s, t, j) => s + P.F[i * nt + j] * t, 0)))];
+        const b0 = [0, ...Array.from({ length: nc }, (_, i) => -(P.w[i] + th.reduce((s, t, j) => s + P.E[i * nt + j] * t, 0)))];
+        const r = quadprog.solveQP(D.map((x) => x.slice()), dv, Amat.map((x) => x.slice()), b0, 0);
+        if (r.message) continue; // infeasible at this θ
+        const act: number[] = [];
+        for (let i = 1; i <= nc; i++) if (r.Lagrangian[i] > 1e-9) act.push(i - 1);
+        keys.add(act.join(','));
+      }
+      return keys.size;
+    });
+    const fewest = dense.indexOf(Math.min(...dense));
+    // the dense counts tell the axes apart (measured: 180, 137, 124, 53)
+    expect(Math.min(...dense.filter((_, a) => a !== fewest))).toBeGreaterThan(1.5 * dense[fewest]);
+    const w = cutWeights(whole.lower.map((_, a) => midPlaneCount(P, whole, a, pilotSamples(nt))));
+    expect(w[fewest]).toBe(1);
+    const half = splitBox(whole, 0, 2, w);
+    for (let a = 0; a < nt; a++) expect(half.upper[a]).toBe(a === fewest ? (whole.lower[a] + whole.upper[a]) / 2 : whole.upper[a]);
+  }, 60_000);
 });
 
 const near = (got: { lower: number[]; upper: number[] }, want: { lower: number[]; upper: number[] }) => {

@@ -164,4 +164,31 @@ describe('RegionStore', () => {
       });
       expect(renderRegion({ ...table.regions[0], extra: 1 } as CriticalRegion)).toBeNull();
     });
+
+  for (const lean of [false, true])
+    it(`gives a region whose text is set without its law, moves and value numbers (shed), and writes it as JSON.stringify wrote the whole region (${lean ? 'lean' : 'full'})`, () => {
+      // Reference: JSON.stringify of the region as solved (ECMAScript's serialisation), and the
+      // region itself for what the canonical form reads (A, b, facets, Chebyshev ball, box)
+      const { table } = solveProblem(loadProblem(join(examples, 'positioning-axis.yaml')), { lean });
+      const store = new RegionStore();
+      const boxes = table.regions.map((R) => ({ lo: R.chebyshev.center.map((c) => c - 1), hi: R.chebyshev.center.map((c) => c + 2) }));
+      table.regions.forEach((R, i) => {
+        store.add(R, boxes[i]);
+        // every other region without its text: given back whole, shed or not
+        if (i % 2 === 0) store.setText(i, renderRegion(store.get(i).region));
+      });
+      table.regions.forEach((R, i) => {
+        const { region, box } = store.get(i, true);
+        expect(box).toStrictEqual(boxes[i]);
+        expect(Object.keys(region)).toEqual(Object.keys(R));
+        for (const k of ['id', 'activeSet', 'A', 'b', 'facets', 'chebyshev'] as const) expect(sameBits(region[k], R[k])).toBe(true);
+        if (i % 2 === 0) {
+          expect(region.law.F).toHaveLength(0);
+          if (!lean) expect(region.moves!.F).toHaveLength(0);
+        } else expect(sameBits(region, R)).toBe(true);
+        // the canonical form's renumbering spread, then the table writer
+        const copy: RegionWithText = { ...(region as RegionWithText), id: i + 5 };
+        expect(regionJson(copy)).toBe(JSON.stringify({ ...R, id: i + 5 }));
+      });
+    });
 });

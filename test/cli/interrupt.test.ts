@@ -9,11 +9,17 @@ import { root } from '../helpers/solved.js';
 // say what was stopped, end the progress line with a newline and exit 130 (128 + SIGINT, common practice).
 const cli = join(root, 'dist', 'src', 'cli', 'main.js');
 
-/** A problem that runs for many seconds: the 4-D two-cart fixture with a longer horizon (≈ 4400 regions in 20 s, still not done). */
-function longProblem(dir: string): string {
+/**
+ * The 4-D two-cart fixture with a longer horizon. `long`: N = 20, 16 moves, still running after 150 s
+ * on 2 threads (measured 2026-12-05), so an interrupt at a fixed time always lands mid-run. Otherwise
+ * N = 12, 8 moves: done in about 6 s on 2 threads (≈ 9 300 regions), for the test that needs the
+ * exploration to end. (The N = 12 problem used to take over 20 s; once the solver got faster it ended
+ * before the 6 s interrupt and the first test saw exit 0 with a table written.)
+ */
+function longProblem(dir: string, long = true): string {
   const p = JSON.parse(readFileSync(join(root, 'test', 'fixtures', 'problems', 'two-carts-4d.json'), 'utf8'));
-  p.horizon = 12;
-  p.controlHorizon = 8;
+  p.horizon = long ? 20 : 12;
+  p.controlHorizon = long ? 16 : 8;
   const file = join(dir, 'long.json');
   writeFileSync(file, JSON.stringify(p));
   return file;
@@ -41,7 +47,7 @@ describe('interrupting tessera solve', () => {
     const out = join(dir, 'out', 'table.json');
     const child = spawn(process.execPath, [cli, 'solve', problem, '-o', out]);
     const ended = watch(child);
-    // long enough for start-up on a loaded machine (the solve itself runs for well over 20 s)
+    // long enough for start-up on a loaded machine (the solve itself runs for well over 150 s)
     await new Promise((r) => setTimeout(r, 6000));
     const stillRunning = child.exitCode === null;
     child.kill('SIGINT');
@@ -91,7 +97,7 @@ describe('interrupting tessera solve', () => {
   it('Ctrl-C during the canonical form: exit 130, the message and a checkpoint, no table', async () => {
     expect(hasScript, 'util-linux `script` is needed for this test').toBe(true);
     const dir = mkdtempSync(join(tmpdir(), 'tessera-int-canon-'));
-    const problem = longProblem(dir);
+    const problem = longProblem(dir, false);
     const out = join(dir, 'table.json');
     const cp = join(dir, 'cp.json');
     const child = spawn('script', ['-qec', `${process.execPath} ${cli} solve ${problem} -o ${out} --threads 1 --checkpoint ${cp}`, '/dev/null'], { stdio: ['pipe', 'pipe', 'pipe'] });

@@ -166,6 +166,9 @@ export interface NeighbourOptions {
  * regions, clusters of 66–9 504 facets, 84.8 s → 10.3 s from 65 facets on, the same from 512 or
  * 1 024 on; boom-4d-n20, clusters of 159–385 facets with few twins, 0.94–1.01 s without →
  * 1.21–1.22 s from 65 on (the vertex lists of those clusters' regions, for 920 fewer pair tests).
+ * The sweep's pair tests per facet, which the twins save: 53–73 in the mixer's clusters of 516–840
+ * facets at 4 000 regions, 5–6.5 in the 25-channel bank's (232–1 212 facets), 0–0.7 in
+ * boom-4d-n20's (its candidate checks drop the rest before a test).
  */
 export const TWINS_FROM = 512;
 
@@ -655,6 +658,8 @@ export function canonicalNeighbours(
     // the twins' instance has the vertex lists of the large clusters' regions built already
     pairs = vertices && twins?.pairs ? twins.pairs : new FacetPairs(regions, boxes, nt, minPiece, { vertices });
   }
+  // the twins' vertex lists are let go when pass 2 does not use them
+  if (twins && twins.pairs !== pairs) twins.pairs = null;
   // pass 2: each pair decided (a certificate, else the LP; list[i]'s frame built once per cluster)
   let frames = new Map<number, ReturnType<typeof slicePolytope>>();
   let tests = 0; // pair tests without `pairs`

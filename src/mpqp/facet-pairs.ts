@@ -221,6 +221,52 @@ export class FacetPairs {
     return -1;
   }
 
+  /**
+   * The mean of the vertices of facet f of region r, written into `out` (n values); false when
+   * the region has no vertex list (built without vertices, or the method gave up) or the facet
+   * no vertex.
+   */
+  facetMean(r: number, f: number, out: Float64Array): boolean {
+    const d = this.region(r);
+    if (d.X === null || d.fStart[f + 1] === d.fStart[f]) return false;
+    const o = f * 9 * this.n;
+    for (let j = 0; j < this.n; j++) out[j] = d.fNum[o + j];
+    return true;
+  }
+
+  /**
+   * Whether facet f of region r and facet g of region s have the same vertices within `delta`
+   * (max-norm): every vertex of either lies within `delta` of a vertex of the other. False
+   * without vertex lists, or for a facet with fewer than n vertices (no full facet).
+   */
+  sameVertices(r: number, f: number, s: number, g: number, delta: number): boolean {
+    const n = this.n;
+    const DR = this.region(r);
+    const DS = this.region(s);
+    if (DR.X === null || DS.X === null) return false;
+    if (DR.fStart[f + 1] - DR.fStart[f] < n || DS.fStart[g + 1] - DS.fStart[g] < n) return false;
+    return this.within(DR, f, DS, g, delta) && this.within(DS, g, DR, f, delta);
+  }
+
+  /** Every vertex of facet f of P lies within `delta` of a vertex of facet g of Q. */
+  private within(P: RegionData, f: number, Q: RegionData, g: number, delta: number): boolean {
+    const n = this.n;
+    const XP = P.X!;
+    const XQ = Q.X!;
+    for (let t = P.fStart[f]; t < P.fStart[f + 1]; t++) {
+      const x = P.fv[t] * n;
+      let found = false;
+      for (let u = Q.fStart[g]; u < Q.fStart[g + 1] && !found; u++) {
+        const y = Q.fv[u] * n;
+        let j = 0;
+        while (j < n && Math.abs(XP[x + j] - XQ[y + j]) <= delta) j++;
+        found = j === n;
+      }
+      if (!found) return false;
+    }
+    return true;
+  }
+
   /** Region r's rows, box and vertices, built on first use. */
   private region(r: number): RegionData {
     const have = this.data[r];

@@ -168,6 +168,8 @@ export interface NeighbourWork extends PairCounts {
   /** facet pairs tested for overlap (`tests`) and how each was decided: LP-free (accepted, rejected, boxes, parallel) or by an LP (`lps`) */
   clusters: number;
   clustersDone: number;
+  /** facet pairs found as twins (the same vertices): tested as any pair, both facets then left out of their cluster's other pairs */
+  twins: number;
   cut: boolean;
 }
 

@@ -6,10 +6,14 @@
  * regions. Per problem: regions, the exploration's CPU seconds (once), pair tests, how they were
  * decided (accepted by an interior point, rejected by a slab or by the facets' proved boxes, left
  * to an LP), the median CPU seconds of each way, their ratio, the neighbours step as a share of the
- * exploration, and whether the lists are identical (they must be).
+ * exploration, and whether the lists are identical (they must be); then the twin facets paired
+ * first (`TWINS_FROM`), and the same step with no twins sought (`twinsFrom: Infinity`): its pair
+ * tests, CPU seconds and the ratio to the default.
  * Problems: boom-4d-n8 (complete), mixer-5d-n10 bounded by TESSERA_BENCH_CANONICAL_REGIONS
  * regions (default 4 000; bounded by a region count, not a time, so every run has the same
- * regions), and crane-trolley-4d from examples/. TESSERA_BENCH_REPS sets the pairs (default 3).
+ * regions), crane-trolley-4d from examples/, and the 25-channel bank of bigtable.bench.ts (3-D θ,
+ * 6 868 regions, a plane arrangement: every facet has a twin). TESSERA_BENCH_REPS sets the pairs
+ * (default 3).
  */
 import { join } from 'node:path';
 import { loadavg } from 'node:os';
@@ -17,6 +21,8 @@ import { loadProblem } from '../../src/problem/index.js';
 import { buildMpqp } from '../../src/formulation/index.js';
 import { solvePartition } from '../../src/mpqp/solve.js';
 import { beginJoin, canonicalNeighbours, zeroNeighbourCounts } from '../../src/mpqp/canonical.js';
+import { parseProblem } from '../../src/problem/read.js';
+import { channelProblem } from './bigtable.bench.js';
 
 const root = join(import.meta.dirname, '..', '..');
 const reps = Number(process.env.TESSERA_BENCH_REPS ?? 3);
@@ -28,23 +34,25 @@ const cpu = (): number => {
 };
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
-function one(name: string, file: string, maxRegions?: number): void {
-  const mpqp = buildMpqp(loadProblem(file));
+function one(name: string, file: string | { raw: unknown }, maxRegions?: number): void {
+  const mpqp = buildMpqp(typeof file === 'string' ? loadProblem(file) : parseProblem(file.raw, name));
   const c0 = cpu();
   const p = solvePartition(mpqp, { maxRegions, lean: true });
   const explore = cpu() - c0;
   const join = beginJoin(mpqp, [p]);
-  const times = { new: [] as number[], old: [] as number[] };
+  const times = { new: [] as number[], old: [] as number[], twinless: [] as number[] };
   let same = true;
   let first: string | null = null;
   let counts = zeroNeighbourCounts();
-  let lps = { new: 0, old: 0 };
+  let twinlessTests = 0;
+  let lps = { new: 0, old: 0, twinless: 0 };
   for (let r = 0; r < reps; r++)
-    for (const way of ['new', 'old'] as const) {
+    for (const way of ['new', 'old', 'twinless'] as const) {
       const lp = { lps: 0, reference: false };
       const c = zeroNeighbourCounts();
       const t0 = cpu();
-      const lists = canonicalNeighbours(mpqp, join.regions, join.boxes, lp, undefined, undefined, { counts: c, certificates: way === 'new' ? undefined : false });
+      const lists = canonicalNeighbours(mpqp, join.regions, join.boxes, lp, undefined, undefined, { counts: c, certificates: way === 'old' ? false : undefined, twinsFrom: way === 'twinless' ? Infinity : undefined });
+      if (way === 'twinless') twinlessTests = c.tests;
       times[way].push(cpu() - t0);
       lps[way] = lp.lps;
       if (way === 'new') counts = c;
@@ -54,18 +62,22 @@ function one(name: string, file: string, maxRegions?: number): void {
     }
   const tNew = median(times.new);
   const tOld = median(times.old);
+  const tTwinless = median(times.twinless);
   console.log(
     `  ${name.padEnd(16)} ${String(join.regions.length).padStart(6)} ${explore.toFixed(1).padStart(8)} ${String(counts.tests).padStart(8)} ` +
       `${String(counts.accepted).padStart(7)} ${String(counts.rejected).padStart(7)} ${String(counts.boxes).padStart(6)} ${String(lps.new).padStart(6)} ${String(lps.old).padStart(7)} ` +
-      `${tNew.toFixed(2).padStart(7)} ${tOld.toFixed(2).padStart(7)} ${(tOld / tNew).toFixed(2).padStart(6)}× ${((100 * tNew) / explore).toFixed(0).padStart(5)} % ${((100 * tOld) / explore).toFixed(0).padStart(5)} %   ${same ? 'same' : 'DIFFERENT'}`,
+      `${tNew.toFixed(2).padStart(7)} ${tOld.toFixed(2).padStart(7)} ${(tOld / tNew).toFixed(2).padStart(6)}× ${((100 * tNew) / explore).toFixed(0).padStart(5)} % ${((100 * tOld) / explore).toFixed(0).padStart(5)} %   ` +
+      `${String(counts.twins).padStart(6)} ${String(twinlessTests).padStart(9)} ${tTwinless.toFixed(2).padStart(7)} ${(tTwinless / tNew).toFixed(2).padStart(6)}×   ${same ? 'same' : 'DIFFERENT'}`,
   );
 }
 
 /** Print the table. */
 export async function run(): Promise<void> {
   console.log(`canonical form, neighbours step: LP-free decisions (new) against one LP per pair (old), CPU s, median of ${reps} alternated pairs; load ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);
-  console.log('  problem          regions explore    tests  accept  reject  boxes LPs new LPs old   s new   s old  ratio  new/explore old/explore  lists');
+  console.log('  problem          regions explore    tests  accept  reject  boxes LPs new LPs old   s new   s old  ratio  new/explore old/explore   twins  tests w/o  s w/o  ratio   lists');
   one('boom-4d-n8', join(root, 'test', 'fixtures', 'scale', 'boom-4d-n8.json'));
   one('crane-trolley-4d', join(root, 'examples', 'crane-trolley-4d.json'));
   one(`mixer-5d-n10`, join(root, 'test', 'fixtures', 'scale', 'mixer-5d-n10.json'), mixerRegions);
+  // the channel bank of bigtable.bench.ts: a plane arrangement, every facet with a twin across
+  one('channels-25-3d', { raw: channelProblem(25, 3) });
 }

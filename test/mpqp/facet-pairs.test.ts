@@ -253,6 +253,82 @@ describe('canonicalNeighbours with LP-free decisions against javascript-lp-solve
     }, 120_000);
 });
 
+/** The reference lists of an arrangement's cells: every pair of opposite facets on one plane whose overlap javascript-lp-solver finds of radius > minPiece. */
+function referenceLists(regions: Region[]): number[][][] {
+  const expected = regions.map((R) => R.facets.map(() => [] as number[]));
+  regions.forEach((R, i) =>
+    R.facets.forEach((fi, f) => {
+      if (fi.kind === 'box') return;
+      regions.forEach((S, s) => {
+        if (s === i) return;
+        S.facets.forEach((gi, g) => {
+          if (gi.kind !== 'primal' || gi.row !== fi.row) return;
+          if (lpOverlap(R, f, S, g) > minPiece) expected[i][f].push(s);
+        });
+      });
+    }),
+  );
+  return expected;
+}
+
+describe('canonicalNeighbours: twin facets (the same vertices) leave the sweep, against javascript-lp-solver', () => {
+  // In a plane arrangement every facet of a cell is also a facet of the cell across (common
+  // practice: the cells on either side of a plane both induce the arrangement's cells on it), so
+  // every facet with a neighbour has a twin; with twins sought from clusters of 2 facets on, each
+  // twin pair is tested alone and its facets meet no other pair, and the lists must still be the
+  // reference's.
+  for (const [n, k, seed] of [
+    [3, 9, 11],
+    [4, 7, 12],
+  ] as const)
+    it(`${n}-D, ${k} planes (seed ${seed}): the lists with twins are the reference lists, with fewer pair tests than without`, () => {
+      const { regions, boxes } = arrangement(seed, n, k, 8000);
+      expect(regions.length).toBeGreaterThan(20);
+      const run = (twinsFrom: number) => {
+        const counts = zeroNeighbourCounts();
+        const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, { lps: 0, reference: false }, undefined, undefined, { counts, twinsFrom });
+        return { lists, counts };
+      };
+      const twins = run(2);
+      const plain = run(Infinity);
+      const expected = referenceLists(regions);
+      expect(twins.lists).toEqual(expected);
+      expect(plain.lists).toEqual(expected);
+      // every listed neighbour pair of the arrangement is a twin pair (each found once, from either facet)
+      const pairs = expected.flat().reduce((t, l) => t + l.length, 0) / 2;
+      expect(twins.counts.twins).toBe(pairs);
+      expect(plain.counts.twins).toBe(0);
+      // the facets left in the sweep are those with no neighbour (cells too small to be sampled lie across them)
+      expect(twins.counts.tests).toBeLessThan(plain.counts.tests);
+    }, 120_000);
+
+  it('a facet split in two across its plane has no twin: both halves are listed (rotated boxes, elementary geometry)', () => {
+    // one box above the plane x_0 = 0 and two boxes below it, each under half of its face: the
+    // upper face's neighbours are both lower boxes, and each lower face's is the upper box
+    const n = 3;
+    const r = rng(5);
+    const Q = rotation(r, n);
+    const up = rotatedBox(Q, [0, 0, 0], [1, 1, 1], [0.1, 0.2, 0.3]);
+    const lowA = rotatedBox(Q, [-1, 0, 0], [0, 0.5, 1], [0.1, 0.2, 0.3]);
+    const lowB = rotatedBox(Q, [-1, 0.5, 0], [0, 1, 1], [0.1, 0.2, 0.3]);
+    const regions = [up, lowA, lowB];
+    const boxes = regions.map((R) => lpBox(R, n));
+    const counts = zeroNeighbourCounts();
+    const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, { lps: 0, reference: false }, undefined, undefined, { counts, twinsFrom: 2 });
+    // up's row 1 is −x_0 ≤ 0 (its lower face); lowA's and lowB's row 0 is x_0 ≤ 0 (their upper faces)
+    expect(lists[0][1]).toEqual([1, 2]);
+    expect(lists[1][0]).toEqual([0]);
+    expect(lists[2][0]).toEqual([0]);
+    // lowA and lowB also share the face x_1 = 0.5: they are twins there
+    expect(lists[1][2]).toEqual([2]);
+    expect(lists[2][3]).toEqual([1]);
+    // and nothing else touches in a piece
+    const listed = lists.flat().reduce((t, l) => t + l.length, 0);
+    expect(listed).toBe(6);
+    expect(counts.twins).toBe(1);
+  });
+});
+
 describe('the neighbours step under a stop', () => {
   it('stopped before the first cluster: every list empty, counts.cut set; the join result is marked incomplete (time-limit, neighboursCut)', () => {
     const n = 3;

@@ -3,7 +3,8 @@
  * known and is handed it by a `problem` message; then it answers jobs one at a time: a pilot
  * (distinct active sets on mid-planes, to choose the cut), a sub-box to explore on its own
  * (`solvePartition` with `within`, reporting the regions it builds and the regions whose facets it
- * covers), or a share of the canonical neighbours (`canonicalThreaded`). The shared signal asks it
+ * covers; when it completes, the closure guesses and the twin facets among its regions, hints for
+ * the canonical form), or a share of the canonical neighbours (`canonicalThreaded`). The shared signal asks it
  * to stop exploring.
  */
 import { parentPort, workerData } from 'node:worker_threads';

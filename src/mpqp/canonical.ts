@@ -65,6 +65,8 @@ export interface JoinOptions {
    * the result, are the same with or without them (a region is a function of its active set).
    */
   guesses?: GuessHints;
+  /** the neighbours step's `NeighbourOptions.twinsFrom` (default `TWINS_FROM`; for tests) */
+  twinsFrom?: number;
 }
 
 /**
@@ -77,6 +79,8 @@ export interface GuessHints {
   lean: boolean;
   tried: Set<string>;
   thin: Map<string, { region: Omit<CriticalRegion, 'id'>; box: { lo: number[]; hi: number[] } }>;
+  /** twin facet pairs found ahead (`twinPairs`): keys of the two regions and the two facets, per pair (for the neighbours step, `NeighbourOptions.twinHints`) */
+  twins?: { keys: string[]; facets: number[] };
 }
 
 /** The closure's guess across facet `f` of a region of active set `activeSet` (row added across a primal facet, dropped across a dual one); null for a box facet. */
@@ -127,7 +131,7 @@ export function buildGuesses(problem: MpqpProblem, regions: readonly Pick<Critic
 export function joinPartitions(problem: MpqpProblem, parts: readonly Partition[], options: JoinOptions = {}): Partition {
   const join = beginJoin(problem, parts, options);
   const counts = zeroNeighbourCounts();
-  const lists = canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts });
+  const lists = canonicalNeighbours(problem, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts, twinHints: join.twinHints, twinsFrom: options.twinsFrom });
   return join.finish(lists, counts);
 }
 
@@ -158,6 +162,16 @@ export interface NeighbourOptions {
   certificates?: boolean;
   /** clusters of at least this many facets seek twin facets first (default `TWINS_FROM`; Infinity: never) */
   twinsFrom?: number;
+  /**
+   * twin pairs found ahead (`twinPairs`, e.g. by the exploration's warm workers over their own
+   * regions), as quadruples (region, facet, region, facet) of `regions`: in a cluster that seeks
+   * twins, a hinted pair is paired without building the two regions' vertex lists. Hints only:
+   * the pairs are those the search here would find (the same vertex lists from the same rows and
+   * boxes), and a hinted pair still passes the pair's checks and test.
+   */
+  twinHints?: Int32Array;
+  /** only seek the twins (clusters of at least `twinsFrom` facets) and push each pair found to `twinsOut` as (region, facet, region, facet); the lists returned are empty */
+  twinsOut?: number[];
 }
 
 /**
@@ -183,6 +197,8 @@ export interface PendingJoin {
   progress: (step: 'neighbours', done: number, total: number) => void;
   /** the stop of the neighbours step (JoinOptions.shouldStop) */
   shouldStop?: () => boolean;
+  /** the twin pairs hinted (`GuessHints.twins`) as indices of `regions`, for `NeighbourOptions.twinHints` */
+  twinHints?: Int32Array;
   /**
    * The canonical partition, given `canonicalNeighbours` of `regions` (or the merge of its
    * shares) and its counters: a cut step marks it incomplete ('time-limit', `stats.neighboursCut`).
@@ -217,7 +233,21 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
     return boundingBoxByLp(e.region.A, e.region.b, e.region.chebyshev.center, tol.redundancy);
   });
   const sorted = entries.map((e) => e.region);
-  return { regions: sorted, boxes, lp, progress, shouldStop: options.shouldStop, finish: (neighbours, counts) => finishJoin(problem, parts, sorted, boxes, neighbours, lp, closed, cut, counts) };
+  // the hinted twins, by key to the union's indices (a pair whose key is not in the union is dropped)
+  let twinHints: Int32Array | undefined;
+  const tw = options.guesses?.twins;
+  if (tw && tw.keys.length > 0) {
+    const index = new Map<string, number>();
+    sorted.forEach((R, i) => index.set(R.activeSet.join(','), i));
+    const h: number[] = [];
+    for (let t = 0; t + 1 < tw.keys.length; t += 2) {
+      const r = index.get(tw.keys[t]);
+      const s = index.get(tw.keys[t + 1]);
+      if (r !== undefined && s !== undefined) h.push(r, tw.facets[t], s, tw.facets[t + 1]);
+    }
+    twinHints = Int32Array.from(h);
+  }
+  return { regions: sorted, boxes, lp, progress, shouldStop: options.shouldStop, twinHints, finish: (neighbours, counts) => finishJoin(problem, parts, sorted, boxes, neighbours, lp, closed, cut, counts) };
 }
 
 /**
@@ -478,6 +508,24 @@ export function canonicalNeighbours(
     list.v[i] = uv[q];
     list.sign[i] = us[q];
   }
+  // the hinted twins as partners in `list` (−1: none)
+  let partner: Int32Array | null = null;
+  if (options.twinHints && options.twinHints.length > 0) {
+    const off = new Int32Array(regions.length + 1);
+    regions.forEach((R, r) => (off[r + 1] = off[r] + R.facets.length));
+    const posOf = new Int32Array(off[regions.length]).fill(-1);
+    for (let i = 0; i < nList; i++) posOf[off[list.r[i]] + list.f[i]] = i;
+    partner = new Int32Array(nList).fill(-1);
+    const h = options.twinHints;
+    for (let t = 0; t + 3 < h.length; t += 4) {
+      if (h[t] >= regions.length || h[t + 2] >= regions.length) continue;
+      const i = posOf[off[h[t]] + h[t + 1]];
+      const k = posOf[off[h[t + 2]] + h[t + 3]];
+      if (i < 0 || k < 0) continue;
+      partner[i] = k;
+      partner[k] = i;
+    }
+  }
   // neighbours found: (facet of `list`, region across) pairs, gathered into per-facet lists at the end
   let hitFacet = new Int32Array(1024);
   let hitRegion = new Int32Array(1024);
@@ -541,16 +589,37 @@ export function canonicalNeighbours(
   const twins = nt >= 3 && options.certificates !== false ? { pairs: null as FacetPairs | null, settled: new Uint8Array(nList) } : null;
   const meanAt = new Float64Array(nt);
   let twinCount = 0;
+  const settled = twins ? twins.settled : new Uint8Array(0);
+  const pairUp = (i: number, k: number): boolean => {
+    const before = np;
+    if (i < k) candidate(i, k);
+    else candidate(k, i);
+    if (np === before) return false;
+    settled[i] = 1;
+    settled[k] = 1;
+    twinCount++;
+    if (options.twinsOut) options.twinsOut.push(list.r[i], list.f[i], list.r[k], list.f[k]);
+    return true;
+  };
   const settle = (c0: number, c1: number): number[] => {
     const all = Array.from({ length: c1 - c0 }, (_, q) => c0 + q);
     if (!twins) return all;
+    // the hinted pairs first: no vertex lists needed for them
+    let left = c1 - c0;
+    if (partner)
+      for (let i = c0; i < c1; i++) {
+        const k = partner[i];
+        if (k < c0 || k >= c1 || settled[i] || settled[k] || list.sign[k] === list.sign[i]) continue;
+        if (pairUp(i, k)) left -= 2;
+      }
+    if (left < 2) return all.filter((i) => !settled[i]);
     twins.pairs ??= new FacetPairs(regions, boxes, nt, minPiece, { vertices: true });
     const tp = twins.pairs;
-    // each facet's key: a fixed linear function of its vertex mean (NaN: no vertex list)
+    // each facet's key: a fixed linear function of its vertex mean (NaN: no vertex list, or paired)
     const key = new Float64Array(c1 - c0);
     for (let q = 0; q < key.length; q++) {
       const i = c0 + q;
-      if (!tp.facetMean(list.r[i], list.f[i], meanAt)) {
+      if (settled[i] || !tp.facetMean(list.r[i], list.f[i], meanAt)) {
         key[q] = NaN;
         continue;
       }
@@ -561,7 +630,6 @@ export function canonicalNeighbours(
     let reach = 0;
     for (const w of weights) reach += w * twinDelta;
     const byKey = all.filter((i) => !Number.isNaN(key[i - c0])).sort((x, y) => key[x - c0] - key[y - c0] || x - y);
-    const settled = twins.settled;
     for (let q = 0; q < byKey.length; q++) {
       const i = byKey[q];
       if (settled[i]) continue;
@@ -569,14 +637,7 @@ export function canonicalNeighbours(
         const k = byKey[t];
         if (settled[k] || list.sign[k] === list.sign[i]) continue;
         if (!tp.sameVertices(list.r[i], list.f[i], list.r[k], list.f[k], twinDelta)) continue;
-        const before = np;
-        if (i < k) candidate(i, k);
-        else candidate(k, i);
-        if (np === before) continue;
-        settled[i] = 1;
-        settled[k] = 1;
-        twinCount++;
-        break;
+        if (pairUp(i, k)) break;
       }
     }
     return all.filter((i) => !settled[i]);
@@ -589,6 +650,7 @@ export function canonicalNeighbours(
   // cluster is swept along one axis of the boxes (only pairs whose boxes meet on it) instead of
   // comparing every pair: the same pairs are tested, without the quadratic count.
   for (let c0 = 0, ordinal = 0; c0 < list.length; ordinal++) {
+    if (options.twinsOut && options.shouldStop?.()) break;
     let c1 = c0 + 1;
     while (c1 < list.length && list.v[c1] - list.v[c1 - 1] <= window) c1++;
     if (share && ordinal % share.count !== share.index) {
@@ -600,7 +662,9 @@ export function canonicalNeighbours(
     const seek = twins !== null && c1 - c0 >= twinsFrom;
     // facets that met their opposite twin (`settle`) take no further part
     const open = seek ? settle(c0, c1) : null;
-    if (!open && c1 - c0 <= 64) {
+    if (options.twinsOut) {
+      // only the twins were asked for
+    } else if (!open && c1 - c0 <= 64) {
       for (let i = c0; i < c1; i++) for (let k = i + 1; k < c1; k++) candidate(i, k);
     } else if (open && open.length <= 64) {
       for (let q = 0; q < open.length; q++) for (let t = q + 1; t < open.length; t++) candidate(open[q], open[t]);
@@ -638,6 +702,7 @@ export function canonicalNeighbours(
     c0 = c1;
   }
   starts.push(np);
+  if (options.twinsOut) return regions.map((R) => R.facets.map(() => []));
   // LP-free decisions (facet-pairs.ts) where the overlap is a polytope (θ of 3 or more
   // dimensions) and the regions' vertices pay off: they cost a few pair LPs per region (the double
   // description), a decision a fraction of an LP, so they are used when there are at least 6
@@ -731,6 +796,20 @@ export function canonicalNeighbours(
     c.twins += twinCount;
     c.cut = c.cut || cut;
   }
+  return out;
+}
+
+/**
+ * The twin facet pairs (`canonicalNeighbours`) among `regions` in clusters of at least `minSize`
+ * facets, as quadruples (region, facet, region, facet) of `regions`: built ahead by a worker over
+ * the regions it explored (its code warm, the vertex lists built beside its other work), for
+ * `NeighbourOptions.twinHints` once mapped to the union's indices. `shouldStop` ends it early
+ * (fewer hints, the same result).
+ */
+export function twinPairs(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], minSize: number, shouldStop?: () => boolean): number[] {
+  const out: number[] = [];
+  if (problem.ntheta < 3) return out;
+  canonicalNeighbours(problem, regions, boxes, { lps: 0, reference: false }, undefined, undefined, { twinsFrom: minSize, twinsOut: out, shouldStop });
   return out;
 }
 

@@ -3,12 +3,13 @@
  * known and is handed it by a `problem` message; then it answers jobs one at a time: a pilot
  * (distinct active sets on mid-planes, to choose the cut), a sub-box to explore on its own
  * (`solvePartition` with `within`, reporting the regions it builds and the regions whose facets it
- * covers), or a share of the canonical neighbours (`canonicalThreaded`). The shared signal asks it
+ * covers; when it completes, the closure guesses and the twin facets among its regions, hints for
+ * the canonical form), or a share of the canonical neighbours (`canonicalThreaded`). The shared signal asks it
  * to stop exploring.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { solvePartition } from '../mpqp/solve.js';
-import { buildGuesses, canonicalNeighbours, zeroNeighbourCounts } from '../mpqp/canonical.js';
+import { buildGuesses, canonicalNeighbours, twinPairs, zeroNeighbourCounts } from '../mpqp/canonical.js';
 import { midPlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion } from '../mpqp/types.js';
 import { RegionBatch } from './region-store.js';
@@ -94,10 +95,23 @@ parentPort!.on('message', (job: ProblemMessage | PilotJob | ExploreJob | Neighbo
   // for them (the main thread's closure step, loaded: glider-2d-n40 0.34 → 0.19 s CPU, boom-4d-n12
   // 0.81 → 0.46–0.57 s); hints only, the table is the same bytes
   let guesses: ReturnType<typeof buildGuesses> | undefined;
+  let twins: { keys: string[]; facets: number[] } | undefined;
   if (job.guesses && p.stats.complete) {
     // within the job's time limit (the main thread's canonical form builds whatever is not hinted)
     const late = (): boolean => stopped() || (job.timeLimit !== undefined && (performance.now() - jobStart) / 1000 >= job.timeLimit);
     guesses = buildGuesses(mpqp, p.regions, !!problem.options.lean, { lps: 0, reference: false }, late);
+    // and the twin facets among its regions (`twinPairs`): the neighbours step pairs them without
+    // building their vertex lists again on the main thread (hints only: the same table)
+    if (job.twinsFrom !== undefined && p.boxes && !late()) {
+      const quads = twinPairs(mpqp, p.regions, p.boxes, job.twinsFrom, late);
+      const keys: string[] = [];
+      const facets: number[] = [];
+      for (let t = 0; t + 3 < quads.length; t += 4) {
+        keys.push(p.regions[quads[t]].activeSet.join(','), p.regions[quads[t + 2]].activeSet.join(','));
+        facets.push(quads[t + 1], quads[t + 3]);
+      }
+      twins = { keys, facets };
+    }
   }
-  parentPort!.postMessage({ type: 'done', job: job.job, stats: p.stats, work: p.work!, guesses } satisfies ExploreWorkerMessage);
+  parentPort!.postMessage({ type: 'done', job: job.job, stats: p.stats, work: p.work!, guesses, twins } satisfies ExploreWorkerMessage);
 });

@@ -22,7 +22,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import { setFlagsFromString } from 'node:v8';
-import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
+import { addNeighbourCounts, beginJoin, buildGuesses, canonicalNeighbours, mergeNeighbours, subBox, TWINS_FROM, zeroNeighbourCounts, type GuessHints, type JoinOptions, type NeighbourCounts } from '../mpqp/canonical.js';
 import { cutWeights, pilotSamples, splitBox, type PlaneCount } from '../mpqp/split.js';
 import type { CriticalRegion, ExplorationState, ExplorationWork, MpqpProblem, Partition, PartitionStats, Progress, SolveOptions } from '../mpqp/types.js';
 import { sumCauses, witnessesOf } from '../mpqp/types.js';
@@ -65,6 +65,8 @@ export interface ExploreJob {
   resume: ExplorationState | null;
   /** when the job completes, build the closure guesses across its regions' facets too (`buildGuesses`, sent with `done`) */
   guesses?: boolean;
+  /** with `guesses`: also the twin facet pairs among its regions in clusters of at least this many facets (`twinPairs`, sent with `done`) */
+  twinsFrom?: number;
 }
 
 /** A share of the canonical neighbours (main thread → worker; the answer is `number[][][]`). */
@@ -88,7 +90,7 @@ export type ExploreWorkerEvent =
 /** Messages from a worker: events go in batches (at most every 50 ms), then one `done` per job. */
 export type ExploreWorkerMessage =
   | { type: 'batch'; job: number; events: ExploreWorkerEvent[]; packed: PackedRegions | null }
-  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork; guesses?: ReturnType<typeof buildGuesses> }
+  | { type: 'done'; job: number; stats: PartitionStats; work: ExplorationWork; guesses?: ReturnType<typeof buildGuesses>; twins?: { keys: string[]; facets: number[] } }
   | { type: 'pilot'; counts: PlaneCount[] }
   | { type: 'neighbours'; lists: number[][][]; lps: number; counts: NeighbourCounts };
 
@@ -227,6 +229,8 @@ export interface ThreadedOptions extends Pick<SolveOptions, 'maxRegions' | 'time
    * `canonicalThreaded`): hints, the table is the same bytes with or without them
    */
   guesses?: boolean;
+  /** with `guesses`: the sub-boxes seek twin facets (`twinPairs`) in clusters of at least this many of their facets (default ⌈TWINS_FROM / sub-boxes⌉; for tests) */
+  twinsFrom?: number;
   /**
    * the result's regions whose table text was rendered (`RegionStore.setText`) carry shared empty
    * placeholders for their law, moves and value (`RegionStore.get(k, true)`): for a caller that
@@ -282,7 +286,7 @@ export async function canonicalThreaded(mpqp: MpqpProblem, partition: Partition,
   const W = pool ? pool.workers.length : Math.max(1, Math.floor(threads));
   const counts = zeroNeighbourCounts();
   if (W === 1 || !options.workerShares || join.regions.length < 500)
-    return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts }), counts);
+    return join.finish(canonicalNeighbours(mpqp, join.regions, join.boxes, join.lp, join.progress, undefined, { shouldStop: join.shouldStop, counts, twinHints: join.twinHints, twinsFrom: options.twinsFrom }), counts);
   // the Chebyshev centres go too: the pair test's accept from the centres (facet-pairs.ts) needs them
   const regions = join.regions.map((R) => ({ A: R.A, b: R.b, chebyshev: { center: R.chebyshev.center }, facets: R.facets.map((f) => ({ kind: f.kind, row: f.row, neighbours: [] })) }));
   const boxes = join.boxes.map((b) => ({ lo: Array.from(b.lo), hi: Array.from(b.hi) }));
@@ -512,6 +516,8 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
       timeLimit: options.timeLimit === undefined ? undefined : Math.max(0, options.timeLimit - elapsed),
       resume,
       guesses: options.guesses,
+      // each sub-box holds about 1/M of a plane's facets: it seeks twins from TWINS_FROM/M on
+      twinsFrom: options.guesses ? (options.twinsFrom ?? Math.ceil(TWINS_FROM / M)) : undefined,
     };
     worker.postMessage(job);
     return true;
@@ -574,6 +580,11 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
           if (msg.guesses && msg.guesses.lean === hints.lean) {
             for (const k of msg.guesses.tried) hints.tried.add(k);
             for (const t of msg.guesses.thin) if (!hints.thin.has(t.key)) hints.thin.set(t.key, { region: t.region, box: t.box });
+          }
+          if (msg.twins) {
+            hints.twins ??= { keys: [], facets: [] };
+            for (const k of msg.twins.keys) hints.twins.keys.push(k);
+            for (const f of msg.twins.facets) hints.twins.facets.push(f);
           }
           if (msg.stats.complete) finished[msg.job] = { stats: msg.stats, work: msg.work };
           else {

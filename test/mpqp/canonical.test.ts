@@ -55,6 +55,41 @@ describe('canonical form: the same bytes on 2 threads', () => {
   }
 });
 
+describe('canonical form: twin facets hinted by the workers', () => {
+  // the workers pair the twin facets among their own regions (`twinPairs`) and the neighbours step
+  // takes those pairs as hints; with twins sought from clusters of 4 facets in the workers and 8 in
+  // the neighbours step (the defaults seek them only in planes of 512+ facets, which no example
+  // has), the table must still be the single-thread table byte for byte (checked against quadprog
+  // in the first block above)
+  // examples and fixtures of 3- and 4-D θ whose sub-boxes hold twins in clusters of 4+ facets
+  // (greenhouse-offset-free, valve-actuator and disturbance-feedforward hold none)
+  for (const file of files.filter((f) => /hoist|thermal|tracking-rate|two-carts/.test(f))) {
+    it(`${basename(file)}: 2 threads with twin hints = 1 thread without`, async () => {
+      const { loaded, table } = solved(file);
+      const formulation = formulate(loaded);
+      const { mpqp } = formulation;
+      expect(mpqp.ntheta).toBeGreaterThanOrEqual(3);
+      const pool = startThreadPool(2);
+      try {
+        const run = exploreThreaded(mpqp, { threads: 2, guesses: true, twinsFrom: 4, pool });
+        const p = await run.result;
+        expect(p.stats.complete).toBe(true);
+        const hints = run.guesses();
+        expect(hints.twins?.keys.length ?? 0).toBeGreaterThan(0);
+        const hinted = await canonicalThreaded(mpqp, p, 2, { guesses: hints, twinsFrom: 8 }, pool);
+        expect(hinted.neighbourWork?.twins ?? 0).toBeGreaterThan(0);
+        const bytes = tableToJson(makeTable(loaded, formulation, hinted));
+        expect(bytes === tableToJson(table), '2 threads with twin hints differ from 1 thread').toBe(true);
+        // the same twins without hints (each found from its vertex lists here)
+        const plain = joinPartitions(mpqp, [p], { twinsFrom: 8 });
+        expect(plain.neighbourWork?.twins).toBe(hinted.neighbourWork?.twins);
+      } finally {
+        await pool.terminate();
+      }
+    }, 300_000);
+  }
+});
+
 describe('threads: the sub-boxes run at the same time', () => {
   // each worker of the pool takes one sub-box at once (a bug once started only the first worker,
   // which then explored the sub-boxes one after the other); the jobs handed out are recorded from

@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { createRequire } from 'node:module';
 import { FacetPairs } from '../../src/mpqp/facet-pairs.js';
-import { canonicalNeighbours, joinPartitions, zeroNeighbourCounts } from '../../src/mpqp/canonical.js';
+import { canonicalNeighbours, joinPartitions, twinPairs, zeroNeighbourCounts } from '../../src/mpqp/canonical.js';
 import type { CriticalRegion, MpqpProblem } from '../../src/mpqp/types.js';
 import { rng } from '../problem/rng.js';
 
@@ -301,6 +301,30 @@ describe('canonicalNeighbours: twin facets (the same vertices) leave the sweep, 
       // the facets left in the sweep are those with no neighbour (cells too small to be sampled lie across them)
       expect(twins.counts.tests).toBeLessThan(plain.counts.tests);
     }, 120_000);
+
+  it('twinPairs over two halves of the cells (as two workers would): every pair is a reference neighbour pair, and as hints they give the reference lists', () => {
+    const n = 3;
+    const { regions, boxes } = arrangement(21, n, 9, 8000);
+    const expected = referenceLists(regions);
+    // two overlapping halves by the first coordinate of the boxes' centres (cells near the middle in both)
+    const halves = [0, 1].map((h) => regions.map((_, i) => i).filter((i) => (h === 0 ? boxes[i].lo[0] < 0.55 : boxes[i].hi[0] > 0.45)));
+    const hints: number[] = [];
+    for (const half of halves) {
+      const quads = twinPairs(unitProblem(n), half.map((i) => regions[i]) as CriticalRegion[], half.map((i) => boxes[i]), 2);
+      expect(quads.length).toBeGreaterThan(0);
+      for (let t = 0; t < quads.length; t += 4) {
+        const [r, f, s, g] = [half[quads[t]], quads[t + 1], half[quads[t + 2]], quads[t + 3]];
+        expect(expected[r][f]).toContain(s);
+        expect(expected[s][g]).toContain(r);
+        hints.push(r, f, s, g);
+      }
+    }
+    const counts = zeroNeighbourCounts();
+    const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, { lps: 0, reference: false }, undefined, undefined, { counts, twinsFrom: 2, twinHints: Int32Array.from(hints) });
+    expect(lists).toEqual(expected);
+    const pairs = expected.flat().reduce((t, l) => t + l.length, 0) / 2;
+    expect(counts.twins).toBe(pairs);
+  }, 120_000);
 
   it('a facet split in two across its plane has no twin: both halves are listed (rotated boxes, elementary geometry)', () => {
     // one box above the plane x_0 = 0 and two boxes below it, each under half of its face: the

@@ -215,6 +215,30 @@ function arrangement(seed: number, n: number, k: number, samples: number): { reg
   return { regions, boxes: regions.map((R) => lpBox(R, n)), means };
 }
 
+/** Every ordered pair of facets of two cells of an arrangement on the same plane (its row), taken with the other sign: (cell, facet, cell, facet). */
+function forOppositeFacets(regions: Region[], visit: (i: number, f: number, s: number, g: number) => void): void {
+  regions.forEach((R, i) =>
+    R.facets.forEach((fi, f) => {
+      if (fi.kind === 'box') return;
+      regions.forEach((S, s) => {
+        if (s === i) return;
+        S.facets.forEach((gi, g) => {
+          if (gi.kind === 'primal' && gi.row === fi.row) visit(i, f, s, g);
+        });
+      });
+    }),
+  );
+}
+
+/** The reference lists of an arrangement's cells: every pair of opposite facets on one plane whose overlap javascript-lp-solver finds of radius > minPiece. */
+function referenceLists(regions: Region[]): number[][][] {
+  const expected = regions.map((R) => R.facets.map(() => [] as number[]));
+  forOppositeFacets(regions, (i, f, s, g) => {
+    if (lpOverlap(regions[i], f, regions[s], g) > minPiece) expected[i][f].push(s);
+  });
+  return expected;
+}
+
 const unitProblem = (n: number): MpqpProblem => ({ ntheta: n, box: { lower: new Array(n).fill(0), upper: new Array(n).fill(1) } }) as unknown as MpqpProblem;
 
 describe('canonicalNeighbours with LP-free decisions against javascript-lp-solver (cells of random plane arrangements)', () => {
@@ -231,20 +255,7 @@ describe('canonicalNeighbours with LP-free decisions against javascript-lp-solve
       const counts = zeroNeighbourCounts();
       const lists = canonicalNeighbours(unitProblem(n), regions as CriticalRegion[], boxes, lp, undefined, undefined, { counts, certificates: true });
       // reference: every pair of opposite facets on the same plane, its overlap radius by javascript-lp-solver
-      const expected = regions.map((R) => R.facets.map(() => [] as number[]));
-      regions.forEach((R, i) =>
-        R.facets.forEach((fi, f) => {
-          if (fi.kind === 'box') return;
-          regions.forEach((S, s) => {
-            if (s === i) return;
-            S.facets.forEach((gi, g) => {
-              if (gi.kind !== 'primal' || gi.row !== fi.row) return; // the same plane, taken with the other sign
-              if (lpOverlap(R, f, S, g) > minPiece) expected[i][f].push(s);
-            });
-          });
-        }),
-      );
-      expect(lists).toEqual(expected);
+      expect(lists).toEqual(referenceLists(regions));
       expect(counts.tests).toBeGreaterThan(0);
       expect(counts.accepted + counts.rejected + counts.boxes + counts.parallel + counts.lps).toBe(counts.tests);
       expect(counts.lps).toBeLessThan(0.2 * counts.tests);
@@ -252,24 +263,6 @@ describe('canonicalNeighbours with LP-free decisions against javascript-lp-solve
       expect(counts.clustersDone).toBe(counts.clusters);
     }, 120_000);
 });
-
-/** The reference lists of an arrangement's cells: every pair of opposite facets on one plane whose overlap javascript-lp-solver finds of radius > minPiece. */
-function referenceLists(regions: Region[]): number[][][] {
-  const expected = regions.map((R) => R.facets.map(() => [] as number[]));
-  regions.forEach((R, i) =>
-    R.facets.forEach((fi, f) => {
-      if (fi.kind === 'box') return;
-      regions.forEach((S, s) => {
-        if (s === i) return;
-        S.facets.forEach((gi, g) => {
-          if (gi.kind !== 'primal' || gi.row !== fi.row) return;
-          if (lpOverlap(R, f, S, g) > minPiece) expected[i][f].push(s);
-        });
-      });
-    }),
-  );
-  return expected;
-}
 
 describe('canonicalNeighbours: twin facets (the same vertices) leave the sweep, against javascript-lp-solver', () => {
   // In a plane arrangement every facet of a cell is also a facet of the cell across (common
@@ -470,25 +463,16 @@ describe('FacetPairs without vertex lists (accept from the Chebyshev centres, re
       ] as const) {
         const withCentres = regions.map((R, i) => ({ ...R, chebyshev: { center: centres[i] } }));
         const pairs = new FacetPairs(withCentres, boxes, n, minPiece, { vertices: false });
-        regions.forEach((R, i) =>
-          R.facets.forEach((fi, f) => {
-            if (fi.kind === 'box') return;
-            regions.forEach((S, s) => {
-              if (s === i) return;
-              S.facets.forEach((gi, g) => {
-                if (gi.kind !== 'primal' || gi.row !== fi.row) return;
-                const answer = pairs.decide(i, f, s, g);
-                const radius = radiusOf(i, f, s, g);
-                if (answer === 0) expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} rejected`).toBeLessThanOrEqual(minPiece);
-                if (label === 'sample means' && radius > minPiece) neighbours++;
-                if (answer === 1) {
-                  expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} accepted`).toBeGreaterThan(minPiece);
-                  if (label === 'sample means') accepted++;
-                }
-              });
-            });
-          }),
-        );
+        forOppositeFacets(regions, (i, f, s, g) => {
+          const answer = pairs.decide(i, f, s, g);
+          const radius = radiusOf(i, f, s, g);
+          if (answer === 0) expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} rejected`).toBeLessThanOrEqual(minPiece);
+          if (label === 'sample means' && radius > minPiece) neighbours++;
+          if (answer === 1) {
+            expect(radius, `${label}: pair ${i}/${f} – ${s}/${g} accepted`).toBeGreaterThan(minPiece);
+            if (label === 'sample means') accepted++;
+          }
+        });
         expect(pairs.counts.accepted).toBe(pairs.counts.centred);
         expect(pairs.counts.rejected).toBe(pairs.counts.opposed);
       }

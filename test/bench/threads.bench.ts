@@ -30,6 +30,9 @@
  * TESSERA_BENCH_LONG=1 adds a long complete problem, boom-4d-n20 (18 931 regions, ~13–17 s on one
  * thread near idle, ~30 s a pair; about 2 more minutes with 3 pairs): each isolate's JIT warm-up
  * is a fixed cost, so whether the speed-up grows with the run's length shows there.
+ * TESSERA_BENCH_HUGE=1 adds the whole mixer-5d-n10 (60 693 regions, 5-D θ; ~50 s on one thread,
+ * ~36 s on two; about 5 more minutes with 3 pairs): a table whose canonical form weighs (its
+ * planes shared by thousands of facets, see "Twin facets" in DEVELOPERS.md).
  */
 import { join } from 'node:path';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -146,6 +149,7 @@ export async function run(): Promise<void> {
   results.push(await paired('mixer-5d-n10 (box ×0.5)', fixture('mixer-5d-n10', 0.5)));
   if (process.env.TESSERA_BENCH_SMALL !== '1') results.push(await paired('boom-4d-n12 (larger)', fixture('boom-4d-n12')));
   if (process.env.TESSERA_BENCH_LONG === '1') results.push(await paired('boom-4d-n20 (long)', fixture('boom-4d-n20')));
+  if (process.env.TESSERA_BENCH_HUGE === '1') results.push(await paired('mixer-5d-n10 (whole)', fixture('mixer-5d-n10')));
   console.log(`load average after the runs: ${load()}`);
   console.log('summary (speed-up of solve, 2 threads vs 1; target ≥ 1.7×):');
   rmSync(tmp, { recursive: true, force: true });

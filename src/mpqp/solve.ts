@@ -328,12 +328,14 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         causes[res === 'rank' ? 'fallbackRank' : res === 'box' ? 'fallbackBox' : res === 'verts' ? 'fallbackVerts' : 'fallbackGuard']++;
       }
     }
-    const memo = new Map<string, { point: Float64Array; radius: number } | null>();
+    const walk: DifferenceWalk = { stop: stopNow };
     for (let guard = 0; guard < 1000 && !covered; guard++) {
       if (stopNow()) return;
       const lp0 = lp.lps;
-      const piece = uncoveredPoint(facet, slices, minPiece, lp, memo);
+      const piece = uncoveredPoint(facet, slices, minPiece, lp, walk);
       work.coverLps += lp.lps - lp0;
+      if (piece === 'stopped') return;
+      if (piece === 'budget') break; // the rest of the facet is given up below, as at the guard
       if (!piece) {
         covered = true;
         break;
@@ -676,8 +678,9 @@ export function parseWitnessKey(w: string): { key: string; facet: number } | nul
  * or null when the facet is covered. The same test as the exploration's (slices with the cover slack 10·tol.radius, pieces
  * of radius ≤ 10·tol.radius dropped), against every region whose box reaches the facet's plane
  * within the slack from the far side, in list order: a function of the list alone, whichever run
- * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check.
- * `scale`: the widest side of the parameter box.
+ * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check;
+ * 'undecided' when that difference passes its bound of `DIFFERENCE_LPS` LPs (the facet is not
+ * proven covered). `scale`: the widest side of the parameter box.
  */
 export function uncoveredFacetPiece(
   regions: readonly Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[],
@@ -686,7 +689,7 @@ export function uncoveredFacetPiece(
   f: number,
   scale: number,
   lp: LpEngine,
-): { point: Float64Array; radius: number; theta: Float64Array } | null {
+): { point: Float64Array; radius: number; theta: Float64Array } | null | 'undecided' {
   const R = regions[id];
   const a = R.A[f];
   const beta = R.b[f];
@@ -752,6 +755,7 @@ export function uncoveredFacetPiece(
     }
   }
   const left = uncoveredPoint(frame, slices, minPiece, lp);
+  if (left === 'budget' || left === 'stopped') return 'undecided';
   return left ? { ...left, theta: frame.lift(left.point) } : null;
 }
 
@@ -1042,17 +1046,60 @@ function containsY(s: Slice, y: ArrayLike<number>, slack = 1e3 * tol.inside): bo
   return true;
 }
 
+type Row = { A: number[]; b: number };
+type Ball = { point: Float64Array; radius: number };
+
+/**
+ * A node of the difference tree (`uncoveredPoint`): a piece of the facet, its rows, its Chebyshev
+ * ball (undefined until solved, null when thinner than minRadius or when no point of its subtree
+ * is uncovered), and where its walk stands: the row `i` of the next slice being tried, the rows
+ * passed so far (`prefix`) and the child piece under way.
+ */
+interface DiffNode {
+  rows: Row[];
+  ball: Ball | null | undefined;
+  i: number;
+  prefix: Row[];
+  child: DiffNode | null;
+}
+
+/**
+ * Where the difference walk of one facet stands between calls (`uncoveredPoint`; slices are only
+ * ever appended to its cover), with its bounds: `stop` (asked every 64 LPs) and `budget`, the
+ * LPs all its calls may spend (`DIFFERENCE_LPS` by default).
+ */
+export interface DifferenceWalk {
+  root?: DiffNode;
+  /** LPs spent by the walk's calls so far */
+  lps?: number;
+  budget?: number;
+  stop?: () => boolean;
+}
+
+/**
+ * LPs the difference walk of one facet may spend before the rest of the facet is given up
+ * (counted as the facet's guard, never silent). The walk is exponential in the slices in the
+ * worst case: on a degenerate 4-D tracking problem of our own (a stack of regions ~1e-6 thick
+ * across which the landings kept failing), one facet's walk ran past 10 minutes after ~2 000
+ * landings. The facets of every example and fixture need a few hundred at most.
+ */
+export const DIFFERENCE_LPS = 20000;
+
 /**
  * A point of `base` not covered by the union of `cover`, with the radius of the uncovered piece it
  * is the Chebyshev centre of; null when every piece left is thinner than minRadius.
- * base \ S = ∪_i (base ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}), applied recursively over the cover.
+ * base \ S = ∪_i (base ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}), applied recursively over the cover,
+ * depth first, the first piece of the last level found.
+ *
+ * `walk` (one per facet, slices only ever appended to `cover`) resumes the depth-first walk where
+ * the last call found its piece: a subtree found empty stays empty when slices are appended (they
+ * only take more of it), and a piece's rows depend on its path alone, so the answer is the one a
+ * walk from the root would give, without walking again through the subtrees already found empty.
+ * (Walking from the root with a memo of the balls by path cost O(slices²) per call: on a facet of
+ * a degenerate 4-D tracking problem that gave up pieces at 1 000 landings, 12 s of 15 in the walk
+ * and the collector.)
  */
-/**
- * `memo` (one per facet, slices only ever appended) keeps the Chebyshev ball of every piece already
- * solved, keyed by its path in the difference tree: a piece's rows depend on its path alone, so a
- * later call after a landing re-walks the tree without repeating those LPs.
- */
-function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine, memo?: Map<string, { point: Float64Array; radius: number } | null>): { point: Float64Array; radius: number } | null {
+export function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine, walk: DifferenceWalk = {}): Ball | null | 'stopped' | 'budget' {
   const dim = base.dim;
   if (dim === 0) {
     // 1-D θ: the facet is a point, covered when any neighbour holds it
@@ -1061,46 +1108,61 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
     return { point: new Float64Array(0), radius: Infinity };
   }
   if (dim === 1) return uncoveredInterval(base, cover, minRadius);
-  const rows: { A: number[]; b: number }[] = [];
-  for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
+  if (!walk.root) {
+    const rows: Row[] = [];
+    for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
+    walk.root = { rows, ball: undefined, i: 0, prefix: [], child: null };
+  }
   // the facet's vertices bound every linear function over every piece: a flipped row whose
   // maximum over them is within minRadius of its bound leaves a piece too thin to matter, no LP
   const verts = base.vertices();
-  const rec = (pieceRows: { A: number[]; b: number }[], idx: number, path: string): { point: Float64Array; radius: number } | null => {
-    let ball = memo?.get(path);
-    if (ball === undefined) {
-      const m = pieceRows.length;
+  const budget = walk.budget ?? DIFFERENCE_LPS;
+  let cut: 'stopped' | 'budget' | null = null;
+  const rec = (node: DiffNode, idx: number): Ball | null => {
+    if (node.ball === undefined) {
+      const spent = (walk.lps = (walk.lps ?? 0) + 1);
+      if (spent > budget) cut = 'budget';
+      else if (walk.stop && spent % 64 === 0 && walk.stop()) cut = 'stopped';
+      if (cut) return null;
+      const m = node.rows.length;
       const A = new Float64Array(m * dim);
       const b = new Float64Array(m);
-      pieceRows.forEach((r, i) => {
+      node.rows.forEach((r, i) => {
         A.set(r.A, i * dim);
         b[i] = r.b;
       });
       lp.lps++;
       const cheb = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
-      ball = cheb.radius > minRadius ? { point: cheb.center, radius: cheb.radius } : null;
-      memo?.set(path, ball);
+      node.ball = cheb.radius > minRadius ? { point: cheb.center, radius: cheb.radius } : null;
     }
-    if (!ball) return null;
-    if (idx === cover.length) return ball;
+    if (!node.ball) return null;
+    if (idx === cover.length) return node.ball;
     const S = cover[idx];
-    const prefix: { A: number[]; b: number }[] = [];
-    for (let i = 0; i < S.m; i++) {
+    for (; node.i < S.m; node.i++) {
+      const i = node.i;
       const s = Array.from(S.A.subarray(i * dim, (i + 1) * dim));
-      // a row of the piece with the same normal and a bound no looser implies s: the flipped side is empty, no LP
-      if (impliedBy(pieceRows, s, S.b[i])) continue;
-      if (verts && maxOver(verts, s, dim) <= S.b[i] + minRadius) {
-        prefix.push({ A: s, b: S.b[i] });
-        continue;
+      if (!node.child) {
+        // a row of the piece with the same normal and a bound no looser implies s: the flipped side is empty, no LP
+        if (impliedBy(node.rows, s, S.b[i])) continue;
+        if (verts && maxOver(verts, s, dim) <= S.b[i] + minRadius) {
+          node.prefix.push({ A: s, b: S.b[i] });
+          continue;
+        }
+        const flipped = { A: s.map((x) => -x), b: -S.b[i] };
+        node.child = { rows: [...node.rows, ...node.prefix, flipped], ball: undefined, i: 0, prefix: [], child: null };
       }
-      const flipped = { A: s.map((x) => -x), b: -S.b[i] };
-      const res = rec([...pieceRows, ...prefix, flipped], idx + 1, `${path}.${i}`);
-      if (res) return res;
-      prefix.push({ A: s, b: S.b[i] });
+      const res = rec(node.child, idx + 1);
+      if (res || cut) return res;
+      node.child = null;
+      node.prefix.push({ A: s, b: S.b[i] });
     }
+    // nothing uncovered below this piece: for good (later slices only take more)
+    node.ball = null;
+    node.prefix = [];
     return null;
   };
-  return rec(rows, 0, '');
+  const found = rec(walk.root, 0);
+  return cut ?? found;
 }
 
 function maxOver(verts: Float64Array[], s: number[], dim: number): number {

@@ -213,7 +213,7 @@ export interface CoverCauses {
   noRegion: number;
   /** landings that reached full-dimensional regions, none of whose facet slice held the point */
   noSlice: number;
-  /** facets whose covering stopped at its bound of 1 000 landings (the rest of the facet counts as one piece) */
+  /** facets whose covering stopped at its bound of 1 000 landings or of `DIFFERENCE_LPS` LPs in its difference walk (the rest of the facet counts as one piece) */
   guard: number;
   /** vertex-list fallbacks: a vertex whose tight rows do not have rank dim */
   fallbackRank: number;

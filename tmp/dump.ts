@@ -1,0 +1,1 @@
+// print the fuzz problem of a seed (same generator as fuzz.ts)

@@ -679,7 +679,7 @@ export function parseWitnessKey(w: string): { key: string; facet: number } | nul
  * of radius ≤ 10·tol.radius dropped), against every region whose box reaches the facet's plane
  * within the slack from the far side, in list order: a function of the list alone, whichever run
  * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check;
- * 'undecided' when that difference passes its bound of `DIFFERENCE_LPS` LPs (the facet is not
+ * 'undecided' when that difference passes its bound of `RECHECK_LPS` LPs (the facet is not
  * proven covered). `scale`: the widest side of the parameter box.
  */
 export function uncoveredFacetPiece(
@@ -754,7 +754,7 @@ export function uncoveredFacetPiece(
       }
     }
   }
-  const left = uncoveredPoint(frame, slices, minPiece, lp);
+  const left = uncoveredPoint(frame, slices, minPiece, lp, { budget: RECHECK_LPS });
   if (left === 'budget' || left === 'stopped') return 'undecided';
   return left ? { ...left, theta: frame.lift(left.point) } : null;
 }
@@ -1077,13 +1077,21 @@ export interface DifferenceWalk {
 }
 
 /**
- * LPs the difference walk of one facet may spend before the rest of the facet is given up
- * (counted as the facet's guard, never silent). The walk is exponential in the slices in the
- * worst case: on a degenerate 4-D tracking problem of our own (a stack of regions ~1e-6 thick
- * across which the landings kept failing), one facet's walk ran past 10 minutes after ~2 000
- * landings. The facets of every example and fixture need a few hundred at most.
+ * LPs the exploration's difference walk of one facet may spend before the rest of the facet is
+ * given up (counted as the facet's guard, never silent; the re-check against the final regions
+ * then decides it, `RECHECK_LPS`). The walk is exponential in the slices in the worst case: on a
+ * degenerate 4-D tracking problem of our own (stacks of regions ~1e-6 thick across which the
+ * landings kept failing; test/fixtures/degenerate) one facet's walk ran past 10 minutes after
+ * ~2 000 landings. Bounded here, that problem's run took 42 s; at 200 000 it took 241 s.
  */
 export const DIFFERENCE_LPS = 20000;
+
+/**
+ * LPs the re-check of one given-up facet against the final regions (`uncoveredFacetPiece`) may
+ * spend; past it the facet counts as unresolved (not proven covered). Checking every facet of the
+ * first 40 regions of two-carts-4d took up to 111 982 LPs (3.4 s) for a facet that is covered.
+ */
+export const RECHECK_LPS = 500000;
 
 /**
  * A point of `base` not covered by the union of `cover`, with the radius of the uncovered piece it

@@ -186,9 +186,13 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     // a candidate is an active set satisfying LICQ whose region is built (a guess failing LICQ costs one small factorisation)
     if (res.ok || res.reason !== 'licq') stats.candidates++;
     if (!res.ok) return -2;
-    // a copy of an existing region under another (degenerate) active set is not added twice
+    // a copy of an existing region under another (degenerate) active set is not added twice: its
+    // Chebyshev centre deep inside a known region and (where the vertex pass listed them) every
+    // vertex within 10·tol.radius of it. A region that only overlaps another (both laws are the
+    // unique optimiser there) is kept: taken for a copy, its part outside the other was a hole
+    // (a 5-D tracking problem with a rate limit: 14 facets left uncovered, 8 hole witnesses)
     const dup = locate(res.region.chebyshev.center, -0.5 * res.region.chebyshev.radius);
-    if (dup >= 0) {
+    if (dup >= 0 && (!res.verts || verticesWithin(res.verts, regions[dup], nt, minPiece))) {
       byActiveSet.set(key, dup);
       return dup;
     }
@@ -266,12 +270,18 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       }
     }
   }
-  // breadth-first over the regions
+  // breadth-first over the regions; then, while facets given up on keep an uncovered piece, probes
+  // across those pieces (`repair`) and breadth-first again from the regions they find
   const every = 1000 * (options.checkpointEvery ?? 30);
   let lastCheckpoint = performance.now();
-  for (;;) {
+  let probedTo = 0; // regions whose facets `repair` has probed
+  for (let pass = 0; ; ) {
     if (stopNow()) break;
-    if (head === pending.length) break;
+    if (head === pending.length) {
+      if (pass >= REPAIR_PASSES || gaveUpAt.size === 0 || !repair()) break;
+      pass++;
+      continue;
+    }
     if (options.onCheckpoint && performance.now() - lastCheckpoint >= every) {
       options.onCheckpoint(exportState());
       lastCheckpoint = performance.now();
@@ -295,6 +305,54 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     head++;
     done.add(key);
     listener?.covered(key);
+  }
+
+  /**
+   * Where landings failed (facets given up on, `gaveUpAt`), regions beside them may never have been
+   * reached: in badly scaled problems (stacks of thin wedges whose facets nearly coincide) a
+   * landing keeps meeting regions whose slice misses the piece, while a region in the wedge is
+   * reached by no landing. Two kinds of probe, each solving the point QP where no known region
+   * holds the point (`regionAt`) and queueing a region it finds like any other:
+   * - across the uncovered piece of each facet given up on, tested against the regions found so
+   *   far (`uncoveredFacetPiece`, the re-check of the canonical form), at steps 10·tol.inside …
+   *   1e-3 × the box scale;
+   * - just across the Chebyshev centre of every non-box facet of every region not probed before
+   *   (the facet probe of `tessera gaps`: step min(radius/2, the landing step)).
+   * Probes outside this run's box are skipped. Runs only after facets were given up on, so a run
+   * without give-ups is unchanged. True when a new region was found.
+   */
+  function repair(): boolean {
+    const before = regions.length;
+    for (const w of [...gaveUpAt].sort()) {
+      if (stopNow()) break;
+      const at = parseWitnessKey(w);
+      const id = at ? byActiveSet.get(at.key) : undefined;
+      if (!at || id === undefined || id < 0 || at.facet >= regions[id].A.length) continue;
+      const piece = uncoveredFacetPiece(regions, bboxes, id, at.facet, scale, lp);
+      if (piece === null || piece === 'undecided') continue;
+      const a = regions[id].A[at.facet];
+      for (const h of [10 * tol.inside, 1e-6 * scale, 1e-5 * scale, 1e-4 * scale, 1e-3 * scale]) probe(piece.theta, a, h);
+    }
+    for (; probedTo < regions.length && !stopNow(); probedTo++) {
+      const R = regions[probedTo];
+      R.facets.forEach((fi, f) => {
+        if (fi.kind === 'box') return;
+        const frame = slicePolytope(R.A, R.b, R.A[f], R.b[f], f, 0, bboxes[R.id]);
+        if (!frame || frame.dim < 1) return;
+        lp.lps++;
+        const ball = chebyshevBall(Float64Array.from(frame.A.subarray(0, frame.m * frame.dim)), Float64Array.from(frame.b.subarray(0, frame.m)), frame.m, frame.dim, new Float64Array(frame.dim), 1e6);
+        if (!(ball.radius > 0)) return;
+        probe(frame.lift(ball.center), R.A[f], Math.min(ball.radius / 2, step));
+      });
+    }
+    const found = regions.length - before;
+    causes.repaired = (causes.repaired ?? 0) + found;
+    return found > 0;
+  }
+  function probe(on: ArrayLike<number>, a: readonly number[], h: number): void {
+    const theta = Float64Array.from(on, (x, j) => x + h * a[j]);
+    for (let j = 0; j < nt; j++) if (!(theta[j] >= slo[j] && theta[j] <= sup[j])) return;
+    regionAt(theta);
   }
 
   function exploreFacet(R: CriticalRegion, f: number): void {
@@ -657,6 +715,18 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   stats.gaveUpAt = [...gaveUpAt].sort();
   report(true);
   return stats.complete ? { regions, stats, work, cover, boxes: bboxes } : { regions, stats, work, cover, boxes: bboxes, state: exportState() };
+}
+
+/** Every vertex of the list lies within `slack` of every (unit) row of R. */
+function verticesWithin(V: RegionVertices, R: Pick<CriticalRegion, 'A' | 'b'>, nt: number, slack: number): boolean {
+  for (let k = 0; k < V.count; k++)
+    for (let i = 0; i < R.A.length; i++) {
+      const a = R.A[i];
+      let v = -R.b[i];
+      for (let j = 0; j < nt; j++) v += a[j] * V.x[k * nt + j];
+      if (v > slack) return false;
+    }
+  return true;
 }
 
 /** The name of facet f of the region of an active set in `PartitionStats.gaveUpAt`: "i,j,k:f" (the active set's rows, then the facet's index). */
@@ -1085,6 +1155,9 @@ export interface DifferenceWalk {
  * ~2 000 landings. Bounded here, that problem's run took 42 s; at 200 000 it took 241 s.
  */
 export const DIFFERENCE_LPS = 20000;
+
+/** Rounds of `repair` (probes across the uncovered pieces of facets given up on) an exploration makes at most. */
+export const REPAIR_PASSES = 3;
 
 /**
  * LPs the re-check of one given-up facet against the final regions (`uncoveredFacetPiece`) may

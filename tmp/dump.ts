@@ -1,1 +1,0 @@
-// print the fuzz problem of a seed (same generator as fuzz.ts)

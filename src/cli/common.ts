@@ -56,7 +56,8 @@ export function coverLines(s: Pick<PartitionStats, 'unresolvedPieces' | 'causes'
     const after = canonical
       ? `re-checked against the final regions: ${facets - s.unresolvedPieces} of those ${facets} facet(s) covered`
       : '`tessera join` re-checks them against the final regions';
-    lines.push(`  exploration diagnostics (depend on the run; not in the table): ${giveUps} facet piece(s) given up on at ${facets} facet(s)${said.length ? ` (${said.join('; ')})` : ''}; ${after}`);
+    const probed = c.repaired > 0 ? `; probes across the uncovered pieces found ${c.repaired} more region(s)` : '';
+    lines.push(`  exploration diagnostics (depend on the run; not in the table): ${giveUps} facet piece(s) given up on at ${facets} facet(s)${said.length ? ` (${said.join('; ')})` : ''}${probed}; ${after}`);
   }
   const fb = [
     [c.fallbackRank, 'a vertex without full-rank tight rows'],

@@ -258,7 +258,8 @@ export function beginJoin(problem: MpqpProblem, parts: readonly Partition[], opt
  * partition (a bounded run's cut list) counts as unresolved; a facet whose uncovered piece has the
  * MPC infeasible just across it (`infeasibleAcross`) lies on the feasible set's boundary and does
  * not. A run that covered the facet without giving up lists it nowhere; one that gave up next to a
- * hole lists it, as every run must there.
+ * hole lists it, as every run must there. A facet whose test passes its bound of LPs
+ * (`uncoveredFacetPiece`: 'undecided') counts as unresolved: it is not proven covered.
  */
 export function recheckGiveUps(problem: MpqpProblem, regions: readonly CriticalRegion[], boxes: readonly { lo: ArrayLike<number>; hi: ArrayLike<number> }[], gaveUpAt: readonly string[], lp: LpEngine): number {
   if (gaveUpAt.length === 0) return 0;
@@ -275,6 +276,10 @@ export function recheckGiveUps(problem: MpqpProblem, regions: readonly CriticalR
       continue;
     }
     const piece = uncoveredFacetPiece(regions, boxes, id, at.facet, scale, lp);
+    if (piece === 'undecided') {
+      open++;
+      continue;
+    }
     if (piece && !infeasibleAcross(problem, regions[id].A[at.facet], piece.theta, scale, lp)) open++;
   }
   return open;

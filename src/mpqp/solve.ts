@@ -186,9 +186,13 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     // a candidate is an active set satisfying LICQ whose region is built (a guess failing LICQ costs one small factorisation)
     if (res.ok || res.reason !== 'licq') stats.candidates++;
     if (!res.ok) return -2;
-    // a copy of an existing region under another (degenerate) active set is not added twice
+    // a copy of an existing region under another (degenerate) active set is not added twice: its
+    // Chebyshev centre deep inside a known region and (where the vertex pass listed them) every
+    // vertex within 10·tol.radius of it. A region that only overlaps another (both laws are the
+    // unique optimiser there) is kept: taken for a copy, its part outside the other was a hole
+    // (a 5-D tracking problem with a rate limit: 14 facets left uncovered, 8 hole witnesses)
     const dup = locate(res.region.chebyshev.center, -0.5 * res.region.chebyshev.radius);
-    if (dup >= 0) {
+    if (dup >= 0 && (!res.verts || verticesWithin(res.verts, regions[dup], nt, minPiece))) {
       byActiveSet.set(key, dup);
       return dup;
     }
@@ -266,12 +270,18 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       }
     }
   }
-  // breadth-first over the regions
+  // breadth-first over the regions; then, while facets given up on keep an uncovered piece, probes
+  // across those pieces (`repair`) and breadth-first again from the regions they find
   const every = 1000 * (options.checkpointEvery ?? 30);
   let lastCheckpoint = performance.now();
-  for (;;) {
+  let probedTo = 0; // regions whose facets `repair` has probed
+  for (let pass = 0; ; ) {
     if (stopNow()) break;
-    if (head === pending.length) break;
+    if (head === pending.length) {
+      if (pass >= REPAIR_PASSES || gaveUpAt.size === 0 || !repair()) break;
+      pass++;
+      continue;
+    }
     if (options.onCheckpoint && performance.now() - lastCheckpoint >= every) {
       options.onCheckpoint(exportState());
       lastCheckpoint = performance.now();
@@ -295,6 +305,54 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
     head++;
     done.add(key);
     listener?.covered(key);
+  }
+
+  /**
+   * Where landings failed (facets given up on, `gaveUpAt`), regions beside them may never have been
+   * reached: in badly scaled problems (stacks of thin wedges whose facets nearly coincide) a
+   * landing keeps meeting regions whose slice misses the piece, while a region in the wedge is
+   * reached by no landing. Two kinds of probe, each solving the point QP where no known region
+   * holds the point (`regionAt`) and queueing a region it finds like any other:
+   * - across the uncovered piece of each facet given up on, tested against the regions found so
+   *   far (`uncoveredFacetPiece`, the re-check of the canonical form), at steps 10·tol.inside …
+   *   1e-3 × the box scale;
+   * - just across the Chebyshev centre of every non-box facet of every region not probed before
+   *   (the facet probe of `tessera gaps`: step min(radius/2, the landing step)).
+   * Probes outside this run's box are skipped. Runs only after facets were given up on, so a run
+   * without give-ups is unchanged. True when a new region was found.
+   */
+  function repair(): boolean {
+    const before = regions.length;
+    for (const w of [...gaveUpAt].sort()) {
+      if (stopNow()) break;
+      const at = parseWitnessKey(w);
+      const id = at ? byActiveSet.get(at.key) : undefined;
+      if (!at || id === undefined || id < 0 || at.facet >= regions[id].A.length) continue;
+      const piece = uncoveredFacetPiece(regions, bboxes, id, at.facet, scale, lp);
+      if (piece === null || piece === 'undecided') continue;
+      const a = regions[id].A[at.facet];
+      for (const h of [10 * tol.inside, 1e-6 * scale, 1e-5 * scale, 1e-4 * scale, 1e-3 * scale]) probe(piece.theta, a, h);
+    }
+    for (; probedTo < regions.length && !stopNow(); probedTo++) {
+      const R = regions[probedTo];
+      R.facets.forEach((fi, f) => {
+        if (fi.kind === 'box') return;
+        const frame = slicePolytope(R.A, R.b, R.A[f], R.b[f], f, 0, bboxes[R.id]);
+        if (!frame || frame.dim < 1) return;
+        lp.lps++;
+        const ball = chebyshevBall(Float64Array.from(frame.A.subarray(0, frame.m * frame.dim)), Float64Array.from(frame.b.subarray(0, frame.m)), frame.m, frame.dim, new Float64Array(frame.dim), 1e6);
+        if (!(ball.radius > 0)) return;
+        probe(frame.lift(ball.center), R.A[f], Math.min(ball.radius / 2, step));
+      });
+    }
+    const found = regions.length - before;
+    causes.repaired = (causes.repaired ?? 0) + found;
+    return found > 0;
+  }
+  function probe(on: ArrayLike<number>, a: readonly number[], h: number): void {
+    const theta = Float64Array.from(on, (x, j) => x + h * a[j]);
+    for (let j = 0; j < nt; j++) if (!(theta[j] >= slo[j] && theta[j] <= sup[j])) return;
+    regionAt(theta);
   }
 
   function exploreFacet(R: CriticalRegion, f: number): void {
@@ -328,12 +386,14 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
         causes[res === 'rank' ? 'fallbackRank' : res === 'box' ? 'fallbackBox' : res === 'verts' ? 'fallbackVerts' : 'fallbackGuard']++;
       }
     }
-    const memo = new Map<string, { point: Float64Array; radius: number } | null>();
+    const walk: DifferenceWalk = { stop: stopNow };
     for (let guard = 0; guard < 1000 && !covered; guard++) {
       if (stopNow()) return;
       const lp0 = lp.lps;
-      const piece = uncoveredPoint(facet, slices, minPiece, lp, memo);
+      const piece = uncoveredPoint(facet, slices, minPiece, lp, walk);
       work.coverLps += lp.lps - lp0;
+      if (piece === 'stopped') return;
+      if (piece === 'budget') break; // the rest of the facet is given up below, as at the guard
       if (!piece) {
         covered = true;
         break;
@@ -657,6 +717,18 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
   return stats.complete ? { regions, stats, work, cover, boxes: bboxes } : { regions, stats, work, cover, boxes: bboxes, state: exportState() };
 }
 
+/** Every vertex of the list lies within `slack` of every (unit) row of R. */
+function verticesWithin(V: RegionVertices, R: Pick<CriticalRegion, 'A' | 'b'>, nt: number, slack: number): boolean {
+  for (let k = 0; k < V.count; k++)
+    for (let i = 0; i < R.A.length; i++) {
+      const a = R.A[i];
+      let v = -R.b[i];
+      for (let j = 0; j < nt; j++) v += a[j] * V.x[k * nt + j];
+      if (v > slack) return false;
+    }
+  return true;
+}
+
 /** The name of facet f of the region of an active set in `PartitionStats.gaveUpAt`: "i,j,k:f" (the active set's rows, then the facet's index). */
 export function witnessKey(activeSet: readonly number[], f: number): string {
   return `${activeSet.join(',')}:${f}`;
@@ -676,8 +748,9 @@ export function parseWitnessKey(w: string): { key: string; facet: number } | nul
  * or null when the facet is covered. The same test as the exploration's (slices with the cover slack 10·tol.radius, pieces
  * of radius ≤ 10·tol.radius dropped), against every region whose box reaches the facet's plane
  * within the slack from the far side, in list order: a function of the list alone, whichever run
- * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check.
- * `scale`: the widest side of the parameter box.
+ * built it. Vertex lists first (src/mpqp/cover.ts), the LP difference when one fails a check;
+ * 'undecided' when that difference passes its bound of `RECHECK_LPS` LPs (the facet is not
+ * proven covered). `scale`: the widest side of the parameter box.
  */
 export function uncoveredFacetPiece(
   regions: readonly Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>[],
@@ -686,7 +759,7 @@ export function uncoveredFacetPiece(
   f: number,
   scale: number,
   lp: LpEngine,
-): { point: Float64Array; radius: number; theta: Float64Array } | null {
+): { point: Float64Array; radius: number; theta: Float64Array } | null | 'undecided' {
   const R = regions[id];
   const a = R.A[f];
   const beta = R.b[f];
@@ -751,7 +824,8 @@ export function uncoveredFacetPiece(
       }
     }
   }
-  const left = uncoveredPoint(frame, slices, minPiece, lp);
+  const left = uncoveredPoint(frame, slices, minPiece, lp, { budget: RECHECK_LPS });
+  if (left === 'budget' || left === 'stopped') return 'undecided';
   return left ? { ...left, theta: frame.lift(left.point) } : null;
 }
 
@@ -1042,17 +1116,71 @@ function containsY(s: Slice, y: ArrayLike<number>, slack = 1e3 * tol.inside): bo
   return true;
 }
 
+type Row = { A: number[]; b: number };
+type Ball = { point: Float64Array; radius: number };
+
+/**
+ * A node of the difference tree (`uncoveredPoint`): a piece of the facet, its rows, its Chebyshev
+ * ball (undefined until solved, null when thinner than minRadius or when no point of its subtree
+ * is uncovered), and where its walk stands: the row `i` of the next slice being tried, the rows
+ * passed so far (`prefix`) and the child piece under way.
+ */
+interface DiffNode {
+  rows: Row[];
+  ball: Ball | null | undefined;
+  i: number;
+  prefix: Row[];
+  child: DiffNode | null;
+}
+
+/**
+ * Where the difference walk of one facet stands between calls (`uncoveredPoint`; slices are only
+ * ever appended to its cover), with its bounds: `stop` (asked every 64 LPs) and `budget`, the
+ * LPs all its calls may spend (`DIFFERENCE_LPS` by default).
+ */
+export interface DifferenceWalk {
+  root?: DiffNode;
+  /** LPs spent by the walk's calls so far */
+  lps?: number;
+  budget?: number;
+  stop?: () => boolean;
+}
+
+/**
+ * LPs the exploration's difference walk of one facet may spend before the rest of the facet is
+ * given up (counted as the facet's guard, never silent; the re-check against the final regions
+ * then decides it, `RECHECK_LPS`). The walk is exponential in the slices in the worst case: on a
+ * degenerate 4-D tracking problem of our own (stacks of regions ~1e-6 thick across which the
+ * landings kept failing; test/fixtures/degenerate) one facet's walk ran past 10 minutes after
+ * ~2 000 landings. Bounded here, that problem's run took 42 s; at 200 000 it took 241 s.
+ */
+export const DIFFERENCE_LPS = 20000;
+
+/** Rounds of `repair` (probes across the uncovered pieces of facets given up on) an exploration makes at most. */
+export const REPAIR_PASSES = 3;
+
+/**
+ * LPs the re-check of one given-up facet against the final regions (`uncoveredFacetPiece`) may
+ * spend; past it the facet counts as unresolved (not proven covered). Checking every facet of the
+ * first 40 regions of two-carts-4d took up to 111 982 LPs (3.4 s) for a facet that is covered.
+ */
+export const RECHECK_LPS = 500000;
+
 /**
  * A point of `base` not covered by the union of `cover`, with the radius of the uncovered piece it
  * is the Chebyshev centre of; null when every piece left is thinner than minRadius.
- * base \ S = ∪_i (base ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}), applied recursively over the cover.
+ * base \ S = ∪_i (base ∩ {s_j ≤ t_j, j < i} ∩ {s_i ≥ t_i}), applied recursively over the cover,
+ * depth first, the first piece of the last level found.
+ *
+ * `walk` (one per facet, slices only ever appended to `cover`) resumes the depth-first walk where
+ * the last call found its piece: a subtree found empty stays empty when slices are appended (they
+ * only take more of it), and a piece's rows depend on its path alone, so the answer is the one a
+ * walk from the root would give, without walking again through the subtrees already found empty.
+ * (Walking from the root with a memo of the balls by path cost O(slices²) per call: on a facet of
+ * a degenerate 4-D tracking problem that gave up pieces at 1 000 landings, 12 s of 15 in the walk
+ * and the collector.)
  */
-/**
- * `memo` (one per facet, slices only ever appended) keeps the Chebyshev ball of every piece already
- * solved, keyed by its path in the difference tree: a piece's rows depend on its path alone, so a
- * later call after a landing re-walks the tree without repeating those LPs.
- */
-function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine, memo?: Map<string, { point: Float64Array; radius: number } | null>): { point: Float64Array; radius: number } | null {
+export function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp: LpEngine, walk: DifferenceWalk = {}): Ball | null | 'stopped' | 'budget' {
   const dim = base.dim;
   if (dim === 0) {
     // 1-D θ: the facet is a point, covered when any neighbour holds it
@@ -1061,46 +1189,61 @@ function uncoveredPoint(base: FacetFrame, cover: Slice[], minRadius: number, lp:
     return { point: new Float64Array(0), radius: Infinity };
   }
   if (dim === 1) return uncoveredInterval(base, cover, minRadius);
-  const rows: { A: number[]; b: number }[] = [];
-  for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
+  if (!walk.root) {
+    const rows: Row[] = [];
+    for (let i = 0; i < base.m; i++) rows.push({ A: Array.from(base.A.subarray(i * dim, (i + 1) * dim)), b: base.b[i] });
+    walk.root = { rows, ball: undefined, i: 0, prefix: [], child: null };
+  }
   // the facet's vertices bound every linear function over every piece: a flipped row whose
   // maximum over them is within minRadius of its bound leaves a piece too thin to matter, no LP
   const verts = base.vertices();
-  const rec = (pieceRows: { A: number[]; b: number }[], idx: number, path: string): { point: Float64Array; radius: number } | null => {
-    let ball = memo?.get(path);
-    if (ball === undefined) {
-      const m = pieceRows.length;
+  const budget = walk.budget ?? DIFFERENCE_LPS;
+  let cut: 'stopped' | 'budget' | null = null;
+  const rec = (node: DiffNode, idx: number): Ball | null => {
+    if (node.ball === undefined) {
+      const spent = (walk.lps = (walk.lps ?? 0) + 1);
+      if (spent > budget) cut = 'budget';
+      else if (walk.stop && spent % 64 === 0 && walk.stop()) cut = 'stopped';
+      if (cut) return null;
+      const m = node.rows.length;
       const A = new Float64Array(m * dim);
       const b = new Float64Array(m);
-      pieceRows.forEach((r, i) => {
+      node.rows.forEach((r, i) => {
         A.set(r.A, i * dim);
         b[i] = r.b;
       });
       lp.lps++;
       const cheb = chebyshevBall(A, b, m, dim, new Float64Array(dim), 1e6);
-      ball = cheb.radius > minRadius ? { point: cheb.center, radius: cheb.radius } : null;
-      memo?.set(path, ball);
+      node.ball = cheb.radius > minRadius ? { point: cheb.center, radius: cheb.radius } : null;
     }
-    if (!ball) return null;
-    if (idx === cover.length) return ball;
+    if (!node.ball) return null;
+    if (idx === cover.length) return node.ball;
     const S = cover[idx];
-    const prefix: { A: number[]; b: number }[] = [];
-    for (let i = 0; i < S.m; i++) {
+    for (; node.i < S.m; node.i++) {
+      const i = node.i;
       const s = Array.from(S.A.subarray(i * dim, (i + 1) * dim));
-      // a row of the piece with the same normal and a bound no looser implies s: the flipped side is empty, no LP
-      if (impliedBy(pieceRows, s, S.b[i])) continue;
-      if (verts && maxOver(verts, s, dim) <= S.b[i] + minRadius) {
-        prefix.push({ A: s, b: S.b[i] });
-        continue;
+      if (!node.child) {
+        // a row of the piece with the same normal and a bound no looser implies s: the flipped side is empty, no LP
+        if (impliedBy(node.rows, s, S.b[i])) continue;
+        if (verts && maxOver(verts, s, dim) <= S.b[i] + minRadius) {
+          node.prefix.push({ A: s, b: S.b[i] });
+          continue;
+        }
+        const flipped = { A: s.map((x) => -x), b: -S.b[i] };
+        node.child = { rows: [...node.rows, ...node.prefix, flipped], ball: undefined, i: 0, prefix: [], child: null };
       }
-      const flipped = { A: s.map((x) => -x), b: -S.b[i] };
-      const res = rec([...pieceRows, ...prefix, flipped], idx + 1, `${path}.${i}`);
-      if (res) return res;
-      prefix.push({ A: s, b: S.b[i] });
+      const res = rec(node.child, idx + 1);
+      if (res || cut) return res;
+      node.child = null;
+      node.prefix.push({ A: s, b: S.b[i] });
     }
+    // nothing uncovered below this piece: for good (later slices only take more)
+    node.ball = null;
+    node.prefix = [];
     return null;
   };
-  return rec(rows, 0, '');
+  const found = rec(walk.root, 0);
+  return cut ?? found;
 }
 
 function maxOver(verts: Float64Array[], s: number[], dim: number): number {

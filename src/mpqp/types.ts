@@ -213,7 +213,7 @@ export interface CoverCauses {
   noRegion: number;
   /** landings that reached full-dimensional regions, none of whose facet slice held the point */
   noSlice: number;
-  /** facets whose covering stopped at its bound of 1 000 landings (the rest of the facet counts as one piece) */
+  /** facets whose covering stopped at its bound of 1 000 landings or of `DIFFERENCE_LPS` LPs in its difference walk (the rest of the facet counts as one piece) */
   guard: number;
   /** vertex-list fallbacks: a vertex whose tight rows do not have rank dim */
   fallbackRank: number;
@@ -223,9 +223,11 @@ export interface CoverCauses {
   fallbackVerts: number;
   /** vertex-list fallbacks: 1 000 landings on one facet */
   fallbackGuard: number;
+  /** regions found by the probes across the uncovered pieces of facets given up on (`repair` in solve.ts); 0 in older files */
+  repaired?: number;
 }
 
-export const COVER_CAUSES: readonly (keyof CoverCauses)[] = ['noRegion', 'noSlice', 'guard', 'fallbackRank', 'fallbackBox', 'fallbackVerts', 'fallbackGuard'];
+export const COVER_CAUSES: readonly (keyof CoverCauses)[] = ['noRegion', 'noSlice', 'guard', 'fallbackRank', 'fallbackBox', 'fallbackVerts', 'fallbackGuard', 'repaired'];
 
 /**
  * The witness keys of a run's statistics (`PartitionStats.gaveUpAt`). A file written before they
@@ -240,8 +242,8 @@ export function witnessesOf(stats: Pick<PartitionStats, 'unresolvedPieces' | 'ga
 }
 
 /** A zeroed count, or the sum of counts (missing ones count 0). */
-export function sumCauses(...list: (CoverCauses | undefined)[]): CoverCauses {
-  const out = { noRegion: 0, noSlice: 0, guard: 0, fallbackRank: 0, fallbackBox: 0, fallbackVerts: 0, fallbackGuard: 0 };
+export function sumCauses(...list: (CoverCauses | undefined)[]): Required<CoverCauses> {
+  const out: Required<CoverCauses> = { noRegion: 0, noSlice: 0, guard: 0, fallbackRank: 0, fallbackBox: 0, fallbackVerts: 0, fallbackGuard: 0, repaired: 0 };
   for (const c of list) if (c) for (const k of COVER_CAUSES) out[k] += c[k] ?? 0;
   return out;
 }

@@ -719,13 +719,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
 
 /** Every vertex of the list lies within `slack` of every (unit) row of R. */
 function verticesWithin(V: RegionVertices, R: Pick<CriticalRegion, 'A' | 'b'>, nt: number, slack: number): boolean {
-  for (let k = 0; k < V.count; k++)
-    for (let i = 0; i < R.A.length; i++) {
-      const a = R.A[i];
-      let v = -R.b[i];
-      for (let j = 0; j < nt; j++) v += a[j] * V.x[k * nt + j];
-      if (v > slack) return false;
-    }
+  for (let k = 0; k < V.count; k++) if (!regionContains(R, V.x.subarray(k * nt, (k + 1) * nt), slack)) return false;
   return true;
 }
 
@@ -837,8 +831,16 @@ function farSide(Q: Pick<CriticalRegion, 'A' | 'b' | 'chebyshev'>, a: readonly n
   for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) A[i * n + j] = Q.A[i][j];
   const c = new Float64Array(n);
   for (let j = 0; j < n; j++) c[j] = -a[j];
+  const b = Float64Array.from(Q.b);
+  // the start must be feasible: the region's Chebyshev centre, or where an exploration worker has
+  // let its ball go (regions already sent, read again by `repair`), the centre found anew
+  let x0 = Float64Array.from(Q.chebyshev.center);
+  if (x0.length !== n) {
+    lp.lps++;
+    x0 = Float64Array.from(chebyshevBall(A, b, m, n, new Float64Array(n), 1e6).center);
+  }
   lp.lps++;
-  const r = lpMaximizeFrom(c, A, Float64Array.from(Q.b), m, n, Float64Array.from(Q.chebyshev.center));
+  const r = lpMaximizeFrom(c, A, b, m, n, x0);
   return r.status === 'optimal' && -r.value >= t;
 }
 

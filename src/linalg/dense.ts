@@ -335,3 +335,37 @@ export function toRows(a: ArrayLike<number>, r: number, c: number): number[][] {
   }
   return out;
 }
+
+/** Dot2's running sum hi + lo (one per thread; see dot2Add) */
+const dot2 = { hi: 0, lo: 0 };
+/** Veltkamp's splitting constant for double: 2^27 + 1 */
+const SPLIT = 134217729;
+/** Start a Dot2 sum at x. */
+export function dot2Start(x: number): void {
+  dot2.hi = x;
+  dot2.lo = 0;
+}
+/**
+ * Add a·b to the Dot2 sum with the product's and the sum's rounding errors carried apart (TwoProduct
+ * by Dekker's splitting, TwoSum by Knuth; Ogita, Rump & Oishi 2005, "Accurate sum and dot product"):
+ * the result is as if formed in twice the working precision, then rounded once.
+ */
+export function dot2Add(a: number, b: number): void {
+  const p = a * b;
+  let t = SPLIT * a;
+  const ah = t - (t - a);
+  const al = a - ah;
+  t = SPLIT * b;
+  const bh = t - (t - b);
+  const bl = b - bh;
+  const pe = al * bl - (p - ah * bh - al * bh - ah * bl);
+  const s = dot2.hi + p;
+  const z = s - dot2.hi;
+  const se = dot2.hi - (s - z) + (p - z);
+  dot2.hi = s;
+  dot2.lo += se + pe;
+}
+/** The Dot2 sum, rounded to double. */
+export function dot2Value(): number {
+  return dot2.hi + dot2.lo;
+}

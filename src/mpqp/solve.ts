@@ -236,7 +236,7 @@ export function solvePartition(problem: MpqpProblem, options: SolveOptions = {})
       }
     }
     stats.qps++;
-    const qp = solvePointQp(problem, theta, warmQp ? warm : undefined);
+    const qp = solvePointQp(problem, theta, warmQp ? warm : undefined, false);
     if (!qp.feasible) return -1;
     const key = qp.activeSet.join(',');
     const known = byActiveSet.get(key);
@@ -848,7 +848,7 @@ function firstSeed(problem: MpqpProblem, lp: LpEngine, lower: Float64Array, uppe
   const { ntheta: nt, nz, nc } = problem;
   const center = new Float64Array(nt);
   for (let j = 0; j < nt; j++) center[j] = 0.5 * (lower[j] + upper[j]);
-  if (solvePointQp(problem, center).feasible) return center;
+  if (solvePointQp(problem, center, undefined, false).feasible) return center;
   // rows over (θ, z): −E θ + G z ≤ w, and the box on θ
   const n = nt + nz;
   const m = nc + 2 * nt;
@@ -871,7 +871,7 @@ function firstSeed(problem: MpqpProblem, lp: LpEngine, lower: Float64Array, uppe
   const p = findFeasiblePoint(A, b, m, n, start);
   if (!p) return null;
   const theta = p.slice(0, nt);
-  return solvePointQp(problem, theta).feasible ? theta : null;
+  return solvePointQp(problem, theta, undefined, false).feasible ? theta : null;
 }
 
 /** A polytope {y : A y ≤ b} in the coordinates of a facet hyperplane. */

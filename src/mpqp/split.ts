@@ -56,7 +56,7 @@ export function midPlaneCount(problem: MpqpProblem, box: Box, axis: number, samp
       const hi = box.upper[a];
       theta[a] = a === axis ? (lo + hi) / 2 : lo + (hi - lo) * radicalInverse(k, PRIMES[d++ % PRIMES.length]);
     }
-    const r = solvePointQp(problem, theta);
+    const r = solvePointQp(problem, theta, undefined, false);
     if (!r.feasible) continue;
     feasible++;
     keys.add(r.activeSet.join(','));

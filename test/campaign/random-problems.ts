@@ -143,7 +143,7 @@ function mpqpProblem(r: () => number, seed: number): { raw: any; kind: string } 
   return { raw, kind: `mpqp nt${nt} nz${nz} nc${nc} ${feats.join(',')}` };
 }
 
-let problems = 0, holes = 0, wrong = 0, claims = 0, errors = 0;
+let problems = 0, holes = 0, wrong = 0, claims = 0, errors = 0, loose = 0;
 for (let seed = first; seed < first + count; seed++) {
   const r = rng(seed * 7919 + 13);
   for (let i = 0; i < 3; i++) r();
@@ -198,6 +198,7 @@ for (let seed = first; seed < first + count; seed++) {
   const bad = h + wl + cl > 0;
   if (bad) writeFileSync(join(outDir, `bad-${seed}.json`), JSON.stringify(raw));
   holes += h; wrong += wl; claims += cl;
+  if (worst > 1e-8) loose++;
   console.log(`${seed} ${kind}: ${table.regions.length} regions ${complete ? '' : 'INCOMPLETE '}${secs} s  holes ${h} wrong ${wl} claims ${cl} worst ${worst.toExponential(1)}${bad ? '  <-- BAD' : ''}`);
 }
-if (!printOnly) console.log(`problems ${problems}, crashes ${errors}, hole points ${holes}, wrong laws ${wrong}, infeasible claimed ${claims}`);
+if (!printOnly) console.log(`problems ${problems}, crashes ${errors}, hole points ${holes}, wrong laws ${wrong}, infeasible claimed ${claims}, problems whose worst law differs by more than 1e-8: ${loose}`);

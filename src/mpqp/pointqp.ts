@@ -295,7 +295,7 @@ function refinePoint(ws: QpWorkspace, theta: ArrayLike<number>, A: number[], cho
       zMax = Math.max(zMax, Math.abs(s));
       if (Math.abs(s) > EPS * Math.abs(z[i])) done = false;
     }
-    if (done || (zMax > 0.5 * zPrev && lMax > 0.5 * lPrev)) return;
+    if (done || (zMax > 0.5 * zPrev && lMax > 0.5 * lPrev) || !Number.isFinite(zMax + lMax)) return;
     zPrev = zMax;
     lPrev = lMax;
     for (let a = 0; a < k; a++) lambda[A[a]] += r2[a];

@@ -1112,8 +1112,9 @@ function refineLaw(
         zMax = Math.max(zMax, Math.abs(s));
         if (Math.abs(s) > EPS * Math.abs(zv[i * zs + zo])) done = false;
       }
-      // stop when converged, or when a step no longer halves the corrections (rounding noise)
-      if (done || (zMax > 0.5 * zPrev && lMax > 0.5 * lPrev)) break;
+      // stop when converged, or when a step no longer halves the corrections (rounding noise), or
+      // when a correction is not finite (a near-singular M_AA: the law is left as it was)
+      if (done || (zMax > 0.5 * zPrev && lMax > 0.5 * lPrev) || !Number.isFinite(zMax + lMax)) break;
       zPrev = zMax;
       lPrev = lMax;
       for (let a = 0; a < k; a++) lv[a * ls + lf] += y[nz + a];

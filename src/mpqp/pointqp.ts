@@ -239,7 +239,7 @@ const pointRef = { n: 0, r1: new Float64Array(0), y: new Float64Array(0), r2: ne
  * dλ = M_AA⁻¹(r2 − G_A H⁻¹ r1) through the factor at hand, dz = −H⁻¹ r1 − K_A dλ; while every
  * correction is not yet within an ulp of its entry and the corrections still halve, at most 4 steps.
  * Without it, z on an ill-conditioned working set was off by up to 0.2 where |z| ≈ 2.6e6 (relative
- * 8e-8; low-gain-output-cap, against the exact KKT solution in 60 digits), with it 1e-13 relative.
+ * 8e-8; low-gain-output-cap, against the exact KKT solution in mathjs BigNumber), with it 1e-13 relative.
  * The exploration reads only the working set and passes refine = false: refining every point QP
  * cost +10 % on the 2-D 4 261-region solve (glider-2d-n40 1.00 → 1.12 s) and +4 % on boom-4d-n8,
  * and a gate on the factor's smallest scaled pivot (< 1e-4) missed working sets that needed it.

@@ -1,0 +1,143 @@
+import type { MpqpProblem } from './types.js';
+
+/**
+ * A solver for the KKT system of the equality-constrained QP on an active set A,
+ *   [H  G_Aᵀ] [dz]     [r1]
+ *   [G_A  0 ] [dλ] = − [r2],
+ * by the null-space method (Nocedal & Wright, "Numerical Optimization", §16.2; common practice):
+ * Householder QR of G_Aᵀ = [Q1 Q2] [R; 0], then
+ *   Q1ᵀdz = −R⁻ᵀ r2,  (Q2ᵀHQ2) y = −Q2ᵀ(r1 + H Q1 Q1ᵀdz),  dz = Q1 Q1ᵀdz + Q2 y,
+ *   R dλ = −Q1ᵀ(r1 + H dz).
+ * Its accuracy depends on G_A's condition number and the reduced Hessian's, not on that of
+ * M_AA = G_A H⁻¹ G_Aᵀ (about G_A's squared), so it stays usable where κ(G_A) ≈ 2e9 puts M_AA past
+ * double precision (campaign seed 1933). The factors are made once per active set (O(nz³)); each
+ * solve is O(nz²). Null when R has a zero diagonal (G_A rank-deficient) or the reduced Hessian is
+ * not positive definite.
+ */
+export interface KktSolver {
+  /** dz (nz) and dλ (k) from r1 (nz) and r2 (k); the inputs are not changed */
+  solve(r1: Float64Array, r2: Float64Array, dz: Float64Array, dl: Float64Array): void;
+}
+
+export function kktSolver(problem: MpqpProblem, A: readonly number[]): KktSolver | null {
+  const { nz, H, G } = problem;
+  const k = A.length;
+  if (k > nz) return null;
+  // Gt = G_Aᵀ (nz × k), column a = row A[a] of G; QR in place: R in the upper triangle, the
+  // Householder vectors below it (v_a with v_a[a] = 1 implied), their scalars in tau
+  const Gt = new Float64Array(nz * k);
+  for (let a = 0; a < k; a++) for (let i = 0; i < nz; i++) Gt[i * k + a] = G[A[a] * nz + i];
+  const tau = new Float64Array(k);
+  for (let a = 0; a < k; a++) {
+    let norm = 0;
+    for (let i = a; i < nz; i++) norm = Math.hypot(norm, Gt[i * k + a]);
+    if (norm === 0) return null;
+    const alpha = Gt[a * k + a];
+    const beta = alpha > 0 ? -norm : norm;
+    // v = x − beta·e1, scaled so v[0] = 1; H_a = I − tau v vᵀ
+    const v0 = alpha - beta;
+    for (let i = a + 1; i < nz; i++) Gt[i * k + a] /= v0;
+    tau[a] = (beta - alpha) / beta;
+    Gt[a * k + a] = beta;
+    for (let c = a + 1; c < k; c++) {
+      let s = Gt[a * k + c];
+      for (let i = a + 1; i < nz; i++) s += Gt[i * k + a] * Gt[i * k + c];
+      s *= tau[a];
+      Gt[a * k + c] -= s;
+      for (let i = a + 1; i < nz; i++) Gt[i * k + c] -= s * Gt[i * k + a];
+    }
+  }
+  // Q (nz × nz) explicitly: Q = H_0 H_1 … H_{k−1} applied to the identity from the last reflector
+  const Q = new Float64Array(nz * nz);
+  for (let i = 0; i < nz; i++) Q[i * nz + i] = 1;
+  for (let a = k - 1; a >= 0; a--) {
+    for (let c = 0; c < nz; c++) {
+      let s = Q[a * nz + c];
+      for (let i = a + 1; i < nz; i++) s += Gt[i * k + a] * Q[i * nz + c];
+      s *= tau[a];
+      Q[a * nz + c] -= s;
+      for (let i = a + 1; i < nz; i++) Q[i * nz + c] -= s * Gt[i * k + a];
+    }
+  }
+  const m = nz - k;
+  // HQ = H·Q, reduced Hessian Hr = Q2ᵀ H Q2 and its Cholesky factor (lower, in place)
+  const HQ = new Float64Array(nz * nz);
+  for (let i = 0; i < nz; i++)
+    for (let c = 0; c < nz; c++) {
+      let s = 0;
+      for (let l = 0; l < nz; l++) s += H[i * nz + l] * Q[l * nz + c];
+      HQ[i * nz + c] = s;
+    }
+  const L = new Float64Array(m * m);
+  for (let p = 0; p < m; p++)
+    for (let q = 0; q <= p; q++) {
+      let s = 0;
+      for (let i = 0; i < nz; i++) s += Q[i * nz + k + p] * HQ[i * nz + k + q];
+      L[p * m + q] = s;
+    }
+  for (let p = 0; p < m; p++) {
+    for (let q = 0; q < p; q++) {
+      let s = L[p * m + q];
+      for (let t = 0; t < q; t++) s -= L[p * m + t] * L[q * m + t];
+      L[p * m + q] = s / L[q * m + q];
+    }
+    let d = L[p * m + p];
+    for (let t = 0; t < p; t++) d -= L[p * m + t] * L[p * m + t];
+    if (!(d > 0)) return null;
+    L[p * m + p] = Math.sqrt(d);
+  }
+  for (let a = 0; a < k; a++) if (Gt[a * k + a] === 0) return null;
+  const y1 = new Float64Array(k);
+  const t = new Float64Array(Math.max(m, k));
+  const w = new Float64Array(nz);
+  return {
+    solve(r1, r2, dz, dl) {
+      // Rᵀ y1 = −r2 (forward substitution; R is Gt's upper triangle)
+      for (let a = 0; a < k; a++) {
+        let s = -r2[a];
+        for (let b = 0; b < a; b++) s -= Gt[b * k + a] * y1[b];
+        y1[a] = s / Gt[a * k + a];
+      }
+      // w = r1 + H Q1 y1; t = −Q2ᵀ w; L Lᵀ y2 = t
+      for (let i = 0; i < nz; i++) {
+        let s = r1[i];
+        for (let a = 0; a < k; a++) s += HQ[i * nz + a] * y1[a];
+        w[i] = s;
+      }
+      for (let p = 0; p < m; p++) {
+        let s = 0;
+        for (let i = 0; i < nz; i++) s -= Q[i * nz + k + p] * w[i];
+        t[p] = s;
+      }
+      for (let p = 0; p < m; p++) {
+        let s = t[p];
+        for (let q = 0; q < p; q++) s -= L[p * m + q] * t[q];
+        t[p] = s / L[p * m + p];
+      }
+      for (let p = m - 1; p >= 0; p--) {
+        let s = t[p];
+        for (let q = p + 1; q < m; q++) s -= L[q * m + p] * t[q];
+        t[p] = s / L[p * m + p];
+      }
+      // dz = Q1 y1 + Q2 y2
+      for (let i = 0; i < nz; i++) {
+        let s = 0;
+        for (let a = 0; a < k; a++) s += Q[i * nz + a] * y1[a];
+        for (let p = 0; p < m; p++) s += Q[i * nz + k + p] * t[p];
+        dz[i] = s;
+      }
+      // R dλ = −Q1ᵀ (r1 + H dz) (back substitution)
+      for (let i = 0; i < nz; i++) {
+        let s = r1[i];
+        for (let l = 0; l < nz; l++) s += H[i * nz + l] * dz[l];
+        w[i] = s;
+      }
+      for (let a = k - 1; a >= 0; a--) {
+        let s = 0;
+        for (let i = 0; i < nz; i++) s -= Q[i * nz + a] * w[i];
+        for (let b = a + 1; b < k; b++) s -= Gt[a * k + b] * dl[b];
+        dl[a] = s / Gt[a * k + a];
+      }
+    },
+  };
+}

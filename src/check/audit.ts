@@ -387,10 +387,6 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   const tolerance = 1e-7;
   const terminalSet = table.layout.features.includes('terminalSet');
   const data: StabilityData = { points: 0, sample: 0, vertices: 0, successorOutside: 0, worst: -Infinity, worstTheta: null, violations: 0, tolerance, recomputed: 0, terminalWeight: model.terminal, terminalSet };
-  // the stored J* is θᵀQθ + qᵀθ + r: its rounding (forming the coefficients from sums of up to
-  // nz terms, then evaluating) is at most γ_n × its absolute terms (Higham's dot-product bound)
-  const nTerms = inp.mpqp.nz + table.dims.ntheta ** 2 + table.dims.ntheta + 1;
-  const gamma = (nTerms * 2 ** -53) / (1 - nTerms * 2 ** -53);
   if (table.lean)
     // a lean table keeps no value function: the check is not done, and the report says so
     return {
@@ -401,6 +397,10 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
       witness: null,
       data: { ...data, worst: 0 },
     };
+  // the stored J* is θᵀQθ + qᵀθ + r: its rounding (forming the coefficients from sums of up to
+  // nz terms, then evaluating) is at most γ_n × its absolute terms (Higham's dot-product bound)
+  const nTerms = inp.mpqp.nz + table.dims.ntheta ** 2 + table.dims.ntheta + 1;
+  const gamma = (nTerms * 2 ** -53) / (1 - nTerms * 2 ** -53);
   const plant = plantOf(model);
   const pts: { th: number[]; region: number }[] = [];
   for (const th of seededBox(table, 4 * (inp.samples ?? 2000), (inp.seed ?? 1) + 101)) {

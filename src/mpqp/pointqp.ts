@@ -1,7 +1,7 @@
 import type { MpqpProblem } from './types.js';
-import { spdInverse, matMul, transpose, choleskyOfBlock, choleskySolveStrided, dot2Add, dot2Start, dot2Value } from '../linalg/dense.js';
+import { spdInverse, matMul, transpose, choleskyOfBlock, choleskySolveStrided, dot2Add, dot2Start } from '../linalg/dense.js';
 import { tol } from '../tol.js';
-import { kktSolver } from './kkt.js';
+import { kktSolver, refineKkt } from './kkt.js';
 
 /**
  * θ-independent data of the mpQP, computed once: H⁻¹, K = H⁻¹Gᵀ, M = G H⁻¹ Gᵀ,
@@ -231,8 +231,6 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   return { feasible: false, z, activeSet: [], lambda, iterations: it };
 }
 
-/** refinePoint's work vectors (one set per thread, grown on demand; nothing outlives a call) */
-const pointRef = { n: 0, r1: new Float64Array(0), r2: new Float64Array(0), dz: new Float64Array(0), dl: new Float64Array(0) };
 /**
  * Iterative refinement of the point QP's solution on its final working set A (as `refineLaw` in
  * region.ts does for a region's law): the KKT residuals r1 = Hz + Fθ + c + G_Aᵀλ_A and
@@ -247,57 +245,22 @@ const pointRef = { n: 0, r1: new Float64Array(0), r2: new Float64Array(0), dz: n
  */
 function refinePoint(ws: QpWorkspace, theta: ArrayLike<number>, A: number[], z: Float64Array, lambda: Float64Array): void {
   const { problem } = ws;
-  const { nz, ntheta: nt, H, F, c, G, E, w } = problem;
-  const k = A.length;
+  const { ntheta: nt, F, c, E, w } = problem;
   const solver = kktSolver(problem, A);
   if (!solver) return;
-  if (pointRef.n < nz + k) {
-    const n = 2 * (nz + k);
-    pointRef.n = n;
-    pointRef.r1 = new Float64Array(n);
-    pointRef.r2 = new Float64Array(n);
-    pointRef.dz = new Float64Array(n);
-    pointRef.dl = new Float64Array(n);
-  }
-  const { r1, r2, dz, dl } = pointRef;
-  let zPrev = Infinity;
-  let lPrev = Infinity;
-  for (let step = 0; step < 4; step++) {
-    for (let i = 0; i < nz; i++) {
-      dot2Start(c[i]);
-      for (let j = 0; j < nt; j++) dot2Add(F[i * nt + j], theta[j]);
-      for (let l = 0; l < nz; l++) dot2Add(H[i * nz + l], z[l]);
-      for (let a = 0; a < k; a++) dot2Add(G[A[a] * nz + i], lambda[A[a]]);
-      r1[i] = dot2Value();
-    }
-    for (let a = 0; a < k; a++) {
-      const ra = A[a];
-      dot2Start(-w[ra]);
-      for (let j = 0; j < nt; j++) dot2Add(-E[ra * nt + j], theta[j]);
-      for (let l = 0; l < nz; l++) dot2Add(G[ra * nz + l], z[l]);
-      r2[a] = dot2Value();
-    }
-    solver.solve(r1, r2, dz, dl);
-    let done = true;
-    let lMax = 0;
-    for (let a = 0; a < k; a++) {
-      lMax = Math.max(lMax, Math.abs(dl[a]));
-      if (Math.abs(dl[a]) > EPS * Math.abs(lambda[A[a]])) done = false;
-    }
-    let zMax = 0;
-    for (let i = 0; i < nz; i++) {
-      zMax = Math.max(zMax, Math.abs(dz[i]));
-      if (Math.abs(dz[i]) > EPS * Math.abs(z[i])) done = false;
-    }
-    if (done || (zMax > 0.5 * zPrev && lMax > 0.5 * lPrev) || !Number.isFinite(zMax + lMax)) return;
-    zPrev = zMax;
-    lPrev = lMax;
-    for (let a = 0; a < k; a++) lambda[A[a]] += dl[a];
-    for (let i = 0; i < nz; i++) z[i] += dz[i];
-  }
+  // λ of the working set packed (lambda holds one entry per row)
+  const lam = Float64Array.from(A, (r) => lambda[r]);
+  const seed1 = (i: number): void => {
+    dot2Start(c[i]);
+    for (let j = 0; j < nt; j++) dot2Add(F[i * nt + j], theta[j]);
+  };
+  const seed2 = (a: number): void => {
+    dot2Start(-w[A[a]]);
+    for (let j = 0; j < nt; j++) dot2Add(-E[A[a] * nt + j], theta[j]);
+  };
+  refineKkt(problem, A, solver, z, 1, 0, lam, 1, 0, seed1, seed2, 4);
+  A.forEach((r, a) => (lambda[r] = lam[a]));
 }
-/** the unit roundoff of double, 2^−52 */
-const EPS = 2 ** -52;
 
 /** solvePointQp's work arrays that it does not return (one set per thread, grown on demand; nothing outlives a call) */
 const qpScratch = { rhs: new Float64Array(0), isActive: new Uint8Array(0), dlam: new Float64Array(0), dz: new Float64Array(0), lam: new Float64Array(0) };

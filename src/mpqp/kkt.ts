@@ -1,5 +1,5 @@
 import type { MpqpProblem } from './types.js';
-import { dot2Add, dot2Value } from '../linalg/dense.js';
+import { choleskyInPlace, choleskySolveInPlace, dot2Add, dot2Value } from '../linalg/dense.js';
 
 /**
  * A solver for the KKT system of the equality-constrained QP on an active set A,
@@ -76,17 +76,7 @@ export function kktSolver(problem: MpqpProblem, A: readonly number[]): KktSolver
       for (let i = 0; i < nz; i++) s += Q[i * nz + k + p] * HQ[i * nz + k + q];
       L[p * m + q] = s;
     }
-  for (let p = 0; p < m; p++) {
-    for (let q = 0; q < p; q++) {
-      let s = L[p * m + q];
-      for (let t = 0; t < q; t++) s -= L[p * m + t] * L[q * m + t];
-      L[p * m + q] = s / L[q * m + q];
-    }
-    let d = L[p * m + p];
-    for (let t = 0; t < p; t++) d -= L[p * m + t] * L[p * m + t];
-    if (!(d > 0)) return null;
-    L[p * m + p] = Math.sqrt(d);
-  }
+  if (!choleskyInPlace(L, m, 0)) return null;
   for (let a = 0; a < k; a++) if (Gt[a * k + a] === 0) return null;
   const y1 = new Float64Array(k);
   const t = new Float64Array(Math.max(m, k));
@@ -110,16 +100,7 @@ export function kktSolver(problem: MpqpProblem, A: readonly number[]): KktSolver
         for (let i = 0; i < nz; i++) s -= Q[i * nz + k + p] * w[i];
         t[p] = s;
       }
-      for (let p = 0; p < m; p++) {
-        let s = t[p];
-        for (let q = 0; q < p; q++) s -= L[p * m + q] * t[q];
-        t[p] = s / L[p * m + p];
-      }
-      for (let p = m - 1; p >= 0; p--) {
-        let s = t[p];
-        for (let q = p + 1; q < m; q++) s -= L[q * m + p] * t[q];
-        t[p] = s / L[p * m + p];
-      }
+      choleskySolveInPlace(L, m, t);
       // dz = Q1 y1 + Q2 y2
       for (let i = 0; i < nz; i++) {
         let s = 0;

@@ -13,7 +13,9 @@ import { choleskyInPlace, choleskySolveInPlace, dot2Add, dot2Value } from '../li
  * M_AA = G_A H⁻¹ G_Aᵀ (about G_A's squared), so it stays usable where κ(G_A) ≈ 2e9 puts M_AA past
  * double precision (campaign seed 1933). The factors are made once per active set (O(nz³)); each
  * solve is O(nz²). Null when R has a zero diagonal (G_A rank-deficient) or the reduced Hessian is
- * not positive definite.
+ * not positive definite. Householder QR written here on typed arrays rather than ml-matrix's
+ * (a dependency already) because that works on its own matrix objects, and this runs in the
+ * per-region kernels beside the other Float64Array code; tested against mathjs's lusolve.
  */
 export interface KktSolver {
   /** dz (nz) and dλ (k) from r1 (nz) and r2 (k); the inputs are not changed */

@@ -102,6 +102,7 @@ function details(r: AuditReport, c: CheckResult<unknown>): string {
       ['successor in no region (left to invariance)', String(d.successorOutside)],
       ['worst J*(θ⁺) − J*(θ) + ℓ, relative to 1 + J*', `${fmt(d.worst)} at ${fmtTheta(names, d.worstTheta)}`],
       ['points above the tolerance', `${d.violations} (tolerance ${d.tolerance})`],
+      ['J* pairs from the online QP (the stored quadratic cannot resolve them)', String(d.recomputed ?? 0)],
       ['terminal weight / terminal set', `${d.terminalWeight} / ${d.terminalSet ? 'invariant set' : 'none'}`],
     ]);
   }

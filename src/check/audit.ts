@@ -28,6 +28,7 @@ import { thetaBlock } from '../formulation/layout.js';
 import type { SearchKind } from '../emit/arrays.js';
 import type { SearchChoice } from '../emit/index.js';
 import { steadyStateTarget } from '../formulation/target.js';
+import { solveOnlineQp } from './onlineqp.js';
 
 /** INFO: evidence reported where no pass/fail criterion applies (it never fails the audit). */
 export type Verdict = 'PASS' | 'FAIL' | 'INFO';
@@ -99,6 +100,12 @@ export interface StabilityData {
   worstTheta: number[] | null;
   violations: number;
   tolerance: number;
+  /**
+   * points whose J* pair was taken from the online QP's optimiser instead of the stored value
+   * functions: where the stored quadratic's own rounding (γ_n × its absolute terms, both sides)
+   * exceeds a tenth of the tolerance, it cannot resolve the decrease
+   */
+  recomputed: number;
   /** the ingredients the textbook argument needs (Riccati terminal weight and a terminal set) */
   terminalWeight: string;
   terminalSet: boolean;
@@ -337,20 +344,49 @@ function stageCost(model: MpcModel, table: TableFile, th: number[], u: number[])
   return l;
 }
 
-function valueAt(v: { Q: number[][]; q: number[]; r: number }, th: number[]): number {
+/** A stored value function at θ and the sum of its absolute terms (the scale of its rounding). */
+function valueAt(v: { Q: number[][]; q: number[]; r: number }, th: number[]): { J: number; terms: number } {
   let s = v.r;
+  let t = Math.abs(v.r);
   th.forEach((a, i) => {
     s += v.q[i] * a;
-    th.forEach((b, j) => (s += a * v.Q[i][j] * b));
+    t += Math.abs(v.q[i] * a);
+    th.forEach((b, j) => {
+      const x = a * v.Q[i][j] * b;
+      s += x;
+      t += Math.abs(x);
+    });
   });
-  return s;
+  return { J: s, terms: t };
+}
+
+/**
+ * J*(θ) = ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ from the online QP's optimiser z (quadprog), summed directly:
+ * its terms are of the size of the cost, not of the expanded quadratic's coefficients. Null where
+ * the online QP finds no solution.
+ */
+function valueFromOnlineQp(p: MpqpProblem, th: number[]): number | null {
+  const res = solveOnlineQp(p, th);
+  if (!res.feasible) return null;
+  const { nz, ntheta: nt, H, F, c, Y } = p;
+  const z = res.z;
+  let J = 0;
+  for (let i = 0; i < nz; i++) {
+    let hz = 0;
+    for (let j = 0; j < nz; j++) hz += H[i * nz + j] * z[j];
+    let f = c[i];
+    for (let j = 0; j < nt; j++) f += F[i * nt + j] * th[j];
+    J += z[i] * (0.5 * hz + f);
+  }
+  for (let a = 0; a < nt; a++) for (let b = 0; b < nt; b++) J += 0.5 * th[a] * Y[a * nt + b] * th[b];
+  return J;
 }
 
 export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   const { table, model } = inp;
   const tolerance = 1e-7;
   const terminalSet = table.layout.features.includes('terminalSet');
-  const data: StabilityData = { points: 0, sample: 0, vertices: 0, successorOutside: 0, worst: -Infinity, worstTheta: null, violations: 0, tolerance, terminalWeight: model.terminal, terminalSet };
+  const data: StabilityData = { points: 0, sample: 0, vertices: 0, successorOutside: 0, worst: -Infinity, worstTheta: null, violations: 0, tolerance, recomputed: 0, terminalWeight: model.terminal, terminalSet };
   if (table.lean)
     // a lean table keeps no value function: the check is not done, and the report says so
     return {
@@ -361,6 +397,10 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
       witness: null,
       data: { ...data, worst: 0 },
     };
+  // the stored J* is θᵀQθ + qᵀθ + r: its rounding (forming the coefficients from sums of up to
+  // nz terms, then evaluating) is at most γ_n × its absolute terms (Higham's dot-product bound)
+  const nTerms = inp.mpqp.nz + table.dims.ntheta ** 2 + table.dims.ntheta + 1;
+  const gamma = (nTerms * 2 ** -53) / (1 - nTerms * 2 ** -53);
   const plant = plantOf(model);
   const pts: { th: number[]; region: number }[] = [];
   for (const th of seededBox(table, 4 * (inp.samples ?? 2000), (inp.seed ?? 1) + 101)) {
@@ -380,7 +420,7 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   for (const { th, region } of pts) {
     if (!regionContains(table.regions[region], th)) continue;
     const u = applyAffine(table.regions[region].law, th);
-    const J = valueAt(table.regions[region].value!, th);
+    const Jv = valueAt(table.regions[region].value!, th);
     const parts = splitTheta(table.layout, th);
     const next = nextThetaOf(table, stepPlant(plant, parts.x!, u, parts.d), u, th);
     const rn = locateRegion(table.regions, next, tol.inside, table.box);
@@ -389,7 +429,20 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
       data.successorOutside++;
       continue;
     }
-    const Jn = valueAt(table.regions[rn].value!, next);
+    const Jnv = valueAt(table.regions[rn].value!, next);
+    let J = Jv.J;
+    let Jn = Jnv.J;
+    if (gamma * (Jv.terms + Jnv.terms) > 0.1 * tolerance * (1 + Math.abs(J))) {
+      // a thin region with a steep value function: the expanded quadratic cancels (its coefficients
+      // reach 6e9 for J* ≈ 36 on a low-gain output-limited plant), so J* comes from the online QP
+      const a = valueFromOnlineQp(inp.mpqp, th);
+      const b = valueFromOnlineQp(inp.mpqp, next);
+      if (a !== null && b !== null) {
+        J = a;
+        Jn = b;
+        data.recomputed++;
+      }
+    }
     const dec = (Jn - J + stageCost(model, table, th, u)) / (1 + Math.abs(J));
     if (dec > data.worst) {
       data.worst = dec;
@@ -402,14 +455,15 @@ export function checkStability(inp: AuditInputs): CheckResult<StabilityData> {
   // the decrease is a theorem only with a Riccati terminal weight and an invariant terminal set;
   // without them the figures are evidence, not a criterion
   const expected = terminalSet && model.terminal === 'riccati';
+  const fromQp = data.recomputed > 0 ? `; J* from the online QP at ${data.recomputed} points where the stored quadratic's own rounding cannot resolve the decrease` : '';
   const found = ok
-    ? `J*(θ⁺) − J*(θ) ≤ −ℓ(θ, u) at all ${data.points - data.successorOutside} points (worst ${fmt(data.worst)} relative to 1 + J*)`
-    : `the decrease J*(θ⁺) − J*(θ) ≤ −ℓ(θ, u) fails at ${data.violations} of ${data.points - data.successorOutside} points; worst ${fmt(data.worst)} (relative to 1 + J*) at ${fmtTheta(names, data.worstTheta)}`;
+    ? `J*(θ⁺) − J*(θ) ≤ −ℓ(θ, u) at all ${data.points - data.successorOutside} points (worst ${fmt(data.worst)} relative to 1 + J*${fromQp})`
+    : `the decrease J*(θ⁺) − J*(θ) ≤ −ℓ(θ, u) fails at ${data.violations} of ${data.points - data.successorOutside} points; worst ${fmt(data.worst)} (relative to 1 + J*) at ${fmtTheta(names, data.worstTheta)}${fromQp}`;
   return {
     name: 'Stability evidence',
     verdict: expected ? (ok ? 'PASS' : 'FAIL') : 'INFO',
     line: expected ? found : `${found} — evidence only: without a Riccati terminal weight and an invariant terminal set the decrease is not guaranteed`,
-    method: `J* from each region's stored value function, ℓ = (x − x_s)ᵀQ(x − x_s) + (u − u_s)ᵀR(u − u_s) (+ ΔuᵀSΔu) the stage cost of the problem around its steady-state target (the origin for regulation; slack penalties left out); ${data.sample} covered points of a uniform sample (seed ${(inp.seed ?? 1) + 101}) and ${data.vertices} region vertices; θ⁺ from the nominal model; points whose θ⁺ is in no region (${data.successorOutside}) are left to the invariance check. Tolerance ${tolerance} relative to 1 + J*(θ). The decrease is the textbook Lyapunov argument for MPC with a terminal weight from the Riccati equation and an invariant terminal set (e.g. Mayne, Rawlings, Rao & Scokaert 2000); terminal weight here: ${model.terminal}, terminal set: ${terminalSet ? 'yes' : 'no'}.`,
+    method: `J* from each region's stored value function (at ${data.recomputed} points, where that quadratic's own rounding — γ_n times its absolute terms, both sides — exceeded a tenth of the tolerance, from the online QP's optimiser instead: ½zᵀHz + (Fθ + c)ᵀz + ½θᵀYθ), ℓ = (x − x_s)ᵀQ(x − x_s) + (u − u_s)ᵀR(u − u_s) (+ ΔuᵀSΔu) the stage cost of the problem around its steady-state target (the origin for regulation; slack penalties left out); ${data.sample} covered points of a uniform sample (seed ${(inp.seed ?? 1) + 101}) and ${data.vertices} region vertices; θ⁺ from the nominal model; points whose θ⁺ is in no region (${data.successorOutside}) are left to the invariance check. Tolerance ${tolerance} relative to 1 + J*(θ). The decrease is the textbook Lyapunov argument for MPC with a terminal weight from the Riccati equation and an invariant terminal set (e.g. Mayne, Rawlings, Rao & Scokaert 2000); terminal weight here: ${model.terminal}, terminal set: ${terminalSet ? 'yes' : 'no'}.`,
     witness: expected && !ok ? data.worstTheta : null,
     data: { ...data, worst: Number.isFinite(data.worst) ? data.worst : 0 },
   };

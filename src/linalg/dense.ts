@@ -336,10 +336,20 @@ export function toRows(a: ArrayLike<number>, r: number, c: number): number[][] {
   return out;
 }
 
+/** Dekker's split constant 2²⁷ + 1 (Veltkamp splitting): a double into two halves of ≤ 26 bits. */
+const SPLIT = 134217729;
+/** The low part of the exact product a·b (a·b = fl(a·b) + twoProductLow(a, b, fl(a·b))), Dekker 1971; no overflow here. */
+export function twoProductLow(a: number, b: number, p: number): number {
+  let t = SPLIT * a;
+  const ah = t - (t - a);
+  const al = a - ah;
+  t = SPLIT * b;
+  const bh = t - (t - b);
+  const bl = b - bh;
+  return ah * bh - p + ah * bl + al * bh + al * bl;
+}
 /** Dot2's running sum hi + lo (one per thread; see dot2Add) */
 const dot2 = { hi: 0, lo: 0 };
-/** Veltkamp's splitting constant for double: 2^27 + 1 */
-const SPLIT = 134217729;
 /** Start a Dot2 sum at x. */
 export function dot2Start(x: number): void {
   dot2.hi = x;
@@ -352,18 +362,11 @@ export function dot2Start(x: number): void {
  */
 export function dot2Add(a: number, b: number): void {
   const p = a * b;
-  let t = SPLIT * a;
-  const ah = t - (t - a);
-  const al = a - ah;
-  t = SPLIT * b;
-  const bh = t - (t - b);
-  const bl = b - bh;
-  const pe = al * bl - (p - ah * bh - al * bh - ah * bl);
   const s = dot2.hi + p;
   const z = s - dot2.hi;
   const se = dot2.hi - (s - z) + (p - z);
   dot2.hi = s;
-  dot2.lo += se + pe;
+  dot2.lo += se + twoProductLow(a, b, p);
 }
 /** The Dot2 sum, rounded to double. */
 export function dot2Value(): number {

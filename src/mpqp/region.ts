@@ -1,11 +1,12 @@
 import type { CriticalRegion, FacetInfo, MpqpProblem } from './types.js';
 import { qpWorkspace, rowNonzeros, sortRows } from './pointqp.js';
-import { dot2Add, dot2Start, dot2Value, spdInverse, spdScratch } from '../linalg/dense.js';
+import { dot2Start, spdInverse, spdScratch } from '../linalg/dense.js';
 import { chebyshevBall, lpMaximizeFrom, lpReferenceMasked } from '../lp/kernel.js';
 import { tol } from '../tol.js';
 import { farkasBound, parallelBound, prefilterScratch } from './prefilter.js';
 import { maxVertexDim, vertexPass, type VertexSet } from './vertices.js';
 import { Arena } from '../util/arena.js';
+import { kktSolver, refineKkt } from './kkt.js';
 
 /**
  * buildRegion's work arrays, grown on demand (one set per thread): every entry read is written in
@@ -217,7 +218,7 @@ export function buildRegion(problem: MpqpProblem, activeSet: number[], lp: LpEng
     } else if (nt === 0) for (let a = 0; a < k; a++) sc -= K[ri + activeSet[a]] * lc[a];
     zc[i] = sc;
   }
-  if (refine) refineLaw(problem, ws.Hinv, ws.K, activeSet, inv!, Lth, lc, Zth, zc);
+  if (refine) refineLaw(problem, activeSet, Lth, lc, Zth, zc);
   // half-spaces, normalised and written straight into the rows kept (`Af`, `bf`, `kinds`, `rowOf`):
   // a row implied by the box alone is dropped at once (no LP), so only the rows kept are stored and
   // only the region's facets become arrays of their own (per-row arrays were most of the garbage)
@@ -988,8 +989,6 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
 const REFINE_CONDITION = 1e4;
 /** the most refinement steps per right-hand side */
 const REFINE_STEPS = 5;
-/** the unit roundoff of double, 2^−52 (one unit in the last place of 1) */
-const EPS = 2 ** -52;
 /** laws that refineLaw changed and the steps it applied, in this thread so far (for tests and measurement) */
 export const lawRefinement = { laws: 0, steps: 0 };
 /**
@@ -1014,114 +1013,32 @@ function scaledCondition(M: Float64Array, inv: Float64Array, k: number): number 
   }
   return nm * ni;
 }
-/** refineLaw's work vectors (one set per thread, grown on demand; nothing outlives a call) */
-const refWork = { n: 0, r1: new Float64Array(0), y: new Float64Array(0), r2: new Float64Array(0), dz: new Float64Array(0) };
 /**
- * Iterative refinement of a region's affine law (common practice for a system solved through a
- * less accurate factor; Golub & Van Loan, "Matrix Computations", on iterative improvement). The law
- * comes from M_AA = G_A H⁻¹ G_Aᵀ, whose condition number is about G_A's squared: where the active
- * rows are nearly dependent — an output limit at every step of a plant with a small C·B makes G_A a
+ * Iterative refinement of a region's affine law (`refineKkt`, kkt.ts), column by column: the nθ θ
+ * columns (f = F's column, e = E_A's), then the constant (f = c, e = w_A). The law comes from
+ * M_AA = G_A H⁻¹ G_Aᵀ, whose condition number is about G_A's squared: where the active rows are
+ * nearly dependent — an output limit at every step of a plant with a small C·B makes G_A a
  * triangular Toeplitz matrix with a small diagonal — the law's last five or six digits went wrong
  * (campaign seed 885: 1e-5 against the exact solution) although every factor was well defined.
- * For each of the nθ + 1 right-hand sides (the θ columns, then the constant) the KKT residuals
- *   r1 = H z + f + G_Aᵀ λ (stationarity),  r2 = G_A z − e_A (the active rows tight)
- * are formed in twice the working precision (Dot2, linalg/dense.ts: a residual formed in double would be
- * rounding noise of the size the refinement is to remove), and the correction solves the KKT
- * system with them through the factors at hand:
- *   dλ = M_AA⁻¹ (r2 − G_A H⁻¹ r1),  dz = −H⁻¹ r1 − H⁻¹ G_Aᵀ dλ.
- * A step is applied unless every entry's correction is within one unit in the last place of the
- * entry, or the step no longer halves the largest corrections of z and of λ (rounding noise); at
- * most REFINE_STEPS steps. Only laws whose M_AA is ill-conditioned are refined (REFINE_CONDITION):
- * every other law keeps its bits.
+ * The corrections come from the null-space method (QR of G_Aᵀ, kkt.ts), whose accuracy depends on
+ * G_A's condition number, not M_AA's: through M_AA⁻¹ itself they could not converge where
+ * κ(G_A) ≈ 2e9 puts κ(M_AA) past 1/u (campaign seed 1933: the law stayed 3 % off). At most
+ * REFINE_STEPS steps per column. Only laws whose M_AA is ill-conditioned are refined
+ * (REFINE_CONDITION): every other law keeps its bits.
  */
-function refineLaw(
-  problem: MpqpProblem,
-  Hinv: Float64Array,
-  K: Float64Array,
-  A: number[],
-  inv: Float64Array,
-  Lth: Float64Array,
-  lc: Float64Array,
-  Zth: Float64Array,
-  zc: Float64Array,
-): void {
-  const { nz, nc, ntheta: nt, H, F, c, G, E, w } = problem;
-  const k = A.length;
-  if (refWork.n < nz + k) {
-    const n = 2 * (nz + k);
-    refWork.n = n;
-    refWork.r1 = new Float64Array(n);
-    refWork.y = new Float64Array(n);
-    refWork.r2 = new Float64Array(n);
-    refWork.dz = new Float64Array(n);
-  }
-  const { r1, y, r2, dz } = refWork;
+function refineLaw(problem: MpqpProblem, A: number[], Lth: Float64Array, lc: Float64Array, Zth: Float64Array, zc: Float64Array): void {
+  const { ntheta: nt, F, c, E, w } = problem;
+  const solver = kktSolver(problem, A);
+  if (!solver) return;
   let changed = false;
   for (let j = 0; j <= nt; j++) {
-    const cst = j === nt;
-    // column j of the law: z_i at zv[i·zs + zo], λ_a at lv[a·ls + lo]
-    const zv = cst ? zc : Zth;
-    const zs = cst ? 1 : nt;
-    const zo = cst ? 0 : j;
-    const lv = cst ? lc : Lth;
-    const ls = cst ? 1 : nt;
-    const lf = cst ? 0 : j;
-    let zPrev = Infinity;
-    let lPrev = Infinity;
-    for (let step = 0; step < REFINE_STEPS; step++) {
-      // residuals in twice the working precision (Dot2), rounded once
-      for (let i = 0; i < nz; i++) {
-        dot2Start(cst ? c[i] : F[i * nt + j]);
-        for (let l = 0; l < nz; l++) dot2Add(H[i * nz + l], zv[l * zs + zo]);
-        for (let a = 0; a < k; a++) dot2Add(G[A[a] * nz + i], lv[a * ls + lf]);
-        r1[i] = dot2Value();
-      }
-      for (let a = 0; a < k; a++) {
-        const o = A[a] * nz;
-        dot2Start(-(cst ? w[A[a]] : E[A[a] * nt + j]));
-        for (let l = 0; l < nz; l++) dot2Add(G[o + l], zv[l * zs + zo]);
-        r2[a] = dot2Value();
-      }
-      // y = H⁻¹ r1; r2 ← r2 − G_A y; dλ = M_AA⁻¹ r2 (into y's tail); dz = −y − K_A dλ
-      for (let i = 0; i < nz; i++) {
-        let s = 0;
-        for (let l = 0; l < nz; l++) s += Hinv[i * nz + l] * r1[l];
-        y[i] = s;
-      }
-      for (let a = 0; a < k; a++) {
-        const o = A[a] * nz;
-        let s = r2[a];
-        for (let l = 0; l < nz; l++) s -= G[o + l] * y[l];
-        r2[a] = s;
-      }
-      // converged: every entry's correction within one unit in the last place of the entry
-      let done = true;
-      let lMax = 0;
-      for (let a = 0; a < k; a++) {
-        let s = 0;
-        for (let b = 0; b < k; b++) s += inv[a * k + b] * r2[b];
-        y[nz + a] = s;
-        lMax = Math.max(lMax, Math.abs(s));
-        if (Math.abs(s) > EPS * Math.abs(lv[a * ls + lf])) done = false;
-      }
-      let zMax = 0;
-      for (let i = 0; i < nz; i++) {
-        let s = -y[i];
-        for (let a = 0; a < k; a++) s -= K[i * nc + A[a]] * y[nz + a];
-        dz[i] = s;
-        zMax = Math.max(zMax, Math.abs(s));
-        if (Math.abs(s) > EPS * Math.abs(zv[i * zs + zo])) done = false;
-      }
-      // stop when converged, or when a step no longer halves the corrections (rounding noise), or
-      // when a correction is not finite (a near-singular M_AA: the law is left as it was)
-      if (done || (zMax > 0.5 * zPrev && lMax > 0.5 * lPrev) || !Number.isFinite(zMax + lMax)) break;
-      zPrev = zMax;
-      lPrev = lMax;
-      for (let a = 0; a < k; a++) lv[a * ls + lf] += y[nz + a];
-      for (let i = 0; i < nz; i++) zv[i * zs + zo] += dz[i];
-      lawRefinement.steps++;
-      changed = true;
-    }
+    // column j of the law (the constant after the θ columns); f and e are that column of F, E or c, w
+    const steps =
+      j === nt
+        ? refineKkt(problem, A, solver, zc, 1, 0, lc, 1, 0, (i) => dot2Start(c[i]), (a) => dot2Start(-w[A[a]]), REFINE_STEPS)
+        : refineKkt(problem, A, solver, Zth, nt, j, Lth, nt, j, (i) => dot2Start(F[i * nt + j]), (a) => dot2Start(-E[A[a] * nt + j]), REFINE_STEPS);
+    lawRefinement.steps += steps;
+    if (steps > 0) changed = true;
   }
   if (changed) lawRefinement.laws++;
 }

@@ -1,4 +1,5 @@
 /** Points in, evaluations out: the text formats of `tessera evaluate`, pure (the caller reads files). */
+import { twoProductLow } from '../linalg/dense.js';
 import { InputError } from '../io/input-error.js';
 import { applyAffine, evaluateTable } from './table.js';
 import type { TableFile } from './format.js';
@@ -173,18 +174,6 @@ function asBytes(input: string | Uint8Array): Uint8Array {
 /** 10⁰ … 10²², every one exact in double (Clinger's fast path). */
 const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
 
-/** Dekker's split constant 2²⁷ + 1 (Veltkamp splitting): a double into two halves of ≤ 26 bits. */
-const SPLIT = 134217729;
-/** The low part of the exact product a·b (a·b = fl(a·b) + twoProductLow(a, b, fl(a·b))), Dekker 1971; no overflow here. */
-function twoProductLow(a: number, b: number, p: number): number {
-  let t = SPLIT * a;
-  const ah = t - (t - a);
-  const al = a - ah;
-  t = SPLIT * b;
-  const bh = t - (t - b);
-  const bl = b - bh;
-  return ah * bh - p + ah * bl + al * bh + al * bl;
-}
 const bits = new Float64Array(1);
 const bitsU32 = new Uint32Array(bits.buffer);
 /** The next double above the positive finite x (little-endian words, as everywhere in this file). */

@@ -13,6 +13,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser } from 'playwright-core';
 import { root, solved } from '../helpers/solved.js';
 import { tableToJson, regionContains } from '../../src/table/table.js';
+import { evaluatePoints } from '../../src/index.js';
+import { qpReference } from '../helpers/reference.js';
+import * as math from 'mathjs';
 
 const cli = join(root, 'dist', 'src', 'cli', 'main.js');
 const dir = mkdtempSync(join(tmpdir(), 'tessera-audit-'));
@@ -87,6 +90,79 @@ describe('tessera audit', { timeout: 180000 }, () => {
     expect(r.status, r.stderr).toBe(0);
     expect(r.stdout).toMatch(/\| 4\. Recursive feasibility \(invariance\) \| PASS \| PROVEN/);
     expect(r.stdout).toMatch(/\| 5\. Stability evidence \| PASS \|/);
+  });
+
+  it('a steep value function whose stored quadratic cancels: J* from the online QP there, stability PASS, and the decrease holds in exact arithmetic', async () => {
+    // low-gain-terminal-set.json (our own): a plant whose output answers the input with C·B = −0.019,
+    // an output limit, a Riccati terminal weight and the invariant terminal set, so the decrease of
+    // J* is a theorem (Mayne, Rawlings, Rao & Scokaert 2000). Where every output limit is active the
+    // stored J* = θᵀQθ + qᵀθ + r has Q entries near 6e9 for J* ≈ 36: before the fallback the audit
+    // said FAIL at 8 of 5 691 points (worst 6.4e-5 against the tolerance 1e-7), all within that
+    // quadratic's own rounding.
+    const file = join(root, 'test', 'fixtures', 'audit', 'low-gain-terminal-set.json');
+    const { table, mpqp } = solved(file);
+    const t = join(dir, 'low-gain.json');
+    writeFileSync(t, tableToJson(table));
+    const r = await run([t, '--json']);
+    expect(r.status, r.stderr).toBe(0);
+    const rep = JSON.parse(r.stdout);
+    expect(rep.stability.verdict).toBe('PASS');
+    expect(rep.stability.data.recomputed).toBeGreaterThan(0);
+    expect(rep.stability.data.worst).toBeLessThanOrEqual(1e-7);
+    // reference: J* from quadprog's optimiser summed in 60-digit mathjs BigNumber arithmetic (exact
+    // conversion of each double), the plant step and the stage cost likewise, at the audit's worst
+    // point and at seeded covered points: the decrease J*(θ⁺) − J*(θ) + ℓ ≤ 1e-7 (1 + J*)
+    const bn = math.create(math.all, { number: 'BigNumber', precision: 60 });
+    const big = (x: number): math.BigNumber => {
+      if (x === 0) return bn.bignumber(0);
+      const dv = new DataView(new ArrayBuffer(8));
+      dv.setFloat64(0, x);
+      const hi = dv.getUint32(0);
+      const ex = (hi >>> 20) & 0x7ff;
+      let m = (BigInt(hi & 0xfffff) << 32n) | BigInt(dv.getUint32(4));
+      if (ex) m |= 1n << 52n;
+      const v = bn.multiply(bn.bignumber(m.toString()), bn.pow(bn.bignumber(2), (ex || 1) - 1075)) as math.BigNumber;
+      return hi >>> 31 ? (bn.unaryMinus(v) as math.BigNumber) : v;
+    };
+    const { nz, ntheta: nt } = mpqp;
+    const exactJ = (th: number[]): number => {
+      const q = qpReference(mpqp, th);
+      expect(q.feasible).toBe(true);
+      let J = bn.bignumber(0);
+      for (let i = 0; i < nz; i++) {
+        let hz = bn.bignumber(0);
+        for (let j = 0; j < nz; j++) hz = bn.add(hz, bn.multiply(big(mpqp.H[i * nz + j]), big(q.z[j]))) as math.BigNumber;
+        let f = big(mpqp.c[i]);
+        for (let j = 0; j < nt; j++) f = bn.add(f, bn.multiply(big(mpqp.F[i * nt + j]), big(th[j]))) as math.BigNumber;
+        J = bn.add(J, bn.multiply(big(q.z[i]), bn.add(bn.multiply(bn.bignumber(0.5), hz), f))) as math.BigNumber;
+      }
+      for (let a = 0; a < nt; a++) for (let b = 0; b < nt; b++) J = bn.add(J, bn.multiply(bn.bignumber(0.5), bn.multiply(big(mpqp.Y[a * nt + b]), bn.multiply(big(th[a]), big(th[b]))))) as math.BigNumber;
+      return Number(J);
+    };
+    const spec = JSON.parse(readFileSync(file, 'utf8'));
+    const [[a11, a12], [a21, a22]] = spec.plant.A;
+    const [[b1], [b2]] = spec.plant.B;
+    const q11 = spec.weights.state[0][0];
+    const r11 = spec.weights.input[0][0];
+    let s = 5;
+    const rnd = (): number => ((s = (s * 16807) % 2147483647), s / 2147483647);
+    const pts: number[][] = [rep.stability.data.worstTheta];
+    for (let k = 0; k < 150; k++) pts.push([mpqp.box.lower[0] + rnd() * (mpqp.box.upper[0] - mpqp.box.lower[0]), mpqp.box.lower[1] + rnd() * (mpqp.box.upper[1] - mpqp.box.lower[1])]);
+    let checked = 0;
+    for (const th of pts) {
+      const [e] = evaluatePoints(table, [th]);
+      if (e.region < 0) continue;
+      const u = e.u![0];
+      const next = [a11 * th[0] + a12 * th[1] + b1 * u, a21 * th[0] + a22 * th[1] + b2 * u];
+      const [en] = evaluatePoints(table, [next]);
+      if (en.region < 0) continue;
+      const J = exactJ(th);
+      // ℓ = xᵀQx + uᵀRu with the problem's weights (state weight diag(q11, 0))
+      const dec = (exactJ(next) - J + q11 * th[0] * th[0] + r11 * u * u) / (1 + Math.abs(J));
+      expect(dec).toBeLessThanOrEqual(1e-7);
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(50);
   });
 
   it('exit 1 on the short-horizon table, with a θ witness for the failed check', async () => {

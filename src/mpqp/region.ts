@@ -980,9 +980,10 @@ function facetRows2d(Af: Float64Array, bf: Float64Array, m: number, lo: Float64A
 /**
  * The law of a region whose M_AA has a scaled condition number above this is refined (refineLaw).
  * Laws against the exact KKT solution (50 digits, mathjs BigNumber) at every region's Chebyshev
- * centre, worst relative error without refinement / with this gate / with every law refined
- * (2026-12-05): campaign seed 885 1.6e-7 / 5.5e-13 / 9.8e-15; crane-trolley-4d 3.5e-10 / 6.1e-13
- * (444 of 2 411 laws refined); two-carts-4d 4.5e-10 / 1.1e-11 / 9e-13. Refining every law doubled
+ * centre, worst relative error without refinement / with this gate (2026-12-05, null-space
+ * corrections): campaign seed 885 1.6e-7 / 5.5e-13; crane-trolley-4d 3.5e-10 / 1.4e-13 (444 of
+ * 2 411 laws refined); two-carts-4d 4.5e-10 / 1.1e-11 (refining every law, with corrections through
+ * M_AA⁻¹: 9e-13); seed 1933 3 % / 2.4e-14. Refining every law doubled
  * the 2-D 4 261-region solve (1.05 → 1.93–2.26 s); with the gate it refines none there and the
  * times are within their spread (boom-4d-n8: 96 laws, 1.41 against 1.34–1.41 s).
  */

@@ -372,3 +372,47 @@ export function dot2Add(a: number, b: number): void {
 export function dot2Value(): number {
   return dot2.hi + dot2.lo;
 }
+
+/**
+ * Incremental Householder QR of a matrix given column by column (common practice: Golub & Van Loan,
+ * "Matrix Computations", §5.1–5.2): reflector a is row a of `v` (row stride n; entries a + 1 … n − 1
+ * hold the vector below its implied leading 1, entry a holds R_aa), its scalar in tau[a]. Apply
+ * reflectors 0 … k − 1 to x (entries xo … xo + n − 1) in place, H_a = I − tau_a v_a v_aᵀ, and return ‖x[k … n)‖₂:
+ * the distance from x to the span of the k columns factored so far, in the Euclidean metric, as
+ * accurate as the orthogonal factor (backward stable; no normal equations, so the columns' condition
+ * number is not squared). O(k·n). Row k of `v` itself may be x (xo = k·n).
+ */
+export function householderReduce(v: Float64Array, tau: Float64Array, n: number, k: number, x: Float64Array, xo = 0): number {
+  for (let a = 0; a < k; a++) {
+    const t = tau[a];
+    if (t === 0) continue;
+    const o = a * n;
+    let s = x[xo + a];
+    for (let i = a + 1; i < n; i++) s += v[o + i] * x[xo + i];
+    s *= t;
+    x[xo + a] -= s;
+    for (let i = a + 1; i < n; i++) x[xo + i] -= s * v[o + i];
+  }
+  let ss = 0;
+  for (let i = k; i < n; i++) ss += x[xo + i] * x[xo + i];
+  return Math.sqrt(ss);
+}
+
+/**
+ * Turn row k of `v` (a column already reduced by reflectors 0 … k − 1 with householderReduce) into
+ * reflector k, whose tail norm `norm` the caller has from householderReduce: x[k …] ↦ (β, 0, …), β = −sign(x_k)·norm,
+ * v = (x − βe_k)/(x_k − β) below its leading 1, tau = (β − x_k)/β. A zero tail gives the identity (tau = 0).
+ */
+export function householderForm(v: Float64Array, tau: Float64Array, n: number, k: number, norm: number): void {
+  const o = k * n;
+  if (norm === 0) {
+    tau[k] = 0;
+    return;
+  }
+  const alpha = v[o + k];
+  const beta = alpha > 0 ? -norm : norm;
+  const v0 = alpha - beta;
+  for (let i = k + 1; i < n; i++) v[o + i] /= v0;
+  tau[k] = (beta - alpha) / beta;
+  v[o + k] = beta;
+}

@@ -1,5 +1,5 @@
 import type { MpqpProblem } from './types.js';
-import { spdInverse, matMul, transpose, choleskyOfBlock, choleskySolveStrided, dot2Add, dot2Start } from '../linalg/dense.js';
+import { spdInverse, matMul, transpose, choleskyOfBlock, choleskySolveStrided, dot2Add, dot2Start, householderReduce, householderForm } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 import { kktSolver, refineKkt } from './kkt.js';
 
@@ -81,7 +81,11 @@ export interface PointQpResult {
  * start at the unconstrained minimiser, add the most violated row, take full or partial steps
  * (dropping rows whose multiplier would turn negative), until no row is violated. The working
  * set stays linearly independent, so the result satisfies LICQ. Each step solves the small
- * system M_AA dλ = −M_Ap on the precomputed M = G H⁻¹ Gᵀ. With `refine` (the default) the
+ * system M_AA dλ = −M_Ap on the precomputed M = G H⁻¹ Gᵀ. Where M_AA is too ill-conditioned for
+ * that to be trusted, the two decisions that depend on it are made from a Householder QR of G_Aᵀ
+ * (kept row by row as A changes, formed only when first needed): whether the row to add is in
+ * span(G_A), and, for such a row with no multiplier to drop, whether θ is infeasible (a Farkas
+ * certificate, z-independent; without one, z is re-solved on A before θ is called infeasible). With `refine` (the default) the
  * returned z and λ are refined on the final working set (refinePoint); callers that read only the
  * working set and feasibility pass false.
  */
@@ -130,12 +134,46 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
   const chol = factorScratch.l;
   const piv = factorScratch.piv;
   let valid = 0;
+  // G_Aᵀ column by column in Householder form (row a of qv = reflector a, of G row active[a]), for the
+  // rank decision and the infeasibility certificate; rows 0 … qrValid − 1 are current (a drop keeps
+  // the reflectors above it, as `valid`)
+  if (qrScratch.tau.length < stride) {
+    qrScratch.v = new Float64Array(stride * nz);
+    qrScratch.tau = new Float64Array(stride);
+  }
+  const qv = qrScratch.v;
+  const qtau = qrScratch.tau;
+  let qrValid = 0;
+  // z was made the solution on the working set by the KKT solver and has not moved since
+  let zSolved = false;
   let it = 0;
+  const { G } = problem;
+  const { ptr, idx, val } = rowNonzeros(problem);
+  // ‖G_p‖² of the last reduceP
+  let rowSq = 0;
+  // G_p reduced by the reflectors of A = active[0 … k − 1] into row k of qv (the reflectors of rows
+  // qrValid … k − 1 formed first); returns G_p's distance to span(G_A). k ≤ nz (qv has nz + 1 rows).
+  const reduceP = (p: number, k: number): number => {
+    for (let a = qrValid; a < k; a++) {
+      const o = a * nz;
+      const g = active[a] * nz;
+      for (let i = 0; i < nz; i++) qv[o + i] = G[g + i];
+      householderForm(qv, qtau, nz, a, householderReduce(qv, qtau, nz, a, qv, o));
+    }
+    qrValid = k;
+    const o = k * nz;
+    let gg = 0;
+    for (let i = 0; i < nz; i++) {
+      const x = G[p * nz + i];
+      qv[o + i] = x;
+      gg += x * x;
+    }
+    rowSq = gg;
+    return householderReduce(qv, qtau, nz, k, qv, o);
+  };
   // G_i z − rhs_i over G_i's nonzeros, in column order: the same partial sums as over every column
   // (a zero product changes at most the sign of a zero sum), so the same value unless it ends at
   // zero, which is redone over every column; likewise when z is not finite (0·∞ is NaN)
-  const { G } = problem;
-  const { ptr, idx, val } = rowNonzeros(problem);
   let zFinite = true;
   const checkZ = (): void => {
     zFinite = true;
@@ -194,7 +232,35 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
         for (let a = 0; a < k; a++) s -= K[i * nc + active[a]] * dlam[a];
         dz[i] = s;
       }
-      const dependent = q <= tol.rank * (1 + M[p * nc + p]);
+      // Rank decision. q is G_p's squared distance to span(G_A) in the metric of M = G H⁻¹ Gᵀ, and p
+      // counts as dependent when q ≤ tol.rank·(1 + M_pp). q is formed through M_AA, whose condition
+      // number is about κ(G_A)²: its rounding error is up to about (k+1)ε(√M_pp + ‖L_AA‖_F‖dλ‖)²
+      // (Cholesky's backward error |ΔM| ≤ γ_{k+1}|L||Lᵀ|, Higham, "Accuracy and Stability of Numerical
+      // Algorithms", Thm 10.3, carried to the Schur complement M_pp − M_pA M_AA⁻¹ M_Ap; ‖L_AA‖_F² is
+      // trace M_AA), taken 10 times for the solve's own rounding. Where q is within that of the
+      // threshold the test cannot be trusted (seed 1933, κ(G_A) ≈ 2e9: q = 4.7e-10 against 1.1e-10
+      // for a 7th row in 6 unknowns, with the bound at 1e-4), and the decision is made in the row
+      // space instead: p is dependent when its squared Euclidean distance ρ² to span(G_A) is at most
+      // tol.rank·‖G_p‖², ρ from the Householder QR of G_Aᵀ (reduceP), as accurate as the orthogonal
+      // factor. Elsewhere the decision is q's, as before.
+      const thr = tol.rank * (1 + M[p * nc + p]);
+      let dependent = q <= thr;
+      let reduced = false;
+      let rho = 0;
+      if (k > 0) {
+        let tr = 0;
+        let dd = 0;
+        for (let a = 0; a < k; a++) {
+          tr += M[active[a] * nc + active[a]];
+          dd += dlam[a] * dlam[a];
+        }
+        const e = Math.sqrt(M[p * nc + p]) + Math.sqrt(tr * dd);
+        if (Math.abs(q - thr) <= 10 * (k + 1) * EPS * e * e && k <= nz) {
+          rho = reduceP(p, k);
+          reduced = true;
+          dependent = rho * rho <= tol.rank * rowSq;
+        }
+      }
       // partial step: the first active multiplier to reach zero
       let t2 = Infinity;
       let drop = -1;
@@ -210,12 +276,43 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
       checkZ();
       const sp = slack(p);
       const t1 = dependent ? Infinity : sp / q;
-      if (!Number.isFinite(t1) && drop < 0) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+      if (!Number.isFinite(t1) && drop < 0) {
+        // p is in span(G_A) and no multiplier blocks. The dual method calls θ infeasible here, which
+        // holds when z is on A's equalities; but the steps that reached z came through M_AA, whose
+        // condition number is κ(G_A)²: where that is past 1/u, z can be far off them (seed 1933: u(0)
+        // −52.5 for −60.6 at the vertex, and a satisfied row looked violated by 0.05). So the decision
+        // is made without z: Farkas' lemma (common practice) on G_p = Σ μ_a G_a from the QR of G_Aᵀ
+        // (R μ = Q1ᵀG_pᵀ): with every μ_a ≤ 0, G_a z ≤ rhs_a on A forces G_p z ≥ Σ μ_a rhs_a, so
+        // Σ μ_a rhs_a − rhs_p > tol.primal proves no z satisfies A and p (O(k²)).
+        if (k <= nz && !reduced) {
+          rho = reduceP(p, k);
+          reduced = true;
+        }
+        if (k <= nz && farkasInfeasible(qv, nz, k, active, rhs, p)) return { feasible: false, z, activeSet: [], lambda, iterations: it };
+        // Otherwise (no certificate), z and λ_A are made the solution on A by the null-space KKT solver
+        // (refinePoint, O(nz³)) and p's slack read again; if p then holds, the dual method goes on from
+        // there. Only when no step has been taken for p (λ_p = 0, so (z, λ_A) is A's KKT pair) and at
+        // most once per z (a step clears `zSolved`).
+        if (!zSolved && lambda[p] === 0 && k > 0 && refinePoint(ws, theta, active, z, lambda)) {
+          zSolved = true;
+          checkZ();
+          if (!(slack(p) > tol.primal)) break;
+        }
+        return { feasible: false, z, activeSet: [], lambda, iterations: it };
+      }
       const t = Math.min(t1, t2);
-      if (Number.isFinite(t1)) for (let i = 0; i < nz; i++) z[i] += t * dz[i];
+      if (Number.isFinite(t1)) {
+        for (let i = 0; i < nz; i++) z[i] += t * dz[i];
+        zSolved = false;
+      }
       for (let a = 0; a < k; a++) lambda[active[a]] += t * dlam[a];
       lambda[p] += t;
       if (t1 <= t2) {
+        // p joins A; when G_p was reduced, its reflector completes the QR (else the QR is rows 0 … qrValid − 1 still)
+        if (reduced) {
+          householderForm(qv, qtau, nz, k, rho);
+          qrValid = k + 1;
+        }
         active.push(p);
         isActive[p] = 1;
         break;
@@ -226,6 +323,7 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
       isActive[r] = 0;
       active.splice(drop, 1);
       if (valid > drop) valid = drop;
+      if (qrValid > drop) qrValid = drop;
     }
   }
   return { feasible: false, z, activeSet: [], lambda, iterations: it };
@@ -243,11 +341,11 @@ export function solvePointQp(problem: MpqpProblem, theta: ArrayLike<number>, sta
  * cost +10 % on the 2-D 4 261-region solve (glider-2d-n40 1.00 → 1.12 s) and +4 % on boom-4d-n8,
  * and a gate on the factor's smallest scaled pivot (< 1e-4) missed working sets that needed it.
  */
-function refinePoint(ws: QpWorkspace, theta: ArrayLike<number>, A: number[], z: Float64Array, lambda: Float64Array): void {
+function refinePoint(ws: QpWorkspace, theta: ArrayLike<number>, A: number[], z: Float64Array, lambda: Float64Array): boolean {
   const { problem } = ws;
   const { ntheta: nt, F, c, E, w } = problem;
   const solver = kktSolver(problem, A);
-  if (!solver) return;
+  if (!solver) return false;
   // λ of the working set packed (lambda holds one entry per row)
   const lam = Float64Array.from(A, (r) => lambda[r]);
   const seed1 = (i: number): void => {
@@ -260,10 +358,46 @@ function refinePoint(ws: QpWorkspace, theta: ArrayLike<number>, A: number[], z: 
   };
   refineKkt(problem, A, solver, z, 1, 0, lam, 1, 0, seed1, seed2, 4);
   A.forEach((r, a) => (lambda[r] = lam[a]));
+  return true;
 }
+
+/** the machine epsilon of double, 2^−52 (one unit in the last place of 1; twice the unit roundoff u) */
+const EPS = 2 ** -52;
 
 /** solvePointQp's work arrays that it does not return (one set per thread, grown on demand; nothing outlives a call) */
 const qpScratch = { rhs: new Float64Array(0), isActive: new Uint8Array(0), dlam: new Float64Array(0), dz: new Float64Array(0), lam: new Float64Array(0) };
+
+/** solvePointQp's Householder reflectors of G_Aᵀ (one set per thread, grown on demand; nothing outlives a call) */
+const qrScratch = { v: new Float64Array(0), tau: new Float64Array(0), mu: new Float64Array(0) };
+
+/**
+ * Farkas certificate that the rows A ∪ {p} admit no z, for a row p in span(G_A): G_p = Σ μ_a G_a with
+ * R μ = Q1ᵀG_pᵀ (back substitution; qv as solvePointQp leaves it: column a of R in entries 0 … a of
+ * row a, Q1ᵀG_pᵀ in entries 0 … k − 1 of row k). When every μ_a ≤ 0 (to tol.dual relative to the
+ * largest), any z with G_A z ≤ rhs_A has G_p z ≥ Σ μ_a rhs_a, so Σ μ_a rhs_a − rhs_p > tol.primal
+ * (p violated by more than the feasibility tolerance, as the main loop counts it) proves θ infeasible.
+ * False when that does not hold (or R has a zero pivot): no certificate.
+ */
+function farkasInfeasible(qv: Float64Array, nz: number, k: number, active: readonly number[], rhs: Float64Array, p: number): boolean {
+  if (qrScratch.mu.length < k) qrScratch.mu = new Float64Array(2 * k);
+  const mu = qrScratch.mu;
+  const o = k * nz;
+  let big = 0;
+  for (let a = k - 1; a >= 0; a--) {
+    let s = qv[o + a];
+    for (let c = a + 1; c < k; c++) s -= qv[c * nz + a] * mu[c];
+    const r = qv[a * nz + a];
+    if (r === 0) return false;
+    mu[a] = s / r;
+    big = Math.max(big, Math.abs(mu[a]));
+  }
+  let v = -rhs[p];
+  for (let a = 0; a < k; a++) {
+    if (mu[a] > tol.dual * big) return false;
+    v += mu[a] * rhs[active[a]];
+  }
+  return v > tol.primal;
+}
 
 /** solvePointQp's factor of M_AA and its pivots (one per thread, grown on demand; nothing outlives a call) */
 const factorScratch = { l: new Float64Array(0), piv: new Float64Array(0) };

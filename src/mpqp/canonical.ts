@@ -23,7 +23,7 @@ import type { LpEngine } from './region.js';
 import { overlapsFacet, parseWitnessKey, slicePolytope, uncoveredFacetPiece } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
-import { qpWorkspace } from './pointqp.js';
+import { qpWorkspace, rowNonzeros } from './pointqp.js';
 import { choleskyInPlace } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 import { sortedOrder } from '../util/order.js';
@@ -420,7 +420,6 @@ function closeUnderGuesses(
   const failed = new Set<string>();
   const passed = new Map<string, { region: Omit<CriticalRegion, 'id'>; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }>();
   const swapped = new Set<string>();
-  let swaps = 0;
   const push = (key: string, built: { region: Omit<CriticalRegion, 'id'>; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }): void => {
     const region: CriticalRegion = { id: -1, ...built.region };
     const entry = { region, box: built.box };
@@ -481,7 +480,7 @@ function closeUnderGuesses(
     // zone, added whatever their size and overlap (a guess across a facet passed over above is
     // taken here: which tiling an exploration holds depends on where it landed)
     if (degenerate)
-      for (const swap of swapGuesses(problem, R.activeSet)) {
+      for (const swap of swapGuesses(problem, R.activeSet, R.chebyshev.center)) {
         const key = swap.join(',');
         if (byKey.has(key) || failed.has(key) || licqFailed.has(key) || swapped.has(key)) continue;
         swapped.add(key);
@@ -494,11 +493,36 @@ function closeUnderGuesses(
           }
           built = { region: res.region, box: res.bbox };
         }
-        swaps++;
         push(key, built);
       }
   }
   return { added, cut: false };
+}
+
+/** swapGuesses' work arrays (one set per thread, grown on demand; every entry read is written first, bar the two masks, cleared per call) */
+const swapWork = { k: 0, nt: 0, nc: 0, nz: 0, L: new Float64Array(0), V: new Float64Array(0), y: new Float64Array(0), c: new Float64Array(0), u: new Float64Array(0), mu: new Float64Array(0), reach: new Float64Array(0), support: new Uint8Array(0), inSet: new Uint8Array(0) };
+function swapScratch(k: number, nt: number, nc: number, nz: number): typeof swapWork {
+  const w = swapWork;
+  if (w.k < k || w.nt < nt) {
+    w.k = Math.max(w.k, 2 * k);
+    w.nt = Math.max(w.nt, nt);
+    w.L = new Float64Array(w.k * w.k);
+    w.V = new Float64Array(w.k * (w.nt + 1));
+    w.y = new Float64Array(w.k);
+    w.c = new Float64Array(w.k);
+    w.u = new Float64Array(w.k);
+    w.mu = new Float64Array(w.k);
+    w.reach = new Float64Array(w.nt + 1);
+  }
+  if (w.nc !== nc) {
+    w.nc = nc;
+    w.inSet = new Uint8Array(nc);
+  }
+  if (w.nz !== nz) {
+    w.nz = nz;
+    w.support = new Uint8Array(nz);
+  }
+  return w;
 }
 
 /**
@@ -511,24 +535,24 @@ function closeUnderGuesses(
  * differ by such swaps, and which one an exploration lands in depends on where it lands, so the
  * canonical form takes them all. One Cholesky factor of M_AA, then O(k²) per row.
  */
-export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[]): number[][] {
+export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[], centre: ArrayLike<number>): number[][] {
   const out: number[][] = [];
   const k = activeSet.length;
   if (k === 0) return out;
+  const nc = problem.nc;
   const ws = qpWorkspace(problem);
   const M = ws.M;
-  const nc = problem.nc;
-  const L = new Float64Array(k * k);
+  const w = swapScratch(k, problem.ntheta, nc, problem.nz);
+  const L = w.L;
   for (let a = 0; a < k; a++) for (let b = 0; b <= a; b++) L[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
   if (!choleskyInPlace(L, k, 0)) return out;
-  const inSet = new Set(activeSet);
-  const y = new Float64Array(k);
-  const c = new Float64Array(k);
+  const y = w.y;
+  const c = w.c;
   // v = L⁻¹ [wc_A, S_A] (constant in column 0, θ columns after), and the box's half-range per θ
   const nt = problem.ntheta;
   const S = ws.S;
   const wc = ws.wc;
-  const V = new Float64Array(k * (nt + 1));
+  const V = w.V;
   for (let a = 0; a < k; a++) {
     const ra = activeSet[a];
     for (let t = 0; t <= nt; t++) {
@@ -537,7 +561,7 @@ export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[]):
       V[a * (nt + 1) + t] = v / L[a * k + a];
     }
   }
-  const reach = new Float64Array(nt + 1);
+  const reach = w.reach;
   reach[0] = 1;
   for (let t = 0; t < nt; t++) reach[t + 1] = Math.max(Math.abs(problem.box.lower[t]), Math.abs(problem.box.upper[t]));
   /** row j's slack over R, r_j − yᵀ v (y = L⁻¹ M_Aj), is zero in every column within 1e-8 of its terms (scaled by the box) */
@@ -554,10 +578,48 @@ export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[]):
     }
     return true;
   };
-  for (let j = 0; j < nc; j++) {
-    if (inSet.has(j)) continue;
+  // μ = M_AA⁻¹ r_A(θc) at R's centre θc: row j's slack there is r_j(θc) − M_jA μ, O(k) per row — a
+  // row clearly slack at the centre is not tight throughout, and is passed over before its O(k²) test
+  const u = w.u;
+  for (let a = 0; a < k; a++) {
+    let v = V[a * (nt + 1)];
+    for (let t = 0; t < nt; t++) v += V[a * (nt + 1) + t + 1] * centre[t];
+    u[a] = v;
+  }
+  const mu = w.mu;
+  for (let a = k - 1; a >= 0; a--) {
+    let t = u[a];
+    for (let b = a + 1; b < k; b++) t -= L[b * k + a] * mu[b];
+    mu[a] = t / L[a * k + a];
+  }
+  // G_j in span(G_A) needs its nonzeros among theirs
+  const nz = rowNonzeros(problem);
+  const support = w.support;
+  const inSet = w.inSet;
+  support.fill(0);
+  inSet.fill(0);
+  for (const i of activeSet) {
+    inSet[i] = 1;
+    for (let e = nz.ptr[i]; e < nz.ptr[i + 1]; e++) support[nz.idx[e]] = 1;
+  }
+  rows: for (let j = 0; j < nc; j++) {
+    if (inSet[j]) continue;
     const mjj = M[j * nc + j];
     if (!(mjj > 0)) continue;
+    let slack = wc[j];
+    let size = Math.abs(slack);
+    for (let t = 0; t < nt; t++) {
+      const p = S[j * nt + t] * centre[t];
+      slack += p;
+      size += Math.abs(p);
+    }
+    for (let a = 0; a < k; a++) {
+      const p = M[j * nc + activeSet[a]] * mu[a];
+      slack -= p;
+      size += Math.abs(p);
+    }
+    if (Math.abs(slack) > 1e-6 * size) continue;
+    for (let e = nz.ptr[j]; e < nz.ptr[j + 1]; e++) if (!support[nz.idx[e]]) continue rows;
     // L y = M_Aj, d = M_jj − yᵀy
     let d = mjj;
     for (let a = 0; a < k; a++) {

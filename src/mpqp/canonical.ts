@@ -15,6 +15,11 @@
  * facet (`closeUnderGuesses`): a thin region is the row-added or row-dropped neighbour of a region
  * every run found, so every run ends with it. Leaving thin regions out instead opened holes that
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
+ *
+ * Alternative tilings: at a degenerate point several active sets (one row swapped for a row that
+ * depends on the others and is tight all over the region) give overlapping full-dimensional regions
+ * of the same optimiser, and which of them an exploration holds depends on where it landed. The
+ * closure also takes those swaps (`swapGuesses`), so every run ends with all of them.
  */
 import { splitBox } from './split.js';
 import type { CriticalRegion, ExplorationWork, MpqpProblem, NeighbourWork, Partition, PartitionStats } from './types.js';
@@ -371,9 +376,11 @@ function finishJoin(
  * full-dimensional region of Chebyshev radius ≤ 10·tol.radius and whose centre lies in no known
  * region is added, and its facets are tried in turn. The explorations are complete up to regions thinner than the covering
  * slack (10·tol.radius), and whether they meet those depends on where they land; such a region is
- * the combinatorial neighbour of one they all found, so after closing, every run holds it. Visits
- * regions in key order, so the result depends only on the set it starts from. Returns how many
- * regions were added, and whether `shouldStop` cut the closure short.
+ * the combinatorial neighbour of one they all found, so after closing, every run holds it. A region
+ * with a facet whose guess fails LICQ (a degenerate point) also gets its swaps (`swapGuesses`): each
+ * that builds a full-dimensional region is added, whatever its size and overlap. Visits regions in
+ * key order, so the result depends only on the set it starts from. Returns how many regions were
+ * added, and whether `shouldStop` cut the closure short.
  */
 function closeUnderGuesses(
   problem: MpqpProblem,

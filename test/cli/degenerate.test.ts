@@ -79,7 +79,7 @@ describe('tessera solve on degenerate problems', () => {
   // on where it landed (tracking-wedges-5d: 1 001 regions on one thread, 993 on two;
   // rate-capped-unstable-4d: 372 and 371); the canonical form now closes every run under those swaps.
   for (const name of ['tracking-wedges-5d', 'rate-capped-unstable-4d'])
-    it(`${name}: the same bytes on 1 and 2 threads, and every region's law at its centre is quadprog's`, () => {
+    it(`${name}: the same bytes on 1 and 2 threads (and from 3 parts joined), and every region's law at its centre is quadprog's`, () => {
       const file = join(root, 'test', 'fixtures', 'degenerate', `${name}.json`);
       const outs = [1, 2].map((threads) => {
         const out = join(dir, `${name}-canonical-${threads}.table.json`);
@@ -89,6 +89,17 @@ describe('tessera solve on degenerate problems', () => {
         return readFileSync(out);
       });
       expect(outs[0].equals(outs[1])).toBe(true);
+      if (name === 'tracking-wedges-5d') {
+        // three parts joined: main before the swaps gave 996 regions here against 1 001 from one run
+        const parts = [1, 2, 3].map((i) => {
+          const part = join(dir, `${name}.part-${i}-of-3.json`);
+          expect(spawnSync(process.execPath, [cli, 'solve', file, '--part', `${i}/3`, '-o', part, '--threads', '1'], { encoding: 'utf8', timeout: 110_000 }).status).toBe(0);
+          return part;
+        });
+        const joined = join(dir, `${name}-joined.table.json`);
+        expect(spawnSync(process.execPath, [cli, 'join', ...parts, '-o', joined], { encoding: 'utf8', timeout: 110_000 }).status).toBe(0);
+        expect(readFileSync(joined).equals(outs[0])).toBe(true);
+      }
       const table = parseTableJson(outs[0].toString('utf8'), name);
       // overlapping regions of the tilings: each is a critical region, its law the optimiser there
       // (reference: quadprog, Goldfarb–Idnani, at each region's Chebyshev centre)

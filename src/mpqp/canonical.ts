@@ -507,7 +507,7 @@ function closeUnderGuesses(
 }
 
 /** swapGuesses' work arrays (one set per thread, grown on demand; every entry read is written first, bar the two masks, cleared per call) */
-const swapWork = { k: 0, nt: 0, nc: 0, nz: 0, L: new Float64Array(0), V: new Float64Array(0), y: new Float64Array(0), c: new Float64Array(0), u: new Float64Array(0), mu: new Float64Array(0), reach: new Float64Array(0), support: new Uint8Array(0), inSet: new Uint8Array(0) };
+const swapWork = { k: 0, nt: 0, nc: 0, nz: 0, L: new Float64Array(0), V: new Float64Array(0), y: new Float64Array(0), c: new Float64Array(0), u: new Float64Array(0), mu: new Float64Array(0), support: new Uint8Array(0), inSet: new Uint8Array(0) };
 function swapScratch(k: number, nt: number, nc: number, nz: number): typeof swapWork {
   const w = swapWork;
   if (w.k < k || w.nt < nt) {
@@ -519,7 +519,6 @@ function swapScratch(k: number, nt: number, nc: number, nz: number): typeof swap
     w.c = new Float64Array(w.k);
     w.u = new Float64Array(w.k);
     w.mu = new Float64Array(w.k);
-    w.reach = new Float64Array(w.nt + 1);
   }
   if (w.nc !== nc) {
     w.nc = nc;
@@ -555,7 +554,7 @@ export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[], 
   if (!choleskyInPlace(L, k, 0)) return out;
   const y = w.y;
   const c = w.c;
-  // v = L⁻¹ [wc_A, S_A] (constant in column 0, θ columns after), and the box's half-range per θ
+  // v = L⁻¹ [wc_A, S_A] (constant in column 0, θ columns after)
   const nt = problem.ntheta;
   const S = ws.S;
   const wc = ws.wc;
@@ -568,10 +567,7 @@ export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[], 
       V[a * (nt + 1) + t] = v / L[a * k + a];
     }
   }
-  const reach = w.reach;
-  reach[0] = 1;
-  for (let t = 0; t < nt; t++) reach[t + 1] = Math.max(Math.abs(problem.box.lower[t]), Math.abs(problem.box.upper[t]));
-  /** row j's slack over R, r_j − yᵀ v (y = L⁻¹ M_Aj), is zero in every column within 1e-8 of its terms (scaled by the box) */
+  /** row j's slack over R, r_j − yᵀ v (y = L⁻¹ M_Aj), is zero in every column within 1e-8 of its terms */
   const tightThroughout = (j: number): boolean => {
     for (let t = 0; t <= nt; t++) {
       let v = t === 0 ? wc[j] : S[j * nt + t - 1];
@@ -581,7 +577,7 @@ export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[], 
         v -= p;
         size += Math.abs(p);
       }
-      if (Math.abs(v) * reach[t] > 1e-8 * size * reach[t] + 1e-300) return false;
+      if (Math.abs(v) > 1e-8 * size) return false;
     }
     return true;
   };
@@ -625,7 +621,8 @@ export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[], 
       slack -= p;
       size += Math.abs(p);
     }
-    if (Math.abs(slack) > 1e-6 * size) continue;
+    // (1e-4: far looser than the test below, so rounding in μ where M_AA is ill-conditioned does not decide)
+    if (Math.abs(slack) > 1e-4 * size) continue;
     for (let e = nz.ptr[j]; e < nz.ptr[j + 1]; e++) if (!support[nz.idx[e]]) continue rows;
     // L y = M_Aj, d = M_jj − yᵀy
     let d = mjj;

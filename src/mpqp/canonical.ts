@@ -15,6 +15,11 @@
  * facet (`closeUnderGuesses`): a thin region is the row-added or row-dropped neighbour of a region
  * every run found, so every run ends with it. Leaving thin regions out instead opened holes that
  * `gaps` found by its facet probes. `stats.thinRegions` counts them.
+ *
+ * Alternative tilings: at a degenerate point several active sets (one row swapped for a row that
+ * depends on the others and is tight all over the region) give overlapping full-dimensional regions
+ * of the same optimiser, and which of them an exploration holds depends on where it landed. The
+ * closure also takes those swaps (`swapGuesses`), so every run ends with all of them.
  */
 import { splitBox } from './split.js';
 import type { CriticalRegion, ExplorationWork, MpqpProblem, NeighbourWork, Partition, PartitionStats } from './types.js';
@@ -23,6 +28,8 @@ import type { LpEngine } from './region.js';
 import { overlapsFacet, parseWitnessKey, slicePolytope, uncoveredFacetPiece } from './solve.js';
 import { boundingBoxByLp, GridLocator } from '../table/locator.js';
 import { buildRegion } from './region.js';
+import { qpWorkspace, rowNonzeros } from './pointqp.js';
+import { choleskyInPlace } from '../linalg/dense.js';
 import { tol } from '../tol.js';
 import { sortedOrder } from '../util/order.js';
 import { findFeasiblePoint } from '../lp/kernel.js';
@@ -79,6 +86,8 @@ export interface GuessHints {
   lean: boolean;
   tried: Set<string>;
   thin: Map<string, { region: Omit<CriticalRegion, 'id'>; box: { lo: number[]; hi: number[] } }>;
+  /** the keys tried whose active set failed LICQ (the closure then seeks the other bases, `swapGuesses`) */
+  licq?: Set<string>;
   /** twin facet pairs found ahead (`twinPairs`): keys of the two regions and the two facets, per pair (for the neighbours step, `NeighbourOptions.twinHints`) */
   twins?: { keys: string[]; facets: number[] };
 }
@@ -97,11 +106,12 @@ function guessAcross(activeSet: readonly number[], f: { kind: string; row: numbe
  * every bit is what the closure would get. `shouldStop` ends it early (the keys not reached are
  * simply not hinted). `lp` counts the LPs.
  */
-export function buildGuesses(problem: MpqpProblem, regions: readonly Pick<CriticalRegion, 'activeSet' | 'facets'>[], lean: boolean, lp: LpEngine, shouldStop?: () => boolean): { lean: boolean; tried: string[]; thin: { key: string; region: Omit<CriticalRegion, 'id'>; box: { lo: number[]; hi: number[] } }[] } {
+export function buildGuesses(problem: MpqpProblem, regions: readonly Pick<CriticalRegion, 'activeSet' | 'facets'>[], lean: boolean, lp: LpEngine, shouldStop?: () => boolean): { lean: boolean; tried: string[]; licq: string[]; thin: { key: string; region: Omit<CriticalRegion, 'id'>; box: { lo: number[]; hi: number[] } }[] } {
   const own = new Set<string>();
   for (const R of regions) own.add(R.activeSet.join(','));
   const seen = new Set<string>();
   const tried: string[] = [];
+  const licq: string[] = [];
   const thin: { key: string; region: Omit<CriticalRegion, 'id'>; box: { lo: number[]; hi: number[] } }[] = [];
   for (const R of regions) {
     if (shouldStop?.()) break;
@@ -113,10 +123,11 @@ export function buildGuesses(problem: MpqpProblem, regions: readonly Pick<Critic
       seen.add(key);
       const res = buildRegion(problem, guess, lp, lean);
       tried.push(key);
+      if (!res.ok && res.reason === 'licq') licq.push(key);
       if (res.ok && res.region.chebyshev.radius <= 10 * tol.radius) thin.push({ key, region: res.region, box: { lo: Array.from(res.bbox.lo), hi: Array.from(res.bbox.hi) } });
     }
   }
-  return { lean, tried, thin };
+  return { lean, tried, licq, thin };
 }
 
 /**
@@ -365,9 +376,11 @@ function finishJoin(
  * full-dimensional region of Chebyshev radius ≤ 10·tol.radius and whose centre lies in no known
  * region is added, and its facets are tried in turn. The explorations are complete up to regions thinner than the covering
  * slack (10·tol.radius), and whether they meet those depends on where they land; such a region is
- * the combinatorial neighbour of one they all found, so after closing, every run holds it. Visits
- * regions in key order, so the result depends only on the set it starts from. Returns how many
- * regions were added, and whether `shouldStop` cut the closure short.
+ * the combinatorial neighbour of one they all found, so after closing, every run holds it. A region
+ * with a facet whose guess fails LICQ (a degenerate point) also gets its swaps (`swapGuesses`): each
+ * that builds a full-dimensional region is added, whatever its size and overlap. Visits regions in
+ * key order, so the result depends only on the set it starts from. Returns how many regions were
+ * added, and whether `shouldStop` cut the closure short.
  */
 function closeUnderGuesses(
   problem: MpqpProblem,
@@ -408,40 +421,239 @@ function closeUnderGuesses(
   let added = 0;
   const lean = queue.length > 0 && queue[0].moves === undefined; // lean regions (no move sequence) stay lean
   const pre = hints && hints.lean === lean ? hints : null;
+  /** keys whose guess failed LICQ (here or in the hints): the region guessing it sits at a degenerate point */
+  const licqFailed = new Set<string>(pre?.licq ?? []);
+  /** keys built here that gave no region; regions built and passed over by the rule for thin ones; keys tried as swaps */
+  const failed = new Set<string>();
+  const passed = new Map<string, { region: Omit<CriticalRegion, 'id'>; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }>();
+  const swapped = new Set<string>();
+  const push = (key: string, built: { region: Omit<CriticalRegion, 'id'>; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } }): void => {
+    const region: CriticalRegion = { id: -1, ...built.region };
+    const entry = { region, box: built.box };
+    byKey.set(key, entry);
+    entries.push(entry);
+    queue.push(region);
+    if (grid) grid.add(region.A, region.b, built.box.lo, built.box.hi);
+    added++;
+  };
   for (let q = 0; q < queue.length; q++) {
     if (shouldStop?.()) return { added, cut: true };
     progress?.('closing', q, queue.length);
     const R = queue[q];
+    let degenerate = false;
     for (const f of R.facets) {
       if (f.kind === 'box') continue;
       const guess = guessAcross(R.activeSet, f);
       if (!guess) continue;
       const key = guess.join(',');
-      if (byKey.has(key) || tried.has(key)) continue;
+      if (byKey.has(key)) continue;
+      if (tried.has(key)) {
+        if (licqFailed.has(key)) degenerate = true;
+        continue;
+      }
       tried.add(key);
       // built ahead (a hint): the same bits as building it here
       let built: { region: Omit<CriticalRegion, 'id'>; box: { lo: ArrayLike<number>; hi: ArrayLike<number> } } | undefined;
       if (pre?.tried.has(key)) {
+        if (licqFailed.has(key)) degenerate = true;
         built = pre.thin.get(key);
         if (!built) continue;
       } else {
         const res = buildRegion(problem, guess, lp, lean);
-        // only what the explorations may miss: a thin region whose centre no known region holds
-        if (!res.ok || res.region.chebyshev.radius > 10 * tol.radius) continue;
+        if (!res.ok) {
+          failed.add(key);
+          if (res.reason === 'licq') {
+            licqFailed.add(key);
+            degenerate = true;
+          }
+          continue;
+        }
         built = { region: res.region, box: res.bbox };
+        // only what the explorations may miss: a thin region whose centre no known region holds
+        if (res.region.chebyshev.radius > 10 * tol.radius) {
+          passed.set(key, built);
+          continue;
+        }
       }
       const g = index();
-      if (g.locate(built.region.chebyshev.center, tol.inside) >= 0) continue;
-      const region: CriticalRegion = { id: -1, ...built.region };
-      const entry = { region, box: built.box };
-      byKey.set(key, entry);
-      entries.push(entry);
-      queue.push(region);
-      g.add(region.A, region.b, built.box.lo, built.box.hi);
-      added++;
+      if (g.locate(built.region.chebyshev.center, tol.inside) >= 0) {
+        passed.set(key, built);
+        continue;
+      }
+      push(key, built);
     }
+    // a degenerate point (a facet's guess failed LICQ): the other bases of the same point, active
+    // sets with one row swapped for a row dependent on R's, are regions of other tilings of the
+    // zone, added whatever their size and overlap (a guess across a facet passed over above is
+    // taken here: which tiling an exploration holds depends on where it landed)
+    if (degenerate)
+      for (const swap of swapGuesses(problem, R.activeSet, R.chebyshev.center)) {
+        const key = swap.join(',');
+        if (byKey.has(key) || failed.has(key) || licqFailed.has(key) || swapped.has(key)) continue;
+        swapped.add(key);
+        let built = passed.get(key);
+        if (!built) {
+          const res = buildRegion(problem, swap, lp, lean);
+          if (!res.ok) {
+            failed.add(key);
+            continue;
+          }
+          built = { region: res.region, box: res.bbox };
+        }
+        push(key, built);
+      }
   }
   return { added, cut: false };
+}
+
+/** swapGuesses' work arrays (one set per thread, grown on demand; every entry read is written first, bar the two masks, cleared per call) */
+const swapWork = { k: 0, nt: 0, nc: 0, nz: 0, L: new Float64Array(0), V: new Float64Array(0), y: new Float64Array(0), c: new Float64Array(0), u: new Float64Array(0), mu: new Float64Array(0), support: new Uint8Array(0), inSet: new Uint8Array(0) };
+function swapScratch(k: number, nt: number, nc: number, nz: number): typeof swapWork {
+  const w = swapWork;
+  if (w.k < k || w.nt < nt) {
+    w.k = Math.max(w.k, 2 * k);
+    w.nt = Math.max(w.nt, nt);
+    w.L = new Float64Array(w.k * w.k);
+    w.V = new Float64Array(w.k * (w.nt + 1));
+    w.y = new Float64Array(w.k);
+    w.c = new Float64Array(w.k);
+    w.u = new Float64Array(w.k);
+    w.mu = new Float64Array(w.k);
+  }
+  if (w.nc !== nc) {
+    w.nc = nc;
+    w.inSet = new Uint8Array(nc);
+  }
+  if (w.nz !== nz) {
+    w.nz = nz;
+    w.support = new Uint8Array(nz);
+  }
+  return w;
+}
+
+/**
+ * The active sets one swap away from `activeSet` at a degenerate point: for every row j off the set
+ * that depends on the set's rows (G_j in their span: the Schur complement of M_AA in M over
+ * A ∪ {j}, M = G H⁻¹ Gᵀ, at most 2·tol.rank × M_jj, the Jacobi-scaled pivot `buildRegion`'s LICQ
+ * test refuses), the set with j in place of each row of the combination (coefficient of G_j's
+ * expansion above 1e-9 relative); sorted, in ascending (j, row dropped). Alternative tilings of a
+ * degenerate zone (several active sets with the same optimiser, each region full-dimensional)
+ * differ by such swaps, and which one an exploration lands in depends on where it lands, so the
+ * canonical form takes them all. One Cholesky factor of M_AA, then O(k²) per row.
+ */
+export function swapGuesses(problem: MpqpProblem, activeSet: readonly number[], centre: ArrayLike<number>): number[][] {
+  const out: number[][] = [];
+  const k = activeSet.length;
+  if (k === 0) return out;
+  const nc = problem.nc;
+  const ws = qpWorkspace(problem);
+  const M = ws.M;
+  const w = swapScratch(k, problem.ntheta, nc, problem.nz);
+  const L = w.L;
+  for (let a = 0; a < k; a++) for (let b = 0; b <= a; b++) L[a * k + b] = M[activeSet[a] * nc + activeSet[b]];
+  if (!choleskyInPlace(L, k, 0)) return out;
+  const y = w.y;
+  const c = w.c;
+  // v = L⁻¹ [wc_A, S_A] (constant in column 0, θ columns after)
+  const nt = problem.ntheta;
+  const S = ws.S;
+  const wc = ws.wc;
+  const V = w.V;
+  for (let a = 0; a < k; a++) {
+    const ra = activeSet[a];
+    for (let t = 0; t <= nt; t++) {
+      let v = t === 0 ? wc[ra] : S[ra * nt + t - 1];
+      for (let b = 0; b < a; b++) v -= L[a * k + b] * V[b * (nt + 1) + t];
+      V[a * (nt + 1) + t] = v / L[a * k + a];
+    }
+  }
+  /** row j's slack over R, r_j − yᵀ v (y = L⁻¹ M_Aj), is zero in every column within 1e-8 of its terms */
+  const tightThroughout = (j: number): boolean => {
+    for (let t = 0; t <= nt; t++) {
+      let v = t === 0 ? wc[j] : S[j * nt + t - 1];
+      let size = Math.abs(v);
+      for (let a = 0; a < k; a++) {
+        const p = y[a] * V[a * (nt + 1) + t];
+        v -= p;
+        size += Math.abs(p);
+      }
+      if (Math.abs(v) > 1e-8 * size) return false;
+    }
+    return true;
+  };
+  // μ = M_AA⁻¹ r_A(θc) at R's centre θc: row j's slack there is r_j(θc) − M_jA μ, O(k) per row — a
+  // row clearly slack at the centre is not tight throughout, and is passed over before its O(k²) test
+  const u = w.u;
+  for (let a = 0; a < k; a++) {
+    let v = V[a * (nt + 1)];
+    for (let t = 0; t < nt; t++) v += V[a * (nt + 1) + t + 1] * centre[t];
+    u[a] = v;
+  }
+  const mu = w.mu;
+  for (let a = k - 1; a >= 0; a--) {
+    let t = u[a];
+    for (let b = a + 1; b < k; b++) t -= L[b * k + a] * mu[b];
+    mu[a] = t / L[a * k + a];
+  }
+  // G_j in span(G_A) needs its nonzeros among theirs
+  const nz = rowNonzeros(problem);
+  const support = w.support;
+  const inSet = w.inSet;
+  support.fill(0);
+  inSet.fill(0);
+  for (const i of activeSet) {
+    inSet[i] = 1;
+    for (let e = nz.ptr[i]; e < nz.ptr[i + 1]; e++) support[nz.idx[e]] = 1;
+  }
+  rows: for (let j = 0; j < nc; j++) {
+    if (inSet[j]) continue;
+    const mjj = M[j * nc + j];
+    if (!(mjj > 0)) continue;
+    let slack = wc[j];
+    let size = Math.abs(slack);
+    for (let t = 0; t < nt; t++) {
+      const p = S[j * nt + t] * centre[t];
+      slack += p;
+      size += Math.abs(p);
+    }
+    for (let a = 0; a < k; a++) {
+      const p = M[j * nc + activeSet[a]] * mu[a];
+      slack -= p;
+      size += Math.abs(p);
+    }
+    // (1e-4: far looser than the test below, so rounding in μ where M_AA is ill-conditioned does not decide)
+    if (Math.abs(slack) > 1e-4 * size) continue;
+    for (let e = nz.ptr[j]; e < nz.ptr[j + 1]; e++) if (!support[nz.idx[e]]) continue rows;
+    // L y = M_Aj, d = M_jj − yᵀy
+    let d = mjj;
+    for (let a = 0; a < k; a++) {
+      let t = M[activeSet[a] * nc + j];
+      for (let b = 0; b < a; b++) t -= L[a * k + b] * y[b];
+      y[a] = t / L[a * k + a];
+      d -= y[a] * y[a];
+    }
+    if (d > 2 * tol.rank * mjj) continue;
+    // j must be tight all over R (its slack wc_j + S_j θ + M_jA λ_A(θ), with M_AA λ_A = −(wc_A + S_A θ),
+    // zero as an affine function): on the overlap of two alternative regions both bases' rows are
+    // tight, so a row tight only on a plane (a swap across a facet, where a rate limit meets a bound)
+    // gives no overlapping region, and building its swap would be wasted (mixer-5d-n10: 6.3 M LPs)
+    if (!tightThroughout(j)) continue;
+    // Lᵀ c = y: G_j ≈ Σ c_a G_{A_a} (in the M metric)
+    let cmax = 0;
+    for (let a = k - 1; a >= 0; a--) {
+      let t = y[a];
+      for (let b = a + 1; b < k; b++) t -= L[b * k + a] * c[b];
+      c[a] = t / L[a * k + a];
+      cmax = Math.max(cmax, Math.abs(c[a]));
+    }
+    for (let a = 0; a < k; a++) {
+      if (!(Math.abs(c[a]) > 1e-9 * cmax)) continue;
+      const swap = activeSet.filter((r) => r !== activeSet[a]);
+      swap.push(j);
+      out.push(swap.sort((x, y2) => x - y2));
+    }
+  }
+  return out;
 }
 
 /**

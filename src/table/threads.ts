@@ -579,6 +579,7 @@ export function exploreThreaded(mpqp: MpqpProblem, options: ThreadedOptions): Th
           latest[msg.job] = null;
           if (msg.guesses && msg.guesses.lean === hints.lean) {
             for (const k of msg.guesses.tried) hints.tried.add(k);
+            for (const k of msg.guesses.licq) (hints.licq ??= new Set()).add(k);
             for (const t of msg.guesses.thin) if (!hints.thin.has(t.key)) hints.thin.set(t.key, { region: t.region, box: t.box });
           }
           if (msg.twins) {

@@ -16,6 +16,7 @@ import { tableToJson, regionContains } from '../../src/table/table.js';
 import { evaluatePoints } from '../../src/index.js';
 import { qpReference } from '../helpers/reference.js';
 import * as math from 'mathjs';
+import { exactBig } from '../helpers/exact.js';
 
 const cli = join(root, 'dist', 'src', 'cli', 'main.js');
 const dir = mkdtempSync(join(tmpdir(), 'tessera-audit-'));
@@ -113,17 +114,7 @@ describe('tessera audit', { timeout: 180000 }, () => {
     // conversion of each double), the plant step and the stage cost likewise, at the audit's worst
     // point and at seeded covered points: the decrease J*(θ⁺) − J*(θ) + ℓ ≤ 1e-7 (1 + J*)
     const bn = math.create(math.all, { number: 'BigNumber', precision: 60 });
-    const big = (x: number): math.BigNumber => {
-      if (x === 0) return bn.bignumber(0);
-      const dv = new DataView(new ArrayBuffer(8));
-      dv.setFloat64(0, x);
-      const hi = dv.getUint32(0);
-      const ex = (hi >>> 20) & 0x7ff;
-      let m = (BigInt(hi & 0xfffff) << 32n) | BigInt(dv.getUint32(4));
-      if (ex) m |= 1n << 52n;
-      const v = bn.multiply(bn.bignumber(m.toString()), bn.pow(bn.bignumber(2), (ex || 1) - 1075)) as math.BigNumber;
-      return hi >>> 31 ? (bn.unaryMinus(v) as math.BigNumber) : v;
-    };
+    const big = (x: number): math.BigNumber => exactBig(x, bn);
     const { nz, ntheta: nt } = mpqp;
     const exactJ = (th: number[]): number => {
       const q = qpReference(mpqp, th);

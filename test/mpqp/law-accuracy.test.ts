@@ -26,55 +26,9 @@ import { solvePointQp } from '../../src/mpqp/pointqp.js';
 import { dot2Add, dot2Start, dot2Value } from '../../src/linalg/dense.js';
 import { kktSolver } from '../../src/mpqp/kkt.js';
 import { qpReference } from '../helpers/reference.js';
+import { exactBits, exactKkt } from '../helpers/exact.js';
 
 const root = join(import.meta.dirname, '..', '..');
-const bn = math.create(math.all, { number: 'BigNumber', precision: 50 });
-
-/** A double as m·2^e exactly (m a BigInt), from its bits (IEEE 754 binary64; common practice). */
-function exactBits(x: number): { m: bigint; e: number } {
-  if (x === 0) return { m: 0n, e: 0 };
-  const dv = new DataView(new ArrayBuffer(8));
-  dv.setFloat64(0, x);
-  const hi = dv.getUint32(0);
-  const lo = dv.getUint32(4);
-  const sign = hi >>> 31 ? -1n : 1n;
-  const ex = (hi >>> 20) & 0x7ff;
-  let m = (BigInt(hi & 0xfffff) << 32n) | BigInt(lo);
-  if (ex) m |= 1n << 52n;
-  return { m: sign * m, e: (ex || 1) - 1075 };
-}
-
-
-/** z of the equality-constrained QP on active set A at θ, in 50 digits, rounded to double */
-function exactKkt(p: MpqpProblem, A: number[], theta: number[]): number[] {
-  const { nz, ntheta: nt } = p;
-  const n = nz + A.length;
-  const K = bn.zeros(n, n) as math.Matrix;
-  const rhs: math.BigNumber[] = [];
-  // each double converted exactly (m·2^e from its bits; bignumber(x) would take its shortest decimal)
-  const b = (x: number): math.BigNumber => {
-    const { m, e } = exactBits(x);
-    return bn.multiply(bn.bignumber(m.toString()), bn.pow(bn.bignumber(2), e)) as math.BigNumber;
-  };
-  for (let i = 0; i < nz; i++) {
-    for (let j = 0; j < nz; j++) K.set([i, j], b(p.H[i * nz + j]));
-    A.forEach((a, q) => {
-      K.set([i, nz + q], b(p.G[a * nz + i]));
-      K.set([nz + q, i], b(p.G[a * nz + i]));
-    });
-    let s = b(p.c[i]);
-    for (let j = 0; j < nt; j++) s = bn.add(s, bn.multiply(b(p.F[i * nt + j]), b(theta[j]))) as math.BigNumber;
-    rhs.push(bn.unaryMinus(s) as math.BigNumber);
-  }
-  for (const a of A) {
-    let s = b(p.w[a]);
-    for (let j = 0; j < nt; j++) s = bn.add(s, bn.multiply(b(p.E[a * nt + j]), b(theta[j]))) as math.BigNumber;
-    rhs.push(s);
-  }
-  const x = bn.lusolve(K, rhs) as math.Matrix;
-  return Array.from({ length: nz }, (_, i) => Number(x.get([i, 0])));
-}
-
 interface Worst {
   exact: number;
   quadprog: number;

@@ -21,9 +21,9 @@ import { solvePointQp } from '../../src/mpqp/pointqp.js';
 import { householderForm, householderReduce } from '../../src/linalg/dense.js';
 import { qpReference, lpFeasibleReference } from '../helpers/reference.js';
 import { rng, randomInBox } from '../helpers/solved.js';
+import { bn, exactBig, exactKkt } from '../helpers/exact.js';
 
 const root = join(import.meta.dirname, '..', '..');
-const bn = math.create(math.all, { number: 'BigNumber', precision: 50 });
 
 /** Factor rows of `rows` (each length n) one by one as the point QP does; the distance of x to their span. */
 function distanceByReflectors(rows: number[][], x: number[]): number {
@@ -38,56 +38,16 @@ function distanceByReflectors(rows: number[][], x: number[]): number {
   return householderReduce(v, tau, n, k, Float64Array.from(x));
 }
 
-/** A double as a BigNumber exactly (m·2^e from its IEEE 754 binary64 bits; common practice). */
-function exact(x: number): math.BigNumber {
-  if (x === 0) return bn.bignumber(0);
-  const dv = new DataView(new ArrayBuffer(8));
-  dv.setFloat64(0, x);
-  const hi = dv.getUint32(0);
-  const ex = (hi >>> 20) & 0x7ff;
-  let m = (BigInt(hi & 0xfffff) << 32n) | BigInt(dv.getUint32(4));
-  if (ex) m |= 1n << 52n;
-  const v = bn.multiply(bn.bignumber(m.toString()), bn.pow(bn.bignumber(2), (ex || 1) - 1075)) as math.BigNumber;
-  return hi >>> 31 ? (bn.unaryMinus(v) as math.BigNumber) : v;
-}
-
 /** The same distance in 50 digits by mathjs BigNumber from the doubles as they are (normal equations; see the header). */
 function distanceExact(rows: number[][], x: number[]): number {
-  const A = bn.matrix(rows.map((r) => r.map(exact)));
-  const g = bn.matrix(x.map((e) => [exact(e)]));
+  const A = bn.matrix(rows.map((r) => r.map((v) => exactBig(v))));
+  const g = bn.matrix(x.map((e) => [exactBig(e)]));
   const Ag = bn.multiply(A, g) as math.Matrix;
   const y = bn.lusolve(bn.multiply(A, bn.transpose(A)) as math.Matrix, Ag) as math.Matrix;
   const gg = bn.multiply(bn.transpose(g), g) as math.Matrix;
   const proj = bn.multiply(bn.transpose(Ag), y) as math.Matrix;
   const d2 = bn.subtract(gg.get([0, 0]), proj.get([0, 0])) as math.BigNumber;
   return d2.isNegative() ? 0 : Number(bn.sqrt(d2));
-}
-
-/**
- * z of the equality-constrained QP on A at θ in 50 digits (mathjs BigNumber lusolve on the KKT system
- * [H G_Aᵀ; G_A 0][z; λ] = [−(Fθ + c); w_A + E_Aθ], common practice), from the problem's doubles exactly.
- */
-function exactKkt(p: MpqpProblem, A: number[], theta: number[]): number[] {
-  const { nz, ntheta: nt } = p;
-  const K = bn.zeros(nz + A.length, nz + A.length) as math.Matrix;
-  const rhs: math.BigNumber[] = [];
-  for (let i = 0; i < nz; i++) {
-    for (let j = 0; j < nz; j++) K.set([i, j], exact(p.H[i * nz + j]));
-    A.forEach((a, q) => {
-      K.set([i, nz + q], exact(p.G[a * nz + i]));
-      K.set([nz + q, i], exact(p.G[a * nz + i]));
-    });
-    let s = exact(p.c[i]);
-    for (let j = 0; j < nt; j++) s = bn.add(s, bn.multiply(exact(p.F[i * nt + j]), exact(theta[j]))) as math.BigNumber;
-    rhs.push(bn.unaryMinus(s) as math.BigNumber);
-  }
-  for (const a of A) {
-    let s = exact(p.w[a]);
-    for (let j = 0; j < nt; j++) s = bn.add(s, bn.multiply(exact(p.E[a * nt + j]), exact(theta[j]))) as math.BigNumber;
-    rhs.push(s);
-  }
-  const x = bn.lusolve(K, rhs) as math.Matrix;
-  return Array.from({ length: nz }, (_, i) => Number(x.get([i, 0])));
 }
 
 /** Rows T·U_k of a triangular T with diagonal `diag` and off-diagonal entries up to 0.2 (as seed 1933's G_A), U orthogonal. */

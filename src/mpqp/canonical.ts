@@ -78,8 +78,9 @@ export interface JoinOptions {
 
 /**
  * Closure guesses built ahead (`buildGuesses`): every key tried, and the thin regions among them
- * (full-dimensional, Chebyshev radius ≤ 10·tol.radius: the only ones the closure may add). A key
- * tried and not in `thin` gave no region the closure could add. `lean`: built lean (no move
+ * (full-dimensional, Chebyshev radius ≤ 10·tol.radius: the only ones its guesses across facets may add). A key
+ * tried and not in `thin` gave no region those guesses could add; a swap at a degenerate point (`swapGuesses`)
+ * builds its own, whatever its size. `lean`: built lean (no move
  * sequence), as the regions of the partition must be for the hints to apply.
  */
 export interface GuessHints {
